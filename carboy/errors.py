@@ -1,0 +1,78 @@
+"""The one exception family of carboy.
+
+``model`` and ``store`` raise these; only ``tui`` turns them into a message on
+screen or an exit status.  Every error names the value that was wrong.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+class CarboyError(Exception):
+    """Base class of every error carboy raises on purpose."""
+
+
+@dataclass
+class InvalidInput(CarboyError, ValueError):
+    """A value given by the user or a caller is not acceptable."""
+
+    what: str
+    value: object
+    reason: str
+
+    def __str__(self) -> str:
+        return f"{self.what} {self.value!r}: {self.reason}"
+
+
+@dataclass
+class UnknownCompound(CarboyError, KeyError):
+    """A compound name or formula is not in the catalog."""
+
+    name: str
+    suggestions: tuple[str, ...] = field(default_factory=tuple)
+
+    def __str__(self) -> str:
+        msg = f"unknown compound {self.name!r}"
+        if self.suggestions:
+            msg += "; closest matches: " + ", ".join(self.suggestions)
+        return msg
+
+
+@dataclass
+class CatalogError(CarboyError, ValueError):
+    """A catalog entry (built-in or user-defined) is inconsistent."""
+
+    entry: str
+    reason: str
+
+    def __str__(self) -> str:
+        return f"catalog entry {self.entry!r}: {self.reason}"
+
+
+@dataclass
+class TemperatureOutOfRange(CarboyError, ValueError):
+    """A temperature lies outside the range the data support."""
+
+    temperature_c: float
+    low_c: float
+    high_c: float
+
+    def __str__(self) -> str:
+        return (
+            f"temperature {self.temperature_c!r} °C is outside the supported range "
+            f"{self.low_c:g}–{self.high_c:g} °C"
+        )
+
+
+@dataclass
+class NoConvergence(CarboyError, RuntimeError):
+    """An iterative solve did not meet its tolerance."""
+
+    what: str
+    iterations: int
+    detail: str = ""
+
+    def __str__(self) -> str:
+        msg = f"{self.what} did not converge after {self.iterations} iterations"
+        return msg + (f": {self.detail}" if self.detail else "")

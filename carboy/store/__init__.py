@@ -1,0 +1,1 @@
+"""The storeroom database (SQLite through sqlite-utils); knows nothing of the UI."""

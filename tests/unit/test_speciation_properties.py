@@ -1,0 +1,68 @@
+"""Properties of the speciation solver, checked with hypothesis."""
+
+from __future__ import annotations
+
+import numpy as np
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from carboy.model.catalog import default_catalog
+from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
+from carboy.model.speciation import speciate, speciate_batch
+
+CAT = default_catalog()
+NAMES = ["HCl", "H2SO4", "H3PO4", "NaH2PO4", "Na2HPO4", "NaOH", "KOH", "Na2CO3", "NaHCO3",
+         "NH4Cl", "NH3", "CH3COOH", "CH3COONa", "HF", "H3BO3", "C6H8O7", "KHP", "Tris",
+         "NaCl", "Na2SO4", "H2C2O4", "Ca(OH)2"]
+conc = st.floats(min_value=1e-6, max_value=0.3, allow_nan=False)
+components = st.lists(st.tuples(st.sampled_from(NAMES), conc), min_size=1, max_size=6)
+activity = st.sampled_from(["davies", "ideal"])
+temps = st.floats(min_value=0.0, max_value=100.0)
+
+
+def make(comps, t=25.0):
+    return Mixture.from_compounds([(CAT.compound(n), c) for n, c in comps], temperature_c=t)
+
+
+@settings(max_examples=150, deadline=None)
+@given(components, activity, temps)
+def test_charge_balance_and_mass_balances_close(comps, act, t):
+    mix = make(comps, t)
+    res = speciate(mix, activity=act, catalog=CAT)
+    assert res.converged
+    total_charge_scale = sum(abs(v) for v in res.species.values())
+    assert abs(res.charge_residual_molar) <= 1e-10 * max(total_charge_scale, 1e-7)
+    for key, fr in res.fractions.items():
+        assert abs(sum(fr.values()) - 1.0) < 1e-12
+        total = sum(res.species[lab] for lab in fr)
+        assert np.isclose(total, mix.totals[key], rtol=1e-10, atol=0)
+
+
+@settings(max_examples=60, deadline=None)
+@given(components, activity)
+def test_ph_rises_monotonically_with_strong_base(comps, act):
+    sample = Mixture(make(comps).totals, volume_l=0.1)
+    n = np.linspace(0.0, 0.2, 60)
+    batch, _ = titration_batch(sample, {"Na+": 1.0}, n, reagent_l_per_mol=1.0)
+    ph = speciate_batch(batch, activity=act, catalog=CAT).pH
+    assert np.all(np.diff(ph) > 0)
+
+
+@settings(max_examples=60, deadline=None)
+@given(components, st.randoms(use_true_random=False))
+def test_order_of_components_changes_nothing(comps, rnd):
+    shuffled = list(comps)
+    rnd.shuffle(shuffled)
+    a = speciate(make(comps), catalog=CAT)
+    b = speciate(make(shuffled), catalog=CAT)
+    assert abs(a.pH - b.pH) < 1e-9
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.lists(components, min_size=1, max_size=8), activity)
+def test_batch_equals_one_by_one(many, act):
+    mixes = [make(c) for c in many]
+    batch = MixtureBatch.of(mixes)
+    res = speciate_batch(batch, activity=act, catalog=CAT)
+    for i, m in enumerate(mixes):
+        assert abs(res.pH[i] - speciate(m, activity=act, catalog=CAT).pH) < 1e-9
