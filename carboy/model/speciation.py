@@ -59,12 +59,18 @@ ENTHALPY_DATA_MAX_C = 77.0
 
 ACTIVITY_MODELS = ("davies", "ideal")
 
-X_TOL = 1e-13
+X_TOL = 1e-12
 """Newton/bisection stops when the log10[H+] step is below this."""
+F_TOL = 1e-14
+"""...or when ln(positive charge / negative charge) is below this."""
 MAX_ROOT_ITER = 200
 I_RTOL = 1e-10
 """Ionic strength is self-consistent when successive values agree to this (relative)."""
 MAX_I_ITER = 100
+COUPLED_ITER = 30
+"""Steps of the fast coupled iteration before a point goes to the nested solve."""
+QUADRATIC_STEP = 1e-8
+"""A Newton step this small leaves an error of order its square (F is smooth)."""
 
 
 @dataclass(frozen=True)
@@ -192,11 +198,25 @@ class _Layout:
     z: np.ndarray                 # (K, M) charge of each state (padded 0)
     valid: np.ndarray             # (K, M) bool
     step_valid: np.ndarray        # (K, M-1) bool
+    zpos: np.ndarray              # (K, M) positive part of z
+    zneg: np.ndarray              # (K, M) magnitude of the negative part of z
+    sys_zmin: np.ndarray          # (K,) lowest charge of each system
+    sys_zmax: np.ndarray          # (K,) highest charge of each system
     ion_cols: np.ndarray          # (J,) batch column of each charge-only component
     ion_z: np.ndarray             # (J,)
     ion_labels: tuple[str, ...]
     charge_map: Mapping[str, int]
     zmax: int
+    wmat: np.ndarray              # (K*M, K*7) block-diagonal moment weights, see _moments
+    needs_shift: bool             # could 10**(log beta - j x) leave the float range?
+    logbeta0: np.ndarray          # (K, M) cumulative log10 beta at I = 0, -inf where padded
+    cmat: np.ndarray              # (K, M) its activity term: log beta' = log beta0 - 2 A D cmat
+    flat_lb0: np.ndarray          # (S,) log beta0 of the valid states only
+    flat_c: np.ndarray            # (S,)
+    flat_j: np.ndarray            # (S,)
+    flat_w: np.ndarray            # (S, K*_NMOM) the valid rows of wmat
+    py_systems: tuple             # the same, as Python tuples, for the one-solution path
+    py_ions: tuple
 
 
 def _resolve(catalog, key: str) -> System | Ion:
@@ -209,7 +229,7 @@ def _resolve(catalog, key: str) -> System | Ion:
 
 
 def _layout(catalog, keys: tuple[str, ...], temperature_c: float) -> _Layout:
-    sys_cols, sys_keys, sys_labels, pkas, zacids, zs = [], [], [], [], [], []
+    sys_cols, sys_keys, sys_labels, pkas, zs = [], [], [], [], []
     ion_cols, ion_z, ion_labels = [], [], []
     charge_map: dict[str, int] = {"H+": 1, "OH-": -1}
     for col, key in enumerate(keys):
@@ -233,93 +253,315 @@ def _layout(catalog, keys: tuple[str, ...], temperature_c: float) -> _Layout:
         sys_keys.append(key)
         sys_labels.append(tuple(labels))
         pkas.append(pka_at(comp, temperature_c)[s:])
-        zacids.append(charges[:-1])
         zs.append(charges)
         for lab, z in zip(labels, charges):
             charge_map[lab] = z
     k = len(sys_keys)
     m = max((len(z) for z in zs), default=1)
-    logk = np.zeros((k, max(m - 1, 0)))
-    zacid = np.zeros((k, max(m - 1, 0)))
+    logk = np.zeros((k, m - 1))
+    zacid = np.zeros((k, m - 1))
     z = np.zeros((k, m))
     valid = np.zeros((k, m), dtype=bool)
     for i in range(k):
         n = len(zs[i])
         logk[i, : n - 1] = -np.asarray(pkas[i])
-        zacid[i, : n - 1] = zacids[i]
+        zacid[i, : n - 1] = zs[i][:-1]
         z[i, :n] = zs[i]
         valid[i, :n] = True
     zmax = max([1] + [abs(c) for c in charge_map.values()])
+    jj = np.arange(m, dtype=float)
+    cmat = np.concatenate([np.zeros((k, 1)), np.cumsum(np.where(valid[:, 1:], zacid - 1.0, 0.0),
+                                                       axis=1)], axis=1)
+    wmat = np.zeros((k * m, k * _NMOM))
+    for i in range(k):
+        zp, zn, z2, c = np.maximum(z[i], 0.0), np.maximum(-z[i], 0.0), z[i] ** 2, cmat[i]
+        block = np.stack([np.ones(m), jj, zp, zn, jj * zp, jj * zn, z2,
+                          c, c * zp, c * zn, jj * z2, c * z2], axis=1)
+        wmat[i * m:(i + 1) * m, i * _NMOM:(i + 1) * _NMOM] = block * valid[i][:, None]
+    lb0 = np.where(valid, np.concatenate([np.zeros((k, 1)), np.cumsum(logk, axis=1)], axis=1),
+                   -np.inf)
+    py_systems = tuple(
+        (sys_cols[i], tuple((float(lb0[i, st]), float(cmat[i, st]), float(st),
+                             float(max(zs[i][st], 0)), float(max(-zs[i][st], 0)),
+                             float(zs[i][st] ** 2)) for st in range(len(zs[i]))),
+         float(max(-min(zs[i]), 0)), float(max(max(zs[i]), 0)))
+        for i in range(k)
+    )
     return _Layout(
-        np.asarray(sys_cols, dtype=int), tuple(sys_keys), tuple(sys_labels), logk, zacid, z,
-        valid, valid[:, 1:], np.asarray(ion_cols, dtype=int), np.asarray(ion_z, dtype=float),
-        tuple(ion_labels), MappingProxyType(charge_map), zmax,
+        sys_cols=np.asarray(sys_cols, dtype=int), sys_keys=tuple(sys_keys),
+        sys_labels=tuple(sys_labels), logk=logk, zacid=zacid, z=z, valid=valid,
+        step_valid=valid[:, 1:], zpos=np.maximum(z, 0.0), zneg=np.maximum(-z, 0.0),
+        sys_zmin=np.array([min(c) for c in zs]), sys_zmax=np.array([max(c) for c in zs]),
+        ion_cols=np.asarray(ion_cols, dtype=int), ion_z=np.asarray(ion_z, dtype=float),
+        ion_labels=tuple(ion_labels), charge_map=MappingProxyType(charge_map), zmax=zmax,
+        wmat=wmat, needs_shift=_needs_shift(logk, m),
+        logbeta0=lb0,
+        cmat=cmat,
+        flat_lb0=lb0[valid], flat_c=cmat[valid], flat_j=np.broadcast_to(jj, (k, m))[valid],
+        flat_w=wmat[valid.reshape(-1)],
+        py_systems=py_systems, py_ions=tuple(zip(ion_cols, (float(v) for v in ion_z))),
     )
 
 
-# --------------------------------------------------------------------------- the solve
+def _needs_shift(logk: np.ndarray, m: int) -> bool:
+    """True when the unshifted exponentials could overflow for x in [-40, 40].
 
-def _davies_d(ionic_strength: np.ndarray) -> np.ndarray:
+    |log10 beta| <= sum |log10 K| and |j x| <= 40 (M - 1); float64 holds 10**±300.
+    """
+    span = float(np.abs(logk).sum(axis=1).max(initial=0.0)) + 40.0 * (m - 1) + 60.0
+    return span > 280.0
+
+
+_LAYOUTS: dict = {}
+
+
+def _cached_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> _Layout:
+    """Layouts are pure functions of (catalog, keys, temperature): reuse them."""
+    k = (id(catalog), keys, temperature_c)
+    hit = _LAYOUTS.get(k)
+    if hit is not None and hit[0] is catalog:
+        return hit[1]
+    lay = _layout(catalog, keys, temperature_c)
+    if len(_LAYOUTS) >= 512:
+        _LAYOUTS.clear()
+    _LAYOUTS[k] = (catalog, lay)
+    return lay
+
+
+# --------------------------------------------------------------------------- the solve
+#
+# The charge balance is written as POS(x) = NEG(x), with POS the positive charge
+# ([H+] and every positive species) and NEG the negative charge.  POS rises and NEG
+# falls with x, so F = ln POS - ln NEG is strictly increasing with the same root as f.
+# Newton on F is nearly linear where one species dominates each side (a strong acid
+# converges in one step), which is what makes the solve fast; the bracket keeps it safe.
+
+def _davies_d(ionic_strength):
     sq = np.sqrt(ionic_strength)
     return sq / (1.0 + sq) - 0.3 * ionic_strength
 
 
-def _bracket(c_sys, lay: _Layout, zspec, log_kw):
+def _bracket(q, p, log_kw):
     """log10[H+] bounds with f(lo) < 0 < f(hi), from the totals alone.
 
     With Q the largest negative charge the solutes can carry and P the largest
     positive one, f(x) >= [H+] - [OH-] - Q and f(x) <= [H+] - [OH-] + P.  So
     [H+] = Q + 1 gives f > 0 and [H+] = Kw'/(P + 1) gives f < 0.
     """
-    zmin = np.where(lay.valid, lay.z, np.inf).min(axis=1) if lay.z.size else np.zeros(0)
-    zmax = np.where(lay.valid, lay.z, -np.inf).max(axis=1) if lay.z.size else np.zeros(0)
-    q = np.maximum(-zspec, 0.0) + c_sys @ np.maximum(-zmin, 0.0)
-    p = np.maximum(zspec, 0.0) + c_sys @ np.maximum(zmax, 0.0)
-    hi = np.log10(q + 1.0) + 1e-3
-    lo = log_kw - np.log10(p + 1.0) - 1e-3
-    return lo, hi
+    return log_kw - np.log10(p + 1.0) - 1e-3, np.log10(q + 1.0) + 1e-3
 
 
-def _state(x, logbeta, lay: _Layout, c_sys):
-    """Fractions and their moments at log10[H+] = x.  Shapes: x (N,), logbeta (N,K,M)."""
-    m = lay.z.shape[1]
-    j = np.arange(m, dtype=float)
-    t = logbeta - j[None, None, :] * x[:, None, None]
-    t = np.where(lay.valid[None], t, -np.inf)
-    tmax = t.max(axis=2, keepdims=True)
-    e = np.exp((t - tmax) * LN10)
-    alpha = e / e.sum(axis=2, keepdims=True)
-    zbar = (alpha * lay.z[None]).sum(axis=2)
-    jbar = (alpha * j).sum(axis=2)
-    var = np.maximum((alpha * j * j).sum(axis=2) - jbar * jbar, 0.0)
-    return alpha, (c_sys * zbar).sum(axis=1), (c_sys * var).sum(axis=1)
+_NMOM = 12
+"""Moments per system, the columns of ``_Layout.wmat``: sums of e times
+1, j, z+, z-, j z+, j z-, z², c, c z+, c z-, j z², c z² (c: the activity term of cmat)."""
 
 
-def _solve_x(x0, logbeta, log_kw, lay, c_sys, zspec):
-    """Safeguarded Newton for the root of the charge balance; returns x, f, iterations."""
-    lo, hi = _bracket(c_sys, lay, zspec, log_kw)
+def _moments(x, ad, lay: _Layout, c_sys, want_alpha: bool = False, want_jac: bool = False):
+    """Charge sums, their derivatives and the ionic-strength sum at log10[H+] = x.
+
+    ``ad`` is A·D(I) of each point.  All per-system weighted sums come from one
+    matrix product with the block-diagonal moment weights of the layout.  Returns a
+    dict of arrays summed over systems (mol/L): ``pos``, ``neg`` (charge carried by
+    positive and negative system species), ``dpos``, ``dneg`` (their x-derivatives),
+    ``iz2`` (sum of c z²); with ``want_jac`` also ``diz2`` (its x-derivative) and
+    ``apos``, ``aneg``, ``aiz2`` (derivatives with respect to A·D, for the ionic
+    strength); with ``want_alpha`` the fractions ``alpha`` (N, K, M).
+
+    With alpha_j proportional to 10**(log beta0_j - 2 A D c_j - j x), d alpha_j/dx
+    = -ln10 alpha_j (j - jbar) and d alpha_j/d(AD) = -2 ln10 alpha_j (c_j - cbar), so
+    a weighted sum's derivatives are -ln10 cov(j, w) and -2 ln10 cov(c, w).
+    """
+    n = x.shape[0]
+    k, m = lay.z.shape
+    if lay.needs_shift:  # rare: padded layout with a per-system shift against overflow
+        t = _conditional_logbeta(lay, ad) - np.arange(m, dtype=float) * x[:, None, None]
+        t -= t.max(axis=2, keepdims=True)
+        e = np.exp(t * LN10)
+        mom = (e.reshape(n, k * m) @ lay.wmat).reshape(n, k, _NMOM)
+    else:  # valid states only; 10**t stays within the float range (see _needs_shift)
+        t = lay.flat_lb0 - np.multiply.outer(2.0 * ad, lay.flat_c) - np.multiply.outer(x, lay.flat_j)
+        e = np.exp(t * LN10)
+        mom = (e @ lay.flat_w).reshape(n, k, _NMOM)
+    mom /= mom[:, :, :1]
+    jbar, pos, neg, z2 = mom[:, :, 1], mom[:, :, 2], mom[:, :, 3], mom[:, :, 6]
+    cols = [pos, neg, -LN10 * (mom[:, :, 4] - jbar * pos), -LN10 * (mom[:, :, 5] - jbar * neg),
+            z2]
+    if want_jac:
+        cbar = mom[:, :, 7]
+        cols += [-LN10 * (mom[:, :, 10] - jbar * z2),
+                 -2 * LN10 * (mom[:, :, 8] - cbar * pos), -2 * LN10 * (mom[:, :, 9] - cbar * neg),
+                 -2 * LN10 * (mom[:, :, 11] - cbar * z2)]
+    tot = np.einsum("nk,nkw->wn", c_sys, np.stack(cols, axis=2))
+    out = dict(zip(("pos", "neg", "dpos", "dneg", "iz2", "diz2", "apos", "aneg", "aiz2"), tot))
+    if want_alpha:
+        if not lay.needs_shift:
+            full = np.zeros((n, k * m))
+            full[:, lay.valid.reshape(-1)] = e
+            e = full.reshape(n, k, m)
+        out["alpha"] = e / e.sum(axis=2, keepdims=True)
+    return out
+
+
+def _root(x0, ad, log_kw, lay, c_sys, zs_pos, zs_neg, q, p):
+    """Safeguarded Newton on F for every point; converged points drop out.
+
+    Returns ``(x, done, gi)``: ``gi`` is the ionic strength of the solutes other than
+    the spectator ions at each point's last evaluation (within ``X_TOL`` of ``x``).
+    A point is done when its step is below ``X_TOL``, when |F| (a relative charge
+    imbalance) is below ``F_TOL``, or when its bracket has shrunk below ``X_TOL``.
+    """
+    lo, hi = _bracket(q, p, log_kw)
     x = np.clip(x0, lo, hi)
     done = np.zeros(x.shape, dtype=bool)
-    it = 0
-    f = np.zeros_like(x)
-    for it in range(1, MAX_ROOT_ITER + 1):  # noqa: B007 (used after the loop)
-        _, qsys, vsys = _state(x, logbeta, lay, c_sys)
-        h = np.exp(x * LN10)
-        oh = np.exp((log_kw - x) * LN10)
-        f = h - oh + zspec + qsys
-        fp = LN10 * (h + oh + vsys)
-        lo = np.where(f < 0, x, lo)
-        hi = np.where(f > 0, x, hi)
-        step = f / fp
-        xn = x - step
-        out = ~((xn > lo) & (xn < hi))
-        xn = np.where(out, 0.5 * (lo + hi), xn)
-        moved = np.abs(xn - x)
-        done = (moved < X_TOL) | (f == 0) | ((hi - lo) < X_TOL)
-        x = np.where(f == 0, x, xn)
-        if done.all():
+    gi = np.zeros(x.shape)
+    act = np.arange(x.shape[0])
+    for _ in range(MAX_ROOT_ITER):
+        xa = x[act]
+        mo = _moments(xa, ad[act], lay, c_sys[act])
+        psys, nsys, dpsys, dnsys, iz2 = mo["pos"], mo["neg"], mo["dpos"], mo["dneg"], mo["iz2"]
+        h = np.exp(xa * LN10)
+        oh = np.exp((log_kw[act] - xa) * LN10)
+        pos = h + zs_pos[act] + psys
+        neg = oh + zs_neg[act] + nsys
+        big_f = np.log(pos / neg)
+        fp = (LN10 * h + dpsys) / pos + (LN10 * oh - dnsys) / neg
+        la = np.where(big_f < 0, xa, lo[act])
+        ha = np.where(big_f > 0, xa, hi[act])
+        xn = xa - big_f / fp
+        out = ~((xn >= la) & (xn <= ha))
+        xn = np.where(out, 0.5 * (la + ha), xn)
+        fin = (np.abs(xn - xa) < X_TOL) | (np.abs(big_f) < F_TOL) | ((ha - la) < X_TOL)
+        x[act] = np.where(big_f == 0, xa, xn)
+        lo[act], hi[act] = la, ha
+        done[act] = fin
+        gi[act] = 0.5 * (h + oh + iz2)
+        act = act[~fin]
+        if act.size == 0:
             break
-    return x, f, it, done
+    return x, done, gi
+
+
+def _conditional_logbeta(lay: _Layout, ad):
+    """Cumulative log10 beta of each state with Davies coefficients, ``ad`` = A·D(I).
+
+    With log10 gamma = -A D z², the step HA(z) = H+ + A(z-1) has
+    log10 K' = log10 K - 2 A D (z - 1); summed over the steps below each state.
+    """
+    return lay.logbeta0[None] - (2.0 * ad)[:, None, None] * lay.cmat[None]
+
+
+def _davies_dprime(ionic):
+    sq = np.sqrt(ionic)
+    with np.errstate(divide="ignore"):
+        return np.where(sq > 0, 0.5 / (sq * (1.0 + sq) ** 2), 0.0) - 0.3
+
+
+def _coupled(lay, c_sys, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
+    """Newton on the pair (x, I): the charge balance F = 0 and the ionic strength
+    g(x, I) = I, with the exact 2×2 Jacobian (fast path).
+
+    A point is accepted when its Newton step is in the quadratic regime (|dx| below
+    ``QUADRATIC_STEP`` and |dI| below ``I_RTOL`` I), so the stepped state is within
+    about the square of the step of the solution.  Steps are kept inside the
+    bracket of x and at positive I; points that do not get there in COUPLED_ITER
+    steps go to the guaranteed nested solve.  Returns ``(x, ionic, ok, iterations)``.
+    """
+    n = ispec.shape[0]
+    x_out = np.full(n, -7.0)
+    i_out = ispec + 1e-7
+    ok = np.zeros(n, dtype=bool)
+    # working copies of the unfinished points, compacted whenever some finish
+    idx = np.arange(n)
+    xa, ia = x_out.copy(), i_out.copy()
+    cs, zp, zn, isp, qa, pa = c_sys, zs_pos, zs_neg, ispec, q, p
+    it = 0
+    davies = a_dh != 0.0
+    for it in range(1, COUPLED_ITER + 1):  # noqa: B007 (used after the loop)
+        ad = a_dh * _davies_d(ia)
+        log_kw = 2.0 * ad - pkw
+        mo = _moments(xa, ad, lay, cs, want_jac=davies)
+        h = np.exp(xa * LN10)
+        oh = np.exp((log_kw - xa) * LN10)
+        pos = h + zp + mo["pos"]
+        neg = oh + zn + mo["neg"]
+        big_f = np.log(pos / neg)
+        f_x = (LN10 * h + mo["dpos"]) / pos + (LN10 * oh - mo["dneg"]) / neg
+        g = isp + 0.5 * (h + oh + mo["iz2"])
+        if davies:
+            dd = a_dh * _davies_dprime(ia)            # d(AD)/dI
+            f_i = (mo["apos"] / pos - (2 * LN10 * oh + mo["aneg"]) / neg) * dd
+            g_x = 0.5 * (LN10 * (h - oh) + mo["diz2"])
+            g_i = 0.5 * (2 * LN10 * oh + mo["aiz2"]) * dd - 1.0
+            res_g = g - ia
+            det = f_x * g_i - f_i * g_x
+            with np.errstate(divide="ignore", invalid="ignore"):
+                dx = (f_i * res_g - big_f * g_i) / det
+                di = (g_x * big_f - res_g * f_x) / det
+            bad = ~(np.isfinite(dx) & np.isfinite(di) & (ia + di > 0))
+            if bad.any():
+                dx = np.where(bad, -big_f / f_x, dx)
+                inew = np.where(bad, g, ia + di)
+            else:
+                inew = ia + di
+            i_ok = np.abs(inew - ia) <= I_RTOL * np.maximum(inew, 1e-12)
+        else:
+            dx = -big_f / f_x
+            inew = g
+            i_ok = True
+        lo, hi = _bracket(qa, pa, log_kw)
+        xn = np.clip(xa + dx, lo, hi)
+        fin = ((np.abs(big_f) < F_TOL) | (np.abs(xn - xa) < QUADRATIC_STEP)) & i_ok
+        xa, ia = xn, inew
+        if fin.any():
+            done = idx[fin]
+            x_out[done], i_out[done], ok[done] = xa[fin], ia[fin], True
+            keep = ~fin
+            if not keep.any():
+                break
+            idx, xa, ia = idx[keep], xa[keep], ia[keep]
+            cs, zp, zn, isp, qa, pa = cs[keep], zp[keep], zn[keep], isp[keep], qa[keep], pa[keep]
+    else:
+        x_out[idx], i_out[idx] = xa, ia
+    return x_out, i_out, ok, it
+
+
+def _next_ionic(i_now, r_now, i_prev, r_prev, g):
+    """Secant step on r(I) = g(I) - I, falling back to the plain fixed point g."""
+    if i_prev is None:
+        return g
+    denom = r_now - r_prev
+    with np.errstate(divide="ignore", invalid="ignore"):
+        sec = i_now - r_now * (i_now - i_prev) / denom
+    # accept a secant step only when it is finite, positive and no wilder than 2 plain steps
+    ok = np.isfinite(sec) & (sec > 0) & (np.abs(sec - g) <= 2.0 * np.abs(r_now))
+    return np.where(ok, sec, g)
+
+
+def _nested(x, ionic, lay, c_sys, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
+    """The guaranteed solve: bracketed Newton for x at fixed ionic strength, inside a
+    secant-accelerated fixed-point iteration on the ionic strength.
+    Returns ``(x, ionic, converged, iterations)``."""
+    n = x.shape[0]
+    i_prev = r_prev = None
+    i_conv = np.zeros(n, dtype=bool)
+    root_ok = np.zeros(n, dtype=bool)
+    outer = 0
+    for outer in range(1, MAX_I_ITER + 1):  # noqa: B007 (used after the loop)
+        ad = a_dh * _davies_d(ionic)
+        log_kw = -pkw + 2.0 * ad
+        x, root_ok, gi = _root(x, ad, log_kw, lay, c_sys, zs_pos, zs_neg, q, p)
+        if a_dh == 0.0:
+            i_conv[:] = True
+            break
+        g = ispec + gi
+        r = g - ionic
+        i_conv = np.abs(r) <= I_RTOL * np.maximum(g, 1e-12)
+        if i_conv.all():
+            break
+        nxt = _next_ionic(ionic, r, i_prev, r_prev, g)
+        i_prev, r_prev = ionic, r
+        ionic = np.where(i_conv, ionic, nxt)
+    return x, ionic, root_ok & i_conv, outer
 
 
 def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=None) -> BatchSpeciation:
@@ -333,8 +575,8 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
 
     Returns
     -------
-    BatchSpeciation, with ``converged`` True where the log10[H+] step fell below
-    ``X_TOL`` and the ionic strength agreed to ``I_RTOL`` between iterations.
+    BatchSpeciation, with ``converged`` True where the root find met ``X_TOL`` or
+    ``F_TOL`` and the ionic strength agreed to ``I_RTOL`` between iterations.
     """
     if activity not in ACTIVITY_MODELS:
         raise InvalidInput("activity model", activity, f"choose one of {', '.join(ACTIVITY_MODELS)}")
@@ -343,62 +585,48 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
 
         catalog = default_catalog()
     t_c = water.check_temperature(batch.temperature_c)
-    lay = _layout(catalog, batch.keys, t_c)
+    lay = _cached_layout(catalog, batch.keys, t_c)
     return _solve(batch, lay, activity, t_c)
 
 
 def _solve(batch: MixtureBatch, lay: _Layout, activity: str, t_c: float) -> BatchSpeciation:
     tot = batch.totals
-    n = tot.shape[0]
-    c_sys = tot[:, lay.sys_cols] if lay.sys_cols.size else np.zeros((n, 0))
-    c_ion = tot[:, lay.ion_cols] if lay.ion_cols.size else np.zeros((n, 0))
-    zspec = c_ion @ lay.ion_z
+    c_sys = tot[:, lay.sys_cols]
+    c_ion = tot[:, lay.ion_cols]
+    zs_pos = c_ion @ np.maximum(lay.ion_z, 0.0)
+    zs_neg = c_ion @ np.maximum(-lay.ion_z, 0.0)
     ispec = 0.5 * (c_ion @ (lay.ion_z ** 2))
+    q = zs_neg + c_sys @ np.maximum(-lay.sys_zmin, 0.0)
+    p = zs_pos + c_sys @ np.maximum(lay.sys_zmax, 0.0)
     pkw = water.pkw(t_c)
     a_dh = water.debye_huckel_a(t_c) if activity == "davies" else 0.0
-    z2 = lay.z ** 2
 
-    ionic = ispec.copy()
-    x = np.full(n, -7.0)
-    i_conv = np.zeros(n, dtype=bool)
-    root_ok = np.zeros(n, dtype=bool)
-    f = np.zeros(n)
-    outer = 0
-    for outer in range(1, MAX_I_ITER + 1):  # noqa: B007 (used after the loop)
-        ad = a_dh * _davies_d(ionic)                       # (N,)
-        log_kw = -pkw + 2.0 * ad                           # conditional Kw
-        logk_c = lay.logk[None] - 2.0 * ad[:, None, None] * (lay.zacid[None] - 1.0)
-        logk_c = np.where(lay.step_valid[None], logk_c, 0.0)
-        logbeta = np.concatenate(
-            [np.zeros((n, lay.z.shape[0], 1)), np.cumsum(logk_c, axis=2)], axis=2
-        ) if lay.z.shape[0] else np.zeros((n, 0, 1))
-        x, f, _, root_ok = _solve_x(x, logbeta, log_kw, lay, c_sys, zspec)
-        alpha, _, _ = _state(x, logbeta, lay, c_sys)
-        h = 10.0 ** x
-        oh = 10.0 ** (log_kw - x)
-        new_i = ispec + 0.5 * (h + oh) + 0.5 * (c_sys[:, :, None] * alpha * z2[None]).sum(axis=(1, 2))
-        i_conv = np.abs(new_i - ionic) <= I_RTOL * np.maximum(new_i, 1e-12)
-        ionic = new_i
-        if a_dh == 0.0 or i_conv.all():
-            i_conv[:] = True
-            break
+    x, ionic, ok, iterations = _coupled(lay, c_sys, zs_pos, zs_neg, ispec, q, p, pkw, a_dh)
+    converged = ok.copy()
+    if not ok.all():
+        bad = ~ok
+        xb, ib, cb, outer = _nested(x[bad], ionic[bad], lay, c_sys[bad], zs_pos[bad],
+                                    zs_neg[bad], ispec[bad], q[bad], p[bad], pkw, a_dh)
+        x[bad], ionic[bad], converged[bad] = xb, ib, cb
+        iterations += outer
 
     ad = a_dh * _davies_d(ionic)
-    log_gh = -ad                                           # log10 gamma(H+)
-    ph = -(x + log_gh)
     log_kw = -pkw + 2.0 * ad
+    mo = _moments(x, ad, lay, c_sys, want_alpha=True)
+    psys, nsys, iz2, alpha = mo["pos"], mo["neg"], mo["iz2"], mo["alpha"]
+    h = 10.0 ** x
     oh = 10.0 ** (log_kw - x)
-    sys_conc = c_sys[:, :, None] * alpha                   # (N,K,M)
+    residual = (h + zs_pos + psys) - (oh + zs_neg + nsys)
+    # with activity, report the ionic strength the coefficients were computed with
+    ionic_out = ionic if a_dh != 0.0 else ispec + 0.5 * (h + oh + iz2)
+    ph = ad - x  # -log10 a(H+) = -(x + log10 gamma_H), with log10 gamma_H = -ad
+    sys_conc = c_sys[:, :, None] * alpha
 
-    labels: list[str] = ["H+", "OH-"]
-    cols: list[np.ndarray] = [10.0 ** x, oh]
-    for j, lab in enumerate(lay.ion_labels):
-        labels.append(lab)
-        cols.append(c_ion[:, j])
+    labels: list[str] = ["H+", "OH-", *lay.ion_labels]
+    cols: list[np.ndarray] = [h, oh, *(c_ion[:, j] for j in range(len(lay.ion_labels)))]
     for k, labs in enumerate(lay.sys_labels):
-        for j, lab in enumerate(labs):
-            labels.append(lab)
-            cols.append(sys_conc[:, k, j])
+        labels.extend(labs)
+        cols.extend(sys_conc[:, k, j] for j in range(len(labs)))
     merged: dict[str, np.ndarray] = {}
     for lab, col in zip(labels, cols):
         merged[lab] = merged[lab] + col if lab in merged else col
@@ -407,13 +635,15 @@ def _solve(batch: MixtureBatch, lay: _Layout, activity: str, t_c: float) -> Batc
 
     zs = np.arange(lay.zmax + 1, dtype=float)
     log_gamma = -(zs[None, :] ** 2) * ad[:, None]
-
-    converged = root_ok & i_conv
-    warnings = tuple(_warnings(ionic[i], converged[i], t_c, activity) for i in range(n))
+    hot, ideal = t_c > ENTHALPY_DATA_MAX_C, activity == "ideal"
+    code = (ionic_out > DAVIES_LIMIT_MOLAR).astype(int) + 2 * (~converged).astype(int)
+    table = [_warning_texts(bool(c & 1), bool(c & 2), hot, ideal) for c in range(4)]
+    warnings = tuple(table[c] for c in code.tolist())
     return BatchSpeciation(
-        pH=ph, log_h=x, ionic_strength_molar=ionic, charge_residual_molar=f,
-        converged=converged, iterations=outer, species_labels=species_labels,
-        species_charges=tuple(lay.charge_map[lab] for lab in species_labels), species_molar=species, system_keys=lay.sys_keys, system_labels=lay.sys_labels,
+        pH=ph, log_h=x, ionic_strength_molar=ionic_out, charge_residual_molar=residual,
+        converged=converged, iterations=iterations, species_labels=species_labels,
+        species_charges=tuple(lay.charge_map[lab] for lab in species_labels),
+        species_molar=species, system_keys=lay.sys_keys, system_labels=lay.sys_labels,
         fractions=alpha, log_gamma_by_charge=log_gamma, pkw=pkw, temperature_c=t_c,
         activity=activity, warnings=warnings, batch=batch,
     )
@@ -438,14 +668,160 @@ def _warning_texts(high_i: bool, bad: bool, hot: bool, ideal: bool) -> tuple[str
     return tuple(out)
 
 
-def _warnings(ionic: float, converged: bool, t_c: float, activity: str) -> tuple[str, ...]:
-    return _warning_texts(bool(ionic > DAVIES_LIMIT_MOLAR), not bool(converged),
-                          t_c > ENTHALPY_DATA_MAX_C, activity == "ideal")
+def _solve_one(lay: _Layout, row, pkw: float, a_dh: float):
+    """The coupled (x, I) Newton of :func:`_coupled` for one solution, in plain Python.
+
+    numpy's per-call overhead dominates for a single solution of a few systems, so
+    this path does the same arithmetic with floats.  Returns ``(x, ionic, iterations)``
+    or ``None`` when it did not converge (the caller then takes the guaranteed
+    nested solve).  Tested against the vectorized path.
+    """
+    exp, log, sqrt = math.exp, math.log, math.sqrt
+    systems = [(row[col], states) for col, states, _, _ in lay.py_systems if row[col] > 0.0]
+    zs_pos = zs_neg = ispec = 0.0
+    for col, z in lay.py_ions:
+        c = row[col]
+        if z > 0:
+            zs_pos += z * c
+        else:
+            zs_neg -= z * c
+        ispec += 0.5 * z * z * c
+    q, p = zs_neg, zs_pos
+    for col, _, neg_cap, pos_cap in lay.py_systems:
+        q += row[col] * neg_cap
+        p += row[col] * pos_cap
+    davies = a_dh != 0.0
+    x, ionic = -7.0, ispec + 1e-7
+    for it in range(1, COUPLED_ITER + 1):
+        sq = sqrt(ionic)
+        ad = a_dh * (sq / (1.0 + sq) - 0.3 * ionic)
+        tad = 2.0 * ad
+        log_kw = tad - pkw
+        psys = nsys = dpsys = dnsys = iz2 = diz2 = apos = aneg = aiz2 = 0.0
+        for ctot, states in systems:
+            s0 = sj = sp = sn = sjp = sjn = sz2 = sc = scp = scn = sjz2 = scz2 = 0.0
+            for lb0, cc, st, zp, zn, z2 in states:
+                e = exp((lb0 - tad * cc - st * x) * LN10)
+                s0 += e
+                sj += st * e
+                sc += cc * e
+                if zp:
+                    sp += zp * e
+                    sjp += st * zp * e
+                    scp += cc * zp * e
+                if zn:
+                    sn += zn * e
+                    sjn += st * zn * e
+                    scn += cc * zn * e
+                sz2 += z2 * e
+                sjz2 += st * z2 * e
+                scz2 += cc * z2 * e
+            inv = ctot / s0
+            jb, cb = sj / s0, sc / s0
+            pk, nk, zk = sp * inv, sn * inv, sz2 * inv
+            psys += pk
+            nsys += nk
+            iz2 += zk
+            dpsys -= LN10 * (sjp * inv - jb * pk)
+            dnsys -= LN10 * (sjn * inv - jb * nk)
+            diz2 -= LN10 * (sjz2 * inv - jb * zk)
+            apos -= 2 * LN10 * (scp * inv - cb * pk)
+            aneg -= 2 * LN10 * (scn * inv - cb * nk)
+            aiz2 -= 2 * LN10 * (scz2 * inv - cb * zk)
+        h = exp(x * LN10)
+        oh = exp((log_kw - x) * LN10)
+        pos = h + zs_pos + psys
+        neg = oh + zs_neg + nsys
+        big_f = log(pos / neg)
+        f_x = (LN10 * h + dpsys) / pos + (LN10 * oh - dnsys) / neg
+        g = ispec + 0.5 * (h + oh + iz2)
+        inew = g
+        dx = -big_f / f_x
+        if davies:
+            dd = a_dh * ((0.5 / (sq * (1.0 + sq) ** 2) if sq > 0 else 0.0) - 0.3)
+            f_i = (apos / pos - (2 * LN10 * oh + aneg) / neg) * dd
+            g_x = 0.5 * (LN10 * (h - oh) + diz2)
+            g_i = 0.5 * (2 * LN10 * oh + aiz2) * dd - 1.0
+            res_g = g - ionic
+            det = f_x * g_i - f_i * g_x
+            if det != 0.0:
+                dx2 = (f_i * res_g - big_f * g_i) / det
+                di = (g_x * big_f - res_g * f_x) / det
+                if math.isfinite(dx2) and math.isfinite(di) and ionic + di > 0:
+                    dx, inew = dx2, ionic + di
+        lo = log_kw - math.log10(p + 1.0) - 1e-3
+        hi = math.log10(q + 1.0) + 1e-3
+        xn = min(max(x + dx, lo), hi)
+        fin = (abs(big_f) < F_TOL or abs(xn - x) < QUADRATIC_STEP) and (
+            not davies or abs(inew - ionic) <= I_RTOL * max(inew, 1e-12))
+        x, ionic = xn, inew
+        if fin:
+            return x, ionic, it
+    return None
 
 
 def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None) -> Speciation:
-    """Solve one mixture; see :func:`speciate_batch`."""
-    batch = MixtureBatch(tuple(mixture.totals), np.array([list(mixture.totals.values())]).reshape(
-        1, len(mixture.totals)), mixture.temperature_c)
-    res = speciate_batch(batch, activity=activity, catalog=catalog).point(0)
-    return Speciation(**{**res.__dict__, "mixture": mixture})
+    """Solve one mixture; see :func:`speciate_batch` (same arithmetic, one solution)."""
+    if activity not in ACTIVITY_MODELS:
+        raise InvalidInput("activity model", activity, f"choose one of {', '.join(ACTIVITY_MODELS)}")
+    if catalog is None:
+        from carboy.model.catalog import default_catalog
+
+        catalog = default_catalog()
+    t_c = water.check_temperature(mixture.temperature_c)
+    keys = tuple(mixture.totals)
+    lay = _cached_layout(catalog, keys, t_c)
+    row = list(mixture.totals.values())
+    pkw = water.pkw(t_c)
+    a_dh = water.debye_huckel_a(t_c) if activity == "davies" else 0.0
+    fast = None if lay.needs_shift else _solve_one(lay, row, pkw, a_dh)
+    if fast is None:
+        batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
+        res = _solve(batch, lay, activity, t_c).point(0)
+        return Speciation(**{**res.__dict__, "mixture": mixture})
+    x, ionic, iterations = fast
+    return _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixture)
+
+
+def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixture) -> Speciation:
+    """Species, fractions and coefficients of one solved solution."""
+    sq = math.sqrt(ionic)
+    ad = a_dh * (sq / (1.0 + sq) - 0.3 * ionic)
+    tad = 2.0 * ad
+    h = 10.0 ** x
+    oh = 10.0 ** (tad - pkw - x)
+    species: dict[str, float] = {"H+": h, "OH-": oh}
+    pos, neg = h, oh
+    ionic_ideal = 0.5 * (h + oh)
+    for (col, z), label in zip(lay.py_ions, lay.ion_labels):
+        c = row[col]
+        species[label] = species.get(label, 0.0) + c
+        if z > 0:
+            pos += z * c
+        else:
+            neg -= z * c
+        ionic_ideal += 0.5 * z * z * c
+    fractions = {}
+    for (col, states, _, _), key, labels in zip(lay.py_systems, lay.sys_keys, lay.sys_labels):
+        e = [10.0 ** (lb0 - tad * cc - st * x) for lb0, cc, st, _, _, _ in states]
+        tot = sum(e)
+        fr = {lab: v / tot for lab, v in zip(labels, e)}
+        fractions[key] = MappingProxyType(fr)
+        ctot = row[col]
+        for (_, _, _, zp, zn, z2), lab in zip(states, labels):
+            c = ctot * fr[lab]
+            species[lab] = species.get(lab, 0.0) + c
+            pos += zp * c
+            neg += zn * c
+            ionic_ideal += 0.5 * z2 * c
+    coeff = {lab: 10.0 ** (-ad * lay.charge_map[lab] ** 2) for lab in species}
+    if a_dh == 0.0:
+        ionic = ionic_ideal
+    warnings = _warning_texts(ionic > DAVIES_LIMIT_MOLAR, False, t_c > ENTHALPY_DATA_MAX_C,
+                              activity == "ideal")
+    return Speciation(
+        pH=ad - x, h_molar=h, oh_molar=oh, pkw=pkw, species=MappingProxyType(species),
+        fractions=MappingProxyType(fractions), activity_coefficients=MappingProxyType(coeff),
+        ionic_strength_molar=ionic, temperature_c=t_c, activity=activity, warnings=warnings,
+        converged=True, iterations=iterations, charge_residual_molar=pos - neg, mixture=mixture,
+    )
