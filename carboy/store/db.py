@@ -1,0 +1,405 @@
+"""Opening the storeroom database, and the one way to write to it.
+
+Rules this module enforces (see ``docs/shared-server.md`` for the server setup):
+
+* One file, WAL mode (set once, at creation), ``foreign_keys=ON`` and a busy
+  timeout on every connection.
+* Every write is one short ``BEGIN IMMEDIATE`` transaction, run by
+  :meth:`Store.write` with a bounded retry: a deferred ``BEGIN`` that reads
+  before it writes fails under concurrency instead of waiting.
+* Schema changes are sqlite-utils migrations (``migrations.py``), applied only
+  while holding an exclusive ``flock`` on ``PATH.lock`` and inside one
+  immediate transaction, so two users starting at once cannot collide.
+* Before anything is written, the file is checked: it must be SQLite, pass
+  ``PRAGMA quick_check``, and be a carboy database (or empty).  A damaged or
+  foreign file raises :class:`DatabaseUnusable` and is never written.
+
+A :class:`Store` (one connection) belongs to the thread that opened it; open
+one per worker thread.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import fcntl
+import getpass
+import os
+import random
+import sqlite3
+import stat
+import time
+from collections.abc import Callable, Iterator, Mapping, Sequence
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any, TypeVar
+
+import sqlite_utils
+
+from carboy.store.errors import Busy, DatabaseUnusable
+
+T = TypeVar("T")
+
+ENV_VAR = "CARBOY_DB"
+DB_FILENAME = "carboy.db"
+APPLICATION_ID = 0x43524259  # "CRBY" in the file header: marks a carboy database
+BUSY_TIMEOUT_S = 5.0
+"""How long one attempt waits for another writer (SQLite's busy handler)."""
+WRITE_ATTEMPTS = 6
+"""Attempts of one write transaction before :class:`Busy` reaches the caller."""
+LOCK_TIMEOUT_S = 60.0
+"""How long to wait for another process applying migrations."""
+SQLITE_HEADER = b"SQLite format 3\x00"
+FULL_CHECK_LIMIT_BYTES = 64 * 1024 * 1024
+"""Up to this size ``open_database`` quick-checks the whole file (about 0.4 s per 64 MB);
+above it, every table but the bulky ``journal_entries`` (run :meth:`Store.integrity_problems`
+for all of it)."""
+LARGE_TABLES_SKIPPED_AT_OPEN = ("journal_entries",)
+
+_LOCKED_MESSAGES = ("database is locked", "database table is locked", "database is busy")
+
+
+def default_path(cli_path: str | os.PathLike | None = None,
+                 environ: Mapping[str, str] | None = None) -> Path:
+    """The database path: ``--db PATH``, else ``$CARBOY_DB``, else the user data directory."""
+    if cli_path:
+        return Path(cli_path).expanduser()
+    env = os.environ if environ is None else environ
+    if env.get(ENV_VAR):
+        return Path(env[ENV_VAR]).expanduser()
+    import platformdirs
+
+    return Path(platformdirs.user_data_dir("carboy", appauthor=False)) / DB_FILENAME
+
+
+def current_user() -> str:
+    """The OS user running carboy (for 'who' in every record)."""
+    try:
+        return getpass.getuser()
+    except (OSError, KeyError, ImportError):
+        return f"uid:{os.getuid()}"
+
+
+def current_origin(environ: Mapping[str, str] | None = None) -> str:
+    """Where the user is: the SSH client's address, else ``local``."""
+    env = os.environ if environ is None else environ
+    for var in ("SSH_CLIENT", "SSH_CONNECTION"):
+        value = env.get(var, "").split()
+        if value:
+            return value[0]
+    return "local"
+
+
+def utc_now() -> str:
+    """The current time as a UTC ISO 8601 string (milliseconds)."""
+    return iso_utc(datetime.now(UTC))
+
+
+def iso_utc(moment: datetime) -> str:
+    """A datetime as UTC ISO 8601 text; a naive datetime is taken as UTC."""
+    if moment.tzinfo is None:
+        moment = moment.replace(tzinfo=UTC)
+    return moment.astimezone(UTC).isoformat(timespec="milliseconds")
+
+
+def _is_locked(exc: sqlite3.OperationalError) -> bool:
+    msg = str(exc).lower()
+    return any(m in msg for m in _LOCKED_MESSAGES)
+
+
+class Store:
+    """One open connection to a carboy database.
+
+    Reads: :meth:`rows`, :meth:`one`, :meth:`scalar` (materialised, short), and
+    :meth:`reading` for several reads that must agree.  Writes: :meth:`write`.
+    """
+
+    def __init__(self, path: Path, conn: sqlite3.Connection):
+        self.path = path
+        self.conn = conn
+        self.db = sqlite_utils.Database(conn, execute_plugins=False)
+        self.origin: str | None = None
+        """Where writes come from; ``None`` reads SSH_CLIENT / SSH_CONNECTION each time."""
+
+    def origin_of(self) -> str:
+        return self.origin or current_origin()
+
+    # -- lifecycle -------------------------------------------------------------
+    def close(self) -> None:
+        self.conn.close()
+
+    def __enter__(self) -> Store:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    def __repr__(self) -> str:
+        return f"<Store {str(self.path)!r}>"
+
+    # -- reads -----------------------------------------------------------------
+    def rows(self, sql: str, params: Sequence[Any] | Mapping[str, Any] = ()) -> list[dict]:
+        """Run a query and return every row as a dict (the cursor is closed at once)."""
+        cur = self._execute(sql, params)
+        try:
+            names = [d[0] for d in cur.description]
+            return [dict(zip(names, row)) for row in cur.fetchall()]
+        finally:
+            cur.close()
+
+    def one(self, sql: str, params: Sequence[Any] | Mapping[str, Any] = ()) -> dict | None:
+        """The first row of a query, or ``None``."""
+        found = self.rows(sql, params)
+        return found[0] if found else None
+
+    def scalar(self, sql: str, params: Sequence[Any] | Mapping[str, Any] = ()) -> Any:
+        cur = self._execute(sql, params)
+        try:
+            row = cur.fetchone()
+        finally:
+            cur.close()
+        return None if row is None else row[0]
+
+    @contextlib.contextmanager
+    def reading(self) -> Iterator[Store]:
+        """Several reads in one (deferred, read-only) transaction: one consistent snapshot."""
+        if self.conn.in_transaction:
+            yield self
+            return
+        self._execute("BEGIN")
+        try:
+            yield self
+        finally:
+            if self.conn.in_transaction:
+                self.conn.execute("COMMIT")
+
+    def execute(self, sql: str, params: Sequence[Any] | Mapping[str, Any] = ()) -> sqlite3.Cursor:
+        """Run one statement inside :meth:`write` (writes outside a transaction are refused)."""
+        if not self.conn.in_transaction and sql.lstrip()[:6].upper() not in ("SELECT", "PRAGMA"):
+            raise RuntimeError("carboy writes must run inside Store.write()")
+        return self._execute(sql, params)
+
+    def _execute(self, sql: str, params: Sequence[Any] | Mapping[str, Any] = ()) -> sqlite3.Cursor:
+        try:
+            return self.conn.execute(sql, params)
+        except sqlite3.DatabaseError as exc:
+            if _is_damage(exc):
+                raise DatabaseUnusable(str(self.path), f"the file is damaged ({exc})") from exc
+            raise
+
+    # -- writes ----------------------------------------------------------------
+    def write(self, fn: Callable[[Store], T], *, attempts: int = WRITE_ATTEMPTS) -> T:
+        """Run ``fn(self)`` as one ``BEGIN IMMEDIATE`` transaction, retrying while locked.
+
+        ``fn`` must only touch the database (it may run more than once).  Any
+        exception rolls the whole transaction back.  Called inside another
+        ``write``, it joins the outer transaction as a savepoint.
+        """
+        if self.conn.in_transaction:
+            with self.db.atomic():
+                return fn(self)
+        delay = 0.02
+        last = ""
+        for attempt in range(1, attempts + 1):
+            try:
+                self.conn.execute("BEGIN IMMEDIATE")
+            except sqlite3.OperationalError as exc:
+                if not _is_locked(exc):
+                    raise
+                last = str(exc)
+            else:
+                try:
+                    result = fn(self)
+                    self.conn.execute("COMMIT")
+                    return result
+                except sqlite3.OperationalError as exc:
+                    self._rollback()
+                    if not _is_locked(exc):
+                        raise
+                    last = str(exc)
+                except sqlite3.DatabaseError as exc:
+                    self._rollback()
+                    if _is_damage(exc):
+                        raise DatabaseUnusable(str(self.path),
+                                               f"the file is damaged ({exc})") from exc
+                    raise
+                except BaseException:
+                    self._rollback()
+                    raise
+            if attempt < attempts:
+                time.sleep(delay * (1 + random.random()))
+                delay = min(delay * 2, 0.5)
+        raise Busy(str(self.path), attempts, last)
+
+    def _rollback(self) -> None:
+        if self.conn.in_transaction:
+            with contextlib.suppress(sqlite3.Error):
+                self.conn.execute("ROLLBACK")
+
+    # -- maintenance -------------------------------------------------------------
+    def integrity_problems(self, *, full: bool = True) -> list[str]:
+        """Findings of ``PRAGMA integrity_check`` (or ``quick_check``); empty when sound."""
+        pragma = "integrity_check" if full else "quick_check"
+        found = [r[0] for r in self._execute(f"PRAGMA {pragma}").fetchall()]
+        return [] if found == ["ok"] else found
+
+    def backup_to(self, destination: str | os.PathLike) -> Path:
+        """Copy the live database safely with SQLite's backup API (never copy the file itself)."""
+        dest = Path(destination)
+        if dest.exists():
+            from carboy.store.errors import AlreadyExists
+
+            raise AlreadyExists("backup file", str(dest))
+        target = sqlite3.connect(dest)
+        try:
+            self.conn.backup(target)
+        finally:
+            target.close()
+        return dest
+
+
+def _is_damage(exc: sqlite3.DatabaseError) -> bool:
+    msg = str(exc).lower()
+    return ("malformed" in msg or "not a database" in msg or "file is encrypted" in msg
+            or "disk image" in msg)
+
+
+def _connect(path: Path) -> sqlite3.Connection:
+    # isolation_level=None: no implicit transactions; Store.write issues BEGIN IMMEDIATE
+    conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_S, isolation_level=None)
+    conn.execute(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
+    conn.execute("PRAGMA foreign_keys = ON")
+    # FULL: a commit reaches the disk before it returns (WAL's NORMAL may lose the
+    # last commits on power loss); measured cost is small at storeroom write rates
+    conn.execute("PRAGMA synchronous = FULL")
+    return conn
+
+
+@contextlib.contextmanager
+def file_lock(path: Path, timeout_s: float = LOCK_TIMEOUT_S) -> Iterator[Path]:
+    """Hold an exclusive ``flock`` on ``PATH.lock`` (created beside the database)."""
+    lock_path = path.with_name(path.name + ".lock")
+    fd = os.open(lock_path, os.O_RDWR | os.O_CREAT, 0o666)
+    try:
+        _share_with_group(lock_path)
+        deadline = time.monotonic() + timeout_s
+        while True:
+            try:
+                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                break
+            except BlockingIOError:
+                if time.monotonic() > deadline:
+                    raise Busy(str(path), 1, "another carboy is updating the schema") from None
+                time.sleep(0.05)
+        try:
+            yield lock_path
+        finally:
+            fcntl.flock(fd, fcntl.LOCK_UN)
+    finally:
+        os.close(fd)
+
+
+def _share_with_group(path: Path) -> None:
+    """In a setgid directory (the shared-server setup), make a new file group-writable."""
+    try:
+        if path.parent.stat().st_mode & stat.S_ISGID:
+            mode = path.stat().st_mode
+            if not mode & stat.S_IWGRP:
+                os.chmod(path, mode | stat.S_IRGRP | stat.S_IWGRP)
+    except OSError:
+        pass  # not our file (another user's): its owner set it up already
+
+
+def _check_header(path: Path) -> None:
+    try:
+        with open(path, "rb") as fh:
+            head = fh.read(100)
+    except IsADirectoryError:
+        raise DatabaseUnusable(str(path), "this is a directory, not a database file") from None
+    except PermissionError:
+        raise DatabaseUnusable(str(path), "permission denied (see the shared-server setup: "
+                               "the file and its directory must be group-writable)") from None
+    if head and (len(head) < 100 or not head.startswith(SQLITE_HEADER)):
+        raise DatabaseUnusable(str(path), "not an SQLite database file")
+
+
+def open_database(path: str | os.PathLike | None = None, *, check: bool = True) -> Store:
+    """Open (creating if needed) a carboy database and bring its schema up to date.
+
+    Parameters
+    ----------
+    path : the database file; ``None`` means :func:`default_path`.
+    check : run ``PRAGMA quick_check`` before using an existing file.
+
+    Raises
+    ------
+    DatabaseUnusable : damaged, not SQLite, another program's database, or made
+        by a newer carboy.  Nothing is written in that case.
+    Busy : another process held the schema lock or the write lock too long.
+    """
+    from carboy.store import migrations
+
+    db_path = default_path(path)
+    if db_path.exists():
+        _check_header(db_path)
+    else:
+        db_path.parent.mkdir(parents=True, exist_ok=True)
+    try:
+        conn = _connect(db_path)
+    except sqlite3.OperationalError as exc:
+        raise DatabaseUnusable(str(db_path), f"cannot open it ({exc})") from exc
+    store = Store(db_path, conn)
+    try:
+        state = _inspect(store, check=check)
+        if state != "current":
+            with file_lock(db_path):
+                _share_with_group(db_path)
+                if store.scalar("PRAGMA journal_mode") != "wal":
+                    conn.execute("PRAGMA journal_mode = WAL")
+                store.write(lambda s: migrations.apply(s))
+    except BaseException:
+        conn.close()
+        raise
+    return store
+
+
+def _open_check(store: Store, tables: set[str]) -> list[str]:
+    """``quick_check`` of the file, or of its smaller tables when the file is large."""
+    try:
+        size = store.path.stat().st_size
+    except OSError:
+        size = 0
+    if size <= FULL_CHECK_LIMIT_BYTES:
+        return store.integrity_problems(full=False)
+    problems: list[str] = []
+    for table in sorted(tables - set(LARGE_TABLES_SKIPPED_AT_OPEN)):
+        found = [r[0] for r in store._execute(f'PRAGMA quick_check("{table}")').fetchall()]
+        problems += [] if found == ["ok"] else found
+    return problems
+
+
+def _inspect(store: Store, *, check: bool) -> str:
+    """'new', 'pending' or 'current'; raises DatabaseUnusable for a file we must not touch."""
+    from carboy.store import migrations
+
+    path = str(store.path)
+    try:
+        names = {r["name"] for r in store.rows(
+            "SELECT name FROM sqlite_master WHERE type = 'table'")}
+        app_id = store.scalar("PRAGMA application_id")
+        if check and names:
+            problems = _open_check(store, names)
+            if problems:
+                raise DatabaseUnusable(path, "integrity check failed: " + "; ".join(problems[:3]))
+    except sqlite3.DatabaseError as exc:
+        raise DatabaseUnusable(path, f"not a usable SQLite database ({exc})") from exc
+    if not names and app_id in (0, APPLICATION_ID):
+        return "new"
+    if app_id != APPLICATION_ID or migrations.MIGRATIONS_TABLE not in names:
+        raise DatabaseUnusable(path, "this SQLite file belongs to another program "
+                               "(it is not a carboy database)")
+    applied = migrations.applied_names(store)
+    unknown = [n for n in applied if n not in migrations.known_names()]
+    if unknown:
+        raise DatabaseUnusable(path, "it was made by a newer carboy (schema step "
+                               f"{unknown[-1]!r}); upgrade carboy to use it")
+    return "pending" if migrations.pending_names(store) else "current"

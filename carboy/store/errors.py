@@ -1,0 +1,118 @@
+"""Errors raised by the storeroom database.
+
+Each is a narrow subclass of :class:`carboy.errors.CarboyError` with the fields a
+caller needs; the message is built in ``__str__`` and names the offending value.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from carboy.errors import CarboyError
+
+
+@dataclass
+class StoreError(CarboyError):
+    """Base of the errors raised by ``carboy.store``."""
+
+    def __str__(self) -> str:  # pragma: no cover - subclasses override
+        return self.__class__.__name__
+
+
+@dataclass
+class DatabaseUnusable(StoreError):
+    """The file is damaged, not SQLite, or not a carboy database; carboy will not write it."""
+
+    path: str
+    reason: str
+
+    def __str__(self) -> str:
+        return f"cannot use database {self.path!r}: {self.reason}"
+
+
+@dataclass
+class NotFound(StoreError, LookupError):
+    """No record of this kind has this key."""
+
+    kind: str
+    key: object
+
+    def __str__(self) -> str:
+        return f"no {self.kind} {self.key!r}"
+
+
+@dataclass
+class AlreadyExists(StoreError):
+    """A record with this key exists already."""
+
+    kind: str
+    key: object
+
+    def __str__(self) -> str:
+        return f"{self.kind} {self.key!r} exists already"
+
+
+@dataclass
+class ContainerClosed(StoreError):
+    """A waste container no longer accepts additions or this change of status."""
+
+    label: str
+    status: str
+    action: str = "add to it"
+
+    def __str__(self) -> str:
+        return f"waste container {self.label!r} is {self.status}: cannot {self.action}"
+
+
+@dataclass
+class OverCapacity(StoreError):
+    """An addition would take a waste container past its capacity."""
+
+    label: str
+    capacity_l: float
+    would_be_l: float
+
+    def __str__(self) -> str:
+        return (
+            f"waste container {self.label!r} holds at most {self.capacity_l:g} L; "
+            f"this addition would bring it to {self.would_be_l:g} L"
+        )
+
+
+@dataclass
+class Busy(StoreError):
+    """The database stayed locked by other users through every retry."""
+
+    path: str
+    attempts: int
+    detail: str = ""
+
+    def __str__(self) -> str:
+        msg = (f"database {self.path!r} is busy (other users are writing); "
+               f"gave up after {self.attempts} attempts, try again")
+        return msg + (f": {self.detail}" if self.detail else "")
+
+
+@dataclass
+class JournalImmutable(StoreError):
+    """Journal entries are never changed or removed; record a correction instead."""
+
+    entry_id: object = None
+
+    def __str__(self) -> str:
+        return ("journal entries cannot be changed or deleted; "
+                "record a correction that points at the entry instead")
+
+
+@dataclass
+class CsvRowError(StoreError):
+    """One or more rows of a CSV file are unusable; nothing was imported."""
+
+    path: str
+    problems: list[tuple[int, str]] = field(default_factory=list)
+
+    def __str__(self) -> str:
+        shown = "; ".join(f"row {n}: {msg}" for n, msg in self.problems[:10])
+        more = len(self.problems) - 10
+        tail = f"; and {more} more" if more > 0 else ""
+        return f"{self.path}: nothing imported: {shown}{tail}"

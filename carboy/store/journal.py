@@ -1,0 +1,255 @@
+"""The append-only journal: preparations, standardizations, neutralizations, disposals.
+
+Every entry records its kind, who (the OS user), when (UTC), where from (the SSH
+client's address, else ``local``), the bottle or container it concerns, and a JSON
+snapshot of the inputs and results as computed then.  Triggers in the database
+reject UPDATE and DELETE; a mistake is fixed by :func:`correct`, a new entry that
+points at the one it corrects.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass
+from datetime import date, datetime
+from typing import Any
+
+from carboy.errors import InvalidInput
+from carboy.store.db import Store, current_user, iso_utc, utc_now
+from carboy.store.errors import NotFound
+from carboy.store.migrations import JOURNAL_KINDS
+
+KINDS = JOURNAL_KINDS
+
+
+@dataclass(frozen=True)
+class Entry:
+    """One journal entry as stored."""
+
+    id: int
+    kind: str
+    recorded_at: str
+    recorded_by: str
+    origin: str
+    bottle_id: int | None
+    container_id: int | None
+    container_label: str | None
+    corrects_id: int | None
+    summary: str
+    snapshot: dict
+
+    def as_dict(self) -> dict:
+        return {
+            "id": self.id, "kind": self.kind, "recorded_at": self.recorded_at,
+            "recorded_by": self.recorded_by, "origin": self.origin,
+            "bottle_id": self.bottle_id, "container_id": self.container_id,
+            "container_label": self.container_label, "corrects_id": self.corrects_id,
+            "summary": self.summary, "snapshot": self.snapshot,
+        }
+
+
+def snapshot_json(snapshot: Mapping[str, Any] | None) -> str:
+    """Serialise a snapshot strictly: finite numbers only, keys as text."""
+    if snapshot is None:
+        snapshot = {}
+    if not isinstance(snapshot, Mapping):
+        raise InvalidInput("journal snapshot", type(snapshot).__name__, "must be a mapping")
+
+    def default(obj: Any) -> Any:
+        if isinstance(obj, (datetime, date)):
+            return obj.isoformat()
+        if hasattr(obj, "item") and callable(obj.item):  # numpy scalar
+            return obj.item()
+        if hasattr(obj, "tolist"):
+            return obj.tolist()
+        if isinstance(obj, (set, frozenset, tuple)):
+            return list(obj)
+        raise TypeError(type(obj).__name__)
+
+    def clean(obj: Any) -> Any:
+        if isinstance(obj, float) and not math.isfinite(obj):
+            return None
+        if isinstance(obj, Mapping):
+            return {str(k): clean(v) for k, v in obj.items()}
+        if isinstance(obj, (list, tuple)):
+            return [clean(v) for v in obj]
+        return obj
+
+    try:
+        return json.dumps(clean(dict(snapshot)), default=default, ensure_ascii=False,
+                          allow_nan=False, sort_keys=True)
+    except (TypeError, ValueError) as exc:
+        raise InvalidInput("journal snapshot", str(exc), "cannot be stored as JSON") from None
+
+
+def _check_kind(kind: str) -> str:
+    if kind not in KINDS:
+        raise InvalidInput("journal kind", kind, "expected one of " + ", ".join(KINDS))
+    return kind
+
+
+def append_in(store: Store, kind: str, *, summary: str = "", snapshot: Mapping | None = None,
+              bottle_id: int | None = None, container_id: int | None = None,
+              corrects_id: int | None = None, who: str | None = None,
+              origin: str | None = None, when: datetime | None = None) -> int:
+    """Insert one entry; the caller must already be inside ``Store.write``."""
+    _check_kind(kind)
+    payload = snapshot_json(snapshot)
+    if kind == "correction" and corrects_id is None:
+        raise InvalidInput("correction", None, "must name the entry it corrects")
+    if corrects_id is not None and store.scalar(
+            "SELECT 1 FROM journal_entries WHERE id = ?", [corrects_id]) is None:
+        raise NotFound("journal entry", corrects_id)
+    if bottle_id is not None and store.scalar(
+            "SELECT 1 FROM stock_bottles WHERE id = ?", [bottle_id]) is None:
+        raise NotFound("stock bottle", bottle_id)
+    if container_id is not None and store.scalar(
+            "SELECT 1 FROM waste_containers WHERE id = ?", [container_id]) is None:
+        raise NotFound("waste container", container_id)
+    cur = store.execute(
+        "INSERT INTO journal_entries (kind, recorded_at, recorded_by, origin, bottle_id, "
+        "container_id, corrects_id, summary, snapshot_json) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
+        [kind, iso_utc(when) if when else utc_now(), who or current_user(),
+         origin or store.origin_of(), bottle_id, container_id, corrects_id, summary, payload],
+    )
+    return int(cur.lastrowid)
+
+
+def append(store: Store, kind: str, *, summary: str = "", snapshot: Mapping | None = None,
+           bottle_id: int | None = None, container_id: int | None = None,
+           corrects_id: int | None = None, who: str | None = None,
+           origin: str | None = None, when: datetime | None = None) -> int:
+    """Append one journal entry in its own transaction; returns its id."""
+    payload = snapshot_json(snapshot)  # fail before taking the write lock
+    return store.write(lambda s: append_in(
+        s, kind, summary=summary, snapshot=json.loads(payload), bottle_id=bottle_id,
+        container_id=container_id, corrects_id=corrects_id, who=who, origin=origin, when=when))
+
+
+def correct(store: Store, entry_id: int, reason: str, *, snapshot: Mapping | None = None,
+            who: str | None = None, when: datetime | None = None) -> int:
+    """Record a correction of entry ``entry_id`` (which stays as it was); returns the new id."""
+    if not reason or not reason.strip():
+        raise InvalidInput("correction reason", reason, "say what was wrong")
+    original = get(store, entry_id)
+    snap = {"reason": reason.strip(), **(dict(snapshot) if snapshot else {})}
+    return append(store, "correction", summary=f"correction of entry {entry_id}: {reason.strip()}",
+                  snapshot=snap, bottle_id=original.bottle_id,
+                  container_id=original.container_id, corrects_id=entry_id, who=who, when=when)
+
+
+_SELECT = (
+    "SELECT j.id, j.kind, j.recorded_at, j.recorded_by, j.origin, j.bottle_id, j.container_id, "
+    "c.label AS container_label, j.corrects_id, j.summary, j.snapshot_json "
+    "FROM journal_entries j LEFT JOIN waste_containers c ON c.id = j.container_id"
+)
+
+
+def _entry(row: dict) -> Entry:
+    snap = json.loads(row.pop("snapshot_json"))
+    return Entry(snapshot=snap, **row)
+
+
+def get(store: Store, entry_id: int) -> Entry:
+    row = store.one(_SELECT + " WHERE j.id = ?", [_as_id(entry_id)])
+    if row is None:
+        raise NotFound("journal entry", entry_id)
+    return _entry(row)
+
+
+def _as_id(value: object) -> int:
+    try:
+        n = int(str(value).strip().lstrip("#"))
+    except (TypeError, ValueError):
+        raise InvalidInput("journal entry id", value, "expected a whole number") from None
+    return n
+
+
+def corrections_of(store: Store, entry_id: int) -> list[Entry]:
+    """Entries that correct ``entry_id``, oldest first."""
+    return [_entry(r) for r in store.rows(_SELECT + " WHERE j.corrects_id = ? ORDER BY j.id",
+                                          [entry_id])]
+
+
+def _since_text(since: date | datetime | str | None) -> str | None:
+    if since is None:
+        return None
+    if isinstance(since, datetime):
+        return iso_utc(since)
+    if isinstance(since, date):
+        return since.isoformat()
+    try:
+        parsed = date.fromisoformat(since.strip())
+    except ValueError:
+        try:
+            return iso_utc(datetime.fromisoformat(since.strip()))
+        except ValueError:
+            raise InvalidInput("date", since, "expected YYYY-MM-DD") from None
+    return parsed.isoformat()
+
+
+def entries(store: Store, *, kind: str | None = None, since: date | datetime | str | None = None,
+            bottle_id: int | None = None, container_id: int | None = None,
+            before_id: int | None = None, limit: int | None = 100) -> list[Entry]:
+    """Entries newest first, optionally filtered; page with ``before_id`` (keyset)."""
+    where, params = [], []
+    if kind is not None:
+        where.append("j.kind = ?")
+        params.append(_check_kind(kind))
+    since_text = _since_text(since)
+    if since_text is not None:
+        where.append("j.recorded_at >= ?")
+        params.append(since_text)
+    if bottle_id is not None:
+        where.append("j.bottle_id = ?")
+        params.append(bottle_id)
+    if container_id is not None:
+        where.append("j.container_id = ?")
+        params.append(container_id)
+    if before_id is not None:
+        where.append("j.id < ?")
+        params.append(before_id)
+    sql = _SELECT + (" WHERE " + " AND ".join(where) if where else "") + " ORDER BY j.id DESC"
+    if limit is not None:
+        if limit <= 0:
+            raise InvalidInput("limit", limit, "must be positive")
+        sql += f" LIMIT {int(limit)}"
+    return [_entry(r) for r in store.rows(sql, params)]
+
+
+def count(store: Store, *, kind: str | None = None) -> int:
+    if kind is None:
+        return int(store.scalar("SELECT count(*) FROM journal_entries"))
+    return int(store.scalar("SELECT count(*) FROM journal_entries WHERE kind = ?",
+                            [_check_kind(kind)]))
+
+
+def iter_all(store: Store, *, kind: str | None = None,
+             since: date | datetime | str | None = None, batch: int = 1000):
+    """Every entry oldest first, read in short batches (for export)."""
+    where, params = ["j.id > ?"], [0]
+    if kind is not None:
+        where.append("j.kind = ?")
+        params.append(_check_kind(kind))
+    since_text = _since_text(since)
+    if since_text is not None:
+        where.append("j.recorded_at >= ?")
+        params.append(since_text)
+    sql = _SELECT + " WHERE " + " AND ".join(where) + f" ORDER BY j.id LIMIT {int(batch)}"
+    while True:
+        rows = store.rows(sql, params)
+        yield from (_entry(r) for r in rows)
+        if len(rows) < batch:
+            return
+        params[0] = rows[-1]["id"]
+
+
+def local_time(recorded_at: str) -> str:
+    """A stored UTC time shown in the local time zone, to the minute."""
+    try:
+        moment = datetime.fromisoformat(recorded_at)
+    except ValueError:
+        return recorded_at
+    return moment.astimezone().strftime("%Y-%m-%d %H:%M")

@@ -1,0 +1,182 @@
+"""The database schema, as sqlite-utils migrations.
+
+Each migration is a decorated function, applied once and recorded in
+``_sqlite_migrations``.  :func:`apply` is only called by
+:func:`carboy.store.db.open_database`, holding the schema file lock and inside one
+``BEGIN IMMEDIATE`` transaction, so a half-applied schema cannot exist.  Never
+edit a migration that has shipped: add a new one.
+
+Tables (names are ours):
+
+``stock_bottles``      bottles on the shelves (strength, amount, dates, status)
+``stock_bottles_fts``  full-text index over compound, name, location and lot
+``waste_containers``   carboys collecting waste, with a status
+``waste_additions``    what went into each container (append-only)
+``user_compounds``     compounds the built-in catalog lacks (validated like it)
+``journal_entries``    the append-only journal
+"""
+
+from __future__ import annotations
+
+from sqlite_utils import Database
+from sqlite_utils.migrations import Migrations
+
+from carboy.store.db import APPLICATION_ID, Store
+
+MIGRATION_SET = "carboy"
+MIGRATIONS_TABLE = Migrations.migrations_table
+
+BOTTLE_STATUSES = ("in-use", "empty", "disposed")
+CONTAINER_STATUSES = ("collecting", "planned", "neutralized", "disposed", "licensed-disposal")
+JOURNAL_KINDS = ("receipt", "preparation", "standardization", "neutralization", "disposal",
+                 "correction", "note")
+STRENGTH_UNITS = ("M", "%w/w")
+AMOUNT_UNITS = ("L", "g")
+
+migrations = Migrations(MIGRATION_SET)
+
+
+def _in(values: tuple[str, ...]) -> str:
+    return "(" + ", ".join(f"'{v}'" for v in values) + ")"
+
+
+def _append_only(table: str, what: str) -> list[str]:
+    return [
+        f"""CREATE TRIGGER {table}_no_update BEFORE UPDATE ON {table}
+BEGIN SELECT RAISE(ABORT, 'carboy: {what} are append-only; record a correction instead'); END""",
+        f"""CREATE TRIGGER {table}_no_delete BEFORE DELETE ON {table}
+BEGIN SELECT RAISE(ABORT, 'carboy: {what} are append-only; record a correction instead'); END""",
+    ]
+
+
+@migrations(name="0001_storeroom")
+def m0001_storeroom(db: Database) -> None:
+    statements = [
+        f"PRAGMA application_id = {APPLICATION_ID}",
+        f"""CREATE TABLE stock_bottles (
+    id INTEGER PRIMARY KEY,
+    compound_key TEXT NOT NULL CHECK (length(compound_key) > 0),
+    compound_name TEXT NOT NULL DEFAULT '',
+    strength_unit TEXT NOT NULL CHECK (strength_unit IN {_in(STRENGTH_UNITS)}),
+    label_strength REAL NOT NULL CHECK (label_strength > 0),
+    current_strength REAL CHECK (current_strength IS NULL OR current_strength > 0),
+    measured_at TEXT,
+    measured_how TEXT NOT NULL DEFAULT '',
+    restandardize_days INTEGER CHECK (restandardize_days IS NULL OR restandardize_days > 0),
+    amount_unit TEXT NOT NULL CHECK (amount_unit IN {_in(AMOUNT_UNITS)}),
+    amount_left REAL NOT NULL CHECK (amount_left >= 0),
+    container_size REAL NOT NULL CHECK (container_size > 0),
+    location TEXT NOT NULL DEFAULT '',
+    lot TEXT NOT NULL DEFAULT '',
+    received_on TEXT,
+    opened_on TEXT,
+    expires_on TEXT,
+    status TEXT NOT NULL DEFAULT 'in-use' CHECK (status IN {_in(BOTTLE_STATUSES)}),
+    notes TEXT NOT NULL DEFAULT '',
+    added_at TEXT NOT NULL,
+    added_by TEXT NOT NULL
+)""",
+        "CREATE INDEX stock_bottles_by_compound ON stock_bottles (compound_key)",
+        "CREATE INDEX stock_bottles_by_expiry ON stock_bottles (expires_on)",
+        """CREATE VIRTUAL TABLE stock_bottles_fts USING fts5 (
+    compound_key, compound_name, location, lot,
+    content = 'stock_bottles', content_rowid = 'id',
+    tokenize = 'unicode61 remove_diacritics 2'
+)""",
+        """CREATE TRIGGER stock_bottles_fts_insert AFTER INSERT ON stock_bottles BEGIN
+    INSERT INTO stock_bottles_fts (rowid, compound_key, compound_name, location, lot)
+    VALUES (new.id, new.compound_key, new.compound_name, new.location, new.lot);
+END""",
+        """CREATE TRIGGER stock_bottles_fts_delete AFTER DELETE ON stock_bottles BEGIN
+    INSERT INTO stock_bottles_fts (stock_bottles_fts, rowid, compound_key, compound_name,
+                                   location, lot)
+    VALUES ('delete', old.id, old.compound_key, old.compound_name, old.location, old.lot);
+END""",
+        """CREATE TRIGGER stock_bottles_fts_update AFTER UPDATE OF compound_key, compound_name,
+    location, lot ON stock_bottles BEGIN
+    INSERT INTO stock_bottles_fts (stock_bottles_fts, rowid, compound_key, compound_name,
+                                   location, lot)
+    VALUES ('delete', old.id, old.compound_key, old.compound_name, old.location, old.lot);
+    INSERT INTO stock_bottles_fts (rowid, compound_key, compound_name, location, lot)
+    VALUES (new.id, new.compound_key, new.compound_name, new.location, new.lot);
+END""",
+        f"""CREATE TABLE waste_containers (
+    id INTEGER PRIMARY KEY,
+    label TEXT NOT NULL UNIQUE COLLATE NOCASE CHECK (length(trim(label)) > 0),
+    location TEXT NOT NULL DEFAULT '',
+    capacity_l REAL NOT NULL CHECK (capacity_l > 0),
+    status TEXT NOT NULL DEFAULT 'collecting' CHECK (status IN {_in(CONTAINER_STATUSES)}),
+    opened_on TEXT NOT NULL,
+    closed_on TEXT,
+    notes TEXT NOT NULL DEFAULT '',
+    created_by TEXT NOT NULL
+)""",
+        """CREATE TABLE waste_additions (
+    id INTEGER PRIMARY KEY,
+    container_id INTEGER NOT NULL REFERENCES waste_containers (id),
+    compound_key TEXT NOT NULL,
+    conc_molar REAL CHECK (conc_molar IS NULL OR conc_molar >= 0),
+    volume_l REAL NOT NULL CHECK (volume_l >= 0),
+    mass_g REAL CHECK (mass_g IS NULL OR mass_g >= 0),
+    entered TEXT NOT NULL,
+    composition_json TEXT NOT NULL CHECK (json_valid(composition_json)),
+    moles_json TEXT NOT NULL CHECK (json_valid(moles_json)),
+    supersedes_id INTEGER UNIQUE REFERENCES waste_additions (id),
+    added_at TEXT NOT NULL,
+    added_by TEXT NOT NULL,
+    origin TEXT NOT NULL,
+    note TEXT NOT NULL DEFAULT ''
+)""",
+        "CREATE INDEX waste_additions_by_container ON waste_additions (container_id, id)",
+        *_append_only("waste_additions", "waste additions"),
+        """CREATE TABLE user_compounds (
+    key TEXT PRIMARY KEY,
+    definition_json TEXT NOT NULL CHECK (json_valid(definition_json)),
+    source TEXT NOT NULL CHECK (length(trim(source)) > 0),
+    added_at TEXT NOT NULL,
+    added_by TEXT NOT NULL
+)""",
+        f"""CREATE TABLE journal_entries (
+    id INTEGER PRIMARY KEY,
+    kind TEXT NOT NULL CHECK (kind IN {_in(JOURNAL_KINDS)}),
+    recorded_at TEXT NOT NULL,
+    recorded_by TEXT NOT NULL,
+    origin TEXT NOT NULL,
+    bottle_id INTEGER REFERENCES stock_bottles (id),
+    container_id INTEGER REFERENCES waste_containers (id),
+    corrects_id INTEGER REFERENCES journal_entries (id),
+    summary TEXT NOT NULL DEFAULT '',
+    snapshot_json TEXT NOT NULL CHECK (json_valid(snapshot_json)),
+    CHECK (kind <> 'correction' OR corrects_id IS NOT NULL)
+)""",
+        "CREATE INDEX journal_entries_by_time ON journal_entries (recorded_at)",
+        "CREATE INDEX journal_entries_by_kind ON journal_entries (kind, recorded_at)",
+        "CREATE INDEX journal_entries_by_bottle ON journal_entries (bottle_id) "
+        "WHERE bottle_id IS NOT NULL",
+        "CREATE INDEX journal_entries_by_container ON journal_entries (container_id) "
+        "WHERE container_id IS NOT NULL",
+        "CREATE INDEX journal_entries_by_corrected ON journal_entries (corrects_id) "
+        "WHERE corrects_id IS NOT NULL",
+        *_append_only("journal_entries", "journal entries"),
+    ]
+    for sql in statements:
+        db.execute(sql)
+
+
+def known_names() -> list[str]:
+    return [m.name for m in migrations._migrations]
+
+
+def applied_names(store: Store) -> list[str]:
+    return [m.name for m in migrations.applied(store.db)]
+
+
+def pending_names(store: Store) -> list[str]:
+    return [m.name for m in migrations.pending(store.db)]
+
+
+def apply(store: Store) -> list[str]:
+    """Apply pending migrations; call only inside ``Store.write`` holding the file lock."""
+    pending = pending_names(store)
+    migrations.apply(store.db)
+    return pending

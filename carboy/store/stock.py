@@ -1,0 +1,547 @@
+"""Stock bottles: what is on the shelves, how strong it is, and whether that is still known.
+
+A bottle has a compound (catalog or user-defined), a label strength (molarity ``M``
+or mass percentage ``%w/w``), optionally a current strength with when and how it was
+last measured, an amount left with its unit (``L`` for solutions and liquids, ``g``
+for solids), a container size, location, lot, received / opened / expiry dates, a
+status (``in-use``, ``empty``, ``disposed``) and notes.
+
+Strength status (plain text, see :func:`strength_status`), first match wins:
+
+``expired``    the expiry date has passed;
+``off-label``  the last measured strength differs from the label strength by more
+               than :data:`OFF_LABEL_TOLERANCE` (2 %, relative);
+``overdue``    the bottle has a re-standardization interval and its last
+               measurement is older than that (or it was never measured);
+``current``    otherwise.
+
+The stock list is paged with keysets on the bottle id (``page(after_id=...)``) and
+searched through an FTS5 index (compound key and name, location, lot), every word of
+the search taken as a quoted prefix, so any text a user types is safe.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Mapping
+from dataclasses import asdict, dataclass
+from datetime import date, datetime
+from typing import Any
+
+from carboy.errors import InvalidInput
+from carboy.model import quantities
+from carboy.store import journal
+from carboy.store.db import Store, current_user, iso_utc, utc_now
+from carboy.store.errors import NotFound
+from carboy.store.migrations import BOTTLE_STATUSES
+
+OFF_LABEL_TOLERANCE = 0.02
+"""Relative difference between current and label strength beyond which a bottle is off-label."""
+MAX_MOLARITY = 30.0
+"""Above this a molarity is refused as absurd (pure water is 55 M; conc. H2SO4 is about 18 M)."""
+MAX_VOLUME_L = 1000.0
+"""Largest bottle or drum accepted, litres."""
+MAX_MASS_G = 100_000.0
+"""Largest amount of a solid accepted, grams."""
+PAGE_SIZE = 50
+
+STRENGTH_STATUSES = ("current", "overdue", "expired", "off-label")
+
+
+@dataclass(frozen=True)
+class Bottle:
+    """One stock bottle as stored, with its strength status as of ``today``."""
+
+    id: int
+    compound_key: str
+    compound_name: str
+    strength_unit: str
+    label_strength: float
+    current_strength: float | None
+    measured_at: str | None
+    measured_how: str
+    restandardize_days: int | None
+    amount_unit: str
+    amount_left: float
+    container_size: float
+    location: str
+    lot: str
+    received_on: str | None
+    opened_on: str | None
+    expires_on: str | None
+    status: str
+    notes: str
+    added_at: str
+    added_by: str
+    strength_status: str
+
+    def as_dict(self) -> dict:
+        return asdict(self)
+
+    @property
+    def strength_text(self) -> str:
+        """The strength to use now: the measured one where known, else the label's."""
+        value = self.current_strength if self.current_strength is not None else self.label_strength
+        return format_strength(value, self.strength_unit)
+
+
+@dataclass(frozen=True)
+class Page:
+    """A page of the stock list; pass ``next_after`` back as ``after_id`` for the next one."""
+
+    bottles: list[Bottle]
+    next_after: int | None
+    prev_before: int | None
+
+
+# -- formatting and parsing -------------------------------------------------------
+
+def format_number(value: float) -> str:
+    """Shortest text that reads back as the same float (``1.0`` -> ``1``)."""
+    text = repr(float(value))
+    return text[:-2] if text.endswith(".0") else text
+
+
+def format_strength(value: float, unit: str) -> str:
+    return f"{format_number(value)} {unit}"
+
+
+def format_amount(value: float, unit: str) -> str:
+    return f"{format_number(value)} {unit}"
+
+
+def parse_strength(text: str, what: str = "strength") -> tuple[float, str]:
+    """``'1 M'``, ``'0.1M'``, ``'100 mM'`` -> molar; ``'37 %'``, ``'37 %w/w'`` -> mass percent."""
+    if not isinstance(text, str) or not text.strip():
+        raise InvalidInput(what, text, "give a molarity (e.g. '1 M') or a mass percentage "
+                           "(e.g. '37 %w/w')")
+    if "%" in text or "wt" in text:
+        value = quantities.percent(text, what=what)
+        unit = "%w/w"
+    else:
+        value = quantities.concentration_molar(text, what=what)
+        unit = "M"
+        if value > MAX_MOLARITY:
+            raise InvalidInput(what, text, f"no solution is stronger than {MAX_MOLARITY:g} M")
+    if value <= 0:
+        raise InvalidInput(what, text, "must be greater than zero")
+    return value, unit
+
+
+def parse_amount(text: str, what: str = "amount") -> tuple[float, str]:
+    """``'2.5 L'`` / ``'500 mL'`` -> (L, 'L'); ``'500 g'`` / ``'1 kg'`` -> (g, 'g')."""
+    try:
+        value, unit, limit = quantities.volume_l(text, what=what), "L", MAX_VOLUME_L
+    except InvalidInput as err:
+        if "is a mass" in err.reason:
+            value, unit, limit = quantities.mass_g(text, what=what), "g", MAX_MASS_G
+        elif "unit" in err.reason and "give a unit" not in err.reason:
+            raise InvalidInput(what, text, "expected a volume (e.g. '2.5 L') or a mass "
+                               "(e.g. '500 g')") from None
+        else:
+            raise
+    if value > limit:
+        raise InvalidInput(what, text, f"larger than any container carboy accepts "
+                           f"({format_amount(limit, unit)})")
+    return value, unit
+
+
+_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
+
+
+def parse_date(text: str | date | None, what: str) -> str | None:
+    """An ISO date ``YYYY-MM-DD`` (or a date), else ``None`` for empty."""
+    if text is None:
+        return None
+    if isinstance(text, datetime):
+        return text.date().isoformat()
+    if isinstance(text, date):
+        return text.isoformat()
+    text = str(text).strip()
+    if not text:
+        return None
+    if not _DATE.match(text):
+        raise InvalidInput(what, text, "expected a date as YYYY-MM-DD")
+    try:
+        return date.fromisoformat(text).isoformat()
+    except ValueError:
+        raise InvalidInput(what, text, "is not a real date") from None
+
+
+def _date_of(text: str | None) -> date | None:
+    if not text:
+        return None
+    try:
+        return date.fromisoformat(text[:10])
+    except ValueError:
+        return None
+
+
+def strength_status(*, label_strength: float, current_strength: float | None,
+                    measured_at: str | None, restandardize_days: int | None,
+                    expires_on: str | None, today: date) -> str:
+    """``expired``, ``off-label``, ``overdue`` or ``current`` (see the module docstring)."""
+    expiry = _date_of(expires_on)
+    if expiry is not None and expiry < today:
+        return "expired"
+    if current_strength is not None and label_strength > 0:
+        if abs(current_strength - label_strength) / label_strength > OFF_LABEL_TOLERANCE:
+            return "off-label"
+    if restandardize_days:
+        measured = _date_of(measured_at)
+        if measured is None or (today - measured).days > restandardize_days:
+            return "overdue"
+    return "current"
+
+
+# -- validation of one bottle ---------------------------------------------------------
+
+FIELDS = ("compound", "label_strength", "current_strength", "measured_on", "measured_how",
+          "restandardize_days", "amount_left", "container_size", "location", "lot",
+          "received_on", "opened_on", "expires_on", "status", "notes")
+"""The text fields of one bottle: the CSV column layout and the keys of :func:`validate`."""
+
+
+def validate(fields: Mapping[str, Any], catalog) -> dict:
+    """Check one bottle given as text fields (see :data:`FIELDS`); returns database columns.
+
+    ``compound``, ``label_strength`` and ``container_size`` are required;
+    ``amount_left`` defaults to the container size (a full bottle).
+    """
+    unknown = sorted(set(fields) - set(FIELDS))
+    if unknown:
+        raise InvalidInput("field", unknown[0], "unknown; expected " + ", ".join(FIELDS))
+
+    def text(name: str) -> str:
+        value = fields.get(name)
+        return "" if value is None else str(value).strip()
+
+    name = text("compound")
+    if not name:
+        raise InvalidInput("compound", name, "is required")
+    compound = catalog.compound(name)
+    label, unit = parse_strength(text("label_strength"), "label strength")
+    current = None
+    if text("current_strength"):
+        current, cur_unit = parse_strength(text("current_strength"), "current strength")
+        if cur_unit != unit:
+            raise InvalidInput("current strength", text("current_strength"),
+                               f"must be in the label's unit ({unit})")
+    if not text("container_size"):
+        raise InvalidInput("container size", "", "is required, e.g. '2.5 L' or '500 g'")
+    size, size_unit = parse_amount(text("container_size"), "container size")
+    if size <= 0:
+        raise InvalidInput("container size", text("container_size"), "must be greater than zero")
+    if text("amount_left"):
+        left, left_unit = parse_amount(text("amount_left"), "amount left")
+        if left_unit != size_unit:
+            raise InvalidInput("amount left", text("amount_left"),
+                               f"must be in the same kind of unit as the container size "
+                               f"({size_unit})")
+        if left > size * (1 + 1e-9):
+            raise InvalidInput("amount left", text("amount_left"),
+                               f"exceeds the container size {format_amount(size, size_unit)}")
+    else:
+        left = size
+    days = None
+    if text("restandardize_days"):
+        try:
+            days = int(text("restandardize_days"))
+        except ValueError:
+            raise InvalidInput("restandardize days", text("restandardize_days"),
+                               "expected a whole number of days") from None
+        if not 0 < days <= 3650:
+            raise InvalidInput("restandardize days", days, "expected 1 to 3650 days")
+    status = text("status") or "in-use"
+    if status not in BOTTLE_STATUSES:
+        raise InvalidInput("status", status, "expected one of " + ", ".join(BOTTLE_STATUSES))
+    received = parse_date(text("received_on"), "received date")
+    opened = parse_date(text("opened_on"), "opened date")
+    expires = parse_date(text("expires_on"), "expiry date")
+    measured = parse_date(text("measured_on"), "measured date")
+    if received and opened and opened < received:
+        raise InvalidInput("opened date", opened, f"is before the received date {received}")
+    if measured and current is None:
+        raise InvalidInput("measured date", measured, "given without a current strength")
+    for what, value in (("location", text("location")), ("lot", text("lot")),
+                        ("notes", text("notes")), ("measured how", text("measured_how"))):
+        if len(value) > 2000:
+            raise InvalidInput(what, value[:40] + "...", "is too long (2000 characters at most)")
+    return {
+        "compound_key": compound.key, "compound_name": compound.name,
+        "strength_unit": unit, "label_strength": label, "current_strength": current,
+        "measured_at": measured, "measured_how": text("measured_how"),
+        "restandardize_days": days, "amount_unit": size_unit, "amount_left": left,
+        "container_size": size, "location": text("location"), "lot": text("lot"),
+        "received_on": received, "opened_on": opened, "expires_on": expires,
+        "status": status, "notes": text("notes"),
+    }
+
+
+def to_fields(bottle: Bottle) -> dict[str, str]:
+    """A bottle as the text fields of :data:`FIELDS` (what export writes, import reads)."""
+    return {
+        "compound": bottle.compound_key,
+        "label_strength": format_strength(bottle.label_strength, bottle.strength_unit),
+        "current_strength": ("" if bottle.current_strength is None
+                             else format_strength(bottle.current_strength, bottle.strength_unit)),
+        "measured_on": (bottle.measured_at or "")[:10],
+        "measured_how": bottle.measured_how,
+        "restandardize_days": "" if bottle.restandardize_days is None
+        else str(bottle.restandardize_days),
+        "amount_left": format_amount(bottle.amount_left, bottle.amount_unit),
+        "container_size": format_amount(bottle.container_size, bottle.amount_unit),
+        "location": bottle.location, "lot": bottle.lot,
+        "received_on": bottle.received_on or "", "opened_on": bottle.opened_on or "",
+        "expires_on": bottle.expires_on or "", "status": bottle.status, "notes": bottle.notes,
+    }
+
+
+# -- writes ---------------------------------------------------------------------------
+
+_COLUMNS = ("compound_key", "compound_name", "strength_unit", "label_strength",
+            "current_strength", "measured_at", "measured_how", "restandardize_days",
+            "amount_unit", "amount_left", "container_size", "location", "lot", "received_on",
+            "opened_on", "expires_on", "status", "notes", "added_at", "added_by")
+_INSERT = (f"INSERT INTO stock_bottles ({', '.join(_COLUMNS)}) "
+           f"VALUES ({', '.join('?' for _ in _COLUMNS)})")
+
+
+def insert_in(store: Store, columns: Mapping[str, Any], *, who: str | None = None,
+              when: datetime | None = None) -> int:
+    """Insert validated columns (from :func:`validate`); caller is inside ``Store.write``."""
+    row = dict(columns)
+    row.setdefault("added_at", iso_utc(when) if when else utc_now())
+    row.setdefault("added_by", who or current_user())
+    cur = store.execute(_INSERT, [row.get(c) for c in _COLUMNS])
+    return int(cur.lastrowid)
+
+
+def add(store: Store, fields: Mapping[str, Any], *, who: str | None = None,
+        when: datetime | None = None) -> int:
+    """Validate and add one bottle, with a ``receipt`` journal entry; returns the bottle id."""
+    from carboy.store.compounds import catalog_for
+
+    columns = validate(fields, catalog_for(store))
+
+    def work(s: Store) -> int:
+        bottle_id = insert_in(s, columns, who=who, when=when)
+        journal.append_in(s, "receipt", summary=f"bottle {bottle_id} added: "
+                          f"{columns['compound_key']} "
+                          f"{format_strength(columns['label_strength'], columns['strength_unit'])}",
+                          snapshot={"bottle": columns}, bottle_id=bottle_id, who=who, when=when)
+        return bottle_id
+
+    return store.write(work)
+
+
+def record_standardization(store: Store, bottle_id: int, strength: str | float, *,
+                           method: str, snapshot: Mapping | None = None,
+                           who: str | None = None, when: datetime | None = None) -> int:
+    """Set a bottle's measured strength and journal it, in one transaction; returns the entry id.
+
+    ``strength`` is text (``'0.0987 M'``) or a number in the bottle's own unit.
+    """
+    bottle = get(store, bottle_id)
+    if isinstance(strength, str):
+        value, unit = parse_strength(strength, "measured strength")
+        if unit != bottle.strength_unit:
+            raise InvalidInput("measured strength", strength,
+                               f"must be in the label's unit ({bottle.strength_unit})")
+    else:
+        value = float(strength)
+        if not math.isfinite(value) or value <= 0:
+            raise InvalidInput("measured strength", strength, "must be a positive number")
+    if not method or not method.strip():
+        raise InvalidInput("method", method, "say how the strength was measured")
+    stamp = iso_utc(when) if when else utc_now()
+
+    def work(s: Store) -> int:
+        s.execute("UPDATE stock_bottles SET current_strength = ?, measured_at = ?, "
+                  "measured_how = ? WHERE id = ?", [value, stamp, method.strip(), bottle.id])
+        snap = {"label_strength": bottle.label_strength, "previous_strength":
+                bottle.current_strength, "measured_strength": value,
+                "unit": bottle.strength_unit, "method": method.strip(),
+                **(dict(snapshot) if snapshot else {})}
+        return journal.append_in(
+            s, "standardization", bottle_id=bottle.id, snapshot=snap, who=who, when=when,
+            summary=f"bottle {bottle.id} {bottle.compound_key} standardized: "
+                    f"{format_strength(value, bottle.strength_unit)}")
+
+    return store.write(work)
+
+
+def record_preparation(store: Store, bottle_id: int, used: str | float, *,
+                       snapshot: Mapping | None = None, summary: str = "",
+                       who: str | None = None, when: datetime | None = None) -> int:
+    """Take an amount from a bottle for a preparation and journal it; returns the entry id.
+
+    ``used`` is text (``'25 mL'``) or a number in the bottle's amount unit.
+    """
+    bottle = get(store, bottle_id)
+    if bottle.status != "in-use":
+        raise InvalidInput("bottle", bottle.id, f"is {bottle.status}, not in use")
+    if isinstance(used, str):
+        amount, unit = parse_amount(used, "amount used")
+        if unit != bottle.amount_unit:
+            raise InvalidInput("amount used", used, f"must be in {bottle.amount_unit}")
+    else:
+        amount = float(used)
+        if not math.isfinite(amount) or amount <= 0:
+            raise InvalidInput("amount used", used, "must be a positive number")
+
+    def work(s: Store) -> int:
+        left = s.scalar("SELECT amount_left FROM stock_bottles WHERE id = ?", [bottle.id])
+        if amount > left * (1 + 1e-9):
+            raise InvalidInput("amount used", used,
+                               f"only {format_amount(left, bottle.amount_unit)} is left in "
+                               "the bottle")
+        s.execute("UPDATE stock_bottles SET amount_left = ? WHERE id = ?",
+                  [max(left - amount, 0.0), bottle.id])
+        snap = {"used": amount, "unit": bottle.amount_unit, "left_before": left,
+                **(dict(snapshot) if snapshot else {})}
+        return journal.append_in(
+            s, "preparation", bottle_id=bottle.id, snapshot=snap, who=who, when=when,
+            summary=summary or f"bottle {bottle.id} {bottle.compound_key}: used "
+                               f"{format_amount(amount, bottle.amount_unit)}")
+
+    return store.write(work)
+
+
+def set_status(store: Store, bottle_id: int, status: str, *, note: str = "",
+               who: str | None = None, when: datetime | None = None) -> int | None:
+    """Mark a bottle ``in-use``, ``empty`` or ``disposed`` (disposal is journaled)."""
+    if status not in BOTTLE_STATUSES:
+        raise InvalidInput("status", status, "expected one of " + ", ".join(BOTTLE_STATUSES))
+    bottle = get(store, bottle_id)
+
+    def work(s: Store) -> int | None:
+        s.execute("UPDATE stock_bottles SET status = ? WHERE id = ?", [status, bottle.id])
+        if status == "disposed":
+            return journal.append_in(
+                s, "disposal", bottle_id=bottle.id, who=who, when=when,
+                summary=f"bottle {bottle.id} {bottle.compound_key} disposed",
+                snapshot={"previous_status": bottle.status, "note": note})
+        return None
+
+    return store.write(work)
+
+
+# -- reads ----------------------------------------------------------------------------
+
+_BOTTLE_COLUMNS = ("id",) + _COLUMNS
+
+
+def _bottle(row: Mapping[str, Any], today: date) -> Bottle:
+    status = strength_status(label_strength=row["label_strength"],
+                             current_strength=row["current_strength"],
+                             measured_at=row["measured_at"],
+                             restandardize_days=row["restandardize_days"],
+                             expires_on=row["expires_on"], today=today)
+    return Bottle(**{c: row[c] for c in _BOTTLE_COLUMNS}, strength_status=status)
+
+
+def _as_id(value: object) -> int:
+    try:
+        return int(str(value).strip().lstrip("#"))
+    except (TypeError, ValueError):
+        raise InvalidInput("bottle id", value, "expected a whole number") from None
+
+
+def get(store: Store, bottle_id: int | str, *, today: date | None = None) -> Bottle:
+    bid = _as_id(bottle_id)
+    row = store.one(f"SELECT {', '.join(_BOTTLE_COLUMNS)} FROM stock_bottles WHERE id = ?",
+                    [bid])
+    if row is None:
+        raise NotFound("stock bottle", bid)
+    return _bottle(row, today or date.today())
+
+
+def fts_query(search: str | None) -> str | None:
+    """A search box's text as a safe FTS5 query: every word a quoted prefix, all required."""
+    if not search:
+        return None
+    words = [w for w in search.split() if any(ch.isalnum() for ch in w)]
+    if not words:
+        return None
+    return " ".join('"' + w.replace('"', '""') + '"*' for w in words)
+
+
+def page(store: Store, search: str | None = None, *, after_id: int | None = None,
+         before_id: int | None = None, limit: int = PAGE_SIZE, status: str | None = None,
+         today: date | None = None) -> Page:
+    """One page of bottles in id order, optionally matching ``search`` (keyset pagination).
+
+    ``after_id`` gives the page after that id; ``before_id`` the page before it.
+    """
+    if not 0 < limit <= 1000:
+        raise InvalidInput("page size", limit, "expected 1 to 1000")
+    if status is not None and status not in BOTTLE_STATUSES:
+        raise InvalidInput("status", status, "expected one of " + ", ".join(BOTTLE_STATUSES))
+    query = fts_query(search)
+    cols = ", ".join("b." + c for c in _BOTTLE_COLUMNS)
+    where, params = [], []
+    if query:
+        source = ("stock_bottles_fts f JOIN stock_bottles b ON b.id = f.rowid")
+        where.append("stock_bottles_fts MATCH ?")
+        params.append(query)
+        key = "f.rowid"
+    else:
+        source = "stock_bottles b"
+        key = "b.id"
+    backwards = before_id is not None and after_id is None
+    if after_id is not None:
+        where.append(f"{key} > ?")
+        params.append(int(after_id))
+    if backwards:
+        where.append(f"{key} < ?")
+        params.append(int(before_id))
+    if status is not None:
+        where.append("b.status = ?")
+        params.append(status)
+    order = "DESC" if backwards else "ASC"
+    sql = (f"SELECT {cols} FROM {source}" + (" WHERE " + " AND ".join(where) if where else "")
+           + f" ORDER BY {key} {order} LIMIT {int(limit) + 1}")
+    rows = store.rows(sql, params)
+    more = len(rows) > limit
+    rows = rows[:limit]
+    if backwards:
+        rows.reverse()
+    day = today or date.today()
+    bottles = [_bottle(r, day) for r in rows]
+    if not bottles:
+        return Page([], None, None)
+    if backwards:
+        next_after = bottles[-1].id
+        prev_before = bottles[0].id if more else None
+    else:
+        next_after = bottles[-1].id if more else None
+        prev_before = bottles[0].id if after_id is not None else None
+    return Page(bottles, next_after, prev_before)
+
+
+def count(store: Store, search: str | None = None, *, status: str | None = None) -> int:
+    """How many bottles match ``search`` (and ``status``)."""
+    query = fts_query(search)
+    if query and status is None:
+        return int(store.scalar(
+            "SELECT count(*) FROM stock_bottles_fts WHERE stock_bottles_fts MATCH ?", [query]))
+    if query:
+        return int(store.scalar(
+            "SELECT count(*) FROM stock_bottles_fts f JOIN stock_bottles b ON b.id = f.rowid "
+            "WHERE stock_bottles_fts MATCH ? AND b.status = ?", [query, status]))
+    if status is not None:
+        return int(store.scalar("SELECT count(*) FROM stock_bottles WHERE status = ?", [status]))
+    return int(store.scalar("SELECT count(*) FROM stock_bottles"))
+
+
+def all_bottles(store: Store, *, today: date | None = None, batch: int = 1000):
+    """Every bottle in id order, read in short batches (for export)."""
+    after = None
+    while True:
+        got = page(store, after_id=after, limit=batch, today=today)
+        yield from got.bottles
+        if got.next_after is None:
+            return
+        after = got.next_after

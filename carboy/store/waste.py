@@ -1,0 +1,506 @@
+"""Waste containers and what went into them.
+
+A container has a label (unique, case-insensitive), location, capacity in litres,
+a status and opened / closed dates.  Statuses and the moves allowed between them:
+
+``collecting``         accepting additions → planned, neutralized, licensed-disposal
+``planned``            a neutralization plan is recorded → neutralized, licensed-disposal
+``neutralized``        treated, pH measured → disposed, licensed-disposal
+``disposed``           gone, by the route local disposal rules and the safety office set
+``licensed-disposal``  shipped (or to be shipped) for licensed disposal: never treated here
+
+Only a ``collecting`` container takes additions.  An addition records the compound
+(key, and its catalog composition as it was then), its concentration in mol/L and
+volume in L, or a mass in g for a solid, the text as entered, who, when, where
+from and a note.  The moles of each system and ion key are computed once, at
+entry: ``count x conc x volume`` or ``count x mass / molar mass``; a later catalog
+change therefore never rewrites a container's history.  Additions are append-only
+(database triggers); a mistaken one is superseded by :func:`correct_addition`.
+
+:func:`composition` gives the planner its input: a :class:`~carboy.model.mixture.Mixture`
+of the container's totals (moles / total volume).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import re
+from collections.abc import Mapping
+from dataclasses import asdict, dataclass
+from datetime import date, datetime
+from typing import Any
+
+from carboy.errors import InvalidInput
+from carboy.model import quantities
+from carboy.model.catalog import molarity_at
+from carboy.model.entities import Compound
+from carboy.model.mixture import Mixture
+from carboy.store import journal
+from carboy.store.db import Store, current_user, iso_utc, utc_now
+from carboy.store.errors import AlreadyExists, ContainerClosed, NotFound, OverCapacity
+from carboy.store.migrations import CONTAINER_STATUSES
+
+STATUSES = CONTAINER_STATUSES
+NEXT_STATUSES: dict[str, tuple[str, ...]] = {
+    "collecting": ("planned", "neutralized", "licensed-disposal"),
+    "planned": ("neutralized", "licensed-disposal"),
+    "neutralized": ("disposed", "licensed-disposal"),
+    "disposed": (),
+    "licensed-disposal": (),
+}
+DEFAULT_CAPACITY_L = 20.0
+"""Capacity of a new container when none is given (a common carboy)."""
+MAX_CAPACITY_L = 1000.0
+"""Largest container accepted (an intermediate bulk container)."""
+MAX_ADDITION_L = 1000.0
+MAX_CONC_MOLAR = 30.0
+MAX_LABEL_LENGTH = 64
+_LABEL = re.compile(r"^[^\x00-\x1f\x7f]+$")
+
+
+@dataclass(frozen=True)
+class Container:
+    """A waste container with its current total volume."""
+
+    id: int
+    label: str
+    location: str
+    capacity_l: float
+    status: str
+    opened_on: str
+    closed_on: str | None
+    notes: str
+    created_by: str
+    volume_l: float
+    n_additions: int
+
+    def as_dict(self) -> dict:
+        return asdict(self)
+
+
+@dataclass(frozen=True)
+class Addition:
+    """One addition as stored; ``superseded`` when a later correction replaced it."""
+
+    id: int
+    compound_key: str
+    conc_molar: float | None
+    volume_l: float
+    mass_g: float | None
+    entered: str
+    composition: dict
+    moles: dict
+    supersedes_id: int | None
+    superseded: bool
+    added_at: str
+    added_by: str
+    origin: str
+    note: str
+
+    def as_dict(self) -> dict:
+        return asdict(self)
+
+
+# -- parsing ---------------------------------------------------------------------------
+
+def check_label(label: str) -> str:
+    if not isinstance(label, str) or not label.strip():
+        raise InvalidInput("container label", label, "must not be empty")
+    text = label.strip()
+    if len(text) > MAX_LABEL_LENGTH or not _LABEL.match(text):
+        raise InvalidInput("container label", label, f"use up to {MAX_LABEL_LENGTH} printable "
+                           "characters")
+    return text
+
+
+def parse_capacity(value: str | float | None) -> float:
+    if value is None:
+        return DEFAULT_CAPACITY_L
+    if isinstance(value, str):
+        cap = quantities.volume_l(value, what="capacity")
+    else:
+        cap = float(value)
+        if not math.isfinite(cap) or cap < 0:
+            raise InvalidInput("capacity", value, "must be a finite, positive volume")
+    if cap <= 0:
+        raise InvalidInput("capacity", value, "must be greater than zero")
+    if cap > MAX_CAPACITY_L:
+        raise InvalidInput("capacity", value, f"larger than any container carboy accepts "
+                           f"({MAX_CAPACITY_L:g} L)")
+    return cap
+
+
+@dataclass(frozen=True)
+class Component:
+    """A parsed ``COMPONENT=CONC`` (or ``COMPONENT=MASS`` for a solid)."""
+
+    compound: Compound
+    conc_molar: float | None
+    mass_g: float | None
+    text: str
+
+
+def parse_component(text: str, catalog) -> Component:
+    """``'HCl=1M'``, ``'H2SO4=0.5 M'``, ``'H2SO4=10 %w/w'``, ``'NaF=2 g'``."""
+    if not isinstance(text, str) or "=" not in text:
+        raise InvalidInput("component", text, "expected COMPOUND=CONCENTRATION, e.g. 'HCl=1M' "
+                           "(or COMPOUND=MASS for a solid, e.g. 'NaF=2 g')")
+    name, _, amount = text.rpartition("=")
+    name, amount = name.strip(), amount.strip()
+    if not name:
+        raise InvalidInput("component", text, "the compound name is missing before '='")
+    if not amount:
+        raise InvalidInput("component", text, "the concentration is missing after '='")
+    compound = catalog.compound(name)
+    what = f"concentration of {compound.key}"
+    if "%" in amount:
+        pct = quantities.percent(amount, what=what)
+        conc = molarity_at(compound, pct, catalog=catalog)
+        return Component(compound, _check_conc(conc, what, amount), None, text.strip())
+    try:
+        conc = quantities.concentration_molar(amount, what=what)
+    except InvalidInput as err:
+        if "is a mass" not in err.reason:
+            raise
+        mass = quantities.mass_g(amount, what=f"mass of {compound.key}")
+        if mass <= 0:
+            raise InvalidInput(f"mass of {compound.key}", amount,
+                               "must be greater than zero") from None
+        return Component(compound, None, mass, text.strip())
+    return Component(compound, _check_conc(conc, what, amount), None, text.strip())
+
+
+def _check_conc(conc: float, what: str, text: str) -> float:
+    if not math.isfinite(conc) or conc < 0:
+        raise InvalidInput(what, text, "must be a finite, non-negative concentration")
+    if conc > MAX_CONC_MOLAR:
+        raise InvalidInput(what, text, f"no solution is stronger than {MAX_CONC_MOLAR:g} M")
+    return conc
+
+
+def parse_volume(value: str | float | None, *, required: bool) -> float:
+    if value is None or (isinstance(value, str) and not value.strip()):
+        if required:
+            raise InvalidInput("volume", value, "is required for a solution, e.g. '250 mL'")
+        return 0.0
+    if isinstance(value, str):
+        vol = quantities.volume_l(value)
+    else:
+        vol = float(value)
+        if not math.isfinite(vol) or vol < 0:
+            raise InvalidInput("volume", value, "must be a finite, non-negative volume")
+    if required and vol <= 0:
+        raise InvalidInput("volume", value, "must be greater than zero")
+    if vol > MAX_ADDITION_L:
+        raise InvalidInput("volume", value, f"more than any container holds "
+                           f"({MAX_ADDITION_L:g} L)")
+    return vol
+
+
+def moles_of(component: Component, volume_l: float) -> dict[str, float]:
+    """Moles of each system / ion key that ``component`` brings in ``volume_l`` litres."""
+    if component.mass_g is not None:
+        formula_units = component.mass_g / component.compound.molar_mass_g_mol
+    else:
+        formula_units = component.conc_molar * volume_l
+    return {key: count * formula_units for key, count in component.compound.composition.items()}
+
+
+# -- writes ------------------------------------------------------------------------------
+
+def _today(today: date | None) -> str:
+    return (today or date.today()).isoformat()
+
+
+def new_container(store: Store, label: str, *, location: str = "",
+                  capacity: str | float | None = None, notes: str = "",
+                  who: str | None = None, today: date | None = None) -> Container:
+    """Open a new, empty ``collecting`` container."""
+    text = check_label(label)
+    cap = parse_capacity(capacity)
+
+    def work(s: Store) -> None:
+        if s.scalar("SELECT 1 FROM waste_containers WHERE label = ?", [text]):
+            raise AlreadyExists("waste container", text)
+        s.execute("INSERT INTO waste_containers (label, location, capacity_l, status, opened_on, "
+                  "notes, created_by) VALUES (?, ?, ?, 'collecting', ?, ?, ?)",
+                  [text, (location or "").strip(), cap, _today(today), notes or "",
+                   who or current_user()])
+
+    store.write(work)
+    return container(store, text)
+
+
+def _container_row(store: Store, label: str) -> dict:
+    row = store.one("SELECT * FROM waste_containers WHERE label = ?", [check_label(label)])
+    if row is None:
+        raise NotFound("waste container", label)
+    return row
+
+
+_LIVE = ("FROM waste_additions a WHERE a.container_id = :cid AND NOT EXISTS "
+         "(SELECT 1 FROM waste_additions c WHERE c.supersedes_id = a.id)")
+
+
+def _volume(store: Store, container_id: int) -> float:
+    return float(store.scalar(f"SELECT coalesce(sum(a.volume_l), 0) {_LIVE}",
+                              {"cid": container_id}))
+
+
+def _insert_addition(s: Store, row: dict, component: Component, volume_l: float, *,
+                     note: str, supersedes: int | None, who: str | None, when: datetime | None,
+                     ) -> int:
+    moles = moles_of(component, volume_l)
+    cur = s.execute(
+        "INSERT INTO waste_additions (container_id, compound_key, conc_molar, volume_l, mass_g, "
+        "entered, composition_json, moles_json, supersedes_id, added_at, added_by, origin, note) "
+        "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+        [row["id"], component.compound.key, component.conc_molar, volume_l, component.mass_g,
+         component.text, json.dumps(dict(component.compound.composition), sort_keys=True),
+         json.dumps(moles, sort_keys=True, allow_nan=False), supersedes,
+         iso_utc(when) if when else utc_now(), who or current_user(), s.origin_of(),
+         note or ""])
+    return int(cur.lastrowid)
+
+
+def add(store: Store, label: str, component: str, volume: str | float | None = None, *,
+        note: str = "", who: str | None = None, when: datetime | None = None) -> int:
+    """Log an addition to a collecting container; returns the addition id.
+
+    ``component`` is ``COMPOUND=CONC`` (``'HCl=1M'``) or ``COMPOUND=MASS`` for a solid
+    (``'NaF=2 g'``; then ``volume`` may be omitted).  ``volume`` is text (``'250 mL'``)
+    or litres.
+
+    Raises
+    ------
+    UnknownCompound, InvalidInput : the component or volume is unusable.
+    NotFound : no such container.
+    ContainerClosed : the container is no longer collecting.
+    OverCapacity : the addition would overfill it.
+    """
+    from carboy.store.compounds import catalog_for
+
+    parsed = parse_component(component, catalog_for(store))
+    vol = parse_volume(volume, required=parsed.mass_g is None)
+    if len(note or "") > 2000:
+        raise InvalidInput("note", note[:40] + "...", "is too long (2000 characters at most)")
+
+    def work(s: Store) -> int:
+        row = _container_row(s, label)
+        if row["status"] != "collecting":
+            raise ContainerClosed(row["label"], row["status"])
+        would_be = _volume(s, row["id"]) + vol
+        if would_be > row["capacity_l"] * (1 + 1e-9):
+            raise OverCapacity(row["label"], row["capacity_l"], would_be)
+        return _insert_addition(s, row, parsed, vol, note=note, supersedes=None, who=who,
+                                when=when)
+
+    return store.write(work)
+
+
+def correct_addition(store: Store, addition_id: int, reason: str, *,
+                     component: str | None = None, volume: str | float | None = None,
+                     who: str | None = None, when: datetime | None = None) -> int:
+    """Supersede a mistaken addition; the original stays on record. Returns the new id.
+
+    With ``component`` (and ``volume``) the new row says what really went in; without,
+    the addition is withdrawn (the new row carries nothing).  The container must still
+    be collecting.  A ``note`` journal entry records the correction.
+    """
+    from carboy.store.compounds import catalog_for
+
+    if not reason or not reason.strip():
+        raise InvalidInput("correction reason", reason, "say what was wrong")
+    catalog = catalog_for(store)
+
+    def work(s: Store) -> int:
+        old = s.one("SELECT a.*, c.label FROM waste_additions a JOIN waste_containers c "
+                    "ON c.id = a.container_id WHERE a.id = ?", [int(addition_id)])
+        if old is None:
+            raise NotFound("waste addition", addition_id)
+        if s.scalar("SELECT 1 FROM waste_additions WHERE supersedes_id = ?", [old["id"]]):
+            raise InvalidInput("waste addition", addition_id, "was already corrected; correct "
+                               "the newer row instead")
+        row = _container_row(s, old["label"])
+        if row["status"] != "collecting":
+            raise ContainerClosed(row["label"], row["status"], "correct its additions")
+        if component is None:
+            parsed = Component(_withdrawn(old["compound_key"]), 0.0, None,
+                               f"(withdrawn: {old['entered']})")
+            vol = 0.0
+        else:
+            parsed = parse_component(component, catalog)
+            vol = parse_volume(volume, required=parsed.mass_g is None)
+        would_be = _volume(s, row["id"]) - old["volume_l"] + vol
+        if would_be > row["capacity_l"] * (1 + 1e-9):
+            raise OverCapacity(row["label"], row["capacity_l"], would_be)
+        new_id = _insert_addition(s, row, parsed, vol, note=reason.strip(),
+                                  supersedes=old["id"], who=who, when=when)
+        journal.append_in(s, "note", container_id=row["id"], who=who, when=when,
+                          summary=f"{row['label']}: addition {old['id']} corrected by {new_id}",
+                          snapshot={"reason": reason.strip(), "superseded": old["id"],
+                                    "replacement": new_id, "was": old["entered"],
+                                    "now": parsed.text})
+        return new_id
+
+    return store.write(work)
+
+
+def _withdrawn(key: str) -> Compound:
+    """A stand-in that brings nothing: the row that withdraws a mistaken addition."""
+    return Compound(key=key, formula="", name=key, aliases=(), composition={},
+                    molar_mass_g_mol=1.0)
+
+
+def set_status(store: Store, label: str, status: str, *, note: str = "",
+               who: str | None = None, when: datetime | None = None,
+               today: date | None = None) -> int:
+    """Move a container on (see ``NEXT_STATUSES``); journaled. Returns the journal entry id."""
+    if status not in STATUSES:
+        raise InvalidInput("status", status, "expected one of " + ", ".join(STATUSES))
+
+    def work(s: Store) -> int:
+        row = _container_row(s, label)
+        if status not in NEXT_STATUSES[row["status"]]:
+            raise ContainerClosed(row["label"], row["status"], f"move it to {status}")
+        closed = row["closed_on"] or _today(today)
+        s.execute("UPDATE waste_containers SET status = ?, closed_on = ? WHERE id = ?",
+                  [status, closed, row["id"]])
+        kind = "disposal" if status in ("disposed", "licensed-disposal") else "note"
+        return journal.append_in(
+            s, kind, container_id=row["id"], who=who, when=when,
+            summary=f"{row['label']}: {row['status']} -> {status}" + (f" ({note})" if note else ""),
+            snapshot={"previous_status": row["status"], "status": status, "note": note,
+                      **_snapshot_of(s, row)})
+
+    return store.write(work)
+
+
+def record_neutralization(store: Store, label: str, plan_snapshot: Mapping[str, Any],
+                          measured_ph: float | None = None, *, who: str | None = None,
+                          when: datetime | None = None, today: date | None = None) -> int:
+    """Journal a neutralization of a container and move its status on, atomically.
+
+    Without ``measured_ph`` the plan is recorded and the container becomes ``planned``;
+    with it the container becomes ``neutralized``.  The entry's snapshot holds the
+    container's composition as it stood, the plan as given and the measured pH.
+    Returns the journal entry id.
+    """
+    if measured_ph is not None:
+        try:
+            ph = float(measured_ph)
+        except (TypeError, ValueError):
+            raise InvalidInput("measured pH", measured_ph, "must be a number") from None
+        if not math.isfinite(ph) or not -2.0 <= ph <= 16.0:
+            raise InvalidInput("measured pH", measured_ph, "expected a pH between -2 and 16")
+        measured_ph = ph
+    plan_json = journal.snapshot_json(plan_snapshot)
+    target = "planned" if measured_ph is None else "neutralized"
+
+    def work(s: Store) -> int:
+        row = _container_row(s, label)
+        if row["status"] not in ("collecting", "planned"):
+            raise ContainerClosed(row["label"], row["status"], "record a neutralization")
+        s.execute("UPDATE waste_containers SET status = ?, closed_on = ? WHERE id = ?",
+                  [target, row["closed_on"] or _today(today), row["id"]])
+        summary = (f"{row['label']}: neutralization "
+                   + ("planned" if measured_ph is None else f"done, measured pH {measured_ph:g}"))
+        return journal.append_in(
+            s, "neutralization", container_id=row["id"], who=who, when=when, summary=summary,
+            snapshot={"container": _snapshot_of(s, row), "plan": json.loads(plan_json),
+                      "measured_ph": measured_ph, "previous_status": row["status"],
+                      "status": target})
+
+    return store.write(work)
+
+
+# -- reads -------------------------------------------------------------------------------
+
+def _container(store: Store, row: Mapping[str, Any]) -> Container:
+    agg = store.one(f"SELECT count(*) AS n, coalesce(sum(a.volume_l), 0) AS v {_LIVE}",
+                    {"cid": row["id"]})
+    return Container(id=row["id"], label=row["label"], location=row["location"],
+                     capacity_l=row["capacity_l"], status=row["status"],
+                     opened_on=row["opened_on"], closed_on=row["closed_on"], notes=row["notes"],
+                     created_by=row["created_by"], volume_l=float(agg["v"]),
+                     n_additions=int(agg["n"]))
+
+
+def container(store: Store, label: str) -> Container:
+    with store.reading():
+        return _container(store, _container_row(store, label))
+
+
+def containers(store: Store, *, status: str | None = None) -> list[Container]:
+    """Every container (optionally of one status), by label."""
+    if status is not None and status not in STATUSES:
+        raise InvalidInput("status", status, "expected one of " + ", ".join(STATUSES))
+    with store.reading():
+        rows = store.rows("SELECT * FROM waste_containers" +
+                          (" WHERE status = ?" if status else "") + " ORDER BY label",
+                          [status] if status else [])
+        return [_container(store, r) for r in rows]
+
+
+def moles(store: Store, label: str) -> tuple[dict[str, float], float]:
+    """(moles of each system / ion key, total volume in L) of a container."""
+    with store.reading():
+        row = _container_row(store, label)
+        found = store.rows(
+            "SELECT j.key AS key, sum(j.value) AS mol FROM waste_additions a, "
+            "json_each(a.moles_json) j WHERE a.container_id = :cid AND NOT EXISTS "
+            "(SELECT 1 FROM waste_additions c WHERE c.supersedes_id = a.id) "
+            "GROUP BY j.key ORDER BY j.key", {"cid": row["id"]})
+        volume = _volume(store, row["id"])
+    return {r["key"]: float(r["mol"]) for r in found if r["mol"]}, volume
+
+
+def composition(store: Store, label: str, *, temperature_c: float = 25.0) -> Mixture:
+    """The container's contents as the planner's input (totals in mol/L, volume in L).
+
+    Raises InvalidInput when the container holds no recorded volume yet.
+    """
+    amounts, volume = moles(store, label)
+    if volume <= 0:
+        raise InvalidInput("waste container", label, "has no recorded volume yet: log an "
+                           "addition with its volume first")
+    return Mixture.from_moles(amounts, volume, temperature_c=temperature_c)
+
+
+def _addition(row: Mapping[str, Any]) -> Addition:
+    return Addition(id=row["id"], compound_key=row["compound_key"], conc_molar=row["conc_molar"],
+                    volume_l=row["volume_l"], mass_g=row["mass_g"], entered=row["entered"],
+                    composition=json.loads(row["composition_json"]),
+                    moles=json.loads(row["moles_json"]), supersedes_id=row["supersedes_id"],
+                    superseded=bool(row["superseded"]), added_at=row["added_at"],
+                    added_by=row["added_by"], origin=row["origin"], note=row["note"])
+
+
+def additions(store: Store, label: str) -> list[Addition]:
+    """Every addition to a container, oldest first, superseded ones flagged."""
+    with store.reading():
+        row = _container_row(store, label)
+        rows = store.rows(
+            "SELECT a.*, EXISTS (SELECT 1 FROM waste_additions c WHERE c.supersedes_id = a.id) "
+            "AS superseded FROM waste_additions a WHERE a.container_id = ? ORDER BY a.id",
+            [row["id"]])
+    return [_addition(r) for r in rows]
+
+
+def _snapshot_of(store: Store, row: Mapping[str, Any]) -> dict:
+    amounts, volume = moles(store, row["label"])
+    return {"label": row["label"], "volume_l": volume, "capacity_l": row["capacity_l"],
+            "moles": amounts}
+
+
+def show(store: Store, label: str) -> dict:
+    """Everything about one container as plain data (the ``waste show`` JSON)."""
+    with store.reading():
+        info = container(store, label)
+        amounts, volume = moles(store, label)
+        adds = additions(store, label)
+    return {"label": info.label, "status": info.status, "volume_l": volume,
+            "capacity_l": info.capacity_l, "location": info.location,
+            "opened_on": info.opened_on, "closed_on": info.closed_on, "notes": info.notes,
+            "composition": amounts, "additions": [a.as_dict() for a in adds]}

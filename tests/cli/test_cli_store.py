@@ -1,0 +1,180 @@
+"""``carboy stock``, ``carboy waste`` and ``carboy journal`` from the command line."""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+
+import pytest
+
+from carboy.store import demo
+from carboy.store.db import open_database
+from carboy.tui.cli import main
+
+
+@pytest.fixture
+def db(tmp_path):
+    return str(tmp_path / "cli.db")
+
+
+@pytest.fixture
+def demo_db(tmp_path):
+    return str(demo.create_demo_database(tmp_path / "demo.db"))
+
+
+def run(capsys, *argv):
+    code = main(list(argv))
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def run_json(capsys, *argv):
+    code, out, err = run(capsys, *argv, "--json")
+    assert code == 0, err
+    return json.loads(out)
+
+
+def test_waste_round_trip(capsys, db):
+    c = run_json(capsys, "waste", "new", "MA-01", "--location", "Bay 1", "--capacity", "10 L",
+                 "--db", db)
+    assert c["label"] == "MA-01" and c["capacity_l"] == 10.0
+    run_json(capsys, "waste", "add", "MA-01", "HCl=1M", "--volume", "2 L", "--note", "rinse",
+             "--db", db)
+    run_json(capsys, "waste", "add", "MA-01", "H2SO4=0.5M", "--volume", "500 mL", "--db", db)
+    info = run_json(capsys, "waste", "show", "MA-01", "--db", db)
+    assert {"label", "status", "volume_l", "capacity_l", "composition", "additions"} <= set(info)
+    assert info["status"] == "collecting" and info["volume_l"] == pytest.approx(2.5)
+    assert info["composition"] == {"Cl-": pytest.approx(2.0), "sulfate": pytest.approx(0.25)}
+    assert [a["note"] for a in info["additions"]] == ["rinse", ""]
+    listed = run_json(capsys, "waste", "list", "--db", db)
+    assert [c["label"] for c in listed] == ["MA-01"]
+
+
+def test_top_level_db_option_works_too(capsys, db):
+    code, out, _ = run(capsys, "--db", db, "waste", "new", "X1")
+    assert code == 0 and "X1" in out
+    assert run_json(capsys, "--db", db, "waste", "list")[0]["label"] == "X1"
+
+
+@pytest.mark.parametrize("argv, needle", [
+    (["waste", "add", "MA-01", "Unobtainium=1M", "--volume", "1 L"], "unknown compound"),
+    (["waste", "add", "MA-01", "HCl=1M", "--volume", "-1 L"], "'-1 L'"),
+    (["waste", "add", "MA-01", "HCl=1M", "--volume", "2 kg"], "'2 kg'"),
+    (["waste", "add", "MA-01", "HCl=1M", "--volume", "50 L"], "holds at most 10 L"),
+    (["waste", "add", "NOPE", "HCl=1M", "--volume", "1 L"], "no waste container 'NOPE'"),
+    (["waste", "add", "MA-01", "HCl", "--volume", "1 L"], "COMPOUND=CONCENTRATION"),
+    (["waste", "new", "MA-01"], "exists already"),
+    (["waste", "new", "Z", "--capacity", "20 kg"], "'20 kg'"),
+])
+def test_bad_waste_input_exit_2(capsys, db, argv, needle):
+    run_json(capsys, "waste", "new", "MA-01", "--capacity", "10 L", "--db", db)
+    code, out, err = run(capsys, *argv, "--db", db)
+    assert code == 2 and out == ""
+    assert needle in err and "Traceback" not in err
+    assert len(err.strip().splitlines()) == 1
+    info = run_json(capsys, "waste", "show", "MA-01", "--db", db)
+    assert info["additions"] == []
+
+
+def test_adding_to_a_disposed_container(capsys, demo_db):
+    code, _, err = run(capsys, "waste", "add", "HF-04", "HCl=1M", "--volume", "1 L",
+                       "--db", demo_db)
+    assert code == 2 and "licensed-disposal" in err
+
+
+def test_stock_add_list_show(capsys, db):
+    b = run_json(capsys, "stock", "add", "NaOH", "0.1M", "--size", "1 L", "--lot", "FW-77",
+                 "--location", "Titration bench", "--every", "14", "--db", db)
+    assert b["compound_key"] == "NaOH" and b["strength_status"] == "overdue"
+    page = run_json(capsys, "stock", "list", "--search", "titr", "--db", db)
+    assert page["total"] == 1 and page["bottles"][0]["lot"] == "FW-77"
+    shown = run_json(capsys, "stock", "show", str(b["id"]), "--db", db)
+    assert shown["journal"][0]["kind"] == "receipt"
+    code, out, _ = run(capsys, "stock", "list", "--db", db)
+    assert code == 0 and "FW-77" in out and "1 of 1 bottles" in out
+
+
+@pytest.mark.parametrize("argv, needle", [
+    (["stock", "add", "unobtainium", "1 M", "--size", "1 L"], "unknown compound"),
+    (["stock", "add", "HCl", "1 M", "--size", "-1 L"], "'-1 L'"),
+    (["stock", "add", "HCl", "1 kg", "--size", "1 L"], "'1 kg'"),
+    (["stock", "add", "HCl", "1 M", "--size", "1 L", "--expires", "soon"], "'soon'"),
+    (["stock", "show", "999"], "no stock bottle 999"),
+    (["stock", "show", "abc"], "'abc'"),
+])
+def test_bad_stock_input_exit_2(capsys, db, argv, needle):
+    code, out, err = run(capsys, *argv, "--db", db)
+    assert code == 2 and needle in err and "Traceback" not in err
+    assert run_json(capsys, "stock", "list", "--db", db)["total"] == 0
+
+
+def test_stock_export_import_round_trip(capsys, demo_db, tmp_path):
+    code, exported, _ = run(capsys, "stock", "export", "--db", demo_db)
+    assert code == 0
+    rows = list(csv.DictReader(io.StringIO(exported)))
+    assert len(rows) == 40
+    path = tmp_path / "stock.csv"
+    path.write_text(exported, encoding="utf-8")
+    other = str(tmp_path / "other.db")
+    result = run_json(capsys, "stock", "import", str(path), "--db", other)
+    assert result["imported"] == 40
+    _, again, _ = run(capsys, "stock", "export", "--db", other)
+    assert again == exported
+
+
+def test_stock_import_bad_rows(capsys, db, tmp_path):
+    path = tmp_path / "bad.csv"
+    path.write_text("compound,label_strength,container_size\nHCl,1 M,1 L\nHCl,1 M,lots\n",
+                    encoding="utf-8")
+    code, _, err = run(capsys, "stock", "import", str(path), "--db", db)
+    assert code == 2 and "row 3" in err and "'lots'" in err and "nothing imported" in err
+    assert run_json(capsys, "stock", "list", "--db", db)["total"] == 0
+
+
+def test_stock_import_help_documents_layout(capsys):
+    with pytest.raises(SystemExit):
+        main(["stock", "import", "--help"])
+    out = capsys.readouterr().out
+    for column in ("compound", "label_strength", "container_size", "amount_left", "expires_on",
+                   "restandardize_days", "all or nothing"):
+        assert column in out
+
+
+def test_journal_list_show_export(capsys, demo_db):
+    entries = run_json(capsys, "journal", "list", "--kind", "standardization", "--db", demo_db)
+    assert entries and {e["kind"] for e in entries} == {"standardization"}
+    since = run_json(capsys, "journal", "list", "--since", "2025-03-10", "--db", demo_db)
+    assert all(e["recorded_at"] >= "2025-03-10" for e in since)
+    corr = run_json(capsys, "journal", "list", "--kind", "correction", "--db", demo_db)[0]
+    target = run_json(capsys, "journal", "show", str(corr["corrects_id"]), "--db", demo_db)
+    assert target["corrected_by"] == [corr["id"]]
+    code, out, _ = run(capsys, "journal", "export", "--format", "csv", "--db", demo_db)
+    rows = list(csv.DictReader(io.StringIO(out)))
+    assert code == 0 and len(rows) == len(run_json(
+        capsys, "journal", "export", "--format", "json", "--db", demo_db))
+    assert json.loads(rows[0]["snapshot"])
+    code, _, err = run(capsys, "journal", "show", "424242", "--db", demo_db)
+    assert code == 2 and "no journal entry" in err
+    code, _, err = run(capsys, "journal", "list", "--since", "yesterday", "--db", demo_db)
+    assert code == 2 and "'yesterday'" in err
+
+
+def test_damaged_database_is_a_clear_error(capsys, tmp_path):
+    path = tmp_path / "junk.db"
+    path.write_text("not a database at all" * 10)
+    code, _, err = run(capsys, "waste", "list", "--db", str(path))
+    assert code == 2 and "not an SQLite database" in err
+
+
+def test_env_var_database(capsys, db, monkeypatch):
+    monkeypatch.setenv("CARBOY_DB", db)
+    run_json(capsys, "waste", "new", "ENV-1")
+    s = open_database(db)
+    assert s.scalar("SELECT label FROM waste_containers") == "ENV-1"
+    s.close()
+
+
+def test_demo_flag(capsys):
+    listed = run_json(capsys, "--demo", "waste", "list")
+    assert len(listed) == 4

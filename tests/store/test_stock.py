@@ -1,0 +1,184 @@
+"""Stock bottles: validation, strength status, keyset pages and search."""
+
+from __future__ import annotations
+
+from datetime import date, timedelta
+
+import pytest
+
+from carboy.errors import InvalidInput, UnknownCompound
+from carboy.store import journal, stock
+from carboy.store.errors import NotFound
+
+TODAY = date(2025, 3, 14)
+
+
+def _add(store, **fields):
+    base = {"compound": "HCl", "label_strength": "0.1 M", "container_size": "1 L"}
+    base.update(fields)
+    return stock.add(store, base, who="t")
+
+
+def test_add_and_get(store):
+    bid = _add(store, lot="FW-24-001", location="Cabinet A", amount_left="250 mL",
+               expires_on="2026-01-01", restandardize_days="30")
+    b = stock.get(store, bid, today=TODAY)
+    assert (b.compound_key, b.compound_name) == ("HCl", "hydrochloric acid")
+    assert (b.label_strength, b.strength_unit) == (0.1, "M")
+    assert (b.amount_left, b.container_size, b.amount_unit) == (0.25, 1.0, "L")
+    assert b.restandardize_days == 30 and b.status == "in-use"
+    assert journal.entries(store, bottle_id=bid)[0].kind == "receipt"
+
+
+def test_names_resolve_through_catalog(store):
+    b = stock.get(store, _add(store, compound="acetic acid", label_strength="99.8 %w/w"))
+    assert b.compound_key == "CH3COOH" and b.strength_unit == "%w/w"
+    solid = stock.get(store, _add(store, compound="NaOH", label_strength="99 %",
+                                  container_size="1 kg"))
+    assert (solid.amount_unit, solid.container_size) == ("g", 1000.0)
+
+
+@pytest.mark.parametrize("fields, match", [
+    ({"compound": "unobtainium"}, "unknown compound"),
+    ({"label_strength": "-1 M"}, "negative"),
+    ({"label_strength": "0 M"}, "greater than zero"),
+    ({"label_strength": "80 M"}, "stronger"),
+    ({"label_strength": "2 N"}, "normality"),
+    ({"label_strength": "120 %"}, "exceed 100"),
+    ({"container_size": "2 M"}, "volume .* or a mass"),
+    ({"container_size": "5000 L"}, "larger than any container"),
+    ({"container_size": "-1 L"}, "negative"),
+    ({"amount_left": "2 L"}, "exceeds the container size"),
+    ({"amount_left": "200 g"}, "same kind of unit"),
+    ({"current_strength": "37 %"}, "label's unit"),
+    ({"expires_on": "2025-02-30"}, "not a real date"),
+    ({"expires_on": "14/03/2025"}, "YYYY-MM-DD"),
+    ({"restandardize_days": "soon"}, "whole number"),
+    ({"status": "lost"}, "expected one of"),
+    ({"received_on": "2025-02-01", "opened_on": "2025-01-01"}, "before the received"),
+    ({"colour": "blue"}, "unknown"),
+])
+def test_bad_input_names_the_value_and_writes_nothing(store, fields, match):
+    with pytest.raises((InvalidInput, UnknownCompound), match=match):
+        _add(store, **fields)
+    assert stock.count(store) == 0
+    assert journal.count(store) == 0
+
+
+def _status(**kw):
+    base = dict(label_strength=0.1, current_strength=None, measured_at=None,
+                restandardize_days=None, expires_on=None, today=TODAY)
+    base.update(kw)
+    return stock.strength_status(**base)
+
+
+def test_strength_status_rules():
+    assert _status() == "current"
+    assert _status(expires_on="2025-03-13") == "expired"
+    assert _status(expires_on="2025-03-14") == "current"
+    assert _status(current_strength=0.1019) == "current"        # 1.9 % off
+    assert _status(current_strength=0.1021) == "off-label"      # 2.1 % off
+    assert _status(current_strength=0.0979) == "off-label"
+    assert _status(restandardize_days=30) == "overdue"          # never measured
+    measured = (TODAY - timedelta(days=30)).isoformat()
+    assert _status(restandardize_days=30, measured_at=measured, current_strength=0.1) == \
+        "current"
+    old = (TODAY - timedelta(days=31)).isoformat() + "T10:00:00+00:00"
+    assert _status(restandardize_days=30, measured_at=old, current_strength=0.1) == "overdue"
+    # precedence: expired over off-label over overdue
+    assert _status(expires_on="2020-01-01", current_strength=0.2) == "expired"
+    assert _status(current_strength=0.2, restandardize_days=1) == "off-label"
+
+
+def test_record_standardization(store):
+    bid = _add(store, restandardize_days="14")
+    assert stock.get(store, bid).strength_status == "overdue"
+    eid = stock.record_standardization(store, bid, "0.0987 M", method="titration vs KHP",
+                                       who="t")
+    b = stock.get(store, bid)
+    assert b.current_strength == 0.0987 and b.measured_how == "titration vs KHP"
+    assert b.strength_status == "current"
+    entry = journal.get(store, eid)
+    assert entry.kind == "standardization" and entry.bottle_id == bid
+    assert entry.snapshot["measured_strength"] == 0.0987
+    with pytest.raises(InvalidInput):
+        stock.record_standardization(store, bid, "10 %", method="x")
+    with pytest.raises(NotFound):
+        stock.record_standardization(store, 999, "0.1 M", method="x")
+
+
+def test_record_preparation_takes_from_bottle(store):
+    bid = _add(store, compound="HCl", label_strength="37 %", container_size="1 L",
+               amount_left="10 mL")
+    stock.record_preparation(store, bid, "8 mL", snapshot={"target": "0.1 M"}, who="t")
+    assert stock.get(store, bid).amount_left == pytest.approx(0.002)
+    with pytest.raises(InvalidInput, match="left in the bottle"):
+        stock.record_preparation(store, bid, "5 mL", who="t")
+    assert stock.get(store, bid).amount_left == pytest.approx(0.002)
+
+
+def test_set_status_disposed_is_journaled(store):
+    bid = _add(store)
+    eid = stock.set_status(store, bid, "disposed", note="expired", who="t")
+    assert stock.get(store, bid).status == "disposed"
+    assert journal.get(store, eid).kind == "disposal"
+
+
+def _fill(store, n):
+    rows = []
+    for i in range(n):
+        rows.append(stock.validate({"compound": ["HCl", "NaOH", "H2SO4"][i % 3],
+                                    "label_strength": "0.1 M", "container_size": "1 L",
+                                    "location": f"Cabinet {'AB'[i % 2]}",
+                                    "lot": f"FW-{i:04d}"}, store_catalog(store)))
+    store.write(lambda s: [stock.insert_in(s, r, who="t") for r in rows])
+
+
+def store_catalog(store):
+    from carboy.store.compounds import catalog_for
+
+    return catalog_for(store)
+
+
+def test_keyset_pages_cover_everything_once(store):
+    _fill(store, 130)
+    seen, after = [], None
+    while True:
+        page = stock.page(store, after_id=after, limit=50)
+        seen += [b.id for b in page.bottles]
+        if page.next_after is None:
+            break
+        after = page.next_after
+    assert seen == list(range(1, 131))
+    back = stock.page(store, before_id=101, limit=50)
+    assert [b.id for b in back.bottles] == list(range(51, 101))
+    assert back.prev_before == 51
+
+
+def test_search_pages_and_counts(store):
+    _fill(store, 130)
+    assert stock.count(store, "NaOH") == 43
+    assert stock.count(store, "sodium") == 43
+    assert stock.count(store, "hydro") == 87        # hydrochloric + hydroxide
+    assert stock.count(store, "cab b naoh") == 22
+    page1 = stock.page(store, "naoh", limit=20)
+    page2 = stock.page(store, "naoh", after_id=page1.next_after, limit=40)
+    ids = [b.id for b in page1.bottles + page2.bottles]
+    assert ids == list(range(2, 131, 3)) and page2.next_after is None
+    assert stock.count(store, "FW-0042") == 1
+    assert stock.page(store, "fw-004").bottles[0].lot == "FW-0040"
+
+
+@pytest.mark.parametrize("text", ['round-bottom', '"', 'AND', 'OR NOT', 'NEAR(', '*', 'a"b',
+                                  "(HCl", "col:umn", "'", "^", "-", "HCl AND"])
+def test_search_is_safe_for_any_text(store, text):
+    _fill(store, 5)
+    stock.page(store, text)
+    assert stock.count(store, text) >= 0
+
+
+def test_get_bad_ids(store):
+    with pytest.raises(InvalidInput):
+        stock.get(store, "abc")
+    with pytest.raises(NotFound):
+        stock.get(store, 42)
