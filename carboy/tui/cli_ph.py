@@ -72,11 +72,14 @@ def format_report(r: dict) -> str:
     for w in r["warnings"]:
         lines.append(f"! {w}")
     comps = ", ".join(f"{c['compound']} {c['conc_molar']:.4g} M" for c in r["components"])
-    lines.append(f"solution      {comps}")
-    lines.append(f"temperature   {r['temperature_c']:g} °C   (pKw {r['pkw']:.3f})")
     model = "Davies activity" if r["activity"] == "davies" else "ideal solution"
-    lines.append(f"pH            {r['pH']:.3f}   ({model})")
-    lines.append(f"ionic strength {r['ionic_strength_molar']:.4g} M")
+    for label, value in (
+        ("solution", comps),
+        ("temperature", f"{r['temperature_c']:g} °C   (pKw {r['pkw']:.3f})"),
+        ("pH", f"{r['pH']:.3f}   ({model})"),
+        ("ionic strength", f"{r['ionic_strength_molar']:.4g} M"),
+    ):
+        lines.append(f"{label:<16}{value}")
     lines.append("")
     lines.append(f"{'species':<14}{'mol/L':>12}   {'gamma':>6}")
     order = sorted(r["species"].items(), key=lambda kv: -kv[1])

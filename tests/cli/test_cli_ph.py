@@ -1,0 +1,81 @@
+"""``carboy ph`` from the outside: output forms, exit status, bad input."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+from carboy.tui.cli import main
+
+
+def run(capsys, *argv):
+    code = main(list(argv))
+    out = capsys.readouterr()
+    return code, out.out, out.err
+
+
+def test_json_has_the_promised_keys(capsys):
+    code, out, err = run(capsys, "ph", "H2SO4=0.05M", "NaH2PO4=10mM", "--temperature", "35",
+                         "--json")
+    assert code == 0, err
+    data = json.loads(out)
+    for key in ("pH", "ionic_strength_molar", "temperature_c", "activity", "species", "warnings"):
+        assert key in data
+    assert data["temperature_c"] == 35.0
+    assert data["activity"] == "davies"
+    assert 1.0 < data["pH"] < 1.7
+    assert data["species"]["HSO4-"] > 0
+
+
+def test_ideal_switch_and_names(capsys):
+    code, out, _ = run(capsys, "ph", "acetic acid=0.1", "--ideal", "--json")
+    assert code == 0
+    data = json.loads(out)
+    assert data["activity"] == "ideal"
+    # 0.10 M acetic acid, pKa 4.756, exact ideal solve: pH 2.881 (reference-data §8, DERIVED)
+    assert data["pH"] == pytest.approx(2.881, abs=0.003)
+
+
+def test_readable_table(capsys):
+    code, out, _ = run(capsys, "ph", "NaHCO3=0.1M")
+    assert code == 0
+    assert "pH" in out and "HCO3-" in out and "ionic strength" in out
+
+
+def test_high_ionic_strength_warns(capsys):
+    code, out, _ = run(capsys, "ph", "HCl=2M", "--json")
+    assert code == 0
+    data = json.loads(out)
+    assert data["pH"] < 0
+    assert any("0.5 M" in w for w in data["warnings"])
+
+
+@pytest.mark.parametrize(
+    "argv, fragment",
+    [
+        (["ph", "acetik=0.1"], "closest matches"),
+        (["ph", "HCl=-1M"], "must not be negative"),
+        (["ph", "HCl=0.1 mL"], "not a concentration"),
+        (["ph", "HCl"], "NAME=CONC"),
+        (["ph", "HCl=0.1", "--temperature", "150"], "150"),
+        (["ph", "HCl=0.1", "--temperature", "warm"], "warm"),
+        (["ph", "naoh=0.1"], "naoh"),
+    ],
+)
+def test_bad_input_exits_2_with_one_clear_line(capsys, argv, fragment):
+    code, out, err = run(capsys, *argv)
+    assert code == 2
+    assert out == ""
+    assert fragment in err
+    assert "Traceback" not in err
+    assert len(err.strip().splitlines()) == 1
+
+
+def test_installed_command_runs():
+    proc = subprocess.run([sys.executable, "-m", "carboy.tui.cli", "ph", "HCl=0.01", "--json"],
+                          capture_output=True, text=True)
+    assert proc.returncode == 0, proc.stderr
+    assert json.loads(proc.stdout)["pH"] == pytest.approx(2.04, abs=0.02)
