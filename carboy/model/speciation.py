@@ -68,6 +68,8 @@ I_RTOL = 1e-10
 """Ionic strength is self-consistent when successive values agree to this (relative)."""
 MAX_I_ITER = 100
 COUPLED_ITER = 30
+WIDEN_STEPS = 20
+"""Bracket widenings (3 log units each) allowed when a state is held fixed."""
 """Steps of the fast coupled iteration before a point goes to the nested solve."""
 QUADRATIC_STEP = 1e-8
 """A Newton step this small leaves an error of order its square (F is smooth)."""
@@ -128,6 +130,8 @@ class BatchSpeciation:
     """(N, K, M) fraction of system k in state j (padded with 0)."""
     log_gamma_by_charge: np.ndarray
     """(N, zmax+1) log10 activity coefficient for |z| = 0..zmax."""
+    system_totals_molar: np.ndarray
+    """(N, K) total of each system (given, or solved where a species was held)."""
     pkw: float
     temperature_c: float
     activity: str
@@ -336,9 +340,17 @@ def _cached_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> _Lay
 # Newton on F is nearly linear where one species dominates each side (a strong acid
 # converges in one step), which is what makes the solve fast; the bracket keeps it safe.
 
-def _davies_d(ionic_strength):
-    sq = np.sqrt(ionic_strength)
-    return sq / (1.0 + sq) - 0.3 * ionic_strength
+def _davies_d(ionic):
+    """D(I) = sqrt(I)/(1 + sqrt(I)) - 0.3 I, with I held at DAVIES_LIMIT_MOLAR above it.
+
+    D peaks (and the coefficients bottom out) near I = 0.52 M, right at the edge of the
+    equation's range; beyond it the formula climbs to absurd coefficients (10**7 at
+    50 M), so above the limit the coefficients keep their value at the limit and the
+    result carries the validity warning.
+    """
+    ionic = np.minimum(ionic, DAVIES_LIMIT_MOLAR)
+    sq = np.sqrt(ionic)
+    return sq / (1.0 + sq) - 0.3 * ionic
 
 
 def _bracket(q, p, log_kw):
@@ -356,7 +368,31 @@ _NMOM = 12
 1, j, z+, z-, j z+, j z-, z², c, c z+, c z-, j z², c z² (c: the activity term of cmat)."""
 
 
-def _moments(x, ad, lay: _Layout, c_sys, want_alpha: bool = False, want_jac: bool = False):
+@dataclass(frozen=True)
+class _Amounts:
+    """What fixes each system's amount: its total, or (open system) the concentration
+    of one reference state held constant (CO2(aq) in equilibrium with a gas, say).
+
+    For a held state j0 at concentration F, every state is F·e_j/e_j0, i.e. the
+    system behaves as a total C = F·S/e_j0 that moves with x and A·D; its moments'
+    derivatives then take j0 and c_j0 where a closed system has jbar and cbar.
+    """
+
+    c: np.ndarray                        # (N, K) totals (ignored where held)
+    held: np.ndarray | None = None       # (N, K) held concentration of the reference state
+    mask: np.ndarray | None = None       # (K,) True where held
+    j0: np.ndarray | None = None         # (K,) reference state
+    c0: np.ndarray | None = None         # (K,) cmat of the reference state
+    e0_col: np.ndarray | None = None     # (K,) column of the reference state in e
+
+    def __getitem__(self, idx) -> _Amounts:
+        if self.held is None:
+            return _Amounts(self.c[idx])
+        return _Amounts(self.c[idx], self.held[idx], self.mask, self.j0, self.c0, self.e0_col)
+
+
+def _moments(x, ad, lay: _Layout, am: _Amounts, want_alpha: bool = False,
+             want_jac: bool = False):
     """Charge sums, their derivatives and the ionic-strength sum at log10[H+] = x.
 
     ``ad`` is A·D(I) of each point.  All per-system weighted sums come from one
@@ -365,7 +401,8 @@ def _moments(x, ad, lay: _Layout, c_sys, want_alpha: bool = False, want_jac: boo
     positive and negative system species), ``dpos``, ``dneg`` (their x-derivatives),
     ``iz2`` (sum of c z²); with ``want_jac`` also ``diz2`` (its x-derivative) and
     ``apos``, ``aneg``, ``aiz2`` (derivatives with respect to A·D, for the ionic
-    strength); with ``want_alpha`` the fractions ``alpha`` (N, K, M).
+    strength); ``ceff`` (N, K), each system's total (solved where a state is held);
+    with ``want_alpha`` the fractions ``alpha`` (N, K, M).
 
     With alpha_j proportional to 10**(log beta0_j - 2 A D c_j - j x), d alpha_j/dx
     = -ln10 alpha_j (j - jbar) and d alpha_j/d(AD) = -2 ln10 alpha_j (c_j - cbar), so
@@ -382,17 +419,27 @@ def _moments(x, ad, lay: _Layout, c_sys, want_alpha: bool = False, want_jac: boo
         t = lay.flat_lb0 - np.multiply.outer(2.0 * ad, lay.flat_c) - np.multiply.outer(x, lay.flat_j)
         e = np.exp(t * LN10)
         mom = (e @ lay.flat_w).reshape(n, k, _NMOM)
+    ssum = mom[:, :, 0].copy()
     mom /= mom[:, :, :1]
     jbar, pos, neg, z2 = mom[:, :, 1], mom[:, :, 2], mom[:, :, 3], mom[:, :, 6]
-    cols = [pos, neg, -LN10 * (mom[:, :, 4] - jbar * pos), -LN10 * (mom[:, :, 5] - jbar * neg),
+    cbar = mom[:, :, 7]
+    if am.held is None:
+        ceff, jref, cref = am.c, jbar, cbar
+    else:
+        e0 = e.reshape(n, -1)[:, am.e0_col]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ceff = np.where(am.mask, am.held * ssum / e0, am.c)
+        jref = np.where(am.mask, am.j0, jbar)
+        cref = np.where(am.mask, am.c0, cbar)
+    cols = [pos, neg, -LN10 * (mom[:, :, 4] - jref * pos), -LN10 * (mom[:, :, 5] - jref * neg),
             z2]
     if want_jac:
-        cbar = mom[:, :, 7]
-        cols += [-LN10 * (mom[:, :, 10] - jbar * z2),
-                 -2 * LN10 * (mom[:, :, 8] - cbar * pos), -2 * LN10 * (mom[:, :, 9] - cbar * neg),
-                 -2 * LN10 * (mom[:, :, 11] - cbar * z2)]
-    tot = np.einsum("nk,nkw->wn", c_sys, np.stack(cols, axis=2))
+        cols += [-LN10 * (mom[:, :, 10] - jref * z2),
+                 -2 * LN10 * (mom[:, :, 8] - cref * pos), -2 * LN10 * (mom[:, :, 9] - cref * neg),
+                 -2 * LN10 * (mom[:, :, 11] - cref * z2)]
+    tot = np.einsum("nk,nkw->wn", ceff, np.stack(cols, axis=2))
     out = dict(zip(("pos", "neg", "dpos", "dneg", "iz2", "diz2", "apos", "aneg", "aiz2"), tot))
+    out["ceff"] = ceff
     if want_alpha:
         if not lay.needs_shift:
             full = np.zeros((n, k * m))
@@ -402,7 +449,7 @@ def _moments(x, ad, lay: _Layout, c_sys, want_alpha: bool = False, want_jac: boo
     return out
 
 
-def _root(x0, ad, log_kw, lay, c_sys, zs_pos, zs_neg, q, p):
+def _root(x0, ad, log_kw, lay, am: _Amounts, zs_pos, zs_neg, q, p):
     """Safeguarded Newton on F for every point; converged points drop out.
 
     Returns ``(x, done, gi)``: ``gi`` is the ionic strength of the solutes other than
@@ -411,13 +458,15 @@ def _root(x0, ad, log_kw, lay, c_sys, zs_pos, zs_neg, q, p):
     imbalance) is below ``F_TOL``, or when its bracket has shrunk below ``X_TOL``.
     """
     lo, hi = _bracket(q, p, log_kw)
+    if am.held is not None:
+        lo, hi = _widen(lo, hi, ad, log_kw, lay, am, zs_pos, zs_neg)
     x = np.clip(x0, lo, hi)
     done = np.zeros(x.shape, dtype=bool)
     gi = np.zeros(x.shape)
     act = np.arange(x.shape[0])
     for _ in range(MAX_ROOT_ITER):
         xa = x[act]
-        mo = _moments(xa, ad[act], lay, c_sys[act])
+        mo = _moments(xa, ad[act], lay, am[act])
         psys, nsys, dpsys, dnsys, iz2 = mo["pos"], mo["neg"], mo["dpos"], mo["dneg"], mo["iz2"]
         h = np.exp(xa * LN10)
         oh = np.exp((log_kw[act] - xa) * LN10)
@@ -441,6 +490,27 @@ def _root(x0, ad, log_kw, lay, c_sys, zs_pos, zs_neg, q, p):
     return x, done, gi
 
 
+def _charge_ratio(x, ad, log_kw, lay, am, zs_pos, zs_neg):
+    mo = _moments(x, ad, lay, am)
+    return np.log((np.exp(x * LN10) + zs_pos + mo["pos"])
+                  / (np.exp((log_kw - x) * LN10) + zs_neg + mo["neg"]))
+
+
+def _widen(lo, hi, ad, log_kw, lay, am, zs_pos, zs_neg):
+    """With a held state the totals no longer bound the charge: widen the bracket
+    until F(lo) < 0 < F(hi) (F is still increasing: every state gains charge with x)."""
+    lo, hi = lo.copy(), hi.copy()
+    for _ in range(WIDEN_STEPS):
+        f_lo = _charge_ratio(lo, ad, log_kw, lay, am, zs_pos, zs_neg)
+        f_hi = _charge_ratio(hi, ad, log_kw, lay, am, zs_pos, zs_neg)
+        bad_lo, bad_hi = ~(f_lo < 0), ~(f_hi > 0)
+        if not (bad_lo.any() or bad_hi.any()):
+            break
+        lo = np.where(bad_lo, lo - 3.0, lo)
+        hi = np.where(bad_hi, hi + 3.0, hi)
+    return lo, hi
+
+
 def _conditional_logbeta(lay: _Layout, ad):
     """Cumulative log10 beta of each state with Davies coefficients, ``ad`` = A·D(I).
 
@@ -451,12 +521,14 @@ def _conditional_logbeta(lay: _Layout, ad):
 
 
 def _davies_dprime(ionic):
+    """dD/dI (0 above DAVIES_LIMIT_MOLAR, where D is held)."""
     sq = np.sqrt(ionic)
     with np.errstate(divide="ignore"):
-        return np.where(sq > 0, 0.5 / (sq * (1.0 + sq) ** 2), 0.0) - 0.3
+        slope = np.where(sq > 0, 0.5 / (sq * (1.0 + sq) ** 2), 0.0) - 0.3
+    return np.where(ionic < DAVIES_LIMIT_MOLAR, slope, 0.0)
 
 
-def _coupled(lay, c_sys, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
+def _coupled(lay, am: _Amounts, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
     """Newton on the pair (x, I): the charge balance F = 0 and the ionic strength
     g(x, I) = I, with the exact 2×2 Jacobian (fast path).
 
@@ -473,7 +545,8 @@ def _coupled(lay, c_sys, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
     # working copies of the unfinished points, compacted whenever some finish
     idx = np.arange(n)
     xa, ia = x_out.copy(), i_out.copy()
-    cs, zp, zn, isp, qa, pa = c_sys, zs_pos, zs_neg, ispec, q, p
+    cs, zp, zn, isp, qa, pa = am, zs_pos, zs_neg, ispec, q, p
+    open_system = am.held is not None
     it = 0
     davies = a_dh != 0.0
     for it in range(1, COUPLED_ITER + 1):  # noqa: B007 (used after the loop)
@@ -508,8 +581,11 @@ def _coupled(lay, c_sys, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
             dx = -big_f / f_x
             inew = g
             i_ok = True
-        lo, hi = _bracket(qa, pa, log_kw)
-        xn = np.clip(xa + dx, lo, hi)
+        if open_system:  # the totals do not bound a held system: keep steps moderate
+            xn = xa + np.clip(dx, -3.0, 3.0)
+        else:
+            lo, hi = _bracket(qa, pa, log_kw)
+            xn = np.clip(xa + dx, lo, hi)
         fin = ((np.abs(big_f) < F_TOL) | (np.abs(xn - xa) < QUADRATIC_STEP)) & i_ok
         xa, ia = xn, inew
         if fin.any():
@@ -537,7 +613,7 @@ def _next_ionic(i_now, r_now, i_prev, r_prev, g):
     return np.where(ok, sec, g)
 
 
-def _nested(x, ionic, lay, c_sys, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
+def _nested(x, ionic, lay, am: _Amounts, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
     """The guaranteed solve: bracketed Newton for x at fixed ionic strength, inside a
     secant-accelerated fixed-point iteration on the ionic strength.
     Returns ``(x, ionic, converged, iterations)``."""
@@ -549,7 +625,7 @@ def _nested(x, ionic, lay, c_sys, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
     for outer in range(1, MAX_I_ITER + 1):  # noqa: B007 (used after the loop)
         ad = a_dh * _davies_d(ionic)
         log_kw = -pkw + 2.0 * ad
-        x, root_ok, gi = _root(x, ad, log_kw, lay, c_sys, zs_pos, zs_neg, q, p)
+        x, root_ok, gi = _root(x, ad, log_kw, lay, am, zs_pos, zs_neg, q, p)
         if a_dh == 0.0:
             i_conv[:] = True
             break
@@ -564,7 +640,8 @@ def _nested(x, ionic, lay, c_sys, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
     return x, ionic, root_ok & i_conv, outer
 
 
-def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=None) -> BatchSpeciation:
+def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=None,
+                   held: Mapping[str, tuple[str, object]] | None = None) -> BatchSpeciation:
     """Solve every mixture of ``batch`` at once.
 
     Parameters
@@ -572,6 +649,10 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
     batch : mixtures sharing keys and temperature (0–100 °C); totals in mol/L.
     activity : ``"davies"`` (default) or ``"ideal"``.
     catalog : where the keys are looked up; the built-in catalog by default.
+    held : open systems: ``{system key: (species label, mol/L)}`` holds that species at
+        that concentration (a number or one per point) instead of fixing the system's
+        total, e.g. ``{"carbonate": ("CO2", 1.4e-5)}`` for a solution in equilibrium
+        with air.  The system's solved total is in ``system_totals_molar``.
 
     Returns
     -------
@@ -585,13 +666,58 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
 
         catalog = default_catalog()
     t_c = water.check_temperature(batch.temperature_c)
+    if held:
+        missing = tuple(k for k in held if k not in batch.keys)
+        if missing:  # a held system need not be in the batch: it gets a zero column
+            batch = MixtureBatch(batch.keys + missing, np.hstack(
+                [batch.totals, np.zeros((len(batch), len(missing)))]), batch.temperature_c)
     lay = _cached_layout(catalog, batch.keys, t_c)
-    return _solve(batch, lay, activity, t_c)
+    return _solve(batch, lay, activity, t_c, held)
 
 
-def _solve(batch: MixtureBatch, lay: _Layout, activity: str, t_c: float) -> BatchSpeciation:
+def _held_amounts(lay: _Layout, c_sys: np.ndarray, held) -> _Amounts:
+    """Validate ``held`` and express it as :class:`_Amounts`."""
+    n, k = c_sys.shape
+    if not held:
+        return _Amounts(c_sys)
+    conc = np.zeros((n, k))
+    mask = np.zeros(k, dtype=bool)
+    j0 = np.zeros(k)
+    m = lay.z.shape[1]
+    offsets = np.concatenate([[0], np.cumsum(lay.valid.sum(axis=1))[:-1]]) if k else np.zeros(0)
+    e0_col = np.zeros(k, dtype=int)
+    for key, spec in held.items():
+        if key not in lay.sys_keys:
+            raise InvalidInput("held system", key, "is not an acid–base system with weak steps "
+                               "in this solution")
+        i = lay.sys_keys.index(key)
+        try:
+            label, value = spec
+        except (TypeError, ValueError):
+            raise InvalidInput(f"held {key}", spec, "expected (species label, mol/L)") from None
+        if label not in lay.sys_labels[i]:
+            raise InvalidInput(f"held {key} species", label,
+                               f"choose one of {', '.join(lay.sys_labels[i])}")
+        v = np.broadcast_to(np.asarray(value, dtype=float), (n,))
+        if not np.all(np.isfinite(v)) or np.any(v < 0):
+            raise InvalidInput(f"held {label} (mol/L)", value, "must be finite and >= 0")
+        jj = lay.sys_labels[i].index(label)
+        conc[:, i] = v
+        mask[i] = True
+        j0[i] = jj
+        e0_col[i] = (i * m + jj) if lay.needs_shift else int(offsets[i]) + jj
+    c0 = lay.cmat[np.arange(k), j0.astype(int)] if k else np.zeros(0)
+    return _Amounts(c_sys, conc, mask, j0, c0, e0_col)
+
+
+def _solve(batch: MixtureBatch, lay: _Layout, activity: str, t_c: float,
+           held=None) -> BatchSpeciation:
     tot = batch.totals
     c_sys = tot[:, lay.sys_cols]
+    am = _held_amounts(lay, c_sys, held)
+    if am.held is not None:
+        c_sys = np.where(am.mask, 0.0, c_sys)  # held systems' totals do not bound the charge
+        am = _Amounts(c_sys, am.held, am.mask, am.j0, am.c0, am.e0_col)
     c_ion = tot[:, lay.ion_cols]
     zs_pos = c_ion @ np.maximum(lay.ion_z, 0.0)
     zs_neg = c_ion @ np.maximum(-lay.ion_z, 0.0)
@@ -601,19 +727,20 @@ def _solve(batch: MixtureBatch, lay: _Layout, activity: str, t_c: float) -> Batc
     pkw = water.pkw(t_c)
     a_dh = water.debye_huckel_a(t_c) if activity == "davies" else 0.0
 
-    x, ionic, ok, iterations = _coupled(lay, c_sys, zs_pos, zs_neg, ispec, q, p, pkw, a_dh)
+    x, ionic, ok, iterations = _coupled(lay, am, zs_pos, zs_neg, ispec, q, p, pkw, a_dh)
     converged = ok.copy()
     if not ok.all():
         bad = ~ok
-        xb, ib, cb, outer = _nested(x[bad], ionic[bad], lay, c_sys[bad], zs_pos[bad],
+        xb, ib, cb, outer = _nested(x[bad], ionic[bad], lay, am[bad], zs_pos[bad],
                                     zs_neg[bad], ispec[bad], q[bad], p[bad], pkw, a_dh)
         x[bad], ionic[bad], converged[bad] = xb, ib, cb
         iterations += outer
 
     ad = a_dh * _davies_d(ionic)
     log_kw = -pkw + 2.0 * ad
-    mo = _moments(x, ad, lay, c_sys, want_alpha=True)
+    mo = _moments(x, ad, lay, am, want_alpha=True)
     psys, nsys, iz2, alpha = mo["pos"], mo["neg"], mo["iz2"], mo["alpha"]
+    c_sys = mo["ceff"]
     h = 10.0 ** x
     oh = 10.0 ** (log_kw - x)
     residual = (h + zs_pos + psys) - (oh + zs_neg + nsys)
@@ -645,7 +772,7 @@ def _solve(batch: MixtureBatch, lay: _Layout, activity: str, t_c: float) -> Batc
         species_charges=tuple(lay.charge_map[lab] for lab in species_labels),
         species_molar=species, system_keys=lay.sys_keys, system_labels=lay.sys_labels,
         fractions=alpha, log_gamma_by_charge=log_gamma, pkw=pkw, temperature_c=t_c,
-        activity=activity, warnings=warnings, batch=batch,
+        activity=activity, warnings=warnings, system_totals_molar=c_sys, batch=batch,
     )
 
 
@@ -657,6 +784,8 @@ def _warning_texts(high_i: bool, bad: bool, hot: bool, ideal: bool) -> tuple[str
         out.append(
             f"ionic strength is above {DAVIES_LIMIT_MOLAR:g} M, outside the validity of the "
             f"{model} activity model: treat the pH as indicative only"
+            + ("" if ideal else f" (activity coefficients held at their "
+               f"{DAVIES_LIMIT_MOLAR:g} M values)")
         )
     if hot:
         out.append(
@@ -692,9 +821,11 @@ def _solve_one(lay: _Layout, row, pkw: float, a_dh: float):
         p += row[col] * pos_cap
     davies = a_dh != 0.0
     x, ionic = -7.0, ispec + 1e-7
+    cap = DAVIES_LIMIT_MOLAR
     for it in range(1, COUPLED_ITER + 1):
-        sq = sqrt(ionic)
-        ad = a_dh * (sq / (1.0 + sq) - 0.3 * ionic)
+        i_act = min(ionic, cap)
+        sq = sqrt(i_act)
+        ad = a_dh * (sq / (1.0 + sq) - 0.3 * i_act)
         tad = 2.0 * ad
         log_kw = tad - pkw
         psys = nsys = dpsys = dnsys = iz2 = diz2 = apos = aneg = aiz2 = 0.0
@@ -738,7 +869,8 @@ def _solve_one(lay: _Layout, row, pkw: float, a_dh: float):
         inew = g
         dx = -big_f / f_x
         if davies:
-            dd = a_dh * ((0.5 / (sq * (1.0 + sq) ** 2) if sq > 0 else 0.0) - 0.3)
+            dd = a_dh * ((0.5 / (sq * (1.0 + sq) ** 2) if sq > 0 else 0.0) - 0.3) \
+                if ionic < cap else 0.0
             f_i = (apos / pos - (2 * LN10 * oh + aneg) / neg) * dd
             g_x = 0.5 * (LN10 * (h - oh) + diz2)
             g_i = 0.5 * (2 * LN10 * oh + aiz2) * dd - 1.0
@@ -760,7 +892,8 @@ def _solve_one(lay: _Layout, row, pkw: float, a_dh: float):
     return None
 
 
-def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None) -> Speciation:
+def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
+             held: Mapping[str, tuple[str, float]] | None = None) -> Speciation:
     """Solve one mixture; see :func:`speciate_batch` (same arithmetic, one solution)."""
     if activity not in ACTIVITY_MODELS:
         raise InvalidInput("activity model", activity, f"choose one of {', '.join(ACTIVITY_MODELS)}")
@@ -770,8 +903,12 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None) -> Spe
         catalog = default_catalog()
     t_c = water.check_temperature(mixture.temperature_c)
     keys = tuple(mixture.totals)
-    lay = _cached_layout(catalog, keys, t_c)
     row = list(mixture.totals.values())
+    if held:
+        batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
+        res = speciate_batch(batch, activity=activity, catalog=catalog, held=held).point(0)
+        return Speciation(**{**res.__dict__, "mixture": mixture})
+    lay = _cached_layout(catalog, keys, t_c)
     pkw = water.pkw(t_c)
     a_dh = water.debye_huckel_a(t_c) if activity == "davies" else 0.0
     fast = None if lay.needs_shift else _solve_one(lay, row, pkw, a_dh)
@@ -785,8 +922,7 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None) -> Spe
 
 def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixture) -> Speciation:
     """Species, fractions and coefficients of one solved solution."""
-    sq = math.sqrt(ionic)
-    ad = a_dh * (sq / (1.0 + sq) - 0.3 * ionic)
+    ad = a_dh * float(_davies_d(ionic))
     tad = 2.0 * ad
     h = 10.0 ** x
     oh = 10.0 ** (tad - pkw - x)
