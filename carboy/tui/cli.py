@@ -16,6 +16,7 @@ from carboy.tui.clikit import ArgumentParser, run_guarded
 # modules that contribute subcommands, in the order their help is listed
 SUBCOMMAND_MODULES = (
     "carboy.tui.cli_ph",
+    "carboy.tui.cli_neutralize",
     "carboy.tui.cli_store",
 )
 

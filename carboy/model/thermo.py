@@ -1,0 +1,108 @@
+"""Heat of a neutralization: enthalpy bookkeeping over species, solution and dilution heats.
+
+Every state is given an enthalpy from its species, relative to water, free H+ and the
+fully protonated form of each system (all at infinite dilution, 25 °C):
+
+* species j of a system (j protons lost) carries ``Σ_{i<j} ΔH_i`` (the catalog's
+  ionization enthalpies);
+* OH- carries ``-ΔH_w`` = +55.815 kJ/mol, from H2O(l) -> H+ + OH- (``ΔH_w`` = -55.815 is
+  the heat of H+ + OH- -> H2O, DERIVED from CODATA);
+* H+, water and spectator ions carry 0;
+* CO2 that leaves as gas carries +19.75 kJ/mol (CO2(aq) -> CO2(g), DERIVED from CODATA).
+
+The reaction heat is then ``H(final) - H(sample) - n·H(reagent)`` plus the heat of
+solution of a solid reagent (NaOH, KOH) and the heat of diluting a concentrated
+reagent (H2SO4, HCl tables).  Proton transfer is thereby counted exactly: e.g.
+HA + OH- -> A- + H2O gives ``ΔH_a + ΔH_w``, and H+ + HCO3- -> CO2(g) + H2O gives
+``-ΔH_1 + 19.75`` = +10.6 kJ/mol.  The reagent enters in its nominal formula state
+(Na2CO3 as CO3 2-, NH3 as NH3); its own slight hydrolysis in the bottle is neglected.
+
+The temperature rise assumes an adiabatic batch with the heat capacity of water.
+"""
+
+from __future__ import annotations
+
+import functools
+import tomllib
+from collections.abc import Mapping
+from importlib import resources
+
+import numpy as np
+
+from carboy.model import water
+
+
+@functools.lru_cache(maxsize=1)
+def planning_constants() -> Mapping:
+    """The packaged ``planning.toml`` (constants with sources; see that file)."""
+    text = (resources.files("carboy.model.data") / "planning.toml").read_text(encoding="utf-8")
+    return tomllib.loads(text)
+
+
+def water_formation_kj() -> float:
+    """ΔH of H+ + OH- -> H2O(l), kJ/mol (DERIVED from CODATA: -55.815)."""
+    return float(planning_constants()["water_formation"]["dh_kj"])
+
+
+def co2_degassing_kj() -> float:
+    """ΔH of CO2(aq) -> CO2(g), kJ/mol (DERIVED from CODATA: +19.75)."""
+    return float(planning_constants()["co2_degassing"]["dh_kj"])
+
+
+def species_enthalpies(system) -> tuple[float, ...]:
+    """Enthalpy of each species of ``system`` relative to its fully protonated form, kJ/mol."""
+    out = [0.0]
+    for dh in system.dh_kj:
+        out.append(out[-1] + float(dh))
+    return tuple(out)
+
+
+def heat_of_solution_kj(compound_key: str) -> tuple[float, str] | None:
+    """Heat of solution of a solid to infinite dilution (kJ/mol) and its source, if known."""
+    rec = planning_constants()["heat_of_solution"].get(compound_key)
+    if rec is None:
+        return None
+    return float(rec["dh_kj"]), f"{rec['source']} [{rec['status']}]"
+
+
+def dilution_heat_kj(compound_key: str, mass_percent: float) -> tuple[float, str] | None:
+    """Enthalpy change (kJ per mol of solute) on diluting a concentrate to infinite dilution.
+
+    Negative means heat released.  ``None`` where no table is held (e.g. NaOH, HNO3).
+    """
+    rec = planning_constants()["dilution"].get(compound_key)
+    if rec is None:
+        return None
+    from carboy.model.catalog import default_catalog
+
+    m_solute = default_catalog().compound(compound_key).molar_mass_g_mol
+    w = mass_percent / 100.0
+    note = f"{rec['source']} [{rec['status']}]"
+    if rec["basis"] == "n_water":
+        n = (1.0 - w) / water_MW() / (w / m_solute) if w < 1.0 else 0.0
+        ns, hs = np.asarray(rec["n"]), np.asarray(rec["dh_kj"])
+        if n > ns[-1]:
+            h_n = float(rec["dh_inf_kj"])
+        else:
+            h_n = float(np.interp(n, ns, hs))
+        return float(rec["dh_inf_kj"]) - h_n, note
+    molality = (w / m_solute) / ((1.0 - w) / 1000.0) if w < 1.0 else float("inf")
+    ms, released = np.asarray(rec["m"]), np.asarray(rec["released_kj"])
+    if molality > ms[-1]:
+        return None
+    return -float(np.interp(molality, ms, released)), note
+
+
+def water_MW() -> float:  # noqa: N802 (chemical symbol)
+    return 18.01528
+
+
+def temperature_rise_k(heat_kj: float, mass_g: float, temperature_c: float) -> float:
+    """Adiabatic temperature rise of ``mass_g`` of batch for a reaction enthalpy ``heat_kj``.
+
+    ``ΔT = -ΔH / (m c_p)`` with c_p of water at ``temperature_c``; a negative ΔH
+    (heat released) gives a rise.
+    """
+    if mass_g <= 0:
+        return 0.0
+    return -heat_kj * 1000.0 / (mass_g * water.specific_heat_j_gk(temperature_c))

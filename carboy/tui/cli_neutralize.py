@@ -1,0 +1,190 @@
+"""``carboy neutralize``: a neutralization plan for a waste named by its components."""
+
+from __future__ import annotations
+
+import argparse
+
+from carboy.tui.clikit import UsageError, emit_json
+
+EXAMPLES = """examples:
+  carboy neutralize H2SO4=0.5M --volume 250mL --reagent NaOH=2M
+  carboy neutralize HCl=1M H3PO4=0.1M --volume 1L --reagent NaHCO3 --window 6:9
+  carboy neutralize Na2CO3=0.2M --volume 500mL --reagent HCl=1M --json
+  carboy neutralize --waste ACID-03 --reagent NaOH=50% --db storeroom.db
+"""
+
+
+def register(sub) -> None:
+    p = sub.add_parser(
+        "neutralize",
+        help="plan the neutralization of a waste",
+        description="Plan how much reagent takes a waste to a target pH: doses, heat, CO2, "
+        "staged additions, precipitates and the cautions that apply. Local disposal rules "
+        "and your safety office set the real acceptance window.",
+        epilog=EXAMPLES,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    p.add_argument("components", nargs="*", metavar="NAME=CONC",
+                   help="the waste's components, as for 'carboy ph'")
+    p.add_argument("--waste", metavar="LABEL", help="plan for a waste container of the database "
+                   "instead of named components")
+    p.add_argument("--volume", metavar="V", help="volume of the waste with a unit (mL, L)")
+    p.add_argument("--reagent", required=True, metavar="REAGENT",
+                   help="NaOH=2M (solution), NaOH=50%% (%%w/w), NaHCO3 (solid), NaOH@97%% "
+                   "(solid with assay)")
+    p.add_argument("--target", default="7", metavar="PH", help="target pH (default 7)")
+    p.add_argument("--window", default="6:9", metavar="LO:HI",
+                   help="acceptance window (default 6:9; local rules set the real one)")
+    p.add_argument("--temperature", default="25", metavar="C",
+                   help="temperature in °C, 0–100 (default 25)")
+    p.add_argument("--ideal", action="store_true", help="ideal solution (activities 1)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.set_defaults(func=run)
+
+
+def _number(text: str, what: str) -> float:
+    try:
+        return float(str(text).strip().replace(",", "."))
+    except ValueError:
+        raise UsageError(f"{what} {text!r}: expected a number") from None
+
+
+def _window(text: str) -> tuple[float, float]:
+    parts = str(text).split(":")
+    if len(parts) != 2:
+        raise UsageError(f"window {text!r}: expected LO:HI, e.g. 6:9")
+    return _number(parts[0], "window low pH"), _number(parts[1], "window high pH")
+
+
+def _from_store(args, t_c: float):
+    try:
+        from carboy.store import db as store_db
+        from carboy.store import waste
+    except ImportError:  # pragma: no cover - the store ships with carboy
+        raise UsageError("--waste is not available: the store is not installed") from None
+    if not hasattr(waste, "composition"):
+        raise UsageError("--waste is not available in this version")
+    from carboy.model.catalog import default_catalog
+
+    path = store_db.default_path(getattr(args, "db", None))
+    store = store_db.open_database(path)
+    try:
+        mixture = waste.composition(store, args.waste, temperature_c=t_c)
+        tags: set[str] = set()
+        catalog = default_catalog()
+        for add in waste.additions(store, args.waste):
+            if add.superseded:
+                continue
+            if add.compound_key in catalog:
+                tags |= catalog.compound(add.compound_key).hazards
+    finally:
+        store.close()
+    return mixture, frozenset(tags)
+
+
+def build_plan(args):
+    from carboy.model import quantities
+    from carboy.model.catalog import default_catalog
+    from carboy.model.components import parse_component
+    from carboy.model.mixture import Mixture
+    from carboy.model.planner import plan_neutralization
+    from carboy.model.reagents import parse_reagent
+
+    catalog = default_catalog()
+    t_c = quantities.temperature_c(args.temperature)
+    hazards: frozenset[str] = frozenset()
+    if args.waste:
+        if args.components:
+            raise UsageError("give either components or --waste, not both")
+        mixture, hazards = _from_store(args, t_c)
+        if args.volume:
+            raise UsageError("--volume comes from the container with --waste; leave it out")
+    else:
+        if not args.components:
+            raise UsageError("name the waste's components (e.g. H2SO4=0.5M) or give --waste")
+        if not args.volume:
+            raise UsageError("--volume is required, e.g. --volume 250mL")
+        volume = quantities.volume_l(args.volume, what="volume")
+        if volume <= 0:
+            raise UsageError(f"volume {args.volume!r}: must be greater than zero")
+        parsed = [parse_component(text, catalog) for text in args.components]
+        for compound, _ in parsed:
+            hazards |= compound.hazards
+        mixture = Mixture.from_compounds(parsed, volume_l=volume, temperature_c=t_c)
+    reagent = parse_reagent(args.reagent, catalog)
+    return plan_neutralization(
+        mixture, reagent, target_pH=_number(args.target, "target pH"), window=_window(args.window),
+        activity="ideal" if args.ideal else "davies", catalog=catalog, hazards=hazards)
+
+
+def _amount(dose, reagent) -> str:
+    if not dose.reachable:
+        return "not reachable with this reagent"
+    parts = [f"{dose.reagent_mol:.4g} mol"]
+    if dose.reagent_volume_l is not None:
+        parts.append(f"{dose.reagent_volume_l * 1000:.4g} mL")
+    parts.append(f"{dose.reagent_mass_g:.4g} g")
+    return ", ".join(parts) + f"  ->  pH {dose.pH:.2f}"
+
+
+def format_report(plan) -> str:
+    lines = []
+    marks = {"danger": "!!", "warning": "! ", "notice": "- "}
+    if not plan.drain_plan:
+        lines.append("THIS IS NOT A DRAIN-DISPOSAL PLAN: collect for licensed disposal.")
+    lines.append("cautions")
+    for c in plan.cautions:
+        lines.append(f" {marks.get(c.severity, '- ')} [{c.severity} {c.code}] {c.text}")
+    for w in plan.warnings:
+        lines.append(f" ?  {w}")
+    lines.append("")
+    r = plan.reagent
+    lines.append(f"reagent        {r.describe()}")
+    lines.append(f"sample         {plan.sample.volume_l * 1000:.4g} mL at "
+                 f"{plan.sample.temperature_c:g} °C, pH {plan.initial_pH:.2f} "
+                 f"({'Davies activity' if plan.activity == 'davies' else 'ideal solution'})")
+    kind = "OH- needed" if plan.direction == "base" else "H+ needed (shown negative)"
+    lines.append(f"every proton   {plan.proton_equivalents_mol:.4g} mol ({kind})")
+    for name, v in plan.breakdown.items():
+        lines.append(f"                 {name:<28}{v:+.4g} mol")
+    lines.append(f"full dose      {_amount(plan.full, r)}")
+    lines.append(f"to pH {plan.to_target.target_pH:<8g} {_amount(plan.to_target, r)}")
+    lo, hi = plan.window_doses
+    lines.append(f"window {plan.window[0]:g}-{plan.window[1]:g}   low edge: {_amount(lo, r)}")
+    lines.append(f"               high edge: {_amount(hi, r)}")
+    lines.append("               (local disposal rules set the real acceptance window)")
+    if plan.bound_protons_at_target:
+        bound = ", ".join(f"{k} {v:.2f}" for k, v in plan.bound_protons_at_target.items())
+        lines.append(f"still bound    protons per unit at the target: {bound}")
+    lines.append(f"heat           {plan.heat_kj:.3g} kJ, temperature rise about "
+                 f"{plan.temperature_rise_c:.1f} K (adiabatic, heat capacity of water)")
+    if plan.gas_l or plan.vented_pH is not None:
+        lines.append(f"CO2            {plan.gas_l:.3g} L at {plan.gas_conditions}")
+        if plan.vented_pH is not None:
+            lines.append(f"after venting  pH {plan.vented_pH:.2f} (air pCO2 "
+                         f"{plan.vent_pco2_atm:.2g} atm assumed)")
+    lines.append("")
+    lines.append(f"stages (sensitivity {plan.sensitivity_pH_per_percent:.2g} pH per 1 % of dose)")
+    for s in plan.stages:
+        vol = f"{s.add_volume_l * 1000:8.4g} mL" if s.add_volume_l is not None else ""
+        lines.append(f"  {s.index}. add {s.add_mol:9.4g} mol {s.add_mass_g:9.4g} g {vol}"
+                     f"  -> pH {s.pH_after:.2f}")
+    if plan.precipitates:
+        lines.append("saturation at the target (SI > 0: expected to precipitate)")
+        for p in plan.precipitates:
+            lines.append(f"  {p.solid:<32} SI {p.saturation_index:+.2f}"
+                         f"{'  expected: sludge, not drain' if p.expected else ''}")
+    if plan.equivalence_points:
+        lines.append("equivalence points")
+        for e in plan.equivalence_points:
+            lines.append(f"  {e.reagent_mol:.4g} mol  pH {e.pH:.2f}  {e.label}")
+    return "\n".join(lines)
+
+
+def run(args) -> int:
+    plan = build_plan(args)
+    if args.json:
+        emit_json(plan.to_dict())
+    else:
+        print(format_report(plan))
+    return 0

@@ -1,0 +1,67 @@
+"""``carboy neutralize`` end to end."""
+
+import json
+
+import pytest
+
+from carboy.tui.cli import main
+
+
+def run(capsys, *argv):
+    rc = main(["neutralize", *argv])
+    out = capsys.readouterr()
+    return rc, out.out, out.err
+
+
+def test_json(capsys):
+    rc, out, _ = run(capsys, "H2SO4=0.5M", "--volume", "250mL", "--reagent", "NaOH=2M", "--json")
+    assert rc == 0
+    d = json.loads(out)
+    for key in ("initial_pH", "proton_equivalents_mol", "full", "to_target", "window", "heat_kj",
+                "temperature_rise_c", "gas_l", "vented_pH", "stages", "curve",
+                "equivalence_points", "precipitates", "cautions"):
+        assert key in d
+    assert d["proton_equivalents_mol"] == pytest.approx(0.25)
+    assert d["cautions"][-1]["code"] == "local-rules"
+
+
+def test_report_puts_cautions_first(capsys):
+    rc, out, _ = run(capsys, "HCl=0.1M", "--volume", "1L", "--reagent", "NaHCO3")
+    assert rc == 0
+    assert out.splitlines()[0].startswith("cautions")
+    assert "local disposal rules" in out
+    assert "CO2" in out
+
+
+def test_hf_report_says_not_for_drain(capsys):
+    rc, out, _ = run(capsys, "HF=0.1M", "--volume", "1L", "--reagent", "NaOH=1M")
+    assert rc == 0
+    assert out.startswith("THIS IS NOT A DRAIN-DISPOSAL PLAN")
+
+
+def test_alkaline_with_acid(capsys):
+    rc, out, _ = run(capsys, "Na2CO3=0.1M", "--volume", "500mL", "--reagent", "HCl=1M",
+                     "--json", "--target", "7", "--window", "6:8")
+    assert rc == 0
+    d = json.loads(out)
+    assert d["direction"] == "acid" and d["vented_pH"] is not None
+
+
+@pytest.mark.parametrize("argv", [
+    ["HCl=1M", "--volume", "abc", "--reagent", "NaOH=1M"],
+    ["HCl=1M", "--volume", "0 mL", "--reagent", "NaOH=1M"],
+    ["HCl=1M", "--reagent", "NaOH=1M"],
+    ["HCl=1M", "--volume", "1L", "--reagent", "Foo=1M"],
+    ["HCl=1M", "--volume", "1L", "--reagent", "NaOH=1M", "--target", "15"],
+    ["HCl=1M", "--volume", "1L", "--reagent", "NaOH=1M", "--target", "x"],
+    ["HCl=1M", "--volume", "1L", "--reagent", "NaOH=1M", "--window", "9:6"],
+    ["HCl=1M", "--volume", "1L", "--reagent", "NaOH=1M", "--window", "6"],
+    ["HCl=1M", "--volume", "1L", "--reagent", "HCl=1M"],
+    ["HCl=1M", "--volume", "1L", "--reagent", "NaOH=90%"],
+    ["--reagent", "NaOH=1M"],
+])
+def test_bad_input_exit_2(capsys, argv):
+    rc, out, err = run(capsys, *argv)
+    assert rc == 2
+    assert err.startswith("carboy: ") and "Traceback" not in err
+    assert len(err.strip().splitlines()) == 1

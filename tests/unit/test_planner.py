@@ -1,0 +1,136 @@
+"""Unit tests of the planner: shape, direction, validation, carbonate, heat bookkeeping."""
+
+import numpy as np
+import pytest
+
+from carboy.errors import InvalidInput
+from carboy.model.mixture import Mixture
+from carboy.model.planner import plan_neutralization
+from carboy.model.reagents import parse_reagent
+
+JSON_KEYS = {"initial_pH", "proton_equivalents_mol", "full", "to_target", "window", "heat_kj",
+             "temperature_rise_c", "gas_l", "vented_pH", "stages", "curve",
+             "equivalence_points", "precipitates", "cautions"}
+
+
+def acid(volume_l=0.1, **totals):
+    return Mixture(totals or {"Cl-": 0.1}, volume_l=volume_l)
+
+
+def test_to_dict_keys():
+    d = plan_neutralization(acid(), parse_reagent("NaOH=1M")).to_dict()
+    assert JSON_KEYS <= set(d)
+    assert {"reagent_mol", "reagent_volume_l", "reagent_mass_g", "pH"} <= set(d["full"])
+    assert {"target_pH", "reagent_mol", "reagent_volume_l", "reagent_mass_g", "pH",
+            "final_volume_l"} <= set(d["to_target"])
+    assert d["vented_pH"] is None and d["gas_l"] == 0
+    assert all({"code", "severity", "text"} == set(c) for c in d["cautions"])
+    assert len(d["curve"]) == 400
+
+
+def test_solid_has_no_volume():
+    d = plan_neutralization(acid(), parse_reagent("NaOH")).to_dict()
+    assert d["full"]["reagent_volume_l"] is None
+
+
+def test_every_proton_counts_what_was_added():
+    # NaH2PO4 has two dissociable protons per phosphate, H3PO4 three
+    p = plan_neutralization(Mixture({"Na+": 0.1, "phosphate": 0.1}, volume_l=1.0),
+                            parse_reagent("NaOH=1M"))
+    assert p.proton_equivalents_mol == pytest.approx(0.2)
+    p = plan_neutralization(Mixture({"phosphate": 0.1}, volume_l=1.0), parse_reagent("NaOH=1M"))
+    assert p.proton_equivalents_mol == pytest.approx(0.3)
+    assert p.bound_protons_at_target["phosphate"] < 2.0
+
+
+def test_breakdown_names_strong_acids():
+    p = plan_neutralization(Mixture({"Cl-": 0.1, "sulfate": 0.05}, volume_l=1.0),
+                            parse_reagent("NaOH=1M"))
+    assert p.breakdown["hydrochloric acid"] == pytest.approx(0.1)
+    assert sum(p.breakdown.values()) == pytest.approx(p.proton_equivalents_mol)
+
+
+def test_alkaline_waste_takes_acid():
+    p = plan_neutralization(Mixture({"Na+": 0.1}, volume_l=1.0), parse_reagent("HCl=1M"))
+    assert p.direction == "acid"
+    assert p.proton_equivalents_mol == pytest.approx(-0.1)
+    assert p.to_target.pH == pytest.approx(7.0, abs=1e-6)
+
+
+def test_wrong_direction_is_clear():
+    with pytest.raises(InvalidInput, match="needs a base"):
+        plan_neutralization(acid(), parse_reagent("HCl=1M"))
+    with pytest.raises(InvalidInput, match="needs an acid"):
+        plan_neutralization(Mixture({"Na+": 0.1}, volume_l=1.0), parse_reagent("NaOH=1M"))
+
+
+@pytest.mark.parametrize("kw", [{"target_pH": 15}, {"target_pH": -1}, {"window": (9, 6)},
+                                {"window": (6, 6)}, {"activity": "pitzer"}, {"curve_points": 3}])
+def test_bad_arguments(kw):
+    with pytest.raises(InvalidInput):
+        plan_neutralization(acid(), parse_reagent("NaOH=1M"), **kw)
+
+
+def test_no_volume():
+    with pytest.raises(InvalidInput):
+        plan_neutralization(Mixture({"Cl-": 0.1}), parse_reagent("NaOH=1M"))
+
+
+def test_stages_add_up_and_end_at_target():
+    p = plan_neutralization(acid(), parse_reagent("NaOH=1M"))
+    assert sum(s.add_mol for s in p.stages) == pytest.approx(p.to_target.reagent_mol)
+    assert p.stages[-1].pH_after == pytest.approx(7.0, abs=1e-6)
+    assert [s.pH_after for s in p.stages] == sorted(s.pH_after for s in p.stages)
+
+
+def test_carbonate_gas_and_venting():
+    p = plan_neutralization(Mixture({"Cl-": 0.5}, volume_l=1.0), parse_reagent("NaHCO3"))
+    assert p.gas_l > 0 and p.vented_pH is not None
+    assert "1 atm" in p.gas_conditions
+    assert "co2-foaming" in {c.code for c in p.cautions}
+    # vented to air, the solution loses more CO2 and its pH rises
+    assert p.vented_pH > p.to_target.pH
+
+
+def test_hf_waste_is_not_a_drain_plan():
+    p = plan_neutralization(Mixture({"fluoride": 0.1}, volume_l=1.0), parse_reagent("NaOH=1M"))
+    assert not p.drain_plan
+    assert p.cautions[0].code == "not-a-drain-plan"
+    assert "NOT a drain-disposal plan" in p.cautions[0].text
+
+
+def test_hazards_from_store_are_used():
+    p = plan_neutralization(acid(), parse_reagent("NaOH=1M"), hazards=frozenset({"heavy_metal"}))
+    assert not p.drain_plan
+
+
+def test_slurry_reagent_cautions():
+    p = plan_neutralization(acid(), parse_reagent("Ca(OH)2"))
+    assert "slurry-reagent" in {c.code for c in p.cautions}
+
+
+def test_gypsum_expected():
+    # 0.5 M H2SO4 with Ca(OH)2: Ca2+ and SO4 2- far above gypsum's solubility
+    p = plan_neutralization(Mixture({"sulfate": 0.5}, volume_l=1.0), parse_reagent("Ca(OH)2"))
+    gyp = [x for x in p.precipitates if x.solid.startswith("CaSO4")]
+    assert gyp and gyp[0].expected
+    assert "sludge" in {c.code for c in p.cautions}
+
+
+def test_heat_of_strong_neutralization_per_mol():
+    p = plan_neutralization(Mixture({"Cl-": 0.01}, volume_l=1.0), parse_reagent("NaOH=1M"),
+                            activity="ideal")
+    assert p.heat_kj / p.to_target.reagent_mol == pytest.approx(-55.815, rel=2e-3)
+
+
+def test_solid_naoh_adds_heat_of_solution():
+    a = plan_neutralization(acid(), parse_reagent("NaOH=1M"), activity="ideal")
+    b = plan_neutralization(acid(), parse_reagent("NaOH"), activity="ideal")
+    n = b.to_target.reagent_mol
+    assert b.heat_kj - a.heat_kj == pytest.approx(-44.5 * n, rel=0.02)
+
+
+def test_curve_is_monotone_for_base():
+    p = plan_neutralization(Mixture({"phosphate": 0.05, "Cl-": 0.02}, volume_l=1.0),
+                            parse_reagent("NaOH=1M"))
+    assert np.all(np.diff(p.curve[:, 1]) > -1e-9)
