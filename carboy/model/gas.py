@@ -1,13 +1,9 @@
 """CO2 from carbonate: solubility, gas volume, and the charge balance of a titration
 with or without dissolved CO2 held at equilibrium with a gas phase.
 
-The speciation solver treats every solution as closed.  When CO2 can leave, the
-dissolved CO2 is fixed instead (``[CO2(aq)] = K_H·p_CO2``) and total carbonate becomes
-an unknown.  :class:`TitrationModel` solves that open system exactly: with [CO2(aq)]
-fixed, [HCO3-] and [CO3 2-] follow from [H+] alone, so the charge balance is again one
-monotone equation in log10[H+] (its derivative stays positive), solved by Newton steps
-inside a bracket, with the Davies ionic strength iterated to self-consistency exactly as
-the speciation solver does.
+When CO2 can leave, the dissolved CO2 is fixed instead (``[CO2(aq)] = K_H·p_CO2``) and
+total carbonate becomes an unknown: the speciation solver's ``held`` option solves that
+open system exactly.  :class:`TitrationModel` wraps the solver for a titration.
 
 The same model gives the inverse of a titration curve: at a fixed pH (and ionic
 strength) the charge balance, multiplied by the volume, is *linear* in the amount of
@@ -24,16 +20,14 @@ import numpy as np
 
 from carboy.errors import InvalidInput
 from carboy.model import water
-from carboy.model.mixture import Mixture
-from carboy.model.speciation import pka_at
+from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
+from carboy.model.speciation import BatchSpeciation, speciate_batch, state_at
 from carboy.model.thermo import planning_constants
 
 LN10 = math.log(10.0)
 R_J_MOL_K = 8.31446261815324
 """Molar gas constant, J/(mol K): exact since the 2019 SI (N_A·k)."""
 CARBONATE = "carbonate"
-X_TOL = 1e-13
-MAX_ITER = 200
 I_RTOL = 1e-11
 MAX_I_ITER = 40
 
@@ -72,23 +66,26 @@ def gas_conditions(temperature_c: float) -> str:
 
 @dataclass(frozen=True)
 class State:
-    """Solved states of N points of a titration.  Concentrations mol/L, amounts mol."""
+    """Solved states of N points of a titration (the solver's result, plus volumes)."""
 
     n_reagent: np.ndarray
     volume_l: np.ndarray
-    x: np.ndarray                  # log10 [H+]
-    pH: np.ndarray
-    ionic_strength_molar: np.ndarray
-    species_molar: np.ndarray      # (N, K, M) concentration of each state of each system
-    oh_molar: np.ndarray
-    charge_residual_molar: np.ndarray
+    result: BatchSpeciation
 
-    def carbonate_molar(self, k: int) -> np.ndarray:
-        return self.species_molar[:, k, :].sum(axis=1)
+    @property
+    def pH(self) -> np.ndarray:  # noqa: N802
+        return self.result.pH
+
+    def carbonate_molar(self) -> np.ndarray:
+        """Total carbonate left in solution at each point, mol/L."""
+        return self.result.system_totals_molar[:, self.result.system_keys.index(CARBONATE)]
 
 
 class TitrationModel:
     """The sample plus ``n`` mol of a reagent of given composition, at one temperature.
+
+    Forward states come from the speciation solver (closed, or open with CO2(aq) held);
+    the inverse (the amount that reaches a pH) uses its fractions at that pH.
 
     Parameters
     ----------
@@ -102,91 +99,37 @@ class TitrationModel:
                  *, activity: str, catalog) -> None:
         if sample.volume_l is None:
             raise InvalidInput("sample volume", None, "a plan needs the sample's volume")
-        keys = tuple(sorted(set(sample.totals) | {k for k, v in composition.items() if v}))
-        self.keys = keys
+        self.sample = sample
+        self.composition = {k: float(v) for k, v in composition.items() if v}
+        self.keys = tuple(sorted(set(sample.totals) | set(self.composition)))
         self.v0 = float(sample.volume_l)
         self.lpm = float(l_per_mol)
         self.temperature_c = sample.temperature_c
-        t = sample.temperature_c
-        n0 = np.array([sample.totals.get(k, 0.0) * self.v0 for k in keys])
-        per = np.array([float(composition.get(k, 0.0)) for k in keys])
-        ion_cols, ion_z, sys_cols, systems, pkas = [], [], [], [], []
-        for col, key in enumerate(keys):
-            if key in catalog.ions:
-                ion_cols.append(col)
-                ion_z.append(catalog.ions[key].charge)
-                continue
-            s = catalog.systems[key]
-            if s.strong_steps == s.n_steps:
-                ion_cols.append(col)
-                ion_z.append(s.bottom_charge)
-                continue
-            sys_cols.append(col)
-            systems.append(s)
-            pkas.append(pka_at(s, t)[s.strong_steps:])
-        self.systems = tuple(systems)
-        self.sys_keys = tuple(s.key for s in systems)
-        k = len(systems)
-        m = max([s.n_steps - s.strong_steps + 1 for s in systems], default=1)
-        self.logk = np.zeros((k, max(m - 1, 0)))
-        self.zacid = np.zeros((k, max(m - 1, 0)))
-        self.z = np.zeros((k, m))
-        self.valid = np.zeros((k, m), dtype=bool)
-        for i, s in enumerate(systems):
-            n_st = s.n_steps - s.strong_steps + 1
-            charges = [s.charge_of(j) for j in range(s.strong_steps, s.n_steps + 1)]
-            self.logk[i, : n_st - 1] = -np.asarray(pkas[i])
-            self.zacid[i, : n_st - 1] = charges[:-1]
-            self.z[i, :n_st] = charges
-            self.valid[i, :n_st] = True
-        self.step_valid = self.valid[:, 1:]
-        self.sys_n0 = n0[sys_cols]
-        self.sys_per = per[sys_cols]
-        iz = np.asarray(ion_z, dtype=float)
-        self.q0 = float(n0[ion_cols] @ iz) if ion_cols else 0.0
-        self.q_per = float(per[ion_cols] @ iz) if ion_cols else 0.0
-        self.i0 = 0.5 * float(n0[ion_cols] @ iz**2) if ion_cols else 0.0
-        self.i_per = 0.5 * float(per[ion_cols] @ iz**2) if ion_cols else 0.0
-        self.carb = self.sys_keys.index(CARBONATE) if CARBONATE in self.sys_keys else None
-        self.pkw = water.pkw(t)
-        self.a_dh = water.debye_huckel_a(t) if activity == "davies" else 0.0
         self.activity = activity
-
-    # ------------------------------------------------------------------ internals
-
-    def _conditional(self, ionic):
-        sq = np.sqrt(ionic)
-        ad = self.a_dh * (sq / (1.0 + sq) - 0.3 * ionic)
-        log_kw = -self.pkw + 2.0 * ad
-        logk_c = self.logk[None] - 2.0 * ad[:, None, None] * (self.zacid[None] - 1.0)
-        logk_c = np.where(self.step_valid[None], logk_c, 0.0)
-        n = ionic.shape[0]
-        logbeta = np.concatenate([np.zeros((n, self.z.shape[0], 1)),
-                                  np.cumsum(logk_c, axis=2)], axis=2)
-        return ad, log_kw, logbeta
-
-    def _alpha(self, x, logbeta):
-        j = np.arange(self.z.shape[1], dtype=float)
-        t = logbeta - j[None, None, :] * x[:, None, None]
-        t = np.where(self.valid[None], t, -np.inf)
-        t = t - t.max(axis=2, keepdims=True)
-        e = np.exp(t * LN10)
-        return e / e.sum(axis=2, keepdims=True)
-
-    def _capped(self, x, logbeta, co2):
-        """Carbonate species concentrations with [CO2(aq)] = co2: (N, M)."""
-        k = self.carb
-        j = np.arange(self.z.shape[1], dtype=float)
-        c = co2[:, None] * np.exp((logbeta[:, k, :] - j[None, :] * x[:, None]) * LN10)
-        return np.where(self.valid[k][None], c, 0.0)
-
-    def _amounts(self, n, carbonate_mol):
-        sys_n = self.sys_n0[None, :] + n[:, None] * self.sys_per[None, :]
-        if carbonate_mol is not None and self.carb is not None:
-            sys_n[:, self.carb] = carbonate_mol
-        return sys_n
+        self.catalog = catalog
+        self.n0 = np.array([sample.totals.get(k, 0.0) * self.v0 for k in self.keys])
+        self.per = np.array([self.composition.get(k, 0.0) for k in self.keys])
+        weak = CARBONATE in catalog.systems and catalog.systems[CARBONATE].strong_steps < \
+            catalog.systems[CARBONATE].n_steps
+        self.carb = self.keys.index(CARBONATE) if weak and CARBONATE in self.keys else None
+        self.co2_label = catalog.systems[CARBONATE].species[0] if weak else None
+        ion_z = [catalog.ions[k].charge if k in catalog.ions else None for k in self.keys]
+        for j, k in enumerate(self.keys):  # an all-strong system acts as its anion
+            if ion_z[j] is None and catalog.systems[k].strong_steps == catalog.systems[k].n_steps:
+                ion_z[j] = catalog.systems[k].bottom_charge
+        self.ion_cols = np.array([j for j, z in enumerate(ion_z) if z is not None], dtype=int)
+        self.ion_z = np.array([z for z in ion_z if z is not None], dtype=float)
 
     # ------------------------------------------------------------------ forward
+
+    def _batch(self, n: np.ndarray, carbonate_mol=None) -> tuple[MixtureBatch, np.ndarray]:
+        b, vol = titration_batch(self.sample, self.composition, n, self.lpm)
+        if carbonate_mol is not None and self.carb is not None:
+            tot = b.totals.copy()
+            tot[:, b.keys.index(CARBONATE)] = np.maximum(
+                np.broadcast_to(np.asarray(carbonate_mol, dtype=float), n.shape), 0.0) / vol
+            b = MixtureBatch(b.keys, tot, b.temperature_c)
+        return b, vol
 
     def forward(self, n_reagent, *, carbonate_mol=None, co2_molar=None) -> State:
         """States after adding each amount ``n_reagent`` (mol).
@@ -195,73 +138,14 @@ class TitrationModel:
         ``co2_molar`` instead holds CO2(aq) fixed (open system); neither: closed.
         """
         n = np.atleast_1d(np.asarray(n_reagent, dtype=float))
-        npts = n.shape[0]
-        vol = self.v0 + n * self.lpm
-        sys_c = self._amounts(n, None if co2_molar is not None else carbonate_mol) / vol[:, None]
-        cap = None
+        held = None
         if co2_molar is not None:
             if self.carb is None:
                 raise InvalidInput("CO2 equilibrium", co2_molar, "the solution holds no carbonate")
-            sys_c[:, self.carb] = 0.0
-            cap = np.broadcast_to(np.asarray(co2_molar, dtype=float), (npts,)).copy()
-        qion = (self.q0 + n * self.q_per) / vol
-        iion = (self.i0 + n * self.i_per) / vol
-        z2 = self.z**2
-        ionic = iion.copy()
-        x = np.full(npts, -7.0)
-        for _ in range(MAX_I_ITER):
-            ad, log_kw, logbeta = self._conditional(ionic)
-            x = self._root(x, logbeta, log_kw, sys_c, qion, cap)
-            alpha = self._alpha(x, logbeta)
-            conc = sys_c[:, :, None] * alpha
-            if cap is not None:
-                conc[:, self.carb, :] = self._capped(x, logbeta, cap)
-            h = np.exp(x * LN10)
-            oh = np.exp((log_kw - x) * LN10)
-            new_i = iion + 0.5 * (h + oh) + 0.5 * (conc * z2[None]).sum(axis=(1, 2))
-            done = np.abs(new_i - ionic) <= I_RTOL * np.maximum(new_i, 1e-12)
-            ionic = new_i
-            if self.a_dh == 0.0 or done.all():
-                break
-        ad, log_kw, logbeta = self._conditional(ionic)
-        alpha = self._alpha(x, logbeta)
-        conc = sys_c[:, :, None] * alpha
-        if cap is not None:
-            conc[:, self.carb, :] = self._capped(x, logbeta, cap)
-        h = np.exp(x * LN10)
-        oh = np.exp((log_kw - x) * LN10)
-        resid = h - oh + qion + (conc * self.z[None]).sum(axis=(1, 2))
-        return State(n, vol, x, -x + ad, ionic, conc, oh, resid)
-
-    def _root(self, x, logbeta, log_kw, sys_c, qion, cap):
-        lo = np.full_like(x, -18.0)
-        hi = np.full_like(x, 3.0)
-        x = np.clip(x, lo, hi)
-        j = np.arange(self.z.shape[1], dtype=float)
-        for _ in range(MAX_ITER):
-            alpha = self._alpha(x, logbeta)
-            zbar = (alpha * self.z[None]).sum(axis=2)
-            jbar = (alpha * j).sum(axis=2)
-            var = np.maximum((alpha * j * j).sum(axis=2) - jbar * jbar, 0.0)
-            h = np.exp(x * LN10)
-            oh = np.exp((log_kw - x) * LN10)
-            f = h - oh + qion + (sys_c * zbar).sum(axis=1)
-            fp = LN10 * (h + oh + (sys_c * var).sum(axis=1))
-            if cap is not None:
-                c = self._capped(x, logbeta, cap)
-                zc = self.z[self.carb][None, :]
-                f = f + (c * zc).sum(axis=1)
-                fp = fp - LN10 * (c * zc * j[None, :]).sum(axis=1)
-            lo = np.where(f < 0, x, lo)
-            hi = np.where(f > 0, x, hi)
-            xn = x - f / fp
-            out = ~((xn > lo) & (xn < hi))
-            xn = np.where(out, 0.5 * (lo + hi), xn)
-            done = (np.abs(xn - x) < X_TOL) | (f == 0) | ((hi - lo) < X_TOL)
-            x = np.where(f == 0, x, xn)
-            if done.all():
-                break
-        return x
+            held = {CARBONATE: (self.co2_label, co2_molar)}
+        b, vol = self._batch(n, None if held else carbonate_mol)
+        res = speciate_batch(b, activity=self.activity, catalog=self.catalog, held=held)
+        return State(n, vol, res)
 
     # ------------------------------------------------------------------ inverse
 
@@ -277,49 +161,53 @@ class TitrationModel:
         ph = np.atleast_1d(np.asarray(ph, dtype=float))
         t = ph.shape[0]
         loss = np.broadcast_to(np.asarray(carbonate_loss_mol, dtype=float), (t,))
-        z2 = self.z**2
-        ionic = np.full(t, ionic_guess if ionic_guess is not None else self.i0 / self.v0)
-        cap = None if co2_molar is None else np.full(t, float(co2_molar))
+        ionic = np.full(t, ionic_guess if ionic_guess is not None
+                        else 0.5 * float(self.n0[self.ion_cols] @ self.ion_z**2) / self.v0)
         n = np.full(t, np.nan)
+        ok = np.zeros(t, dtype=bool)
         for _ in range(MAX_I_ITER):
-            ad, log_kw, logbeta = self._conditional(ionic)
-            x = -ph + ad
-            alpha = self._alpha(x, logbeta)
-            zbar = (alpha * self.z[None]).sum(axis=2)
-            h = np.exp(x * LN10)
-            oh = np.exp((log_kw - x) * LN10)
-            free = h - oh
-            n0, per = self.sys_n0.copy(), self.sys_per.copy()
-            a = free * self.v0 + self.q0 + zbar @ n0 if zbar.size else free * self.v0 + self.q0
-            b = free * self.lpm + self.q_per + (zbar @ per if zbar.size else 0.0)
+            st = state_at(self.keys, ph, ionic, temperature_c=self.temperature_c,
+                          activity=self.activity, catalog=self.catalog)
+            x = st.log_h
+            cols = [self.keys.index(k) for k in st.system_keys]
+            zbar = st.mean_charge                                    # (t, K)
+            z2bar = (st.fractions * st.charges[None] ** 2).sum(axis=2)
+            h = 10.0 ** x
+            oh = 10.0 ** (st.log_kw_conditional - x)
+            sys_n0 = np.broadcast_to(self.n0[cols], zbar.shape).copy()
+            sys_per = np.broadcast_to(self.per[cols], zbar.shape).copy()
+            open_c = None
             if self.carb is not None:
-                k = self.carb
-                if cap is not None:
-                    c = self._capped(x, logbeta, cap)
-                    zc = (c * self.z[k][None, :]).sum(axis=1)
-                    a = a - zbar[:, k] * n0[k] + zc * self.v0
-                    b = b - zbar[:, k] * per[k] + zc * self.lpm
+                kc = st.system_keys.index(CARBONATE)
+                if co2_molar is not None:
+                    # held CO2(aq): total carbonate per litre = co2 / alpha0
+                    open_c = float(co2_molar) / st.fractions[:, kc, 0]
+                    sys_n0[:, kc] = 0.0
+                    sys_per[:, kc] = 0.0
                 else:
-                    a = a - zbar[:, k] * loss
+                    sys_n0[:, kc] -= loss
+            a = (h - oh) * self.v0 + self.n0[self.ion_cols] @ self.ion_z + (zbar * sys_n0).sum(1)
+            b = (h - oh) * self.lpm + self.per[self.ion_cols] @ self.ion_z + (zbar * sys_per).sum(1)
+            if open_c is not None:
+                a = a + zbar[:, kc] * open_c * self.v0
+                b = b + zbar[:, kc] * open_c * self.lpm
             with np.errstate(divide="ignore", invalid="ignore"):
                 n = -a / b
             ok = np.isfinite(n) & (n >= 0)
             nn = np.where(ok, n, 0.0)
             vol = self.v0 + nn * self.lpm
-            sys_amt = self._amounts(nn, None)
-            if self.carb is not None and cap is None:
-                sys_amt[:, self.carb] -= loss
-            conc = sys_amt[:, :, None] / vol[:, None, None] * alpha
-            if cap is not None:
-                conc[:, self.carb, :] = self._capped(x, logbeta, cap)
-            new_i = ((self.i0 + nn * self.i_per) / vol + 0.5 * (h + oh)
-                     + 0.5 * (conc * z2[None]).sum(axis=(1, 2)))
+            tot = (sys_n0 + nn[:, None] * sys_per) / vol[:, None]
+            if open_c is not None:
+                tot[:, kc] = open_c
+            ions = (self.n0[self.ion_cols][None] + nn[:, None] * self.per[self.ion_cols][None])
+            new_i = (0.5 * (ions @ self.ion_z**2) / vol + 0.5 * (h + oh)
+                     + 0.5 * (tot * z2bar).sum(axis=1))
             new_i = np.where(ok, new_i, ionic)
             done = np.abs(new_i - ionic) <= I_RTOL * np.maximum(new_i, 1e-12)
             ionic = new_i
-            if self.a_dh == 0.0 or done.all():
+            if self.activity == "ideal" or done.all():
                 break
-        return np.where(np.isfinite(n) & (n >= 0), n, np.nan)
+        return np.where(ok, n, np.nan)
 
     # ------------------------------------------------------------------ carbonate
 
@@ -328,7 +216,7 @@ class TitrationModel:
         if self.carb is None:
             return np.zeros_like(np.atleast_1d(n), dtype=float)
         k = self.carb
-        return self.sys_n0[k] + np.atleast_1d(n) * self.sys_per[k]
+        return self.n0[k] + np.atleast_1d(np.asarray(n, dtype=float)) * self.per[k]
 
     def saturation_loss_mol(self, n, co2_molar: float) -> np.ndarray:
         """CO2 that must leave at ``n`` for CO2(aq) to fall to ``co2_molar`` (0 if below)."""
@@ -339,6 +227,6 @@ class TitrationModel:
         need = total / (self.v0 + n * self.lpm) > co2_molar
         if need.any():
             st = self.forward(n[need], co2_molar=co2_molar)
-            kept = st.carbonate_molar(self.carb) * st.volume_l
+            kept = st.carbonate_molar() * st.volume_l
             out[need] = np.maximum(total[need] - kept, 0.0)
         return out

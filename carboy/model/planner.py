@@ -512,30 +512,38 @@ def _carbonate_doses(model: gas.TitrationModel, targets, n_full, s_sat, points):
         lc = model.saturation_loss_mol(grid, s_sat)
         run = np.maximum.accumulate(lc)
 
-        def loss_of(n, grid=grid, run=run):
-            n = np.atleast_1d(np.asarray(n, dtype=float))
-            idx = np.searchsorted(grid, n, side="right") - 1
-            prior = run[np.clip(idx, 0, len(run) - 1)]
-            return np.maximum(prior, model.saturation_loss_mol(n, s_sat))
+        def prior_loss(n, grid=grid, run=run):
+            """The largest loss on the curve before ``n`` (lost CO2 never returns)."""
+            idx = np.searchsorted(grid, np.atleast_1d(n), side="right") - 1
+            return run[np.clip(idx, 0, len(run) - 1)]
 
+        def loss_of(n, prior_loss=prior_loss):
+            n = np.atleast_1d(np.asarray(n, dtype=float))
+            return np.maximum(prior_loss(n), model.saturation_loss_mol(n, s_sat))
+
+        # a dose found with CO2(aq) at saturation stands if the loss there is the
+        # largest so far; the others are refined with the loss carried from before
+        # (all targets at once: one solve per step, not one per target)
         doses = np.full(len(targets), np.nan)
-        for i, ph in enumerate(targets):
-            n = n_cap[i]
-            if np.isfinite(n):
-                here = model.saturation_loss_mol([n], s_sat)[0]
-                if here >= loss_of([n])[0] * (1 - 1e-9) and here > 0:
-                    doses[i] = n
-                    continue
-            loss = float(loss_of([n if np.isfinite(n) else 0.0])[0])
-            for _ in range(4):
-                n = float(model.amount_at_pH([ph], carbonate_loss_mol=loss)[0])
-                if not np.isfinite(n):
-                    break
-                new = float(loss_of([n])[0])
-                if abs(new - loss) <= 1e-12 + 1e-9 * loss:
-                    break
-                loss = new
-            doses[i] = n
+        fin = np.isfinite(n_cap)
+        start = np.where(fin, n_cap, 0.0)
+        here = model.saturation_loss_mol(start, s_sat)
+        prior = prior_loss(start)
+        accept = fin & (here > 0) & (here >= prior * (1 - 1e-9))
+        doses[accept] = n_cap[accept]
+        todo = np.flatnonzero(~accept)
+        loss = np.maximum(prior, here)[todo]
+        for _ in range(4):
+            if todo.size == 0:
+                break
+            n = model.amount_at_pH(targets[todo], carbonate_loss_mol=loss)
+            doses[todo] = n
+            ok = np.isfinite(n)
+            new = loss.copy()
+            if ok.any():
+                new[ok] = loss_of(n[ok])
+            moving = ok & (np.abs(new - loss) > 1e-12 + 1e-9 * loss)
+            todo, loss = todo[moving], new[moving]
         far = np.nanmax(np.r_[doses, 0.0])
         if CURVE_SPAN * far <= span * 1.0001:
             break

@@ -364,6 +364,7 @@ def _bracket(q, p, log_kw):
 
 
 _NMOM = 12
+_POS_NEG_Z2 = [2, 3, 6]
 """Moments per system, the columns of ``_Layout.wmat``: sums of e times
 1, j, z+, z-, j z+, j z-, z², c, c z+, c z-, j z², c z² (c: the activity term of cmat)."""
 
@@ -421,7 +422,7 @@ def _moments(x, ad, lay: _Layout, am: _Amounts, want_alpha: bool = False,
         mom = (e @ lay.flat_w).reshape(n, k, _NMOM)
     ssum = mom[:, :, 0].copy()
     mom /= mom[:, :, :1]
-    jbar, pos, neg, z2 = mom[:, :, 1], mom[:, :, 2], mom[:, :, 3], mom[:, :, 6]
+    jbar = mom[:, :, 1]
     cbar = mom[:, :, 7]
     if am.held is None:
         ceff, jref, cref = am.c, jbar, cbar
@@ -431,14 +432,15 @@ def _moments(x, ad, lay: _Layout, am: _Amounts, want_alpha: bool = False,
             ceff = np.where(am.mask, am.held * ssum / e0, am.c)
         jref = np.where(am.mask, am.j0, jbar)
         cref = np.where(am.mask, am.c0, cbar)
-    cols = [pos, neg, -LN10 * (mom[:, :, 4] - jref * pos), -LN10 * (mom[:, :, 5] - jref * neg),
-            z2]
+    # sums over systems: a = sum C m_w, b = sum C jref m_w, c = sum C cref m_w
+    a = np.einsum("nk,nkw->wn", ceff, mom)
+    b = np.einsum("nk,nkw->wn", ceff * jref, mom[:, :, _POS_NEG_Z2])
+    out = {"pos": a[2], "neg": a[3], "iz2": a[6],
+           "dpos": -LN10 * (a[4] - b[0]), "dneg": -LN10 * (a[5] - b[1])}
     if want_jac:
-        cols += [-LN10 * (mom[:, :, 10] - jref * z2),
-                 -2 * LN10 * (mom[:, :, 8] - cref * pos), -2 * LN10 * (mom[:, :, 9] - cref * neg),
-                 -2 * LN10 * (mom[:, :, 11] - cref * z2)]
-    tot = np.einsum("nk,nkw->wn", ceff, np.stack(cols, axis=2))
-    out = dict(zip(("pos", "neg", "dpos", "dneg", "iz2", "diz2", "apos", "aneg", "aiz2"), tot))
+        c = np.einsum("nk,nkw->wn", ceff * cref, mom[:, :, _POS_NEG_Z2])
+        out.update(diz2=-LN10 * (a[10] - b[2]), apos=-2 * LN10 * (a[8] - c[0]),
+                   aneg=-2 * LN10 * (a[9] - c[1]), aiz2=-2 * LN10 * (a[11] - c[2]))
     out["ceff"] = ceff
     if want_alpha:
         if not lay.needs_shift:
@@ -795,6 +797,53 @@ def _warning_texts(high_i: bool, bad: bool, hot: bool, ideal: bool) -> tuple[str
     if bad:
         out.append("the solver did not reach its tolerance: the result is approximate")
     return tuple(out)
+
+
+@dataclass(frozen=True)
+class StateAt:
+    """Fractions of every system at a given log10[H+] and ionic strength (no solve)."""
+
+    system_keys: tuple[str, ...]
+    system_labels: tuple[tuple[str, ...], ...]
+    fractions: np.ndarray
+    """(N, K, M) fraction of system k in state j."""
+    charges: np.ndarray
+    """(K, M) charge of each state (0 where padded)."""
+    log_h: np.ndarray
+    """(N,) log10 of the concentration of H+."""
+    log_kw_conditional: np.ndarray
+    """(N,) log10([H+][OH-]) at that ionic strength."""
+
+    @property
+    def mean_charge(self) -> np.ndarray:
+        """(N, K) mean charge of each system."""
+        return (self.fractions * self.charges[None]).sum(axis=2)
+
+
+def state_at(keys: tuple[str, ...], ph, ionic_strength, *, temperature_c: float = 25.0,
+             activity: str = "davies", catalog=None) -> StateAt:
+    """The speciation's building block for inverse problems (the dose that reaches a pH).
+
+    ``ph`` is -log10 a(H+) as the solver reports it; ``ionic_strength`` in mol/L (one
+    per point, or one for all).  Same constants and activity model as the solver.
+    ``log_h`` of the result is log10 of the concentration of H+.
+    """
+    if activity not in ACTIVITY_MODELS:
+        raise InvalidInput("activity model", activity, f"choose one of {', '.join(ACTIVITY_MODELS)}")
+    if catalog is None:
+        from carboy.model.catalog import default_catalog
+
+        catalog = default_catalog()
+    t_c = water.check_temperature(temperature_c)
+    lay = _cached_layout(catalog, tuple(keys), t_c)
+    ph = np.atleast_1d(np.asarray(ph, dtype=float))
+    ionic = np.broadcast_to(np.asarray(ionic_strength, dtype=float), ph.shape)
+    a_dh = water.debye_huckel_a(t_c) if activity == "davies" else 0.0
+    ad = a_dh * _davies_d(ionic)
+    x = ad - ph  # pH = -(x + log10 gamma_H) with log10 gamma_H = -ad
+    alpha = _moments(x, ad, lay, _Amounts(np.ones((x.shape[0], len(lay.sys_keys)))),
+                     want_alpha=True)["alpha"]
+    return StateAt(lay.sys_keys, lay.sys_labels, alpha, lay.z, x, 2.0 * ad - water.pkw(t_c))
 
 
 def _solve_one(lay: _Layout, row, pkw: float, a_dh: float):

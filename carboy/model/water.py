@@ -10,6 +10,7 @@ error of 0.1 % moves pKw by about 0.001).
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 import numpy as np
 
@@ -62,6 +63,7 @@ def pkw_iapws(temperature_k: float, density: float) -> float:
             + pkw_g + 2.0 * math.log10(_MW / 1000.0))
 
 
+@lru_cache(maxsize=256)
 def pkw(temperature_c: float) -> float:
     """pKw of liquid water at 0.1 MPa (saturation pressure at 100 °C), 0–100 °C."""
     t = check_temperature(temperature_c)
@@ -78,6 +80,7 @@ def relative_permittivity(temperature_c: float) -> float:
     return 87.740 - 0.40008 * t + 9.398e-4 * t**2 - 1.410e-6 * t**3
 
 
+@lru_cache(maxsize=256)
 def debye_huckel_a(temperature_c: float) -> float:
     """Debye–Hückel limiting-law constant A (log10, kg^1/2 mol^-1/2).
 

@@ -64,3 +64,13 @@ def test_shifted_layout_for_extreme_ladders_agrees(catalog, monkeypatch):
     assert one.pH == pytest.approx(float(res.pH[0]), abs=1e-9)
     monkeypatch.setattr(sp, "COUPLED_ITER", 0)
     assert sp.speciate(mix, catalog=cat).pH == pytest.approx(float(res.pH[0]), abs=1e-9)
+
+
+def test_state_at_reproduces_the_solved_fractions(catalog):
+    mix = mixtures(catalog)[0]
+    batch = MixtureBatch.of([mix])
+    res = sp.speciate_batch(batch, catalog=catalog)
+    st = sp.state_at(batch.keys, res.pH, res.ionic_strength_molar, catalog=catalog)
+    assert st.system_keys == res.system_keys
+    np.testing.assert_allclose(st.fractions, res.fractions, rtol=1e-9, atol=1e-300)
+    np.testing.assert_allclose(st.log_h, res.log_h, atol=1e-12)
