@@ -44,6 +44,8 @@ class Facts:
     final_temperature_c: float = 25.0
     gas_l: float = 0.0
     carbonate_present: bool = False
+    pH_before_venting: float | None = None
+    vented_pH: float | None = None
     sensitivity_pH_per_percent: float = 0.0
     ionic_strength_molar: float = 0.0
     max_total_molar: float = 0.0
@@ -119,6 +121,13 @@ RULES: tuple[Rule, ...] = (
         f"CO2 is given off ({f.gas_l:.3g} L predicted): foaming and pressure. Use an open, "
         "oversized container (at least 3-4 times the liquid volume), add in small portions, "
         "let the foam settle; never cap or seal the container while gas may still form.")),
+    ("co2-reading", "notice",
+     lambda f: f.pH_before_venting is not None and f.vented_pH is not None
+     and abs(f.vented_pH - f.pH_before_venting) >= 0.2, lambda f: (
+        f"Dissolved CO2 holds the pH down at first: right after the last addition expect "
+        f"about pH {f.pH_before_venting:.1f}, rising towards {f.vented_pH:.1f} as the CO2 "
+        "escapes. Stir, wait until the fizzing stops and measure again before adding more, "
+        "or the batch overshoots.")),
     ("slurry-reagent", "notice", lambda f: f.reagent_is_slurry, lambda f: (
         f"{f.reagent_key} is only slightly soluble ({f.slurry_limit}): feed it as a stirred "
         "slurry; it dissolves as it reacts, so the pH lags the addition - wait and stir "

@@ -116,6 +116,7 @@ class Plan:
     gas_conditions: str
     vented_pH: float | None
     vent_pco2_atm: float | None
+    pH_before_venting: float | None
     stages: tuple[Stage, ...]
     sensitivity_pH_per_percent: float
     curve: np.ndarray
@@ -126,6 +127,7 @@ class Plan:
     hazards: frozenset[str]
     drain_plan: bool
     assumptions: tuple[str, ...] = ()
+    vented_gas_l: float = 0.0
     curve_speciation: BatchSpeciation | None = field(default=None, repr=False, compare=False)
     curve_volume_l: np.ndarray | None = field(default=None, repr=False, compare=False)
 
@@ -155,6 +157,8 @@ class Plan:
             "gas_conditions": self.gas_conditions,
             "vented_pH": self.vented_pH,
             "vent_pco2_atm": self.vent_pco2_atm,
+            "pH_before_venting": self.pH_before_venting,
+            "vented_gas_l": self.vented_gas_l,
             "stages": [s.to_dict() for s in self.stages],
             "sensitivity_pH_per_percent": self.sensitivity_pH_per_percent,
             "curve": self.curve.tolist(),
@@ -334,26 +338,31 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     targets = np.array([target, lo_w, hi_w])
     carbonate = model.carb is not None
     s_sat = gas.henry_co2_molar_per_atm(t_c) * 1.0
+    pco2 = gas.air_pco2_atm() if carbonate else None
+    s_air = gas.henry_co2_molar_per_atm(t_c) * pco2 if carbonate else None
     if not carbonate:
         doses = model.amount_at_pH(targets)
         span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[doses, 0.0]))
         span = span if span > 0 else 1e-6
         grid = np.linspace(0.0, span, curve_points)
-        loss_of = None
+        fresh_loss = None
     else:
-        doses, grid, loss_of = _carbonate_doses(model, targets, n_full, s_sat, curve_points)
+        doses, grid, fresh_loss = _vented_doses(model, targets, n_full, s_sat, s_air,
+                                                curve_points)
     # doses on the wrong side of the start are unreachable in this direction
     for i, ph_i in enumerate(targets):
         if (direction == "base" and ph_i <= initial_pH) or (
                 direction == "acid" and ph_i >= initial_pH):
             doses[i] = 0.0
 
-    def batch_at(n):
-        b, vol = titration_batch(sample, comp, np.asarray(n, dtype=float), reagent.l_per_mol)
-        if loss_of is not None:
-            kcol = b.keys.index(gas.CARBONATE)
+    def batch_at(n, *, vented=True):
+        """The batch after adding ``n``: right after addition, or after venting."""
+        n = np.asarray(n, dtype=float)
+        b, vol = titration_batch(sample, comp, n, reagent.l_per_mol)
+        if fresh_loss is not None:
+            kept = _kept_carbonate_mol(model, n, fresh_loss, s_air if vented else None)
             tot = b.totals.copy()
-            tot[:, kcol] = np.maximum(tot[:, kcol] - loss_of(np.asarray(n)) / vol, 0.0)
+            tot[:, b.keys.index(gas.CARBONATE)] = kept / vol
             b = MixtureBatch(b.keys, tot, b.temperature_c)
         return b, vol
 
@@ -414,15 +423,27 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     n_end = base_t
     h_final = _state_enthalpy_kj(pres, np.array([i_tp]), pvol[[i_tp]], catalog)[0]
     h_start = _state_enthalpy_kj(curve_res, np.array([0]), cvol[[0]], catalog)[0]
-    gas_mol = float(loss_of(np.array([n_end]))[0]) if loss_of is not None else 0.0
+    gas_mol = vented_gas_mol = 0.0
+    fresh_ph = None
+    if fresh_loss is not None:
+        # right after the addition: CO2 beyond saturation at 1 atm has left
+        gas_mol = float(fresh_loss(np.array([n_end]))[0])
+        fb, _ = batch_at([n_end], vented=False)
+        fresh_ph = float(speciate_batch(fb, activity=activity, catalog=catalog).pH[0])
+        # by the time it has vented to air, more has gone: that is the final state
+        vented_gas_mol = float(model.carbonate_total_mol([n_end])[0]
+                               - _kept_carbonate_mol(model, np.array([n_end]), fresh_loss,
+                                                     s_air)[0])
     heat = h_final - h_start - n_end * _reagent_enthalpy_kj(reagent, catalog)
-    heat += gas_mol * thermo.co2_degassing_kj()
+    heat += vented_gas_mol * thermo.co2_degassing_kj()
     warnings: list[str] = []
     assumptions = [
         "heat: adiabatic batch, heat capacity of water; species enthalpies at 25 °C, "
         "infinite dilution (CODATA-derived water formation -55.815 kJ/mol)",
         f"gas volume at {gas.gas_conditions(t_c)}",
-        "CO2 beyond its solubility at 1 atm leaves as it forms and does not return",
+        "CO2 beyond its solubility at 1 atm leaves as it forms and does not return; doses, "
+        "stages and the curve are for the batch after it has vented to air (dissolved CO2 "
+        "no higher than in equilibrium with air, none taken up from it)",
         "local disposal rules set the real acceptance window",
     ]
     if reagent.is_solid:
@@ -441,12 +462,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     rise = thermo.temperature_rise_k(heat, mass, t_c)
     vm = gas.molar_volume_l(t_c, gas.gas_pressure_kpa())
     gas_l = gas_mol * vm
-    vented = None
-    pco2 = None
-    if carbonate:
-        pco2 = gas.air_pco2_atm()
-        st = model.forward([n_end], co2_molar=gas.henry_co2_molar_per_atm(t_c) * pco2)
-        vented = float(st.pH[0])
+    vented = float(ph_pts[i_tp]) if carbonate else None
 
     # ---- precipitates at the target state
     species = {lab: float(c) for lab, c in zip(pres.species_labels, pres.species_molar[i_tp])}
@@ -480,7 +496,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
         reagent_is_slurry=reagent.is_slurry, reagent_has_carbonate=reagent.has_carbonate,
         slurry_limit=slurry_limit, slurry_exceeded=slurry_exceeded,
         temperature_rise_k=rise, final_temperature_c=t_c + rise, gas_l=gas_l,
-        carbonate_present=carbonate, sensitivity_pH_per_percent=sensitivity,
+        carbonate_present=carbonate, pH_before_venting=fresh_ph, vented_pH=vented, sensitivity_pH_per_percent=sensitivity,
         ionic_strength_molar=float(pres.ionic_strength_molar[i_tp]),
         max_total_molar=max(sample.totals.values()),
         expected_solids=tuple(p.solid for p in precipitates if p.expected),
@@ -492,7 +508,8 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
         full=full, to_target=to_target, window=(lo_w, hi_w), window_doses=window_doses,
         bound_protons_at_target=bound, heat_kj=float(heat), temperature_rise_c=float(rise),
         gas_l=float(gas_l), gas_mol=gas_mol, gas_conditions=gas.gas_conditions(t_c),
-        vented_pH=vented, vent_pco2_atm=pco2, stages=tuple(stages),
+        vented_pH=vented, vent_pco2_atm=pco2, pH_before_venting=fresh_ph,
+        vented_gas_l=float(vented_gas_mol * vm), stages=tuple(stages),
         sensitivity_pH_per_percent=sensitivity, curve=curve,
         equivalence_points=equivalence, precipitates=precipitates, cautions=found,
         warnings=tuple(warnings), hazards=all_hazards,
@@ -501,53 +518,75 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     )
 
 
-def _carbonate_doses(model: gas.TitrationModel, targets, n_full, s_sat, points):
-    """Doses with the degassing model, the curve grid, and the loss function L(n)."""
-    n_cap = model.amount_at_pH(targets, co2_molar=s_sat)
-    n_closed = model.amount_at_pH(targets)
-    span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[n_cap, n_closed * 0.0, 0.0]))
+def _fresh_loss(model: gas.TitrationModel, grid: np.ndarray, s_sat: float):
+    """L(n): CO2 lost (mol) right after adding n, with saturation at 1 atm.
+
+    CO2(aq) beyond ``s_sat`` leaves as it forms, and lost CO2 never returns: the loss
+    at n is the largest loss needed anywhere along the addition up to n.
+    """
+    run = np.maximum.accumulate(model.saturation_loss_mol(grid, s_sat))
+
+    def loss_of(n):
+        n = np.atleast_1d(np.asarray(n, dtype=float))
+        idx = np.clip(np.searchsorted(grid, n, side="right") - 1, 0, len(run) - 1)
+        return np.maximum(run[idx], model.saturation_loss_mol(n, s_sat))
+
+    return loss_of
+
+
+def _kept_carbonate_mol(model: gas.TitrationModel, n: np.ndarray, fresh_loss,
+                        s_air: float | None) -> np.ndarray:
+    """Carbonate left (mol) after adding ``n``: right after the addition (``s_air``
+    None), or once vented to air, where CO2(aq) falls to ``s_air`` if it was above it
+    (carbonate only leaves; none is taken up from the air)."""
+    kept = np.maximum(model.carbonate_total_mol(n) - fresh_loss(n), 0.0)
+    if s_air is None:
+        return kept
+    air = model.forward(n, co2_molar=s_air)
+    return np.minimum(kept, air.carbonate_molar() * air.volume_l)
+
+
+def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, points):
+    """Doses that reach each target pH once the batch has vented, the curve grid, and
+    the right-after-addition loss function.
+
+    The vented pH V(n) is that of the batch holding min(C_fresh(n), C_air(n)) carbonate
+    (C_air: the total with CO2(aq) at the air's level).  Its root is either the exact
+    open-system inverse (where the min is C_air) or the fresh-state root (where it is
+    C_fresh); each candidate is checked against the min it assumed.
+    """
+    n_air = model.amount_at_pH(targets, co2_molar=s_air)
+    span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[n_air, 0.0]))
     span = span if span > 0 else 1e-6
-    for _ in range(3):
-        grid = np.linspace(0.0, span, points)
-        lc = model.saturation_loss_mol(grid, s_sat)
-        run = np.maximum.accumulate(lc)
-
-        def prior_loss(n, grid=grid, run=run):
-            """The largest loss on the curve before ``n`` (lost CO2 never returns)."""
-            idx = np.searchsorted(grid, np.atleast_1d(n), side="right") - 1
-            return run[np.clip(idx, 0, len(run) - 1)]
-
-        def loss_of(n, prior_loss=prior_loss):
-            n = np.atleast_1d(np.asarray(n, dtype=float))
-            return np.maximum(prior_loss(n), model.saturation_loss_mol(n, s_sat))
-
-        # a dose found with CO2(aq) at saturation stands if the loss there is the
-        # largest so far; the others are refined with the loss carried from before
-        # (all targets at once: one solve per step, not one per target)
-        doses = np.full(len(targets), np.nan)
-        fin = np.isfinite(n_cap)
-        start = np.where(fin, n_cap, 0.0)
-        here = model.saturation_loss_mol(start, s_sat)
-        prior = prior_loss(start)
-        accept = fin & (here > 0) & (here >= prior * (1 - 1e-9))
-        doses[accept] = n_cap[accept]
-        todo = np.flatnonzero(~accept)
-        loss = np.maximum(prior, here)[todo]
-        for _ in range(4):
-            if todo.size == 0:
-                break
+    grid = np.linspace(0.0, span, points)
+    loss_of = _fresh_loss(model, grid, s_sat)
+    doses = np.full(len(targets), np.nan)
+    ok = np.isfinite(n_air)
+    if ok.any():
+        na = n_air[ok]
+        fresh = model.carbonate_total_mol(na) - loss_of(na)
+        air = model.forward(na, co2_molar=s_air)
+        degassing = air.carbonate_molar() * air.volume_l <= fresh * (1 + 1e-9)
+        doses[np.flatnonzero(ok)[degassing]] = na[degassing]
+    todo = np.flatnonzero(np.isnan(doses))
+    if todo.size:
+        # no degassing at the target: the fresh state is the final one
+        loss = np.zeros(todo.size)
+        for _ in range(6):
             n = model.amount_at_pH(targets[todo], carbonate_loss_mol=loss)
             doses[todo] = n
-            ok = np.isfinite(n)
+            good = np.isfinite(n)
             new = loss.copy()
-            if ok.any():
-                new[ok] = loss_of(n[ok])
-            moving = ok & (np.abs(new - loss) > 1e-12 + 1e-9 * loss)
+            if good.any():
+                new[good] = loss_of(n[good])
+            moving = good & (np.abs(new - loss) > 1e-12 + 1e-9 * np.abs(loss))
+            if not moving.any():
+                break
             todo, loss = todo[moving], new[moving]
-        far = np.nanmax(np.r_[doses, 0.0])
-        if CURVE_SPAN * far <= span * 1.0001:
-            break
-        span = CURVE_SPAN * max(far, n_full)
+    far = np.nanmax(np.r_[doses, 0.0])
+    if CURVE_SPAN * far > span * 1.0001:
+        grid = np.linspace(0.0, CURVE_SPAN * max(far, n_full), points)
+        loss_of = _fresh_loss(model, grid, s_sat)
     return doses, grid, loss_of
 
 

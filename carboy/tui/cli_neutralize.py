@@ -143,10 +143,15 @@ def format_report(plan) -> str:
     lines.append(f"sample         {plan.sample.volume_l * 1000:.4g} mL at "
                  f"{plan.sample.temperature_c:g} °C, pH {plan.initial_pH:.2f} "
                  f"({'Davies activity' if plan.activity == 'davies' else 'ideal solution'})")
-    kind = "OH- needed" if plan.direction == "base" else "H+ needed (shown negative)"
-    lines.append(f"every proton   {plan.proton_equivalents_mol:.4g} mol ({kind})")
+    if plan.direction == "base":
+        lines.append(f"every proton   {plan.proton_equivalents_mol:.4g} mol OH- needed to take "
+                     "every acid to its fully deprotonated form")
+    else:
+        lines.append(f"every proton   {-plan.proton_equivalents_mol:.4g} mol H+ needed to take "
+                     "every base to its fully protonated form")
+    width = max((len(name) for name in plan.breakdown), default=0) + 2
     for name, v in plan.breakdown.items():
-        lines.append(f"                 {name:<28}{v:+.4g} mol")
+        lines.append(f"                 {name:<{width}}{v:+.4g} mol")
     lines.append(f"full dose      {_amount(plan.full, r)}")
     lines.append(f"to pH {plan.to_target.target_pH:<8g} {_amount(plan.to_target, r)}")
     lo, hi = plan.window_doses
@@ -159,10 +164,14 @@ def format_report(plan) -> str:
     lines.append(f"heat           {plan.heat_kj:.3g} kJ, temperature rise about "
                  f"{plan.temperature_rise_c:.1f} K (adiabatic, heat capacity of water)")
     if plan.gas_l or plan.vented_pH is not None:
-        lines.append(f"CO2            {plan.gas_l:.3g} L at {plan.gas_conditions}")
+        lines.append(f"CO2            {plan.gas_l:.3g} L right after adding the dose to target, "
+                     f"{plan.vented_gas_l:.3g} L once vented; at {plan.gas_conditions}")
+        if plan.pH_before_venting is not None:
+            lines.append(f"right after    pH about {plan.pH_before_venting:.2f} while the CO2 "
+                         "formed is still dissolved")
         if plan.vented_pH is not None:
             lines.append(f"after venting  pH {plan.vented_pH:.2f} (air pCO2 "
-                         f"{plan.vent_pco2_atm:.2g} atm assumed)")
+                         f"{plan.vent_pco2_atm:.2g} atm assumed; doses are for this state)")
     lines.append("")
     lines.append(f"stages (sensitivity {plan.sensitivity_pH_per_percent:.2g} pH per 1 % of dose)")
     for s in plan.stages:
