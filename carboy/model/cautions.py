@@ -90,8 +90,9 @@ RULES: tuple[Rule, ...] = (
         "plastic ware, not glass.")),
     ("oxidizing-acid", "warning",
      lambda f: bool(f.hazards & {"oxidizer", "perchloric"}), lambda f: (
-        "Oxidizing acid (nitric or perchloric) present: keep organics, solvents and reducers "
-        "away; many institutions forbid in-lab treatment of these - check before you start.")),
+        "Oxidizer present (an oxidizing acid such as nitric, perchloric or chromic, or an "
+        "oxidizing salt): keep organics, solvents and reducers away; many institutions forbid "
+        "in-lab treatment of these - check before you start.")),
     ("corrosive-ppe", "warning", lambda f: True, lambda f: (
         "Corrosive work: splash goggles and a face shield, chemical-resistant gloves, lab coat; "
         "work in a fume hood with an eyewash and safety shower nearby.")),

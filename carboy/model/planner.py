@@ -41,6 +41,7 @@ from carboy.model.reagents import Reagent
 from carboy.model.speciation import ACTIVITY_MODELS, BatchSpeciation, speciate_batch
 
 CURVE_SPAN = 1.3
+HEAVY_METAL_IONS = frozenset({"Cu+2", "Zn+2", "Ni+2", "Pb+2", "Ag+"})
 ORDINALS = ("1st", "2nd", "3rd", "4th", "5th", "6th")
 
 
@@ -193,6 +194,10 @@ def derived_hazards(sample: Mixture) -> frozenset[str]:
         tags |= {"perchloric", "oxidizer", "no_drain"}
     if "NO3-" in sample.totals:
         tags.add("oxidizer")
+    if "chromate" in sample.totals:
+        tags |= {"chromic", "heavy_metal", "oxidizer", "no_drain"}
+    if any(k in HEAVY_METAL_IONS for k in sample.totals):
+        tags |= {"heavy_metal", "no_drain"}
     return frozenset(tags)
 
 

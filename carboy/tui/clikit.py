@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import json
 import math
+import os
 import sys
 from collections.abc import Callable
 from typing import Any
@@ -59,3 +60,8 @@ def run_guarded(func: Callable[[argparse.Namespace], int], args: argparse.Namesp
     except KeyboardInterrupt:
         print("carboy: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:
+        # the reader (e.g. `| head`) went away: stop quietly, as command-line tools do
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 141

@@ -214,6 +214,7 @@ SYSTEM_ELEMENTS = {
     "lactate": {"C": 3},
     "phthalate": {"C": 8},
     "tris": {"C": 4, "N": 1},
+    "chromate": {"Cr": 1},
 }
 
 # Hydroxide ions per formula unit of the metal hydroxides and free protons of the strong

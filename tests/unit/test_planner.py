@@ -140,3 +140,17 @@ def test_curve_is_monotone_for_base():
     p = plan_neutralization(Mixture({"phosphate": 0.05, "Cl-": 0.02}, volume_l=1.0),
                             parse_reagent("NaOH=1M"))
     assert np.all(np.diff(p.curve[:, 1]) > -1e-9)
+
+
+@pytest.mark.parametrize("compound, tag", [("CuSO4", "heavy_metal"), ("CrO3", "chromic"),
+                                           ("AgNO3", "heavy_metal")])
+def test_metal_bearing_waste_is_not_a_drain_plan(compound, tag):
+    from carboy.model.catalog import default_catalog
+
+    cat = default_catalog()
+    sample = Mixture.from_compounds([(cat.compound(compound), 0.01),
+                                     (cat.compound("H2SO4"), 0.05)], volume_l=1.0)
+    p = plan_neutralization(sample, parse_reagent("NaOH=1M"))
+    assert tag in p.hazards
+    assert not p.drain_plan
+    assert p.cautions[0].code == "not-a-drain-plan"
