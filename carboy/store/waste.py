@@ -33,7 +33,7 @@ from typing import Any
 
 from carboy.errors import InvalidInput
 from carboy.model import quantities
-from carboy.model.catalog import molarity_at
+from carboy.model.components import Component, read_component
 from carboy.model.entities import Compound
 from carboy.model.mixture import Mixture
 from carboy.store import journal
@@ -54,7 +54,6 @@ DEFAULT_CAPACITY_L = 20.0
 MAX_CAPACITY_L = 1000.0
 """Largest container accepted (an intermediate bulk container)."""
 MAX_ADDITION_L = 1000.0
-MAX_CONC_MOLAR = 30.0
 MAX_LABEL_LENGTH = 64
 _LABEL = re.compile(r"^[^\x00-\x1f\x7f]+$")
 
@@ -131,52 +130,8 @@ def parse_capacity(value: str | float | None) -> float:
     return cap
 
 
-@dataclass(frozen=True)
-class Component:
-    """A parsed ``COMPONENT=CONC`` (or ``COMPONENT=MASS`` for a solid)."""
-
-    compound: Compound
-    conc_molar: float | None
-    mass_g: float | None
-    text: str
-
-
-def parse_component(text: str, catalog) -> Component:
-    """``'HCl=1M'``, ``'H2SO4=0.5 M'``, ``'H2SO4=10 %w/w'``, ``'NaF=2 g'``."""
-    if not isinstance(text, str) or "=" not in text:
-        raise InvalidInput("component", text, "expected COMPOUND=CONCENTRATION, e.g. 'HCl=1M' "
-                           "(or COMPOUND=MASS for a solid, e.g. 'NaF=2 g')")
-    name, _, amount = text.rpartition("=")
-    name, amount = name.strip(), amount.strip()
-    if not name:
-        raise InvalidInput("component", text, "the compound name is missing before '='")
-    if not amount:
-        raise InvalidInput("component", text, "the concentration is missing after '='")
-    compound = catalog.compound(name)
-    what = f"concentration of {compound.key}"
-    if "%" in amount:
-        pct = quantities.percent(amount, what=what)
-        conc = molarity_at(compound, pct, catalog=catalog)
-        return Component(compound, _check_conc(conc, what, amount), None, text.strip())
-    try:
-        conc = quantities.concentration_molar(amount, what=what)
-    except InvalidInput as err:
-        if "is a mass" not in err.reason:
-            raise
-        mass = quantities.mass_g(amount, what=f"mass of {compound.key}")
-        if mass <= 0:
-            raise InvalidInput(f"mass of {compound.key}", amount,
-                               "must be greater than zero") from None
-        return Component(compound, None, mass, text.strip())
-    return Component(compound, _check_conc(conc, what, amount), None, text.strip())
-
-
-def _check_conc(conc: float, what: str, text: str) -> float:
-    if not math.isfinite(conc) or conc < 0:
-        raise InvalidInput(what, text, "must be a finite, non-negative concentration")
-    if conc > MAX_CONC_MOLAR:
-        raise InvalidInput(what, text, f"no solution is stronger than {MAX_CONC_MOLAR:g} M")
-    return conc
+parse_component = read_component
+"""``'HCl=1M'``, ``'H2SO4=10 %w/w'``, ``'NaF=2 g'`` (see :mod:`carboy.model.components`)."""
 
 
 def parse_volume(value: str | float | None, *, required: bool) -> float:

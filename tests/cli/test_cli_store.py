@@ -63,7 +63,7 @@ def test_top_level_db_option_works_too(capsys, db):
     (["waste", "add", "MA-01", "HCl=1M", "--volume", "2 kg"], "'2 kg'"),
     (["waste", "add", "MA-01", "HCl=1M", "--volume", "50 L"], "holds at most 10 L"),
     (["waste", "add", "NOPE", "HCl=1M", "--volume", "1 L"], "no waste container 'NOPE'"),
-    (["waste", "add", "MA-01", "HCl", "--volume", "1 L"], "COMPOUND=CONCENTRATION"),
+    (["waste", "add", "MA-01", "HCl", "--volume", "1 L"], "NAME=CONC"),
     (["waste", "new", "MA-01"], "exists already"),
     (["waste", "new", "Z", "--capacity", "20 kg"], "'20 kg'"),
 ])

@@ -73,7 +73,7 @@ def test_history_keeps_composition_as_it_was(carboy):
     ("HCl=99M", "1 L", InvalidInput, "stronger"),
     ("HCl=1 g/L", "1 L", InvalidInput, "not a concentration"),
     ("HCl=2N", "1 L", InvalidInput, "normality"),
-    ("HCl", "1 L", InvalidInput, "COMPOUND=CONCENTRATION"),
+    ("HCl", "1 L", InvalidInput, "NAME=CONC"),
     ("=1M", "1 L", InvalidInput, "name is missing"),
     ("HCl=", "1 L", InvalidInput, "missing after"),
     ("HCl=1M", "eleven", InvalidInput, "volume"),
