@@ -443,6 +443,19 @@ def additions(store: Store, label: str) -> list[Addition]:
     return [_addition(r) for r in rows]
 
 
+
+def hazard_tags(store: Store, label: str) -> frozenset[str]:
+    """The catalog hazard tags of everything still counted in a container (a planner input:
+    fluoride, heavy metals and the like make a plan say it is not for the drain)."""
+    from carboy.store.compounds import catalog_for
+
+    catalog = catalog_for(store)
+    tags: set[str] = set()
+    for add in additions(store, label):
+        if not add.superseded and add.compound_key in catalog:
+            tags |= catalog.compound(add.compound_key).hazards
+    return frozenset(tags)
+
 def _snapshot_of(store: Store, row: Mapping[str, Any]) -> dict:
     amounts, volume = moles(store, row["label"])
     return {"label": row["label"], "volume_l": volume, "capacity_l": row["capacity_l"],

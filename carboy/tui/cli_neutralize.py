@@ -57,29 +57,12 @@ def _window(text: str) -> tuple[float, float]:
 
 
 def _from_store(args, t_c: float):
-    try:
-        from carboy.store import db as store_db
-        from carboy.store import waste
-    except ImportError:  # pragma: no cover - the store ships with carboy
-        raise UsageError("--waste is not available: the store is not installed") from None
-    if not hasattr(waste, "composition"):
-        raise UsageError("--waste is not available in this version")
-    from carboy.model.catalog import default_catalog
+    from carboy.store import waste
+    from carboy.tui.clikit import open_store
 
-    path = store_db.default_path(getattr(args, "db", None))
-    store = store_db.open_database(path)
-    try:
-        mixture = waste.composition(store, args.waste, temperature_c=t_c)
-        tags: set[str] = set()
-        catalog = default_catalog()
-        for add in waste.additions(store, args.waste):
-            if add.superseded:
-                continue
-            if add.compound_key in catalog:
-                tags |= catalog.compound(add.compound_key).hazards
-    finally:
-        store.close()
-    return mixture, frozenset(tags)
+    with open_store(args) as store:
+        return (waste.composition(store, args.waste, temperature_c=t_c),
+                waste.hazard_tags(store, args.waste))
 
 
 def build_plan(args):

@@ -8,16 +8,11 @@ Bad input ends with one line on stderr and exit status 2; nothing is written the
 from __future__ import annotations
 
 import argparse
-import contextlib
 import csv
 import json
 import sys
-import tempfile
-from collections.abc import Iterator
-from datetime import date
-from pathlib import Path
 
-from carboy.tui.clikit import EXIT_OK, emit_json
+from carboy.tui.clikit import EXIT_OK, emit_json, open_store
 
 STOCK_IMPORT_HELP = """CSV column layout (header row required; any column order):
   compound            catalog key, formula or name (required), e.g. HCl
@@ -169,28 +164,6 @@ def _help(parser: argparse.ArgumentParser) -> int:
     return EXIT_OK
 
 
-@contextlib.contextmanager
-def _store(args) -> Iterator:
-    from carboy.store.db import default_path, open_database
-
-    if getattr(args, "demo", False) and not getattr(args, "db", None):
-        from carboy.store.demo import create_demo_database
-
-        with tempfile.TemporaryDirectory(prefix="carboy-demo-") as tmp:
-            # dated from the real today, so the demo's expiry and standardization look fresh
-            store = open_database(create_demo_database(Path(tmp) / "demo.db", date.today()))
-            try:
-                yield store
-            finally:
-                store.close()
-        return
-    store = open_database(default_path(getattr(args, "db", None)))
-    try:
-        yield store
-    finally:
-        store.close()
-
-
 # -- stock ----------------------------------------------------------------------------
 
 def _bottle_line(b) -> str:
@@ -204,7 +177,7 @@ def _bottle_line(b) -> str:
 def stock_list(args) -> int:
     from carboy.store import stock
 
-    with _store(args) as store:
+    with open_store(args) as store:
         got = stock.page(store, args.search, after_id=args.after, limit=args.limit,
                          status=args.status)
         total = stock.count(store, args.search, status=args.status)
@@ -229,7 +202,7 @@ def stock_add(args) -> int:
               "location": args.location, "lot": args.lot, "received_on": args.received,
               "opened_on": args.opened, "expires_on": args.expires,
               "restandardize_days": args.every or "", "notes": args.notes}
-    with _store(args) as store:
+    with open_store(args) as store:
         bottle = stock.get(store, stock.add(store, fields))
     if args.json:
         emit_json(bottle.as_dict())
@@ -242,7 +215,7 @@ def stock_add(args) -> int:
 def stock_show(args) -> int:
     from carboy.store import journal, stock
 
-    with _store(args) as store:
+    with open_store(args) as store:
         bottle = stock.get(store, args.id)
         entries = journal.entries(store, bottle_id=bottle.id, limit=20)
     if args.json:
@@ -262,7 +235,7 @@ def stock_show(args) -> int:
 def stock_import(args) -> int:
     from carboy.store import csvio
 
-    with _store(args) as store:
+    with open_store(args) as store:
         ids = csvio.import_csv(store, args.file)
     if args.json:
         emit_json({"imported": len(ids), "ids": ids})
@@ -274,7 +247,7 @@ def stock_import(args) -> int:
 def stock_export(args) -> int:
     from carboy.store import csvio, stock
 
-    with _store(args) as store:
+    with open_store(args) as store:
         if args.json:
             emit_json([stock.to_fields(b) for b in stock.all_bottles(store)])
         else:
@@ -287,7 +260,7 @@ def stock_export(args) -> int:
 def waste_new(args) -> int:
     from carboy.store import waste
 
-    with _store(args) as store:
+    with open_store(args) as store:
         c = waste.new_container(store, args.label, location=args.location,
                                 capacity=args.capacity, notes=args.notes)
     if args.json:
@@ -300,7 +273,7 @@ def waste_new(args) -> int:
 def waste_add(args) -> int:
     from carboy.store import waste
 
-    with _store(args) as store:
+    with open_store(args) as store:
         addition_id = waste.add(store, args.label, args.component, args.volume, note=args.note)
         c = waste.container(store, args.label)
     if args.json:
@@ -314,7 +287,7 @@ def waste_add(args) -> int:
 def waste_show(args) -> int:
     from carboy.store import waste
 
-    with _store(args) as store:
+    with open_store(args) as store:
         info = waste.show(store, args.label)
     if args.json:
         emit_json(info)
@@ -338,7 +311,7 @@ def waste_show(args) -> int:
 def waste_list(args) -> int:
     from carboy.store import waste
 
-    with _store(args) as store:
+    with open_store(args) as store:
         found = waste.containers(store, status=args.status)
     if args.json:
         emit_json([c.as_dict() for c in found])
@@ -354,7 +327,7 @@ def waste_list(args) -> int:
 def journal_list(args) -> int:
     from carboy.store import journal
 
-    with _store(args) as store:
+    with open_store(args) as store:
         found = journal.entries(store, kind=args.kind, since=args.since, limit=args.limit)
     if args.json:
         emit_json([e.as_dict() for e in found])
@@ -368,7 +341,7 @@ def journal_list(args) -> int:
 def journal_show(args) -> int:
     from carboy.store import journal
 
-    with _store(args) as store:
+    with open_store(args) as store:
         entry = journal.get(store, args.id)
         later = journal.corrections_of(store, entry.id)
     if args.json:
@@ -399,7 +372,7 @@ EXPORT_COLUMNS = ("id", "kind", "recorded_at", "recorded_by", "origin", "bottle_
 def journal_export(args) -> int:
     from carboy.store import journal
 
-    with _store(args) as store:
+    with open_store(args) as store:
         found = journal.iter_all(store, kind=args.kind, since=args.since)
         if args.format == "json":
             emit_json([e.as_dict() for e in found])

@@ -7,6 +7,7 @@ nothing below this layer prints or exits.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import json
 import math
 import os
@@ -48,6 +49,34 @@ def emit_json(obj: Any, stream=None) -> None:
     stream = stream or sys.stdout
     json.dump(_clean(obj), stream, indent=2, ensure_ascii=False, allow_nan=False)
     stream.write("\n")
+
+
+@contextlib.contextmanager
+def open_store(args: argparse.Namespace):
+    """The database a headless command works on: ``--db``, else ``$CARBOY_DB``, else the
+    user data directory; with ``--demo`` (and no ``--db``) a throwaway demo storeroom."""
+    import tempfile
+    from datetime import date
+    from pathlib import Path
+
+    from carboy.store.db import default_path, open_database
+
+    if getattr(args, "demo", False) and not getattr(args, "db", None):
+        from carboy.store.demo import create_demo_database
+
+        with tempfile.TemporaryDirectory(prefix="carboy-demo-") as tmp:
+            # dated from the real today, so the demo's expiry and standardization look fresh
+            store = open_database(create_demo_database(Path(tmp) / "demo.db", date.today()))
+            try:
+                yield store
+            finally:
+                store.close()
+        return
+    store = open_database(default_path(getattr(args, "db", None)))
+    try:
+        yield store
+    finally:
+        store.close()
 
 
 def run_guarded(func: Callable[[argparse.Namespace], int], args: argparse.Namespace) -> int:

@@ -65,3 +65,23 @@ def test_bad_input_exit_2(capsys, argv):
     assert rc == 2
     assert err.startswith("carboy: ") and "Traceback" not in err
     assert len(err.strip().splitlines()) == 1
+
+
+def test_plan_for_a_stored_container(tmp_path, capsys):
+    import json as _json
+
+    from carboy.store.demo import DEMO_TODAY, create_demo_database
+    from carboy.tui.cli import main as cli_main
+
+    db = create_demo_database(tmp_path / "demo.db", today=DEMO_TODAY)
+    assert cli_main(["--db", str(db), "neutralize", "--waste", "HF-04", "--reagent", "NaOH=2M",
+                     "--json"]) == 0
+    plan = _json.loads(capsys.readouterr().out)
+    assert plan["cautions"][0]["code"] == "not-a-drain-plan"
+    assert cli_main(["--db", str(db), "neutralize", "--waste", "MA-01", "--reagent",
+                     "NaOH=2M", "--json"]) == 0
+    plan = _json.loads(capsys.readouterr().out)
+    assert plan["to_target"]["reagent_mol"] > 0
+    assert cli_main(["--db", str(db), "neutralize", "--waste", "NO-SUCH", "--reagent",
+                     "NaOH=2M"]) == 2
+    assert "NO-SUCH" in capsys.readouterr().err

@@ -177,3 +177,16 @@ def test_containers_list(carboy):
     waste.new_container(carboy, "AL-02")
     assert [c.label for c in waste.containers(carboy)] == ["AL-02", "MA-01"]
     assert waste.containers(carboy, status="planned") == []
+
+
+def test_hazard_tags_follow_what_is_counted(tmp_path):
+    from carboy.store import db as store_db
+    from carboy.store import waste as w
+
+    store = store_db.open_database(tmp_path / "h.db")
+    w.new_container(store, "T-1")
+    first = w.add(store, "T-1", "NaF=0.1M", "1 L")
+    assert "hf_type" in w.hazard_tags(store, "T-1")
+    w.correct_addition(store, first, "wrong bottle", component="NaCl=0.1M", volume="1 L")
+    assert "hf_type" not in w.hazard_tags(store, "T-1")
+    store.close()
