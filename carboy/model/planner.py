@@ -196,6 +196,9 @@ def derived_hazards(sample: Mixture) -> frozenset[str]:
         tags.add("oxidizer")
     if "chromate" in sample.totals:
         tags |= {"chromic", "heavy_metal", "oxidizer", "no_drain"}
+    for key in ("cyanide", "sulfide"):
+        if key in sample.totals:
+            tags |= {key, "no_drain"}
     if any(k in HEAVY_METAL_IONS for k in sample.totals):
         tags |= {"heavy_metal", "no_drain"}
     return frozenset(tags)

@@ -215,6 +215,8 @@ SYSTEM_ELEMENTS = {
     "phthalate": {"C": 8},
     "tris": {"C": 4, "N": 1},
     "chromate": {"Cr": 1},
+    "cyanide": {"C": 1, "N": 1},
+    "sulfide": {"S": 1},
 }
 
 # Hydroxide ions per formula unit of the metal hydroxides and free protons of the strong

@@ -154,3 +154,16 @@ def test_metal_bearing_waste_is_not_a_drain_plan(compound, tag):
     assert tag in p.hazards
     assert not p.drain_plan
     assert p.cautions[0].code == "not-a-drain-plan"
+
+
+@pytest.mark.parametrize("compound", ["NaCN", "Na2S"])
+def test_cyanide_and_sulfide_waste_must_never_be_acidified(compound):
+    from carboy.model.catalog import default_catalog
+
+    cat = default_catalog()
+    sample = Mixture.from_compounds([(cat.compound(compound), 0.01),
+                                     (cat.compound("NaOH"), 0.05)], volume_l=1.0)
+    p = plan_neutralization(sample, parse_reagent("HCl=1M"), target_pH=9.0, window=(8.5, 10))
+    codes = [c.code for c in p.cautions]
+    assert "never-acidify" in codes and "not-a-drain-plan" in codes
+    assert not p.drain_plan
