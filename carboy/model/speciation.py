@@ -73,6 +73,8 @@ WIDEN_STEPS = 20
 """Steps of the fast coupled iteration before a point goes to the nested solve."""
 QUADRATIC_STEP = 1e-8
 """A Newton step this small leaves an error of order its square (F is smooth)."""
+COUPLED_NEAR = 1.0
+"""Below this plain Newton step in x the coupled iteration takes the exact 2x2 step."""
 
 
 @dataclass(frozen=True)
@@ -549,6 +551,10 @@ def _coupled(lay, am: _Amounts, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
     xa, ia = x_out.copy(), i_out.copy()
     cs, zp, zn, isp, qa, pa = am, zs_pos, zs_neg, ispec, q, p
     open_system = am.held is not None
+    # where F was seen negative / positive while I stayed the same: a step leaving that
+    # interval is replaced by its midpoint (plain Newton can cycle on a buffer plateau);
+    # the memory is dropped whenever I moves
+    seen_lo, seen_hi = np.full(n, -np.inf), np.full(n, np.inf)
     it = 0
     davies = a_dh != 0.0
     for it in range(1, COUPLED_ITER + 1):  # noqa: B007 (used after the loop)
@@ -572,10 +578,14 @@ def _coupled(lay, am: _Amounts, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
             with np.errstate(divide="ignore", invalid="ignore"):
                 dx = (f_i * res_g - big_f * g_i) / det
                 di = (g_x * big_f - res_g * f_x) / det
-            bad = ~(np.isfinite(dx) & np.isfinite(di) & (ia + di > 0))
+            # far from the root the coupled step can cycle: there, take the plain Newton
+            # step in x at a held I; near it, the exact 2x2 step (or, if that fails,
+            # the plain step with the plain update of I)
+            far = np.abs(big_f / f_x) > COUPLED_NEAR
+            bad = far | ~(np.isfinite(dx) & np.isfinite(di) & (ia + di > 0))
             if bad.any():
                 dx = np.where(bad, -big_f / f_x, dx)
-                inew = np.where(bad, g, ia + di)
+                inew = np.where(far, ia, np.where(bad, g, ia + di))
             else:
                 inew = ia + di
             i_ok = np.abs(inew - ia) <= I_RTOL * np.maximum(inew, 1e-12)
@@ -588,7 +598,15 @@ def _coupled(lay, am: _Amounts, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
         else:
             lo, hi = _bracket(qa, pa, log_kw)
             xn = np.clip(xa + dx, lo, hi)
-        fin = ((np.abs(big_f) < F_TOL) | (np.abs(xn - xa) < QUADRATIC_STEP)) & i_ok
+        held_i = inew == ia
+        seen_lo = np.where(held_i, np.where(big_f < 0, np.maximum(seen_lo, xa), seen_lo), -np.inf)
+        seen_hi = np.where(held_i, np.where(big_f > 0, np.minimum(seen_hi, xa), seen_hi), np.inf)
+        guard = ((xn <= seen_lo) | (xn >= seen_hi)) & np.isfinite(seen_lo) & np.isfinite(seen_hi)
+        if guard.any():
+            xn = np.where(guard, 0.5 * (np.where(guard, seen_lo, 0.0)
+                                        + np.where(guard, seen_hi, 0.0)), xn)
+        # accept on the Newton step itself, never on a clipped or guarded step
+        fin = ((np.abs(big_f) < F_TOL) | ((np.abs(dx) < QUADRATIC_STEP) & (xn == xa + dx))) & i_ok
         xa, ia = xn, inew
         if fin.any():
             done = idx[fin]
@@ -597,6 +615,7 @@ def _coupled(lay, am: _Amounts, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
             if not keep.any():
                 break
             idx, xa, ia = idx[keep], xa[keep], ia[keep]
+            seen_lo, seen_hi = seen_lo[keep], seen_hi[keep]
             cs, zp, zn, isp, qa, pa = cs[keep], zp[keep], zn[keep], isp[keep], qa[keep], pa[keep]
     else:
         x_out[idx], i_out[idx] = xa, ia
@@ -933,7 +952,7 @@ def _solve_one(lay: _Layout, row, pkw: float, a_dh: float):
         lo = log_kw - math.log10(p + 1.0) - 1e-3
         hi = math.log10(q + 1.0) + 1e-3
         xn = min(max(x + dx, lo), hi)
-        fin = (abs(big_f) < F_TOL or abs(xn - x) < QUADRATIC_STEP) and (
+        fin = (abs(big_f) < F_TOL or (abs(dx) < QUADRATIC_STEP and xn == x + dx)) and (
             not davies or abs(inew - ionic) <= I_RTOL * max(inew, 1e-12))
         x, ionic = xn, inew
         if fin:
