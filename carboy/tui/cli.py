@@ -42,9 +42,37 @@ def main(argv: list[str] | None = None) -> int:
     args = parser.parse_args(sys.argv[1:] if argv is None else argv)
     func = getattr(args, "func", None)
     if func is None:
-        parser.print_help()
-        return 0
+        return run_guarded(run_app, args)
     return run_guarded(func, args)
+
+
+def run_app(args) -> int:
+    """Open the terminal app: on the default database, or on a throwaway demo storeroom."""
+    import shutil
+    import tempfile
+    from datetime import date
+
+    from carboy.store import db
+
+    if args.demo:
+        from carboy.store.demo import create_demo_database
+
+        tmp = tempfile.mkdtemp(prefix="carboy-demo-")
+        try:
+            path = create_demo_database(f"{tmp}/demo.db", today=date.today())
+            return _run_app(path, demo=True)
+        finally:
+            shutil.rmtree(tmp, ignore_errors=True)
+    path = db.default_path(args.db)
+    db.open_database(path, check=True).close()  # a damaged file stops here, unwritten
+    return _run_app(path, demo=False)
+
+
+def _run_app(path, *, demo: bool) -> int:
+    from carboy.tui.app import make_app
+
+    make_app(path, demo=demo).run()
+    return 0
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -1,0 +1,179 @@
+"""The carboy terminal app: stock, waste, neutralize, journal and help, keyboard first.
+
+:func:`make_app` builds it from plain arguments; the ``carboy`` command, the Pilot
+tests and the snapshot tests all go through it.  Each main screen is a Textual
+*mode* with its own screen stack, so a bottle opened on the Stock screen is still
+open when you come back from the Waste screen.
+
+Database work never runs on the event loop: screens start thread workers that
+open their own connection with :meth:`CarboyApp.open_store`.
+"""
+
+from __future__ import annotations
+
+from datetime import date
+from pathlib import Path
+
+from textual import events
+from textual.app import App
+from textual.binding import Binding
+from textual.reactive import reactive
+
+from carboy.store import db
+from carboy.tui.commands import CarboyCommands
+from carboy.tui.screens.help import HelpScreen
+from carboy.tui.screens.journal import JournalScreen
+from carboy.tui.screens.neutralize import NeutralizeScreen
+from carboy.tui.screens.stock import StockScreen
+from carboy.tui.screens.too_small import TooSmallScreen
+from carboy.tui.screens.waste import WasteScreen
+
+MIN_WIDTH = 80
+MIN_HEIGHT = 24
+
+
+class CarboyApp(App):
+    """The storeroom app; see :func:`make_app`."""
+
+    CSS_PATH = "app.tcss"
+    TITLE = "carboy"
+    SUB_TITLE = "storeroom acids, bases and their waste"
+    COMMANDS = App.COMMANDS | {CarboyCommands}
+    MODES = {
+        "stock": StockScreen,
+        "waste": WasteScreen,
+        "neutralize": NeutralizeScreen,
+        "journal": JournalScreen,
+        "help": HelpScreen,
+    }
+    DEFAULT_MODE = "stock"
+    BINDINGS = [
+        # Function keys work everywhere, even while typing in a field (priority); the
+        # digits and "?" do the same from anywhere that is not a text field.
+        Binding("f1", "go('help')", "Help", id="app.go.help", priority=True,
+                tooltip="Every key of every screen, and what each screen is for"),
+        Binding("ctrl+q", "quit", "Quit", id="app.quit", priority=True,
+                tooltip="Leave carboy"),
+        Binding("f2", "go('stock')", "Stock", id="app.go.stock", priority=True,
+                tooltip="The stock bottles on the shelves"),
+        Binding("f3", "go('waste')", "Waste", id="app.go.waste", priority=True,
+                tooltip="Waste containers and what went into them"),
+        Binding("f4", "go('neutralize')", "Neutralize", id="app.go.neutralize", priority=True,
+                tooltip="Plan and record the neutralization of a waste container"),
+        Binding("f5", "go('journal')", "Journal", id="app.go.journal", priority=True,
+                tooltip="The append-only record of everything done"),
+        Binding("question_mark", "go('help')", "Help", id="app.go.help.short", show=False),
+        Binding("1", "go('stock')", "Stock", id="app.go.stock.short", show=False),
+        Binding("2", "go('waste')", "Waste", id="app.go.waste.short", show=False),
+        Binding("3", "go('neutralize')", "Neutralize", id="app.go.neutralize.short",
+                show=False),
+        Binding("4", "go('journal')", "Journal", id="app.go.journal.short", show=False),
+        Binding("f6", "reload", "Reload", id="app.reload",
+                tooltip="Read the database again (other staff may have changed it)"),
+    ]
+
+    data_version: reactive[int] = reactive(0)
+    """Bumped by :meth:`refresh_data`; screens that show data watch it and reload."""
+
+    def __init__(self, db_path: Path, *, demo: bool = False, today: date | None = None,
+                 who: str | None = None) -> None:
+        super().__init__()
+        self.db_path = Path(db_path)
+        self.demo = demo
+        self._today = today
+        self.who = who or db.current_user()
+        self._previous_mode = self.DEFAULT_MODE
+
+    # -- the contract the screens rely on -------------------------------------------
+    @property
+    def today(self) -> date:
+        """The day strengths and expiry are judged against (fixed in tests)."""
+        return self._today or date.today()
+
+    def open_store(self) -> db.Store:
+        """A new connection; call it in the worker thread that will use it."""
+        return db.open_database(self.db_path, check=False)
+
+    def plan_container(self, label: str) -> None:
+        """Open the Neutralize screen on a waste container."""
+        mounted = self.switch_mode("neutralize")
+        screen = self.screen_stack[0]
+
+        async def load() -> None:
+            await mounted
+            screen.load_container(label)
+
+        self.call_later(load)
+
+    def refresh_data(self) -> None:
+        """Something was written: every screen showing data reloads it."""
+        self.data_version += 1
+
+    # -- helpers for the widgets ----------------------------------------------------
+    def mode_keys(self) -> dict[str, str]:
+        """The key that leads to each mode, as the footer shows it."""
+        keys: dict[str, str] = {}
+        for binding in self.BINDINGS:
+            action = binding.action
+            if action.startswith("go('") and binding.show:
+                mode = action[4:-2]
+                first = binding.key.split(",")[0].strip()
+                keys[mode] = self.get_key_display(Binding(first, action))
+        return keys
+
+    def place_text(self) -> str:
+        where = "demo storeroom (throwaway)" if self.demo else self.db_path.name
+        return f"{self.who} · {where}"
+
+    # -- lifecycle ------------------------------------------------------------------
+    def on_mount(self) -> None:
+        self.theme = "ansi-dark"
+        self._guard_size()
+
+    def on_resize(self, event: events.Resize) -> None:
+        self._guard_size(event.size.width, event.size.height)
+
+    def _guard_size(self, width: int | None = None, height: int | None = None) -> None:
+        width = self.size.width if width is None else width
+        height = self.size.height if height is None else height
+        small = width < MIN_WIDTH or height < MIN_HEIGHT
+        showing = isinstance(self.screen, TooSmallScreen)
+        if small and not showing:
+            self.push_screen(TooSmallScreen())
+        elif not small and showing:
+            self.pop_screen()
+        elif showing:
+            self.screen.show_size(width, height)
+
+    # -- actions --------------------------------------------------------------------
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if action in ("go", "reload", "command_palette") and isinstance(
+                self.screen, TooSmallScreen):
+            return False
+        if action == "go" and parameters and parameters[0] == self.current_mode:
+            return False
+        return True
+
+    def action_go(self, mode: str) -> None:
+        if mode != self.current_mode:
+            self._previous_mode = self.current_mode
+        self.switch_mode(mode)
+
+    def action_back(self) -> None:
+        """Back to the screen before this one (from Help)."""
+        back = self._previous_mode
+        self.action_go(back if back != self.current_mode else self.DEFAULT_MODE)
+
+    def action_reload(self) -> None:
+        self.refresh_data()
+        self.notify("Reloaded from the database.", timeout=2)
+
+
+def make_app(db_path: str | Path, *, demo: bool = False, today: date | None = None,
+             who: str | None = None) -> CarboyApp:
+    """The app on the database at ``db_path`` (which must exist: open it once first).
+
+    ``today`` fixes the day strength checks use (tests, snapshots); ``who`` the user
+    named in records (default: the OS user).
+    """
+    return CarboyApp(Path(db_path), demo=demo, today=today, who=who)

@@ -1,0 +1,1 @@
+"""The screens of the carboy app, one module each."""

@@ -1,0 +1,108 @@
+"""One journal entry opened whole: who, when, what about, and its full JSON snapshot."""
+
+from __future__ import annotations
+
+import json
+
+from rich.json import JSON
+from rich.table import Table
+from rich.text import Text
+from textual import work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import VerticalScroll
+from textual.screen import Screen
+from textual.widgets import Footer, Static
+from textual.worker import get_current_worker
+
+from carboy.store import journal
+from carboy.tui.widgets.error_line import ErrorLine
+from carboy.tui.widgets.mode_bar import ModeBar
+from carboy.tui.widgets.safety_note import DISPOSAL_NOTE
+from carboy.tui.workers import describe
+
+
+def entry_header(entry: journal.Entry) -> Table:
+    grid = Table.grid(padding=(0, 1), expand=True)
+    grid.add_column(style="bold", no_wrap=True)
+    grid.add_column(ratio=1)
+    about = []
+    if entry.container_label:
+        about.append(f"waste container {entry.container_label}")
+    if entry.bottle_id is not None:
+        about.append(f"bottle {entry.bottle_id}")
+    grid.add_row("Kind", Text(entry.kind))
+    grid.add_row("When", Text(f"{journal.local_time(entry.recorded_at)} (local time; "
+                              f"stored as {entry.recorded_at} UTC)"))
+    grid.add_row("Who", Text(f"{entry.recorded_by} from {entry.origin}"))
+    grid.add_row("About", Text(", ".join(about) or "—"))
+    if entry.corrects_id is not None:
+        grid.add_row("Corrects", Text(f"entry {entry.corrects_id}"))
+    grid.add_row("Summary", Text(entry.summary or "—"))
+    return grid
+
+
+class EntryScreen(Screen):
+    """Read-only: journal entries are never changed (a correction is a new entry)."""
+
+    HELP = ("One journal entry with its full inputs and results, exactly as recorded then. "
+            "Arrow keys or Page Up/Down scroll the snapshot.")
+
+    BINDINGS = [
+        Binding("escape", "back", "Back", id="entry.back"),
+    ]
+
+    def __init__(self, entry_id: int) -> None:
+        super().__init__()
+        self.entry_id = entry_id
+        self.entry: journal.Entry | None = None
+        self.loads = 0
+
+    def compose(self) -> ComposeResult:
+        yield ModeBar(self.app.current_mode)
+        yield Static(f"Journal entry {self.entry_id}", id="entry-title", classes="screen-title",
+                     markup=False)
+        yield Static("", id="entry-header")
+        yield Static("", id="entry-note", classes="safety-note", markup=False)
+        yield ErrorLine(id="entry-error")
+        yield Static("Inputs and results (JSON snapshot)", classes="section-title")
+        with VerticalScroll(id="entry-scroll"):
+            yield Static("", id="entry-json")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        self.query_one("#entry-note").display = False
+        self.query_one("#entry-scroll").focus()
+        self.load()
+
+    @work(thread=True, exclusive=True, exit_on_error=False, group="entry")
+    def load(self) -> None:
+        worker = get_current_worker()
+        try:
+            with self.app.open_store() as store:
+                entry = journal.get(store, self.entry_id)
+        except Exception as exc:
+            if not worker.is_cancelled:
+                self.app.call_from_thread(self._show_error, describe(exc))
+            return
+        if not worker.is_cancelled:
+            self.app.call_from_thread(self._show, entry)
+
+    def _show_error(self, message: str) -> None:
+        self.query_one("#entry-error", ErrorLine).show(message)
+        self.loads += 1
+
+    def _show(self, entry: journal.Entry) -> None:
+        self.entry = entry
+        self.query_one("#entry-title", Static).update(f"Journal entry {entry.id} · {entry.kind}")
+        self.query_one("#entry-header", Static).update(entry_header(entry))
+        if entry.kind in ("neutralization", "disposal"):
+            note = self.query_one("#entry-note", Static)
+            note.update(DISPOSAL_NOTE)
+            note.display = True
+        text = json.dumps(entry.snapshot, indent=2, ensure_ascii=False, sort_keys=True)
+        self.query_one("#entry-json", Static).update(JSON(text, indent=2))
+        self.loads += 1
+
+    def action_back(self) -> None:
+        self.dismiss()

@@ -1,0 +1,146 @@
+"""Help: what each screen is for and every key it has, read from the bindings themselves.
+
+The key tables are generated from each screen's ``BINDINGS`` (and those of the
+widgets it owns), so a key added in code shows up here without anyone editing a list.
+Each key's id is shown: that is the name to use when remapping it.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from rich.console import Group
+from rich.table import Table
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import VerticalScroll
+from textual.screen import Screen
+from textual.widgets import Footer, Static
+
+from carboy.tui.widgets.mode_bar import ModeBar
+from carboy.tui.widgets.safety_note import DISPOSAL_NOTE
+
+
+@dataclass(frozen=True)
+class Section:
+    title: str
+    purpose: str
+    sources: tuple[type, ...]
+
+
+def sections() -> list[Section]:
+    """Every screen and dialog of the app, with the classes whose bindings it uses."""
+    from carboy.tui.app import CarboyApp
+    from carboy.tui.screens.bottle import BottleScreen
+    from carboy.tui.screens.confirm import ConfirmScreen
+    from carboy.tui.screens.entry import EntryScreen
+    from carboy.tui.screens.journal import EntryTable, JournalScreen
+    from carboy.tui.screens.neutralize import NeutralizeScreen
+    from carboy.tui.screens.stock import SearchInput, StockScreen, StockTable
+    from carboy.tui.screens.waste import WasteScreen
+    from carboy.tui.screens.waste_add import AddWasteScreen
+    from carboy.tui.screens.waste_new import NewContainerScreen
+
+    def purpose(cls: type, fallback: str) -> str:
+        return getattr(cls, "HELP", None) or (cls.__doc__ or fallback).strip().splitlines()[0]
+
+    neutralize_sources = (NeutralizeScreen,) + tuple(
+        cls for cls in classes_with_bindings(NEUTRALIZE_MODULES) if cls is not NeutralizeScreen)
+    return [
+        Section("Everywhere", "Move between the screens, reload, quit. The command palette "
+                "(ctrl+p) has the same and more: search the stock, open a waste container, "
+                "plan a neutralization.", (CarboyApp,)),
+        Section("Stock", purpose(StockScreen, ""), (StockScreen, SearchInput, StockTable)),
+        Section("Bottle", purpose(BottleScreen, ""), (BottleScreen,)),
+        Section("Waste", purpose(WasteScreen, ""), (WasteScreen,)),
+        Section("Log a waste addition", purpose(AddWasteScreen, ""), (AddWasteScreen,)),
+        Section("New waste container", purpose(NewContainerScreen, ""), (NewContainerScreen,)),
+        Section("Confirmation", "Asked before anything that cannot be undone; the safe "
+                "answer has the focus.", (ConfirmScreen,)),
+        Section("Neutralize", purpose(NeutralizeScreen, "Plan and record a neutralization."),
+                neutralize_sources),
+        Section("Journal", purpose(JournalScreen, ""), (JournalScreen, EntryTable)),
+        Section("Journal entry", purpose(EntryScreen, ""), (EntryScreen,)),
+        Section("Help", purpose(HelpScreen, ""), (HelpScreen,)),
+    ]
+
+
+NEUTRALIZE_MODULES = ("carboy.tui.screens.neutralize", "carboy.tui.widgets.ph_curve",
+                      "carboy.tui.widgets.plan_view")
+"""Modules of the Neutralize screen: every class in them that declares keys is listed."""
+
+
+def classes_with_bindings(module_names: tuple[str, ...]) -> list[type]:
+    """Classes defined in these modules that declare their own ``BINDINGS``."""
+    import importlib
+
+    found = []
+    for name in module_names:
+        try:
+            module = importlib.import_module(name)
+        except ModuleNotFoundError:
+            continue
+        for obj in vars(module).values():
+            if (isinstance(obj, type) and obj.__module__ == name
+                    and obj.__dict__.get("BINDINGS")):
+                found.append(obj)
+    return found
+
+
+def own_bindings(cls: type) -> list[Binding]:
+    """The bindings a class declares itself (not the ones it inherits)."""
+    found = []
+    for item in cls.__dict__.get("BINDINGS", []):
+        if isinstance(item, Binding):
+            found.append(item)
+        else:  # a tuple (key, action[, description])
+            found.extend(Binding.make_bindings([item]))
+    return found
+
+
+def all_bindings() -> list[tuple[str, Binding]]:
+    """(section title, binding) for every binding the app declares."""
+    return [(s.title, b) for s in sections() for src in s.sources for b in own_bindings(src)]
+
+
+class HelpScreen(Screen):
+    """Every key of every screen, and what each screen is for."""
+
+    HELP = "This page: every key, what each screen is for, and the safety note."
+
+    BINDINGS = [
+        Binding("escape", "back", "Back", id="help.back"),
+    ]
+
+    def compose(self) -> ComposeResult:
+        yield ModeBar("help")
+        with VerticalScroll(id="help-scroll"):
+            yield Static(Text(DISPOSAL_NOTE, style="bold"), id="help-safety",
+                         classes="safety-note")
+            for section in sections():
+                yield Static(self._section(section), classes="help-section")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        self.query_one("#help-scroll").focus()
+
+    def _keys(self, binding: Binding) -> str:
+        keys = [k.strip() for k in binding.key.split(",") if k.strip()]
+        return " / ".join(self.app.get_key_display(Binding(k, binding.action)) for k in keys)
+
+    def _section(self, section: Section) -> Group:
+        table = Table(box=None, show_header=True, header_style="bold", pad_edge=False,
+                      expand=True)
+        table.add_column("Key", no_wrap=True, min_width=10)
+        table.add_column("Does", ratio=1)
+        table.add_column("Id (for remapping)", no_wrap=True, style="dim")
+        for src in section.sources:
+            for binding in own_bindings(src):
+                table.add_row(self._keys(binding), binding.description or binding.action,
+                              binding.id or "—")
+        return Group(Text(section.title, style="bold underline"), Text(section.purpose),
+                     table, Text(""))
+
+    def action_back(self) -> None:
+        self.app.action_back()

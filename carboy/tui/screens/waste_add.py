@@ -1,0 +1,221 @@
+"""Log an addition to a waste container: compound, concentration (or mass), volume.
+
+Each field echoes what carboy understood as you type (``1,5 L`` → ``1.5 L``); a
+value that cannot be used is named under its field, and nothing typed is lost.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from textual import on, work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.screen import ModalScreen
+from textual.timer import Timer
+from textual.widgets import Button, Input, Static
+from textual.worker import get_current_worker
+
+from carboy.errors import CarboyError, InvalidInput, UnknownCompound
+from carboy.store import waste
+from carboy.store.errors import OverCapacity
+from carboy.tui.widgets.field_row import FieldRow
+from carboy.tui.widgets.marks import litres
+from carboy.tui.workers import describe
+
+ECHO_DELAY_S = 0.12
+FIELDS = ("add-compound", "add-conc", "add-volume", "add-note")
+
+
+@dataclass(frozen=True)
+class Echo:
+    """What each field was understood as ('' = nothing to say), or its error."""
+
+    messages: dict[str, str]
+    errors: dict[str, str]
+
+
+def field_of(exc: BaseException) -> str | None:
+    """Which field an error is about (``None``: the addition as a whole)."""
+    if isinstance(exc, UnknownCompound):
+        return "add-compound"
+    if isinstance(exc, OverCapacity):
+        return "add-volume"
+    if isinstance(exc, InvalidInput):
+        what = exc.what
+        if what == "volume":
+            return "add-volume"
+        if what == "note":
+            return "add-note"
+        if what.startswith(("concentration", "mass of")):
+            return "add-conc"
+        if what == "component":
+            return "add-compound" if "name is missing" in exc.reason else "add-conc"
+    return None
+
+
+def understand(catalog, compound: str, conc: str, volume: str) -> Echo:
+    """Parse the three fields as the store will (pure; no database)."""
+    messages: dict[str, str] = {}
+    errors: dict[str, str] = {}
+    found = None
+    if compound.strip():
+        try:
+            found = catalog.compound(compound.strip())
+            messages["add-compound"] = f"→ {found.name} ({found.formula or found.key})"
+        except CarboyError as exc:
+            errors["add-compound"] = describe(exc)
+    mass = None
+    if conc.strip() and found is not None:
+        try:
+            part = waste.parse_component(f"{found.key}={conc.strip()}", catalog)
+            if part.mass_g is not None:
+                mass = part.mass_g
+                messages["add-conc"] = f"→ {part.mass_g:g} g of solid (volume optional)"
+            elif "%" in conc:
+                messages["add-conc"] = f"→ {conc.strip()} w/w ≈ {part.conc_molar:.4g} M"
+            else:
+                messages["add-conc"] = f"→ {part.conc_molar:.4g} M"
+        except CarboyError as exc:
+            errors["add-conc"] = describe(exc)
+    if volume.strip():
+        try:
+            vol = waste.parse_volume(volume, required=mass is None)
+            messages["add-volume"] = f"→ {litres(vol)}"
+        except CarboyError as exc:
+            errors["add-volume"] = describe(exc)
+    return Echo(messages, errors)
+
+
+class AddWasteScreen(ModalScreen[bool]):
+    """Dismisses with ``True`` once the addition is stored."""
+
+    HELP = ("Log what went into a waste container. The compound is a formula or name from "
+            "the catalog; the concentration accepts 1 M, 100 mM, 37 % (w/w) or a mass for a "
+            "solid (2 g); the volume 250 mL, 1,5 L …")
+
+    BINDINGS = [
+        Binding("ctrl+s", "submit", "Log it", id="waste_add.submit"),
+        Binding("escape", "cancel", "Cancel", id="waste_add.cancel"),
+    ]
+
+    def __init__(self, label: str) -> None:
+        super().__init__()
+        self.label = label
+        self._timer: Timer | None = None
+        self.busy = False
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="add-dialog", classes="dialog"):
+            yield Static(f"Log an addition to {self.label}", classes="dialog-title",
+                         markup=False)
+            yield FieldRow("Compound", field_id="add-compound", hint="formula or name, e.g. HCl, sulfuric acid, NaOH")
+            yield FieldRow("Concentration", field_id="add-conc", hint="1 M, 100 mM, 37 % (w/w); a solid's mass: 2 g")
+            yield FieldRow("Volume", field_id="add-volume", hint="250 mL, 1,5 L (optional for a solid)")
+            yield FieldRow("Note", field_id="add-note", hint="optional")
+            yield Static("", id="add-error", classes="error-line", markup=False)
+            with Horizontal(classes="dialog-buttons"):
+                yield Button("Log it (ctrl+s)", id="add-submit", variant="primary", compact=True)
+                yield Button("Cancel (esc)", id="add-cancel", compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#add-compound", Input).focus()
+
+    def values(self) -> dict[str, str]:
+        return {f: self.query_one(f"#{f}", Input).value for f in FIELDS}
+
+    def row(self, field_id: str) -> FieldRow:
+        return self.query_one(f"#row-{field_id}", FieldRow)
+
+    # -- echo while typing -------------------------------------------------------------
+    @on(Input.Changed)
+    def _changed(self) -> None:
+        if self._timer is not None:
+            self._timer.stop()
+        self._timer = self.set_timer(ECHO_DELAY_S, self._echo)
+
+    def _echo(self) -> None:
+        v = self.values()
+        self._understand(v["add-compound"], v["add-conc"], v["add-volume"])
+
+    @work(thread=True, exclusive=True, exit_on_error=False, group="waste-add-echo")
+    def _understand(self, compound: str, conc: str, volume: str) -> None:
+        from carboy.store.compounds import catalog_for
+
+        worker = get_current_worker()
+        try:
+            with self.app.open_store() as store:
+                catalog = catalog_for(store)
+            echo = understand(catalog, compound, conc, volume)
+        except Exception as exc:
+            echo = Echo({}, {"": describe(exc)})
+        if not worker.is_cancelled:
+            self.app.call_from_thread(self._show_echo, echo)
+
+    def _show_echo(self, echo: Echo) -> None:
+        for field in FIELDS[:3]:
+            if field in echo.errors:
+                self.row(field).show_error(echo.errors[field])
+            else:
+                self.row(field).show_echo(echo.messages.get(field, ""))
+
+    # -- submit --------------------------------------------------------------------------
+    @on(Input.Submitted)
+    def _enter(self, event: Input.Submitted) -> None:
+        order = list(FIELDS)
+        here = order.index(event.input.id) if event.input.id in order else -1
+        if 0 <= here < len(order) - 1 and not self.values()[order[here + 1]].strip() \
+                and order[here + 1] != "add-note":
+            self.query_one(f"#{order[here + 1]}", Input).focus()
+        else:
+            self.action_submit()
+
+    @on(Button.Pressed, "#add-submit")
+    def _pressed(self) -> None:
+        self.action_submit()
+
+    @on(Button.Pressed, "#add-cancel")
+    def _cancel_pressed(self) -> None:
+        self.action_cancel()
+
+    def action_cancel(self) -> None:
+        self.dismiss(False)
+
+    def action_submit(self) -> None:
+        if self.busy:
+            return
+        v = self.values()
+        missing = [("add-compound", "compound: is required, e.g. HCl"),
+                   ("add-conc", "concentration: is required, e.g. '1 M' (or a solid's "
+                                "mass, e.g. '2 g')")]
+        for field, message in missing:
+            if not v[field].strip():
+                self._fail(field, message)
+                return
+        self.busy = True
+        self.query_one("#add-error", Static).update("Logging …")
+        self._store(v["add-compound"].strip(), v["add-conc"].strip(), v["add-volume"].strip(),
+                    v["add-note"].strip())
+
+    @work(thread=True, exclusive=True, exit_on_error=False, group="waste-add")
+    def _store(self, compound: str, conc: str, volume: str, note: str) -> None:
+        try:
+            with self.app.open_store() as store:
+                waste.add(store, self.label, f"{compound}={conc}", volume or None, note=note,
+                          who=self.app.who)
+        except Exception as exc:
+            self.app.call_from_thread(self._fail, field_of(exc), describe(exc))
+            return
+        self.app.call_from_thread(self._done)
+
+    def _fail(self, field: str | None, message: str) -> None:
+        self.busy = False
+        self.query_one("#add-error", Static).update(f"✗ Not logged: {message}")
+        if field is not None:
+            self.row(field).show_error(message)
+            self.query_one(f"#{field}", Input).focus()
+
+    def _done(self) -> None:
+        self.busy = False
+        self.dismiss(True)

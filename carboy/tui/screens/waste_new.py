@@ -1,0 +1,111 @@
+"""Open a new, empty waste container."""
+
+from __future__ import annotations
+
+from textual import on, work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.screen import ModalScreen
+from textual.widgets import Button, Input, Static
+
+from carboy.errors import InvalidInput
+from carboy.store import waste
+from carboy.store.errors import AlreadyExists
+from carboy.tui.widgets.field_row import FieldRow
+from carboy.tui.workers import describe
+
+FIELDS = ("new-label", "new-location", "new-capacity", "new-notes")
+
+
+def field_of(exc: BaseException) -> str | None:
+    if isinstance(exc, AlreadyExists):
+        return "new-label"
+    if isinstance(exc, InvalidInput):
+        return {"container label": "new-label", "capacity": "new-capacity",
+                "volume": "new-capacity"}.get(exc.what)
+    return None
+
+
+class NewContainerScreen(ModalScreen[str | None]):
+    """Dismisses with the new container's label, or ``None`` when cancelled."""
+
+    HELP = "Open a new, empty waste container that starts collecting."
+
+    BINDINGS = [
+        Binding("ctrl+s", "submit", "Open it", id="waste_new.submit"),
+        Binding("escape", "cancel", "Cancel", id="waste_new.cancel"),
+    ]
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.busy = False
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="new-dialog", classes="dialog"):
+            yield Static("Open a new waste container", classes="dialog-title")
+            yield FieldRow("Label", field_id="new-label", placeholder="MA-05",
+                           hint="unique, as written on the container")
+            yield FieldRow("Location", field_id="new-location",
+                           placeholder="Acid waste bay / left", hint="optional")
+            yield FieldRow("Capacity", field_id="new-capacity", value="20 L",
+                           hint="e.g. 20 L, 5 L, 2500 mL")
+            yield FieldRow("Notes", field_id="new-notes", placeholder="what it collects",
+                           hint="optional")
+            yield Static("", id="new-error", classes="error-line", markup=False)
+            with Horizontal(classes="dialog-buttons"):
+                yield Button("Open it (ctrl+s)", id="new-submit", variant="primary", compact=True)
+                yield Button("Cancel (esc)", id="new-cancel", compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#new-label", Input).focus()
+
+    def values(self) -> dict[str, str]:
+        return {f: self.query_one(f"#{f}", Input).value for f in FIELDS}
+
+    @on(Input.Submitted)
+    def _enter(self) -> None:
+        self.action_submit()
+
+    @on(Button.Pressed, "#new-submit")
+    def _pressed(self) -> None:
+        self.action_submit()
+
+    @on(Button.Pressed, "#new-cancel")
+    def _cancel_pressed(self) -> None:
+        self.action_cancel()
+
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+    def action_submit(self) -> None:
+        if self.busy:
+            return
+        for field in FIELDS:
+            self.query_one(f"#row-{field}", FieldRow).show_echo("")
+        self.busy = True
+        self._store(self.values())
+
+    @work(thread=True, exclusive=True, exit_on_error=False, group="waste-new")
+    def _store(self, v: dict[str, str]) -> None:
+        try:
+            with self.app.open_store() as store:
+                made = waste.new_container(
+                    store, v["new-label"], location=v["new-location"].strip(),
+                    capacity=v["new-capacity"].strip() or None, notes=v["new-notes"].strip(),
+                    who=self.app.who, today=self.app.today)
+        except Exception as exc:
+            self.app.call_from_thread(self._fail, field_of(exc), describe(exc))
+            return
+        self.app.call_from_thread(self._done, made.label)
+
+    def _done(self, label: str) -> None:
+        self.busy = False
+        self.dismiss(label)
+
+    def _fail(self, field: str | None, message: str) -> None:
+        self.busy = False
+        self.query_one("#new-error", Static).update(f"✗ Not opened: {message}")
+        if field is not None:
+            self.query_one(f"#row-{field}", FieldRow).show_error(message)
+            self.query_one(f"#{field}", Input).focus()

@@ -1,0 +1,1 @@
+"""Reusable widgets of the carboy app (one module each)."""

@@ -1,0 +1,253 @@
+"""A neutralization plan as text panels: the doses, the staged additions, the cautions.
+
+The formatting functions are plain (a plan in, text out) so they can be tested and
+reused; the widgets only hold them.  Severity is always spelled out with a symbol
+(``‼ DANGER``, ``! WARNING``, ``· NOTE``), never shown by colour alone.
+"""
+
+from __future__ import annotations
+
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.containers import Vertical, VerticalScroll
+from textual.widgets import DataTable, Static
+
+SEVERITY_MARKS = {"danger": "‼ DANGER", "warning": "! WARNING", "notice": "· NOTE"}
+SEVERITY_STYLES = {"danger": "bold reverse", "warning": "bold", "notice": ""}
+
+STANDING_NOTE = (
+    "Local disposal rules and your safety office decide the acceptance window and "
+    "whether anything may go to the drain; carboy only advises.")
+"""Shown under the cautions at all times, with or without a plan."""
+
+NOT_FOR_DRAIN = (
+    "‼ NOT FOR DRAIN DISPOSAL: this waste goes to licensed hazardous-waste disposal "
+    "through the safety office, neutralized or not. The doses are for information only.")
+
+NO_PLAN_YET = "No plan yet: give a sample (a container, or components and a volume) and a reagent."
+
+
+# -- numbers as people read them --------------------------------------------------------
+
+def fmt_volume_l(litres: float | None) -> str:
+    if litres is None:
+        return "—"
+    if abs(litres) < 1.0:
+        return f"{litres * 1000:.3g} mL"
+    return f"{litres:.3g} L"
+
+
+def fmt_mass_g(grams: float | None) -> str:
+    if grams is None:
+        return "—"
+    if abs(grams) >= 1000.0:
+        return f"{grams / 1000:.3g} kg"
+    return f"{grams:.3g} g"
+
+
+def fmt_mol(mol: float | None) -> str:
+    if mol is None:
+        return "—"
+    if mol != 0 and abs(mol) < 0.1:
+        return f"{mol * 1000:.3g} mmol"
+    return f"{mol:.3g} mol"
+
+
+def amount_text(reagent, mol: float | None, volume_l: float | None, mass_g: float | None) -> str:
+    """What to measure out: a volume for a solution (with its mass), a mass for a solid."""
+    if mol is None:
+        return "not reachable with this reagent"
+    if reagent.is_solid:
+        return f"{fmt_mass_g(mass_g)} ({fmt_mol(mol)})"
+    return f"{fmt_volume_l(volume_l)} ({fmt_mol(mol)}, {fmt_mass_g(mass_g)})"
+
+
+def dose_text(plan, dose) -> str:
+    if not dose.reachable:
+        return "not reachable with this reagent"
+    return (f"{amount_text(plan.reagent, dose.reagent_mol, dose.reagent_volume_l, dose.reagent_mass_g)}"
+            f" → pH {dose.pH:.2f}")
+
+
+# -- the plan panel ---------------------------------------------------------------------
+
+def plan_text(plan) -> Text:
+    """The plan's figures, most used first: dose to target, window, every proton, heat…"""
+    t = Text()
+
+    def line(head: str, body: str = "", style: str = "") -> None:
+        t.append(f"{head:<13}", style="bold")
+        t.append(body + "\n", style=style)
+
+    if not plan.drain_plan:
+        t.append(NOT_FOR_DRAIN + "\n", style="bold reverse")
+    r = plan.reagent
+    s = plan.sample
+    direction = "base" if plan.direction == "base" else "acid"
+    line("Reagent", f"{r.describe()} ({direction})")
+    line("Sample", f"{fmt_volume_l(s.volume_l)} at {s.temperature_c:g} °C, pH "
+         f"{plan.initial_pH:.2f} ({'Davies activity' if plan.activity == 'davies' else 'ideal'})")
+    tgt = plan.to_target
+    line(f"To pH {tgt.target_pH:g}", dose_text(plan, tgt), style="bold")
+    if tgt.reachable:
+        t.append(f"{'':13}final volume {fmt_volume_l(tgt.final_volume_l)}\n")
+    lo, hi = plan.window_doses
+    line(f"Window {plan.window[0]:g}–{plan.window[1]:g}", f"low edge  {dose_text(plan, lo)}")
+    t.append(f"{'':13}high edge {dose_text(plan, hi)}\n")
+    t.append(f"{'':13}local rules set the real window\n", style="italic")
+    need = "OH⁻" if plan.direction == "base" else "H⁺"
+    line("Every proton", f"{fmt_mol(abs(plan.proton_equivalents_mol))} {need}: "
+         f"{dose_text(plan, plan.full)}")
+    for name, mol in plan.breakdown.items():
+        if mol:
+            t.append(f"{'':13}  {name}: {fmt_mol(mol)}\n")
+    if plan.bound_protons_at_target:
+        bound = ", ".join(f"{k} {v:.2f}" for k, v in plan.bound_protons_at_target.items())
+        line("Still bound", f"protons per unit at pH {tgt.target_pH:g}: {bound}")
+    released = "released" if plan.temperature_rise_c >= 0 else "taken up"
+    line("Heat", f"{abs(plan.heat_kj):.3g} kJ {released}, temperature rise about "
+         f"{plan.temperature_rise_c:.1f} K (adiabatic batch)")
+    if plan.gas_l > 0 or plan.vented_pH is not None:
+        line("CO2 gas", f"{fmt_volume_l(plan.gas_l)} at {plan.gas_conditions}")
+        if plan.vented_pH is not None:
+            t.append(f"{'':13}after venting pH {plan.vented_pH:.2f} (air pCO2 "
+                     f"{plan.vent_pco2_atm:.2g} atm assumed)\n")
+    else:
+        line("Gas", "none expected")
+    expected = [p for p in plan.precipitates if p.expected]
+    if expected:
+        line("Solids", "; ".join(f"{p.solid} (SI {p.saturation_index:+.2f})" for p in expected)
+             + ": a sludge to collect, not to drain")
+    else:
+        line("Solids", "none expected to precipitate")
+    line("Sensitivity", f"{plan.sensitivity_pH_per_percent:.2g} pH per 1 % of the dose")
+    if plan.equivalence_points:
+        t.append("Equivalence points\n", style="bold")
+        for i, e in enumerate(plan.equivalence_points, start=1):
+            amount = amount_text(r, e.reagent_mol, r.volume_l(e.reagent_mol), r.mass_g(e.reagent_mol))
+            t.append(f"  E{i} {amount}, pH {e.pH:.2f}: {e.label}\n")
+    for w in plan.warnings:
+        t.append(f"? {w}\n", style="italic")
+    return t
+
+
+def stage_rows(plan) -> list[tuple[str, str, str, str]]:
+    """(stage, add, total so far, pH after) for the staged-addition table."""
+    r = plan.reagent
+    rows = []
+    for s in plan.stages:
+        add = amount_text(r, s.add_mol, s.add_volume_l, s.add_mass_g).split(" (")[0]
+        total = amount_text(r, s.cumulative_mol, r.volume_l(s.cumulative_mol),
+                            r.mass_g(s.cumulative_mol)).split(" (")[0]
+        rows.append((str(s.index), add, total, f"{s.pH_after:.2f}"))
+    return rows
+
+
+def cautions_text(cautions, *, stale: bool = False) -> Text:
+    """Every caution, severity first as text and symbol."""
+    t = Text()
+    if stale:
+        t.append("(from the last good plan: inputs have changed)\n", style="italic")
+    if not cautions:
+        t.append("· NOTE  No plan yet: cautions appear with the plan. Treat every acid or base "
+                 "waste as corrosive: goggles, gloves, fume hood.\n")
+    for c in cautions:
+        t.append(f"{SEVERITY_MARKS.get(c.severity, '· NOTE')} ", style=SEVERITY_STYLES.get(
+            c.severity, ""))
+        t.append(f"{c.text} [{c.code}]\n")
+    return t
+
+
+# -- widgets ----------------------------------------------------------------------------
+
+class PlanSummary(VerticalScroll):
+    """The plan's figures; greyed and marked when stale."""
+
+    DEFAULT_CSS = """
+    PlanSummary { height: 1fr; padding: 0 1; }
+    PlanSummary.-stale > Static { text-style: dim; }
+    """
+
+    def compose(self) -> ComposeResult:
+        yield Static(NO_PLAN_YET, id="plan-text")
+
+    def show_plan(self, plan) -> None:
+        self.query_one("#plan-text", Static).update(plan_text(plan) if plan else NO_PLAN_YET)
+
+    @property
+    def text(self) -> str:
+        content = self.query_one("#plan-text", Static).content
+        return content.plain if isinstance(content, Text) else str(content)
+
+
+class StagesTable(DataTable):
+    """Staged additions: most of the dose first, then smaller portions."""
+
+    DEFAULT_CSS = """
+    StagesTable { height: 1fr; }
+    StagesTable.-stale { text-style: dim; }
+    """
+
+    def on_mount(self) -> None:
+        self.cursor_type = "row"
+        self.zebra_stripes = False
+        self.add_column("stage", key="stage")
+        self.add_column("add", key="add")
+        self.add_column("total so far", key="total")
+        self.add_column("pH after", key="ph")
+
+    def show_plan(self, plan) -> None:
+        self.clear()
+        if plan is None:
+            return
+        for row in stage_rows(plan):
+            self.add_row(*row)
+
+
+class CautionsPanel(Vertical):
+    """The cautions, always on screen; the standing disposal note never scrolls away."""
+
+    DEFAULT_CSS = """
+    CautionsPanel {
+        height: 7;
+        border-top: heavy $foreground 50%;
+    }
+    CautionsPanel > #drain-banner {
+        display: none;
+        text-style: bold reverse;
+        height: auto;
+    }
+    CautionsPanel.-no-drain > #drain-banner { display: block; }
+    CautionsPanel > #cautions-scroll { height: 1fr; }
+    CautionsPanel > #standing-note {
+        height: auto;
+        text-style: bold;
+    }
+    """
+
+    can_focus = False
+
+    def compose(self) -> ComposeResult:
+        yield Static(NOT_FOR_DRAIN, id="drain-banner", markup=False)
+        with VerticalScroll(id="cautions-scroll", can_focus=True):
+            yield Static(cautions_text(()), id="cautions-text")
+        yield Static("· " + STANDING_NOTE, id="standing-note", markup=False)
+
+    def on_mount(self) -> None:
+        self.border_title = "Cautions"
+
+    def show_cautions(self, cautions, *, drain_plan: bool = True, stale: bool = False) -> None:
+        self.cautions = tuple(cautions)
+        self.set_class(not drain_plan, "-no-drain")
+        self.query_one("#cautions-text", Static).update(cautions_text(cautions, stale=stale))
+
+    @property
+    def text(self) -> str:
+        parts = []
+        for wid in ("#drain-banner", "#cautions-text", "#standing-note"):
+            w = self.query_one(wid, Static)
+            if wid == "#drain-banner" and not self.has_class("-no-drain"):
+                continue
+            c = w.content
+            parts.append(c.plain if isinstance(c, Text) else str(c))
+        return "\n".join(parts)

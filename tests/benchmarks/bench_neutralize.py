@@ -1,0 +1,156 @@
+"""Neutralize screen: a keystroke in the form to an updated plan on screen (target 50 ms).
+
+Run by hand (pytest does not collect it)::
+
+    python tests/benchmarks/bench_neutralize.py [--repeat N]
+
+For each demo container (and a typed-in sample), with the screen idle, one keystroke
+changes the target pH; the time is taken from just before the key is sent to the
+moment the new plan has been applied to the widgets (parse, plan in the worker
+thread, message back, panels, table, curve and cautions updated).  The planner alone
+(:func:`compute`, no screen) is timed too.  Medians and maxima in milliseconds.
+"""
+
+from __future__ import annotations
+
+import argparse
+import asyncio
+import statistics
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+
+from textual.widgets import Input  # noqa: E402
+
+from carboy.store.demo import DEMO_TODAY, create_demo_database  # noqa: E402
+from carboy.tui.app import make_app  # noqa: E402
+from carboy.tui.screens.neutralize import (  # noqa: E402
+    DEBOUNCE_S,
+    FormState,
+    NeutralizeScreen,
+    compute,
+)
+
+TARGET_MS = 50.0
+CASES = [
+    ("MA-01", "NaOH=1M"),
+    ("OA-02", "NaOH=1M"),
+    ("AL-03", "HCl=1M"),
+    ("HF-04", "NaOH@99%"),
+    (None, "NaOH=2M"),  # typed: H2SO4=0.05M NaH2PO4=10mM in 250 mL
+]
+TARGETS = ("7.5", "7.0")
+
+
+async def _wait(pilot, condition, timeout=20.0):
+    deadline = time.monotonic() + timeout
+    while not condition():
+        if time.monotonic() > deadline:
+            raise TimeoutError("the screen did not settle")
+        await pilot.pause(0.01)
+
+
+async def bench_screen(db: Path, repeat: int) -> dict[str, list[float]]:
+    app = make_app(db, today=DEMO_TODAY, who="bench")
+    out: dict[str, list[float]] = {}
+    async with app.run_test(size=(100, 36)) as pilot:
+        app.action_go("neutralize")
+        await _wait(pilot, lambda: isinstance(app.screen, NeutralizeScreen)
+                    and app.screen._composed)
+        screen: NeutralizeScreen = app.screen
+        applied: list[float] = []
+        original = screen._apply
+
+        def timed_apply(outcome):
+            original(outcome)
+            applied.append(time.perf_counter())
+
+        screen._apply = timed_apply
+        for label, reagent in CASES:
+            name = label or "typed"
+            if label:
+                screen.load_container(label)
+                await _wait(pilot, lambda label=label: screen.container is not None
+                            and screen.container.label == label)
+            else:
+                screen.action_typed_sample()
+                screen.query_one("#components", Input).value = "H2SO4=0.05M NaH2PO4=10mM"
+                screen.query_one("#volume", Input).value = "250 mL"
+            screen.query_one("#reagent", Input).value = reagent
+            target = screen.query_one("#target", Input)
+            times = []
+            for i in range(repeat):
+                await _wait(pilot, lambda: screen._plan_is_current())
+                await asyncio.sleep(DEBOUNCE_S * 1.5)  # idle: the next key is planned at once
+                target.focus()
+                await pilot.pause()
+                new = TARGETS[i % 2]
+                target.value = new[:-1]
+                target.cursor_position = len(target.value)
+                await _wait(pilot, lambda: screen._plan_is_current())
+                await asyncio.sleep(DEBOUNCE_S * 1.5)
+                applied.clear()
+                t0 = time.perf_counter()
+                await pilot.press(new[-1])
+                await _wait(pilot, lambda new=new: screen.outcome is not None
+                            and screen.outcome.state.target == new and bool(applied))
+                times.append((applied[-1] - t0) * 1000.0)
+            out[name] = times
+    return out
+
+
+def bench_compute(repeat: int) -> dict[str, list[float]]:
+    from carboy.store import waste
+    from carboy.store.db import open_database
+    from carboy.tui.screens.neutralize import load_container_info
+
+    with tempfile.TemporaryDirectory() as tmp:
+        db = create_demo_database(Path(tmp) / "demo.db", today=DEMO_TODAY)
+        store = open_database(db)
+        try:
+            infos = {c.label: load_container_info(store, c.label) for c in waste.containers(store)}
+        finally:
+            store.close()
+    out = {}
+    for label, reagent in CASES:
+        if label:
+            info, catalog = infos[label]
+            state = FormState(reagent=reagent, container=info)
+        else:
+            catalog = None
+            state = FormState(components="H2SO4=0.05M NaH2PO4=10mM", volume="250 mL",
+                              reagent=reagent)
+        compute(state, catalog=catalog)  # warm caches
+        times = []
+        for _ in range(repeat):
+            t0 = time.perf_counter()
+            compute(state, catalog=catalog)
+            times.append((time.perf_counter() - t0) * 1000.0)
+        out[label or "typed"] = times
+    return out
+
+
+def report(title: str, figures: dict[str, list[float]]) -> None:
+    print(title)
+    for name, times in figures.items():
+        med, worst = statistics.median(times), max(times)
+        mark = "ok  " if med <= TARGET_MS else "SLOW"
+        print(f"  {mark} {name:<7} median {med:7.1f} ms   max {worst:7.1f} ms   (n={len(times)})")
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--repeat", type=int, default=10)
+    args = parser.parse_args()
+    report(f"planner alone (compute), target {TARGET_MS:g} ms", bench_compute(args.repeat))
+    with tempfile.TemporaryDirectory() as tmp:
+        db = create_demo_database(Path(tmp) / "demo.db", today=DEMO_TODAY)
+        figures = asyncio.run(bench_screen(db, args.repeat))
+    report(f"keystroke -> plan on screen, target {TARGET_MS:g} ms", figures)
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,112 @@
+"""The app as a whole: modes, the contract other screens rely on, size guard, colours."""
+
+from __future__ import annotations
+
+from datetime import date
+
+from carboy.store.db import Store
+from carboy.store.demo import DEMO_TODAY
+from carboy.tui.screens.neutralize import NeutralizeScreen
+from carboy.tui.screens.stock import StockScreen
+from carboy.tui.screens.too_small import TooSmallScreen
+from carboy.tui.screens.waste import WasteScreen
+
+
+async def test_starts_on_stock_with_the_contract(make, demo_db, wait_for, who):
+    app = make()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await wait_for(pilot, lambda: isinstance(app.screen, StockScreen) and app.screen.loads)
+        assert app.current_mode == "stock"
+        assert app.db_path == demo_db and app.today == DEMO_TODAY and app.who == who
+        first, second = app.open_store(), app.open_store()
+        try:
+            assert isinstance(first, Store) and first is not second
+        finally:
+            first.close()
+            second.close()
+
+
+async def test_mode_keys_switch_screens(make):
+    app = make()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        for key, mode in (("2", "waste"), ("4", "journal"), ("f1", "help"), ("1", "stock"),
+                          ("3", "neutralize")):
+            await pilot.press(key)
+            await pilot.pause()
+            assert app.current_mode == mode, key
+
+
+async def test_function_keys_switch_screens_even_while_typing(make):
+    app = make()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press("slash", "h", "c")         # typing in the stock search field
+        await pilot.pause()
+        for key, mode in (("f3", "waste"), ("f5", "journal"), ("f4", "neutralize"),
+                          ("f1", "help"), ("f2", "stock")):
+            await pilot.press(key)
+            await pilot.pause()
+            assert app.current_mode == mode, key
+
+
+async def test_digits_typed_in_a_field_stay_in_the_field(make):
+    app = make()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press("slash", "0", ".", "1")
+        await pilot.pause()
+        assert app.current_mode == "stock"
+        assert app.screen.query_one("#stock-search").value == "0.1"
+
+
+async def test_plan_container_opens_neutralize_and_loads_it(make, monkeypatch, wait_for):
+    loaded = []
+    monkeypatch.setattr(NeutralizeScreen, "load_container",
+                        lambda self, label: loaded.append(label))
+    app = make()
+    async with app.run_test(size=(120, 40)) as pilot:
+        await pilot.pause()
+        app.plan_container("OA-02")
+        await wait_for(pilot, lambda: loaded == ["OA-02"])
+        assert app.current_mode == "neutralize"
+        assert isinstance(app.screen_stack[0], NeutralizeScreen)
+
+
+async def test_refresh_data_reloads_waste(make, wait_for):
+    app = make()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("2")
+        await wait_for(pilot, lambda: isinstance(app.screen, WasteScreen) and app.screen.loads)
+        before = app.screen.loads
+        app.refresh_data()
+        await wait_for(pilot, lambda: app.screen.loads > before)
+
+
+async def test_too_small_terminal_gets_a_message_then_recovers(make):
+    app = make()
+    async with app.run_test(size=(70, 20)) as pilot:
+        await pilot.pause()
+        assert isinstance(app.screen, TooSmallScreen)
+        message = str(app.screen.query_one("#too-small-message").render())
+        assert "80×24" in message and "70×20" in message
+        await pilot.press("2")  # screen keys do not apply while too small
+        assert app.current_mode == "stock"
+        await pilot.resize_terminal(80, 24)
+        await pilot.pause(0.1)
+        assert isinstance(app.screen, StockScreen)
+
+
+async def test_theme_follows_the_terminal_and_no_color_is_honoured(make, monkeypatch):
+    monkeypatch.setenv("NO_COLOR", "1")
+    app = make()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        assert app.theme.startswith("ansi")
+        assert app.no_color
+
+
+async def test_today_defaults_to_the_real_day(demo_db):
+    from carboy.tui.app import make_app
+
+    assert make_app(demo_db).today == date.today()

@@ -1,0 +1,286 @@
+"""Pilot tests of the Neutralize screen: plan a demo container, bad input, record it."""
+
+from __future__ import annotations
+
+import shutil
+import time
+
+import pytest
+from textual.widgets import Input, Static
+
+from carboy.store import journal
+from carboy.store.db import open_database
+from carboy.store.demo import DEMO_TODAY, create_demo_database
+from carboy.tui.app import make_app
+from carboy.tui.screens.neutralize import (
+    FormState,
+    NeutralizeScreen,
+    PlanComputed,
+    RecordDialog,
+    compute,
+    split_components,
+)
+from carboy.tui.widgets.ph_curve import PHCurve
+from carboy.tui.widgets.plan_view import CautionsPanel, PlanSummary
+
+SIZE = (100, 36)
+
+
+@pytest.fixture(scope="module")
+def demo_template(tmp_path_factory):
+    return create_demo_database(tmp_path_factory.mktemp("demo") / "demo.db", today=DEMO_TODAY)
+
+
+@pytest.fixture
+def demo_db(demo_template, tmp_path):
+    """A fresh copy of the demo database (closed, so a file copy is a faithful one)."""
+    target = tmp_path / "demo.db"
+    shutil.copyfile(demo_template, target)
+    return target
+
+
+async def wait_for(pilot, condition, timeout: float = 10.0) -> None:
+    deadline = time.monotonic() + timeout
+    while not condition():
+        if time.monotonic() > deadline:
+            raise AssertionError("condition not met in time")
+        await pilot.pause(0.05)
+
+
+async def open_container(app, pilot, label: str) -> NeutralizeScreen:
+    app.plan_container(label)
+    await wait_for(pilot, lambda: isinstance(app.screen, NeutralizeScreen)
+                   and app.screen.container is not None
+                   and app.screen.container.label == label)
+    return app.screen
+
+
+async def set_field(pilot, screen: NeutralizeScreen, wid: str, text: str) -> None:
+    """Fill a field as if typed: all but the last character set, the last one a keystroke."""
+    field = screen.query_one(f"#{wid}", Input)
+    field.focus()
+    await pilot.pause()  # focusing selects the text; set it only after that
+    field.value = text[:-1]
+    field.cursor_position = len(field.value)
+    await pilot.press(text[-1])
+
+
+async def settled(pilot, screen: NeutralizeScreen) -> None:
+    """Wait until the latest inputs have been planned (a plan or errors shown)."""
+    await pilot.pause()
+    await wait_for(pilot, lambda: screen.outcome is not None
+                   and screen.outcome.generation == screen._generation
+                   and screen.outcome.state == screen._form_state()
+                   and not screen._planning and screen._debounce is None)
+
+
+def echo(screen: NeutralizeScreen, name: str) -> str:
+    return str(screen.query_one(f"#echo-{name}", Static).content)
+
+
+async def test_container_plan_has_dose_and_disposal_note(demo_db):
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "MA-01")
+        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        await settled(pilot, screen)
+        plan = screen.plan
+        assert plan is not None and not screen.stale
+        assert plan.to_target.reagent_mol == pytest.approx(4.58, rel=0.01)
+        summary = screen.query_one(PlanSummary).text
+        assert "To pH 7" in summary and "4.58 L" in summary
+        cautions = screen.query_one(CautionsPanel).text
+        assert "local disposal rules" in cautions.lower()
+        assert "[local-rules]" in cautions
+        assert "safety office" in cautions
+        assert "understood: NaOH 1 M solution" in echo(screen, "reagent")
+        assert screen.check_action("record", ()) is True
+
+
+async def test_changing_the_target_changes_the_dose(demo_db):
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "OA-02")
+        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        await settled(pilot, screen)
+        at_7 = screen.plan.to_target.reagent_mol
+        await set_field(pilot, screen, "target", "5,5")
+        await settled(pilot, screen)
+        assert screen.plan.to_target.target_pH == 5.5
+        assert screen.plan.to_target.reagent_mol < at_7
+        assert "understood: pH 5.5" in echo(screen, "target")
+
+
+async def test_bad_reagent_is_explained_in_place_and_the_plan_goes_stale(demo_db):
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "MA-01")
+        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        await settled(pilot, screen)
+        good = screen.plan
+        await set_field(pilot, screen, "reagent", "NaOX=1M")
+        await settled(pilot, screen)
+        assert screen.query_one("#reagent", Input).value == "NaOX=1M"
+        assert "✗" in echo(screen, "reagent") and "NaOX" in echo(screen, "reagent")
+        assert screen.query_one("#reagent", Input).has_class("-invalid")
+        assert screen.plan is good and screen.stale
+        assert screen.query_one(PlanSummary).has_class("-stale")
+        assert screen.query_one(PHCurve).stale
+        assert "STALE" in str(screen.query_one("#nz-status", Static).content)
+        assert "[local-rules]" in screen.query_one(CautionsPanel).text
+        assert screen.check_action("record", ()) is None  # shown, but not with a stale plan
+
+
+async def test_wrong_direction_reagent_is_refused_in_place(demo_db):
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "MA-01")
+        await set_field(pilot, screen, "reagent", "HCl=1M")
+        await settled(pilot, screen)
+        assert screen.plan is None
+        assert "✗" in echo(screen, "reagent") and "needs a base" in echo(screen, "reagent")
+
+
+async def test_typed_sample_with_bad_volume_keeps_the_text(demo_db):
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        app.action_go("neutralize")
+        await wait_for(pilot, lambda: isinstance(app.screen, NeutralizeScreen)
+                       and app.screen._composed)
+        screen = app.screen
+        await set_field(pilot, screen, "components", "H2SO4=0.05M NaH2PO4=10mM")
+        await set_field(pilot, screen, "volume", "1,5 L")
+        await set_field(pilot, screen, "reagent", "NaOH@97%")
+        await settled(pilot, screen)
+        assert screen.plan is not None
+        assert "understood: 1.5 L" in echo(screen, "volume")
+        assert screen.check_action("record", ()) is False  # no container: hidden
+        await set_field(pilot, screen, "volume", "abc mL")
+        await settled(pilot, screen)
+        assert screen.query_one("#volume", Input).value == "abc mL"
+        assert "✗" in echo(screen, "volume") and "abc" in echo(screen, "volume")
+        assert screen.stale
+
+
+async def test_fluoride_container_is_not_for_the_drain(demo_db):
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "HF-04")
+        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        await settled(pilot, screen)
+        assert screen.plan is not None and not screen.plan.drain_plan
+        panel = screen.query_one(CautionsPanel)
+        assert panel.has_class("-no-drain")
+        text = panel.text
+        assert "NOT FOR DRAIN DISPOSAL" in text and "licensed" in text
+        assert "[not-a-drain-plan]" in text
+        assert "NOT FOR DRAIN DISPOSAL" in screen.query_one(PlanSummary).text
+        # held for licensed disposal: nothing to record here
+        assert screen.check_action("record", ()) is False
+
+
+async def test_record_with_measured_ph_appends_a_journal_entry(demo_db):
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "MA-01")
+        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        await settled(pilot, screen)
+        await pilot.press("ctrl+r")
+        await wait_for(pilot, lambda: isinstance(app.screen, RecordDialog))
+        dialog = app.screen
+        assert dialog.query_one("#who", Input).value == "tester"
+        await pilot.press("1", "5", "enter")
+        assert "✗" in str(dialog.query_one("#measured-echo", Static).content)
+        assert dialog.request is None
+        dialog.query_one("#measured", Input).value = ""
+        await pilot.press(*"7,2")
+        await pilot.press("enter")  # asks to confirm
+        assert dialog.request is not None and dialog.has_class("-confirming")
+        await pilot.press("enter")  # confirms
+        await wait_for(pilot, lambda: screen.last_journal_id is not None)
+        entry_id = screen.last_journal_id
+        await settled(pilot, screen)
+        assert f"#{entry_id}" in str(screen.query_one("#nz-status", Static).content)
+    store = open_database(demo_db)
+    try:
+        entry = journal.entries(store, kind="neutralization", limit=1)[0]
+    finally:
+        store.close()
+    assert entry.id == entry_id
+    assert entry.container_label == "MA-01"
+    assert entry.recorded_by == "tester"
+    assert entry.snapshot["measured_ph"] == 7.2
+    assert entry.snapshot["status"] == "neutralized"
+    assert entry.snapshot["plan"]["inputs"]["reagent"] == "NaOH=1M"
+    assert entry.snapshot["plan"]["plan"]["to_target"]["reagent_mol"] == pytest.approx(
+        4.58, rel=0.01)
+
+
+async def test_record_can_be_cancelled_and_writes_nothing(demo_db):
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "MA-01")
+        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        await settled(pilot, screen)
+        store = open_database(demo_db)
+        before = journal.count(store, kind="neutralization")
+        store.close()
+        await pilot.press("ctrl+r")
+        await wait_for(pilot, lambda: isinstance(app.screen, RecordDialog))
+        await pilot.press("escape")
+        await wait_for(pilot, lambda: app.screen is screen)
+        await pilot.pause(0.2)
+    store = open_database(demo_db)
+    try:
+        assert journal.count(store, kind="neutralization") == before
+    finally:
+        store.close()
+
+
+async def test_plot_gets_the_curve_window_target_and_equivalence_points(demo_db):
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "MA-01")
+        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        await settled(pilot, screen)
+        await pilot.press("ctrl+t", "ctrl+t")
+        await pilot.pause(0.2)
+        plot = screen.query_one(PHCurve)
+        data = plot.data
+        assert data is not None and len(data.x) == len(screen.plan.curve) == 400
+        assert data.window == (6.0, 9.0)
+        assert data.x_unit == "L"
+        assert data.target_x == pytest.approx(screen.plan.to_target.reagent_volume_l)
+        assert [m.tag for m in data.equivalence] == ["E1", "E2"]
+        assert data.pH[0] == pytest.approx(screen.plan.initial_pH)
+        key = str(screen.query_one("#curve-key", Static).content)
+        assert "window pH 6–9" in key and "E1" in key
+
+
+async def test_an_older_result_never_overwrites_a_newer_one(demo_db):
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "MA-01")
+        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        await settled(pilot, screen)
+        shown = screen.plan
+        old = compute(FormState(reagent="NaOH=2M", container=screen.container),
+                      generation=screen._generation - 1)
+        assert old.plan is not None
+        screen.post_message(PlanComputed(old))
+        await pilot.pause(0.2)
+        assert screen.plan is shown
+
+
+def test_components_split_as_people_type_them():
+    assert split_components("H2SO4=0.05M NaH2PO4=10mM") == ["H2SO4=0.05M", "NaH2PO4=10mM"]
+    assert split_components("HCl=0,1 M, H3PO4=10 mM") == ["HCl=0,1 M", "H3PO4=10 mM"]
+    assert split_components("acetic acid=1M") == ["acetic acid=1M"]
+
+
+def test_compute_reports_each_bad_field():
+    out = compute(FormState(components="HCl=0.1M", volume="abc mL", reagent="NaOH=1M",
+                            target="15"))
+    assert out.plan is None
+    assert set(out.errors) == {"volume", "target"}
+    assert "abc" in out.errors["volume"]

@@ -1,0 +1,52 @@
+"""A few deterministic pictures of the main screens (fixed demo data, clock, user, env).
+
+Update after an intended change with ``pytest tests/tui/test_snapshots.py --snapshot-update``
+and look at the report before committing.
+"""
+
+from __future__ import annotations
+
+import time
+
+import pytest
+from textual.widgets import Input
+
+
+async def settle(pilot, mode_key: str | None, ready) -> None:
+    app = pilot.app
+    if mode_key:
+        await pilot.press(mode_key)
+    deadline = time.monotonic() + 5
+    while not ready(app.screen):
+        assert time.monotonic() < deadline, "screen did not load"
+        await pilot.pause(0.02)
+    for box in app.screen.query(Input):
+        box.cursor_blink = False
+    await pilot.wait_for_scheduled_animations()
+    await pilot.pause(0.2)  # the footer and focus settle after the data arrives
+
+
+SIZES = [pytest.param((80, 24), id="80x24"), pytest.param((120, 40), id="120x40")]
+
+
+@pytest.mark.parametrize("size", SIZES)
+def test_stock(snap_compare, make, size):
+    async def run_before(pilot):
+        await settle(pilot, None, lambda s: getattr(s, "loads", 0) > 0)
+
+    assert snap_compare(make(), terminal_size=size, run_before=run_before)
+
+
+@pytest.mark.parametrize("size", SIZES)
+def test_waste(snap_compare, make, size):
+    async def run_before(pilot):
+        await settle(pilot, "2", lambda s: getattr(s, "detail", None) is not None)
+
+    assert snap_compare(make(), terminal_size=size, run_before=run_before)
+
+
+def test_journal(snap_compare, make):
+    async def run_before(pilot):
+        await settle(pilot, "4", lambda s: getattr(s, "loads", 0) > 0)
+
+    assert snap_compare(make(), terminal_size=(80, 24), run_before=run_before)
