@@ -582,7 +582,9 @@ def _coupled(lay, am: _Amounts, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
             # step in x at a held I; near it, the exact 2x2 step (or, if that fails,
             # the plain step with the plain update of I)
             far = np.abs(big_f / f_x) > COUPLED_NEAR
-            bad = far | ~(np.isfinite(dx) & np.isfinite(di) & (ia + di > 0))
+            # ...and an ionic-strength step far from the plain update g is not trusted
+            bad = far | ~(np.isfinite(dx) & np.isfinite(di) & (ia + di > 0.5 * g)
+                          & (ia + di < 2.0 * g))
             if bad.any():
                 dx = np.where(bad, -big_f / f_x, dx)
                 inew = np.where(far, ia, np.where(bad, g, ia + di))
@@ -598,16 +600,17 @@ def _coupled(lay, am: _Amounts, zs_pos, zs_neg, ispec, q, p, pkw, a_dh):
         else:
             lo, hi = _bracket(qa, pa, log_kw)
             xn = np.clip(xa + dx, lo, hi)
-        held_i = inew == ia
+        held_i = (inew == ia) | (not davies)
         seen_lo = np.where(held_i, np.where(big_f < 0, np.maximum(seen_lo, xa), seen_lo), -np.inf)
         seen_hi = np.where(held_i, np.where(big_f > 0, np.minimum(seen_hi, xa), seen_hi), np.inf)
         guard = ((xn <= seen_lo) | (xn >= seen_hi)) & np.isfinite(seen_lo) & np.isfinite(seen_hi)
         if guard.any():
             xn = np.where(guard, 0.5 * (np.where(guard, seen_lo, 0.0)
                                         + np.where(guard, seen_hi, 0.0)), xn)
-        # accept on the Newton step itself, never on a clipped or guarded step
-        fin = ((np.abs(big_f) < F_TOL) | ((np.abs(dx) < QUADRATIC_STEP) & (xn == xa + dx))) & i_ok
-        xa, ia = xn, inew
+        # accept on the Newton step itself, and keep that step (never a clipped or
+        # guarded one) as the answer
+        fin = ((np.abs(big_f) < F_TOL) | (np.abs(dx) < QUADRATIC_STEP)) & i_ok
+        xa, ia = np.where(fin, xa + dx, xn), inew
         if fin.any():
             done = idx[fin]
             x_out[done], i_out[done], ok[done] = xa[fin], ia[fin], True
@@ -748,7 +751,17 @@ def _solve(batch: MixtureBatch, lay: _Layout, activity: str, t_c: float,
     pkw = water.pkw(t_c)
     a_dh = water.debye_huckel_a(t_c) if activity == "davies" else 0.0
 
-    x, ionic, ok, iterations = _coupled(lay, am, zs_pos, zs_neg, ispec, q, p, pkw, a_dh)
+    fast = None
+    if tot.shape[0] == 1 and not lay.needs_shift:  # one solution: the plain-Python path
+        hold = {} if am.held is None else {
+            int(k): (float(am.j0[k]), float(am.c0[k]), float(am.held[0, k]))
+            for k in np.flatnonzero(am.mask)}
+        fast = _solve_one(lay, tot[0].tolist(), pkw, a_dh, hold)
+    if fast is not None:
+        x, ionic = np.array([fast[0]]), np.array([fast[1]])
+        ok, iterations = np.array([True]), fast[2]
+    else:
+        x, ionic, ok, iterations = _coupled(lay, am, zs_pos, zs_neg, ispec, q, p, pkw, a_dh)
     converged = ok.copy()
     if not ok.all():
         bad = ~ok
@@ -865,16 +878,21 @@ def state_at(keys: tuple[str, ...], ph, ionic_strength, *, temperature_c: float 
     return StateAt(lay.sys_keys, lay.sys_labels, alpha, lay.z, x, 2.0 * ad - water.pkw(t_c))
 
 
-def _solve_one(lay: _Layout, row, pkw: float, a_dh: float):
-    """The coupled (x, I) Newton of :func:`_coupled` for one solution, in plain Python.
+def _solve_one(lay: _Layout, row, pkw: float, a_dh: float, held=None):
+    """The coupled (x, I) iteration of :func:`_coupled` for one solution, in plain Python.
 
     numpy's per-call overhead dominates for a single solution of a few systems, so
-    this path does the same arithmetic with floats.  Returns ``(x, ionic, iterations)``
-    or ``None`` when it did not converge (the caller then takes the guaranteed
-    nested solve).  Tested against the vectorized path.
+    this path does the same arithmetic with floats, step for step: the plain Newton
+    step at a held I far from the root, the exact 2x2 step near it, the bisection
+    guard, and acceptance only on an unclipped Newton step below ``QUADRATIC_STEP`` at
+    a self-consistent I.  ``held`` maps a system's index to (reference state, its
+    concentration).  Returns ``(x, ionic, iterations)``, or ``None`` when it did not
+    get there (the caller then takes the vectorized solve).  Tested against it.
     """
     exp, log, sqrt = math.exp, math.log, math.sqrt
-    systems = [(row[col], states) for col, states, _, _ in lay.py_systems if row[col] > 0.0]
+    held = held or {}
+    systems = [(row[col], states, held.get(k)) for k, (col, states, _, _)
+               in enumerate(lay.py_systems) if row[col] > 0.0 or k in held]
     zs_pos = zs_neg = ispec = 0.0
     for col, z in lay.py_ions:
         c = row[col]
@@ -884,11 +902,13 @@ def _solve_one(lay: _Layout, row, pkw: float, a_dh: float):
             zs_neg -= z * c
         ispec += 0.5 * z * z * c
     q, p = zs_neg, zs_pos
-    for col, _, neg_cap, pos_cap in lay.py_systems:
-        q += row[col] * neg_cap
-        p += row[col] * pos_cap
+    for k, (col, _, neg_cap, pos_cap) in enumerate(lay.py_systems):
+        if k not in held:
+            q += row[col] * neg_cap
+            p += row[col] * pos_cap
     davies = a_dh != 0.0
     x, ionic = -7.0, ispec + 1e-7
+    seen_lo, seen_hi = -math.inf, math.inf
     cap = DAVIES_LIMIT_MOLAR
     for it in range(1, COUPLED_ITER + 1):
         i_act = min(ionic, cap)
@@ -897,10 +917,13 @@ def _solve_one(lay: _Layout, row, pkw: float, a_dh: float):
         tad = 2.0 * ad
         log_kw = tad - pkw
         psys = nsys = dpsys = dnsys = iz2 = diz2 = apos = aneg = aiz2 = 0.0
-        for ctot, states in systems:
+        for ctot, states, hold in systems:
             s0 = sj = sp = sn = sjp = sjn = sz2 = sc = scp = scn = sjz2 = scz2 = 0.0
+            e0 = 0.0
             for lb0, cc, st, zp, zn, z2 in states:
                 e = exp((lb0 - tad * cc - st * x) * LN10)
+                if hold is not None and st == hold[0]:
+                    e0 = e
                 s0 += e
                 sj += st * e
                 sc += cc * e
@@ -915,8 +938,12 @@ def _solve_one(lay: _Layout, row, pkw: float, a_dh: float):
                 sz2 += z2 * e
                 sjz2 += st * z2 * e
                 scz2 += cc * z2 * e
-            inv = ctot / s0
-            jb, cb = sj / s0, sc / s0
+            if hold is None:
+                inv = ctot / s0
+                jb, cb = sj / s0, sc / s0
+            else:  # a held state: the total follows x (see _Amounts)
+                inv = hold[2] / e0
+                jb, cb = hold[0], hold[1]
             pk, nk, zk = sp * inv, sn * inv, sz2 * inv
             psys += pk
             nsys += nk
@@ -934,29 +961,41 @@ def _solve_one(lay: _Layout, row, pkw: float, a_dh: float):
         big_f = log(pos / neg)
         f_x = (LN10 * h + dpsys) / pos + (LN10 * oh - dnsys) / neg
         g = ispec + 0.5 * (h + oh + iz2)
-        inew = g
         dx = -big_f / f_x
+        inew = g
         if davies:
-            dd = a_dh * ((0.5 / (sq * (1.0 + sq) ** 2) if sq > 0 else 0.0) - 0.3) \
-                if ionic < cap else 0.0
+            inew = ionic if abs(dx) > COUPLED_NEAR else g
+            dd = (a_dh * ((0.5 / (sq * (1.0 + sq) ** 2) if sq > 0 else 0.0) - 0.3)
+                  if ionic < cap else 0.0)
             f_i = (apos / pos - (2 * LN10 * oh + aneg) / neg) * dd
             g_x = 0.5 * (LN10 * (h - oh) + diz2)
             g_i = 0.5 * (2 * LN10 * oh + aiz2) * dd - 1.0
             res_g = g - ionic
             det = f_x * g_i - f_i * g_x
-            if det != 0.0:
+            if abs(dx) <= COUPLED_NEAR and det != 0.0:
                 dx2 = (f_i * res_g - big_f * g_i) / det
                 di = (g_x * big_f - res_g * f_x) / det
-                if math.isfinite(dx2) and math.isfinite(di) and ionic + di > 0:
+                if (math.isfinite(dx2) and math.isfinite(di)
+                        and 0.5 * g < ionic + di < 2.0 * g):
                     dx, inew = dx2, ionic + di
-        lo = log_kw - math.log10(p + 1.0) - 1e-3
-        hi = math.log10(q + 1.0) + 1e-3
-        xn = min(max(x + dx, lo), hi)
-        fin = (abs(big_f) < F_TOL or (abs(dx) < QUADRATIC_STEP and xn == x + dx)) and (
-            not davies or abs(inew - ionic) <= I_RTOL * max(inew, 1e-12))
+        if held:
+            xn = min(max(x + dx, -20.0), 4.0)
+        else:
+            xn = min(max(x + dx, log_kw - math.log10(p + 1.0) - 1e-3),
+                     math.log10(q + 1.0) + 1e-3)
+        if inew == ionic or not davies:
+            if big_f < 0:
+                seen_lo = max(seen_lo, x)
+            elif big_f > 0:
+                seen_hi = min(seen_hi, x)
+        else:
+            seen_lo, seen_hi = -math.inf, math.inf
+        if (xn <= seen_lo or xn >= seen_hi) and math.isfinite(seen_lo + seen_hi):
+            xn = 0.5 * (seen_lo + seen_hi)
+        if (abs(big_f) < F_TOL or abs(dx) < QUADRATIC_STEP) and (
+                not davies or abs(inew - ionic) <= I_RTOL * max(inew, 1e-12)):
+            return x + dx, inew, it   # the Newton step itself, never a guarded one
         x, ionic = xn, inew
-        if fin:
-            return x, ionic, it
     return None
 
 

@@ -64,3 +64,15 @@ def test_held_values_per_point_and_bad_input(catalog):
         speciate_batch(batch, held={"Na+": ("Na+", 1e-5)}, catalog=catalog)
     with pytest.raises(InvalidInput):
         speciate_batch(batch, held={"carbonate": ("CO2", -1.0)}, catalog=catalog)
+
+
+def test_one_solution_path_agrees_with_the_vectorized_one(catalog):
+    # one point takes the plain-Python path, two points the vectorized one
+    mixes = [Mixture({"Na+": 0.02, "carbonate": 0.01, "ammonium": 0.005, "Cl-": 0.005})] * 2
+    one = speciate_batch(MixtureBatch.of(mixes[:1]), held={"carbonate": ("CO2", CO2_AIR)},
+                         catalog=catalog)
+    two = speciate_batch(MixtureBatch.of(mixes), held={"carbonate": ("CO2", CO2_AIR)},
+                         catalog=catalog)
+    assert one.pH[0] == pytest.approx(two.pH[0], abs=1e-9)
+    np.testing.assert_allclose(one.system_totals_molar[0], two.system_totals_molar[0],
+                               rtol=1e-8)
