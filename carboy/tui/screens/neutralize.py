@@ -248,6 +248,11 @@ _PLANNER_FIELDS = {"reagent": "reagent", "target pH": "target", "window": "windo
                    "sample volume": "volume", "sample": "components", "temperature": "temperature"}
 
 
+CURVE_POINTS = 200
+"""Points of the pH curve on screen: a plot at most ~100 columns wide draws 2 braille
+dots per column, so 200 points are as smooth as the screen can show (and replan faster)."""
+
+
 def compute(state: FormState, generation: int = 0, catalog=None) -> Outcome:
     """Parse the form and plan; never raises (errors come back per field)."""
     from carboy.model.catalog import default_catalog
@@ -324,7 +329,7 @@ def compute(state: FormState, generation: int = 0, catalog=None) -> Outcome:
             plan = plan_neutralization(
                 mixture, reagent, target_pH=target, window=window,
                 activity="ideal" if state.ideal else "davies", catalog=catalog,
-                hazards=hazards)
+                hazards=hazards, curve_points=CURVE_POINTS)
             direction = plan.direction
         except (InvalidInput, UnknownCompound) as err:
             name = _PLANNER_FIELDS.get(getattr(err, "what", ""), "reagent")
