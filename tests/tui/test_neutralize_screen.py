@@ -13,6 +13,7 @@ from carboy.store.db import open_database
 from carboy.store.demo import DEMO_TODAY, create_demo_database
 from carboy.tui.app import make_app
 from carboy.tui.screens.neutralize import (
+    CURVE_POINTS,
     FormState,
     NeutralizeScreen,
     PlanComputed,
@@ -247,7 +248,7 @@ async def test_plot_gets_the_curve_window_target_and_equivalence_points(demo_db)
         await pilot.pause(0.2)
         plot = screen.query_one(PHCurve)
         data = plot.data
-        assert data is not None and len(data.x) == len(screen.plan.curve) == 400
+        assert data is not None and len(data.x) == len(screen.plan.curve) == CURVE_POINTS
         assert data.window == (6.0, 9.0)
         assert data.x_unit == "L"
         assert data.target_x == pytest.approx(screen.plan.to_target.reagent_volume_l)
