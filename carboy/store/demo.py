@@ -209,6 +209,6 @@ def seed(store: Store, today: date = DEMO_TODAY) -> None:
     waste.set_status(store, "HF-04", "licensed-disposal", who=lead, when=_at(today, 2, 10),
                      today=today - timedelta(days=2),
                      note="held for the licensed contractor; never neutralized here")
-    journal.append(store, "note", who=student, when=_at(today, 0, 8),
+    journal.append(store, "note", who=student, when=_at(today, 1, 8),
                    summary="Weekly check of eyewash and spill station done",
                    snapshot={"checked": ["eyewash", "spill kit", "NaHCO3 stock"]})
