@@ -190,10 +190,8 @@ def _since_text(since: date | datetime | str | None) -> str | None:
     return parsed.isoformat()
 
 
-def entries(store: Store, *, kind: str | None = None, since: date | datetime | str | None = None,
-            bottle_id: int | None = None, container_id: int | None = None,
-            before_id: int | None = None, limit: int | None = 100) -> list[Entry]:
-    """Entries newest first, optionally filtered; page with ``before_id`` (keyset)."""
+def _filters(kind: str | None, since) -> tuple[list[str], list]:
+    """SQL conditions and parameters for the kind and since-date filters."""
     where, params = [], []
     if kind is not None:
         where.append("j.kind = ?")
@@ -202,6 +200,14 @@ def entries(store: Store, *, kind: str | None = None, since: date | datetime | s
     if since_text is not None:
         where.append("j.recorded_at >= ?")
         params.append(since_text)
+    return where, params
+
+
+def entries(store: Store, *, kind: str | None = None, since: date | datetime | str | None = None,
+            bottle_id: int | None = None, container_id: int | None = None,
+            before_id: int | None = None, limit: int | None = 100) -> list[Entry]:
+    """Entries newest first, optionally filtered; page with ``before_id`` (keyset)."""
+    where, params = _filters(kind, since)
     if bottle_id is not None:
         where.append("j.bottle_id = ?")
         params.append(bottle_id)
@@ -229,14 +235,8 @@ def count(store: Store, *, kind: str | None = None) -> int:
 def iter_all(store: Store, *, kind: str | None = None,
              since: date | datetime | str | None = None, batch: int = 1000):
     """Every entry oldest first, read in short batches (for export)."""
-    where, params = ["j.id > ?"], [0]
-    if kind is not None:
-        where.append("j.kind = ?")
-        params.append(_check_kind(kind))
-    since_text = _since_text(since)
-    if since_text is not None:
-        where.append("j.recorded_at >= ?")
-        params.append(since_text)
+    where, params = _filters(kind, since)
+    where, params = ["j.id > ?", *where], [0, *params]
     sql = _SELECT + " WHERE " + " AND ".join(where) + f" ORDER BY j.id LIMIT {int(batch)}"
     while True:
         rows = store.rows(sql, params)
