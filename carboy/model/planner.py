@@ -419,13 +419,9 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
 
     # ---- bound protons at the target
     i_tp = 1
-    bound = {}
-    for k, key in enumerate(pres.system_keys):
-        if key not in sample.totals:
-            continue
-        labs = pres.system_labels[k]
-        fr = pres.fractions[i_tp, k, : len(labs)]
-        bound[key] = float(sum((len(labs) - 1 - j) * fr[j] for j in range(len(labs))))
+    at_target = pres.point(i_tp)
+    bound = {key: at_target.mean_protons_bound(key) for key in pres.system_keys
+             if key in sample.totals}
 
     # ---- heat, temperature, gas
     n_end = base_t
