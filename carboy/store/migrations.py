@@ -14,6 +14,8 @@ Tables (names are ours):
 ``waste_additions``    what went into each container (append-only)
 ``user_compounds``     compounds the built-in catalog lacks (validated like it)
 ``journal_entries``    the append-only journal
+``storeroom_rules``    the storeroom's own settings over carboy's defaults (0002): re-check
+                       intervals per compound, standardization acceptance
 """
 
 from __future__ import annotations
@@ -161,6 +163,16 @@ END""",
     ]
     for sql in statements:
         db.execute(sql)
+
+
+@migrations(name="0002_storeroom_rules")
+def m0002_storeroom_rules(db: Database) -> None:
+    db.execute("""CREATE TABLE storeroom_rules (
+    name TEXT PRIMARY KEY CHECK (length(trim(name)) > 0),
+    value_json TEXT NOT NULL CHECK (json_valid(value_json)),
+    set_at TEXT NOT NULL,
+    set_by TEXT NOT NULL
+)""")
 
 
 def known_names() -> list[str]:

@@ -12,7 +12,10 @@ Strength status (plain text, see :func:`strength_status`), first match wins:
 ``off-label``  the last measured strength differs from the label strength by more
                than :data:`OFF_LABEL_TOLERANCE` (2 %, relative);
 ``overdue``    the bottle has a re-standardization interval and its last
-               measurement is older than that (or it was never measured);
+               measurement is older than that (or it was never measured).  The
+               interval is the bottle's own, else (for a molar solution) the
+               storeroom's rule for its compound (:mod:`carboy.store.rules`,
+               defaults in ``carboy/model/data/upkeep.toml``);
 ``current``    otherwise.
 
 The stock list is paged with keysets on the bottle id (``page(after_id=...)``) and
@@ -31,7 +34,7 @@ from typing import Any
 
 from carboy.errors import InvalidInput
 from carboy.model import quantities
-from carboy.store import journal
+from carboy.store import journal, rules
 from carboy.store.db import Store, current_user, iso_utc, utc_now
 from carboy.store.errors import NotFound
 from carboy.store.migrations import BOTTLE_STATUSES
@@ -75,6 +78,8 @@ class Bottle:
     added_at: str
     added_by: str
     strength_status: str
+    recheck_days: int | None = None
+    """The re-standardization interval in force: the bottle's own, else its compound's rule."""
 
     def as_dict(self) -> dict:
         return asdict(self)
@@ -372,41 +377,98 @@ def record_standardization(store: Store, bottle_id: int, strength: str | float, 
     return store.write(work)
 
 
-def record_preparation(store: Store, bottle_id: int, used: str | float, *,
-                       snapshot: Mapping | None = None, summary: str = "",
-                       who: str | None = None, when: datetime | None = None) -> int:
-    """Take an amount from a bottle for a preparation and journal it; returns the entry id.
+@dataclass(frozen=True)
+class Prepared:
+    """What :func:`prepare` wrote: the journal entry and the new bottle, if one was made."""
 
-    ``used`` is text (``'25 mL'``) or a number in the bottle's amount unit.
-    """
-    bottle = get(store, bottle_id)
-    if bottle.status != "in-use":
-        raise InvalidInput("bottle", bottle.id, f"is {bottle.status}, not in use")
+    entry_id: int
+    new_bottle_id: int | None
+    source_left: float | None
+    """Amount left in the source bottle afterwards (its own unit), if one was drawn from."""
+
+
+def _amount_used(bottle: Bottle, used: str | float) -> float:
     if isinstance(used, str):
         amount, unit = parse_amount(used, "amount used")
         if unit != bottle.amount_unit:
-            raise InvalidInput("amount used", used, f"must be in {bottle.amount_unit}")
+            raise InvalidInput("amount used", used, f"must be in {bottle.amount_unit}, the unit "
+                               f"bottle {bottle.id} is kept in")
     else:
         amount = float(used)
-        if not math.isfinite(amount) or amount <= 0:
-            raise InvalidInput("amount used", used, "must be a positive number")
+    if not math.isfinite(amount) or amount <= 0:
+        raise InvalidInput("amount used", used, "must be a positive number")
+    return amount
 
-    def work(s: Store) -> int:
-        left = s.scalar("SELECT amount_left FROM stock_bottles WHERE id = ?", [bottle.id])
-        if amount > left * (1 + 1e-9):
-            raise InvalidInput("amount used", used,
-                               f"only {format_amount(left, bottle.amount_unit)} is left in "
-                               "the bottle")
-        s.execute("UPDATE stock_bottles SET amount_left = ? WHERE id = ?",
-                  [max(left - amount, 0.0), bottle.id])
-        snap = {"used": amount, "unit": bottle.amount_unit, "left_before": left,
-                **(dict(snapshot) if snapshot else {})}
-        return journal.append_in(
-            s, "preparation", bottle_id=bottle.id, snapshot=snap, who=who, when=when,
-            summary=summary or f"bottle {bottle.id} {bottle.compound_key}: used "
-                               f"{format_amount(amount, bottle.amount_unit)}")
+
+def prepare(store: Store, *, source_bottle: int | str | None = None,
+            used: str | float | None = None, new_bottle: Mapping[str, Any] | None = None,
+            snapshot: Mapping | None = None, summary: str = "", who: str | None = None,
+            when: datetime | None = None) -> Prepared:
+    """Record a preparation in one transaction: draw ``used`` from ``source_bottle`` (if
+    given), add ``new_bottle`` (text fields as for :func:`validate`, if given) and append a
+    ``preparation`` journal entry naming both.  Either both writes land or neither does.
+
+    ``used`` is text (``'25 mL'``, ``'102.1 g'``) or a number in the source bottle's unit.
+    """
+    from carboy.store.compounds import catalog_for
+
+    if source_bottle is None and new_bottle is None:
+        raise InvalidInput("preparation", "", "nothing to record: give a source bottle to draw "
+                           "from or a new bottle to add")
+    bottle = amount = None
+    if source_bottle is not None:
+        bottle = get(store, source_bottle)
+        if bottle.status != "in-use":
+            raise InvalidInput("bottle", bottle.id, f"is {bottle.status}, not in use")
+        if used is None:
+            raise InvalidInput("amount used", "", f"say how much was taken from bottle "
+                               f"{bottle.id}")
+        amount = _amount_used(bottle, used)
+    columns = validate(new_bottle, catalog_for(store)) if new_bottle is not None else None
+
+    def work(s: Store) -> Prepared:
+        left_after = None
+        snap: dict[str, Any] = {}
+        if bottle is not None:
+            left = s.scalar("SELECT amount_left FROM stock_bottles WHERE id = ?", [bottle.id])
+            if amount > left * (1 + 1e-9):
+                raise InvalidInput("amount used", used,
+                                   f"only {format_amount(left, bottle.amount_unit)} is left in "
+                                   f"bottle {bottle.id}")
+            left_after = max(left - amount, 0.0)
+            s.execute("UPDATE stock_bottles SET amount_left = ? WHERE id = ?",
+                      [left_after, bottle.id])
+            snap.update({"source_bottle": bottle.id, "used": amount,
+                         "unit": bottle.amount_unit, "left_before": left})
+        new_id = insert_in(s, columns, who=who, when=when) if columns is not None else None
+        if columns is not None:
+            snap.update({"new_bottle": new_id, "bottle": columns})
+        snap.update(dict(snapshot) if snapshot else {})
+        if not summary:
+            parts = []
+            if bottle is not None:
+                parts.append(f"bottle {bottle.id} {bottle.compound_key}: used "
+                             f"{format_amount(amount, bottle.amount_unit)}")
+            if columns is not None:
+                parts.append(f"made bottle {new_id} {columns['compound_key']} "
+                             f"{format_strength(columns['label_strength'], columns['strength_unit'])}")
+            text = "; ".join(parts)
+        else:
+            text = summary
+        entry = journal.append_in(
+            s, "preparation", bottle_id=bottle.id if bottle is not None else new_id,
+            snapshot=snap, who=who, when=when, summary=text)
+        return Prepared(entry, new_id, left_after)
 
     return store.write(work)
+
+
+def record_preparation(store: Store, bottle_id: int, used: str | float, *,
+                       snapshot: Mapping | None = None, summary: str = "",
+                       who: str | None = None, when: datetime | None = None) -> int:
+    """Take an amount from a bottle for a preparation and journal it; returns the entry id."""
+    return prepare(store, source_bottle=bottle_id, used=used, snapshot=snapshot,
+                   summary=summary, who=who, when=when).entry_id
 
 
 def set_status(store: Store, bottle_id: int, status: str, *, note: str = "",
@@ -433,13 +495,24 @@ def set_status(store: Store, bottle_id: int, status: str, *, note: str = "",
 _BOTTLE_COLUMNS = ("id",) + _COLUMNS
 
 
-def _bottle(row: Mapping[str, Any], today: date) -> Bottle:
+def effective_recheck(row: Mapping[str, Any], in_force: rules.Rules | None) -> int | None:
+    """The bottle's own interval, else its compound's rule (molar solutions only)."""
+    if row["restandardize_days"]:
+        return int(row["restandardize_days"])
+    if in_force is None or row["strength_unit"] != "M":
+        return None
+    return in_force.recheck_for(row["compound_key"])
+
+
+def _bottle(row: Mapping[str, Any], today: date, in_force: rules.Rules | None = None) -> Bottle:
+    days = effective_recheck(row, in_force)
     status = strength_status(label_strength=row["label_strength"],
                              current_strength=row["current_strength"],
                              measured_at=row["measured_at"],
-                             restandardize_days=row["restandardize_days"],
+                             restandardize_days=days,
                              expires_on=row["expires_on"], today=today)
-    return Bottle(**{c: row[c] for c in _BOTTLE_COLUMNS}, strength_status=status)
+    return Bottle(**{c: row[c] for c in _BOTTLE_COLUMNS}, strength_status=status,
+                  recheck_days=days)
 
 
 def _as_id(value: object) -> int:
@@ -455,7 +528,7 @@ def get(store: Store, bottle_id: int | str, *, today: date | None = None) -> Bot
                     [bid])
     if row is None:
         raise NotFound("stock bottle", bid)
-    return _bottle(row, today or date.today())
+    return _bottle(row, today or date.today(), rules.load(store))
 
 
 def fts_query(search: str | None) -> str | None:
@@ -509,7 +582,8 @@ def page(store: Store, search: str | None = None, *, after_id: int | None = None
     if backwards:
         rows.reverse()
     day = today or date.today()
-    bottles = [_bottle(r, day) for r in rows]
+    in_force = rules.load(store)
+    bottles = [_bottle(r, day, in_force) for r in rows]
     if not bottles:
         return Page([], None, None)
     if backwards:
@@ -545,3 +619,105 @@ def all_bottles(store: Store, *, today: date | None = None, batch: int = 1000):
         if got.next_after is None:
             return
         after = got.next_after
+
+
+# -- strength checks ------------------------------------------------------------------
+
+EXPIRES_SOON_DAYS = 30
+"""A bottle expiring within this many days is listed as a notice (common practice)."""
+CHECK_FLAGS = ("expired", "off-label", "overdue", "never-standardized", "expires-soon")
+
+
+@dataclass(frozen=True)
+class CheckRow:
+    """One bottle in the strength check: what is known of its strength and what is due."""
+
+    bottle: Bottle
+    deviation_percent: float | None
+    """Current against label strength, % (signed); None if never measured."""
+    days_since: int | None
+    """Days since the last measurement; None if never measured."""
+    due_on: str | None
+    """When the next standardization is due (ISO date); None if no interval applies."""
+    days_to_expiry: int | None
+    flags: tuple[str, ...]
+    reasons: tuple[str, ...]
+
+    def to_dict(self) -> dict:
+        b = self.bottle
+        return {
+            "bottle_id": b.id, "compound": b.compound_key, "name": b.compound_name,
+            "location": b.location, "lot": b.lot, "unit": b.strength_unit,
+            "label_strength": b.label_strength, "current_strength": b.current_strength,
+            "deviation_percent": self.deviation_percent,
+            "measured_on": (b.measured_at or "")[:10] or None, "days_since": self.days_since,
+            "recheck_days": b.recheck_days, "due_on": self.due_on,
+            "expires_on": b.expires_on, "days_to_expiry": self.days_to_expiry,
+            "status": b.strength_status, "flags": list(self.flags),
+            "reasons": list(self.reasons),
+        }
+
+
+def check_row(bottle: Bottle, today: date) -> CheckRow:
+    """The strength check of one bottle as of ``today``."""
+    unit = bottle.strength_unit
+    flags: list[str] = []
+    reasons: list[str] = []
+    expiry = _date_of(bottle.expires_on)
+    to_expiry = (expiry - today).days if expiry else None
+    if to_expiry is not None and to_expiry < 0:
+        flags.append("expired")
+        reasons.append(f"expired on {bottle.expires_on} ({-to_expiry} days ago)")
+    deviation = None
+    if bottle.current_strength is not None:
+        deviation = (bottle.current_strength - bottle.label_strength) / bottle.label_strength * 100
+        if abs(deviation) > OFF_LABEL_TOLERANCE * 100:
+            flags.append("off-label")
+            reasons.append(
+                f"measured {format_strength(bottle.current_strength, unit)} against the label's "
+                f"{format_strength(bottle.label_strength, unit)} ({deviation:+.1f} %, more than "
+                f"±{OFF_LABEL_TOLERANCE * 100:g} %): relabel it or use the measured strength")
+    measured = _date_of(bottle.measured_at)
+    since = (today - measured).days if measured else None
+    due = None
+    if bottle.recheck_days:
+        if measured is None:
+            flags.append("never-standardized")
+            reasons.append(f"never standardized (re-check every {bottle.recheck_days} days)")
+        else:
+            due_date = date.fromordinal(measured.toordinal() + bottle.recheck_days)
+            due = due_date.isoformat()
+            if since > bottle.recheck_days:
+                flags.append("overdue")
+                reasons.append(f"last standardized {since} days ago, on {measured.isoformat()} "
+                               f"(re-check every {bottle.recheck_days} days): overdue since "
+                               f"{due}")
+    if to_expiry is not None and 0 <= to_expiry <= EXPIRES_SOON_DAYS:
+        flags.append("expires-soon")
+        reasons.append(f"expires on {bottle.expires_on}, in {to_expiry} days")
+    return CheckRow(bottle, deviation, since, due, to_expiry, tuple(flags), tuple(reasons))
+
+
+def check(store: Store, *, today: date | None = None, everything: bool = False,
+          batch: int = 1000) -> list[CheckRow]:
+    """The strength check of every bottle in use: by default only those with a flag,
+    most serious first (expired, off-label, overdue or never standardized, expiring soon)."""
+    day = today or date.today()
+    out: list[CheckRow] = []
+    after = None
+    while True:
+        got = page(store, after_id=after, limit=batch, status="in-use", today=day)
+        for bottle in got.bottles:
+            row = check_row(bottle, day)
+            if everything or row.flags:
+                out.append(row)
+        if got.next_after is None:
+            break
+        after = got.next_after
+
+    def rank(row: CheckRow) -> tuple[int, int]:
+        first = min((CHECK_FLAGS.index(f) for f in row.flags), default=len(CHECK_FLAGS))
+        return first, row.bottle.id
+
+    out.sort(key=rank)
+    return out

@@ -5,7 +5,8 @@ from __future__ import annotations
 TABLES = {
     "_sqlite_migrations", "journal_entries", "stock_bottles", "stock_bottles_fts",
     "stock_bottles_fts_config", "stock_bottles_fts_data", "stock_bottles_fts_docsize",
-    "stock_bottles_fts_idx", "user_compounds", "waste_additions", "waste_containers",
+    "stock_bottles_fts_idx", "storeroom_rules", "user_compounds", "waste_additions",
+    "waste_containers",
 }
 INDEXES = {
     ("_sqlite_migrations", "idx__sqlite_migrations_migration_set_name"),
@@ -16,6 +17,7 @@ INDEXES = {
     ("journal_entries", "journal_entries_by_time"),
     ("stock_bottles", "stock_bottles_by_compound"),
     ("stock_bottles", "stock_bottles_by_expiry"),
+    ("storeroom_rules", "sqlite_autoindex_storeroom_rules_1"),
     ("user_compounds", "sqlite_autoindex_user_compounds_1"),
     ("waste_additions", "sqlite_autoindex_waste_additions_1"),
     ("waste_additions", "waste_additions_by_container"),
@@ -39,6 +41,7 @@ COLUMNS = {
                         "entered", "composition_json", "moles_json", "supersedes_id",
                         "added_at", "added_by", "origin", "note"],
     "user_compounds": ["key", "definition_json", "source", "added_at", "added_by"],
+    "storeroom_rules": ["name", "value_json", "set_at", "set_by"],
     "stock_bottles": ["id", "compound_key", "compound_name", "strength_unit", "label_strength",
                       "current_strength", "measured_at", "measured_how", "restandardize_days",
                       "amount_unit", "amount_left", "container_size", "location", "lot",
@@ -87,4 +90,5 @@ def test_foreign_keys_declared(store):
 
 def test_migrations_recorded(store):
     rows = store.rows("SELECT migration_set, name FROM _sqlite_migrations")
-    assert rows == [{"migration_set": "carboy", "name": "0001_storeroom"}]
+    assert rows == [{"migration_set": "carboy", "name": "0001_storeroom"},
+                    {"migration_set": "carboy", "name": "0002_storeroom_rules"}]

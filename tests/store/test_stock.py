@@ -112,7 +112,7 @@ def test_record_preparation_takes_from_bottle(store):
                amount_left="10 mL")
     stock.record_preparation(store, bid, "8 mL", snapshot={"target": "0.1 M"}, who="t")
     assert stock.get(store, bid).amount_left == pytest.approx(0.002)
-    with pytest.raises(InvalidInput, match="left in the bottle"):
+    with pytest.raises(InvalidInput, match="left in bottle"):
         stock.record_preparation(store, bid, "5 mL", who="t")
     assert stock.get(store, bid).amount_left == pytest.approx(0.002)
 
@@ -182,3 +182,49 @@ def test_get_bad_ids(store):
         stock.get(store, "abc")
     with pytest.raises(NotFound):
         stock.get(store, 42)
+
+
+def test_prepare_draws_adds_and_journals_in_one_entry(store):
+    src = _add(store, compound="HCl", label_strength="37 %", container_size="2.5 L",
+               amount_left="1 L")
+    got = stock.prepare(store, source_bottle=src, used="82.8 mL",
+                        new_bottle={"compound": "HCl", "label_strength": "1 M",
+                                    "container_size": "1 L", "location": "bench 2"},
+                        snapshot={"target_molar": 1.0}, who="t")
+    assert stock.get(store, src).amount_left == pytest.approx(1.0 - 0.0828)
+    new = stock.get(store, got.new_bottle_id)
+    assert (new.compound_key, new.label_strength, new.strength_unit) == ("HCl", 1.0, "M")
+    entry = journal.get(store, got.entry_id)
+    assert entry.kind == "preparation" and entry.bottle_id == src
+    assert entry.snapshot["new_bottle"] == got.new_bottle_id
+    assert entry.snapshot["target_molar"] == 1.0
+    assert got.source_left == pytest.approx(0.9172)
+
+
+def test_prepare_refused_writes_nothing(store):
+    src = _add(store, compound="HCl", label_strength="37 %", container_size="1 L",
+               amount_left="10 mL")
+    bottles_before = stock.count(store)
+    entries_before = journal.count(store)
+    with pytest.raises(InvalidInput, match="left in bottle"):
+        stock.prepare(store, source_bottle=src, used="50 mL",
+                      new_bottle={"compound": "HCl", "label_strength": "1 M",
+                                  "container_size": "1 L"})
+    with pytest.raises(InvalidInput, match="label strength"):
+        stock.prepare(store, source_bottle=src, used="5 mL",
+                      new_bottle={"compound": "HCl", "label_strength": "strong",
+                                  "container_size": "1 L"})
+    with pytest.raises(InvalidInput, match="must be in L"):
+        stock.prepare(store, source_bottle=src, used="5 g")
+    with pytest.raises(InvalidInput, match="nothing to record"):
+        stock.prepare(store)
+    assert stock.count(store) == bottles_before
+    assert journal.count(store) == entries_before
+    assert stock.get(store, src).amount_left == pytest.approx(0.010)
+
+
+def test_prepare_from_the_catalog_only_adds_the_new_bottle(store):
+    got = stock.prepare(store, new_bottle={"compound": "NaOH", "label_strength": "0.1 M",
+                                           "container_size": "1 L"}, who="t")
+    entry = journal.get(store, got.entry_id)
+    assert entry.bottle_id == got.new_bottle_id and got.source_left is None
