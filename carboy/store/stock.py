@@ -388,16 +388,26 @@ class Prepared:
 
 
 def _amount_used(bottle: Bottle, used: str | float) -> float:
-    if isinstance(used, str):
-        amount, unit = parse_amount(used, "amount used")
-        if unit != bottle.amount_unit:
-            raise InvalidInput("amount used", used, f"must be in {bottle.amount_unit}, the unit "
-                               f"bottle {bottle.id} is kept in")
-    else:
-        amount = float(used)
-    if not math.isfinite(amount) or amount <= 0:
-        raise InvalidInput("amount used", used, "must be a positive number")
-    return amount
+    return _amount_in(bottle.amount_unit, used, f" (bottle {bottle.id})")
+
+
+@dataclass(frozen=True)
+class PreparationStep:
+    """One preparation to record: what is drawn from which bottle, and what is made.
+
+    ``source_bottle`` is a bottle id, ``None`` (nothing drawn from the inventory, e.g. a
+    catalog concentrate) or :data:`PREVIOUS` (the bottle the step before made, for a
+    serial dilution).  ``new_bottle`` holds text fields as for :func:`validate`.
+    """
+
+    source_bottle: int | str | None = None
+    used: str | float | None = None
+    new_bottle: Mapping[str, Any] | None = None
+    snapshot: Mapping | None = None
+    summary: str = ""
+
+
+PREVIOUS = "previous"
 
 
 def prepare(store: Store, *, source_bottle: int | str | None = None,
@@ -406,61 +416,109 @@ def prepare(store: Store, *, source_bottle: int | str | None = None,
             when: datetime | None = None) -> Prepared:
     """Record a preparation in one transaction: draw ``used`` from ``source_bottle`` (if
     given), add ``new_bottle`` (text fields as for :func:`validate`, if given) and append a
-    ``preparation`` journal entry naming both.  Either both writes land or neither does.
+    ``preparation`` journal entry naming both.  Either every write lands or none does.
 
     ``used`` is text (``'25 mL'``, ``'102.1 g'``) or a number in the source bottle's unit.
     """
+    step = PreparationStep(source_bottle, used, new_bottle, snapshot, summary)
+    return prepare_series(store, [step], who=who, when=when)[0]
+
+
+def prepare_series(store: Store, steps, *, who: str | None = None,
+                   when: datetime | None = None) -> list[Prepared]:
+    """Record several preparations (a serial dilution) in one transaction.
+
+    Every step is validated before anything is written; a step whose ``source_bottle``
+    is :data:`PREVIOUS` draws from the bottle the step before it made.
+    """
     from carboy.store.compounds import catalog_for
 
-    if source_bottle is None and new_bottle is None:
-        raise InvalidInput("preparation", "", "nothing to record: give a source bottle to draw "
-                           "from or a new bottle to add")
-    bottle = amount = None
-    if source_bottle is not None:
-        bottle = get(store, source_bottle)
-        if bottle.status != "in-use":
-            raise InvalidInput("bottle", bottle.id, f"is {bottle.status}, not in use")
-        if used is None:
-            raise InvalidInput("amount used", "", f"say how much was taken from bottle "
-                               f"{bottle.id}")
-        amount = _amount_used(bottle, used)
-    columns = validate(new_bottle, catalog_for(store)) if new_bottle is not None else None
-
-    def work(s: Store) -> Prepared:
-        left_after = None
-        snap: dict[str, Any] = {}
-        if bottle is not None:
-            left = s.scalar("SELECT amount_left FROM stock_bottles WHERE id = ?", [bottle.id])
-            if amount > left * (1 + 1e-9):
-                raise InvalidInput("amount used", used,
-                                   f"only {format_amount(left, bottle.amount_unit)} is left in "
+    steps = list(steps)
+    if not steps:
+        raise InvalidInput("preparation", "", "nothing to record")
+    catalog = catalog_for(store)
+    checked = []
+    for k, step in enumerate(steps, 1):
+        where = f" (step {k})" if len(steps) > 1 else ""
+        if step.source_bottle is None and step.new_bottle is None:
+            raise InvalidInput("preparation" + where, "", "nothing to record: give a source "
+                               "bottle to draw from or a new bottle to add")
+        bottle = amount = None
+        if step.source_bottle == PREVIOUS:
+            if k == 1 or steps[k - 2].new_bottle is None:
+                raise InvalidInput("source bottle" + where, PREVIOUS,
+                                   "the step before makes no bottle to draw from")
+            columns_before = checked[-1][2]
+            amount = _amount_in(columns_before["amount_unit"], step.used, where)
+        elif step.source_bottle is not None:
+            bottle = get(store, step.source_bottle)
+            if bottle.status != "in-use":
+                raise InvalidInput("bottle", bottle.id, f"is {bottle.status}, not in use")
+            if step.used is None:
+                raise InvalidInput("amount used" + where, "", f"say how much was taken from "
                                    f"bottle {bottle.id}")
-            left_after = max(left - amount, 0.0)
-            s.execute("UPDATE stock_bottles SET amount_left = ? WHERE id = ?",
-                      [left_after, bottle.id])
-            snap.update({"source_bottle": bottle.id, "used": amount,
-                         "unit": bottle.amount_unit, "left_before": left})
-        new_id = insert_in(s, columns, who=who, when=when) if columns is not None else None
-        if columns is not None:
-            snap.update({"new_bottle": new_id, "bottle": columns})
-        snap.update(dict(snapshot) if snapshot else {})
-        if not summary:
+            amount = _amount_used(bottle, step.used)
+        columns = validate(step.new_bottle, catalog) if step.new_bottle is not None else None
+        checked.append((bottle, amount, columns))
+
+    def work(s: Store) -> list[Prepared]:
+        out: list[Prepared] = []
+        for step, (bottle, amount, columns) in zip(steps, checked):
+            if step.source_bottle == PREVIOUS:
+                source_id = out[-1].new_bottle_id
+                source_key = checked[len(out) - 1][2]["compound_key"]
+                source_unit = checked[len(out) - 1][2]["amount_unit"]
+            elif bottle is not None:
+                source_id, source_key, source_unit = bottle.id, bottle.compound_key, \
+                    bottle.amount_unit
+            else:
+                source_id = None
+            left_after = None
+            snap: dict[str, Any] = {}
+            if source_id is not None:
+                left = s.scalar("SELECT amount_left FROM stock_bottles WHERE id = ?",
+                                [source_id])
+                if amount > left * (1 + 1e-9):
+                    raise InvalidInput("amount used", step.used,
+                                       f"only {format_amount(left, source_unit)} is left in "
+                                       f"bottle {source_id}")
+                left_after = max(left - amount, 0.0)
+                s.execute("UPDATE stock_bottles SET amount_left = ? WHERE id = ?",
+                          [left_after, source_id])
+                snap.update({"source_bottle": source_id, "used": amount,
+                             "unit": source_unit, "left_before": left})
+            new_id = insert_in(s, columns, who=who, when=when) if columns is not None else None
+            if columns is not None:
+                snap.update({"new_bottle": new_id, "bottle": columns})
+            snap.update(dict(step.snapshot) if step.snapshot else {})
             parts = []
-            if bottle is not None:
-                parts.append(f"bottle {bottle.id} {bottle.compound_key}: used "
-                             f"{format_amount(amount, bottle.amount_unit)}")
+            if source_id is not None:
+                parts.append(f"bottle {source_id} {source_key}: used "
+                             f"{format_amount(amount, source_unit)}")
             if columns is not None:
                 parts.append(f"made bottle {new_id} {columns['compound_key']} "
                              f"{format_strength(columns['label_strength'], columns['strength_unit'])}")
-            text = "; ".join(parts)
-        else:
-            text = summary
-        entry = journal.append_in(
-            s, "preparation", bottle_id=bottle.id if bottle is not None else new_id,
-            snapshot=snap, who=who, when=when, summary=text)
-        return Prepared(entry, new_id, left_after)
+            entry = journal.append_in(
+                s, "preparation", bottle_id=source_id if source_id is not None else new_id,
+                snapshot=snap, who=who, when=when, summary=step.summary or "; ".join(parts))
+            out.append(Prepared(entry, new_id, left_after))
+        return out
 
     return store.write(work)
+
+
+def _amount_in(unit: str, used: str | float | None, where: str) -> float:
+    if used is None:
+        raise InvalidInput("amount used" + where, "", "say how much was taken")
+    if isinstance(used, str):
+        amount, got = parse_amount(used, "amount used")
+        if got != unit:
+            raise InvalidInput("amount used" + where, used, f"must be in {unit}")
+    else:
+        amount = float(used)
+    if not math.isfinite(amount) or amount <= 0:
+        raise InvalidInput("amount used" + where, used, "must be a positive number")
+    return amount
 
 
 def record_preparation(store: Store, bottle_id: int, used: str | float, *,

@@ -97,6 +97,38 @@ def register(sub) -> None:
                              "`carboy stock import` reads (see its --help).")
     p.set_defaults(func=stock_export)
 
+    p = stock_sub.add_parser(
+        "check", parents=[common], help="strengths that can no longer be trusted",
+        formatter_class=fmt,
+        description="The strength check of every bottle in use: label against measured "
+                    "strength, days since the last standardization against the re-check "
+                    "interval (the bottle's own, else the storeroom's rule for its compound; "
+                    "see `carboy rules`), and expiry. Lists what is expired, off-label, "
+                    "overdue, never standardized or expiring within 30 days.")
+    p.add_argument("--all", action="store_true", dest="everything",
+                   help="list every bottle in use, flagged or not")
+    p.set_defaults(func=stock_check)
+
+    # -- rules ------------------------------------------------------------------------
+    p = sub.add_parser(
+        "rules", parents=[common], formatter_class=fmt,
+        help="the storeroom's re-check intervals and acceptance rule",
+        description="Show the rules in force, or set the storeroom's own. Every change is "
+                    "journaled. Without options, shows them.",
+        epilog="examples:\n  carboy rules --recheck NaOH=7 --recheck HCl=never\n"
+               "  carboy rules --recheck NaOH=default\n"
+               "  carboy rules --max-rsd 0.3 --min-replicates 3\n"
+               "  carboy rules --acceptance-default")
+    p.add_argument("--recheck", action="append", default=[], metavar="COMPOUND=DAYS",
+                   help="re-check interval of a molar solution: days, 'never' or 'default' "
+                        "(repeatable)")
+    p.add_argument("--max-rsd", metavar="PERCENT",
+                   help="largest accepted RSD of standardization replicates (default 0.2)")
+    p.add_argument("--min-replicates", metavar="N", help="fewest replicates (default 3)")
+    p.add_argument("--acceptance-default", action="store_true",
+                   help="return to carboy's default acceptance rule")
+    p.set_defaults(func=rules_cmd)
+
     # -- waste ------------------------------------------------------------------------
     waste_p = sub.add_parser("waste", help="waste containers: new, add, show, list",
                              description="Waste containers and what went into them.")
@@ -252,6 +284,66 @@ def stock_export(args) -> int:
             emit_json([stock.to_fields(b) for b in stock.all_bottles(store)])
         else:
             csvio.export_csv(store, sys.stdout)
+    return EXIT_OK
+
+
+def stock_check(args) -> int:
+    from carboy.store import stock
+
+    with open_store(args) as store:
+        rows = stock.check(store, everything=args.everything)
+    flagged = sum(1 for r in rows if r.flags)
+    if args.json:
+        emit_json({"flagged": flagged, "bottles": [r.to_dict() for r in rows]})
+        return EXIT_OK
+    if not rows:
+        print("every bottle in use is within its re-check interval, on label and unexpired")
+        return EXIT_OK
+    print(f"{'id':>6}  {'compound':<10} {'label':<11} {'measured':<11} {'dev %':>6}  "
+          f"{'last':<10} {'every':>5}  {'expires':<10} flags")
+    for r in rows:
+        b = r.bottle
+        measured = stock.format_strength(b.current_strength, b.strength_unit) \
+            if b.current_strength is not None else "-"
+        dev = f"{r.deviation_percent:+.1f}" if r.deviation_percent is not None else "-"
+        print(f"{b.id:>6}  {b.compound_key:<10} "
+              f"{stock.format_strength(b.label_strength, b.strength_unit):<11} {measured:<11} "
+              f"{dev:>6}  {(b.measured_at or '-')[:10]:<10} "
+              f"{(str(b.recheck_days) + ' d') if b.recheck_days else '-':>5}  "
+              f"{b.expires_on or '-':<10} {', '.join(r.flags) or 'ok'}")
+        for reason in r.reasons:
+            print(f"{'':8}{reason}")
+    print(f"{flagged} of {len(rows)} listed bottles need attention" if args.everything
+          else f"{flagged} bottles need attention")
+    return EXIT_OK
+
+
+def rules_cmd(args) -> int:
+    from carboy.errors import InvalidInput
+    from carboy.store import rules
+
+    with open_store(args) as store:
+        for item in args.recheck:
+            compound, sep, days = item.partition("=")
+            if not sep or not compound.strip():
+                raise InvalidInput("--recheck", item, "expected COMPOUND=DAYS, e.g. NaOH=7")
+            rules.set_recheck(store, compound.strip(), days.strip())
+        if args.acceptance_default:
+            rules.reset_acceptance(store)
+        if args.max_rsd is not None or args.min_replicates is not None:
+            rules.set_acceptance(store, max_rsd_percent=args.max_rsd,
+                                 min_replicates=args.min_replicates)
+        in_force = rules.load(store)
+    if args.json:
+        emit_json(in_force.to_dict())
+        return EXIT_OK
+    rule = in_force.acceptance()
+    print("re-check intervals of molar solutions (a bottle's own interval wins):")
+    for key, days in sorted(in_force.recheck_days.items()):
+        print(f"  {key:<10} every {days:>4} days  ({in_force.recheck_origin[key]})")
+    print(f"standardization accepted when RSD <= {rule.max_rsd_percent:g} % over at least "
+          f"{rule.min_replicates} replicates and no replicate is an outlier")
+    print(f"  (default 0.2 %: {rule.source})")
     return EXIT_OK
 
 

@@ -228,3 +228,26 @@ def test_prepare_from_the_catalog_only_adds_the_new_bottle(store):
                                            "container_size": "1 L"}, who="t")
     entry = journal.get(store, got.entry_id)
     assert entry.bottle_id == got.new_bottle_id and got.source_left is None
+
+
+def test_serial_preparation_is_one_transaction(store):
+    src = _add(store, compound="HCl", label_strength="37 %", container_size="1 L",
+               amount_left="500 mL")
+    steps = [
+        stock.PreparationStep(src, "8.3 mL", {"compound": "HCl", "label_strength": "1 M",
+                                              "container_size": "100 mL"}),
+        stock.PreparationStep(stock.PREVIOUS, "10 mL", {"compound": "HCl",
+                                                        "label_strength": "0.1 M",
+                                                        "container_size": "100 mL"}),
+    ]
+    made = stock.prepare_series(store, steps, who="t")
+    first = stock.get(store, made[0].new_bottle_id)
+    assert first.amount_left == pytest.approx(0.090)
+    assert journal.get(store, made[1].entry_id).bottle_id == first.id
+    # a bad second step: nothing of the first is written either
+    before = (stock.count(store), journal.count(store), stock.get(store, src).amount_left)
+    bad = [steps[0], stock.PreparationStep(stock.PREVIOUS, "200 mL", steps[1].new_bottle)]
+    with pytest.raises(InvalidInput, match="left in bottle"):
+        stock.prepare_series(store, bad)
+    assert (stock.count(store), journal.count(store),
+            stock.get(store, src).amount_left) == before
