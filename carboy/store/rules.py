@@ -53,15 +53,17 @@ class Rules:
 
     def acceptance(self):
         """The :class:`~carboy.model.standardization.AcceptanceRule` in force."""
+        from dataclasses import replace
+
         from carboy.model.standardization import AcceptanceRule
 
         base = AcceptanceRule()
-        return AcceptanceRule(
-            max_rsd_percent=self.max_rsd_percent if self.max_rsd_percent is not None
-            else base.max_rsd_percent,
-            min_replicates=self.min_replicates if self.min_replicates is not None
-            else base.min_replicates,
-            alpha=base.alpha, nominal_tolerance_percent=base.nominal_tolerance_percent)
+        changes = {}
+        if self.max_rsd_percent is not None:
+            changes["max_rsd_percent"] = self.max_rsd_percent
+        if self.min_replicates is not None:
+            changes["min_replicates"] = self.min_replicates
+        return replace(base, **changes)
 
     def to_dict(self) -> dict:
         rule = self.acceptance()
@@ -156,21 +158,20 @@ def set_recheck(store: Store, compound: str, days: int | str | None, *,
     return store.write(work)
 
 
-def set_acceptance(store: Store, *, max_rsd_percent: float | str | None = None,
-                   min_replicates: int | str | None = None, who: str | None = None,
-                   when: datetime | None = None) -> int:
-    """Set the storeroom's standardization acceptance rule.  Journaled; returns the entry id."""
-    changes: dict[str, object] = {}
+def parse_acceptance(*, max_rsd_percent: float | str | None = None,
+                     min_replicates: int | str | None = None) -> dict:
+    """Check an acceptance rule given as text or numbers; returns ``max_rsd_percent`` and
+    ``min_replicates`` (None where not given).  Nothing is stored."""
+    rsd = n = None
     if max_rsd_percent is not None:
         try:
-            rsd = float(str(max_rsd_percent).strip().rstrip("%").replace(",", "."))
+            rsd = float(str(max_rsd_percent).strip().rstrip("%").strip().replace(",", "."))
         except ValueError:
             raise InvalidInput("largest RSD", max_rsd_percent, "expected a percentage such "
                                "as 0.2") from None
         low, high = MAX_RSD_RANGE
         if not math.isfinite(rsd) or not low <= rsd <= high:
             raise InvalidInput("largest RSD", max_rsd_percent, f"expected {low:g} to {high:g} %")
-        changes[MAX_RSD] = rsd
     if min_replicates is not None:
         try:
             n = int(str(min_replicates).strip())
@@ -180,7 +181,19 @@ def set_acceptance(store: Store, *, max_rsd_percent: float | str | None = None,
         low, high = MIN_REPLICATES_RANGE
         if not low <= n <= high:
             raise InvalidInput("fewest replicates", min_replicates, f"expected {low} to {high}")
-        changes[MIN_REPLICATES] = n
+    return {"max_rsd_percent": rsd, "min_replicates": n}
+
+
+def set_acceptance(store: Store, *, max_rsd_percent: float | str | None = None,
+                   min_replicates: int | str | None = None, who: str | None = None,
+                   when: datetime | None = None) -> int:
+    """Set the storeroom's standardization acceptance rule.  Journaled; returns the entry id."""
+    parsed = parse_acceptance(max_rsd_percent=max_rsd_percent, min_replicates=min_replicates)
+    changes: dict[str, object] = {}
+    if parsed["max_rsd_percent"] is not None:
+        changes[MAX_RSD] = parsed["max_rsd_percent"]
+    if parsed["min_replicates"] is not None:
+        changes[MIN_REPLICATES] = parsed["min_replicates"]
     if not changes:
         raise InvalidInput("rule", "", "nothing to set: give a largest RSD or fewest replicates")
     before = load(store).acceptance()

@@ -48,7 +48,7 @@ def register(sub) -> None:
     fmt = argparse.RawDescriptionHelpFormatter
 
     # -- stock ------------------------------------------------------------------------
-    stock_p = sub.add_parser("stock", help="stock bottles: list, add, show, import, export",
+    stock_p = sub.add_parser("stock", help="stock bottles: list, add, show, check, import, export",
                              description="The stock bottles on the shelves.")
     stock_sub = stock_p.add_subparsers(dest="stock_command", metavar="ACTION",
                                        parser_class=type(stock_p))
