@@ -103,12 +103,18 @@ def _registry():
     return pint.UnitRegistry()
 
 
-def _split(text: str, what: str) -> tuple[float, str]:
+_EXAMPLE = {"concentration": "0.1 M", "volume": "250 mL", "mass": "0.5 g", "percent": "37 %",
+            "temperature": "25 °C"}
+
+
+def _split(text: str, what: str, kind: str = "volume") -> tuple[float, str]:
+    example = _EXAMPLE.get(kind, "250 mL")
     if not isinstance(text, str):
-        raise InvalidInput(what, text, "expected text such as '250 mL'")
+        raise InvalidInput(what, text, f"expected text such as '{example}'")
     m = _NUMBER.match(text)
     if not m:
-        raise InvalidInput(what, text, "expected a number followed by a unit, e.g. '250 mL'")
+        raise InvalidInput(what, text, f"expected a number followed by a unit, e.g. "
+                           f"'{example}'")
     num = m.group("num")
     if ("," in num and "." in num) or num.count(",") > 1 or num.count(".") > 1:
         raise InvalidInput(what, text, "use either a decimal point or a decimal comma, "
@@ -137,7 +143,7 @@ def parse(text: str, kind: str, *, what: str | None = None, default_unit: str | 
     allow_negative : accept negative values (temperatures are always allowed).
     """
     what = what or kind
-    value, unit = _split(text, what)
+    value, unit = _split(text, what, kind)
     if not unit:
         if default_unit is None:
             raise InvalidInput(what, text, f"give a unit, e.g. '{value:g} {_BASE_UNIT[kind]}'")
