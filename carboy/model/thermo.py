@@ -23,6 +23,7 @@ The temperature rise assumes an adiabatic batch with the heat capacity of water.
 from __future__ import annotations
 
 import functools
+import math
 import tomllib
 from collections.abc import Mapping
 from importlib import resources
@@ -68,28 +69,52 @@ def heat_of_solution_kj(compound_key: str) -> tuple[float, str] | None:
 def dilution_heat_kj(compound_key: str, mass_percent: float) -> tuple[float, str] | None:
     """Enthalpy change (kJ per mol of solute) on diluting a concentrate to infinite dilution.
 
-    Negative means heat released.  ``None`` where no table is held (e.g. NaOH, HNO3).
+    Negative means heat released.  ``None`` where no table is held (e.g. NaOH, H3PO4) or
+    the strength lies above the table.
+
+    Inside a table the value is interpolated linearly (in n mol H2O per mol for H2SO4, in
+    molality for the CRC acid tables).  At the dilute end nothing is clamped: below the
+    first row of a table that does not reach infinite dilution (m = 0, or n = infinity)
+    the value goes to 0 as sqrt(molality), the Debye–Hückel limiting form of the relative
+    apparent molar enthalpy (an assumption; the heats there are small), so a solution
+    that is already very dilute releases nearly nothing on further dilution.  Above the
+    last molality row a table may give ``pure_released_kj`` (the pure liquid diluted to
+    infinite dilution); when its last row is the n = 1 row (55.506 mol/kg) the value is
+    interpolated linearly in n between the pure liquid (n = 0) and that row.
     """
     rec = planning_constants()["dilution"].get(compound_key)
     if rec is None:
         return None
+    note = f"{rec['source']} [{rec['status']}]"
+    w = mass_percent / 100.0
+    if w <= 0.0:
+        return 0.0, note
     from carboy.model.catalog import default_catalog
 
     m_solute = default_catalog().compound(compound_key).molar_mass_g_mol
-    w = mass_percent / 100.0
-    note = f"{rec['source']} [{rec['status']}]"
     if rec["basis"] == "n_water":
         n = (1.0 - w) / water_MW() / (w / m_solute) if w < 1.0 else 0.0
-        ns, hs = np.asarray(rec["n"]), np.asarray(rec["dh_kj"])
+        ns, hs = rec["n"], rec["dh_kj"]
+        dh_inf = float(rec["dh_inf_kj"])
         if n > ns[-1]:
-            h_n = float(rec["dh_inf_kj"])
+            h_n = dh_inf + (float(hs[-1]) - dh_inf) * math.sqrt(ns[-1] / n)
         else:
             h_n = float(np.interp(n, ns, hs))
-        return float(rec["dh_inf_kj"]) - h_n, note
+        return dh_inf - h_n, note
     molality = (w / m_solute) / ((1.0 - w) / 1000.0) if w < 1.0 else float("inf")
-    ms, released = np.asarray(rec["m"]), np.asarray(rec["released_kj"])
+    ms, released = rec["m"], rec["released_kj"]
+    if ms[-1] < molality <= ms[-1] * (1.0 + 1e-9):
+        molality = ms[-1]  # the last row itself, up to rounding of the mass percent
     if molality > ms[-1]:
-        return None
+        pure = rec.get("pure_released_kj")
+        if pure is None or not math.isclose(ms[-1], 1000.0 / water_MW(), rel_tol=1e-3):
+            return None
+        n = (1.0 - w) / water_MW() / (w / m_solute) if w < 1.0 else 0.0
+        n_last = 1000.0 / water_MW() / ms[-1]
+        value = float(pure) + (float(released[-1]) - float(pure)) * n / n_last
+        return -value, note + " (above the last row: interpolated in n towards the pure liquid)"
+    if molality < ms[0]:
+        return -float(released[0]) * math.sqrt(molality / ms[0]), note
     return -float(np.interp(molality, ms, released)), note
 
 

@@ -17,6 +17,8 @@ from carboy.tui.clikit import ArgumentParser, run_guarded
 SUBCOMMAND_MODULES = (
     "carboy.tui.cli_ph",
     "carboy.tui.cli_neutralize",
+    "carboy.tui.cli_prep",
+    "carboy.tui.cli_standardize",
     "carboy.tui.cli_store",
 )
 
