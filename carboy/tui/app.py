@@ -1,4 +1,5 @@
-"""The carboy terminal app: stock, waste, neutralize, journal and help, keyboard first.
+"""The carboy terminal app: stock, waste, neutralize, prepare, standardize, journal and
+help, keyboard first.
 
 :func:`make_app` builds it from plain arguments; the ``carboy`` command, the Pilot
 tests and the snapshot tests all go through it.  Each main screen is a Textual
@@ -24,6 +25,8 @@ from carboy.tui.commands import CarboyCommands
 from carboy.tui.screens.help import HelpScreen
 from carboy.tui.screens.journal import JournalScreen
 from carboy.tui.screens.neutralize import NeutralizeScreen
+from carboy.tui.screens.prepare import PrepareScreen
+from carboy.tui.screens.standardize import StandardizeScreen
 from carboy.tui.screens.stock import StockScreen
 from carboy.tui.screens.too_small import TooSmallScreen
 from carboy.tui.screens.waste import WasteScreen
@@ -44,6 +47,8 @@ class CarboyApp(App):
         "waste": WasteScreen,
         "neutralize": NeutralizeScreen,
         "journal": JournalScreen,
+        "prepare": PrepareScreen,
+        "standardize": StandardizeScreen,
         "help": HelpScreen,
     }
     DEFAULT_MODE = "stock"
@@ -62,12 +67,20 @@ class CarboyApp(App):
                 tooltip="Plan and record the neutralization of a waste container"),
         Binding("f5", "go('journal')", "Journal", id="app.go.journal", priority=True,
                 tooltip="The append-only record of everything done"),
+        Binding("f7", "go('prepare')", "Prepare", id="app.go.prepare", priority=True,
+                tooltip="A recipe to dilute a concentrate or dissolve a solid, and its label"),
+        Binding("f8", "go('standardize')", "Standardize", id="app.go.standardize",
+                priority=True,
+                tooltip="The molarity of a titrant from replicate titrations"),
         Binding("question_mark", "go('help')", "Help", id="app.go.help.short", show=False),
         Binding("1", "go('stock')", "Stock", id="app.go.stock.short", show=False),
         Binding("2", "go('waste')", "Waste", id="app.go.waste.short", show=False),
         Binding("3", "go('neutralize')", "Neutralize", id="app.go.neutralize.short",
                 show=False),
         Binding("4", "go('journal')", "Journal", id="app.go.journal.short", show=False),
+        Binding("5", "go('prepare')", "Prepare", id="app.go.prepare.short", show=False),
+        Binding("6", "go('standardize')", "Standardize", id="app.go.standardize.short",
+                show=False),
         Binding("f6", "reload", "Reload", id="app.reload",
                 tooltip="Read the database again (other staff may have changed it)"),
     ]
@@ -102,6 +115,26 @@ class CarboyApp(App):
         async def load() -> None:
             await mounted
             screen.load_container(label)
+
+        self.call_later(load)
+
+    def prepare_from(self, source_text: str) -> None:
+        """Open the Prepare screen with its source set (e.g. ``'#23'`` for a bottle)."""
+        self._open_with("prepare", "use_source", source_text)
+
+    def standardize_bottle(self, bottle_id: int) -> None:
+        """Open the Standardize screen on a stock bottle."""
+        self._open_with("standardize", "use_bottle", bottle_id)
+
+    def _open_with(self, mode: str, method: str, value) -> None:
+        if mode != self.current_mode:
+            self._previous_mode = self.current_mode
+        mounted = self.switch_mode(mode)
+        screen = self.screen_stack[0]
+
+        async def load() -> None:
+            await mounted
+            getattr(screen, method)(value)
 
         self.call_later(load)
 

@@ -50,3 +50,25 @@ def test_journal(snap_compare, make):
         await settle(pilot, "4", lambda s: getattr(s, "loads", 0) > 0)
 
     assert snap_compare(make(), terminal_size=(80, 24), run_before=run_before)
+
+
+def test_prepare(snap_compare, make):
+    async def run_before(pilot):
+        await settle(pilot, "5", lambda s: bool(s.query("#source")))
+        screen = pilot.app.screen
+        screen.query_one("#source", Input).value = "H2SO4=96%"
+        screen.query_one("#target", Input).value = "1 M"
+        screen.query_one("#volume", Input).value = "1 L"
+        await settle(pilot, None, lambda s: getattr(s, "outcome", None) is not None)
+
+    assert snap_compare(make(), terminal_size=(80, 24), run_before=run_before)
+
+
+def test_strength_check(snap_compare, make):
+    async def run_before(pilot):
+        await settle(pilot, None, lambda s: getattr(s, "loads", 0) > 0)
+        await pilot.press("c")
+        await settle(pilot, None, lambda s: type(s).__name__ == "CheckScreen"
+                     and getattr(s, "loads", 0) > 0)
+
+    assert snap_compare(make(), terminal_size=(80, 24), run_before=run_before)

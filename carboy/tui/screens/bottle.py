@@ -32,8 +32,12 @@ def bottle_fields(bottle: stock.Bottle) -> Table:
         measured = stock.format_strength(bottle.current_strength, bottle.strength_unit)
         if bottle.measured_at:
             measured += f" on {bottle.measured_at[:10]}"
-    every = (f"every {bottle.restandardize_days} days" if bottle.restandardize_days
-             else "not scheduled")
+    if bottle.restandardize_days:
+        every = f"every {bottle.restandardize_days} days (this bottle)"
+    elif bottle.recheck_days:
+        every = f"every {bottle.recheck_days} days (rule for {bottle.compound_key})"
+    else:
+        every = "not scheduled"
     pairs = [
         ("Compound", Text(f"{bottle.compound_key} ({bottle.compound_name})")),
         ("Strength check", strength_mark(bottle.strength_status)),
@@ -67,6 +71,10 @@ class BottleScreen(Screen):
 
     BINDINGS = [
         Binding("escape", "back", "Back to stock", id="bottle.back"),
+        Binding("s", "standardize", "Standardize", id="bottle.standardize",
+                tooltip="Standardize this bottle (a solution labelled in M)"),
+        Binding("m", "make_from", "Prepare from it", id="bottle.prepare",
+                tooltip="A recipe that draws from this bottle"),
     ]
 
     def __init__(self, bottle_id: int) -> None:
@@ -120,6 +128,7 @@ class BottleScreen(Screen):
             f"{stock.format_strength(bottle.label_strength, bottle.strength_unit)}")
         self.query_one("#bottle-fields", Static).update(bottle_fields(bottle))
         table = self.query_one("#bottle-history", DataTable)
+        self.refresh_bindings()
         table.clear()
         for entry in history:
             table.add_row(str(entry.id), journal.local_time(entry.recorded_at), entry.kind,
@@ -131,6 +140,22 @@ class BottleScreen(Screen):
         from carboy.tui.screens.entry import EntryScreen
 
         self.app.push_screen(EntryScreen(int(event.row_key.value)))
+
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if action == "standardize":
+            return self.bottle is not None and self.bottle.strength_unit == "M" \
+                and self.bottle.status == "in-use"
+        if action == "make_from":
+            return self.bottle is not None and self.bottle.status == "in-use"
+        return True
+
+    def action_standardize(self) -> None:
+        if self.bottle is not None:
+            self.app.standardize_bottle(self.bottle.id)
+
+    def action_make_from(self) -> None:
+        if self.bottle is not None:
+            self.app.prepare_from(f"#{self.bottle.id}")
 
     def action_back(self) -> None:
         self.dismiss()

@@ -33,10 +33,13 @@ def sections() -> list[Section]:
     """Every screen and dialog of the app, with the classes whose bindings it uses."""
     from carboy.tui.app import CarboyApp
     from carboy.tui.screens.bottle import BottleScreen
+    from carboy.tui.screens.check import CheckScreen
     from carboy.tui.screens.confirm import ConfirmScreen
     from carboy.tui.screens.entry import EntryScreen
     from carboy.tui.screens.journal import EntryTable, JournalScreen
     from carboy.tui.screens.neutralize import NeutralizeScreen
+    from carboy.tui.screens.prepare import PrepareScreen
+    from carboy.tui.screens.standardize import StandardizeScreen
     from carboy.tui.screens.stock import SearchInput, StockScreen, StockTable
     from carboy.tui.screens.waste import WasteScreen
     from carboy.tui.screens.waste_add import AddWasteScreen
@@ -53,6 +56,7 @@ def sections() -> list[Section]:
                 "plan a neutralization.", (CarboyApp,)),
         Section("Stock", purpose(StockScreen, ""), (StockScreen, SearchInput, StockTable)),
         Section("Bottle", purpose(BottleScreen, ""), (BottleScreen,)),
+        Section("Strength check", purpose(CheckScreen, ""), (CheckScreen,)),
         Section("Waste", purpose(WasteScreen, ""), (WasteScreen,)),
         Section("Log a waste addition", purpose(AddWasteScreen, ""), (AddWasteScreen,)),
         Section("New waste container", purpose(NewContainerScreen, ""), (NewContainerScreen,)),
@@ -60,6 +64,10 @@ def sections() -> list[Section]:
                 "answer has the focus.", (ConfirmScreen,)),
         Section("Neutralize", purpose(NeutralizeScreen, "Plan and record a neutralization."),
                 neutralize_sources),
+        Section("Prepare", purpose(PrepareScreen, ""), (PrepareScreen,)),
+        Section("Standardize", purpose(StandardizeScreen, ""), (StandardizeScreen,) + tuple(
+            cls for cls in classes_with_bindings(("carboy.tui.screens.standardize",))
+            if cls is not StandardizeScreen)),
         Section("Journal", purpose(JournalScreen, ""), (JournalScreen, EntryTable)),
         Section("Journal entry", purpose(EntryScreen, ""), (EntryScreen,)),
         Section("Help", purpose(HelpScreen, ""), (HelpScreen,)),

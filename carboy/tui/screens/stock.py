@@ -111,13 +111,16 @@ class StockScreen(Screen):
 
     HELP = ("The stock bottles, a page at a time. Type to search compound, name, location "
             "or lot; Enter opens a bottle with its details and history. The Strength column "
-            "says whether the label strength can still be trusted.")
+            "says whether the label strength can still be trusted; c lists every bottle "
+            "that needs attention.")
 
     BINDINGS = [
         Binding("slash", "focus_search", "Search", id="stock.search"),
         Binding("n", "page('next')", "Next page", id="stock.next_page"),
         Binding("p", "page('prev')", "Previous page", id="stock.prev_page"),
         Binding("escape", "clear_search", "Clear search", id="stock.clear_search"),
+        Binding("c", "strength_check", "Check", id="stock.check",
+                tooltip="Bottles that are expired, off-label, overdue or never standardized"),
     ]
 
     def __init__(self) -> None:
@@ -323,9 +326,14 @@ class StockScreen(Screen):
             return self.page_index > 0
         if action == "clear_search":
             return bool(self.search_text or self.query_one("#stock-search", Input).value)
-        if action == "focus_search":
+        if action in ("focus_search", "strength_check"):
             return not typing
         return True
+
+    def action_strength_check(self) -> None:
+        from carboy.tui.screens.check import CheckScreen
+
+        self.app.push_screen(CheckScreen())
 
     def action_focus_search(self) -> None:
         self.query_one("#stock-search", Input).focus()

@@ -12,6 +12,8 @@ MODE_LABELS: tuple[tuple[str, str], ...] = (
     ("waste", "Waste"),
     ("neutralize", "Neutralize"),
     ("journal", "Journal"),
+    ("prepare", "Prepare"),
+    ("standardize", "Standardize"),
     ("help", "Help"),
 )
 
@@ -20,7 +22,7 @@ class ModeTab(Static):
     """One destination; the current one is bracketed (a shape, not only a colour)."""
 
     def __init__(self, mode: str, label: str, key: str, current: bool) -> None:
-        text = f"[{key} {label}]" if current else f" {key} {label} "
+        text = f"[{key} {label}]" if current else f"{key} {label}"
         super().__init__(text, markup=False, classes="mode-tab" + (" -current" if current else ""))
         self.mode = mode
 
@@ -43,3 +45,12 @@ class ModeBar(Horizontal):
             yield ModeTab(mode, label, keys.get(mode, "?"), mode == self.current)
         where = getattr(app, "place_text", lambda: "")()
         yield Static(where, classes="mode-where", markup=False)
+
+    def on_resize(self, event) -> None:
+        # the destinations come first: who and where only when there is room beside them
+        tabs = sum(len(str(t.content)) + 1 for t in self.query(ModeTab))
+        brand = self.query_one(".mode-brand", Static)
+        brand.display = event.size.width >= tabs + len("carboy") + 2
+        where = self.query_one(".mode-where", Static)
+        where.display = event.size.width >= tabs + len("carboy") + 2 + \
+            len(str(where.content)) + 2

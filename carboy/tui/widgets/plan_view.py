@@ -143,14 +143,17 @@ def stage_rows(plan) -> list[tuple[str, str, str, str]]:
     return rows
 
 
-def cautions_text(cautions, *, stale: bool = False) -> Text:
+NO_CAUTIONS_YET = ("No plan yet: cautions appear with the plan. Treat every acid or base "
+                   "waste as corrosive: goggles, gloves, fume hood.")
+
+
+def cautions_text(cautions, *, stale: bool = False, empty: str | None = None) -> Text:
     """Every caution, severity first as text and symbol."""
     t = Text()
     if stale:
         t.append("(from the last good plan: inputs have changed)\n", style="italic")
     if not cautions:
-        t.append("· NOTE  No plan yet: cautions appear with the plan. Treat every acid or base "
-                 "waste as corrosive: goggles, gloves, fume hood.\n")
+        t.append(f"· NOTE  {empty or NO_CAUTIONS_YET}\n")
     for c in cautions:
         t.append(f"{SEVERITY_MARKS.get(c.severity, '· NOTE')} ", style=SEVERITY_STYLES.get(
             c.severity, ""))
@@ -227,11 +230,17 @@ class CautionsPanel(Vertical):
 
     can_focus = False
 
+    def __init__(self, *, note: str = STANDING_NOTE, empty: str | None = None,
+                 **kwargs) -> None:
+        super().__init__(**kwargs)
+        self.note = note
+        self.empty = empty
+
     def compose(self) -> ComposeResult:
         yield Static(NOT_FOR_DRAIN, id="drain-banner", markup=False)
         with VerticalScroll(id="cautions-scroll", can_focus=True):
-            yield Static(cautions_text(()), id="cautions-text")
-        yield Static("· " + STANDING_NOTE, id="standing-note", markup=False)
+            yield Static(cautions_text((), empty=self.empty), id="cautions-text")
+        yield Static("· " + self.note, id="standing-note", markup=False)
 
     def on_mount(self) -> None:
         self.border_title = "Cautions"
@@ -239,7 +248,8 @@ class CautionsPanel(Vertical):
     def show_cautions(self, cautions, *, drain_plan: bool = True, stale: bool = False) -> None:
         self.cautions = tuple(cautions)
         self.set_class(not drain_plan, "-no-drain")
-        self.query_one("#cautions-text", Static).update(cautions_text(cautions, stale=stale))
+        self.query_one("#cautions-text", Static).update(
+            cautions_text(cautions, stale=stale, empty=self.empty))
 
     @property
     def text(self) -> str:

@@ -1,0 +1,339 @@
+"""The Prepare screen: a recipe to dilute a concentrate (or dissolve a solid), its label, and
+the preparation recorded in one transaction.
+
+The form: the source (``H2SO4=96%``, ``HCl=12.1M``, a solid such as ``NaOH`` or
+``CuSO4·5H2O``, or a stock bottle ``#23``), the target molarity, the final volume and where
+the new bottle goes.  Each field echoes what was understood or says in place what is
+wrong; the typed text is never touched.  The recipe is worked out in a thread worker a
+moment after the last keystroke; a result is shown only if no newer change came since.
+Record (ctrl+s) asks first, then draws from the source bottle, adds the new bottle and
+journals it, all or nothing.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from datetime import date, timedelta
+
+from rich.text import Text
+from textual import on, work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, VerticalScroll
+from textual.screen import Screen
+from textual.timer import Timer
+from textual.widgets import Footer, Input, Static, TabbedContent, TabPane
+
+from carboy.errors import CarboyError
+from carboy.tui.cli_prep import amount_used, heat_text
+from carboy.tui.widgets.error_line import ErrorLine
+from carboy.tui.widgets.field_row import FieldRow
+from carboy.tui.widgets.mode_bar import ModeBar
+from carboy.tui.widgets.plan_view import CautionsPanel
+from carboy.tui.workers import describe
+
+DEBOUNCE_S = 0.15
+FIELDS = ("source", "target", "volume", "location")
+BOTTLE_ID = re.compile(r"^#?\s*(\d+)$")
+PREP_NOTE = ("Acid (or concentrated base) into water, never the reverse. Goggles, gloves, "
+             "lab coat; your safety office's rules come first.")
+NO_RECIPE = ("No recipe yet: give a source, a target molarity and a final volume. Treat every "
+             "concentrate as corrosive: goggles, gloves, fume hood.")
+
+
+@dataclass(frozen=True)
+class PrepOutcome:
+    """What one run found: a recipe with its label, or per-field errors."""
+
+    generation: int
+    recipe: object | None = None
+    label: object | None = None
+    bottle: object | None = None
+    new_bottle: dict | None = None
+    errors: dict[str, str] = field(default_factory=dict)
+    echoes: dict[str, str] = field(default_factory=dict)
+
+
+def recipe_text(recipe) -> Text:
+    """The recipe's figures and steps, as the screen shows them."""
+    t = Text()
+    src = recipe.source
+    t.append(f"{recipe.final_volume_ml:.6g} mL of {recipe.target_molar:.4g} M "
+             f"{src.compound.key}", style="bold")
+    t.append(f" from {src.label}\n")
+    if recipe.stock_volume_ml is not None:
+        t.append(f"  measure  {recipe.stock_volume_ml:.4g} mL  (or weigh "
+                 f"{recipe.stock_mass_g:.4g} g)\n")
+    else:
+        t.append(f"  weigh    {recipe.stock_mass_g:.4g} g\n")
+    t.append(f"  water    about {recipe.water_ml:.0f} mL in the flask first\n")
+    t.append(f"  heat     {heat_text(recipe)}\n")
+    for i, step in enumerate(recipe.steps, 1):
+        t.append(f"{i:>2}. {step}\n")
+    for note in recipe.notes:
+        t.append(f"  · {note}\n", style="dim")
+    return t
+
+
+def label_text(label) -> Text:
+    t = Text()
+    width = max((len(line) for line in label.lines), default=20)
+    t.append("┌" + "─" * (width + 2) + "┐\n")
+    for line in label.lines:
+        t.append(f"│ {line:<{width}} │\n")
+    t.append("└" + "─" * (width + 2) + "┘\n")
+    if label.basis:
+        t.append(f"basis: {label.basis}\n", style="dim")
+    return t
+
+
+class PrepareScreen(Screen):
+    HELP = ("A recipe for a solution: from a concentrate (H2SO4=96%, HCl=12.1M), a solid "
+            "(NaOH, CuSO4·5H2O) or a stock bottle (#23, its measured strength if it has one), "
+            "to a target molarity and final volume. It gives the volume and mass to take, the "
+            "water to start with, the order of addition, the heat, the cautions and the label. "
+            "ctrl+s records it: the amount is drawn from the bottle and the new bottle added.")
+
+    BINDINGS = [
+        Binding("ctrl+s", "record", "Record", id="prepare.record",
+                tooltip="Draw from the source bottle, add the new bottle and journal it"),
+        Binding("ctrl+l", "show_tab('label')", "Label", id="prepare.label",
+                tooltip="The label text for the new bottle"),
+        Binding("ctrl+e", "show_tab('recipe')", "Recipe", id="prepare.recipe",
+                tooltip="The recipe: amounts, steps and heat"),
+    ]
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.generation = 0
+        self.outcome: PrepOutcome | None = None
+        self._timer: Timer | None = None
+        self.results = 0
+        """Completed computations (tests wait on it)."""
+        self.last_recorded: dict | None = None
+
+    def compose(self) -> ComposeResult:
+        yield ModeBar("prepare")
+        with VerticalScroll(id="prep-form"):
+            yield FieldRow("From", field_id="source", placeholder="H2SO4=96%  HCl=12.1M  NaOH  #23",
+                           hint="a concentrate with its strength, a solid, or a bottle #id")
+            with Horizontal(id="prep-row2"):
+                yield FieldRow("Target", field_id="target", placeholder="1 M", hint="molarity")
+                yield FieldRow("Volume", field_id="volume", placeholder="1 L",
+                               hint="final volume")
+                yield FieldRow("Place", field_id="location", placeholder="Bench 2",
+                               hint="where it goes")
+        yield ErrorLine(id="prep-error")
+        with TabbedContent(initial="recipe"):
+            with TabPane("Recipe", id="recipe"):
+                with VerticalScroll(id="prep-recipe"):
+                    yield Static(Text(NO_RECIPE, style="dim"), id="prep-recipe-text")
+            with TabPane("Label", id="label"):
+                with VerticalScroll(id="prep-label"):
+                    yield Static(Text("The label appears with the recipe.", style="dim"),
+                                 id="prep-label-text")
+        yield CautionsPanel(id="prep-cautions", note=PREP_NOTE, empty=NO_RECIPE)
+        yield Footer()
+
+    def on_mount(self) -> None:
+        self.call_after_refresh(lambda: self.query_one("#source", Input).focus())
+
+    # -- entry points -----------------------------------------------------------------
+    def use_source(self, text: str) -> None:
+        """Set the source field (the Stock screen's 'prepare from this bottle')."""
+        def put() -> None:
+            self.query_one("#source", Input).value = text
+            self.query_one("#target", Input).focus()
+
+        self.call_after_refresh(put)
+
+    def form(self) -> dict[str, str]:
+        return {name: self.query_one(f"#{name}", Input).value for name in FIELDS}
+
+    # -- recompute -------------------------------------------------------------------
+    @on(Input.Changed)
+    def _changed(self, event: Input.Changed) -> None:
+        if event.input.id not in FIELDS:
+            return
+        self.generation += 1
+        if self._timer is not None:
+            self._timer.stop()
+        self._timer = self.set_timer(DEBOUNCE_S, self._start)
+
+    def _start(self) -> None:
+        self._compute(self.generation, self.form())
+
+    @work(thread=True, exclusive=True, exit_on_error=False, group="prepare")
+    def _compute(self, generation: int, form: dict[str, str]) -> None:
+        outcome = compute(form, generation, self.app)
+        self.app.call_from_thread(self._show, outcome)
+
+    def _show(self, outcome: PrepOutcome) -> None:
+        if outcome.generation != self.generation:
+            return  # a newer change is on its way
+        self.results += 1
+        for name in FIELDS:
+            row = self.query_one(f"#row-{name}", FieldRow)
+            if name in outcome.errors:
+                row.show_error(outcome.errors[name])
+            else:
+                row.show_echo(outcome.echoes.get(name, ""))
+        self.query_one("#prep-error", ErrorLine).show(outcome.errors.get("", ""))
+        cautions = self.query_one(CautionsPanel)
+        if outcome.recipe is None:
+            self.set_class(self.outcome is not None and self.outcome.recipe is not None,
+                           "-stale")
+            if self.outcome is None or self.outcome.recipe is None:
+                cautions.show_cautions(())
+            self.refresh_bindings()
+            return
+        self.remove_class("-stale")
+        self.outcome = outcome
+        self.query_one("#prep-recipe-text", Static).update(recipe_text(outcome.recipe))
+        self.query_one("#prep-label-text", Static).update(label_text(outcome.label))
+        cautions.show_cautions(outcome.recipe.cautions)
+        self.refresh_bindings()
+
+    # -- record ----------------------------------------------------------------------
+    def _current(self) -> PrepOutcome | None:
+        o = self.outcome
+        if o is None or o.recipe is None or self.has_class("-stale"):
+            return None
+        return o
+
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if action == "record":
+            return self._current() is not None
+        return True
+
+    def action_show_tab(self, tab: str) -> None:
+        self.query_one(TabbedContent).active = tab
+
+    def action_record(self) -> None:
+        from carboy.tui.screens.confirm import ConfirmScreen
+
+        o = self._current()
+        if o is None:
+            return
+        r = o.recipe
+        lines = []
+        if o.bottle is not None:
+            lines.append(f"Draw {amount_used(r, o.bottle.amount_unit)} from bottle "
+                         f"{o.bottle.id} ({o.bottle.compound_key} {o.bottle.strength_text}).")
+        else:
+            lines.append(f"Nothing is drawn from the inventory (source: {r.source.label}).")
+        nb = o.new_bottle
+        lines.append(f"Add a bottle: {nb['compound']} {nb['label_strength']}, "
+                     f"{nb['container_size']}, expires {nb['expires_on']}"
+                     + (f", at {nb['location']}" if nb['location'] else "") + ".")
+        lines.append(f"Journal it as prepared by {self.app.who}.")
+
+        def done(yes: bool | None) -> None:
+            if yes:
+                self._record(o)
+
+        self.app.push_screen(ConfirmScreen("Record this preparation?", "\n".join(lines),
+                                           yes_label="Record"), done)
+
+    @work(thread=True, exclusive=True, exit_on_error=False, group="prepare-record")
+    def _record(self, o: PrepOutcome) -> None:
+        from carboy.store import stock
+
+        try:
+            with self.app.open_store() as store:
+                step = stock.PreparationStep(
+                    o.bottle.id if o.bottle is not None else None,
+                    amount_used(o.recipe, o.bottle.amount_unit) if o.bottle is not None
+                    else None,
+                    o.new_bottle,
+                    snapshot={"recipe": o.recipe.to_dict(), "label": o.label.to_dict()})
+                made = stock.prepare_series(store, [step], who=self.app.who)[0]
+        except Exception as exc:
+            self.app.call_from_thread(self.query_one("#prep-error", ErrorLine).show,
+                                      "not recorded: " + describe(exc))
+            return
+        self.app.call_from_thread(self._recorded, made)
+
+    def _recorded(self, made) -> None:
+        self.last_recorded = {"entry_id": made.entry_id, "new_bottle_id": made.new_bottle_id}
+        self.notify(f"Recorded: journal entry #{made.entry_id}, new bottle "
+                    f"{made.new_bottle_id}.", timeout=5)
+        self.app.refresh_data()
+        self._start()  # the source bottle has less in it now
+
+
+def compute(form: dict[str, str], generation: int, app) -> PrepOutcome:
+    """Read the form and work out the recipe; every problem is named by its field."""
+    from carboy.model import labels, preparation, quantities, upkeep
+    from carboy.store import stock
+    from carboy.store.compounds import catalog_for
+    from carboy.tui.cli_prep import source_from_bottle
+
+    errors: dict[str, str] = {}
+    echoes: dict[str, str] = {}
+    source = bottle = None
+    target = volume = None
+    try:
+        with app.open_store() as store, store.reading():
+            catalog = catalog_for(store)
+            text = form["source"].strip()
+            if text:
+                try:
+                    match = BOTTLE_ID.match(text)
+                    if match:
+                        bottle = stock.get(store, match.group(1), today=app.today)
+                        if bottle.status != "in-use":
+                            raise CarboyError(f"bottle {bottle.id} is {bottle.status}")
+                        source = source_from_bottle(bottle, catalog)
+                        left = stock.format_amount(bottle.amount_left, bottle.amount_unit)
+                        echoes["source"] = (f"→ bottle {bottle.id}: {source.label} · "
+                                            f"{left} left · {bottle.location or 'no location'}")
+                    else:
+                        source = preparation.parse_source(text, catalog=catalog)
+                        echoes["source"] = f"→ {source.label}"
+                except CarboyError as exc:
+                    errors["source"] = str(exc)
+    except Exception as exc:
+        errors[""] = describe(exc)
+    for name, what, parse in (("target", "target", quantities.concentration_molar),
+                              ("volume", "final volume", quantities.volume_l)):
+        raw = form[name].strip()
+        if not raw:
+            continue
+        try:
+            value = parse(raw, what)
+            if name == "target":
+                target = value
+                echoes[name] = f"→ {value:.4g} M"
+            else:
+                volume = value
+                echoes[name] = f"→ {value * 1000:.4g} mL"
+        except CarboyError as exc:
+            errors[name] = str(exc)
+    echoes["location"] = "→ " + form["location"].strip() if form["location"].strip() else ""
+    if errors or source is None or target is None or volume is None:
+        return PrepOutcome(generation, errors=errors, echoes=echoes)
+    try:
+        recipe = preparation.plan_recipe(source, target, volume)
+    except CarboyError as exc:
+        return PrepOutcome(generation, errors={"target": str(exc)}, echoes=echoes)
+    today: date = app.today
+    key = recipe.source.compound.key
+    new_bottle = {
+        "compound": key, "label_strength": f"{recipe.target_molar:.6g} M",
+        "container_size": f"{recipe.final_volume_ml:.6g} mL",
+        "location": form["location"].strip(), "received_on": today.isoformat(),
+        "opened_on": today.isoformat(),
+        "expires_on": (today + timedelta(days=upkeep.shelf_life_days(key))).isoformat(),
+        "notes": f"prepared from {recipe.source.label}"}
+    try:
+        label = labels.make_label(
+            recipe.source.compound, conc_text=f"{recipe.target_molar:.4g} M",
+            mass_percent=recipe.final_mass_percent, prepared_on=today.isoformat(),
+            prepared_by=app.who, expires_on=new_bottle["expires_on"],
+            source_text=recipe.source.label)
+    except CarboyError as exc:
+        return PrepOutcome(generation, errors={"": f"label: {exc}"}, echoes=echoes)
+    return PrepOutcome(generation, recipe=recipe, label=label, bottle=bottle,
+                       new_bottle=new_bottle, echoes=echoes)
