@@ -614,7 +614,8 @@ class Catalog:
 # ----------------------------------------------------------------------------- loading
 
 
-def _read_toml(name: str) -> dict[str, Any]:
+def read_data_file(name: str) -> dict[str, Any]:
+    """A packaged ``carboy/model/data`` TOML file, parsed; bad TOML is a CatalogError."""
     data = resources.files(_DATA_PACKAGE) / name
     try:
         return tomllib.loads(data.read_text(encoding="utf-8"))
@@ -746,9 +747,9 @@ def _parse_compounds(
 
 def load_builtin() -> Catalog:
     """Read and validate the packaged catalog (uncached; see :func:`default_catalog`)."""
-    systems, ions, provenance, anions = _parse_systems(_read_toml("systems.toml"))
-    tables, rows = _parse_densities(_read_toml("densities.toml"))
-    compound_data = _read_toml("compounds.toml")
+    systems, ions, provenance, anions = _parse_systems(read_data_file("systems.toml"))
+    tables, rows = _parse_densities(read_data_file("densities.toml"))
+    compound_data = read_data_file("compounds.toml")
     compounds, alt, density_keys = _parse_compounds(compound_data, tables)
     return Catalog(
         systems=systems,

@@ -34,10 +34,8 @@ import functools
 import math
 import re
 import textwrap
-import tomllib
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
-from importlib import resources
 from itertools import pairwise
 from types import MappingProxyType
 from typing import Any
@@ -462,12 +460,9 @@ def parse_ghs(data: Mapping[str, Any]) -> GhsData:
 @functools.lru_cache(maxsize=1)
 def ghs_data() -> GhsData:
     """The packaged ``ghs.toml``, read and validated once per process."""
-    text = (resources.files(_DATA_PACKAGE) / _GHS_FILE).read_text(encoding="utf-8")
-    try:
-        raw = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise _fail("file", f"not valid TOML: {exc}") from None
-    return parse_ghs(raw)
+    from carboy.model.catalog import read_data_file
+
+    return parse_ghs(read_data_file(_GHS_FILE))
 
 
 # ----------------------------------------------------------------------------- rules

@@ -48,7 +48,7 @@ from carboy.model import quantities, thermo, water
 from carboy.model.catalog import Catalog, default_catalog, molar_mass_of
 from carboy.model.cautions import SEVERITIES, Caution
 from carboy.model.entities import Compound
-from carboy.model.solutions import Strength, strength_of
+from carboy.model.solutions import Strength, _number, strength_of
 
 __all__ = [
     "BASES",
@@ -354,15 +354,6 @@ def parse_source(text: str, *, catalog: Catalog | None = None) -> Source:
     if not c > 0:
         raise InvalidInput("source", text, "the concentration must be above 0")
     return solution_source(name, conc_molar=c, density_g_ml=density, catalog=cat)
-
-
-def _number(value: object, what: str) -> float:
-    if isinstance(value, bool) or not isinstance(value, (int, float)):
-        raise InvalidInput(what, value, "must be a number")
-    x = float(value)
-    if not math.isfinite(x):
-        raise InvalidInput(what, value, "must be a finite number")
-    return x
 
 
 def _positive(value: object, what: str) -> float:

@@ -54,10 +54,8 @@ from __future__ import annotations
 import functools
 import math
 import numbers
-import tomllib
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from importlib import resources
 from types import MappingProxyType
 from typing import Any
 
@@ -643,12 +641,9 @@ def _parse(raw: Mapping[str, Any]) -> _Data:
 @functools.lru_cache(maxsize=1)
 def _data() -> _Data:
     """The packaged ``standards.toml``, read and validated once per process."""
-    text = (resources.files(_DATA_PACKAGE) / _DATA_FILE).read_text(encoding="utf-8")
-    try:
-        raw = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise CatalogError(_DATA_FILE, f"not valid TOML: {exc}") from None
-    return _parse(raw)
+    from carboy.model.catalog import read_data_file
+
+    return _parse(read_data_file(_DATA_FILE))
 
 
 # ----------------------------------------------------------------------------- lookup
@@ -668,6 +663,16 @@ def _known(entries: Mapping[str, Any], label: Any) -> str:
     return ", ".join(label(e) for e in entries.values())
 
 
+def _find(name: object, entries: Mapping[str, Any], exact: Mapping[str, str],
+          folded: Mapping[str, str]) -> Any:
+    """An entry by its exact spelling first, then by its forgiving (folded) one."""
+    if not isinstance(name, str) or not name.strip():
+        return None
+    text = name.strip()
+    key = exact.get(text) or folded.get(normalize_name(text))
+    return entries[key] if key is not None else None
+
+
 def primary_standard(name: str) -> PrimaryStandard:
     """Find a primary standard by key, short name, name, alias or formula.
 
@@ -683,11 +688,9 @@ def primary_standard(name: str) -> PrimaryStandard:
     data = _data()
     if isinstance(name, PrimaryStandard):
         return name
-    if isinstance(name, str) and name.strip():
-        text = name.strip()
-        key = data.standard_index.get(text) or data.standard_folded.get(normalize_name(text))
-        if key is not None:
-            return data.standards[key]
+    found = _find(name, data.standards, data.standard_index, data.standard_folded)
+    if found is not None:
+        return found
     known = _known(data.standards, lambda s: s.label if s.label == s.name else f"{s.label} ({s.name})")
     raise InvalidInput("primary standard", name, f"is not known; known standards: {known}")
 
@@ -703,11 +706,9 @@ def titrant(name: str) -> Titrant:
     data = _data()
     if isinstance(name, Titrant):
         return name
-    if isinstance(name, str) and name.strip():
-        text = name.strip()
-        key = data.titrant_index.get(text) or data.titrant_folded.get(normalize_name(text))
-        if key is not None:
-            return data.titrants[key]
+    found = _find(name, data.titrants, data.titrant_index, data.titrant_folded)
+    if found is not None:
+        return found
     known = _known(data.titrants, lambda t: f"{t.key} ({t.name})")
     raise InvalidInput("titrant", name, f"is not known; known titrants: {known}")
 

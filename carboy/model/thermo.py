@@ -24,9 +24,7 @@ from __future__ import annotations
 
 import functools
 import math
-import tomllib
 from collections.abc import Mapping
-from importlib import resources
 
 import numpy as np
 
@@ -36,8 +34,9 @@ from carboy.model import water
 @functools.lru_cache(maxsize=1)
 def planning_constants() -> Mapping:
     """The packaged ``planning.toml`` (constants with sources; see that file)."""
-    text = (resources.files("carboy.model.data") / "planning.toml").read_text(encoding="utf-8")
-    return tomllib.loads(text)
+    from carboy.model.catalog import read_data_file
+
+    return read_data_file("planning.toml")
 
 
 def water_formation_kj() -> float:

@@ -7,10 +7,8 @@ The values are packaged in ``data/upkeep.toml``; each is common practice (status
 from __future__ import annotations
 
 import functools
-import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass
-from importlib import resources
 from types import MappingProxyType
 
 from carboy.errors import CatalogError
@@ -29,8 +27,9 @@ class Interval:
 
 
 def _read(section: str) -> Mapping[str, Interval]:
-    text = (resources.files("carboy.model.data") / "upkeep.toml").read_text(encoding="utf-8")
-    raw = tomllib.loads(text).get(section, {})
+    from carboy.model.catalog import read_data_file
+
+    raw = read_data_file("upkeep.toml").get(section, {})
     out: dict[str, Interval] = {}
     for key, rec in raw.items():
         days = rec.get("days")

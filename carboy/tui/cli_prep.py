@@ -118,20 +118,24 @@ def amount_used(recipe, unit: str) -> str:
     return f"{recipe.stock_volume_ml:.6g} mL"
 
 
-def _new_bottle_fields(recipe, args, today: date) -> dict:
+def new_bottle_fields(recipe, today: date, *, location: str = "", lot: str = "",
+                      expires: str | None = None) -> dict:
+    """The stock-bottle fields of what a recipe makes (also used by the Prepare screen);
+    expiry defaults to the storeroom shelf life of the compound."""
     from carboy.model import upkeep
 
-    expires = args.expires or (today + timedelta(
+    expires = expires or (today + timedelta(
         days=upkeep.shelf_life_days(recipe.source.compound.key))).isoformat()
     return {"compound": recipe.source.compound.key,
             "label_strength": f"{recipe.target_molar:.6g} M",
             "container_size": f"{recipe.final_volume_ml:.6g} mL",
-            "location": args.location, "lot": args.lot, "received_on": today.isoformat(),
+            "location": location, "lot": lot, "received_on": today.isoformat(),
             "opened_on": today.isoformat(), "expires_on": expires,
             "notes": f"prepared from {recipe.source.label}"}
 
 
-def _label(recipe, fields: dict, who: str):
+def label_for(recipe, fields: dict, who: str):
+    """The label of the bottle a recipe makes, from its fields (see new_bottle_fields)."""
     from carboy.model import labels
 
     return labels.make_label(
@@ -139,6 +143,11 @@ def _label(recipe, fields: dict, who: str):
         mass_percent=recipe.final_mass_percent, prepared_on=fields["received_on"],
         prepared_by=who, expires_on=fields["expires_on"], lot=fields["lot"] or None,
         source_text=recipe.source.label)
+
+
+def _fields(recipe, args, today: date) -> dict:
+    return new_bottle_fields(recipe, today, location=args.location, lot=args.lot,
+                             expires=args.expires)
 
 
 def build(args):
@@ -171,8 +180,8 @@ def build(args):
             source = source_from_bottle(bottle, catalog) if bottle else \
                 _source_from_text(args.source, args.purity, catalog)
             recipes = _plan(preparation, source, targets, volumes, t_c)
-            fields = [_new_bottle_fields(r, args, today) for r in recipes]
-            labels_ = [_label(r, f, who) for r, f in zip(recipes, fields)]
+            fields = [_fields(r, args, today) for r in recipes]
+            labels_ = [label_for(r, f, who) for r, f in zip(recipes, fields)]
             recorded = None
             if args.record:
                 steps = []
@@ -192,7 +201,7 @@ def build(args):
     catalog = default_catalog()
     source = _source_from_text(args.source, args.purity, catalog)
     recipes = _plan(preparation, source, targets, volumes, t_c)
-    labels_ = [_label(r, _new_bottle_fields(r, args, today), who) for r in recipes]
+    labels_ = [label_for(r, _fields(r, args, today), who) for r in recipes]
     return recipes, labels_, None
 
 

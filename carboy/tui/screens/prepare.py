@@ -14,7 +14,6 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
-from datetime import date, timedelta
 
 from rich.text import Text
 from textual import on, work
@@ -26,7 +25,7 @@ from textual.timer import Timer
 from textual.widgets import Footer, Input, Static, TabbedContent, TabPane
 
 from carboy.errors import CarboyError
-from carboy.tui.cli_prep import amount_used, heat_text
+from carboy.tui.cli_prep import amount_used, heat_text, label_for, new_bottle_fields
 from carboy.tui.widgets.error_line import ErrorLine
 from carboy.tui.widgets.field_row import FieldRow
 from carboy.tui.widgets.mode_bar import ModeBar
@@ -265,7 +264,7 @@ class PrepareScreen(Screen):
 
 def compute(form: dict[str, str], generation: int, app) -> PrepOutcome:
     """Read the form and work out the recipe; every problem is named by its field."""
-    from carboy.model import labels, preparation, quantities, upkeep
+    from carboy.model import preparation, quantities
     from carboy.store import stock
     from carboy.store.compounds import catalog_for
     from carboy.tui.cli_prep import source_from_bottle
@@ -318,21 +317,9 @@ def compute(form: dict[str, str], generation: int, app) -> PrepOutcome:
         recipe = preparation.plan_recipe(source, target, volume)
     except CarboyError as exc:
         return PrepOutcome(generation, errors={"target": str(exc)}, echoes=echoes)
-    today: date = app.today
-    key = recipe.source.compound.key
-    new_bottle = {
-        "compound": key, "label_strength": f"{recipe.target_molar:.6g} M",
-        "container_size": f"{recipe.final_volume_ml:.6g} mL",
-        "location": form["location"].strip(), "received_on": today.isoformat(),
-        "opened_on": today.isoformat(),
-        "expires_on": (today + timedelta(days=upkeep.shelf_life_days(key))).isoformat(),
-        "notes": f"prepared from {recipe.source.label}"}
+    new_bottle = new_bottle_fields(recipe, app.today, location=form["location"].strip())
     try:
-        label = labels.make_label(
-            recipe.source.compound, conc_text=f"{recipe.target_molar:.4g} M",
-            mass_percent=recipe.final_mass_percent, prepared_on=today.isoformat(),
-            prepared_by=app.who, expires_on=new_bottle["expires_on"],
-            source_text=recipe.source.label)
+        label = label_for(recipe, new_bottle, app.who)
     except CarboyError as exc:
         return PrepOutcome(generation, errors={"": f"label: {exc}"}, echoes=echoes)
     return PrepOutcome(generation, recipe=recipe, label=label, bottle=bottle,
