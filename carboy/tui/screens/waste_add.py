@@ -105,6 +105,9 @@ class AddWasteScreen(ModalScreen[bool]):
         self.label = label
         self._timer: Timer | None = None
         self.busy = False
+        self._edits = 0
+        """Changes typed so far; an echo is dropped if a submit already judged that state."""
+        self._judged = -1
 
     def compose(self) -> ComposeResult:
         with Vertical(id="add-dialog", classes="dialog"):
@@ -131,16 +134,17 @@ class AddWasteScreen(ModalScreen[bool]):
     # -- echo while typing -------------------------------------------------------------
     @on(Input.Changed)
     def _changed(self) -> None:
+        self._edits += 1
         if self._timer is not None:
             self._timer.stop()
         self._timer = self.set_timer(ECHO_DELAY_S, self._echo)
 
     def _echo(self) -> None:
         v = self.values()
-        self._understand(v["add-compound"], v["add-conc"], v["add-volume"])
+        self._understand(v["add-compound"], v["add-conc"], v["add-volume"], self._edits)
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="waste-add-echo")
-    def _understand(self, compound: str, conc: str, volume: str) -> None:
+    def _understand(self, compound: str, conc: str, volume: str, edits: int) -> None:
         from carboy.store.compounds import catalog_for
 
         worker = get_current_worker()
@@ -151,9 +155,11 @@ class AddWasteScreen(ModalScreen[bool]):
         except Exception as exc:
             echo = Echo({}, {"": describe(exc)})
         if not worker.is_cancelled:
-            self.app.call_from_thread(self._show_echo, echo)
+            self.app.call_from_thread(self._show_echo, echo, edits)
 
-    def _show_echo(self, echo: Echo) -> None:
+    def _show_echo(self, echo: Echo, edits: int) -> None:
+        if edits <= self._judged:
+            return  # a submit has judged these values (e.g. too much for the container)
         for field in FIELDS[:3]:
             if field in echo.errors:
                 self.row(field).show_error(echo.errors[field])
@@ -185,6 +191,9 @@ class AddWasteScreen(ModalScreen[bool]):
     def action_submit(self) -> None:
         if self.busy:
             return
+        if self._timer is not None:
+            self._timer.stop()
+        self._judged = self._edits
         v = self.values()
         missing = [("add-compound", "compound: is required, e.g. HCl"),
                    ("add-conc", "concentration: is required, e.g. '1 M' (or a solid's "
