@@ -20,6 +20,9 @@ class InvalidInput(CarboyError, ValueError):
     what: str
     value: object
     reason: str
+    field: str = ""
+    """The form field or command-line option the value came from ("" when none): screens
+    put the message beside that field without reading the text."""
 
     def __str__(self) -> str:
         return f"{self.what} {self.value!r}: {self.reason}"
