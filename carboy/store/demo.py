@@ -15,7 +15,10 @@ safe to pour away: they point to local disposal rules and the safety office.
 
 from __future__ import annotations
 
+import contextlib
 import os
+import tempfile
+from collections.abc import Iterator
 from datetime import UTC, date, datetime, time, timedelta
 from pathlib import Path
 
@@ -212,3 +215,14 @@ def seed(store: Store, today: date = DEMO_TODAY) -> None:
     journal.append(store, "note", who=student, when=_at(today, 1, 8),
                    summary="Weekly check of eyewash and spill station done",
                    snapshot={"checked": ["eyewash", "spill kit", "NaHCO3 stock"]})
+
+
+@contextlib.contextmanager
+def throwaway(today: date | None = None) -> Iterator[Path]:
+    """A demo database in a new temporary directory, removed on exit (``carboy --demo``).
+
+    Dated from ``today`` (default: the real today), so the demo's expiry and
+    standardization dates look fresh.
+    """
+    with tempfile.TemporaryDirectory(prefix="carboy-demo-") as tmp:
+        yield create_demo_database(Path(tmp) / "demo.db", today or date.today())

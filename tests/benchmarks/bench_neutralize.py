@@ -26,8 +26,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 from textual.widgets import Input  # noqa: E402
 
 from carboy.store.demo import DEMO_TODAY, create_demo_database  # noqa: E402
-from carboy.tui.app import make_app  # noqa: E402
-from carboy.tui.screens.neutralize import (  # noqa: E402
+from carboy.tui.app.app import make_app  # noqa: E402
+from carboy.tui.app.screens.neutralize import (  # noqa: E402
     DEBOUNCE_S,
     FormState,
     NeutralizeScreen,
@@ -105,7 +105,7 @@ async def bench_screen(db: Path, repeat: int) -> dict[str, list[float]]:
 def bench_compute(repeat: int) -> dict[str, list[float]]:
     from carboy.store import waste
     from carboy.store.db import open_database
-    from carboy.tui.screens.neutralize import load_container_info
+    from carboy.tui.app.screens.neutralize import load_container_info
 
     with tempfile.TemporaryDirectory() as tmp:
         db = create_demo_database(Path(tmp) / "demo.db", today=DEMO_TODAY)

@@ -95,8 +95,8 @@ class Stall:
 
 
 async def drive(path: Path) -> dict[str, list[float]]:
-    from carboy.tui.app import make_app
-    from carboy.tui.screens.stock import StockScreen
+    from carboy.tui.app.app import make_app
+    from carboy.tui.app.screens.stock import StockScreen
 
     app = make_app(path, today=DEMO_TODAY, who="bench")
     figures: dict[str, list[float]] = {"next page (key n)": [], "scroll past page end": [],

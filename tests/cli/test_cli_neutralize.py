@@ -4,7 +4,7 @@ import json
 
 import pytest
 
-from carboy.tui.cli import main
+from carboy.tui.launch import main
 
 
 def run(capsys, *argv):
@@ -71,7 +71,7 @@ def test_plan_for_a_stored_container(tmp_path, capsys):
     import json as _json
 
     from carboy.store.demo import DEMO_TODAY, create_demo_database
-    from carboy.tui.cli import main as cli_main
+    from carboy.tui.launch import main as cli_main
 
     db = create_demo_database(tmp_path / "demo.db", today=DEMO_TODAY)
     assert cli_main(["--db", str(db), "neutralize", "--waste", "HF-04", "--reagent", "NaOH=2M",

@@ -8,7 +8,7 @@ import sys
 
 import pytest
 
-from carboy.tui.cli import main
+from carboy.tui.launch import main
 
 
 def run(capsys, *argv):
@@ -75,7 +75,7 @@ def test_bad_input_exits_2_with_one_clear_line(capsys, argv, fragment):
 
 
 def test_installed_command_runs():
-    proc = subprocess.run([sys.executable, "-m", "carboy.tui.cli", "ph", "HCl=0.01", "--json"],
+    proc = subprocess.run([sys.executable, "-m", "carboy", "ph", "HCl=0.01", "--json"],
                           capture_output=True, text=True)
     assert proc.returncode == 0, proc.stderr
     assert json.loads(proc.stdout)["pH"] == pytest.approx(2.04, abs=0.02)

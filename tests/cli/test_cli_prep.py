@@ -9,7 +9,7 @@ import pytest
 from carboy.model import preparation
 from carboy.store import journal, stock
 from carboy.store.db import open_database
-from carboy.tui.cli import main
+from carboy.tui.launch import main
 
 
 def run(capsys, *argv):

@@ -9,7 +9,7 @@ import pytest
 from carboy.model import standardization as std
 from carboy.store import journal, stock
 from carboy.store.db import open_database
-from carboy.tui.cli import main
+from carboy.tui.launch import main
 
 # An invented triplicate: KHP portions of about 0.51 g against about 0.1 M NaOH.
 REPLICATES = (("0.5106", "25.02"), ("0.5098", "24.97"), ("0.5112", "25.05"))

@@ -10,7 +10,7 @@ import pytest
 
 from carboy.store import demo
 from carboy.store.db import open_database
-from carboy.tui.cli import main
+from carboy.tui.launch import main
 
 
 @pytest.fixture

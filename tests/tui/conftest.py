@@ -47,7 +47,7 @@ def demo_db(demo_template, tmp_path) -> Path:
 
 @pytest.fixture
 def make(demo_db) -> Callable:
-    from carboy.tui.app import make_app
+    from carboy.tui.app.app import make_app
 
     def build():
         return make_app(demo_db, demo=True, today=DEMO_TODAY, who=WHO)

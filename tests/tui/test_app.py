@@ -6,10 +6,10 @@ from datetime import date
 
 from carboy.store.db import Store
 from carboy.store.demo import DEMO_TODAY
-from carboy.tui.screens.neutralize import NeutralizeScreen
-from carboy.tui.screens.stock import StockScreen
-from carboy.tui.screens.too_small import TooSmallScreen
-from carboy.tui.screens.waste import WasteScreen
+from carboy.tui.app.screens.neutralize import NeutralizeScreen
+from carboy.tui.app.screens.stock import StockScreen
+from carboy.tui.app.screens.too_small import TooSmallScreen
+from carboy.tui.app.screens.waste import WasteScreen
 
 
 async def test_starts_on_stock_with_the_contract(make, demo_db, wait_for, who):
@@ -107,6 +107,6 @@ async def test_theme_follows_the_terminal_and_no_color_is_honoured(make, monkeyp
 
 
 async def test_today_defaults_to_the_real_day(demo_db):
-    from carboy.tui.app import make_app
+    from carboy.tui.app.app import make_app
 
     assert make_app(demo_db).today == date.today()

@@ -8,7 +8,7 @@ import pkgutil
 from rich.console import Console
 
 import carboy.tui
-from carboy.tui.screens.help import HelpScreen, all_bindings, own_bindings
+from carboy.tui.app.screens.help import HelpScreen, all_bindings, own_bindings
 
 
 def declared_bindings():

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from textual.widgets import Select
 
-from carboy.tui.screens.entry import EntryScreen
-from carboy.tui.screens.journal import EntryTable, JournalScreen
+from carboy.tui.app.screens.entry import EntryScreen
+from carboy.tui.app.screens.journal import EntryTable, JournalScreen
 
 
 async def on_journal(app, pilot, wait_for) -> JournalScreen:

@@ -11,8 +11,8 @@ from textual.widgets import Input, Static
 from carboy.store import journal
 from carboy.store.db import open_database
 from carboy.store.demo import DEMO_TODAY, create_demo_database
-from carboy.tui.app import make_app
-from carboy.tui.screens.neutralize import (
+from carboy.tui.app.app import make_app
+from carboy.tui.app.screens.neutralize import (
     CURVE_POINTS,
     FormState,
     NeutralizeScreen,
@@ -21,8 +21,8 @@ from carboy.tui.screens.neutralize import (
     compute,
     split_components,
 )
-from carboy.tui.widgets.ph_curve import PHCurve
-from carboy.tui.widgets.plan_view import CautionsPanel, PlanSummary
+from carboy.tui.app.widgets.ph_curve import PHCurve
+from carboy.tui.app.widgets.plan_view import CautionsPanel, PlanSummary
 
 SIZE = (100, 36)
 

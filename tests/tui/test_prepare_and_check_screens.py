@@ -9,8 +9,8 @@ from carboy.model import preparation
 from carboy.store import journal, stock
 from carboy.store.db import open_database
 from carboy.store.demo import DEMO_TODAY
-from carboy.tui.screens.check import CheckScreen
-from carboy.tui.screens.prepare import PrepareScreen
+from carboy.tui.app.screens.check import CheckScreen
+from carboy.tui.app.screens.prepare import PrepareScreen
 
 
 def _demo_bottle(demo_db, compound: str, unit: str = "%w/w") -> stock.Bottle:

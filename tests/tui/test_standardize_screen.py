@@ -15,8 +15,8 @@ from carboy.model.standardization import AcceptanceRule, Replicate, standardize
 from carboy.store import journal, rules, stock
 from carboy.store.db import open_database
 from carboy.store.demo import DEMO_TODAY
-from carboy.tui.screens.confirm import ConfirmScreen
-from carboy.tui.screens.standardize import (
+from carboy.tui.app.screens.confirm import ConfirmScreen
+from carboy.tui.app.screens.standardize import (
     ACCEPTED_MARK,
     OUTLIER_MARK,
     REJECTED_MARK,

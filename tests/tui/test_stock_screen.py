@@ -7,8 +7,8 @@ import pytest
 from carboy.store import stock
 from carboy.store.compounds import catalog_for
 from carboy.store.db import open_database
-from carboy.tui.screens.bottle import BottleScreen
-from carboy.tui.screens.stock import PAGE_ROWS, StockScreen, StockTable
+from carboy.tui.app.screens.bottle import BottleScreen
+from carboy.tui.app.screens.stock import PAGE_ROWS, StockScreen, StockTable
 
 
 def cells(table: StockTable, column: str) -> list[str]:
@@ -109,7 +109,7 @@ def big_db(demo_db):
 
 async def test_paging_by_keys_and_by_scrolling_past_the_end(big_db, wait_for):
     from carboy.store.demo import DEMO_TODAY
-    from carboy.tui.app import make_app
+    from carboy.tui.app.app import make_app
 
     app = make_app(big_db, today=DEMO_TODAY, who="tester")
     async with app.run_test(size=(80, 24)) as pilot:

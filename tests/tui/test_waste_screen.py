@@ -4,11 +4,11 @@ from __future__ import annotations
 
 from carboy.store import waste
 from carboy.store.db import open_database
-from carboy.tui.screens.confirm import ConfirmScreen
-from carboy.tui.screens.waste import WasteScreen
-from carboy.tui.screens.waste_add import AddWasteScreen
-from carboy.tui.screens.waste_new import NewContainerScreen
-from carboy.tui.widgets.safety_note import DISPOSAL_NOTE
+from carboy.tui.app.screens.confirm import ConfirmScreen
+from carboy.tui.app.screens.waste import WasteScreen
+from carboy.tui.app.screens.waste_add import AddWasteScreen
+from carboy.tui.app.screens.waste_new import NewContainerScreen
+from carboy.tui.app.widgets.safety_note import DISPOSAL_NOTE
 
 
 async def on_waste(app, pilot, wait_for, label: str | None = None) -> WasteScreen:
@@ -105,7 +105,7 @@ async def test_fluoride_waste_goes_to_licensed_disposal_and_offers_no_plan(make,
 
 
 async def test_plan_key_opens_the_planner_for_the_container(make, wait_for, monkeypatch):
-    from carboy.tui.app import CarboyApp
+    from carboy.tui.app.app import CarboyApp
 
     asked = []
     monkeypatch.setattr(CarboyApp, "plan_container", lambda self, label: asked.append(label))

@@ -12,8 +12,8 @@ from textual.widgets import Button, Input, Static
 from carboy.errors import InvalidInput
 from carboy.store import waste
 from carboy.store.errors import AlreadyExists
-from carboy.tui.widgets.field_row import FieldRow
-from carboy.tui.workers import describe
+from carboy.tui.app.widgets.field_row import FieldRow
+from carboy.tui.app.workers import describe
 
 FIELDS = ("new-label", "new-location", "new-capacity", "new-notes")
 

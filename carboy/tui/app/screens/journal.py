@@ -15,10 +15,10 @@ from textual.widgets import DataTable, Footer, Input, Label, Select, Static
 from textual.worker import get_current_worker
 
 from carboy.store import journal
-from carboy.tui.widgets.error_line import ErrorLine
-from carboy.tui.widgets.mode_bar import ModeBar
-from carboy.tui.widgets.steady_input import SteadyInput
-from carboy.tui.workers import describe
+from carboy.tui.app.widgets.error_line import ErrorLine
+from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.widgets.steady_input import SteadyInput
+from carboy.tui.app.workers import describe
 
 PAGE_ROWS = 50
 ALL_KINDS = "*"
@@ -166,7 +166,7 @@ class JournalScreen(Screen):
     # -- actions -------------------------------------------------------------------------------
     @on(DataTable.RowSelected, "#journal-table")
     def _open(self, event: DataTable.RowSelected) -> None:
-        from carboy.tui.screens.entry import EntryScreen
+        from carboy.tui.app.screens.entry import EntryScreen
 
         self.app.push_screen(EntryScreen(int(event.row_key.value)))
 

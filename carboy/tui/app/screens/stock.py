@@ -21,11 +21,11 @@ from textual.widgets import DataTable, Footer, Input, Label, Static
 from textual.worker import get_current_worker
 
 from carboy.store import stock
-from carboy.tui.widgets.error_line import ErrorLine
-from carboy.tui.widgets.marks import STRENGTH_MARKS, bottle_mark, strength_mark
-from carboy.tui.widgets.mode_bar import ModeBar
-from carboy.tui.widgets.steady_input import SteadyInput
-from carboy.tui.workers import describe
+from carboy.tui.app.widgets.error_line import ErrorLine
+from carboy.tui.app.widgets.marks import STRENGTH_MARKS, bottle_mark, strength_mark
+from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.widgets.steady_input import SteadyInput
+from carboy.tui.app.workers import describe
 
 PAGE_ROWS = 50
 SEARCH_DELAY_S = 0.15
@@ -311,7 +311,7 @@ class StockScreen(Screen):
 
     @on(DataTable.RowSelected, "#stock-table")
     def _open(self, event: DataTable.RowSelected) -> None:
-        from carboy.tui.screens.bottle import BottleScreen
+        from carboy.tui.app.screens.bottle import BottleScreen
 
         self.app.push_screen(BottleScreen(int(event.row_key.value)))
 
@@ -331,7 +331,7 @@ class StockScreen(Screen):
         return True
 
     def action_strength_check(self) -> None:
-        from carboy.tui.screens.check import CheckScreen
+        from carboy.tui.app.screens.check import CheckScreen
 
         self.app.push_screen(CheckScreen())
 

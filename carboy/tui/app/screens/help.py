@@ -18,8 +18,8 @@ from textual.containers import VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Footer, Static
 
-from carboy.tui.widgets.mode_bar import ModeBar
-from carboy.tui.widgets.safety_note import DISPOSAL_NOTE
+from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.widgets.safety_note import DISPOSAL_NOTE
 
 
 @dataclass(frozen=True)
@@ -31,19 +31,19 @@ class Section:
 
 def sections() -> list[Section]:
     """Every screen and dialog of the app, with the classes whose bindings it uses."""
-    from carboy.tui.app import CarboyApp
-    from carboy.tui.screens.bottle import BottleScreen
-    from carboy.tui.screens.check import CheckScreen
-    from carboy.tui.screens.confirm import ConfirmScreen
-    from carboy.tui.screens.entry import EntryScreen
-    from carboy.tui.screens.journal import EntryTable, JournalScreen
-    from carboy.tui.screens.neutralize import NeutralizeScreen
-    from carboy.tui.screens.prepare import PrepareScreen
-    from carboy.tui.screens.standardize import StandardizeScreen
-    from carboy.tui.screens.stock import SearchInput, StockScreen, StockTable
-    from carboy.tui.screens.waste import WasteScreen
-    from carboy.tui.screens.waste_add import AddWasteScreen
-    from carboy.tui.screens.waste_new import NewContainerScreen
+    from carboy.tui.app.app import CarboyApp
+    from carboy.tui.app.screens.bottle import BottleScreen
+    from carboy.tui.app.screens.check import CheckScreen
+    from carboy.tui.app.screens.confirm import ConfirmScreen
+    from carboy.tui.app.screens.entry import EntryScreen
+    from carboy.tui.app.screens.journal import EntryTable, JournalScreen
+    from carboy.tui.app.screens.neutralize import NeutralizeScreen
+    from carboy.tui.app.screens.prepare import PrepareScreen
+    from carboy.tui.app.screens.standardize import StandardizeScreen
+    from carboy.tui.app.screens.stock import SearchInput, StockScreen, StockTable
+    from carboy.tui.app.screens.waste import WasteScreen
+    from carboy.tui.app.screens.waste_add import AddWasteScreen
+    from carboy.tui.app.screens.waste_new import NewContainerScreen
 
     def purpose(cls: type, fallback: str) -> str:
         return getattr(cls, "HELP", None) or (cls.__doc__ or fallback).strip().splitlines()[0]
@@ -66,7 +66,7 @@ def sections() -> list[Section]:
                 neutralize_sources),
         Section("Prepare", purpose(PrepareScreen, ""), (PrepareScreen,)),
         Section("Standardize", purpose(StandardizeScreen, ""), (StandardizeScreen,) + tuple(
-            cls for cls in classes_with_bindings(("carboy.tui.screens.standardize",))
+            cls for cls in classes_with_bindings(("carboy.tui.app.screens.standardize",))
             if cls is not StandardizeScreen)),
         Section("Journal", purpose(JournalScreen, ""), (JournalScreen, EntryTable)),
         Section("Journal entry", purpose(EntryScreen, ""), (EntryScreen,)),
@@ -74,8 +74,8 @@ def sections() -> list[Section]:
     ]
 
 
-NEUTRALIZE_MODULES = ("carboy.tui.screens.neutralize", "carboy.tui.widgets.ph_curve",
-                      "carboy.tui.widgets.plan_view")
+NEUTRALIZE_MODULES = ("carboy.tui.app.screens.neutralize", "carboy.tui.app.widgets.ph_curve",
+                      "carboy.tui.app.widgets.plan_view")
 """Modules of the Neutralize screen: every class in them that declares keys is listed."""
 
 

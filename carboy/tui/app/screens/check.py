@@ -16,11 +16,11 @@ from textual.widgets import DataTable, Footer, Static
 from textual.worker import get_current_worker
 
 from carboy.store import stock
-from carboy.tui.screens.stock import short_strength
-from carboy.tui.widgets.error_line import ErrorLine
-from carboy.tui.widgets.marks import strength_mark
-from carboy.tui.widgets.mode_bar import ModeBar
-from carboy.tui.workers import describe
+from carboy.tui.app.screens.stock import short_strength
+from carboy.tui.app.widgets.error_line import ErrorLine
+from carboy.tui.app.widgets.marks import strength_mark
+from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.workers import describe
 
 FLAG_WORDS = {"expired": "expired", "off-label": "off-label", "overdue": "overdue",
               "never-standardized": "never std.", "expires-soon": "expires soon"}
@@ -130,7 +130,7 @@ class CheckScreen(Screen):
 
     @on(DataTable.RowSelected, "#check-table")
     def _open(self, event: DataTable.RowSelected) -> None:
-        from carboy.tui.screens.bottle import BottleScreen
+        from carboy.tui.app.screens.bottle import BottleScreen
 
         self.app.push_screen(BottleScreen(int(event.row_key.value)))
 

@@ -16,10 +16,10 @@ from textual.widgets import Footer, Static
 from textual.worker import get_current_worker
 
 from carboy.store import journal
-from carboy.tui.widgets.error_line import ErrorLine
-from carboy.tui.widgets.mode_bar import ModeBar
-from carboy.tui.widgets.safety_note import DISPOSAL_NOTE
-from carboy.tui.workers import describe
+from carboy.tui.app.widgets.error_line import ErrorLine
+from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.widgets.safety_note import DISPOSAL_NOTE
+from carboy.tui.app.workers import describe
 
 
 def entry_header(entry: journal.Entry) -> Table:

@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import argparse
 
-from carboy.tui.clikit import EXIT_OK, UsageError, emit_json
+from carboy.tui.cli.kit import EXIT_OK, UsageError, emit_json
 
 EXIT_NOT_ACCEPTED = 1
 
@@ -115,7 +115,7 @@ def build(args):
                                  purity_percent=purity, rule=_rule(args, AcceptanceRule()))
         return result, None, None
     from carboy.store import rules, stock
-    from carboy.tui.clikit import open_store
+    from carboy.tui.cli.kit import open_store
 
     with open_store(args) as store:
         rule = _rule(args, rules.load(store).acceptance())

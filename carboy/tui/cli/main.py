@@ -1,4 +1,4 @@
-"""The ``carboy`` command: the TUI without a subcommand, headless subcommands otherwise.
+"""The command line's parser: the global options and every subcommand.
 
 Each subcommand lives in its own module with a ``register(subparsers)`` function that
 adds its parser and sets ``func`` to a handler taking the parsed arguments and
@@ -11,15 +11,19 @@ import importlib
 import sys
 
 from carboy import __version__
-from carboy.tui.clikit import ArgumentParser, run_guarded
+from carboy.tui.cli.kit import ArgumentParser
+from carboy.tui.edge import EXIT_BAD_INPUT, run_guarded
 
 # modules that contribute subcommands, in the order their help is listed
 SUBCOMMAND_MODULES = (
-    "carboy.tui.cli_ph",
-    "carboy.tui.cli_neutralize",
-    "carboy.tui.cli_prep",
-    "carboy.tui.cli_standardize",
-    "carboy.tui.cli_store",
+    "carboy.tui.cli.ph",
+    "carboy.tui.cli.neutralize",
+    "carboy.tui.cli.prep",
+    "carboy.tui.cli.standardize",
+    "carboy.tui.cli.stock",
+    "carboy.tui.cli.rules",
+    "carboy.tui.cli.waste",
+    "carboy.tui.cli.journal",
 )
 
 
@@ -40,42 +44,11 @@ def build_parser() -> ArgumentParser:
 
 
 def main(argv: list[str] | None = None) -> int:
+    """Run one subcommand (the ``carboy`` command itself is :mod:`carboy.tui.launch`)."""
     parser = build_parser()
     args = parser.parse_args(sys.argv[1:] if argv is None else argv)
     func = getattr(args, "func", None)
     if func is None:
-        return run_guarded(run_app, args)
+        parser.print_help()
+        return EXIT_BAD_INPUT
     return run_guarded(func, args)
-
-
-def run_app(args) -> int:
-    """Open the terminal app: on the default database, or on a throwaway demo storeroom."""
-    import shutil
-    import tempfile
-    from datetime import date
-
-    from carboy.store import db
-
-    if args.demo:
-        from carboy.store.demo import create_demo_database
-
-        tmp = tempfile.mkdtemp(prefix="carboy-demo-")
-        try:
-            path = create_demo_database(f"{tmp}/demo.db", today=date.today())
-            return _run_app(path, demo=True)
-        finally:
-            shutil.rmtree(tmp, ignore_errors=True)
-    path = db.default_path(args.db)
-    db.open_database(path, check=True).close()  # a damaged file stops here, unwritten
-    return _run_app(path, demo=False)
-
-
-def _run_app(path, *, demo: bool) -> int:
-    from carboy.tui.app import make_app
-
-    make_app(path, demo=demo).run()
-    return 0
-
-
-if __name__ == "__main__":  # pragma: no cover
-    sys.exit(main())

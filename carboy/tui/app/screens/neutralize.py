@@ -44,9 +44,9 @@ from textual.widgets import (
 )
 
 from carboy.errors import CarboyError, InvalidInput, TemperatureOutOfRange, UnknownCompound
-from carboy.tui.widgets.mode_bar import ModeBar
-from carboy.tui.widgets.ph_curve import PHCurvePanel, curve_data_from_plan
-from carboy.tui.widgets.plan_view import CautionsPanel, PlanSummary, StagesTable, dose_text
+from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.widgets.ph_curve import PHCurvePanel, curve_data_from_plan
+from carboy.tui.app.widgets.plan_view import CautionsPanel, PlanSummary, StagesTable, dose_text
 
 DEBOUNCE_S = 0.15
 """Quiet time after the last change before a burst of changes is planned."""

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from carboy.tui.clikit import UsageError, emit_json
+from carboy.tui.cli.kit import UsageError, emit_json
 
 EXAMPLES = """examples:
   carboy neutralize H2SO4=0.5M --volume 250mL --reagent NaOH=2M
@@ -58,7 +58,7 @@ def _window(text: str) -> tuple[float, float]:
 
 def _from_store(args, t_c: float):
     from carboy.store import waste
-    from carboy.tui.clikit import open_store
+    from carboy.tui.cli.kit import open_store
 
     with open_store(args) as store:
         return (waste.composition(store, args.waste, temperature_c=t_c),

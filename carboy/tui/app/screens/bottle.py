@@ -12,11 +12,11 @@ from textual.widgets import DataTable, Footer, Static
 from textual.worker import get_current_worker
 
 from carboy.store import journal, stock
-from carboy.tui.screens.journal import EntryTable
-from carboy.tui.widgets.error_line import ErrorLine
-from carboy.tui.widgets.marks import bottle_mark, strength_mark
-from carboy.tui.widgets.mode_bar import ModeBar
-from carboy.tui.workers import describe
+from carboy.tui.app.screens.journal import EntryTable
+from carboy.tui.app.widgets.error_line import ErrorLine
+from carboy.tui.app.widgets.marks import bottle_mark, strength_mark
+from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.workers import describe
 
 HISTORY_LIMIT = 200
 
@@ -137,7 +137,7 @@ class BottleScreen(Screen):
 
     @on(DataTable.RowSelected, "#bottle-history")
     def _open_entry(self, event: DataTable.RowSelected) -> None:
-        from carboy.tui.screens.entry import EntryScreen
+        from carboy.tui.app.screens.entry import EntryScreen
 
         self.app.push_screen(EntryScreen(int(event.row_key.value)))
 

@@ -20,16 +20,16 @@ from textual.app import App
 from textual.binding import Binding
 from textual.reactive import reactive
 
-from carboy.store import db
-from carboy.tui.commands import CarboyCommands
-from carboy.tui.screens.help import HelpScreen
-from carboy.tui.screens.journal import JournalScreen
-from carboy.tui.screens.neutralize import NeutralizeScreen
-from carboy.tui.screens.prepare import PrepareScreen
-from carboy.tui.screens.standardize import StandardizeScreen
-from carboy.tui.screens.stock import StockScreen
-from carboy.tui.screens.too_small import TooSmallScreen
-from carboy.tui.screens.waste import WasteScreen
+from carboy.store import db as store_db
+from carboy.tui.app.commands import CarboyCommands
+from carboy.tui.app.screens.help import HelpScreen
+from carboy.tui.app.screens.journal import JournalScreen
+from carboy.tui.app.screens.neutralize import NeutralizeScreen
+from carboy.tui.app.screens.prepare import PrepareScreen
+from carboy.tui.app.screens.standardize import StandardizeScreen
+from carboy.tui.app.screens.stock import StockScreen
+from carboy.tui.app.screens.too_small import TooSmallScreen
+from carboy.tui.app.screens.waste import WasteScreen
 
 MIN_WIDTH = 80
 MIN_HEIGHT = 24
@@ -94,7 +94,7 @@ class CarboyApp(App):
         self.db_path = Path(db_path)
         self.demo = demo
         self._today = today
-        self.who = who or db.current_user()
+        self.who = who or store_db.current_user()
         self._previous_mode = self.DEFAULT_MODE
 
     # -- the contract the screens rely on -------------------------------------------
@@ -103,9 +103,9 @@ class CarboyApp(App):
         """The day strengths and expiry are judged against (fixed in tests)."""
         return self._today or date.today()
 
-    def open_store(self) -> db.Store:
+    def open_store(self) -> store_db.Store:
         """A new connection; call it in the worker thread that will use it."""
-        return db.open_database(self.db_path, check=False)
+        return store_db.open_database(self.db_path, check=False)
 
     def plan_container(self, label: str) -> None:
         """Open the Neutralize screen on a waste container."""
@@ -210,3 +210,18 @@ def make_app(db_path: str | Path, *, demo: bool = False, today: date | None = No
     named in records (default: the OS user).
     """
     return CarboyApp(Path(db_path), demo=demo, today=today, who=who)
+
+
+def run(*, db: str | None = None, demo: bool = False) -> int:
+    """Run the app until it quits: on the database ``db`` (``--db``, else ``$CARBOY_DB``,
+    else the user data directory) or, with ``demo``, on a throwaway demo storeroom."""
+    if demo:
+        from carboy.store.demo import throwaway
+
+        with throwaway() as path:
+            make_app(path, demo=True).run()
+        return 0
+    path = store_db.default_path(db)
+    store_db.open_database(path, check=True).close()  # a damaged file stops here, unwritten
+    make_app(path).run()
+    return 0

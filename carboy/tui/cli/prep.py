@@ -7,7 +7,7 @@ import argparse
 import re
 from datetime import date, timedelta
 
-from carboy.tui.clikit import EXIT_OK, UsageError, emit_json
+from carboy.tui.cli.kit import EXIT_OK, UsageError, emit_json
 
 EXAMPLES = """examples:
   carboy prep --from H2SO4=96% --target 1M --volume 1L
@@ -170,7 +170,7 @@ def build(args):
     if needs_store:
         from carboy.store import stock
         from carboy.store.compounds import catalog_for
-        from carboy.tui.clikit import open_store
+        from carboy.tui.cli.kit import open_store
 
         with open_store(args) as store:
             catalog = catalog_for(store)

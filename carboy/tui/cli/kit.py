@@ -10,15 +10,11 @@ import argparse
 import contextlib
 import json
 import math
-import os
 import sys
-from collections.abc import Callable
 from typing import Any
 
 from carboy.errors import CarboyError
-
-EXIT_OK = 0
-EXIT_BAD_INPUT = 2
+from carboy.tui.edge import EXIT_BAD_INPUT, EXIT_OK, EXIT_REFUSED  # noqa: F401 (re-exported)
 
 
 class UsageError(CarboyError):
@@ -55,42 +51,39 @@ def emit_json(obj: Any, stream=None) -> None:
 def open_store(args: argparse.Namespace):
     """The database a headless command works on: ``--db``, else ``$CARBOY_DB``, else the
     user data directory; with ``--demo`` (and no ``--db``) a throwaway demo storeroom."""
-    import tempfile
-    from datetime import date
-    from pathlib import Path
-
     from carboy.store.db import default_path, open_database
 
-    if getattr(args, "demo", False) and not getattr(args, "db", None):
-        from carboy.store.demo import create_demo_database
+    with contextlib.ExitStack() as stack:
+        if getattr(args, "demo", False) and not getattr(args, "db", None):
+            from carboy.store.demo import throwaway
 
-        with tempfile.TemporaryDirectory(prefix="carboy-demo-") as tmp:
-            # dated from the real today, so the demo's expiry and standardization look fresh
-            store = open_database(create_demo_database(Path(tmp) / "demo.db", date.today()))
-            try:
-                yield store
-            finally:
-                store.close()
-        return
-    store = open_database(default_path(getattr(args, "db", None)))
-    try:
+            path = stack.enter_context(throwaway())
+        else:
+            path = default_path(getattr(args, "db", None))
+        store = open_database(path)
+        stack.callback(store.close)
         yield store
-    finally:
-        store.close()
 
 
-def run_guarded(func: Callable[[argparse.Namespace], int], args: argparse.Namespace) -> int:
-    """Run a subcommand; carboy errors become a message on stderr and exit status 2."""
-    try:
-        return func(args)
-    except CarboyError as exc:
-        print(f"carboy: {exc}", file=sys.stderr)
-        return EXIT_BAD_INPUT
-    except KeyboardInterrupt:
-        print("carboy: interrupted", file=sys.stderr)
-        return 130
-    except BrokenPipeError:
-        # the reader (e.g. `| head`) went away: stop quietly, as command-line tools do
-        devnull = os.open(os.devnull, os.O_WRONLY)
-        os.dup2(devnull, sys.stdout.fileno())
-        return 141
+def common_options() -> argparse.ArgumentParser:
+    """The options every database subcommand takes: ``--db`` and ``--json``."""
+    p = argparse.ArgumentParser(add_help=False)
+    p.add_argument("--db", metavar="PATH", default=argparse.SUPPRESS,
+                   help="database file (default: $CARBOY_DB, else the user data directory)")
+    p.add_argument("--json", action="store_true", help="print JSON instead of text")
+    return p
+
+
+def group(sub, name: str, *, help: str, description: str):  # noqa: A002
+    """A command group (``carboy stock …``): its parser and the parser of its actions;
+    the group alone prints its help."""
+    parser = sub.add_parser(name, help=help, description=description)
+    actions = parser.add_subparsers(dest=f"{name}_command", metavar="ACTION",
+                                    parser_class=type(parser))
+
+    def show_help(args) -> int:
+        parser.print_help()
+        return EXIT_OK
+
+    parser.set_defaults(func=show_help)
+    return actions

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from carboy.tui.clikit import emit_json
+from carboy.tui.cli.kit import emit_json
 
 EXAMPLES = """examples:
   carboy ph H2SO4=0.05M NaH2PO4=10mM --temperature 35

@@ -20,9 +20,9 @@ from textual.worker import get_current_worker
 from carboy.errors import CarboyError, InvalidInput, UnknownCompound
 from carboy.store import waste
 from carboy.store.errors import OverCapacity
-from carboy.tui.widgets.field_row import FieldRow
-from carboy.tui.widgets.marks import litres
-from carboy.tui.workers import describe
+from carboy.tui.app.widgets.field_row import FieldRow
+from carboy.tui.app.widgets.marks import litres
+from carboy.tui.app.workers import describe
 
 ECHO_DELAY_S = 0.12
 FIELDS = ("add-compound", "add-conc", "add-volume", "add-note")

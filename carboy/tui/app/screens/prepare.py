@@ -25,12 +25,12 @@ from textual.timer import Timer
 from textual.widgets import Footer, Input, Static, TabbedContent, TabPane
 
 from carboy.errors import CarboyError
-from carboy.tui.cli_prep import amount_used, heat_text, label_for, new_bottle_fields
-from carboy.tui.widgets.error_line import ErrorLine
-from carboy.tui.widgets.field_row import FieldRow
-from carboy.tui.widgets.mode_bar import ModeBar
-from carboy.tui.widgets.plan_view import CautionsPanel
-from carboy.tui.workers import describe
+from carboy.tui.app.widgets.error_line import ErrorLine
+from carboy.tui.app.widgets.field_row import FieldRow
+from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.widgets.plan_view import CautionsPanel
+from carboy.tui.app.workers import describe
+from carboy.tui.cli.prep import amount_used, heat_text, label_for, new_bottle_fields
 
 DEBOUNCE_S = 0.15
 FIELDS = ("source", "target", "volume", "location")
@@ -210,7 +210,7 @@ class PrepareScreen(Screen):
         self.query_one(TabbedContent).active = tab
 
     def action_record(self) -> None:
-        from carboy.tui.screens.confirm import ConfirmScreen
+        from carboy.tui.app.screens.confirm import ConfirmScreen
 
         o = self._current()
         if o is None:
@@ -267,7 +267,7 @@ def compute(form: dict[str, str], generation: int, app) -> PrepOutcome:
     from carboy.model import preparation, quantities
     from carboy.store import stock
     from carboy.store.compounds import catalog_for
-    from carboy.tui.cli_prep import source_from_bottle
+    from carboy.tui.cli.prep import source_from_bottle
 
     errors: dict[str, str] = {}
     echoes: dict[str, str] = {}

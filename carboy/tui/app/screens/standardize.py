@@ -40,9 +40,9 @@ from textual.timer import Timer
 from textual.widgets import Footer, Input, Label, Static, TextArea
 
 from carboy.errors import CarboyError, InvalidInput
-from carboy.tui.screens.confirm import ConfirmScreen
-from carboy.tui.widgets.mode_bar import ModeBar
-from carboy.tui.workers import describe
+from carboy.tui.app.screens.confirm import ConfirmScreen
+from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.workers import describe
 
 DEBOUNCE_S = 0.15
 """Quiet time after the last change before a burst of changes is computed."""

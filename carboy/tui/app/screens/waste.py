@@ -24,12 +24,12 @@ from textual.worker import get_current_worker
 from carboy.errors import CarboyError
 from carboy.model.cautions import NO_DRAIN_TAGS
 from carboy.store import waste
-from carboy.tui.screens.confirm import ConfirmScreen
-from carboy.tui.widgets.error_line import ErrorLine
-from carboy.tui.widgets.marks import container_mark, fill_bar, fill_fraction, litres
-from carboy.tui.widgets.mode_bar import ModeBar
-from carboy.tui.widgets.safety_note import DISPOSAL_NOTE, LICENSED_ONLY_NOTE, SafetyNote
-from carboy.tui.workers import describe
+from carboy.tui.app.screens.confirm import ConfirmScreen
+from carboy.tui.app.widgets.error_line import ErrorLine
+from carboy.tui.app.widgets.marks import container_mark, fill_bar, fill_fraction, litres
+from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.widgets.safety_note import DISPOSAL_NOTE, LICENSED_ONLY_NOTE, SafetyNote
+from carboy.tui.app.workers import describe
 
 NO_DRAIN_NAMES = {
     "hf_type": "fluoride (HF-type)", "no_drain": "a no-drain substance",
@@ -302,7 +302,7 @@ class WasteScreen(Screen):
         return True
 
     def action_add(self) -> None:
-        from carboy.tui.screens.waste_add import AddWasteScreen
+        from carboy.tui.app.screens.waste_add import AddWasteScreen
 
         label = self.selected
         if label is None:
@@ -316,7 +316,7 @@ class WasteScreen(Screen):
         self.app.push_screen(AddWasteScreen(label), done)
 
     def action_new_container(self) -> None:
-        from carboy.tui.screens.waste_new import NewContainerScreen
+        from carboy.tui.app.screens.waste_new import NewContainerScreen
 
         def done(label: str | None) -> None:
             if label:

@@ -1,0 +1,109 @@
+"""``carboy waste``: waste containers headless (new, add, show, list)."""
+
+from __future__ import annotations
+
+import argparse
+
+from carboy.tui.cli.kit import EXIT_OK, common_options, emit_json, group, open_store
+
+
+def register(sub) -> None:
+    common = common_options()
+    fmt = argparse.RawDescriptionHelpFormatter
+    waste_sub = group(sub, "waste", help="waste containers: new, add, show, list",
+                      description="Waste containers and what went into them.")
+
+    p = waste_sub.add_parser("new", parents=[common], help="open a new container")
+    p.add_argument("label")
+    p.add_argument("--location", default="", metavar="TEXT")
+    p.add_argument("--capacity", metavar="VOLUME", help="e.g. 20 L (default 20 L)")
+    p.add_argument("--notes", default="", metavar="TEXT")
+    p.set_defaults(func=waste_new)
+
+    p = waste_sub.add_parser(
+        "add", parents=[common], help="log what went into a container", formatter_class=fmt,
+        description="Log one addition to a collecting container.",
+        epilog="examples:\n  carboy waste add MA-01 HCl=1M --volume 2L --note 'titration rinse'\n"
+               "  carboy waste add MA-01 'H2SO4=10 %w/w' --volume '250 mL'\n"
+               "  carboy waste add HF-04 NaF=2g        (a solid: mass, no volume needed)")
+    p.add_argument("label")
+    p.add_argument("component", metavar="COMPONENT=CONC",
+                   help="catalog name and concentration (1M, 10 mM, 10 %%w/w) or a mass")
+    p.add_argument("--volume", metavar="VOLUME", help="volume added, e.g. 250 mL")
+    p.add_argument("--note", default="", metavar="TEXT")
+    p.set_defaults(func=waste_add)
+
+    p = waste_sub.add_parser("show", parents=[common], help="a container, its composition "
+                             "and additions")
+    p.add_argument("label")
+    p.set_defaults(func=waste_show)
+
+    p = waste_sub.add_parser("list", parents=[common], help="every container")
+    p.add_argument("--status", choices=("collecting", "planned", "neutralized", "disposed",
+                                        "licensed-disposal"))
+    p.set_defaults(func=waste_list)
+
+
+def waste_new(args) -> int:
+    from carboy.store import waste
+
+    with open_store(args) as store:
+        c = waste.new_container(store, args.label, location=args.location,
+                                capacity=args.capacity, notes=args.notes)
+    if args.json:
+        emit_json(c.as_dict())
+    else:
+        print(f"opened waste container {c.label} ({c.capacity_l:g} L) at {c.location or '-'}")
+    return EXIT_OK
+
+
+def waste_add(args) -> int:
+    from carboy.store import waste
+
+    with open_store(args) as store:
+        addition_id = waste.add(store, args.label, args.component, args.volume, note=args.note)
+        c = waste.container(store, args.label)
+    if args.json:
+        emit_json({"addition_id": addition_id, **c.as_dict()})
+    else:
+        print(f"logged addition {addition_id} to {c.label}: now {c.volume_l:g} of "
+              f"{c.capacity_l:g} L")
+    return EXIT_OK
+
+
+def waste_show(args) -> int:
+    from carboy.store import waste
+
+    with open_store(args) as store:
+        info = waste.show(store, args.label)
+    if args.json:
+        emit_json(info)
+        return EXIT_OK
+    print(f"{info['label']}  {info['status']}  {info['volume_l']:g} of {info['capacity_l']:g} L"
+          f"  {info['location']}")
+    if info["notes"]:
+        print(f"  {info['notes']}")
+    print("  composition (mol):")
+    for key, mol in info["composition"].items():
+        print(f"    {key:<12} {mol:.4g}")
+    print("  additions:")
+    for a in info["additions"]:
+        vol = f"{a['volume_l']:g} L" if a["volume_l"] else ""
+        gone = "  [superseded]" if a["superseded"] else ""
+        print(f"    #{a['id']} {a['added_at'][:16]} {a['added_by']:<12} {a['entered']:<18} "
+              f"{vol:<8} {a['note']}{gone}")
+    return EXIT_OK
+
+
+def waste_list(args) -> int:
+    from carboy.store import waste
+
+    with open_store(args) as store:
+        found = waste.containers(store, status=args.status)
+    if args.json:
+        emit_json([c.as_dict() for c in found])
+        return EXIT_OK
+    for c in found:
+        print(f"{c.label:<12} {c.status:<18} {c.volume_l:>7g} / {c.capacity_l:<5g} L  "
+              f"{c.n_additions:>3} additions  {c.location}")
+    return EXIT_OK
