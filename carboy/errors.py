@@ -29,6 +29,14 @@ class InvalidInput(CarboyError, ValueError):
 
 
 @dataclass
+class MissingInput(InvalidInput):
+    """A required value was not given; ``reason`` says what is needed, with an example."""
+
+    def __str__(self) -> str:
+        return f"{self.what}: {self.reason}"
+
+
+@dataclass
 class UnknownCompound(CarboyError, KeyError):
     """A compound name or formula is not in the catalog."""
 

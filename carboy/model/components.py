@@ -52,16 +52,12 @@ def read_component(text: str, catalog=None, *, allow_mass: bool = True) -> Compo
         pct = quantities.percent(amount, what=what)
         return Component(compound, _check_conc(molarity_at(compound, pct, catalog=catalog),
                                                what, amount), None, text.strip())
-    try:
-        conc = quantities.concentration_molar(amount, what=what)
-    except InvalidInput as err:
-        if not allow_mass or "is a mass" not in err.reason:
-            raise
+    if allow_mass and quantities.unit_kind(amount) == "mass":
         mass = quantities.mass_g(amount, what=f"mass of {compound.key}")
         if mass <= 0:
-            raise InvalidInput(f"mass of {compound.key}", amount,
-                               "must be greater than zero") from None
+            raise InvalidInput(f"mass of {compound.key}", amount, "must be greater than zero")
         return Component(compound, None, mass, text.strip())
+    conc = quantities.concentration_molar(amount, what=what)
     return Component(compound, _check_conc(conc, what, amount), None, text.strip())
 
 

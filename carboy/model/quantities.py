@@ -187,6 +187,17 @@ def _via_pint(value: float, unit: str, kind: str, what: str, text: str) -> float
     return float(q.to(target).magnitude)
 
 
+def unit_kind(text: str) -> str | None:
+    """The kind of quantity the unit typed in ``text`` measures (``'2 g'`` -> ``'mass'``),
+    or None for a bare number, an unknown unit or text that is not a quantity."""
+    try:
+        _, unit = _split(text, "quantity")
+    except InvalidInput:
+        return None
+    kind = _UNITS.get(unit, (None, 0.0))[0]
+    return "temperature" if kind == "temperature_k" else kind
+
+
 def concentration_molar(text: str, what: str = "concentration") -> float:
     """``'10 mM'`` -> 0.01 (mol/L); a bare number is molar."""
     return parse(text, "concentration", what=what, default_unit="M").value

@@ -8,19 +8,19 @@ import time
 import pytest
 from textual.widgets import Input, Static
 
+from carboy.model.forms.neutralize import NeutralizeFields
 from carboy.store import journal
 from carboy.store.db import open_database
 from carboy.store.demo import DEMO_TODAY, create_demo_database
 from carboy.tui.app.app import make_app
+from carboy.tui.app.live import Computed
 from carboy.tui.app.screens.neutralize import (
     CURVE_POINTS,
     FormState,
     NeutralizeScreen,
-    PlanComputed,
-    RecordDialog,
     compute,
-    split_components,
 )
+from carboy.tui.app.screens.neutralize_record import RecordDialog
 from carboy.tui.app.widgets.ph_curve import PHCurve
 from carboy.tui.app.widgets.plan_view import CautionsPanel, PlanSummary
 
@@ -70,9 +70,9 @@ async def settled(pilot, screen: NeutralizeScreen) -> None:
     """Wait until the latest inputs have been planned (a plan or errors shown)."""
     await pilot.pause()
     await wait_for(pilot, lambda: screen.outcome is not None
-                   and screen.outcome.generation == screen._generation
+                   and screen.outcome.generation == screen.live.generation
                    and screen.outcome.state == screen._form_state()
-                   and not screen._planning and screen._debounce is None)
+                   and screen.live.settled)
 
 
 def echo(screen: NeutralizeScreen, name: str) -> str:
@@ -265,23 +265,9 @@ async def test_an_older_result_never_overwrites_a_newer_one(demo_db):
         await set_field(pilot, screen, "reagent", "NaOH=1M")
         await settled(pilot, screen)
         shown = screen.plan
-        old = compute(FormState(reagent="NaOH=2M", container=screen.container),
-                      generation=screen._generation - 1)
-        assert old.plan is not None
-        screen.post_message(PlanComputed(old))
+        old = compute(FormState(NeutralizeFields(reagent="NaOH=2M"), screen.container),
+                      generation=screen.live.generation - 1)
+        assert old.value is not None
+        screen.post_message(Computed(old))
         await pilot.pause(0.2)
         assert screen.plan is shown
-
-
-def test_components_split_as_people_type_them():
-    assert split_components("H2SO4=0.05M NaH2PO4=10mM") == ["H2SO4=0.05M", "NaH2PO4=10mM"]
-    assert split_components("HCl=0,1 M, H3PO4=10 mM") == ["HCl=0,1 M", "H3PO4=10 mM"]
-    assert split_components("acetic acid=1M") == ["acetic acid=1M"]
-
-
-def test_compute_reports_each_bad_field():
-    out = compute(FormState(components="HCl=0.1M", volume="abc mL", reagent="NaOH=1M",
-                            target="15"))
-    assert out.plan is None
-    assert set(out.errors) == {"volume", "target"}
-    assert "abc" in out.errors["volume"]

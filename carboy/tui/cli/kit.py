@@ -87,3 +87,17 @@ def group(sub, name: str, *, help: str, description: str):  # noqa: A002
 
     parser.set_defaults(func=show_help)
     return actions
+
+
+def first_problem(reading, options: dict[str, str]):
+    """A form's value, or its first problem as one command-line error: a missing value
+    names the option that gives it (``--volume: needed: …``)."""
+    from carboy.errors import MissingInput
+
+    if reading.ok:
+        return reading.value
+    name, problem = reading.problems[0] if reading.problems else ("", None)
+    if isinstance(problem, MissingInput):
+        option = options.get(name, name)
+        raise UsageError(f"{option}: {problem.reason}")
+    return reading.raise_first()

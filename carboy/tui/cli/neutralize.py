@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import argparse
 
-from carboy.tui.cli.kit import UsageError, emit_json
+from carboy.model.forms.neutralize import NeutralizeFields
+from carboy.tui.cli.kit import UsageError, emit_json, first_problem, open_store
 
 EXAMPLES = """examples:
   carboy neutralize H2SO4=0.5M --volume 250mL --reagent NaOH=2M
@@ -42,62 +43,40 @@ def register(sub) -> None:
     p.set_defaults(func=run)
 
 
-def _number(text: str, what: str) -> float:
-    try:
-        return float(str(text).strip().replace(",", "."))
-    except ValueError:
-        raise UsageError(f"{what} {text!r}: expected a number") from None
+OPTIONS = {"components": "components (NAME=CONC, or --waste LABEL)", "volume": "--volume", "reagent": "--reagent",
+           "target": "--target", "window": "--window", "temperature": "--temperature"}
+"""The option that carries each field of the neutralization form."""
 
 
-def _window(text: str) -> tuple[float, float]:
-    parts = str(text).split(":")
-    if len(parts) != 2:
-        raise UsageError(f"window {text!r}: expected LO:HI, e.g. 6:9")
-    return _number(parts[0], "window low pH"), _number(parts[1], "window high pH")
-
-
-def _from_store(args, t_c: float):
-    from carboy.store import waste
-    from carboy.tui.cli.kit import open_store
-
-    with open_store(args) as store:
-        return (waste.composition(store, args.waste, temperature_c=t_c),
-                waste.hazard_tags(store, args.waste))
+def fields_of(args) -> NeutralizeFields:
+    """The neutralization form as the command line fills it."""
+    low, sep, high = str(args.window).partition(":")
+    if not sep or ":" in high:
+        raise UsageError(f"window {args.window!r}: expected LO:HI, e.g. 6:9")
+    return NeutralizeFields(components=tuple(args.components), volume=args.volume or "",
+                            reagent=args.reagent, target=args.target, window_low=low,
+                            window_high=high, temperature=args.temperature,
+                            activity="ideal" if args.ideal else "davies")
 
 
 def build_plan(args):
-    from carboy.model import quantities
+    """The plan of ``carboy neutralize`` (the Neutralize screen reads the same form)."""
     from carboy.model.catalog import default_catalog
-    from carboy.model.components import parse_component
-    from carboy.model.mixture import Mixture
-    from carboy.model.planner import plan_neutralization
-    from carboy.model.reagents import parse_reagent
+    from carboy.model.forms import neutralize as form
 
-    catalog = default_catalog()
-    t_c = quantities.temperature_c(args.temperature)
-    hazards: frozenset[str] = frozenset()
+    fields = fields_of(args)
+    container, catalog = None, None
     if args.waste:
         if args.components:
             raise UsageError("give either components or --waste, not both")
-        mixture, hazards = _from_store(args, t_c)
         if args.volume:
             raise UsageError("--volume comes from the container with --waste; leave it out")
-    else:
-        if not args.components:
-            raise UsageError("name the waste's components (e.g. H2SO4=0.5M) or give --waste")
-        if not args.volume:
-            raise UsageError("--volume is required, e.g. --volume 250mL")
-        volume = quantities.volume_l(args.volume, what="volume")
-        if volume <= 0:
-            raise UsageError(f"volume {args.volume!r}: must be greater than zero")
-        parsed = [parse_component(text, catalog) for text in args.components]
-        for compound, _ in parsed:
-            hazards |= compound.hazards
-        mixture = Mixture.from_compounds(parsed, volume_l=volume, temperature_c=t_c)
-    reagent = parse_reagent(args.reagent, catalog)
-    return plan_neutralization(
-        mixture, reagent, target_pH=_number(args.target, "target pH"), window=_window(args.window),
-        activity="ideal" if args.ideal else "davies", catalog=catalog, hazards=hazards)
+        from carboy.store.planning import container_sample
+
+        with open_store(args) as store:
+            container, catalog = container_sample(store, args.waste)
+    reading = form.evaluate(fields, catalog or default_catalog(), container)
+    return first_problem(reading, OPTIONS)
 
 
 def _amount(dose, reagent) -> str:

@@ -7,32 +7,22 @@ what carboy understood, or says in place why it could not read it; the typed tex
 never lost.  Right, the plan in three views (figures, staged additions, the pH curve).
 Below, the cautions, always on screen, with the standing disposal note.
 
-Recompute
----------
-Each change bumps a generation counter.  A change after a quiet spell starts the
-planner at once (so one keystroke shows its plan quickly); changes in quick
-succession are gathered and planned once, :data:`DEBOUNCE_S` after the last.  At most
-one planner thread runs at a time: a change made while it runs is planned when it
-finishes.  A result is shown only if its generation is still the current one, so an
-older plan can never overwrite a newer one.  When the inputs have an error the last
-good plan stays on screen, greyed and marked STALE.
+The form is read and planned by :mod:`carboy.model.forms.neutralize` (the same code as
+``carboy neutralize``) in a thread worker, driven by :class:`~carboy.tui.app.live.
+LiveComputation`; while the inputs have an error the last good plan stays on screen,
+greyed and marked STALE.
 """
 
 from __future__ import annotations
 
-import time
-from collections.abc import Mapping
-from dataclasses import dataclass, field
-from datetime import date
+from dataclasses import dataclass
 
 from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Horizontal, Vertical, VerticalScroll
-from textual.message import Message
-from textual.screen import ModalScreen, Screen
+from textual.containers import Horizontal, VerticalScroll
+from textual.screen import Screen
 from textual.widgets import (
-    Button,
     Checkbox,
     Footer,
     Input,
@@ -43,544 +33,55 @@ from textual.widgets import (
     TabPane,
 )
 
-from carboy.errors import CarboyError, InvalidInput, TemperatureOutOfRange, UnknownCompound
+from carboy.model.forms.neutralize import (
+    DEFAULTS,
+    FIELDS,
+    ContainerSample,
+    NeutralizeFields,
+    evaluate,
+    snapshot,
+)
+from carboy.store.planning import BottleChoice
+from carboy.tui.app.live import Computed, LiveComputation, Outcome
+from carboy.tui.app.screens.neutralize_parts import (
+    RECORDABLE,
+    TYPED,
+    TYPED_TITLE,
+    ChoicesLoaded,
+    ContainerLoaded,
+    Recorded,
+    container_summary,
+    reagent_options,
+    sample_options,
+)
+from carboy.tui.app.screens.neutralize_record import RecordDialog, RecordRequest
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.ph_curve import PHCurvePanel, curve_data_from_plan
 from carboy.tui.app.widgets.plan_view import CautionsPanel, PlanSummary, StagesTable, dose_text
-
-DEBOUNCE_S = 0.15
-"""Quiet time after the last change before a burst of changes is planned."""
-
-DEFAULTS = {"target": "7.0", "window_low": "6.0", "window_high": "9.0", "temperature": "25 °C"}
-
-REAGENT_BASES = ("NaOH", "KOH", "Na2CO3", "NaHCO3", "Ca(OH)2", "Mg(OH)2")
-"""Stock compounds offered to neutralize acid waste."""
-REAGENT_ACIDS = ("HCl", "H2SO4", "C6H8O7", "CH3COOH")
-"""Stock compounds offered to neutralize alkaline waste (strong, then gentle: citric, acetic)."""
-SAMPLE_COMPOUNDS = ("HCl", "H2SO4", "HNO3", "H3PO4", "HF", "HCOOH", "CH3COOH", "C6H8O7",
-                    "H2C2O4", "NaOH", "KOH", "NH3", "Na2CO3", "NaHCO3")
-"""Stock solutions offered as a sample (an expired or surplus bottle to neutralize)."""
-BOTTLES_PER_COMPOUND = 50
-"""The lists are built from one short search per compound, never the whole stock."""
-
-RECORDABLE = ("collecting", "planned")
-"""Container statuses from which a neutralization can be recorded."""
-
-TYPED = "typed"
-FIELDS = ("components", "volume", "temperature", "reagent", "target", "window")
-
-
-# -- what the form holds, and what it means ---------------------------------------------
-
-@dataclass(frozen=True)
-class ContainerInfo:
-    """A waste container as loaded for planning."""
-
-    label: str
-    status: str
-    volume_l: float
-    capacity_l: float
-    location: str
-    moles: Mapping[str, float]
-    hazards: frozenset[str]
-    notes: str = ""
-
-    def summary(self) -> str:
-        comp = ", ".join(f"{k} {_conc(n / self.volume_l)}" for k, n in self.moles.items()
-                         if self.volume_l > 0)
-        head = (f"{self.label} · {self.status} · {self.volume_l:.3g} L of "
-                f"{self.capacity_l:.3g} L · {self.location}")
-        if self.status not in RECORDABLE:
-            head += f"\nstatus {self.status}: no neutralization can be recorded for it"
-        return head + "\n" + (comp or "(no additions recorded)")
-
-
-@dataclass(frozen=True)
-class BottleChoice:
-    """A stock bottle offered as reagent or sample, with the text it stands for."""
-
-    bottle_id: int
-    compound_key: str
-    text: str
-    title: str
-    kind: str  # "base", "acid" or "sample"
-    amount_left: float
-    amount_unit: str
-
-
-@dataclass(frozen=True)
-class FormState:
-    """The form's text as typed (nothing parsed yet)."""
-
-    components: str = ""
-    volume: str = ""
-    temperature: str = DEFAULTS["temperature"]
-    reagent: str = ""
-    target: str = DEFAULTS["target"]
-    window_low: str = DEFAULTS["window_low"]
-    window_high: str = DEFAULTS["window_high"]
-    ideal: bool = False
-    container: ContainerInfo | None = None
-    sample_note: str = ""
-
-
-@dataclass(frozen=True)
-class Outcome:
-    """What one planner run found: a plan, or per-field errors; echoes either way."""
-
-    generation: int
-    state: FormState
-    plan: object | None
-    errors: dict[str, str] = field(default_factory=dict)
-    echoes: dict[str, str] = field(default_factory=dict)
-    missing: frozenset[str] = frozenset()
-    """Fields still empty: their reason is a hint, not an error."""
-    direction: str | None = None
-    elapsed_ms: float = 0.0
-
-    @property
-    def ok(self) -> bool:
-        return self.plan is not None and not self.errors
-
-
-def _conc(molar: float) -> str:
-    if molar < 0.1:
-        return f"{molar * 1000:.3g} mM"
-    return f"{molar:.3g} M"
-
-
-def _number(text: str, what: str) -> float:
-    raw = (text or "").strip().replace(",", ".")
-    if not raw:
-        raise InvalidInput(what, text, "is empty: give a number, e.g. 7")
-    try:
-        return float(raw)
-    except ValueError:
-        raise InvalidInput(what, text, "expected a number, e.g. 7 or 6,5") from None
-
-
-def _ph(text: str, what: str) -> float:
-    value = _number(text, what)
-    if not 0.0 <= value <= 14.0:
-        raise InvalidInput(what, text, "expected a pH between 0 and 14")
-    return value
-
-
-def split_components(text: str) -> list[str]:
-    """``'H2SO4=0.05 M, NaH2PO4=10mM'`` -> ``['H2SO4=0.05 M', 'NaH2PO4=10mM']``.
-
-    Components are separated by commas, semicolons or spaces; a unit typed after a
-    space stays with its number, and a name of several words with its ``=``.
-    """
-    words = text.replace(";", " ").replace(",", " , ").split()
-    items: list[str] = []
-    pending = ""
-    for word in words:
-        if word == ",":
-            # a decimal comma sits between digits: "0,05" was split into "0 , 05"
-            if items and items[-1][-1:].isdigit():
-                items[-1] += ","
-            continue
-        if items and items[-1].endswith(","):
-            items[-1] += word
-            continue
-        if "=" in word:
-            items.append((pending + " " + word).strip())
-            pending = ""
-        elif items and (items[-1][-1:].isdigit() or items[-1].endswith(".")):
-            items[-1] += " " + word
-        else:
-            pending = (pending + " " + word).strip()
-    if pending:
-        items.append(pending)
-    return items
-
-
-def parse_sample(state: FormState, temperature_c: float, catalog):
-    """(mixture, hazard tags, echo) of the sample; raises CarboyError naming the field."""
-    from carboy.model.mixture import Mixture
-    from carboy.model.quantities import volume_l
-    from carboy.store.waste import parse_component
-
-    if state.container is not None:
-        c = state.container
-        mixture = Mixture.from_moles(dict(c.moles), c.volume_l, temperature_c=temperature_c)
-        return mixture, c.hazards, f"container {c.label}: {c.volume_l:.3g} L"
-    try:
-        volume = volume_l(state.volume, what="volume") if state.volume.strip() else None
-    except CarboyError as err:
-        raise _FieldError("volume", err) from None
-    if volume is None:
-        raise _FieldError("volume", "needed: the sample's volume, e.g. 250 mL or 1,5 L",
-                          missing=True)
-    if volume <= 0:
-        raise _FieldError("volume", f"volume {state.volume!r}: must be greater than zero")
-    items = split_components(state.components)
-    if not items:
-        raise _FieldError("components", "needed: the components, e.g. H2SO4=0.05M "
-                          "NaH2PO4=10mM, or pick a container", missing=True)
-    parsed, hazards, echo = [], set(), []
-    for item in items:
-        try:
-            comp = parse_component(item, catalog)
-        except CarboyError as err:
-            raise _FieldError("components", err) from None
-        if comp.mass_g is not None:
-            conc = comp.mass_g / comp.compound.molar_mass_g_mol / volume
-        else:
-            conc = comp.conc_molar
-        parsed.append((comp.compound, conc))
-        hazards |= comp.compound.hazards
-        echo.append(f"{comp.compound.key} {_conc(conc)}")
-    mixture = Mixture.from_compounds(parsed, volume_l=volume, temperature_c=temperature_c)
-    return mixture, frozenset(hazards), " · ".join(echo) + f" in {volume:g} L"
-
-
-class _FieldError(Exception):
-    def __init__(self, field_name: str, reason: object, *, missing: bool = False):
-        super().__init__(str(reason))
-        self.field_name = field_name
-        self.missing = missing
-
-
-_PLANNER_FIELDS = {"reagent": "reagent", "target pH": "target", "window": "window",
-                   "window low pH": "window", "window high pH": "window",
-                   "sample volume": "volume", "sample": "components", "temperature": "temperature"}
-
+from carboy.tui.app.widgets.quiet_select import QuietSelect
+from carboy.tui.edge import describe
 
 CURVE_POINTS = 200
 """Points of the pH curve on screen: a plot at most ~100 columns wide draws 2 braille
 dots per column, so 200 points are as smooth as the screen can show (and replan faster)."""
 
 
-def compute(state: FormState, generation: int = 0, catalog=None) -> Outcome:
-    """Parse the form and plan; never raises (errors come back per field)."""
-    from carboy.model.catalog import default_catalog
-    from carboy.model.planner import plan_neutralization
-    from carboy.model.quantities import temperature_c
-    from carboy.model.reagents import parse_reagent
-
-    started = time.perf_counter()
-    catalog = catalog or default_catalog()
-    errors: dict[str, str] = {}
-    echoes: dict[str, str] = {}
-    missing: set[str] = set()
-    try:
-        t_c = temperature_c(state.temperature or DEFAULTS["temperature"])
-        echoes["temperature"] = f"understood: {t_c:g} °C"
-    except CarboyError as err:
-        errors["temperature"] = str(err)
-        t_c = 25.0
-    mixture = hazards = None
-    try:
-        mixture, hazards, echo = parse_sample(state, t_c, catalog)
-        if state.container is None:
-            echoes["components"] = f"understood: {echo}"
-            echoes["volume"] = f"understood: {mixture.volume_l:g} L"
-    except _FieldError as err:
-        errors[err.field_name] = str(err)
-        if err.missing:
-            missing.add(err.field_name)
-        if err.field_name == "volume" and not state.components.strip():
-            errors["components"] = ("needed: the components, e.g. H2SO4=0.05M NaH2PO4=10mM, "
-                                    "or pick a container")
-            missing.add("components")
-    except CarboyError as err:
-        errors["components"] = str(err)
-    reagent = None
-    if not state.reagent.strip():
-        errors["reagent"] = "needed: pick a stock bottle or type e.g. NaOH=1M or NaHCO3"
-        missing.add("reagent")
-    else:
-        try:
-            reagent = parse_reagent(state.reagent, catalog)
-            echoes["reagent"] = f"understood: {reagent.describe()}"
-        except CarboyError as err:
-            errors["reagent"] = str(err)
-    target = None
-    try:
-        target = _ph(state.target, "target pH")
-        echoes["target"] = f"understood: pH {target:g}"
-    except CarboyError as err:
-        errors["target"] = str(err)
-    window = None
-    try:
-        lo, hi = _ph(state.window_low, "window low pH"), _ph(state.window_high, "window high pH")
-        if not lo < hi:
-            raise InvalidInput("window", f"{state.window_low}–{state.window_high}",
-                               "the low edge must be below the high edge")
-        window = (lo, hi)
-        echoes["window"] = f"window pH {lo:g}–{hi:g}; local rules set the real one"
-    except CarboyError as err:
-        errors["window"] = str(err)
-    direction = None
-    if mixture is not None and target is not None:
-        try:
-            from carboy.model.speciation import speciate
-
-            ph0 = speciate(mixture, activity="ideal" if state.ideal else "davies",
-                           catalog=catalog).pH
-            direction = "base" if ph0 < target else "acid"
-        except CarboyError:
-            direction = None
-    plan = None
-    if not errors:
-        try:
-            plan = plan_neutralization(
-                mixture, reagent, target_pH=target, window=window,
-                activity="ideal" if state.ideal else "davies", catalog=catalog,
-                hazards=hazards, curve_points=CURVE_POINTS)
-            direction = plan.direction
-        except (InvalidInput, UnknownCompound) as err:
-            name = _PLANNER_FIELDS.get(getattr(err, "what", ""), "reagent")
-            errors[name] = str(err)
-        except TemperatureOutOfRange as err:
-            errors["temperature"] = str(err)
-        except CarboyError as err:
-            errors["plan"] = f"the planner could not finish: {err}"
-        except Exception as err:  # noqa: BLE001 - shown in place, never as a traceback
-            errors["plan"] = f"the planner failed ({type(err).__name__}: {err})"
-    return Outcome(generation, state, plan, errors, echoes, frozenset(missing), direction,
-                   (time.perf_counter() - started) * 1000.0)
-
-
-# -- reading the store (inside worker threads) ------------------------------------------
-
-def bottle_text(bottle) -> str | None:
-    """The reagent or component text a stock bottle stands for (``NaOH=1M``…)."""
-    strength = (bottle.current_strength if bottle.current_strength is not None
-                else bottle.label_strength)
-    value = f"{strength:.6g}"
-    if bottle.strength_unit == "M":
-        return f"{bottle.compound_key}={value}M"
-    if bottle.amount_unit == "g":
-        return f"{bottle.compound_key}@{value}%"
-    return f"{bottle.compound_key}={value}%"
-
-
-def load_choices(store, today: date | None) -> tuple[list[BottleChoice], list[tuple[str, str]]]:
-    """Bottles that can serve (reagents, samples) and every container as (label, status)."""
-    from carboy.store import stock, waste
-
-    seen: set[tuple[int, str]] = set()
-    choices: list[BottleChoice] = []
-    wanted = [(k, "base") for k in REAGENT_BASES] + [(k, "acid") for k in REAGENT_ACIDS]
-    wanted += [(k, "sample") for k in SAMPLE_COMPOUNDS]
-    for key, kind in wanted:
-        found = stock.page(store, key, status="in-use", limit=BOTTLES_PER_COMPOUND, today=today)
-        for b in found.bottles:
-            if b.compound_key != key or (kind == "sample" and b.amount_unit != "L"):
-                continue
-            if (b.id, kind) in seen:
-                continue
-            seen.add((b.id, kind))
-            text = bottle_text(b)
-            flag = "" if b.strength_status == "current" else f" [{b.strength_status}]"
-            title = (f"#{b.id} {b.compound_key} {b.strength_text}{flag} · "
-                     f"{b.amount_left:g} {b.amount_unit}")
-            choices.append(BottleChoice(b.id, key, text, title, kind, b.amount_left,
-                                        b.amount_unit))
-    containers = [(c.label, c.status) for c in waste.containers(store)]
-    return choices, containers
-
-
-def load_container_info(store, label: str) -> tuple[ContainerInfo, object]:
-    """The container and the catalog its additions were logged against."""
-    from carboy.store import waste
-    from carboy.store.compounds import catalog_for
-
-    catalog = catalog_for(store)
-    shown = waste.show(store, label)
-    hazards: set[str] = set()
-    for add in shown["additions"]:
-        if add["superseded"]:
-            continue
-        if add["compound_key"] in catalog:
-            hazards |= catalog.compound(add["compound_key"]).hazards
-    info = ContainerInfo(label=shown["label"], status=shown["status"],
-                         volume_l=float(shown["volume_l"]),
-                         capacity_l=float(shown["capacity_l"]), location=shown["location"],
-                         moles=dict(shown["composition"]), hazards=frozenset(hazards),
-                         notes=shown.get("notes", ""))
-    return info, catalog
-
-
-# -- messages ------------------------------------------------------------------------------
-
-class PlanComputed(Message):
-    def __init__(self, outcome: Outcome) -> None:
-        super().__init__()
-        self.outcome = outcome
-
-
-class ChoicesLoaded(Message):
-    def __init__(self, choices, containers, catalog, error: str = "") -> None:
-        super().__init__()
-        self.choices, self.containers, self.catalog, self.error = choices, containers, catalog, error
-
-
-class ContainerLoaded(Message):
-    def __init__(self, label: str, info: ContainerInfo | None, catalog, error: str = "") -> None:
-        super().__init__()
-        self.label, self.info, self.catalog, self.error = label, info, catalog, error
-
-
-class Recorded(Message):
-    def __init__(self, label: str, entry_id: int | None, measured_ph, error: str = "") -> None:
-        super().__init__()
-        self.label, self.entry_id, self.measured_ph, self.error = label, entry_id, measured_ph, error
-
-
-# -- the record dialog -------------------------------------------------------------------
-
 @dataclass(frozen=True)
-class RecordRequest:
-    measured_ph: float | None
-    who: str
+class FormState:
+    """The form as typed, with the container it is about (nothing parsed yet)."""
+
+    fields: NeutralizeFields
+    container: ContainerSample | None = None
+    sample_note: str = ""
 
 
-NOT_MEASURED = ("", "-", "none", "not measured", "n/a", "na")
+def compute(state: FormState, generation: int = 0, catalog=None) -> Outcome:
+    """Read and plan the form (never raises: errors come back by field)."""
+    from carboy.model.catalog import default_catalog
 
-
-def parse_measured_ph(text: str) -> float | None:
-    """``''`` or ``'not measured'`` -> None; ``'7,2'`` -> 7.2; outside 0–14 raises."""
-    if (text or "").strip().lower() in NOT_MEASURED:
-        return None
-    return _ph(text, "measured pH")
-
-
-class RecordDialog(ModalScreen[RecordRequest | None]):
-    """Ask for the pH measured and who did it, then ask once more before writing."""
-
-    BINDINGS = [Binding("escape", "cancel", "Cancel", id="neutralize.record.cancel")]
-
-    DEFAULT_CSS = """
-    RecordDialog { align: center middle; }
-    RecordDialog > #record-box {
-        width: 72; max-width: 100%; height: auto; max-height: 100%;
-        border: heavy $foreground; padding: 0 1; background: $surface;
-    }
-    RecordDialog .rd-row { height: 1; margin-top: 1; }
-    RecordDialog .rd-row > Label { width: 14; }
-    RecordDialog .rd-row > Input { width: 1fr; }
-    RecordDialog #measured-echo { padding-left: 14; height: auto; }
-    RecordDialog #measured-echo.-error { text-style: bold; color: $text-error; }
-    RecordDialog #confirm-text { display: none; height: auto; margin-top: 1; text-style: bold; }
-    RecordDialog.-confirming #confirm-text { display: block; }
-    RecordDialog #rd-buttons { height: auto; margin-top: 1; align-horizontal: right; }
-    RecordDialog #rd-buttons > Button { margin-left: 2; }
-    """
-
-    def __init__(self, container: ContainerInfo, plan_line: str, who: str,
-                 drain_plan: bool) -> None:
-        super().__init__()
-        self.container = container
-        self.plan_line = plan_line
-        self.default_who = who
-        self.drain_plan = drain_plan
-        self.request: RecordRequest | None = None
-
-    def compose(self) -> ComposeResult:
-        with Vertical(id="record-box"):
-            yield Static(f"Record the neutralization of {self.container.label}", classes="bold")
-            yield Static(self.plan_line, id="rd-plan", markup=False)
-            if not self.drain_plan:
-                yield Static("‼ NOT FOR DRAIN DISPOSAL: this container goes to licensed "
-                             "disposal whatever pH it reaches.", markup=False)
-            with Horizontal(classes="rd-row"):
-                yield Label("pH measured")
-                yield Input(placeholder="e.g. 7,2 — empty if not measured", id="measured",
-                            compact=True)
-            yield Static(self._echo(""), id="measured-echo", markup=False)
-            with Horizontal(classes="rd-row"):
-                yield Label("who")
-                yield Input(self.default_who, id="who", compact=True)
-            yield Static("", id="confirm-text", markup=False)
-            with Horizontal(id="rd-buttons"):
-                yield Button("Record…", id="rd-ok", compact=True)
-                yield Button("Cancel", id="rd-cancel", compact=True)
-
-    def on_mount(self) -> None:
-        self.query_one("#measured", Input).focus()
-
-    def _next_status(self, ph: float | None) -> str:
-        return "planned" if ph is None else "neutralized"
-
-    def _echo(self, text: str) -> str:
-        try:
-            ph = parse_measured_ph(text)
-        except CarboyError as err:
-            return f"✗ {err}"
-        now = self.container.status
-        if ph is None:
-            return f"not measured: the plan is recorded, {now} → planned"
-        return f"understood: pH {ph:g}; {self.container.label} {now} → neutralized"
-
-    @on(Input.Changed, "#measured")
-    def _measured_changed(self, event: Input.Changed) -> None:
-        echo = self.query_one("#measured-echo", Static)
-        text = self._echo(event.value)
-        echo.update(text)
-        echo.set_class(text.startswith("✗"), "-error")
-        self._back_to_edit()
-
-    @on(Input.Changed, "#who")
-    def _who_changed(self) -> None:
-        self._back_to_edit()
-
-    def _back_to_edit(self) -> None:
-        if self.has_class("-confirming"):
-            self.remove_class("-confirming")
-            self.query_one("#rd-ok", Button).label = "Record…"
-            self.query_one("#rd-cancel", Button).label = "Cancel"
-            self.request = None
-
-    @on(Input.Submitted)
-    def _submitted(self) -> None:
-        self._press_ok()
-
-    @on(Button.Pressed, "#rd-ok")
-    def _press_ok(self) -> None:
-        if self.request is not None:
-            self.dismiss(self.request)
-            return
-        try:
-            ph = parse_measured_ph(self.query_one("#measured", Input).value)
-        except CarboyError as err:
-            echo = self.query_one("#measured-echo", Static)
-            echo.update(f"✗ {err}")
-            echo.add_class("-error")
-            self.query_one("#measured", Input).focus()
-            return
-        who = self.query_one("#who", Input).value.strip()
-        if not who:
-            echo = self.query_one("#measured-echo", Static)
-            echo.update("✗ who: say who did the work")
-            echo.add_class("-error")
-            self.query_one("#who", Input).focus()
-            return
-        self.request = RecordRequest(ph, who)
-        measured = "pH not measured" if ph is None else f"measured pH {ph:g}"
-        self.query_one("#confirm-text", Static).update(
-            f"Append to the journal: {self.container.label}, {measured}, by {who}. "
-            f"{self.container.label} moves {self.container.status} → {self._next_status(ph)}. "
-            "Journal entries are permanent (a mistake is corrected by a new entry). "
-            "Confirm?")
-        self.add_class("-confirming")
-        self.query_one("#rd-ok", Button).label = "Confirm"
-        self.query_one("#rd-cancel", Button).label = "Back"
-        self.query_one("#rd-ok", Button).focus()
-
-    @on(Button.Pressed, "#rd-cancel")
-    def _press_cancel(self) -> None:
-        if self.request is not None:
-            self._back_to_edit()
-            self.query_one("#measured", Input).focus()
-        else:
-            self.dismiss(None)
-
-    def action_cancel(self) -> None:
-        self.dismiss(None)
+    reading = evaluate(state.fields, catalog or default_catalog(), state.container,
+                       curve_points=CURVE_POINTS)
+    return Outcome(generation, state, reading)
 
 
 # -- the screen ----------------------------------------------------------------------------
@@ -589,79 +90,20 @@ class NeutralizeScreen(Screen):
     """Plan a neutralization and record it against a waste container."""
 
     DEFAULT_CSS = """
-    NeutralizeScreen {
-        layout: vertical;
-    }
-
-    #nz-main {
-        height: 1fr;
-    }
-
-    #nz-form {
-        width: 38;
-        height: 1fr;
-        border-right: vkey $foreground 30%;
-        scrollbar-size-vertical: 1;
-    }
-
-    #nz-form > .nz-row {
-        height: 1;
-        margin-top: 0;
-    }
-
-    #nz-form > .nz-row > Label {
-        width: 10;
-        text-style: bold;
-    }
-
-    #nz-form > .nz-row > Input,
-    #nz-form > .nz-row > Select {
-        width: 1fr;
-    }
-
-    #nz-form > .nz-row > .nz-dash {
-        width: 3;
-        content-align: center middle;
-    }
-
-    #nz-form > .nz-row > Checkbox {
-        border: none;
-        padding: 0;
-        height: 1;
-        width: 1fr;
-        background: transparent;
-    }
-
-    #nz-form > .nz-echo {
-        height: auto;
-        padding-left: 2;
-        color: $text-muted;
-    }
-
-    #nz-form > .nz-echo.-error {
-        color: $text-error;
-        text-style: bold;
-    }
-
-    #nz-form Input.-invalid {
-        text-style: underline;
-    }
-
-    #nz-views {
-        width: 1fr;
-        height: 1fr;
-    }
-
-    #nz-views TabPane {
-        padding: 0;
-    }
-
-    #nz-status {
-        height: 1;
-        padding: 0 1;
-        background: $boost;
-        text-style: bold;
-    }
+    NeutralizeScreen { layout: vertical; }
+    #nz-main { height: 1fr; }
+    #nz-form { width: 38; height: 1fr; border-right: vkey $foreground 30%; scrollbar-size-vertical: 1; }
+    #nz-form > .nz-row { height: 1; margin-top: 0; }
+    #nz-form > .nz-row > Label { width: 10; text-style: bold; }
+    #nz-form > .nz-row > Input, #nz-form > .nz-row > Select { width: 1fr; }
+    #nz-form > .nz-row > .nz-dash { width: 3; content-align: center middle; }
+    #nz-form > .nz-row > Checkbox { border: none; padding: 0; height: 1; width: 1fr; background: transparent; }
+    #nz-form > .nz-echo { height: auto; padding-left: 2; color: $text-muted; }
+    #nz-form > .nz-echo.-error { color: $text-error; text-style: bold; }
+    #nz-form Input.-invalid { text-style: underline; }
+    #nz-views { width: 1fr; height: 1fr; }
+    #nz-views TabPane { padding: 0; }
+    #nz-status { height: 1; padding: 0 1; background: $boost; text-style: bold; }
     """
 
     BINDINGS = [
@@ -684,21 +126,16 @@ class NeutralizeScreen(Screen):
         self.outcome: Outcome | None = None
         """The latest outcome shown (good or with errors)."""
         self.stale = False
-        self.container: ContainerInfo | None = None
+        self.container: ContainerSample | None = None
         self.sample_note = ""
         self.last_journal_id: int | None = None
         self._recorded_label: str | None = None
         self.choices: list[BottleChoice] = []
         self.containers: list[tuple[str, str]] = []
         self._catalog = None
-        self._generation = 0
-        self._planning = False
-        self._dirty = False
-        self._debounce = None
-        self._last_change = 0.0
+        self.live = LiveComputation(self, self._start_plan)
         self._pending_label: str | None = None
         self._reagent_options: list | None = None
-        self._options: dict[str, set] = {}
         self._composed = False
 
     # -- layout --------------------------------------------------------------------------
@@ -708,8 +145,8 @@ class NeutralizeScreen(Screen):
             with VerticalScroll(id="nz-form"):
                 with Horizontal(classes="nz-row"):
                     yield Label("Sample")
-                    yield Select([(_typed_title(), TYPED)], value=TYPED, allow_blank=False,
-                                 compact=True, id="sample-source")
+                    yield QuietSelect([(TYPED_TITLE, TYPED)], value=TYPED, allow_blank=False,
+                                      compact=True, id="sample-source")
                 yield Static("typed in below", id="sample-info", classes="nz-echo",
                              markup=False)
                 with Horizontal(classes="nz-row", id="row-components"):
@@ -723,8 +160,8 @@ class NeutralizeScreen(Screen):
                 yield Static("", id="echo-volume", classes="nz-echo", markup=False)
                 with Horizontal(classes="nz-row"):
                     yield Label("Stock")
-                    yield Select([], prompt="reagent bottle…", compact=True,
-                                 id="reagent-bottle")
+                    yield QuietSelect([], prompt="reagent bottle…", compact=True,
+                                      id="reagent-bottle")
                 with Horizontal(classes="nz-row"):
                     yield Label("Reagent")
                     yield Input(placeholder="NaOH=1M, NaOH=50%, NaHCO3", id="reagent",
@@ -789,17 +226,17 @@ class NeutralizeScreen(Screen):
 
     @work(thread=True, exclusive=True, group="neutralize-lists", exit_on_error=False)
     def _load_choices(self) -> None:
-        try:
-            from carboy.store.compounds import catalog_for
+        from carboy.store import planning, waste
+        from carboy.store.compounds import catalog_for
 
-            store = self._open_store()
-            try:
+        try:
+            with self._open_store() as store, store.reading():
                 catalog = catalog_for(store)
-                choices, containers = load_choices(store, getattr(self.app, "today", None))
-            finally:
-                store.close()
+                choices = planning.choices(store, getattr(self.app, "today", None))
+                containers = [(c.label, c.status) for c in waste.containers(store)]
         except Exception as err:  # noqa: BLE001 - reported in place
-            self.post_message(ChoicesLoaded([], [], None, f"stock list unavailable: {err}"))
+            self.post_message(ChoicesLoaded([], [], None,
+                                            f"stock list unavailable: {describe(err)}"))
             return
         self.post_message(ChoicesLoaded(choices, containers, catalog))
 
@@ -810,35 +247,31 @@ class NeutralizeScreen(Screen):
 
     @work(thread=True, exclusive=True, group="neutralize-container", exit_on_error=False)
     def _load_container(self, label: str) -> None:
+        from carboy.store.planning import container_sample
+
         try:
-            store = self._open_store()
-            try:
-                info, catalog = load_container_info(store, label)
-            finally:
-                store.close()
+            with self._open_store() as store:
+                info, catalog = container_sample(store, label)
         except Exception as err:  # noqa: BLE001 - reported in place
-            self.post_message(ContainerLoaded(label, None, None, str(err)))
+            self.post_message(ContainerLoaded(label, None, None, describe(err)))
             return
         self.post_message(ContainerLoaded(label, info, catalog))
 
     @work(thread=True, exclusive=True, group="neutralize-plan", exit_on_error=False)
     def _plan(self, state: FormState, generation: int, catalog) -> None:
-        self.post_message(PlanComputed(compute(state, generation, catalog)))
+        self.post_message(Computed(compute(state, generation, catalog)))
 
     @work(thread=True, exclusive=True, group="neutralize-record", exit_on_error=False)
     def _record(self, label: str, snapshot: dict, request: RecordRequest) -> None:
         from carboy.store import waste
 
         try:
-            store = self._open_store()
-            try:
+            with self._open_store() as store:
                 entry = waste.record_neutralization(
                     store, label, snapshot, request.measured_ph, who=request.who,
                     today=getattr(self.app, "today", None))
-            finally:
-                store.close()
         except Exception as err:  # noqa: BLE001 - reported in place
-            self.post_message(Recorded(label, None, request.measured_ph, str(err)))
+            self.post_message(Recorded(label, None, request.measured_ph, describe(err)))
             return
         self.post_message(Recorded(label, entry, request.measured_ph))
 
@@ -868,23 +301,19 @@ class NeutralizeScreen(Screen):
             self._catalog = message.catalog
         self.container = message.info
         self.sample_note = ""
-        info.update(self.container.summary())
+        info.update(container_summary(self.container))
         self._set_sample_inputs_enabled(False)
-        self._quietly_select("#sample-source", f"c:{self.container.label}")
+        label = self.container.label
+        self.query_one("#sample-source", QuietSelect).select_quietly(f"c:{label}")
         focused = self.focused
         if focused is None or not focused.is_attached or isinstance(focused, Input) and focused.disabled:
             self.query_one("#reagent", Input).focus()
         self.refresh_bindings()
         self._inputs_changed()
 
-    def on_plan_computed(self, message: PlanComputed) -> None:
-        self._planning = False
-        outcome = message.outcome
-        if outcome.generation == self._generation:
-            self._apply(outcome)
-        if self._dirty:
-            self._dirty = False
-            self._start_plan()
+    def on_computed(self, message: Computed) -> None:
+        if self.live.finished(message.outcome.generation):
+            self._apply(message.outcome)
         self.refresh_bindings()
 
     def on_recorded(self, message: Recorded) -> None:
@@ -918,7 +347,7 @@ class NeutralizeScreen(Screen):
     @on(Select.Changed, "#sample-source")
     def _sample_source_changed(self, event: Select.Changed) -> None:
         # Only the user's own choice counts (a Select also reports values set in code).
-        if event.value is Select.NULL or not self._chosen_by_user(event.select):
+        if event.value is Select.NULL or not event.select.chosen_by_user():
             return
         value = str(event.value)
         if value == TYPED:
@@ -932,22 +361,18 @@ class NeutralizeScreen(Screen):
         elif value.startswith("b:"):
             choice = next((c for c in self.choices if f"b:{c.bottle_id}" == value
                            and c.kind == "sample"), None)
-            if choice is not None and self.sample_note != _bottle_note(choice):
+            if choice is not None and self.sample_note != f"stock bottle #{choice.bottle_id}":
                 self._use_bottle_as_sample(choice)
 
     @on(Select.Changed, "#reagent-bottle")
     def _reagent_bottle_changed(self, event: Select.Changed) -> None:
-        if event.value is Select.NULL or not self._chosen_by_user(event.select):
+        if event.value is Select.NULL or not event.select.chosen_by_user():
             return
         choice = next((c for c in self.choices if c.kind != "sample"
                        and f"r:{c.bottle_id}" == event.value), None)
         reagent = self.query_one("#reagent", Input)
         if choice is not None and reagent.value != choice.text:
             reagent.value = choice.text
-
-    def _chosen_by_user(self, select: Select) -> bool:
-        focused = self.focused
-        return focused is not None and select in focused.ancestors_with_self
 
     # -- actions ---------------------------------------------------------------------------
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
@@ -964,7 +389,7 @@ class NeutralizeScreen(Screen):
         return True
 
     def _plan_is_current(self) -> bool:
-        return (not self.stale and not self._planning and self.plan_state is not None
+        return (not self.stale and self.live.settled and self.plan_state is not None
                 and self.plan_state == self._form_state())
 
     def action_record(self) -> None:
@@ -998,7 +423,7 @@ class NeutralizeScreen(Screen):
         info = self.query_one("#sample-info", Static)
         info.remove_class("-error")
         info.update("typed in below")
-        self._quietly_select("#sample-source", TYPED)
+        self.query_one("#sample-source", QuietSelect).select_quietly(TYPED)
         self.query_one("#components", Input).focus()
         self.refresh_bindings()
         self._inputs_changed()
@@ -1011,66 +436,52 @@ class NeutralizeScreen(Screen):
         def text(wid: str) -> str:
             return self.query_one(f"#{wid}", Input).value
 
-        return FormState(
+        fields = NeutralizeFields(
             components=text("components"), volume=text("volume"),
             temperature=text("temperature"), reagent=text("reagent"), target=text("target"),
             window_low=text("window_low"), window_high=text("window_high"),
-            ideal=self.query_one("#ideal", Checkbox).value, container=self.container,
-            sample_note=self.sample_note)
+            activity="ideal" if self.query_one("#ideal", Checkbox).value else "davies")
+        return FormState(fields, self.container, self.sample_note)
 
     def _inputs_changed(self) -> None:
         if not self._composed:
             return
-        self._generation += 1
-        now = time.monotonic()
-        quiet = now - self._last_change >= DEBOUNCE_S
-        self._last_change = now
-        if self._debounce is not None:
-            self._debounce.stop()
-            self._debounce = None
-        if quiet and not self._planning:
-            self._start_plan()
-        else:
-            self._debounce = self.set_timer(DEBOUNCE_S, self._start_plan)
+        self.live.changed()
         self.refresh_bindings()
 
-    def _start_plan(self) -> None:
-        self._debounce = None
-        if self._planning:
-            self._dirty = True
-            return
-        self._planning = True
+    def _start_plan(self, generation: int) -> None:
         self._set_status("… planning", keep_result=True)
-        self._plan(self._form_state(), self._generation, self._catalog)
+        self._plan(self._form_state(), generation, self._catalog)
 
     def _apply(self, outcome: Outcome) -> None:
         self.outcome = outcome
+        reading = outcome.reading
         for name in FIELDS:
-            reason = outcome.errors.get(name)
-            if name in outcome.missing:
+            reason = reading.errors.get(name)
+            if name in reading.missing:
                 self._show_field(name, None, f"○ {reason}")
             else:
-                self._show_field(name, reason, outcome.echoes.get(name, ""))
-        general = outcome.errors.get("plan")
+                self._show_field(name, reason, reading.echoes.get(name, ""))
+        general = reading.errors.get("plan") or reading.errors.get("sample")
         plan_echo = self.query_one("#echo-plan", Static)
         plan_echo.update(f"✗ {general}" if general else "")
         plan_echo.set_class(bool(general), "-error")
         plan_echo.display = bool(general)
-        if outcome.direction:
-            self._fill_reagent_select(outcome.direction)
+        if reading.direction:
+            self._fill_reagent_select(reading.direction)
         if outcome.ok:
-            self.plan = outcome.plan
+            self.plan = outcome.value
             self.plan_state = outcome.state
             self.stale = False
             self._show_plan()
             what = outcome.state.container.label if outcome.state.container else "typed sample"
             self._set_status(f"✓ plan up to date: {what}, {self.plan.reagent.key} "
-                             f"({outcome.elapsed_ms:.0f} ms){self._record_note()}")
+                             f"({reading.elapsed_ms:.0f} ms){self._record_note()}")
         else:
             self.stale = self.plan is not None
             self._mark_stale()
-            bad = sorted(set(outcome.errors) - outcome.missing)
-            todo = sorted(outcome.missing)
+            bad = sorted(set(reading.errors) - reading.missing)
+            todo = sorted(reading.missing)
             parts = ([f"check {', '.join(bad)} (marked ✗)"] if bad else []) + (
                 [f"fill in {', '.join(todo)}"] if todo else [])
             if self.plan is not None:
@@ -1127,51 +538,26 @@ class NeutralizeScreen(Screen):
 
     # -- the lists ---------------------------------------------------------------------------
     def _fill_sample_select(self) -> None:
-        options = [(_typed_title(), TYPED)]
-        options += [(f"waste {label} ({status})", f"c:{label}") for label, status in self.containers]
-        options += [(f"bottle {c.title}", f"b:{c.bottle_id}") for c in self.choices
-                    if c.kind == "sample"]
-        if self.container is not None:
-            current = f"c:{self.container.label}"
-        else:
-            current = self._current_value("#sample-source") or TYPED
-        if current not in {v for _, v in options}:
-            current = TYPED
-        self._quietly_set_options("#sample-source", options, current)
+        select = self.query_one("#sample-source", QuietSelect)
+        options = sample_options(self.containers, self.choices)
+        current = f"c:{self.container.label}" if self.container else select.current or TYPED
+        select.set_options_quietly(options, current if current in {v for _, v in options}
+                                   else TYPED)
 
     def _fill_reagent_select(self, direction: str | None = None) -> None:
-        kinds = {"base": ("base",), "acid": ("acid",)}.get(direction or "", ("base", "acid"))
-        options = [(c.title, f"r:{c.bottle_id}") for c in self.choices if c.kind in kinds]
+        options, kinds = reagent_options(self.choices, direction)
         if self._reagent_options == options:
             return
         self._reagent_options = options
         text = self.query_one("#reagent", Input).value
         current = next((f"r:{c.bottle_id}" for c in self.choices
                         if c.kind in kinds and c.text == text), None)
-        self._quietly_set_options("#reagent-bottle", options, current)
-
-    def _current_value(self, selector: str):
-        value = self.query_one(selector, Select).value
-        return None if value is Select.NULL else value
-
-    def _quietly_set_options(self, selector: str, options, value) -> None:
-        select = self.query_one(selector, Select)
-        self._options[selector] = {v for _, v in options}
-        with select.prevent(Select.Changed):
-            select.set_options(options)
-            if value is not None and value in self._options[selector]:
-                select.value = value
-
-    def _quietly_select(self, selector: str, value) -> None:
-        select = self.query_one(selector, Select)
-        if value in self._options.get(selector, {TYPED}) and select.value != value:
-            with select.prevent(Select.Changed):
-                select.value = value
+        self.query_one("#reagent-bottle", QuietSelect).set_options_quietly(options, current)
 
     def _use_bottle_as_sample(self, choice: BottleChoice) -> None:
         self.container = None
         self._set_sample_inputs_enabled(True)
-        self.sample_note = _bottle_note(choice)
+        self.sample_note = f"stock bottle #{choice.bottle_id}"
         self.query_one("#components", Input).value = choice.text
         self.query_one("#volume", Input).value = f"{choice.amount_left:g} L"
         self.query_one("#sample-info", Static).update(
@@ -1191,23 +577,8 @@ class NeutralizeScreen(Screen):
         """What the journal keeps: the inputs as typed and the plan as computed now."""
         state = self.plan_state
         reagent_bottle = next((c.bottle_id for c in self.choices
-                               if c.kind != "sample" and c.text == state.reagent), None)
-        return {
-            "inputs": {
-                "container": state.container.label if state.container else None,
-                "reagent": state.reagent, "reagent_bottle_id": reagent_bottle,
-                "target_pH": state.target, "window": [state.window_low, state.window_high],
-                "temperature": state.temperature,
-                "activity": "ideal" if state.ideal else "davies",
-            },
-            "plan": self.plan.to_dict(),
-            "recorded_from": "carboy neutralize screen",
-        }
-
-
-def _bottle_note(choice: BottleChoice) -> str:
-    return f"stock bottle #{choice.bottle_id}"
-
-
-def _typed_title() -> str:
-    return "components typed in"
+                               if c.kind != "sample" and c.text == state.fields.reagent), None)
+        return snapshot(state.fields, self.plan,
+                        container_label=state.container.label if state.container else None,
+                        reagent_bottle_id=reagent_bottle,
+                        recorded_from="carboy neutralize screen")

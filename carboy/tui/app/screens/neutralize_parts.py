@@ -1,0 +1,62 @@
+"""The Neutralize screen's parts: the sample and reagent choosers' options, the container
+summary, and the messages its workers post."""
+
+from __future__ import annotations
+
+from textual.message import Message
+
+from carboy.model.forms.neutralize import ContainerSample, conc_text
+
+TYPED = "typed"
+TYPED_TITLE = "components typed in"
+
+RECORDABLE = ("collecting", "planned")
+"""Container statuses from which a neutralization can be recorded."""
+
+
+def sample_options(containers, choices) -> list[tuple[str, str]]:
+    """The sample chooser: typed components, every container, bottles that can be a sample."""
+    return ([(TYPED_TITLE, TYPED)]
+            + [(f"waste {label} ({status})", f"c:{label}") for label, status in containers]
+            + [(f"bottle {c.title}", f"b:{c.bottle_id}") for c in choices if c.kind == "sample"])
+
+
+def reagent_options(choices, direction: str | None) -> tuple[list[tuple[str, str]], tuple]:
+    """The reagent chooser: bottles of bases (or acids, or both while the direction is
+    unknown), and the kinds offered."""
+    kinds = {"base": ("base",), "acid": ("acid",)}.get(direction or "", ("base", "acid"))
+    return [(c.title, f"r:{c.bottle_id}") for c in choices if c.kind in kinds], kinds
+
+
+def container_summary(c: ContainerSample) -> str:
+    """The lines under the sample chooser when a container is loaded."""
+    comp = ", ".join(f"{k} {conc_text(n / c.volume_l)}" for k, n in c.moles.items()
+                     if c.volume_l > 0)
+    head = (f"{c.label} · {c.status} · {c.volume_l:.3g} L of {c.capacity_l:.3g} L · "
+            f"{c.location}")
+    if c.status not in RECORDABLE:
+        head += f"\nstatus {c.status}: no neutralization can be recorded for it"
+    return head + "\n" + (comp or "(no additions recorded)")
+
+
+# -- messages ------------------------------------------------------------------------------
+
+class ChoicesLoaded(Message):
+    def __init__(self, choices, containers, catalog, error: str = "") -> None:
+        super().__init__()
+        self.choices, self.containers, self.catalog = choices, containers, catalog
+        self.error = error
+
+
+class ContainerLoaded(Message):
+    def __init__(self, label: str, info: ContainerSample | None, catalog,
+                 error: str = "") -> None:
+        super().__init__()
+        self.label, self.info, self.catalog, self.error = label, info, catalog, error
+
+
+class Recorded(Message):
+    def __init__(self, label: str, entry_id: int | None, measured_ph, error: str = "") -> None:
+        super().__init__()
+        self.label, self.entry_id, self.measured_ph = label, entry_id, measured_ph
+        self.error = error

@@ -1,0 +1,106 @@
+"""The neutralization form as a plain object: fields in, a plan or field-named errors out."""
+
+from __future__ import annotations
+
+import pytest
+
+from carboy.errors import InvalidInput, MissingInput
+from carboy.model.forms.neutralize import (
+    ContainerSample,
+    NeutralizeFields,
+    evaluate,
+    read,
+    split_components,
+)
+
+
+def fields(**kw) -> NeutralizeFields:
+    base = {"components": "HCl=0.1M", "volume": "1 L", "reagent": "NaOH=1M"}
+    return NeutralizeFields(**{**base, **kw})
+
+
+def test_components_split_as_people_type_them():
+    assert split_components("H2SO4=0.05M NaH2PO4=10mM") == ["H2SO4=0.05M", "NaH2PO4=10mM"]
+    assert split_components("HCl=0,1 M, H3PO4=10 mM") == ["HCl=0,1 M", "H3PO4=10 mM"]
+    assert split_components("acetic acid=1M") == ["acetic acid=1M"]
+
+
+def test_a_good_form_reads_into_a_request(catalog):
+    reading = read(fields(components="H2SO4=0.05M NaH2PO4=10mM", volume="1,5 L",
+                          target="6,5", temperature="30"), catalog)
+    assert reading.ok and not reading.errors
+    request = reading.value
+    assert request.mixture.volume_l == pytest.approx(1.5)
+    assert request.target_pH == 6.5 and request.window == (6.0, 9.0)
+    assert request.temperature_c == 30.0 and request.activity == "davies"
+    assert reading.echoes["volume"] == "understood: 1.5 L"
+
+
+def test_each_bad_field_is_named_and_carries_its_field(catalog):
+    reading = read(fields(volume="abc mL", target="15", window_low="9", window_high="6",
+                          temperature="500 K"), catalog)
+    assert not reading.ok
+    assert set(reading.errors) == {"volume", "target", "window", "temperature"}
+    assert "abc" in reading.errors["volume"]
+    assert [name for name, _ in reading.problems] == ["temperature", "volume", "target",
+                                                        "window"]
+    assert all(p.field == name for name, p in reading.problems if isinstance(p, InvalidInput))
+
+
+def test_empty_fields_are_missing_not_wrong(catalog):
+    reading = read(NeutralizeFields(), catalog)
+    assert reading.missing == {"components", "volume", "reagent"}
+    assert all(isinstance(p, MissingInput) for _, p in reading.problems)
+    assert reading.errors["volume"].startswith("needed:")
+
+
+def test_a_mass_is_refused_in_a_typed_sample(catalog):
+    reading = read(fields(components="NaF=2 g"), catalog)
+    assert "components" in reading.errors and "mass" in reading.errors["components"]
+
+
+def test_the_sequence_form_of_components_reads_the_same(catalog):
+    a = read(fields(components="HCl=0.1M H3PO4=10mM"), catalog)
+    b = read(fields(components=("HCl=0.1M", "H3PO4=10mM")), catalog)
+    assert a.value.mixture.totals == b.value.mixture.totals
+
+
+def test_a_wrong_direction_reagent_lands_on_the_reagent_field(catalog):
+    out = evaluate(fields(reagent="HCl=1M"), catalog)
+    assert out.value is None
+    assert "needs a base" in out.errors["reagent"]
+    assert out.direction == "base"
+
+
+def test_the_target_changes_the_dose(catalog):
+    at_7 = evaluate(fields(components="CH3COOH=0.1M"), catalog).value.to_target.reagent_mol
+    at_5 = evaluate(fields(components="CH3COOH=0.1M", target="5"),
+                    catalog).value.to_target.reagent_mol
+    assert at_5 < at_7
+
+
+def test_a_container_sample_replaces_typed_components(catalog):
+    container = ContainerSample("X-1", "collecting", 2.0, 10.0, "", {"Cl-": 0.2},
+                                frozenset())
+    out = evaluate(NeutralizeFields(reagent="NaOH=1M"), catalog, container)
+    assert out.ok
+    assert out.value.to_target.reagent_mol == pytest.approx(0.2, rel=1e-3)
+
+
+def test_a_container_with_unknown_contents_is_named(catalog):
+    container = ContainerSample("X-3", "collecting", 1.0, 10.0, "", {"Zz+": 0.1}, frozenset())
+    out = evaluate(NeutralizeFields(reagent="NaOH=1M"), catalog, container)
+    assert not out.ok and "Zz+" in out.errors["sample"]
+
+
+def test_an_empty_container_is_named(catalog):
+    container = ContainerSample("X-2", "collecting", 0.0, 10.0, "", {}, frozenset())
+    out = evaluate(NeutralizeFields(reagent="NaOH=1M"), catalog, container)
+    assert not out.ok and "no recorded volume" in out.errors["sample"]
+
+
+def test_raise_first_gives_the_first_problem(catalog):
+    reading = read(fields(volume="abc mL"), catalog)
+    with pytest.raises(InvalidInput) as caught:
+        reading.raise_first()
+    assert caught.value.field == "volume"
