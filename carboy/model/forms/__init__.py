@@ -91,11 +91,13 @@ class FormReader:
         self.reading.echoes[name] = text
 
     def read(self, name: str, parse: Callable[..., T], *args, **kwargs) -> T | None:
-        """``parse(*args, **kwargs)``, or None with the error recorded against ``name``."""
+        """``parse(*args, **kwargs)``, or None with the error recorded against ``name``
+        (or against the field the error names itself)."""
         try:
             return parse(*args, **kwargs)
         except CarboyError as err:
-            self.fail(name, err)
+            # an error that names its own field (e.g. the purity of a source) goes there
+            self.fail(getattr(err, "field", "") or name, err)
             return None
 
     def failed(self, *names: str) -> bool:
@@ -174,3 +176,19 @@ def read_measured_ph(text: str, what: str = "measured pH", *, field_name: str = 
     if (text or "").strip().lower() in NOT_MEASURED:
         return None
     return read_ph(text, what, field_name=field_name)
+
+
+_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
+
+
+def read_date(text: str, what: str = "date", *, field_name: str = "") -> str:
+    """An ISO date ``YYYY-MM-DD`` that exists, returned in the same form."""
+    from datetime import date
+
+    raw = (text or "").strip()
+    if not _DATE.match(raw):
+        raise InvalidInput(what, text, "expected a date as YYYY-MM-DD", field=field_name)
+    try:
+        return date.fromisoformat(raw).isoformat()
+    except ValueError:
+        raise InvalidInput(what, text, "is not a real date", field=field_name) from None

@@ -90,14 +90,16 @@ def group(sub, name: str, *, help: str, description: str):  # noqa: A002
 
 
 def first_problem(reading, options: dict[str, str]):
-    """A form's value, or its first problem as one command-line error: a missing value
-    names the option that gives it (``--volume: needed: …``)."""
+    """A form's value, or its first problem as one command-line error that names the
+    option it came from (``--volume: needed: …``, ``--purity: purity '99': …``)."""
     from carboy.errors import MissingInput
 
     if reading.ok:
         return reading.value
     name, problem = reading.problems[0] if reading.problems else ("", None)
+    option = options.get(name)
     if isinstance(problem, MissingInput):
-        option = options.get(name, name)
-        raise UsageError(f"{option}: {problem.reason}")
+        raise UsageError(f"{option or name}: {problem.reason}")
+    if option and problem is not None and not str(problem).startswith(option):
+        raise UsageError(f"{option}: {problem}")
     return reading.raise_first()

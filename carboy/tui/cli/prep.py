@@ -4,10 +4,12 @@ and, with ``--record``, the preparation written to the database."""
 from __future__ import annotations
 
 import argparse
-import re
-from datetime import date, timedelta
+from datetime import date
 
-from carboy.tui.cli.kit import EXIT_OK, UsageError, emit_json
+from carboy.model.forms import bottle_ref
+from carboy.model.forms.prepare import PrepareFields
+from carboy.tui.cli.kit import EXIT_OK, emit_json, first_problem, open_store
+from carboy.tui.wording import heat_text
 
 EXAMPLES = """examples:
   carboy prep --from H2SO4=96% --target 1M --volume 1L
@@ -19,9 +21,6 @@ EXAMPLES = """examples:
 STOCK is COMPOUND=STRENGTH (a molarity or %w/w), a solid's formula (hydrates as
 CuSO4·5H2O or CuSO4.5H2O; NaOH@97% gives an assay), or a stock bottle id.
 """
-
-_BOTTLE_ID = re.compile(r"^#?\s*(\d+)$")
-
 
 def register(sub) -> None:
     p = sub.add_parser(
@@ -55,160 +54,42 @@ def register(sub) -> None:
     p.set_defaults(func=run)
 
 
-def _volumes(args, n: int) -> list[float]:
-    from carboy.model import quantities
-
-    vols = [quantities.volume_l(v, "final volume") for v in args.volume]
-    if len(vols) == 1:
-        return vols * n
-    if len(vols) != n:
-        raise UsageError(f"--volume given {len(vols)} times for {n} targets: give it once, or "
-                         "once per --target")
-    return vols
+OPTIONS = {"source": "--from", "target": "--target", "volume": "--volume",
+           "purity": "--purity", "temperature": "--temperature", "expires": "--expires"}
+"""The option that carries each field of the preparation form."""
 
 
-def _targets(args) -> list[float]:
-    from carboy.model import quantities
-
-    return [quantities.concentration_molar(t, "target concentration") for t in args.target]
-
-
-def source_from_bottle(bottle, catalog):  # also used by the Prepare screen
-    """A preparation Source for a stock bottle: its measured strength if any, else its label."""
-    from carboy.model import preparation
-
-    compound = catalog.compound(bottle.compound_key)
-    value = bottle.current_strength if bottle.current_strength is not None \
-        else bottle.label_strength
-    basis = "measured" if bottle.current_strength is not None else "label"
-    if bottle.amount_unit == "g":
-        purity = value if bottle.strength_unit == "%w/w" else 100.0
-        return preparation.solid_source(compound, purity_percent=purity, catalog=catalog)
-    if bottle.strength_unit == "M":
-        return preparation.solution_source(compound, conc_molar=value, basis=basis,
-                                           catalog=catalog)
-    return preparation.solution_source(compound, mass_percent=value, basis=basis,
-                                       catalog=catalog)
-
-
-def _source_from_text(text: str, purity: str | None, catalog):
-    from carboy.model import preparation, quantities
-
-    text = text.strip()
-    if "@" in text:
-        formula, _, assay = text.partition("@")
-        if purity is not None:
-            raise UsageError(f"source {text!r}: give the assay once, either @P or --purity")
-        purity = assay
-        text = formula.strip()
-    source = preparation.parse_source(text, catalog=catalog)
-    if purity is not None:
-        if source.kind != "solid":
-            raise UsageError(f"--purity {purity!r}: only a solid has an assay; a solution's "
-                             "strength goes after '=', e.g. H2SO4=96%")
-        source = preparation.solid_source(source.compound, purity_percent=quantities.percent(
-            purity, "assay"), catalog=catalog)
-    return source
-
-
-def amount_used(recipe, unit: str) -> str:
-    """What a recipe draws from a bottle kept in ``unit`` (``L`` or ``g``), as text."""
-    if unit == "g" or recipe.stock_volume_ml is None:
-        return f"{recipe.stock_mass_g:.6g} g"
-    return f"{recipe.stock_volume_ml:.6g} mL"
-
-
-def new_bottle_fields(recipe, today: date, *, location: str = "", lot: str = "",
-                      expires: str | None = None) -> dict:
-    """The stock-bottle fields of what a recipe makes (also used by the Prepare screen);
-    expiry defaults to the storeroom shelf life of the compound."""
-    from carboy.model import upkeep
-
-    expires = expires or (today + timedelta(
-        days=upkeep.shelf_life_days(recipe.source.compound.key))).isoformat()
-    return {"compound": recipe.source.compound.key,
-            "label_strength": f"{recipe.target_molar:.6g} M",
-            "container_size": f"{recipe.final_volume_ml:.6g} mL",
-            "location": location, "lot": lot, "received_on": today.isoformat(),
-            "opened_on": today.isoformat(), "expires_on": expires,
-            "notes": f"prepared from {recipe.source.label}"}
-
-
-def label_for(recipe, fields: dict, who: str):
-    """The label of the bottle a recipe makes, from its fields (see new_bottle_fields)."""
-    from carboy.model import labels
-
-    return labels.make_label(
-        recipe.source.compound, conc_text=f"{recipe.target_molar:.4g} M",
-        mass_percent=recipe.final_mass_percent, prepared_on=fields["received_on"],
-        prepared_by=who, expires_on=fields["expires_on"], lot=fields["lot"] or None,
-        source_text=recipe.source.label)
-
-
-def _fields(recipe, args, today: date) -> dict:
-    return new_bottle_fields(recipe, today, location=args.location, lot=args.lot,
-                             expires=args.expires)
+def fields_of(args) -> PrepareFields:
+    """The preparation form as the command line fills it."""
+    return PrepareFields(source=args.source, target=tuple(args.target),
+                         volume=tuple(args.volume), purity=args.purity or "",
+                         temperature=args.temperature, location=args.location, lot=args.lot,
+                         expires=args.expires or "")
 
 
 def build(args):
     """The recipes, their labels and (with --record) what was written; no output."""
-    from carboy.model import preparation, quantities
     from carboy.model.catalog import default_catalog
+    from carboy.store import preparing
     from carboy.store.db import current_user
 
-    targets = _targets(args)
-    volumes = _volumes(args, len(targets))
-    t_c = quantities.temperature_c(args.temperature, "water temperature")
-    today = date.today()
-    who = (args.by or "").strip() or current_user()
-    match = _BOTTLE_ID.match(args.source.strip())
-    if args.expires:
-        from carboy.store.stock import parse_date
+    fields = fields_of(args)
+    plan = {"today": date.today(), "prepared_by": (args.by or "").strip() or current_user()}
+    if bottle_ref(args.source) is None and not args.record:
+        made = first_problem(preparing.evaluate(None, fields, default_catalog(), **plan),
+                             OPTIONS)
+        return made.recipes, made.labels, None
+    from carboy.store.compounds import catalog_for
 
-        parse_date(args.expires, "expiry date")
-    needs_store = bool(match) or args.record
-    if needs_store:
-        from carboy.store import stock
-        from carboy.store.compounds import catalog_for
-        from carboy.tui.cli.kit import open_store
-
-        with open_store(args) as store:
-            catalog = catalog_for(store)
-            bottle = stock.get(store, match.group(1)) if match else None
-            if bottle is not None and args.purity is not None:
-                raise UsageError("--purity: a bottle's own assay or strength is used")
-            source = source_from_bottle(bottle, catalog) if bottle else \
-                _source_from_text(args.source, args.purity, catalog)
-            recipes = _plan(preparation, source, targets, volumes, t_c)
-            fields = [_fields(r, args, today) for r in recipes]
-            labels_ = [label_for(r, f, who) for r, f in zip(recipes, fields)]
-            recorded = None
-            if args.record:
-                steps = []
-                for k, (recipe, f) in enumerate(zip(recipes, fields)):
-                    if k == 0:
-                        src = bottle.id if bottle else None
-                        used = amount_used(recipe, bottle.amount_unit) if bottle else None
-                    else:
-                        src, used = stock.PREVIOUS, amount_used(recipe, "L")
-                    steps.append(stock.PreparationStep(
-                        src, used, f, snapshot={"recipe": recipe.to_dict(),
-                                                "label": labels_[k].to_dict()}))
-                made = stock.prepare_series(store, steps, who=who)
-                recorded = [{"entry_id": m.entry_id, "new_bottle_id": m.new_bottle_id,
-                             "source_left": m.source_left} for m in made]
-        return recipes, labels_, recorded
-    catalog = default_catalog()
-    source = _source_from_text(args.source, args.purity, catalog)
-    recipes = _plan(preparation, source, targets, volumes, t_c)
-    labels_ = [label_for(r, _fields(r, args, today), who) for r in recipes]
-    return recipes, labels_, None
-
-
-def _plan(preparation, source, targets, volumes, t_c):
-    if len(targets) == 1:
-        return (preparation.plan_recipe(source, targets[0], volumes[0], temperature_c=t_c),)
-    return preparation.plan_series(source, targets, volumes)
+    with open_store(args) as store:
+        reading = preparing.evaluate(store, fields, catalog_for(store), **plan)
+        made = first_problem(reading, OPTIONS)
+        recorded = None
+        if args.record:
+            done = preparing.record(store, made, reading.bottle)
+            recorded = [{"entry_id": m.entry_id, "new_bottle_id": m.new_bottle_id,
+                         "source_left": m.source_left} for m in done]
+    return made.recipes, made.labels, recorded
 
 
 def run(args) -> int:
@@ -240,25 +121,8 @@ def run(args) -> int:
     return EXIT_OK
 
 
-def heat_text(recipe) -> str:
-    """The heat line of a recipe: how much, and how warm it gets while mixing and after."""
-    if recipe.heat_kj is None:
-        return "not estimated (no published data held for this solution)"
-    if recipe.heat_kj < 0:
-        text = f"about {-recipe.heat_kj:.2g} kJ taken up (it cools)"
-    else:
-        text = f"about {recipe.heat_kj:.2g} kJ released"
-    mixing = getattr(recipe, "mixing_rise_c", None)
-    if mixing is not None and recipe.temperature_rise_c is not None:
-        text += (f"; about {mixing:+.1f} K while mixing, {recipe.temperature_rise_c:+.1f} K "
-                 "once made up")
-    elif recipe.temperature_rise_c is not None:
-        text += f"; temperature change about {recipe.temperature_rise_c:+.1f} K"
-    return text
-
-
 def render_recipe(recipe) -> str:
-    """A recipe as plain text (also used by the Prepare screen)."""
+    """A recipe as plain text."""
     src = recipe.source
     lines = [f"{recipe.final_volume_ml:.6g} mL of {recipe.target_molar:.4g} M "
              f"{src.compound.key} from {src.label}"]

@@ -12,7 +12,6 @@ journals it, all or nothing.
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass, field
 
 from rich.text import Text
@@ -21,20 +20,18 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, VerticalScroll
 from textual.screen import Screen
-from textual.timer import Timer
 from textual.widgets import Footer, Input, Static, TabbedContent, TabPane
 
-from carboy.errors import CarboyError
+from carboy.model.forms.prepare import PrepareFields, amount_used
+from carboy.tui.app.live import LiveComputation
 from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.field_row import FieldRow
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.plan_view import CautionsPanel
-from carboy.tui.app.workers import describe
-from carboy.tui.cli.prep import amount_used, heat_text, label_for, new_bottle_fields
+from carboy.tui.edge import describe
+from carboy.tui.wording import heat_text
 
-DEBOUNCE_S = 0.15
 FIELDS = ("source", "target", "volume", "location")
-BOTTLE_ID = re.compile(r"^#?\s*(\d+)$")
 PREP_NOTE = ("Acid (or concentrated base) into water, never the reverse. Goggles, gloves, "
              "lab coat; your safety office's rules come first.")
 NO_RECIPE = ("No recipe yet: give a source, a target molarity and a final volume. Treat every "
@@ -52,6 +49,7 @@ class PrepOutcome:
     new_bottle: dict | None = None
     errors: dict[str, str] = field(default_factory=dict)
     echoes: dict[str, str] = field(default_factory=dict)
+    made: object | None = None
 
 
 def recipe_text(recipe) -> Text:
@@ -105,9 +103,8 @@ class PrepareScreen(Screen):
 
     def __init__(self) -> None:
         super().__init__()
-        self.generation = 0
+        self.live = LiveComputation(self, self._start)
         self.outcome: PrepOutcome | None = None
-        self._timer: Timer | None = None
         self.results = 0
         """Completed computations (tests wait on it)."""
         self.last_recorded: dict | None = None
@@ -153,15 +150,11 @@ class PrepareScreen(Screen):
     # -- recompute -------------------------------------------------------------------
     @on(Input.Changed)
     def _changed(self, event: Input.Changed) -> None:
-        if event.input.id not in FIELDS:
-            return
-        self.generation += 1
-        if self._timer is not None:
-            self._timer.stop()
-        self._timer = self.set_timer(DEBOUNCE_S, self._start)
+        if event.input.id in FIELDS:
+            self.live.changed()
 
-    def _start(self) -> None:
-        self._compute(self.generation, self.form())
+    def _start(self, generation: int) -> None:
+        self._compute(generation, self.form())
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="prepare")
     def _compute(self, generation: int, form: dict[str, str]) -> None:
@@ -169,7 +162,7 @@ class PrepareScreen(Screen):
         self.app.call_from_thread(self._show, outcome)
 
     def _show(self, outcome: PrepOutcome) -> None:
-        if outcome.generation != self.generation:
+        if not self.live.finished(outcome.generation):
             return  # a newer change is on its way
         self.results += 1
         for name in FIELDS:
@@ -237,17 +230,11 @@ class PrepareScreen(Screen):
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="prepare-record")
     def _record(self, o: PrepOutcome) -> None:
-        from carboy.store import stock
+        from carboy.store import preparing
 
         try:
             with self.app.open_store() as store:
-                step = stock.PreparationStep(
-                    o.bottle.id if o.bottle is not None else None,
-                    amount_used(o.recipe, o.bottle.amount_unit) if o.bottle is not None
-                    else None,
-                    o.new_bottle,
-                    snapshot={"recipe": o.recipe.to_dict(), "label": o.label.to_dict()})
-                made = stock.prepare_series(store, [step], who=self.app.who)[0]
+                made = preparing.record(store, o.made, o.bottle, who=self.app.who)[0]
         except Exception as exc:
             self.app.call_from_thread(self.query_one("#prep-error", ErrorLine).show,
                                       "not recorded: " + describe(exc))
@@ -263,64 +250,22 @@ class PrepareScreen(Screen):
 
 
 def compute(form: dict[str, str], generation: int, app) -> PrepOutcome:
-    """Read the form and work out the recipe; every problem is named by its field."""
-    from carboy.model import preparation, quantities
-    from carboy.store import stock
+    """Read the form and work out the recipe (the same code as ``carboy prep``)."""
+    from carboy.store import preparing
     from carboy.store.compounds import catalog_for
-    from carboy.tui.cli.prep import source_from_bottle
 
-    errors: dict[str, str] = {}
-    echoes: dict[str, str] = {}
-    source = bottle = None
-    target = volume = None
+    fields = PrepareFields(source=form["source"], target=form["target"],
+                           volume=form["volume"], location=form["location"])
     try:
         with app.open_store() as store, store.reading():
-            catalog = catalog_for(store)
-            text = form["source"].strip()
-            if text:
-                try:
-                    match = BOTTLE_ID.match(text)
-                    if match:
-                        bottle = stock.get(store, match.group(1), today=app.today)
-                        if bottle.status != "in-use":
-                            raise CarboyError(f"bottle {bottle.id} is {bottle.status}")
-                        source = source_from_bottle(bottle, catalog)
-                        left = stock.format_amount(bottle.amount_left, bottle.amount_unit)
-                        echoes["source"] = (f"→ bottle {bottle.id}: {source.label} · "
-                                            f"{left} left · {bottle.location or 'no location'}")
-                    else:
-                        source = preparation.parse_source(text, catalog=catalog)
-                        echoes["source"] = f"→ {source.label}"
-                except CarboyError as exc:
-                    errors["source"] = str(exc)
-    except Exception as exc:
-        errors[""] = describe(exc)
-    for name, what, parse in (("target", "target", quantities.concentration_molar),
-                              ("volume", "final volume", quantities.volume_l)):
-        raw = form[name].strip()
-        if not raw:
-            continue
-        try:
-            value = parse(raw, what)
-            if name == "target":
-                target = value
-                echoes[name] = f"→ {value:.4g} M"
-            else:
-                volume = value
-                echoes[name] = f"→ {value * 1000:.4g} mL"
-        except CarboyError as exc:
-            errors[name] = str(exc)
-    echoes["location"] = "→ " + form["location"].strip() if form["location"].strip() else ""
-    if errors or source is None or target is None or volume is None:
-        return PrepOutcome(generation, errors=errors, echoes=echoes)
-    try:
-        recipe = preparation.plan_recipe(source, target, volume)
-    except CarboyError as exc:
-        return PrepOutcome(generation, errors={"target": str(exc)}, echoes=echoes)
-    new_bottle = new_bottle_fields(recipe, app.today, location=form["location"].strip())
-    try:
-        label = label_for(recipe, new_bottle, app.who)
-    except CarboyError as exc:
-        return PrepOutcome(generation, errors={"": f"label: {exc}"}, echoes=echoes)
-    return PrepOutcome(generation, recipe=recipe, label=label, bottle=bottle,
-                       new_bottle=new_bottle, echoes=echoes)
+            reading = preparing.evaluate(store, fields, catalog_for(store), today=app.today,
+                                         prepared_by=app.who)
+    except Exception as exc:  # noqa: BLE001 - shown in place, never as a traceback
+        return PrepOutcome(generation, errors={"": describe(exc)})
+    errors = {k: v for k, v in reading.errors.items() if k not in reading.missing}
+    made = reading.value
+    if made is None:
+        return PrepOutcome(generation, errors=errors, echoes=reading.echoes)
+    return PrepOutcome(generation, recipe=made.recipes[0], label=made.labels[0],
+                       bottle=reading.bottle, new_bottle=made.bottles[0],
+                       echoes=reading.echoes, made=made)

@@ -1,0 +1,24 @@
+"""Words and numbers both front ends print the same way.
+
+The app and the command line lay things out differently, but a quantity, a heat or a
+status reads the same in both: the phrasing lives here, once.
+"""
+
+from __future__ import annotations
+
+
+def heat_text(recipe) -> str:
+    """The heat line of a recipe: how much, and how warm it gets while mixing and after."""
+    if recipe.heat_kj is None:
+        return "not estimated (no published data held for this solution)"
+    if recipe.heat_kj < 0:
+        text = f"about {-recipe.heat_kj:.2g} kJ taken up (it cools)"
+    else:
+        text = f"about {recipe.heat_kj:.2g} kJ released"
+    mixing = getattr(recipe, "mixing_rise_c", None)
+    if mixing is not None and recipe.temperature_rise_c is not None:
+        text += (f"; about {mixing:+.1f} K while mixing, {recipe.temperature_rise_c:+.1f} K "
+                 "once made up")
+    elif recipe.temperature_rise_c is not None:
+        text += f"; temperature change about {recipe.temperature_rise_c:+.1f} K"
+    return text
