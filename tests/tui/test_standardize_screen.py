@@ -11,21 +11,14 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from textual.widgets import Input, Static, TextArea
 
+from carboy.model.forms.standardize import StandardizeFields, fmt_molar, parse_replicates
 from carboy.model.standardization import AcceptanceRule, Replicate, standardize
 from carboy.store import journal, rules, stock
 from carboy.store.db import open_database
 from carboy.store.demo import DEMO_TODAY
 from carboy.tui.app.screens.confirm import ConfirmScreen
-from carboy.tui.app.screens.standardize import (
-    ACCEPTED_MARK,
-    OUTLIER_MARK,
-    REJECTED_MARK,
-    FormState,
-    StandardizeScreen,
-    compute,
-    fmt_molar,
-    parse_replicates,
-)
+from carboy.tui.app.screens.standardize import FormState, StandardizeScreen, compute
+from carboy.tui.app.screens.standardize_text import ACCEPTED_MARK, OUTLIER_MARK, REJECTED_MARK
 
 SIZE = (80, 24)
 
@@ -90,8 +83,8 @@ async def settled(pilot, screen, wait_for) -> None:
     """Until the inputs now on screen have been computed and shown."""
     await pilot.pause()
     await wait_for(pilot, lambda: screen.outcome is not None
-                   and screen.outcome.generation == screen._generation
-                   and not screen._computing and screen._debounce is None
+                   and screen.outcome.generation == screen.live.generation
+                   and screen.live.settled
                    and screen.outcome.state == screen._form_state())
 
 
@@ -178,7 +171,7 @@ async def test_a_bad_line_is_named_by_number_and_value(make, wait_for):
         area = screen.query_one("#sz-replicates", TextArea)
         assert area.text == "\n".join(typed)  # the typed text is kept
         assert area.has_class("-invalid") and "2" in str(area.border_subtitle)
-        assert screen.outcome.result is None  # never a result from a bad line
+        assert screen.outcome.value is None  # never a result from a bad line
         assert "line 2" in shown(screen, "sz-status")
         blocker = screen.record_blocker()
         assert "errors" in blocker or "no result" in blocker
@@ -382,16 +375,16 @@ async def test_a_standard_that_does_not_suit_is_refused_in_place(make, wait_for)
 # -- the form's reading, without the app ---------------------------------------------------
 
 def test_compute_matches_the_model_and_never_raises():
-    state = FormState(titrant="NaOH", standard="KHP", blank="0,03",
-                      replicates="\n".join(lines_of(GOOD)), rule=AcceptanceRule())
+    state = FormState(StandardizeFields(titrant="NaOH", standard="KHP", blank="0,03",
+                                        replicates="\n".join(lines_of(GOOD))), AcceptanceRule())
     outcome = compute(state)
     expected = standardize("NaOH", "KHP", [Replicate(m, v, 0.03) for m, v in GOOD])
-    assert outcome.ok and outcome.result.mean_molar == expected.mean_molar
-    broken = compute(FormState(titrant="NaOH", standard="KHP", assay="abc",
-                               replicates="x y z"))
-    assert broken.result is None
-    assert "abc" in broken.errors["assay"]
-    assert [e.line for e in broken.line_errors] == [1]
+    assert outcome.ok and outcome.value.mean_molar == expected.mean_molar
+    broken = compute(FormState(StandardizeFields(titrant="NaOH", standard="KHP", assay="abc",
+                                                 replicates="x y z")))
+    assert broken.value is None
+    assert "abc" in broken.reading.errors["assay"]
+    assert [e.line for e in broken.reading.line_errors] == [1]
 
 
 @settings(max_examples=40, deadline=None)

@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import argparse
 
+from carboy.model.forms.standardize import method_of, read_millilitres, read_replicate
 from carboy.tui.cli.kit import EXIT_OK, UsageError, emit_json
 
 EXIT_NOT_ACCEPTED = 1
@@ -55,7 +56,6 @@ def register(sub) -> None:
 
 
 def _replicates(args):
-    from carboy.model import quantities
     from carboy.model.standardization import Replicate
 
     if not args.mass:
@@ -72,12 +72,9 @@ def _replicates(args):
                          "or once per replicate")
     out = []
     for k, (m, v, b) in enumerate(zip(args.mass, args.volume, blanks), 1):
-        mass = quantities.parse(m, "mass", what=f"mass of replicate {k}", default_unit="g").value
-        vol = quantities.parse(v, "volume", what=f"volume of replicate {k}",
-                               default_unit="mL").value * 1000.0
-        blank = quantities.parse(b, "volume", what=f"blank of replicate {k}",
-                                 default_unit="mL").value * 1000.0
-        out.append(Replicate(mass_g=mass, volume_ml=vol, blank_ml=blank))
+        mass, volume = read_replicate(m, v, what=f" of replicate {k}")
+        blank = read_millilitres(b, f"blank of replicate {k}")
+        out.append(Replicate(mass_g=mass, volume_ml=volume, blank_ml=blank))
     return out
 
 
@@ -139,10 +136,8 @@ def build(args):
                                  rule=rule, nominal_molar=nominal)
         entry = None
         if bottle is not None and result.accepted and not args.dry_run:
-            method = (f"titration against {result.standard.name} "
-                      f"(n = {len(result.replicates)}, RSD {result.rsd_percent:.3f} %)")
             entry = stock.record_standardization(
-                store, bottle.id, result.mean_molar, method=method,
+                store, bottle.id, result.mean_molar, method=method_of(result),
                 snapshot={"standardization": result.to_dict()})
         return result, bottle, entry
 
