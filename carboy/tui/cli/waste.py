@@ -4,7 +4,14 @@ from __future__ import annotations
 
 import argparse
 
-from carboy.tui.cli.kit import EXIT_OK, common_options, emit_json, group, open_store
+from carboy.tui.cli.kit import (
+    EXIT_OK,
+    common_options,
+    emit_json,
+    first_problem,
+    group,
+    open_store,
+)
 
 
 def register(sub) -> None:
@@ -57,11 +64,21 @@ def waste_new(args) -> int:
     return EXIT_OK
 
 
-def waste_add(args) -> int:
-    from carboy.store import waste
+ADD_OPTIONS = {"compound": "COMPONENT (NAME=CONC)", "amount": "COMPONENT (NAME=CONC)", "volume": "--volume",
+               "note": "--note"}
+"""The argument that carries each field of the addition form."""
 
+
+def waste_add(args) -> int:
+    from carboy.model.forms.waste_addition import AdditionFields, read
+    from carboy.store import waste
+    from carboy.store.compounds import catalog_for
+
+    fields = AdditionFields.of_component(args.component, args.volume or "", args.note)
     with open_store(args) as store:
-        addition_id = waste.add(store, args.label, args.component, args.volume, note=args.note)
+        addition = first_problem(read(fields, catalog_for(store)), ADD_OPTIONS)
+        addition_id = waste.add(store, args.label, addition.component.text,
+                                addition.volume_l, note=addition.note)
         c = waste.container(store, args.label)
     if args.json:
         emit_json({"addition_id": addition_id, **c.as_dict()})

@@ -17,75 +17,34 @@ from textual.timer import Timer
 from textual.widgets import Button, Input, Static
 from textual.worker import get_current_worker
 
-from carboy.errors import CarboyError, InvalidInput, UnknownCompound
+from carboy.model.forms.waste_addition import AdditionFields, read
 from carboy.store import waste
 from carboy.store.errors import OverCapacity
 from carboy.tui.app.widgets.field_row import FieldRow
-from carboy.tui.app.widgets.marks import litres
-from carboy.tui.app.workers import describe
+from carboy.tui.edge import describe
 
 ECHO_DELAY_S = 0.12
 FIELDS = ("add-compound", "add-conc", "add-volume", "add-note")
 
 
+FORM_FIELD = {"compound": "add-compound", "amount": "add-conc", "volume": "add-volume",
+              "note": "add-note"}
+"""The dialog's input behind each field of the addition form."""
+
+
 @dataclass(frozen=True)
 class Echo:
-    """What each field was understood as ('' = nothing to say), or its error."""
+    """What each input was understood as ('' = nothing to say), or its error."""
 
     messages: dict[str, str]
     errors: dict[str, str]
 
 
-def field_of(exc: BaseException) -> str | None:
-    """Which field an error is about (``None``: the addition as a whole)."""
-    if isinstance(exc, UnknownCompound):
-        return "add-compound"
-    if isinstance(exc, OverCapacity):
-        return "add-volume"
-    if isinstance(exc, InvalidInput):
-        what = exc.what
-        if what == "volume":
-            return "add-volume"
-        if what == "note":
-            return "add-note"
-        if what.startswith(("concentration", "mass of")):
-            return "add-conc"
-        if what == "component":
-            return "add-compound" if "name is missing" in exc.reason else "add-conc"
-    return None
-
-
-def understand(catalog, compound: str, conc: str, volume: str) -> Echo:
-    """Parse the three fields as the store will (pure; no database)."""
-    messages: dict[str, str] = {}
-    errors: dict[str, str] = {}
-    found = None
-    if compound.strip():
-        try:
-            found = catalog.compound(compound.strip())
-            messages["add-compound"] = f"→ {found.name} ({found.formula or found.key})"
-        except CarboyError as exc:
-            errors["add-compound"] = describe(exc)
-    mass = None
-    if conc.strip() and found is not None:
-        try:
-            part = waste.parse_component(f"{found.key}={conc.strip()}", catalog)
-            if part.mass_g is not None:
-                mass = part.mass_g
-                messages["add-conc"] = f"→ {part.mass_g:g} g of solid (volume optional)"
-            elif "%" in conc:
-                messages["add-conc"] = f"→ {conc.strip()} w/w ≈ {part.conc_molar:.4g} M"
-            else:
-                messages["add-conc"] = f"→ {part.conc_molar:.4g} M"
-        except CarboyError as exc:
-            errors["add-conc"] = describe(exc)
-    if volume.strip():
-        try:
-            vol = waste.parse_volume(volume, required=mass is None)
-            messages["add-volume"] = f"→ {litres(vol)}"
-        except CarboyError as exc:
-            errors["add-volume"] = describe(exc)
-    return Echo(messages, errors)
+def understand(catalog, compound: str, conc: str, volume: str, note: str = "") -> Echo:
+    """Read the inputs as the store will (the addition form; no database)."""
+    reading = read(AdditionFields(compound, conc, volume, note), catalog)
+    errors = {FORM_FIELD[k]: v for k, v in reading.errors.items() if k not in reading.missing}
+    return Echo({FORM_FIELD[k]: v for k, v in reading.echoes.items()}, errors)
 
 
 class AddWasteScreen(ModalScreen[bool]):
@@ -194,27 +153,32 @@ class AddWasteScreen(ModalScreen[bool]):
         if self._timer is not None:
             self._timer.stop()
         self._judged = self._edits
-        v = self.values()
-        missing = [("add-compound", "compound: is required, e.g. HCl"),
-                   ("add-conc", "concentration: is required, e.g. '1 M' (or a solid's "
-                                "mass, e.g. '2 g')")]
-        for field, message in missing:
-            if not v[field].strip():
-                self._fail(field, message)
-                return
         self.busy = True
         self.query_one("#add-error", Static).update("Logging …")
-        self._store(v["add-compound"].strip(), v["add-conc"].strip(), v["add-volume"].strip(),
-                    v["add-note"].strip())
+        self._store(self.values())
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="waste-add")
-    def _store(self, compound: str, conc: str, volume: str, note: str) -> None:
+    def _store(self, v: dict[str, str]) -> None:
+        from carboy.store.compounds import catalog_for
+
+        fields = AdditionFields(v["add-compound"], v["add-conc"], v["add-volume"],
+                                v["add-note"])
         try:
             with self.app.open_store() as store:
-                waste.add(store, self.label, f"{compound}={conc}", volume or None, note=note,
-                          who=self.app.who)
-        except Exception as exc:
-            self.app.call_from_thread(self._fail, field_of(exc), describe(exc))
+                reading = read(fields, catalog_for(store))
+                if not reading.ok:
+                    name = reading.problems[0][0] if reading.problems else "compound"
+                    message = reading.errors.get(name, "")
+                    self.app.call_from_thread(self._fail, FORM_FIELD.get(name), message)
+                    return
+                addition = reading.value
+                waste.add(store, self.label, addition.component.text, addition.volume_l,
+                          note=addition.note, who=self.app.who)
+        except OverCapacity as exc:
+            self.app.call_from_thread(self._fail, "add-volume", describe(exc))
+            return
+        except Exception as exc:  # noqa: BLE001 - shown in place, never as a traceback
+            self.app.call_from_thread(self._fail, None, describe(exc))
             return
         self.app.call_from_thread(self._done)
 
