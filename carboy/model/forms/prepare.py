@@ -103,9 +103,9 @@ def _steps(form: FormReader, fields: PrepareFields) -> tuple[list[float], list[f
         form.fail("volume", InvalidInput("final volume", f"{len(volumes)} volumes",
                                          f"give one, or one per target ({len(targets)})"))
     if None not in targets and targets:
-        form.echo("target", " → ".join(f"{t:.4g} M" for t in targets))
+        form.echo("target", "→ " + ", then ".join(f"{t:.4g} M" for t in targets))
     if None not in volumes and volumes:
-        form.echo("volume", ", ".join(f"{v * 1000:.4g} mL" for v in volumes))
+        form.echo("volume", "→ " + ", ".join(f"{v * 1000:.4g} mL" for v in volumes))
     return targets, volumes
 
 

@@ -21,15 +21,9 @@ from textual.binding import Binding
 from textual.reactive import reactive
 
 from carboy.store import db as store_db
+from carboy.tui.app import registry
 from carboy.tui.app.commands import CarboyCommands
-from carboy.tui.app.screens.help import HelpScreen
-from carboy.tui.app.screens.journal import JournalScreen
-from carboy.tui.app.screens.neutralize import NeutralizeScreen
-from carboy.tui.app.screens.prepare import PrepareScreen
-from carboy.tui.app.screens.standardize import StandardizeScreen
-from carboy.tui.app.screens.stock import StockScreen
 from carboy.tui.app.screens.too_small import TooSmallScreen
-from carboy.tui.app.screens.waste import WasteScreen
 
 MIN_WIDTH = 80
 MIN_HEIGHT = 24
@@ -42,45 +36,17 @@ class CarboyApp(App):
     TITLE = "carboy"
     SUB_TITLE = "storeroom acids, bases and their waste"
     COMMANDS = App.COMMANDS | {CarboyCommands}
-    MODES = {
-        "stock": StockScreen,
-        "waste": WasteScreen,
-        "neutralize": NeutralizeScreen,
-        "journal": JournalScreen,
-        "prepare": PrepareScreen,
-        "standardize": StandardizeScreen,
-        "help": HelpScreen,
-    }
-    DEFAULT_MODE = "stock"
+    MODES = registry.modes()
+    DEFAULT_MODE = registry.DEFAULT_MODE
     BINDINGS = [
         # Function keys work everywhere, even while typing in a field (priority); the
         # digits and "?" do the same from anywhere that is not a text field.
-        Binding("f1", "go('help')", "Help", id="app.go.help", priority=True,
-                tooltip="Every key of every screen, and what each screen is for"),
+        *registry.bindings(),
         Binding("ctrl+q", "quit", "Quit", id="app.quit", priority=True,
                 tooltip="Leave carboy"),
-        Binding("f2", "go('stock')", "Stock", id="app.go.stock", priority=True,
-                tooltip="The stock bottles on the shelves"),
-        Binding("f3", "go('waste')", "Waste", id="app.go.waste", priority=True,
-                tooltip="Waste containers and what went into them"),
-        Binding("f4", "go('neutralize')", "Neutralize", id="app.go.neutralize", priority=True,
-                tooltip="Plan and record the neutralization of a waste container"),
-        Binding("f5", "go('journal')", "Journal", id="app.go.journal", priority=True,
-                tooltip="The append-only record of everything done"),
-        Binding("f7", "go('prepare')", "Prepare", id="app.go.prepare", priority=True,
-                tooltip="A recipe to dilute a concentrate or dissolve a solid, and its label"),
-        Binding("f8", "go('standardize')", "Standardize", id="app.go.standardize",
-                priority=True,
-                tooltip="The molarity of a titrant from replicate titrations"),
         Binding("question_mark", "go('help')", "Help", id="app.go.help.short", show=False),
-        Binding("1", "go('stock')", "Stock", id="app.go.stock.short", show=False),
-        Binding("2", "go('waste')", "Waste", id="app.go.waste.short", show=False),
-        Binding("3", "go('neutralize')", "Neutralize", id="app.go.neutralize.short",
-                show=False),
-        Binding("4", "go('journal')", "Journal", id="app.go.journal.short", show=False),
-        Binding("5", "go('prepare')", "Prepare", id="app.go.prepare.short", show=False),
-        Binding("6", "go('standardize')", "Standardize", id="app.go.standardize.short",
-                show=False),
+        *[Binding(str(n), f"go('{d.mode}')", d.label, id=f"app.go.{d.mode}.short", show=False)
+          for n, d in enumerate((d for d in registry.DESTINATIONS if d.mode != "help"), 1)],
         Binding("f6", "reload", "Reload", id="app.reload",
                 tooltip="Read the database again (other staff may have changed it)"),
     ]
@@ -145,14 +111,8 @@ class CarboyApp(App):
     # -- helpers for the widgets ----------------------------------------------------
     def mode_keys(self) -> dict[str, str]:
         """The key that leads to each mode, as the footer shows it."""
-        keys: dict[str, str] = {}
-        for binding in self.BINDINGS:
-            action = binding.action
-            if action.startswith("go('") and binding.show:
-                mode = action[4:-2]
-                first = binding.key.split(",")[0].strip()
-                keys[mode] = self.get_key_display(Binding(first, action))
-        return keys
+        return {d.mode: self.get_key_display(Binding(d.key, f"go('{d.mode}')"))
+                for d in registry.DESTINATIONS}
 
     def place_text(self) -> str:
         where = "demo storeroom (throwaway)" if self.demo else self.db_path.name

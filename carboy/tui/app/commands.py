@@ -8,6 +8,8 @@ from functools import partial
 
 from textual.command import DiscoveryHit, Hit, Hits, Provider
 
+from carboy.tui.app import registry
+
 Command = tuple[str, Callable[[], Awaitable[None] | None], str]
 
 
@@ -57,13 +59,9 @@ class CarboyCommands(Provider):
         screen.query_one("#journal-kind", Select).value = kind
 
     def commands(self) -> list[Command]:
-        found: list[Command] = [
-            ("Go to Stock", partial(self._go, "stock"), "the bottles on the shelves"),
-            ("Go to Waste", partial(self._go, "waste"), "waste containers and what is in them"),
-            ("Go to Neutralize", partial(self._go, "neutralize"),
-             "plan the neutralization of a waste container"),
-            ("Go to Journal", partial(self._go, "journal"), "the record of everything done"),
-            ("Go to Help", partial(self._go, "help"), "every key and what each screen is for"),
+        found: list[Command] = [(f"Go to {d.label}", partial(self._go, d.mode), d.palette)
+                                for d in registry.DESTINATIONS]
+        found += [
             ("Search stock…", self._search_stock, "type a compound, name, location or lot"),
             ("New waste container…", partial(self._waste_action, "action_new_container"),
              "open a new, empty container"),

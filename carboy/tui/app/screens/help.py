@@ -7,6 +7,7 @@ Each key's id is shown: that is the name to use when remapping it.
 
 from __future__ import annotations
 
+import importlib
 from dataclasses import dataclass
 
 from rich.console import Group
@@ -18,6 +19,7 @@ from textual.containers import VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Footer, Static
 
+from carboy.tui.app import registry
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.safety_note import DISPOSAL_NOTE
 
@@ -29,60 +31,56 @@ class Section:
     sources: tuple[type, ...]
 
 
+CHILDREN: dict[str, tuple[tuple[str, str], ...]] = {
+    "stock": (("Bottle", "bottle:BottleScreen"), ("Strength check", "check:CheckScreen")),
+    "waste": (("Log a waste addition", "waste_add:AddWasteScreen"),
+              ("New waste container", "waste_new:NewContainerScreen")),
+    "journal": (("Journal entry", "entry:EntryScreen"),),
+}
+"""Screens and dialogs opened from a main screen: (title, ``module:Class`` under screens)."""
+
+
+def _load(path: str) -> type:
+    module, _, name = path.partition(":")
+    return getattr(importlib.import_module(f"carboy.tui.app.screens.{module}"), name)
+
+
+def _purpose(cls: type, fallback: str) -> str:
+    return getattr(cls, "HELP", None) or (cls.__doc__ or fallback).strip().splitlines()[0]
+
+
 def sections() -> list[Section]:
-    """Every screen and dialog of the app, with the classes whose bindings it uses."""
+    """Every screen and dialog of the app, with the classes whose bindings it uses: the
+    main screens in the registry's order, each followed by what it opens."""
     from carboy.tui.app.app import CarboyApp
-    from carboy.tui.app.screens.bottle import BottleScreen
-    from carboy.tui.app.screens.check import CheckScreen
     from carboy.tui.app.screens.confirm import ConfirmScreen
-    from carboy.tui.app.screens.entry import EntryScreen
-    from carboy.tui.app.screens.journal import EntryTable, JournalScreen
-    from carboy.tui.app.screens.neutralize import NeutralizeScreen
-    from carboy.tui.app.screens.prepare import PrepareScreen
-    from carboy.tui.app.screens.standardize import StandardizeScreen
-    from carboy.tui.app.screens.stock import SearchInput, StockScreen, StockTable
-    from carboy.tui.app.screens.waste import WasteScreen
-    from carboy.tui.app.screens.waste_add import AddWasteScreen
-    from carboy.tui.app.screens.waste_new import NewContainerScreen
 
-    def purpose(cls: type, fallback: str) -> str:
-        return getattr(cls, "HELP", None) or (cls.__doc__ or fallback).strip().splitlines()[0]
-
-    neutralize_sources = (NeutralizeScreen,) + tuple(
-        cls for cls in classes_with_bindings(NEUTRALIZE_MODULES) if cls is not NeutralizeScreen)
-    return [
-        Section("Everywhere", "Move between the screens, reload, quit. The command palette "
-                "(ctrl+p) has the same and more: search the stock, open a waste container, "
-                "plan a neutralization.", (CarboyApp,)),
-        Section("Stock", purpose(StockScreen, ""), (StockScreen, SearchInput, StockTable)),
-        Section("Bottle", purpose(BottleScreen, ""), (BottleScreen,)),
-        Section("Strength check", purpose(CheckScreen, ""), (CheckScreen,)),
-        Section("Waste", purpose(WasteScreen, ""), (WasteScreen,)),
-        Section("Log a waste addition", purpose(AddWasteScreen, ""), (AddWasteScreen,)),
-        Section("New waste container", purpose(NewContainerScreen, ""), (NewContainerScreen,)),
-        Section("Confirmation", "Asked before anything that cannot be undone; the safe "
-                "answer has the focus.", (ConfirmScreen,)),
-        Section("Neutralize", purpose(NeutralizeScreen, "Plan and record a neutralization."),
-                neutralize_sources),
-        Section("Prepare", purpose(PrepareScreen, ""), (PrepareScreen,)),
-        Section("Standardize", purpose(StandardizeScreen, ""), (StandardizeScreen,) + tuple(
-            cls for cls in classes_with_bindings(("carboy.tui.app.screens.standardize",))
-            if cls is not StandardizeScreen)),
-        Section("Journal", purpose(JournalScreen, ""), (JournalScreen, EntryTable)),
-        Section("Journal entry", purpose(EntryScreen, ""), (EntryScreen,)),
-        Section("Help", purpose(HelpScreen, ""), (HelpScreen,)),
-    ]
+    found = [Section("Everywhere", "Move between the screens, reload, quit. The command "
+                     "palette (ctrl+p) has the same and more: search the stock, open a waste "
+                     "container, plan a neutralization.", (CarboyApp,))]
+    for d in registry.DESTINATIONS:
+        cls = d.screen_class()
+        module = cls.__module__
+        helpers = tuple(c for c in classes_with_bindings(
+            (module, *SCREEN_MODULES.get(d.mode, ()))) if c is not cls)
+        found.append(Section(d.label, _purpose(cls, d.help), (cls, *helpers)))
+        for title, path in CHILDREN.get(d.mode, ()):
+            child = _load(path)
+            found.append(Section(title, _purpose(child, title), (child,)))
+    found.append(Section("Confirmation", "Asked before anything that cannot be undone; the "
+                         "safe answer has the focus.", (ConfirmScreen,)))
+    return found
 
 
-NEUTRALIZE_MODULES = ("carboy.tui.app.screens.neutralize", "carboy.tui.app.widgets.ph_curve",
-                      "carboy.tui.app.widgets.plan_view")
-"""Modules of the Neutralize screen: every class in them that declares keys is listed."""
+SCREEN_MODULES = {
+    "neutralize": ("carboy.tui.app.screens.neutralize_record", "carboy.tui.app.widgets.ph_curve",
+                   "carboy.tui.app.widgets.plan_view"),
+}
+"""Further modules whose key-declaring classes belong to a main screen's section."""
 
 
 def classes_with_bindings(module_names: tuple[str, ...]) -> list[type]:
     """Classes defined in these modules that declare their own ``BINDINGS``."""
-    import importlib
-
     found = []
     for name in module_names:
         try:
