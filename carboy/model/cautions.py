@@ -4,6 +4,9 @@ Each rule looks at :class:`Facts` (what the plan found and what is known of the 
 and, when it applies, yields one :class:`Caution`.  The closing rule always applies:
 carboy advises and never declares a batch fit to pour away.  The order of the table
 is the order of the output, most serious first within the drain-route rules.
+:func:`derived_hazards` gives the hazard tags a composition implies by itself
+(fluoride, perchlorate, chromate, heavy-metal ions…), which join the tags the store
+knows and the reagent's own.
 """
 
 from __future__ import annotations
