@@ -4,17 +4,41 @@ Each rule looks at :class:`Facts` (what the plan found and what is known of the 
 and, when it applies, yields one :class:`Caution`.  The closing rule always applies:
 carboy advises and never declares a batch fit to pour away.  The order of the table
 is the order of the output, most serious first within the drain-route rules.
+:func:`derived_hazards` gives the hazard tags a composition implies by itself
+(fluoride, perchlorate, chromate, heavy-metal ions…), which join the tags the store
+knows and the reagent's own.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
 SEVERITIES = ("danger", "warning", "notice")
 
 NO_DRAIN_TAGS = frozenset({"hf_type", "no_drain", "heavy_metal", "chromic", "perchloric",
                            "cyanide", "sulfide", "explosive_residue"})
+
+HEAVY_METAL_IONS = frozenset({"Cu+2", "Zn+2", "Ni+2", "Pb+2", "Ag+"})
+
+
+def derived_hazards(totals: Mapping[str, float]) -> frozenset[str]:
+    """Hazard tags that follow from a sample's composition alone (its ``totals`` keys)."""
+    tags = set()
+    if "fluoride" in totals:
+        tags |= {"hf_type", "no_drain"}
+    if "ClO4-" in totals:
+        tags |= {"perchloric", "oxidizer", "no_drain"}
+    if "NO3-" in totals:
+        tags.add("oxidizer")
+    if "chromate" in totals:
+        tags |= {"chromic", "heavy_metal", "oxidizer", "no_drain"}
+    for key in ("cyanide", "sulfide"):
+        if key in totals:
+            tags |= {key, "no_drain"}
+    if any(k in HEAVY_METAL_IONS for k in totals):
+        tags |= {"heavy_metal", "no_drain"}
+    return frozenset(tags)
 
 
 @dataclass(frozen=True)

@@ -17,247 +17,60 @@ Modelling choices (each stated in the output where it matters)
   every dose is re-solved forward with the speciation solver in one batch; the plan
   reports the solver's pH.
 * **CO2.**  Whenever carbonate is present, CO2(aq) beyond K_H·1 atm leaves as it forms
-  and lost CO2 never returns: the carbonate kept at amount n is the total added minus
-  the running maximum of the loss needed to bring CO2(aq) down to saturation.  After
-  venting, CO2(aq) is held at K_H·pCO2(air) (an open-system solve).
+  and lost CO2 never returns (see ``dosing``).  After venting, CO2(aq) is held at
+  K_H·pCO2(air) (an open-system solve).
 * **Curve.**  ``curve_points`` amounts from 0 to 1.3 × the largest dose of interest,
   solved in one ``speciate_batch`` call; stages, equivalence points and doses in a
   second one.
+
+The steps of a plan
+-------------------
+:func:`plan_neutralization` is this sequence; each step is a function of its own:
+
+1. ``_check_request``     the arguments, checked and gathered in a :class:`_Request`;
+2. ``_start``             the sample's own pH, the direction (base or acid) and the
+                          reagent's capacity that way; a reagent that moves the pH the
+                          wrong way is refused;
+3. ``_proton_demand``     every dissociable proton: the full dose and its breakdown;
+4. ``_find_doses``        the doses to the target and the window edges, with CO2
+                          leaving, and the curve's amounts (``dosing``);
+5. ``_solve_curve``       the pH curve, in one batch solve;
+6. ``_solve_points``      every other state in one batch solve (full dose, doses,
+                          stages, ±1 % of the target dose, equivalence points);
+7. ``_dose_results``      the doses, stages, sensitivity and equivalence points read
+                          from it;
+8. ``_heat_and_gas``      reaction heat, temperature rise, CO2 given off and the pH
+                          before venting (``thermo``, ``dosing``);
+9. ``_at_target``         the state at the target: protons still bound, saturation of
+                          solids (``precipitates``);
+10. ``_warnings``         the solver's and the planner's own warnings;
+11. ``_facts``            what the caution rules look at; ``cautions.evaluate`` then
+                          gives the cautions and ``cautions.not_for_drain`` the drain
+                          verdict.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
 from carboy.errors import InvalidInput
 from carboy.model import cautions as caution_rules
 from carboy.model import gas, thermo, water
-from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
-from carboy.model.precipitates import Precipitate, saturation_indices
+from carboy.model.activity import check_model
+from carboy.model.cautions import derived_hazards
+from carboy.model.dosing import Dosing, find_doses
+from carboy.model.equivalence import equivalence_amounts
+from carboy.model.mixture import Mixture
+from carboy.model.plan_result import Dose, EquivalencePoint, Plan, Stage
+from carboy.model.precipitates import Precipitate, saturation_indices, slurry_check
 from carboy.model.reagents import Reagent
-from carboy.model.speciation import ACTIVITY_MODELS, BatchSpeciation, speciate_batch
+from carboy.model.speciation import BatchSpeciation, speciate_batch
 
-CURVE_SPAN = 1.3
-HEAVY_METAL_IONS = frozenset({"Cu+2", "Zn+2", "Ni+2", "Pb+2", "Ag+"})
-ORDINALS = ("1st", "2nd", "3rd", "4th", "5th", "6th")
-
-
-@dataclass(frozen=True)
-class Dose:
-    """An amount of reagent and the state it leaves (``reagent_mol`` None: unreachable)."""
-
-    reagent_mol: float | None
-    reagent_volume_l: float | None
-    reagent_mass_g: float | None
-    pH: float | None
-    final_volume_l: float | None
-    target_pH: float | None = None
-
-    @property
-    def reachable(self) -> bool:
-        return self.reagent_mol is not None
-
-    def to_dict(self) -> dict:
-        d = {"reagent_mol": self.reagent_mol, "reagent_volume_l": self.reagent_volume_l,
-             "reagent_mass_g": self.reagent_mass_g, "pH": self.pH,
-             "final_volume_l": self.final_volume_l}
-        if self.target_pH is not None:
-            d = {"target_pH": self.target_pH, **d}
-        return d
-
-
-@dataclass(frozen=True)
-class Stage:
-    index: int
-    add_mol: float
-    cumulative_mol: float
-    add_volume_l: float | None
-    add_mass_g: float
-    pH_after: float
-
-    def to_dict(self) -> dict:
-        return dict(self.__dict__)
-
-
-@dataclass(frozen=True)
-class EquivalencePoint:
-    reagent_mol: float
-    pH: float
-    system: str
-    step: int
-    label: str
-
-    def to_dict(self) -> dict:
-        return dict(self.__dict__)
-
-
-@dataclass(frozen=True)
-class Plan:
-    """A neutralization plan; see the module docstring for the modelling choices."""
-
-    sample: Mixture
-    reagent: Reagent
-    direction: str
-    activity: str
-    initial_pH: float
-    proton_equivalents_mol: float
-    breakdown: dict
-    full: Dose
-    to_target: Dose
-    window: tuple[float, float]
-    window_doses: tuple[Dose, Dose]
-    bound_protons_at_target: dict
-    heat_kj: float
-    temperature_rise_c: float
-    gas_l: float
-    gas_mol: float
-    gas_conditions: str
-    vented_pH: float | None
-    vent_pco2_atm: float | None
-    pH_before_venting: float | None
-    stages: tuple[Stage, ...]
-    sensitivity_pH_per_percent: float
-    curve: np.ndarray
-    equivalence_points: tuple[EquivalencePoint, ...]
-    precipitates: tuple[Precipitate, ...]
-    cautions: tuple[caution_rules.Caution, ...]
-    warnings: tuple[str, ...]
-    hazards: frozenset[str]
-    drain_plan: bool
-    assumptions: tuple[str, ...] = ()
-    vented_gas_l: float = 0.0
-    curve_speciation: BatchSpeciation | None = field(default=None, repr=False, compare=False)
-    curve_volume_l: np.ndarray | None = field(default=None, repr=False, compare=False)
-
-    def to_dict(self) -> dict:
-        lo, hi = self.window_doses
-        return {
-            "sample": {"totals_molar": dict(self.sample.totals), "volume_l": self.sample.volume_l,
-                       "temperature_c": self.sample.temperature_c},
-            "reagent": {"text": self.reagent.text, "understood": self.reagent.describe(),
-                        "form": self.reagent.form},
-            "direction": self.direction,
-            "activity": self.activity,
-            "initial_pH": self.initial_pH,
-            "proton_equivalents_mol": self.proton_equivalents_mol,
-            "breakdown": self.breakdown,
-            "full": {k: v for k, v in self.full.to_dict().items() if k != "final_volume_l"}
-            | {"final_volume_l": self.full.final_volume_l},
-            "to_target": self.to_target.to_dict(),
-            "window": {"low_pH": self.window[0], "high_pH": self.window[1],
-                       "low": lo.to_dict(), "high": hi.to_dict(),
-                       "note": "local disposal rules set the real acceptance window"},
-            "bound_protons_at_target": self.bound_protons_at_target,
-            "heat_kj": self.heat_kj,
-            "temperature_rise_c": self.temperature_rise_c,
-            "gas_l": self.gas_l,
-            "gas_mol": self.gas_mol,
-            "gas_conditions": self.gas_conditions,
-            "vented_pH": self.vented_pH,
-            "vent_pco2_atm": self.vent_pco2_atm,
-            "pH_before_venting": self.pH_before_venting,
-            "vented_gas_l": self.vented_gas_l,
-            "stages": [s.to_dict() for s in self.stages],
-            "sensitivity_pH_per_percent": self.sensitivity_pH_per_percent,
-            "curve": self.curve.tolist(),
-            "equivalence_points": [e.to_dict() for e in self.equivalence_points],
-            "precipitates": [p.to_dict() for p in self.precipitates],
-            "cautions": [c.to_dict() for c in self.cautions],
-            "drain_plan": self.drain_plan,
-            "hazards": sorted(self.hazards),
-            "warnings": list(self.warnings),
-            "assumptions": list(self.assumptions),
-        }
-
-
-# ----------------------------------------------------------------------------- helpers
-
-def _check_ph(what: str, value) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InvalidInput(what, value, "must be a number") from None
-    if not math.isfinite(v) or not 0.0 <= v <= 14.0:
-        raise InvalidInput(what, value, "must be a pH between 0 and 14")
-    return v
-
-
-def derived_hazards(sample: Mixture) -> frozenset[str]:
-    """Hazard tags that follow from the composition alone."""
-    tags = set()
-    if "fluoride" in sample.totals:
-        tags |= {"hf_type", "no_drain"}
-    if "ClO4-" in sample.totals:
-        tags |= {"perchloric", "oxidizer", "no_drain"}
-    if "NO3-" in sample.totals:
-        tags.add("oxidizer")
-    if "chromate" in sample.totals:
-        tags |= {"chromic", "heavy_metal", "oxidizer", "no_drain"}
-    for key in ("cyanide", "sulfide"):
-        if key in sample.totals:
-            tags |= {key, "no_drain"}
-    if any(k in HEAVY_METAL_IONS for k in sample.totals):
-        tags |= {"heavy_metal", "no_drain"}
-    return frozenset(tags)
-
-
-def _charge_parts(sample: Mixture, catalog, which: str) -> dict:
-    """Per-key contribution to Σ z n (ions) or n·top/bottom charge (systems), mol."""
-    out = {}
-    v = sample.volume_l
-    for key, c in sample.totals.items():
-        n = c * v
-        if key in catalog.ions:
-            out[key] = catalog.ions[key].charge * n
-        else:
-            s = catalog.systems[key]
-            out[key] = (s.top_charge if which == "top" else s.bottom_charge) * n
-    return out
-
-
-def _label(key: str, catalog) -> str:
-    if key in catalog.strong_acid_by_anion:
-        return catalog.strong_acid_by_anion[key]
-    if key in catalog.systems:
-        return catalog.systems[key].name
-    return catalog.ions[key].name if key in catalog.ions else key
-
-
-def _reagent_enthalpy_kj(reagent: Reagent, catalog) -> float:
-    """Enthalpy of one mol of reagent in its nominal formula state (see thermo)."""
-    comp = reagent.compound.composition
-    remaining = sum(catalog.ions[k].charge * c for k, c in comp.items() if k in catalog.ions)
-    h = 0.0
-    for key, count in comp.items():
-        if key in catalog.ions:
-            continue
-        s = catalog.systems[key]
-        d = -remaining / count
-        d = int(round(min(max(d, s.bottom_charge), s.top_charge)))
-        j = s.top_charge - d
-        h += count * thermo.species_enthalpies(s)[j]
-        remaining += count * d
-    if remaining > 0:
-        h += remaining * -thermo.water_formation_kj()
-    return h
-
-
-def _state_enthalpy_kj(res: BatchSpeciation, idx: np.ndarray, volume_l: np.ndarray,
-                       catalog) -> np.ndarray:
-    """Enthalpy (kJ) of solved states relative to the reference of ``thermo``."""
-    h = np.zeros(len(idx))
-    for k, key in enumerate(res.system_keys):
-        s = catalog.systems[key]
-        hs = np.asarray(thermo.species_enthalpies(s)[s.strong_steps:])
-        labels = res.system_labels[k]
-        cols = [res.species_labels.index(lab) for lab in labels]
-        conc = res.species_molar[idx][:, cols]
-        h += (conc @ hs[: len(labels)]) * volume_l
-    oh = res.species_molar[idx, res.species_labels.index("OH-")]
-    return h + oh * volume_l * -thermo.water_formation_kj()
+__all__ = ["Dose", "EquivalencePoint", "Plan", "Stage", "plan_neutralization"]
 
 
 # ----------------------------------------------------------------------------- the plan
@@ -282,11 +95,76 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     ------
     InvalidInput for a bad target, window, volume or a reagent of the wrong direction.
     """
+    req = _check_request(sample, reagent, target_pH, window, activity, catalog, hazards,
+                         curve_points)
+    start = _start(req)
+    demand = _proton_demand(req, start)
+    dosing = _find_doses(req, start, demand)
+    curve_res, curve_vol = _solve_curve(req, dosing)
+    pts = _solve_points(req, start, dosing, demand.n_full)
+    doses = _dose_results(req, dosing, pts, demand.n_full)
+    heat = _heat_and_gas(req, dosing, pts, curve_res, curve_vol)
+    bound, precipitates = _at_target(req, pts)
+    warnings = heat.warnings + _warnings(req, dosing, pts, doses)
+    facts = _facts(req, start, dosing, pts, doses, heat, precipitates)
+    return Plan(
+        sample=sample, reagent=reagent, direction=start.direction, activity=activity,
+        initial_pH=start.initial_pH, proton_equivalents_mol=float(demand.proton_eq),
+        breakdown=demand.breakdown, full=doses.full, to_target=doses.to_target,
+        window=req.window, window_doses=doses.window, bound_protons_at_target=bound,
+        heat_kj=heat.heat_kj, temperature_rise_c=heat.rise_c, gas_l=heat.gas_l,
+        gas_mol=heat.gas_mol, gas_conditions=gas.gas_conditions(req.temperature_c),
+        vented_pH=facts.vented_pH, vent_pco2_atm=dosing.pco2_atm,
+        pH_before_venting=heat.pH_before_venting, vented_gas_l=heat.vented_gas_l,
+        stages=doses.stages, sensitivity_pH_per_percent=doses.sensitivity,
+        curve=np.column_stack([dosing.grid, curve_res.pH]),
+        equivalence_points=doses.equivalence, precipitates=precipitates,
+        cautions=caution_rules.evaluate(facts), warnings=tuple(warnings),
+        hazards=facts.hazards, drain_plan=not caution_rules.not_for_drain(facts),
+        assumptions=heat.assumptions, curve_speciation=curve_res, curve_volume_l=curve_vol,
+    )
+
+
+# ----------------------------------------------------------------------------- the steps
+
+@dataclass(frozen=True)
+class _Request:
+    """The checked arguments of a plan."""
+
+    sample: Mixture
+    reagent: Reagent
+    catalog: object
+    activity: str
+    target: float
+    window: tuple[float, float]
+    hazards: frozenset[str]
+    curve_points: int
+
+    @property
+    def temperature_c(self) -> float:
+        return self.sample.temperature_c
+
+
+def _check_ph(what: str, value) -> float:
+    """``value`` as a pH from 0 to 14; InvalidInput naming ``what`` otherwise."""
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise InvalidInput(what, value, "must be a number") from None
+    if not math.isfinite(v) or not 0.0 <= v <= 14.0:
+        raise InvalidInput(what, value, "must be a pH between 0 and 14")
+    return v
+
+
+def _check_request(sample: Mixture, reagent: Reagent, target_ph, window, activity: str,
+                   catalog, hazards, curve_points) -> _Request:
+    """Step 1: the arguments of :func:`plan_neutralization`, checked (InvalidInput
+    naming the bad one), with the built-in catalog where none is given."""
     if catalog is None:
         from carboy.model.catalog import default_catalog
 
         catalog = default_catalog()
-    target = _check_ph("target pH", target_pH)
+    target = _check_ph("target pH", target_ph)
     try:
         lo_w, hi_w = (float(window[0]), float(window[1]))
     except (TypeError, ValueError, IndexError):
@@ -294,31 +172,40 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     lo_w, hi_w = _check_ph("window low pH", lo_w), _check_ph("window high pH", hi_w)
     if not lo_w < hi_w:
         raise InvalidInput("window", window, "the low pH must be below the high pH")
-    if activity not in ACTIVITY_MODELS:
-        raise InvalidInput("activity model", activity, f"choose one of {', '.join(ACTIVITY_MODELS)}")
+    check_model(activity)
     if sample.volume_l is None:
         raise InvalidInput("sample volume", None, "a plan needs the sample's volume")
     if not sample.totals:
         raise InvalidInput("sample", dict(sample.totals), "holds nothing to neutralize")
     if int(curve_points) < 20:
         raise InvalidInput("curve points", curve_points, "need at least 20")
-    curve_points = int(curve_points)
-    consts = thermo.planning_constants()
-    thresholds = consts["thresholds"]
-    t_c = sample.temperature_c
-    water.check_temperature(t_c)
+    water.check_temperature(sample.temperature_c)
+    return _Request(sample, reagent, catalog, activity, target, (lo_w, hi_w),
+                    frozenset(hazards), int(curve_points))
 
-    comp = dict(reagent.compound.composition)
-    model = gas.TitrationModel(sample, comp, reagent.l_per_mol, activity=activity,
-                               catalog=catalog)
+
+@dataclass(frozen=True)
+class _Start:
+    """The sample before any reagent, and which way it has to go."""
+
+    model: gas.TitrationModel
+    initial_pH: float
+    direction: str        # "base" (the pH must rise) or "acid"
+    capacity: int         # protons one formula unit of reagent moves that way
+
+
+def _start(req: _Request) -> _Start:
+    """Step 2: the sample's pH and direction; InvalidInput for a reagent that cannot
+    move the pH towards the target (judged by its capacity and its own pH)."""
+    reagent, target = req.reagent, req.target
+    model = gas.TitrationModel(req.sample, dict(reagent.compound.composition),
+                               reagent.l_per_mol, activity=req.activity, catalog=req.catalog)
     initial_pH = float(model.forward([0.0]).pH[0])
     direction = "base" if initial_pH < target else "acid"
-
-    # ---- direction of the reagent
     capacity = reagent.base_capacity if direction == "base" else reagent.acid_capacity
     own = gas.TitrationModel(Mixture.from_compounds(
-        [(reagent.compound, reagent.conc_molar or 1.0)], volume_l=1.0, temperature_c=t_c),
-        {}, 0.0, activity=activity, catalog=catalog)
+        [(reagent.compound, reagent.conc_molar or 1.0)], volume_l=1.0,
+        temperature_c=req.temperature_c), {}, 0.0, activity=req.activity, catalog=req.catalog)
     own_pH = float(own.forward([0.0]).pH[0])
     wrong = capacity <= 0 or (own_pH <= target if direction == "base" else own_pH >= target)
     if wrong:
@@ -327,129 +214,210 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
             "reagent", reagent.text or reagent.key,
             f"the sample is at pH {initial_pH:.2f} and needs {need} to reach pH {target:g}; "
             f"{reagent.key} (its own pH about {own_pH:.1f}) cannot move it that way")
+    return _Start(model, initial_pH, direction, capacity)
 
-    # ---- every dissociable proton
-    if direction == "base":
+
+@dataclass(frozen=True)
+class _Demand:
+    """Every dissociable proton: mol per component, the signed total, the full dose."""
+
+    breakdown: dict
+    proton_eq: float
+    n_full: float
+
+
+def _proton_demand(req: _Request, start: _Start) -> _Demand:
+    """Step 3: the protons to remove (base) or add (acid), per component and in all,
+    and the reagent (mol) that does it (see the module docstring)."""
+    sample, catalog = req.sample, req.catalog
+    if start.direction == "base":
         parts = _charge_parts(sample, catalog, "bottom")
-        breakdown = {_label(k, catalog): -v for k, v in parts.items()}
+        breakdown = {_component_name(k, catalog): -v for k, v in parts.items()}
         equivalents = -sum(parts.values())
-        n_full = max(equivalents, 0.0) / capacity
         proton_eq = equivalents
     else:
         parts = _charge_parts(sample, catalog, "top")
-        breakdown = {_label(k, catalog): v for k, v in parts.items()}
+        breakdown = {_component_name(k, catalog): v for k, v in parts.items()}
         equivalents = sum(parts.values())
-        n_full = max(equivalents, 0.0) / capacity
         proton_eq = -equivalents
+    return _Demand(breakdown, proton_eq, max(equivalents, 0.0) / start.capacity)
 
-    # ---- doses to the target and the window edges
-    targets = np.array([target, lo_w, hi_w])
-    carbonate = model.carb is not None
-    s_sat = gas.henry_co2_molar_per_atm(t_c) * 1.0
-    pco2 = gas.air_pco2_atm() if carbonate else None
-    s_air = gas.henry_co2_molar_per_atm(t_c) * pco2 if carbonate else None
-    if not carbonate:
-        doses = model.amount_at_pH(targets)
-        span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[doses, 0.0]))
-        span = span if span > 0 else 1e-6
-        grid = np.linspace(0.0, span, curve_points)
-        fresh_loss = None
-    else:
-        doses, grid, fresh_loss = _vented_doses(model, targets, n_full, s_sat, s_air,
-                                                curve_points)
-    # doses on the wrong side of the start are unreachable in this direction
-    for i, ph_i in enumerate(targets):
-        if (direction == "base" and ph_i <= initial_pH) or (
-                direction == "acid" and ph_i >= initial_pH):
-            doses[i] = 0.0
 
-    def batch_at(n, *, vented=True):
-        """The batch after adding ``n``: right after addition, or after venting."""
-        n = np.asarray(n, dtype=float)
-        b, vol = titration_batch(sample, comp, n, reagent.l_per_mol)
-        if fresh_loss is not None:
-            kept = _kept_carbonate_mol(model, n, fresh_loss, s_air if vented else None)
-            tot = b.totals.copy()
-            tot[:, b.keys.index(gas.CARBONATE)] = kept / vol
-            b = MixtureBatch(b.keys, tot, b.temperature_c)
-        return b, vol
+def _charge_parts(sample: Mixture, catalog, which: str) -> dict:
+    """Per-key contribution to Σ z n (ions) or n·top/bottom charge (systems), mol."""
+    out = {}
+    v = sample.volume_l
+    for key, c in sample.totals.items():
+        n = c * v
+        if key in catalog.ions:
+            out[key] = catalog.ions[key].charge * n
+        else:
+            s = catalog.systems[key]
+            out[key] = (s.top_charge if which == "top" else s.bottom_charge) * n
+    return out
 
-    cb, cvol = batch_at(grid)
-    curve_res = speciate_batch(cb, activity=activity, catalog=catalog)
-    curve = np.column_stack([grid, curve_res.pH])
 
-    # ---- the point batch: doses, stages, sensitivity, equivalence points
-    n_t = doses[0]
-    fracs = np.asarray(consts["stages"]["cumulative_fractions"], dtype=float)
-    eqs = _equivalence_amounts(sample, catalog, direction, capacity, grid[-1])
+def _component_name(key: str, catalog) -> str:
+    """What the breakdown calls a component: its strong acid (Cl- -> hydrochloric acid),
+    its system's name, its ion's name, or the key."""
+    if key in catalog.strong_acid_by_anion:
+        return catalog.strong_acid_by_anion[key]
+    if key in catalog.systems:
+        return catalog.systems[key].name
+    return catalog.ions[key].name if key in catalog.ions else key
+
+
+def _find_doses(req: _Request, start: _Start, demand: _Demand) -> Dosing:
+    """Step 4: the doses (mol) to the target and to the window's low and high edges, the
+    curve's amounts, and the batch each amount leaves (see :mod:`carboy.model.dosing`)."""
+    reagent = req.reagent
+    return find_doses(start.model, dict(reagent.compound.composition), reagent.l_per_mol,
+                      np.array([req.target, *req.window]), demand.n_full,
+                      initial_pH=start.initial_pH, direction=start.direction,
+                      points=req.curve_points)
+
+
+def _solve_curve(req: _Request, dosing: Dosing) -> tuple[BatchSpeciation, np.ndarray]:
+    """Step 5: the vented batch at every amount of the curve grid, solved at once, and
+    its volumes (L)."""
+    cb, cvol = dosing.batch_at(dosing.grid)
+    return speciate_batch(cb, activity=req.activity, catalog=req.catalog), cvol
+
+
+@dataclass(frozen=True)
+class _Points:
+    """One batch solve of every state the plan reports besides the curve, in this
+    order: the full dose, the target, the window's low and high edges, the stages,
+    0.99 and 1.01 times the target dose, the equivalence points."""
+
+    res: BatchSpeciation
+    volume_l: np.ndarray
+    stage_fractions: np.ndarray
+    equivalence: list          # (mol, system, step, label) from equivalence_amounts
+
+    TARGET: ClassVar[int] = 1
+    FIRST_STAGE: ClassVar[int] = 4
+
+    @property
+    def first_sensitivity(self) -> int:
+        return self.FIRST_STAGE + len(self.stage_fractions)
+
+    @property
+    def first_equivalence(self) -> int:
+        return self.first_sensitivity + 2
+
+
+def _solve_points(req: _Request, start: _Start, dosing: Dosing, n_full: float) -> _Points:
+    """Step 6: the states at the full dose, the doses, the stages (planning.toml
+    ``[stages]``), ±1 % of the target dose and the labelled equivalence points."""
+    fracs = np.asarray(thermo.planning_constants()["stages"]["cumulative_fractions"],
+                       dtype=float)
+    eqs = equivalence_amounts(req.sample, req.catalog, start.direction, start.capacity,
+                              dosing.grid[-1])
+    base_t = dosing.target_mol
     pts = [n_full]
-    pts += [d if np.isfinite(d) else 0.0 for d in doses]
-    reach_t = bool(np.isfinite(n_t))
-    base_t = n_t if reach_t else 0.0
+    pts += [d if np.isfinite(d) else 0.0 for d in dosing.doses]
     pts += list(fracs * base_t) + [0.99 * base_t, 1.01 * base_t]
     pts += [e[0] for e in eqs]
-    pb, pvol = batch_at(np.asarray(pts))
-    pres = speciate_batch(pb, activity=activity, catalog=catalog)
-    ph_pts = pres.pH
+    pb, pvol = dosing.batch_at(np.asarray(pts))
+    pres = speciate_batch(pb, activity=req.activity, catalog=req.catalog)
+    return _Points(pres, pvol, fracs, eqs)
 
-    def dose(i_pt, n, tgt=None):
-        if n is None or not np.isfinite(n):
-            return Dose(None, None, None, None, None, tgt)
-        return Dose(float(n), reagent.volume_l(n), reagent.mass_g(n), float(ph_pts[i_pt]),
-                    float(pvol[i_pt]), tgt)
 
-    full = dose(0, n_full)
-    to_target = dose(1, doses[0], target)
-    window_doses = (dose(2, doses[1], lo_w), dose(3, doses[2], hi_w))
-    i_st = 4
+@dataclass(frozen=True)
+class _Doses:
+    """What the plan reports at each dose of interest."""
+
+    full: Dose
+    to_target: Dose
+    window: tuple[Dose, Dose]
+    stages: tuple[Stage, ...]
+    sensitivity: float
+    equivalence: tuple[EquivalencePoint, ...]
+
+
+def _dose(reagent: Reagent, pts: _Points, i_pt: int, n, target=None) -> Dose:
+    """The :class:`Dose` of ``n`` mol, whose state is point ``i_pt`` (unreachable: NaN)."""
+    if n is None or not np.isfinite(n):
+        return Dose(None, None, None, None, None, target)
+    return Dose(float(n), reagent.volume_l(n), reagent.mass_g(n), float(pts.res.pH[i_pt]),
+                float(pts.volume_l[i_pt]), target)
+
+
+def _dose_results(req: _Request, dosing: Dosing, pts: _Points, n_full: float) -> _Doses:
+    """Step 7: doses, staged additions, the pH change per 1 % of the target dose and
+    the equivalence points, read from the point solve."""
+    reagent, doses, ph = req.reagent, dosing.doses, pts.res.pH
+    base_t = dosing.target_mol
     stages = []
     prev = 0.0
-    for j, f in enumerate(fracs):
+    for j, f in enumerate(pts.stage_fractions):
         cum = f * base_t
         add = cum - prev
         stages.append(Stage(j + 1, add, cum, reagent.volume_l(add), reagent.mass_g(add),
-                            float(ph_pts[i_st + j])))
+                            float(ph[pts.FIRST_STAGE + j])))
         prev = cum
-    i_sens = i_st + len(fracs)
-    sensitivity = float(abs(ph_pts[i_sens + 1] - ph_pts[i_sens]) / 2.0) if reach_t else 0.0
-    i_eq = i_sens + 2
+    i_sens = pts.first_sensitivity
+    sensitivity = (float(abs(ph[i_sens + 1] - ph[i_sens]) / 2.0) if dosing.target_reached
+                   else 0.0)
     equivalence = tuple(
-        EquivalencePoint(float(n), float(ph_pts[i_eq + j]), sysk, step, label)
-        for j, (n, sysk, step, label) in enumerate(eqs))
+        EquivalencePoint(float(n), float(ph[pts.first_equivalence + j]), sysk, step, label)
+        for j, (n, sysk, step, label) in enumerate(pts.equivalence))
+    lo_w, hi_w = req.window
+    return _Doses(
+        full=_dose(reagent, pts, 0, n_full),
+        to_target=_dose(reagent, pts, 1, doses[0], req.target),
+        window=(_dose(reagent, pts, 2, doses[1], lo_w), _dose(reagent, pts, 3, doses[2], hi_w)),
+        stages=tuple(stages), sensitivity=sensitivity, equivalence=equivalence)
 
-    # ---- bound protons at the target
-    i_tp = 1
-    at_target = pres.point(i_tp)
-    bound = {key: at_target.mean_protons_bound(key) for key in pres.system_keys
-             if key in sample.totals}
 
-    # ---- heat, temperature, gas
-    n_end = base_t
-    h_final = _state_enthalpy_kj(pres, np.array([i_tp]), pvol[[i_tp]], catalog)[0]
-    h_start = _state_enthalpy_kj(curve_res, np.array([0]), cvol[[0]], catalog)[0]
-    gas_mol = vented_gas_mol = 0.0
+@dataclass(frozen=True)
+class _Heat:
+    """Heat and gas of the dose to the target."""
+
+    heat_kj: float
+    rise_c: float
+    gas_mol: float
+    gas_l: float
+    vented_gas_l: float
+    pH_before_venting: float | None
+    warnings: list[str]
+    assumptions: tuple[str, ...]
+
+
+_HEAT_ASSUMPTIONS = (
+    "heat: adiabatic batch, heat capacity of water; species enthalpies at 25 °C, "
+    "infinite dilution (CODATA-derived water formation -55.815 kJ/mol)",
+    "gas volume at {conditions}",
+    "CO2 beyond its solubility at 1 atm leaves as it forms and does not return; doses, "
+    "stages and the curve are for the batch after it has vented to air (dissolved CO2 "
+    "no higher than in equilibrium with air, none taken up from it)",
+    "local disposal rules set the real acceptance window",
+)
+
+
+def _heat_and_gas(req: _Request, dosing: Dosing, pts: _Points, curve_res: BatchSpeciation,
+                  curve_vol: np.ndarray) -> _Heat:
+    """Step 8: heat released (``thermo``: species enthalpies, CO2 leaving, a solid's heat
+    of solution, a concentrate's heat of dilution), the adiabatic temperature rise,
+    and the CO2 given off, with the pH right after the addition."""
+    reagent, catalog, t_c = req.reagent, req.catalog, req.temperature_c
+    n_end = dosing.target_mol
+    i_tp = pts.TARGET
+    h_final = thermo.state_enthalpy_kj(pts.res, np.array([i_tp]), pts.volume_l[[i_tp]],
+                                       catalog)[0]
+    h_start = thermo.state_enthalpy_kj(curve_res, np.array([0]), curve_vol[[0]], catalog)[0]
+    # right after the addition: CO2 beyond saturation at 1 atm has left; by the time the
+    # batch has vented to air, more has gone: that is the final state
+    gas_mol, vented_gas_mol = dosing.co2_lost_mol(n_end)
     fresh_ph = None
-    if fresh_loss is not None:
-        # right after the addition: CO2 beyond saturation at 1 atm has left
-        gas_mol = float(fresh_loss(np.array([n_end]))[0])
-        fb, _ = batch_at([n_end], vented=False)
-        fresh_ph = float(speciate_batch(fb, activity=activity, catalog=catalog).pH[0])
-        # by the time it has vented to air, more has gone: that is the final state
-        vented_gas_mol = float(model.carbonate_total_mol([n_end])[0]
-                               - _kept_carbonate_mol(model, np.array([n_end]), fresh_loss,
-                                                     s_air)[0])
-    heat = h_final - h_start - n_end * _reagent_enthalpy_kj(reagent, catalog)
+    if dosing.carbonate:
+        fb, _ = dosing.batch_at([n_end], vented=False)
+        fresh_ph = float(speciate_batch(fb, activity=req.activity, catalog=catalog).pH[0])
+    heat = h_final - h_start - n_end * thermo.reagent_enthalpy_kj(reagent, catalog)
     heat += vented_gas_mol * thermo.co2_degassing_kj()
     warnings: list[str] = []
-    assumptions = [
-        "heat: adiabatic batch, heat capacity of water; species enthalpies at 25 °C, "
-        "infinite dilution (CODATA-derived water formation -55.815 kJ/mol)",
-        f"gas volume at {gas.gas_conditions(t_c)}",
-        "CO2 beyond its solubility at 1 atm leaves as it forms and does not return; doses, "
-        "stages and the curve are for the batch after it has vented to air (dissolved CO2 "
-        "no higher than in equilibrium with air, none taken up from it)",
-        "local disposal rules set the real acceptance window",
-    ]
+    assumptions = [a.format(conditions=gas.gas_conditions(t_c)) for a in _HEAT_ASSUMPTIONS]
     if reagent.is_solid:
         sol = thermo.heat_of_solution_kj(reagent.key)
         if sol is not None:
@@ -462,214 +430,66 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
         else:
             warnings.append(f"no dilution-heat data for {reagent.describe()}: its heat of "
                             "dilution is not included, so the heat is underestimated")
-    mass = sample.volume_l * 1000.0 * water.density_g_cm3(t_c) + reagent.mass_g(n_end)
+    mass = req.sample.volume_l * 1000.0 * water.density_g_cm3(t_c) + reagent.mass_g(n_end)
     rise = thermo.temperature_rise_k(heat, mass, t_c)
     vm = gas.molar_volume_l(t_c, gas.gas_pressure_kpa())
-    gas_l = gas_mol * vm
-    vented = float(ph_pts[i_tp]) if carbonate else None
+    return _Heat(float(heat), float(rise), gas_mol, float(gas_mol * vm),
+                 float(vented_gas_mol * vm), fresh_ph, warnings, tuple(assumptions))
 
-    # ---- precipitates at the target state
-    species = {lab: float(c) for lab, c in zip(pres.species_labels, pres.species_molar[i_tp])}
-    charges = dict(zip(pres.species_labels, pres.species_charges))
-    precipitates = saturation_indices(species, pres.log_gamma_by_charge[i_tp], charges, t_c)
+
+def _at_target(req: _Request, pts: _Points) -> tuple[dict, tuple[Precipitate, ...]]:
+    """Step 9: at the target state, the protons each sample system still holds and the
+    saturation of every tabulated solid."""
+    res, i_tp = pts.res, pts.TARGET
+    at_target = res.point(i_tp)
+    bound = {key: at_target.mean_protons_bound(key) for key in res.system_keys
+             if key in req.sample.totals}
+    species = {lab: float(c) for lab, c in zip(res.species_labels, res.species_molar[i_tp])}
+    charges = dict(zip(res.species_labels, res.species_charges))
+    found = saturation_indices(species, res.log_gamma_by_charge[i_tp], charges,
+                               req.temperature_c)
+    return bound, found
+
+
+def _warnings(req: _Request, dosing: Dosing, pts: _Points, doses: _Doses) -> list[str]:
+    """Step 10: the solver's warnings at the target state, doses that cannot be reached,
+    and a dose to target whose re-solved pH misses the target."""
+    key, target = req.reagent.key, req.target
+    warnings = list(dict.fromkeys(pts.res.warnings[pts.TARGET]))
+    reach_t = dosing.target_reached
+    if not reach_t:
+        warnings.append(f"{key} cannot reach pH {target:g}")
+    for d, name in ((doses.window[0], "low"), (doses.window[1], "high")):
+        if not d.reachable:
+            warnings.append(f"{key} cannot reach the window's {name} edge")
+    check = abs(doses.to_target.pH - target) if reach_t and dosing.doses[0] > 0 else 0.0
+    if check > 1e-4:
+        warnings.append(f"the dose to target re-solved at pH {doses.to_target.pH:.4f} "
+                        f"(asked {target:g}): treat the dose as approximate")
+    return warnings
+
+
+def _facts(req: _Request, start: _Start, dosing: Dosing, pts: _Points, doses: _Doses,
+           heat: _Heat, precipitates: tuple[Precipitate, ...]) -> caution_rules.Facts:
+    """Step 11: what the caution rules look at, from the request and every step."""
+    reagent = req.reagent
     slurry_limit, slurry_exceeded = "", False
     if reagent.is_slurry:
-        solid = consts["slurry"][reagent.key]
-        rec = next(r for r in consts["ksp"] if r["solid"] == solid)
-        slurry_limit = (f"{solid}, Ksp 10^{rec['log10_ksp']:g} at 25 °C, {rec['source']} "
-                        f"[{rec['status']}]")
-        slurry_exceeded = any(p.solid == solid and p.expected for p in precipitates)
-
-    # ---- warnings from the solver
-    for w in dict.fromkeys(w for ws in (pres.warnings[i_tp],) for w in ws):
-        warnings.append(w)
-    if not reach_t:
-        warnings.append(f"{reagent.key} cannot reach pH {target:g}")
-    for d, name in ((window_doses[0], "low"), (window_doses[1], "high")):
-        if not d.reachable:
-            warnings.append(f"{reagent.key} cannot reach the window's {name} edge")
-    check = abs(to_target.pH - target) if reach_t and doses[0] > 0 else 0.0
-    if check > 1e-4:
-        warnings.append(f"the dose to target re-solved at pH {to_target.pH:.4f} "
-                        f"(asked {target:g}): treat the dose as approximate")
-
-    all_hazards = frozenset(hazards) | derived_hazards(sample) | reagent.compound.hazards
-    facts = caution_rules.Facts(
-        hazards=all_hazards, direction=direction, reagent_key=reagent.key,
+        slurry_limit, slurry_exceeded = slurry_check(reagent.key, precipitates)
+    t_c = req.temperature_c
+    return caution_rules.Facts(
+        hazards=req.hazards | derived_hazards(req.sample.totals) | reagent.compound.hazards,
+        direction=start.direction, reagent_key=reagent.key,
         reagent_form=reagent.form, reagent_hazards=reagent.compound.hazards,
         reagent_is_slurry=reagent.is_slurry, reagent_has_carbonate=reagent.has_carbonate,
         slurry_limit=slurry_limit, slurry_exceeded=slurry_exceeded,
-        temperature_rise_k=rise, final_temperature_c=t_c + rise, gas_l=gas_l,
-        carbonate_present=carbonate, pH_before_venting=fresh_ph, vented_pH=vented, sensitivity_pH_per_percent=sensitivity,
-        ionic_strength_molar=float(pres.ionic_strength_molar[i_tp]),
-        max_total_molar=max(sample.totals.values()),
+        temperature_rise_k=heat.rise_c, final_temperature_c=t_c + heat.rise_c,
+        gas_l=heat.gas_l, carbonate_present=dosing.carbonate,
+        pH_before_venting=heat.pH_before_venting,
+        vented_pH=float(pts.res.pH[pts.TARGET]) if dosing.carbonate else None,
+        sensitivity_pH_per_percent=doses.sensitivity,
+        ionic_strength_molar=float(pts.res.ionic_strength_molar[pts.TARGET]),
+        max_total_molar=max(req.sample.totals.values()),
         expected_solids=tuple(p.solid for p in precipitates if p.expected),
-        target_reached=reach_t, thresholds=dict(thresholds))
-    found = caution_rules.evaluate(facts)
-    return Plan(
-        sample=sample, reagent=reagent, direction=direction, activity=activity,
-        initial_pH=initial_pH, proton_equivalents_mol=float(proton_eq), breakdown=breakdown,
-        full=full, to_target=to_target, window=(lo_w, hi_w), window_doses=window_doses,
-        bound_protons_at_target=bound, heat_kj=float(heat), temperature_rise_c=float(rise),
-        gas_l=float(gas_l), gas_mol=gas_mol, gas_conditions=gas.gas_conditions(t_c),
-        vented_pH=vented, vent_pco2_atm=pco2, pH_before_venting=fresh_ph,
-        vented_gas_l=float(vented_gas_mol * vm), stages=tuple(stages),
-        sensitivity_pH_per_percent=sensitivity, curve=curve,
-        equivalence_points=equivalence, precipitates=precipitates, cautions=found,
-        warnings=tuple(warnings), hazards=all_hazards,
-        drain_plan=not caution_rules.not_for_drain(facts), assumptions=tuple(assumptions),
-        curve_speciation=curve_res, curve_volume_l=cvol,
-    )
-
-
-def _fresh_loss(model: gas.TitrationModel, grid: np.ndarray, s_sat: float):
-    """L(n): CO2 lost (mol) right after adding n, with saturation at 1 atm.
-
-    CO2(aq) beyond ``s_sat`` leaves as it forms, and lost CO2 never returns: the loss
-    at n is the largest loss needed anywhere along the addition up to n.
-    """
-    run = np.maximum.accumulate(model.saturation_loss_mol(grid, s_sat))
-
-    def loss_of(n):
-        n = np.atleast_1d(np.asarray(n, dtype=float))
-        idx = np.clip(np.searchsorted(grid, n, side="right") - 1, 0, len(run) - 1)
-        return np.maximum(run[idx], model.saturation_loss_mol(n, s_sat))
-
-    return loss_of
-
-
-def _kept_carbonate_mol(model: gas.TitrationModel, n: np.ndarray, fresh_loss,
-                        s_air: float | None) -> np.ndarray:
-    """Carbonate left (mol) after adding ``n``: right after the addition (``s_air``
-    None), or once vented to air, where CO2(aq) falls to ``s_air`` if it was above it
-    (carbonate only leaves; none is taken up from the air)."""
-    kept = np.maximum(model.carbonate_total_mol(n) - fresh_loss(n), 0.0)
-    if s_air is None:
-        return kept
-    air = model.forward(n, co2_molar=s_air)
-    return np.minimum(kept, air.carbonate_molar() * air.volume_l)
-
-
-def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, points):
-    """Doses that reach each target pH once the batch has vented, the curve grid, and
-    the right-after-addition loss function.
-
-    The vented pH V(n) is that of the batch holding min(C_fresh(n), C_air(n)) carbonate
-    (C_air: the total with CO2(aq) at the air's level).  Its root is either the exact
-    open-system inverse (where the min is C_air) or the fresh-state root (where it is
-    C_fresh); each candidate is checked against the min it assumed.
-    """
-    n_air = model.amount_at_pH(targets, co2_molar=s_air)
-    span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[n_air, 0.0]))
-    span = span if span > 0 else 1e-6
-    grid = np.linspace(0.0, span, points)
-    loss_of = _fresh_loss(model, grid, s_sat)
-    doses = np.full(len(targets), np.nan)
-    ok = np.isfinite(n_air)
-    if ok.any():
-        na = n_air[ok]
-        fresh = model.carbonate_total_mol(na) - loss_of(na)
-        air = model.forward(na, co2_molar=s_air)
-        degassing = air.carbonate_molar() * air.volume_l <= fresh * (1 + 1e-9)
-        doses[np.flatnonzero(ok)[degassing]] = na[degassing]
-    todo = np.flatnonzero(np.isnan(doses))
-    if todo.size:
-        # no degassing at the target: the fresh state is the final one
-        loss = np.zeros(todo.size)
-        for _ in range(6):
-            n = model.amount_at_pH(targets[todo], carbonate_loss_mol=loss)
-            doses[todo] = n
-            good = np.isfinite(n)
-            new = loss.copy()
-            if good.any():
-                new[good] = loss_of(n[good])
-            moving = good & (np.abs(new - loss) > 1e-12 + 1e-9 * np.abs(loss))
-            if not moving.any():
-                break
-            todo, loss = todo[moving], new[moving]
-    far = np.nanmax(np.r_[doses, 0.0])
-    if CURVE_SPAN * far > span * 1.0001:
-        grid = np.linspace(0.0, CURVE_SPAN * max(far, n_full), points)
-        loss_of = _fresh_loss(model, grid, s_sat)
-    return doses, grid, loss_of
-
-
-def _equivalence_amounts(sample: Mixture, catalog, direction: str, capacity: int,
-                         n_max: float) -> list[tuple[float, str, int, str]]:
-    """Stoichiometric equivalence points worth labelling: (mol reagent, system, step, label).
-
-    Rule (planning.toml [equivalence]): steps of every sample system are ordered by pKa
-    (descending for an acid reagent) and grouped while neighbours are less than
-    ``min_pka_gap`` apart, or both are "strong-like" (pKa below ``strong_like_pka``, or
-    within that distance of pKw for bases); one point per group, at the amount that
-    completes the group.  A final group too close to the end of the pH scale
-    (within ``visible_within_pkw_margin`` of pKw, or of 0 for an acid reagent) shows no
-    end point and is left out.
-    """
-    rule = thermo.planning_constants()["equivalence"]
-    gap = float(rule["min_pka_gap"])
-    strong_like = float(rule["strong_like_pka"])
-    margin = float(rule["visible_within_pkw_margin"])
-    pkw = water.pkw(sample.temperature_c)
-    v = sample.volume_l
-    ion_q = sum(catalog.ions[k].charge * c * v for k, c in sample.totals.items()
-                if k in catalog.ions)
-    steps = []
-    systems = {}
-    for key, c in sample.totals.items():
-        if key in catalog.ions:
-            continue
-        s = catalog.systems[key]
-        if s.strong_steps == s.n_steps:
-            ion_q += s.bottom_charge * c * v
-            continue
-        systems[key] = (s, c * v)
-        for j, pk in enumerate(s.pka25):
-            steps.append((pk if j >= s.strong_steps else -math.inf, key, j))
-    base = direction == "base"
-    steps.sort(key=lambda t: t[0], reverse=not base)
-
-    def strongish(pk):
-        return pk <= strong_like if base else pk >= pkw - strong_like
-
-    def amount(done):
-        q = ion_q
-        for key, (s, n) in systems.items():
-            k_done = sum(1 for _, kk, _ in done if kk == key)
-            charge = s.top_charge - k_done if base else s.bottom_charge + k_done
-            q += charge * n
-        return (-q if base else q) / capacity
-
-    groups: list[list] = []
-    lead = [st for st in steps if strongish(st[0])]
-    rest = [st for st in steps if not strongish(st[0])]
-    has_strong_ions = ion_q < 0 if base else ion_q > 0
-    if lead or has_strong_ions:
-        groups.append(lead)
-    for st in rest:
-        if groups and groups[-1] and abs(st[0] - groups[-1][-1][0]) < gap:
-            groups[-1].append(st)
-        elif groups and not groups[-1] and abs(st[0] - (0.0 if base else pkw)) < gap:
-            groups[-1].append(st)
-        else:
-            groups.append([st])
-    out = []
-    done: list = []
-    for g in groups:
-        done = done + g
-        last_pk = g[-1][0] if g else (-math.inf if base else math.inf)
-        if (base and last_pk > pkw - margin) or (not base and last_pk < margin):
-            break
-        n = amount(done)
-        if not (n > 0) or n > n_max:
-            continue
-        names = []
-        if not any(True for _ in out) and has_strong_ions and (not g or strongish(g[0][0])):
-            anions = [catalog.strong_acid_by_anion.get(k, k) for k in sample.totals
-                      if k in catalog.strong_acid_by_anion] if base else ["hydroxide"]
-            names += anions
-        names += [f"{catalog.systems[k].name} {ORDINALS[j] if base else ORDINALS[j]}"
-                  for _, k, j in g]
-        sysk, step = (g[-1][1], g[-1][2] + 1) if g else ("strong", 1)
-        out.append((n, sysk, step, " + ".join(names) if names else sysk))
-    return out
+        target_reached=dosing.target_reached,
+        thresholds=dict(thermo.planning_constants()["thresholds"]))

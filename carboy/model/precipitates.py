@@ -64,3 +64,14 @@ def saturation_indices(species_molar: Mapping[str, float], log_gamma_by_charge,
         out.append(Precipitate(rec["solid"], si, si > 0.0,
                                f"{rec['source']} [{rec['status']}]", note))
     return tuple(out)
+
+
+def slurry_check(reagent_key: str, found: tuple[Precipitate, ...]) -> tuple[str, bool]:
+    """For a reagent fed as a slurry: its solid's solubility note (Ksp with source) and
+    whether ``found`` (the final batch's saturation) expects that solid to remain."""
+    consts = planning_constants()
+    solid = consts["slurry"][reagent_key]
+    rec = next(r for r in consts["ksp"] if r["solid"] == solid)
+    limit = (f"{solid}, Ksp 10^{rec['log10_ksp']:g} at 25 °C, {rec['source']} "
+             f"[{rec['status']}]")
+    return limit, any(p.solid == solid and p.expected for p in found)

@@ -25,10 +25,15 @@ from __future__ import annotations
 import functools
 import math
 from collections.abc import Mapping
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from carboy.model import water
+
+if TYPE_CHECKING:
+    from carboy.model.reagents import Reagent
+    from carboy.model.speciation import BatchSpeciation
 
 
 @functools.lru_cache(maxsize=1)
@@ -55,6 +60,44 @@ def species_enthalpies(system) -> tuple[float, ...]:
     for dh in system.dh_kj:
         out.append(out[-1] + float(dh))
     return tuple(out)
+
+
+def reagent_enthalpy_kj(reagent: Reagent, catalog) -> float:
+    """Enthalpy of one mol of reagent in its nominal formula state, kJ.
+
+    The formula unit's ions fix how many protons each system has lost (Na2CO3:
+    carbonate as CO3 2-); positive charge the systems leave unbalanced is OH- (NaOH).
+    """
+    comp = reagent.compound.composition
+    remaining = sum(catalog.ions[k].charge * c for k, c in comp.items() if k in catalog.ions)
+    h = 0.0
+    for key, count in comp.items():
+        if key in catalog.ions:
+            continue
+        s = catalog.systems[key]
+        d = -remaining / count
+        d = int(round(min(max(d, s.bottom_charge), s.top_charge)))
+        j = s.top_charge - d
+        h += count * species_enthalpies(s)[j]
+        remaining += count * d
+    if remaining > 0:
+        h += remaining * -water_formation_kj()
+    return h
+
+
+def state_enthalpy_kj(res: BatchSpeciation, idx: np.ndarray, volume_l: np.ndarray,
+                      catalog) -> np.ndarray:
+    """Enthalpy (kJ) of the solved states ``idx`` of ``res``, of volumes ``volume_l``."""
+    h = np.zeros(len(idx))
+    for k, key in enumerate(res.system_keys):
+        s = catalog.systems[key]
+        hs = np.asarray(species_enthalpies(s)[s.strong_steps:])
+        labels = res.system_labels[k]
+        cols = [res.species_labels.index(lab) for lab in labels]
+        conc = res.species_molar[idx][:, cols]
+        h += (conc @ hs[: len(labels)]) * volume_l
+    oh = res.species_molar[idx, res.species_labels.index("OH-")]
+    return h + oh * volume_l * -water_formation_kj()
 
 
 def heat_of_solution_kj(compound_key: str) -> tuple[float, str] | None:

@@ -1,6 +1,7 @@
 """Properties of plans (hypothesis)."""
 
 import numpy as np
+import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -37,7 +38,10 @@ def test_full_dose_not_below_dose_to_7(totals):
     p = plan_neutralization(sample(totals), NAOH, curve_points=50)
     # up to the few 1e-7 mol/L that move neutral water (pH pKw/2 = 6.998 at 25 °C) to pH 7
     assert p.full.reagent_mol >= p.to_target.reagent_mol - 1e-6 * p.sample.volume_l
-    assert len(p.cautions) > 0
+    # the dose to the target, re-solved forward, lands on the target (the planner itself
+    # warns beyond 1e-4 pH)
+    assert p.to_target.pH == pytest.approx(7.0, abs=1e-4)
+    assert not any("approximate" in w for w in p.warnings)
 
 
 @settings(max_examples=15, deadline=None)
@@ -56,4 +60,11 @@ def test_balances_on_the_curve(totals):
     charge = res.species_molar @ np.asarray(res.species_charges, dtype=float)
     scale = res.species_molar @ np.abs(res.species_charges)
     assert np.all(np.abs(charge) <= 1e-8 * scale + 1e-14)
-    assert cat is not None
+    # amounts (mol): every sample component stays what the 0.5 L sample held, however
+    # diluted, and the sodium is what the reagent brought at each point of the curve
+    for key, c in p.sample.totals.items():
+        assert np.allclose(batch.totals[:, batch.keys.index(key)] * vol, c * 0.5,
+                           rtol=1e-12, atol=0)
+    na_per_mol = cat.compound("NaOH").composition["Na+"]
+    assert np.allclose(batch.totals[:, batch.keys.index("Na+")] * vol,
+                       p.curve[:, 0] * na_per_mol, rtol=1e-12, atol=0)

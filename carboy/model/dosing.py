@@ -1,0 +1,196 @@
+"""Where a dose lands: the doses that reach given pHs, and the batch after any dose.
+
+The doses are exact inverses of the titration (see
+:meth:`~carboy.model.gas.TitrationModel.amount_at_pH`).  When carbonate is present,
+CO2(aq) beyond its solubility at 1 atm leaves as it forms and lost CO2 never returns:
+the carbonate kept after adding n is the total added minus the running maximum of the
+loss needed to bring CO2(aq) down to saturation along the addition.  Once the batch
+has vented to air, CO2(aq) falls further, to K_H·pCO2(air) (none is taken up from the
+air).  Doses, stages and the curve are for the vented batch; :meth:`Dosing.batch_at`
+also gives the state right after the addition.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
+
+import numpy as np
+
+from carboy.model import gas
+from carboy.model.mixture import MixtureBatch, titration_batch
+
+CURVE_SPAN = 1.3
+"""The pH curve runs from 0 to this times the largest dose of interest."""
+
+LossFunction = Callable[[np.ndarray], np.ndarray]
+"""n (mol reagent) -> CO2 lost (mol) right after adding n."""
+
+
+@dataclass(frozen=True)
+class Dosing:
+    """The doses of a plan and the batch each amount of reagent leaves.
+
+    ``doses`` holds the amounts (mol) that reach the target pH and the two window edges,
+    in the order asked: 0 where the sample is already past that pH, NaN where the
+    reagent cannot reach it.  ``grid`` is the curve's amounts.  ``fresh_loss`` (None
+    without carbonate) gives the CO2 lost right after an addition; ``s_air`` is the
+    CO2(aq) of a batch vented to air (mol/L) and ``pco2_atm`` the air's CO2 pressure.
+    """
+
+    model: gas.TitrationModel
+    composition: Mapping[str, float]
+    l_per_mol: float
+    doses: np.ndarray
+    grid: np.ndarray
+    fresh_loss: LossFunction | None
+    s_air: float | None
+    pco2_atm: float | None
+
+    @property
+    def carbonate(self) -> bool:
+        """True when CO2 can leave the batch (carbonate is present)."""
+        return self.fresh_loss is not None
+
+    @property
+    def target_reached(self) -> bool:
+        """True when the first dose asked for (the target) is reachable."""
+        return bool(np.isfinite(self.doses[0]))
+
+    @property
+    def target_mol(self) -> float:
+        """The dose to the target, or 0 where it cannot be reached."""
+        return self.doses[0] if self.target_reached else 0.0
+
+    def batch_at(self, n, *, vented: bool = True) -> tuple[MixtureBatch, np.ndarray]:
+        """The batch after adding each amount ``n`` (mol) and its volumes (L): once vented
+        to air (default), or right after the addition (``vented=False``)."""
+        n = np.asarray(n, dtype=float)
+        b, vol = titration_batch(self.model.sample, self.composition, n, self.l_per_mol)
+        if self.fresh_loss is not None:
+            kept = kept_carbonate_mol(self.model, n, self.fresh_loss,
+                                      self.s_air if vented else None)
+            tot = b.totals.copy()
+            tot[:, b.keys.index(gas.CARBONATE)] = kept / vol
+            b = MixtureBatch(b.keys, tot, b.temperature_c)
+        return b, vol
+
+    def co2_lost_mol(self, n_end: float) -> tuple[float, float]:
+        """CO2 given off (mol) by adding ``n_end``: right after the addition, and in all
+        once the batch has vented to air (0, 0 without carbonate)."""
+        if self.fresh_loss is None:
+            return 0.0, 0.0
+        fresh = float(self.fresh_loss(np.array([n_end]))[0])
+        vented = float(self.model.carbonate_total_mol([n_end])[0]
+                       - kept_carbonate_mol(self.model, np.array([n_end]), self.fresh_loss,
+                                            self.s_air)[0])
+        return fresh, vented
+
+
+def find_doses(model: gas.TitrationModel, composition: Mapping[str, float], l_per_mol: float,
+               targets: np.ndarray, n_full: float, *, initial_pH: float,  # noqa: N803
+               direction: str, points: int) -> Dosing:
+    """The doses that reach each pH of ``targets`` and the curve grid of ``points`` amounts.
+
+    ``model`` is the sample with the reagent of ``composition`` (``l_per_mol`` litres of
+    it per mol); ``n_full`` (mol) the dose that neutralizes every dissociable proton, which
+    the curve also covers; ``direction`` ``"base"`` or ``"acid"`` from ``initial_pH``.
+    """
+    t_c = model.temperature_c
+    carbonate = model.carb is not None
+    s_sat = gas.henry_co2_molar_per_atm(t_c) * 1.0
+    pco2 = gas.air_pco2_atm() if carbonate else None
+    s_air = gas.henry_co2_molar_per_atm(t_c) * pco2 if carbonate else None
+    if not carbonate:
+        doses = model.amount_at_pH(targets)
+        span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[doses, 0.0]))
+        span = span if span > 0 else 1e-6
+        grid = np.linspace(0.0, span, points)
+        fresh_loss = None
+    else:
+        doses, grid, fresh_loss = _vented_doses(model, targets, n_full, s_sat, s_air, points)
+    # doses on the wrong side of the start are unreachable in this direction
+    for i, ph_i in enumerate(targets):
+        if (direction == "base" and ph_i <= initial_pH) or (
+                direction == "acid" and ph_i >= initial_pH):
+            doses[i] = 0.0
+    return Dosing(model, composition, l_per_mol, doses, grid, fresh_loss, s_air, pco2)
+
+
+def fresh_loss_function(model: gas.TitrationModel, grid: np.ndarray,
+                        s_sat: float) -> LossFunction:
+    """L(n): CO2 lost (mol) right after adding n, with saturation at 1 atm.
+
+    CO2(aq) beyond ``s_sat`` leaves as it forms, and lost CO2 never returns: the loss
+    at n is the largest loss needed anywhere along the addition up to n.
+    """
+    run = np.maximum.accumulate(model.saturation_loss_mol(grid, s_sat))
+
+    def loss_of(n):
+        n = np.atleast_1d(np.asarray(n, dtype=float))
+        idx = np.clip(np.searchsorted(grid, n, side="right") - 1, 0, len(run) - 1)
+        return np.maximum(run[idx], model.saturation_loss_mol(n, s_sat))
+
+    return loss_of
+
+
+def kept_carbonate_mol(model: gas.TitrationModel, n: np.ndarray, fresh_loss: LossFunction,
+                       s_air: float | None) -> np.ndarray:
+    """Carbonate left (mol) after adding ``n``: right after the addition (``s_air``
+    None), or once vented to air, where CO2(aq) falls to ``s_air`` if it was above it
+    (carbonate only leaves; none is taken up from the air)."""
+    kept = np.maximum(model.carbonate_total_mol(n) - fresh_loss(n), 0.0)
+    if s_air is None:
+        return kept
+    air = model.forward(n, co2_molar=s_air)
+    return np.minimum(kept, air.carbonate_molar() * air.volume_l)
+
+
+def _fresh_state_doses(model: gas.TitrationModel, targets, doses, todo, loss_of) -> None:
+    """Fill ``doses[todo]`` where the batch does not degas at the target, so the state
+    right after the addition is the final one: the loss and the dose are iterated
+    together (a few rounds; the loss moves little)."""
+    loss = np.zeros(todo.size)
+    for _ in range(6):
+        n = model.amount_at_pH(targets[todo], carbonate_loss_mol=loss)
+        doses[todo] = n
+        good = np.isfinite(n)
+        new = loss.copy()
+        if good.any():
+            new[good] = loss_of(n[good])
+        moving = good & (np.abs(new - loss) > 1e-12 + 1e-9 * np.abs(loss))
+        if not moving.any():
+            break
+        todo, loss = todo[moving], new[moving]
+
+
+def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, points):
+    """Doses that reach each target pH once the batch has vented, the curve grid, and
+    the right-after-addition loss function.
+
+    The vented pH V(n) is that of the batch holding min(C_fresh(n), C_air(n)) carbonate
+    (C_air: the total with CO2(aq) at the air's level).  Its root is either the exact
+    open-system inverse (where the min is C_air) or the fresh-state root (where it is
+    C_fresh); each candidate is checked against the min it assumed.
+    """
+    n_air = model.amount_at_pH(targets, co2_molar=s_air)
+    span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[n_air, 0.0]))
+    span = span if span > 0 else 1e-6
+    grid = np.linspace(0.0, span, points)
+    loss_of = fresh_loss_function(model, grid, s_sat)
+    doses = np.full(len(targets), np.nan)
+    ok = np.isfinite(n_air)
+    if ok.any():
+        na = n_air[ok]
+        fresh = model.carbonate_total_mol(na) - loss_of(na)
+        air = model.forward(na, co2_molar=s_air)
+        degassing = air.carbonate_molar() * air.volume_l <= fresh * (1 + 1e-9)
+        doses[np.flatnonzero(ok)[degassing]] = na[degassing]
+    todo = np.flatnonzero(np.isnan(doses))
+    if todo.size:
+        _fresh_state_doses(model, targets, doses, todo, loss_of)
+    far = np.nanmax(np.r_[doses, 0.0])
+    if CURVE_SPAN * far > span * 1.0001:
+        grid = np.linspace(0.0, CURVE_SPAN * max(far, n_full), points)
+        loss_of = fresh_loss_function(model, grid, s_sat)
+    return doses, grid, loss_of

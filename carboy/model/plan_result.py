@@ -1,0 +1,146 @@
+"""What a neutralization plan holds, and its JSON form (``Plan.to_dict``).
+
+The plan is computed by :func:`carboy.model.planner.plan_neutralization` (see that
+module for the modelling choices); front ends show it and the journal stores its
+``to_dict()`` as computed then.  The JSON names are a public contract: keep them.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from carboy.model.cautions import Caution
+from carboy.model.mixture import Mixture
+from carboy.model.precipitates import Precipitate
+from carboy.model.reagents import Reagent
+from carboy.model.speciation import BatchSpeciation
+
+
+@dataclass(frozen=True)
+class Dose:
+    """An amount of reagent and the state it leaves (``reagent_mol`` None: unreachable)."""
+
+    reagent_mol: float | None
+    reagent_volume_l: float | None
+    reagent_mass_g: float | None
+    pH: float | None
+    final_volume_l: float | None
+    target_pH: float | None = None
+
+    @property
+    def reachable(self) -> bool:
+        return self.reagent_mol is not None
+
+    def to_dict(self) -> dict:
+        d = {"reagent_mol": self.reagent_mol, "reagent_volume_l": self.reagent_volume_l,
+             "reagent_mass_g": self.reagent_mass_g, "pH": self.pH,
+             "final_volume_l": self.final_volume_l}
+        if self.target_pH is not None:
+            d = {"target_pH": self.target_pH, **d}
+        return d
+
+
+@dataclass(frozen=True)
+class Stage:
+    index: int
+    add_mol: float
+    cumulative_mol: float
+    add_volume_l: float | None
+    add_mass_g: float
+    pH_after: float
+
+    def to_dict(self) -> dict:
+        return dict(self.__dict__)
+
+
+@dataclass(frozen=True)
+class EquivalencePoint:
+    reagent_mol: float
+    pH: float
+    system: str
+    step: int
+    label: str
+
+    def to_dict(self) -> dict:
+        return dict(self.__dict__)
+
+
+@dataclass(frozen=True)
+class Plan:
+    """A neutralization plan; see :mod:`carboy.model.planner` for the modelling choices."""
+
+    sample: Mixture
+    reagent: Reagent
+    direction: str
+    activity: str
+    initial_pH: float
+    proton_equivalents_mol: float
+    breakdown: dict
+    full: Dose
+    to_target: Dose
+    window: tuple[float, float]
+    window_doses: tuple[Dose, Dose]
+    bound_protons_at_target: dict
+    heat_kj: float
+    temperature_rise_c: float
+    gas_l: float
+    gas_mol: float
+    gas_conditions: str
+    vented_pH: float | None
+    vent_pco2_atm: float | None
+    pH_before_venting: float | None
+    stages: tuple[Stage, ...]
+    sensitivity_pH_per_percent: float
+    curve: np.ndarray
+    equivalence_points: tuple[EquivalencePoint, ...]
+    precipitates: tuple[Precipitate, ...]
+    cautions: tuple[Caution, ...]
+    warnings: tuple[str, ...]
+    hazards: frozenset[str]
+    drain_plan: bool
+    assumptions: tuple[str, ...] = ()
+    vented_gas_l: float = 0.0
+    curve_speciation: BatchSpeciation | None = field(default=None, repr=False, compare=False)
+    curve_volume_l: np.ndarray | None = field(default=None, repr=False, compare=False)
+
+    def to_dict(self) -> dict:
+        lo, hi = self.window_doses
+        return {
+            "sample": {"totals_molar": dict(self.sample.totals), "volume_l": self.sample.volume_l,
+                       "temperature_c": self.sample.temperature_c},
+            "reagent": {"text": self.reagent.text, "understood": self.reagent.describe(),
+                        "form": self.reagent.form},
+            "direction": self.direction,
+            "activity": self.activity,
+            "initial_pH": self.initial_pH,
+            "proton_equivalents_mol": self.proton_equivalents_mol,
+            "breakdown": self.breakdown,
+            "full": {k: v for k, v in self.full.to_dict().items() if k != "final_volume_l"}
+            | {"final_volume_l": self.full.final_volume_l},
+            "to_target": self.to_target.to_dict(),
+            "window": {"low_pH": self.window[0], "high_pH": self.window[1],
+                       "low": lo.to_dict(), "high": hi.to_dict(),
+                       "note": "local disposal rules set the real acceptance window"},
+            "bound_protons_at_target": self.bound_protons_at_target,
+            "heat_kj": self.heat_kj,
+            "temperature_rise_c": self.temperature_rise_c,
+            "gas_l": self.gas_l,
+            "gas_mol": self.gas_mol,
+            "gas_conditions": self.gas_conditions,
+            "vented_pH": self.vented_pH,
+            "vent_pco2_atm": self.vent_pco2_atm,
+            "pH_before_venting": self.pH_before_venting,
+            "vented_gas_l": self.vented_gas_l,
+            "stages": [s.to_dict() for s in self.stages],
+            "sensitivity_pH_per_percent": self.sensitivity_pH_per_percent,
+            "curve": self.curve.tolist(),
+            "equivalence_points": [e.to_dict() for e in self.equivalence_points],
+            "precipitates": [p.to_dict() for p in self.precipitates],
+            "cautions": [c.to_dict() for c in self.cautions],
+            "drain_plan": self.drain_plan,
+            "hazards": sorted(self.hazards),
+            "warnings": list(self.warnings),
+            "assumptions": list(self.assumptions),
+        }

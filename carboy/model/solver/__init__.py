@@ -1,0 +1,13 @@
+"""The speciation solver's parts; the public API is :mod:`carboy.model.speciation`.
+
+``constants``       ln 10, the tolerances and iteration limits of every path
+``layout``          a solution's keys compiled, at one temperature, into arrays (pKa(T),
+                    charges, moment weights), and the amounts that fix each system
+``problem``         N solutions as the paths see them (amounts, spectator charges, bounds)
+``charge_balance``  the vectorized charge sums and their derivatives at a given log10[H+]
+``coupled``         the fast path: vectorized Newton on (log10[H+], ionic strength)
+``bracketed``       the guaranteed path: bracketed Newton inside an ionic-strength loop
+``single``          the fast path for one solution, in plain Python floats
+
+The activity model (Davies or ideal) is :mod:`carboy.model.activity`.
+"""

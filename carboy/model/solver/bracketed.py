@@ -1,0 +1,136 @@
+"""The guaranteed path: bracketed Newton for log10[H+] inside an ionic-strength loop.
+
+At a fixed ionic strength the charge balance F(x) is strictly increasing and its
+root lies inside a bracket computed from the totals alone (widened step by step when
+a state is held fixed), so a Newton iteration that falls back to bisection whenever
+a step leaves the bracket cannot miss it (:func:`root`).  Around it, the ionic
+strength is iterated to self-consistency by secant steps with a fixed-point fallback
+(:func:`solve_nested`).  Slower than the coupled fast path; it takes the points that
+path leaves unsettled.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from carboy.model.activity import davies_d
+from carboy.model.solver.charge_balance import bracket, moments
+from carboy.model.solver.constants import (
+    F_TOL,
+    I_RTOL,
+    LN10,
+    MAX_I_ITER,
+    MAX_ROOT_ITER,
+    WIDEN_STEPS,
+    X_TOL,
+)
+from carboy.model.solver.problem import Problem
+
+
+def root(x0, ad, log_kw, pr: Problem):
+    """Safeguarded Newton on F for every point at fixed ``ad`` = A·D(I); converged
+    points drop out.
+
+    Returns ``(x, done, gi)``: ``gi`` is the ionic strength of the solutes other than
+    the spectator ions at each point's last evaluation (within ``X_TOL`` of ``x``).
+    A point is done when its step is below ``X_TOL``, when |F| (a relative charge
+    imbalance) is below ``F_TOL``, or when its bracket has shrunk below ``X_TOL``.
+    """
+    lay, am, zs_pos, zs_neg = pr.lay, pr.am, pr.zs_pos, pr.zs_neg
+    lo, hi = bracket(pr.q, pr.p, log_kw)
+    if pr.open_system:
+        lo, hi = widen(lo, hi, ad, log_kw, pr)
+    x = np.clip(x0, lo, hi)
+    done = np.zeros(x.shape, dtype=bool)
+    gi = np.zeros(x.shape)
+    act = np.arange(x.shape[0])
+    for _ in range(MAX_ROOT_ITER):
+        xa = x[act]
+        mo = moments(xa, ad[act], lay, am[act])
+        psys, nsys, dpsys, dnsys, iz2 = mo["pos"], mo["neg"], mo["dpos"], mo["dneg"], mo["iz2"]
+        h = np.exp(xa * LN10)
+        oh = np.exp((log_kw[act] - xa) * LN10)
+        pos = h + zs_pos[act] + psys
+        neg = oh + zs_neg[act] + nsys
+        big_f = np.log(pos / neg)
+        fp = (LN10 * h + dpsys) / pos + (LN10 * oh - dnsys) / neg
+        la = np.where(big_f < 0, xa, lo[act])
+        ha = np.where(big_f > 0, xa, hi[act])
+        xn = xa - big_f / fp
+        out = ~((xn >= la) & (xn <= ha))
+        xn = np.where(out, 0.5 * (la + ha), xn)
+        fin = (np.abs(xn - xa) < X_TOL) | (np.abs(big_f) < F_TOL) | ((ha - la) < X_TOL)
+        x[act] = np.where(big_f == 0, xa, xn)
+        lo[act], hi[act] = la, ha
+        done[act] = fin
+        gi[act] = 0.5 * (h + oh + iz2)
+        act = act[~fin]
+        if act.size == 0:
+            break
+    return x, done, gi
+
+
+def charge_ratio(x, ad, log_kw, pr: Problem):
+    """F = ln(POS / NEG) at log10[H+] = ``x`` for every point."""
+    mo = moments(x, ad, pr.lay, pr.am)
+    return np.log((np.exp(x * LN10) + pr.zs_pos + mo["pos"])
+                  / (np.exp((log_kw - x) * LN10) + pr.zs_neg + mo["neg"]))
+
+
+def widen(lo, hi, ad, log_kw, pr: Problem):
+    """With a held state the totals no longer bound the charge: widen the bracket
+    until F(lo) < 0 < F(hi) (F is still increasing: every state gains charge with x)."""
+    lo, hi = lo.copy(), hi.copy()
+    for _ in range(WIDEN_STEPS):
+        f_lo = charge_ratio(lo, ad, log_kw, pr)
+        f_hi = charge_ratio(hi, ad, log_kw, pr)
+        bad_lo, bad_hi = ~(f_lo < 0), ~(f_hi > 0)
+        if not (bad_lo.any() or bad_hi.any()):
+            break
+        lo = np.where(bad_lo, lo - 3.0, lo)
+        hi = np.where(bad_hi, hi + 3.0, hi)
+    return lo, hi
+
+
+def next_ionic(i_now, r_now, i_prev, r_prev, g):
+    """Secant step on r(I) = g(I) - I, falling back to the plain fixed point g."""
+    if i_prev is None:
+        return g
+    denom = r_now - r_prev
+    with np.errstate(divide="ignore", invalid="ignore"):
+        sec = i_now - r_now * (i_now - i_prev) / denom
+    # accept a secant step only when it is finite, positive and no wilder than 2 plain steps
+    ok = np.isfinite(sec) & (sec > 0) & (np.abs(sec - g) <= 2.0 * np.abs(r_now))
+    return np.where(ok, sec, g)
+
+
+def solve_nested(pr: Problem, x, ionic):
+    """The guaranteed solve from the start values ``x`` (log10[H+]) and ``ionic`` (M).
+
+    Bracketed Newton for x at fixed ionic strength, inside a secant-accelerated
+    fixed-point iteration on the ionic strength (at most ``MAX_I_ITER`` rounds).
+    Returns ``(x, ionic, converged, iterations)``: converged where the root find
+    met its tolerance and the ionic strength agreed to ``I_RTOL``.
+    """
+    n = x.shape[0]
+    pkw, a_dh = pr.pkw, pr.a_dh
+    i_prev = r_prev = None
+    i_conv = np.zeros(n, dtype=bool)
+    root_ok = np.zeros(n, dtype=bool)
+    outer = 0
+    for outer in range(1, MAX_I_ITER + 1):  # noqa: B007 (used after the loop)
+        ad = a_dh * davies_d(ionic)
+        log_kw = -pkw + 2.0 * ad
+        x, root_ok, gi = root(x, ad, log_kw, pr)
+        if a_dh == 0.0:
+            i_conv[:] = True
+            break
+        g = pr.ispec + gi
+        r = g - ionic
+        i_conv = np.abs(r) <= I_RTOL * np.maximum(g, 1e-12)
+        if i_conv.all():
+            break
+        nxt = next_ionic(ionic, r, i_prev, r_prev, g)
+        i_prev, r_prev = ionic, r
+        ionic = np.where(i_conv, ionic, nxt)
+    return x, ionic, root_ok & i_conv, outer

@@ -1,0 +1,141 @@
+"""The fast path: vectorized Newton on the pair (log10[H+], ionic strength).
+
+The unknowns are x = log10[H+] and the ionic strength I; the equations are the charge
+balance F(x, I) = 0 (see ``charge_balance``) and g(x, I) = I, with g the ionic
+strength the solved species give.  Far from the root a plain Newton step in x is taken
+at a held I (the coupled step can cycle there), with a bisection guard against
+cycling on buffer plateaus; near it (plain step below ``COUPLED_NEAR``) the exact 2×2
+Newton step.  A point is accepted only on an unclipped Newton step below
+``QUADRATIC_STEP`` at a self-consistent I, so the answer is within about the square
+of that step of the solution.  Points not accepted within the step limit go to the
+guaranteed path (``bracketed``).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from carboy.model.activity import davies_d, davies_dprime
+from carboy.model.solver.charge_balance import bracket, moments
+from carboy.model.solver.constants import (
+    COUPLED_ITER,
+    COUPLED_NEAR,
+    F_TOL,
+    I_RTOL,
+    LN10,
+    QUADRATIC_STEP,
+)
+from carboy.model.solver.problem import Problem
+
+
+def _newton_2x2(pr: Problem, mo, ia, h, oh, pos, neg, big_f, f_x, g):
+    """The step (dx, I_new, I settled?) with Davies coefficients: the exact 2×2 step
+    near the root, the plain step in x at a held I far from it, and the plain update
+    g of I where the 2×2 step of I is not trusted."""
+    dd = pr.a_dh * davies_dprime(ia)            # d(AD)/dI
+    f_i = (mo["apos"] / pos - (2 * LN10 * oh + mo["aneg"]) / neg) * dd
+    g_x = 0.5 * (LN10 * (h - oh) + mo["diz2"])
+    g_i = 0.5 * (2 * LN10 * oh + mo["aiz2"]) * dd - 1.0
+    res_g = g - ia
+    det = f_x * g_i - f_i * g_x
+    with np.errstate(divide="ignore", invalid="ignore"):
+        dx = (f_i * res_g - big_f * g_i) / det
+        di = (g_x * big_f - res_g * f_x) / det
+    # far from the root the coupled step can cycle: there, take the plain Newton
+    # step in x at a held I; near it, the exact 2x2 step (or, if that fails,
+    # the plain step with the plain update of I)
+    far = np.abs(big_f / f_x) > COUPLED_NEAR
+    # ...and an ionic-strength step far from the plain update g is not trusted
+    bad = far | ~(np.isfinite(dx) & np.isfinite(di) & (ia + di > 0.5 * g)
+                  & (ia + di < 2.0 * g))
+    if bad.any():
+        dx = np.where(bad, -big_f / f_x, dx)
+        inew = np.where(far, ia, np.where(bad, g, ia + di))
+    else:
+        inew = ia + di
+    i_ok = np.abs(inew - ia) <= I_RTOL * np.maximum(inew, 1e-12)
+    return dx, inew, i_ok
+
+
+def _newton_step(pr: Problem, xa, ia):
+    """F at (xa, ia) and the Newton step from there.
+
+    Returns ``(F, dx, I_new, I settled?, log10 Kw')``; with ideal activity the step of
+    I is the plain update g and I counts as settled.
+    """
+    davies = pr.a_dh != 0.0
+    ad = pr.a_dh * davies_d(ia)
+    log_kw = 2.0 * ad - pr.pkw
+    mo = moments(xa, ad, pr.lay, pr.am, want_jac=davies)
+    h = np.exp(xa * LN10)
+    oh = np.exp((log_kw - xa) * LN10)
+    pos = h + pr.zs_pos + mo["pos"]
+    neg = oh + pr.zs_neg + mo["neg"]
+    big_f = np.log(pos / neg)
+    f_x = (LN10 * h + mo["dpos"]) / pos + (LN10 * oh - mo["dneg"]) / neg
+    g = pr.ispec + 0.5 * (h + oh + mo["iz2"])
+    if davies:
+        dx, inew, i_ok = _newton_2x2(pr, mo, ia, h, oh, pos, neg, big_f, f_x, g)
+    else:
+        dx = -big_f / f_x
+        inew = g
+        i_ok = True
+    return big_f, dx, inew, i_ok, log_kw
+
+
+def _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi):
+    """Where F was seen negative / positive while I stayed the same: a step leaving
+    that interval is replaced by its midpoint (plain Newton can cycle on a buffer
+    plateau); the memory is dropped whenever I moves.  Returns (xn, seen_lo, seen_hi)."""
+    seen_lo = np.where(held_i, np.where(big_f < 0, np.maximum(seen_lo, xa), seen_lo), -np.inf)
+    seen_hi = np.where(held_i, np.where(big_f > 0, np.minimum(seen_hi, xa), seen_hi), np.inf)
+    guard = ((xn <= seen_lo) | (xn >= seen_hi)) & np.isfinite(seen_lo) & np.isfinite(seen_hi)
+    if guard.any():
+        xn = np.where(guard, 0.5 * (np.where(guard, seen_lo, 0.0)
+                                    + np.where(guard, seen_hi, 0.0)), xn)
+    return xn, seen_lo, seen_hi
+
+
+def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER):
+    """Newton on (x, I) for every point of ``pr``, from x = -7 and the spectators' I.
+
+    Steps are kept inside the bracket of x (moderate steps for an open system, whose
+    totals do not bound it) and at positive I.  Returns ``(x, ionic, ok, iterations)``;
+    ``ok`` is False where a point was not accepted within ``max_iter`` steps.
+    """
+    n = pr.ispec.shape[0]
+    x_out = np.full(n, -7.0)
+    i_out = pr.ispec + 1e-7
+    ok = np.zeros(n, dtype=bool)
+    # working copies of the unfinished points, compacted whenever some finish
+    idx = np.arange(n)
+    xa, ia = x_out.copy(), i_out.copy()
+    cur = pr
+    seen_lo, seen_hi = np.full(n, -np.inf), np.full(n, np.inf)
+    it = 0
+    davies = pr.a_dh != 0.0
+    for it in range(1, max_iter + 1):  # noqa: B007 (used after the loop)
+        big_f, dx, inew, i_ok, log_kw = _newton_step(cur, xa, ia)
+        if cur.open_system:  # the totals do not bound a held system: keep steps moderate
+            xn = xa + np.clip(dx, -3.0, 3.0)
+        else:
+            lo, hi = bracket(cur.q, cur.p, log_kw)
+            xn = np.clip(xa + dx, lo, hi)
+        held_i = (inew == ia) | (not davies)
+        xn, seen_lo, seen_hi = _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi)
+        # accept on the Newton step itself, and keep that step (never a clipped or
+        # guarded one) as the answer
+        fin = ((np.abs(big_f) < F_TOL) | (np.abs(dx) < QUADRATIC_STEP)) & i_ok
+        xa, ia = np.where(fin, xa + dx, xn), inew
+        if fin.any():
+            done = idx[fin]
+            x_out[done], i_out[done], ok[done] = xa[fin], ia[fin], True
+            keep = ~fin
+            if not keep.any():
+                break
+            idx, xa, ia = idx[keep], xa[keep], ia[keep]
+            seen_lo, seen_hi = seen_lo[keep], seen_hi[keep]
+            cur = cur[keep]
+    else:
+        x_out[idx], i_out[idx] = xa, ia
+    return x_out, i_out, ok, it

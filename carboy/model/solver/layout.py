@@ -1,0 +1,229 @@
+"""A solution's keys compiled into arrays at one temperature: the solver's :class:`Layout`.
+
+The layout says which batch column is a weak acid–base system and which a spectator
+ion, and holds, per system, the cumulative log10 beta of each protonation state at
+the temperature (pKa by van 't Hoff, :func:`pka_at`), the charges, and the weights of
+the per-system moments the charge balance needs (see ``charge_balance``).  A system
+whose every step is strong behaves as a spectator ion of its bottom charge.  Layouts
+are pure functions of (catalog, keys, temperature) and are cached.
+
+References
+----------
+E. C. W. Clarke and D. N. Glew, Trans. Faraday Soc. 62, 539 (1966).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass
+from types import MappingProxyType
+
+import numpy as np
+
+from carboy.errors import InvalidInput
+from carboy.model import water
+from carboy.model.entities import Ion, System
+from carboy.model.solver.constants import LN10
+
+R_J_MOL_K = 8.314462618  # J/(mol K), exact since the 2019 SI (CODATA)
+T_REF_K = 298.15
+ENTHALPY_DATA_MAX_C = 77.0
+"""Upper end (350 K) of the range the ionization enthalpies were fitted over
+(Goldberg, Kishore & Lennen 2002); beyond it pKa(T) is an extrapolation."""
+
+NMOM = 12
+"""Moments per system, the columns of ``Layout.wmat``: sums of e times
+1, j, z+, z-, j z+, j z-, z², c, c z+, c z-, j z², c z² (c: the activity term of cmat)."""
+
+
+def pka_at(system: System, temperature_c: float) -> np.ndarray:
+    """pKa of each step of ``system`` at ``temperature_c`` (I = 0).
+
+    pK(T) = pK° - [ΔH°/R (1/T° - 1/T) + ΔCp°/R (ln(T/T°) + T°/T - 1)] / ln 10
+    """
+    t = water.check_temperature(temperature_c) + 273.15
+    pk0 = np.asarray(system.pka25, dtype=float)
+    dh = np.asarray(system.dh_kj, dtype=float) * 1000.0
+    dcp = np.asarray(system.dcp_j, dtype=float)
+    term = dh / R_J_MOL_K * (1.0 / T_REF_K - 1.0 / t) + dcp / R_J_MOL_K * (
+        math.log(t / T_REF_K) + T_REF_K / t - 1.0
+    )
+    return pk0 - term / LN10
+
+
+@dataclass(frozen=True)
+class Layout:
+    """Arrays describing which batch column is what, at one temperature."""
+
+    sys_cols: np.ndarray          # (K,) batch column of each weak system
+    sys_keys: tuple[str, ...]
+    sys_labels: tuple[tuple[str, ...], ...]
+    logk: np.ndarray              # (K, M-1) log10 Ka at I=0 (padded with 0)
+    zacid: np.ndarray             # (K, M-1) charge of the acid form of each step
+    z: np.ndarray                 # (K, M) charge of each state (padded 0)
+    valid: np.ndarray             # (K, M) bool
+    step_valid: np.ndarray        # (K, M-1) bool
+    zpos: np.ndarray              # (K, M) positive part of z
+    zneg: np.ndarray              # (K, M) magnitude of the negative part of z
+    sys_zmin: np.ndarray          # (K,) lowest charge of each system
+    sys_zmax: np.ndarray          # (K,) highest charge of each system
+    ion_cols: np.ndarray          # (J,) batch column of each charge-only component
+    ion_z: np.ndarray             # (J,)
+    ion_labels: tuple[str, ...]
+    charge_map: Mapping[str, int]
+    zmax: int
+    wmat: np.ndarray              # (K*M, K*NMOM) block-diagonal moment weights
+    needs_shift: bool             # could 10**(log beta - j x) leave the float range?
+    logbeta0: np.ndarray          # (K, M) cumulative log10 beta at I = 0, -inf where padded
+    cmat: np.ndarray              # (K, M) its activity term: log beta' = log beta0 - 2 A D cmat
+    flat_lb0: np.ndarray          # (S,) log beta0 of the valid states only
+    flat_c: np.ndarray            # (S,)
+    flat_j: np.ndarray            # (S,)
+    flat_w: np.ndarray            # (S, K*NMOM) the valid rows of wmat
+    py_systems: tuple             # the same, as Python tuples, for the one-solution path
+    py_ions: tuple
+
+
+def resolve(catalog, key: str) -> System | Ion:
+    """The catalog's system or ion called ``key``; InvalidInput if neither."""
+    if key in catalog.systems:
+        return catalog.systems[key]
+    if key in catalog.ions:
+        return catalog.ions[key]
+    raise InvalidInput("component", key, "is neither an acid–base system nor an ion "
+                       "in the catalog")
+
+
+@dataclass
+class _Parts:
+    """The components of a solution sorted into weak systems and spectator ions."""
+
+    sys_cols: list
+    sys_keys: list
+    sys_labels: list
+    pkas: list
+    zs: list
+    ion_cols: list
+    ion_z: list
+    ion_labels: list
+    charge_map: dict
+
+
+def _parts(catalog, keys: tuple[str, ...], temperature_c: float) -> _Parts:
+    """Sort ``keys`` into weak systems (with pKa at the temperature) and spectator ions."""
+    out = _Parts([], [], [], [], [], [], [], [], {"H+": 1, "OH-": -1})
+    for col, key in enumerate(keys):
+        comp = resolve(catalog, key)
+        if isinstance(comp, Ion):
+            out.ion_cols.append(col)
+            out.ion_z.append(comp.charge)
+            out.ion_labels.append(comp.key)
+            out.charge_map[comp.key] = comp.charge
+            continue
+        s = comp.strong_steps
+        labels = comp.species[s:]
+        charges = [comp.charge_of(j) for j in range(s, comp.n_steps + 1)]
+        if len(labels) == 1:  # every step strong: behaves as a spectator ion
+            out.ion_cols.append(col)
+            out.ion_z.append(charges[0])
+            out.ion_labels.append(labels[0])
+            out.charge_map[labels[0]] = charges[0]
+            continue
+        out.sys_cols.append(col)
+        out.sys_keys.append(key)
+        out.sys_labels.append(tuple(labels))
+        out.pkas.append(pka_at(comp, temperature_c)[s:])
+        out.zs.append(charges)
+        for lab, z in zip(labels, charges):
+            out.charge_map[lab] = z
+    return out
+
+
+def _moment_weights(z: np.ndarray, valid: np.ndarray, cmat: np.ndarray) -> np.ndarray:
+    """(K*M, K*NMOM) block-diagonal weights: one matrix product gives every moment."""
+    k, m = z.shape
+    jj = np.arange(m, dtype=float)
+    wmat = np.zeros((k * m, k * NMOM))
+    for i in range(k):
+        zp, zn, z2, c = np.maximum(z[i], 0.0), np.maximum(-z[i], 0.0), z[i] ** 2, cmat[i]
+        block = np.stack([np.ones(m), jj, zp, zn, jj * zp, jj * zn, z2,
+                          c, c * zp, c * zn, jj * z2, c * z2], axis=1)
+        wmat[i * m:(i + 1) * m, i * NMOM:(i + 1) * NMOM] = block * valid[i][:, None]
+    return wmat
+
+
+def _python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray) -> tuple:
+    """Per system: (column, per state (log beta0, c, j, z+, z-, z²), -zmin+, zmax+)."""
+    return tuple(
+        (sys_cols[i], tuple((float(lb0[i, st]), float(cmat[i, st]), float(st),
+                             float(max(zs[i][st], 0)), float(max(-zs[i][st], 0)),
+                             float(zs[i][st] ** 2)) for st in range(len(zs[i]))),
+         float(max(-min(zs[i]), 0)), float(max(max(zs[i]), 0)))
+        for i in range(len(zs))
+    )
+
+
+def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layout:
+    """The :class:`Layout` of a solution with columns ``keys`` at ``temperature_c``."""
+    pt = _parts(catalog, keys, temperature_c)
+    zs = pt.zs
+    k = len(pt.sys_keys)
+    m = max((len(z) for z in zs), default=1)
+    logk = np.zeros((k, m - 1))
+    zacid = np.zeros((k, m - 1))
+    z = np.zeros((k, m))
+    valid = np.zeros((k, m), dtype=bool)
+    for i in range(k):
+        n = len(zs[i])
+        logk[i, : n - 1] = -np.asarray(pt.pkas[i])
+        zacid[i, : n - 1] = zs[i][:-1]
+        z[i, :n] = zs[i]
+        valid[i, :n] = True
+    zmax = max([1] + [abs(c) for c in pt.charge_map.values()])
+    jj = np.arange(m, dtype=float)
+    cmat = np.concatenate([np.zeros((k, 1)), np.cumsum(np.where(valid[:, 1:], zacid - 1.0, 0.0),
+                                                       axis=1)], axis=1)
+    wmat = _moment_weights(z, valid, cmat)
+    lb0 = np.where(valid, np.concatenate([np.zeros((k, 1)), np.cumsum(logk, axis=1)], axis=1),
+                   -np.inf)
+    return Layout(
+        sys_cols=np.asarray(pt.sys_cols, dtype=int), sys_keys=tuple(pt.sys_keys),
+        sys_labels=tuple(pt.sys_labels), logk=logk, zacid=zacid, z=z, valid=valid,
+        step_valid=valid[:, 1:], zpos=np.maximum(z, 0.0), zneg=np.maximum(-z, 0.0),
+        sys_zmin=np.array([min(c) for c in zs]), sys_zmax=np.array([max(c) for c in zs]),
+        ion_cols=np.asarray(pt.ion_cols, dtype=int), ion_z=np.asarray(pt.ion_z, dtype=float),
+        ion_labels=tuple(pt.ion_labels), charge_map=MappingProxyType(pt.charge_map), zmax=zmax,
+        wmat=wmat, needs_shift=_needs_shift(logk, m),
+        logbeta0=lb0,
+        cmat=cmat,
+        flat_lb0=lb0[valid], flat_c=cmat[valid], flat_j=np.broadcast_to(jj, (k, m))[valid],
+        flat_w=wmat[valid.reshape(-1)],
+        py_systems=_python_systems(pt.sys_cols, zs, lb0, cmat),
+        py_ions=tuple(zip(pt.ion_cols, (float(v) for v in pt.ion_z))),
+    )
+
+
+def _needs_shift(logk: np.ndarray, m: int) -> bool:
+    """True when the unshifted exponentials could overflow for x in [-40, 40].
+
+    |log10 beta| <= sum |log10 K| and |j x| <= 40 (M - 1); float64 holds 10**±300.
+    """
+    span = float(np.abs(logk).sum(axis=1).max(initial=0.0)) + 40.0 * (m - 1) + 60.0
+    return span > 280.0
+
+
+_LAYOUTS: dict = {}
+
+
+def cached_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layout:
+    """:func:`compile_layout`, reused: layouts are pure functions of their arguments."""
+    k = (id(catalog), keys, temperature_c)
+    hit = _LAYOUTS.get(k)
+    if hit is not None and hit[0] is catalog:
+        return hit[1]
+    lay = compile_layout(catalog, keys, temperature_c)
+    if len(_LAYOUTS) >= 512:
+        _LAYOUTS.clear()
+    _LAYOUTS[k] = (catalog, lay)
+    return lay

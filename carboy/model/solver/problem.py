@@ -1,0 +1,126 @@
+"""N solutions as the solver's paths see them: a :class:`Problem`.
+
+Beside the :class:`~carboy.model.solver.layout.Layout` (what each column is) a problem
+holds what fixes each system's amount (:class:`Amounts`: its total, or one of its
+states held at a concentration), the charge and ionic strength of the spectator ions,
+the largest charges the solutes can carry (which bracket the root), pKw and the
+activity scale ``a_dh`` (see :mod:`carboy.model.activity`).  Indexing a problem by a
+mask or an index array selects points, so a path can drop the points it has settled.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from carboy.errors import InvalidInput
+from carboy.model.solver.layout import Layout
+
+
+@dataclass(frozen=True)
+class Amounts:
+    """What fixes each system's amount: its total, or (open system) the concentration
+    of one reference state held constant (CO2(aq) in equilibrium with a gas, say).
+
+    For a held state j0 at concentration F, every state is F·e_j/e_j0, i.e. the
+    system behaves as a total C = F·S/e_j0 that moves with x and A·D; its moments'
+    derivatives then take j0 and c_j0 where a closed system has jbar and cbar.
+    """
+
+    c: np.ndarray                        # (N, K) totals (ignored where held)
+    held: np.ndarray | None = None       # (N, K) held concentration of the reference state
+    mask: np.ndarray | None = None       # (K,) True where held
+    j0: np.ndarray | None = None         # (K,) reference state
+    c0: np.ndarray | None = None         # (K,) cmat of the reference state
+    e0_col: np.ndarray | None = None     # (K,) column of the reference state in e
+
+    def __getitem__(self, idx) -> Amounts:
+        if self.held is None:
+            return Amounts(self.c[idx])
+        return Amounts(self.c[idx], self.held[idx], self.mask, self.j0, self.c0, self.e0_col)
+
+
+def _held_value(lay: Layout, key: str, spec, n: int) -> tuple[int, int, np.ndarray]:
+    """Check one ``held`` entry: (system index, state index, (N,) concentration)."""
+    if key not in lay.sys_keys:
+        raise InvalidInput("held system", key, "is not an acid–base system with weak steps "
+                           "in this solution")
+    i = lay.sys_keys.index(key)
+    try:
+        label, value = spec
+    except (TypeError, ValueError):
+        raise InvalidInput(f"held {key}", spec, "expected (species label, mol/L)") from None
+    if label not in lay.sys_labels[i]:
+        raise InvalidInput(f"held {key} species", label,
+                           f"choose one of {', '.join(lay.sys_labels[i])}")
+    v = np.broadcast_to(np.asarray(value, dtype=float), (n,))
+    if not np.all(np.isfinite(v)) or np.any(v < 0):
+        raise InvalidInput(f"held {label} (mol/L)", value, "must be finite and >= 0")
+    return i, lay.sys_labels[i].index(label), v
+
+
+def held_amounts(lay: Layout, c_sys: np.ndarray, held) -> Amounts:
+    """Validate ``held`` ({system key: (species label, mol/L)}) and express it as
+    :class:`Amounts` over the totals ``c_sys`` (N, K)."""
+    n, k = c_sys.shape
+    if not held:
+        return Amounts(c_sys)
+    conc = np.zeros((n, k))
+    mask = np.zeros(k, dtype=bool)
+    j0 = np.zeros(k)
+    m = lay.z.shape[1]
+    offsets = np.concatenate([[0], np.cumsum(lay.valid.sum(axis=1))[:-1]]) if k else np.zeros(0)
+    e0_col = np.zeros(k, dtype=int)
+    for key, spec in held.items():
+        i, jj, v = _held_value(lay, key, spec, n)
+        conc[:, i] = v
+        mask[i] = True
+        j0[i] = jj
+        e0_col[i] = (i * m + jj) if lay.needs_shift else int(offsets[i]) + jj
+    c0 = lay.cmat[np.arange(k), j0.astype(int)] if k else np.zeros(0)
+    return Amounts(c_sys, conc, mask, j0, c0, e0_col)
+
+
+@dataclass(frozen=True)
+class Problem:
+    """N solutions at one temperature, ready for the solver's paths (mol/L throughout)."""
+
+    lay: Layout
+    am: Amounts
+    zs_pos: np.ndarray     # (N,) positive charge carried by the spectator ions
+    zs_neg: np.ndarray     # (N,) negative charge carried by the spectator ions
+    ispec: np.ndarray      # (N,) ionic strength of the spectator ions
+    q: np.ndarray          # (N,) largest negative charge the solutes can carry
+    p: np.ndarray          # (N,) largest positive charge the solutes can carry
+    pkw: float
+    a_dh: float            # activity scale A (0: ideal)
+
+    def __getitem__(self, idx) -> Problem:
+        return Problem(self.lay, self.am[idx], self.zs_pos[idx], self.zs_neg[idx],
+                       self.ispec[idx], self.q[idx], self.p[idx], self.pkw, self.a_dh)
+
+    @property
+    def open_system(self) -> bool:
+        """True when some system's amount is set by a held state, not by its total."""
+        return self.am.held is not None
+
+
+def build_problem(lay: Layout, totals: np.ndarray, held, pkw: float, a_dh: float) -> Problem:
+    """The :class:`Problem` of the (N, columns) ``totals`` laid out by ``lay``.
+
+    ``held`` is validated here (see :func:`held_amounts`); a held system's total does
+    not bound the charge, so it is left out of ``q`` and ``p``.
+    """
+    c_sys = totals[:, lay.sys_cols]
+    am = held_amounts(lay, c_sys, held)
+    if am.held is not None:
+        c_sys = np.where(am.mask, 0.0, c_sys)  # held systems' totals do not bound the charge
+        am = Amounts(c_sys, am.held, am.mask, am.j0, am.c0, am.e0_col)
+    c_ion = totals[:, lay.ion_cols]
+    zs_pos = c_ion @ np.maximum(lay.ion_z, 0.0)
+    zs_neg = c_ion @ np.maximum(-lay.ion_z, 0.0)
+    ispec = 0.5 * (c_ion @ (lay.ion_z ** 2))
+    q = zs_neg + c_sys @ np.maximum(-lay.sys_zmin, 0.0)
+    p = zs_pos + c_sys @ np.maximum(lay.sys_zmax, 0.0)
+    return Problem(lay, am, zs_pos, zs_neg, ispec, q, p, pkw, a_dh)

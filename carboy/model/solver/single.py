@@ -1,0 +1,163 @@
+"""The fast path for one solution, in plain Python floats.
+
+numpy's per-call overhead dominates for a single solution of a few systems, so this
+path does the arithmetic of the coupled iteration (``coupled``) with floats, step for
+step: the plain Newton step at a held ionic strength far from the root, the exact 2×2
+step near it, the bisection guard, and acceptance only on an unclipped Newton step
+below ``QUADRATIC_STEP`` at a self-consistent ionic strength.  It gives up (returns
+None) rather than fall back itself: the caller then takes the vectorized paths.
+``tests/unit/test_speciation_paths.py`` checks that the paths agree.
+"""
+
+from __future__ import annotations
+
+import math
+
+from carboy.model.activity import davies_d_float, davies_dprime_float
+from carboy.model.solver.constants import (
+    COUPLED_ITER,
+    COUPLED_NEAR,
+    F_TOL,
+    I_RTOL,
+    LN10,
+    QUADRATIC_STEP,
+)
+from carboy.model.solver.layout import Layout
+
+
+def _inputs(lay: Layout, row, held: dict):
+    """The systems present (total, states, held spec), the spectators' positive and
+    negative charge and ionic strength, and the charge bounds Q and P (mol/L)."""
+    systems = [(row[col], states, held.get(k)) for k, (col, states, _, _)
+               in enumerate(lay.py_systems) if row[col] > 0.0 or k in held]
+    zs_pos = zs_neg = ispec = 0.0
+    for col, z in lay.py_ions:
+        c = row[col]
+        if z > 0:
+            zs_pos += z * c
+        else:
+            zs_neg -= z * c
+        ispec += 0.5 * z * z * c
+    q, p = zs_neg, zs_pos
+    for k, (col, _, neg_cap, pos_cap) in enumerate(lay.py_systems):
+        if k not in held:
+            q += row[col] * neg_cap
+            p += row[col] * pos_cap
+    return systems, zs_pos, zs_neg, ispec, q, p
+
+
+def _sums(systems, x: float, tad: float):
+    """The systems' charge sums at x = log10[H+] and 2·A·D = ``tad``, with their
+    derivatives: (pos, neg, dpos/dx, dneg/dx, iz2, diz2/dx, dpos/dAD, dneg/dAD,
+    diz2/dAD), as ``charge_balance.moments`` gives them for many points."""
+    exp = math.exp
+    psys = nsys = dpsys = dnsys = iz2 = diz2 = apos = aneg = aiz2 = 0.0
+    for ctot, states, hold in systems:
+        s0 = sj = sp = sn = sjp = sjn = sz2 = sc = scp = scn = sjz2 = scz2 = 0.0
+        e0 = 0.0
+        for lb0, cc, st, zp, zn, z2 in states:
+            e = exp((lb0 - tad * cc - st * x) * LN10)
+            if hold is not None and st == hold[0]:
+                e0 = e
+            s0 += e
+            sj += st * e
+            sc += cc * e
+            if zp:
+                sp += zp * e
+                sjp += st * zp * e
+                scp += cc * zp * e
+            if zn:
+                sn += zn * e
+                sjn += st * zn * e
+                scn += cc * zn * e
+            sz2 += z2 * e
+            sjz2 += st * z2 * e
+            scz2 += cc * z2 * e
+        if hold is None:
+            inv = ctot / s0
+            jb, cb = sj / s0, sc / s0
+        else:  # a held state: the total follows x (see problem.Amounts)
+            inv = hold[2] / e0
+            jb, cb = hold[0], hold[1]
+        pk, nk, zk = sp * inv, sn * inv, sz2 * inv
+        psys += pk
+        nsys += nk
+        iz2 += zk
+        dpsys -= LN10 * (sjp * inv - jb * pk)
+        dnsys -= LN10 * (sjn * inv - jb * nk)
+        diz2 -= LN10 * (sjz2 * inv - jb * zk)
+        apos -= 2 * LN10 * (scp * inv - cb * pk)
+        aneg -= 2 * LN10 * (scn * inv - cb * nk)
+        aiz2 -= 2 * LN10 * (scz2 * inv - cb * zk)
+    return psys, nsys, dpsys, dnsys, iz2, diz2, apos, aneg, aiz2
+
+
+def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators):
+    """F at (x, I) and the Newton step: ``(F, dx, I_new)`` (see ``coupled``)."""
+    psys, nsys, dpsys, dnsys, iz2, diz2, apos, aneg, aiz2 = sums
+    zs_pos, zs_neg, ispec = spectators
+    h = math.exp(x * LN10)
+    oh = math.exp((log_kw - x) * LN10)
+    pos = h + zs_pos + psys
+    neg = oh + zs_neg + nsys
+    big_f = math.log(pos / neg)
+    f_x = (LN10 * h + dpsys) / pos + (LN10 * oh - dnsys) / neg
+    g = ispec + 0.5 * (h + oh + iz2)
+    dx = -big_f / f_x
+    inew = g
+    if a_dh != 0.0:
+        inew = ionic if abs(dx) > COUPLED_NEAR else g
+        dd = a_dh * davies_dprime_float(ionic)
+        f_i = (apos / pos - (2 * LN10 * oh + aneg) / neg) * dd
+        g_x = 0.5 * (LN10 * (h - oh) + diz2)
+        g_i = 0.5 * (2 * LN10 * oh + aiz2) * dd - 1.0
+        res_g = g - ionic
+        det = f_x * g_i - f_i * g_x
+        if abs(dx) <= COUPLED_NEAR and det != 0.0:
+            dx2 = (f_i * res_g - big_f * g_i) / det
+            di = (g_x * big_f - res_g * f_x) / det
+            if (math.isfinite(dx2) and math.isfinite(di)
+                    and 0.5 * g < ionic + di < 2.0 * g):
+                dx, inew = dx2, ionic + di
+    return big_f, dx, inew
+
+
+def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
+              max_iter: int = COUPLED_ITER):
+    """The coupled (x, I) iteration for one solution with totals ``row`` (mol/L, in the
+    layout's column order).
+
+    ``held`` maps a system's index to (reference state, its cmat term, its
+    concentration).  Returns ``(x, ionic, iterations)``, or ``None`` when it did not
+    get there within ``max_iter`` steps (the caller then takes the vectorized solve).
+    """
+    held = held or {}
+    systems, zs_pos, zs_neg, ispec, q, p = _inputs(lay, row, held)
+    spectators = (zs_pos, zs_neg, ispec)
+    davies = a_dh != 0.0
+    x, ionic = -7.0, ispec + 1e-7
+    seen_lo, seen_hi = -math.inf, math.inf
+    for it in range(1, max_iter + 1):
+        tad = 2.0 * (a_dh * davies_d_float(ionic))
+        log_kw = tad - pkw
+        big_f, dx, inew = _step(x, ionic, _sums(systems, x, tad), log_kw, a_dh, spectators)
+        if held:
+            xn = min(max(x + dx, -20.0), 4.0)
+        else:
+            xn = min(max(x + dx, log_kw - math.log10(p + 1.0) - 1e-3),
+                     math.log10(q + 1.0) + 1e-3)
+        # the bisection guard of coupled._plateau_guard
+        if inew == ionic or not davies:
+            if big_f < 0:
+                seen_lo = max(seen_lo, x)
+            elif big_f > 0:
+                seen_hi = min(seen_hi, x)
+        else:
+            seen_lo, seen_hi = -math.inf, math.inf
+        if (xn <= seen_lo or xn >= seen_hi) and math.isfinite(seen_lo + seen_hi):
+            xn = 0.5 * (seen_lo + seen_hi)
+        if (abs(big_f) < F_TOL or abs(dx) < QUADRATIC_STEP) and (
+                not davies or abs(inew - ionic) <= I_RTOL * max(inew, 1e-12)):
+            return x + dx, inew, it   # the Newton step itself, never a guarded one
+        x, ionic = xn, inew
+    return None

@@ -1,0 +1,62 @@
+"""Doses and the batch after a dose, with and without CO2 leaving."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from carboy.model import gas
+from carboy.model.dosing import CURVE_SPAN, find_doses
+from carboy.model.mixture import Mixture, titration_batch
+from carboy.model.speciation import speciate_batch
+
+
+def dosing_for(catalog, totals, reagent_key, targets, *, l_per_mol=0.0, direction="base",
+               initial_ph=1.0, n_full=0.1):
+    sample = Mixture(totals, volume_l=1.0)
+    comp = dict(catalog.compound(reagent_key).composition)
+    model = gas.TitrationModel(sample, comp, l_per_mol, activity="davies", catalog=catalog)
+    return find_doses(model, comp, l_per_mol, np.asarray(targets, dtype=float), n_full,
+                      initial_pH=initial_ph, direction=direction, points=50)
+
+
+def test_without_carbonate_the_batch_is_the_titration_batch(catalog):
+    d = dosing_for(catalog, {"Cl-": 0.1}, "NaOH", [7.0, 6.0, 9.0], l_per_mol=1.0)
+    assert not d.carbonate and d.pco2_atm is None
+    n = np.array([0.0, 0.05, 0.1])
+    b, vol = d.batch_at(n)
+    ref, ref_vol = titration_batch(d.model.sample, {"Na+": 1}, n, 1.0)
+    assert b.keys == ref.keys
+    np.testing.assert_array_equal(b.totals, ref.totals)
+    np.testing.assert_array_equal(vol, ref_vol)
+    assert d.co2_lost_mol(0.1) == (0.0, 0.0)
+    # the curve covers the largest dose of interest by CURVE_SPAN
+    assert d.grid[-1] == pytest.approx(CURVE_SPAN * max(0.1, np.nanmax(d.doses)))
+
+
+def test_each_dose_reaches_its_ph(catalog):
+    d = dosing_for(catalog, {"phosphate": 0.05}, "NaOH", [7.0, 6.0, 9.0])
+    b, _ = d.batch_at(d.doses)
+    np.testing.assert_allclose(speciate_batch(b, catalog=catalog).pH, [7.0, 6.0, 9.0],
+                               atol=1e-6)
+
+
+def test_targets_behind_the_start_need_no_reagent(catalog):
+    d = dosing_for(catalog, {"Cl-": 0.001}, "NaOH", [7.0, 2.5, 9.0], initial_ph=3.0)
+    assert d.doses[1] == 0.0 and d.doses[0] > 0
+
+
+def test_carbonate_only_leaves(catalog):
+    # NaHCO3 into HCl: CO2 forms, beyond saturation it leaves at once, more on venting
+    d = dosing_for(catalog, {"Cl-": 0.5}, "NaHCO3", [7.0, 6.0, 8.0], n_full=0.5)
+    assert d.carbonate and d.pco2_atm == pytest.approx(gas.air_pco2_atm())
+    n = np.array([0.1, 0.3, 0.5])
+    fresh, _ = d.batch_at(n, vented=False)
+    vented, _ = d.batch_at(n)
+    k = fresh.keys.index(gas.CARBONATE)
+    added = d.model.carbonate_total_mol(n)
+    assert np.all(vented.totals[:, k] <= fresh.totals[:, k])
+    assert np.all(fresh.totals[:, k] < added)      # volumes are 1 L: mol = mol/L
+    lost_fresh, lost_vented = d.co2_lost_mol(0.5)
+    assert 0 < lost_fresh <= lost_vented <= 0.5
+    assert lost_vented == pytest.approx(0.5 - vented.totals[2, k], rel=1e-9)

@@ -1,0 +1,68 @@
+"""Which path the solver takes, so that the path-agreement tests compare what they claim.
+
+``test_speciation_paths.py`` sets ``speciation.COUPLED_ITER = 0`` to send every point to
+the guaranteed (bracketed) path and compares with the fast paths; these tests check that
+the setting does reroute every point, that one solution goes through the plain-Python
+path and that a batch of several goes through the vectorized one.
+"""
+
+from __future__ import annotations
+
+import pytest
+
+import carboy.model.speciation as sp
+from carboy.model.mixture import Mixture, MixtureBatch
+
+CASES = [
+    [("HCl", 0.01), ("H3PO4", 0.003), ("NH4Cl", 0.002), ("NaHCO3", 0.001), ("KCl", 0.005)],
+    [("Na2HPO4", 0.05), ("NaH2PO4", 0.05)],
+    [("C6H8O7", 0.02), ("NaOH", 0.03)],
+    [("CH3COOH", 0.1)],
+]
+
+
+def mixtures(catalog):
+    return [Mixture.from_compounds([(catalog.compound(n), c) for n, c in case])
+            for case in CASES]
+
+
+def spy(monkeypatch, name):
+    """Replace ``speciation.<name>`` by a wrapper recording each call's result."""
+    real = getattr(sp, name)
+    results = []
+
+    def wrapper(*args, **kwargs):
+        out = real(*args, **kwargs)
+        results.append(out)
+        return out
+
+    monkeypatch.setattr(sp, name, wrapper)
+    return results
+
+
+@pytest.mark.parametrize("activity", ["davies", "ideal"])
+def test_fast_paths_settle_ordinary_solutions(catalog, monkeypatch, activity):
+    mixes = mixtures(catalog)
+    one, coupled, nested = (spy(monkeypatch, n) for n in
+                            ("solve_one", "solve_coupled", "solve_nested"))
+    singles = [sp.speciate(m, activity=activity, catalog=catalog) for m in mixes]
+    assert len(one) == len(mixes) and all(r is not None for r in one)
+    assert not coupled and not nested
+    res = sp.speciate_batch(MixtureBatch.of(mixes), activity=activity, catalog=catalog)
+    assert len(one) == len(mixes)          # not taken for a batch of several
+    assert len(coupled) == 1 and coupled[0][2].all()
+    assert not nested
+    for i, s in enumerate(singles):
+        assert float(res.pH[i]) == pytest.approx(s.pH, abs=1e-9)
+
+
+def test_zero_coupled_steps_send_every_point_to_the_guaranteed_path(catalog, monkeypatch):
+    mixes = mixtures(catalog)
+    nested = spy(monkeypatch, "solve_nested")
+    monkeypatch.setattr(sp, "COUPLED_ITER", 0)
+    for m in mixes:
+        assert sp.speciate(m, catalog=catalog).converged
+    res = sp.speciate_batch(MixtureBatch.of(mixes), catalog=catalog)
+    assert res.converged.all()
+    # one call per solution, then one for the whole batch, each solving every point given
+    assert [len(x) for x, _, _, _ in nested] == [1] * len(mixes) + [len(mixes)]
