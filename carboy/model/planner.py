@@ -145,14 +145,14 @@ class _Request:
         return self.sample.temperature_c
 
 
-def _check_ph(what: str, value) -> float:
+def _check_ph(what: str, value, field: str) -> float:
     """``value`` as a pH from 0 to 14; InvalidInput naming ``what`` otherwise."""
     try:
         v = float(value)
     except (TypeError, ValueError):
-        raise InvalidInput(what, value, "must be a number") from None
+        raise InvalidInput(what, value, "must be a number", field=field) from None
     if not math.isfinite(v) or not 0.0 <= v <= 14.0:
-        raise InvalidInput(what, value, "must be a pH between 0 and 14")
+        raise InvalidInput(what, value, "must be a pH between 0 and 14", field=field)
     return v
 
 
@@ -164,19 +164,24 @@ def _check_request(sample: Mixture, reagent: Reagent, target_ph, window, activit
         from carboy.model.catalog import default_catalog
 
         catalog = default_catalog()
-    target = _check_ph("target pH", target_ph)
+    target = _check_ph("target pH", target_ph, "target")
     try:
         lo_w, hi_w = (float(window[0]), float(window[1]))
     except (TypeError, ValueError, IndexError):
-        raise InvalidInput("window", window, "expected (low pH, high pH)") from None
-    lo_w, hi_w = _check_ph("window low pH", lo_w), _check_ph("window high pH", hi_w)
+        raise InvalidInput("window", window, "expected (low pH, high pH)",
+                           field="window") from None
+    lo_w = _check_ph("window low pH", lo_w, "window")
+    hi_w = _check_ph("window high pH", hi_w, "window")
     if not lo_w < hi_w:
-        raise InvalidInput("window", window, "the low pH must be below the high pH")
+        raise InvalidInput("window", window, "the low pH must be below the high pH",
+                           field="window")
     check_model(activity)
     if sample.volume_l is None:
-        raise InvalidInput("sample volume", None, "a plan needs the sample's volume")
+        raise InvalidInput("sample volume", None, "a plan needs the sample's volume",
+                           field="volume")
     if not sample.totals:
-        raise InvalidInput("sample", dict(sample.totals), "holds nothing to neutralize")
+        raise InvalidInput("sample", dict(sample.totals), "holds nothing to neutralize",
+                           field="sample")
     if int(curve_points) < 20:
         raise InvalidInput("curve points", curve_points, "need at least 20")
     water.check_temperature(sample.temperature_c)
@@ -213,7 +218,8 @@ def _start(req: _Request) -> _Start:
         raise InvalidInput(
             "reagent", reagent.text or reagent.key,
             f"the sample is at pH {initial_pH:.2f} and needs {need} to reach pH {target:g}; "
-            f"{reagent.key} (its own pH about {own_pH:.1f}) cannot move it that way")
+            f"{reagent.key} (its own pH about {own_pH:.1f}) cannot move it that way",
+            field="reagent")
     return _Start(model, initial_pH, direction, capacity)
 
 

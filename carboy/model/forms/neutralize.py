@@ -255,7 +255,7 @@ def _field_of(err: CarboyError) -> str:
     if isinstance(err, UnknownCompound):
         return "reagent"
     if isinstance(err, InvalidInput):
-        return err.field or ("reagent" if err.what == "reagent" else "plan")
+        return err.field or "plan"
     return "plan"
 
 
