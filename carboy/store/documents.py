@@ -30,7 +30,7 @@ from carboy.store import journal, stock
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store
 
-__all__ = ["STOREROOM_NAME_RULE", "bottle_label", "bottle_labels", "due_list",
+__all__ = ["STOREROOM_NAME_RULE", "bottle_label", "bottle_labels", "due_list", "due_list_of",
            "storeroom_name"]
 
 STOREROOM_NAME_RULE = "storeroom.name"
@@ -156,7 +156,14 @@ def due_list(store: Store, *, everything: bool = False, storeroom: str | None = 
     """The strength check as a document: what is due, with counts of each flag."""
     day = today or date.today()
     rows = stock.check(store, today=day, everything=everything)
-    name = storeroom_name(store, storeroom)
+    return due_list_of(rows, everything=everything, storeroom=storeroom_name(store, storeroom),
+                       today=day)
+
+
+def due_list_of(rows: list[stock.CheckRow], *, everything: bool, storeroom: str,
+                today: date) -> Document:
+    """The due list of strength-check rows already read (:func:`carboy.store.stock.check`)."""
+    day, name = today, storeroom
     flagged = sum(1 for r in rows if r.flags)
     counts = Counter(f for r in rows for f in r.flags)
     summary = [("Checked on", day.isoformat()),

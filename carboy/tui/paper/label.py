@@ -15,9 +15,10 @@ The layout of one label (points; the origin at its top left)::
     +--------------------------------------------------------+
 
 Each text region is fitted on its own (:mod:`carboy.tui.paper.fit`): the largest type
-between its bounds at which the wrapped text fits.  If the hazard statements do not fit
-even at the smallest type, the label prints their codes only and sends the reader to
-the safety data sheet; nothing is drawn outside its region.  :func:`layout_label`
+between its bounds at which the wrapped text fits.  If the hazard statements, one to a
+line, do not fit even at the smallest type, they are run on in one paragraph; if that
+does not fit either, the label prints their codes only and sends the reader to the
+safety data sheet.  Nothing is drawn outside its region.  :func:`layout_label`
 computes everything :func:`draw_label` draws, so tests can measure it.
 """
 
@@ -87,6 +88,8 @@ class LabelLayout:
     regions: tuple[Region, ...]
     pictograms: tuple[tuple[str, Box], ...]
     qr: tuple[str, Box] | None
+    hazard_style: str = "lines"
+    """Which of :data:`HAZARD_STYLES` the hazard statements are set in."""
 
     @property
     def complete(self) -> bool:
@@ -113,15 +116,22 @@ def _details_runs(document: Document) -> list[Run]:
     return runs
 
 
-def _hazard_runs(document: Document, codes_only: bool) -> list[Run]:
+HAZARD_STYLES = ("lines", "run-on", "codes")
+"""How the hazard statements are set, tried in this order: one line each, run on in one
+paragraph, or (when neither fits) their codes only with a pointer to the SDS."""
+
+
+def _hazard_runs(document: Document, style: str) -> list[Run]:
     runs = []
     hazard = _first(document, HazardText)
     if hazard is not None and hazard.signal_word:
         runs.append(Run(hazard.signal_word.upper(), bold=True, scale=1.3))
     if hazard is not None and hazard.statements:
-        if codes_only:
+        if style == "codes":
             codes = " ".join(code for code, _ in hazard.statements)
             runs.append(Run(f"{codes} ({CODES_ONLY})", bold=True))
+        elif style == "run-on":
+            runs.append(Run("  ".join(f"{code} {text}" for code, text in hazard.statements)))
         else:
             runs += [Run(f"{code} {text}") for code, text in hazard.statements]
     runs += [Run(p.text, scale=0.9, space_before=0.3) for p in document.blocks_of(Paragraph)]
@@ -183,11 +193,12 @@ def layout_label(document: Document) -> LabelLayout:
     regions += captions
     left = MARGIN + (used + GAP if used else 0.0)
     hazard_box = Box(left, top, width - MARGIN - left, bottom - top)
-    hazard = _fit("hazards", _hazard_runs(document, False), hazard_box, HAZARD_SIZES)
-    if not hazard.fit.complete:
-        hazard = _fit("hazards", _hazard_runs(document, True), hazard_box, HAZARD_SIZES)
+    for style in HAZARD_STYLES:
+        hazard = _fit("hazards", _hazard_runs(document, style), hazard_box, HAZARD_SIZES)
+        if hazard.fit.complete:
+            break
     regions.append(hazard)
-    return LabelLayout((width, height), tuple(regions), tuple(boxes), qr)
+    return LabelLayout((width, height), tuple(regions), tuple(boxes), qr, style)
 
 
 def draw_label(canvas: Canvas, layout: LabelLayout, x: float = 0.0, y: float = 0.0) -> None:
