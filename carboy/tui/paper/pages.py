@@ -159,14 +159,19 @@ def _column_widths(columns: Sequence[Column], width: float) -> list[float]:
     return [width * c.weight / total for c in columns]
 
 
+def _cells(cells: Sequence[str], widths: list[float], bold: bool) -> tuple[list, float]:
+    """A row's cells wrapped to their columns, and the row's height."""
+    wrapped = [wrap(text, w - 2 * CELL_PAD, CELL, bold, measure)
+               for text, w in zip(cells, widths)]
+    return wrapped, max(len(w) for w in wrapped) * CELL * LEADING + 2 * CELL_PAD
+
+
 def _row(flow: Flow, cells: Sequence[str], columns: Sequence[Column], widths: list[float],
          *, bold: bool = False, fill: tuple[int, int, int] | None = None,
          rule_above: bool = False) -> None:
-    wrapped = [wrap(text, w - 2 * CELL_PAD, CELL, bold, measure)
-               for text, w in zip(cells, widths)]
+    """Draw one row at the current position (the caller has made room for it)."""
+    wrapped, height = _cells(cells, widths, bold)
     step = CELL * LEADING
-    height = max(len(w) for w in wrapped) * step + 2 * CELL_PAD
-    flow.room(height)
     canvas = flow.canvas
     if fill is not None:
         canvas.set_fill_color(*fill)
@@ -189,18 +194,22 @@ def _table(flow: Flow, block: Table) -> None:
         flow.lines(block.caption, BODY, bold=True)
     widths = _column_widths(block.columns, flow.width)
     headings = [c.heading for c in block.columns]
-    flow.room(CELL * LEADING * 3 + 4 * CELL_PAD)
+    _, heading_h = _cells(headings, widths, True)
+    first_h = _cells(block.rows[0], widths, False)[1] if block.rows else CELL * LEADING
+    flow.room(heading_h + first_h)
     _row(flow, headings, block.columns, widths, bold=True, fill=LIGHT)
     if not block.rows:
         flow.lines(block.empty_text, CELL, x=MARGIN_X + CELL_PAD)
-    for cells in block.rows:
-        page = flow.canvas.page_no()
-        flow.room(CELL * LEADING + 2 * CELL_PAD)
-        if flow.canvas.page_no() != page:
-            _row(flow, headings, block.columns, widths, bold=True, fill=LIGHT)
-        _row(flow, cells, block.columns, widths)
+    rows = [(cells, False) for cells in block.rows]
     if block.totals is not None:
-        _row(flow, block.totals, block.columns, widths, bold=True, rule_above=True)
+        rows.append((block.totals, True))
+    for cells, is_total in rows:
+        height = _cells(cells, widths, is_total)[1]
+        if flow.y + height > flow.bottom:
+            flow.canvas.add_page()
+            flow.y = MARGIN_TOP
+            _row(flow, headings, block.columns, widths, bold=True, fill=LIGHT)
+        _row(flow, cells, block.columns, widths, bold=is_total, rule_above=is_total)
     flow.canvas.set_line_width(0.25)
     flow.canvas.line(MARGIN_X, flow.y, MARGIN_X + flow.width, flow.y)
     flow.y += 8.0
