@@ -93,3 +93,18 @@ def test_unwritable_path_is_one_clear_error(tmp_path, demo_store):
         assert str(bad) in message and "\n" not in message
     written = write_pdf(docs, tmp_path / "ok.pdf")
     assert written.read_bytes().startswith(b"%PDF-")
+
+
+def test_embedded_font_covers_what_carboy_prints():
+    from importlib import resources
+
+    from fontTools.ttLib import TTFont
+
+    from carboy.tui.paper.canvas import FONT_FILES, font_path
+
+    needed = set("µ°·±−≤≥→←↓≈×ΔΣαβγμρ–—…✓✗⚠◆•") | set("₀₁₂₃₄₅₆₇₈₉⁰¹²³⁴⁵⁶⁷⁸⁹⁺⁻")
+    for style in FONT_FILES:
+        cmap = TTFont(font_path(style)).getBestCmap()
+        assert not sorted(c for c in needed if ord(c) not in cmap), style
+    licence = resources.files("carboy.tui.paper").joinpath("fonts").joinpath("LICENSE")
+    assert "Bitstream" in licence.read_text(encoding="utf-8")
