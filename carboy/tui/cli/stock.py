@@ -87,7 +87,27 @@ def register(sub) -> None:
                     "overdue, never standardized or expiring within 30 days.")
     p.add_argument("--all", action="store_true", dest="everything",
                    help="list every bottle in use, flagged or not")
+    p.add_argument("--pdf", metavar="PATH", help="also write the list as a PDF (A4, with "
+                   "totals, page numbers and the date of printing)")
+    p.add_argument("--storeroom", metavar="NAME", help="storeroom name printed on the PDF")
     p.set_defaults(func=stock_check)
+
+    p = stock_sub.add_parser(
+        "label", parents=[common], help="print bottle labels to a PDF", formatter_class=fmt,
+        description="Write the labels of the named bottles to a PDF: name and formula, "
+                    "strength as labelled and as measured, where the bottle came from, expiry "
+                    "and re-check date, the GHS signal word, hazard statements and pictograms "
+                    "for its concentration, the storeroom's name and a QR code of its id. "
+                    "Nothing in the database changes.",
+        epilog="examples:\n  carboy stock label 17 --pdf bottle-17.pdf\n"
+               "  carboy stock label 17 18 23 --pdf labels.pdf --size A4-sheet")
+    p.add_argument("ids", nargs="+", metavar="ID", help="bottle ids")
+    p.add_argument("--pdf", required=True, metavar="PATH", help="the PDF file to write")
+    p.add_argument("--size", choices=("70x37mm", "A4-sheet"), default="70x37mm",
+                   help="one 70 x 37 mm label to a page (default), or 24 to an A4 sheet")
+    p.add_argument("--storeroom", metavar="NAME",
+                   help="storeroom name on the label (default: the storeroom's own, if set)")
+    p.set_defaults(func=stock_label)
 
 
 def _bottle_line(b) -> str:
@@ -179,15 +199,33 @@ def stock_export(args) -> int:
     return EXIT_OK
 
 
+def _due_pdf(args, store, rows) -> str | None:
+    """Write the due list's PDF when ``--pdf`` was given; returns the path written."""
+    if not args.pdf:
+        return None
+    from datetime import date
+
+    from carboy.store import documents
+    from carboy.tui import paper
+
+    doc = documents.due_list_of(rows, everything=args.everything, today=date.today(),
+                                storeroom=documents.storeroom_name(store, args.storeroom))
+    return str(paper.write_pdf([doc], args.pdf))
+
+
 def stock_check(args) -> int:
     from carboy.store import stock
 
     with open_store(args) as store:
         rows = stock.check(store, everything=args.everything)
+        pdf = _due_pdf(args, store, rows)
     flagged = sum(1 for r in rows if r.flags)
     if args.json:
-        emit_json({"flagged": flagged, "bottles": [r.to_dict() for r in rows]})
+        emit_json({"flagged": flagged, "bottles": [r.to_dict() for r in rows]}
+                  | ({"pdf": pdf} if pdf else {}))
         return EXIT_OK
+    if pdf:
+        print(f"wrote the due list ({len(rows)} bottles) to {pdf}")
     if not rows:
         print("every bottle in use is within its re-check interval, on label and unexpired")
         return EXIT_OK
@@ -207,4 +245,22 @@ def stock_check(args) -> int:
             print(f"{'':8}{reason}")
     print(f"{flagged} of {len(rows)} listed bottles need attention" if args.everything
           else f"{flagged} bottles need attention")
+    return EXIT_OK
+
+
+def stock_label(args) -> int:
+    from carboy.store import documents
+    from carboy.tui import paper
+
+    with open_store(args) as store:
+        docs = documents.bottle_labels(store, args.ids, storeroom=args.storeroom)
+    path = str(paper.write_pdf(docs, args.pdf, label_size=args.size))
+    notices = [n for d in docs for n in d.notices]
+    if args.json:
+        emit_json({"pdf": path, "size": args.size, "notices": notices,
+                   "labels": [d.to_dict() for d in docs]})
+        return EXIT_OK
+    print(f"wrote {len(docs)} label{'s' if len(docs) != 1 else ''} ({args.size}) to {path}")
+    for notice in notices:
+        print(f"note: {notice}")
     return EXIT_OK

@@ -1,4 +1,4 @@
-"""``carboy waste``: waste containers headless (new, add, show, list)."""
+"""``carboy waste``: waste containers headless (new, add, show, list, record)."""
 
 from __future__ import annotations
 
@@ -17,7 +17,7 @@ from carboy.tui.cli.kit import (
 def register(sub) -> None:
     common = common_options()
     fmt = argparse.RawDescriptionHelpFormatter
-    waste_sub = group(sub, "waste", help="waste containers: new, add, show, list",
+    waste_sub = group(sub, "waste", help="waste containers: new, add, show, list, record",
                       description="Waste containers and what went into them.")
 
     p = waste_sub.add_parser("new", parents=[common], help="open a new container")
@@ -49,6 +49,17 @@ def register(sub) -> None:
     p.add_argument("--status", choices=("collecting", "planned", "neutralized", "disposed",
                                         "licensed-disposal"))
     p.set_defaults(func=waste_list)
+
+    p = waste_sub.add_parser(
+        "record", parents=[common], help="a container's disposal record as a PDF",
+        description="Write the disposal record of a container to a PDF (A4): its stream, "
+                    "every addition, the composition, cautions, the plan, the treatment or "
+                    "licensed-disposal hand-over from the journal, and lines to sign. "
+                    "Nothing in the database changes.")
+    p.add_argument("label")
+    p.add_argument("--pdf", required=True, metavar="PATH", help="the PDF file to write")
+    p.add_argument("--storeroom", metavar="NAME", help="storeroom name printed on each page")
+    p.set_defaults(func=waste_record)
 
 
 def waste_new(args) -> int:
@@ -123,4 +134,18 @@ def waste_list(args) -> int:
     for c in found:
         print(f"{c.label:<12} {c.status:<18} {c.volume_l:>7g} / {c.capacity_l:<5g} L  "
               f"{c.n_additions:>3} additions  {c.location}")
+    return EXIT_OK
+
+
+def waste_record(args) -> int:
+    from carboy.store.disposal_record import disposal_record
+    from carboy.tui import paper
+
+    with open_store(args) as store:
+        doc = disposal_record(store, args.label, storeroom=args.storeroom)
+    path = str(paper.write_pdf([doc], args.pdf))
+    if args.json:
+        emit_json({"pdf": path, "record": doc.to_dict()})
+    else:
+        print(f"wrote the disposal record of {args.label} to {path}")
     return EXIT_OK
