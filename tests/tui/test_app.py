@@ -26,38 +26,19 @@ async def test_starts_on_stock_with_the_contract(make, demo_db, wait_for, who):
             second.close()
 
 
-async def test_mode_keys_switch_screens(make):
+async def test_keys_switch_screens_but_typing_stays_in_its_field(make):
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
         await pilot.pause()
-        for key, mode in (("2", "waste"), ("4", "journal"), ("f1", "help"), ("1", "stock"),
-                          ("3", "neutralize")):
-            await pilot.press(key)
-            await pilot.pause()
-            assert app.current_mode == mode, key
-
-
-async def test_function_keys_switch_screens_even_while_typing(make):
-    app = make()
-    async with app.run_test(size=(80, 24)) as pilot:
-        await pilot.pause()
-        await pilot.press("slash", "h", "c")         # typing in the stock search field
-        await pilot.pause()
-        for key, mode in (("f3", "waste"), ("f5", "journal"), ("f4", "neutralize"),
-                          ("f1", "help"), ("f2", "stock")):
-            await pilot.press(key)
-            await pilot.pause()
-            assert app.current_mode == mode, key
-
-
-async def test_digits_typed_in_a_field_stay_in_the_field(make):
-    app = make()
-    async with app.run_test(size=(80, 24)) as pilot:
-        await pilot.pause()
-        await pilot.press("slash", "0", ".", "1")
+        await pilot.press("slash", "0", ".", "1")    # typing in the stock search field
         await pilot.pause()
         assert app.current_mode == "stock"
         assert app.screen.query_one("#stock-search").value == "0.1"
+        for key, mode in (("f3", "waste"), ("f5", "journal"), ("f1", "help"), ("f2", "stock"),
+                          ("f4", "neutralize"), ("f7", "prepare"), ("f8", "standardize")):
+            await pilot.press(key)      # function keys work even while typing
+            await pilot.pause()
+            assert app.current_mode == mode, key
 
 
 async def test_plan_container_opens_neutralize_and_loads_it(make, monkeypatch, wait_for):

@@ -96,20 +96,15 @@ async def test_container_plan_has_dose_and_disposal_note(demo_db):
         assert "safety office" in cautions
         assert "understood: NaOH 1 M solution" in echo(screen, "reagent")
         assert screen.check_action("record", ()) is True
-
-
-async def test_changing_the_target_changes_the_dose(demo_db):
-    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
-    async with app.run_test(size=SIZE) as pilot:
-        screen = await open_container(app, pilot, "OA-02")
-        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        # a fluoride container: the drain verdict reaches every view, nothing to record
+        screen = await open_container(app, pilot, "HF-04")
         await settled(pilot, screen)
-        at_7 = screen.plan.to_target.reagent_mol
-        await set_field(pilot, screen, "target", "5,5")
-        await settled(pilot, screen)
-        assert screen.plan.to_target.target_pH == 5.5
-        assert screen.plan.to_target.reagent_mol < at_7
-        assert "understood: pH 5.5" in echo(screen, "target")
+        assert screen.plan is not None and not screen.plan.drain_plan
+        panel = screen.query_one(CautionsPanel)
+        assert panel.has_class("-no-drain")
+        assert "NOT FOR DRAIN DISPOSAL" in panel.text and "[not-a-drain-plan]" in panel.text
+        assert "NOT FOR DRAIN DISPOSAL" in screen.query_one(PlanSummary).text
+        assert screen.check_action("record", ()) is False
 
 
 async def test_bad_reagent_is_explained_in_place_and_the_plan_goes_stale(demo_db):
@@ -132,16 +127,6 @@ async def test_bad_reagent_is_explained_in_place_and_the_plan_goes_stale(demo_db
         assert screen.check_action("record", ()) is None  # shown, but not with a stale plan
 
 
-async def test_wrong_direction_reagent_is_refused_in_place(demo_db):
-    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
-    async with app.run_test(size=SIZE) as pilot:
-        screen = await open_container(app, pilot, "MA-01")
-        await set_field(pilot, screen, "reagent", "HCl=1M")
-        await settled(pilot, screen)
-        assert screen.plan is None
-        assert "✗" in echo(screen, "reagent") and "needs a base" in echo(screen, "reagent")
-
-
 async def test_typed_sample_with_bad_volume_keeps_the_text(demo_db):
     app = make_app(demo_db, today=DEMO_TODAY, who="tester")
     async with app.run_test(size=SIZE) as pilot:
@@ -161,23 +146,6 @@ async def test_typed_sample_with_bad_volume_keeps_the_text(demo_db):
         assert screen.query_one("#volume", Input).value == "abc mL"
         assert "✗" in echo(screen, "volume") and "abc" in echo(screen, "volume")
         assert screen.stale
-
-
-async def test_fluoride_container_is_not_for_the_drain(demo_db):
-    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
-    async with app.run_test(size=SIZE) as pilot:
-        screen = await open_container(app, pilot, "HF-04")
-        await set_field(pilot, screen, "reagent", "NaOH=1M")
-        await settled(pilot, screen)
-        assert screen.plan is not None and not screen.plan.drain_plan
-        panel = screen.query_one(CautionsPanel)
-        assert panel.has_class("-no-drain")
-        text = panel.text
-        assert "NOT FOR DRAIN DISPOSAL" in text and "licensed" in text
-        assert "[not-a-drain-plan]" in text
-        assert "NOT FOR DRAIN DISPOSAL" in screen.query_one(PlanSummary).text
-        # held for licensed disposal: nothing to record here
-        assert screen.check_action("record", ()) is False
 
 
 async def test_record_with_measured_ph_appends_a_journal_entry(demo_db):

@@ -104,3 +104,9 @@ def test_raise_first_gives_the_first_problem(catalog):
     with pytest.raises(InvalidInput) as caught:
         reading.raise_first()
     assert caught.value.field == "volume"
+
+
+def test_a_fluoride_sample_is_never_a_drain_plan(catalog):
+    out = evaluate(fields(components="HF=0.5M NaF=0.1M"), catalog)
+    assert out.ok and out.value.drain_plan is False
+    assert any(c.code == "not-a-drain-plan" for c in out.value.cautions)
