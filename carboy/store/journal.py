@@ -17,9 +17,9 @@ from datetime import date, datetime
 from typing import Any
 
 from carboy.errors import InvalidInput
-from carboy.store.db import Store, current_user, iso_utc, utc_now
+from carboy.store.db import Store, current_user, iso_utc, stamp
 from carboy.store.errors import NotFound
-from carboy.store.migrations import JOURNAL_KINDS
+from carboy.store.statuses import JOURNAL_KINDS
 
 KINDS = JOURNAL_KINDS
 
@@ -111,7 +111,7 @@ def append_in(store: Store, kind: str, *, summary: str = "", snapshot: Mapping |
     cur = store.execute(
         "INSERT INTO journal_entries (kind, recorded_at, recorded_by, origin, bottle_id, "
         "container_id, corrects_id, summary, snapshot_json) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
-        [kind, iso_utc(when) if when else utc_now(), who or current_user(),
+        [kind, stamp(when), who or current_user(),
          origin or store.origin_of(), bottle_id, container_id, corrects_id, summary, payload],
     )
     return int(cur.lastrowid)

@@ -25,7 +25,8 @@ from types import MappingProxyType
 from carboy.errors import InvalidInput
 from carboy.model import upkeep
 from carboy.store import journal
-from carboy.store.db import Store, current_user, iso_utc, utc_now
+from carboy.store.compounds import catalog_for
+from carboy.store.db import Store, current_user, stamp
 
 RECHECK_PREFIX = "recheck_days."
 MAX_RSD = "standardization.max_rsd_percent"
@@ -109,7 +110,7 @@ def _put(s: Store, name: str, value, *, who: str | None, when: datetime | None) 
     s.execute("INSERT INTO storeroom_rules (name, value_json, set_at, set_by) VALUES (?, ?, ?, ?) "
               "ON CONFLICT (name) DO UPDATE SET value_json = excluded.value_json, "
               "set_at = excluded.set_at, set_by = excluded.set_by",
-              [name, json.dumps(value), iso_utc(when) if when else utc_now(),
+              [name, json.dumps(value), stamp(when),
                who or current_user()])
 
 
@@ -132,8 +133,6 @@ def set_recheck(store: Store, compound: str, days: int | str | None, *,
                 who: str | None = None, when: datetime | None = None) -> int:
     """Set the re-check interval of one compound; ``'never'`` turns it off, ``None`` or
     ``'default'`` returns to carboy's default.  Journaled; returns the entry id."""
-    from carboy.store.compounds import catalog_for
-
     key = catalog_for(store).compound(compound).key
     wanted = _days(days, f"re-check interval of {key}")
     before = load(store).recheck_for(key)
