@@ -87,14 +87,15 @@ def _amounts(text: Callable[[str], str]) -> dict:
     with fielded("container_size"):
         if not text("container_size"):
             raise InvalidInput("container size", "", "is required, e.g. '2.5 L' or '500 g'")
-        size, size_unit = parse_amount(text("container_size"), "container size")
+        size, size_unit = parse_amount(text("container_size"), "container size",
+                                       field="container_size")
         if size <= 0:
             raise InvalidInput("container size", text("container_size"),
                                "must be greater than zero")
     left = size
     with fielded("amount_left"):
         if text("amount_left"):
-            left, left_unit = parse_amount(text("amount_left"), "amount left")
+            left, left_unit = parse_amount(text("amount_left"), "amount left", field="amount_left")
             if left_unit != size_unit:
                 raise InvalidInput("amount left", text("amount_left"),
                                    f"must be in the same kind of unit as the container size "
