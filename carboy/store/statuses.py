@@ -25,20 +25,30 @@ Stock bottles: ``in-use``, ``empty``, ``disposed`` (any may be set; disposal is 
 from __future__ import annotations
 
 from enum import StrEnum
+from typing import Self
 
 from carboy.errors import InvalidInput
 
 
-def _choose(kind: type[StrEnum], value: object, field: str) -> StrEnum:
-    try:
-        return kind(value)
-    except ValueError:
-        raise InvalidInput(
-            "status", value, "expected one of " + ", ".join(s.value for s in kind),
-            field=field) from None
+class _Status(StrEnum):
+    """What every kind of status has: reading one, and its words."""
+
+    @classmethod
+    def parse(cls, value: object, *, field: str = "status") -> Self:
+        """The status named by ``value``; :class:`InvalidInput` naming it otherwise."""
+        try:
+            return cls(value)
+        except ValueError:
+            raise InvalidInput("status", value, "expected one of "
+                               + ", ".join(s.value for s in cls), field=field) from None
+
+    @property
+    def words(self) -> str:
+        """The status as a person reads it: ``licensed disposal``, never ``licensed-disposal``."""
+        return self.value.replace("-", " ")
 
 
-class ContainerStatus(StrEnum):
+class ContainerStatus(_Status):
     """Where a waste container stands."""
 
     COLLECTING = "collecting"
@@ -51,16 +61,6 @@ class ContainerStatus(StrEnum):
     """Gone, by the route local disposal rules and the safety office set."""
     LICENSED_DISPOSAL = "licensed-disposal"
     """Held (or shipped) for licensed disposal: never treated here."""
-
-    @classmethod
-    def parse(cls, value: object, *, field: str = "status") -> ContainerStatus:
-        """The status named by ``value``; :class:`InvalidInput` naming it otherwise."""
-        return _choose(cls, value, field)
-
-    @property
-    def words(self) -> str:
-        """The status as a person reads it: ``licensed disposal``, never ``licensed-disposal``."""
-        return _CONTAINER_WORDS[self]
 
     @property
     def state(self) -> str:
@@ -113,13 +113,6 @@ class ContainerStatus(StrEnum):
         return self in (ContainerStatus.DISPOSED, ContainerStatus.LICENSED_DISPOSAL)
 
 
-_CONTAINER_WORDS = {
-    ContainerStatus.COLLECTING: "collecting",
-    ContainerStatus.PLANNED: "planned",
-    ContainerStatus.NEUTRALIZED: "neutralized",
-    ContainerStatus.DISPOSED: "disposed",
-    ContainerStatus.LICENSED_DISPOSAL: "licensed disposal",
-}
 _CONTAINER_MOVES: dict[ContainerStatus, tuple[ContainerStatus, ...]] = {
     ContainerStatus.COLLECTING: (ContainerStatus.PLANNED, ContainerStatus.NEUTRALIZED,
                                  ContainerStatus.LICENSED_DISPOSAL),
@@ -130,22 +123,12 @@ _CONTAINER_MOVES: dict[ContainerStatus, tuple[ContainerStatus, ...]] = {
 }
 
 
-class BottleStatus(StrEnum):
+class BottleStatus(_Status):
     """Whether a stock bottle is on the shelf and usable."""
 
     IN_USE = "in-use"
     EMPTY = "empty"
     DISPOSED = "disposed"
-
-    @classmethod
-    def parse(cls, value: object, *, field: str = "status") -> BottleStatus:
-        """The status named by ``value``; :class:`InvalidInput` naming it otherwise."""
-        return _choose(cls, value, field)
-
-    @property
-    def words(self) -> str:
-        """The status as a person reads it: ``in use``, ``empty``, ``disposed``."""
-        return _BOTTLE_WORDS[self]
 
     @property
     def is_usable(self) -> bool:
@@ -158,12 +141,6 @@ class BottleStatus(StrEnum):
         return self is BottleStatus.DISPOSED
 
 
-_BOTTLE_WORDS = {
-    BottleStatus.IN_USE: "in use",
-    BottleStatus.EMPTY: "empty",
-    BottleStatus.DISPOSED: "disposed",
-}
-
 CONTAINER_STATUSES: tuple[str, ...] = tuple(s.value for s in ContainerStatus)
 """The stored values, in order of a container's life (for ``choices=`` and filters)."""
 BOTTLE_STATUSES: tuple[str, ...] = tuple(s.value for s in BottleStatus)
@@ -172,25 +149,24 @@ JOURNAL_KINDS: tuple[str, ...] = ("receipt", "preparation", "standardization",
 """The kinds of journal entry (``carboy.store.journal.KINDS``)."""
 
 
-def container_words(status: str) -> str:
-    """The words for a stored container status; an unknown value is shown as it is."""
+def _shown(kind: type[_Status], status: str, how: str = "words") -> str:
+    """``status.words`` (or another such property); an unknown value is shown as it is."""
     try:
-        return ContainerStatus(status).words
+        return getattr(kind(status), how)
     except ValueError:
         return str(status)
+
+
+def container_words(status: str) -> str:
+    """The words for a stored container status (``licensed disposal``)."""
+    return _shown(ContainerStatus, status)
 
 
 def container_state(status: str) -> str:
     """What follows "is" for a stored container status (``held for licensed disposal``)."""
-    try:
-        return ContainerStatus(status).state
-    except ValueError:
-        return str(status)
+    return _shown(ContainerStatus, status, "state")
 
 
 def bottle_words(status: str) -> str:
-    """The words for a stored bottle status; an unknown value is shown as it is."""
-    try:
-        return BottleStatus(status).words
-    except ValueError:
-        return str(status)
+    """The words for a stored bottle status (``in use``)."""
+    return _shown(BottleStatus, status)

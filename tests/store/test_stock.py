@@ -39,8 +39,11 @@ def test_names_resolve_through_catalog(store):
     assert (solid.amount_unit, solid.container_size) == ("g", 1000.0)
 
 
-@pytest.mark.parametrize("fields, match", [
+# each case: the fields given, what the message says, and the field it names (the one
+# field given, unless a third item says otherwise)
+BAD_BOTTLES = [
     ({"compound": "unobtainium"}, "unknown compound"),
+    ({"compound": ""}, "is required"),
     ({"label_strength": "-1 M"}, "negative"),
     ({"label_strength": "0 M"}, "greater than zero"),
     ({"label_strength": "80 M"}, "stronger"),
@@ -49,19 +52,31 @@ def test_names_resolve_through_catalog(store):
     ({"container_size": "2 M"}, "volume .* or a mass"),
     ({"container_size": "5000 L"}, "larger than any container"),
     ({"container_size": "-1 L"}, "negative"),
+    ({"container_size": ""}, "is required"),
     ({"amount_left": "2 L"}, "exceeds the container size"),
     ({"amount_left": "200 g"}, "same kind of unit"),
+    ({"amount_left": "lots"}, "a volume .* or a mass"),
     ({"current_strength": "37 %"}, "label's unit"),
+    ({"current_strength": "strong"}, "number followed by a unit"),
     ({"expires_on": "2025-02-30"}, "not a real date"),
     ({"expires_on": "14/03/2025"}, "YYYY-MM-DD"),
+    ({"measured_on": "2025-01-01"}, "without a current strength"),
     ({"restandardize_days": "soon"}, "whole number"),
     ({"status": "lost"}, "expected one of"),
-    ({"received_on": "2025-02-01", "opened_on": "2025-01-01"}, "before the received"),
+    ({"notes": "x" * 2001}, "too long"),
+    ({"received_on": "2025-02-01", "opened_on": "2025-01-01"}, "before the received",
+     "opened_on"),
     ({"colour": "blue"}, "unknown"),
-])
-def test_bad_input_names_the_value_and_writes_nothing(store, fields, match):
-    with pytest.raises((InvalidInput, UnknownCompound), match=match):
+]
+
+
+@pytest.mark.parametrize("case", BAD_BOTTLES, ids=lambda case: case[1])
+def test_bad_input_names_the_value_and_its_field_and_writes_nothing(store, case):
+    fields, match = case[:2]
+    with pytest.raises((InvalidInput, UnknownCompound), match=match) as info:
         _add(store, **fields)
+    if isinstance(info.value, InvalidInput):
+        assert info.value.field == (case[2] if len(case) > 2 else next(iter(fields)))
     assert stock.count(store) == 0
     assert journal.count(store) == 0
 
@@ -293,30 +308,6 @@ def test_serial_preparation_is_one_transaction(store):
         stock.prepare_series(store, bad)
     assert (stock.count(store), journal.count(store),
             stock.get(store, src).amount_left) == before
-
-
-@pytest.mark.parametrize("fields, field", [
-    ({"compound": ""}, "compound"),
-    ({"label_strength": "-1 M"}, "label_strength"),
-    ({"label_strength": "80 M"}, "label_strength"),
-    ({"current_strength": "37 %"}, "current_strength"),
-    ({"current_strength": "strong"}, "current_strength"),
-    ({"container_size": "2 M"}, "container_size"),
-    ({"container_size": ""}, "container_size"),
-    ({"amount_left": "2 L"}, "amount_left"),
-    ({"amount_left": "lots"}, "amount_left"),
-    ({"expires_on": "2025-02-30"}, "expires_on"),
-    ({"received_on": "2025-02-01", "opened_on": "2025-01-01"}, "opened_on"),
-    ({"measured_on": "2025-01-01"}, "measured_on"),
-    ({"restandardize_days": "soon"}, "restandardize_days"),
-    ({"status": "lost"}, "status"),
-    ({"notes": "x" * 2001}, "notes"),
-    ({"colour": "blue"}, "colour"),
-])
-def test_bad_input_names_its_field(store, fields, field):
-    with pytest.raises(InvalidInput) as info:
-        _add(store, **fields)
-    assert info.value.field == field
 
 
 def test_bad_amounts_and_strengths_name_their_field(store):
