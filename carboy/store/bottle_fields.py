@@ -12,6 +12,7 @@ from dataclasses import asdict, dataclass
 from typing import Any
 
 from carboy.errors import InvalidInput
+from carboy.model.upkeep import MAX_DAYS
 from carboy.store.readers import (
     check_length,
     fielded,
@@ -20,6 +21,7 @@ from carboy.store.readers import (
     parse_amount,
     parse_date,
     parse_strength,
+    parse_whole,
 )
 from carboy.store.statuses import BottleStatus
 
@@ -109,15 +111,8 @@ def _amounts(text: Callable[[str], str]) -> dict:
 def _recheck_days(text: str) -> int | None:
     if not text:
         return None
-    try:
-        days = int(text)
-    except ValueError:
-        raise InvalidInput("restandardize days", text, "expected a whole number of days",
-                           field="restandardize_days") from None
-    if not 0 < days <= 3650:
-        raise InvalidInput("restandardize days", days, "expected 1 to 3650 days",
-                           field="restandardize_days")
-    return days
+    return parse_whole(text, "restandardize days", field="restandardize_days", low=1,
+                       high=MAX_DAYS, unit="days")
 
 
 def _dates(text: Callable[[str], str], current: float | None) -> dict:

@@ -20,7 +20,7 @@ from carboy.store.bottle_fields import Bottle, validate
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store, current_user, stamp
 from carboy.store.errors import NotFound
-from carboy.store.readers import format_strength, parse_strength
+from carboy.store.readers import format_strength, parse_strength, parse_whole
 from carboy.store.statuses import BottleStatus
 from carboy.store.strength import CheckRow, check_row, strength_status
 
@@ -159,15 +159,8 @@ def _bottle(row: Mapping[str, Any], today: date, in_force: rules.Rules | None = 
     return Bottle(**columns, strength_status=status, recheck_days=days)
 
 
-def _as_id(value: object) -> int:
-    try:
-        return int(str(value).strip().lstrip("#"))
-    except (TypeError, ValueError):
-        raise InvalidInput("bottle id", value, "expected a whole number", field="bottle") from None
-
-
 def get(store: Store, bottle_id: int | str, *, today: date | None = None) -> Bottle:
-    bid = _as_id(bottle_id)
+    bid = parse_whole(bottle_id, "bottle id", field="bottle")
     row = store.one(f"SELECT {', '.join(_BOTTLE_COLUMNS)} FROM stock_bottles WHERE id = ?",
                     [bid])
     if row is None:

@@ -44,15 +44,15 @@ def _definition(key: str, name: str, formula: str, pka: Sequence[float], top_cha
     unknown = sorted(set(extra) - set(_DEFINITION_FIELDS))
     if unknown:
         raise InvalidInput("user compound field", unknown[0], "unknown; expected one of "
-                           + ", ".join(_DEFINITION_FIELDS))
+                           + ", ".join(_DEFINITION_FIELDS), field=unknown[0])
     pka_values = []
     for value in pka:
         try:
             number = float(value)
         except (TypeError, ValueError):
-            raise InvalidInput("pKa", value, "must be a number") from None
+            raise InvalidInput("pKa", value, "must be a number", field="pka") from None
         if not math.isfinite(number):
-            raise InvalidInput("pKa", value, "must be finite")
+            raise InvalidInput("pKa", value, "must be finite", field="pka")
         pka_values.append(number)
     out = {"key": key, "name": name, "formula": formula, "pka": pka_values,
            "top_charge": int(top_charge), "source": source}

@@ -142,6 +142,24 @@ def date_of(text: str | None) -> date | None:
         return None
 
 
+def parse_whole(value: object, what: str, *, field: str, low: int | None = None,
+                high: int | None = None, unit: str = "", expected: str = "") -> int:
+    """A whole number as typed (``'14'``, ``'#7'`` for an id), from ``low`` to ``high``.
+
+    ``unit`` names what is counted in the messages (``days``); ``expected`` replaces the
+    first message when other words are also accepted.
+    """
+    units = f" {unit}" if unit else ""
+    try:
+        number = int(str(value).strip().lstrip("#"))
+    except (TypeError, ValueError):
+        raise InvalidInput(what, value, expected or f"expected a whole number{units}",
+                           field=field) from None
+    if (low is not None and number < low) or (high is not None and number > high):
+        raise InvalidInput(what, value, f"expected {low} to {high}{units}", field=field)
+    return number
+
+
 def check_length(what: str, value: str, *, field: str, most: int = 2000) -> str:
     """Free text (notes, locations) up to ``most`` characters."""
     if len(value or "") > most:
