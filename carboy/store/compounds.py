@@ -20,7 +20,7 @@ from typing import Any
 from carboy.errors import InvalidInput
 from carboy.model.catalog import Catalog, default_catalog, make_user_compound
 from carboy.model.entities import Compound
-from carboy.store.db import Store, current_user, iso_utc, utc_now
+from carboy.store.db import Store, current_user, stamp
 from carboy.store.errors import AlreadyExists
 
 _DEFINITION_FIELDS = ("key", "name", "formula", "pka", "top_charge", "source", "dh_kj", "dcp_j",
@@ -44,15 +44,15 @@ def _definition(key: str, name: str, formula: str, pka: Sequence[float], top_cha
     unknown = sorted(set(extra) - set(_DEFINITION_FIELDS))
     if unknown:
         raise InvalidInput("user compound field", unknown[0], "unknown; expected one of "
-                           + ", ".join(_DEFINITION_FIELDS))
+                           + ", ".join(_DEFINITION_FIELDS), field=unknown[0])
     pka_values = []
     for value in pka:
         try:
             number = float(value)
         except (TypeError, ValueError):
-            raise InvalidInput("pKa", value, "must be a number") from None
+            raise InvalidInput("pKa", value, "must be a number", field="pka") from None
         if not math.isfinite(number):
-            raise InvalidInput("pKa", value, "must be finite")
+            raise InvalidInput("pKa", value, "must be finite", field="pka")
         pka_values.append(number)
     out = {"key": key, "name": name, "formula": formula, "pka": pka_values,
            "top_charge": int(top_charge), "source": source}
@@ -120,7 +120,7 @@ def add(store: Store, key: str, name: str, formula: str, pka: Sequence[float] = 
         _build(definition, catalog_for(s))  # another user may have added a clashing system
         s.execute("INSERT INTO user_compounds (key, definition_json, source, added_at, added_by) "
                   "VALUES (?, ?, ?, ?, ?)",
-                  [compound.key, payload, source.strip(), iso_utc(when) if when else utc_now(),
+                  [compound.key, payload, source.strip(), stamp(when),
                    who or current_user()])
 
     store.write(work)

@@ -40,6 +40,7 @@ from typing import TextIO
 
 from carboy.errors import CarboyError
 from carboy.store import journal, stock
+from carboy.store.compounds import catalog_for
 from carboy.store.db import Store
 from carboy.store.errors import CsvRowError
 
@@ -77,8 +78,6 @@ def _read_rows(source: str | os.PathLike | TextIO, name: str) -> tuple[list[str]
 def check_csv(source: str | os.PathLike | TextIO, store: Store,
               name: str | None = None) -> list[dict]:
     """Validate a whole file; returns database columns per row or raises CsvRowError."""
-    from carboy.store.compounds import catalog_for
-
     name = name or (str(source) if isinstance(source, (str, os.PathLike)) else "<csv>")
     header, rows = _read_rows(source, name)
     problems: list[tuple[int, str]] = []

@@ -35,7 +35,8 @@ from typing import Any, TypeVar
 
 import sqlite_utils
 
-from carboy.store.errors import Busy, DatabaseUnusable
+from carboy.store import migrations
+from carboy.store.errors import AlreadyExists, Busy, DatabaseUnusable
 
 T = TypeVar("T")
 
@@ -99,6 +100,11 @@ def iso_utc(moment: datetime) -> str:
     if moment.tzinfo is None:
         moment = moment.replace(tzinfo=UTC)
     return moment.astimezone(UTC).isoformat(timespec="milliseconds")
+
+
+def stamp(when: datetime | None = None) -> str:
+    """When a record was made, as stored: ``when`` as UTC ISO text, else now."""
+    return iso_utc(when) if when else utc_now()
 
 
 def _is_locked(exc: sqlite3.OperationalError) -> bool:
@@ -246,8 +252,6 @@ class Store:
         """Copy the live database safely with SQLite's backup API (never copy the file itself)."""
         dest = Path(destination)
         if dest.exists():
-            from carboy.store.errors import AlreadyExists
-
             raise AlreadyExists("backup file", str(dest))
         target = sqlite3.connect(dest)
         try:
@@ -336,8 +340,6 @@ def open_database(path: str | os.PathLike | None = None, *, check: bool = True) 
         by a newer carboy.  Nothing is written in that case.
     Busy : another process held the schema lock or the write lock too long.
     """
-    from carboy.store import migrations
-
     db_path = default_path(path)
     if db_path.exists():
         _check_header(db_path)
@@ -379,8 +381,6 @@ def _open_check(store: Store, tables: set[str]) -> list[str]:
 
 def _inspect(store: Store, *, check: bool) -> str:
     """'new', 'pending' or 'current'; raises DatabaseUnusable for a file we must not touch."""
-    from carboy.store import migrations
-
     path = str(store.path)
     try:
         names = {r["name"] for r in store.rows(

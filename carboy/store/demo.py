@@ -25,6 +25,7 @@ from pathlib import Path
 from carboy.store import journal, stock, waste
 from carboy.store.db import Store, open_database
 from carboy.store.errors import AlreadyExists
+from carboy.store.statuses import BottleStatus, ContainerStatus
 
 DEMO_TODAY = date(2025, 3, 14)
 PLACE = "Fenwold Annex storeroom"
@@ -195,7 +196,7 @@ def seed(store: Store, today: date = DEMO_TODAY) -> None:
     journal.correct(store, prep, "the volume drawn was 8.3 mL, not 8.4 mL as first noted "
                     "on the bench sheet", who=lead, when=_at(today, 29, 9),
                     snapshot={"used_ml": 8.3})
-    stock.set_status(store, bottles["FW-21-302"], "disposed", who=lead,
+    stock.set_status(store, bottles["FW-21-302"], BottleStatus.DISPOSED, who=lead,
                      when=_at(today, 3, 16),
                      note="expired; sent with the acid waste collection. " + _FOLLOW_RULES)
     for i, (label, where, capacity, notes, adds) in enumerate(_CONTAINERS):
@@ -209,7 +210,7 @@ def seed(store: Store, today: date = DEMO_TODAY) -> None:
             "cautions": ["corrosive", "heat on neutralization", _FOLLOW_RULES]}
     waste.record_neutralization(store, "MA-01", plan, None, who=lead,
                                 when=_at(today, 1, 13), today=today - timedelta(days=1))
-    waste.set_status(store, "HF-04", "licensed-disposal", who=lead, when=_at(today, 2, 10),
+    waste.set_status(store, "HF-04", ContainerStatus.LICENSED_DISPOSAL, who=lead, when=_at(today, 2, 10),
                      today=today - timedelta(days=2),
                      note="held for the licensed contractor; never neutralized here")
     journal.append(store, "note", who=student, when=_at(today, 1, 8),

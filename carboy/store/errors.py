@@ -9,6 +9,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from carboy.errors import CarboyError
+from carboy.store.statuses import container_state
 
 
 @dataclass
@@ -58,10 +59,12 @@ class ContainerClosed(StoreError):
 
     label: str
     status: str
+    """The stored status (``licensed-disposal``); the message says it in words."""
     action: str = "add to it"
 
     def __str__(self) -> str:
-        return f"waste container {self.label!r} is {self.status}: cannot {self.action}"
+        return (f"waste container {self.label!r} is {container_state(self.status)}: "
+                f"cannot {self.action}")
 
 
 @dataclass

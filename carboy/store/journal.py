@@ -17,9 +17,10 @@ from datetime import date, datetime
 from typing import Any
 
 from carboy.errors import InvalidInput
-from carboy.store.db import Store, current_user, iso_utc, utc_now
+from carboy.store.db import Store, current_user, iso_utc, stamp
 from carboy.store.errors import NotFound
-from carboy.store.migrations import JOURNAL_KINDS
+from carboy.store.readers import parse_whole
+from carboy.store.statuses import JOURNAL_KINDS
 
 KINDS = JOURNAL_KINDS
 
@@ -55,7 +56,8 @@ def snapshot_json(snapshot: Mapping[str, Any] | None) -> str:
     if snapshot is None:
         snapshot = {}
     if not isinstance(snapshot, Mapping):
-        raise InvalidInput("journal snapshot", type(snapshot).__name__, "must be a mapping")
+        raise InvalidInput("journal snapshot", type(snapshot).__name__, "must be a mapping",
+                           field="snapshot")
 
     def default(obj: Any) -> Any:
         if isinstance(obj, (datetime, date)):
@@ -81,12 +83,14 @@ def snapshot_json(snapshot: Mapping[str, Any] | None) -> str:
         return json.dumps(clean(dict(snapshot)), default=default, ensure_ascii=False,
                           allow_nan=False, sort_keys=True)
     except (TypeError, ValueError) as exc:
-        raise InvalidInput("journal snapshot", str(exc), "cannot be stored as JSON") from None
+        raise InvalidInput("journal snapshot", str(exc), "cannot be stored as JSON",
+                           field="snapshot") from None
 
 
 def _check_kind(kind: str) -> str:
     if kind not in KINDS:
-        raise InvalidInput("journal kind", kind, "expected one of " + ", ".join(KINDS))
+        raise InvalidInput("journal kind", kind, "expected one of " + ", ".join(KINDS),
+                           field="kind")
     return kind
 
 
@@ -111,7 +115,7 @@ def append_in(store: Store, kind: str, *, summary: str = "", snapshot: Mapping |
     cur = store.execute(
         "INSERT INTO journal_entries (kind, recorded_at, recorded_by, origin, bottle_id, "
         "container_id, corrects_id, summary, snapshot_json) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
-        [kind, iso_utc(when) if when else utc_now(), who or current_user(),
+        [kind, stamp(when), who or current_user(),
          origin or store.origin_of(), bottle_id, container_id, corrects_id, summary, payload],
     )
     return int(cur.lastrowid)
@@ -132,7 +136,7 @@ def correct(store: Store, entry_id: int, reason: str, *, snapshot: Mapping | Non
             who: str | None = None, when: datetime | None = None) -> int:
     """Record a correction of entry ``entry_id`` (which stays as it was); returns the new id."""
     if not reason or not reason.strip():
-        raise InvalidInput("correction reason", reason, "say what was wrong")
+        raise InvalidInput("correction reason", reason, "say what was wrong", field="reason")
     original = get(store, entry_id)
     snap = {"reason": reason.strip(), **(dict(snapshot) if snapshot else {})}
     return append(store, "correction", summary=f"correction of entry {entry_id}: {reason.strip()}",
@@ -153,18 +157,10 @@ def _entry(row: dict) -> Entry:
 
 
 def get(store: Store, entry_id: int) -> Entry:
-    row = store.one(_SELECT + " WHERE j.id = ?", [_as_id(entry_id)])
+    row = store.one(_SELECT + " WHERE j.id = ?", [parse_whole(entry_id, "journal entry id", field="entry")])
     if row is None:
         raise NotFound("journal entry", entry_id)
     return _entry(row)
-
-
-def _as_id(value: object) -> int:
-    try:
-        n = int(str(value).strip().lstrip("#"))
-    except (TypeError, ValueError):
-        raise InvalidInput("journal entry id", value, "expected a whole number") from None
-    return n
 
 
 def corrections_of(store: Store, entry_id: int) -> list[Entry]:
@@ -186,7 +182,7 @@ def _since_text(since: date | datetime | str | None) -> str | None:
         try:
             return iso_utc(datetime.fromisoformat(since.strip()))
         except ValueError:
-            raise InvalidInput("date", since, "expected YYYY-MM-DD") from None
+            raise InvalidInput("date", since, "expected YYYY-MM-DD", field="since") from None
     return parsed.isoformat()
 
 
@@ -220,7 +216,7 @@ def entries(store: Store, *, kind: str | None = None, since: date | datetime | s
     sql = _SELECT + (" WHERE " + " AND ".join(where) if where else "") + " ORDER BY j.id DESC"
     if limit is not None:
         if limit <= 0:
-            raise InvalidInput("limit", limit, "must be positive")
+            raise InvalidInput("limit", limit, "must be positive", field="limit")
         sql += f" LIMIT {int(limit)}"
     return [_entry(r) for r in store.rows(sql, params)]
 

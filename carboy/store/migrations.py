@@ -3,8 +3,14 @@
 Each migration is a decorated function, applied once and recorded in
 ``_sqlite_migrations``.  :func:`apply` is only called by
 :func:`carboy.store.db.open_database`, holding the schema file lock and inside one
-``BEGIN IMMEDIATE`` transaction, so a half-applied schema cannot exist.  Never
-edit a migration that has shipped: add a new one.
+``BEGIN IMMEDIATE`` transaction, so a half-applied schema cannot exist.
+
+A migration that has shipped never changes: it holds its SQL as literal text,
+with the value lists of its day (statuses, journal kinds, units) written out, so
+editing a constant elsewhere cannot alter it.  ``tests/store/test_migrations_frozen.py``
+pins the text of each one.  To change the schema, add a migration.
+
+This module imports nothing from the rest of the store (``db`` imports it).
 
 Tables (names are ours):
 
@@ -20,52 +26,46 @@ Tables (names are ours):
 
 from __future__ import annotations
 
+from typing import Protocol
+
 from sqlite_utils import Database
 from sqlite_utils.migrations import Migrations
 
-from carboy.store.db import APPLICATION_ID, Store
+# No migration reads this: carboy/tui/cli_store.py still imports it from here.  Its home
+# is carboy.store.statuses; drop this line once the command line imports it from there.
+from carboy.store.statuses import JOURNAL_KINDS  # noqa: F401
 
 MIGRATION_SET = "carboy"
 MIGRATIONS_TABLE = Migrations.migrations_table
 
-BOTTLE_STATUSES = ("in-use", "empty", "disposed")
-CONTAINER_STATUSES = ("collecting", "planned", "neutralized", "disposed", "licensed-disposal")
-JOURNAL_KINDS = ("receipt", "preparation", "standardization", "neutralization", "disposal",
-                 "correction", "note")
-STRENGTH_UNITS = ("M", "%w/w")
-AMOUNT_UNITS = ("L", "g")
-
 migrations = Migrations(MIGRATION_SET)
 
-
-def _in(values: tuple[str, ...]) -> str:
-    return "(" + ", ".join(f"'{v}'" for v in values) + ")"
-
-
-def _append_only(table: str, what: str) -> list[str]:
-    return [
-        f"""CREATE TRIGGER {table}_no_update BEFORE UPDATE ON {table}
-BEGIN SELECT RAISE(ABORT, 'carboy: {what} are append-only; record a correction instead'); END""",
-        f"""CREATE TRIGGER {table}_no_delete BEFORE DELETE ON {table}
-BEGIN SELECT RAISE(ABORT, 'carboy: {what} are append-only; record a correction instead'); END""",
-    ]
+STATEMENT_BREAK = "\n;\n"
+"""Between two statements of a migration's SQL text (a line holding only ``;``: trigger
+bodies have semicolons of their own)."""
 
 
-@migrations(name="0001_storeroom")
-def m0001_storeroom(db: Database) -> None:
-    statements = [
-        f"PRAGMA application_id = {APPLICATION_ID}",
-        f"""CREATE TABLE stock_bottles (
+def _run(db: Database, script: str) -> None:
+    """Run each statement in turn (``executescript`` would commit the transaction)."""
+    for sql in script.split(STATEMENT_BREAK):
+        db.execute(sql)
+
+
+# application_id 1129464409 is 0x43524259, "CRBY" (carboy.store.db.APPLICATION_ID)
+SQL_0001 = """\
+PRAGMA application_id = 1129464409
+;
+CREATE TABLE stock_bottles (
     id INTEGER PRIMARY KEY,
     compound_key TEXT NOT NULL CHECK (length(compound_key) > 0),
     compound_name TEXT NOT NULL DEFAULT '',
-    strength_unit TEXT NOT NULL CHECK (strength_unit IN {_in(STRENGTH_UNITS)}),
+    strength_unit TEXT NOT NULL CHECK (strength_unit IN ('M', '%w/w')),
     label_strength REAL NOT NULL CHECK (label_strength > 0),
     current_strength REAL CHECK (current_strength IS NULL OR current_strength > 0),
     measured_at TEXT,
     measured_how TEXT NOT NULL DEFAULT '',
     restandardize_days INTEGER CHECK (restandardize_days IS NULL OR restandardize_days > 0),
-    amount_unit TEXT NOT NULL CHECK (amount_unit IN {_in(AMOUNT_UNITS)}),
+    amount_unit TEXT NOT NULL CHECK (amount_unit IN ('L', 'g')),
     amount_left REAL NOT NULL CHECK (amount_left >= 0),
     container_size REAL NOT NULL CHECK (container_size > 0),
     location TEXT NOT NULL DEFAULT '',
@@ -73,47 +73,55 @@ def m0001_storeroom(db: Database) -> None:
     received_on TEXT,
     opened_on TEXT,
     expires_on TEXT,
-    status TEXT NOT NULL DEFAULT 'in-use' CHECK (status IN {_in(BOTTLE_STATUSES)}),
+    status TEXT NOT NULL DEFAULT 'in-use' CHECK (status IN ('in-use', 'empty', 'disposed')),
     notes TEXT NOT NULL DEFAULT '',
     added_at TEXT NOT NULL,
     added_by TEXT NOT NULL
-)""",
-        "CREATE INDEX stock_bottles_by_compound ON stock_bottles (compound_key)",
-        "CREATE INDEX stock_bottles_by_expiry ON stock_bottles (expires_on)",
-        """CREATE VIRTUAL TABLE stock_bottles_fts USING fts5 (
+)
+;
+CREATE INDEX stock_bottles_by_compound ON stock_bottles (compound_key)
+;
+CREATE INDEX stock_bottles_by_expiry ON stock_bottles (expires_on)
+;
+CREATE VIRTUAL TABLE stock_bottles_fts USING fts5 (
     compound_key, compound_name, location, lot,
     content = 'stock_bottles', content_rowid = 'id',
     tokenize = 'unicode61 remove_diacritics 2'
-)""",
-        """CREATE TRIGGER stock_bottles_fts_insert AFTER INSERT ON stock_bottles BEGIN
+)
+;
+CREATE TRIGGER stock_bottles_fts_insert AFTER INSERT ON stock_bottles BEGIN
     INSERT INTO stock_bottles_fts (rowid, compound_key, compound_name, location, lot)
     VALUES (new.id, new.compound_key, new.compound_name, new.location, new.lot);
-END""",
-        """CREATE TRIGGER stock_bottles_fts_delete AFTER DELETE ON stock_bottles BEGIN
+END
+;
+CREATE TRIGGER stock_bottles_fts_delete AFTER DELETE ON stock_bottles BEGIN
     INSERT INTO stock_bottles_fts (stock_bottles_fts, rowid, compound_key, compound_name,
                                    location, lot)
     VALUES ('delete', old.id, old.compound_key, old.compound_name, old.location, old.lot);
-END""",
-        """CREATE TRIGGER stock_bottles_fts_update AFTER UPDATE OF compound_key, compound_name,
+END
+;
+CREATE TRIGGER stock_bottles_fts_update AFTER UPDATE OF compound_key, compound_name,
     location, lot ON stock_bottles BEGIN
     INSERT INTO stock_bottles_fts (stock_bottles_fts, rowid, compound_key, compound_name,
                                    location, lot)
     VALUES ('delete', old.id, old.compound_key, old.compound_name, old.location, old.lot);
     INSERT INTO stock_bottles_fts (rowid, compound_key, compound_name, location, lot)
     VALUES (new.id, new.compound_key, new.compound_name, new.location, new.lot);
-END""",
-        f"""CREATE TABLE waste_containers (
+END
+;
+CREATE TABLE waste_containers (
     id INTEGER PRIMARY KEY,
     label TEXT NOT NULL UNIQUE COLLATE NOCASE CHECK (length(trim(label)) > 0),
     location TEXT NOT NULL DEFAULT '',
     capacity_l REAL NOT NULL CHECK (capacity_l > 0),
-    status TEXT NOT NULL DEFAULT 'collecting' CHECK (status IN {_in(CONTAINER_STATUSES)}),
+    status TEXT NOT NULL DEFAULT 'collecting' CHECK (status IN ('collecting', 'planned', 'neutralized', 'disposed', 'licensed-disposal')),
     opened_on TEXT NOT NULL,
     closed_on TEXT,
     notes TEXT NOT NULL DEFAULT '',
     created_by TEXT NOT NULL
-)""",
-        """CREATE TABLE waste_additions (
+)
+;
+CREATE TABLE waste_additions (
     id INTEGER PRIMARY KEY,
     container_id INTEGER NOT NULL REFERENCES waste_containers (id),
     compound_key TEXT NOT NULL,
@@ -128,19 +136,27 @@ END""",
     added_by TEXT NOT NULL,
     origin TEXT NOT NULL,
     note TEXT NOT NULL DEFAULT ''
-)""",
-        "CREATE INDEX waste_additions_by_container ON waste_additions (container_id, id)",
-        *_append_only("waste_additions", "waste additions"),
-        """CREATE TABLE user_compounds (
+)
+;
+CREATE INDEX waste_additions_by_container ON waste_additions (container_id, id)
+;
+CREATE TRIGGER waste_additions_no_update BEFORE UPDATE ON waste_additions
+BEGIN SELECT RAISE(ABORT, 'carboy: waste additions are append-only; record a correction instead'); END
+;
+CREATE TRIGGER waste_additions_no_delete BEFORE DELETE ON waste_additions
+BEGIN SELECT RAISE(ABORT, 'carboy: waste additions are append-only; record a correction instead'); END
+;
+CREATE TABLE user_compounds (
     key TEXT PRIMARY KEY,
     definition_json TEXT NOT NULL CHECK (json_valid(definition_json)),
     source TEXT NOT NULL CHECK (length(trim(source)) > 0),
     added_at TEXT NOT NULL,
     added_by TEXT NOT NULL
-)""",
-        f"""CREATE TABLE journal_entries (
+)
+;
+CREATE TABLE journal_entries (
     id INTEGER PRIMARY KEY,
-    kind TEXT NOT NULL CHECK (kind IN {_in(JOURNAL_KINDS)}),
+    kind TEXT NOT NULL CHECK (kind IN ('receipt', 'preparation', 'standardization', 'neutralization', 'disposal', 'correction', 'note')),
     recorded_at TEXT NOT NULL,
     recorded_by TEXT NOT NULL,
     origin TEXT NOT NULL,
@@ -150,44 +166,61 @@ END""",
     summary TEXT NOT NULL DEFAULT '',
     snapshot_json TEXT NOT NULL CHECK (json_valid(snapshot_json)),
     CHECK (kind <> 'correction' OR corrects_id IS NOT NULL)
-)""",
-        "CREATE INDEX journal_entries_by_time ON journal_entries (recorded_at)",
-        "CREATE INDEX journal_entries_by_kind ON journal_entries (kind, recorded_at)",
-        "CREATE INDEX journal_entries_by_bottle ON journal_entries (bottle_id) "
-        "WHERE bottle_id IS NOT NULL",
-        "CREATE INDEX journal_entries_by_container ON journal_entries (container_id) "
-        "WHERE container_id IS NOT NULL",
-        "CREATE INDEX journal_entries_by_corrected ON journal_entries (corrects_id) "
-        "WHERE corrects_id IS NOT NULL",
-        *_append_only("journal_entries", "journal entries"),
-    ]
-    for sql in statements:
-        db.execute(sql)
+)
+;
+CREATE INDEX journal_entries_by_time ON journal_entries (recorded_at)
+;
+CREATE INDEX journal_entries_by_kind ON journal_entries (kind, recorded_at)
+;
+CREATE INDEX journal_entries_by_bottle ON journal_entries (bottle_id) WHERE bottle_id IS NOT NULL
+;
+CREATE INDEX journal_entries_by_container ON journal_entries (container_id) WHERE container_id IS NOT NULL
+;
+CREATE INDEX journal_entries_by_corrected ON journal_entries (corrects_id) WHERE corrects_id IS NOT NULL
+;
+CREATE TRIGGER journal_entries_no_update BEFORE UPDATE ON journal_entries
+BEGIN SELECT RAISE(ABORT, 'carboy: journal entries are append-only; record a correction instead'); END
+;
+CREATE TRIGGER journal_entries_no_delete BEFORE DELETE ON journal_entries
+BEGIN SELECT RAISE(ABORT, 'carboy: journal entries are append-only; record a correction instead'); END"""
 
 
-@migrations(name="0002_storeroom_rules")
-def m0002_storeroom_rules(db: Database) -> None:
-    db.execute("""CREATE TABLE storeroom_rules (
+@migrations(name="0001_storeroom")
+def m0001_storeroom(db: Database) -> None:
+    _run(db, SQL_0001)
+
+
+SQL_0002 = """\
+CREATE TABLE storeroom_rules (
     name TEXT PRIMARY KEY CHECK (length(trim(name)) > 0),
     value_json TEXT NOT NULL CHECK (json_valid(value_json)),
     set_at TEXT NOT NULL,
     set_by TEXT NOT NULL
-)""")
+)"""
+
+
+@migrations(name="0002_storeroom_rules")
+def m0002_storeroom_rules(db: Database) -> None:
+    _run(db, SQL_0002)
+
+
+class _HasDatabase(Protocol):
+    db: Database
 
 
 def known_names() -> list[str]:
     return [m.name for m in migrations._migrations]
 
 
-def applied_names(store: Store) -> list[str]:
+def applied_names(store: _HasDatabase) -> list[str]:
     return [m.name for m in migrations.applied(store.db)]
 
 
-def pending_names(store: Store) -> list[str]:
+def pending_names(store: _HasDatabase) -> list[str]:
     return [m.name for m in migrations.pending(store.db)]
 
 
-def apply(store: Store) -> list[str]:
+def apply(store: _HasDatabase) -> list[str]:
     """Apply pending migrations; call only inside ``Store.write`` holding the file lock."""
     pending = pending_names(store)
     migrations.apply(store.db)

@@ -25,7 +25,9 @@ from types import MappingProxyType
 from carboy.errors import InvalidInput
 from carboy.model import upkeep
 from carboy.store import journal
-from carboy.store.db import Store, current_user, iso_utc, utc_now
+from carboy.store.compounds import catalog_for
+from carboy.store.db import Store, current_user, stamp
+from carboy.store.readers import parse_whole
 
 RECHECK_PREFIX = "recheck_days."
 MAX_RSD = "standardization.max_rsd_percent"
@@ -109,7 +111,7 @@ def _put(s: Store, name: str, value, *, who: str | None, when: datetime | None) 
     s.execute("INSERT INTO storeroom_rules (name, value_json, set_at, set_by) VALUES (?, ?, ?, ?) "
               "ON CONFLICT (name) DO UPDATE SET value_json = excluded.value_json, "
               "set_at = excluded.set_at, set_by = excluded.set_by",
-              [name, json.dumps(value), iso_utc(when) if when else utc_now(),
+              [name, json.dumps(value), stamp(when),
                who or current_user()])
 
 
@@ -118,22 +120,15 @@ def _days(value: object, what: str) -> int | None:
         return None
     if isinstance(value, str) and value.strip().lower() in ("never", "none", "off"):
         return 0
-    try:
-        days = int(str(value).strip())
-    except ValueError:
-        raise InvalidInput(what, value, "expected a whole number of days, 'never' or "
-                           "'default'") from None
-    if not 0 < days <= upkeep.MAX_DAYS:
-        raise InvalidInput(what, value, f"expected 1 to {upkeep.MAX_DAYS} days")
-    return days
+    return parse_whole(value, what, field="recheck_days", low=1, high=upkeep.MAX_DAYS,
+                       unit="days",
+                       expected="expected a whole number of days, 'never' or 'default'")
 
 
 def set_recheck(store: Store, compound: str, days: int | str | None, *,
                 who: str | None = None, when: datetime | None = None) -> int:
     """Set the re-check interval of one compound; ``'never'`` turns it off, ``None`` or
     ``'default'`` returns to carboy's default.  Journaled; returns the entry id."""
-    from carboy.store.compounds import catalog_for
-
     key = catalog_for(store).compound(compound).key
     wanted = _days(days, f"re-check interval of {key}")
     before = load(store).recheck_for(key)
@@ -168,19 +163,15 @@ def parse_acceptance(*, max_rsd_percent: float | str | None = None,
             rsd = float(str(max_rsd_percent).strip().rstrip("%").strip().replace(",", "."))
         except ValueError:
             raise InvalidInput("largest RSD", max_rsd_percent, "expected a percentage such "
-                               "as 0.2") from None
+                               "as 0.2", field="max_rsd_percent") from None
         low, high = MAX_RSD_RANGE
         if not math.isfinite(rsd) or not low <= rsd <= high:
-            raise InvalidInput("largest RSD", max_rsd_percent, f"expected {low:g} to {high:g} %")
+            raise InvalidInput("largest RSD", max_rsd_percent, f"expected {low:g} to {high:g} %",
+                               field="max_rsd_percent")
     if min_replicates is not None:
-        try:
-            n = int(str(min_replicates).strip())
-        except ValueError:
-            raise InvalidInput("fewest replicates", min_replicates,
-                               "expected a whole number") from None
         low, high = MIN_REPLICATES_RANGE
-        if not low <= n <= high:
-            raise InvalidInput("fewest replicates", min_replicates, f"expected {low} to {high}")
+        n = parse_whole(min_replicates, "fewest replicates", field="min_replicates", low=low,
+                        high=high)
     return {"max_rsd_percent": rsd, "min_replicates": n}
 
 

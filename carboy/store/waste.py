@@ -1,13 +1,8 @@
 """Waste containers and what went into them.
 
 A container has a label (unique, case-insensitive), location, capacity in litres,
-a status and opened / closed dates.  Statuses and the moves allowed between them:
-
-``collecting``         accepting additions → planned, neutralized, licensed-disposal
-``planned``            a neutralization plan is recorded → neutralized, licensed-disposal
-``neutralized``        treated, pH measured → disposed, licensed-disposal
-``disposed``           gone, by the route local disposal rules and the safety office set
-``licensed-disposal``  shipped (or to be shipped) for licensed disposal: never treated here
+a status and opened / closed dates.  The statuses, the moves allowed between them and
+what each permits are :class:`~carboy.store.statuses.ContainerStatus`.
 
 Only a ``collecting`` container takes additions.  An addition records the compound
 (key, and its catalog composition as it was then), its concentration in mol/L and
@@ -32,23 +27,21 @@ from datetime import date, datetime
 from typing import Any
 
 from carboy.errors import InvalidInput
-from carboy.model import quantities
 from carboy.model.components import Component, read_component
 from carboy.model.entities import Compound
 from carboy.model.mixture import Mixture
 from carboy.store import journal
-from carboy.store.db import Store, current_user, iso_utc, utc_now
+from carboy.store.compounds import catalog_for
+from carboy.store.db import Store, current_user, stamp
 from carboy.store.errors import AlreadyExists, ContainerClosed, NotFound, OverCapacity
-from carboy.store.migrations import CONTAINER_STATUSES
+from carboy.store.readers import check_length, fielded, parse_litres
+from carboy.store.statuses import CONTAINER_STATUSES, ContainerStatus
 
 STATUSES = CONTAINER_STATUSES
+"""The stored values (:class:`~carboy.store.statuses.ContainerStatus` is their home)."""
 NEXT_STATUSES: dict[str, tuple[str, ...]] = {
-    "collecting": ("planned", "neutralized", "licensed-disposal"),
-    "planned": ("neutralized", "licensed-disposal"),
-    "neutralized": ("disposed", "licensed-disposal"),
-    "disposed": (),
-    "licensed-disposal": (),
-}
+    s.value: tuple(n.value for n in s.next) for s in ContainerStatus}
+"""Status -> the statuses it may move on to (from :attr:`ContainerStatus.next`)."""
 DEFAULT_CAPACITY_L = 20.0
 """Capacity of a new container when none is given (a common carboy)."""
 MAX_CAPACITY_L = 1000.0
@@ -66,7 +59,7 @@ class Container:
     label: str
     location: str
     capacity_l: float
-    status: str
+    status: ContainerStatus
     opened_on: str
     closed_on: str | None
     notes: str
@@ -105,29 +98,20 @@ class Addition:
 
 def check_label(label: str) -> str:
     if not isinstance(label, str) or not label.strip():
-        raise InvalidInput("container label", label, "must not be empty")
+        raise InvalidInput("container label", label, "must not be empty", field="label")
     text = label.strip()
     if len(text) > MAX_LABEL_LENGTH or not _LABEL.match(text):
         raise InvalidInput("container label", label, f"use up to {MAX_LABEL_LENGTH} printable "
-                           "characters")
+                           "characters", field="label")
     return text
 
 
 def parse_capacity(value: str | float | None) -> float:
+    """A new container's capacity in L (text such as ``'20 L'``, or litres); default 20 L."""
     if value is None:
         return DEFAULT_CAPACITY_L
-    if isinstance(value, str):
-        cap = quantities.volume_l(value, what="capacity")
-    else:
-        cap = float(value)
-        if not math.isfinite(cap) or cap < 0:
-            raise InvalidInput("capacity", value, "must be a finite, positive volume")
-    if cap <= 0:
-        raise InvalidInput("capacity", value, "must be greater than zero")
-    if cap > MAX_CAPACITY_L:
-        raise InvalidInput("capacity", value, f"larger than any container carboy accepts "
-                           f"({MAX_CAPACITY_L:g} L)")
-    return cap
+    return parse_litres(value, what="capacity", field="capacity", positive=True,
+                        most_l=MAX_CAPACITY_L, too_much="larger than any container carboy accepts")
 
 
 parse_component = read_component
@@ -135,22 +119,23 @@ parse_component = read_component
 
 
 def parse_volume(value: str | float | None, *, required: bool) -> float:
+    """An addition's volume in L; ``required`` for a solution (a solid's may be left out)."""
     if value is None or (isinstance(value, str) and not value.strip()):
         if required:
-            raise InvalidInput("volume", value, "is required for a solution, e.g. '250 mL'")
+            raise InvalidInput("volume", value, "is required for a solution, e.g. '250 mL'",
+                               field="volume")
         return 0.0
-    if isinstance(value, str):
-        vol = quantities.volume_l(value)
-    else:
-        vol = float(value)
-        if not math.isfinite(vol) or vol < 0:
-            raise InvalidInput("volume", value, "must be a finite, non-negative volume")
-    if required and vol <= 0:
-        raise InvalidInput("volume", value, "must be greater than zero")
-    if vol > MAX_ADDITION_L:
-        raise InvalidInput("volume", value, f"more than any container holds "
-                           f"({MAX_ADDITION_L:g} L)")
-    return vol
+    return parse_litres(value, what="volume", field="volume", positive=required,
+                        most_l=MAX_ADDITION_L, too_much="more than any container holds")
+
+
+def read_addition(component: str, volume: str | float | None, catalog=None,
+                  ) -> tuple[Component, float]:
+    """The component (``'HCl=1M'``, ``'NaF=2 g'``) and its volume in L, as :func:`add` reads
+    them; a solid given by mass needs no volume."""
+    with fielded("component"):
+        parsed = parse_component(component, catalog)
+    return parsed, parse_volume(volume, required=parsed.mass_g is None)
 
 
 def moles_of(component: Component, volume_l: float) -> dict[str, float]:
@@ -179,9 +164,9 @@ def new_container(store: Store, label: str, *, location: str = "",
         if s.scalar("SELECT 1 FROM waste_containers WHERE label = ?", [text]):
             raise AlreadyExists("waste container", text)
         s.execute("INSERT INTO waste_containers (label, location, capacity_l, status, opened_on, "
-                  "notes, created_by) VALUES (?, ?, ?, 'collecting', ?, ?, ?)",
-                  [text, (location or "").strip(), cap, _today(today), notes or "",
-                   who or current_user()])
+                  "notes, created_by) VALUES (?, ?, ?, ?, ?, ?, ?)",
+                  [text, (location or "").strip(), cap, ContainerStatus.COLLECTING,
+                   _today(today), notes or "", who or current_user()])
 
     store.write(work)
     return container(store, text)
@@ -191,16 +176,27 @@ def _container_row(store: Store, label: str) -> dict:
     row = store.one("SELECT * FROM waste_containers WHERE label = ?", [check_label(label)])
     if row is None:
         raise NotFound("waste container", label)
+    row["status"] = ContainerStatus(row["status"])
     return row
 
 
-_LIVE = ("FROM waste_additions a WHERE a.container_id = :cid AND NOT EXISTS "
-         "(SELECT 1 FROM waste_additions c WHERE c.supersedes_id = a.id)")
+_SUPERSEDED = "EXISTS (SELECT 1 FROM waste_additions c WHERE c.supersedes_id = a.id)"
+"""SQL: the addition ``a`` was replaced by a later correction (it no longer counts)."""
+_COUNTED = f"a.container_id = :cid AND NOT {_SUPERSEDED}"
+"""SQL: the addition ``a`` is to container ``:cid`` and still counts."""
+_LIVE = f"FROM waste_additions a WHERE {_COUNTED}"
 
 
 def _volume(store: Store, container_id: int) -> float:
     return float(store.scalar(f"SELECT coalesce(sum(a.volume_l), 0) {_LIVE}",
                               {"cid": container_id}))
+
+
+def _check_room(store: Store, row: Mapping[str, Any], change_l: float) -> None:
+    """Refuse a change of ``change_l`` litres that would overfill the container."""
+    would_be = _volume(store, row["id"]) + change_l
+    if would_be > row["capacity_l"] * (1 + 1e-9):
+        raise OverCapacity(row["label"], row["capacity_l"], would_be)
 
 
 def _insert_addition(s: Store, row: dict, component: Component, volume_l: float, *,
@@ -214,8 +210,7 @@ def _insert_addition(s: Store, row: dict, component: Component, volume_l: float,
         [row["id"], component.compound.key, component.conc_molar, volume_l, component.mass_g,
          component.text, json.dumps(dict(component.compound.composition), sort_keys=True),
          json.dumps(moles, sort_keys=True, allow_nan=False), supersedes,
-         iso_utc(when) if when else utc_now(), who or current_user(), s.origin_of(),
-         note or ""])
+         stamp(when), who or current_user(), s.origin_of(), note or ""])
     return int(cur.lastrowid)
 
 
@@ -234,20 +229,14 @@ def add(store: Store, label: str, component: str, volume: str | float | None = N
     ContainerClosed : the container is no longer collecting.
     OverCapacity : the addition would overfill it.
     """
-    from carboy.store.compounds import catalog_for
-
-    parsed = parse_component(component, catalog_for(store))
-    vol = parse_volume(volume, required=parsed.mass_g is None)
-    if len(note or "") > 2000:
-        raise InvalidInput("note", note[:40] + "...", "is too long (2000 characters at most)")
+    parsed, vol = read_addition(component, volume, catalog_for(store))
+    check_length("note", note, field="note")
 
     def work(s: Store) -> int:
         row = _container_row(s, label)
-        if row["status"] != "collecting":
+        if not row["status"].takes_additions:
             raise ContainerClosed(row["label"], row["status"])
-        would_be = _volume(s, row["id"]) + vol
-        if would_be > row["capacity_l"] * (1 + 1e-9):
-            raise OverCapacity(row["label"], row["capacity_l"], would_be)
+        _check_room(s, row, vol)
         return _insert_addition(s, row, parsed, vol, note=note, supersedes=None, who=who,
                                 when=when)
 
@@ -263,10 +252,8 @@ def correct_addition(store: Store, addition_id: int, reason: str, *,
     the addition is withdrawn (the new row carries nothing).  The container must still
     be collecting.  A ``note`` journal entry records the correction.
     """
-    from carboy.store.compounds import catalog_for
-
     if not reason or not reason.strip():
-        raise InvalidInput("correction reason", reason, "say what was wrong")
+        raise InvalidInput("correction reason", reason, "say what was wrong", field="reason")
     catalog = catalog_for(store)
 
     def work(s: Store) -> int:
@@ -278,18 +265,15 @@ def correct_addition(store: Store, addition_id: int, reason: str, *,
             raise InvalidInput("waste addition", addition_id, "was already corrected; correct "
                                "the newer row instead")
         row = _container_row(s, old["label"])
-        if row["status"] != "collecting":
+        if not row["status"].takes_additions:
             raise ContainerClosed(row["label"], row["status"], "correct its additions")
         if component is None:
             parsed = Component(_withdrawn(old["compound_key"]), 0.0, None,
                                f"(withdrawn: {old['entered']})")
             vol = 0.0
         else:
-            parsed = parse_component(component, catalog)
-            vol = parse_volume(volume, required=parsed.mass_g is None)
-        would_be = _volume(s, row["id"]) - old["volume_l"] + vol
-        if would_be > row["capacity_l"] * (1 + 1e-9):
-            raise OverCapacity(row["label"], row["capacity_l"], would_be)
+            parsed, vol = read_addition(component, volume, catalog)
+        _check_room(s, row, vol - old["volume_l"])
         new_id = _insert_addition(s, row, parsed, vol, note=reason.strip(),
                                   supersedes=old["id"], who=who, when=when)
         journal.append_in(s, "note", container_id=row["id"], who=who, when=when,
@@ -308,28 +292,46 @@ def _withdrawn(key: str) -> Compound:
                     molar_mass_g_mol=1.0)
 
 
+def _move(s: Store, row: Mapping[str, Any], target: ContainerStatus, today: date | None) -> None:
+    """Set the status; the first move away from collecting dates the closing."""
+    s.execute("UPDATE waste_containers SET status = ?, closed_on = ? WHERE id = ?",
+              [target, row["closed_on"] or _today(today), row["id"]])
+
+
 def set_status(store: Store, label: str, status: str, *, note: str = "",
                who: str | None = None, when: datetime | None = None,
                today: date | None = None) -> int:
-    """Move a container on (see ``NEXT_STATUSES``); journaled. Returns the journal entry id."""
-    if status not in STATUSES:
-        raise InvalidInput("status", status, "expected one of " + ", ".join(STATUSES))
+    """Move a container on (see :attr:`ContainerStatus.next`); journaled. Returns the entry id."""
+    target = ContainerStatus.parse(status)
 
     def work(s: Store) -> int:
         row = _container_row(s, label)
-        if status not in NEXT_STATUSES[row["status"]]:
-            raise ContainerClosed(row["label"], row["status"], f"move it to {status}")
-        closed = row["closed_on"] or _today(today)
-        s.execute("UPDATE waste_containers SET status = ?, closed_on = ? WHERE id = ?",
-                  [status, closed, row["id"]])
-        kind = "disposal" if status in ("disposed", "licensed-disposal") else "note"
+        was = row["status"]
+        if not was.can_move_to(target):
+            raise ContainerClosed(row["label"], was, f"move it to {target.words}")
+        _move(s, row, target, today)
         return journal.append_in(
-            s, kind, container_id=row["id"], who=who, when=when,
-            summary=f"{row['label']}: {row['status']} -> {status}" + (f" ({note})" if note else ""),
-            snapshot={"previous_status": row["status"], "status": status, "note": note,
+            s, "disposal" if target.is_disposal else "note", container_id=row["id"], who=who,
+            when=when,
+            summary=f"{row['label']}: {was.words} -> {target.words}"
+                    + (f" ({note})" if note else ""),
+            snapshot={"previous_status": was, "status": target, "note": note,
                       **_snapshot_of(s, row)})
 
     return store.write(work)
+
+
+def _measured_ph(value: object) -> float | None:
+    if value is None:
+        return None
+    try:
+        ph = float(value)
+    except (TypeError, ValueError):
+        raise InvalidInput("measured pH", value, "must be a number", field="measured_ph") from None
+    if not math.isfinite(ph) or not -2.0 <= ph <= 16.0:
+        raise InvalidInput("measured pH", value, "expected a pH between -2 and 16",
+                           field="measured_ph")
+    return ph
 
 
 def record_neutralization(store: Store, label: str, plan_snapshot: Mapping[str, Any],
@@ -342,23 +344,15 @@ def record_neutralization(store: Store, label: str, plan_snapshot: Mapping[str, 
     container's composition as it stood, the plan as given and the measured pH.
     Returns the journal entry id.
     """
-    if measured_ph is not None:
-        try:
-            ph = float(measured_ph)
-        except (TypeError, ValueError):
-            raise InvalidInput("measured pH", measured_ph, "must be a number") from None
-        if not math.isfinite(ph) or not -2.0 <= ph <= 16.0:
-            raise InvalidInput("measured pH", measured_ph, "expected a pH between -2 and 16")
-        measured_ph = ph
+    measured_ph = _measured_ph(measured_ph)
     plan_json = journal.snapshot_json(plan_snapshot)
-    target = "planned" if measured_ph is None else "neutralized"
+    target = ContainerStatus.PLANNED if measured_ph is None else ContainerStatus.NEUTRALIZED
 
     def work(s: Store) -> int:
         row = _container_row(s, label)
-        if row["status"] not in ("collecting", "planned"):
+        if not row["status"].can_record_neutralization:
             raise ContainerClosed(row["label"], row["status"], "record a neutralization")
-        s.execute("UPDATE waste_containers SET status = ?, closed_on = ? WHERE id = ?",
-                  [target, row["closed_on"] or _today(today), row["id"]])
+        _move(s, row, target, today)
         summary = (f"{row['label']}: neutralization "
                    + ("planned" if measured_ph is None else f"done, measured pH {measured_ph:g}"))
         return journal.append_in(
@@ -389,13 +383,12 @@ def container(store: Store, label: str) -> Container:
 
 def containers(store: Store, *, status: str | None = None) -> list[Container]:
     """Every container (optionally of one status), by label."""
-    if status is not None and status not in STATUSES:
-        raise InvalidInput("status", status, "expected one of " + ", ".join(STATUSES))
+    wanted = None if status is None else ContainerStatus.parse(status)
     with store.reading():
         rows = store.rows("SELECT * FROM waste_containers" +
-                          (" WHERE status = ?" if status else "") + " ORDER BY label",
-                          [status] if status else [])
-        return [_container(store, r) for r in rows]
+                          (" WHERE status = ?" if wanted else "") + " ORDER BY label",
+                          [wanted] if wanted else [])
+        return [_container(store, {**r, "status": ContainerStatus(r["status"])}) for r in rows]
 
 
 def moles(store: Store, label: str) -> tuple[dict[str, float], float]:
@@ -404,9 +397,8 @@ def moles(store: Store, label: str) -> tuple[dict[str, float], float]:
         row = _container_row(store, label)
         found = store.rows(
             "SELECT j.key AS key, sum(j.value) AS mol FROM waste_additions a, "
-            "json_each(a.moles_json) j WHERE a.container_id = :cid AND NOT EXISTS "
-            "(SELECT 1 FROM waste_additions c WHERE c.supersedes_id = a.id) "
-            "GROUP BY j.key ORDER BY j.key", {"cid": row["id"]})
+            f"json_each(a.moles_json) j WHERE {_COUNTED} GROUP BY j.key ORDER BY j.key",
+            {"cid": row["id"]})
         volume = _volume(store, row["id"])
     return {r["key"]: float(r["mol"]) for r in found if r["mol"]}, volume
 
@@ -437,24 +429,22 @@ def additions(store: Store, label: str) -> list[Addition]:
     with store.reading():
         row = _container_row(store, label)
         rows = store.rows(
-            "SELECT a.*, EXISTS (SELECT 1 FROM waste_additions c WHERE c.supersedes_id = a.id) "
-            "AS superseded FROM waste_additions a WHERE a.container_id = ? ORDER BY a.id",
+            f"SELECT a.*, {_SUPERSEDED} AS superseded FROM waste_additions a "
+            "WHERE a.container_id = ? ORDER BY a.id",
             [row["id"]])
     return [_addition(r) for r in rows]
-
 
 
 def hazard_tags(store: Store, label: str) -> frozenset[str]:
     """The catalog hazard tags of everything still counted in a container (a planner input:
     fluoride, heavy metals and the like make a plan say it is not for the drain)."""
-    from carboy.store.compounds import catalog_for
-
     catalog = catalog_for(store)
     tags: set[str] = set()
     for add in additions(store, label):
         if not add.superseded and add.compound_key in catalog:
             tags |= catalog.compound(add.compound_key).hazards
     return frozenset(tags)
+
 
 def _snapshot_of(store: Store, row: Mapping[str, Any]) -> dict:
     amounts, volume = moles(store, row["label"])

@@ -70,5 +70,7 @@ def test_today_shifts_dates(tmp_path):
 
 
 def test_refuses_existing_file(demo_path):
+    before = demo_path.read_bytes()
     with pytest.raises(AlreadyExists):
         demo.create_demo_database(demo_path)
+    assert demo_path.read_bytes() == before

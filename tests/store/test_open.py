@@ -102,8 +102,9 @@ def test_newer_schema_is_refused(store, db_path):
 
 
 def test_directory_is_refused(tmp_path):
-    with pytest.raises(DatabaseUnusable):
+    with pytest.raises(DatabaseUnusable, match="directory"):
         open_database(tmp_path)
+    assert list(tmp_path.iterdir()) == []
 
 
 def _open_and_write(path, n, q):
@@ -185,8 +186,12 @@ def test_write_rolls_back_on_error(store):
 
 
 def test_writes_outside_a_transaction_are_refused(store):
-    with pytest.raises(RuntimeError):
+    store.write(lambda s: s.execute(
+        "INSERT INTO waste_containers (label, capacity_l, opened_on, created_by) "
+        "VALUES ('W-1', 10, '2025-01-01', 't')"))
+    with pytest.raises(RuntimeError, match="Store.write"):
         store.execute("DELETE FROM waste_containers")
+    assert store.scalar("SELECT count(*) FROM waste_containers") == 1
 
 
 def test_backup_api_copy(store, tmp_path):

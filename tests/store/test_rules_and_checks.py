@@ -48,7 +48,7 @@ def test_bad_interval_is_refused_and_nothing_changes(store, days):
     before = journal.count(store)
     with pytest.raises(InvalidInput, match="NaOH") as err:
         rules.set_recheck(store, "NaOH", days)
-    assert repr(days) in str(err.value)
+    assert repr(days) in str(err.value) and err.value.field == "recheck_days"
     assert journal.count(store) == before
     assert rules.load(store).recheck_for("NaOH") == 14
 
@@ -57,10 +57,13 @@ def test_acceptance_rule_is_configurable(store):
     rules.set_acceptance(store, max_rsd_percent="0,3", min_replicates=4, who="ana")
     rule = rules.load(store).acceptance()
     assert (rule.max_rsd_percent, rule.min_replicates) == (0.3, 4)
-    with pytest.raises(InvalidInput, match="largest RSD"):
+    with pytest.raises(InvalidInput, match="largest RSD") as err:
         rules.set_acceptance(store, max_rsd_percent="12")
-    with pytest.raises(InvalidInput, match="fewest replicates"):
-        rules.set_acceptance(store, min_replicates="1")
+    assert err.value.field == "max_rsd_percent"
+    for bad in ("1", "many"):
+        with pytest.raises(InvalidInput, match="fewest replicates") as err:
+            rules.set_acceptance(store, min_replicates=bad)
+        assert err.value.field == "min_replicates" and repr(bad) in str(err.value)
     assert rules.load(store).acceptance().max_rsd_percent == 0.3
     rules.reset_acceptance(store)
     assert rules.load(store).acceptance().max_rsd_percent == pytest.approx(0.2)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from datetime import date, timedelta
 
 import pytest
@@ -38,8 +39,11 @@ def test_names_resolve_through_catalog(store):
     assert (solid.amount_unit, solid.container_size) == ("g", 1000.0)
 
 
-@pytest.mark.parametrize("fields, match", [
+# each case: the fields given, what the message says, and the field it names (the one
+# field given, unless a third item says otherwise)
+BAD_BOTTLES = [
     ({"compound": "unobtainium"}, "unknown compound"),
+    ({"compound": ""}, "is required"),
     ({"label_strength": "-1 M"}, "negative"),
     ({"label_strength": "0 M"}, "greater than zero"),
     ({"label_strength": "80 M"}, "stronger"),
@@ -48,19 +52,31 @@ def test_names_resolve_through_catalog(store):
     ({"container_size": "2 M"}, "volume .* or a mass"),
     ({"container_size": "5000 L"}, "larger than any container"),
     ({"container_size": "-1 L"}, "negative"),
+    ({"container_size": ""}, "is required"),
     ({"amount_left": "2 L"}, "exceeds the container size"),
     ({"amount_left": "200 g"}, "same kind of unit"),
+    ({"amount_left": "lots"}, "a volume .* or a mass"),
     ({"current_strength": "37 %"}, "label's unit"),
+    ({"current_strength": "strong"}, "number followed by a unit"),
     ({"expires_on": "2025-02-30"}, "not a real date"),
     ({"expires_on": "14/03/2025"}, "YYYY-MM-DD"),
+    ({"measured_on": "2025-01-01"}, "without a current strength"),
     ({"restandardize_days": "soon"}, "whole number"),
     ({"status": "lost"}, "expected one of"),
-    ({"received_on": "2025-02-01", "opened_on": "2025-01-01"}, "before the received"),
+    ({"notes": "x" * 2001}, "too long"),
+    ({"received_on": "2025-02-01", "opened_on": "2025-01-01"}, "before the received",
+     "opened_on"),
     ({"colour": "blue"}, "unknown"),
-])
-def test_bad_input_names_the_value_and_writes_nothing(store, fields, match):
-    with pytest.raises((InvalidInput, UnknownCompound), match=match):
+]
+
+
+@pytest.mark.parametrize("case", BAD_BOTTLES, ids=lambda case: case[1])
+def test_bad_input_names_the_value_and_its_field_and_writes_nothing(store, case):
+    fields, match = case[:2]
+    with pytest.raises((InvalidInput, UnknownCompound), match=match) as info:
         _add(store, **fields)
+    if isinstance(info.value, InvalidInput):
+        assert info.value.field == (case[2] if len(case) > 2 else next(iter(fields)))
     assert stock.count(store) == 0
     assert journal.count(store) == 0
 
@@ -169,12 +185,53 @@ def test_search_pages_and_counts(store):
     assert stock.page(store, "fw-004").bottles[0].lot == "FW-0040"
 
 
-@pytest.mark.parametrize("text", ['round-bottom', '"', 'AND', 'OR NOT', 'NEAR(', '*', 'a"b',
-                                  "(HCl", "col:umn", "'", "^", "-", "HCl AND"])
-def test_search_is_safe_for_any_text(store, text):
+def _tokens(text: str) -> list[str]:
+    """Words as the index's unicode61 tokenizer sees them: runs of letters and digits."""
+    return re.findall(r"[^\W_]+", text.lower())
+
+
+def _has_phrase(phrase: list[str], tokens: list[str]) -> bool:
+    """``phrase`` stands in ``tokens`` word for word, its last word as a prefix."""
+    n = len(phrase)
+    return any(tokens[i:i + n - 1] == phrase[:-1] and tokens[i + n - 1].startswith(phrase[-1])
+               for i in range(len(tokens) - n + 1))
+
+
+def _matches(bottle, search: str) -> bool:
+    """The search box's promise, written out: every typed word is found, as a prefix."""
+    columns = [_tokens(c) for c in (bottle.compound_key, bottle.compound_name, bottle.location,
+                                    bottle.lot)]
+    phrases = [p for p in (_tokens(word) for word in search.split()) if p]
+    return all(any(_has_phrase(p, col) for col in columns) for p in phrases)
+
+
+def _fill_odd_names(store):
     _fill(store, 5)
-    stock.page(store, text)
-    assert stock.count(store, text) >= 0
+    _add(store, location="round-bottom rack, col:umn 3", lot='NEAR-1 "b"')
+    _add(store, compound="NaOH", location="a\"b shelf", lot="OR-7")
+
+
+@pytest.mark.parametrize("text", ['round-bottom', '"', 'AND', 'OR NOT', 'NEAR(', '*', 'a"b',
+                                  "(HCl", "col:umn", "'", "^", "-", "HCl AND", "or",
+                                  "hydro cab", "cabinet\tb"])
+def test_search_is_safe_for_any_text(store, text):
+    _fill_odd_names(store)
+    everything = list(stock.all_bottles(store))
+    expected = [b.id for b in everything if _matches(b, text)]
+    found = [b.id for b in stock.page(store, text).bottles]
+    assert found == expected
+    assert stock.count(store, text) == len(expected)
+
+
+def test_search_finds_what_is_stored(store):
+    _fill_odd_names(store)
+    everything = list(stock.all_bottles(store))
+    for bottle in everything:
+        for text in (bottle.lot, bottle.compound_name, bottle.location, bottle.compound_key):
+            assert bottle.id in [b.id for b in stock.page(store, text).bottles], text
+    assert [b.id for b in stock.page(store, "round-bottom").bottles] == [everything[5].id]
+    assert [b.id for b in stock.page(store, 'a"b').bottles] == [everything[6].id]
+    assert stock.page(store, "HCl AND").bottles == []
 
 
 def test_get_bad_ids(store):
@@ -251,3 +308,19 @@ def test_serial_preparation_is_one_transaction(store):
         stock.prepare_series(store, bad)
     assert (stock.count(store), journal.count(store),
             stock.get(store, src).amount_left) == before
+
+
+def test_bad_amounts_and_strengths_name_their_field(store):
+    bid = _add(store, amount_left="10 mL")
+    with pytest.raises(InvalidInput) as info:
+        stock.record_standardization(store, bid, "0.1 kg", method="x")
+    assert info.value.field == "strength"
+    with pytest.raises(InvalidInput) as info:
+        stock.prepare(store, source_bottle=bid, used="1 kg")
+    assert info.value.field == "used"
+    with pytest.raises(InvalidInput) as info:
+        stock.prepare(store, source_bottle=bid, used="50 mL")
+    assert info.value.field == "used"
+    with pytest.raises(InvalidInput) as info:
+        stock.parse_amount("2 M", field="size")
+    assert info.value.field == "size" and info.value.value == "2 M"

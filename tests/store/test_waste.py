@@ -190,3 +190,24 @@ def test_hazard_tags_follow_what_is_counted(tmp_path):
     w.correct_addition(store, first, "wrong bottle", component="NaCl=0.1M", volume="1 L")
     assert "hf_type" not in w.hazard_tags(store, "T-1")
     store.close()
+
+
+@pytest.mark.parametrize("call, field", [
+    (lambda s: waste.add(s, "MA-01", "HCl=1M", "eleven"), "volume"),
+    (lambda s: waste.add(s, "MA-01", "HCl=1M", None), "volume"),
+    (lambda s: waste.add(s, "MA-01", "HCl=1M", 2000.0), "volume"),
+    (lambda s: waste.add(s, "MA-01", "HCl=99M", "1 L"), "component"),
+    (lambda s: waste.add(s, "MA-01", "HCl", "1 L"), "component"),
+    (lambda s: waste.add(s, "MA-01", "HCl=1M", "1 L", note="n" * 2001), "note"),
+    (lambda s: waste.new_container(s, "Y", capacity="2 kg"), "capacity"),
+    (lambda s: waste.new_container(s, "Y", capacity=-1.0), "capacity"),
+    (lambda s: waste.new_container(s, " "), "label"),
+    (lambda s: waste.set_status(s, "MA-01", "poured"), "status"),
+    (lambda s: waste.containers(s, status="poured"), "status"),
+    (lambda s: waste.record_neutralization(s, "MA-01", {}, "seven"), "measured_ph"),
+    (lambda s: waste.correct_addition(s, 1, " "), "reason"),
+])
+def test_bad_input_names_its_field(carboy, call, field):
+    with pytest.raises(InvalidInput) as info:
+        call(carboy)
+    assert info.value.field == field
