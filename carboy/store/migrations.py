@@ -33,7 +33,6 @@ from sqlite_utils.migrations import Migrations
 
 # No migration reads this: carboy/tui/cli_store.py still imports it from here.  Its home
 # is carboy.store.statuses; drop this line once the command line imports it from there.
-from carboy.store.statuses import JOURNAL_KINDS  # noqa: F401
 
 MIGRATION_SET = "carboy"
 MIGRATIONS_TABLE = Migrations.migrations_table

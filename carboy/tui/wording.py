@@ -22,3 +22,12 @@ def heat_text(recipe) -> str:
     elif recipe.temperature_rise_c is not None:
         text += f"; temperature change about {recipe.temperature_rise_c:+.1f} K"
     return text
+
+
+def short_strength(value: float | None, unit: str) -> str:
+    """A strength for a narrow column: ``0.1 M``, ``37 %`` (w/w), ``—`` when unknown."""
+    if value is None:
+        return "—"
+    from carboy.store.readers import format_strength
+
+    return format_strength(value, unit).replace(" %w/w", " %")

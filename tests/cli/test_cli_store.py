@@ -80,7 +80,7 @@ def test_bad_waste_input_exit_2(capsys, db, argv, needle):
 def test_adding_to_a_disposed_container(capsys, demo_db):
     code, _, err = run(capsys, "waste", "add", "HF-04", "HCl=1M", "--volume", "1 L",
                        "--db", demo_db)
-    assert code == 2 and "licensed-disposal" in err
+    assert code == 2 and "licensed disposal" in err
 
 
 def test_stock_add_list_show(capsys, db):

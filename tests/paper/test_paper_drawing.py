@@ -15,7 +15,7 @@ from conftest import read_pdf
 
 from carboy.model.label_documents import BottleFacts, bottle_label
 from carboy.model.labels import make_label
-from carboy.tui.paper import render
+from carboy.tui.paper.render import render
 
 EXPECTED = Path(__file__).parent / "data" / "label_drawing.txt"
 _TOKEN = re.compile(rb"<[0-9A-Fa-f\s]*>|\((?:\\.|[^\\)])*\)|/[^\s/<>\[\]()]+|"

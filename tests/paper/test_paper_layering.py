@@ -40,7 +40,7 @@ def test_store_builders_know_no_renderer(forbidden):
 
 @pytest.mark.parametrize("forbidden", ["textual", "carboy.tui.app", "carboy.tui.cli"])
 def test_renderer_imports_neither_front_end(forbidden):
-    mods = loaded("import carboy.tui.paper\n"
+    mods = loaded("import carboy.tui.paper.render\n"
                   "from carboy.model.documents import Document, Title\n"
-                  "carboy.tui.paper.render([Document('x', 'x', (Title('x'),))])")
+                  "carboy.tui.paper.render.render([Document('x', 'x', (Title('x'),))])")
     assert _has(mods, "fpdf") and not _has(mods, forbidden)

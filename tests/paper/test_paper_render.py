@@ -7,7 +7,7 @@ from conftest import TODAY, page_sizes, pdf_text, read_pdf
 
 from carboy.errors import CarboyError, InvalidInput
 from carboy.store import disposal_record, documents
-from carboy.tui.paper import PaperError, render, write_pdf
+from carboy.tui.paper.render import PaperError, render, write_pdf
 
 LABEL_PT = (198.43, 104.88)   # 70 x 37 mm at 72 pt to the inch
 A4_PT = (595.28, 841.89)      # 210 x 297 mm (ISO 216)

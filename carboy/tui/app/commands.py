@@ -8,6 +8,7 @@ from functools import partial
 
 from textual.command import DiscoveryHit, Hit, Hits, Provider
 
+from carboy.store.statuses import ContainerStatus
 from carboy.tui.app import registry
 
 Command = tuple[str, Callable[[], Awaitable[None] | None], str]
@@ -73,11 +74,12 @@ class CarboyCommands(Provider):
              "other staff may have changed it"),
         ]
         for label, status in getattr(self, "containers", []):
-            if status == "collecting":
+            status = ContainerStatus(status)
+            if status.takes_additions:
                 found.append((f"Log addition to {label}…",
                               partial(self._waste_action, "action_add", label),
                               f"waste container {label} ({status})"))
-            if status in ("collecting", "planned"):
+            if status.can_be_planned:
                 found.append((f"Plan neutralization of {label}",
                               partial(self.app.plan_container, label),
                               f"waste container {label} ({status})"))

@@ -6,7 +6,7 @@ import csv
 import json
 import sys
 
-from carboy.store.migrations import JOURNAL_KINDS
+from carboy.store.statuses import JOURNAL_KINDS
 from carboy.tui.cli.kit import EXIT_OK, common_options, emit_json, group, open_store
 
 

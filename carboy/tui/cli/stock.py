@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import sys
 
+from carboy.store.statuses import BOTTLE_STATUSES
 from carboy.tui.cli.kit import EXIT_OK, common_options, emit_json, group, open_store
 
 STOCK_IMPORT_HELP = """CSV column layout (header row required; any column order):
@@ -38,7 +39,7 @@ def register(sub) -> None:
                              description="List bottles in id order, optionally searching "
                              "compound, name, location and lot (each word a prefix).")
     p.add_argument("--search", metavar="TEXT", help="words to look for, e.g. 'HCl cab'")
-    p.add_argument("--status", choices=("in-use", "empty", "disposed"))
+    p.add_argument("--status", choices=BOTTLE_STATUSES)
     p.add_argument("--after", type=int, metavar="ID", help="start after this bottle id")
     p.add_argument("--limit", type=int, default=50, metavar="N", help="page size (default 50)")
     p.set_defaults(func=stock_list)
@@ -206,7 +207,7 @@ def _due_pdf(args, store, rows) -> str | None:
     from datetime import date
 
     from carboy.store import documents
-    from carboy.tui import paper
+    from carboy.tui.paper import render as paper
 
     doc = documents.due_list_of(rows, everything=args.everything, today=date.today(),
                                 storeroom=documents.storeroom_name(store, args.storeroom))
@@ -250,7 +251,7 @@ def stock_check(args) -> int:
 
 def stock_label(args) -> int:
     from carboy.store import documents
-    from carboy.tui import paper
+    from carboy.tui.paper import render as paper
 
     with open_store(args) as store:
         docs = documents.bottle_labels(store, args.ids, storeroom=args.storeroom)

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 
+from carboy.store.statuses import CONTAINER_STATUSES
 from carboy.tui.cli.kit import (
     EXIT_OK,
     common_options,
@@ -46,8 +47,7 @@ def register(sub) -> None:
     p.set_defaults(func=waste_show)
 
     p = waste_sub.add_parser("list", parents=[common], help="every container")
-    p.add_argument("--status", choices=("collecting", "planned", "neutralized", "disposed",
-                                        "licensed-disposal"))
+    p.add_argument("--status", choices=CONTAINER_STATUSES)
     p.set_defaults(func=waste_list)
 
     p = waste_sub.add_parser(
@@ -139,7 +139,7 @@ def waste_list(args) -> int:
 
 def waste_record(args) -> int:
     from carboy.store.disposal_record import disposal_record
-    from carboy.tui import paper
+    from carboy.tui.paper import render as paper
 
     with open_store(args) as store:
         doc = disposal_record(store, args.label, storeroom=args.storeroom)

@@ -12,11 +12,12 @@ from textual.widgets import DataTable, Footer, Static
 from textual.worker import get_current_worker
 
 from carboy.store import journal, stock
+from carboy.store.statuses import BottleStatus
 from carboy.tui.app.screens.journal import EntryTable
 from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.marks import bottle_mark, strength_mark
 from carboy.tui.app.widgets.mode_bar import ModeBar
-from carboy.tui.app.workers import describe
+from carboy.tui.edge import describe
 
 HISTORY_LIMIT = 200
 
@@ -144,9 +145,9 @@ class BottleScreen(Screen):
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
         if action == "standardize":
             return self.bottle is not None and self.bottle.strength_unit == "M" \
-                and self.bottle.status == "in-use"
+                and BottleStatus(self.bottle.status).is_usable
         if action == "make_from":
-            return self.bottle is not None and self.bottle.status == "in-use"
+            return self.bottle is not None and BottleStatus(self.bottle.status).is_usable
         return True
 
     def action_standardize(self) -> None:

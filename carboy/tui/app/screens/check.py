@@ -16,11 +16,11 @@ from textual.widgets import DataTable, Footer, Static
 from textual.worker import get_current_worker
 
 from carboy.store import stock
-from carboy.tui.app.screens.stock import short_strength
 from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.marks import strength_mark
 from carboy.tui.app.widgets.mode_bar import ModeBar
-from carboy.tui.app.workers import describe
+from carboy.tui.edge import describe
+from carboy.tui.wording import short_strength
 
 FLAG_WORDS = {"expired": "expired", "off-label": "off-label", "overdue": "overdue",
               "never-standardized": "never std.", "expires-soon": "expires soon"}

@@ -19,7 +19,7 @@ from carboy.store import journal
 from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.safety_note import DISPOSAL_NOTE
-from carboy.tui.app.workers import describe
+from carboy.tui.edge import describe
 
 
 def entry_header(entry: journal.Entry) -> Table:

@@ -18,7 +18,7 @@ from carboy.store import journal
 from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.steady_input import SteadyInput
-from carboy.tui.app.workers import describe
+from carboy.tui.edge import describe
 
 PAGE_ROWS = 50
 ALL_KINDS = "*"

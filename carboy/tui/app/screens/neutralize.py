@@ -42,9 +42,9 @@ from carboy.model.forms.neutralize import (
     snapshot,
 )
 from carboy.store.planning import BottleChoice
+from carboy.store.statuses import ContainerStatus
 from carboy.tui.app.live import Computed, LiveComputation, Outcome
 from carboy.tui.app.screens.neutralize_parts import (
-    RECORDABLE,
     TYPED,
     TYPED_TITLE,
     ChoicesLoaded,
@@ -379,7 +379,7 @@ class NeutralizeScreen(Screen):
         if action == "record":
             if self.container is None or self.plan is None:
                 return False
-            if self.container.status not in RECORDABLE:
+            if not ContainerStatus(self.container.status).can_record_neutralization:
                 return False
             if not self._plan_is_current():
                 return None

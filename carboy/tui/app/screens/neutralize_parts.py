@@ -6,12 +6,11 @@ from __future__ import annotations
 from textual.message import Message
 
 from carboy.model.forms.neutralize import ContainerSample, conc_text
+from carboy.store.statuses import ContainerStatus
 
 TYPED = "typed"
 TYPED_TITLE = "components typed in"
 
-RECORDABLE = ("collecting", "planned")
-"""Container statuses from which a neutralization can be recorded."""
 
 
 def sample_options(containers, choices) -> list[tuple[str, str]]:
@@ -34,7 +33,7 @@ def container_summary(c: ContainerSample) -> str:
                      if c.volume_l > 0)
     head = (f"{c.label} · {c.status} · {c.volume_l:.3g} L of {c.capacity_l:.3g} L · "
             f"{c.location}")
-    if c.status not in RECORDABLE:
+    if not ContainerStatus(c.status).can_record_neutralization:
         head += f"\nstatus {c.status}: no neutralization can be recorded for it"
     return head + "\n" + (comp or "(no additions recorded)")
 

@@ -15,6 +15,7 @@ from textual.widgets import Button, Input, Label, Static
 from carboy.errors import CarboyError
 from carboy.model.forms import read_measured_ph
 from carboy.model.forms.neutralize import ContainerSample
+from carboy.store.statuses import ContainerStatus
 
 
 @dataclass(frozen=True)
@@ -79,7 +80,7 @@ class RecordDialog(ModalScreen[RecordRequest | None]):
 
     @staticmethod
     def _next_status(ph: float | None) -> str:
-        return "planned" if ph is None else "neutralized"
+        return (ContainerStatus.PLANNED if ph is None else ContainerStatus.NEUTRALIZED).words
 
     def _echo(self, text: str) -> str:
         try:

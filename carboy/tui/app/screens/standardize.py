@@ -48,6 +48,7 @@ from carboy.model.forms.standardize import (
     fmt_molar,
     method_of,
 )
+from carboy.store.statuses import BottleStatus
 from carboy.tui.app.live import Computed, LiveComputation, Outcome
 from carboy.tui.app.screens.confirm import ConfirmScreen
 from carboy.tui.app.screens.standardize_text import (
@@ -441,7 +442,7 @@ class StandardizeScreen(Screen):
         if outcome.state.rule is None:
             return (f"the storeroom's rule could not be read ({self.rule_error})"
                     if self.rule_error else "the storeroom's rule is still being read")
-        if outcome.reading.bottle.status != "in-use":
+        if not BottleStatus(outcome.reading.bottle.status).is_usable:
             return (f"bottle {outcome.reading.bottle.id} is {outcome.reading.bottle.status}: only a bottle in "
                     "use takes a new strength")
         if self._already_recorded(outcome):

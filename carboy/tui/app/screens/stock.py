@@ -25,7 +25,8 @@ from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.marks import STRENGTH_MARKS, bottle_mark, strength_mark
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.steady_input import SteadyInput
-from carboy.tui.app.workers import describe
+from carboy.tui.edge import describe
+from carboy.tui.wording import short_strength
 
 PAGE_ROWS = 50
 SEARCH_DELAY_S = 0.15
@@ -36,13 +37,6 @@ COLUMNS = (("compound", "Compound", 8), ("label", "Label", 8), ("now", "Measured
            ("check", "Strength", 11), ("left", "Left", 8), ("status", "Bottle", 7),
            ("location", "Location", 0))
 MIN_LOCATION_WIDTH = 8
-
-
-def short_strength(value: float | None, unit: str) -> str:
-    if value is None:
-        return "—"
-    text = stock.format_strength(value, unit)
-    return text.replace(" %w/w", " %")
 
 
 def bottle_row(bottle: stock.Bottle) -> tuple:

@@ -24,22 +24,19 @@ from textual.worker import get_current_worker
 from carboy.errors import CarboyError
 from carboy.model.cautions import NO_DRAIN_TAGS
 from carboy.store import waste
+from carboy.store.statuses import ContainerStatus
 from carboy.tui.app.screens.confirm import ConfirmScreen
 from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.marks import container_mark, fill_bar, fill_fraction, litres
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.safety_note import DISPOSAL_NOTE, LICENSED_ONLY_NOTE, SafetyNote
-from carboy.tui.app.workers import describe
+from carboy.tui.edge import describe
 
 NO_DRAIN_NAMES = {
     "hf_type": "fluoride (HF-type)", "no_drain": "a no-drain substance",
     "heavy_metal": "a heavy metal", "chromic": "chromium(VI)", "perchloric": "perchlorate",
     "cyanide": "cyanide", "sulfide": "sulfide", "explosive_residue": "perchlorate residue",
 }
-
-PLANNABLE = ("collecting", "planned")
-FINAL = ("disposed", "licensed-disposal")
-
 
 @dataclass(frozen=True)
 class Detail:
@@ -51,7 +48,7 @@ class Detail:
 
     @property
     def licensed_only(self) -> bool:
-        return bool(self.no_drain) or self.info["status"] == "licensed-disposal"
+        return bool(self.no_drain) or ContainerStatus(self.info["status"]).is_licensed_disposal
 
 
 def load_detail(store, label: str) -> Detail:
@@ -87,7 +84,7 @@ def route_text(detail: Detail) -> Text:
         who = ", ".join(detail.no_drain)
         return Text(LICENSED_ONLY_NOTE.format(reasons=f"contains {who} — "
                                               + ", ".join(reasons)), style="bold")
-    if status == "licensed-disposal":
+    if ContainerStatus(status).is_licensed_disposal:
         return Text("⚑ Held for licensed disposal: never treated here; the safety office "
                     "arranges collection.", style="bold")
     return Text({
@@ -288,17 +285,17 @@ class WasteScreen(Screen):
         return c.status if c else None
 
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
-        status = self.status
+        status = None if self.status is None else ContainerStatus(self.status)
         if action == "add":
-            return status == "collecting"
+            return status is not None and status.takes_additions
         if action == "plan":
-            return (status in PLANNABLE and self.detail is not None
+            return (status is not None and status.can_be_planned and self.detail is not None
                     and self.detail.info["label"] == self.selected
                     and not self.detail.licensed_only and self.detail.info["volume_l"] > 0)
         if action == "mark_disposed":
-            return status == "neutralized"
+            return status is not None and status.can_be_disposed
         if action == "licensed":
-            return status is not None and status not in FINAL
+            return status is not None and status.can_go_to_licensed_disposal
         return True
 
     def action_add(self) -> None:
@@ -332,12 +329,12 @@ class WasteScreen(Screen):
             self.app.plan_container(self.selected)
 
     def action_mark_disposed(self) -> None:
-        self._move("disposed", "Mark as disposed?",
+        self._move(ContainerStatus.DISPOSED, "Mark as disposed?",
                    "This closes the container for good and records a disposal in the journal. "
                    "It cannot be undone.\n\n" + DISPOSAL_NOTE, "Mark disposed")
 
     def action_licensed(self) -> None:
-        self._move("licensed-disposal", "Send to licensed disposal?",
+        self._move(ContainerStatus.LICENSED_DISPOSAL, "Send to licensed disposal?",
                    "The container stops collecting and is held for the licensed contractor; "
                    "it will never be treated here. This cannot be undone.\n\n" + DISPOSAL_NOTE,
                    "Send it")

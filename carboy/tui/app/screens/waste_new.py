@@ -13,7 +13,7 @@ from carboy.errors import InvalidInput
 from carboy.store import waste
 from carboy.store.errors import AlreadyExists
 from carboy.tui.app.widgets.field_row import FieldRow
-from carboy.tui.app.workers import describe
+from carboy.tui.edge import describe
 
 FIELDS = ("new-label", "new-location", "new-capacity", "new-notes")
 

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from rich.text import Text
 
+from carboy.store.statuses import BottleStatus, ContainerStatus
+
 STRENGTH_MARKS: dict[str, tuple[str, str]] = {
     # strength status -> (mark, style)
     "current": ("✓ current", "green"),
@@ -17,17 +19,20 @@ STRENGTH_MARKS: dict[str, tuple[str, str]] = {
 }
 
 CONTAINER_MARKS: dict[str, tuple[str, str]] = {
-    "collecting": ("+ collecting", "green"),
-    "planned": ("… planned", "cyan"),
-    "neutralized": ("= neutralized", "blue"),
-    "disposed": ("∅ disposed", "dim"),
-    "licensed-disposal": ("⚑ licensed disposal", "bold yellow"),
+    # the status's own words, after a symbol
+    s.value: (f"{glyph} {s.words}", style) for s, glyph, style in (
+        (ContainerStatus.COLLECTING, "+", "green"),
+        (ContainerStatus.PLANNED, "…", "cyan"),
+        (ContainerStatus.NEUTRALIZED, "=", "blue"),
+        (ContainerStatus.DISPOSED, "∅", "dim"),
+        (ContainerStatus.LICENSED_DISPOSAL, "⚑", "bold yellow"),
+    )
 }
 
 BOTTLE_MARKS: dict[str, tuple[str, str]] = {
-    "in-use": ("in use", ""),
-    "empty": ("○ empty", "dim"),
-    "disposed": ("∅ gone", "dim"),
+    BottleStatus.IN_USE.value: (BottleStatus.IN_USE.words, ""),
+    BottleStatus.EMPTY.value: (f"○ {BottleStatus.EMPTY.words}", "dim"),
+    BottleStatus.DISPOSED.value: ("∅ gone", "dim"),
 }
 
 FILL_CELLS = 10
