@@ -75,7 +75,7 @@ def _hermite(t, h, f0, d0, f1, d1):
 
 
 def j_function(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """J(x) and J'(x) for an array of x >= 0 (J(0) = J'(0) = 0)."""
+    """J(x) and J'(x) for an array of x >= 0 (taken as 0 below ``X_MIN``)."""
     x = np.asarray(x, dtype=float)
     u0, u, j, dj, jp, djp = _table()
     j_out, jp_out = np.zeros_like(x), np.zeros_like(x)
@@ -86,7 +86,7 @@ def j_function(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         t = (ux - u[k]) / GRID_STEP
         j_out[inside] = _hermite(t, GRID_STEP, j[k], dj[k], j[k + 1], dj[k + 1])
         jp_out[inside] = _hermite(t, GRID_STEP, jp[k], djp[k], jp[k + 1], djp[k + 1])
-    outside = (x > 0) & ~inside
+    outside = x >= X_MAX   # below X_MIN (I < 1e-13) the terms are negligible and left 0
     if outside.any():
         jo, jpo, _ = j_integral(x[outside])
         j_out[outside], jp_out[outside] = jo, jpo
@@ -99,7 +99,7 @@ def etheta(pairs, ionic: np.ndarray, aphi: float) -> dict:
     Charges are magnitudes of ions of one sign; a pair of equal charges gives zeros.  All
     the J values needed are evaluated in one interpolation pass.
     """
-    ionic = np.maximum(np.asarray(ionic, dtype=float), 1e-300)
+    ionic = np.maximum(np.asarray(ionic, dtype=float), 1e-100)
     products = sorted({p for zi, zj in pairs if zi != zj for p in (zi * zj, zi * zi, zj * zj)})
     out = {}
     if products:

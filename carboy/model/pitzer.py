@@ -69,7 +69,7 @@ FALLBACKS = ("davies", "pitzer-dh")
 SCALES = ("macinnes", "none")
 PH_SCALE = "MacInnes: gamma(Cl-) = gamma+-(KCl) at the same ionic strength"
 _LN10 = math.log(10.0)
-_TINY_I = 1e-300
+_TINY_I = 1e-100
 _CHARGE_SUFFIX = re.compile(r"([+-])(\d*)$")
 
 
