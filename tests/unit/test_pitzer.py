@@ -138,8 +138,10 @@ def test_finite_output_for_every_input_in_range(ms, t):
 
 @settings(max_examples=60, deadline=None)
 @given(st.lists(st.floats(min_value=0.0, max_value=1.0), min_size=13, max_size=13),
-       st.floats(min_value=1e-9, max_value=1e-7))
+       st.floats(min_value=1e-10, max_value=1e-8))
 def test_limiting_law_at_low_ionic_strength(weights, ionic):
+    # the first correction is of order √I times the largest β (β2(Na, HCO3) = 8.2): at
+    # I <= 1e-8 it stays below 0.2 %
     w = np.array(weights + [0.0])
     if w.sum() < 1e-3:
         w[1] = w[6] = 1.0
