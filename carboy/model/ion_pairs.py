@@ -20,12 +20,11 @@ from carboy.errors import CatalogError, InvalidInput
 from carboy.model import water
 from carboy.model.catalog import read_data_file
 from carboy.model.pitzer import charge_of_label
+from carboy.model.pitzer_data import STATUSES, TR_K
 
 DATA_FILE = "ion_pairs.toml"
 J_PER_CAL = 4.184
 R_J_MOL_K = 8.314462618
-TR_K = 298.15
-STATUSES = frozenset({"FOUND", "MEMORY", "DERIVED", "NONE"})
 
 
 @dataclass(frozen=True)
