@@ -243,9 +243,9 @@ def metal_data() -> MetalData:
     return MetalData(MappingProxyType(metals), solids, frozenset(data["inert_cations"]))
 
 
-def metal(key: str) -> Metal:
+def metal(key: str, data: MetalData | None = None) -> Metal:
     """The metal record for an ion key such as ``"Zn+2"``; unknown keys are an error."""
-    metals = metal_data().metals
+    metals = (data or metal_data()).metals
     if key not in metals:
         raise InvalidInput("metal", key, "no hydrolysis or solubility data; known: "
                            + ", ".join(sorted(metals)))
@@ -260,12 +260,13 @@ def unmodelled_cations(charges: Mapping[str, int]) -> tuple[str, ...]:
                         if z > 0 and k not in data.metals and k not in data.inert_cations))
 
 
-def charge_bounds(totals: Mapping[str, object]) -> tuple[np.ndarray, np.ndarray]:
+def charge_bounds(totals: Mapping[str, object], data: MetalData | None = None
+                  ) -> tuple[np.ndarray, np.ndarray]:
     """The most positive and most negative charge the metals can carry (mol/L): widen the
     solver's bracket by these so that it still holds the root."""
     p = q = np.zeros(())
     for key, c in totals.items():
-        m = metal(key)
+        m = metal(key, data)
         c = np.asarray(c, dtype=float)
         p = p + m.charge * c
         q = q + m.max_negative_charge * c
@@ -316,12 +317,12 @@ def _as_points(x, ad, log_kw):
     return x, ad, log_kw
 
 
-def _totals(totals: Mapping[str, object], shape) -> dict[str, np.ndarray]:
-    unknown = [k for k in totals if k not in metal_data().metals]
+def _totals(totals: Mapping[str, object], shape, data: MetalData) -> dict[str, np.ndarray]:
+    unknown = [k for k in totals if k not in data.metals]
     if unknown:
         raise InvalidInput("metal", ", ".join(sorted(unknown)),
                            "no hydrolysis or solubility data; known: "
-                           + ", ".join(sorted(metal_data().metals)))
+                           + ", ".join(sorted(data.metals)))
     out = {}
     for key, c in totals.items():
         arr = np.broadcast_to(np.asarray(c, dtype=float), shape).astype(float)
@@ -333,7 +334,8 @@ def _totals(totals: Mapping[str, object], shape) -> dict[str, np.ndarray]:
 
 def metal_state(totals: Mapping[str, object], x, *, ad=0.0, log_kw=-PKW25,
                 ligands: Mapping[str, LigandAtX] | None = None,
-                precipitate: bool = True) -> MetalState:
+                precipitate: bool = True, data: MetalData | None = None,
+                derivatives: bool = True) -> MetalState:
     """The metal terms of the charge balance at ``x = log10[H+]`` (mol/L).
 
     Parameters
@@ -346,22 +348,26 @@ def metal_state(totals: Mapping[str, object], x, *, ad=0.0, log_kw=-PKW25,
     ligands : acid-base systems that may precipitate with a cation (``"fluoride"``,
         ``"phosphate"``, ``"sulfate"``) at these points; omitted systems take no part.
     precipitate : False gives the supersaturated solution (no solid allowed).
+    data : other constants than the packaged ones (tests, a user's own data).
+    derivatives : False skips ``dpos``/``dneg`` where salts precipitate (NaN there): those
+        take two more evaluations (a central difference).
 
     Returns
     -------
     MetalState, whose ``pos - neg`` (plus the ligand corrections) rises with x.
     """
+    data = data or metal_data()
     x, ad, log_kw = _as_points(x, ad, log_kw)
-    tot = _totals(totals, x.shape)
+    tot = _totals(totals, x.shape, data)
     ligands = dict(ligands or {})
     acc = _Accumulator(x.shape)
     for key, c in tot.items():
-        salts = [s for s in metal_data().ligand_solids
+        salts = [s for s in data.ligand_solids
                  if s.cation == key and s.ligand_system in ligands]
         if salts and precipitate:
-            _with_salts(acc, metal(key), c, x, ad, log_kw, salts, ligands)
+            _with_salts(acc, data.metals[key], c, x, ad, log_kw, salts, ligands, derivatives)
         else:
-            _hydroxide_only(acc, metal(key), c, x, ad, precipitate)
+            _hydroxide_only(acc, data.metals[key], c, x, ad, precipitate)
     return acc.state()
 
 
@@ -457,7 +463,7 @@ def _solve_free_cation(m: Metal, c, log_s, salts, ligands, log_oh_act, ad):
     return 0.5 * (lo + hi)
 
 
-def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, ligands) -> None:
+def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, ligands, derivatives=True) -> None:
     c_solve = np.where(c > 0, c, 1e-300)
 
     def evaluate(xx):
@@ -482,10 +488,13 @@ def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, ligands) -> None:
     pos, neg, _, _, iz2, n_oh = _species_terms(m, conc, slope)
     lig_pos, lig_neg, removed = _ligand_corrections(dosed, amounts, ligands)
     oh_salts = sum((s.oh_count * p for s, p in zip(dosed, amounts, strict=True)), 0.0)
-    hi_state = _charges_of(evaluate(x + DERIVATIVE_STEP), m, dosed, ligands)
-    lo_state = _charges_of(evaluate(x - DERIVATIVE_STEP), m, dosed, ligands)
-    dpos, dneg = ((hi - lo) / (2 * DERIVATIVE_STEP) for hi, lo in zip(hi_state, lo_state,
-                                                                        strict=True))
+    if derivatives:
+        hi_state = _charges_of(evaluate(x + DERIVATIVE_STEP), m, dosed, ligands)
+        lo_state = _charges_of(evaluate(x - DERIVATIVE_STEP), m, dosed, ligands)
+        dpos, dneg = ((hi - lo) / (2 * DERIVATIVE_STEP)
+                      for hi, lo in zip(hi_state, lo_state, strict=True))
+    else:
+        dpos = dneg = np.full(x.shape, np.nan)
     acc.add(pos=pos, neg=neg, dpos=dpos, dneg=dneg, iz2=iz2, ligand_pos=lig_pos,
             ligand_neg=lig_neg, oh_bound=n_oh + m.charge * hydroxide + oh_salts)
     for system, arr in removed.items():
@@ -531,10 +540,10 @@ def _salt_si(s: LigandSolid, m: Metal, log_free, conc, ligands, removed, log_oh_
 # ----------------------------------------------------------------------------- reports
 
 
-def solubility(key: str, pH, *, ad=0.0, log_kw=-PKW25) -> np.ndarray:
+def solubility(key: str, pH, *, ad=0.0, data: MetalData | None = None) -> np.ndarray:
     """Total dissolved metal (mol/L) in equilibrium with its hydroxide at each pH
     (pH = -log10 a(H+)); the solubility curve of the solid."""
-    m = metal(key)
+    m = metal(key, data)
     ph = np.atleast_1d(np.asarray(pH, dtype=float))
     ad = np.broadcast_to(np.asarray(ad, dtype=float), ph.shape)
     log_h_act = -ph
@@ -542,21 +551,23 @@ def solubility(key: str, pH, *, ad=0.0, log_kw=-PKW25) -> np.ndarray:
     return 10.0 ** (_log_free_saturated(m, log_h_act, ad) + _log_sum(r))
 
 
-def minimum_solubility(key: str, *, ad: float = 0.0) -> tuple[float, float]:
+def minimum_solubility(key: str, *, ad: float = 0.0, data: MetalData | None = None
+                       ) -> tuple[float, float]:
     """(pH, mol/L) of the least soluble point of the metal's hydroxide.
 
     log10 of the solubility is a log-sum-exp of lines in pH, hence convex: the bounded
     scalar minimum is the only one.
     """
-    res = minimize_scalar(lambda p: float(np.log10(solubility(key, p, ad=ad))[0]),
+    res = minimize_scalar(lambda p: float(np.log10(solubility(key, p, ad=ad, data=data))[0]),
                           bounds=(0.0, 14.0), method="bounded",
                           options={"xatol": 1e-6})
-    return float(res.x), float(solubility(key, res.x, ad=ad)[0])
+    return float(res.x), float(solubility(key, res.x, ad=ad, data=data)[0])
 
 
-def sludge(state: MetalState, point: int = 0) -> tuple[Sludge, ...]:
+def sludge(state: MetalState, point: int = 0, data: MetalData | None = None
+           ) -> tuple[Sludge, ...]:
     """The solids present at one point, with their dry mass (mol/L times molar mass)."""
-    data = metal_data()
+    data = data or metal_data()
     formulas = {m.solid.name: (m.solid.formula, m.solid.molar_mass_g_mol)
                 for m in data.metals.values()}
     formulas.update({s.name: (s.formula, s.molar_mass_g_mol) for s in data.ligand_solids})
