@@ -474,12 +474,13 @@ def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, ligands, derivatives=Tru
         dosed = [s for s in salts if s.in_dose]
         log_free = _solve_free_cation(m, c_solve, log_s, dosed, ligands, log_oh_act, ad)
         log_free_sat = _log_free_saturated(m, log_h_act, ad)
+        capped = (log_free >= log_free_sat) & (c > 0)  # the hydroxide is present
         log_free = np.where(c > 0, np.minimum(log_free, log_free_sat), -np.inf)
         conc = 10.0 ** (log_free[:, None] + r)
         amounts = _salt_amounts(log_free, m, dosed, ligands, log_oh_act, ad)
         held = sum((s.cation_count * p for s, p in zip(dosed, amounts, strict=True)),
                    np.zeros_like(c))
-        hydroxide = np.maximum(c - conc.sum(axis=1) - held, 0.0)
+        hydroxide = np.where(capped, np.maximum(c - conc.sum(axis=1) - held, 0.0), 0.0)
         return r, conc, log_free, log_free_sat, amounts, hydroxide, log_oh_act
 
     r, conc, log_free, log_free_sat, amounts, hydroxide, log_oh_act = evaluate(x)

@@ -158,3 +158,16 @@ def test_every_constant_names_its_source():
         assert m.choice
     for s in M.metal_data().ligand_solids:
         assert s.source and s.why
+
+
+def test_gypsum_from_equal_calcium_and_sulfate():
+    # ideal solution at pH 7 (sulfate all SO4-2): [Ca] = [SO4] = sqrt(Ksp), Ksp 10**-4.503
+    # (planning.toml, CRC from memory): 5.604e-3 M stay dissolved, DERIVED
+    alpha = np.array([[0.0, 1e-5, 1 - 1e-5]])
+    lig = {"sulfate": M.LigandAtX(np.array([0.05]), alpha, (0, -1, -2))}
+    st = M.metal_state({"Ca+2": 0.05}, np.array([-7.0]), ligands=lig)
+    assert st.dissolved["Ca+2"][0] == pytest.approx(10 ** (-4.503 / 2), rel=1e-3)
+    assert st.precipitated["CaSO4·2H2O (gypsum)"][0] == pytest.approx(0.05 - 10 ** -2.2515,
+                                                                       rel=1e-3)
+    assert st.precipitated["Ca(OH)2 (portlandite)"][0] == 0.0
+    assert [s.solid for s in M.sludge(st)] == ["CaSO4·2H2O (gypsum)"]
