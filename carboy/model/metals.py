@@ -349,8 +349,10 @@ def metal_state(totals: Mapping[str, object], x, *, ad=0.0, log_kw=-PKW25,
         ``"phosphate"``, ``"sulfate"``) at these points; omitted systems take no part.
     precipitate : False gives the supersaturated solution (no solid allowed).
     data : other constants than the packaged ones (tests, a user's own data).
-    derivatives : False skips ``dpos``/``dneg`` where salts precipitate (NaN there): those
-        take two more evaluations (a central difference).
+    derivatives : False skips ``dpos``/``dneg`` where salts precipitate (NaN there).  Where
+        they do, the derivatives are a central difference at the ligands' fractions as
+        given (their own x-dependence is the solver's): good for a Newton step inside a
+        bracket, not an exact Jacobian.
 
     Returns
     -------
