@@ -141,8 +141,9 @@ class MetalState:
     strength, of ``pos + ligand_pos`` and ``neg + ligand_neg``; ``iz2`` the species' sum
     of c z² (ionic strength); ``oh_bound`` the hydroxide bound in hydroxo complexes,
     hydroxides and basic salts (mol OH- per L): what the metals cost in a dose.
-    ``ligand_pos`` and ``ligand_neg`` (<= 0) correct the ligand systems' charge for the
-    share held in salts; ``ligand_removed`` is that share per system.
+    ``ligand_pos``, ``ligand_neg`` and ``ligand_iz2`` (all <= 0) correct the ligand
+    systems' charge and c z² for the share held in salts; ``ligand_removed`` is that share
+    per system.
     """
 
     pos: np.ndarray
@@ -153,6 +154,7 @@ class MetalState:
     oh_bound: np.ndarray
     ligand_pos: np.ndarray
     ligand_neg: np.ndarray
+    ligand_iz2: np.ndarray
     ligand_removed: Mapping[str, np.ndarray]
     dissolved: Mapping[str, np.ndarray]
     species: Mapping[str, Mapping[str, np.ndarray]]
@@ -379,7 +381,7 @@ class _Accumulator:
     def __init__(self, shape):
         self.sums = {k: np.zeros(shape) for k in
                      ("pos", "neg", "dpos", "dneg", "iz2", "oh_bound", "ligand_pos",
-                      "ligand_neg")}
+                      "ligand_neg", "ligand_iz2")}
         self.removed, self.dissolved, self.species = {}, {}, {}
         self.precipitated, self.si = {}, {}
 
@@ -489,7 +491,7 @@ def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, ligands, derivatives=Tru
     dosed = [s for s in salts if s.in_dose]
     slope = np.zeros_like(conc)  # derivatives by central difference below
     pos, neg, _, _, iz2, n_oh = _species_terms(m, conc, slope)
-    lig_pos, lig_neg, removed = _ligand_corrections(dosed, amounts, ligands)
+    lig_pos, lig_neg, removed, lig_iz2 = _ligand_corrections(dosed, amounts, ligands)
     oh_salts = sum((s.oh_count * p for s, p in zip(dosed, amounts, strict=True)), 0.0)
     if derivatives:
         hi_state = _charges_of(evaluate(x + DERIVATIVE_STEP), m, dosed, ligands)
@@ -499,7 +501,7 @@ def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, ligands, derivatives=Tru
     else:
         dpos = dneg = np.full(x.shape, np.nan)
     acc.add(pos=pos, neg=neg, dpos=dpos, dneg=dneg, iz2=iz2, ligand_pos=lig_pos,
-            ligand_neg=lig_neg, oh_bound=n_oh + m.charge * hydroxide + oh_salts)
+            ligand_neg=lig_neg, ligand_iz2=lig_iz2, oh_bound=n_oh + m.charge * hydroxide + oh_salts)
     for system, arr in removed.items():
         acc.removed[system] = acc.removed.get(system, 0.0) + arr
     _record(acc, m, conc, conc.sum(axis=1), hydroxide, log_free - log_free_sat)
@@ -511,7 +513,7 @@ def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, ligands, derivatives=Tru
 
 def _ligand_corrections(dosed, amounts, ligands):
     removed: dict[str, np.ndarray] = {}
-    lig_pos = lig_neg = 0.0
+    lig_pos = lig_neg = lig_iz2 = 0.0
     for s, p in zip(dosed, amounts, strict=True):
         lig = ligands[s.ligand_system]
         q = np.array(lig.charges, dtype=float)
@@ -519,14 +521,15 @@ def _ligand_corrections(dosed, amounts, ligands):
         removed[s.ligand_system] = removed.get(s.ligand_system, 0.0) + taken
         lig_pos = lig_pos - taken * (lig.alpha @ np.maximum(q, 0))
         lig_neg = lig_neg - taken * (lig.alpha @ np.maximum(-q, 0))
-    return lig_pos, lig_neg, removed
+        lig_iz2 = lig_iz2 - taken * (lig.alpha @ (q * q))
+    return lig_pos, lig_neg, removed, lig_iz2
 
 
 def _charges_of(evaluated, m: Metal, dosed, ligands):
     """POS and NEG contributions (metal species plus ligand corrections) of one evaluation."""
     _, conc, _, _, amounts, _, _ = evaluated
     q = np.array([s.charge for s in m.species], dtype=float)
-    lig_pos, lig_neg, _ = _ligand_corrections(dosed, amounts, ligands)
+    lig_pos, lig_neg, _, _ = _ligand_corrections(dosed, amounts, ligands)
     return conc @ np.maximum(q, 0) + lig_pos, conc @ np.maximum(-q, 0) + lig_neg
 
 

@@ -120,6 +120,9 @@ def test_calcium_fluoride_keeps_the_balance_monotone_and_the_masses():
     assert np.allclose(st.dissolved["Ca+2"] + caf2
                        + st.precipitated["Ca(OH)2 (portlandite)"], 0.01, rtol=1e-6)
     assert np.allclose(st.ligand_removed["fluoride"], 2 * caf2)
+    # F- and HF leave in proportion: charge -1 per F-, z² 1 per F-
+    assert np.allclose(st.ligand_iz2, -2 * caf2 * lig["fluoride"].alpha[:, 1])
+    assert np.allclose(st.ligand_neg, st.ligand_iz2)
     assert np.all(st.saturation_index["CaF2 (fluorite)"] <= 1e-6)
 
 
