@@ -217,6 +217,8 @@ SYSTEM_ELEMENTS = {
     "chromate": {"Cr": 1},
     "cyanide": {"C": 1, "N": 1},
     "sulfide": {"S": 1},
+    "hypochlorite": {"Cl": 1},
+    "azide": {"N": 3},
 }
 
 # Hydroxide ions per formula unit of the metal hydroxides and free protons of the strong

@@ -1,0 +1,503 @@
+"""Waste compatibility: container streams and the rules that refuse or question an addition.
+
+Pure: it reads the packaged ``data/compatibility.toml`` and the catalog, and judges one
+proposed addition against one container (its stream, what it already holds, its
+estimated pH, volume and material when known).  Nothing is written and nothing is
+changed; the store decides what to do with the findings:
+
+* a finding of severity ``refuse`` (every gas hazard: HCN, H2S, Cl2, chloramines, HN3, and
+  the worst others) is never overridable: nothing is written;
+* a finding of severity ``confirm`` (a lesser mismatch, such as a base into an acid
+  container) needs a reason, which the journal keeps.
+
+Every rule is judged in both directions: the compound added may match either side of
+the rule, and the container the other.  :func:`check_container` applies the same rules
+to what a container already holds (for databases older than streams); it only reports.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+from functools import lru_cache
+from types import MappingProxyType
+
+from carboy.errors import CatalogError, InvalidInput
+from carboy.model.catalog import default_catalog, read_data_file
+
+SEVERITIES = ("refuse", "confirm")
+KINDS = ("acid", "base", "neutral")
+STATUSES = frozenset({"FOUND", "MEMORY", "PRACTICE"})
+REFERENCE_PH = 7.0
+"""pH at which a compound's acid equivalents decide whether it is an acid or a base."""
+MATERIALS = ("glass", "plastic", "metal")
+
+_COMPOUND_KEYS = frozenset({"compounds", "tags", "components", "kinds", "concentrated"})
+_CONTAINER_KEYS = frozenset({"streams", "drain_stream", "materials"})
+_ALL_KEYS = _COMPOUND_KEYS | _CONTAINER_KEYS | {"acidic"}
+
+
+@dataclass(frozen=True)
+class Stream:
+    """What a waste container is meant for."""
+
+    key: str
+    name: str
+    words: str
+    """What a person reads: what goes in, what never does, where it ends."""
+    drain_treatable: bool
+    """True when the stream may ever be treated for the drain (local rules permitting)."""
+    acidic: bool
+    materials: tuple[str, ...]
+    """The container materials the stream allows (empty: any)."""
+    accepts: tuple[Mapping, ...]
+    refuses: tuple[Mapping, ...]
+    refuse_hazard: str
+    source: str
+
+
+@dataclass(frozen=True)
+class Rule:
+    """One compatibility rule: two sides, a hazard, a severity and the advice."""
+
+    id: str
+    severity: str
+    hazard: str
+    a: tuple[Mapping, ...]
+    b: tuple[Mapping, ...]
+    advice_a: str
+    """Advice when the compound added matches side a."""
+    advice_b: str
+    source: str
+    gas: str = ""
+    acidic_below_ph: float = 7.0
+    superseded_by: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Container:
+    """A waste container as the rules see it.
+
+    ``contents`` maps compound keys (or names the catalog knows) to mol held;
+    ``estimated_pH``, ``volume_l`` and ``material`` are None when unknown.
+    """
+
+    stream: str | None = None
+    contents: Mapping[str, float] = field(default_factory=dict)
+    estimated_pH: float | None = None
+    volume_l: float | None = None
+    material: str | None = None
+
+
+@dataclass(frozen=True)
+class Addition:
+    """What is about to be logged: a compound, its amount (mol) and, if known, its
+    strength (mol/L)."""
+
+    compound: str
+    amount_mol: float
+    conc_molar: float | None = None
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One rule that applies, with the hazard named in a sentence."""
+
+    rule_id: str
+    severity: str
+    message: str
+    hazard: str
+    advice: str
+    added: str
+    present: tuple[str, ...]
+    source: str
+    gas: str = ""
+
+    @property
+    def overridable(self) -> bool:
+        return self.severity == "confirm"
+
+    def to_dict(self) -> dict:
+        return {"rule": self.rule_id, "severity": self.severity, "message": self.message,
+                "hazard": self.hazard, "advice": self.advice, "gas": self.gas,
+                "added": self.added, "present": list(self.present), "source": self.source,
+                "overridable": self.overridable}
+
+
+@dataclass(frozen=True)
+class _Facts:
+    """What the rules know of one compound."""
+
+    key: str
+    tags: frozenset[str]
+    components: frozenset[str]
+    kind: str
+    conc_molar: float | None
+
+
+@dataclass(frozen=True)
+class _Settings:
+    streams: Mapping[str, Stream]
+    rules: tuple[Rule, ...]
+    kind_threshold: float
+    concentrated_molar: float
+
+
+# ----------------------------------------------------------------------------- data
+
+
+def _sourced(entry: str, rec: Mapping) -> str:
+    status, source = rec.get("status"), str(rec.get("source", "")).strip()
+    if status not in STATUSES or not source:
+        raise CatalogError(entry, f"needs a source and a status in {sorted(STATUSES)}")
+    return f"{source} [{status}]"
+
+
+def _sides(entry: str, alternatives: Iterable[Mapping]) -> tuple[Mapping, ...]:
+    out = []
+    for alt in alternatives:
+        unknown = set(alt) - _ALL_KEYS
+        if unknown:
+            raise CatalogError(entry, f"unknown match criteria {sorted(unknown)}")
+        bad = set(alt.get("kinds", ())) - set(KINDS)
+        if bad:
+            raise CatalogError(entry, f"kinds {sorted(bad)} are not among {KINDS}")
+        out.append(MappingProxyType(dict(alt)))
+    return tuple(out)
+
+
+def _parse_stream(rec: Mapping) -> Stream:
+    key = rec["key"]
+    return Stream(key, rec["name"], rec["words"], bool(rec["drain_treatable"]),
+                  bool(rec.get("acidic", False)), tuple(rec.get("materials", ())),
+                  _sides(key, rec["accepts"]), _sides(key, rec.get("refuses", ())),
+                  rec.get("refuse_hazard", ""), _sourced(key, rec))
+
+
+def _parse_rule(rec: Mapping) -> Rule:
+    rid = rec["id"]
+    rule = Rule(rid, rec["severity"], rec["hazard"], _sides(rid, rec["a"]), _sides(rid, rec["b"]),
+                rec["advice_a"], rec["advice_b"], _sourced(rid, rec), rec.get("gas", ""),
+                float(rec.get("acidic_below_ph", REFERENCE_PH)),
+                tuple(rec.get("superseded_by", ())))
+    if rule.severity not in SEVERITIES:
+        raise CatalogError(rid, f"severity {rule.severity!r} is not one of {SEVERITIES}")
+    if rule.gas and rule.severity != "refuse":
+        raise CatalogError(rid, f"releases {rule.gas}: a gas hazard must refuse, never confirm")
+    return rule
+
+
+@lru_cache(maxsize=1)
+def _settings() -> _Settings:
+    data = read_data_file("compatibility.toml")
+    streams = {rec["key"]: _parse_stream(rec) for rec in data["streams"]}
+    rules = tuple(_parse_rule(rec) for rec in data["rules"])
+    ids = [r.id for r in rules]
+    if len(ids) != len(set(ids)):
+        raise CatalogError("compatibility.toml", "rule ids must be unique")
+    for rule in rules:
+        for side in (rule.a, rule.b):
+            for alt in side:
+                unknown = set(alt.get("streams", ())) - set(streams)
+                if unknown:
+                    raise CatalogError(rule.id, f"names unknown streams {sorted(unknown)}")
+        if set(rule.superseded_by) - set(ids):
+            raise CatalogError(rule.id, "superseded by an unknown rule")
+    return _Settings(MappingProxyType(streams), rules, float(data["kind_threshold"]),
+                     float(data["concentrated_molar"]))
+
+
+def streams() -> Mapping[str, Stream]:
+    """Every stream by key, in the order of the data file."""
+    return _settings().streams
+
+
+def stream(key: str) -> Stream:
+    """One stream; an unknown key is an error that lists the known ones."""
+    known = _settings().streams
+    if key not in known:
+        raise InvalidInput("stream", key, "not a waste stream; choose one of "
+                           + ", ".join(known), field="stream")
+    return known[key]
+
+
+def rules() -> tuple[Rule, ...]:
+    """Every compatibility rule, in the order of the data file."""
+    return _settings().rules
+
+
+# ----------------------------------------------------------------------------- compounds
+
+
+def acid_equivalents(compound, catalog=None) -> float:
+    """Protons one formula unit gives up (negative: takes up) on the way to pH 7.
+
+    The formula unit is neutral, so from its spectator ions and each system's fully
+    deprotonated charge follows how many protons it carries; the systems' pKa values
+    say how many stay bound at pH 7 (ideal solution, 25 °C).
+    """
+    catalog = catalog or default_catalog()
+    carried, bound = 0.0, 0.0
+    for key, count in compound.composition.items():
+        part = catalog.component(key)
+        if hasattr(part, "pka25"):
+            carried -= count * (part.top_charge - part.n_steps)
+            bound += count * _protons_bound(part.pka25, REFERENCE_PH)
+        else:
+            carried -= count * part.charge
+    return carried - bound
+
+
+def _protons_bound(pkas: tuple[float, ...], ph: float) -> float:
+    n = len(pkas)
+    logs, acc = [], 0.0
+    for j in range(n + 1):  # state j has lost j protons
+        logs.append(j * ph - acc)
+        if j < n:
+            acc += pkas[j]
+    top = max(logs)
+    weights = [10.0 ** (v - top) for v in logs]
+    return sum((n - j) * w for j, w in enumerate(weights)) / sum(weights)
+
+
+def compound_kind(compound, catalog=None) -> str:
+    """``acid``, ``base`` or ``neutral`` (acid equivalents at pH 7 beyond the threshold)."""
+    eq = acid_equivalents(compound, catalog)
+    limit = _settings().kind_threshold
+    return "acid" if eq > limit else "base" if eq < -limit else "neutral"
+
+
+def _facts(name: str, catalog, conc_molar: float | None) -> _Facts:
+    c = catalog.compound(name)
+    return _Facts(c.key, frozenset(c.hazards), frozenset(c.composition),
+                  compound_kind(c, catalog), conc_molar)
+
+
+def _compound_ok(alt: Mapping, f: _Facts, concentrated_molar: float) -> bool:
+    if "compounds" in alt and f.key not in alt["compounds"]:
+        return False
+    if "tags" in alt and not f.tags & set(alt["tags"]):
+        return False
+    if "components" in alt and not f.components & set(alt["components"]):
+        return False
+    if "kinds" in alt and f.kind not in alt["kinds"]:
+        return False
+    return not alt.get("concentrated") or (
+        f.conc_molar is not None and f.conc_molar >= concentrated_molar)
+
+
+def _addition_matches(side: tuple[Mapping, ...], f: _Facts, settings: _Settings) -> bool:
+    for alt in side:
+        if set(alt) & _CONTAINER_KEYS:
+            continue
+        if alt.get("acidic") and f.kind != "acid":
+            continue
+        if _compound_ok(alt, f, settings.concentrated_molar):
+            return True
+    return False
+
+
+# ----------------------------------------------------------------------------- containers
+
+
+@dataclass(frozen=True)
+class _Box:
+    """A container with its compounds' facts."""
+
+    stream: Stream | None
+    held: tuple[_Facts, ...]
+    pH: float | None
+    material: str | None
+
+
+@dataclass
+class _Evidence:
+    holds: list[str] = field(default_factory=list)
+    stream: bool = False
+    material: bool = False
+    ph: bool = False
+
+
+def _acidic(box: _Box, below_ph: float) -> tuple[bool, list[str], bool, bool]:
+    """(acidic?, acid compounds named, via the stream?, via the pH?)."""
+    acids = [f.key for f in box.held if f.kind == "acid"]
+    via_stream = bool(box.stream and box.stream.acidic)
+    if box.pH is not None:
+        via_ph = box.pH < below_ph
+        return via_stream or via_ph, acids if via_ph else [], via_stream, via_ph
+    return via_stream or bool(acids), acids, via_stream, False
+
+
+def _container_matches(side, rule_ph: float, box: _Box, settings: _Settings):
+    for alt in side:
+        ev = _Evidence()
+        if "streams" in alt:
+            if not box.stream or box.stream.key not in alt["streams"]:
+                continue
+            ev.stream = True
+        if alt.get("drain_stream"):
+            if not (box.stream and box.stream.drain_treatable):
+                continue
+            ev.stream = True
+        if "materials" in alt:
+            if box.material not in alt["materials"]:
+                continue
+            ev.material = True
+        if alt.get("acidic"):
+            ok, acids, via_stream, via_ph = _acidic(box, rule_ph)
+            if not ok:
+                continue
+            ev.holds, ev.stream, ev.ph = acids, ev.stream or via_stream, via_ph
+        wanted = {k: v for k, v in alt.items() if k in _COMPOUND_KEYS}
+        if wanted:
+            found = [f.key for f in box.held if _compound_ok(wanted, f, settings.concentrated_molar)]
+            if not found:
+                continue
+            ev.holds = found
+        return ev
+    return None
+
+
+def _context(ev: _Evidence, box: _Box, show_ph: bool) -> str:
+    parts = []
+    if ev.holds:
+        parts.append("the container holds " + ", ".join(ev.holds))
+    if box.pH is not None and (show_ph or ev.ph):
+        parts.append(f"pH about {box.pH:.1f}" if parts else f"the container is at pH about "
+                     f"{box.pH:.1f}")
+    if ev.stream and box.stream and not ev.holds:
+        parts.append(f"the container is meant for {box.stream.name}")
+    if ev.material:
+        parts.append(f"the container is {box.material}")
+    return ", ".join(parts)
+
+
+def _box(container: Container, catalog, settings: _Settings, skip: str | None = None) -> _Box:
+    st = stream(container.stream) if container.stream is not None else None
+    if container.material is not None and container.material not in MATERIALS:
+        raise InvalidInput("container material", container.material,
+                           "must be one of " + ", ".join(MATERIALS), field="material")
+    held = []
+    for name, amount in container.contents.items():
+        if name == skip or not amount > 0:
+            continue
+        conc = amount / container.volume_l if container.volume_l else None
+        held.append(_facts(name, catalog, conc))
+    return _Box(st, tuple(held), container.estimated_pH, container.material)
+
+
+def _check_amount(addition: Addition) -> None:
+    if not (isinstance(addition.amount_mol, (int, float)) and math.isfinite(addition.amount_mol)
+            and addition.amount_mol > 0):
+        raise InvalidInput("amount", addition.amount_mol, "must be a positive number of mol",
+                           field="amount")
+    if addition.conc_molar is not None and not (math.isfinite(addition.conc_molar)
+                                                and addition.conc_molar > 0):
+        raise InvalidInput("concentration", addition.conc_molar, "must be positive",
+                           field="concentration")
+
+
+# ----------------------------------------------------------------------------- checks
+
+
+def _rule_findings(f: _Facts, box: _Box, settings: _Settings) -> list[Finding]:
+    out = []
+    for rule in settings.rules:
+        for mine, theirs, advice in ((rule.a, rule.b, rule.advice_a),
+                                     (rule.b, rule.a, rule.advice_b)):
+            if not _addition_matches(mine, f, settings):
+                continue
+            ev = _container_matches(theirs, rule.acidic_below_ph, box, settings)
+            if ev is None:
+                continue
+            context = _context(ev, box, show_ph=bool(rule.gas))
+            message = f"{rule.hazard}: {context}; {advice}" if context else \
+                f"{rule.hazard}; {advice}"
+            out.append(Finding(rule.id, rule.severity, message, rule.hazard, advice, f.key,
+                               tuple(ev.holds), rule.source, rule.gas))
+            break
+    fired = {x.rule_id for x in out}
+    by_id = {r.id: r for r in settings.rules}
+    return [x for x in out if not set(by_id[x.rule_id].superseded_by) & fired]
+
+
+def _stream_findings(f: _Facts, box: _Box, settings: _Settings) -> list[Finding]:
+    st = box.stream
+    if st is None:
+        return []
+    if _addition_matches(st.refuses, f, settings):
+        advice = f"this container is for {st.name}: {st.words}"
+        return [Finding(f"stream-{st.key}", "refuse", f"{st.refuse_hazard}: {advice}",
+                        st.refuse_hazard, advice, f.key, (), st.source)]
+    if st.accepts and not _addition_matches(st.accepts, f, settings):
+        hazard = f"{f.key} ({f.kind}) is not what this container is meant for"
+        advice = f"this container is for {st.name}: {st.words}"
+        return [Finding(f"stream-{st.key}", "confirm", f"{hazard}; {advice}", hazard, advice,
+                        f.key, (), st.source)]
+    return []
+
+
+def _ordered(findings: Iterable[Finding]) -> tuple[Finding, ...]:
+    return tuple(sorted(findings, key=lambda x: SEVERITIES.index(x.severity)))
+
+
+def check_addition(container: Container, addition: Addition, *, catalog=None
+                   ) -> tuple[Finding, ...]:
+    """Every finding for logging ``addition`` into ``container``, refusals first.
+
+    Empty means no rule objects (it never means the waste is safe or drain-fit).
+    Unknown compounds raise :class:`carboy.errors.UnknownCompound`; an unknown stream or
+    material raises :class:`carboy.errors.InvalidInput`.
+    """
+    catalog = catalog or default_catalog()
+    settings = _settings()
+    _check_amount(addition)
+    f = _facts(addition.compound, catalog, addition.conc_molar)
+    return _ordered(_findings(f, _box(container, catalog, settings), settings))
+
+
+def _findings(f: _Facts, box: _Box, settings: _Settings) -> list[Finding]:
+    """The rules' findings and the stream's; the stream's generic "not meant for this"
+    only when no rule already says what is wrong."""
+    found = _rule_findings(f, box, settings)
+    stream_side = _stream_findings(f, box, settings)
+    return found + [x for x in stream_side if x.severity == "refuse" or not found]
+
+
+def check_container(container: Container, *, catalog=None) -> tuple[Finding, ...]:
+    """Warnings for what a container already holds: its stream against its contents,
+    the contents against each other, and the container's material against its stream.
+    Changes nothing; messages start with "already in the container"."""
+    catalog = catalog or default_catalog()
+    settings = _settings()
+    out: dict[tuple, Finding] = {}
+    st = stream(container.stream) if container.stream is not None else None
+    if st and st.materials and container.material and container.material not in st.materials:
+        hazard = f"{st.name} must be kept in {' or '.join(st.materials)}"
+        out[("material",)] = Finding(f"stream-{st.key}", "confirm",
+                                     f"already in the container: {hazard}; the container is "
+                                     f"{container.material}", hazard, st.words, "", (),
+                                     st.source)
+    for name, amount in container.contents.items():
+        if not amount > 0:
+            continue
+        conc = amount / container.volume_l if container.volume_l else None
+        f = _facts(name, catalog, conc)
+        box = _box(container, catalog, settings, skip=name)
+        for x in _findings(f, box, settings):
+            key = (x.rule_id, frozenset((x.added, *x.present)))
+            out.setdefault(key, Finding(x.rule_id, x.severity,
+                                        f"already in the container: {f.key}; {x.message}",
+                                        x.hazard, x.advice, x.added, x.present, x.source, x.gas))
+    return _ordered(out.values())
+
+
+def refusals(findings: Iterable[Finding]) -> tuple[Finding, ...]:
+    """The findings that stop an addition whatever reason is given."""
+    return tuple(x for x in findings if x.severity == "refuse")
+
+
+def confirmations(findings: Iterable[Finding]) -> tuple[Finding, ...]:
+    """The findings an addition may pass with a journaled reason."""
+    return tuple(x for x in findings if x.severity == "confirm")
