@@ -25,10 +25,11 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
 from textual.widgets import Input  # noqa: E402
 
+from carboy.model.forms.neutralize import NeutralizeFields  # noqa: E402
 from carboy.store.demo import DEMO_TODAY, create_demo_database  # noqa: E402
 from carboy.tui.app.app import make_app  # noqa: E402
+from carboy.tui.app.live import DELAY_S as DEBOUNCE_S  # noqa: E402
 from carboy.tui.app.screens.neutralize import (  # noqa: E402
-    DEBOUNCE_S,
     FormState,
     NeutralizeScreen,
     compute,
@@ -96,7 +97,7 @@ async def bench_screen(db: Path, repeat: int) -> dict[str, list[float]]:
                 t0 = time.perf_counter()
                 await pilot.press(new[-1])
                 await _wait(pilot, lambda new=new: screen.outcome is not None
-                            and screen.outcome.state.target == new and bool(applied))
+                            and screen.outcome.state.fields.target == new and bool(applied))
                 times.append((applied[-1] - t0) * 1000.0)
             out[name] = times
     return out
@@ -105,7 +106,7 @@ async def bench_screen(db: Path, repeat: int) -> dict[str, list[float]]:
 def bench_compute(repeat: int) -> dict[str, list[float]]:
     from carboy.store import waste
     from carboy.store.db import open_database
-    from carboy.tui.app.screens.neutralize import load_container_info
+    from carboy.store.planning import container_sample as load_container_info
 
     with tempfile.TemporaryDirectory() as tmp:
         db = create_demo_database(Path(tmp) / "demo.db", today=DEMO_TODAY)
@@ -118,11 +119,11 @@ def bench_compute(repeat: int) -> dict[str, list[float]]:
     for label, reagent in CASES:
         if label:
             info, catalog = infos[label]
-            state = FormState(reagent=reagent, container=info)
+            state = FormState(NeutralizeFields(reagent=reagent), info)
         else:
             catalog = None
-            state = FormState(components="H2SO4=0.05M NaH2PO4=10mM", volume="250 mL",
-                              reagent=reagent)
+            state = FormState(NeutralizeFields(components="H2SO4=0.05M NaH2PO4=10mM",
+                                               volume="250 mL", reagent=reagent))
         compute(state, catalog=catalog)  # warm caches
         times = []
         for _ in range(repeat):
