@@ -8,9 +8,37 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+QUOTE_LIMIT = 80
+"""Characters of a bad value an error message quotes at most (the rest is elided)."""
+
+
+def quoted(value: object, limit: int = QUOTE_LIMIT) -> str:
+    """``repr(value)`` for a message, cut to about ``limit`` characters.
+
+    ``repr`` escapes control, invisible and bidirectional characters, so a stored or
+    typed value cannot reach a terminal as an escape sequence through an error line.
+    A long value is cut before it is formatted (a 100,000-character argument costs
+    nothing) and the cut is marked with ``…`` and the full length.
+    """
+    if isinstance(value, str) and len(value) > limit:
+        return f"{value[:limit]!r}… ({len(value)} characters)"
+    text = repr(value)
+    return text if len(text) <= limit + 2 else text[:limit] + "…"
+
 
 class CarboyError(Exception):
     """Base class of every error carboy raises on purpose."""
+
+
+class Refused(CarboyError):
+    """The store refuses an action by rule (not because the input was unreadable).
+
+    Public: every rule refusal derives from it (a closed or full container, an
+    incompatible waste, a database whose protections were changed, a file that is not
+    the one carboy opened).  The command line exits with status 1 for it and 2 for
+    every other error; the app shows the message and writes nothing.  A subclass is
+    usually a dataclass with the fields its message needs and its own ``__str__``.
+    """
 
 
 @dataclass
@@ -25,7 +53,7 @@ class InvalidInput(CarboyError, ValueError):
     put the message beside that field without reading the text."""
 
     def __str__(self) -> str:
-        return f"{self.what} {self.value!r}: {self.reason}"
+        return f"{self.what} {quoted(self.value)}: {self.reason}"
 
 
 @dataclass
@@ -44,7 +72,7 @@ class UnknownCompound(CarboyError, KeyError):
     suggestions: tuple[str, ...] = field(default_factory=tuple)
 
     def __str__(self) -> str:
-        msg = f"unknown compound {self.name!r}"
+        msg = f"unknown compound {quoted(self.name)}"
         if self.suggestions:
             msg += "; closest matches: " + ", ".join(self.suggestions)
         return msg
@@ -58,7 +86,7 @@ class CatalogError(CarboyError, ValueError):
     reason: str
 
     def __str__(self) -> str:
-        return f"catalog entry {self.entry!r}: {self.reason}"
+        return f"catalog entry {quoted(self.entry)}: {self.reason}"
 
 
 @dataclass

@@ -39,6 +39,7 @@ import molmass
 
 from carboy.errors import CatalogError, InvalidInput, UnknownCompound
 from carboy.model.entities import Compound, DensityTable, Ion, System
+from carboy.model.text import read_label
 
 __all__ = [
     "FORMS",
@@ -63,6 +64,8 @@ FORMS = frozenset({"solid", "liquid", "gas", "solution"})
 """How a compound is usually supplied."""
 
 MAX_SUGGESTIONS = 3
+MAX_NAME = 100
+"""Longest compound name or formula looked up (checked before any search)."""
 SUGGESTION_CUTOFF = 0.6
 """difflib similarity ratio below which a name is not offered as a suggestion."""
 
@@ -500,18 +503,17 @@ class Catalog:
         UnknownCompound
             If nothing matches; ``suggestions`` holds up to three close names.
         """
-        if not isinstance(name, str):
-            raise InvalidInput("compound name", name, "must be a string")
-        text = name.strip()
+        text = read_label(name, "compound name", field="compound", most=MAX_NAME)
         key = self._exact.get(text) or self._by_name.get(normalize_name(text))
         if key is None:
             raise UnknownCompound(name, self.suggest(name))
         return self._compounds[key]
 
     def __contains__(self, name: object) -> bool:
-        if not isinstance(name, str):
+        try:
+            text = read_label(name, "compound name", most=MAX_NAME)
+        except InvalidInput:
             return False
-        text = name.strip()
         return text in self._exact or normalize_name(text) in self._by_name
 
     def suggest(self, text: str, limit: int = MAX_SUGGESTIONS) -> tuple[str, ...]:

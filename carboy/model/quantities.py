@@ -1,23 +1,51 @@
 """Read the quantities people type: ``250 mL``, ``1,5 L``, ``0.1 M``, ``10mM``, ``37 %``.
 
-Raw user text never goes to pint directly (``1,5 L`` would become 15 L and ``2 N`` is
-newtons).  The number and the unit are split here, a decimal comma is accepted
-explicitly, the common storeroom units are converted from a table, and only an
-unusual unit is handed to pint, whose result is then checked for its dimension.
+carboy parses quantities itself, with a small grammar; nothing the user typed is ever
+evaluated (no pint expression parsing, no arithmetic, no constants)::
+
+    quantity  := blank* number blank* unit? blank*
+    number    := sign? (digits ([.,] digits?)? | [.,] digits) exponent?
+    digits    := 1 to 15 ASCII digits 0-9
+    exponent  := (e | E) sign? 1 to 3 ASCII digits        e.g. 1e-3 M
+    sign      := + | -
+    unit      := one of the units in ``UNITS`` (exactly, case as listed)
+    blank     := space or tab
+
+* One decimal separator at most: a point or a comma (``1,5 L`` is 1.5 L); there are no
+  thousands separators, so ``1,000 L`` is one litre and ``1.000,5 L`` is refused.
+* Only ASCII digits: other scripts' digits and look-alikes are refused.
+* The exponent is there for dilute solutions (``5e-6 M``); a value that is not finite
+  (``1e999``) is refused.
+* Text longer than :data:`MAX_TEXT` characters is refused before it is looked at.
+* The unit comes from an allow-list with fixed factors (SI prefixes, and the exact
+  legal definitions of the US gallon, pound and ounce); ``*``, ``/`` and ``**`` are
+  never operators, so ``1 mol/L*10**10**10`` is an unknown unit, not a computation.
+* ``N`` (normality) and volume percentages are refused with the reason.
 """
 
 from __future__ import annotations
 
-import math
 import re
 from dataclasses import dataclass
-from functools import lru_cache
 
-from carboy.errors import InvalidInput
+from carboy.errors import InvalidInput, quoted
 
-_NUMBER = re.compile(
-    r"^\s*(?P<num>[+-]?(?:\d[\d.,]*|[.,]\d+)(?:[eE][+-]?\d+)?)\s*(?P<unit>.*?)\s*$"
+MAX_TEXT = 64
+"""Longest quantity text carboy reads (``'0.000125 mmol/L'`` is 15)."""
+
+_QUANTITY = re.compile(
+    r"\A[ \t]*(?P<num>[+-]?(?:[0-9]{1,15}(?:[.,][0-9]{0,15})?|[.,][0-9]{1,15})"
+    r"(?:[eE][+-]?[0-9]{1,3})?)[ \t]*(?P<unit>\S(?:.*\S)?)?[ \t]*\Z",
+    re.ASCII | re.DOTALL,
 )
+
+_NUMERIC_LEAD = re.compile(r"[ \t]*[+-]?[0-9.,]+", re.ASCII)
+"""The digits and separators a quantity starts with (to name a thousands separator)."""
+
+_US_GALLON_L = 3.785411784
+"""US liquid gallon: 231 cubic inches exactly (NIST Handbook 44, Appendix C)."""
+_POUND_G = 453.59237
+"""International avoirdupois pound, exact (NIST Handbook 44, Appendix C)."""
 
 # unit as typed -> (kind, factor to the base unit of that kind)
 # bases: concentration mol/L, volume L, mass g, temperature degC, percent %
@@ -25,6 +53,7 @@ _UNITS: dict[str, tuple[str, float]] = {
     "M": ("concentration", 1.0),
     "mol/L": ("concentration", 1.0),
     "mol/l": ("concentration", 1.0),
+    "mol/dm3": ("concentration", 1.0),
     "mM": ("concentration", 1e-3),
     "mmol/L": ("concentration", 1e-3),
     "mmol/l": ("concentration", 1e-3),
@@ -33,10 +62,18 @@ _UNITS: dict[str, tuple[str, float]] = {
     "μM": ("concentration", 1e-6),
     "umol/L": ("concentration", 1e-6),
     "µmol/L": ("concentration", 1e-6),
+    "μmol/L": ("concentration", 1e-6),
+    "nM": ("concentration", 1e-9),
     "L": ("volume", 1.0),
     "l": ("volume", 1.0),
+    "litre": ("volume", 1.0),
+    "litres": ("volume", 1.0),
+    "liter": ("volume", 1.0),
+    "liters": ("volume", 1.0),
+    "dm3": ("volume", 1.0),
     "mL": ("volume", 1e-3),
     "ml": ("volume", 1e-3),
+    "cm3": ("volume", 1e-3),
     "uL": ("volume", 1e-6),
     "µL": ("volume", 1e-6),
     "μL": ("volume", 1e-6),
@@ -44,11 +81,17 @@ _UNITS: dict[str, tuple[str, float]] = {
     "dL": ("volume", 0.1),
     "cL": ("volume", 0.01),
     "m3": ("volume", 1000.0),
+    "gal": ("volume", _US_GALLON_L),
+    "gallon": ("volume", _US_GALLON_L),
+    "gallons": ("volume", _US_GALLON_L),
     "g": ("mass", 1.0),
     "kg": ("mass", 1000.0),
     "mg": ("mass", 1e-3),
     "ug": ("mass", 1e-6),
     "µg": ("mass", 1e-6),
+    "μg": ("mass", 1e-6),
+    "lb": ("mass", _POUND_G),
+    "oz": ("mass", _POUND_G / 16),
     "%": ("percent", 1.0),
     "%w/w": ("percent", 1.0),
     "% w/w": ("percent", 1.0),
@@ -57,7 +100,15 @@ _UNITS: dict[str, tuple[str, float]] = {
     "C": ("temperature", 1.0),
     "degC": ("temperature", 1.0),
     "K": ("temperature_k", 1.0),
+    # known so the message can say what they are; no carboy quantity takes them
+    "g/L": ("mass concentration", 1.0),
+    "g/l": ("mass concentration", 1.0),
+    "mg/L": ("mass concentration", 1e-3),
+    "mg/l": ("mass concentration", 1e-3),
+    "ppm": ("mass concentration", 1e-3),
 }
+UNITS = tuple(_UNITS)
+"""Every unit carboy reads, as it must be typed."""
 
 _BASE_UNIT = {
     "concentration": "M",
@@ -65,12 +116,6 @@ _BASE_UNIT = {
     "mass": "g",
     "percent": "%",
     "temperature": "°C",
-}
-
-_PINT_DIMENSION = {
-    "concentration": ("[substance] / [length] ** 3", "mol/L"),
-    "volume": ("[length] ** 3", "L"),
-    "mass": ("[mass]", "g"),
 }
 
 _REFUSED = {
@@ -96,36 +141,50 @@ class Reading:
         return f"{self.value:g} {self.unit}"
 
 
-@lru_cache(maxsize=1)
-def _registry():
-    import pint  # deferred: creating a registry costs 0.1-0.5 s
-
-    return pint.UnitRegistry()
-
-
 _EXAMPLE = {"concentration": "0.1 M", "volume": "250 mL", "mass": "0.5 g", "percent": "37 %",
             "temperature": "25 °C"}
 
 
 def _split(text: str, what: str, kind: str = "volume") -> tuple[float, str]:
+    """The number (as a float) and the unit text of a quantity, by the grammar above."""
     example = _EXAMPLE.get(kind, "250 mL")
     if not isinstance(text, str):
         raise InvalidInput(what, text, f"expected text such as '{example}'")
-    m = _NUMBER.match(text)
-    if not m:
-        raise InvalidInput(what, text, f"expected a number followed by a unit, e.g. "
-                           f"'{example}'")
-    num = m.group("num")
-    if ("," in num and "." in num) or num.count(",") > 1 or num.count(".") > 1:
+    if len(text) > MAX_TEXT:
+        raise InvalidInput(what, text, f"is too long for a quantity ({MAX_TEXT} characters "
+                           "at most)")
+    m = _QUANTITY.match(text)
+    lead = _NUMERIC_LEAD.match(text)
+    if lead and len(re.findall(r"[.,]", lead.group())) > 1:
         raise InvalidInput(what, text, "use either a decimal point or a decimal comma, "
                            "once, and no thousands separators")
-    try:
-        value = float(num.replace(",", "."))
-    except ValueError:
-        raise InvalidInput(what, text, "expected a number followed by a unit") from None
-    if not math.isfinite(value):
+    if not m:
+        raise InvalidInput(what, text, f"expected a number followed by a unit, e.g. "
+                           f"'{example}' (digits 0-9)")
+    num = m.group("num")
+    mantissa = num.split("e")[0].split("E")[0]
+    value = float(mantissa.replace(",", ".") + num[len(mantissa):])
+    if value != value or value in (float("inf"), float("-inf")):
         raise InvalidInput(what, text, "the number is not finite")
-    return value, m.group("unit").strip()
+    return value, m.group("unit") or ""
+
+
+PLAIN_NUMBER = re.compile(
+    r"\A[+-]?(?:[0-9]{1,15}(?:[.,][0-9]{0,15})?|[.,][0-9]{1,15})(?:[eE][+-]?[0-9]{1,3})?\Z",
+    re.ASCII)
+"""A number alone, by the grammar above (ASCII digits, one decimal point or comma)."""
+
+
+def plain_number(text: str) -> float | None:
+    """``'6,5'`` -> 6.5; None for anything the number grammar does not read or that is not
+    finite (no ``nan``, ``inf``, ``1_000``, other scripts' digits)."""
+    if not isinstance(text, str) or len(text) > MAX_TEXT:
+        return None
+    raw = text.strip(" \t")
+    if not PLAIN_NUMBER.match(raw):
+        return None
+    value = float(raw.replace(",", "."))
+    return value if value - value == 0 else None
 
 
 def parse(text: str, kind: str, *, what: str | None = None, default_unit: str | None = None,
@@ -150,16 +209,17 @@ def parse(text: str, kind: str, *, what: str | None = None, default_unit: str | 
         unit = default_unit
     if unit in _REFUSED:
         raise InvalidInput(what, text, _REFUSED[unit])
-    if unit in _UNITS:
-        ukind, factor = _UNITS[unit]
-        if kind == "temperature" and ukind == "temperature_k":
-            value, ukind = value - 273.15, "temperature"
-        if ukind != kind:
-            raise InvalidInput(what, text, f"the unit {unit!r} is a {ukind.split('_')[0]}, "
-                               f"not a {kind}")
-        value *= factor
-    else:
-        value = _via_pint(value, unit, kind, what, text)
+    if unit not in _UNITS:
+        known = [u for u, (k, _) in _UNITS.items() if k.startswith(kind)]
+        raise InvalidInput(what, text, f"unknown unit {quoted(unit, 20)}; for a {kind} use "
+                           + ", ".join(known[:6]) + (", …" if len(known) > 6 else ""))
+    ukind, factor = _UNITS[unit]
+    if kind == "temperature" and ukind == "temperature_k":
+        value, ukind = value - 273.15, "temperature"
+    if ukind != kind:
+        raise InvalidInput(what, text, f"the unit {unit!r} is a {ukind.split('_')[0]}, "
+                           f"not a {kind}")
+    value *= factor
     if kind == "temperature":
         if value < -273.15:
             raise InvalidInput(what, text, "is below absolute zero")
@@ -168,23 +228,6 @@ def parse(text: str, kind: str, *, what: str | None = None, default_unit: str | 
     if kind == "percent" and value > 100:
         raise InvalidInput(what, text, "a mass percentage cannot exceed 100 %")
     return Reading(value, _BASE_UNIT[kind], kind, text)
-
-
-def _via_pint(value: float, unit: str, kind: str, what: str, text: str) -> float:
-    if kind not in _PINT_DIMENSION:
-        raise InvalidInput(what, text, f"unknown unit {unit!r} for a {kind}")
-    import pint
-
-    dimension, target = _PINT_DIMENSION[kind]
-    ureg = _registry()
-    try:
-        q = ureg.Quantity(value, unit)
-    except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError,
-            AttributeError, TypeError, ValueError, AssertionError):
-        raise InvalidInput(what, text, f"unknown unit {unit!r}") from None
-    if not q.check(dimension):
-        raise InvalidInput(what, text, f"the unit {unit!r} is not a {kind}")
-    return float(q.to(target).magnitude)
 
 
 def unit_kind(text: str) -> str | None:

@@ -12,6 +12,7 @@ from dataclasses import asdict, dataclass
 from typing import Any
 
 from carboy.errors import InvalidInput
+from carboy.model.text import read_label
 from carboy.model.upkeep import MAX_DAYS
 from carboy.store.readers import (
     check_length,
@@ -154,13 +155,15 @@ def validate(fields: Mapping[str, Any], catalog) -> dict:
     days = _recheck_days(text("restandardize_days"))
     status = BottleStatus.parse(text("status") or BottleStatus.IN_USE)
     dates = _dates(text, strengths["current_strength"])
-    for key in ("location", "lot", "notes", "measured_how"):
+    for key in ("notes", "measured_how"):
         check_length(key.replace("_", " "), text(key), field=key)
+    place = read_label(text("location"), "location", field="location", most=2000)
+    lot = read_label(text("lot"), "lot", field="lot", most=2000)
     return {
         "compound_key": compound.key, "compound_name": compound.name,
         **strengths, "measured_at": dates["measured_at"], "measured_how": text("measured_how"),
-        "restandardize_days": days, **amounts, "location": text("location"),
-        "lot": text("lot"), "received_on": dates["received_on"],
+        "restandardize_days": days, **amounts, "location": place,
+        "lot": lot, "received_on": dates["received_on"],
         "opened_on": dates["opened_on"], "expires_on": dates["expires_on"],
         "status": status.value, "notes": text("notes"),
     }

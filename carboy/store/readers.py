@@ -18,6 +18,7 @@ from datetime import date, datetime
 from carboy.errors import InvalidInput
 from carboy.model import quantities
 from carboy.model.components import MAX_CONC_MOLAR
+from carboy.model.forms import MAX_ID
 
 MAX_MOLARITY = MAX_CONC_MOLAR
 """Above this a molarity is refused as absurd (pure water is 55 M; conc. H2SO4 is about 18 M)."""
@@ -26,7 +27,10 @@ MAX_VOLUME_L = 1000.0
 MAX_MASS_G = 100_000.0
 """Largest amount of a solid accepted, grams."""
 
-_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
+_DATE = re.compile(r"^[0-9]{4}-[0-9]{2}-[0-9]{2}$", re.ASCII)
+_WHOLE = re.compile(r"#?\s*([+-]?[0-9]{1,19})", re.ASCII)
+MAX_WHOLE = MAX_ID
+"""Largest whole number (id, count, interval) read: every SQLite integer holds it."""
 
 
 @contextlib.contextmanager
@@ -150,13 +154,17 @@ def parse_whole(value: object, what: str, *, field: str, low: int | None = None,
     first message when other words are also accepted.
     """
     units = f" {unit}" if unit else ""
-    try:
-        number = int(str(value).strip().lstrip("#"))
-    except (TypeError, ValueError):
-        raise InvalidInput(what, value, expected or f"expected a whole number{units}",
-                           field=field) from None
+    text = value if isinstance(value, str) else str(value) if isinstance(value, int) else ""
+    found = _WHOLE.fullmatch(text.strip()) if len(text) <= 40 else None
+    if not found:
+        raise InvalidInput(what, value, expected or f"expected a whole number{units} "
+                           "(digits 0-9)", field=field)
+    number = int(found.group(1))
     if (low is not None and number < low) or (high is not None and number > high):
         raise InvalidInput(what, value, f"expected {low} to {high}{units}", field=field)
+    if abs(number) > MAX_WHOLE:
+        raise InvalidInput(what, value, "is larger than any id or count carboy holds",
+                           field=field)
     return number
 
 

@@ -20,7 +20,6 @@ from __future__ import annotations
 
 import json
 import math
-import re
 from collections.abc import Mapping
 from dataclasses import asdict, dataclass
 from datetime import date, datetime
@@ -30,6 +29,7 @@ from carboy.errors import InvalidInput
 from carboy.model.components import Component, read_component
 from carboy.model.entities import Compound
 from carboy.model.mixture import Mixture
+from carboy.model.text import read_label
 from carboy.store import journal
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store, current_user, stamp
@@ -48,7 +48,6 @@ MAX_CAPACITY_L = 1000.0
 """Largest container accepted (an intermediate bulk container)."""
 MAX_ADDITION_L = 1000.0
 MAX_LABEL_LENGTH = 64
-_LABEL = re.compile(r"^[^\x00-\x1f\x7f]+$")
 
 
 @dataclass(frozen=True)
@@ -97,13 +96,10 @@ class Addition:
 # -- parsing ---------------------------------------------------------------------------
 
 def check_label(label: str) -> str:
-    if not isinstance(label, str) or not label.strip():
-        raise InvalidInput("container label", label, "must not be empty", field="label")
-    text = label.strip()
-    if len(text) > MAX_LABEL_LENGTH or not _LABEL.match(text):
-        raise InvalidInput("container label", label, f"use up to {MAX_LABEL_LENGTH} printable "
-                           "characters", field="label")
-    return text
+    """A container label as stored: normalized by :func:`carboy.model.text.read_label`
+    (NFKC; invisible and bidirectional-control characters refused)."""
+    return read_label(label, "container label", field="label", most=MAX_LABEL_LENGTH,
+                      required=True)
 
 
 def parse_capacity(value: str | float | None) -> float:

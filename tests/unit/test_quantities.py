@@ -49,7 +49,7 @@ def test_echo_says_what_was_understood():
         (q.volume_l, "abc", "expected a number"),
         (q.volume_l, "1.000,5 L", "decimal point or a decimal comma"),
         (q.volume_l, "3 kg", "mass, not a volume"),
-        (q.volume_l, "3 parsecs", "not a volume"),
+        (q.volume_l, "3 parsecs", "unknown unit"),
         (q.volume_l, "3 blorps", "unknown unit"),
         (q.concentration_molar, "2 N", "normality"),
         (q.concentration_molar, "5 mL", "volume, not a concentration"),

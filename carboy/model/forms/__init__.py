@@ -21,13 +21,14 @@ from dataclasses import dataclass, field
 from typing import Generic, TypeVar
 
 from carboy.errors import CarboyError, InvalidInput, MissingInput
+from carboy.model.quantities import plain_number
 
 T = TypeVar("T")
 
 MAX_ID = 2**62
 """Largest record id carboy reads (SQLite rowids are 64-bit signed)."""
 
-BOTTLE_REF = re.compile(r"^#?\s*(\d+)$")
+BOTTLE_REF = re.compile(r"^#?\s*([0-9]+)$", re.ASCII)
 """``23``, ``#23`` or ``# 23``: a stock bottle by its id."""
 
 
@@ -125,13 +126,10 @@ def read_number(text: str, what: str, *, field_name: str = "", unit: str = "",
                            field=field_name)
     if raw.count(",") + raw.count(".") > 1 or len(raw) > 40:
         raise InvalidInput(what, text, f"expected a number, e.g. {example}", field=field_name)
-    try:
-        value = float(raw.replace(",", "."))
-    except ValueError:
-        raise InvalidInput(what, text, f"expected a number, e.g. {example} or "
-                           f"{example.replace('.', ',')}", field=field_name) from None
-    if value != value or value in (float("inf"), float("-inf")):
-        raise InvalidInput(what, text, "must be a finite number", field=field_name)
+    value = plain_number(raw)
+    if value is None:
+        raise InvalidInput(what, text, f"expected a number (digits 0-9), e.g. {example} or "
+                           f"{example.replace('.', ',')}", field=field_name)
     return value
 
 
@@ -158,6 +156,8 @@ def bottle_ref(text: str) -> int | None:
 
     Raises :class:`InvalidInput` for an id no database can hold.
     """
+    if len(text or "") > 40:
+        return None
     match = BOTTLE_REF.match((text or "").strip())
     if not match:
         return None
