@@ -22,21 +22,28 @@ from __future__ import annotations
 
 import contextlib
 import fcntl
-import getpass
 import os
 import random
 import sqlite3
 import stat
 import time
 from collections.abc import Callable, Iterator, Mapping, Sequence
+from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any, TypeVar
 
 import sqlite_utils
 
-from carboy.store import migrations
-from carboy.store.errors import AlreadyExists, Busy, DatabaseUnusable
+from carboy.errors import Refused, quoted
+from carboy.store import chain, files, migrations
+from carboy.store.errors import AlreadyExists, Busy, DatabaseUnusable, StoreError
+from carboy.store.files import DatabaseMissing, DatabaseReplaced, FileIdentity
+from carboy.store.identity import current_origin, current_user
+
+__all__ = ["Store", "open_database", "init_database", "default_path", "current_user",
+           "current_origin", "utc_now", "iso_utc", "stamp", "file_lock", "APPLICATION_ID",
+           "DatabaseMissing", "DatabaseReplaced", "HistoryUnprotected"]
 
 T = TypeVar("T")
 
@@ -61,7 +68,14 @@ _LOCKED_MESSAGES = ("database is locked", "database table is locked", "database 
 
 def default_path(cli_path: str | os.PathLike | None = None,
                  environ: Mapping[str, str] | None = None) -> Path:
-    """The database path: ``--db PATH``, else ``$CARBOY_DB``, else the user data directory."""
+    """The database path: ``--db PATH``, else ``$CARBOY_DB``, else the user data directory.
+
+    An empty ``--db`` is refused (it would otherwise fall through to another file);
+    an empty ``$CARBOY_DB`` counts as unset.
+    """
+    if cli_path is not None and not str(cli_path).strip():
+        raise DatabaseUnusable(str(cli_path), "the path is empty: give a file name, e.g. "
+                               "--db storeroom.db")
     if cli_path:
         return Path(cli_path).expanduser()
     env = os.environ if environ is None else environ
@@ -70,24 +84,6 @@ def default_path(cli_path: str | os.PathLike | None = None,
     import platformdirs
 
     return Path(platformdirs.user_data_dir("carboy", appauthor=False)) / DB_FILENAME
-
-
-def current_user() -> str:
-    """The OS user running carboy (for 'who' in every record)."""
-    try:
-        return getpass.getuser()
-    except (OSError, KeyError, ImportError):
-        return f"uid:{os.getuid()}"
-
-
-def current_origin(environ: Mapping[str, str] | None = None) -> str:
-    """Where the user is: the SSH client's address, else ``local``."""
-    env = os.environ if environ is None else environ
-    for var in ("SSH_CLIENT", "SSH_CONNECTION"):
-        value = env.get(var, "").split()
-        if value:
-            return value[0]
-    return "local"
 
 
 def utc_now() -> str:
@@ -125,6 +121,12 @@ class Store:
         self.db = sqlite_utils.Database(conn, execute_plugins=False)
         self.origin: str | None = None
         """Where writes come from; ``None`` reads SSH_CLIENT / SSH_CONNECTION each time."""
+        self.identity: FileIdentity | None = None
+        """The file opened (device and inode): the app compares it on every later open."""
+        self.trust_problems: list[chain.Problem] = []
+        """What the open check found wrong with the guards or the chain's tail (empty when
+        sound); with a guard missing or altered, :meth:`write` refuses."""
+        self._repairing = False
 
     def origin_of(self) -> str:
         return self.origin or current_origin()
@@ -188,8 +190,9 @@ class Store:
         try:
             return self.conn.execute(sql, params)
         except sqlite3.DatabaseError as exc:
-            if _is_damage(exc):
-                raise DatabaseUnusable(str(self.path), f"the file is damaged ({exc})") from exc
+            known = files.translate(exc, str(self.path))
+            if known is not None:
+                raise known from exc
             raise
 
     # -- writes ----------------------------------------------------------------
@@ -203,6 +206,7 @@ class Store:
         if self.conn.in_transaction:
             with self.db.atomic():
                 return fn(self)
+        self._refuse_if_unprotected()
         delay = 0.02
         last = ""
         for attempt in range(1, attempts + 1):
@@ -210,7 +214,7 @@ class Store:
                 self.conn.execute("BEGIN IMMEDIATE")
             except sqlite3.OperationalError as exc:
                 if not _is_locked(exc):
-                    raise
+                    raise files.translate(exc, str(self.path)) or exc from exc
                 last = str(exc)
             else:
                 try:
@@ -220,14 +224,11 @@ class Store:
                 except sqlite3.OperationalError as exc:
                     self._rollback()
                     if not _is_locked(exc):
-                        raise
+                        raise files.translate(exc, str(self.path)) or exc from exc
                     last = str(exc)
                 except sqlite3.DatabaseError as exc:
                     self._rollback()
-                    if _is_damage(exc):
-                        raise DatabaseUnusable(str(self.path),
-                                               f"the file is damaged ({exc})") from exc
-                    raise
+                    raise files.translate(exc, str(self.path)) or exc from exc
                 except BaseException:
                     self._rollback()
                     raise
@@ -235,6 +236,20 @@ class Store:
                 time.sleep(delay * (1 + random.random()))
                 delay = min(delay * 2, 0.5)
         raise Busy(str(self.path), attempts, last)
+
+    def _refuse_if_unprotected(self) -> None:
+        guards = [p for p in self.trust_problems if p.guard]
+        if guards and not self._repairing:
+            raise HistoryUnprotected(str(self.path), guards[0].text())
+
+    def repair_guards(self, fn: Callable[[Store], T]) -> T:
+        """Run ``fn`` as one write even though a guard is missing (only for putting the
+        guards back: :func:`carboy.store.journal.restore_guards`)."""
+        self._repairing = True
+        try:
+            return self.write(fn)
+        finally:
+            self._repairing = False
 
     def _rollback(self) -> None:
         if self.conn.in_transaction:
@@ -261,10 +276,19 @@ class Store:
         return dest
 
 
-def _is_damage(exc: sqlite3.DatabaseError) -> bool:
-    msg = str(exc).lower()
-    return ("malformed" in msg or "not a database" in msg or "file is encrypted" in msg
-            or "disk image" in msg)
+@dataclass
+class HistoryUnprotected(StoreError, Refused):
+    """A guard trigger of the journal is missing or was altered: carboy writes nothing
+    more to this file until the guards are back (``carboy journal verify
+    --restore-guards``, after checking) or the file is restored from a backup."""
+
+    path: str
+    finding: str
+
+    def __str__(self) -> str:
+        return (f"the database {quoted(self.path)} has lost its protection ({self.finding}); "
+                "carboy writes nothing to it: run `carboy journal verify` and see "
+                f"{files.SETUP_GUIDE} ('When verify fails')")
 
 
 def _connect(path: Path) -> sqlite3.Connection:
@@ -272,6 +296,8 @@ def _connect(path: Path) -> sqlite3.Connection:
     conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_S, isolation_level=None)
     conn.execute(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
     conn.execute("PRAGMA foreign_keys = ON")
+    # REPLACE deletes the row it replaces without firing DELETE triggers unless this is on
+    conn.execute("PRAGMA recursive_triggers = ON")
     # FULL: a commit reaches the disk before it returns (WAL's NORMAL may lose the
     # last commits on power loss); measured cost is small at storeroom write rates
     conn.execute("PRAGMA synchronous = FULL")
@@ -282,7 +308,10 @@ def _connect(path: Path) -> sqlite3.Connection:
 def file_lock(path: Path, timeout_s: float = LOCK_TIMEOUT_S) -> Iterator[Path]:
     """Hold an exclusive ``flock`` on ``PATH.lock`` (created beside the database)."""
     lock_path = path.with_name(path.name + ".lock")
-    fd = os.open(lock_path, os.O_RDWR | os.O_CREAT, 0o666)
+    try:
+        fd = os.open(lock_path, os.O_RDWR | os.O_CREAT, files.NEW_FILE_MODE)
+    except OSError as exc:
+        raise files.translate_os(exc, str(lock_path)) from None
     try:
         _share_with_group(lock_path)
         deadline = time.monotonic() + timeout_s
@@ -319,37 +348,64 @@ def _check_header(path: Path) -> None:
             head = fh.read(100)
     except IsADirectoryError:
         raise DatabaseUnusable(str(path), "this is a directory, not a database file") from None
-    except PermissionError:
-        raise DatabaseUnusable(str(path), "permission denied (see the shared-server setup: "
-                               "the file and its directory must be group-writable)") from None
+    except OSError as exc:
+        raise files.translate_os(exc, str(path)) from None
     if head and (len(head) < 100 or not head.startswith(SQLITE_HEADER)):
-        raise DatabaseUnusable(str(path), "not an SQLite database file")
+        raise DatabaseUnusable(str(path), "not an SQLite database file (truncated or another "
+                               f"kind of file); {files.RESTORE_HINT}")
 
 
-def open_database(path: str | os.PathLike | None = None, *, check: bool = True) -> Store:
-    """Open (creating if needed) a carboy database and bring its schema up to date.
+def open_database(path: str | os.PathLike | None = None, *, check: bool = True,
+                  create: bool = True, expect: FileIdentity | None = None) -> Store:
+    """Open a carboy database (creating it only if ``create``) and bring its schema up to
+    date.
 
     Parameters
     ----------
     path : the database file; ``None`` means :func:`default_path`.
     check : run ``PRAGMA quick_check`` before using an existing file.
+    create : make a new database when there is no file at ``path`` (mode 0660).  The
+        command line and the app pass False: only ``carboy init``, the demo and the app's
+        first-start question create one.  An empty existing file counts as missing.
+    expect : the file this program opened before (:attr:`Store.identity`); a different
+        file, or none, raises :class:`DatabaseReplaced` (the app's check that its
+        database was not removed or replaced under it).
+
+    After opening, the guards and the tail of the record chain are checked
+    (:func:`carboy.store.chain.tail_problems`); findings go to
+    :attr:`Store.trust_problems`, and with a guard missing every write is refused.
 
     Raises
     ------
+    DatabaseMissing : no file at ``path`` and ``create`` is False.
+    DatabaseReplaced : not the file ``expect`` names.
     DatabaseUnusable : damaged, not SQLite, another program's database, or made
         by a newer carboy.  Nothing is written in that case.
+    CannotWrite : read-only, or the disk is full, where a write was needed.
     Busy : another process held the schema lock or the write lock too long.
     """
-    db_path = default_path(path)
-    if db_path.exists():
-        _check_header(db_path)
-    else:
-        db_path.parent.mkdir(parents=True, exist_ok=True)
+    db_path = files.check_path(default_path(path))
+    found = files.identity(db_path)
+    if expect is not None and found != expect:
+        raise DatabaseReplaced(str(db_path), "was removed" if found is None else
+                               "was replaced by another file")
+    if found is None or (not create and _is_empty(db_path)):
+        if not create:
+            if found is not None:
+                raise DatabaseUnusable(str(db_path), "the file is empty (0 bytes), not a carboy "
+                                       f"database: {files.RESTORE_HINT}; to start afresh, "
+                                       "remove it and run `carboy init`")
+            raise DatabaseMissing(str(db_path))
+        files.create_file(db_path)
+        found = files.identity(db_path)
+    _check_header(db_path)
     try:
         conn = _connect(db_path)
-    except sqlite3.OperationalError as exc:
-        raise DatabaseUnusable(str(db_path), f"cannot open it ({exc})") from exc
+    except sqlite3.Error as exc:
+        raise (files.translate(exc, str(db_path))
+               or DatabaseUnusable(str(db_path), f"cannot open it ({exc})")) from exc
     store = Store(db_path, conn)
+    store.identity = found
     try:
         state = _inspect(store, check=check)
         if state != "current":
@@ -358,10 +414,30 @@ def open_database(path: str | os.PathLike | None = None, *, check: bool = True) 
                 if store.scalar("PRAGMA journal_mode") != "wal":
                     conn.execute("PRAGMA journal_mode = WAL")
                 store.write(lambda s: migrations.apply(s))
+        store.trust_problems = chain.tail_problems(store)
+    except sqlite3.Error as exc:
+        conn.close()
+        raise files.translate(exc, str(db_path)) or exc from exc
     except BaseException:
         conn.close()
         raise
     return store
+
+
+def init_database(path: str | os.PathLike | None = None) -> Store:
+    """Create a new carboy database at ``path`` (``carboy init``): mode 0660, WAL, the
+    whole schema.  Raises :class:`~carboy.store.files.DatabaseExists` when a file is
+    there already (nothing is changed)."""
+    db_path = files.check_path(default_path(path))
+    files.create_file(db_path)
+    return open_database(db_path, create=True)
+
+
+def _is_empty(path: Path) -> bool:
+    try:
+        return path.stat().st_size == 0
+    except OSError:
+        return False
 
 
 def _open_check(store: Store, tables: set[str]) -> list[str]:

@@ -1,10 +1,12 @@
 """The append-only journal: preparations, standardizations, neutralizations, disposals.
 
-Every entry records its kind, who (the OS user), when (UTC), where from (the SSH
-client's address, else ``local``), the bottle or container it concerns, and a JSON
-snapshot of the inputs and results as computed then.  Triggers in the database
-reject UPDATE and DELETE; a mistake is fixed by :func:`correct`, a new entry that
-points at the one it corrects.
+Every entry records its kind, who (the OS account of the process's real user id, see
+:mod:`carboy.store.identity`), when (UTC), where from (the SSH client's address as
+reported, else ``local``), the bottle or container it concerns, and a JSON snapshot of
+the inputs and results as computed then.  Triggers in the database reject UPDATE,
+DELETE and an INSERT that reuses an id; a mistake is fixed by :func:`correct`, a new
+entry that points at the one it corrects.  Every entry is linked into the record chain
+(:mod:`carboy.store.chain`); :func:`verify` checks the whole chain.
 """
 
 from __future__ import annotations
@@ -17,6 +19,7 @@ from datetime import date, datetime
 from typing import Any
 
 from carboy.errors import InvalidInput
+from carboy.store import chain
 from carboy.store.db import Store, current_user, iso_utc, stamp
 from carboy.store.errors import NotFound
 from carboy.store.readers import parse_whole
@@ -118,7 +121,9 @@ def append_in(store: Store, kind: str, *, summary: str = "", snapshot: Mapping |
         [kind, stamp(when), who or current_user(),
          origin or store.origin_of(), bottle_id, container_id, corrects_id, summary, payload],
     )
-    return int(cur.lastrowid)
+    entry_id = int(cur.lastrowid)
+    chain.link(store, "journal_entries", entry_id)
+    return entry_id
 
 
 def append(store: Store, kind: str, *, summary: str = "", snapshot: Mapping | None = None,
@@ -249,3 +254,37 @@ def local_time(recorded_at: str) -> str:
     except ValueError:
         return recorded_at
     return moment.astimezone().strftime("%Y-%m-%d %H:%M")
+
+
+def verify(store: Store, *, expected_head: str | None = None) -> chain.Verdict:
+    """Check the guards and the whole record chain (journal and waste additions), in one
+    read snapshot; ``expected_head`` is a link hash kept from an earlier export."""
+    with store.reading():
+        return chain.verify(store, expected_head=expected_head)
+
+
+def head(store: Store) -> chain.Head:
+    """The record chain's last link (printed with every export)."""
+    return chain.head(store)
+
+
+def restore_guards(store: Store) -> list[str]:
+    """Put back every guard trigger that is missing or altered, and journal what was done
+    (a ``note`` entry naming each trigger).  Returns the names restored (none: nothing done).
+
+    For the storeroom administrator, after ``carboy journal verify`` and a look at what
+    changed: the chain keeps showing any record that was altered while unguarded.
+    """
+    def work(s: Store) -> list[str]:
+        broken = sorted({p.guard for p in chain.guard_problems(s)})
+        for name in broken:
+            s.execute(f"DROP TRIGGER IF EXISTS {name}")
+            s.execute(chain.GUARDS[name])
+        if broken:
+            append_in(s, "note", summary="guard triggers restored: " + ", ".join(broken),
+                      snapshot={"restored_guards": broken})
+        return broken
+
+    restored = store.repair_guards(work)
+    store.trust_problems = chain.tail_problems(store)
+    return restored

@@ -10,7 +10,8 @@ with the value lists of its day (statuses, journal kinds, units) written out, so
 editing a constant elsewhere cannot alter it.  ``tests/store/test_migrations_frozen.py``
 pins the text of each one.  To change the schema, add a migration.
 
-This module imports nothing from the rest of the store (``db`` imports it).
+This module imports nothing from the rest of the store (``db`` imports it) but
+:mod:`carboy.store.chain`, whose hashing chains the rows a file already holds (0003).
 
 Tables (names are ours):
 
@@ -22,6 +23,8 @@ Tables (names are ours):
 ``journal_entries``    the append-only journal
 ``storeroom_rules``    the storeroom's own settings over carboy's defaults (0002): re-check
                        intervals per compound, standardization acceptance
+``record_chain``       one hash-chain link per journal entry and waste addition (0003),
+                       with guards that refuse UPDATE, DELETE and an INSERT reusing an id
 """
 
 from __future__ import annotations
@@ -30,6 +33,8 @@ from typing import Protocol
 
 from sqlite_utils import Database
 from sqlite_utils.migrations import Migrations
+
+from carboy.store.chain import seal_existing
 
 # No migration reads this: carboy/tui/cli_store.py still imports it from here.  Its home
 # is carboy.store.statuses; drop this line once the command line imports it from there.
@@ -201,6 +206,41 @@ CREATE TABLE storeroom_rules (
 @migrations(name="0002_storeroom_rules")
 def m0002_storeroom_rules(db: Database) -> None:
     _run(db, SQL_0002)
+
+
+# The record chain and the guards that complete the append-only rule.  The trigger texts
+# are carboy.store.chain.GUARDS (the open check compares the file's triggers with them);
+# a test checks that they agree.  The Python step chains the rows already in the file.
+SQL_0003 = """\
+CREATE TABLE record_chain (
+    seq INTEGER PRIMARY KEY,
+    record_table TEXT NOT NULL CHECK (record_table IN ('journal_entries', 'waste_additions')),
+    record_id INTEGER NOT NULL,
+    content_sha256 TEXT NOT NULL CHECK (length(content_sha256) = 64),
+    link_sha256 TEXT NOT NULL CHECK (length(link_sha256) = 64),
+    UNIQUE (record_table, record_id)
+)
+;
+CREATE TRIGGER journal_entries_no_reused_id BEFORE INSERT ON journal_entries WHEN new.id > 0 AND EXISTS (SELECT 1 FROM journal_entries WHERE id = new.id)
+BEGIN SELECT RAISE(ABORT, 'carboy: journal entries are append-only; an id is never reused'); END
+;
+CREATE TRIGGER waste_additions_no_reused_id BEFORE INSERT ON waste_additions WHEN new.id > 0 AND EXISTS (SELECT 1 FROM waste_additions WHERE id = new.id)
+BEGIN SELECT RAISE(ABORT, 'carboy: waste additions are append-only; an id is never reused'); END
+;
+CREATE TRIGGER record_chain_no_update BEFORE UPDATE ON record_chain
+BEGIN SELECT RAISE(ABORT, 'carboy: chain links are append-only; record a correction instead'); END
+;
+CREATE TRIGGER record_chain_no_delete BEFORE DELETE ON record_chain
+BEGIN SELECT RAISE(ABORT, 'carboy: chain links are append-only; record a correction instead'); END
+;
+CREATE TRIGGER record_chain_no_reused_id BEFORE INSERT ON record_chain WHEN new.seq > 0 AND EXISTS (SELECT 1 FROM record_chain WHERE seq = new.seq)
+BEGIN SELECT RAISE(ABORT, 'carboy: chain links are append-only; an id is never reused'); END"""
+
+
+@migrations(name="0003_record_chain")
+def m0003_record_chain(db: Database) -> None:
+    _run(db, SQL_0003)
+    seal_existing(db)
 
 
 class _HasDatabase(Protocol):

@@ -30,7 +30,7 @@ from carboy.model.components import Component, read_component
 from carboy.model.entities import Compound
 from carboy.model.mixture import Mixture
 from carboy.model.text import read_label
-from carboy.store import journal
+from carboy.store import chain, journal
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store, current_user, stamp
 from carboy.store.errors import AlreadyExists, ContainerClosed, NotFound, OverCapacity
@@ -207,7 +207,9 @@ def _insert_addition(s: Store, row: dict, component: Component, volume_l: float,
          component.text, json.dumps(dict(component.compound.composition), sort_keys=True),
          json.dumps(moles, sort_keys=True, allow_nan=False), supersedes,
          stamp(when), who or current_user(), s.origin_of(), note or ""])
-    return int(cur.lastrowid)
+    addition_id = int(cur.lastrowid)
+    chain.link(s, "waste_additions", addition_id)
+    return addition_id
 
 
 def add(store: Store, label: str, component: str, volume: str | float | None = None, *,

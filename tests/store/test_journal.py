@@ -26,7 +26,7 @@ def test_entry_fields(store, monkeypatch):
     eid = journal.append(store, "note", summary="hello", snapshot={"x": 1})
     e = journal.get(store, eid)
     assert e.kind == "note" and e.summary == "hello" and e.snapshot == {"x": 1}
-    assert e.origin == "192.0.2.40"
+    assert e.origin == "192.0.2.40 (as reported by SSH_CONNECTION)"
     assert e.recorded_by == journal.current_user()
     when = datetime.fromisoformat(e.recorded_at)
     assert when.utcoffset().total_seconds() == 0
@@ -35,7 +35,9 @@ def test_entry_fields(store, monkeypatch):
 def test_origin_prefers_ssh_client(monkeypatch):
     from carboy.store.db import current_origin
 
-    assert current_origin({"SSH_CLIENT": "198.51.100.7 4242 22"}) == "198.51.100.7"
+    assert current_origin({"SSH_CLIENT": "198.51.100.7 4242 22",
+                           "SSH_CONNECTION": "192.0.2.40 50022 192.0.2.1 22"}) == \
+        "198.51.100.7 (as reported by SSH_CLIENT)"
     assert current_origin({}) == "local"
 
 

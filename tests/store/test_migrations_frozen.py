@@ -18,17 +18,28 @@ SCHEMA_FILE = Path(__file__).parent / "data" / "schema.sql"
 SHIPPED_SHA256 = {
     "0001_storeroom": "c9c6cdd8193a1e86a1bfccc83e72ebefe0425821e20f18611e55eb6d653521ed",
     "0002_storeroom_rules": "ccb83e6aecff951a5e4a1400591b47c973364116bb8f460b5edc5f7c38f69bb8",
+    "0003_record_chain": "2f3cdb3ea16c083df8d0bfcc889a9db1ea7b36dc0c87d8d5305c3a58db8f4f62",
 }
 
 
 class Recorder:
-    """Stands in for the database and keeps the SQL a migration runs."""
+    """Stands in for an empty database and keeps the SQL a migration runs (a query reads
+    no rows, so a migration's Python step, such as 0003 chaining the rows already in
+    the file, records its SELECTs and writes nothing)."""
 
     def __init__(self) -> None:
         self.sql: list[str] = []
 
-    def execute(self, sql: str, *params: object) -> None:
+    def execute(self, sql: str, *params: object) -> _NoRows:
         self.sql.append(sql)
+        return _NoRows()
+
+
+class _NoRows:
+    description = ()
+
+    def fetchall(self) -> list:
+        return []
 
 
 def sql_of(migration) -> list[str]:

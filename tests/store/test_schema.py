@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 TABLES = {
-    "_sqlite_migrations", "journal_entries", "stock_bottles", "stock_bottles_fts",
+    "_sqlite_migrations", "journal_entries", "record_chain", "stock_bottles", "stock_bottles_fts",
     "stock_bottles_fts_config", "stock_bottles_fts_data", "stock_bottles_fts_docsize",
     "stock_bottles_fts_idx", "storeroom_rules", "user_compounds", "waste_additions",
     "waste_containers",
@@ -15,6 +15,7 @@ INDEXES = {
     ("journal_entries", "journal_entries_by_corrected"),
     ("journal_entries", "journal_entries_by_kind"),
     ("journal_entries", "journal_entries_by_time"),
+    ("record_chain", "sqlite_autoindex_record_chain_1"),
     ("stock_bottles", "stock_bottles_by_compound"),
     ("stock_bottles", "stock_bottles_by_expiry"),
     ("storeroom_rules", "sqlite_autoindex_storeroom_rules_1"),
@@ -25,11 +26,16 @@ INDEXES = {
 }
 TRIGGERS = {
     ("journal_entries", "journal_entries_no_delete"),
+    ("journal_entries", "journal_entries_no_reused_id"),
     ("journal_entries", "journal_entries_no_update"),
+    ("record_chain", "record_chain_no_delete"),
+    ("record_chain", "record_chain_no_reused_id"),
+    ("record_chain", "record_chain_no_update"),
     ("stock_bottles", "stock_bottles_fts_delete"),
     ("stock_bottles", "stock_bottles_fts_insert"),
     ("stock_bottles", "stock_bottles_fts_update"),
     ("waste_additions", "waste_additions_no_delete"),
+    ("waste_additions", "waste_additions_no_reused_id"),
     ("waste_additions", "waste_additions_no_update"),
 }
 COLUMNS = {
@@ -42,6 +48,7 @@ COLUMNS = {
                         "added_at", "added_by", "origin", "note"],
     "user_compounds": ["key", "definition_json", "source", "added_at", "added_by"],
     "storeroom_rules": ["name", "value_json", "set_at", "set_by"],
+    "record_chain": ["seq", "record_table", "record_id", "content_sha256", "link_sha256"],
     "stock_bottles": ["id", "compound_key", "compound_name", "strength_unit", "label_strength",
                       "current_strength", "measured_at", "measured_how", "restandardize_days",
                       "amount_unit", "amount_left", "container_size", "location", "lot",
@@ -91,4 +98,5 @@ def test_foreign_keys_declared(store):
 def test_migrations_recorded(store):
     rows = store.rows("SELECT migration_set, name FROM _sqlite_migrations")
     assert rows == [{"migration_set": "carboy", "name": "0001_storeroom"},
-                    {"migration_set": "carboy", "name": "0002_storeroom_rules"}]
+                    {"migration_set": "carboy", "name": "0002_storeroom_rules"},
+                    {"migration_set": "carboy", "name": "0003_record_chain"}]

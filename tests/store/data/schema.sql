@@ -39,6 +39,16 @@ CREATE TABLE journal_entries (
     CHECK (kind <> 'correction' OR corrects_id IS NOT NULL)
 );
 
+-- table record_chain on record_chain
+CREATE TABLE record_chain (
+    seq INTEGER PRIMARY KEY,
+    record_table TEXT NOT NULL CHECK (record_table IN ('journal_entries', 'waste_additions')),
+    record_id INTEGER NOT NULL,
+    content_sha256 TEXT NOT NULL CHECK (length(content_sha256) = 64),
+    link_sha256 TEXT NOT NULL CHECK (length(link_sha256) = 64),
+    UNIQUE (record_table, record_id)
+);
+
 -- table stock_bottles on stock_bottles
 CREATE TABLE stock_bottles (
     id INTEGER PRIMARY KEY,
@@ -135,9 +145,25 @@ CREATE TABLE waste_containers (
 CREATE TRIGGER journal_entries_no_delete BEFORE DELETE ON journal_entries
 BEGIN SELECT RAISE(ABORT, 'carboy: journal entries are append-only; record a correction instead'); END;
 
+-- trigger journal_entries_no_reused_id on journal_entries
+CREATE TRIGGER journal_entries_no_reused_id BEFORE INSERT ON journal_entries WHEN new.id > 0 AND EXISTS (SELECT 1 FROM journal_entries WHERE id = new.id)
+BEGIN SELECT RAISE(ABORT, 'carboy: journal entries are append-only; an id is never reused'); END;
+
 -- trigger journal_entries_no_update on journal_entries
 CREATE TRIGGER journal_entries_no_update BEFORE UPDATE ON journal_entries
 BEGIN SELECT RAISE(ABORT, 'carboy: journal entries are append-only; record a correction instead'); END;
+
+-- trigger record_chain_no_delete on record_chain
+CREATE TRIGGER record_chain_no_delete BEFORE DELETE ON record_chain
+BEGIN SELECT RAISE(ABORT, 'carboy: chain links are append-only; record a correction instead'); END;
+
+-- trigger record_chain_no_reused_id on record_chain
+CREATE TRIGGER record_chain_no_reused_id BEFORE INSERT ON record_chain WHEN new.seq > 0 AND EXISTS (SELECT 1 FROM record_chain WHERE seq = new.seq)
+BEGIN SELECT RAISE(ABORT, 'carboy: chain links are append-only; an id is never reused'); END;
+
+-- trigger record_chain_no_update on record_chain
+CREATE TRIGGER record_chain_no_update BEFORE UPDATE ON record_chain
+BEGIN SELECT RAISE(ABORT, 'carboy: chain links are append-only; record a correction instead'); END;
 
 -- trigger stock_bottles_fts_delete on stock_bottles
 CREATE TRIGGER stock_bottles_fts_delete AFTER DELETE ON stock_bottles BEGIN
@@ -165,6 +191,10 @@ END;
 -- trigger waste_additions_no_delete on waste_additions
 CREATE TRIGGER waste_additions_no_delete BEFORE DELETE ON waste_additions
 BEGIN SELECT RAISE(ABORT, 'carboy: waste additions are append-only; record a correction instead'); END;
+
+-- trigger waste_additions_no_reused_id on waste_additions
+CREATE TRIGGER waste_additions_no_reused_id BEFORE INSERT ON waste_additions WHEN new.id > 0 AND EXISTS (SELECT 1 FROM waste_additions WHERE id = new.id)
+BEGIN SELECT RAISE(ABORT, 'carboy: waste additions are append-only; an id is never reused'); END;
 
 -- trigger waste_additions_no_update on waste_additions
 CREATE TRIGGER waste_additions_no_update BEFORE UPDATE ON waste_additions
