@@ -27,6 +27,14 @@ transaction: every row is checked first, and if any row is unusable nothing is
 written and the error lists the bad rows by their line number in the file (the
 header is line 1).  :func:`export_csv` writes the same layout, so an export
 imports back unchanged.
+
+Spreadsheet formulas: a cell that begins with ``=``, ``+``, ``-``, ``@``, a tab or a
+carriage return would run as a formula when the file is opened in a spreadsheet.  On
+export such a cell is written with a leading apostrophe (``'=1+1``), which spreadsheets
+show as text (a plain number such as ``-5`` is left alone); on import the apostrophe of
+such a cell is taken off again, and a cell that begins like a formula *without* it is
+refused, naming its row and column.  carboy's own CSV files therefore round-trip, and
+a file made to carry a formula is not imported.
 """
 
 from __future__ import annotations
@@ -34,17 +42,48 @@ from __future__ import annotations
 import csv
 import io
 import os
+import re
 from datetime import date, datetime
 from pathlib import Path
 from typing import TextIO
 
-from carboy.errors import CarboyError
+from carboy.errors import CarboyError, InvalidInput
 from carboy.store import journal, stock
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store
 from carboy.store.errors import CsvRowError
 
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+"""What a spreadsheet reads as the start of a formula."""
+_PLAIN_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:[.,][0-9]*)?|[.,][0-9]+)", re.ASCII)
+
+
+def _formula_like(cell: str) -> bool:
+    return cell.lstrip(" ").startswith(FORMULA_STARTS) and not _PLAIN_NUMBER.fullmatch(cell)
+
+
+def spreadsheet_safe(value: object) -> str:
+    """A cell for a CSV file: text that a spreadsheet shows as text, never as a formula."""
+    text = "" if value is None else str(value)
+    return "'" + text if _formula_like(text) else text
+
+
+def from_spreadsheet(cell: str, column: str) -> str:
+    """An imported cell: the apostrophe :func:`spreadsheet_safe` added is taken off; a
+    cell that begins like a formula without one is refused."""
+    if cell.startswith("'") and _formula_like(cell[1:]):
+        return cell[1:]
+    if _formula_like(cell):
+        raise InvalidInput(column, cell, "begins like a spreadsheet formula "
+                           f"({cell.lstrip(' ')[:1]!r}); carboy does not import formulas: "
+                           "write the value as text, starting with an apostrophe",
+                           field=column)
+    return cell
+
+
 REQUIRED_COLUMNS = ("compound", "label_strength", "container_size")
+MAX_FILE_BYTES = 50_000_000
+"""Largest CSV file read (about 200,000 bottles)."""
 MAX_PROBLEMS = 50
 """Stop checking after this many bad rows (the error lists the first ten)."""
 
@@ -52,6 +91,9 @@ MAX_PROBLEMS = 50
 def _read_rows(source: str | os.PathLike | TextIO, name: str) -> tuple[list[str], list]:
     try:
         if isinstance(source, (str, os.PathLike)):
+            if Path(source).stat().st_size > MAX_FILE_BYTES:
+                raise CsvRowError(name, [(0, f"the file is larger than "
+                                             f"{MAX_FILE_BYTES // 1_000_000} MB")])
             text = Path(source).read_text(encoding="utf-8-sig")
         else:
             text = source.read()
@@ -102,7 +144,8 @@ def check_csv(source: str | os.PathLike | TextIO, store: Store,
             problems.append((line, f"has {len(values)} fields, the header has {len(header)}"))
         else:
             try:
-                out.append(stock.validate(dict(zip(header, values)), catalog))
+                cells = {h: from_spreadsheet(v, h) for h, v in zip(header, values)}
+                out.append(stock.validate(cells, catalog))
             except CarboyError as exc:
                 problems.append((line, str(exc)))
         if len(problems) >= MAX_PROBLEMS:
@@ -137,6 +180,6 @@ def export_csv(store: Store, out: TextIO, *, today: date | None = None) -> int:
     writer.writeheader()
     n = 0
     for bottle in stock.all_bottles(store, today=today):
-        writer.writerow(stock.to_fields(bottle))
+        writer.writerow({k: spreadsheet_safe(v) for k, v in stock.to_fields(bottle).items()})
         n += 1
     return n

@@ -32,6 +32,8 @@ MAX_NAME_BYTES = 255
 """Longest file or directory name most file systems accept."""
 MAX_PATH_BYTES = 4000
 SETUP_GUIDE = "docs/shared-server.md"
+PATH_QUOTE = 240
+"""A path is quoted up to this many characters (a person may need to copy it)."""
 RESTORE_HINT = ("if it was a carboy database, restore the last good backup (see "
                 f"{SETUP_GUIDE}, 'Backups')")
 
@@ -43,8 +45,8 @@ class DatabaseMissing(StoreError):
     path: str
 
     def __str__(self) -> str:
-        return (f"no carboy database at {quoted(self.path)}: check --db or $CARBOY_DB, "
-                f"or create one with: carboy init {quoted(self.path)}")
+        return (f"no carboy database at {quoted(self.path, PATH_QUOTE)}: check --db or "
+                "$CARBOY_DB, or create one there with `carboy init PATH`")
 
 
 @dataclass
@@ -66,7 +68,7 @@ class DatabaseReplaced(StoreError, Refused):
     how: str
 
     def __str__(self) -> str:
-        return (f"the database {quoted(self.path)} {self.how} while carboy was running; "
+        return (f"the database {quoted(self.path, PATH_QUOTE)} {self.how} while carboy was running; "
                 "nothing more is written: quit and start carboy again, after checking "
                 "with the storeroom administrator")
 
@@ -79,7 +81,7 @@ class CannotWrite(StoreError):
     reason: str
 
     def __str__(self) -> str:
-        return f"cannot write the database {quoted(self.path)}: {self.reason}"
+        return f"cannot write the database {quoted(self.path, PATH_QUOTE)}: {self.reason}"
 
 
 READ_ONLY = ("it is read-only for you: ask the storeroom administrator to add you to the "

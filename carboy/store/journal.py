@@ -43,6 +43,8 @@ class Entry:
     corrects_id: int | None
     summary: str
     snapshot: dict
+    link_sha256: str | None = None
+    """The entry's link in the record chain (None: the entry has none, see :func:`verify`)."""
 
     def as_dict(self) -> dict:
         return {
@@ -51,6 +53,7 @@ class Entry:
             "bottle_id": self.bottle_id, "container_id": self.container_id,
             "container_label": self.container_label, "corrects_id": self.corrects_id,
             "summary": self.summary, "snapshot": self.snapshot,
+            "link_sha256": self.link_sha256,
         }
 
 
@@ -151,8 +154,9 @@ def correct(store: Store, entry_id: int, reason: str, *, snapshot: Mapping | Non
 
 _SELECT = (
     "SELECT j.id, j.kind, j.recorded_at, j.recorded_by, j.origin, j.bottle_id, j.container_id, "
-    "c.label AS container_label, j.corrects_id, j.summary, j.snapshot_json "
-    "FROM journal_entries j LEFT JOIN waste_containers c ON c.id = j.container_id"
+    "c.label AS container_label, j.corrects_id, j.summary, j.snapshot_json, "
+    "r.link_sha256 FROM journal_entries j LEFT JOIN waste_containers c ON c.id = j.container_id "
+    "LEFT JOIN record_chain r ON r.record_table = 'journal_entries' AND r.record_id = j.id"
 )
 
 

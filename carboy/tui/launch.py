@@ -2,27 +2,51 @@
 command line with one.
 
 This is the one module that knows both front ends; they never import each other.
+Everything a command prints goes through :func:`carboy.tui.cli.kit.clean_output`, and
+every error through :func:`carboy.tui.edge.run_guarded`: one line, exit status 0, 1 or
+2, never a traceback.  Called in-process (the tests, the fuzz test) :func:`main`
+returns the status instead of exiting, also for ``--help`` and for bad usage.
 """
 
 from __future__ import annotations
 
 import sys
 
+from carboy.tui.cli.kit import clean_output
 from carboy.tui.cli.main import build_parser
-from carboy.tui.edge import run_guarded
+from carboy.tui.edge import EXIT_BAD_INPUT, EXIT_OK, run_guarded
 
 
 def main(argv: list[str] | None = None) -> int:
-    args = build_parser().parse_args(sys.argv[1:] if argv is None else argv)
-    func = getattr(args, "func", None)
-    return run_guarded(open_app if func is None else func, args)
+    with clean_output():
+        try:
+            args = build_parser().parse_args(sys.argv[1:] if argv is None else argv)
+        except SystemExit as done:  # --help, --version, or bad usage (already reported)
+            code = done.code
+            return code if isinstance(code, int) else (EXIT_OK if code is None
+                                                        else EXIT_BAD_INPUT)
+        func = getattr(args, "func", None)
+        if func is not None:
+            return run_guarded(func, args)
+    return run_guarded(open_app, args)  # the app writes to the terminal itself
 
 
 def open_app(args) -> int:
-    """Open the terminal app: on the default database, or on a throwaway demo storeroom."""
-    from carboy.tui.app.app import run
+    """Open the terminal app: on the default database, or on a throwaway demo storeroom.
 
-    return run(db=getattr(args, "db", None), demo=args.demo)
+    A database that does not exist yet is created only after a question naming its path
+    (in the terminal, before the app starts); without a terminal to ask, carboy stops
+    with the ``carboy init`` hint.
+    """
+    from carboy.tui.app.app import run
+    from carboy.tui.first_start import ensure_database
+
+    if args.demo:
+        return run(db=getattr(args, "db", None), demo=True)
+    path = ensure_database(getattr(args, "db", None))
+    if path is None:
+        return EXIT_BAD_INPUT
+    return run(db=str(path), demo=False)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -23,14 +23,16 @@ from textual.reactive import reactive
 from carboy.store import db as store_db
 from carboy.tui.app import registry
 from carboy.tui.app.commands import CarboyCommands
+from carboy.tui.app.database_watch import DatabaseWatch
 from carboy.tui.app.screens.too_small import TooSmallScreen
 
 MIN_WIDTH = 80
 MIN_HEIGHT = 24
 
 
-class CarboyApp(App):
-    """The storeroom app; see :func:`make_app`."""
+class CarboyApp(DatabaseWatch, App):
+    """The storeroom app; see :func:`make_app` (and :class:`DatabaseWatch` for how it
+    opens its database)."""
 
     CSS_PATH = "app.tcss"
     TITLE = "carboy"
@@ -62,16 +64,13 @@ class CarboyApp(App):
         self._today = today
         self.who = who or store_db.current_user()
         self._previous_mode = self.DEFAULT_MODE
+        self.watch_database()
 
     # -- the contract the screens rely on -------------------------------------------
     @property
     def today(self) -> date:
         """The day strengths and expiry are judged against (fixed in tests)."""
         return self._today or date.today()
-
-    def open_store(self) -> store_db.Store:
-        """A new connection; call it in the worker thread that will use it."""
-        return store_db.open_database(self.db_path, check=False)
 
     def plan_container(self, label: str) -> None:
         """Open the Neutralize screen on a waste container."""
@@ -182,6 +181,7 @@ def run(*, db: str | None = None, demo: bool = False) -> int:
             make_app(path, demo=True).run()
         return 0
     path = store_db.default_path(db)
-    store_db.open_database(path, check=True).close()  # a damaged file stops here, unwritten
+    # a missing or damaged file stops here, unwritten (the launcher asked before creating)
+    store_db.open_database(path, check=True, create=False).close()
     make_app(path).run()
     return 0

@@ -1,20 +1,102 @@
 """Shared pieces of the headless subcommands: output, errors, exit status.
 
-Library errors become one clear line on stderr and exit status 2 here, at the edge;
-nothing below this layer prints or exits.
+Library errors become one clear line on stderr and exit status 1 or 2 at the edge
+(:mod:`carboy.tui.edge`); nothing below this layer prints or exits.
+
+All printing goes through :class:`SafeOutput`, which :func:`clean_output` puts in front
+of stdout and stderr for the whole of a command: control characters, bidirectional
+controls and invisible characters from stored or typed text are written as visible
+escapes (``\x1b``), so a bottle's notes cannot send escape sequences to the terminal
+of the person who lists them.  JSON is escaped the JSON way by :func:`emit_json`.
 """
 
 from __future__ import annotations
 
 import argparse
 import contextlib
+import io
 import json
 import math
 import sys
+from collections.abc import Iterator
 from typing import Any
 
 from carboy.errors import CarboyError
-from carboy.tui.edge import EXIT_BAD_INPUT, EXIT_OK, EXIT_REFUSED  # noqa: F401 (re-exported)
+from carboy.tui.edge import (  # the exit statuses are re-exported for the subcommands
+    EXIT_BAD_INPUT,  # noqa: F401
+    EXIT_OK,
+    EXIT_REFUSED,  # noqa: F401
+    UNPRINTABLE,
+    one_line,
+    printable,
+)
+
+
+class SafeOutput(io.TextIOBase):
+    """A text stream that writes :func:`carboy.tui.edge.printable` text to another one
+    (and, where its encoding cannot hold a character, a backslash escape of it)."""
+
+    def __init__(self, stream) -> None:
+        super().__init__()
+        self.stream = stream
+
+    def write(self, text: str) -> int:
+        safe = printable(text)
+        try:
+            self.stream.write(safe)
+        except UnicodeEncodeError:
+            enc = getattr(self.stream, "encoding", None) or "ascii"
+            self.stream.write(safe.encode(enc, "backslashreplace").decode(enc))
+        return len(text)
+
+    def flush(self) -> None:
+        self.stream.flush()
+
+    def writable(self) -> bool:
+        return True
+
+    def isatty(self) -> bool:
+        return self.stream.isatty()
+
+    def fileno(self) -> int:
+        return self.stream.fileno()
+
+    @property
+    def encoding(self) -> str:  # type: ignore[override]
+        return getattr(self.stream, "encoding", "utf-8")
+
+
+@contextlib.contextmanager
+def clean_output() -> Iterator[None]:
+    """Every line a command prints, on stdout and stderr, goes through :class:`SafeOutput`."""
+    out, err = sys.stdout, sys.stderr
+    sys.stdout, sys.stderr = SafeOutput(out), SafeOutput(err)
+    try:
+        yield
+    finally:
+        with contextlib.suppress(Exception):
+            sys.stdout.flush()
+        sys.stdout, sys.stderr = out, err
+
+
+def warn(text: str) -> None:
+    """One warning line on stderr (printable, cut to one line)."""
+    print(f"carboy: warning: {one_line(text)}", file=sys.stderr)
+
+
+def whole(low: int = 1, high: int = 10**9, what: str = "number"):
+    """An argparse ``type`` for a whole number from ``low`` to ``high`` (ids, limits),
+    checked before use: ASCII digits only, no more than 19 of them."""
+    def read(text: str) -> int:
+        from carboy.store.readers import parse_whole
+
+        try:
+            return parse_whole(text, what, field="", low=low, high=high)
+        except CarboyError as err:
+            raise argparse.ArgumentTypeError(str(err)) from None
+
+    read.__name__ = what  # argparse names the type in its message
+    return read
 
 
 class UsageError(CarboyError):
@@ -41,27 +123,46 @@ def _clean(obj: Any) -> Any:
     return obj
 
 
+def _json_escape(match) -> str:
+    code = ord(match.group())
+    if code > 0xFFFF:  # a tag character: as its UTF-16 pair, the JSON way
+        code -= 0x10000
+        return f"\\u{0xD800 + (code >> 10):04x}\\u{0xDC00 + (code & 0x3FF):04x}"
+    return f"\\u{code:04x}"
+
+
 def emit_json(obj: Any, stream=None) -> None:
+    """``obj`` as indented JSON; characters that could act on a terminal are written as
+    JSON escapes (``\\u001b``), so the output is valid JSON and safe to show."""
     stream = stream or sys.stdout
-    json.dump(_clean(obj), stream, indent=2, ensure_ascii=False, allow_nan=False)
+    text = json.dumps(_clean(obj), indent=2, ensure_ascii=False, allow_nan=False)
+    stream.write(UNPRINTABLE.sub(_json_escape, text))
     stream.write("\n")
 
 
 @contextlib.contextmanager
 def open_store(args: argparse.Namespace):
     """The database a headless command works on: ``--db``, else ``$CARBOY_DB``, else the
-    user data directory; with ``--demo`` (and no ``--db``) a throwaway demo storeroom."""
+    user data directory; with ``--demo`` (and no ``--db``) a throwaway demo storeroom.
+
+    It must exist (``carboy init PATH`` makes one).  When the open check found a guard or
+    the chain's tail wrong, a warning line goes to stderr first."""
     from carboy.store.db import default_path, open_database
 
     with contextlib.ExitStack() as stack:
-        if getattr(args, "demo", False) and not getattr(args, "db", None):
+        if getattr(args, "demo", False) and getattr(args, "db", None) is None:
             from carboy.store.demo import throwaway
 
             path = stack.enter_context(throwaway())
         else:
             path = default_path(getattr(args, "db", None))
-        store = open_database(path)
+        store = open_database(path, create=False)
         stack.callback(store.close)
+        if store.trust_problems:
+            first = store.trust_problems[0]
+            more = len(store.trust_problems) - 1
+            warn(f"{store.path}: {first.text()}" + (f" (and {more} more)" if more else "")
+                 + "; run `carboy journal verify`")
         yield store
 
 

@@ -5,8 +5,9 @@ from __future__ import annotations
 import argparse
 import sys
 
+from carboy.model.forms import MAX_ID
 from carboy.store.statuses import BOTTLE_STATUSES
-from carboy.tui.cli.kit import EXIT_OK, common_options, emit_json, group, open_store
+from carboy.tui.cli.kit import EXIT_OK, common_options, emit_json, group, open_store, whole
 
 STOCK_IMPORT_HELP = """CSV column layout (header row required; any column order):
   compound            catalog key, formula or name (required), e.g. HCl
@@ -40,8 +41,10 @@ def register(sub) -> None:
                              "compound, name, location and lot (each word a prefix).")
     p.add_argument("--search", metavar="TEXT", help="words to look for, e.g. 'HCl cab'")
     p.add_argument("--status", choices=BOTTLE_STATUSES)
-    p.add_argument("--after", type=int, metavar="ID", help="start after this bottle id")
-    p.add_argument("--limit", type=int, default=50, metavar="N", help="page size (default 50)")
+    p.add_argument("--after", type=whole(0, MAX_ID, "bottle id"), metavar="ID",
+                   help="start after this bottle id")
+    p.add_argument("--limit", type=whole(1, 10_000, "page size"), default=50, metavar="N",
+                   help="page size (default 50)")
     p.set_defaults(func=stock_list)
 
     p = stock_sub.add_parser(

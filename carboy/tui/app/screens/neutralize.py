@@ -267,8 +267,11 @@ class NeutralizeScreen(Screen):
 
         try:
             with self._open_store() as store:
+                # the name typed in the dialog is who did the work, kept in the snapshot;
+                # the entry's recorded_by is always the account running carboy
                 entry = waste.record_neutralization(
-                    store, label, snapshot, request.measured_ph, who=request.who,
+                    store, label, {**snapshot, "performed_by": request.who},
+                    request.measured_ph, who=getattr(self.app, "who", None),
                     today=getattr(self.app, "today", None))
         except Exception as err:  # noqa: BLE001 - reported in place
             self.post_message(Recorded(label, None, request.measured_ph, describe(err)))
