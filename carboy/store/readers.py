@@ -28,7 +28,7 @@ MAX_MASS_G = 100_000.0
 """Largest amount of a solid accepted, grams."""
 
 _DATE = re.compile(r"^[0-9]{4}-[0-9]{2}-[0-9]{2}$", re.ASCII)
-_WHOLE = re.compile(r"#?\s*([+-]?[0-9]{1,19})", re.ASCII)
+_WHOLE = re.compile(r"#?\s*([+-]?[0-9]+)", re.ASCII)
 MAX_WHOLE = MAX_ID
 """Largest whole number (id, count, interval) read: every SQLite integer holds it."""
 
@@ -159,12 +159,12 @@ def parse_whole(value: object, what: str, *, field: str, low: int | None = None,
     if not found:
         raise InvalidInput(what, value, expected or f"expected a whole number{units} "
                            "(digits 0-9)", field=field)
+    if len(found.group(1).lstrip("+-").lstrip("0")) > 19 or abs(int(found.group(1))) > MAX_WHOLE:
+        raise InvalidInput(what, value, "is larger than any id or count carboy holds",
+                           field=field)
     number = int(found.group(1))
     if (low is not None and number < low) or (high is not None and number > high):
         raise InvalidInput(what, value, f"expected {low} to {high}{units}", field=field)
-    if abs(number) > MAX_WHOLE:
-        raise InvalidInput(what, value, "is larger than any id or count carboy holds",
-                           field=field)
     return number
 
 

@@ -161,6 +161,7 @@ async def test_record_with_measured_ph_appends_a_journal_entry(demo_db):
         await pilot.press("1", "5", "enter")
         assert "✗" in str(dialog.query_one("#measured-echo", Static).content)
         assert dialog.request is None
+        dialog.query_one("#who", Input).value = "a.helper"  # who did the work
         dialog.query_one("#measured", Input).value = ""
         await pilot.press(*"7,2")
         await pilot.press("enter")  # asks to confirm
@@ -177,7 +178,9 @@ async def test_record_with_measured_ph_appends_a_journal_entry(demo_db):
         store.close()
     assert entry.id == entry_id
     assert entry.container_label == "MA-01"
+    # the name typed is kept as who did the work; the entry records the account (app.who)
     assert entry.recorded_by == "tester"
+    assert entry.snapshot["plan"]["performed_by"] == "a.helper"
     assert entry.snapshot["measured_ph"] == 7.2
     assert entry.snapshot["status"] == "neutralized"
     assert entry.snapshot["plan"]["inputs"]["reagent"] == "NaOH=1M"
