@@ -295,11 +295,11 @@ def _unlinked(reader: _Reader) -> list[Problem]:
 
 def verify(reader: _Reader, *, expected_head: str | None = None,
            batch: int = 500) -> Verdict:
-    """Check the guards, every link against its row and its predecessor, rows without a
-    link, and (given) that ``expected_head`` — a link hash kept from an earlier export —
-    is still in the chain."""
+    """Check every link against its row and its predecessor, rows without a link, (given)
+    that ``expected_head`` — a link hash kept from an earlier export — is still in the
+    chain, and the guards.  Problems are listed in that order: the first one names the
+    first record that does not match, when there is one."""
     verdict = Verdict(expected_head=expected_head)
-    verdict.problems += guard_problems(reader)
     previous, seen_expected = GENESIS, expected_head is None
     for ln in _links(reader, 0, batch):
         verdict.problems += _check_link(reader, ln, previous)
@@ -311,6 +311,7 @@ def verify(reader: _Reader, *, expected_head: str | None = None,
         verdict.problems.append(Problem(None, CHAIN_TABLE, None, f"the kept chain head "
                                         f"{expected_head[:16]}… is not in this chain: the "
                                         "history before it was rewritten"))
+    verdict.problems += guard_problems(reader)  # after the records: verify names a record first
     verdict.head = head(reader)
     return verdict
 

@@ -313,6 +313,9 @@ def file_lock(path: Path, timeout_s: float = LOCK_TIMEOUT_S) -> Iterator[Path]:
     except OSError as exc:
         raise files.translate_os(exc, str(lock_path)) from None
     try:
+        with contextlib.suppress(OSError):  # another user's lock file keeps its owner's mode
+            if os.fstat(fd).st_uid == os.geteuid():
+                os.fchmod(fd, files.NEW_FILE_MODE)
         _share_with_group(lock_path)
         deadline = time.monotonic() + timeout_s
         while True:

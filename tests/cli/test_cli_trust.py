@@ -65,7 +65,7 @@ def test_init_creates_a_group_only_database_and_refuses_twice(capsys, tmp_path):
     assert stat.S_IMODE(path.stat().st_mode) == 0o660
     assert run(capsys, "waste", "new", "W1", "--db", str(path))[0] == 0
     store = open_database(path, create=False)  # the -wal and -shm exist while it is open
-    for suffix in ("-wal", "-shm"):
+    for suffix in ("-wal", "-shm", ".lock"):
         assert stat.S_IMODE(os.stat(f"{path}{suffix}").st_mode) == 0o660
     store.close()
     code, _, err = run(capsys, "init", str(path))
@@ -116,12 +116,8 @@ def test_a_directory_that_cannot_be_written(capsys):
 def _read_only(monkeypatch):
     """Open every database read-only, as a user outside its group would (tests run as
     root here, which file modes do not stop)."""
-    real = dbmod._connect
-
     def connect(path):
         conn = sqlite3.connect(f"file:{path}?mode=ro", uri=True, isolation_level=None)
-        real_conn = real  # keep the pragmas carboy sets
-        del real_conn
         conn.execute("PRAGMA recursive_triggers = ON")
         return conn
 
