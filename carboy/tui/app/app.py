@@ -56,7 +56,7 @@ class CarboyApp(App):
 
     def __init__(self, db_path: Path, *, demo: bool = False, today: date | None = None,
                  who: str | None = None) -> None:
-        super().__init__()
+        super().__init__(ansi_color=True)  # the terminal's own palette (16 colours, NO_COLOR)
         self.db_path = Path(db_path)
         self.demo = demo
         self._today = today
