@@ -218,12 +218,18 @@ class Table:
             out.append(Table(self.file, label, item))
         return tuple(out)
 
-    def keyed(self, field: str, default: Any = _MISSING) -> tuple[tuple[str, Table], ...]:
-        """A table of tables (``[field.KEY]``): ``(KEY, Table)`` pairs in file order."""
+    def keyed(
+        self, field: str, default: Any = _MISSING, *, name: Callable[[str], str] | None = None
+    ) -> tuple[tuple[str, Table], ...]:
+        """A table of tables (``[field.KEY]``): ``(KEY, Table)`` pairs in file order.
+
+        Each entry is named ``name(KEY)`` in errors (default: the key itself).
+        """
         value = self.raw(field, default)
         if not isinstance(value, Mapping):
             raise self.fail(field, f"must be a table of tables, got {value!r}")
-        return tuple((str(k), Table(self.file, str(k), v)) for k, v in value.items())
+        label = name or str
+        return tuple((str(k), Table(self.file, label(str(k)), v)) for k, v in value.items())
 
     def provenance(
         self,
