@@ -128,7 +128,7 @@ def _parse_compound(
             raise rec.fail("density", f"{density_key!r} is not a table of {DENSITIES_FILE}")
         density = tables[density_key]
     has_own = rec.has("status") or rec.has("source")
-    prov = rec.provenance("compound") if has_own else default
+    prov = rec.provenance() if has_own else default
     return Compound(
         key=key,
         formula=formula,
@@ -147,7 +147,7 @@ def _parse_compounds(
     doc: Table, tables: Mapping[str, DensityTable]
 ) -> tuple[list[Compound], dict[str, tuple[str, ...]]]:
     """Compounds and their alternative formula spellings."""
-    default = doc.table("defaults", "[defaults]").provenance("compound defaults")
+    default = doc.table("defaults", "[defaults]").provenance()
     compounds: list[Compound] = []
     alt: dict[str, tuple[str, ...]] = {}
     for rec in doc.tables("compounds"):

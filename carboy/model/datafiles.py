@@ -120,7 +120,7 @@ class Table:
 
     def fail(self, field: str | None, reason: str) -> CatalogError:
         """The error for ``field`` of this table (``field=None``: the table itself)."""
-        return CatalogError(self.where, f"field {field!r} {reason}" if field else reason)
+        return CatalogError(self.where, f"field {field!r}: {reason}" if field else reason)
 
     def has(self, field: str) -> bool:
         return field in self.data
@@ -130,7 +130,7 @@ class Table:
         if field in self.data:
             return self.data[field]
         if default is _MISSING:
-            raise self.fail(field, "is missing")
+            raise self.fail(field, "missing")
         return default
 
     def text(self, field: str, default: Any = _MISSING) -> str:
@@ -243,13 +243,11 @@ class Table:
         """The status and source of this table, checked by the one provenance check.
 
         ``resolve`` turns the source as written into the full citation first (GHS
-        source keys).  ``what`` names the value in errors (default: the status field).
+        source keys).  ``what`` names the value in errors (default: none, the entry's own).
         """
         raw_source = self.text(source)
         full = resolve(raw_source) if resolve is not None else raw_source
-        return check_provenance(
-            self.where, what or f"field {status!r}", self.raw(status), full, allowed=allowed
-        )
+        return check_provenance(self.where, what, self.raw(status), full, allowed=allowed)
 
     def _check_number(
         self, field: str, value: object, *, low: float | None = None,

@@ -103,7 +103,7 @@ def _solubility(doc: Table) -> None:
     known = default_catalog().compounds
     for key in slurry.data:
         if key not in known:
-            raise slurry.fail(key, "is not a compound of compounds.toml")
+            raise slurry.fail(key, "not a compound of compounds.toml")
         if slurry.text(key) not in solids:
             raise slurry.fail(key, f"{slurry.text(key)!r} is not a [[ksp]] solid")
 

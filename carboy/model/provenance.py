@@ -103,7 +103,8 @@ def check_provenance(
         The entry the value belongs to, as the error should name it
         (``"densities.toml: H2SO4"``).
     what
-        The value or field within the entry (``"row 20 %"``, ``"step 2 pka"``).
+        The value within the entry (``"density row 20 %"``, ``"step 2 pka"``); empty when
+        the status and source are the entry's own.
     status, source
         As read from the file (anything; they are checked here).
     allowed
@@ -115,13 +116,15 @@ def check_provenance(
         If the status is not in ``allowed``, the source is empty or not text, or the
         source lacks the wording :data:`REQUIRED_WORDING` asks for that status.
     """
+    lead = f"{what} " if what else ""
     if status not in allowed:
-        raise CatalogError(entry, f"{what} status {status!r} is not one of {sorted(allowed)}")
+        raise CatalogError(entry, f"{lead}status {status!r} is not one of {sorted(allowed)}")
     if not isinstance(source, str) or not source.strip():
-        raise CatalogError(entry, f"{what} has no source")
+        raise CatalogError(entry, f"{what} has no source" if what else "the source is empty")
     wording = REQUIRED_WORDING.get(str(status), ())
     folded = source.casefold()
     if wording and not any(word in folded for word in wording):
         says = " or ".join(repr(word) for word in wording)
-        raise CatalogError(entry, f"{what} is {status} but its source does not say {says}")
+        subject = what or "the status"
+        raise CatalogError(entry, f"{subject} is {status} but its source does not say {says}")
     return Provenance(str(status), source)

@@ -36,6 +36,7 @@ __all__ = [
     "PrimaryStandard",
     "StandardsData",
     "Titrant",
+    "parse_standards",
     "primary_standard",
     "primary_standards",
     "resolve_pair",
