@@ -15,15 +15,9 @@ Every packaged constant carries its source and a status from the one vocabulary 
 ASSUMPTION, NONE; USER for user entries).  A :class:`Catalog` never changes after
 construction.
 
-Lookup rules (:meth:`Catalog.compound`)
----------------------------------------
-* Formulas and keys match exactly and case-sensitively: ``NaOH`` is sodium hydroxide,
-  ``naoh`` is not a formula.
-* Names and aliases are forgiving: case, runs of spaces, hyphens against spaces and a
-  trailing ``" acid"`` are ignored, so ``"Acetic Acid"``, ``"acetic"`` and
-  ``"glacial acetic acid"`` all find CH3COOH.
-* Anything else raises :class:`~carboy.errors.UnknownCompound` with up to three close
-  matches.
+Lookup (:meth:`Catalog.compound`) matches formulas and keys exactly and names and aliases
+forgivingly (case, spacing, hyphens, a trailing " acid"); the rules are set out in
+:mod:`carboy.model.catalog_core`.
 
 Molar masses are always computed from the formula with molmass.  :func:`density_at` and
 :func:`molarity_at` read a compound's density table (linear in % w/w, no extrapolation).

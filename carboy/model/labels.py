@@ -25,6 +25,7 @@ Rules applied (each cited in ``ghs.toml``)
   tag ``corrosive`` gives a conservative Danger / GHS05 / H314 "as supplied" note.
 
 The label never replaces the supplier's safety data sheet, and its last line says so.
+The GHS data and its validated loader are in :mod:`carboy.model.ghs` (re-exported here).
 """
 
 from __future__ import annotations
@@ -59,6 +60,7 @@ __all__ = [
     "NO_DATA_TEXT",
     "SDS_LINE",
     "SIGNAL_RANK",
+    "TOP_PERCENT",
     "GhsBand",
     "GhsData",
     "GhsRecord",
