@@ -13,12 +13,17 @@ standards.toml     primary standards, titrants, acceptance rule         standard
 planning.toml      heats, Ksp, CO2 solubility, planner thresholds       planning_data
 upkeep.toml        re-check intervals and shelf lives                   upkeep
 handling.toml      bench handling per compound (hood, weighing ...)     handling
+compatibility.toml waste streams and the rules refusing an addition     compatibility
+metals.toml        metal hydrolysis, hydroxides, ligand solids          metals
+pitzer.toml        Pitzer ion-interaction parameters                    pitzer_data
+ion_pairs.toml     ion-pair formation constants                         ion_pairs
 =================  ===================================================  =====================
 
 Every value carries a ``source`` and a ``status`` from the one vocabulary of
-:mod:`carboy.model.provenance`.  Loaders read a file with :func:`read_data_file` and walk
-it with :class:`Table`, whose readers raise :class:`~carboy.errors.CatalogError` naming the
-file, the entry and the field of anything missing or malformed.
+:mod:`carboy.model.provenance`, checked by its one check.  Loaders read a file with
+:func:`read_data_file`; the first eight walk it with :class:`Table`, whose readers raise
+:class:`~carboy.errors.CatalogError` naming the file, the entry and the field of anything
+missing or malformed (the last four keep readers of their own).
 
 :func:`compound_keys_by_file` lists, per file, every key that names a compound of the
 catalog (a test checks each against the catalog and lists where each compound appears).
@@ -55,6 +60,10 @@ DATA_FILES = (
     "planning.toml",
     "upkeep.toml",
     "handling.toml",
+    "compatibility.toml",
+    "metals.toml",
+    "pitzer.toml",
+    "ion_pairs.toml",
 )
 """Every packaged data file."""
 
@@ -286,6 +295,16 @@ def _table_keys(*fields: str, skip: frozenset[str] = frozenset()) -> Callable:
     return keys
 
 
+def _compatibility_keys(data: Mapping[str, Any]) -> Iterable:
+    """The ``compounds`` criteria of every stream's and rule's alternatives."""
+    sides = [(rec, ("accepts", "refuses")) for rec in data.get("streams", ())]
+    sides += [(rec, ("a", "b")) for rec in data.get("rules", ())]
+    for rec, fields in sides:
+        for field in fields:
+            for alternative in rec.get(field, ()):
+                yield from alternative.get("compounds", ())
+
+
 def _ghs_keys(data: Mapping[str, Any]) -> Iterable:
     yield from _array_keys("compounds")(data)
     yield from _array_keys("compounds", key="bands_of")(data)
@@ -301,6 +320,7 @@ COMPOUND_KEYS: Mapping[str, Callable[[Mapping[str, Any]], Iterable]] = {
     "handling.toml": _table_keys(
         "supplied_strength", "fume_hood_from_percent", "weigh_from_percent", "hygroscopic_solids"
     ),
+    "compatibility.toml": _compatibility_keys,
 }
 """Per data file: where its keys that name a compound (``compounds.toml`` key) stand."""
 

@@ -40,7 +40,9 @@ import numpy as np
 from scipy.optimize import minimize_scalar
 
 from carboy.errors import CatalogError, InvalidInput
-from carboy.model.catalog import default_catalog, molar_mass_of, read_data_file
+from carboy.model.catalog import default_catalog, molar_mass_of
+from carboy.model.datafiles import read_data_file
+from carboy.model.provenance import check_provenance
 from carboy.model.thermo import planning_constants
 from carboy.model.water import pkw
 
@@ -178,8 +180,9 @@ class Sludge:
 
 
 def _checked(entry: str, rec: Mapping, value_key: str) -> float:
-    if rec.get("status") not in STATUSES or not str(rec.get("source", "")).strip():
-        raise CatalogError(entry, f"{value_key} needs a source and a status in {sorted(STATUSES)}")
+    """The value, once its status and source pass the one provenance check."""
+    check_provenance(entry, value_key, rec.get("status"), str(rec.get("source", "")).strip(),
+                     allowed=STATUSES)
     return float(rec[value_key])
 
 

@@ -8,11 +8,13 @@ import copy
 import pytest
 
 from carboy.errors import CatalogError
-from carboy.model import datafiles, upkeep
+from carboy.model import compatibility, datafiles, metals, upkeep
 from carboy.model.catalog_files import load_builtin
 from carboy.model.datafiles import DATA_FILES, compound_keys_by_file, read_data_file
 from carboy.model.ghs import ghs_data, parse_ghs
 from carboy.model.handling import handling, parse_handling
+from carboy.model.ion_pairs import parse_ion_pairs
+from carboy.model.pitzer_data import parse_pitzer_data
 from carboy.model.planning_data import validate_planning
 from carboy.model.preparation import parse_source
 from carboy.model.provenance import (
@@ -94,6 +96,17 @@ EXPECTED_APPEARANCES = {
     "KHC8H4O4":       ("compounds", "ghs", "standards"),
     "Tris":           ("compounds", "ghs", "standards"),
     "Tris-HCl":       ("compounds",),
+    "NaOCl":          ("compounds",),
+    "Ca(OCl)2":       ("compounds",),
+    "NaN3":           ("compounds",),
+    "(NH4)2SO4":      ("compounds",),
+    "NH4NO3":         ("compounds",),
+    "AlCl3":          ("compounds",),
+    "Al2(SO4)3":      ("compounds",),
+    "FeCl3":          ("compounds",),
+    "CdCl2":          ("compounds",),
+    "Cr(NO3)3.9H2O":  ("compounds",),
+    "MnSO4":          ("compounds",),
 }  # fmt: skip
 
 
@@ -114,8 +127,10 @@ def test_where_each_compound_appears(catalog):
     assert actual == EXPECTED_APPEARANCES
 
 
-def test_the_keyed_files_are_every_data_file_but_systems():
-    assert set(compound_keys_by_file()) == set(DATA_FILES) - {"systems.toml"}
+def test_the_keyed_files_are_every_data_file_holding_compounds():
+    # systems.toml, metals.toml, pitzer.toml and ion_pairs.toml hold systems and ions only
+    holding_ions = {"systems.toml", "metals.toml", "pitzer.toml", "ion_pairs.toml"}
+    assert set(compound_keys_by_file()) == set(DATA_FILES) - holding_ions
 
 
 # ----------------------------------------------------------------------------- rules across files
@@ -246,19 +261,26 @@ def _load(name, raw):
         return load_builtin()
     if name == "upkeep.toml":
         return upkeep._read("recheck_days"), upkeep._read("shelf_life_days", frozenset({"default"}))
+    if name == "compatibility.toml":
+        return compatibility._settings.__wrapped__()
+    if name == "metals.toml":
+        return metals.metal_data.__wrapped__()
     return {
         "ghs.toml": parse_ghs,
         "standards.toml": parse_standards,
         "planning.toml": validate_planning,
         "handling.toml": parse_handling,
+        "pitzer.toml": parse_pitzer_data,
+        "ion_pairs.toml": parse_ion_pairs,
     }[name](raw)
 
 
 def _with_file(monkeypatch, name, raw):
     real = datafiles.read_data_file
-    monkeypatch.setattr(
-        datafiles, "read_data_file", lambda n: copy.deepcopy(raw) if n == name else real(n)
-    )
+    for module in (datafiles, compatibility, metals):  # the last two hold the name themselves
+        monkeypatch.setattr(
+            module, "read_data_file", lambda n: copy.deepcopy(raw) if n == name else real(n)
+        )
 
 
 def _set(path, value):
@@ -331,6 +353,15 @@ BROKEN = [
      ("handling.toml", "NaOH", "common practice")),
     ("handling.toml", _set(("weigh_from_percent", "Unobtainium"), {"percent": 50.0}),
      ("handling.toml", "Unobtainium", "not a compound")),
+    # compatibility.toml and metals.toml errors name the entry but not yet the file
+    ("compatibility.toml", _set(("rules", 2, "source"), "Bretherick's Handbook"),
+     ("hypochlorite-acid", "from memory")),
+    ("metals.toml", _set(("metals", 0, "species", 0, "status"), "GUESS"),
+     ("Zn+2", "log_beta", "GUESS")),
+    ("pitzer.toml", _set(("binary", 0, "status"), "COMMON-PRACTICE"),
+     ("pitzer.toml", "H+", "status")),
+    ("ion_pairs.toml", _set(("pairs", 0, "status"), "PRACTICE"),
+     ("ion_pairs.toml", "CaOH+", "'PRACTICE' is not one of")),
 ]
 
 
