@@ -21,9 +21,10 @@ ion_pairs.toml     ion-pair formation constants                         ion_pair
 
 Every value carries a ``source`` and a ``status`` from the one vocabulary of
 :mod:`carboy.model.provenance`, checked by its one check.  Loaders read a file with
-:func:`read_data_file`; the first eight walk it with :class:`Table`, whose readers raise
+:func:`read_data_file` and walk it with :class:`Table`, whose readers raise
 :class:`~carboy.errors.CatalogError` naming the file, the entry and the field of anything
-missing or malformed (the last four keep readers of their own).
+missing or malformed (``compatibility``, ``pitzer_data`` and ``ion_pairs`` still check
+their fields with readers of their own, through the same provenance check).
 
 :func:`compound_keys_by_file` lists, per file, every key that names a compound of the
 catalog (a test checks each against the catalog and lists where each compound appears).

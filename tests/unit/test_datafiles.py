@@ -277,7 +277,7 @@ def _load(name, raw):
 
 def _with_file(monkeypatch, name, raw):
     real = datafiles.read_data_file
-    for module in (datafiles, compatibility, metals):  # the last two hold the name themselves
+    for module in (datafiles, compatibility):  # the last holds the name itself
         monkeypatch.setattr(
             module, "read_data_file", lambda n: copy.deepcopy(raw) if n == name else real(n)
         )
@@ -353,11 +353,15 @@ BROKEN = [
      ("handling.toml", "NaOH", "common practice")),
     ("handling.toml", _set(("weigh_from_percent", "Unobtainium"), {"percent": 50.0}),
      ("handling.toml", "Unobtainium", "not a compound")),
-    # compatibility.toml and metals.toml errors name the entry but not yet the file
+    # compatibility.toml errors name the entry but not yet the file
     ("compatibility.toml", _set(("rules", 2, "source"), "Bretherick's Handbook"),
      ("hypochlorite-acid", "from memory")),
     ("metals.toml", _set(("metals", 0, "species", 0, "status"), "GUESS"),
-     ("Zn+2", "log_beta", "GUESS")),
+     ("metals.toml", "Zn+2 species 1", "log_beta", "GUESS")),
+    ("metals.toml", _set(("metals", 1, "solid", "formula"), _DELETE),
+     ("metals.toml", "solid", "'formula'", "missing")),
+    ("metals.toml", _set(("metals", 0, "charge"), "two"),
+     ("metals.toml", "Zn+2", "'charge'")),
     ("pitzer.toml", _set(("binary", 0, "status"), "COMMON-PRACTICE"),
      ("pitzer.toml", "H+", "status")),
     ("ion_pairs.toml", _set(("pairs", 0, "status"), "PRACTICE"),
