@@ -24,11 +24,14 @@ from functools import lru_cache
 from types import MappingProxyType
 
 from carboy.errors import CatalogError, InvalidInput
-from carboy.model.catalog import default_catalog, read_data_file
+from carboy.model.catalog import default_catalog
+from carboy.model.datafiles import read_data_file
+from carboy.model.provenance import check_provenance
 
 SEVERITIES = ("refuse", "confirm")
 KINDS = ("acid", "base", "neutral")
 STATUSES = frozenset({"FOUND", "MEMORY", "PRACTICE"})
+"""The statuses this file uses, a part of the one vocabulary (carboy.model.provenance)."""
 REFERENCE_PH = 7.0
 """pH at which a compound's acid equivalents decide whether it is an acid or a base."""
 MATERIALS = ("glass", "plastic", "metal")
@@ -148,10 +151,9 @@ class _Settings:
 
 
 def _sourced(entry: str, rec: Mapping) -> str:
-    status, source = rec.get("status"), str(rec.get("source", "")).strip()
-    if status not in STATUSES or not source:
-        raise CatalogError(entry, f"needs a source and a status in {sorted(STATUSES)}")
-    return f"{source} [{status}]"
+    """The source cited with its status, checked by the one provenance check."""
+    source = str(rec.get("source", "")).strip()
+    return check_provenance(entry, "", rec.get("status"), source, allowed=STATUSES).cited()
 
 
 def _sides(entry: str, alternatives: Iterable[Mapping]) -> tuple[Mapping, ...]:
@@ -177,15 +179,15 @@ def _parse_stream(rec: Mapping) -> Stream:
 
 def _parse_rule(rec: Mapping) -> Rule:
     rid = rec["id"]
-    rule = Rule(rid, rec["severity"], rec["hazard"], _sides(rid, rec["a"]), _sides(rid, rec["b"]),
-                rec["advice_a"], rec["advice_b"], _sourced(rid, rec), rec.get("gas", ""),
+    severity, gas = rec["severity"], rec.get("gas", "")
+    if severity not in SEVERITIES:
+        raise CatalogError(rid, f"severity {severity!r} is not one of {SEVERITIES}")
+    if gas and severity != "refuse":
+        raise CatalogError(rid, f"releases {gas}: a gas hazard must refuse, never confirm")
+    return Rule(rid, severity, rec["hazard"], _sides(rid, rec["a"]), _sides(rid, rec["b"]),
+                rec["advice_a"], rec["advice_b"], _sourced(rid, rec), gas,
                 float(rec.get("acidic_below_ph", REFERENCE_PH)),
                 tuple(rec.get("superseded_by", ())))
-    if rule.severity not in SEVERITIES:
-        raise CatalogError(rid, f"severity {rule.severity!r} is not one of {SEVERITIES}")
-    if rule.gas and rule.severity != "refuse":
-        raise CatalogError(rid, f"releases {rule.gas}: a gas hazard must refuse, never confirm")
-    return rule
 
 
 @lru_cache(maxsize=1)

@@ -18,9 +18,10 @@ from typing import Any
 
 from carboy.errors import CatalogError, InvalidInput
 from carboy.model import water
-from carboy.model.catalog import read_data_file
+from carboy.model.datafiles import read_data_file
 from carboy.model.pitzer import charge_of_label
 from carboy.model.pitzer_data import STATUSES, TR_K
+from carboy.model.provenance import check_provenance
 
 DATA_FILE = "ion_pairs.toml"
 J_PER_CAL = 4.184
@@ -80,10 +81,10 @@ def _pair(rec: Mapping[str, Any], sources: Mapping[str, str]) -> IonPair:
     if balance != charge_of_label(name):
         raise _fail(entry, f"formed_from carries charge {balance}, the pair {charge_of_label(name)}")
     status, source = rec.get("status", ""), rec.get("source", "")
-    if status not in STATUSES or not source:
-        raise _fail(entry, f"needs a source and a status in {sorted(STATUSES)}")
-    if status == "MEMORY" and "from memory" not in source:
-        raise _fail(entry, "status MEMORY but the source does not say 'from memory'")
+    try:
+        check_provenance(entry, "", status, source, allowed=STATUSES)
+    except CatalogError as exc:
+        raise _fail(entry, exc.reason) from None
     if any(s not in sources for s in rec.get("seen_in", ())) or (
             status == "FOUND" and not rec.get("seen_in")):
         raise _fail(entry, "seen_in must name copies listed under [sources]")

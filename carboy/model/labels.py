@@ -25,30 +25,42 @@ Rules applied (each cited in ``ghs.toml``)
   tag ``corrosive`` gives a conservative Danger / GHS05 / H314 "as supplied" note.
 
 The label never replaces the supplier's safety data sheet, and its last line says so.
+The GHS data and its validated loader are in :mod:`carboy.model.ghs` (re-exported here).
 """
 
 from __future__ import annotations
 
 import datetime as _dt
-import functools
 import math
 import re
 import textwrap
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
-from itertools import pairwise
-from types import MappingProxyType
 from typing import Any
 
-from carboy.errors import CatalogError, InvalidInput
+from carboy.errors import InvalidInput
 from carboy.model.catalog import Catalog, default_catalog
 from carboy.model.entities import Compound
+from carboy.model.ghs import (
+    SIGNAL_RANK,
+    TOP_PERCENT,
+    GhsBand,
+    GhsData,
+    GhsRecord,
+    GhsStatement,
+    GhsTrack,
+    code_order,
+    ghs_data,
+    parse_ghs,
+)
 
 __all__ = [
     "LABEL_WIDTH",
     "NOT_CLASSIFIED_TEXT",
     "NO_DATA_TEXT",
     "SDS_LINE",
+    "SIGNAL_RANK",
+    "TOP_PERCENT",
     "GhsBand",
     "GhsData",
     "GhsRecord",
@@ -73,17 +85,7 @@ SDS_LINE = "Check the supplier's safety data sheet."
 FALLBACK_NOTE = "(as supplied; check the SDS)"
 NO_DATA_TEXT = "carboy holds no GHS bands for this compound."
 
-SIGNAL_RANK: Mapping[str | None, int] = MappingProxyType({None: 0, "Warning": 1, "Danger": 2})
-BAND_STATUSES = frozenset({"FOUND", "FOUND*", "MEMORY", "DERIVED", "COMMON-PRACTICE", "NONE"})
-STATEMENT_SIGNALS = frozenset({"Danger", "Warning", "none", "varies"})
-ROLES = frozenset({"skin-eye-irritation", "skin-sensitisation", "respiratory-sensitisation"})
-TOP_PERCENT = 100.0
-
-_DATA_PACKAGE = "carboy.model.data"
-_GHS_FILE = "ghs.toml"
 _ISO_DATE = re.compile(r"\d{4}-\d{2}-\d{2}")
-_CODE = re.compile(r"(EUH|H)(\d{3})")
-_PICTOGRAM = re.compile(r"GHS0[1-9]")
 
 
 # ----------------------------------------------------------------------------- records
@@ -95,95 +97,6 @@ class HazardStatement:
 
     code: str
     text: str
-
-
-@dataclass(frozen=True)
-class GhsStatement:
-    """A hazard statement of the data table, with what precedence needs to know."""
-
-    code: str
-    text: str
-    pictogram: str | None
-    """The pictogram CLP Annex I gives the categories behind this code (None: none)."""
-    signal: str
-    """``Danger``, ``Warning``, ``none``, or ``varies`` between categories (H272)."""
-    role: str | None
-    source: str
-    status: str
-
-
-@dataclass(frozen=True)
-class GhsBand:
-    """One concentration band of one hazard class: lower bound inclusive, upper exclusive."""
-
-    from_percent: float
-    to_percent: float
-    classification: str
-    codes: tuple[str, ...]
-    signal_word: str | None
-    pictograms: tuple[str, ...]
-    rule: str
-    source: str
-    status: str
-
-    def contains(self, mass_percent: float) -> bool:
-        if self.from_percent <= mass_percent < self.to_percent:
-            return True
-        return self.to_percent == TOP_PERCENT and mass_percent == TOP_PERCENT
-
-    def range_text(self) -> str:
-        if self.to_percent == TOP_PERCENT:
-            return f"≥ {self.from_percent:g} %"
-        return f"{self.from_percent:g} % ≤ C < {self.to_percent:g} %"
-
-
-@dataclass(frozen=True)
-class GhsTrack:
-    """The bands of one hazard class (or of classes that share their limits)."""
-
-    hazard: str
-    bands: tuple[GhsBand, ...]
-
-
-@dataclass(frozen=True)
-class GhsRecord:
-    """Everything ``ghs.toml`` holds for one compound key."""
-
-    key: str
-    entry: str
-    tracks: tuple[GhsTrack, ...]
-    bands_of: str | None
-    """Key of another record whose bands apply after conversion by molar mass."""
-    note: str | None
-    source: str
-    status: str
-
-    @property
-    def lowest_percent(self) -> float | None:
-        starts = [b.from_percent for t in self.tracks for b in t.bands]
-        return min(starts) if starts else None
-
-
-@dataclass(frozen=True)
-class OmitRule:
-    """When ``keep`` is on the label, ``drop`` is left off."""
-
-    keep: str
-    drop: str
-    source: str
-    status: str
-
-
-@dataclass(frozen=True)
-class GhsData:
-    """The parsed and validated contents of ``ghs.toml``."""
-
-    revision: str
-    sources: Mapping[str, str]
-    pictograms: Mapping[str, str]
-    statements: Mapping[str, GhsStatement]
-    omit: tuple[OmitRule, ...]
-    compounds: Mapping[str, GhsRecord]
 
 
 @dataclass(frozen=True)
@@ -225,246 +138,6 @@ class Label:
         }
 
 
-# ----------------------------------------------------------------------------- loading
-
-
-def _fail(entry: str, reason: str) -> CatalogError:
-    return CatalogError(f"ghs.toml: {entry}", reason)
-
-
-def _text(entry: str, record: Mapping[str, Any], field: str, *, required: bool = True) -> str:
-    value = record.get(field)
-    if value is None and not required:
-        return ""
-    if not isinstance(value, str) or not value.strip():
-        raise _fail(entry, f"field {field!r} must be a non-empty string, got {value!r}")
-    return value.strip()
-
-
-def _resolve_source(entry: str, raw: str, sources: Mapping[str, str]) -> str:
-    """Expand a leading source key ("KEY" or "KEY; note") into its full citation."""
-    head, sep, rest = raw.partition(";")
-    key = head.strip()
-    if key in sources:
-        return sources[key] + (f"; {rest.strip()}" if sep and rest.strip() else "")
-    if re.fullmatch(r"[A-Z][A-Z0-9_]+", key):
-        raise _fail(entry, f"source key {key!r} is not in [sources]")
-    return raw
-
-
-def _check_status(entry: str, status: object, source: str) -> str:
-    if status not in BAND_STATUSES:
-        raise _fail(entry, f"status {status!r} is not one of {sorted(BAND_STATUSES)}")
-    if status == "MEMORY" and "from memory" not in source:
-        raise _fail(entry, "status is MEMORY but the source does not say 'from memory'")
-    if status == "COMMON-PRACTICE" and "common practice" not in source:
-        raise _fail(
-            entry, "status is COMMON-PRACTICE but the source does not say 'common practice'"
-        )
-    return str(status)
-
-
-def _number(entry: str, what: str, value: object) -> float:
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
-        raise _fail(entry, f"{what} {value!r} is not a finite number")
-    return float(value)
-
-
-def _code_order(code: str) -> tuple[int, int]:
-    match = _CODE.fullmatch(code)
-    if match is None:  # pragma: no cover - codes are validated on load
-        return (2, 0)
-    return (1 if match.group(1) == "EUH" else 0, int(match.group(2)))
-
-
-def _parse_statements(
-    raw: Mapping[str, Any], sources: Mapping[str, str], pictograms: Mapping[str, str]
-) -> dict[str, GhsStatement]:
-    out: dict[str, GhsStatement] = {}
-    for code, rec in raw.items():
-        entry = f"statement {code}"
-        if _CODE.fullmatch(code) is None:
-            raise _fail(entry, "a code is H followed by three digits, or EUH and three digits")
-        if not isinstance(rec, Mapping):
-            raise _fail(entry, "must be a table")
-        pictogram = rec.get("pictogram", "")
-        if pictogram and pictogram not in pictograms:
-            raise _fail(entry, f"pictogram {pictogram!r} is not in [pictograms]")
-        signal = rec.get("signal")
-        if signal not in STATEMENT_SIGNALS:
-            raise _fail(entry, f"signal {signal!r} is not one of {sorted(STATEMENT_SIGNALS)}")
-        role = rec.get("role")
-        if role is not None and role not in ROLES:
-            raise _fail(entry, f"role {role!r} is not one of {sorted(ROLES)}")
-        source = _resolve_source(entry, _text(entry, rec, "source"), sources)
-        out[code] = GhsStatement(
-            code=code,
-            text=_text(entry, rec, "text"),
-            pictogram=pictogram or None,
-            signal=signal,
-            role=role,
-            source=source,
-            status=_check_status(entry, rec.get("status"), source),
-        )
-    return out
-
-
-def _parse_band(
-    entry: str,
-    rec: Mapping[str, Any],
-    data: Mapping[str, Any],
-    statements: Mapping[str, GhsStatement],
-) -> GhsBand:
-    sources = data["sources"]
-    lo = _number(entry, "from_percent", rec.get("from_percent"))
-    hi = _number(entry, "to_percent", rec.get("to_percent"))
-    if not 0.0 <= lo < hi <= TOP_PERCENT:
-        raise _fail(
-            entry, f"band {lo:g}-{hi:g} % must satisfy 0 <= from_percent < to_percent <= 100"
-        )
-    codes = rec.get("codes")
-    if not isinstance(codes, list) or not codes or len(set(codes)) != len(codes):
-        raise _fail(entry, f"codes {codes!r} must be a non-empty list without repeats")
-    for code in codes:
-        if code not in statements:
-            raise _fail(entry, f"code {code!r} has no text in [statements]")
-    signal = rec.get("signal")
-    if signal not in ("Danger", "Warning", None):
-        raise _fail(entry, f"signal {signal!r} must be 'Danger', 'Warning' or absent")
-    fixed = [statements[c].signal for c in codes if statements[c].signal != "varies"]
-    required = max(
-        (s if s != "none" else None for s in fixed), key=SIGNAL_RANK.__getitem__, default=None
-    )
-    varies = any(statements[c].signal == "varies" for c in codes)
-    if varies:
-        if signal is None or SIGNAL_RANK[signal] < SIGNAL_RANK[required]:
-            raise _fail(entry, f"signal {signal!r} is too weak for codes {codes}")
-    elif signal != required:
-        raise _fail(
-            entry, f"signal {signal!r} does not match codes {codes} (expected {required!r})"
-        )
-    pictograms = rec.get("pictograms")
-    if not isinstance(pictograms, list):
-        raise _fail(entry, f"pictograms {pictograms!r} must be a list")
-    expected = {statements[c].pictogram for c in codes} - {None}
-    if set(pictograms) != expected or len(pictograms) != len(set(pictograms)):
-        raise _fail(
-            entry,
-            f"pictograms {pictograms} do not match codes {codes} (expected {sorted(expected)})",
-        )
-    source = _resolve_source(entry, _text(entry, rec, "source"), sources)
-    return GhsBand(
-        from_percent=lo,
-        to_percent=hi,
-        classification=_text(entry, rec, "classification"),
-        codes=tuple(sorted(codes, key=_code_order)),
-        signal_word=signal,
-        pictograms=tuple(sorted(pictograms)),
-        rule=_text(entry, rec, "rule"),
-        source=source,
-        status=_check_status(entry, rec.get("status"), source),
-    )
-
-
-def _parse_track(
-    key: str,
-    rec: Mapping[str, Any],
-    data: Mapping[str, Any],
-    statements: Mapping[str, GhsStatement],
-) -> GhsTrack:
-    hazard = _text(key, rec, "hazard")
-    entry = f"{key} / {hazard}"
-    raw_bands = rec.get("bands")
-    if not isinstance(raw_bands, list) or not raw_bands:
-        raise _fail(entry, "a track needs at least one band")
-    bands = tuple(_parse_band(entry, b, data, statements) for b in raw_bands)
-    for earlier, later in pairwise(bands):
-        if later.from_percent < earlier.to_percent:
-            raise _fail(
-                entry,
-                f"bands must ascend without overlap: {earlier.range_text()} is followed by "
-                f"{later.range_text()}",
-            )
-    return GhsTrack(hazard=hazard, bands=bands)
-
-
-def parse_ghs(data: Mapping[str, Any]) -> GhsData:
-    """Validate the contents of ``ghs.toml`` (as read by tomllib) and build :class:`GhsData`.
-
-    Raises
-    ------
-    CatalogError
-        Naming the first inconsistent entry: unknown source key, status without the
-        matching wording, a code without text, pictograms or signal word that do not
-        match the codes, or bands that do not ascend without overlapping.
-    """
-    raw_sources = data.get("sources")
-    if not isinstance(raw_sources, Mapping) or not raw_sources:
-        raise _fail("[sources]", "the file needs a table of sources")
-    sources = {str(k): _text(f"source {k}", raw_sources, k) for k in raw_sources}
-    raw_pictograms = data.get("pictograms")
-    if not isinstance(raw_pictograms, Mapping):
-        raise _fail("[pictograms]", "the file needs a table of pictogram names")
-    for code in raw_pictograms:
-        if _PICTOGRAM.fullmatch(code) is None:
-            raise _fail("[pictograms]", f"{code!r} is not a pictogram code GHS01..GHS09")
-    pictograms = {k: _text(f"pictogram {k}", raw_pictograms, k) for k in raw_pictograms}
-    statements = _parse_statements(data.get("statements", {}), sources, pictograms)
-    omit = []
-    for rec in data.get("omit", []):
-        entry = f"omit {rec.get('keep')!r} -> {rec.get('drop')!r}"
-        for field in ("keep", "drop"):
-            if rec.get(field) not in statements:
-                raise _fail(entry, f"{field} {rec.get(field)!r} has no text in [statements]")
-        source = _resolve_source(entry, _text(entry, rec, "source"), sources)
-        omit.append(
-            OmitRule(
-                rec["keep"], rec["drop"], source, _check_status(entry, rec.get("status"), source)
-            )
-        )
-    context = {"sources": sources}
-    compounds: dict[str, GhsRecord] = {}
-    for rec in data.get("compounds", []):
-        key = _text("compound", rec, "key")
-        if key in compounds:
-            raise _fail(key, "compound key is defined twice")
-        source = _resolve_source(key, _text(key, rec, "source"), sources)
-        tracks = tuple(_parse_track(key, t, context, statements) for t in rec.get("tracks", []))
-        bands_of = rec.get("bands_of")
-        if bands_of is not None and tracks:
-            raise _fail(key, "a record with bands_of holds no bands of its own")
-        compounds[key] = GhsRecord(
-            key=key,
-            entry=_text(key, rec, "entry"),
-            tracks=tracks,
-            bands_of=bands_of,
-            note=rec.get("note"),
-            source=source,
-            status=_check_status(key, rec.get("status"), source),
-        )
-    for rec in compounds.values():
-        if rec.bands_of is not None:
-            target = compounds.get(rec.bands_of)
-            if target is None or target.bands_of is not None:
-                raise _fail(rec.key, f"bands_of {rec.bands_of!r} must name a record with bands")
-    return GhsData(
-        revision=_text("revision", data, "revision"),
-        sources=MappingProxyType(sources),
-        pictograms=MappingProxyType(pictograms),
-        statements=MappingProxyType(statements),
-        omit=tuple(omit),
-        compounds=MappingProxyType(compounds),
-    )
-
-
-@functools.lru_cache(maxsize=1)
-def ghs_data() -> GhsData:
-    """The packaged ``ghs.toml``, read and validated once per process."""
-    from carboy.model.catalog import read_data_file
-
-    return parse_ghs(read_data_file(_GHS_FILE))
-
-
 # ----------------------------------------------------------------------------- rules
 
 
@@ -497,7 +170,7 @@ def pictogram_precedence(codes: Iterable[str], data: GhsData | None = None) -> t
 def _apply_omit(codes: Sequence[str], data: GhsData) -> tuple[str, ...]:
     present = set(codes)
     dropped = {rule.drop for rule in data.omit if rule.keep in present}
-    return tuple(sorted((c for c in present if c not in dropped), key=_code_order))
+    return tuple(sorted((c for c in present if c not in dropped), key=code_order))
 
 
 @dataclass(frozen=True)
@@ -688,6 +361,41 @@ def _display_name(compound: Compound) -> str:
     return name[:1].upper() + name[1:]
 
 
+def _squeezed(what: str, value: object) -> str:
+    """Non-empty text with its runs of white space folded to single spaces."""
+    if not isinstance(value, str) or not value.strip():
+        raise InvalidInput(what, value, "must not be empty")
+    return " ".join(value.split())
+
+
+def _check_dates(prepared_on: object, expires_on: object) -> None:
+    prepared = _check_date("preparation date", prepared_on)
+    if expires_on is not None:
+        expires = _check_date("expiry date", expires_on)
+        if expires < prepared:
+            raise InvalidInput(
+                "expiry date", expires_on, f"is before the preparation date {prepared_on}"
+            )
+
+
+def _hazard_lines(result: _Result) -> list[str]:
+    """Signal word and pictograms, statements, notes and the closing SDS line (unwrapped)."""
+    lines = []
+    head = " ".join(p for p in (result.signal_word.upper() if result.signal_word else None,
+                                " ".join(result.pictograms)) if p)
+    if head:
+        lines.append(head)
+    lines += [f"{statement.code} {statement.text}" for statement in result.statements]
+    if result.fallback and result.classified:
+        lines.append(FALLBACK_NOTE)
+    if not result.classified:
+        lines.append(NO_DATA_TEXT if result.fallback else NOT_CLASSIFIED_TEXT)
+    if result.note:
+        lines.append(result.note)
+    lines.append(SDS_LINE)
+    return lines
+
+
 def make_label(
     compound: Compound | str,
     *,
@@ -728,61 +436,23 @@ def make_label(
     cat = catalog or default_catalog()
     found = compound if isinstance(compound, Compound) else cat.compound(compound)
     percent = _check_mass_percent(mass_percent)
-    if not isinstance(conc_text, str) or not conc_text.strip():
-        raise InvalidInput("concentration text", conc_text, "must not be empty")
-    conc = " ".join(conc_text.split())
-    if not isinstance(prepared_by, str) or not prepared_by.strip():
-        raise InvalidInput("preparer", prepared_by, "must not be empty")
-    preparer = " ".join(prepared_by.split())
-    prepared = _check_date("preparation date", prepared_on)
-    if expires_on is not None:
-        expires = _check_date("expiry date", expires_on)
-        if expires < prepared:
-            raise InvalidInput(
-                "expiry date", expires_on, f"is before the preparation date {prepared_on}"
-            )
+    conc, preparer = _squeezed("concentration text", conc_text), _squeezed("preparer", prepared_by)
+    _check_dates(prepared_on, expires_on)
     lot_text = _optional_text("lot", lot)
     origin = _optional_text("source text", source_text)
     result = _evaluate(found.key, percent, cat, found)
-
     title = f"{_display_name(found)} {conc}"
-    lines: list[str] = []
-    lines += wrap_label_text(title)
     conc_line = f"Concentration {conc}"
     if percent is not None:
         conc_line += f" ({percent:.3g} % w/w)"
-    lines += wrap_label_text(conc_line)
-    lines += wrap_label_text(f"Prepared {prepared_on} by {preparer}")
-    lines += wrap_label_text(f"Expires {expires_on}" if expires_on else "Expiry: none set")
-    origin_parts = [
-        p
-        for p in (
-            f"Lot {lot_text}" if lot_text else None,
-            ("from " if lot_text else "From ") + origin if origin else None,
-        )
-        if p
-    ]
+    lines = [title, conc_line, f"Prepared {prepared_on} by {preparer}",
+             f"Expires {expires_on}" if expires_on else "Expiry: none set"]
+    origin_parts = [p for p in (f"Lot {lot_text}" if lot_text else None,
+                                ("from " if lot_text else "From ") + origin if origin else None)
+                    if p]
     if origin_parts:
-        lines += wrap_label_text("; ".join(origin_parts))
-    hazard_head = " ".join(
-        p
-        for p in (
-            result.signal_word.upper() if result.signal_word else None,
-            " ".join(result.pictograms),
-        )
-        if p
-    )
-    if hazard_head:
-        lines += wrap_label_text(hazard_head)
-    for statement in result.statements:
-        lines += wrap_label_text(f"{statement.code} {statement.text}")
-    if result.fallback and result.classified:
-        lines += wrap_label_text(FALLBACK_NOTE)
-    if not result.classified:
-        lines += wrap_label_text(NO_DATA_TEXT if result.fallback else NOT_CLASSIFIED_TEXT)
-    if result.note:
-        lines += wrap_label_text(result.note)
-    lines += wrap_label_text(SDS_LINE)
+        lines.append("; ".join(origin_parts))
+    lines += _hazard_lines(result)
     return Label(
         title=title,
         compound_key=found.key,
@@ -797,5 +467,5 @@ def make_label(
         pictograms=result.pictograms,
         statements=result.statements,
         basis=result.basis,
-        lines=tuple(lines),
+        lines=tuple(w for line in lines for w in wrap_label_text(line)),
     )

@@ -39,8 +39,9 @@ from types import MappingProxyType
 import numpy as np
 from scipy.optimize import minimize_scalar
 
-from carboy.errors import CatalogError, InvalidInput
-from carboy.model.catalog import default_catalog, molar_mass_of, read_data_file
+from carboy.errors import InvalidInput
+from carboy.model.catalog import default_catalog, molar_mass_of
+from carboy.model.datafiles import Table
 from carboy.model.thermo import planning_constants
 from carboy.model.water import pkw
 
@@ -177,72 +178,78 @@ class Sludge:
 # ----------------------------------------------------------------------------- data
 
 
-def _checked(entry: str, rec: Mapping, value_key: str) -> float:
-    if rec.get("status") not in STATUSES or not str(rec.get("source", "")).strip():
-        raise CatalogError(entry, f"{value_key} needs a source and a status in {sorted(STATUSES)}")
-    return float(rec[value_key])
+def _checked(t: Table, value_key: str) -> tuple[float, str]:
+    """The value and its citation, once status and source pass the one provenance check."""
+    prov = t.provenance(value_key, allowed=STATUSES)
+    return t.number(value_key), f"{t.text('source').strip()} [{prov.status}]"
 
 
-def _parse_metal(rec: Mapping) -> Metal:
-    key, z = rec["key"], int(rec["charge"])
+def _parse_metal(t: Table) -> Metal:
+    key, z = t.text("key"), t.integer("charge", low=1, high=4)
     species = [HydroxoSpecies(key, 0, z, 0.0, "free ion")]
-    for s in rec["species"]:
-        n = int(s["n"])
-        species.append(HydroxoSpecies(s["label"], n, z - n, _checked(key, s, "log_beta"),
-                                      f"{s['source']} [{s['status']}]"))
+    for s in t.tables("species", name=lambda i, d: f"{key} species {i + 1}"):
+        n = s.integer("n", low=1, high=6)
+        log_beta, cite = _checked(s, "log_beta")
+        species.append(HydroxoSpecies(s.text("label"), n, z - n, log_beta, cite))
     if [s.n for s in species] != list(range(len(species))):
-        raise CatalogError(key, "hydroxo species must run n = 1, 2, ... without gaps")
-    srec = rec["solid"]
-    if "log_ks" in srec:
-        log_ks = _checked(key, srec, "log_ks")
-        source = f"{srec['source']} [{srec['status']}]"
+        raise t.fail("species", "hydroxo species must run n = 1, 2, ... without gaps")
+    srec = t.table("solid", f"{key} solid")
+    if srec.has("log_ks"):
+        log_ks, source = _checked(srec, "log_ks")
     else:
-        log_ks = _checked(key, srec, "log_ksp_oh") + z * PKW25
-        source = (f"{srec['source']} [{srec['status']}]; log *Ks = log Ksp + {z} pKw(25 °C) "
-                  "[DERIVED]")
-    solid = Hydroxide(srec["name"], srec["formula"], log_ks,
-                      molar_mass_of(srec["formula"], entry=key), source)
-    return Metal(key, rec["name"], z, tuple(species), solid, rec.get("choice", ""))
+        log_ksp, cite = _checked(srec, "log_ksp_oh")
+        log_ks = log_ksp + z * PKW25
+        source = f"{cite}; log *Ks = log Ksp + {z} pKw(25 °C) [DERIVED]"
+    formula = srec.text("formula")
+    solid = Hydroxide(srec.text("name"), formula, log_ks,
+                      molar_mass_of(formula, entry=key), source)
+    return Metal(key, t.text("name"), z, tuple(species), solid, t.text("choice", ""))
 
 
-def _parse_ligand_solid(rec: Mapping, ksp_by_name: Mapping, catalog) -> LigandSolid:
-    name = rec["ksp"]
+def _parse_ligand_solid(t: Table, ksp_by_name: Mapping, catalog) -> LigandSolid:
+    name = t.text("ksp")
     if name not in ksp_by_name:
-        raise CatalogError(name, "no such [[ksp]] record in planning.toml")
+        raise t.fail("ksp", f"no [[ksp]] record {name!r} in planning.toml")
     ksp = ksp_by_name[name]
-    system = catalog.systems[rec["ligand_system"]]
+    system_key, cation = t.text("ligand_system"), t.text("cation")
+    if system_key not in catalog.systems:
+        raise t.fail("ligand_system", f"no acid-base system {system_key!r} in the catalog")
+    system = catalog.systems[system_key]
     ions = dict(ksp["ions"])
-    cation_count = int(ions.pop(rec["cation"]))
+    cation_count = int(ions.pop(cation, 0))
     oh_count = int(ions.pop("OH-", 0))
-    if len(ions) != 1 or next(iter(ions)) not in system.species:
-        raise CatalogError(name, f"ions {sorted(ksp['ions'])} are not {rec['cation']}, OH- and "
-                                 f"one state of {system.key}")
+    if not cation_count or len(ions) != 1 or next(iter(ions)) not in system.species:
+        raise t.fail("ksp", f"ions {sorted(ksp['ions'])} are not {cation}, OH- and one "
+                            f"state of {system.key}")
     label, count = next(iter(ions.items()))
-    return LigandSolid(name, rec["formula"], rec["cation"], cation_count, system.key,
+    formula = t.text("formula")
+    return LigandSolid(name, formula, cation, cation_count, system.key,
                        system.species.index(label), int(count), oh_count,
-                       float(ksp["log10_ksp"]), molar_mass_of(rec["formula"], entry=name),
-                       bool(rec["in_dose"]), rec["why"], f"{ksp['source']} [{ksp['status']}]")
+                       float(ksp["log10_ksp"]), molar_mass_of(formula, entry=name),
+                       bool(t.raw("in_dose")), t.text("why"),
+                       f"{ksp['source']} [{ksp['status']}]")
 
 
 @lru_cache(maxsize=1)
 def metal_data() -> MetalData:
-    """The packaged ``metals.toml``, validated (cached)."""
-    data = read_data_file("metals.toml")
+    """The packaged ``metals.toml``, validated (cached); errors name file, entry and field."""
+    top = Table.of_file("metals.toml")
     metals = {}
-    for rec in data["metals"]:
-        metal = _parse_metal(rec)
+    for t in top.tables("metals"):
+        metal = _parse_metal(t)
         if metal.key in metals:
-            raise CatalogError(metal.key, "metal listed twice")
+            raise t.fail("key", "metal listed twice")
         metals[metal.key] = metal
     ksp_by_name = {r["solid"]: r for r in planning_constants()["ksp"]}
     catalog = default_catalog()
-    solids = tuple(_parse_ligand_solid(r, ksp_by_name, catalog) for r in data["ligand_solids"])
+    solids = tuple(_parse_ligand_solid(t, ksp_by_name, catalog)
+                   for t in top.tables("ligand_solids", name=lambda i, d: str(d.get("ksp", i))))
     dosed = [(s.cation, s.ligand_system) for s in solids if s.in_dose]
     if len(dosed) != len(set(dosed)):
-        raise CatalogError("ligand_solids", "one solid in the dose per cation and ligand system")
+        raise top.fail("ligand_solids", "one solid in the dose per cation and ligand system")
     if any(s.cation not in metals for s in solids):
-        raise CatalogError("ligand_solids", "a salt's cation has no metal record")
-    return MetalData(MappingProxyType(metals), solids, frozenset(data["inert_cations"]))
+        raise top.fail("ligand_solids", "a salt's cation has no metal record")
+    return MetalData(MappingProxyType(metals), solids, frozenset(top.texts("inert_cations")))
 
 
 def metal(key: str, data: MetalData | None = None) -> Metal:

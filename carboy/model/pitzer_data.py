@@ -24,7 +24,8 @@ from typing import Any
 import numpy as np
 
 from carboy.errors import CatalogError
-from carboy.model.catalog import read_data_file
+from carboy.model.datafiles import read_data_file
+from carboy.model.provenance import check_provenance
 
 DATA_FILE = "pitzer.toml"
 TR_K = 298.15
@@ -114,12 +115,10 @@ def _coefficients(entry: str, value: Any) -> tuple[float, ...]:
 
 def _provenance(entry: str, rec: Mapping[str, Any], sources: Mapping[str, str]) -> dict:
     source, status = rec.get("source", ""), rec.get("status", "")
-    if not source:
-        raise _fail(entry, "has no source")
-    if status not in STATUSES:
-        raise _fail(entry, f"status {status!r} is not one of {sorted(STATUSES)}")
-    if status == "MEMORY" and "from memory" not in source:
-        raise _fail(entry, "status MEMORY but the source does not say 'from memory'")
+    try:
+        check_provenance(entry, "", status, source, allowed=STATUSES)
+    except CatalogError as exc:
+        raise _fail(entry, exc.reason) from None
     seen_in = tuple(rec.get("seen_in", ()))
     for s in seen_in:
         if s not in sources:

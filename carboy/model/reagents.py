@@ -23,9 +23,6 @@ from carboy.model.entities import Compound
 
 FORMS = ("solution", "concentrate", "solid")
 
-SLURRY_REAGENTS = frozenset({"Ca(OH)2", "Mg(OH)2"})
-"""Slightly soluble bases fed as a suspension (slurry)."""
-
 _ASSAY = re.compile(r"^(?P<name>.+?)@(?P<assay>[^@]+)$")
 
 WATER_DENSITY_ASSUMED_G_ML = 1.0
@@ -62,7 +59,10 @@ class Reagent:
 
     @property
     def is_slurry(self) -> bool:
-        return self.compound.key in SLURRY_REAGENTS
+        """A slightly soluble base fed as a suspension: ``planning.toml [slurry]`` names it."""
+        from carboy.model.thermo import planning_constants  # lazily, as the catalog below
+
+        return self.compound.key in planning_constants()["slurry"]
 
     @property
     def has_carbonate(self) -> bool:

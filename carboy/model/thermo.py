@@ -30,6 +30,8 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from carboy.model import water
+from carboy.model.catalog_files import default_catalog
+from carboy.model.planning_data import load_planning
 
 if TYPE_CHECKING:
     from carboy.model.reagents import Reagent
@@ -38,10 +40,8 @@ if TYPE_CHECKING:
 
 @functools.lru_cache(maxsize=1)
 def planning_constants() -> Mapping:
-    """The packaged ``planning.toml`` (constants with sources; see that file)."""
-    from carboy.model.catalog import read_data_file
-
-    return read_data_file("planning.toml")
+    """The packaged ``planning.toml``, validated (constants with sources; see that file)."""
+    return load_planning()
 
 
 def water_formation_kj() -> float:
@@ -131,8 +131,6 @@ def dilution_heat_kj(compound_key: str, mass_percent: float) -> tuple[float, str
     w = mass_percent / 100.0
     if w <= 0.0:
         return 0.0, note
-    from carboy.model.catalog import default_catalog
-
     m_solute = default_catalog().compound(compound_key).molar_mass_g_mol
     if rec["basis"] == "n_water":
         n = (1.0 - w) / water_MW() / (w / m_solute) if w < 1.0 else 0.0
@@ -158,6 +156,18 @@ def dilution_heat_kj(compound_key: str, mass_percent: float) -> tuple[float, str
     if molality < ms[0]:
         return -float(released[0]) * math.sqrt(molality / ms[0]), note
     return -float(np.interp(molality, ms, released)), note
+
+
+def dilution_understated(compound_key: str) -> tuple[float, float, str] | None:
+    """``(from %, to %, note)`` where the dilution table of a compound understates the heat.
+
+    ``planning.toml [dilution.KEY] understated``: between two sparse rows linear
+    interpolation gives less heat than released; None where the table has no such range.
+    """
+    rec = planning_constants()["dilution"].get(compound_key, {}).get("understated")
+    if rec is None:
+        return None
+    return float(rec["from_percent"]), float(rec["to_percent"]), str(rec["note"])
 
 
 def water_MW() -> float:  # noqa: N802 (chemical symbol)

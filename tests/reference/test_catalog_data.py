@@ -130,7 +130,7 @@ DENSITY_RECORDS = [
     ("H3PO4-85", "H3PO4", 85, 1.6850, 14.616, 0.002, "CRC 20 °C (MEMORY); c DERIVED"),
     ("NaOH-50", "NaOH", 50, 1.5253, 19.068, 0.002, "CRC/Perry's 20 °C (MEMORY); c DERIVED"),
     ("NH3-28", "NH3", 28, 0.8980, 14.764, 0.002, "CRC (MEMORY); c DERIVED"),
-    ("acetic-100", "CH3COOH", 100, 1.0477, 17.447, 0.002, "CRC via Engineering ToolBox (FOUND*)"),
+    ("acetic-100", "CH3COOH", 100, 1.0477, 17.447, 0.002, "CRC via Engineering ToolBox (RECONSTRUCTED)"),
     ("H2SO4-10", "H2SO4", 10, 1.0661, 1.087, 0.001, "CRC via Engineering ToolBox (FOUND)"),
     ("HCl-20", "HCl", 20, 1.0980, 6.023, 0.001, "CRC via Engineering ToolBox (FOUND)"),
     ("NaOH-10", "NaOH", 10, 1.1089, 2.772, 0.001, "CRC via Engineering ToolBox (FOUND)"),

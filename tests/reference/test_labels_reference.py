@@ -4,7 +4,7 @@ Each boundary record checks a concentration just below and at (or just above) a 
 limit: the expected hazard codes, and where the code alone cannot tell (Skin Corr. 1A
 against 1B, Ox. Liq. 2 against 3) the category named in the basis.  Status:
 FOUND (seen in the source named), MEMORY (from memory), DERIVED (arithmetic on cited
-values with a cited rule), COMMON-PRACTICE (H290, a supplier self-classification).
+values with a cited rule), PRACTICE (H290, a supplier self-classification: common practice).
 
 Sources (full addresses in carboy/model/data/ghs.toml [sources]):
   GisChem = the German accident insurers' hazardous-substance system, gischem.de
@@ -30,15 +30,15 @@ BOUNDARY_RECORDS = [
     ("H2SO4-5", "H2SO4", 5.0, {"H290", "H315", "H319"}, "Eye Irrit. 2", "battery SDS", "FOUND"),
     ("H2SO4-14.99", "H2SO4", 14.99, {"H290", "H315", "H319"}, None, "battery SDS", "FOUND"),
     ("H2SO4-15", "H2SO4", 15.0, {"H290", "H314"}, "Skin Corr. 1A", "battery SDS", "FOUND"),
-    ("H2SO4-H290-0.49", "H2SO4", 0.49, set(), None, "lower bound from memory", "COMMON-PRACTICE"),
-    ("H2SO4-H290-0.5", "H2SO4", 0.5, {"H290"}, None, "lower bound from memory", "COMMON-PRACTICE"),
+    ("H2SO4-H290-0.49", "H2SO4", 0.49, set(), None, "lower bound from memory", "PRACTICE"),
+    ("H2SO4-H290-0.5", "H2SO4", 0.5, {"H290"}, None, "lower bound from memory", "PRACTICE"),
     # hydrochloric acid: Skin Corr. 1B >= 25 %; irritant 10-25 %; STOT SE 3 >= 10 %
     ("HCl-9.99", "HCl", 9.99, {"H290"}, None, GISCHEM + "4531; FUB", "FOUND"),
     ("HCl-10", "HCl", 10.0, {"H290", "H315", "H319", "H335"}, "STOT SE 3", GISCHEM + "4531", "FOUND"),
     ("HCl-24.99", "HCl", 24.99, {"H290", "H315", "H319", "H335"}, None, GISCHEM + "4531", "FOUND"),
     ("HCl-25", "HCl", 25.0, {"H290", "H314", "H335"}, "Skin Corr. 1B", GISCHEM + "4531", "FOUND"),
-    ("HCl-H290-0.35", "HCl", 0.35, set(), None, "expydoc: none up to 0.1 mol/L", "COMMON-PRACTICE"),
-    ("HCl-H290-0.36", "HCl", 0.36, {"H290"}, None, "expydoc: H290 from 0.1 mol/L", "COMMON-PRACTICE"),
+    ("HCl-H290-0.35", "HCl", 0.35, set(), None, "expydoc: none up to 0.1 mol/L", "PRACTICE"),
+    ("HCl-H290-0.36", "HCl", 0.36, {"H290"}, None, "expydoc: H290 from 0.1 mol/L", "PRACTICE"),
     # nitric acid: GisChem overview of dilutions; FUB for the SCLs
     ("HNO3-0.99", "HNO3", 0.99, set(), None, "GisChem overview", "FOUND"),
     ("HNO3-1", "HNO3", 1.0, {"H315", "H319"}, "Eye Irrit. 2", "GisChem: 1-<3 % H315 H319", "FOUND"),
@@ -87,7 +87,7 @@ BOUNDARY_RECORDS = [
     ("HF-6.99", "HF", 6.99, {"H301", "H310", "H331", "H314", "EUH071"}, "Skin Corr. 1B", "DGUV band carried to 7 %", "DERIVED"),
     ("HF-7", "HF", 7.0, {"H300", "H310", "H330", "H314", "EUH071"}, "Skin Corr. 1A", GISCHEM + "696", "FOUND"),
     # phosphoric acid: SCLs 25 % / 10 % (from memory; former Annex I limits seen)
-    ("H3PO4-0.99", "H3PO4", 0.99, set(), None, "expydoc (H290 from 1 %)", "COMMON-PRACTICE"),
+    ("H3PO4-0.99", "H3PO4", 0.99, set(), None, "expydoc (H290 from 1 %)", "PRACTICE"),
     ("H3PO4-9.99", "H3PO4", 9.99, {"H290"}, None, "Annex VI SCL from memory", "MEMORY"),
     ("H3PO4-10", "H3PO4", 10.0, {"H290", "H315", "H319"}, "Skin Irrit. 2", "SCL from memory; DSD Xi 10-25 %", "MEMORY"),
     ("H3PO4-24.99", "H3PO4", 24.99, {"H290", "H315", "H319"}, None, "SCL from memory", "MEMORY"),

@@ -7,7 +7,7 @@ from datetime import date
 from carboy.store.db import Store
 from carboy.store.demo import DEMO_TODAY
 from carboy.tui.app.screens.neutralize import NeutralizeScreen
-from carboy.tui.app.screens.stock import StockScreen
+from carboy.tui.app.screens.stock import StockScreen, StockTable
 from carboy.tui.app.screens.too_small import TooSmallScreen
 from carboy.tui.app.screens.waste import WasteScreen
 
@@ -24,6 +24,16 @@ async def test_starts_on_stock_with_the_contract(make, demo_db, wait_for, who):
         finally:
             first.close()
             second.close()
+
+
+async def test_bare_keys_never_switch_screens(make):
+    app = make()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        app.screen.query_one(StockTable).focus()   # outside any text field
+        await pilot.press(*"H2SO4=1M", "question_mark")
+        await pilot.pause()
+        assert app.current_mode == "stock"
 
 
 async def test_keys_switch_screens_but_typing_stays_in_its_field(make):
@@ -57,7 +67,7 @@ async def test_plan_container_opens_neutralize_and_loads_it(make, monkeypatch, w
 async def test_refresh_data_reloads_waste(make, wait_for):
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
-        await pilot.press("2")
+        await pilot.press("f3")
         await wait_for(pilot, lambda: isinstance(app.screen, WasteScreen) and app.screen.loads)
         before = app.screen.loads
         app.refresh_data()
@@ -71,7 +81,7 @@ async def test_too_small_terminal_gets_a_message_then_recovers(make):
         assert isinstance(app.screen, TooSmallScreen)
         message = str(app.screen.query_one("#too-small-message").render())
         assert "80×24" in message and "70×20" in message
-        await pilot.press("2")  # screen keys do not apply while too small
+        await pilot.press("f3")  # screen keys do not apply while too small
         assert app.current_mode == "stock"
         await pilot.resize_terminal(80, 24)
         await pilot.pause(0.1)

@@ -14,6 +14,7 @@ from carboy.store.db import open_database
 from carboy.store.demo import DEMO_TODAY, create_demo_database
 from carboy.tui.app.app import make_app
 from carboy.tui.app.live import Computed
+from carboy.tui.app.screens.confirm import ConfirmScreen
 from carboy.tui.app.screens.neutralize import (
     CURVE_POINTS,
     FormState,
@@ -160,13 +161,15 @@ async def test_record_with_measured_ph_appends_a_journal_entry(demo_db):
         assert dialog.query_one("#who", Input).value == "tester"
         await pilot.press("1", "5", "enter")
         assert "✗" in str(dialog.query_one("#measured-echo", Static).content)
-        assert dialog.request is None
+        assert app.screen is dialog  # a bad reading is never accepted
         dialog.query_one("#who", Input).value = "a.helper"  # who did the work
         dialog.query_one("#measured", Input).value = ""
         await pilot.press(*"7,2")
-        await pilot.press("enter")  # asks to confirm
-        assert dialog.request is not None and dialog.has_class("-confirming")
-        await pilot.press("enter")  # confirms
+        await pilot.press("enter")  # asks to confirm, with the safe answer focused
+        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
+        assert "from planned to neutralized" in app.screen.message
+        assert app.focused.id == "confirm-no"
+        await pilot.press("y")  # an explicit yes
         await wait_for(pilot, lambda: screen.last_journal_id is not None)
         entry_id = screen.last_journal_id
         await settled(pilot, screen)
@@ -199,7 +202,9 @@ async def test_record_can_be_cancelled_and_writes_nothing(demo_db):
         store.close()
         await pilot.press("ctrl+r")
         await wait_for(pilot, lambda: isinstance(app.screen, RecordDialog))
-        await pilot.press("escape")
+        await pilot.press(*"7.1", "enter")
+        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
+        await pilot.press("enter", "enter")  # Enter, Enter: the safe answer, twice
         await wait_for(pilot, lambda: app.screen is screen)
         await pilot.pause(0.2)
     store = open_database(demo_db)

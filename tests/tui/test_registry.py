@@ -24,7 +24,7 @@ def test_every_destination_names_a_real_screen():
 def test_the_app_has_a_mode_and_a_key_for_every_destination():
     assert list(CarboyApp.MODES) == MODES
     go = {b.action: b.key for b in CarboyApp.BINDINGS if b.action.startswith("go(")
-          and b.show}
+          and b.id == f"app.go.{b.action[4:-2]}"}
     assert go == {f"go('{d.mode}')": d.key for d in registry.DESTINATIONS}
 
 

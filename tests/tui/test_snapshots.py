@@ -40,21 +40,21 @@ def test_stock(snap_compare, make, size):
 @pytest.mark.parametrize("size", SIZES)
 def test_waste(snap_compare, make, size):
     async def run_before(pilot):
-        await settle(pilot, "2", lambda s: getattr(s, "detail", None) is not None)
+        await settle(pilot, "f3", lambda s: getattr(s, "detail", None) is not None)
 
     assert snap_compare(make(), terminal_size=size, run_before=run_before)
 
 
 def test_journal(snap_compare, make):
     async def run_before(pilot):
-        await settle(pilot, "4", lambda s: getattr(s, "loads", 0) > 0)
+        await settle(pilot, "f5", lambda s: getattr(s, "loads", 0) > 0)
 
     assert snap_compare(make(), terminal_size=(80, 24), run_before=run_before)
 
 
 def test_prepare(snap_compare, make):
     async def run_before(pilot):
-        await settle(pilot, "5", lambda s: bool(s.query("#source")))
+        await settle(pilot, "f7", lambda s: bool(s.query("#source")))
         screen = pilot.app.screen
         screen.query_one("#source", Input).value = "H2SO4=96%"
         screen.query_one("#target", Input).value = "1 M"

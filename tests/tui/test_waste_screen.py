@@ -12,7 +12,7 @@ from carboy.tui.app.widgets.safety_note import DISPOSAL_NOTE
 
 
 async def on_waste(app, pilot, wait_for, label: str | None = None) -> WasteScreen:
-    await pilot.press("2")
+    await pilot.press("f3")
     await wait_for(pilot, lambda: isinstance(app.screen, WasteScreen) and app.screen.detail)
     screen = app.screen
     if label is not None:

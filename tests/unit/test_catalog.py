@@ -22,6 +22,7 @@ from carboy.model.catalog import (
     normalize_name,
 )
 from carboy.model.entities import Compound, Ion, System
+from carboy.model.provenance import REQUIRED_WORDING
 
 
 @pytest.fixture(scope="module")
@@ -140,18 +141,23 @@ def test_every_constant_has_a_source_and_status(cat):
                 status = getattr(step, f"{what}_status")
                 assert source.strip(), (key, what)
                 assert status in STATUSES - {"USER"}, (key, what)
-                if status in ("MEMORY", "FOUND-SRC"):
-                    assert "from memory" in source, (key, what)
+                for word in REQUIRED_WORDING.get(status, ()):
+                    assert word in source.casefold(), (key, what, status)
 
 
 def test_values_without_a_published_enthalpy_are_zero_and_say_so(cat):
+    seen = 0
     for key, system in cat.systems.items():
         for j, step in enumerate(cat.provenance(key)):
             if step.dh_status == "NONE":
+                seen += 1
                 assert system.dh_kj[j] == 0.0
                 assert "no published value used" in step.dh_source
             if step.dcp_status == "NONE":
+                seen += 1
                 assert system.dcp_j[j] == 0.0
+                assert "no published value used" in step.dcp_source
+    assert seen > 0, "no NONE constant found: the test checks nothing"
 
 
 def test_strong_acids(cat):
@@ -234,8 +240,19 @@ def _heavy_elements(formula: str) -> dict[str, int]:
 
 def test_composition_keys_resolve(cat):
     for compound in cat.compounds.values():
-        for part in compound.composition:
-            cat.component(part)
+        assert compound.composition, compound.key
+        for part, count in compound.composition.items():
+            found = cat.component(part)
+            assert isinstance(found, (System, Ion)) and found.key == part, (compound.key, part)
+            assert cat.is_system(part) != cat.is_ion(part), (compound.key, part)
+            assert isinstance(count, int) and count >= 1, (compound.key, part)
+
+
+def test_a_composition_naming_no_component_is_refused(cat):
+    bad = replace(cat.compounds["NaCl"], key="NaQ", formula="NaCl2", aliases=(),
+                  name="not a salt", composition={"Na+": 1, "chlorine": 1})
+    with pytest.raises(CatalogError, match="'chlorine'"):
+        cat.with_user(compounds=[bad])
 
 
 def test_composition_reproduces_formula_elements(cat):
@@ -583,9 +600,9 @@ def test_density_tables_attached(cat):
         rows = cat.density_rows(key)
         assert len(rows) == len(table.mass_percent)
         for row in rows:
-            assert row.status in STATUSES and row.source.strip()
-            if row.status == "MEMORY":
-                assert "from memory" in row.source
+            assert row.status in STATUSES - {"USER"} and row.source.strip()
+            for word in REQUIRED_WORDING.get(row.status, ()):
+                assert word in row.source.casefold(), (key, row)
 
 
 def test_density_interpolation_at_rows_and_between(cat):

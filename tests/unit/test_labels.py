@@ -68,9 +68,21 @@ def test_mass_percent_outside_0_100_or_not_finite_is_refused(bad):
     assert err.value.value is bad
 
 
-@pytest.mark.parametrize("edge", [0, 0.0, 100, 100.0])
-def test_mass_percent_edges_are_accepted(edge):
-    hazard_statements("NaOH", edge)
+# NaOH: no band below 0.5 % (GisChem's lowest sheet, GISCHEM_NAOH_LOW); from 5 % Danger,
+# GHS05, H290 H314 (GisChem 'Natriumhydroxidlösung, ab 5 %', GISCHEM_NAOH_5): FOUND.
+@pytest.mark.parametrize(
+    ("edge", "signal", "pictograms", "codes"),
+    [
+        (0, None, (), []),
+        (0.0, None, (), []),
+        (100, "Danger", ("GHS05",), ["H290", "H314"]),
+        (100.0, "Danger", ("GHS05",), ["H290", "H314"]),
+    ],
+)
+def test_mass_percent_edges_are_accepted(edge, signal, pictograms, codes):
+    got_signal, got_pictograms, statements, basis = hazard_statements("NaOH", edge)
+    assert (got_signal, got_pictograms, [s.code for s in statements]) == (signal, pictograms, codes)
+    assert basis.startswith(f"NaOH at {edge:g} % w/w")
 
 
 @pytest.mark.parametrize("bad", ["", "   ", None, 7])

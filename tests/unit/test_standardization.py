@@ -17,6 +17,7 @@ from scipy import stats
 
 from carboy.errors import InvalidInput
 from carboy.model.catalog import default_catalog, molar_mass_of
+from carboy.model.provenance import REQUIRED_WORDING
 from carboy.model.standardization import (
     STATUSES,
     AcceptanceRule,
@@ -87,8 +88,8 @@ def test_every_number_and_note_has_a_source_and_a_status():
             assert prov.status in STATUSES and prov.source.strip()
         for note in (*std.drying, std.end_point):
             assert note.status in STATUSES and note.source.strip() and note.text.strip()
-            if note.status == "MEMORY":
-                assert "from memory" in note.source
+            for word in REQUIRED_WORDING.get(note.status, ()):
+                assert word in note.source.casefold(), (std.key, note)
     for tit in titrants().values():
         assert tit.provenance["equivalents"].source.strip()
     for prov in _data().acceptance.values():

@@ -4,7 +4,7 @@ target molarities, the final volume(s), and what goes on the new bottle.
 :func:`read` parses the fields; :func:`plan` turns a request and its source into the
 recipes, the new bottles' fields and their labels.  The Prepare screen and ``carboy
 prep`` both go through these, so the same text gives the same recipe.  A source that
-names a stock bottle (``#23``) comes back as ``bottle_id``; ``carboy.store.preparing``
+names a stock bottle (``#23``) comes back as ``bottle_id``; ``carboy.store.preparations``
 reads the bottle and records the preparation.
 """
 

@@ -41,14 +41,11 @@ class CarboyApp(DatabaseWatch, App):
     MODES = registry.modes()
     DEFAULT_MODE = registry.DEFAULT_MODE
     BINDINGS = [
-        # Function keys work everywhere, even while typing in a field (priority); the
-        # digits and "?" do the same from anywhere that is not a text field.
+        # Screens change only by function keys (which work everywhere, even while typing),
+        # the command palette and the mode bar: never by a key a form could take.
         *registry.bindings(),
         Binding("ctrl+q", "quit", "Quit", id="app.quit", priority=True,
                 tooltip="Leave carboy"),
-        Binding("question_mark", "go('help')", "Help", id="app.go.help.short", show=False),
-        *[Binding(str(n), f"go('{d.mode}')", d.label, id=f"app.go.{d.mode}.short", show=False)
-          for n, d in enumerate((d for d in registry.DESTINATIONS if d.mode != "help"), 1)],
         Binding("f6", "reload", "Reload", id="app.reload",
                 tooltip="Read the database again (other staff may have changed it)"),
     ]
@@ -58,7 +55,7 @@ class CarboyApp(DatabaseWatch, App):
 
     def __init__(self, db_path: Path, *, demo: bool = False, today: date | None = None,
                  who: str | None = None) -> None:
-        super().__init__()
+        super().__init__(ansi_color=True)  # the terminal's own palette (16 colours, NO_COLOR)
         self.db_path = Path(db_path)
         self.demo = demo
         self._today = today

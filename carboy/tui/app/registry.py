@@ -86,8 +86,9 @@ def modes() -> dict[str, Callable[[], Screen]]:
 
 
 def bindings() -> list[Binding]:
-    """The keys that lead to each destination, from anywhere (even while typing); Help
-    first, so a narrow footer still shows where to find every key."""
+    """The keys that lead to each destination, from anywhere (even while typing).  The mode
+    bar shows them all, so the footer keeps its room for the screen's own keys: of these it
+    shows only Help, first."""
     ordered = sorted(DESTINATIONS, key=lambda d: d.mode != "help")
     return [Binding(d.key, f"go('{d.mode}')", d.label, id=f"app.go.{d.mode}", priority=True,
-                    tooltip=d.help) for d in ordered]
+                    tooltip=d.help, show=d.mode == "help") for d in ordered]

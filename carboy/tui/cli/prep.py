@@ -70,7 +70,7 @@ def fields_of(args) -> PrepareFields:
 def build(args):
     """The recipes, their labels and (with --record) what was written; no output."""
     from carboy.model.catalog import default_catalog
-    from carboy.store import preparing
+    from carboy.store import preparations as preparing
     from carboy.store.db import current_user
 
     fields = fields_of(args)
@@ -86,7 +86,7 @@ def build(args):
         made = first_problem(reading, OPTIONS)
         recorded = None
         if args.record:
-            done = preparing.record(store, made, reading.bottle)
+            done = preparing.record_made(store, made, reading.bottle)
             recorded = [{"entry_id": m.entry_id, "new_bottle_id": m.new_bottle_id,
                          "source_left": m.source_left} for m in done]
     return made.recipes, made.labels, recorded

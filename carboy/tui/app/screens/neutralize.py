@@ -44,6 +44,7 @@ from carboy.model.forms.neutralize import (
 from carboy.store.planning import BottleChoice
 from carboy.store.statuses import ContainerStatus
 from carboy.tui.app.live import Computed, LiveComputation, Outcome
+from carboy.tui.app.screens.confirm import ConfirmScreen
 from carboy.tui.app.screens.neutralize_parts import (
     TYPED,
     TYPED_TITLE,
@@ -54,7 +55,11 @@ from carboy.tui.app.screens.neutralize_parts import (
     reagent_options,
     sample_options,
 )
-from carboy.tui.app.screens.neutralize_record import RecordDialog, RecordRequest
+from carboy.tui.app.screens.neutralize_record import (
+    RecordDialog,
+    RecordRequest,
+    confirmation_text,
+)
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.ph_curve import PHCurvePanel, curve_data_from_plan
 from carboy.tui.app.widgets.plan_view import CautionsPanel, PlanSummary, StagesTable, dose_text
@@ -403,12 +408,21 @@ class NeutralizeScreen(Screen):
                      f"{dose_text(plan, plan.to_target)}")
         who = str(getattr(self.app, "who", "") or "")
 
-        def done(request: RecordRequest | None) -> None:
-            if request is None:
+        def confirmed(request: RecordRequest, yes: bool | None) -> None:
+            if not yes:
                 self._set_status("recording cancelled: nothing was written")
                 return
             self._set_status(f"recording {container.label}…")
             self._record(container.label, self.snapshot(), request)
+
+        def done(request: RecordRequest | None) -> None:
+            if request is None:
+                self._set_status("recording cancelled: nothing was written")
+                return
+            self.app.push_screen(
+                ConfirmScreen("Record this neutralization?",
+                              confirmation_text(container, request), yes_label="Record"),
+                lambda yes: confirmed(request, yes))
 
         self.app.push_screen(RecordDialog(container, plan_line, who, plan.drain_plan), done)
 

@@ -1,5 +1,6 @@
-"""The dialog that records a neutralization: the pH measured and who did it, then one more
-question before the permanent journal entry is written."""
+"""The dialog that takes what a neutralization record needs (the pH measured and who did
+it).  The permanent write is asked once more by the app's one confirmation dialog, with the
+safe answer focused, like every other permanent action."""
 
 from __future__ import annotations
 
@@ -25,7 +26,7 @@ class RecordRequest:
 
 
 class RecordDialog(ModalScreen[RecordRequest | None]):
-    """Ask for the pH measured and who did it, then ask once more before writing."""
+    """Ask for the pH measured and who did it; dismisses with them (or None)."""
 
     BINDINGS = [Binding("escape", "cancel", "Cancel", id="neutralize.record.cancel")]
 
@@ -40,8 +41,6 @@ class RecordDialog(ModalScreen[RecordRequest | None]):
     RecordDialog .rd-row > Input { width: 1fr; }
     RecordDialog #measured-echo { padding-left: 14; height: auto; }
     RecordDialog #measured-echo.-error { text-style: bold; color: $text-error; }
-    RecordDialog #confirm-text { display: none; height: auto; margin-top: 1; text-style: bold; }
-    RecordDialog.-confirming #confirm-text { display: block; }
     RecordDialog #rd-buttons { height: auto; margin-top: 1; align-horizontal: right; }
     RecordDialog #rd-buttons > Button { margin-left: 2; }
     """
@@ -53,7 +52,6 @@ class RecordDialog(ModalScreen[RecordRequest | None]):
         self.plan_line = plan_line
         self.default_who = who
         self.drain_plan = drain_plan
-        self.request: RecordRequest | None = None
 
     def compose(self) -> ComposeResult:
         with Vertical(id="record-box"):
@@ -70,17 +68,12 @@ class RecordDialog(ModalScreen[RecordRequest | None]):
             with Horizontal(classes="rd-row"):
                 yield Label("who")
                 yield Input(self.default_who, id="who", compact=True)
-            yield Static("", id="confirm-text", markup=False)
             with Horizontal(id="rd-buttons"):
                 yield Button("Record…", id="rd-ok", compact=True)
                 yield Button("Cancel", id="rd-cancel", compact=True)
 
     def on_mount(self) -> None:
         self.query_one("#measured", Input).focus()
-
-    @staticmethod
-    def _next_status(ph: float | None) -> str:
-        return (ContainerStatus.PLANNED if ph is None else ContainerStatus.NEUTRALIZED).words
 
     def _echo(self, text: str) -> str:
         try:
@@ -104,18 +97,6 @@ class RecordDialog(ModalScreen[RecordRequest | None]):
         text = self._echo(event.value)
         echo.update(text)
         echo.set_class(text.startswith("✗"), "-error")
-        self._back_to_edit()
-
-    @on(Input.Changed, "#who")
-    def _who_changed(self) -> None:
-        self._back_to_edit()
-
-    def _back_to_edit(self) -> None:
-        if self.has_class("-confirming"):
-            self.remove_class("-confirming")
-            self.query_one("#rd-ok", Button).label = "Record…"
-            self.query_one("#rd-cancel", Button).label = "Cancel"
-            self.request = None
 
     @on(Input.Submitted)
     def _submitted(self) -> None:
@@ -123,9 +104,6 @@ class RecordDialog(ModalScreen[RecordRequest | None]):
 
     @on(Button.Pressed, "#rd-ok")
     def _press_ok(self) -> None:
-        if self.request is not None:
-            self.dismiss(self.request)
-            return
         try:
             ph = read_measured_ph(self.query_one("#measured", Input).value)
         except CarboyError as err:
@@ -135,25 +113,23 @@ class RecordDialog(ModalScreen[RecordRequest | None]):
         if not who:
             self._show_error("who: say who did the work", "who")
             return
-        self.request = RecordRequest(ph, who)
-        measured = "pH not measured" if ph is None else f"measured pH {ph:g}"
-        self.query_one("#confirm-text", Static).update(
-            f"Append to the journal: {self.container.label}, {measured}, by {who}. "
-            f"{self.container.label} moves {self.container.status} → {self._next_status(ph)}. "
-            "Journal entries are permanent (a mistake is corrected by a new entry). "
-            "Confirm?")
-        self.add_class("-confirming")
-        self.query_one("#rd-ok", Button).label = "Confirm"
-        self.query_one("#rd-cancel", Button).label = "Back"
-        self.query_one("#rd-ok", Button).focus()
+        self.dismiss(RecordRequest(ph, who))
 
     @on(Button.Pressed, "#rd-cancel")
     def _press_cancel(self) -> None:
-        if self.request is not None:
-            self._back_to_edit()
-            self.query_one("#measured", Input).focus()
-        else:
-            self.dismiss(None)
+        self.dismiss(None)
 
     def action_cancel(self) -> None:
         self.dismiss(None)
+
+
+def confirmation_text(container: ContainerSample, request: RecordRequest) -> str:
+    """What the confirmation asks before the permanent journal entry is written."""
+    measured = ("pH not measured" if request.measured_ph is None
+                else f"measured pH {request.measured_ph:g}")
+    after = ContainerStatus.PLANNED if request.measured_ph is None \
+        else ContainerStatus.NEUTRALIZED
+    now = ContainerStatus(container.status)
+    return (f"Append to the journal: {container.label}, {measured}, by {request.who}.\n"
+            f"{container.label} moves from {now.words} to {after.words}.\n"
+            "Journal entries are permanent (a mistake is corrected by a new entry).")

@@ -230,11 +230,11 @@ class PrepareScreen(Screen):
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="prepare-record")
     def _record(self, o: PrepOutcome) -> None:
-        from carboy.store import preparing
+        from carboy.store import preparations as preparing
 
         try:
             with self.app.open_store() as store:
-                made = preparing.record(store, o.made, o.bottle, who=self.app.who)[0]
+                made = preparing.record_made(store, o.made, o.bottle, who=self.app.who)[0]
         except Exception as exc:
             self.app.call_from_thread(self.query_one("#prep-error", ErrorLine).show,
                                       "not recorded: " + describe(exc))
@@ -251,7 +251,7 @@ class PrepareScreen(Screen):
 
 def compute(form: dict[str, str], generation: int, app) -> PrepOutcome:
     """Read the form and work out the recipe (the same code as ``carboy prep``)."""
-    from carboy.store import preparing
+    from carboy.store import preparations as preparing
     from carboy.store.compounds import catalog_for
 
     fields = PrepareFields(source=form["source"], target=form["target"],
