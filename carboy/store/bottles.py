@@ -15,6 +15,7 @@ from datetime import date, datetime
 from typing import Any
 
 from carboy.errors import InvalidInput
+from carboy.model import numbers
 from carboy.store import journal, rules
 from carboy.store.bottle_fields import Bottle, validate
 from carboy.store.compounds import catalog_for
@@ -110,7 +111,7 @@ def record_standardization(store: Store, bottle_id: int, strength: str | float, 
         return journal.append_in(
             s, "standardization", bottle_id=bottle.id, snapshot=snap, who=who, when=when,
             summary=f"bottle {bottle.id} {bottle.compound_key} standardized: "
-                    f"{format_strength(value, bottle.strength_unit)}")
+                    f"{numbers.strength(value, bottle.strength_unit)}")
 
     return store.write(work)
 

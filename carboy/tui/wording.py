@@ -1,10 +1,17 @@
 """Words and numbers both front ends print the same way.
 
 The app and the command line lay things out differently, but a quantity, a heat or a
-status reads the same in both: the phrasing lives here, once.
+status reads the same in both: the phrasing lives here, once (numbers by the rule of
+:mod:`carboy.model.numbers`, which the journal's summaries follow too).
 """
 
 from __future__ import annotations
+
+from carboy.model import numbers
+from carboy.model.numbers import amount, count, mass, moles, ph, strength, volume
+
+__all__ = ["amount", "count", "heat_text", "mass", "moles", "ph", "short_strength", "strength",
+           "volume"]
 
 
 def heat_text(recipe) -> str:
@@ -26,8 +33,4 @@ def heat_text(recipe) -> str:
 
 def short_strength(value: float | None, unit: str) -> str:
     """A strength for a narrow column: ``0.1 M``, ``37 %`` (w/w), ``—`` when unknown."""
-    if value is None:
-        return "—"
-    from carboy.store.readers import format_strength
-
-    return format_strength(value, unit).replace(" %w/w", " %")
+    return numbers.strength(value, unit).replace(" %w/w", " %")

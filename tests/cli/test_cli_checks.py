@@ -46,7 +46,7 @@ def test_check_lists_the_never_standardized_naoh(capsys, db):
     code, out, _ = run(capsys, "stock", "check", "--all", "--db", db, "--json")
     assert {r["bottle_id"] for r in json.loads(out)["bottles"]} == {never, fine}
     code, out, _ = run(capsys, "stock", "check", "--db", db)
-    assert "never standardized" in out and "1 bottles need attention" in out
+    assert "never standardized" in out and "1 bottle needs attention" in out
 
 
 def test_rules_set_show_and_refuse(capsys, db):

@@ -95,7 +95,7 @@ def test_stock_add_list_show(capsys, db):
     shown = run_json(capsys, "stock", "show", str(b["id"]), "--db", db)
     assert shown["journal"][0]["kind"] == "receipt"
     code, out, _ = run(capsys, "stock", "list", "--db", db)
-    assert code == 0 and "FW-77" in out and "1 of 1 bottles" in out
+    assert code == 0 and "FW-77" in out and "1 of 1 bottle" in out
 
 
 @pytest.mark.parametrize("argv, needle", [

@@ -9,7 +9,7 @@ from carboy.tui.app.screens.journal import EntryTable, JournalScreen
 
 
 async def on_journal(app, pilot, wait_for) -> JournalScreen:
-    await pilot.press("4")
+    await pilot.press("f5")
     await wait_for(pilot, lambda: isinstance(app.screen, JournalScreen) and app.screen.loads)
     return app.screen
 

@@ -6,8 +6,9 @@ import argparse
 import sys
 
 from carboy.model.forms import MAX_ID
-from carboy.store.statuses import BOTTLE_STATUSES
+from carboy.store.statuses import BOTTLE_STATUSES, BottleStatus
 from carboy.tui.cli.kit import EXIT_OK, common_options, emit_json, group, open_store, whole
+from carboy.tui.wording import amount, count, strength
 
 STOCK_IMPORT_HELP = """CSV column layout (header row required; any column order):
   compound            catalog key, formula or name (required), e.g. HCl
@@ -115,11 +116,9 @@ def register(sub) -> None:
 
 
 def _bottle_line(b) -> str:
-    from carboy.store.stock import format_amount
-
-    return (f"{b.id:>6}  {b.compound_key:<10} {b.strength_text:<12} "
-            f"{format_amount(b.amount_left, b.amount_unit):>9}  {b.strength_status:<9} "
-            f"{b.status:<8} {b.location}  {b.lot}")
+    return (f"{b.id:>6}  {b.compound_key:<10} {strength(b.label_strength, b.strength_unit):<12} "
+            f"{amount(b.amount_left, b.amount_unit):>9}  {b.strength_status:<9} "
+            f"{BottleStatus(b.status).words:<8} {b.location}  {b.lot}")
 
 
 def stock_list(args) -> int:
@@ -138,7 +137,7 @@ def stock_list(args) -> int:
     for b in got.bottles:
         print(_bottle_line(b))
     more = f"; next page: --after {got.next_after}" if got.next_after else ""
-    print(f"{len(got.bottles)} of {total} bottles{more}")
+    print(f"{len(got.bottles)} of {count(total, 'bottle')}{more}")
     return EXIT_OK
 
 
@@ -188,7 +187,7 @@ def stock_import(args) -> int:
     if args.json:
         emit_json({"imported": len(ids), "ids": ids})
     else:
-        print(f"imported {len(ids)} bottles (ids {ids[0]}–{ids[-1]})")
+        print(f"imported {count(len(ids), 'bottle')} (ids {ids[0]}–{ids[-1]})")
     return EXIT_OK
 
 
@@ -229,7 +228,7 @@ def stock_check(args) -> int:
                   | ({"pdf": pdf} if pdf else {}))
         return EXIT_OK
     if pdf:
-        print(f"wrote the due list ({len(rows)} bottles) to {pdf}")
+        print(f"wrote the due list ({count(len(rows), 'bottle')}) to {pdf}")
     if not rows:
         print("every bottle in use is within its re-check interval, on label and unexpired")
         return EXIT_OK
@@ -237,18 +236,19 @@ def stock_check(args) -> int:
           f"{'last':<10} {'every':>5}  {'expires':<10} flags")
     for r in rows:
         b = r.bottle
-        measured = stock.format_strength(b.current_strength, b.strength_unit) \
+        measured = strength(b.current_strength, b.strength_unit) \
             if b.current_strength is not None else "-"
         dev = f"{r.deviation_percent:+.1f}" if r.deviation_percent is not None else "-"
         print(f"{b.id:>6}  {b.compound_key:<10} "
-              f"{stock.format_strength(b.label_strength, b.strength_unit):<11} {measured:<11} "
+              f"{strength(b.label_strength, b.strength_unit):<11} {measured:<11} "
               f"{dev:>6}  {(b.measured_at or '-')[:10]:<10} "
               f"{(str(b.recheck_days) + ' d') if b.recheck_days else '-':>5}  "
               f"{b.expires_on or '-':<10} {', '.join(r.flags) or 'ok'}")
         for reason in r.reasons:
             print(f"{'':8}{reason}")
-    print(f"{flagged} of {len(rows)} listed bottles need attention" if args.everything
-          else f"{flagged} bottles need attention")
+    need = "needs" if flagged == 1 else "need"
+    print(f"{flagged} of {count(len(rows), 'listed bottle')} {need} attention"
+          if args.everything else f"{count(flagged, 'bottle')} {need} attention")
     return EXIT_OK
 
 

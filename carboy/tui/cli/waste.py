@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from carboy.store.statuses import CONTAINER_STATUSES
+from carboy.store.statuses import CONTAINER_STATUSES, ContainerStatus
 from carboy.tui.cli.kit import (
     EXIT_OK,
     common_options,
@@ -13,6 +13,7 @@ from carboy.tui.cli.kit import (
     group,
     open_store,
 )
+from carboy.tui.wording import count, volume
 
 
 def register(sub) -> None:
@@ -71,7 +72,8 @@ def waste_new(args) -> int:
     if args.json:
         emit_json(c.as_dict())
     else:
-        print(f"opened waste container {c.label} ({c.capacity_l:g} L) at {c.location or '-'}")
+        print(f"opened waste container {c.label} ({volume(c.capacity_l)}) at "
+              f"{c.location or '-'}")
     return EXIT_OK
 
 
@@ -94,8 +96,8 @@ def waste_add(args) -> int:
     if args.json:
         emit_json({"addition_id": addition_id, **c.as_dict()})
     else:
-        print(f"logged addition {addition_id} to {c.label}: now {c.volume_l:g} of "
-              f"{c.capacity_l:g} L")
+        print(f"logged addition {addition_id} to {c.label}: now {volume(c.volume_l)} of "
+              f"{volume(c.capacity_l)}")
     return EXIT_OK
 
 
@@ -107,7 +109,8 @@ def waste_show(args) -> int:
     if args.json:
         emit_json(info)
         return EXIT_OK
-    print(f"{info['label']}  {info['status']}  {info['volume_l']:g} of {info['capacity_l']:g} L"
+    print(f"{info['label']}  {ContainerStatus(info['status']).words}  "
+          f"{volume(info['volume_l'])} of {volume(info['capacity_l'])}"
           f"  {info['location']}")
     if info["notes"]:
         print(f"  {info['notes']}")
@@ -116,7 +119,7 @@ def waste_show(args) -> int:
         print(f"    {key:<12} {mol:.4g}")
     print("  additions:")
     for a in info["additions"]:
-        vol = f"{a['volume_l']:g} L" if a["volume_l"] else ""
+        vol = volume(a["volume_l"]) if a["volume_l"] else ""
         gone = "  [superseded]" if a["superseded"] else ""
         print(f"    #{a['id']} {a['added_at'][:16]} {a['added_by']:<12} {a['entered']:<18} "
               f"{vol:<8} {a['note']}{gone}")
@@ -132,8 +135,9 @@ def waste_list(args) -> int:
         emit_json([c.as_dict() for c in found])
         return EXIT_OK
     for c in found:
-        print(f"{c.label:<12} {c.status:<18} {c.volume_l:>7g} / {c.capacity_l:<5g} L  "
-              f"{c.n_additions:>3} additions  {c.location}")
+        print(f"{c.label:<12} {ContainerStatus(c.status).words:<18} "
+              f"{volume(c.volume_l):>8} of {volume(c.capacity_l):<8} "
+              f"{count(c.n_additions, 'addition'):>13}  {c.location}")
     return EXIT_OK
 
 

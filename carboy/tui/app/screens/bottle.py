@@ -18,6 +18,7 @@ from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.marks import bottle_mark, strength_mark
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.edge import describe
+from carboy.tui.wording import amount, strength
 
 HISTORY_LIMIT = 200
 
@@ -30,7 +31,7 @@ def bottle_fields(bottle: stock.Bottle) -> Table:
         grid.add_column(ratio=1)
     measured = "never measured"
     if bottle.current_strength is not None:
-        measured = stock.format_strength(bottle.current_strength, bottle.strength_unit)
+        measured = strength(bottle.current_strength, bottle.strength_unit)
         if bottle.measured_at:
             measured += f" on {bottle.measured_at[:10]}"
     if bottle.restandardize_days:
@@ -42,12 +43,12 @@ def bottle_fields(bottle: stock.Bottle) -> Table:
     pairs = [
         ("Compound", Text(f"{bottle.compound_key} ({bottle.compound_name})")),
         ("Strength check", strength_mark(bottle.strength_status)),
-        ("Label", Text(stock.format_strength(bottle.label_strength, bottle.strength_unit))),
+        ("Label", Text(strength(bottle.label_strength, bottle.strength_unit))),
         ("Measured", Text(measured)),
         ("Method", Text(bottle.measured_how or "—")),
         ("Re-standardize", Text(every)),
-        ("Left", Text(f"{stock.format_amount(bottle.amount_left, bottle.amount_unit)} of "
-                      f"{stock.format_amount(bottle.container_size, bottle.amount_unit)}")),
+        ("Left", Text(f"{amount(bottle.amount_left, bottle.amount_unit)} of "
+                      f"{amount(bottle.container_size, bottle.amount_unit)}")),
         ("Bottle", bottle_mark(bottle.status)),
         ("Location", Text(bottle.location or "—")),
         ("Lot", Text(bottle.lot or "—")),
@@ -126,7 +127,7 @@ class BottleScreen(Screen):
         self.bottle = bottle
         self.query_one("#bottle-title", Static).update(
             f"Bottle {bottle.id} · {bottle.compound_key} "
-            f"{stock.format_strength(bottle.label_strength, bottle.strength_unit)}")
+            f"{strength(bottle.label_strength, bottle.strength_unit)}")
         self.query_one("#bottle-fields", Static).update(bottle_fields(bottle))
         table = self.query_one("#bottle-history", DataTable)
         self.refresh_bindings()

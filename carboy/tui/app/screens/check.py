@@ -20,7 +20,7 @@ from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.marks import strength_mark
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.edge import describe
-from carboy.tui.wording import short_strength
+from carboy.tui.wording import count, short_strength
 
 FLAG_WORDS = {"expired": "expired", "off-label": "off-label", "overdue": "overdue",
               "never-standardized": "never std.", "expires-soon": "expires soon"}
@@ -104,7 +104,7 @@ class CheckScreen(Screen):
                 counts[f] = counts.get(f, 0) + 1
         summary = " · ".join(f"{n} {FLAG_WORDS[f]}" for f, n in counts.items())
         self.query_one("#check-count", Static).update(
-            f"{len(rows)} bottles need attention" + (f" · {summary}" if summary else "")
+            f"{count(len(rows), 'bottle')} {'needs' if len(rows) == 1 else 'need'} attention" + (f" · {summary}" if summary else "")
             if rows else "Every bottle in use is on label, within its interval and unexpired.")
         self.query_one("#check-error", ErrorLine).show("")
         self._show_reason(0)

@@ -26,7 +26,7 @@ from carboy.tui.app.widgets.marks import STRENGTH_MARKS, bottle_mark, strength_m
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.steady_input import SteadyInput
 from carboy.tui.edge import describe
-from carboy.tui.wording import short_strength
+from carboy.tui.wording import amount, short_strength
 
 PAGE_ROWS = 50
 SEARCH_DELAY_S = 0.15
@@ -45,7 +45,7 @@ def bottle_row(bottle: stock.Bottle) -> tuple:
         short_strength(bottle.label_strength, bottle.strength_unit),
         short_strength(bottle.current_strength, bottle.strength_unit),
         strength_mark(bottle.strength_status),
-        stock.format_amount(bottle.amount_left, bottle.amount_unit),
+        amount(bottle.amount_left, bottle.amount_unit),
         bottle_mark(bottle.status),
         bottle.location,
     )
