@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from carboy.errors import CarboyError
+from carboy.errors import CarboyError, Refused
 from carboy.store.statuses import container_state
 
 
@@ -43,7 +43,7 @@ class NotFound(StoreError, LookupError):
 
 
 @dataclass
-class AlreadyExists(StoreError):
+class AlreadyExists(StoreError, Refused):
     """A record with this key exists already."""
 
     kind: str
@@ -54,7 +54,7 @@ class AlreadyExists(StoreError):
 
 
 @dataclass
-class ContainerClosed(StoreError):
+class ContainerClosed(StoreError, Refused):
     """A waste container no longer accepts additions or this change of status."""
 
     label: str
@@ -68,7 +68,7 @@ class ContainerClosed(StoreError):
 
 
 @dataclass
-class OverCapacity(StoreError):
+class OverCapacity(StoreError, Refused):
     """An addition would take a waste container past its capacity."""
 
     label: str
@@ -97,7 +97,7 @@ class Busy(StoreError):
 
 
 @dataclass
-class JournalImmutable(StoreError):
+class JournalImmutable(StoreError, Refused):
     """Journal entries are never changed or removed; record a correction instead."""
 
     entry_id: object = None

@@ -66,7 +66,11 @@ def register(sub) -> None:
     p.add_argument("--every", metavar="DAYS", help="re-standardize every DAYS days")
     p.add_argument("--notes", default="", metavar="TEXT")
     p.set_defaults(func=stock_add)
+    _register_more(stock_sub, common, fmt)
 
+
+def _register_more(stock_sub, common, fmt) -> None:
+    """show, import, export, check and label."""
     p = stock_sub.add_parser("show", parents=[common], help="one bottle and its journal")
     p.add_argument("id", metavar="ID", help="bottle id")
     p.set_defaults(func=stock_show)

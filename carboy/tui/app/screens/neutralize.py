@@ -44,7 +44,6 @@ from carboy.model.forms.neutralize import (
 from carboy.store.planning import BottleChoice
 from carboy.store.statuses import ContainerStatus
 from carboy.tui.app.live import Computed, LiveComputation, Outcome
-from carboy.tui.app.screens.confirm import ConfirmScreen
 from carboy.tui.app.screens.neutralize_parts import (
     TYPED,
     TYPED_TITLE,
@@ -55,11 +54,7 @@ from carboy.tui.app.screens.neutralize_parts import (
     reagent_options,
     sample_options,
 )
-from carboy.tui.app.screens.neutralize_record import (
-    RecordDialog,
-    RecordRequest,
-    confirmation_text,
-)
+from carboy.tui.app.screens.neutralize_record import RecordRequest, ask_to_record
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.ph_curve import PHCurvePanel, curve_data_from_plan
 from carboy.tui.app.widgets.plan_view import CautionsPanel, PlanSummary, StagesTable, dose_text
@@ -408,23 +403,14 @@ class NeutralizeScreen(Screen):
                      f"{dose_text(plan, plan.to_target)}")
         who = str(getattr(self.app, "who", "") or "")
 
-        def confirmed(request: RecordRequest, yes: bool | None) -> None:
-            if not yes:
+        def record(request: RecordRequest | None) -> None:
+            if request is None:
                 self._set_status("recording cancelled: nothing was written")
                 return
             self._set_status(f"recording {container.label}…")
             self._record(container.label, self.snapshot(), request)
 
-        def done(request: RecordRequest | None) -> None:
-            if request is None:
-                self._set_status("recording cancelled: nothing was written")
-                return
-            self.app.push_screen(
-                ConfirmScreen("Record this neutralization?",
-                              confirmation_text(container, request), yes_label="Record"),
-                lambda yes: confirmed(request, yes))
-
-        self.app.push_screen(RecordDialog(container, plan_line, who, plan.drain_plan), done)
+        ask_to_record(self.app, container, plan_line, who, plan.drain_plan, record)
 
     def action_next_view(self) -> None:
         tabs = self.query_one("#nz-views", TabbedContent)

@@ -4,6 +4,7 @@ safe answer focused, like every other permanent action."""
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 from textual import on
@@ -17,6 +18,7 @@ from carboy.errors import CarboyError
 from carboy.model.forms import read_measured_ph
 from carboy.model.forms.neutralize import ContainerSample
 from carboy.store.statuses import ContainerStatus
+from carboy.tui.app.screens.confirm import ConfirmScreen
 
 
 @dataclass(frozen=True)
@@ -133,3 +135,23 @@ def confirmation_text(container: ContainerSample, request: RecordRequest) -> str
     return (f"Append to the journal: {container.label}, {measured}, by {request.who}.\n"
             f"{container.label} moves from {now.words} to {after.words}.\n"
             "Journal entries are permanent (a mistake is corrected by a new entry).")
+
+
+def ask_to_record(app, container: ContainerSample, plan_line: str, who: str, drain_plan: bool,
+                  then: Callable[[RecordRequest | None], None]) -> None:
+    """The record flow: the reading (:class:`RecordDialog`), then the one confirmation with
+    the safe answer focused; ``then`` gets the request on an explicit yes, else None."""
+
+    def confirmed(request: RecordRequest, yes: bool | None) -> None:
+        then(request if yes else None)
+
+    def read(request: RecordRequest | None) -> None:
+        if request is None:
+            then(None)
+            return
+        app.push_screen(ConfirmScreen("Record this neutralization?",
+                                      confirmation_text(container, request),
+                                      yes_label="Record"),
+                        lambda yes: confirmed(request, yes))
+
+    app.push_screen(RecordDialog(container, plan_line, who, drain_plan), read)
