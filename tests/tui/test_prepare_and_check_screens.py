@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import pytest
+from pypdf import PdfReader
 from textual.widgets import DataTable, Input
 
 from carboy.model import preparation
@@ -11,6 +12,7 @@ from carboy.store.db import open_database
 from carboy.store.demo import DEMO_TODAY
 from carboy.tui.app.screens.check import CheckScreen
 from carboy.tui.app.screens.prepare import PrepareScreen
+from carboy.tui.app.screens.print_pdf import PrintDialog
 
 
 def _demo_bottle(demo_db, compound: str, unit: str = "%w/w") -> stock.Bottle:
@@ -45,7 +47,8 @@ async def test_recipe_matches_the_model_and_bad_fields_are_named(make, wait_for)
         assert not screen.check_action("record", ())
 
 
-async def test_record_from_a_bottle_draws_and_adds_one_bottle(make, wait_for, demo_db):
+async def test_record_from_a_bottle_draws_and_adds_one_bottle(make, wait_for, demo_db,
+                                                              tmp_path):
     src = _demo_bottle(demo_db, "HCl")
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
@@ -63,6 +66,15 @@ async def test_record_from_a_bottle_draws_and_adds_one_bottle(make, wait_for, de
         await pilot.pause()
         await pilot.press("y")
         await wait_for(pilot, lambda: screen.last_recorded is not None)
+        # the new bottle's label is offered for printing at once
+        await wait_for(pilot, lambda: isinstance(app.screen, PrintDialog)
+                       and bool(app.screen.query("#print-path")))
+        pdf = tmp_path / "new-label.pdf"
+        app.screen.query_one("#print-path", Input).value = str(pdf)
+        await pilot.press("enter")
+        await wait_for(pilot, lambda: app.screen is screen)
+    text = "".join(page.extract_text() for page in PdfReader(pdf).pages)
+    assert f"bottle {screen.last_recorded['new_bottle_id']}" in text and "H290" in text
     s = open_database(demo_db)
     try:
         assert stock.get(s, src.id).amount_left == pytest.approx(src.amount_left

@@ -77,6 +77,8 @@ class BottleScreen(Screen):
                 tooltip="Standardize this bottle (a solution labelled in M)"),
         Binding("m", "make_from", "Prepare from it", id="bottle.prepare",
                 tooltip="A recipe that draws from this bottle"),
+        Binding("p", "print_label", "Print label", id="bottle.print_label",
+                tooltip="Its label (GHS pictograms, hazard statements, QR code) as a PDF"),
     ]
 
     def __init__(self, bottle_id: int) -> None:
@@ -154,6 +156,18 @@ class BottleScreen(Screen):
     def action_standardize(self) -> None:
         if self.bottle is not None:
             self.app.standardize_bottle(self.bottle.id)
+
+    def action_print_label(self) -> None:
+        from carboy.tui.app.screens.print_pdf import PrintDialog, bottle_labels
+
+        def done(path: str | None) -> None:
+            if path:
+                self.notify(f"Label written to {path}", timeout=6)
+
+        self.app.push_screen(PrintDialog(f"Print the label of bottle {self.bottle_id}",
+                                         f"bottle-{self.bottle_id}-label.pdf",
+                                         bottle_labels([self.bottle_id], self.app.today)),
+                             done)
 
     def action_make_from(self) -> None:
         if self.bottle is not None:

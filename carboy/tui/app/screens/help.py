@@ -54,6 +54,7 @@ def sections() -> list[Section]:
     main screens in the registry's order, each followed by what it opens."""
     from carboy.tui.app.app import CarboyApp
     from carboy.tui.app.screens.confirm import ConfirmScreen
+    from carboy.tui.app.screens.print_pdf import PrintDialog
 
     found = [Section("Everywhere", "Move between the screens, reload, quit. The command "
                      "palette (ctrl+p) has the same and more: search the stock, open a waste "
@@ -69,6 +70,7 @@ def sections() -> list[Section]:
             found.append(Section(title, _purpose(child, title), (child,)))
     found.append(Section("Confirmation", "Asked before anything that cannot be undone; the "
                          "safe answer has the focus.", (ConfirmScreen,)))
+    found.append(Section("Print to PDF", _purpose(PrintDialog, "Print"), (PrintDialog,)))
     return found
 
 

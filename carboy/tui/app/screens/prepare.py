@@ -246,7 +246,20 @@ class PrepareScreen(Screen):
         self.notify(f"Recorded: journal entry #{made.entry_id}, new bottle "
                     f"{made.new_bottle_id}.", timeout=5)
         self.app.refresh_data()
-        self._start()  # the source bottle has less in it now
+        self.live.changed()  # the source bottle has less in it now
+        self._offer_label(made.new_bottle_id)
+
+    def _offer_label(self, bottle_id: int) -> None:
+        """The new bottle's label, printed as it is recorded (Esc skips it)."""
+        from carboy.tui.app.screens.print_pdf import PrintDialog, bottle_labels
+
+        def done(path: str | None) -> None:
+            if path:
+                self.notify(f"Label of bottle {bottle_id} written to {path}", timeout=6)
+
+        self.app.push_screen(PrintDialog(f"Print the label of the new bottle {bottle_id}",
+                                         f"bottle-{bottle_id}-label.pdf",
+                                         bottle_labels([bottle_id], self.app.today)), done)
 
 
 def compute(form: dict[str, str], generation: int, app) -> PrepOutcome:
