@@ -50,6 +50,8 @@ class CheckScreen(Screen):
         Binding("escape", "back", "Back to stock", id="check.back"),
         Binding("s", "standardize", "Standardize", id="check.standardize",
                 tooltip="Open the Standardize screen on the highlighted bottle"),
+        Binding("p", "print_list", "Print list", id="check.print",
+                tooltip="This due list as an A4 PDF, with totals and page numbers"),
     ]
 
     def __init__(self) -> None:
@@ -150,6 +152,20 @@ class CheckScreen(Screen):
         row = self._current()
         if row is not None:
             self.app.standardize_bottle(row.bottle.id)
+
+    def action_print_list(self) -> None:
+        from carboy.store.documents import due_list
+        from carboy.tui.app.screens.print_pdf import PrintDialog
+
+        today = self.app.today
+
+        def done(path: str | None) -> None:
+            if path:
+                self.notify(f"Due list written to {path}", timeout=6)
+
+        self.app.push_screen(PrintDialog("Print the strength check (due list)",
+                                         f"due-list-{today.isoformat()}.pdf",
+                                         lambda store: [due_list(store, today=today)]), done)
 
     def action_back(self) -> None:
         self.dismiss()
