@@ -7,6 +7,7 @@ screen or an exit status.  Every error names the value that was wrong.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import ClassVar
 
 
 class CarboyError(Exception):
@@ -87,3 +88,33 @@ class NoConvergence(CarboyError, RuntimeError):
     def __str__(self) -> str:
         msg = f"{self.what} did not converge after {self.iterations} iterations"
         return msg + (f": {self.detail}" if self.detail else "")
+
+
+@dataclass
+class Refused(CarboyError):
+    """carboy will not do this: a safety rule forbids it, and nothing was written.
+
+    ``what`` says what was asked ("adding NaCN to MA-01"), ``reason`` names the hazard
+    in one line, ``findings`` carries what the rules found (for a front end that lists
+    them).  No reason a person gives can override it.
+    """
+
+    what: str
+    reason: str
+    findings: tuple = ()
+
+    overridable: ClassVar[bool] = False
+
+    def __str__(self) -> str:
+        return f"refused: {self.what}: {self.reason}"
+
+
+@dataclass
+class NeedsConfirmation(Refused):
+    """Not done until a person confirms it with a reason, which the journal keeps (a
+    lesser mismatch, such as a base into an acid-waste container)."""
+
+    overridable: ClassVar[bool] = True
+
+    def __str__(self) -> str:
+        return f"needs a reason to go ahead: {self.what}: {self.reason}"

@@ -18,17 +18,28 @@ SCHEMA_FILE = Path(__file__).parent / "data" / "schema.sql"
 SHIPPED_SHA256 = {
     "0001_storeroom": "c9c6cdd8193a1e86a1bfccc83e72ebefe0425821e20f18611e55eb6d653521ed",
     "0002_storeroom_rules": "ccb83e6aecff951a5e4a1400591b47c973364116bb8f460b5edc5f7c38f69bb8",
+    "0004_waste_streams": "acf7baf235fd7b8070f2b1897a2ef2be4f1c9ae961d70b10052172156866eda3",
 }
 
 
+class NoRows:
+    """What a query on the stand-in returns: nothing (a database with no rows)."""
+
+    def fetchall(self) -> list:
+        return []
+
+
 class Recorder:
-    """Stands in for the database and keeps the SQL a migration runs."""
+    """Stands in for the database and keeps the SQL a migration runs (a query finds no
+    rows, so a migration that also fills data runs only its schema statements and
+    queries)."""
 
     def __init__(self) -> None:
         self.sql: list[str] = []
 
-    def execute(self, sql: str, *params: object) -> None:
+    def execute(self, sql: str, *params: object) -> NoRows:
         self.sql.append(sql)
+        return NoRows()
 
 
 def sql_of(migration) -> list[str]:
