@@ -37,8 +37,8 @@ def run_json(capsys, *argv):
 
 def test_waste_round_trip(capsys, db):
     c = run_json(capsys, "waste", "new", "MA-01", "--location", "Bay 1", "--capacity", "10 L",
-                 "--db", db)
-    assert c["label"] == "MA-01" and c["capacity_l"] == 10.0
+                 "--stream", "acid", "--db", db)
+    assert c["label"] == "MA-01" and c["capacity_l"] == 10.0 and c["stream"] == "acid"
     run_json(capsys, "waste", "add", "MA-01", "HCl=1M", "--volume", "2 L", "--note", "rinse",
              "--db", db)
     run_json(capsys, "waste", "add", "MA-01", "H2SO4=0.5M", "--volume", "500 mL", "--db", db)
@@ -48,11 +48,12 @@ def test_waste_round_trip(capsys, db):
     assert info["composition"] == {"Cl-": pytest.approx(2.0), "sulfate": pytest.approx(0.25)}
     assert [a["note"] for a in info["additions"]] == ["rinse", ""]
     listed = run_json(capsys, "waste", "list", "--db", db)
-    assert [c["label"] for c in listed] == ["MA-01"]
+    assert [(c["label"], c["stream"]) for c in listed] == [("MA-01", "acid")]
+    assert info["stream"] == "acid" and info["warnings"] == []
 
 
 def test_top_level_db_option_works_too(capsys, db):
-    code, out, _ = run(capsys, "--db", db, "waste", "new", "X1")
+    code, out, _ = run(capsys, "--db", db, "waste", "new", "X1", "--stream", "alkaline")
     assert code == 0 and "X1" in out
     assert run_json(capsys, "--db", db, "waste", "list")[0]["label"] == "X1"
 
@@ -64,11 +65,12 @@ def test_top_level_db_option_works_too(capsys, db):
     (["waste", "add", "MA-01", "HCl=1M", "--volume", "50 L"], "holds at most 10 L"),
     (["waste", "add", "NOPE", "HCl=1M", "--volume", "1 L"], "no waste container 'NOPE'"),
     (["waste", "add", "MA-01", "HCl", "--volume", "1 L"], "NAME=CONC"),
-    (["waste", "new", "MA-01"], "exists already"),
-    (["waste", "new", "Z", "--capacity", "20 kg"], "'20 kg'"),
+    (["waste", "new", "MA-01", "--stream", "acid"], "exists already"),
+    (["waste", "new", "Z", "--capacity", "20 kg", "--stream", "acid"], "'20 kg'"),
 ])
 def test_bad_waste_input_exit_2(capsys, db, argv, needle):
-    run_json(capsys, "waste", "new", "MA-01", "--capacity", "10 L", "--db", db)
+    run_json(capsys, "waste", "new", "MA-01", "--capacity", "10 L", "--stream", "acid",
+             "--db", db)
     code, out, err = run(capsys, *argv, "--db", db)
     assert code == 2 and out == ""
     assert needle in err and "Traceback" not in err
@@ -169,7 +171,7 @@ def test_damaged_database_is_a_clear_error(capsys, tmp_path):
 
 def test_env_var_database(capsys, db, monkeypatch):
     monkeypatch.setenv("CARBOY_DB", db)
-    run_json(capsys, "waste", "new", "ENV-1")
+    run_json(capsys, "waste", "new", "ENV-1", "--stream", "mixed")
     s = open_database(db)
     assert s.scalar("SELECT label FROM waste_containers") == "ENV-1"
     s.close()
