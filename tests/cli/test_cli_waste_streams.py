@@ -125,3 +125,16 @@ def test_show_prints_the_warning_of_a_container_that_disagrees(capsys, db):
     code, out, _ = run(capsys, "waste", "show", "C-2", "--db", db)
     assert code == 0
     assert "  ! already in the container: NaOH; a base in an acid-waste container" in out
+
+
+def test_neutralize_refuses_to_acidify_a_cyanide_waste(capsys, db):
+    with open_database(db) as s:
+        waste.new_container(s, "CN-1", stream="cyanide_sulfide")
+        waste.add(s, "CN-1", "NaCN=0.05M", "1 L")
+        waste.add(s, "CN-1", "NaOH=0.1M", "1 L")
+    for argv in (["NaCN=0.05M", "NaOH=0.01M", "--volume", "1 L"], ["--waste", "CN-1"]):
+        code, out, err = run(capsys, "neutralize", *argv, "--reagent", "HCl=1M", "--db", db)
+        assert code == 1 and out == ""
+        assert len(err.strip().splitlines()) == 1
+        assert err.startswith("carboy: refused: a neutralization plan: this waste holds cyanide")
+        assert "no acidification dose" in err
