@@ -133,7 +133,7 @@ def test_neutralize_refuses_to_acidify_a_cyanide_waste(capsys, db):
         waste.add(s, "CN-1", "NaCN=0.05M", "1 L")
         waste.add(s, "CN-1", "NaOH=0.1M", "1 L")
     for argv in (["NaCN=0.05M", "NaOH=0.01M", "--volume", "1 L"], ["--waste", "CN-1"]):
-        code, out, err = run(capsys, "neutralize", *argv, "--reagent", "HCl=1M", "--db", db)
+        code, out, err = run(capsys, "--db", db, "neutralize", *argv, "--reagent", "HCl=1M")
         assert code == 1 and out == ""
         assert len(err.strip().splitlines()) == 1
         assert err.startswith("carboy: refused: a neutralization plan: this waste holds cyanide")
