@@ -470,7 +470,8 @@ def show(store: Store, label: str) -> dict:
     """Everything about one container as plain data (the ``waste show`` JSON).
 
     ``warnings`` are the compatibility rules' findings on what it already holds (its
-    stream against its contents, the contents against each other): nothing is changed.
+    stream against its contents, the contents against each other): nothing is changed;
+    one a person answered with a reason when logging carries it (``accepted``).
     """
     catalog = catalog_for(store)
     with store.reading():
@@ -479,6 +480,8 @@ def show(store: Store, label: str) -> dict:
         amounts, volume = moles(store, label)
         adds = additions(store, label)
         h = waste_streams.held_in(store, row, catalog)
+        accepted = waste_streams.accepted_reasons(
+            journal.entries(store, container_id=row["id"], limit=None))
     rules_view = waste_streams.view(info.stream, info.material, h, catalog)
     return {"label": info.label, "status": info.status, "volume_l": volume,
             "capacity_l": info.capacity_l, "location": info.location,
@@ -487,5 +490,5 @@ def show(store: Store, label: str) -> dict:
             "stream_note": info.stream_note, "material": info.material,
             "estimated_pH": rules_view.estimated_pH,
             "contents": dict(h.contents),
-            "warnings": list(waste_streams.warnings(rules_view, h, catalog)),
+            "warnings": list(waste_streams.warnings(rules_view, h, catalog, accepted)),
             "composition": amounts, "additions": [a.as_dict() for a in adds]}

@@ -158,10 +158,30 @@ def accepted_snapshot(addition_id: int, entered: str, reason: str,
             "reason": reason.strip(), "findings": [f.to_dict() for f in findings]}
 
 
-def warnings(container: compatibility.Container, h: Held, catalog) -> tuple[dict, ...]:
+def accepted_reasons(entries: Iterable) -> dict[tuple[str, str], str]:
+    """(rule, compound) -> the reason a person gave to log it anyway, from a container's
+    journal entries (newest reason wins)."""
+    out: dict[tuple[str, str], str] = {}
+    for entry in sorted(entries, key=lambda e: e.id):
+        snap = entry.snapshot
+        if entry.kind == "note" and snap.get("event") == "addition-accepted":
+            for f in snap.get("findings", ()):
+                out[(f.get("rule", ""), f.get("added", ""))] = snap.get("reason", "")
+    return out
+
+
+def warnings(container: compatibility.Container, h: Held, catalog,
+             accepted: Mapping[tuple[str, str], str] | None = None) -> tuple[dict, ...]:
     """What is wrong with what the container already holds (stream against contents,
-    contents against each other), as plain data; changes nothing."""
-    out = [f.to_dict() for f in compatibility.check_container(container, catalog=catalog)]
+    contents against each other), as plain data; changes nothing.  A warning a person
+    already answered with a reason when logging (``accepted``) carries it."""
+    accepted = accepted or {}
+    out = []
+    for f in compatibility.check_container(container, catalog=catalog):
+        d = f.to_dict()
+        if f.severity == "confirm" and (f.rule_id, f.added) in accepted:
+            d["accepted"] = accepted[(f.rule_id, f.added)]
+        out.append(d)
     for key in h.unknown:
         out.append({"rule": "unknown-compound", "severity": "confirm",
                     "message": f"already in the container: {key}, which the catalog no "

@@ -125,6 +125,7 @@ def test_show_prints_the_warning_of_a_container_that_disagrees(capsys, db):
     code, out, _ = run(capsys, "waste", "show", "C-2", "--db", db)
     assert code == 0
     assert "  ! already in the container: NaOH; a base in an acid-waste container" in out
+    assert out.count("(logged with a reason: rinse)") == 1
 
 
 def test_neutralize_refuses_to_acidify_a_cyanide_waste(capsys, db):

@@ -179,6 +179,7 @@ def test_show_warns_when_the_contents_disagree_with_the_stream(store):
     assert info["stream"] == "acid" and info["stream_name"] == "acid waste"
     assert [w["rule"] for w in info["warnings"]] == ["base-into-acid-stream"]
     assert info["warnings"][0]["message"].startswith("already in the container: NaOH")
+    assert info["warnings"][0]["accepted"] == "rinse of the titration"
     left = speciate(Mixture({"Cl-": 0.05, "Na+": 0.025}, volume_l=2.0)).pH  # 0.025 M HCl
     assert info["estimated_pH"] == pytest.approx(left, abs=1e-9)
     assert 1.5 < info["estimated_pH"] < 1.7  # -log10(0.025 x gamma) with gamma about 0.85
@@ -259,6 +260,7 @@ def test_an_old_database_gets_streams_from_its_contents_and_nothing_else_changes
         assert "fit no single stream" in got["OLD-MIX"][1]
         info = waste.show(s, "OLD-MIX")
         assert "cyanide-acid" in {w["rule"] for w in info["warnings"]}
+        assert not any("accepted" in w for w in info["warnings"])
         assert info["stream_note"] == got["OLD-MIX"][1]
     finally:
         s.close()

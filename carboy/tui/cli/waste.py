@@ -177,7 +177,8 @@ def waste_show(args) -> int:
     print(f"  stream: {info['stream_name']}{made_of}"
           + (f"  ({info['stream_note']})" if info["stream_note"] else ""))
     for w in info["warnings"]:
-        print(f"  ! {w['message']}")
+        answered = f"  (logged with a reason: {w['accepted']})" if "accepted" in w else ""
+        print(f"  ! {w['message']}{answered}")
     if info["estimated_pH"] is not None:
         print(f"  estimated pH {info['estimated_pH']:.1f} (computed from the additions)")
     if info["notes"]:
