@@ -22,7 +22,7 @@ def store(tmp_path):
 
 
 async def _waste_screen(app, pilot, wait_for, label: str) -> WasteScreen:
-    await pilot.press("2")
+    await pilot.press("f3")
     await wait_for(pilot, lambda: isinstance(app.screen, WasteScreen) and app.screen.detail)
     screen = app.screen
     table = screen.query_one("#waste-table")
