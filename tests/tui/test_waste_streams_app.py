@@ -5,12 +5,12 @@ the wiring (a refusal named in the dialog, a question answered with a reason).""
 from __future__ import annotations
 
 import pytest
+from test_waste_screen import on_waste
 from waste_cases import CASES, IDS, counts, prepare
 
 from carboy.model.forms.waste_addition import AdditionFields
 from carboy.store import journal, waste
 from carboy.store.db import open_database
-from carboy.tui.app.screens.waste import WasteScreen
 from carboy.tui.app.screens.waste_accept import AcceptAdditionScreen, findings_text
 from carboy.tui.app.screens.waste_add import AddWasteScreen, log_addition, preview
 
@@ -19,16 +19,6 @@ from carboy.tui.app.screens.waste_add import AddWasteScreen, log_addition, previ
 def store(tmp_path):
     with open_database(tmp_path / "app.db") as s:
         yield s
-
-
-async def _waste_screen(app, pilot, wait_for, label: str) -> WasteScreen:
-    await pilot.press("f3")
-    await wait_for(pilot, lambda: isinstance(app.screen, WasteScreen) and app.screen.detail)
-    screen = app.screen
-    table = screen.query_one("#waste-table")
-    table.move_cursor(row=table.get_row_index(label))
-    await wait_for(pilot, lambda: screen.detail and screen.detail.info["label"] == label)
-    return screen
 
 
 def _fields(case) -> AdditionFields:
@@ -78,7 +68,7 @@ async def test_the_dialog_names_a_refusal_and_logs_a_question_only_with_a_reason
         make, wait_for, demo_db):
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
-        await _waste_screen(app, pilot, wait_for, "OA-02")
+        await on_waste(app, pilot, wait_for, "OA-02")
         await pilot.press("a")
         await wait_for(pilot, lambda: isinstance(app.screen, AddWasteScreen))
         form = app.screen

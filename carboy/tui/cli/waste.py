@@ -107,6 +107,15 @@ def waste_new(args) -> int:
     return EXIT_OK
 
 
+def _report(args, container, extra: dict, line: str) -> int:
+    """The container after a change: as JSON (with ``extra``) or as one line."""
+    if args.json:
+        emit_json({**extra, **container.as_dict()})
+    else:
+        print(line)
+    return EXIT_OK
+
+
 def refused(exc: Refused, args) -> int:
     """One line naming the hazard (and, where a reason may pass it, how); status 1."""
     line = f"carboy: {exc}" + (f"; {ACCEPT_ADVICE}" if exc.overridable else "")
@@ -136,12 +145,9 @@ def waste_add(args) -> int:
         except Refused as exc:
             return refused(exc, args)
         c = waste.container(store, args.label)
-    if args.json:
-        emit_json({"addition_id": addition_id, **c.as_dict()})
-    else:
-        print(f"logged addition {addition_id} to {c.label}: now {volume(c.volume_l)} of "
-              f"{volume(c.capacity_l)}")
-    return EXIT_OK
+    return _report(args, c, {"addition_id": addition_id},
+                   f"logged addition {addition_id} to {c.label}: now {volume(c.volume_l)} of "
+                   f"{volume(c.capacity_l)}")
 
 
 def waste_stream(args) -> int:
@@ -154,12 +160,9 @@ def waste_stream(args) -> int:
         except Refused as exc:
             return refused(exc, args)
         c = waste.container(store, args.label)
-    if args.json:
-        emit_json({"journal_entry": entry, **c.as_dict()})
-    else:
-        print(f"{c.label} is now meant for {streams()[c.stream].name} "
-              f"(journal entry {entry})")
-    return EXIT_OK
+    return _report(args, c, {"journal_entry": entry},
+                   f"{c.label} is now meant for {streams()[c.stream].name} "
+                   f"(journal entry {entry})")
 
 
 def waste_show(args) -> int:

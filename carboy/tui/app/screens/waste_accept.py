@@ -7,13 +7,12 @@ dialog: the store refuses it outright.
 
 from __future__ import annotations
 
-from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
-from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Static
 
+from carboy.tui.app.screens.form_dialog import FormDialog
 from carboy.tui.app.widgets.field_row import FieldRow
 
 NEED_REASON = "needed: say why it goes into this container anyway (the journal keeps it)"
@@ -27,14 +26,14 @@ def findings_text(findings) -> str:
     return "\n\n".join(f"• {first_up(f.hazard)}.\n  {first_up(f.advice)}." for f in findings)
 
 
-class AcceptAdditionScreen(ModalScreen[str | None]):
+class AcceptAdditionScreen(FormDialog):
     """Dismisses with the reason given, or ``None`` (nothing is logged)."""
 
     HELP = ("The rules question this addition (it is not refused outright). Log it only with "
             "a reason, which the journal keeps; otherwise go back and choose another container.")
 
     BINDINGS = [
-        Binding("ctrl+s", "accept", "Log it anyway", id="waste_accept.accept"),
+        Binding("ctrl+s", "submit", "Log it anyway", id="waste_accept.accept"),
         Binding("escape", "cancel", "Don't log it", id="waste_accept.cancel"),
     ]
 
@@ -53,9 +52,9 @@ class AcceptAdditionScreen(ModalScreen[str | None]):
                            hint="why it goes in this container anyway")
             with Horizontal(classes="dialog-buttons"):
                 yield Button("Log it anyway (ctrl+s)", id="accept-yes", variant="error",
-                             compact=True)
+                             compact=True, classes="dialog-submit")
                 yield Button("Don't log it (esc)", id="accept-no", variant="primary",
-                             compact=True)
+                             compact=True, classes="dialog-cancel")
 
     def on_mount(self) -> None:
         self.query_one("#accept-no", Button).focus()
@@ -64,24 +63,9 @@ class AcceptAdditionScreen(ModalScreen[str | None]):
     def reason(self) -> str:
         return self.query_one("#accept-reason", Input).value.strip()
 
-    @on(Input.Submitted, "#accept-reason")
-    def _enter(self) -> None:
-        self.action_accept()
-
-    @on(Button.Pressed, "#accept-yes")
-    def _yes(self) -> None:
-        self.action_accept()
-
-    @on(Button.Pressed, "#accept-no")
-    def _no(self) -> None:
-        self.action_cancel()
-
-    def action_accept(self) -> None:
+    def action_submit(self) -> None:
         if not self.reason:
             self.query_one("#row-accept-reason", FieldRow).show_error(NEED_REASON)
             self.query_one("#accept-reason", Input).focus()
             return
         self.dismiss(self.reason)
-
-    def action_cancel(self) -> None:
-        self.dismiss(None)

@@ -2,17 +2,17 @@
 
 from __future__ import annotations
 
-from textual import on, work
+from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
-from textual.screen import ModalScreen
-from textual.widgets import Button, Input, Select, Static
+from textual.widgets import Button, Input, Static
 
 from carboy.errors import InvalidInput
 from carboy.model.compatibility import MATERIALS, streams
 from carboy.store import waste
 from carboy.store.errors import AlreadyExists
+from carboy.tui.app.screens.form_dialog import FormDialog
 from carboy.tui.app.widgets.choice_row import ChoiceRow
 from carboy.tui.app.widgets.field_row import FieldRow
 from carboy.tui.edge import describe
@@ -45,7 +45,7 @@ def field_of(exc: BaseException) -> str | None:
     return None
 
 
-class NewContainerScreen(ModalScreen[str | None]):
+class NewContainerScreen(FormDialog):
     """Dismisses with the new container's label, or ``None`` when cancelled."""
 
     HELP = "Open a new, empty waste container that starts collecting."
@@ -66,7 +66,8 @@ class NewContainerScreen(ModalScreen[str | None]):
                            hint="unique, as written on the container")
             yield ChoiceRow("Stream", field_id="new-stream", options=stream_options(),
                             prompt="choose what it collects",
-                            hint="what it is meant for; changed later only with a reason")
+                            hint="what it is meant for; changed later only with a reason",
+                            describe=stream_words)
             yield ChoiceRow("Material", field_id="new-material", options=MATERIAL_OPTIONS,
                             prompt="not recorded", hint="optional; HF waste needs plastic")
             yield FieldRow("Location", field_id="new-location",
@@ -77,8 +78,10 @@ class NewContainerScreen(ModalScreen[str | None]):
                            hint="optional")
             yield Static("", id="new-error", classes="error-line", markup=False)
             with Horizontal(classes="dialog-buttons"):
-                yield Button("Open it (ctrl+s)", id="new-submit", variant="primary", compact=True)
-                yield Button("Cancel (esc)", id="new-cancel", compact=True)
+                yield Button("Open it (ctrl+s)", id="new-submit", variant="primary",
+                             compact=True, classes="dialog-submit")
+                yield Button("Cancel (esc)", id="new-cancel", compact=True,
+                             classes="dialog-cancel")
 
     def on_mount(self) -> None:
         self.query_one("#new-label", Input).focus()
@@ -88,26 +91,6 @@ class NewContainerScreen(ModalScreen[str | None]):
                                         for f in FIELDS}
         found.update({f: self.query_one(f"#row-{f}", ChoiceRow).value for f in CHOICES})
         return found
-
-    @on(Select.Changed, "#new-stream")
-    def _stream_chosen(self, event: Select.Changed) -> None:
-        chosen = None if event.value is Select.NULL else str(event.value)
-        self.query_one("#row-new-stream", ChoiceRow).show_echo(stream_words(chosen))
-
-    @on(Input.Submitted)
-    def _enter(self) -> None:
-        self.action_submit()
-
-    @on(Button.Pressed, "#new-submit")
-    def _pressed(self) -> None:
-        self.action_submit()
-
-    @on(Button.Pressed, "#new-cancel")
-    def _cancel_pressed(self) -> None:
-        self.action_cancel()
-
-    def action_cancel(self) -> None:
-        self.dismiss(None)
 
     def action_submit(self) -> None:
         if self.busy:

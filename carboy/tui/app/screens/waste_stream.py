@@ -4,15 +4,15 @@ already in a container being made a cyanide one)."""
 
 from __future__ import annotations
 
-from textual import on, work
+from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
-from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Select, Static
 
 from carboy.errors import InvalidInput
 from carboy.store import waste
+from carboy.tui.app.screens.form_dialog import FormDialog
 from carboy.tui.app.screens.waste_new import MATERIAL_OPTIONS, stream_options, stream_words
 from carboy.tui.app.widgets.choice_row import ChoiceRow
 from carboy.tui.app.widgets.field_row import FieldRow
@@ -22,7 +22,7 @@ NEED_REASON = "needed: say why the stream changes (the journal keeps it)"
 FIELD_OF = {"stream": "change-stream", "material": "change-material", "reason": "change-reason"}
 
 
-class ChangeStreamScreen(ModalScreen[str | None]):
+class ChangeStreamScreen(FormDialog):
     """Dismisses with the new stream's key, or ``None`` when cancelled."""
 
     HELP = ("Change what a container collects. The journal keeps the old and new stream and "
@@ -45,41 +45,22 @@ class ChangeStreamScreen(ModalScreen[str | None]):
             yield Static(f"What {self.label} collects", classes="dialog-title", markup=False)
             yield ChoiceRow("Stream", field_id="change-stream", options=stream_options(),
                             prompt="choose what it collects", value=self.stream,
-                            hint=stream_words(self.stream))
+                            hint=stream_words(self.stream), describe=stream_words)
             yield ChoiceRow("Material", field_id="change-material", options=MATERIAL_OPTIONS,
                             prompt="not recorded", value=self.material, hint="optional")
             yield FieldRow("Reason", field_id="change-reason", hint="why it changes")
             yield Static("", id="change-error", classes="error-line", markup=False)
             with Horizontal(classes="dialog-buttons"):
                 yield Button("Change it (ctrl+s)", id="change-submit", variant="primary",
-                             compact=True)
-                yield Button("Cancel (esc)", id="change-cancel", compact=True)
+                             compact=True, classes="dialog-submit")
+                yield Button("Cancel (esc)", id="change-cancel", compact=True,
+                             classes="dialog-cancel")
 
     def on_mount(self) -> None:
         self.query_one("#change-stream", Select).focus()
 
     def row(self, field_id: str) -> FieldRow:
         return self.query_one(f"#row-{field_id}", FieldRow)
-
-    @on(Select.Changed, "#change-stream")
-    def _stream_chosen(self, event: Select.Changed) -> None:
-        chosen = None if event.value is Select.NULL else str(event.value)
-        self.row("change-stream").show_echo(stream_words(chosen))
-
-    @on(Input.Submitted)
-    def _enter(self) -> None:
-        self.action_submit()
-
-    @on(Button.Pressed, "#change-submit")
-    def _pressed(self) -> None:
-        self.action_submit()
-
-    @on(Button.Pressed, "#change-cancel")
-    def _cancel_pressed(self) -> None:
-        self.action_cancel()
-
-    def action_cancel(self) -> None:
-        self.dismiss(None)
 
     def action_submit(self) -> None:
         if self.busy:
