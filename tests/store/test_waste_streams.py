@@ -264,3 +264,16 @@ def test_an_old_database_gets_streams_from_its_contents_and_nothing_else_changes
         assert info["stream_note"] == got["OLD-MIX"][1]
     finally:
         s.close()
+
+
+def test_the_schema_lists_every_stream_and_material_of_the_model():
+    """Migration 0004 wrote the vocabularies of its day literally: a new stream or
+    material in compatibility.toml needs a migration, and this test says so."""
+    import re
+
+    def listed(column: str) -> list[str]:
+        found = re.search(rf"{column} IN \(([^)]*)\)", migrations.SQL_0004).group(1)
+        return [s.strip(" '") for s in found.split(",")]
+
+    assert listed("stream") == list(compatibility.streams())
+    assert listed("material") == list(compatibility.MATERIALS)
