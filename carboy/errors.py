@@ -7,6 +7,7 @@ screen or an exit status.  Every error names the value that was wrong.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import ClassVar
 
 QUOTE_LIMIT = 80
 """Characters of a bad value an error message quotes at most (the rest is elided)."""
@@ -39,6 +40,11 @@ class Refused(CarboyError):
     every other error; the app shows the message and writes nothing.  A subclass is
     usually a dataclass with the fields its message needs and its own ``__str__``.
     """
+
+    overridable: ClassVar[bool] = False
+    """A person may go ahead anyway, giving a reason (see :class:`NeedsConfirmation`)."""
+    findings: tuple = ()
+    """What the rules found, for a front end that lists them (:class:`HazardRefused`)."""
 
 
 @dataclass
@@ -115,3 +121,33 @@ class NoConvergence(CarboyError, RuntimeError):
     def __str__(self) -> str:
         msg = f"{self.what} did not converge after {self.iterations} iterations"
         return msg + (f": {self.detail}" if self.detail else "")
+
+
+@dataclass
+class HazardRefused(Refused):
+    """carboy will not do this: a safety rule forbids it, and nothing was written.
+
+    ``what`` says what was asked ("adding NaCN to MA-01"), ``reason`` names the hazard
+    in one line, ``findings`` carries what the rules found (for a front end that lists
+    them).  No reason a person gives can override it.
+    """
+
+    what: str
+    reason: str
+    findings: tuple = ()
+
+    overridable: ClassVar[bool] = False
+
+    def __str__(self) -> str:
+        return f"refused: {self.what}: {self.reason}"
+
+
+@dataclass
+class NeedsConfirmation(HazardRefused):
+    """Not done until a person confirms it with a reason, which the journal keeps (a
+    lesser mismatch, such as a base into an acid-waste container)."""
+
+    overridable: ClassVar[bool] = True
+
+    def __str__(self) -> str:
+        return f"needs a reason to go ahead: {self.what}: {self.reason}"

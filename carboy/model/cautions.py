@@ -7,12 +7,22 @@ is the order of the output, most serious first within the drain-route rules.
 :func:`derived_hazards` gives the hazard tags a composition implies by itself
 (fluoride, perchlorate, chromate, heavy-metal ions…), which join the tags the store
 knows and the reagent's own.
+
+The second half looks at the waste itself, beside a finished plan: :func:`refuse_plan`
+says when no plan may be given at all (acidifying a cyanide or sulfide waste), and
+:func:`amend` adds the cautions that need no solver change (gas escaping now, ammonia
+released above pH 9, an oxidizing acid with organics, any other compatibility rule the
+contents break) and settles the drain verdict by the container's stream and the rule
+table (:mod:`carboy.model.compatibility`).
 """
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
+
+from carboy.model import compatibility
 
 SEVERITIES = ("danger", "warning", "notice")
 
@@ -193,3 +203,166 @@ def evaluate(facts: Facts) -> tuple[Caution, ...]:
                 if test(facts))
     assert out and out[-1].code == "local-rules"
     return out
+
+
+# ----------------------------------------------------------------------------- the waste itself
+
+GAS_OF = {"cyanide": ("hydrogen cyanide", "HCN"), "sulfide": ("hydrogen sulfide", "H2S")}
+"""The hazard tags whose waste gives off a gas when acidified, and that gas."""
+KEEP_ALKALINE_PH = max(r.acidic_below_ph for r in compatibility.rules()
+                       if r.gas in ("HCN", "H2S"))
+"""Below this pH a cyanide or sulfide waste gives off its gas: the compatibility rules'
+threshold (``cyanide-acid``, ``sulfide-acid``: pH 10, above HCN's pKa 9.21)."""
+AMMONIA_RELEASE_PH = 9.0
+"""Above this pH ammonium turns to ammonia that leaves as a gas (NH4+ pKa 9.25,
+systems.toml; common practice to keep ammonium wastes at or below pH 9)."""
+AMMONIA_SYSTEM = "ammonium"
+OXIDIZING_ORGANIC_RULE = "oxidizing-acid-organic"
+
+
+@dataclass(frozen=True)
+class Sample:
+    """What the waste cautions know of a sample beyond the plan: its compounds (key ->
+    mol, empty when unknown) and, for a stored container, its stream and material."""
+
+    compounds: Mapping[str, float] = field(default_factory=dict)
+    stream: str | None = None
+    material: str | None = None
+
+
+def gas_hazards(totals: Mapping[str, float], hazards: frozenset[str]) -> tuple[str, ...]:
+    """``cyanide``, ``sulfide``: those a sample holds (by composition or tag)."""
+    found = (hazards | derived_hazards(totals)) & set(GAS_OF)
+    return tuple(sorted(found))
+
+
+def _gas_words(found: tuple[str, ...]) -> tuple[str, str]:
+    """('cyanide or sulfide', 'hydrogen cyanide (HCN) and hydrogen sulfide (H2S)')."""
+    held = " and ".join(found)
+    gases = " and ".join(f"{GAS_OF[k][0]} ({GAS_OF[k][1]})" for k in found)
+    return held, gases
+
+
+def refuse_plan(totals: Mapping[str, float], hazards: frozenset[str], initial_pH: float,
+                target_pH: float, direction: str) -> str | None:
+    """Why no neutralization plan may be given for this sample, or None.
+
+    A waste holding cyanide or sulfide is never acidified: no dose, stages or curve
+    when the plan would lower its pH, nor one to a target below
+    :data:`KEEP_ALKALINE_PH` (there the gas keeps escaping).  The reason says what to
+    do instead.
+    """
+    found = gas_hazards(totals, hazards)
+    if not found:
+        return None
+    held, gases = _gas_words(found)
+    after = (f"keep it alkaline (above pH {KEEP_ALKALINE_PH:g}), closed and labelled, "
+             "collect it for licensed disposal and follow your institution's safety office")
+    if direction == "acid":
+        return (f"this waste holds {held} (pH about {initial_pH:.1f}): acidifying it releases "
+                f"{gases}, so carboy gives no acidification dose, stages or curve; {after}")
+    if target_pH < KEEP_ALKALINE_PH:
+        now = (f"at pH about {initial_pH:.1f} {gases} is escaping from it now; "
+               if initial_pH < KEEP_ALKALINE_PH else "")
+        return (f"this waste holds {held}: {now}a target of pH {target_pH:g} would leave it "
+                f"below pH {KEEP_ALKALINE_PH:g}, where the gas keeps escaping; carboy plans "
+                f"it only to pH {KEEP_ALKALINE_PH:g} or above: {after}")
+    return None
+
+
+def _gas_now(plan) -> Caution | None:
+    found = gas_hazards(plan.sample.totals, plan.hazards)
+    if not found or plan.initial_pH >= KEEP_ALKALINE_PH:
+        return None
+    held, gases = _gas_words(found)
+    return Caution("gas-escaping-now", "danger", (
+        f"IMMEDIATE DANGER: this waste holds {held} at pH about {plan.initial_pH:.1f}: "
+        f"{gases} is escaping from it now. Do not open or stir it outside a working fume "
+        "hood; keep people away; if anyone smells bitter almonds or rotten eggs, or feels "
+        "unwell, leave and call the safety office. Make it alkaline (above pH "
+        f"{KEEP_ALKALINE_PH:g}) only as the safety office directs; licensed disposal only."))
+
+
+def _ammonia(plan) -> Caution | None:
+    if AMMONIA_SYSTEM not in plan.sample.totals:
+        return None
+    raised = max(plan.to_target.target_pH or 0.0, plan.to_target.pH or 0.0)
+    if raised > AMMONIA_RELEASE_PH:
+        return Caution("ammonia-release", "danger", (
+            f"Ammonium in this waste turns to ammonia above about pH {AMMONIA_RELEASE_PH:g}: "
+            f"taking it to pH {raised:.1f} releases ammonia gas (toxic, choking). Choose a "
+            f"target of pH {AMMONIA_RELEASE_PH:g} or below; if it must go higher, work in a "
+            "fume hood, keep the batch cool and covered, and treat it as licensed-disposal "
+            "waste, not a drain plan."))
+    if plan.initial_pH > AMMONIA_RELEASE_PH:
+        return Caution("ammonia-release", "warning", (
+            f"This waste is at pH about {plan.initial_pH:.1f}, above "
+            f"{AMMONIA_RELEASE_PH:g}: part of its ammonium is ammonia, which escapes as a toxic, "
+            "choking gas. Work in a fume hood until it is brought down."))
+    return None
+
+
+def _rule_caution(f: compatibility.Finding) -> Caution:
+    with_ = f" with {', '.join(f.present)}" if f.present else ""
+    if f.rule_id == OXIDIZING_ORGANIC_RULE:
+        return Caution("oxidizer-with-organics", "danger", (
+            f"An oxidizing acid and organic compounds are together in this waste ({f.added}"
+            f"{with_}): they react, slowly or in a runaway, with heat, brown NOx fumes and "
+            "gas pressure that can burst a closed container. Never cap it tightly, never "
+            "heat it, do not neutralize it in the lab: it goes to licensed disposal through "
+            "the safety office."))
+    severity = "danger" if f.severity == "refuse" else "warning"
+    return Caution(f"rule-{f.rule_id}", severity,
+                   f"In this waste, {f.added}{with_}: {f.hazard}; {f.advice}.")
+
+
+def _findings(plan, sample: Sample, catalog) -> tuple[compatibility.Finding, ...]:
+    if not sample.compounds:
+        return ()
+    box = compatibility.Container(sample.stream, dict(sample.compounds), plan.initial_pH,
+                                  plan.sample.volume_l, sample.material)
+    found = compatibility.check_container(box, catalog=catalog)
+    # the gas of an acidic cyanide or sulfide waste has its own caution at the top
+    return tuple(f for f in found if f.gas not in ("HCN", "H2S"))
+
+
+def _stream_caution(sample: Sample) -> Caution | None:
+    if sample.stream is None:
+        return None
+    st = compatibility.stream(sample.stream)
+    if st.drain_treatable:
+        return None
+    return Caution("stream-not-drain", "danger", (
+        f"This container is meant for {st.name} ({st.words}) This is NOT a drain-disposal "
+        "plan: the container goes to licensed disposal through the safety office."))
+
+
+def amend(plan, sample: Sample | None = None, *, catalog=None):
+    """``plan`` with the waste's own cautions and the drain verdict settled.
+
+    The immediate danger of gas escaping now goes first; then the plan's own leading
+    dangers (its drain-route verdict); then ammonia released above pH 9, an oxidizing
+    acid with organics, every other compatibility rule the contents break and, for a
+    container whose stream is never drain-treatable, that (dangers first); then the rest
+    of the plan's cautions (the closing note stays last).  ``drain_plan`` stays true only
+    when the plan said so, the stream may be treated for the drain, no rule refuses the
+    contents, no gas escapes and no ammonia is driven off.  ``catalog`` knows the
+    sample's compounds (default: the built-in one); an unknown one raises
+    :class:`~carboy.errors.UnknownCompound`.
+    """
+    sample = sample or Sample()
+    top = _gas_now(plan)
+    ammonia = _ammonia(plan)
+    findings = _findings(plan, sample, catalog)
+    extra = [c for c in (ammonia, *(_rule_caution(f) for f in findings),
+                         _stream_caution(sample)) if c is not None]
+    drain = (plan.drain_plan and top is None and not compatibility.refusals(findings)
+             and (ammonia is None or ammonia.severity != "danger")
+             and (sample.stream is None or compatibility.stream(sample.stream).drain_treatable))
+    extra.sort(key=lambda c: SEVERITIES.index(c.severity))
+    lead = 0
+    while lead < len(plan.cautions) and plan.cautions[lead].severity == "danger":
+        lead += 1
+    cautions = (*((top,) if top else ()), *plan.cautions[:lead], *extra,
+                *plan.cautions[lead:])
+    return dataclasses.replace(plan, cautions=cautions, drain_plan=drain)

@@ -503,3 +503,63 @@ def refusals(findings: Iterable[Finding]) -> tuple[Finding, ...]:
 def confirmations(findings: Iterable[Finding]) -> tuple[Finding, ...]:
     """The findings an addition may pass with a journaled reason."""
     return tuple(x for x in findings if x.severity == "confirm")
+
+
+# ----------------------------------------------------------------------------- inference
+
+
+@dataclass(frozen=True)
+class StreamGuess:
+    """The stream a container's contents point to, and why (for containers logged before
+    streams existed).  ``settled`` is False when the contents did not settle it and the
+    stream is ``mixed``."""
+
+    stream: str
+    settled: bool
+    reason: str
+
+
+def _specific(st: Stream, held: Iterable[_Facts], settings: _Settings) -> bool:
+    """Some held compound matches one of the stream's accepts by its hazard tags (the
+    stream is made for it, not merely open to its kind)."""
+    tagged = tuple(alt for alt in st.accepts if "tags" in alt)
+    return any(_addition_matches(tagged, f, settings) for f in held)
+
+
+def infer_stream(contents: Mapping[str, float], *, catalog=None) -> StreamGuess:
+    """The one stream that fits everything a container holds, else ``mixed``.
+
+    A stream fits when it accepts every compound held (and refuses none) and
+    :func:`check_container` finds nothing with it.  Of the streams that fit, one made
+    for a held compound's hazard (cyanide, fluoride, a heavy metal, an oxidizing acid)
+    is chosen; failing that, the one drain-treatable stream (acid or alkaline).  Any
+    other outcome (nothing held, a compound the catalog does not know, no fit, two
+    equal fits) is ``mixed``, with the reason.  ``contents`` maps compound keys to mol.
+    """
+    catalog = catalog or default_catalog()
+    settings = _settings()
+    held_keys = sorted(k for k, v in contents.items() if v > 0)
+    if not held_keys:
+        return StreamGuess("mixed", False, "nothing was logged in it")
+    unknown = [k for k in held_keys if k not in catalog]
+    if unknown:
+        return StreamGuess("mixed", False, "it holds " + ", ".join(unknown)
+                           + ", which the catalog does not know")
+    held = tuple(_facts(k, catalog, None) for k in held_keys)
+    names = ", ".join(held_keys)
+    fits = []
+    for st in settings.streams.values():
+        if st.key == "mixed" or any(_addition_matches(st.refuses, f, settings) for f in held):
+            continue
+        if st.accepts and not all(_addition_matches(st.accepts, f, settings) for f in held):
+            continue
+        if not check_container(Container(st.key, dict(contents)), catalog=catalog):
+            fits.append(st)
+    for pick in ([s for s in fits if _specific(s, held, settings)],
+                 [s for s in fits if s.drain_treatable]):
+        if len(pick) == 1:
+            return StreamGuess(pick[0].key, True, f"inferred from its contents ({names})")
+        if len(pick) > 1:
+            return StreamGuess("mixed", False, f"its contents ({names}) fit "
+                               + " and ".join(s.name for s in pick) + " alike")
+    return StreamGuess("mixed", False, f"its contents ({names}) fit no single stream")

@@ -117,32 +117,35 @@ _BOTTLES: list[tuple] = [
 ]
 
 _CONTAINERS = [
-    ("MA-01", "Acid waste bay / left", "20 L",
+    ("MA-01", "acid", "Acid waste bay / left", "20 L",
      "Mixed mineral-acid rinse from the teaching labs. " + _FOLLOW_RULES,
      [("HCl=1M", "2 L", "rinse of titration glassware"),
       ("H2SO4=0.5M", "1.5 L", "leftover from a sulfate practical"),
       ("HNO3=0.2M", "3 L", "nitric rinse, no metals"),
       ("HCl=0.1M", "4 L", "spent titrant"),
       ("H3PO4=0.1M", "0.5 L", "")]),
-    ("OA-02", "Acid waste bay / right", "10 L",
+    ("OA-02", "acid", "Acid waste bay / right", "10 L",
      "Organic-acid waste (acetic, formic, citric, oxalic). " + _FOLLOW_RULES,
      [("CH3COOH=1M", "3 L", "buffer practical"),
       ("HCOOH=0.5M", "1 L", ""),
       ("C6H8O7=0.1M", "2 L", "descaling practical"),
       ("H2C2O4=0.05M", "1 L", "spent standard")]),
-    ("AL-03", "Base waste shelf", "20 L",
+    ("AL-03", "alkaline", "Base waste shelf", "20 L",
      "Alkaline cleaning waste from glassware baths. " + _FOLLOW_RULES,
      [("NaOH=0.5M", "4 L", "base bath, decanted"),
       ("Na2CO3=0.2M", "2 L", "carbonate rinse: will foam with acid"),
       ("KOH=0.1M", "1 L", ""),
       ("NH3=0.5M", "1 L", "ammonia rinse")]),
-    ("HF-04", "HF cabinet (locked)", "5 L",
+    ("HF-04", "hf", "HF cabinet (locked)", "5 L",
      "Contains fluoride (HF, NaF): licensed disposal only. Never neutralize it for the "
      "drain; the safety office arranges collection by the licensed contractor.",
      [("HF=0.5M", "1 L", "etching residue"),
       ("NaF=10 g", None, "solid residue"),
       ("HCl=0.1M", "0.5 L", "rinse of the etching vessel")]),
 ]
+_ACCEPTED = {("HF-04", "HCl=0.1M"): "the rinse of the HF etching vessel carries fluoride: it "
+                                    "belongs with the HF waste"}
+"""Additions the rules question, with the reason the demo's staff gave."""
 
 
 def _at(today: date, days_ago: float, hour: int = 10, minute: int = 0) -> datetime:
@@ -199,12 +202,13 @@ def seed(store: Store, today: date = DEMO_TODAY) -> None:
     stock.set_status(store, bottles["FW-21-302"], BottleStatus.DISPOSED, who=lead,
                      when=_at(today, 3, 16),
                      note="expired; sent with the acid waste collection. " + _FOLLOW_RULES)
-    for i, (label, where, capacity, notes, adds) in enumerate(_CONTAINERS):
+    for i, (label, stream, where, capacity, notes, adds) in enumerate(_CONTAINERS):
         opened = today - timedelta(days=40 - 5 * i)
         waste.new_container(store, label, location=where, capacity=capacity, notes=notes,
-                            who=lead, today=opened)
+                            stream=stream, material="plastic", who=lead, today=opened)
         for j, (component, volume, note) in enumerate(adds):
             waste.add(store, label, component, volume, note=note,
+                      accept=_ACCEPTED.get((label, component), ""),
                       who=STAFF[(i + j) % 3], when=_at(today, 38 - 5 * i - 3 * j, 15, j))
     plan = {"reagent": "NaOH 1 M", "note": "plan recorded; neutralization not yet done",
             "cautions": ["corrosive", "heat on neutralization", _FOLLOW_RULES]}

@@ -7,9 +7,10 @@ computed from them, the cautions that follow from what is in it and those of the
 recorded plan, the plan, the treatment or licensed-disposal hand-over found in the
 journal, the container's whole journal, and lines to sign.
 
-Containers have no stream in the store yet: the record prints the stream when
-:func:`carboy.store.waste.show` gives one (``stream``), else says it is not recorded.
-The journal chain head is printed when the caller passes one (``chain_head``).
+The stream is printed by name with the container's material; the compatibility
+warnings on what the container holds (:func:`carboy.store.waste.show`) join the
+cautions.  The journal chain head is printed when the caller passes one
+(``chain_head``).
 """
 
 from __future__ import annotations
@@ -128,6 +129,23 @@ def _plan_fields(entry: journal.Entry) -> Fields:
     return Fields(tuple(items))
 
 
+def _stream_text(info: Mapping[str, Any]) -> str:
+    """``acid waste, plastic``; a record made from older data says it is not recorded."""
+    if not info.get("stream"):
+        return STREAM_MISSING
+    text = info.get("stream_name") or info["stream"]
+    return text + (f", {info['material']}" if info.get("material") else "")
+
+
+def _warning_texts(info: Mapping[str, Any]) -> list[str]:
+    """The compatibility warnings on the contents, with the reason where one was given."""
+    out = []
+    for w in info.get("warnings") or ():
+        answered = f" (logged with a reason: {w['accepted']})" if w.get("accepted") else ""
+        out.append(f"Warning: {w['message']}{answered}")
+    return out
+
+
 def _cautions(tags: frozenset[str], plan: Mapping[str, Any]) -> list[str]:
     facts = caution_rules.Facts(hazards=tags, direction="", reagent_key="", reagent_form="",
                                 reagent_hazards=frozenset(), reagent_is_slurry=False,
@@ -168,7 +186,7 @@ def _journal_table(entries: list[journal.Entry]) -> Table:
 
 def _container_fields(info: Mapping[str, Any], chain_head: str | None) -> Fields:
     items = [("Container", info["label"]),
-             ("Stream", info.get("stream") or STREAM_MISSING),
+             ("Stream", _stream_text(info)),
              ("Status", info["status"]), ("Location", info["location"] or "-"),
              ("Volume", f"{info['volume_l']:.4g} L of {info['capacity_l']:g} L"),
              ("Opened", info["opened_on"] or "-"), ("Closed", info["closed_on"] or "-")]
@@ -196,6 +214,7 @@ def disposal_record(store: Store, label: str, *, storeroom: str | None = None,
         Heading("Additions"), _additions_table(info),
         Heading("Composition (computed by carboy from the additions)"), _composition_table(info),
         Heading("Cautions"),
+        *(Paragraph(t, "caution") for t in _warning_texts(info)),
         *(Paragraph(t, "caution") for t in _cautions(tags, _plan_of(plans[-1]) if plans else {})),
         Heading("Plan"),
         _plan_fields(plans[-1]) if plans else Paragraph("No neutralization plan recorded."),

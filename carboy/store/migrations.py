@@ -25,6 +25,14 @@ Tables (names are ours):
                        intervals per compound, standardization acceptance
 ``record_chain``       one hash-chain link per journal entry and waste addition (0003),
                        with guards that refuse UPDATE, DELETE and an INSERT reusing an id
+
+Migration 0004 gives each waste container a ``stream`` (what it is meant for, the
+vocabulary of :mod:`carboy.model.compatibility`), a ``stream_note`` (how the stream was
+set when no person chose it) and a ``material`` (glass, plastic, metal; NULL: not
+recorded).  Containers that existed before it get the stream their contents point to
+where that is unambiguous, else ``mixed``, with the reason in ``stream_note``; nothing
+else about them changes.  From then on a trigger lets a stream or material change only
+right after the journal entry that records it.
 """
 
 from __future__ import annotations
@@ -241,6 +249,73 @@ BEGIN SELECT RAISE(ABORT, 'carboy: chain links are append-only; an id is never r
 def m0003_record_chain(db: Database) -> None:
     _run(db, SQL_0003)
     seal_existing(db)
+SQL_0004 = """\
+ALTER TABLE waste_containers ADD COLUMN stream TEXT NOT NULL DEFAULT 'mixed' CHECK (stream IN ('acid', 'alkaline', 'cyanide_sulfide', 'heavy_metal', 'hf', 'oxidizing_acid', 'mixed'))
+;
+ALTER TABLE waste_containers ADD COLUMN stream_note TEXT NOT NULL DEFAULT ''
+;
+ALTER TABLE waste_containers ADD COLUMN material TEXT CHECK (material IS NULL OR material IN ('glass', 'plastic', 'metal'))"""
+
+SQL_0004_CONTENTS = """\
+SELECT c.id AS container_id, a.compound_key, a.conc_molar, a.volume_l, a.mass_g
+FROM waste_containers c JOIN waste_additions a ON a.container_id = c.id
+WHERE NOT EXISTS (SELECT 1 FROM waste_additions n WHERE n.supersedes_id = a.id)
+ORDER BY c.id, a.id"""
+
+SQL_0004_CONTAINERS = "SELECT id FROM waste_containers ORDER BY id"
+
+SQL_0004_SET = "UPDATE waste_containers SET stream = ?, stream_note = ? WHERE id = ?"
+
+SQL_0004_GUARD = """\
+CREATE TRIGGER waste_containers_stream_journaled BEFORE UPDATE OF stream, material ON waste_containers
+WHEN NEW.stream IS NOT OLD.stream OR NEW.material IS NOT OLD.material
+BEGIN SELECT RAISE(ABORT, 'carboy: a container''s stream or material changes only right after the journal entry that records it')
+WHERE NOT EXISTS (SELECT 1 FROM journal_entries j
+    WHERE j.id = (SELECT max(id) FROM journal_entries) AND j.container_id = NEW.id
+      AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'stream-change'
+      AND json_extract(j.snapshot_json, '$.stream') IS NEW.stream
+      AND json_extract(j.snapshot_json, '$.material') IS NEW.material); END"""
+
+UPGRADE_NOTE = "set when streams were introduced: {reason}"
+"""``stream_note`` of a container that existed before migration 0004."""
+
+
+def _amount_mol(row, catalog) -> float:
+    """Formula units of one stored addition (a mass needs the molar mass; an unknown
+    compound keeps a positive stand-in so that it still counts as present)."""
+    if row[4] is not None:
+        if row[1] in catalog:
+            return float(row[4]) / catalog.compound(row[1]).molar_mass_g_mol
+        return float(row[4]) or 1.0
+    return float(row[2] or 0.0) * float(row[3] or 0.0)
+
+
+def _infer_streams(db: Database) -> None:
+    """Each existing container's stream from what it holds (see the module docstring).
+
+    The inference reads the built-in catalog of the day; a storeroom's own compounds are
+    not known here, so a container holding one becomes ``mixed`` with that reason.
+    """
+    from carboy.model.catalog import default_catalog
+    from carboy.model.compatibility import infer_stream
+
+    catalog = default_catalog()
+    contents: dict[int, dict[str, float]] = {
+        row[0]: {} for row in db.execute(SQL_0004_CONTAINERS).fetchall()}
+    for row in db.execute(SQL_0004_CONTENTS).fetchall():
+        held = contents.setdefault(row[0], {})
+        held[row[1]] = held.get(row[1], 0.0) + _amount_mol(row, catalog)
+    for container_id, held in contents.items():
+        guess = infer_stream(held, catalog=catalog)
+        db.execute(SQL_0004_SET, [guess.stream, UPGRADE_NOTE.format(reason=guess.reason),
+                                  container_id])
+
+
+@migrations(name="0004_waste_streams")
+def m0004_waste_streams(db: Database) -> None:
+    _run(db, SQL_0004)
+    _infer_streams(db)
+    _run(db, SQL_0004_GUARD)
 
 
 class _HasDatabase(Protocol):

@@ -84,5 +84,6 @@ def container_sample(store: Store, label: str) -> tuple[ContainerSample, object]
                              volume_l=float(shown["volume_l"]),
                              capacity_l=float(shown["capacity_l"]), location=shown["location"],
                              moles=dict(shown["composition"]), hazards=hazards,
-                             notes=shown.get("notes", ""))
+                             notes=shown.get("notes", ""), contents=dict(shown["contents"]),
+                             stream=shown["stream"], material=shown["material"])
     return sample, catalog_for(store)

@@ -1,7 +1,10 @@
 """Waste containers and what went into them.
 
 A container has a label (unique, case-insensitive), location, capacity in litres,
-a status and opened / closed dates.  The statuses, the moves allowed between them and
+a status, opened / closed dates, a *stream* (what it is meant for: acid, alkaline,
+cyanide/sulfide …, the vocabulary of :mod:`carboy.model.compatibility`) and, when
+recorded, its material.  The stream is set at creation and changes only by
+:func:`set_stream`, which journals the change.  The statuses, the moves allowed between them and
 what each permits are :class:`~carboy.store.statuses.ContainerStatus`.
 
 Only a ``collecting`` container takes additions.  An addition records the compound
@@ -11,6 +14,11 @@ from and a note.  The moles of each system and ion key are computed once, at
 entry: ``count x conc x volume`` or ``count x mass / molar mass``; a later catalog
 change therefore never rewrites a container's history.  Additions are append-only
 (database triggers); a mistaken one is superseded by :func:`correct_addition`.
+
+Before an addition is written, the compatibility rules judge it against the container
+(:mod:`carboy.store.waste_streams`): a dangerous one is refused and nothing is written;
+a lesser mismatch needs a person's reason, which the journal keeps.  A correction
+records what really went in and is not judged; :func:`show` then warns about it.
 
 :func:`composition` gives the planner its input: a :class:`~carboy.model.mixture.Mixture`
 of the container's totals (moles / total volume).
@@ -29,13 +37,20 @@ from carboy.errors import InvalidInput
 from carboy.model.components import Component, read_component
 from carboy.model.entities import Compound
 from carboy.model.mixture import Mixture
-from carboy.model.text import read_label
-from carboy.store import chain, journal
+from carboy.store import chain, journal, waste_streams
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store, current_user, stamp
 from carboy.store.errors import AlreadyExists, ContainerClosed, NotFound, OverCapacity
 from carboy.store.readers import check_length, fielded, parse_litres
 from carboy.store.statuses import CONTAINER_STATUSES, ContainerStatus
+from carboy.store.waste_rows import (  # noqa: F401 (check_label, moles: public here too)
+    LIVE,
+    SUPERSEDED,
+    check_label,
+    container_row,
+    counted_volume,
+    moles,
+)
 
 STATUSES = CONTAINER_STATUSES
 """The stored values (:class:`~carboy.store.statuses.ContainerStatus` is their home)."""
@@ -47,7 +62,6 @@ DEFAULT_CAPACITY_L = 20.0
 MAX_CAPACITY_L = 1000.0
 """Largest container accepted (an intermediate bulk container)."""
 MAX_ADDITION_L = 1000.0
-MAX_LABEL_LENGTH = 64
 
 
 @dataclass(frozen=True)
@@ -65,6 +79,12 @@ class Container:
     created_by: str
     volume_l: float
     n_additions: int
+    stream: str = "mixed"
+    """The stream key (``acid``, ``cyanide_sulfide`` …)."""
+    material: str | None = None
+    stream_note: str = ""
+    """How the stream came to be when no person chose it (an upgrade's inference), or
+    the reason of the last change."""
 
     def as_dict(self) -> dict:
         return asdict(self)
@@ -94,13 +114,6 @@ class Addition:
 
 
 # -- parsing ---------------------------------------------------------------------------
-
-def check_label(label: str) -> str:
-    """A container label as stored: normalized by :func:`carboy.model.text.read_label`
-    (NFKC; invisible and bidirectional-control characters refused)."""
-    return read_label(label, "container label", field="label", most=MAX_LABEL_LENGTH,
-                      required=True)
-
 
 def parse_capacity(value: str | float | None) -> float:
     """A new container's capacity in L (text such as ``'20 L'``, or litres); default 20 L."""
@@ -151,46 +164,30 @@ def _today(today: date | None) -> str:
 
 def new_container(store: Store, label: str, *, location: str = "",
                   capacity: str | float | None = None, notes: str = "",
+                  stream: str = "mixed", material: str | None = None,
                   who: str | None = None, today: date | None = None) -> Container:
-    """Open a new, empty ``collecting`` container."""
+    """Open a new, empty ``collecting`` container meant for ``stream`` (default ``mixed``:
+    licensed disposal, the most cautious); ``material`` is glass, plastic or metal."""
     text = check_label(label)
     cap = parse_capacity(capacity)
+    kind = waste_streams.check_stream(stream)
+    made_of = waste_streams.check_material(material)
 
     def work(s: Store) -> None:
         if s.scalar("SELECT 1 FROM waste_containers WHERE label = ?", [text]):
             raise AlreadyExists("waste container", text)
         s.execute("INSERT INTO waste_containers (label, location, capacity_l, status, opened_on, "
-                  "notes, created_by) VALUES (?, ?, ?, ?, ?, ?, ?)",
+                  "notes, created_by, stream, material) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
                   [text, (location or "").strip(), cap, ContainerStatus.COLLECTING,
-                   _today(today), notes or "", who or current_user()])
+                   _today(today), notes or "", who or current_user(), kind, made_of])
 
     store.write(work)
     return container(store, text)
 
 
-def _container_row(store: Store, label: str) -> dict:
-    row = store.one("SELECT * FROM waste_containers WHERE label = ?", [check_label(label)])
-    if row is None:
-        raise NotFound("waste container", label)
-    row["status"] = ContainerStatus(row["status"])
-    return row
-
-
-_SUPERSEDED = "EXISTS (SELECT 1 FROM waste_additions c WHERE c.supersedes_id = a.id)"
-"""SQL: the addition ``a`` was replaced by a later correction (it no longer counts)."""
-_COUNTED = f"a.container_id = :cid AND NOT {_SUPERSEDED}"
-"""SQL: the addition ``a`` is to container ``:cid`` and still counts."""
-_LIVE = f"FROM waste_additions a WHERE {_COUNTED}"
-
-
-def _volume(store: Store, container_id: int) -> float:
-    return float(store.scalar(f"SELECT coalesce(sum(a.volume_l), 0) {_LIVE}",
-                              {"cid": container_id}))
-
-
 def _check_room(store: Store, row: Mapping[str, Any], change_l: float) -> None:
     """Refuse a change of ``change_l`` litres that would overfill the container."""
-    would_be = _volume(store, row["id"]) + change_l
+    would_be = counted_volume(store, row["id"]) + change_l
     if would_be > row["capacity_l"] * (1 + 1e-9):
         raise OverCapacity(row["label"], row["capacity_l"], would_be)
 
@@ -213,12 +210,14 @@ def _insert_addition(s: Store, row: dict, component: Component, volume_l: float,
 
 
 def add(store: Store, label: str, component: str, volume: str | float | None = None, *,
-        note: str = "", who: str | None = None, when: datetime | None = None) -> int:
+        note: str = "", accept: str = "", who: str | None = None,
+        when: datetime | None = None) -> int:
     """Log an addition to a collecting container; returns the addition id.
 
     ``component`` is ``COMPOUND=CONC`` (``'HCl=1M'``) or ``COMPOUND=MASS`` for a solid
     (``'NaF=2 g'``; then ``volume`` may be omitted).  ``volume`` is text (``'250 mL'``)
-    or litres.
+    or litres.  ``accept`` is a person's reason to log it despite ``confirm`` findings
+    (a base into an acid-waste container …); the journal keeps it with the findings.
 
     Raises
     ------
@@ -226,19 +225,51 @@ def add(store: Store, label: str, component: str, volume: str | float | None = N
     NotFound : no such container.
     ContainerClosed : the container is no longer collecting.
     OverCapacity : the addition would overfill it.
+    Refused : the rules refuse it (a gas hazard, an explosive or violent reaction, an
+        acid into a cyanide container …); no ``accept`` overrides that.
+    NeedsConfirmation : the rules ask for a reason and ``accept`` gave none.
+    Nothing is written when any of these is raised.
     """
-    parsed, vol = read_addition(component, volume, catalog_for(store))
+    catalog = catalog_for(store)
+    parsed, vol = read_addition(component, volume, catalog)
     check_length("note", note, field="note")
+    check_length("reason", accept, field="accept")
 
     def work(s: Store) -> int:
-        row = _container_row(s, label)
+        row = container_row(s, label)
         if not row["status"].takes_additions:
             raise ContainerClosed(row["label"], row["status"])
         _check_room(s, row, vol)
-        return _insert_addition(s, row, parsed, vol, note=note, supersedes=None, who=who,
-                                when=when)
+        asked = waste_streams.enforce(
+            waste_streams.judge_component(s, row, parsed, vol, catalog),
+            f"adding {parsed.compound.key} to {row['label']}", accept)
+        addition_id = _insert_addition(s, row, parsed, vol, note=note, supersedes=None,
+                                       who=who, when=when)
+        if asked:
+            journal.append_in(
+                s, "note", container_id=row["id"], who=who, when=when,
+                summary=f"{row['label']}: addition {addition_id} ({parsed.text}) logged "
+                        f"despite: {asked[0].hazard}; reason: {accept.strip()}",
+                snapshot=waste_streams.accepted_snapshot(addition_id, parsed.text, accept,
+                                                         asked))
+        return addition_id
 
     return store.write(work)
+
+
+def screen(store: Store, label: str, component: str, volume: str | float | None = None,
+           ) -> tuple:
+    """What the rules would say of this addition, without writing anything (a form's
+    preview); :func:`add` judges again when it writes."""
+    catalog = catalog_for(store)
+    parsed, vol = read_addition(component, volume, catalog)
+    with store.reading():
+        return waste_streams.judge_component(store, container_row(store, label), parsed, vol,
+                                             catalog)
+
+
+set_stream = waste_streams.set_stream
+contents = waste_streams.contents
 
 
 def correct_addition(store: Store, addition_id: int, reason: str, *,
@@ -262,7 +293,7 @@ def correct_addition(store: Store, addition_id: int, reason: str, *,
         if s.scalar("SELECT 1 FROM waste_additions WHERE supersedes_id = ?", [old["id"]]):
             raise InvalidInput("waste addition", addition_id, "was already corrected; correct "
                                "the newer row instead")
-        row = _container_row(s, old["label"])
+        row = container_row(s, old["label"])
         if not row["status"].takes_additions:
             raise ContainerClosed(row["label"], row["status"], "correct its additions")
         if component is None:
@@ -303,7 +334,7 @@ def set_status(store: Store, label: str, status: str, *, note: str = "",
     target = ContainerStatus.parse(status)
 
     def work(s: Store) -> int:
-        row = _container_row(s, label)
+        row = container_row(s, label)
         was = row["status"]
         if not was.can_move_to(target):
             raise ContainerClosed(row["label"], was, f"move it to {target.words}")
@@ -347,7 +378,7 @@ def record_neutralization(store: Store, label: str, plan_snapshot: Mapping[str, 
     target = ContainerStatus.PLANNED if measured_ph is None else ContainerStatus.NEUTRALIZED
 
     def work(s: Store) -> int:
-        row = _container_row(s, label)
+        row = container_row(s, label)
         if not row["status"].can_record_neutralization:
             raise ContainerClosed(row["label"], row["status"], "record a neutralization")
         _move(s, row, target, today)
@@ -365,18 +396,19 @@ def record_neutralization(store: Store, label: str, plan_snapshot: Mapping[str, 
 # -- reads -------------------------------------------------------------------------------
 
 def _container(store: Store, row: Mapping[str, Any]) -> Container:
-    agg = store.one(f"SELECT count(*) AS n, coalesce(sum(a.volume_l), 0) AS v {_LIVE}",
+    agg = store.one(f"SELECT count(*) AS n, coalesce(sum(a.volume_l), 0) AS v {LIVE}",
                     {"cid": row["id"]})
     return Container(id=row["id"], label=row["label"], location=row["location"],
                      capacity_l=row["capacity_l"], status=row["status"],
                      opened_on=row["opened_on"], closed_on=row["closed_on"], notes=row["notes"],
                      created_by=row["created_by"], volume_l=float(agg["v"]),
-                     n_additions=int(agg["n"]))
+                     n_additions=int(agg["n"]), stream=row["stream"],
+                     material=row["material"], stream_note=row["stream_note"])
 
 
 def container(store: Store, label: str) -> Container:
     with store.reading():
-        return _container(store, _container_row(store, label))
+        return _container(store, container_row(store, label))
 
 
 def containers(store: Store, *, status: str | None = None) -> list[Container]:
@@ -387,18 +419,6 @@ def containers(store: Store, *, status: str | None = None) -> list[Container]:
                           (" WHERE status = ?" if wanted else "") + " ORDER BY label",
                           [wanted] if wanted else [])
         return [_container(store, {**r, "status": ContainerStatus(r["status"])}) for r in rows]
-
-
-def moles(store: Store, label: str) -> tuple[dict[str, float], float]:
-    """(moles of each system / ion key, total volume in L) of a container."""
-    with store.reading():
-        row = _container_row(store, label)
-        found = store.rows(
-            "SELECT j.key AS key, sum(j.value) AS mol FROM waste_additions a, "
-            f"json_each(a.moles_json) j WHERE {_COUNTED} GROUP BY j.key ORDER BY j.key",
-            {"cid": row["id"]})
-        volume = _volume(store, row["id"])
-    return {r["key"]: float(r["mol"]) for r in found if r["mol"]}, volume
 
 
 def composition(store: Store, label: str, *, temperature_c: float = 25.0) -> Mixture:
@@ -425,9 +445,9 @@ def _addition(row: Mapping[str, Any]) -> Addition:
 def additions(store: Store, label: str) -> list[Addition]:
     """Every addition to a container, oldest first, superseded ones flagged."""
     with store.reading():
-        row = _container_row(store, label)
+        row = container_row(store, label)
         rows = store.rows(
-            f"SELECT a.*, {_SUPERSEDED} AS superseded FROM waste_additions a "
+            f"SELECT a.*, {SUPERSEDED} AS superseded FROM waste_additions a "
             "WHERE a.container_id = ? ORDER BY a.id",
             [row["id"]])
     return [_addition(r) for r in rows]
@@ -451,12 +471,28 @@ def _snapshot_of(store: Store, row: Mapping[str, Any]) -> dict:
 
 
 def show(store: Store, label: str) -> dict:
-    """Everything about one container as plain data (the ``waste show`` JSON)."""
+    """Everything about one container as plain data (the ``waste show`` JSON).
+
+    ``warnings`` are the compatibility rules' findings on what it already holds (its
+    stream against its contents, the contents against each other): nothing is changed;
+    one a person answered with a reason when logging carries it (``accepted``).
+    """
+    catalog = catalog_for(store)
     with store.reading():
-        info = container(store, label)
+        row = container_row(store, label)
+        info = _container(store, row)
         amounts, volume = moles(store, label)
         adds = additions(store, label)
+        h = waste_streams.held_in(store, row, catalog)
+        accepted = waste_streams.accepted_reasons(
+            journal.entries(store, container_id=row["id"], limit=None))
+    rules_view = waste_streams.view(info.stream, info.material, h, catalog)
     return {"label": info.label, "status": info.status, "volume_l": volume,
             "capacity_l": info.capacity_l, "location": info.location,
             "opened_on": info.opened_on, "closed_on": info.closed_on, "notes": info.notes,
+            "stream": info.stream, "stream_name": waste_streams.stream_name(info.stream),
+            "stream_note": info.stream_note, "material": info.material,
+            "estimated_pH": rules_view.estimated_pH,
+            "contents": dict(h.contents),
+            "warnings": list(waste_streams.warnings(rules_view, h, catalog, accepted)),
             "composition": amounts, "additions": [a.as_dict() for a in adds]}

@@ -40,8 +40,8 @@ def run_json(capsys, *argv):
 
 def test_waste_round_trip(capsys, db):
     c = run_json(capsys, "waste", "new", "MA-01", "--location", "Bay 1", "--capacity", "10 L",
-                 "--db", db)
-    assert c["label"] == "MA-01" and c["capacity_l"] == 10.0
+                 "--stream", "acid", "--db", db)
+    assert c["label"] == "MA-01" and c["capacity_l"] == 10.0 and c["stream"] == "acid"
     run_json(capsys, "waste", "add", "MA-01", "HCl=1M", "--volume", "2 L", "--note", "rinse",
              "--db", db)
     run_json(capsys, "waste", "add", "MA-01", "H2SO4=0.5M", "--volume", "500 mL", "--db", db)
@@ -51,11 +51,12 @@ def test_waste_round_trip(capsys, db):
     assert info["composition"] == {"Cl-": pytest.approx(2.0), "sulfate": pytest.approx(0.25)}
     assert [a["note"] for a in info["additions"]] == ["rinse", ""]
     listed = run_json(capsys, "waste", "list", "--db", db)
-    assert [c["label"] for c in listed] == ["MA-01"]
+    assert [(c["label"], c["stream"]) for c in listed] == [("MA-01", "acid")]
+    assert info["stream"] == "acid" and info["warnings"] == []
 
 
 def test_top_level_db_option_works_too(capsys, db):
-    code, out, _ = run(capsys, "--db", db, "waste", "new", "X1")
+    code, out, _ = run(capsys, "--db", db, "waste", "new", "X1", "--stream", "alkaline")
     assert code == 0 and "X1" in out
     assert run_json(capsys, "--db", db, "waste", "list")[0]["label"] == "X1"
 
@@ -66,13 +67,14 @@ def test_top_level_db_option_works_too(capsys, db):
     (["waste", "add", "MA-01", "HCl=1M", "--volume", "2 kg"], "'2 kg'", 2),
     (["waste", "add", "NOPE", "HCl=1M", "--volume", "1 L"], "no waste container 'NOPE'", 2),
     (["waste", "add", "MA-01", "HCl", "--volume", "1 L"], "NAME=CONC", 2),
-    (["waste", "new", "Z", "--capacity", "20 kg"], "'20 kg'", 2),
+    (["waste", "new", "Z", "--capacity", "20 kg", "--stream", "acid"], "'20 kg'", 2),
     # refused by a rule of the store, not unreadable: status 1
     (["waste", "add", "MA-01", "HCl=1M", "--volume", "50 L"], "holds at most 10 L", 1),
-    (["waste", "new", "MA-01"], "exists already", 1),
+    (["waste", "new", "MA-01", "--stream", "acid"], "exists already", 1),
 ])
 def test_bad_waste_input_exits_2_and_a_rule_refusal_1(capsys, db, argv, needle, status):
-    run_json(capsys, "waste", "new", "MA-01", "--capacity", "10 L", "--db", db)
+    run_json(capsys, "waste", "new", "MA-01", "--capacity", "10 L", "--stream", "acid",
+             "--db", db)
     code, out, err = run(capsys, *argv, "--db", db)
     assert code == status and out == ""
     assert needle in err and "Traceback" not in err
@@ -173,7 +175,7 @@ def test_damaged_database_is_a_clear_error(capsys, tmp_path):
 
 def test_env_var_database(capsys, db, monkeypatch):
     monkeypatch.setenv("CARBOY_DB", db)
-    run_json(capsys, "waste", "new", "ENV-1")
+    run_json(capsys, "waste", "new", "ENV-1", "--stream", "mixed")
     s = open_database(db)
     assert s.scalar("SELECT label FROM waste_containers") == "ENV-1"
     s.close()

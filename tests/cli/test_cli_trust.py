@@ -42,7 +42,7 @@ def _state_dir(tmp_path, monkeypatch):
 
 DB_COMMANDS = [
     ("stock", "list"), ("stock", "show", "1"), ("stock", "check"), ("stock", "export"),
-    ("waste", "list"), ("waste", "show", "MA-01"), ("waste", "new", "X1"),
+    ("waste", "list"), ("waste", "show", "MA-01"), ("waste", "new", "X1", "--stream", "acid"),
     ("journal", "list"), ("journal", "verify"), ("journal", "export", "--format", "csv"),
     ("rules",), ("neutralize", "--waste", "MA-01", "--reagent", "NaOH=1M"),
     ("standardize", "--bottle", "1", "--standard", "KHP", "--mass", "0.5", "--volume", "25"),
@@ -63,7 +63,7 @@ def test_init_creates_a_group_only_database_and_refuses_twice(capsys, tmp_path):
     code, out, _ = run(capsys, "init", str(path))
     assert code == 0 and "created" in out
     assert stat.S_IMODE(path.stat().st_mode) == 0o660
-    assert run(capsys, "waste", "new", "W1", "--db", str(path))[0] == 0
+    assert run(capsys, "waste", "new", "W1", "--stream", "acid", "--db", str(path))[0] == 0
     store = open_database(path, create=False)  # the -wal and -shm exist while it is open
     for suffix in ("-wal", "-shm", ".lock"):
         assert stat.S_IMODE(os.stat(f"{path}{suffix}").st_mode) == 0o660
@@ -127,7 +127,7 @@ def _read_only(monkeypatch):
 def test_read_only_database_reads_and_refuses_writes_clearly(capsys, demo_db, monkeypatch):
     _read_only(monkeypatch)
     assert run(capsys, "waste", "list", "--db", demo_db)[0] == 0
-    code, _, err = run(capsys, "waste", "new", "RO-1", "--db", demo_db)
+    code, _, err = run(capsys, "waste", "new", "RO-1", "--stream", "acid", "--db", demo_db)
     assert code == 2 and "read-only" in err and "group" in err
 
 
@@ -144,7 +144,7 @@ def test_full_disk_is_one_line(capsys, demo_db, monkeypatch):
     code, _, err = run(capsys, "journal", "list", "--db", demo_db)
     assert code == 0
     for n in range(60):  # fill the free pages, then the next write finds the disk full
-        code, _, err = run(capsys, "waste", "new", f"FULL-{n}", "--notes", "x" * 3000,
+        code, _, err = run(capsys, "waste", "new", f"FULL-{n}", "--stream", "acid", "--notes", "x" * 3000,
                            "--db", demo_db)
         if code:
             break
@@ -188,10 +188,10 @@ def test_an_unexpected_error_is_logged_not_shown(capsys, tmp_path, monkeypatch):
     (("stock", "list", "--after", "99999999999999999999"), "larger than any id"),
     (("journal", "list", "--limit", "99999999999999999999"), "larger than any id"),
     (("stock", "show", "١٢"), "digits 0-9"),
-    (("waste", "new", "X2", "--capacity", "1 L**0"), "unknown unit"),
-    (("waste", "new", "X3", "--capacity", "1 pi*L"), "unknown unit"),
-    (("waste", "new", "MA\u200b-01"), "U+200B"),
-    (("waste", "new", "MA\u202e-01"), "RIGHT-TO-LEFT OVERRIDE"),
+    (("waste", "new", "X2", "--stream", "acid", "--capacity", "1 L**0"), "unknown unit"),
+    (("waste", "new", "X3", "--stream", "acid", "--capacity", "1 pi*L"), "unknown unit"),
+    (("waste", "new", "MA\u200b-01", "--stream", "acid"), "U+200B"),
+    (("waste", "new", "MA\u202e-01", "--stream", "acid"), "RIGHT-TO-LEFT OVERRIDE"),
     (("stock", "add", "HCl", "1 M", "--size", "1 L", "--lot", "L\u2066OT"), "invisible"),
 ])
 def test_bad_values_are_refused_with_a_short_message(capsys, demo_db, argv, needle):
@@ -200,8 +200,8 @@ def test_bad_values_are_refused_with_a_short_message(capsys, demo_db, argv, need
 
 
 def test_look_alike_labels_are_one_label(capsys, demo_db):
-    assert run(capsys, "waste", "new", "NB\u00a0BAY", "--db", demo_db)[0] == 0
-    code, _, err = run(capsys, "waste", "new", "NB BAY", "--db", demo_db)
+    assert run(capsys, "waste", "new", "NB\u00a0BAY", "--stream", "acid", "--db", demo_db)[0] == 0
+    code, _, err = run(capsys, "waste", "new", "NB BAY", "--stream", "acid", "--db", demo_db)
     assert code in (1, 2) and "exists already" in err
 
 
@@ -300,12 +300,12 @@ def test_verify_passes_then_names_the_changed_entry(capsys, demo_db):
     assert "journal entry 7" in out and "warning" in err
     found = json.loads(run(capsys, "journal", "verify", "--json", "--db", demo_db)[1])
     assert found["ok"] is False and any(p["record_id"] == 7 for p in found["problems"])
-    code, _, err = run(capsys, "waste", "new", "AFTER", "--db", demo_db)
+    code, _, err = run(capsys, "waste", "new", "AFTER", "--stream", "acid", "--db", demo_db)
     assert code == 1 and "lost its protection" in err
     code, out, _ = run(capsys, "journal", "verify", "--restore-guards", "--db", demo_db)
     assert code == 1 and "restored guard triggers: journal_entries_no_update" in out
     assert "journal entry 7" in out  # the change stays visible after the guard is back
-    assert run(capsys, "waste", "new", "AFTER", "--db", demo_db)[0] == 0
+    assert run(capsys, "waste", "new", "AFTER", "--stream", "acid", "--db", demo_db)[0] == 0
 
 
 def test_export_head_checks_the_file_later(capsys, demo_db):

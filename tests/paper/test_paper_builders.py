@@ -150,7 +150,7 @@ def test_disposal_record_counts_additions_and_marks_superseded_ones(demo_store):
     assert composition.totals == ("Total volume", "", "6.5 L")
     assert "Nothing has been added yet." not in doc.text()
     fields = dict(doc.blocks_of(Fields)[0].items)
-    assert fields["Stream"] == disposal_record.STREAM_MISSING
+    assert fields["Stream"] == "acid waste, plastic"
     assert "No neutralization plan recorded." in doc.text()
 
 
@@ -172,6 +172,10 @@ def test_disposal_record_of_a_licensed_disposal_container(demo_store):
     assert "never neutralized here" in treatment.rows[0][3]
     assert "NOT a drain-disposal plan" in text and "Fluoride present" in text
     assert "Journal chain head abc123" in text
+    assert dict(doc.blocks_of(Fields)[0].items)["Stream"] == "HF/fluoride waste, plastic"
+    # the rinse the rules questioned is on the record, with the reason it was logged
+    assert "Warning: already in the container: HCl" in text
+    assert "(logged with a reason: the rinse of the HF etching vessel" in text
 
 
 def test_building_documents_writes_nothing(demo_path, demo_store):

@@ -37,12 +37,14 @@ TRIGGERS = {
     ("waste_additions", "waste_additions_no_delete"),
     ("waste_additions", "waste_additions_no_reused_id"),
     ("waste_additions", "waste_additions_no_update"),
+    ("waste_containers", "waste_containers_stream_journaled"),
 }
 COLUMNS = {
     "journal_entries": ["id", "kind", "recorded_at", "recorded_by", "origin", "bottle_id",
                         "container_id", "corrects_id", "summary", "snapshot_json"],
     "waste_containers": ["id", "label", "location", "capacity_l", "status", "opened_on",
-                         "closed_on", "notes", "created_by"],
+                         "closed_on", "notes", "created_by", "stream", "stream_note",
+                         "material"],
     "waste_additions": ["id", "container_id", "compound_key", "conc_molar", "volume_l", "mass_g",
                         "entered", "composition_json", "moles_json", "supersedes_id",
                         "added_at", "added_by", "origin", "note"],
@@ -99,4 +101,5 @@ def test_migrations_recorded(store):
     rows = store.rows("SELECT migration_set, name FROM _sqlite_migrations")
     assert rows == [{"migration_set": "carboy", "name": "0001_storeroom"},
                     {"migration_set": "carboy", "name": "0002_storeroom_rules"},
-                    {"migration_set": "carboy", "name": "0003_record_chain"}]
+                    {"migration_set": "carboy", "name": "0003_record_chain"},
+                    {"migration_set": "carboy", "name": "0004_waste_streams"}]

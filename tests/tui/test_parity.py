@@ -137,7 +137,7 @@ def test_standardize_gives_the_same_molarity_or_the_same_refusal(capsys, row):
 ADDITIONS = [
     ("HCl", "1 M", "2 L", True),
     ("H2SO4", "10 %w/w", "250 mL", True),
-    ("NaF", "2 g", "", True),
+    ("NaCl", "2 g", "", True),           # a solid by mass (OA-02 takes acids and neutral salts)
     ("HCl", "1 M", "", False),            # a solution needs a volume
     ("Unobtainium", "1 M", "1 L", False),
     ("HCl", "1 q", "1 L", False),

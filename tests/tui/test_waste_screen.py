@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from carboy.store import waste
+from carboy.store import journal, waste
 from carboy.store.db import open_database
 from carboy.tui.app.screens.confirm import ConfirmScreen
 from carboy.tui.app.screens.waste import WasteScreen
@@ -142,7 +142,9 @@ async def test_mark_disposed_only_when_neutralized(make, wait_for):
         assert screen.check_action("mark_disposed", ()) is False
 
 
-async def test_open_a_new_container_and_refuse_a_duplicate(make, wait_for):
+async def test_open_a_new_container_with_its_stream_then_change_it(make, wait_for, demo_db):
+    from carboy.tui.app.screens.waste_stream import ChangeStreamScreen
+
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
         screen = await on_waste(app, pilot, wait_for)
@@ -150,12 +152,38 @@ async def test_open_a_new_container_and_refuse_a_duplicate(make, wait_for):
         await wait_for(pilot, lambda: isinstance(app.screen, NewContainerScreen))
         form = app.screen
         await type_into(pilot, form, "new-label", "MA-01")
+        await pilot.press("ctrl+s")  # no stream chosen yet: asked for, nothing stored
+        await wait_for(pilot, lambda: "needed: what the container collects"
+                       in form.query_one("#row-new-stream").echo_text)
+        form.query_one("#new-stream").value = "acid"
+        await wait_for(pilot, lambda: "Acids and their salts"
+                       in form.query_one("#row-new-stream").echo_text)
         await pilot.press("ctrl+s")
         await wait_for(pilot, lambda: "exists already" in str(form.query_one("#new-error").render()))
         assert form.values()["new-label"] == "MA-01"
         form.query_one("#new-label").value = "MA-05"
         form.query_one("#new-capacity").value = "2,5 L"
+        form.query_one("#new-material").value = "glass"
         await pilot.press("ctrl+s")
         await wait_for(pilot, lambda: "MA-05" in screen.containers)
-        assert screen.containers["MA-05"].capacity_l == 2.5
-        await wait_for(pilot, lambda: screen.selected == "MA-05")
+        made = screen.containers["MA-05"]
+        assert (made.capacity_l, made.stream, made.material) == (2.5, "acid", "glass")
+        assert screen.query_one("#waste-table").get_cell("MA-05", "stream") == "acid"
+        await wait_for(pilot, lambda: screen.selected == "MA-05" and screen.detail
+                       and screen.detail.info["label"] == "MA-05")
+        assert "acid waste · glass" in detail_text(screen)
+        # the stream changes only with a reason, which the journal keeps
+        await pilot.press("s")
+        await wait_for(pilot, lambda: isinstance(app.screen, ChangeStreamScreen))
+        dialog = app.screen
+        dialog.query_one("#change-stream").value = "alkaline"
+        await pilot.press("ctrl+s")
+        await wait_for(pilot, lambda: "needed: say why"
+                       in dialog.query_one("#row-change-reason").echo_text)
+        dialog.query_one("#change-reason").value = "moved to the base bay"
+        await pilot.press("ctrl+s")
+        await wait_for(pilot, lambda: screen.containers["MA-05"].stream == "alkaline")
+    with open_database(demo_db) as store:
+        entry = journal.entries(store, limit=1)[0]
+    assert entry.snapshot["event"] == "stream-change"
+    assert entry.snapshot["reason"] == "moved to the base bay"

@@ -5,16 +5,29 @@ The sample is either components typed with a volume (``H2SO4=0.05M NaH2PO4=10mM`
 (:class:`ContainerSample`).  :func:`read` parses the fields; :func:`evaluate` also
 plans, so the Neutralize screen and ``carboy neutralize`` give the same answer for the
 same input.
+
+A waste holding cyanide or sulfide is never planned towards acid: :func:`plan` raises
+:class:`~carboy.errors.HazardRefused` with the reason and what to do instead
+(:func:`carboy.model.cautions.refuse_plan`).  Every plan it gives carries the waste's
+own cautions and the drain verdict of the container's stream and the compatibility
+rules (:func:`carboy.model.cautions.amend`).
 """
 
 from __future__ import annotations
 
 import time
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
-from carboy.errors import CarboyError, InvalidInput, TemperatureOutOfRange, UnknownCompound
-from carboy.model import quantities
+from carboy.errors import (
+    CarboyError,
+    HazardRefused,
+    InvalidInput,
+    Refused,
+    TemperatureOutOfRange,
+    UnknownCompound,
+)
+from carboy.model import cautions, quantities
 from carboy.model.components import read_component
 from carboy.model.forms import FormReader, Reading, read_ph, read_window
 from carboy.model.mixture import Mixture
@@ -62,6 +75,10 @@ class ContainerSample:
     moles: Mapping[str, float]
     hazards: frozenset[str]
     notes: str = ""
+    contents: Mapping[str, float] = field(default_factory=dict)
+    """Mol of each compound logged (compound key -> mol)."""
+    stream: str | None = None
+    material: str | None = None
 
 
 @dataclass(frozen=True)
@@ -76,6 +93,8 @@ class NeutralizeRequest:
     activity: str
     temperature_c: float
     container: ContainerSample | None = None
+    compounds: Mapping[str, float] = field(default_factory=dict)
+    """Mol of each compound in the sample (typed, or logged into the container)."""
 
 
 @dataclass
@@ -132,7 +151,8 @@ def _items(components: str | Sequence[str]) -> list[str]:
 
 
 def _typed_sample(form: FormReader, fields: NeutralizeFields, t_c: float, catalog):
-    """(mixture, hazards) of a typed sample, or None with the fields' errors recorded."""
+    """(mixture, hazards, compounds in mol) of a typed sample, or None with the fields'
+    errors recorded."""
     items = _items(fields.components)
     if not items:
         form.need("components", "", NEED_COMPONENTS)
@@ -162,7 +182,10 @@ def _typed_sample(form: FormReader, fields: NeutralizeFields, t_c: float, catalo
     form.echo("components", "understood: " + " · ".join(echo) + f" in {volume:g} L")
     form.echo("volume", f"understood: {volume:g} L")
     mixture = Mixture.from_compounds(parsed, volume_l=volume, temperature_c=t_c)
-    return mixture, frozenset(hazards)
+    compounds: dict[str, float] = {}
+    for compound, conc in parsed:
+        compounds[compound.key] = compounds.get(compound.key, 0.0) + conc * volume
+    return mixture, frozenset(hazards), compounds
 
 
 def _temperature(text: str) -> float:
@@ -177,7 +200,7 @@ class _Parts:
     """What could be read of each field (None where it could not)."""
 
     t_c: float | None = None
-    sample: tuple[Mixture, frozenset[str]] | None = None
+    sample: tuple[Mixture, frozenset[str], Mapping[str, float]] | None = None
     reagent: Reagent | None = None
     target: float | None = None
     window: tuple[float, float] | None = None
@@ -201,7 +224,8 @@ def _read_parts(form: FormReader, fields: NeutralizeFields, catalog,
                                          "volume yet: log an addition with its volume first"))
     elif container is not None:
         parts.sample = (Mixture.from_moles(dict(container.moles), container.volume_l,
-                                           temperature_c=t_c), container.hazards)
+                                           temperature_c=t_c), container.hazards,
+                        dict(container.contents))
     else:
         parts.sample = _typed_sample(form, fields, t_c, catalog)
     if form.need("reagent", fields.reagent, NEED_REAGENT):
@@ -227,7 +251,8 @@ def _request(parts: _Parts, fields: NeutralizeFields,
     if None in (parts.sample, parts.reagent, parts.target, parts.window, parts.t_c):
         return None
     return NeutralizeRequest(parts.sample[0], parts.sample[1], parts.reagent, parts.target,
-                             parts.window, fields.activity, parts.t_c, container)
+                             parts.window, fields.activity, parts.t_c, container,
+                             parts.sample[2])
 
 
 def read(fields: NeutralizeFields, catalog, container: ContainerSample | None = None,
@@ -239,13 +264,29 @@ def read(fields: NeutralizeFields, catalog, container: ContainerSample | None = 
 
 
 def plan(request: NeutralizeRequest, catalog, *, curve_points: int | None = None):
-    """The neutralization plan of a read request (see :func:`carboy.model.planner`)."""
+    """The neutralization plan of a read request (see :func:`carboy.model.planner`), with
+    the waste's own cautions and drain verdict (:func:`carboy.model.cautions.amend`).
+
+    Raises :class:`~carboy.errors.HazardRefused` for a cyanide or sulfide waste that the plan
+    would acidify (no dose, stages or curve are computed).
+    """
     from carboy.model.planner import plan_neutralization
 
+    if cautions.gas_hazards(request.mixture.totals, request.hazards):
+        ph0 = _initial_ph(request.mixture, request.activity, catalog)
+        direction = "base" if ph0 < request.target_pH else "acid"
+        reason = cautions.refuse_plan(request.mixture.totals, request.hazards, ph0,
+                                      request.target_pH, direction)
+        if reason:
+            raise HazardRefused("a neutralization plan", reason)
     extra = {} if curve_points is None else {"curve_points": curve_points}
-    return plan_neutralization(
+    found = plan_neutralization(
         request.mixture, request.reagent, target_pH=request.target_pH, window=request.window,
         activity=request.activity, catalog=catalog, hazards=request.hazards, **extra)
+    box = request.container
+    sample = cautions.Sample(dict(request.compounds), box.stream if box else None,
+                             box.material if box else None)
+    return cautions.amend(found, sample, catalog=catalog)
 
 
 def _field_of(err: CarboyError) -> str:
@@ -259,11 +300,15 @@ def _field_of(err: CarboyError) -> str:
     return "plan"
 
 
-def _direction(mixture: Mixture, target: float, activity: str, catalog) -> str | None:
+def _initial_ph(mixture: Mixture, activity: str, catalog) -> float:
     from carboy.model.speciation import speciate
 
+    return float(speciate(mixture, activity=activity, catalog=catalog).pH)
+
+
+def _direction(mixture: Mixture, target: float, activity: str, catalog) -> str | None:
     try:
-        ph0 = speciate(mixture, activity=activity, catalog=catalog).pH
+        ph0 = _initial_ph(mixture, activity, catalog)
     except CarboyError:
         return None
     return "base" if ph0 < target else "acid"
@@ -285,7 +330,7 @@ def evaluate(fields: NeutralizeFields, catalog, container: ContainerSample | Non
             out.value, out.direction = result, result.direction
         except CarboyError as err:
             name = _field_of(err)
-            out.errors[name] = str(err) if name != "plan" else \
+            out.errors[name] = str(err) if name != "plan" or isinstance(err, Refused) else \
                 f"the planner could not finish: {err}"
             out.problems.append((name, err))
         except Exception as err:  # noqa: BLE001 - shown in place, never as a traceback

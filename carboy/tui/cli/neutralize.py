@@ -3,9 +3,11 @@
 from __future__ import annotations
 
 import argparse
+import sys
 
+from carboy.errors import HazardRefused
 from carboy.model.forms.neutralize import NeutralizeFields
-from carboy.tui.cli.kit import UsageError, emit_json, first_problem, open_store
+from carboy.tui.cli.kit import EXIT_REFUSED, UsageError, emit_json, first_problem, open_store
 
 EXAMPLES = """examples:
   carboy neutralize H2SO4=0.5M --volume 250mL --reagent NaOH=2M
@@ -153,7 +155,13 @@ def format_report(plan) -> str:
 
 
 def run(args) -> int:
-    plan = build_plan(args)
+    try:
+        plan = build_plan(args)
+    except HazardRefused as exc:  # a cyanide or sulfide waste is never planned towards acid
+        if args.json:
+            emit_json({"plan": None, "refused": str(exc)})
+        print(f"carboy: {exc}", file=sys.stderr)
+        return EXIT_REFUSED
     if args.json:
         emit_json(plan.to_dict())
     else:

@@ -139,7 +139,7 @@ CREATE TABLE waste_containers (
     closed_on TEXT,
     notes TEXT NOT NULL DEFAULT '',
     created_by TEXT NOT NULL
-);
+, stream TEXT NOT NULL DEFAULT 'mixed' CHECK (stream IN ('acid', 'alkaline', 'cyanide_sulfide', 'heavy_metal', 'hf', 'oxidizing_acid', 'mixed')), stream_note TEXT NOT NULL DEFAULT '', material TEXT CHECK (material IS NULL OR material IN ('glass', 'plastic', 'metal')));
 
 -- trigger journal_entries_no_delete on journal_entries
 CREATE TRIGGER journal_entries_no_delete BEFORE DELETE ON journal_entries
@@ -199,3 +199,13 @@ BEGIN SELECT RAISE(ABORT, 'carboy: waste additions are append-only; an id is nev
 -- trigger waste_additions_no_update on waste_additions
 CREATE TRIGGER waste_additions_no_update BEFORE UPDATE ON waste_additions
 BEGIN SELECT RAISE(ABORT, 'carboy: waste additions are append-only; record a correction instead'); END;
+
+-- trigger waste_containers_stream_journaled on waste_containers
+CREATE TRIGGER waste_containers_stream_journaled BEFORE UPDATE OF stream, material ON waste_containers
+WHEN NEW.stream IS NOT OLD.stream OR NEW.material IS NOT OLD.material
+BEGIN SELECT RAISE(ABORT, 'carboy: a container''s stream or material changes only right after the journal entry that records it')
+WHERE NOT EXISTS (SELECT 1 FROM journal_entries j
+    WHERE j.id = (SELECT max(id) FROM journal_entries) AND j.container_id = NEW.id
+      AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'stream-change'
+      AND json_extract(j.snapshot_json, '$.stream') IS NEW.stream
+      AND json_extract(j.snapshot_json, '$.material') IS NEW.material); END;

@@ -34,7 +34,9 @@ class Section:
 CHILDREN: dict[str, tuple[tuple[str, str], ...]] = {
     "stock": (("Bottle", "bottle:BottleScreen"), ("Strength check", "check:CheckScreen")),
     "waste": (("Log a waste addition", "waste_add:AddWasteScreen"),
-              ("New waste container", "waste_new:NewContainerScreen")),
+              ("An addition the rules question", "waste_accept:AcceptAdditionScreen"),
+              ("New waste container", "waste_new:NewContainerScreen"),
+              ("Change a container's stream", "waste_stream:ChangeStreamScreen")),
     "journal": (("Journal entry", "entry:EntryScreen"),),
 }
 """Screens and dialogs opened from a main screen: (title, ``module:Class`` under screens)."""

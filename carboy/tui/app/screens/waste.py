@@ -2,8 +2,10 @@
 
 The disposal note stays on screen: carboy advises, the local disposal rules and
 the institution's safety office decide.  A container holding anything that must
-never go to the drain (fluoride, heavy metals, perchlorate …) says so and offers
-no neutralization plan.
+never go to the drain (fluoride, heavy metals, perchlorate …), or meant for a stream
+that is never treated for the drain, says so and offers no neutralization plan.
+Each container shows its stream; one whose contents disagree with it (or with each
+other) is shown with the warnings, never changed.
 """
 
 from __future__ import annotations
@@ -23,6 +25,7 @@ from textual.worker import get_current_worker
 
 from carboy.errors import CarboyError
 from carboy.model.cautions import NO_DRAIN_TAGS
+from carboy.model.compatibility import streams
 from carboy.store import waste
 from carboy.store.statuses import ContainerStatus
 from carboy.tui.app.screens.confirm import ConfirmScreen
@@ -47,8 +50,15 @@ class Detail:
     no_drain: dict[str, list[str]] = field(default_factory=dict)  # compound -> tag names
 
     @property
+    def drain_stream(self) -> bool:
+        """The container's stream may ever be treated for the drain."""
+        st = streams().get(self.info.get("stream") or "")
+        return st is not None and st.drain_treatable
+
+    @property
     def licensed_only(self) -> bool:
-        return bool(self.no_drain) or ContainerStatus(self.info["status"]).is_licensed_disposal
+        return (bool(self.no_drain) or not self.drain_stream
+                or ContainerStatus(self.info["status"]).is_licensed_disposal)
 
 
 def load_detail(store, label: str) -> Detail:
@@ -87,6 +97,9 @@ def route_text(detail: Detail) -> Text:
     if ContainerStatus(status).is_licensed_disposal:
         return Text("⚑ Held for licensed disposal: never treated here; the safety office "
                     "arranges collection.", style="bold")
+    if not detail.drain_stream:
+        return Text(f"⚑ Meant for {detail.info['stream_name']}: never treated for the drain; "
+                    "the safety office arranges licensed disposal.", style="bold")
     return Text({
         "collecting": "Collecting: log additions (a); plan its neutralization (p) before it "
                       "is full.",
@@ -112,6 +125,22 @@ def detail_renderable(detail: Detail) -> Table:
     fill = fill_bar(info["volume_l"], info["capacity_l"])
     fill.append(f"  {litres(info['volume_l'])} of {litres(info['capacity_l'])}")
     grid.add_row("Fill", fill)
+    stream = Text(info["stream_name"])
+    if info.get("material"):
+        stream.append(f" · {info['material']}")
+    if info.get("stream_note"):
+        stream.append(f"  ({info['stream_note']})", style="dim")
+    grid.add_row("Stream", stream)
+    if info.get("warnings"):
+        warned = Text()
+        for n, w in enumerate(info["warnings"]):
+            if "accepted" in w:
+                warned.append(("\n" if n else "") + f"✓ logged with a reason "
+                              f"({w['accepted']}): {w['message']}", style="dim")
+            else:
+                warned.append(("\n" if n else "") + f"⚠ {w['message']}",
+                              style="bold red" if w["severity"] == "refuse" else "bold")
+        grid.add_row("Warnings", warned)
     if detail.by_compound:
         parts = []
         for key, vol, mass, n in detail.by_compound:
@@ -158,6 +187,7 @@ class WasteScreen(Screen):
         Binding("c", "new_container", "New container", id="waste.new"),
         Binding("d", "mark_disposed", "Mark disposed", id="waste.disposed"),
         Binding("l", "licensed", "To licensed disposal", id="waste.licensed"),
+        Binding("s", "stream", "Change stream", id="waste.stream"),
     ]
 
     def __init__(self) -> None:
@@ -181,6 +211,7 @@ class WasteScreen(Screen):
         table = self.query_one("#waste-table", DataTable)
         table.add_column("Label", key="label")
         table.add_column("Status", key="status")
+        table.add_column("Stream", key="stream")
         table.add_column("Fill", key="fill")
         table.add_column("Volume", key="volume")
         table.add_column("Location", key="location")
@@ -216,7 +247,8 @@ class WasteScreen(Screen):
         table = self.query_one("#waste-table", DataTable)
         table.clear()
         for c in found:
-            table.add_row(c.label, container_mark(c.status), fill_bar(c.volume_l, c.capacity_l),
+            table.add_row(c.label, container_mark(c.status), c.stream,
+                          fill_bar(c.volume_l, c.capacity_l),
                           f"{litres(c.volume_l)} / {litres(c.capacity_l)}", c.location,
                           key=c.label)
         if not found:
@@ -296,6 +328,8 @@ class WasteScreen(Screen):
             return status is not None and status.can_be_disposed
         if action == "licensed":
             return status is not None and status.can_go_to_licensed_disposal
+        if action == "stream":
+            return status is not None and not status.is_final
         return True
 
     def action_add(self) -> None:
@@ -323,6 +357,20 @@ class WasteScreen(Screen):
                 self.app.refresh_data()
 
         self.app.push_screen(NewContainerScreen(), done)
+
+    def action_stream(self) -> None:
+        from carboy.tui.app.screens.waste_stream import ChangeStreamScreen
+
+        c = self.containers.get(self.selected or "")
+        if c is None:
+            return
+
+        def done(stream: str | None) -> None:
+            if stream:
+                self.notify(f"{c.label} now collects {streams()[stream].name}.", timeout=3)
+                self.app.refresh_data()
+
+        self.app.push_screen(ChangeStreamScreen(c.label, c.stream, c.material), done)
 
     def action_plan(self) -> None:
         if self.selected:
