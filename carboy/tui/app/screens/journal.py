@@ -69,7 +69,7 @@ class JournalScreen(Screen):
             yield Select([("all kinds", ALL_KINDS)] + [(k, k) for k in journal.KINDS],
                          value=ALL_KINDS, allow_blank=False, id="journal-kind", compact=True)
             yield Label("  Since ", classes="field-label")
-            yield SteadyInput(placeholder="YYYY-MM-DD", id="journal-since", compact=True,
+            yield SteadyInput(placeholder="e.g. 2025-03-01", id="journal-since", compact=True,
                         max_length=25)
         yield ErrorLine(id="journal-error")
         yield EntryTable(id="journal-table", cursor_type="row", zebra_stripes=True)

@@ -151,12 +151,12 @@ class NeutralizeScreen(Screen):
                              markup=False)
                 with Horizontal(classes="nz-row", id="row-components"):
                     yield Label("Contents")
-                    yield Input(placeholder="H2SO4=0.05M NaH2PO4=10mM", id="components",
+                    yield Input(placeholder="e.g. H2SO4=0.05M NaH2PO4=10mM", id="components",
                                 compact=True)
                 yield Static("", id="echo-components", classes="nz-echo", markup=False)
                 with Horizontal(classes="nz-row", id="row-volume"):
                     yield Label("Volume")
-                    yield Input(placeholder="250 mL", id="volume", compact=True)
+                    yield Input(placeholder="e.g. 250 mL (needed)", id="volume", compact=True)
                 yield Static("", id="echo-volume", classes="nz-echo", markup=False)
                 with Horizontal(classes="nz-row"):
                     yield Label("Stock")
@@ -164,7 +164,7 @@ class NeutralizeScreen(Screen):
                                       id="reagent-bottle")
                 with Horizontal(classes="nz-row"):
                     yield Label("Reagent")
-                    yield Input(placeholder="NaOH=1M, NaOH=50%, NaHCO3", id="reagent",
+                    yield Input(placeholder="e.g. NaOH=1M, NaHCO3 (needed)", id="reagent",
                                 compact=True)
                 yield Static("", id="echo-reagent", classes="nz-echo", markup=False)
                 with Horizontal(classes="nz-row"):

@@ -114,13 +114,13 @@ class PrepareScreen(Screen):
     def compose(self) -> ComposeResult:
         yield ModeBar("prepare")
         with VerticalScroll(id="prep-form"):
-            yield FieldRow("From", field_id="source", placeholder="H2SO4=96%  HCl=12.1M  NaOH  #23",
+            yield FieldRow("From", field_id="source", placeholder="e.g. H2SO4=96%, NaOH, #23",
                            hint="a concentrate with its strength, a solid, or a bottle #id")
             with Horizontal(id="prep-row2"):
-                yield FieldRow("Target", field_id="target", placeholder="1 M", hint="molarity")
-                yield FieldRow("Volume", field_id="volume", placeholder="1 L",
+                yield FieldRow("Target", field_id="target", placeholder="e.g. 1 M", hint="molarity")
+                yield FieldRow("Volume", field_id="volume", placeholder="e.g. 1 L",
                                hint="final volume")
-                yield FieldRow("Place", field_id="location", placeholder="Bench 2",
+                yield FieldRow("Place", field_id="location", placeholder="e.g. Bench 2",
                                hint="where it goes")
         yield ErrorLine(id="prep-error")
         with TabbedContent(initial="recipe"):

@@ -176,19 +176,19 @@ class StandardizeScreen(Screen):
             with VerticalScroll(id="sz-form"):
                 with Horizontal(classes="sz-row"):
                     yield Label("Titrant")
-                    yield Input(placeholder="NaOH, HCl 0.1 M or #34", id="sz-titrant",
+                    yield Input(placeholder="e.g. NaOH, HCl 0.1 M, #34", id="sz-titrant",
                                 compact=True)
                 yield Static(Text(NEED_TITRANT, style="dim"), id="echo-titrant",
                              classes="sz-echo")
                 with Horizontal(classes="sz-row"):
                     yield Label("Standard")
-                    yield Input(placeholder="KHP, Na2CO3, Tris, sulfamic", id="sz-standard",
+                    yield Input(placeholder="e.g. KHP, Na2CO3, Tris", id="sz-standard",
                                 compact=True)
                 yield Static(Text(NEED_STANDARD, style="dim"), id="echo-standard",
                              classes="sz-echo")
                 with Horizontal(classes="sz-row"):
                     yield Label("Assay %")
-                    yield Input(placeholder="100", id="sz-assay", compact=True)
+                    yield Input(placeholder="e.g. 99.97", id="sz-assay", compact=True)
                     yield Label("Blank mL", classes="sz-label2")
                     yield Input("0", id="sz-blank", compact=True)
                 yield Static("", id="echo-assay", classes="sz-echo")

@@ -136,7 +136,7 @@ class StockScreen(Screen):
         yield ModeBar("stock")
         with Horizontal(id="stock-searchbar", classes="toolbar"):
             yield Label("Search ", classes="field-label")
-            yield SearchInput(placeholder="compound, name, location or lot",
+            yield SearchInput(placeholder="e.g. HCl, sulphuric, cabinet, #23",
                               id="stock-search", compact=True)
         yield ErrorLine(id="stock-error")
         yield StockTable(id="stock-table", cursor_type="row", zebra_stripes=True)

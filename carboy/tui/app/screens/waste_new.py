@@ -62,7 +62,7 @@ class NewContainerScreen(FormDialog):
     def compose(self) -> ComposeResult:
         with Vertical(id="new-dialog", classes="dialog"):
             yield Static("Open a new waste container", classes="dialog-title")
-            yield FieldRow("Label", field_id="new-label", placeholder="MA-05",
+            yield FieldRow("Label", field_id="new-label", placeholder="e.g. MA-05 (needed)",
                            hint="unique, as written on the container")
             yield ChoiceRow("Stream", field_id="new-stream", options=stream_options(),
                             prompt="choose what it collects",
@@ -71,10 +71,10 @@ class NewContainerScreen(FormDialog):
             yield ChoiceRow("Material", field_id="new-material", options=MATERIAL_OPTIONS,
                             prompt="not recorded", hint="optional; HF waste needs plastic")
             yield FieldRow("Location", field_id="new-location",
-                           placeholder="Acid waste bay / left", hint="optional")
+                           placeholder="e.g. Acid waste bay / left", hint="optional")
             yield FieldRow("Capacity", field_id="new-capacity", value="20 L",
                            hint="e.g. 20 L, 5 L, 2500 mL")
-            yield FieldRow("Notes", field_id="new-notes", placeholder="what it collects",
+            yield FieldRow("Notes", field_id="new-notes", placeholder="e.g. what it collects",
                            hint="optional")
             yield Static("", id="new-error", classes="error-line", markup=False)
             with Horizontal(classes="dialog-buttons"):
