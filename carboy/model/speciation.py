@@ -60,7 +60,7 @@ from carboy.model.activity import (
 from carboy.model.activity import davies_d as _davies_d  # noqa: F401 (tests use the old name)
 from carboy.model.mixture import Mixture, MixtureBatch
 from carboy.model.solver.bracketed import solve_nested
-from carboy.model.solver.charge_balance import moments
+from carboy.model.solver.charge_balance import fractions_at, padded_fractions, species_at
 from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
     COUPLED_ITER,
     COUPLED_NEAR,
@@ -73,7 +73,7 @@ from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
     WIDEN_STEPS,
     X_TOL,
 )
-from carboy.model.solver.coupled import solve_coupled
+from carboy.model.solver.coupled import solve_coupled, solve_warm
 from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
     ENTHALPY_DATA_MAX_C,
     R_J_MOL_K,
@@ -83,7 +83,7 @@ from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
     pka_at,
 )
 from carboy.model.solver.layout import compile_layout as _layout  # noqa: F401 (tests)
-from carboy.model.solver.problem import Amounts, Problem, build_problem
+from carboy.model.solver.problem import Problem, build_problem
 from carboy.model.solver.single import solve_one
 
 __all__ = [
@@ -296,8 +296,7 @@ def state_at(keys: tuple[str, ...], ph, ionic_strength, *, temperature_c: float 
     a_dh = debye_huckel_scale(activity, t_c)
     ad = a_dh * davies_d(ionic)
     x = ad - ph  # pH = -(x + log10 gamma_H) with log10 gamma_H = -ad
-    alpha = moments(x, ad, lay, Amounts(np.ones((x.shape[0], len(lay.sys_keys)))),
-                    want_alpha=True)["alpha"]
+    alpha = padded_fractions(fractions_at(x, ad if a_dh != 0.0 else None, lay), lay)
     return StateAt(lay.sys_keys, lay.sys_labels, alpha, lay.z, x, 2.0 * ad - water.pkw(t_c))
 
 
@@ -323,15 +322,15 @@ def _solve_points(pr: Problem, totals: np.ndarray):
     lay, am = pr.lay, pr.am
     fast = None
     if totals.shape[0] == 1 and not lay.needs_shift:  # one solution: the plain-Python path
-        hold = {} if am.held is None else {
-            int(k): (float(am.j0[k]), float(am.c0[k]), float(am.held[0, k]))
-            for k in np.flatnonzero(am.mask)}
-        fast = solve_one(lay, totals[0].tolist(), pr.pkw, pr.a_dh, hold, max_iter=COUPLED_ITER)
+        fast = solve_one(lay, totals[0].tolist(), pr.pkw, pr.a_dh, pr.held_of(0),
+                         max_iter=COUPLED_ITER)
     if fast is not None:
         x, ionic = np.array([fast[0]]), np.array([fast[1]])
         ok, iterations = np.array([True]), fast[2]
-    else:
+    elif totals.shape[0] == 1:
         x, ionic, ok, iterations = solve_coupled(pr, max_iter=COUPLED_ITER)
+    else:
+        x, ionic, ok, iterations = solve_warm(pr, max_iter=COUPLED_ITER)
     converged = ok.copy()
     if not ok.all():
         bad = ~ok
@@ -347,17 +346,15 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
     lay = pr.lay
     ad = pr.a_dh * davies_d(ionic)
     log_kw = -pr.pkw + 2.0 * ad
-    mo = moments(x, ad, lay, pr.am, want_alpha=True)
-    psys, nsys, iz2, alpha = mo["pos"], mo["neg"], mo["iz2"], mo["alpha"]
-    c_sys = mo["ceff"]
+    st = species_at(x, ad if pr.a_dh != 0.0 else None, lay, pr.am)
     h = 10.0 ** x
     oh = 10.0 ** (log_kw - x)
-    residual = (h + pr.zs_pos + psys) - (oh + pr.zs_neg + nsys)
+    residual = (h + pr.zs_pos + st["pos"]) - (oh + pr.zs_neg + st["neg"])
     # with activity, report the ionic strength the coefficients were computed with
-    ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * (h + oh + iz2)
+    ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * (h + oh + st["iz2"])
     ph = ad - x  # -log10 a(H+) = -(x + log10 gamma_H), with log10 gamma_H = -ad
     species_labels, species = _species_table(lay, h, oh, batch.totals[:, lay.ion_cols],
-                                             c_sys[:, :, None] * alpha)
+                                             st["conc"])
     hot = t_c > ENTHALPY_DATA_MAX_C
     code = (ionic_out > DAVIES_LIMIT_MOLAR).astype(int) + 2 * (~converged).astype(int)
     table = [_warning_texts(bool(c & 1), bool(c & 2), hot, activity) for c in range(4)]
@@ -367,25 +364,31 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
         converged=converged, iterations=iterations, species_labels=species_labels,
         species_charges=tuple(lay.charge_map[lab] for lab in species_labels),
         species_molar=species, system_keys=lay.sys_keys, system_labels=lay.sys_labels,
-        fractions=alpha, log_gamma_by_charge=log_gamma_by_charge(ad, lay.zmax), pkw=pr.pkw,
-        temperature_c=t_c, activity=activity, warnings=warnings, system_totals_molar=c_sys,
-        batch=batch,
+        fractions=padded_fractions(st["alpha"], lay),
+        log_gamma_by_charge=log_gamma_by_charge(ad, lay.zmax), pkw=pr.pkw,
+        temperature_c=t_c, activity=activity, warnings=warnings,
+        system_totals_molar=st["ceff"].T, batch=batch,
     )
 
 
-def _species_table(lay: Layout, h, oh, c_ion, sys_conc) -> tuple[tuple[str, ...], np.ndarray]:
-    """Species labels and their (N, S) concentrations; a label that two components
-    share (Na+ from two salts, say) is summed into one column."""
-    labels: list[str] = ["H+", "OH-", *lay.ion_labels]
-    cols: list[np.ndarray] = [h, oh, *(c_ion[:, j] for j in range(len(lay.ion_labels)))]
-    for k, labs in enumerate(lay.sys_labels):
-        labels.extend(labs)
-        cols.extend(sys_conc[:, k, j] for j in range(len(labs)))
-    merged: dict[str, np.ndarray] = {}
-    for lab, col in zip(labels, cols):
-        merged[lab] = merged[lab] + col if lab in merged else col
-    species_labels = tuple(merged)
-    return species_labels, np.stack([merged[lab] for lab in species_labels], axis=1)
+def _species_table(lay: Layout, h, oh, c_ion, conc) -> tuple[tuple[str, ...], np.ndarray]:
+    """Species labels and their (N, S) concentrations (``conc``: the (S, N) states); a
+    label that two components share (Na+ from two salts, say) is summed into one column."""
+    labels = ("H+", "OH-", *lay.ion_labels, *(lab for labs in lay.sys_labels for lab in labs))
+    n, j = h.shape[0], len(lay.ion_labels)
+    table = np.empty((n, len(labels)))
+    table[:, 0], table[:, 1] = h, oh
+    table[:, 2:2 + j] = c_ion
+    table[:, 2 + j:] = conc.T
+    if len(set(labels)) == len(labels):
+        return labels, table
+    merged: dict[str, int] = {}
+    for lab in labels:
+        merged.setdefault(lab, len(merged))
+    out = np.zeros((n, len(merged)))
+    for col, lab in enumerate(labels):
+        out[:, merged[lab]] += table[:, col]
+    return tuple(merged), out
 
 
 @lru_cache(maxsize=64)

@@ -46,7 +46,7 @@ def root(x0, ad, log_kw, pr: Problem):
     act = np.arange(x.shape[0])
     for _ in range(MAX_ROOT_ITER):
         xa = x[act]
-        mo = moments(xa, ad[act], lay, am[act])
+        mo = moments(xa, None if pr.a_dh == 0.0 else ad[act], lay, am[act])
         psys, nsys, dpsys, dnsys, iz2 = mo["pos"], mo["neg"], mo["dpos"], mo["dneg"], mo["iz2"]
         h = np.exp(xa * LN10)
         oh = np.exp((log_kw[act] - xa) * LN10)
@@ -72,7 +72,7 @@ def root(x0, ad, log_kw, pr: Problem):
 
 def charge_ratio(x, ad, log_kw, pr: Problem):
     """F = ln(POS / NEG) at log10[H+] = ``x`` for every point."""
-    mo = moments(x, ad, pr.lay, pr.am)
+    mo = moments(x, None if pr.a_dh == 0.0 else ad, pr.lay, pr.am)
     return np.log((np.exp(x * LN10) + pr.zs_pos + mo["pos"])
                   / (np.exp((log_kw - x) * LN10) + pr.zs_neg + mo["neg"]))
 

@@ -5,8 +5,13 @@ The charge balance is written as POS(x) = NEG(x), with POS the positive charge
 falls with x, so F = ln POS - ln NEG is strictly increasing with the same root as
 f = POS - NEG.  Newton on F is nearly linear where one species dominates each side (a
 strong acid converges in one step), which is what makes the solve fast; the bracket
-(:func:`bracket`) keeps it safe.  :func:`moments` gives every system's share of POS,
-NEG and the ionic strength, with their derivatives, from one matrix product.
+(:func:`bracket`) keeps it safe.  :func:`moments` gives the systems' share of POS,
+NEG and the ionic strength, with their derivatives.
+
+Arrays here hold the points last: (S, N) for the S valid states of the layout
+(system after system), (K, N) for the K systems, so that each sum over a system's
+states adds whole rows.  Every sum is a weighted sum of rows (``einsum`` on rows or a
+slice's ``sum``): no matrix product, so no BLAS call and none of its threads.
 """
 
 from __future__ import annotations
@@ -14,11 +19,8 @@ from __future__ import annotations
 import numpy as np
 
 from carboy.model.solver.constants import LN10
-from carboy.model.solver.layout import NMOM, Layout
+from carboy.model.solver.layout import Layout
 from carboy.model.solver.problem import Amounts
-
-_POS_NEG_Z2 = [2, 3, 6]
-"""The moment columns of z+, z- and z² (see ``layout.NMOM``)."""
 
 
 def bracket(q, p, log_kw):
@@ -31,78 +33,113 @@ def bracket(q, p, log_kw):
     return log_kw - np.log10(p + 1.0) - 1e-3, np.log10(q + 1.0) + 1e-3
 
 
-def conditional_logbeta(lay: Layout, ad):
-    """Cumulative log10 beta of each state with Davies coefficients, ``ad`` = A·D(I).
+def state_weights(x, ad, lay: Layout) -> np.ndarray:
+    """(S + 1, N) unnormalized weights e of every state at log10[H+] = ``x`` and A·D =
+    ``ad``, and a last row of zeros (for :func:`group_sums`).
 
-    With log10 gamma = -A D z², the step HA(z) = H+ + A(z-1) has
-    log10 K' = log10 K - 2 A D (z - 1); summed over the steps below each state.
+    e = 10**(log beta0 - 2 A D cmat - j x): with log10 gamma = -A D z², the step
+    HA(z) = H+ + A(z-1) has log10 K' = log10 K - 2 A D (z - 1), summed in cmat.  Where
+    the layout says the range could overflow, each system is shifted by its largest
+    exponent (a common factor of the system's states, which cancels).
     """
-    return lay.logbeta0[None] - (2.0 * ad)[:, None, None] * lay.cmat[None]
+    s = lay.flat_j.shape[0]
+    t = np.empty((s + 1, x.shape[0]))
+    np.multiply.outer(lay.flat_j, x, out=t[:s])
+    np.subtract(lay.flat_lb0[:, None], t[:s], out=t[:s])
+    if ad is not None:
+        t[:s] -= np.multiply.outer(lay.flat_c, 2.0 * ad)
+    if lay.needs_shift:
+        for a, b in lay.sys_slices:
+            t[a:b] -= t[a:b].max(axis=0)
+    t[:s] *= LN10
+    np.exp(t[:s], out=t[:s])
+    t[s] = 0.0
+    return t
 
 
-def _state_weights(x, ad, lay: Layout):
-    """e (unnormalized state weights, shifted where the layout needs it) and the
-    (N, K, NMOM) moments, each still multiplied by the system's sum of e."""
-    n = x.shape[0]
+def group_sums(e: np.ndarray, lay: Layout):
+    """Each system's sums over its states of e, j·e and cmat·e: three (K, N) arrays."""
     k, m = lay.z.shape
-    if lay.needs_shift:  # rare: padded layout with a per-system shift against overflow
-        t = conditional_logbeta(lay, ad) - np.arange(m, dtype=float) * x[:, None, None]
-        t -= t.max(axis=2, keepdims=True)
-        e = np.exp(t * LN10)
-        mom = (e.reshape(n, k * m) @ lay.wmat).reshape(n, k, NMOM)
-    else:  # valid states only; 10**t stays within the float range (see _needs_shift)
-        t = lay.flat_lb0 - np.multiply.outer(2.0 * ad, lay.flat_c) - np.multiply.outer(x, lay.flat_j)
-        e = np.exp(t * LN10)
-        mom = (e @ lay.flat_w).reshape(n, k, NMOM)
-    return e, mom
+    e3 = e[lay.pad_rows].reshape(k, m, e.shape[1])
+    return (e3.sum(axis=1), np.einsum("m,kmn->kn", lay.jj, e3),
+            np.einsum("km,kmn->kn", lay.cmat, e3))
 
 
-def moments(x, ad, lay: Layout, am: Amounts, want_alpha: bool = False,
-            want_jac: bool = False):
+def _row_sum(weights, rows) -> np.ndarray:
+    """sum_s weights[s] rows[s] (an (N,) array)."""
+    return np.einsum("s,sn->n", weights, rows)
+
+
+def _concentrations(x, ad, lay: Layout, am: Amounts):
+    """The (S, N) weights e, each system's sums (see :func:`group_sums`), its total
+    (K, N) and the (S, N) concentration of each state."""
+    e = state_weights(x, ad, lay)
+    sums = group_sums(e, lay)
+    e = e[:-1]
+    s0 = sums[0]
+    if am.held is None:
+        ceff = am.c
+    else:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ceff = np.where(am.mask[:, None], am.held * s0 / e[am.e0_col], am.c)
+    return e, sums, ceff, e * (ceff / s0)[lay.flat_sys]
+
+
+def species_at(x, ad, lay: Layout, am: Amounts):
+    """The solved state's sums: ``pos``, ``neg``, ``iz2`` (N,), ``ceff`` (K, N) and the
+    (S, N) ``conc`` and fractions ``alpha`` of every state (see :func:`moments`)."""
+    e, sums, ceff, conc = _concentrations(x, ad, lay, am)
+    return {"pos": _row_sum(lay.flat_zp, conc), "neg": _row_sum(lay.flat_zn, conc),
+            "iz2": _row_sum(lay.flat_z2, conc), "ceff": ceff, "conc": conc,
+            "alpha": e / sums[0][lay.flat_sys]}
+
+
+def fractions_at(x, ad, lay: Layout) -> np.ndarray:
+    """(S, N) fraction of each state in its system at log10[H+] = ``x``, A·D = ``ad``."""
+    e = state_weights(x, ad, lay)
+    return e[:-1] / group_sums(e, lay)[0][lay.flat_sys]
+
+
+def moments(x, ad, lay: Layout, am: Amounts, want_jac: bool = False):
     """Charge sums, their derivatives and the ionic-strength sum at log10[H+] = x.
 
-    ``ad`` is A·D(I) of each point.  All per-system weighted sums come from one
-    matrix product with the block-diagonal moment weights of the layout.  Returns a
-    dict of arrays summed over systems (mol/L): ``pos``, ``neg`` (charge carried by
+    ``ad`` is A·D(I) of each point (``None``: ideal, every coefficient 1).  Returns a
+    dict of (N,) arrays summed over systems (mol/L): ``pos``, ``neg`` (charge carried by
     positive and negative system species), ``dpos``, ``dneg`` (their x-derivatives),
     ``iz2`` (sum of c z²); with ``want_jac`` also ``diz2`` (its x-derivative) and
     ``apos``, ``aneg``, ``aiz2`` (derivatives with respect to A·D, for the ionic
-    strength); ``ceff`` (N, K), each system's total (solved where a state is held);
-    with ``want_alpha`` the fractions ``alpha`` (N, K, M).
+    strength); ``ceff`` (K, N), each system's total (solved where a state is held).
 
     With alpha_j proportional to 10**(log beta0_j - 2 A D c_j - j x), d alpha_j/dx
-    = -ln10 alpha_j (j - jbar) and d alpha_j/d(AD) = -2 ln10 alpha_j (c_j - cbar), so
-    a weighted sum's derivatives are -ln10 cov(j, w) and -2 ln10 cov(c, w).
+    = -ln10 alpha_j (j - jbar) and d alpha_j/d(AD) = -2 ln10 alpha_j (c_j - cbar): each
+    derivative is a sum over states of a weight times (j - jbar) or (c - cbar) times
+    the state's concentration.  A held state j0 takes the place of jbar and cbar (the
+    system's total then moves with it, see ``problem.Amounts``).
     """
-    n = x.shape[0]
-    k, m = lay.z.shape
-    e, mom = _state_weights(x, ad, lay)
-    ssum = mom[:, :, 0].copy()
-    mom /= mom[:, :, :1]
-    jbar = mom[:, :, 1]
-    cbar = mom[:, :, 7]
-    if am.held is None:
-        ceff, jref, cref = am.c, jbar, cbar
-    else:
-        e0 = e.reshape(n, -1)[:, am.e0_col]
-        with np.errstate(divide="ignore", invalid="ignore"):
-            ceff = np.where(am.mask, am.held * ssum / e0, am.c)
-        jref = np.where(am.mask, am.j0, jbar)
-        cref = np.where(am.mask, am.c0, cbar)
-    # sums over systems: a = sum C m_w, b = sum C jref m_w, c = sum C cref m_w
-    a = np.einsum("nk,nkw->wn", ceff, mom)
-    b = np.einsum("nk,nkw->wn", ceff * jref, mom[:, :, _POS_NEG_Z2])
-    out = {"pos": a[2], "neg": a[3], "iz2": a[6],
-           "dpos": -LN10 * (a[4] - b[0]), "dneg": -LN10 * (a[5] - b[1])}
+    e, (s0, s_j, s_c), ceff, conc = _concentrations(x, ad, lay, am)
+    sys = lay.flat_sys
+    jref = s_j / s0
+    if am.held is not None:
+        jref = np.where(am.mask[:, None], am.j0[:, None], jref)
+    dev = (lay.flat_j[:, None] - jref[sys]) * conc
+    out = {"pos": _row_sum(lay.flat_zp, conc), "neg": _row_sum(lay.flat_zn, conc),
+           "iz2": _row_sum(lay.flat_z2, conc), "dpos": -LN10 * _row_sum(lay.flat_zp, dev),
+           "dneg": -LN10 * _row_sum(lay.flat_zn, dev), "ceff": ceff}
     if want_jac:
-        c = np.einsum("nk,nkw->wn", ceff * cref, mom[:, :, _POS_NEG_Z2])
-        out.update(diz2=-LN10 * (a[10] - b[2]), apos=-2 * LN10 * (a[8] - c[0]),
-                   aneg=-2 * LN10 * (a[9] - c[1]), aiz2=-2 * LN10 * (a[11] - c[2]))
-    out["ceff"] = ceff
-    if want_alpha:
-        if not lay.needs_shift:
-            full = np.zeros((n, k * m))
-            full[:, lay.valid.reshape(-1)] = e
-            e = full.reshape(n, k, m)
-        out["alpha"] = e / e.sum(axis=2, keepdims=True)
+        out["diz2"] = -LN10 * _row_sum(lay.flat_z2, dev)
+        cref = s_c / s0
+        if am.held is not None:
+            cref = np.where(am.mask[:, None], am.c0[:, None], cref)
+        dev = (lay.flat_c[:, None] - cref[sys]) * conc
+        out.update(apos=-2 * LN10 * _row_sum(lay.flat_zp, dev),
+                   aneg=-2 * LN10 * _row_sum(lay.flat_zn, dev),
+                   aiz2=-2 * LN10 * _row_sum(lay.flat_z2, dev))
     return out
+
+
+def padded_fractions(alpha: np.ndarray, lay: Layout) -> np.ndarray:
+    """(N, K, M) fractions, padded with 0, from the (S, N) flat ones."""
+    k, m = lay.z.shape
+    full = np.zeros((alpha.shape[1], k * m))
+    full[:, lay.flat_index] = alpha.T
+    return full.reshape(alpha.shape[1], k, m)

@@ -26,6 +26,11 @@ from carboy.model.solver.constants import (
     QUADRATIC_STEP,
 )
 from carboy.model.solver.problem import Problem
+from carboy.model.solver.single import solve_each
+
+TAIL_POINTS = 12
+"""When no more than this many points are left unsettled, the plain-Python path
+finishes them (numpy's per-call cost would dominate a vectorized step)."""
 
 
 def _newton_2x2(pr: Problem, mo, ia, h, oh, pos, neg, big_f, f_x, g):
@@ -66,7 +71,7 @@ def _newton_step(pr: Problem, xa, ia):
     davies = pr.a_dh != 0.0
     ad = pr.a_dh * davies_d(ia)
     log_kw = 2.0 * ad - pr.pkw
-    mo = moments(xa, ad, pr.lay, pr.am, want_jac=davies)
+    mo = moments(xa, ad if davies else None, pr.lay, pr.am, want_jac=davies)
     h = np.exp(xa * LN10)
     oh = np.exp((log_kw - xa) * LN10)
     pos = h + pr.zs_pos + mo["pos"]
@@ -96,16 +101,17 @@ def _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi):
     return xn, seen_lo, seen_hi
 
 
-def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER):
-    """Newton on (x, I) for every point of ``pr``, from x = -7 and the spectators' I.
+def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
+    """Newton on (x, I) for every point of ``pr``, from ``x0`` and ``i0`` where given
+    (a neighbour's root, say), else from x = -7 and the spectators' I.
 
     Steps are kept inside the bracket of x (moderate steps for an open system, whose
     totals do not bound it) and at positive I.  Returns ``(x, ionic, ok, iterations)``;
     ``ok`` is False where a point was not accepted within ``max_iter`` steps.
     """
     n = pr.ispec.shape[0]
-    x_out = np.full(n, -7.0)
-    i_out = pr.ispec + 1e-7
+    x_out = np.full(n, -7.0) if x0 is None else np.array(x0, dtype=float)
+    i_out = pr.ispec + 1e-7 if i0 is None else np.maximum(np.array(i0, dtype=float), 1e-12)
     ok = np.zeros(n, dtype=bool)
     # working copies of the unfinished points, compacted whenever some finish
     idx = np.arange(n)
@@ -136,6 +142,69 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER):
             idx, xa, ia = idx[keep], xa[keep], ia[keep]
             seen_lo, seen_hi = seen_lo[keep], seen_hi[keep]
             cur = cur[keep]
+        if idx.size <= TAIL_POINTS and not cur.lay.needs_shift and it < max_iter:
+            xt, i_t, okt, itt = solve_each(cur, xa, ia, max_iter=max_iter - it)
+            x_out[idx], i_out[idx], ok[idx] = xt, i_t, okt
+            return x_out, i_out, ok, it + itt
     else:
         x_out[idx], i_out[idx] = xa, ia
     return x_out, i_out, ok, it
+
+
+WARM_MIN = 48
+"""Batches at least this long are solved coarse to fine (see :func:`solve_warm`)."""
+WARM_STRIDE = 8
+"""Every this many points is solved first; the points between start from there."""
+CUBIC_TRUST = 0.05
+"""A start interpolated by a cubic is used only this close to the straight line."""
+
+
+def between(at: np.ndarray, nodes: np.ndarray, values: np.ndarray) -> np.ndarray:
+    """``values`` (known at the increasing indices ``nodes``) at the indices ``at``: the
+    cubic through the four nearest nodes where it stays near the straight line between
+    the two neighbours (within ``CUBIC_TRUST``), the straight line elsewhere (across a
+    jump, where a cubic overshoots)."""
+    line = np.interp(at, nodes, values)
+    m = nodes.shape[0]
+    if m < 4:
+        return line
+    i = np.clip(np.searchsorted(nodes, at) - 2, 0, m - 4)   # first of the four nodes
+    t = at.astype(float)
+    p = [nodes[i + k].astype(float) for k in range(4)]
+    cubic = np.zeros_like(line)
+    for k in range(4):
+        w = np.ones_like(line)
+        for q in range(4):
+            if q != k:
+                w *= (t - p[q]) / (p[k] - p[q])
+        cubic += w * values[i + k]
+    return np.where(np.abs(cubic - line) <= CUBIC_TRUST, cubic, line)
+
+
+def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
+    """:func:`solve_coupled` for a batch whose neighbouring points are alike (a curve).
+
+    Every ``WARM_STRIDE``-th point (and the last) is solved first, itself coarse to fine
+    when it is long; each point between then starts from the straight line between its
+    two solved neighbours' roots (log10[H+] and I), a few Newton steps from its own.  A
+    start only saves steps: a point is accepted on the same test whatever its start,
+    so the order of the points never changes a result beyond the tolerances.  Given
+    ``x0`` and ``i0``, every point starts there instead.
+    """
+    n = pr.ispec.shape[0]
+    if n < WARM_MIN and not pr.lay.needs_shift:  # a few points: step by step in Python
+        return solve_each(pr, x0, i0, chain=x0 is None, max_iter=max_iter)
+    if x0 is not None or n < WARM_MIN:
+        return solve_coupled(pr, max_iter=max_iter, x0=x0, i0=i0)
+    coarse = np.unique(np.r_[np.arange(0, n, WARM_STRIDE), n - 1])
+    fine = np.ones(n, dtype=bool)
+    fine[coarse] = False
+    fine = np.flatnonzero(fine)
+    xc, ic, okc, itc = solve_warm(pr[coarse], max_iter=max_iter)
+    xf, i_f, okf, itf = solve_coupled(pr[fine], max_iter=max_iter,
+                                      x0=between(fine, coarse, xc),
+                                      i0=between(fine, coarse, ic))
+    x, ionic, ok = np.empty(n), np.empty(n), np.empty(n, dtype=bool)
+    x[coarse], ionic[coarse], ok[coarse] = xc, ic, okc
+    x[fine], ionic[fine], ok[fine] = xf, i_f, okf
+    return x, ionic, ok, max(itc, itf)

@@ -32,9 +32,10 @@ ENTHALPY_DATA_MAX_C = 77.0
 """Upper end (350 K) of the range the ionization enthalpies were fitted over
 (Goldberg, Kishore & Lennen 2002); beyond it pKa(T) is an extrapolation."""
 
-NMOM = 12
-"""Moments per system, the columns of ``Layout.wmat``: sums of e times
-1, j, z+, z-, j z+, j z-, z², c, c z+, c z-, j z², c z² (c: the activity term of cmat)."""
+CHUNK_BYTES = 120_000
+"""The vectorized paths work through a batch in blocks whose (states, points) arrays
+stay below this size: larger temporaries come from fresh pages of memory on every
+allocation (each page then costs a fault), and stay out of the fastest caches."""
 
 
 def pka_at(system: System, temperature_c: float) -> np.ndarray:
@@ -73,14 +74,22 @@ class Layout:
     ion_labels: tuple[str, ...]
     charge_map: Mapping[str, int]
     zmax: int
-    wmat: np.ndarray              # (K*M, K*NMOM) block-diagonal moment weights
     needs_shift: bool             # could 10**(log beta - j x) leave the float range?
     logbeta0: np.ndarray          # (K, M) cumulative log10 beta at I = 0, -inf where padded
     cmat: np.ndarray              # (K, M) its activity term: log beta' = log beta0 - 2 A D cmat
-    flat_lb0: np.ndarray          # (S,) log beta0 of the valid states only
-    flat_c: np.ndarray            # (S,)
-    flat_j: np.ndarray            # (S,)
-    flat_w: np.ndarray            # (S, K*NMOM) the valid rows of wmat
+    # the valid states only, system after system (S states in all): "flat" arrays
+    flat_lb0: np.ndarray          # (S,) log beta0
+    flat_c: np.ndarray            # (S,) cmat
+    flat_j: np.ndarray            # (S,) protons lost from the top state
+    flat_zp: np.ndarray           # (S,) z+ of each state
+    flat_zn: np.ndarray           # (S,) z- of each state (magnitude)
+    flat_z2: np.ndarray           # (S,) z²
+    flat_sys: np.ndarray          # (S,) the system each state belongs to
+    flat_index: np.ndarray        # (S,) position of each state in the padded (K*M) order
+    sys_slices: tuple             # per system, (first, end) of its states in the flat order
+    jj: np.ndarray                # (M,) 0, 1, ..., M-1: protons lost from the top state
+    pad_rows: np.ndarray          # (K*M,) flat row of each padded state (S: a row of zeros)
+    chunk: int                    # points per block of the vectorized paths (see CHUNK_BYTES)
     py_systems: tuple             # the same, as Python tuples, for the one-solution path
     py_ions: tuple
 
@@ -140,19 +149,6 @@ def _parts(catalog, keys: tuple[str, ...], temperature_c: float) -> _Parts:
     return out
 
 
-def _moment_weights(z: np.ndarray, valid: np.ndarray, cmat: np.ndarray) -> np.ndarray:
-    """(K*M, K*NMOM) block-diagonal weights: one matrix product gives every moment."""
-    k, m = z.shape
-    jj = np.arange(m, dtype=float)
-    wmat = np.zeros((k * m, k * NMOM))
-    for i in range(k):
-        zp, zn, z2, c = np.maximum(z[i], 0.0), np.maximum(-z[i], 0.0), z[i] ** 2, cmat[i]
-        block = np.stack([np.ones(m), jj, zp, zn, jj * zp, jj * zn, z2,
-                          c, c * zp, c * zn, jj * z2, c * z2], axis=1)
-        wmat[i * m:(i + 1) * m, i * NMOM:(i + 1) * NMOM] = block * valid[i][:, None]
-    return wmat
-
-
 def _python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray) -> tuple:
     """Per system: (column, per state (log beta0, c, j, z+, z-, z²), -zmin+, zmax+)."""
     return tuple(
@@ -184,7 +180,6 @@ def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layo
     jj = np.arange(m, dtype=float)
     cmat = np.concatenate([np.zeros((k, 1)), np.cumsum(np.where(valid[:, 1:], zacid - 1.0, 0.0),
                                                        axis=1)], axis=1)
-    wmat = _moment_weights(z, valid, cmat)
     lb0 = np.where(valid, np.concatenate([np.zeros((k, 1)), np.cumsum(logk, axis=1)], axis=1),
                    -np.inf)
     return Layout(
@@ -194,14 +189,29 @@ def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layo
         sys_zmin=np.array([min(c) for c in zs]), sys_zmax=np.array([max(c) for c in zs]),
         ion_cols=np.asarray(pt.ion_cols, dtype=int), ion_z=np.asarray(pt.ion_z, dtype=float),
         ion_labels=tuple(pt.ion_labels), charge_map=MappingProxyType(pt.charge_map), zmax=zmax,
-        wmat=wmat, needs_shift=_needs_shift(logk, m),
-        logbeta0=lb0,
-        cmat=cmat,
+        needs_shift=_needs_shift(logk, m), logbeta0=lb0, cmat=cmat,
         flat_lb0=lb0[valid], flat_c=cmat[valid], flat_j=np.broadcast_to(jj, (k, m))[valid],
-        flat_w=wmat[valid.reshape(-1)],
+        flat_zp=np.maximum(z, 0.0)[valid], flat_zn=np.maximum(-z, 0.0)[valid],
+        flat_z2=(z ** 2)[valid], flat_sys=np.broadcast_to(np.arange(k)[:, None], (k, m))[valid],
+        flat_index=np.flatnonzero(valid.reshape(-1)), sys_slices=_slices(valid),
+        jj=jj, pad_rows=_pad_rows(valid), chunk=max(64, CHUNK_BYTES // (8 * (int(valid.sum()) + 1))),
         py_systems=_python_systems(pt.sys_cols, zs, lb0, cmat),
         py_ions=tuple(zip(pt.ion_cols, (float(v) for v in pt.ion_z))),
     )
+
+
+def _pad_rows(valid: np.ndarray) -> np.ndarray:
+    """For each padded (K*M) state, its row in the flat order, or S (the zero row)."""
+    flat = valid.reshape(-1)
+    rows = np.full(flat.shape[0], int(flat.sum()), dtype=np.intp)
+    rows[flat] = np.arange(int(flat.sum()))
+    return rows
+
+
+def _slices(valid: np.ndarray) -> tuple:
+    """(first, end) of each system's states in the flat order of the valid states."""
+    ends = np.cumsum(valid.sum(axis=1))
+    return tuple((int(e - n), int(e)) for e, n in zip(ends, valid.sum(axis=1)))
 
 
 def _needs_shift(logk: np.ndarray, m: int) -> bool:

@@ -13,6 +13,8 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
+
 from carboy.model.activity import davies_d_float, davies_dprime_float
 from carboy.model.solver.constants import (
     COUPLED_ITER,
@@ -123,9 +125,11 @@ def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators):
 
 
 def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
-              max_iter: int = COUPLED_ITER):
+              max_iter: int = COUPLED_ITER, x0: float | None = None,
+              i0: float | None = None):
     """The coupled (x, I) iteration for one solution with totals ``row`` (mol/L, in the
-    layout's column order).
+    layout's column order), from ``x0`` and ``i0`` where given (else x = -7 and the
+    spectators' ionic strength).
 
     ``held`` maps a system's index to (reference state, its cmat term, its
     concentration).  Returns ``(x, ionic, iterations)``, or ``None`` when it did not
@@ -135,7 +139,8 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
     systems, zs_pos, zs_neg, ispec, q, p = _inputs(lay, row, held)
     spectators = (zs_pos, zs_neg, ispec)
     davies = a_dh != 0.0
-    x, ionic = -7.0, ispec + 1e-7
+    x = -7.0 if x0 is None else x0
+    ionic = ispec + 1e-7 if i0 is None else max(i0, 1e-12)
     seen_lo, seen_hi = -math.inf, math.inf
     for it in range(1, max_iter + 1):
         tad = 2.0 * (a_dh * davies_d_float(ionic))
@@ -161,3 +166,30 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
             return x + dx, inew, it   # the Newton step itself, never a guarded one
         x, ionic = xn, inew
     return None
+
+
+def solve_each(pr, x0=None, i0=None, *, chain: bool = False, max_iter: int = COUPLED_ITER):
+    """:func:`solve_one` for every point of the problem ``pr`` in turn, each from its
+    own start (``x0``, ``i0``: arrays, or None for the cold start) or, with ``chain``,
+    from the root of the point before it (a curve solved step by step).
+
+    Returns ``(x, ionic, ok, iterations)`` as the vectorized paths do; a point the
+    plain-Python path gives up on keeps its start and ``ok`` False.
+    """
+    n = pr.ispec.shape[0]
+    x = np.full(n, -7.0) if x0 is None else np.array(x0, dtype=float)
+    ionic = pr.ispec + 1e-7 if i0 is None else np.array(i0, dtype=float)
+    ok = np.zeros(n, dtype=bool)
+    worst = 0
+    rows = pr.totals.tolist()
+    xs, iss = x.tolist(), ionic.tolist()
+    for i in range(n):
+        start_x, start_i = xs[i], iss[i]
+        if chain and i and ok[i - 1]:
+            start_x, start_i = xs[i - 1], iss[i - 1]
+        got = solve_one(pr.lay, rows[i], pr.pkw, pr.a_dh, pr.held_of(i), max_iter=max_iter,
+                        x0=start_x, i0=start_i)
+        if got is not None:
+            xs[i], iss[i], ok[i] = got[0], got[1], True
+            worst = max(worst, got[2])
+    return np.array(xs), np.array(iss), ok, worst
