@@ -73,7 +73,7 @@ from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
     WIDEN_STEPS,
     X_TOL,
 )
-from carboy.model.solver.coupled import solve_coupled, solve_warm
+from carboy.model.solver.coupled import solve_warm
 from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
     ENTHALPY_DATA_MAX_C,
     R_J_MOL_K,
@@ -303,89 +303,104 @@ def state_at(keys: tuple[str, ...], ph, ionic_strength, *, temperature_c: float 
 # --------------------------------------------------------------------------- the solve
 
 def _solve(batch: MixtureBatch, lay: Layout, activity: str, t_c: float,
-           held=None) -> BatchSpeciation:
+           held=None, start=None) -> BatchSpeciation:
     """Solve every point of ``batch`` (laid out by ``lay``) and assemble the result."""
     pkw = water.pkw(t_c)
     a_dh = debye_huckel_scale(activity, t_c)
     pr = build_problem(lay, batch.totals, held, pkw, a_dh)
-    x, ionic, converged, iterations = _solve_points(pr, batch.totals)
+    x, ionic, converged, iterations = _solve_points(pr, start)
     return _batch_result(pr, batch, x, ionic, converged, iterations, activity, t_c)
 
 
-def _solve_points(pr: Problem, totals: np.ndarray):
+def _solve_points(pr: Problem, start=None):
     """``(x, ionic, converged, iterations)`` for every point of ``pr``.
 
     One solution (with an unshifted layout) goes through the plain-Python fast path,
-    several through the vectorized one; points the fast path leaves unsettled go to
-    the guaranteed path.  The fast paths get ``COUPLED_ITER`` from this module.
+    several through the vectorized one, warm-started along the batch (or from
+    ``start``, a pair of arrays (log10[H+], I)); points the fast paths leave unsettled
+    go to the guaranteed path.  The fast paths get ``COUPLED_ITER`` from this module.
     """
-    lay, am = pr.lay, pr.am
+    n = pr.ispec.shape[0]
     fast = None
-    if totals.shape[0] == 1 and not lay.needs_shift:  # one solution: the plain-Python path
-        fast = solve_one(lay, totals[0].tolist(), pr.pkw, pr.a_dh, pr.held_of(0),
+    if n == 1 and start is None and not pr.lay.needs_shift:  # the plain-Python path
+        fast = solve_one(pr.lay, pr.totals[0].tolist(), pr.pkw, pr.a_dh, pr.held_of(0),
                          max_iter=COUPLED_ITER)
     if fast is not None:
         x, ionic = np.array([fast[0]]), np.array([fast[1]])
         ok, iterations = np.array([True]), fast[2]
-    elif totals.shape[0] == 1:
-        x, ionic, ok, iterations = solve_coupled(pr, max_iter=COUPLED_ITER)
     else:
-        x, ionic, ok, iterations = solve_warm(pr, max_iter=COUPLED_ITER)
+        x0, i0 = (None, None) if start is None else start
+        x, ionic, ok, iterations = solve_warm(pr, max_iter=COUPLED_ITER, x0=x0, i0=i0)
     converged = ok.copy()
-    if not ok.all():
-        bad = ~ok
-        xb, ib, cb, outer = solve_nested(pr[bad], x[bad], ionic[bad])
-        x[bad], ionic[bad], converged[bad] = xb, ib, cb
-        iterations += outer
-    return x, ionic, converged, iterations
+    outer = 0
+    for a in range(0, n, pr.lay.chunk):
+        bad = a + np.flatnonzero(~ok[a:a + pr.lay.chunk])
+        if bad.size:
+            x[bad], ionic[bad], converged[bad], it = solve_nested(pr[bad], x[bad], ionic[bad])
+            outer = max(outer, it)
+    return x, ionic, converged, iterations + outer
 
 
 def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterations,
                   activity: str, t_c: float) -> BatchSpeciation:
-    """Species, fractions, coefficients and warnings of the solved points."""
-    lay = pr.lay
+    """Species, fractions, coefficients and warnings of the solved points (worked out
+    block by block, see ``Layout.chunk``)."""
+    lay, n = pr.lay, x.shape[0]
     ad = pr.a_dh * davies_d(ionic)
     log_kw = -pr.pkw + 2.0 * ad
-    st = species_at(x, ad if pr.a_dh != 0.0 else None, lay, pr.am)
     h = 10.0 ** x
     oh = 10.0 ** (log_kw - x)
-    residual = (h + pr.zs_pos + st["pos"]) - (oh + pr.zs_neg + st["neg"])
+    k, m = lay.z.shape
+    labels = _species_labels(lay)
+    table = np.empty((n, len(labels)))
+    fractions = np.zeros((n, k * m))
+    c_sys = np.empty((n, k))
+    sums = np.empty((3, n))
+    first = 2 + len(lay.ion_labels)
+    table[:, 0], table[:, 1] = h, oh
+    table[:, 2:first] = batch.totals[:, lay.ion_cols]
+    for a in range(0, n, lay.chunk):
+        b = min(n, a + lay.chunk)
+        st = species_at(x[a:b], ad[a:b] if pr.a_dh != 0.0 else None, lay, pr.am[a:b])
+        table[a:b, first:] = st["conc"].T
+        fractions[a:b, lay.flat_index] = st["alpha"].T
+        c_sys[a:b] = st["ceff"].T
+        sums[0, a:b], sums[1, a:b], sums[2, a:b] = st["pos"], st["neg"], st["iz2"]
+    residual = (h + pr.zs_pos + sums[0]) - (oh + pr.zs_neg + sums[1])
     # with activity, report the ionic strength the coefficients were computed with
-    ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * (h + oh + st["iz2"])
-    ph = ad - x  # -log10 a(H+) = -(x + log10 gamma_H), with log10 gamma_H = -ad
-    species_labels, species = _species_table(lay, h, oh, batch.totals[:, lay.ion_cols],
-                                             st["conc"])
+    ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * (h + oh + sums[2])
+    species_labels, species = _merge_labels(labels, table)
     hot = t_c > ENTHALPY_DATA_MAX_C
     code = (ionic_out > DAVIES_LIMIT_MOLAR).astype(int) + 2 * (~converged).astype(int)
-    table = [_warning_texts(bool(c & 1), bool(c & 2), hot, activity) for c in range(4)]
-    warnings = tuple(table[c] for c in code.tolist())
+    texts = [_warning_texts(bool(c & 1), bool(c & 2), hot, activity) for c in range(4)]
     return BatchSpeciation(
-        pH=ph, log_h=x, ionic_strength_molar=ionic_out, charge_residual_molar=residual,
+        pH=ad - x,  # -log10 a(H+) = -(x + log10 gamma_H), with log10 gamma_H = -ad
+        log_h=x, ionic_strength_molar=ionic_out, charge_residual_molar=residual,
         converged=converged, iterations=iterations, species_labels=species_labels,
         species_charges=tuple(lay.charge_map[lab] for lab in species_labels),
         species_molar=species, system_keys=lay.sys_keys, system_labels=lay.sys_labels,
-        fractions=padded_fractions(st["alpha"], lay),
+        fractions=fractions.reshape(n, k, m),
         log_gamma_by_charge=log_gamma_by_charge(ad, lay.zmax), pkw=pr.pkw,
-        temperature_c=t_c, activity=activity, warnings=warnings,
-        system_totals_molar=st["ceff"].T, batch=batch,
+        temperature_c=t_c, activity=activity,
+        warnings=tuple(texts[c] for c in code.tolist()),
+        system_totals_molar=c_sys, batch=batch,
     )
 
 
-def _species_table(lay: Layout, h, oh, c_ion, conc) -> tuple[tuple[str, ...], np.ndarray]:
-    """Species labels and their (N, S) concentrations (``conc``: the (S, N) states); a
-    label that two components share (Na+ from two salts, say) is summed into one column."""
-    labels = ("H+", "OH-", *lay.ion_labels, *(lab for labs in lay.sys_labels for lab in labs))
-    n, j = h.shape[0], len(lay.ion_labels)
-    table = np.empty((n, len(labels)))
-    table[:, 0], table[:, 1] = h, oh
-    table[:, 2:2 + j] = c_ion
-    table[:, 2 + j:] = conc.T
+def _species_labels(lay: Layout) -> tuple[str, ...]:
+    """H+, OH-, the spectator ions, then every state of every system (flat order)."""
+    return ("H+", "OH-", *lay.ion_labels, *(lab for labs in lay.sys_labels for lab in labs))
+
+
+def _merge_labels(labels: tuple[str, ...], table: np.ndarray):
+    """A label that two components share (Na+ from two salts, say) summed into one
+    column: ``(labels, (N, columns) concentrations)``."""
     if len(set(labels)) == len(labels):
         return labels, table
     merged: dict[str, int] = {}
     for lab in labels:
         merged.setdefault(lab, len(merged))
-    out = np.zeros((n, len(merged)))
+    out = np.zeros((table.shape[0], len(merged)))
     for col, lab in enumerate(labels):
         out[:, merged[lab]] += table[:, col]
     return tuple(merged), out
@@ -424,7 +439,8 @@ def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixtur
             neg -= z * c
         ionic_ideal += 0.5 * z * z * c
     fractions = {}
-    for (col, states, _, _), key, labels in zip(lay.py_systems, lay.sys_keys, lay.sys_labels):
+    for (col, states, _, _, _), key, labels in zip(lay.py_systems, lay.sys_keys,
+                                                   lay.sys_labels):
         e = [10.0 ** (lb0 - tad * cc - st * x) for lb0, cc, st, _, _, _ in states]
         tot = sum(e)
         fr = {lab: v / tot for lab, v in zip(labels, e)}

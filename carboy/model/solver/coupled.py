@@ -110,6 +110,13 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
     ``ok`` is False where a point was not accepted within ``max_iter`` steps.
     """
     n = pr.ispec.shape[0]
+    if n > pr.lay.chunk:  # block by block (see Layout.chunk)
+        parts = [solve_coupled(pr[a:a + pr.lay.chunk], max_iter=max_iter,
+                               x0=None if x0 is None else x0[a:a + pr.lay.chunk],
+                               i0=None if i0 is None else i0[a:a + pr.lay.chunk])
+                 for a in range(0, n, pr.lay.chunk)]
+        return (np.concatenate([p[0] for p in parts]), np.concatenate([p[1] for p in parts]),
+                np.concatenate([p[2] for p in parts]), max(p[3] for p in parts))
     x_out = np.full(n, -7.0) if x0 is None else np.array(x0, dtype=float)
     i_out = pr.ispec + 1e-7 if i0 is None else np.maximum(np.array(i0, dtype=float), 1e-12)
     ok = np.zeros(n, dtype=bool)
@@ -159,26 +166,29 @@ CUBIC_TRUST = 0.05
 """A start interpolated by a cubic is used only this close to the straight line."""
 
 
-def between(at: np.ndarray, nodes: np.ndarray, values: np.ndarray) -> np.ndarray:
-    """``values`` (known at the increasing indices ``nodes``) at the indices ``at``: the
-    cubic through the four nearest nodes where it stays near the straight line between
-    the two neighbours (within ``CUBIC_TRUST``), the straight line elsewhere (across a
-    jump, where a cubic overshoots)."""
-    line = np.interp(at, nodes, values)
+def between(at: np.ndarray, nodes: np.ndarray, *columns: np.ndarray) -> list[np.ndarray]:
+    """Each of ``columns`` (values known at the increasing indices ``nodes``) at the
+    indices ``at``: the cubic through the four nearest nodes where it stays near the
+    straight line between the two neighbours (within ``CUBIC_TRUST``), the straight
+    line elsewhere (across a jump, where a cubic overshoots)."""
     m = nodes.shape[0]
+    lines = [np.interp(at, nodes, v) for v in columns]
     if m < 4:
-        return line
-    i = np.clip(np.searchsorted(nodes, at) - 2, 0, m - 4)   # first of the four nodes
-    t = at.astype(float)
-    p = [nodes[i + k].astype(float) for k in range(4)]
-    cubic = np.zeros_like(line)
+        return lines
+    first = np.clip(np.searchsorted(nodes, at) - 2, 0, m - 4)
+    rows = first[:, None] + np.arange(4)
+    p = nodes[rows].astype(float)                       # (n, 4) the four nodes
+    d = at[:, None] - p
+    w = np.empty_like(p)                                # Lagrange weights
     for k in range(4):
-        w = np.ones_like(line)
-        for q in range(4):
-            if q != k:
-                w *= (t - p[q]) / (p[k] - p[q])
-        cubic += w * values[i + k]
-    return np.where(np.abs(cubic - line) <= CUBIC_TRUST, cubic, line)
+        others = [q for q in range(4) if q != k]
+        w[:, k] = (d[:, others].prod(axis=1)
+                   / (p[:, k:k + 1] - p[:, others]).prod(axis=1))
+    out = []
+    for v, line in zip(columns, lines):
+        cubic = np.einsum("nk,nk->n", w, v[rows])
+        out.append(np.where(np.abs(cubic - line) <= CUBIC_TRUST, cubic, line))
+    return out
 
 
 def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
@@ -201,9 +211,8 @@ def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
     fine[coarse] = False
     fine = np.flatnonzero(fine)
     xc, ic, okc, itc = solve_warm(pr[coarse], max_iter=max_iter)
-    xf, i_f, okf, itf = solve_coupled(pr[fine], max_iter=max_iter,
-                                      x0=between(fine, coarse, xc),
-                                      i0=between(fine, coarse, ic))
+    x0, i0 = between(fine, coarse, xc, ic)
+    xf, i_f, okf, itf = solve_coupled(pr[fine], max_iter=max_iter, x0=x0, i0=i0)
     x, ionic, ok = np.empty(n), np.empty(n), np.empty(n, dtype=bool)
     x[coarse], ionic[coarse], ok[coarse] = xc, ic, okc
     x[fine], ionic[fine], ok[fine] = xf, i_f, okf

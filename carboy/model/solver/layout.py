@@ -150,14 +150,23 @@ def _parts(catalog, keys: tuple[str, ...], temperature_c: float) -> _Parts:
 
 
 def _python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray) -> tuple:
-    """Per system: (column, per state (log beta0, c, j, z+, z-, z²), -zmin+, zmax+)."""
-    return tuple(
-        (sys_cols[i], tuple((float(lb0[i, st]), float(cmat[i, st]), float(st),
-                             float(max(zs[i][st], 0)), float(max(-zs[i][st], 0)),
-                             float(zs[i][st] ** 2)) for st in range(len(zs[i]))),
-         float(max(-min(zs[i]), 0)), float(max(max(zs[i]), 0)))
-        for i in range(len(zs))
-    )
+    """Per system: (column, per state (log beta0, c, j, z+, z-, z²), -zmin+, zmax+, fast).
+
+    ``fast`` serves the closed forms of the one-solution path (``single``) where every
+    state has the same sign of charge: (sign, top charge, per state after the first
+    (ln10 log beta0, ln10 c, ln10 j, j, j², j³, j⁴)); None for a system with states of
+    both signs."""
+    out = []
+    for i, z in enumerate(zs):
+        states = tuple((float(lb0[i, st]), float(cmat[i, st]), float(st), float(max(z[st], 0)),
+                        float(max(-z[st], 0)), float(z[st] ** 2)) for st in range(len(z)))
+        fast = None
+        if min(z) >= 0 or max(z) <= 0:
+            fast = (1.0 if min(z) >= 0 else -1.0, float(z[0]), tuple(
+                (LN10 * lb, LN10 * c, LN10 * j, j, j * j, j ** 3, j ** 4)
+                for lb, c, j, _, _, _ in states[1:]))
+        out.append((sys_cols[i], states, float(max(-min(z), 0)), float(max(max(z), 0)), fast))
+    return tuple(out)
 
 
 def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layout:

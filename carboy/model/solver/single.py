@@ -30,8 +30,9 @@ from carboy.model.solver.layout import Layout
 def _inputs(lay: Layout, row, held: dict):
     """The systems present (total, states, held spec), the spectators' positive and
     negative charge and ionic strength, and the charge bounds Q and P (mol/L)."""
-    systems = [(row[col], states, held.get(k)) for k, (col, states, _, _)
-               in enumerate(lay.py_systems) if row[col] > 0.0 or k in held]
+    systems = [(row[col], states, held.get(k), None if k in held else fast)
+               for k, (col, states, _, _, fast) in enumerate(lay.py_systems)
+               if row[col] > 0.0 or k in held]
     zs_pos = zs_neg = ispec = 0.0
     for col, z in lay.py_ions:
         c = row[col]
@@ -41,7 +42,7 @@ def _inputs(lay: Layout, row, held: dict):
             zs_neg -= z * c
         ispec += 0.5 * z * z * c
     q, p = zs_neg, zs_pos
-    for k, (col, _, neg_cap, pos_cap) in enumerate(lay.py_systems):
+    for k, (col, _, neg_cap, pos_cap, _) in enumerate(lay.py_systems):
         if k not in held:
             q += row[col] * neg_cap
             p += row[col] * pos_cap
@@ -51,51 +52,104 @@ def _inputs(lay: Layout, row, held: dict):
 def _sums(systems, x: float, tad: float):
     """The systems' charge sums at x = log10[H+] and 2·A·D = ``tad``, with their
     derivatives: (pos, neg, dpos/dx, dneg/dx, iz2, diz2/dx, dpos/dAD, dneg/dAD,
-    diz2/dAD), as ``charge_balance.moments`` gives them for many points."""
+    diz2/dAD), as ``charge_balance.moments`` gives them for many points.
+
+    A system whose states all carry charge of one sign takes closed forms in the
+    moments of j (protons lost from the top state, top charge t, so z = t - j and
+    cmat = (t² - z²)/2 - j/2): with m_k the mean of j^k, v = m2 - m1², u3 = m3 - m1 m2
+    and u4 = m4 - m2², the charge is ±C (t - m1), its x-derivative ±ln10 C v, and the
+    rest follows (see :func:`_closed_form`).  Others (and held systems) take the
+    general sums (:func:`_general`).
+    """
+    acc = [0.0] * 9   # pos, neg, dpos, dneg, iz2, diz2, apos, aneg, aiz2
     exp = math.exp
-    psys = nsys = dpsys = dnsys = iz2 = diz2 = apos = aneg = aiz2 = 0.0
-    for ctot, states, hold in systems:
-        s0 = sj = sp = sn = sjp = sjn = sz2 = sc = scp = scn = sjz2 = scz2 = 0.0
-        e0 = 0.0
-        for lb0, cc, st, zp, zn, z2 in states:
-            e = exp((lb0 - tad * cc - st * x) * LN10)
-            if hold is not None and st == hold[0]:
-                e0 = e
-            s0 += e
-            sj += st * e
-            sc += cc * e
-            if zp:
-                sp += zp * e
-                sjp += st * zp * e
-                scp += cc * zp * e
-            if zn:
-                sn += zn * e
-                sjn += st * zn * e
-                scn += cc * zn * e
-            sz2 += z2 * e
-            sjz2 += st * z2 * e
-            scz2 += cc * z2 * e
-        if hold is None:
-            inv = ctot / s0
-            jb, cb = sj / s0, sc / s0
-        else:  # a held state: the total follows x (see problem.Amounts)
-            inv = hold[2] / e0
-            jb, cb = hold[0], hold[1]
-        pk, nk, zk = sp * inv, sn * inv, sz2 * inv
-        psys += pk
-        nsys += nk
-        iz2 += zk
-        dpsys -= LN10 * (sjp * inv - jb * pk)
-        dnsys -= LN10 * (sjn * inv - jb * nk)
-        diz2 -= LN10 * (sjz2 * inv - jb * zk)
-        apos -= 2 * LN10 * (scp * inv - cb * pk)
-        aneg -= 2 * LN10 * (scn * inv - cb * nk)
-        aiz2 -= 2 * LN10 * (scz2 * inv - cb * zk)
-    return psys, nsys, dpsys, dnsys, iz2, diz2, apos, aneg, aiz2
+    xl = x * LN10
+    for ctot, states, hold, fast in systems:
+        if fast is None:
+            _general(acc, ctot, states, hold, x, tad)
+            continue
+        sign, t, ladder = fast
+        if len(ladder) == 1:  # two states: every moment of j is the fraction p of the second
+            lb, cl, _, _, _, _, _ = ladder[0]
+            e = exp(lb - tad * cl - xl)
+            m1 = e / (1.0 + e)
+            m2 = m1
+            v = u3 = u4 = m1 * (1.0 - m1)
+        else:
+            p0, p1, p2, p3, p4 = 1.0, 0.0, 0.0, 0.0, 0.0
+            for lb, cl, jl, j, j2, j3, j4 in ladder:
+                e = exp(lb - tad * cl - xl * j)
+                p0 += e
+                p1 += j * e
+                p2 += j2 * e
+                p3 += j3 * e
+                p4 += j4 * e
+            m1, m2 = p1 / p0, p2 / p0
+            v, u3, u4 = m2 - m1 * m1, p3 / p0 - m1 * m2, p4 / p0 - m2 * m2
+        _closed_form(acc, ctot, sign, t, m1, m2, v, u3, u4)
+    return acc
+
+
+def _closed_form(acc, c, sign, t, m1, m2, v, u3, u4):
+    """Add one single-signed system (total ``c``) to the sums ``acc`` (see :func:`_sums`):
+    cov(j, z²) = u3 - 2 t v, cov(z², z²) = u4 - 4 t u3 + 4 t² v, cov(c, w) =
+    -(cov(z², w) + cov(j, w))/2."""
+    cjz2 = u3 - 2.0 * t * v
+    lc = LN10 * c
+    side = 0 if sign > 0 else 1
+    acc[side] += c * (t - m1) * sign
+    acc[2 + side] += lc * v * sign
+    acc[4] += c * (m2 - 2.0 * t * m1 + t * t)
+    acc[5] -= lc * cjz2
+    acc[6 + side] -= lc * (cjz2 + v) * sign
+    acc[8] += lc * (u4 - 4.0 * t * u3 + 4.0 * t * t * v + cjz2)
+
+
+def _general(acc, ctot, states, hold, x: float, tad: float):
+    """Add one system to the sums ``acc`` with the general weighted sums (any signs of
+    charge; a held state, whose system's total then follows x)."""
+    exp = math.exp
+    s0 = sj = sp = sn = sjp = sjn = sz2 = sc = scp = scn = sjz2 = scz2 = 0.0
+    e0 = 0.0
+    for lb0, cc, st, zp, zn, z2 in states:
+        e = exp((lb0 - tad * cc - st * x) * LN10)
+        if hold is not None and st == hold[0]:
+            e0 = e
+        s0 += e
+        sj += st * e
+        sc += cc * e
+        if zp:
+            sp += zp * e
+            sjp += st * zp * e
+            scp += cc * zp * e
+        if zn:
+            sn += zn * e
+            sjn += st * zn * e
+            scn += cc * zn * e
+        sz2 += z2 * e
+        sjz2 += st * z2 * e
+        scz2 += cc * z2 * e
+    if hold is None:
+        inv = ctot / s0
+        jb, cb = sj / s0, sc / s0
+    else:  # a held state: the total follows x (see problem.Amounts)
+        inv = hold[2] / e0
+        jb, cb = hold[0], hold[1]
+    pk, nk, zk = sp * inv, sn * inv, sz2 * inv
+    acc[0] += pk
+    acc[1] += nk
+    acc[4] += zk
+    acc[2] -= LN10 * (sjp * inv - jb * pk)
+    acc[3] -= LN10 * (sjn * inv - jb * nk)
+    acc[5] -= LN10 * (sjz2 * inv - jb * zk)
+    acc[6] -= 2 * LN10 * (scp * inv - cb * pk)
+    acc[7] -= 2 * LN10 * (scn * inv - cb * nk)
+    acc[8] -= 2 * LN10 * (scz2 * inv - cb * zk)
 
 
 def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators):
-    """F at (x, I) and the Newton step: ``(F, dx, I_new)`` (see ``coupled``)."""
+    """F at (x, I), the Newton step and the proton-balance estimate of x: ``(F, dx,
+    I_new, x_lin)`` (see ``coupled``)."""
     psys, nsys, dpsys, dnsys, iz2, diz2, apos, aneg, aiz2 = sums
     zs_pos, zs_neg, ispec = spectators
     h = math.exp(x * LN10)
@@ -103,6 +157,9 @@ def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators):
     pos = h + zs_pos + psys
     neg = oh + zs_neg + nsys
     big_f = math.log(pos / neg)
+    # the proton balance's own estimate, as if only H+ or OH- took up the imbalance
+    lin = (math.log10(max(h + neg - pos, 1e-300)) if neg > pos
+           else log_kw - math.log10(max(oh + pos - neg, 1e-300)))
     f_x = (LN10 * h + dpsys) / pos + (LN10 * oh - dnsys) / neg
     g = ispec + 0.5 * (h + oh + iz2)
     dx = -big_f / f_x
@@ -121,7 +178,7 @@ def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators):
             if (math.isfinite(dx2) and math.isfinite(di)
                     and 0.5 * g < ionic + di < 2.0 * g):
                 dx, inew = dx2, ionic + di
-    return big_f, dx, inew
+    return big_f, dx, inew, (lin, g)
 
 
 def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
@@ -145,7 +202,12 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
     for it in range(1, max_iter + 1):
         tad = 2.0 * (a_dh * davies_d_float(ionic))
         log_kw = tad - pkw
-        big_f, dx, inew = _step(x, ionic, _sums(systems, x, tad), log_kw, a_dh, spectators)
+        big_f, dx, inew, lin = _step(x, ionic, _sums(systems, x, tad), log_kw, a_dh,
+                                     spectators)
+        if it == 1 and x0 is None and abs(dx) > COUPLED_NEAR:
+            # a cold start far from the root: first balance the protons, and take the
+            # ionic strength of the species as they are
+            dx, inew = lin[0] - x, lin[1]
         if held:
             xn = min(max(x + dx, -20.0), 4.0)
         else:
