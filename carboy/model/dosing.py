@@ -19,6 +19,7 @@ import numpy as np
 
 from carboy.model import gas
 from carboy.model.mixture import MixtureBatch, titration_batch
+from carboy.model.speciation import BatchSpeciation, speciate_batch
 
 CURVE_SPAN = 1.3
 """The pH curve runs from 0 to this times the largest dose of interest."""
@@ -62,18 +63,36 @@ class Dosing:
         """The dose to the target, or 0 where it cannot be reached."""
         return self.doses[0] if self.target_reached else 0.0
 
-    def batch_at(self, n, *, vented: bool = True) -> tuple[MixtureBatch, np.ndarray]:
+    def batch_at(self, n, *, vented=True) -> tuple[MixtureBatch, np.ndarray]:
         """The batch after adding each amount ``n`` (mol) and its volumes (L): once vented
-        to air (default), or right after the addition (``vented=False``)."""
-        n = np.asarray(n, dtype=float)
-        b, vol = titration_batch(self.model.sample, self.composition, n, self.l_per_mol)
-        if self.fresh_loss is not None:
-            kept = kept_carbonate_mol(self.model, n, self.fresh_loss,
-                                      self.s_air if vented else None)
-            tot = b.totals.copy()
-            tot[:, b.keys.index(gas.CARBONATE)] = kept / vol
-            b = MixtureBatch(b.keys, tot, b.temperature_c)
+        to air (default), or right after the addition (``vented=False``; or one flag per
+        amount)."""
+        b, vol, _ = self._batch_and_air(np.asarray(n, dtype=float), vented)
         return b, vol
+
+    def solve(self, n, *, vented=True) -> tuple[BatchSpeciation, np.ndarray]:
+        """:meth:`batch_at`, solved: the states and their volumes (L).  A vented point
+        starts from the same batch in equilibrium with air, which it equals wherever
+        the air's level of CO2 is the lower."""
+        b, vol, air = self._batch_and_air(np.asarray(n, dtype=float), vented)
+        res = speciate_batch(b, activity=self.model.activity, catalog=self.model.catalog,
+                             start=air)
+        return res, vol
+
+    def _batch_and_air(self, n: np.ndarray, vented):
+        """(batch, volumes, the state open to air or None): see :meth:`batch_at`."""
+        b, vol = titration_batch(self.model.sample, self.composition, n, self.l_per_mol)
+        if self.fresh_loss is None:
+            return b, vol, None
+        kept = np.maximum(self.model.carbonate_total_mol(n) - self.fresh_loss(n), 0.0)
+        air = None
+        vented = np.broadcast_to(np.asarray(vented, dtype=bool), n.shape)
+        if vented.any():
+            air = self.model.forward(n, co2_molar=self.s_air)
+            kept = np.where(vented, np.minimum(kept, air.carbonate_molar() * air.volume_l), kept)
+        tot = b.totals.copy()
+        tot[:, b.keys.index(gas.CARBONATE)] = kept / vol
+        return MixtureBatch(b.keys, tot, b.temperature_c), vol, None if air is None else air.result
 
     def co2_lost_mol(self, n_end: float) -> tuple[float, float]:
         """CO2 given off (mol) by adding ``n_end``: right after the addition, and in all
@@ -128,6 +147,8 @@ def fresh_loss_function(model: gas.TitrationModel, grid: np.ndarray,
 
     def loss_of(n):
         n = np.atleast_1d(np.asarray(n, dtype=float))
+        if n.shape == grid.shape and np.array_equal(n, grid):
+            return run.copy()   # on the grid the running maximum is the loss itself
         idx = np.clip(np.searchsorted(grid, n, side="right") - 1, 0, len(run) - 1)
         return np.maximum(run[idx], model.saturation_loss_mol(n, s_sat))
 

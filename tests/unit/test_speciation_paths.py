@@ -74,3 +74,23 @@ def test_state_at_reproduces_the_solved_fractions(catalog):
     assert st.system_keys == res.system_keys
     np.testing.assert_allclose(st.fractions, res.fractions, rtol=1e-9, atol=1e-300)
     np.testing.assert_allclose(st.log_h, res.log_h, atol=1e-12)
+
+
+@pytest.mark.parametrize("held", [None, (1, 0), (1, 1), (2, 2), (2, 0)])
+def test_closed_forms_equal_the_general_sums(catalog, held):
+    # the one-solution path's closed forms for single-signed systems (with or without a
+    # held state) against its general weighted sums, which hold for any system
+    from carboy.model.solver import single
+    from carboy.model.solver.layout import cached_layout
+
+    lay = cached_layout(catalog, ("Na+", "ammonium", "carbonate", "phosphate"), 25.0)
+    hold = {} if held is None else {held[0]: (float(held[1]),
+                                              float(lay.cmat[held[0], held[1]]), 1e-5)}
+    systems = single._inputs(lay, [0.1, 0.02, 0.003, 0.01], hold)[0]
+    assert all(fast is not None for *_, fast in systems)
+    general = [(c, st, h, None) for c, st, h, _ in systems]
+    for x in (-2.0, -7.0, -8.5, -11.0, -13.0):
+        for tad in (0.0, 0.2):
+            fast_sums = single._sums(systems, x, tad)
+            slow_sums = single._sums(general, x, tad)
+            assert fast_sums == pytest.approx(slow_sums, rel=1e-10, abs=1e-300)

@@ -30,7 +30,7 @@ from carboy.model.solver.layout import Layout
 def _inputs(lay: Layout, row, held: dict):
     """The systems present (total, states, held spec), the spectators' positive and
     negative charge and ionic strength, and the charge bounds Q and P (mol/L)."""
-    systems = [(row[col], states, held.get(k), None if k in held else fast)
+    systems = [(row[col], states, held.get(k), fast)
                for k, (col, states, _, _, fast) in enumerate(lay.py_systems)
                if row[col] > 0.0 or k in held]
     zs_pos = zs_neg = ispec = 0.0
@@ -69,25 +69,50 @@ def _sums(systems, x: float, tad: float):
             _general(acc, ctot, states, hold, x, tad)
             continue
         sign, t, ladder = fast
+        e_ref = 1.0   # e of the held state (the first state's e is 1)
         if len(ladder) == 1:  # two states: every moment of j is the fraction p of the second
             lb, cl, _, _, _, _, _ = ladder[0]
             e = exp(lb - tad * cl - xl)
-            m1 = e / (1.0 + e)
+            p0 = 1.0 + e
+            m1 = e / p0
             m2 = m1
             v = u3 = u4 = m1 * (1.0 - m1)
+            if hold is not None and hold[0] == 1.0:
+                e_ref = e
         else:
             p0, p1, p2, p3, p4 = 1.0, 0.0, 0.0, 0.0, 0.0
             for lb, cl, jl, j, j2, j3, j4 in ladder:
-                e = exp(lb - tad * cl - xl * j)
+                e = exp(lb - tad * cl - x * jl)
                 p0 += e
                 p1 += j * e
                 p2 += j2 * e
                 p3 += j3 * e
                 p4 += j4 * e
+                if hold is not None and j == hold[0]:
+                    e_ref = e
             m1, m2 = p1 / p0, p2 / p0
             v, u3, u4 = m2 - m1 * m1, p3 / p0 - m1 * m2, p4 / p0 - m2 * m2
-        _closed_form(acc, ctot, sign, t, m1, m2, v, u3, u4)
+        if hold is None:
+            _closed_form(acc, ctot, sign, t, m1, m2, v, u3, u4)
+        else:  # the total follows x: C = F·S/e_ref, and j0, c0 replace jbar, cbar
+            _held_form(acc, hold, hold[2] * p0 / e_ref, sign, t, m1, m2, v, u3, u4)
     return acc
+
+
+def _held_form(acc, hold, c, sign, t, m1, m2, v, u3, u4):
+    """:func:`_closed_form` for a system whose state j0 is held (total ``c`` at x):
+    sums over (j - j0) and (cmat - c0) are the covariances plus (jbar - j0) and
+    (cbar - c0) times the sum itself."""
+    j0, c0, _ = hold
+    before = acc[:]
+    _closed_form(acc, c, sign, t, m1, m2, v, u3, u4)
+    side = 0 if sign > 0 else 1
+    charge, iz2 = acc[side] - before[side], acc[4] - before[4]
+    cbar = 0.5 * (t * t - (m2 - 2.0 * t * m1 + t * t)) - 0.5 * m1
+    acc[2 + side] -= LN10 * (m1 - j0) * charge
+    acc[5] -= LN10 * (m1 - j0) * iz2
+    acc[6 + side] -= 2.0 * LN10 * (cbar - c0) * charge
+    acc[8] -= 2.0 * LN10 * (cbar - c0) * iz2
 
 
 def _closed_form(acc, c, sign, t, m1, m2, v, u3, u4):
