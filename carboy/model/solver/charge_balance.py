@@ -16,11 +16,28 @@ slice's ``sum``): no matrix product, so no BLAS call and none of its threads.
 
 from __future__ import annotations
 
+import threading
+
 import numpy as np
 
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.layout import Layout
 from carboy.model.solver.problem import Amounts
+
+_WORK = threading.local()
+
+
+def _buffer(name: str, rows: int, n: int) -> np.ndarray:
+    """A reusable (rows, n) work array of this thread.  The (states, points) arrays are
+    rewritten at every step of a solve: taking fresh memory for each would cost a page
+    fault per page (the allocator hands such blocks back to the system when freed)."""
+    cache = getattr(_WORK, "arrays", None)
+    if cache is None:
+        cache = _WORK.arrays = {}
+    buf = cache.get(name)
+    if buf is None or buf.shape != (rows, n):
+        buf = cache[name] = np.empty((rows, n))
+    return buf
 
 
 def bracket(q, p, log_kw):
@@ -42,12 +59,14 @@ def state_weights(x, ad, lay: Layout) -> np.ndarray:
     the layout says the range could overflow, each system is shifted by its largest
     exponent (a common factor of the system's states, which cancels).
     """
-    s = lay.flat_j.shape[0]
-    t = np.empty((s + 1, x.shape[0]))
+    s, n = lay.flat_j.shape[0], x.shape[0]
+    t = _buffer("t", s + 1, n)
     np.multiply.outer(lay.flat_j, x, out=t[:s])
     np.subtract(lay.flat_lb0[:, None], t[:s], out=t[:s])
     if ad is not None:
-        t[:s] -= np.multiply.outer(lay.flat_c, 2.0 * ad)
+        tmp = _buffer("tmp", s, n)
+        np.multiply.outer(lay.flat_c, 2.0 * ad, out=tmp)
+        t[:s] -= tmp
     if lay.needs_shift:
         for a, b in lay.sys_slices:
             t[a:b] -= t[a:b].max(axis=0)
@@ -60,7 +79,9 @@ def state_weights(x, ad, lay: Layout) -> np.ndarray:
 def group_sums(e: np.ndarray, lay: Layout):
     """Each system's sums over its states of e, j·e and cmat·e: three (K, N) arrays."""
     k, m = lay.z.shape
-    e3 = e[lay.pad_rows].reshape(k, m, e.shape[1])
+    pad = _buffer("pad", k * m, e.shape[1])
+    np.take(e, lay.pad_rows, axis=0, out=pad)
+    e3 = pad.reshape(k, m, e.shape[1])
     return (e3.sum(axis=1), np.einsum("m,kmn->kn", lay.jj, e3),
             np.einsum("km,kmn->kn", lay.cmat, e3))
 
@@ -82,7 +103,26 @@ def _concentrations(x, ad, lay: Layout, am: Amounts):
     else:
         with np.errstate(divide="ignore", invalid="ignore"):
             ceff = np.where(am.mask[:, None], am.held * s0 / e[am.e0_col], am.c)
-    return e, sums, ceff, e * (ceff / s0)[lay.flat_sys]
+    return e, sums, ceff, _scaled(e, ceff / s0, lay, "conc")
+
+
+def _scaled(rows: np.ndarray, per_system: np.ndarray, lay: Layout, name: str) -> np.ndarray:
+    """``rows`` (S, N) times ``per_system`` (K, N) at each state's system, in the work
+    array ``name``."""
+    out = _buffer(name, *rows.shape)
+    np.take(per_system, lay.flat_sys, axis=0, out=out)
+    out *= rows
+    return out
+
+
+def _deviation(conc: np.ndarray, weights: np.ndarray, ref: np.ndarray, lay: Layout):
+    """(weights - ref) conc for every state: ``weights`` (S,) per state, ``ref`` (K, N)
+    per system (its mean, or a held state's value), in the work array ``dev``."""
+    out = _buffer("dev", *conc.shape)
+    np.take(ref, lay.flat_sys, axis=0, out=out)
+    np.subtract(weights[:, None], out, out=out)
+    out *= conc
+    return out
 
 
 def species_at(x, ad, lay: Layout, am: Amounts):
@@ -117,11 +157,10 @@ def moments(x, ad, lay: Layout, am: Amounts, want_jac: bool = False):
     system's total then moves with it, see ``problem.Amounts``).
     """
     e, (s0, s_j, s_c), ceff, conc = _concentrations(x, ad, lay, am)
-    sys = lay.flat_sys
     jref = s_j / s0
     if am.held is not None:
         jref = np.where(am.mask[:, None], am.j0[:, None], jref)
-    dev = (lay.flat_j[:, None] - jref[sys]) * conc
+    dev = _deviation(conc, lay.flat_j, jref, lay)
     out = {"pos": _row_sum(lay.flat_zp, conc), "neg": _row_sum(lay.flat_zn, conc),
            "iz2": _row_sum(lay.flat_z2, conc), "dpos": -LN10 * _row_sum(lay.flat_zp, dev),
            "dneg": -LN10 * _row_sum(lay.flat_zn, dev), "ceff": ceff}
@@ -130,7 +169,7 @@ def moments(x, ad, lay: Layout, am: Amounts, want_jac: bool = False):
         cref = s_c / s0
         if am.held is not None:
             cref = np.where(am.mask[:, None], am.c0[:, None], cref)
-        dev = (lay.flat_c[:, None] - cref[sys]) * conc
+        dev = _deviation(conc, lay.flat_c, cref, lay)
         out.update(apos=-2 * LN10 * _row_sum(lay.flat_zp, dev),
                    aneg=-2 * LN10 * _row_sum(lay.flat_zn, dev),
                    aiz2=-2 * LN10 * _row_sum(lay.flat_z2, dev))
