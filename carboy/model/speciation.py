@@ -463,7 +463,9 @@ def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixtur
             pos += zp * c
             neg += zn * c
             ionic_ideal += 0.5 * z2 * c
-    coeff = {lab: 10.0 ** (-ad * lay.charge_map[lab] ** 2) for lab in species}
+    by_z = [10.0 ** (-ad * z * z) for z in range(lay.zmax + 1)]
+    charge = lay.charge_map
+    coeff = {lab: by_z[abs(charge[lab])] for lab in species}
     if a_dh == 0.0:
         ionic = ionic_ideal
     warnings = _warning_texts(ionic > DAVIES_LIMIT_MOLAR, False, t_c > ENTHALPY_DATA_MAX_C,
