@@ -70,29 +70,36 @@ class Dosing:
         b, vol, _ = self._batch_and_air(np.asarray(n, dtype=float), vented)
         return b, vol
 
-    def solve(self, n, *, vented=True) -> tuple[BatchSpeciation, np.ndarray]:
-        """:meth:`batch_at`, solved: the states and their volumes (L).  A vented point
-        starts from the same batch in equilibrium with air, which it equals wherever
-        the air's level of CO2 is the lower."""
+    def solve(self, n, *, vented=True, start=None) -> tuple[BatchSpeciation, np.ndarray]:
+        """:meth:`batch_at`, solved: the states and their volumes (L).  Each point starts
+        from ``start`` where given (see :func:`~carboy.model.speciation.speciate_batch`),
+        else from the same batch in equilibrium with air (which it equals wherever the
+        air's level of CO2 is the lower)."""
         b, vol, air = self._batch_and_air(np.asarray(n, dtype=float), vented)
         res = speciate_batch(b, activity=self.model.activity, catalog=self.model.catalog,
-                             start=air)
+                             start=air if start is None else start)
         return res, vol
 
     def _batch_and_air(self, n: np.ndarray, vented):
-        """(batch, volumes, the state open to air or None): see :meth:`batch_at`."""
+        """(batch, volumes, starts or None): see :meth:`batch_at`; a vented point whose
+        state is the one open to air starts from its root, the others from none."""
         b, vol = titration_batch(self.model.sample, self.composition, n, self.l_per_mol)
         if self.fresh_loss is None:
             return b, vol, None
         kept = np.maximum(self.model.carbonate_total_mol(n) - self.fresh_loss(n), 0.0)
-        air = None
+        start = None
         vented = np.broadcast_to(np.asarray(vented, dtype=bool), n.shape)
         if vented.any():
             air = self.model.forward(n, co2_molar=self.s_air)
-            kept = np.where(vented, np.minimum(kept, air.carbonate_molar() * air.volume_l), kept)
+            at_air = air.carbonate_molar() * air.volume_l
+            exact = vented & (at_air <= kept)   # these points are the state open to air
+            kept = np.where(vented, np.minimum(kept, at_air), kept)
+            if exact.any():
+                start = (np.where(exact, air.result.log_h, np.nan),
+                         np.where(exact, air.result.ionic_strength_molar, np.nan))
         tot = b.totals.copy()
         tot[:, b.keys.index(gas.CARBONATE)] = kept / vol
-        return MixtureBatch(b.keys, tot, b.temperature_c), vol, None if air is None else air.result
+        return MixtureBatch(b.keys, tot, b.temperature_c), vol, start
 
     def co2_lost_mol(self, n_end: float) -> tuple[float, float]:
         """CO2 given off (mol) by adding ``n_end``: right after the addition, and in all

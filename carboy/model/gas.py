@@ -118,6 +118,7 @@ class TitrationModel:
             if ion_z[j] is None and catalog.systems[k].strong_steps == catalog.systems[k].n_steps:
                 ion_z[j] = catalog.systems[k].bottom_charge
         self.ion_cols = np.array([j for j, z in enumerate(ion_z) if z is not None], dtype=int)
+        self._open: dict = {}   # CO2(aq) level -> roots of an open-system solve (starts)
         self.ion_z = np.array([z for z in ion_z if z is not None], dtype=float)
 
     # ------------------------------------------------------------------ forward
@@ -144,8 +145,35 @@ class TitrationModel:
                 raise InvalidInput("CO2 equilibrium", co2_molar, "the solution holds no carbonate")
             held = {CARBONATE: (self.co2_label, co2_molar)}
         b, vol = self._batch(n, None if held else carbonate_mol)
-        res = speciate_batch(b, activity=self.activity, catalog=self.catalog, held=held)
+        start = None if held is None else self._open_start(co2_molar, n)
+        res = speciate_batch(b, activity=self.activity, catalog=self.catalog, held=held,
+                             start=start)
+        if held is not None:
+            self._remember_open(co2_molar, n, res)
         return State(n, vol, res)
+
+    def _open_start(self, co2_molar, n: np.ndarray):
+        """Starts for an open-system solve at ``co2_molar``: the roots of the largest such
+        solve so far, interpolated in the amount (NaN outside its range), or None."""
+        memo = self._open.get(float(co2_molar)) if np.ndim(co2_molar) == 0 else None
+        if memo is None or memo[0].size < min(n.size, 16):  # too coarse to start from
+            return None
+        nodes, log_h, ionic = memo
+        inside = (n >= nodes[0]) & (n <= nodes[-1])
+        if not inside.any():
+            return None
+        return (np.where(inside, np.interp(n, nodes, log_h), np.nan),
+                np.where(inside, np.interp(n, nodes, ionic), np.nan))
+
+    def _remember_open(self, co2_molar, n: np.ndarray, res: BatchSpeciation) -> None:
+        """Keep the roots of an open-system solve of several amounts (see _open_start)."""
+        if np.ndim(co2_molar) != 0 or n.size < 2:
+            return
+        memo = self._open.get(float(co2_molar))
+        if memo is None or memo[0].size < n.size:
+            order = np.argsort(n)
+            self._open[float(co2_molar)] = (n[order], res.log_h[order],
+                                            res.ionic_strength_molar[order])
 
     # ------------------------------------------------------------------ inverse
 

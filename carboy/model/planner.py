@@ -101,7 +101,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     demand = _proton_demand(req, start)
     dosing = _find_doses(req, start, demand)
     curve_res, curve_vol = _solve_curve(req, dosing)
-    pts = _solve_points(req, start, dosing, demand.n_full)
+    pts = _solve_points(req, start, dosing, demand.n_full, curve_res)
     doses = _dose_results(req, dosing, pts, demand.n_full)
     heat = _heat_and_gas(req, dosing, pts, curve_res, curve_vol)
     bound, precipitates = _at_target(req, pts)
@@ -319,9 +319,11 @@ class _Points:
         return self.first_equivalence + len(self.equivalence)
 
 
-def _solve_points(req: _Request, start: _Start, dosing: Dosing, n_full: float) -> _Points:
+def _solve_points(req: _Request, start: _Start, dosing: Dosing, n_full: float,
+                  curve: BatchSpeciation) -> _Points:
     """Step 6: the states at the full dose, the doses, the stages (planning.toml
-    ``[stages]``), ±1 % of the target dose and the labelled equivalence points."""
+    ``[stages]``), ±1 % of the target dose and the labelled equivalence points; each
+    starts from the curve between its neighbours on the grid."""
     fracs = np.asarray(thermo.planning_constants()["stages"]["cumulative_fractions"],
                        dtype=float)
     eqs = equivalence_amounts(req.sample, req.catalog, start.direction, start.capacity,
@@ -335,7 +337,10 @@ def _solve_points(req: _Request, start: _Start, dosing: Dosing, n_full: float) -
     if dosing.carbonate:  # and the state right after the addition, in the same solve
         pts.append(base_t)
         vented.append(False)
-    pres, pvol = dosing.solve(np.asarray(pts), vented=vented)
+    at = np.asarray(pts)
+    guess = (np.interp(at, dosing.grid, curve.log_h),
+             np.interp(at, dosing.grid, curve.ionic_strength_molar))
+    pres, pvol = dosing.solve(at, vented=vented, start=guess)
     return _Points(pres, pvol, fracs, eqs)
 
 

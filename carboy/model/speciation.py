@@ -251,7 +251,7 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
 
 def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=None,
                    held: Mapping[str, tuple[str, object]] | None = None,
-                   start: BatchSpeciation | None = None) -> BatchSpeciation:
+                   start: BatchSpeciation | tuple | None = None) -> BatchSpeciation:
     """Solve every mixture of ``batch`` at once.
 
     Parameters
@@ -265,7 +265,8 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
         with air.  The system's solved total is in ``system_totals_molar``.
     start : a solved batch of the same length whose roots (log10[H+] and ionic
         strength) each point starts from (a nearby state: the same batch open to air,
-        say).  It saves steps only: the results are the same within the tolerances.
+        say), or those two arrays themselves.  It saves steps only: the results are
+        the same within the tolerances.
         Without it, a long batch is warm-started along its points (neighbours alike).
 
     Returns
@@ -284,9 +285,12 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
     lay = cached_layout(catalog, batch.keys, t_c)
     guess = None
     if start is not None:
-        if len(start) != len(batch):
-            raise InvalidInput("start", len(start), f"must hold {len(batch)} points")
-        guess = (start.log_h, start.ionic_strength_molar)
+        guess = ((start.log_h, start.ionic_strength_molar)
+                 if isinstance(start, BatchSpeciation) else start)
+        guess = tuple(np.asarray(g, dtype=float).reshape(-1) for g in guess)
+        if len(guess) != 2 or any(g.shape[0] != len(batch) for g in guess):
+            raise InvalidInput("start", f"{len(guess)} arrays",
+                               f"expected log10[H+] and ionic strength for {len(batch)} points")
     return _solve(batch, lay, activity, t_c, held, guess)
 
 

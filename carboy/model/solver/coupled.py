@@ -28,7 +28,7 @@ from carboy.model.solver.constants import (
 from carboy.model.solver.problem import Problem
 from carboy.model.solver.single import solve_each
 
-TAIL_POINTS = 12
+TAIL_POINTS = 8
 """When no more than this many points are left unsettled, the plain-Python path
 finishes them (numpy's per-call cost would dominate a vectorized step)."""
 
@@ -158,7 +158,7 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
     return x_out, i_out, ok, it
 
 
-WARM_MIN = 48
+WARM_MIN = 24
 """Batches at least this long are solved coarse to fine (see :func:`solve_warm`)."""
 WARM_STRIDE = 8
 """Every this many points is solved first; the points between start from there."""
@@ -195,25 +195,47 @@ def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
     """:func:`solve_coupled` for a batch whose neighbouring points are alike (a curve).
 
     Every ``WARM_STRIDE``-th point (and the last) is solved first, itself coarse to fine
-    when it is long; each point between then starts from the straight line between its
-    two solved neighbours' roots (log10[H+] and I), a few Newton steps from its own.  A
-    start only saves steps: a point is accepted on the same test whatever its start,
-    so the order of the points never changes a result beyond the tolerances.  Given
-    ``x0`` and ``i0``, every point starts there instead.
+    when it is long; each point between then starts from the cubic through its solved
+    neighbours' roots (log10[H+] and I), a few Newton steps from its own.  A start only
+    saves steps: a point is accepted on the same test whatever its start, so the order
+    of the points never changes a result beyond the tolerances.  Given ``x0`` and
+    ``i0``, a point starts there instead, and the points whose start is NaN are solved
+    coarse to fine among themselves.
     """
     n = pr.ispec.shape[0]
-    if n < WARM_MIN and not pr.lay.needs_shift:  # a few points: step by step in Python
-        return solve_each(pr, x0, i0, chain=x0 is None, max_iter=max_iter)
-    if x0 is not None or n < WARM_MIN:
-        return solve_coupled(pr, max_iter=max_iter, x0=x0, i0=i0)
+    if x0 is not None:
+        given = np.isfinite(x0) & np.isfinite(i0)
+        if not given.all():
+            return _merge(n, (np.flatnonzero(given), _started(pr, given, x0, i0, max_iter)),
+                          (np.flatnonzero(~given), solve_warm(pr[~given], max_iter=max_iter)))
+        return _started(pr, slice(None), x0, i0, max_iter)
+    if n < WARM_MIN:
+        return (solve_coupled(pr, max_iter=max_iter) if pr.lay.needs_shift
+                else solve_each(pr, chain=True, max_iter=max_iter))  # step by step
     coarse = np.unique(np.r_[np.arange(0, n, WARM_STRIDE), n - 1])
     fine = np.ones(n, dtype=bool)
     fine[coarse] = False
     fine = np.flatnonzero(fine)
     xc, ic, okc, itc = solve_warm(pr[coarse], max_iter=max_iter)
-    x0, i0 = between(fine, coarse, xc, ic)
-    xf, i_f, okf, itf = solve_coupled(pr[fine], max_iter=max_iter, x0=x0, i0=i0)
+    xs, i_s = between(fine, coarse, xc, ic)
+    return _merge(n, (coarse, (xc, ic, okc, itc)),
+                  (fine, solve_coupled(pr[fine], max_iter=max_iter, x0=xs, i0=i_s)))
+
+
+def _started(pr: Problem, which, x0, i0, max_iter: int):
+    """Solve the points ``which`` of ``pr`` from their starts."""
+    sub = pr if isinstance(which, slice) else pr[which]
+    xs, i_s = np.asarray(x0)[which], np.asarray(i0)[which]
+    if sub.ispec.shape[0] < WARM_MIN and not pr.lay.needs_shift:
+        return solve_each(sub, xs, i_s, max_iter=max_iter)
+    return solve_coupled(sub, max_iter=max_iter, x0=xs, i0=i_s)
+
+
+def _merge(n: int, *parts):
+    """``(x, ionic, ok, iterations)`` of n points from (indices, result) parts."""
     x, ionic, ok = np.empty(n), np.empty(n), np.empty(n, dtype=bool)
-    x[coarse], ionic[coarse], ok[coarse] = xc, ic, okc
-    x[fine], ionic[fine], ok[fine] = xf, i_f, okf
-    return x, ionic, ok, max(itc, itf)
+    worst = 0
+    for idx, (xp, ip, okp, itp) in parts:
+        x[idx], ionic[idx], ok[idx] = xp, ip, okp
+        worst = max(worst, itp)
+    return x, ionic, ok, worst

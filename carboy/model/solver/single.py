@@ -104,10 +104,9 @@ def _held_form(acc, hold, c, sign, t, m1, m2, v, u3, u4):
     sums over (j - j0) and (cmat - c0) are the covariances plus (jbar - j0) and
     (cbar - c0) times the sum itself."""
     j0, c0, _ = hold
-    before = acc[:]
-    _closed_form(acc, c, sign, t, m1, m2, v, u3, u4)
     side = 0 if sign > 0 else 1
-    charge, iz2 = acc[side] - before[side], acc[4] - before[4]
+    _closed_form(acc, c, sign, t, m1, m2, v, u3, u4)
+    charge, iz2 = c * (t - m1) * sign, c * (m2 - 2.0 * t * m1 + t * t)
     cbar = 0.5 * (t * t - (m2 - 2.0 * t * m1 + t * t)) - 0.5 * m1
     acc[2 + side] -= LN10 * (m1 - j0) * charge
     acc[5] -= LN10 * (m1 - j0) * iz2
@@ -172,9 +171,11 @@ def _general(acc, ctot, states, hold, x: float, tad: float):
     acc[8] -= 2 * LN10 * (scz2 * inv - cb * zk)
 
 
-def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators):
-    """F at (x, I), the Newton step and the proton-balance estimate of x: ``(F, dx,
-    I_new, x_lin)`` (see ``coupled``)."""
+def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators,
+          first: bool = False):
+    """F at (x, I) and the Newton step: ``(F, dx, I_new, x_lin, g)`` (see ``coupled``);
+    with ``first``, x_lin is the proton balance's own estimate of x (as if only H+ or
+    OH- took up the imbalance) and g the ionic strength of the species as they are."""
     psys, nsys, dpsys, dnsys, iz2, diz2, apos, aneg, aiz2 = sums
     zs_pos, zs_neg, ispec = spectators
     h = math.exp(x * LN10)
@@ -182,28 +183,30 @@ def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators):
     pos = h + zs_pos + psys
     neg = oh + zs_neg + nsys
     big_f = math.log(pos / neg)
-    # the proton balance's own estimate, as if only H+ or OH- took up the imbalance
-    lin = (math.log10(max(h + neg - pos, 1e-300)) if neg > pos
-           else log_kw - math.log10(max(oh + pos - neg, 1e-300)))
     f_x = (LN10 * h + dpsys) / pos + (LN10 * oh - dnsys) / neg
     g = ispec + 0.5 * (h + oh + iz2)
     dx = -big_f / f_x
+    lin = None
+    if first:
+        lin = (math.log10(max(h + neg - pos, 1e-300)) if neg > pos
+               else log_kw - math.log10(max(oh + pos - neg, 1e-300)))
+    if a_dh == 0.0:
+        return big_f, dx, g, lin, g
+    if abs(dx) > COUPLED_NEAR:   # far from the root: the plain step at a held I
+        return big_f, dx, ionic, lin, g
     inew = g
-    if a_dh != 0.0:
-        inew = ionic if abs(dx) > COUPLED_NEAR else g
-        dd = a_dh * davies_dprime_float(ionic)
-        f_i = (apos / pos - (2 * LN10 * oh + aneg) / neg) * dd
-        g_x = 0.5 * (LN10 * (h - oh) + diz2)
-        g_i = 0.5 * (2 * LN10 * oh + aiz2) * dd - 1.0
-        res_g = g - ionic
-        det = f_x * g_i - f_i * g_x
-        if abs(dx) <= COUPLED_NEAR and det != 0.0:
-            dx2 = (f_i * res_g - big_f * g_i) / det
-            di = (g_x * big_f - res_g * f_x) / det
-            if (math.isfinite(dx2) and math.isfinite(di)
-                    and 0.5 * g < ionic + di < 2.0 * g):
-                dx, inew = dx2, ionic + di
-    return big_f, dx, inew, (lin, g)
+    dd = a_dh * davies_dprime_float(ionic)
+    f_i = (apos / pos - (2 * LN10 * oh + aneg) / neg) * dd
+    g_x = 0.5 * (LN10 * (h - oh) + diz2)
+    g_i = 0.5 * (2 * LN10 * oh + aiz2) * dd - 1.0
+    res_g = g - ionic
+    det = f_x * g_i - f_i * g_x
+    if det != 0.0:
+        dx2 = (f_i * res_g - big_f * g_i) / det
+        di = (g_x * big_f - res_g * f_x) / det
+        if math.isfinite(dx2) and math.isfinite(di) and 0.5 * g < ionic + di < 2.0 * g:
+            dx, inew = dx2, ionic + di
+    return big_f, dx, inew, lin, g
 
 
 def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
@@ -227,12 +230,13 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
     for it in range(1, max_iter + 1):
         tad = 2.0 * (a_dh * davies_d_float(ionic))
         log_kw = tad - pkw
-        big_f, dx, inew, lin = _step(x, ionic, _sums(systems, x, tad), log_kw, a_dh,
-                                     spectators)
-        if it == 1 and x0 is None and abs(dx) > COUPLED_NEAR:
+        cold = it == 1 and x0 is None
+        big_f, dx, inew, lin, g = _step(x, ionic, _sums(systems, x, tad), log_kw, a_dh,
+                                        spectators, cold)
+        if cold and abs(dx) > COUPLED_NEAR:
             # a cold start far from the root: first balance the protons, and take the
             # ionic strength of the species as they are
-            dx, inew = lin[0] - x, lin[1]
+            dx, inew = lin - x, g
         if held:
             xn = min(max(x + dx, -20.0), 4.0)
         else:
