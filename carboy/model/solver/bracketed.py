@@ -14,7 +14,7 @@ from __future__ import annotations
 import numpy as np
 
 from carboy.model.activity import davies_d
-from carboy.model.solver.charge_balance import bracket, moments
+from carboy.model.solver.charge_balance import moments
 from carboy.model.solver.constants import (
     F_TOL,
     I_RTOL,
@@ -37,7 +37,7 @@ def root(x0, ad, log_kw, pr: Problem):
     imbalance) is below ``F_TOL``, or when its bracket has shrunk below ``X_TOL``.
     """
     lay, am, zs_pos, zs_neg = pr.lay, pr.am, pr.zs_pos, pr.zs_neg
-    lo, hi = bracket(pr.q, pr.p, log_kw)
+    lo, hi = pr.bounds(log_kw)
     if pr.open_system:
         lo, hi = widen(lo, hi, ad, log_kw, pr)
     x = np.clip(x0, lo, hi)

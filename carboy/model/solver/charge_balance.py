@@ -5,7 +5,7 @@ The charge balance is written as POS(x) = NEG(x), with POS the positive charge
 falls with x, so F = ln POS - ln NEG is strictly increasing with the same root as
 f = POS - NEG.  Newton on F is nearly linear where one species dominates each side (a
 strong acid converges in one step), which is what makes the solve fast; the bracket
-(:func:`bracket`) keeps it safe.  :func:`moments` gives the systems' share of POS,
+(``problem.Problem.bounds``) keeps it safe.  :func:`moments` gives the systems' share of POS,
 NEG and the ionic strength, with their derivatives.
 
 Arrays here hold the points last: (S, N) for the S valid states of the layout
@@ -38,16 +38,6 @@ def _buffer(name: str, rows: int, n: int) -> np.ndarray:
     if buf is None or buf.shape != (rows, n):
         buf = cache[name] = np.empty((rows, n))
     return buf
-
-
-def bracket(q, p, log_kw):
-    """log10[H+] bounds with f(lo) < 0 < f(hi), from the totals alone.
-
-    With Q the largest negative charge the solutes can carry and P the largest
-    positive one, f(x) >= [H+] - [OH-] - Q and f(x) <= [H+] - [OH-] + P.  So
-    [H+] = Q + 1 gives f > 0 and [H+] = Kw'/(P + 1) gives f < 0.
-    """
-    return log_kw - np.log10(p + 1.0) - 1e-3, np.log10(q + 1.0) + 1e-3
 
 
 def state_weights(x, ad, lay: Layout) -> np.ndarray:

@@ -15,8 +15,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from carboy.model.activity import davies_d, davies_dprime
-from carboy.model.solver.charge_balance import bracket, moments
+from carboy.model.activity import davies_d_and_slope
+from carboy.model.solver.charge_balance import moments
 from carboy.model.solver.constants import (
     COUPLED_ITER,
     COUPLED_NEAR,
@@ -33,11 +33,10 @@ TAIL_POINTS = 8
 finishes them (numpy's per-call cost would dominate a vectorized step)."""
 
 
-def _newton_2x2(pr: Problem, mo, ia, h, oh, pos, neg, big_f, f_x, g):
-    """The step (dx, I_new, I settled?) with Davies coefficients: the exact 2×2 step
-    near the root, the plain step in x at a held I far from it, and the plain update
-    g of I where the 2×2 step of I is not trusted."""
-    dd = pr.a_dh * davies_dprime(ia)            # d(AD)/dI
+def _newton_2x2(mo, ia, dd, h, oh, pos, neg, big_f, f_x, g):
+    """The step (dx, I_new, I settled?) with Davies coefficients (``dd`` = d(AD)/dI):
+    the exact 2×2 step near the root, the plain step in x at a held I far from it, and
+    the plain update g of I where the 2×2 step of I is not trusted."""
     f_i = (mo["apos"] / pos - (2 * LN10 * oh + mo["aneg"]) / neg) * dd
     g_x = 0.5 * (LN10 * (h - oh) + mo["diz2"])
     g_i = 0.5 * (2 * LN10 * oh + mo["aiz2"]) * dd - 1.0
@@ -69,7 +68,8 @@ def _newton_step(pr: Problem, xa, ia):
     I is the plain update g and I counts as settled.
     """
     davies = pr.a_dh != 0.0
-    ad = pr.a_dh * davies_d(ia)
+    d, slope = davies_d_and_slope(ia)
+    ad = pr.a_dh * d
     log_kw = 2.0 * ad - pr.pkw
     mo = moments(xa, ad if davies else None, pr.lay, pr.am, want_jac=davies)
     h = np.exp(xa * LN10)
@@ -80,7 +80,7 @@ def _newton_step(pr: Problem, xa, ia):
     f_x = (LN10 * h + mo["dpos"]) / pos + (LN10 * oh - mo["dneg"]) / neg
     g = pr.ispec + 0.5 * (h + oh + mo["iz2"])
     if davies:
-        dx, inew, i_ok = _newton_2x2(pr, mo, ia, h, oh, pos, neg, big_f, f_x, g)
+        dx, inew, i_ok = _newton_2x2(mo, ia, pr.a_dh * slope, h, oh, pos, neg, big_f, f_x, g)
     else:
         dx = -big_f / f_x
         inew = g
@@ -132,7 +132,7 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
         if cur.open_system:  # the totals do not bound a held system: keep steps moderate
             xn = xa + np.clip(dx, -3.0, 3.0)
         else:
-            lo, hi = bracket(cur.q, cur.p, log_kw)
+            lo, hi = cur.bounds(log_kw)
             xn = np.clip(xa + dx, lo, hi)
         held_i = (inew == ia) | (not davies)
         xn, seen_lo, seen_hi = _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi)

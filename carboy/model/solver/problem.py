@@ -97,11 +97,22 @@ class Problem:
     pkw: float
     a_dh: float            # activity scale A (0: ideal)
     totals: np.ndarray     # (N, columns) the totals as given, for the one-solution path
+    hi: np.ndarray         # (N,) upper bound of x, log10(Q + 1) + 1e-3
+    lo_below: np.ndarray   # (N,) the lower bound's distance below log10 Kw', log10(P + 1) + 1e-3
 
     def __getitem__(self, idx) -> Problem:
         return Problem(self.lay, self.am[idx], self.zs_pos[idx], self.zs_neg[idx],
                        self.ispec[idx], self.q[idx], self.p[idx], self.pkw, self.a_dh,
-                       self.totals[idx])
+                       self.totals[idx], self.hi[idx], self.lo_below[idx])
+
+    def bounds(self, log_kw):
+        """log10[H+] bounds with f(lo) < 0 < f(hi), from the totals alone.
+
+        With Q the largest negative charge the solutes can carry and P the largest
+        positive one, f(x) >= [H+] - [OH-] - Q and f(x) <= [H+] - [OH-] + P.  So
+        [H+] = Q + 1 gives f > 0 and [H+] = Kw'/(P + 1) gives f < 0.
+        """
+        return log_kw - self.lo_below, self.hi.copy()
 
     def held_of(self, n: int) -> dict:
         """The held states of point ``n`` as the one-solution path takes them:
@@ -136,7 +147,8 @@ def build_problem(lay: Layout, totals: np.ndarray, held, pkw: float, a_dh: float
     ispec = 0.5 * _weighted(c_ion, lay.ion_z ** 2)
     q = zs_neg + _weighted(c_sys.T, np.maximum(-lay.sys_zmin, 0.0))
     p = zs_pos + _weighted(c_sys.T, np.maximum(lay.sys_zmax, 0.0))
-    return Problem(lay, am, zs_pos, zs_neg, ispec, q, p, pkw, a_dh, totals)
+    return Problem(lay, am, zs_pos, zs_neg, ispec, q, p, pkw, a_dh, totals,
+                   np.log10(q + 1.0) + 1e-3, np.log10(p + 1.0) + 1e-3)
 
 
 def _weighted(cols: np.ndarray, w: np.ndarray) -> np.ndarray:
