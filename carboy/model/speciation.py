@@ -54,6 +54,7 @@ from carboy.model.activity import (
     DAVIES_LIMIT_MOLAR,
     check_model,
     davies_d,
+    davies_d_float,
     debye_huckel_scale,
     log_gamma_by_charge,
     outside_range_warning,
@@ -438,7 +439,7 @@ def _warning_texts(high_i: bool, bad: bool, hot: bool, activity: str) -> tuple[s
 
 def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixture) -> Speciation:
     """Species, fractions and coefficients of one solved solution."""
-    ad = a_dh * float(davies_d(ionic))
+    ad = a_dh * davies_d_float(ionic)
     tad = 2.0 * ad
     h = 10.0 ** x
     oh = 10.0 ** (tad - pkw - x)

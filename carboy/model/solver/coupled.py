@@ -158,7 +158,7 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
     return x_out, i_out, ok, it
 
 
-WARM_MIN = 24
+WARM_MIN = 25
 """Batches at least this long are solved coarse to fine (see :func:`solve_warm`)."""
 WARM_STRIDE = 8
 """Every this many points is solved first; the points between start from there."""

@@ -262,7 +262,8 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
 def solve_each(pr, x0=None, i0=None, *, chain: bool = False, max_iter: int = COUPLED_ITER):
     """:func:`solve_one` for every point of the problem ``pr`` in turn, each from its
     own start (``x0``, ``i0``: arrays, or None for the cold start) or, with ``chain``,
-    from the root of the point before it (a curve solved step by step).
+    from the line through the roots of the two points before it (a curve solved step
+    by step).
 
     Returns ``(x, ionic, ok, iterations)`` as the vectorized paths do; a point the
     plain-Python path gives up on keeps its start and ``ok`` False.
@@ -278,6 +279,9 @@ def solve_each(pr, x0=None, i0=None, *, chain: bool = False, max_iter: int = COU
         start_x, start_i = xs[i], iss[i]
         if chain and i and ok[i - 1]:
             start_x, start_i = xs[i - 1], iss[i - 1]
+            if i > 1 and ok[i - 2]:   # the straight line through the two roots before
+                start_x += max(-2.0, min(2.0, xs[i - 1] - xs[i - 2]))
+                start_i = max(start_i + iss[i - 1] - iss[i - 2], 0.5 * start_i)
         got = solve_one(pr.lay, rows[i], pr.pkw, pr.a_dh, pr.held_of(i), max_iter=max_iter,
                         x0=start_x, i0=start_i)
         if got is not None:
