@@ -21,7 +21,7 @@ import numpy as np
 from carboy.errors import InvalidInput
 from carboy.model import water
 from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
-from carboy.model.speciation import BatchSpeciation, speciate_batch, state_at
+from carboy.model.speciation import BatchSpeciation, speciate_batch, start_along, state_at
 from carboy.model.thermo import planning_constants
 
 LN10 = math.log(10.0)
@@ -158,12 +158,12 @@ class TitrationModel:
         memo = self._open.get(float(co2_molar)) if np.ndim(co2_molar) == 0 else None
         if memo is None or memo[0].size < min(n.size, 16):  # too coarse to start from
             return None
-        nodes, log_h, ionic = memo
+        nodes, res = memo
         inside = (n >= nodes[0]) & (n <= nodes[-1])
         if not inside.any():
             return None
-        return (np.where(inside, np.interp(n, nodes, log_h), np.nan),
-                np.where(inside, np.interp(n, nodes, ionic), np.nan))
+        x0, i0 = start_along(n, nodes, res)
+        return np.where(inside, x0, np.nan), np.where(inside, i0, np.nan)
 
     def _remember_open(self, co2_molar, n: np.ndarray, res: BatchSpeciation) -> None:
         """Keep the roots of an open-system solve of several amounts (see _open_start)."""
@@ -171,9 +171,8 @@ class TitrationModel:
             return
         memo = self._open.get(float(co2_molar))
         if memo is None or memo[0].size < n.size:
-            order = np.argsort(n)
-            self._open[float(co2_molar)] = (n[order], res.log_h[order],
-                                            res.ionic_strength_molar[order])
+            if np.all(np.diff(n) > 0):
+                self._open[float(co2_molar)] = (n, res)
 
     # ------------------------------------------------------------------ inverse
 

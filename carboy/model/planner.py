@@ -68,7 +68,7 @@ from carboy.model.mixture import Mixture
 from carboy.model.plan_result import Dose, EquivalencePoint, Plan, Stage
 from carboy.model.precipitates import Precipitate, saturation_indices, slurry_check
 from carboy.model.reagents import Reagent
-from carboy.model.speciation import BatchSpeciation
+from carboy.model.speciation import BatchSpeciation, start_along
 
 __all__ = ["Dose", "EquivalencePoint", "Plan", "Stage", "plan_neutralization"]
 
@@ -338,9 +338,7 @@ def _solve_points(req: _Request, start: _Start, dosing: Dosing, n_full: float,
         pts.append(base_t)
         vented.append(False)
     at = np.asarray(pts)
-    guess = (np.interp(at, dosing.grid, curve.log_h),
-             np.interp(at, dosing.grid, curve.ionic_strength_molar))
-    pres, pvol = dosing.solve(at, vented=vented, start=guess)
+    pres, pvol = dosing.solve(at, vented=vented, start=start_along(at, dosing.grid, curve))
     return _Points(pres, pvol, fracs, eqs)
 
 

@@ -87,13 +87,14 @@ from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
 from carboy.model.solver.layout import compile_layout as _layout  # noqa: F401 (tests)
 from carboy.model.solver.problem import Problem, build_problem
 from carboy.model.solver.single import solve_one
+from carboy.model.solver.starts import start_between
 
 __all__ = [
     "ACTIVITY_MODELS", "COUPLED_ITER", "COUPLED_NEAR", "DAVIES_LIMIT_MOLAR",
     "ENTHALPY_DATA_MAX_C", "F_TOL", "I_RTOL", "LN10", "MAX_I_ITER", "MAX_ROOT_ITER",
     "QUADRATIC_STEP", "R_J_MOL_K", "T_REF_K", "WIDEN_STEPS", "X_TOL",
     "BatchSpeciation", "Speciation", "StateAt", "pka_at", "speciate", "speciate_batch",
-    "state_at",
+    "start_along", "state_at",
 ]
 
 
@@ -293,6 +294,16 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
             raise InvalidInput("start", f"{len(guess)} arrays",
                                f"expected log10[H+] and ionic strength for {len(batch)} points")
     return _solve(batch, lay, activity, t_c, held, guess)
+
+
+def start_along(at, nodes, result: BatchSpeciation) -> tuple[np.ndarray, np.ndarray]:
+    """Starts for :func:`speciate_batch` (``start=``) at the positions ``at`` (amounts
+    of reagent, say) from a solved curve ``result`` at the increasing positions
+    ``nodes``: the roots between its points, a cubic where the curve is smooth and the
+    straight line in the excess of H+ over OH- across a jump
+    (see :mod:`carboy.model.solver.starts`)."""
+    return start_between(np.asarray(at, dtype=float), np.asarray(nodes, dtype=float),
+                         result.log_h, result.ionic_strength_molar, result.pkw)
 
 
 def state_at(keys: tuple[str, ...], ph, ionic_strength, *, temperature_c: float = 25.0,

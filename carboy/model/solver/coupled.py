@@ -27,6 +27,7 @@ from carboy.model.solver.constants import (
 )
 from carboy.model.solver.problem import Problem
 from carboy.model.solver.single import solve_each
+from carboy.model.solver.starts import cubic_between
 
 TAIL_POINTS = 8
 """When no more than this many points are left unsettled, the plain-Python path
@@ -162,33 +163,6 @@ WARM_MIN = 25
 """Batches at least this long are solved coarse to fine (see :func:`solve_warm`)."""
 WARM_STRIDE = 8
 """Every this many points is solved first; the points between start from there."""
-CUBIC_TRUST = 0.05
-"""A start interpolated by a cubic is used only this close to the straight line."""
-
-
-def between(at: np.ndarray, nodes: np.ndarray, *columns: np.ndarray) -> list[np.ndarray]:
-    """Each of ``columns`` (values known at the increasing indices ``nodes``) at the
-    indices ``at``: the cubic through the four nearest nodes where it stays near the
-    straight line between the two neighbours (within ``CUBIC_TRUST``), the straight
-    line elsewhere (across a jump, where a cubic overshoots)."""
-    m = nodes.shape[0]
-    lines = [np.interp(at, nodes, v) for v in columns]
-    if m < 4:
-        return lines
-    first = np.clip(np.searchsorted(nodes, at) - 2, 0, m - 4)
-    rows = first[:, None] + np.arange(4)
-    p = nodes[rows].astype(float)                       # (n, 4) the four nodes
-    d = at[:, None] - p
-    w = np.empty_like(p)                                # Lagrange weights
-    for k in range(4):
-        others = [q for q in range(4) if q != k]
-        w[:, k] = (d[:, others].prod(axis=1)
-                   / (p[:, k:k + 1] - p[:, others]).prod(axis=1))
-    out = []
-    for v, line in zip(columns, lines):
-        cubic = np.einsum("nk,nk->n", w, v[rows])
-        out.append(np.where(np.abs(cubic - line) <= CUBIC_TRUST, cubic, line))
-    return out
 
 
 def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
@@ -196,11 +170,11 @@ def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
 
     Every ``WARM_STRIDE``-th point (and the last) is solved first, itself coarse to fine
     when it is long; each point between then starts from the cubic through its solved
-    neighbours' roots (log10[H+] and I), a few Newton steps from its own.  A start only
-    saves steps: a point is accepted on the same test whatever its start, so the order
-    of the points never changes a result beyond the tolerances.  Given ``x0`` and
-    ``i0``, a point starts there instead, and the points whose start is NaN are solved
-    coarse to fine among themselves.
+    neighbours' roots (log10[H+] and I, see ``starts.cubic_between``), a few Newton
+    steps from its own.  A start only saves steps: a point is accepted on the same test
+    whatever its start, so the order of the points never changes a result beyond the
+    tolerances.  Given ``x0`` and ``i0``, a point starts there instead, and the points
+    whose start is NaN are solved coarse to fine among themselves.
     """
     n = pr.ispec.shape[0]
     if x0 is not None:
@@ -217,7 +191,7 @@ def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
     fine[coarse] = False
     fine = np.flatnonzero(fine)
     xc, ic, okc, itc = solve_warm(pr[coarse], max_iter=max_iter)
-    xs, i_s = between(fine, coarse, xc, ic)
+    xs, i_s = cubic_between(fine, coarse, xc, ic)
     return _merge(n, (coarse, (xc, ic, okc, itc)),
                   (fine, solve_coupled(pr[fine], max_iter=max_iter, x0=xs, i0=i_s)))
 
