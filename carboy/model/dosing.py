@@ -13,7 +13,7 @@ also gives the state right after the addition.
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -47,6 +47,9 @@ class Dosing:
     fresh_loss: LossFunction | None
     s_air: float | None
     pco2_atm: float | None
+    seen: dict = field(default_factory=dict, repr=False, compare=False)
+    """amount (mol) -> (CO2 lost right after adding it, carbonate kept once vented), as
+    worked out for a batch (``co2_lost_mol`` reads it back)."""
 
     @property
     def carbonate(self) -> bool:
@@ -75,25 +78,29 @@ class Dosing:
         from ``start`` where given (see :func:`~carboy.model.speciation.speciate_batch`),
         else from the same batch in equilibrium with air (which it equals wherever the
         air's level of CO2 is the lower)."""
-        b, vol, air = self._batch_and_air(np.asarray(n, dtype=float), vented)
+        b, vol, air = self._batch_and_air(np.asarray(n, dtype=float), vented, start)
         res = speciate_batch(b, activity=self.model.activity, catalog=self.model.catalog,
                              start=air if start is None else start)
         return res, vol
 
-    def _batch_and_air(self, n: np.ndarray, vented):
+    def _batch_and_air(self, n: np.ndarray, vented, air_start=None):
         """(batch, volumes, starts or None): see :meth:`batch_at`; a vented point whose
         state is the one open to air starts from its root, the others from none."""
         b, vol = titration_batch(self.model.sample, self.composition, n, self.l_per_mol)
         if self.fresh_loss is None:
             return b, vol, None
-        kept = np.maximum(self.model.carbonate_total_mol(n) - self.fresh_loss(n), 0.0)
+        loss = self.fresh_loss(n)
+        kept = np.maximum(self.model.carbonate_total_mol(n) - loss, 0.0)
         start = None
         vented = np.broadcast_to(np.asarray(vented, dtype=bool), n.shape)
         if vented.any():
-            air = self.model.forward(n, co2_molar=self.s_air)
+            air = self.model.forward(n, co2_molar=self.s_air, start=air_start)
             at_air = air.carbonate_molar() * air.volume_l
             exact = vented & (at_air <= kept)   # these points are the state open to air
             kept = np.where(vented, np.minimum(kept, at_air), kept)
+            for a, lost, k, v in zip(n.tolist(), loss.tolist(), kept.tolist(), vented.tolist()):
+                if v:
+                    self.seen[a] = (lost, k)
             if exact.any():
                 start = (np.where(exact, air.result.log_h, np.nan),
                          np.where(exact, air.result.ionic_strength_molar, np.nan))
@@ -106,6 +113,9 @@ class Dosing:
         once the batch has vented to air (0, 0 without carbonate)."""
         if self.fresh_loss is None:
             return 0.0, 0.0
+        if float(n_end) in self.seen:   # worked out already, for a batch that held it
+            fresh, kept = self.seen[float(n_end)]
+            return fresh, float(self.model.carbonate_total_mol([n_end])[0]) - kept
         fresh = float(self.fresh_loss(np.array([n_end]))[0])
         vented = float(self.model.carbonate_total_mol([n_end])[0]
                        - kept_carbonate_mol(self.model, np.array([n_end]), self.fresh_loss,

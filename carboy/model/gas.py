@@ -132,11 +132,13 @@ class TitrationModel:
             b = MixtureBatch(b.keys, tot, b.temperature_c)
         return b, vol
 
-    def forward(self, n_reagent, *, carbonate_mol=None, co2_molar=None) -> State:
+    def forward(self, n_reagent, *, carbonate_mol=None, co2_molar=None, start=None) -> State:
         """States after adding each amount ``n_reagent`` (mol).
 
         ``carbonate_mol`` overrides the total carbonate left (mol, per point) and
         ``co2_molar`` instead holds CO2(aq) fixed (open system); neither: closed.
+        ``start``: the solver's starts (see ``speciate_batch``); an open system starts
+        by default from the largest open solve at the same CO2 level so far.
         """
         n = np.atleast_1d(np.asarray(n_reagent, dtype=float))
         held = None
@@ -145,7 +147,8 @@ class TitrationModel:
                 raise InvalidInput("CO2 equilibrium", co2_molar, "the solution holds no carbonate")
             held = {CARBONATE: (self.co2_label, co2_molar)}
         b, vol = self._batch(n, None if held else carbonate_mol)
-        start = None if held is None else self._open_start(co2_molar, n)
+        if start is None and held is not None:
+            start = self._open_start(co2_molar, n)
         res = speciate_batch(b, activity=self.activity, catalog=self.catalog, held=held,
                              start=start)
         if held is not None:

@@ -60,7 +60,7 @@ import numpy as np
 from carboy.errors import InvalidInput
 from carboy.model import cautions as caution_rules
 from carboy.model import gas, thermo, water
-from carboy.model.activity import check_model
+from carboy.model.activity import check_model, davies_d, debye_huckel_scale
 from carboy.model.cautions import derived_hazards
 from carboy.model.dosing import Dosing, find_doses
 from carboy.model.equivalence import equivalence_amounts
@@ -338,7 +338,12 @@ def _solve_points(req: _Request, start: _Start, dosing: Dosing, n_full: float,
         pts.append(base_t)
         vented.append(False)
     at = np.asarray(pts)
-    pres, pvol = dosing.solve(at, vented=vented, start=start_along(at, dosing.grid, curve))
+    x0, i0 = start_along(at, dosing.grid, curve)
+    # a dose that reaches a pH leaves that pH: its root is known but for the coefficient
+    ad = debye_huckel_scale(req.activity, req.temperature_c) * davies_d(i0[1:4])
+    reached = np.isfinite(dosing.doses) & (dosing.doses > 0)
+    x0[1:4] = np.where(reached, ad - np.array([req.target, *req.window]), x0[1:4])
+    pres, pvol = dosing.solve(at, vented=vented, start=(x0, i0))
     return _Points(pres, pvol, fracs, eqs)
 
 
