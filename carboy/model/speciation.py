@@ -388,14 +388,15 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
     table[:, 2:first] = batch.totals[:, lay.ion_cols]
     for a in range(0, n, lay.chunk):
         b = min(n, a + lay.chunk)
-        st = species_at(x[a:b], ad[a:b] if pr.a_dh != 0.0 else None, lay, pr.am[a:b])
+        st = species_at(x[a:b], ad[a:b] if pr.a_dh != 0.0 else None, log_kw[a:b], lay,
+                        pr.am[a:b])
         table[a:b, first:] = st["conc"].T
         fractions[a:b, lay.flat_index] = st["alpha"].T
         c_sys[a:b] = st["ceff"].T
-        sums[0, a:b], sums[1, a:b], sums[2, a:b] = st["pos"], st["neg"], st["iz2"]
-    residual = (h + pr.zs_pos + sums[0]) - (oh + pr.zs_neg + sums[1])
+        sums[:, a:b] = st["sums"]
+    residual = (pr.zs_pos + sums[0]) - (pr.zs_neg + sums[1])
     # with activity, report the ionic strength the coefficients were computed with
-    ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * (h + oh + sums[2])
+    ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * sums[2]
     species_labels, species = _merge_labels(labels, table)
     hot = t_c > ENTHALPY_DATA_MAX_C
     code = (ionic_out > DAVIES_LIMIT_MOLAR).astype(int) + 2 * (~converged).astype(int)

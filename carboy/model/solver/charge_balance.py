@@ -10,8 +10,11 @@ NEG and the ionic strength, with their derivatives.
 
 Arrays here hold the points last: (S, N) for the S valid states of the layout
 (system after system), (K, N) for the K systems, so that each sum over a system's
-states adds whole rows.  Every sum is a weighted sum of rows (``einsum`` on rows or a
-slice's ``sum``): no matrix product, so no BLAS call and none of its threads.
+states adds whole rows.  H+ and OH- ride along as two more rows (H+ as a "state" one
+proton above the top, OH- one below, whose amounts are their own: no total fixes
+them), so that POS, NEG and the ionic strength with all their derivatives come from
+three weighted sums of rows each.  Every sum is a weighted sum of rows (``einsum``)
+or of a system's rows: no matrix product, so no BLAS call and none of its threads.
 """
 
 from __future__ import annotations
@@ -40,9 +43,10 @@ def _buffer(name: str, rows: int, n: int) -> np.ndarray:
     return buf
 
 
-def state_weights(x, ad, lay: Layout) -> np.ndarray:
-    """(S + 1, N) unnormalized weights e of every state at log10[H+] = ``x`` and A·D =
-    ``ad``, and a last row of zeros (for :func:`group_sums`).
+def state_weights(x, ad, lay: Layout, log_kw=None) -> np.ndarray:
+    """(S + 3, N): the unnormalized weights e of every state at log10[H+] = ``x`` and
+    A·D = ``ad``, then [H+] and [OH-] (with ``log_kw``, log10 Kw' at A·D; else 0) and a
+    row of zeros (for :func:`group_sums`).
 
     e = 10**(log beta0 - 2 A D cmat - j x): with log10 gamma = -A D z², the step
     HA(z) = H+ + A(z-1) has log10 K' = log10 K - 2 A D (z - 1), summed in cmat.  Where
@@ -50,7 +54,7 @@ def state_weights(x, ad, lay: Layout) -> np.ndarray:
     exponent (a common factor of the system's states, which cancels).
     """
     s, n = lay.flat_j.shape[0], x.shape[0]
-    t = _buffer("t", s + 1, n)
+    t = _buffer("t", s + 3, n)
     np.multiply.outer(lay.flat_j, x, out=t[:s])
     np.subtract(lay.flat_lb0[:, None], t[:s], out=t[:s])
     if ad is not None:
@@ -60,9 +64,14 @@ def state_weights(x, ad, lay: Layout) -> np.ndarray:
     if lay.needs_shift:
         for a, b in lay.sys_slices:
             t[a:b] -= t[a:b].max(axis=0)
-    t[:s] *= LN10
-    np.exp(t[:s], out=t[:s])
-    t[s] = 0.0
+    if log_kw is None:
+        t[s:s + 2] = -np.inf
+    else:
+        t[s] = x
+        np.subtract(log_kw, x, out=t[s + 1])
+    t[:s + 2] *= LN10
+    np.exp(t[:s + 2], out=t[:s + 2])
+    t[s + 2] = 0.0
     return t
 
 
@@ -76,94 +85,85 @@ def group_sums(e: np.ndarray, lay: Layout):
             np.einsum("km,kmn->kn", lay.cmat, e3))
 
 
-def _row_sum(weights, rows) -> np.ndarray:
-    """sum_s weights[s] rows[s] (an (N,) array)."""
-    return np.einsum("s,sn->n", weights, rows)
-
-
-def _concentrations(x, ad, lay: Layout, am: Amounts):
-    """The (S, N) weights e, each system's sums (see :func:`group_sums`), its total
-    (K, N) and the (S, N) concentration of each state."""
-    e = state_weights(x, ad, lay)
+def _concentrations(x, ad, log_kw, lay: Layout, am: Amounts):
+    """The weights e (see :func:`state_weights`), each system's sums (see
+    :func:`group_sums`), its total (K, N) and the (S + 2, N) concentration of each
+    state, then of H+ and OH-."""
+    e = state_weights(x, ad, lay, log_kw)
     sums = group_sums(e, lay)
-    e = e[:-1]
+    s = lay.flat_j.shape[0]
     s0 = sums[0]
     if am.held is None:
         ceff = am.c
     else:
         with np.errstate(divide="ignore", invalid="ignore"):
             ceff = np.where(am.mask[:, None], am.held * s0 / e[am.e0_col], am.c)
-    return e, sums, ceff, _scaled(e, ceff / s0, lay, "conc")
-
-
-def _scaled(rows: np.ndarray, per_system: np.ndarray, lay: Layout, name: str) -> np.ndarray:
-    """``rows`` (S, N) times ``per_system`` (K, N) at each state's system, in the work
-    array ``name``."""
-    out = _buffer(name, *rows.shape)
-    np.take(per_system, lay.flat_sys, axis=0, out=out)
-    out *= rows
-    return out
+    conc = _buffer("conc", s + 2, e.shape[1])
+    np.take(ceff / s0, lay.flat_sys, axis=0, out=conc[:s])
+    conc[:s] *= e[:s]
+    conc[s:] = e[s:s + 2]
+    return e, sums, ceff, conc
 
 
 def _deviation(conc: np.ndarray, weights: np.ndarray, ref: np.ndarray, lay: Layout):
-    """(weights - ref) conc for every state: ``weights`` (S,) per state, ``ref`` (K, N)
-    per system (its mean, or a held state's value), in the work array ``dev``."""
+    """(weights - ref) conc for every row of ``conc``: ``weights`` per row, ``ref``
+    (K + 1, N) per system (its mean, or a held state's value; 0 in the last row, for H+
+    and OH-), in the work array ``dev``."""
     out = _buffer("dev", *conc.shape)
-    np.take(ref, lay.flat_sys, axis=0, out=out)
+    np.take(ref, lay.row_sys, axis=0, out=out)
     np.subtract(weights[:, None], out, out=out)
     out *= conc
     return out
 
 
-def species_at(x, ad, lay: Layout, am: Amounts):
-    """The solved state's sums: ``pos``, ``neg``, ``iz2`` (N,), ``ceff`` (K, N) and the
-    (S, N) ``conc`` and fractions ``alpha`` of every state (see :func:`moments`)."""
-    e, sums, ceff, conc = _concentrations(x, ad, lay, am)
-    return {"pos": _row_sum(lay.flat_zp, conc), "neg": _row_sum(lay.flat_zn, conc),
-            "iz2": _row_sum(lay.flat_z2, conc), "ceff": ceff, "conc": conc,
-            "alpha": e / sums[0][lay.flat_sys]}
+def species_at(x, ad, log_kw, lay: Layout, am: Amounts):
+    """The solved state: ``sums`` (3, N) as :func:`moments` gives them, ``ceff``
+    (K, N), and the (S, N) ``conc`` and fractions ``alpha`` of every state."""
+    e, sums, ceff, conc = _concentrations(x, ad, log_kw, lay, am)
+    s = lay.flat_j.shape[0]
+    return {"sums": np.einsum("ws,sn->wn", lay.row_w, conc), "ceff": ceff,
+            "conc": conc[:s], "alpha": e[:s] / sums[0][lay.flat_sys]}
 
 
 def fractions_at(x, ad, lay: Layout) -> np.ndarray:
     """(S, N) fraction of each state in its system at log10[H+] = ``x``, A·D = ``ad``."""
     e = state_weights(x, ad, lay)
-    return e[:-1] / group_sums(e, lay)[0][lay.flat_sys]
+    return e[:lay.flat_j.shape[0]] / group_sums(e, lay)[0][lay.flat_sys]
 
 
-def moments(x, ad, lay: Layout, am: Amounts, want_jac: bool = False):
+def moments(x, ad, log_kw, lay: Layout, am: Amounts, want_jac: bool = False):
     """Charge sums, their derivatives and the ionic-strength sum at log10[H+] = x.
 
-    ``ad`` is A·D(I) of each point (``None``: ideal, every coefficient 1).  Returns a
-    dict of (N,) arrays summed over systems (mol/L): ``pos``, ``neg`` (charge carried by
-    positive and negative system species), ``dpos``, ``dneg`` (their x-derivatives),
-    ``iz2`` (sum of c z²); with ``want_jac`` also ``diz2`` (its x-derivative) and
-    ``apos``, ``aneg``, ``aiz2`` (derivatives with respect to A·D, for the ionic
-    strength); ``ceff`` (K, N), each system's total (solved where a state is held).
+    ``ad`` is A·D(I) of each point (``None``: ideal, every coefficient 1) and ``log_kw``
+    log10 Kw' there.  Returns ``(sums, d_x, d_ad, ceff)``: ``sums`` (3, N) holds POS and
+    NEG less the spectator ions (the charge carried by H+, OH- and the positive and
+    negative system species, mol/L) and Σ c z² of the same species; ``d_x`` their
+    x-derivatives; with ``want_jac`` ``d_ad`` their derivatives with respect to A·D
+    (for the ionic strength; else None); ``ceff`` (K, N), each system's total (solved
+    where a state is held).
 
     With alpha_j proportional to 10**(log beta0_j - 2 A D c_j - j x), d alpha_j/dx
     = -ln10 alpha_j (j - jbar) and d alpha_j/d(AD) = -2 ln10 alpha_j (c_j - cbar): each
     derivative is a sum over states of a weight times (j - jbar) or (c - cbar) times
     the state's concentration.  A held state j0 takes the place of jbar and cbar (the
-    system's total then moves with it, see ``problem.Amounts``).
+    system's total then moves with it, see ``problem.Amounts``); H+ counts as j = -1,
+    c = 0 and OH- as j = 1, c = -1, both about 0.
     """
-    e, (s0, s_j, s_c), ceff, conc = _concentrations(x, ad, lay, am)
-    jref = s_j / s0
+    e, (s0, s_j, s_c), ceff, conc = _concentrations(x, ad, log_kw, lay, am)
+    k = s0.shape[0]
+    ref = _buffer("ref", k + 1, x.shape[0])
+    ref[k] = 0.0
+    np.divide(s_j, s0, out=ref[:k])
     if am.held is not None:
-        jref = np.where(am.mask[:, None], am.j0[:, None], jref)
-    dev = _deviation(conc, lay.flat_j, jref, lay)
-    out = {"pos": _row_sum(lay.flat_zp, conc), "neg": _row_sum(lay.flat_zn, conc),
-           "iz2": _row_sum(lay.flat_z2, conc), "dpos": -LN10 * _row_sum(lay.flat_zp, dev),
-           "dneg": -LN10 * _row_sum(lay.flat_zn, dev), "ceff": ceff}
+        ref[:k] = np.where(am.mask[:, None], am.j0[:, None], ref[:k])
+    d_x = np.einsum("ws,sn->wn", lay.row_w_dx, _deviation(conc, lay.row_j, ref, lay))
+    d_ad = None
     if want_jac:
-        out["diz2"] = -LN10 * _row_sum(lay.flat_z2, dev)
-        cref = s_c / s0
+        np.divide(s_c, s0, out=ref[:k])
         if am.held is not None:
-            cref = np.where(am.mask[:, None], am.c0[:, None], cref)
-        dev = _deviation(conc, lay.flat_c, cref, lay)
-        out.update(apos=-2 * LN10 * _row_sum(lay.flat_zp, dev),
-                   aneg=-2 * LN10 * _row_sum(lay.flat_zn, dev),
-                   aiz2=-2 * LN10 * _row_sum(lay.flat_z2, dev))
-    return out
+            ref[:k] = np.where(am.mask[:, None], am.c0[:, None], ref[:k])
+        d_ad = np.einsum("ws,sn->wn", lay.row_w_dad, _deviation(conc, lay.row_c, ref, lay))
+    return np.einsum("ws,sn->wn", lay.row_w, conc), d_x, d_ad, ceff
 
 
 def padded_fractions(alpha: np.ndarray, lay: Layout) -> np.ndarray:

@@ -22,7 +22,6 @@ from carboy.model.solver.constants import (
     COUPLED_NEAR,
     F_TOL,
     I_RTOL,
-    LN10,
     QUADRATIC_STEP,
 )
 from carboy.model.solver.problem import Problem
@@ -34,13 +33,14 @@ TAIL_POINTS = 8
 finishes them (numpy's per-call cost would dominate a vectorized step)."""
 
 
-def _newton_2x2(mo, ia, dd, h, oh, pos, neg, big_f, f_x, g):
-    """The step (dx, I_new, I settled?) with Davies coefficients (``dd`` = d(AD)/dI):
-    the exact 2×2 step near the root, the plain step in x at a held I far from it, and
-    the plain update g of I where the 2×2 step of I is not trusted."""
-    f_i = (mo["apos"] / pos - (2 * LN10 * oh + mo["aneg"]) / neg) * dd
-    g_x = 0.5 * (LN10 * (h - oh) + mo["diz2"])
-    g_i = 0.5 * (2 * LN10 * oh + mo["aiz2"]) * dd - 1.0
+def _newton_2x2(d_ad, dz_x, ia, dd, pos, neg, big_f, f_x, g):
+    """The step (dx, I_new, I settled?) with Davies coefficients (``dd`` = d(AD)/dI,
+    ``d_ad`` the charge sums' A·D-derivatives, ``dz_x`` that of Σ c z² in x): the exact
+    2×2 step near the root, the plain step in x at a held I far from it, and the plain
+    update g of I where the 2×2 step of I is not trusted."""
+    f_i = (d_ad[0] / pos - d_ad[1] / neg) * dd
+    g_x = 0.5 * dz_x
+    g_i = 0.5 * d_ad[2] * dd - 1.0
     res_g = g - ia
     det = f_x * g_i - f_i * g_x
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -49,15 +49,14 @@ def _newton_2x2(mo, ia, dd, h, oh, pos, neg, big_f, f_x, g):
     # far from the root the coupled step can cycle: there, take the plain Newton
     # step in x at a held I; near it, the exact 2x2 step (or, if that fails,
     # the plain step with the plain update of I)
-    far = np.abs(big_f / f_x) > COUPLED_NEAR
+    plain = -big_f / f_x
+    far = np.abs(plain) > COUPLED_NEAR
     # ...and an ionic-strength step far from the plain update g is not trusted
-    bad = far | ~(np.isfinite(dx) & np.isfinite(di) & (ia + di > 0.5 * g)
-                  & (ia + di < 2.0 * g))
+    inew = ia + di
+    bad = far | ~(np.isfinite(dx) & (inew > 0.5 * g) & (inew < 2.0 * g))
     if bad.any():
-        dx = np.where(bad, -big_f / f_x, dx)
-        inew = np.where(far, ia, np.where(bad, g, ia + di))
-    else:
-        inew = ia + di
+        dx = np.where(bad, plain, dx)
+        inew = np.where(far, ia, np.where(bad, g, inew))
     i_ok = np.abs(inew - ia) <= I_RTOL * np.maximum(inew, 1e-12)
     return dx, inew, i_ok
 
@@ -69,19 +68,21 @@ def _newton_step(pr: Problem, xa, ia):
     I is the plain update g and I counts as settled.
     """
     davies = pr.a_dh != 0.0
-    d, slope = davies_d_and_slope(ia)
-    ad = pr.a_dh * d
-    log_kw = 2.0 * ad - pr.pkw
-    mo = moments(xa, ad if davies else None, pr.lay, pr.am, want_jac=davies)
-    h = np.exp(xa * LN10)
-    oh = np.exp((log_kw - xa) * LN10)
-    pos = h + pr.zs_pos + mo["pos"]
-    neg = oh + pr.zs_neg + mo["neg"]
-    big_f = np.log(pos / neg)
-    f_x = (LN10 * h + mo["dpos"]) / pos + (LN10 * oh - mo["dneg"]) / neg
-    g = pr.ispec + 0.5 * (h + oh + mo["iz2"])
     if davies:
-        dx, inew, i_ok = _newton_2x2(mo, ia, pr.a_dh * slope, h, oh, pos, neg, big_f, f_x, g)
+        d, slope = davies_d_and_slope(ia)
+        ad = pr.a_dh * d
+        log_kw = 2.0 * ad - pr.pkw
+    else:
+        ad, log_kw = None, np.full(xa.shape, -pr.pkw)
+    sums, d_x, d_ad, _ = moments(xa, ad, log_kw, pr.lay, pr.am, want_jac=davies)
+    pos = sums[0] + pr.zs_pos
+    neg = sums[1] + pr.zs_neg
+    big_f = np.log(pos / neg)
+    f_x = d_x[0] / pos - d_x[1] / neg
+    g = pr.ispec + 0.5 * sums[2]
+    if davies:
+        dx, inew, i_ok = _newton_2x2(d_ad, d_x[2], ia, pr.a_dh * slope, pos, neg, big_f,
+                                     f_x, g)
     else:
         dx = -big_f / f_x
         inew = g

@@ -32,7 +32,7 @@ ENTHALPY_DATA_MAX_C = 77.0
 """Upper end (350 K) of the range the ionization enthalpies were fitted over
 (Goldberg, Kishore & Lennen 2002); beyond it pKa(T) is an extrapolation."""
 
-CHUNK_BYTES = 120_000
+CHUNK_BYTES = 256_000
 """The vectorized paths work through a batch in blocks whose (states, points) arrays
 stay below this size: larger temporaries come from fresh pages of memory on every
 allocation (each page then costs a fault), and stay out of the fastest caches."""
@@ -81,14 +81,18 @@ class Layout:
     flat_lb0: np.ndarray          # (S,) log beta0
     flat_c: np.ndarray            # (S,) cmat
     flat_j: np.ndarray            # (S,) protons lost from the top state
-    flat_zp: np.ndarray           # (S,) z+ of each state
-    flat_zn: np.ndarray           # (S,) z- of each state (magnitude)
-    flat_z2: np.ndarray           # (S,) z²
     flat_sys: np.ndarray          # (S,) the system each state belongs to
     flat_index: np.ndarray        # (S,) position of each state in the padded (K*M) order
     sys_slices: tuple             # per system, (first, end) of its states in the flat order
     jj: np.ndarray                # (M,) 0, 1, ..., M-1: protons lost from the top state
-    pad_rows: np.ndarray          # (K*M,) flat row of each padded state (S: a row of zeros)
+    pad_rows: np.ndarray          # (K*M,) flat row of each padded state (S + 2: zeros)
+    # the rows of the charge sums: the S states, then H+ and OH- (see charge_balance)
+    row_sys: np.ndarray           # (S+2,) the system of each row (K for H+ and OH-)
+    row_j: np.ndarray             # (S+2,) j, and -1 for H+, 1 for OH-
+    row_c: np.ndarray             # (S+2,) cmat, and 0 for H+, -1 for OH-
+    row_w: np.ndarray             # (3, S+2) z+, z-, z² of each row
+    row_w_dx: np.ndarray          # (3, S+2) -ln10 times row_w (x-derivatives)
+    row_w_dad: np.ndarray         # (3, S+2) -2 ln10 times row_w (A·D-derivatives)
     chunk: int                    # points per block of the vectorized paths (see CHUNK_BYTES)
     py_systems: tuple             # the same, as Python tuples, for the one-solution path
     py_ions: tuple
@@ -200,19 +204,30 @@ def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layo
         ion_labels=tuple(pt.ion_labels), charge_map=MappingProxyType(pt.charge_map), zmax=zmax,
         needs_shift=_needs_shift(logk, m), logbeta0=lb0, cmat=cmat,
         flat_lb0=lb0[valid], flat_c=cmat[valid], flat_j=np.broadcast_to(jj, (k, m))[valid],
-        flat_zp=np.maximum(z, 0.0)[valid], flat_zn=np.maximum(-z, 0.0)[valid],
-        flat_z2=(z ** 2)[valid], flat_sys=np.broadcast_to(np.arange(k)[:, None], (k, m))[valid],
+        flat_sys=np.broadcast_to(np.arange(k)[:, None], (k, m))[valid],
         flat_index=np.flatnonzero(valid.reshape(-1)), sys_slices=_slices(valid),
-        jj=jj, pad_rows=_pad_rows(valid), chunk=max(64, CHUNK_BYTES // (8 * (int(valid.sum()) + 1))),
+        jj=jj, pad_rows=_pad_rows(valid), **_rows(z, valid, cmat), chunk=max(64, CHUNK_BYTES // (8 * (int(valid.sum()) + 1))),
         py_systems=_python_systems(pt.sys_cols, zs, lb0, cmat),
         py_ions=tuple(zip(pt.ion_cols, (float(v) for v in pt.ion_z))),
     )
 
 
+def _rows(z: np.ndarray, valid: np.ndarray, cmat: np.ndarray) -> dict:
+    """The rows of the charge sums: every valid state, then H+ and OH-."""
+    k, m = z.shape
+    zs = np.r_[z[valid], 1.0, -1.0]
+    w = np.stack([np.maximum(zs, 0.0), np.maximum(-zs, 0.0), zs ** 2])
+    return {"row_sys": np.r_[np.broadcast_to(np.arange(k)[:, None], (k, m))[valid], k, k],
+            "row_j": np.r_[np.broadcast_to(np.arange(m, dtype=float), (k, m))[valid], -1.0, 1.0],
+            "row_c": np.r_[cmat[valid], 0.0, -1.0], "row_w": w, "row_w_dx": -LN10 * w,
+            "row_w_dad": -2.0 * LN10 * w}
+
+
 def _pad_rows(valid: np.ndarray) -> np.ndarray:
-    """For each padded (K*M) state, its row in the flat order, or S (the zero row)."""
+    """For each padded (K*M) state, its row in the flat order, or S + 2 (the zero row
+    after H+ and OH-, see ``charge_balance.state_weights``)."""
     flat = valid.reshape(-1)
-    rows = np.full(flat.shape[0], int(flat.sum()), dtype=np.intp)
+    rows = np.full(flat.shape[0], int(flat.sum()) + 2, dtype=np.intp)
     rows[flat] = np.arange(int(flat.sum()))
     return rows
 

@@ -27,21 +27,21 @@ def cubic_between(at: np.ndarray, nodes: np.ndarray, *columns: np.ndarray) -> li
     ``CUBIC_TRUST`` of the straight line between the two neighbours, the line
     elsewhere."""
     m = nodes.shape[0]
+    at = np.asarray(at, dtype=float)
     lines = [np.interp(at, nodes, v) for v in columns]
     if m < 4:
         return lines
     first = np.clip(np.searchsorted(nodes, at) - 2, 0, m - 4)
-    rows = first[:, None] + np.arange(4)
-    p = nodes[rows].astype(float)                       # (n, 4) the four nodes
-    d = np.asarray(at, dtype=float)[:, None] - p
-    w = np.empty_like(p)                                # Lagrange weights
-    for k in range(4):
-        others = [q for q in range(4) if q != k]
-        w[:, k] = (d[:, others].prod(axis=1)
-                   / (p[:, k:k + 1] - p[:, others]).prod(axis=1))
+    p = [nodes[first + k].astype(float) for k in range(4)]   # the four nodes
+    d = [at - pk for pk in p]
+    # Lagrange weights: w_k = prod_(q != k) (at - p_q) / (p_k - p_q)
+    w = [d[(k + 1) % 4] * d[(k + 2) % 4] * d[(k + 3) % 4]
+         / ((p[k] - p[(k + 1) % 4]) * (p[k] - p[(k + 2) % 4]) * (p[k] - p[(k + 3) % 4]))
+         for k in range(4)]
     out = []
     for v, line in zip(columns, lines):
-        cubic = np.einsum("nk,nk->n", w, v[rows])
+        cubic = (w[0] * v[first] + w[1] * v[first + 1] + w[2] * v[first + 2]
+                 + w[3] * v[first + 3])
         out.append(np.where(np.abs(cubic - line) <= CUBIC_TRUST, cubic, line))
     return out
 
