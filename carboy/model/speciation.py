@@ -40,6 +40,7 @@ A. V. Bandura and S. N. Lvov, J. Phys. Chem. Ref. Data 35, 15 (2006).
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -451,13 +452,13 @@ def _warning_texts(high_i: bool, bad: bool, hot: bool, activity: str) -> tuple[s
 
 def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixture) -> Speciation:
     """Species, fractions and coefficients of one solved solution."""
+    exp = math.exp
     ad = a_dh * davies_d_float(ionic)
     tad = 2.0 * ad
     h = 10.0 ** x
     oh = 10.0 ** (tad - pkw - x)
     species: dict[str, float] = {"H+": h, "OH-": oh}
-    pos, neg = h, oh
-    ionic_ideal = 0.5 * (h + oh)
+    pos, neg, iz2 = h, oh, h + oh
     for (col, z), label in zip(lay.py_ions, lay.ion_labels):
         c = row[col]
         species[label] = species.get(label, 0.0) + c
@@ -465,26 +466,27 @@ def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixtur
             pos += z * c
         else:
             neg -= z * c
-        ionic_ideal += 0.5 * z * z * c
+        iz2 += z * z * c
     fractions = {}
+    xl, tl = x * LN10, tad * LN10
     for (col, states, _, _, _), key, labels in zip(lay.py_systems, lay.sys_keys,
                                                    lay.sys_labels):
-        e = [10.0 ** (lb0 - tad * cc - st * x) for lb0, cc, st, _, _, _ in states]
-        tot = sum(e)
-        fr = {lab: v / tot for lab, v in zip(labels, e)}
-        fractions[key] = MappingProxyType(fr)
+        es = [exp(lb0 * LN10 - tl * cc - st * xl) for lb0, cc, st, _, _, _ in states]
+        inv = 1.0 / sum(es)
+        fr = [e * inv for e in es]
+        fractions[key] = MappingProxyType(dict(zip(labels, fr)))
         ctot = row[col]
-        for (_, _, _, zp, zn, z2), lab in zip(states, labels):
-            c = ctot * fr[lab]
+        for (_, _, _, zp, zn, z2), lab, f in zip(states, labels, fr):
+            c = ctot * f
             species[lab] = species.get(lab, 0.0) + c
             pos += zp * c
             neg += zn * c
-            ionic_ideal += 0.5 * z2 * c
+            iz2 += z2 * c
     by_z = [10.0 ** (-ad * z * z) for z in range(lay.zmax + 1)]
     charge = lay.charge_map
     coeff = {lab: by_z[abs(charge[lab])] for lab in species}
     if a_dh == 0.0:
-        ionic = ionic_ideal
+        ionic = 0.5 * iz2
     warnings = _warning_texts(ionic > DAVIES_LIMIT_MOLAR, False, t_c > ENTHALPY_DATA_MAX_C,
                               activity)
     return Speciation(

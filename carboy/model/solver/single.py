@@ -69,6 +69,9 @@ def _sums(systems, x: float, tad: float):
             _general(acc, ctot, states, hold, x, tad)
             continue
         sign, t, ladder = fast
+        if hold is None and len(ladder) == 1:
+            _two_states(acc, ctot, sign, t, ladder[0], tad, xl)
+            continue
         e_ref = 1.0   # e of the held state (the first state's e is 1)
         if len(ladder) == 1:  # two states: every moment of j is the fraction p of the second
             lb, cl, _, _, _, _, _ = ladder[0]
@@ -97,6 +100,23 @@ def _sums(systems, x: float, tad: float):
         else:  # the total follows x: C = F·S/e_ref, and j0, c0 replace jbar, cbar
             _held_form(acc, hold, hold[2] * p0 / e_ref, sign, t, m1, m2, v, u3, u4)
     return acc
+
+
+def _two_states(acc, c, sign, t, state, tad: float, xl: float):
+    """:func:`_closed_form` for a system of two states: every moment of j is then the
+    fraction p of the second state and v = u3 = u4 = p (1 - p)."""
+    lb, cl, _, _, _, _, _ = state
+    e = math.exp(lb - tad * cl - xl)
+    p = e / (1.0 + e)
+    lcv = LN10 * c * p * (1.0 - p)
+    k1 = 1.0 - 2.0 * t
+    side = 0 if sign > 0 else 1
+    acc[side] += sign * c * (t - p)
+    acc[2 + side] += sign * lcv
+    acc[4] += c * (t * t + p * k1)
+    acc[5] -= lcv * k1
+    acc[6 + side] -= sign * lcv * (k1 + 1.0)
+    acc[8] += lcv * (k1 * k1 - 2.0 * t + 1.0)
 
 
 def _held_form(acc, hold, c, sign, t, m1, m2, v, u3, u4):
