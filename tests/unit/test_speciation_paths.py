@@ -9,6 +9,7 @@ import numpy as np
 import pytest
 
 import carboy.model.speciation as sp
+from carboy.errors import InvalidInput
 from carboy.model.entities import System
 from carboy.model.mixture import Mixture, MixtureBatch
 
@@ -94,3 +95,54 @@ def test_closed_forms_equal_the_general_sums(catalog, held):
             fast_sums = single._sums(systems, x, tad)
             slow_sums = single._sums(general, x, tad)
             assert fast_sums == pytest.approx(slow_sums, rel=1e-10, abs=1e-300)
+
+
+def _curve(catalog, points):
+    from carboy.model.mixture import titration_batch
+
+    mix = Mixture.from_compounds([(catalog.compound(n), c) for n, c in CASES[0]], volume_l=1.0)
+    return titration_batch(mix, {"Na+": 1.0}, np.linspace(0.0, 0.08, points), 0.0)[0]
+
+
+@pytest.mark.parametrize("activity", ["davies", "ideal"])
+def test_warm_started_curve_equals_point_by_point(catalog, activity):
+    # a long batch is solved coarse to fine (each point from its neighbours' roots);
+    # the start never changes a result beyond the tolerances
+    batch = _curve(catalog, 300)
+    res = sp.speciate_batch(batch, activity=activity, catalog=catalog)
+    assert res.converged.all()
+    for i in range(0, 300, 37):
+        one = sp.speciate(batch.mixture(i), activity=activity, catalog=catalog)
+        assert float(res.pH[i]) == pytest.approx(one.pH, abs=1e-9)
+
+
+def test_blocks_and_starts_change_nothing(catalog):
+    import dataclasses
+
+    batch = _curve(catalog, 250)
+    lay = sp.cached_layout(catalog, batch.keys, 25.0)
+    whole = sp._solve(batch, lay, "davies", 25.0)
+    blocks = sp._solve(batch, dataclasses.replace(lay, chunk=64), "davies", 25.0)
+    np.testing.assert_allclose(blocks.pH, whole.pH, atol=1e-10)
+    np.testing.assert_allclose(blocks.species_molar, whole.species_molar, rtol=1e-8,
+                               atol=1e-300)
+    # from given starts, near or far (NaN: none), the same roots
+    for start in (whole, (whole.log_h + 0.3, whole.ionic_strength_molar * 1.1),
+                  (np.where(np.arange(250) % 3 == 0, np.nan, whole.log_h),
+                   whole.ionic_strength_molar)):
+        again = sp.speciate_batch(batch, catalog=catalog, start=start)
+        np.testing.assert_allclose(again.pH, whole.pH, atol=1e-10)
+    with pytest.raises(InvalidInput):
+        sp.speciate_batch(batch, catalog=catalog, start=(whole.log_h[:5], whole.log_h[:5]))
+
+
+def test_start_along_returns_the_roots_at_the_nodes(catalog):
+    batch = _curve(catalog, 40)
+    res = sp.speciate_batch(batch, catalog=catalog)
+    nodes = np.arange(40.0)
+    x0, i0 = sp.start_along(nodes, nodes, res)
+    np.testing.assert_allclose(x0, res.log_h, atol=1e-12)
+    np.testing.assert_allclose(i0, res.ionic_strength_molar, rtol=1e-12)
+    mid, _ = sp.start_along(nodes[:-1] + 0.5, nodes, res)
+    assert np.all((mid >= np.minimum(res.log_h[:-1], res.log_h[1:]) - 0.05)
+                  & (mid <= np.maximum(res.log_h[:-1], res.log_h[1:]) + 0.05))
