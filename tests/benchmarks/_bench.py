@@ -50,12 +50,27 @@ def interleaved(sides: dict[str, Callable[[], object]], rounds: int) -> dict[str
 def peak_rss_mb(module: str, function: str, *args) -> float:
     """Peak resident memory (MB) of a fresh process that runs ``module.function(*args)``
     once (its setup and its work)."""
-    code = (f"import sys, resource, json; sys.path.insert(0, {str(HERE)!r}); "
+    code = (f"import sys, json; sys.path.insert(0, {str(HERE)!r}); import _bench; "
             f"import {module} as m; m.{function}(*json.loads(sys.argv[1])); "
-            "print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)")
+            "print(_bench.own_peak_kb())")
     out = subprocess.run([sys.executable, "-c", code, json.dumps(list(args))],
                          capture_output=True, text=True, check=True)
     return int(out.stdout.split()[-1]) / 1024.0
+
+
+def own_peak_kb() -> int:
+    """This process's peak resident memory in kB: VmHWM, which starts afresh at exec
+    (getrusage's ru_maxrss would carry the parent's peak into a fresh child)."""
+    try:
+        with open("/proc/self/status", encoding="ascii") as f:
+            for line in f:
+                if line.startswith("VmHWM:"):
+                    return int(line.split()[1])
+    except OSError:
+        pass
+    import resource
+
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
 
 
 @dataclass(frozen=True)
