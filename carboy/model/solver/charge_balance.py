@@ -27,6 +27,11 @@ from carboy.model.solver.constants import LN10
 from carboy.model.solver.layout import Layout
 from carboy.model.solver.problem import Amounts
 
+try:  # numpy's own loop behind np.einsum, without the Python wrapper (a call per step)
+    from numpy._core._multiarray_umath import c_einsum as _einsum
+except ImportError:  # pragma: no cover - another numpy layout
+    _einsum = np.einsum
+
 _WORK = threading.local()
 
 
@@ -79,10 +84,10 @@ def group_sums(e: np.ndarray, lay: Layout):
     """Each system's sums over its states of e, j·e and cmat·e: three (K, N) arrays."""
     k, m = lay.z.shape
     pad = _buffer("pad", k * m, e.shape[1])
-    np.take(e, lay.pad_rows, axis=0, out=pad)
+    e.take(lay.pad_rows, axis=0, out=pad)
     e3 = pad.reshape(k, m, e.shape[1])
-    return (e3.sum(axis=1), np.einsum("m,kmn->kn", lay.jj, e3),
-            np.einsum("km,kmn->kn", lay.cmat, e3))
+    return (e3.sum(axis=1), _einsum("m,kmn->kn", lay.jj, e3),
+            _einsum("km,kmn->kn", lay.cmat, e3))
 
 
 def _concentrations(x, ad, log_kw, lay: Layout, am: Amounts):
@@ -99,7 +104,7 @@ def _concentrations(x, ad, log_kw, lay: Layout, am: Amounts):
         with np.errstate(divide="ignore", invalid="ignore"):
             ceff = np.where(am.mask[:, None], am.held * s0 / e[am.e0_col], am.c)
     conc = _buffer("conc", s + 2, e.shape[1])
-    np.take(ceff / s0, lay.flat_sys, axis=0, out=conc[:s])
+    (ceff / s0).take(lay.flat_sys, axis=0, out=conc[:s])
     conc[:s] *= e[:s]
     conc[s:] = e[s:s + 2]
     return e, sums, ceff, conc
@@ -110,7 +115,7 @@ def _deviation(conc: np.ndarray, weights: np.ndarray, ref: np.ndarray, lay: Layo
     (K + 1, N) per system (its mean, or a held state's value; 0 in the last row, for H+
     and OH-), in the work array ``dev``."""
     out = _buffer("dev", *conc.shape)
-    np.take(ref, lay.row_sys, axis=0, out=out)
+    ref.take(lay.row_sys, axis=0, out=out)
     np.subtract(weights[:, None], out, out=out)
     out *= conc
     return out
@@ -121,7 +126,7 @@ def species_at(x, ad, log_kw, lay: Layout, am: Amounts):
     (K, N), and the (S, N) ``conc`` and fractions ``alpha`` of every state."""
     e, sums, ceff, conc = _concentrations(x, ad, log_kw, lay, am)
     s = lay.flat_j.shape[0]
-    return {"sums": np.einsum("ws,sn->wn", lay.row_w, conc), "ceff": ceff,
+    return {"sums": _einsum("ws,sn->wn", lay.row_w, conc), "ceff": ceff,
             "conc": conc[:s], "alpha": e[:s] / sums[0][lay.flat_sys]}
 
 
@@ -156,14 +161,14 @@ def moments(x, ad, log_kw, lay: Layout, am: Amounts, want_jac: bool = False):
     np.divide(s_j, s0, out=ref[:k])
     if am.held is not None:
         ref[:k] = np.where(am.mask[:, None], am.j0[:, None], ref[:k])
-    d_x = np.einsum("ws,sn->wn", lay.row_w_dx, _deviation(conc, lay.row_j, ref, lay))
+    d_x = _einsum("ws,sn->wn", lay.row_w_dx, _deviation(conc, lay.row_j, ref, lay))
     d_ad = None
     if want_jac:
         np.divide(s_c, s0, out=ref[:k])
         if am.held is not None:
             ref[:k] = np.where(am.mask[:, None], am.c0[:, None], ref[:k])
-        d_ad = np.einsum("ws,sn->wn", lay.row_w_dad, _deviation(conc, lay.row_c, ref, lay))
-    return np.einsum("ws,sn->wn", lay.row_w, conc), d_x, d_ad, ceff
+        d_ad = _einsum("ws,sn->wn", lay.row_w_dad, _deviation(conc, lay.row_c, ref, lay))
+    return _einsum("ws,sn->wn", lay.row_w, conc), d_x, d_ad, ceff
 
 
 def padded_fractions(alpha: np.ndarray, lay: Layout) -> np.ndarray:

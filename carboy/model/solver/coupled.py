@@ -94,6 +94,10 @@ def _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi):
     """Where F was seen negative / positive while I stayed the same: a step leaving
     that interval is replaced by its midpoint (plain Newton can cycle on a buffer
     plateau); the memory is dropped whenever I moves.  Returns (xn, seen_lo, seen_hi)."""
+    if not held_i.any():   # I moved everywhere: nothing to remember
+        seen_lo.fill(-np.inf)
+        seen_hi.fill(np.inf)
+        return xn, seen_lo, seen_hi
     seen_lo = np.where(held_i, np.where(big_f < 0, np.maximum(seen_lo, xa), seen_lo), -np.inf)
     seen_hi = np.where(held_i, np.where(big_f > 0, np.minimum(seen_hi, xa), seen_hi), np.inf)
     guard = ((xn <= seen_lo) | (xn >= seen_hi)) & np.isfinite(seen_lo) & np.isfinite(seen_hi)
@@ -132,11 +136,11 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
     for it in range(1, max_iter + 1):  # noqa: B007 (used after the loop)
         big_f, dx, inew, i_ok, log_kw = _newton_step(cur, xa, ia)
         if cur.open_system:  # the totals do not bound a held system: keep steps moderate
-            xn = xa + np.clip(dx, -3.0, 3.0)
+            xn = xa + np.minimum(np.maximum(dx, -3.0), 3.0)
         else:
             lo, hi = cur.bounds(log_kw)
-            xn = np.clip(xa + dx, lo, hi)
-        held_i = (inew == ia) | (not davies)
+            xn = np.minimum(np.maximum(xa + dx, lo), hi)
+        held_i = (inew == ia) if davies else np.ones(xa.shape, dtype=bool)
         xn, seen_lo, seen_hi = _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi)
         # accept on the Newton step itself, and keep that step (never a clipped or
         # guarded one) as the answer
