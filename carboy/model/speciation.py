@@ -41,6 +41,7 @@ A. V. Bandura and S. N. Lvov, J. Phys. Chem. Ref. Data 35, 15 (2006).
 from __future__ import annotations
 
 import math
+import operator
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -457,16 +458,7 @@ def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixtur
     tad = 2.0 * ad
     h = 10.0 ** x
     oh = 10.0 ** (tad - pkw - x)
-    species: dict[str, float] = {"H+": h, "OH-": oh}
-    pos, neg, iz2 = h, oh, h + oh
-    for (col, z), label in zip(lay.py_ions, lay.ion_labels):
-        c = row[col]
-        species[label] = species.get(label, 0.0) + c
-        if z > 0:
-            pos += z * c
-        else:
-            neg -= z * c
-        iz2 += z * z * c
+    values = [h, oh, *(row[col] for col, _ in lay.py_ions)]
     fractions = {}
     xl, tl = x * LN10, tad * LN10
     for (col, states, _, _, _), key, labels in zip(lay.py_systems, lay.sys_keys,
@@ -476,22 +468,26 @@ def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixtur
         fr = [e * inv for e in es]
         fractions[key] = MappingProxyType(dict(zip(labels, fr)))
         ctot = row[col]
-        for (_, _, _, zp, zn, z2), lab, f in zip(states, labels, fr):
-            c = ctot * f
-            species[lab] = species.get(lab, 0.0) + c
-            pos += zp * c
-            neg += zn * c
-            iz2 += z2 * c
+        values.extend([ctot * f for f in fr])
+    labels, charges = lay.py_species
+    residual = math.fsum(map(operator.mul, charges, values))
+    if a_dh == 0.0:
+        ionic = 0.5 * sum(z * z * v for z, v in zip(charges, values))
     by_z = [10.0 ** (-ad * z * z) for z in range(lay.zmax + 1)]
+    if len(set(labels)) == len(labels):
+        species = dict(zip(labels, values))
+    else:  # a label two components share (Na+ from two salts) is summed
+        species = {}
+        for lab, v in zip(labels, values):
+            species[lab] = species.get(lab, 0.0) + v
     charge = lay.charge_map
     coeff = {lab: by_z[abs(charge[lab])] for lab in species}
-    if a_dh == 0.0:
-        ionic = 0.5 * iz2
     warnings = _warning_texts(ionic > DAVIES_LIMIT_MOLAR, False, t_c > ENTHALPY_DATA_MAX_C,
                               activity)
     return Speciation(
         pH=ad - x, h_molar=h, oh_molar=oh, pkw=pkw, species=MappingProxyType(species),
         fractions=MappingProxyType(fractions), activity_coefficients=MappingProxyType(coeff),
         ionic_strength_molar=ionic, temperature_c=t_c, activity=activity, warnings=warnings,
-        converged=True, iterations=iterations, charge_residual_molar=pos - neg, mixture=mixture,
+        converged=True, iterations=iterations, charge_residual_molar=residual,
+        mixture=mixture,
     )

@@ -96,6 +96,7 @@ class Layout:
     chunk: int                    # points per block of the vectorized paths (see CHUNK_BYTES)
     py_systems: tuple             # the same, as Python tuples, for the one-solution path
     py_ions: tuple
+    py_species: tuple             # (labels, charges): H+, OH-, the ions, every state
 
 
 def resolve(catalog, key: str) -> System | Ion:
@@ -209,7 +210,15 @@ def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layo
         jj=jj, pad_rows=_pad_rows(valid), **_rows(z, valid, cmat), chunk=max(64, CHUNK_BYTES // (8 * (int(valid.sum()) + 1))),
         py_systems=_python_systems(pt.sys_cols, zs, lb0, cmat),
         py_ions=tuple(zip(pt.ion_cols, (float(v) for v in pt.ion_z))),
+        py_species=_species(pt),
     )
+
+
+def _species(pt: _Parts) -> tuple:
+    """(labels, charges) of H+, OH-, the spectator ions and every state, in that order
+    (a label may repeat: Na+ from two salts)."""
+    labels = ("H+", "OH-", *pt.ion_labels, *(lab for labs in pt.sys_labels for lab in labs))
+    return labels, tuple(pt.charge_map[lab] for lab in labels)
 
 
 def _rows(z: np.ndarray, valid: np.ndarray, cmat: np.ndarray) -> dict:

@@ -70,7 +70,20 @@ def _sums(systems, x: float, tad: float):
             continue
         sign, t, ladder = fast
         if hold is None and len(ladder) == 1:
-            _two_states(acc, ctot, sign, t, ladder[0], tad, xl)
+            # two states: every moment of j is the fraction p of the second state and
+            # v = u3 = u4 = p (1 - p); _closed_form written out for them (the hot path)
+            lb, cl = ladder[0][0], ladder[0][1]
+            e = exp(lb - tad * cl - xl)
+            p = e / (1.0 + e)
+            lcv = LN10 * ctot * p * (1.0 - p)
+            k1 = 1.0 - 2.0 * t
+            side = 0 if sign > 0 else 1
+            acc[side] += sign * ctot * (t - p)
+            acc[2 + side] += sign * lcv
+            acc[4] += ctot * (t * t + p * k1)
+            acc[5] -= lcv * k1
+            acc[6 + side] -= sign * lcv * (k1 + 1.0)
+            acc[8] += lcv * (k1 * k1 - 2.0 * t + 1.0)
             continue
         e_ref = 1.0   # e of the held state (the first state's e is 1)
         if len(ladder) == 1:  # two states: every moment of j is the fraction p of the second
@@ -100,23 +113,6 @@ def _sums(systems, x: float, tad: float):
         else:  # the total follows x: C = F·S/e_ref, and j0, c0 replace jbar, cbar
             _held_form(acc, hold, hold[2] * p0 / e_ref, sign, t, m1, m2, v, u3, u4)
     return acc
-
-
-def _two_states(acc, c, sign, t, state, tad: float, xl: float):
-    """:func:`_closed_form` for a system of two states: every moment of j is then the
-    fraction p of the second state and v = u3 = u4 = p (1 - p)."""
-    lb, cl, _, _, _, _, _ = state
-    e = math.exp(lb - tad * cl - xl)
-    p = e / (1.0 + e)
-    lcv = LN10 * c * p * (1.0 - p)
-    k1 = 1.0 - 2.0 * t
-    side = 0 if sign > 0 else 1
-    acc[side] += sign * c * (t - p)
-    acc[2 + side] += sign * lcv
-    acc[4] += c * (t * t + p * k1)
-    acc[5] -= lcv * k1
-    acc[6 + side] -= sign * lcv * (k1 + 1.0)
-    acc[8] += lcv * (k1 * k1 - 2.0 * t + 1.0)
 
 
 def _held_form(acc, hold, c, sign, t, m1, m2, v, u3, u4):
@@ -244,6 +240,7 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
     systems, zs_pos, zs_neg, ispec, q, p = _inputs(lay, row, held)
     spectators = (zs_pos, zs_neg, ispec)
     davies = a_dh != 0.0
+    lo_below, hi = math.log10(p + 1.0) + 1e-3, math.log10(q + 1.0) + 1e-3
     x = -7.0 if x0 is None else x0
     ionic = ispec + 1e-7 if i0 is None else max(i0, 1e-12)
     seen_lo, seen_hi = -math.inf, math.inf
@@ -260,8 +257,7 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
         if held:
             xn = min(max(x + dx, -20.0), 4.0)
         else:
-            xn = min(max(x + dx, log_kw - math.log10(p + 1.0) - 1e-3),
-                     math.log10(q + 1.0) + 1e-3)
+            xn = min(max(x + dx, log_kw - lo_below), hi)
         # the bisection guard of coupled._plateau_guard
         if inew == ionic or not davies:
             if big_f < 0:
