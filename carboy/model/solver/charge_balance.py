@@ -84,7 +84,8 @@ def group_sums(e: np.ndarray, lay: Layout):
     """Each system's sums over its states of e, j·e and cmat·e: three (K, N) arrays."""
     k, m = lay.z.shape
     pad = _buffer("pad", k * m, e.shape[1])
-    e.take(lay.pad_rows, axis=0, out=pad)
+    # mode="clip" (the rows are valid anyway): "raise" would first take into a copy
+    e.take(lay.pad_rows, axis=0, out=pad, mode="clip")
     e3 = pad.reshape(k, m, e.shape[1])
     return (e3.sum(axis=1), _einsum("m,kmn->kn", lay.jj, e3),
             _einsum("km,kmn->kn", lay.cmat, e3))
@@ -104,7 +105,7 @@ def _concentrations(x, ad, log_kw, lay: Layout, am: Amounts):
         with np.errstate(divide="ignore", invalid="ignore"):
             ceff = np.where(am.mask[:, None], am.held * s0 / e[am.e0_col], am.c)
     conc = _buffer("conc", s + 2, e.shape[1])
-    (ceff / s0).take(lay.flat_sys, axis=0, out=conc[:s])
+    (ceff / s0).take(lay.flat_sys, axis=0, out=conc[:s], mode="clip")
     conc[:s] *= e[:s]
     conc[s:] = e[s:s + 2]
     return e, sums, ceff, conc
@@ -115,7 +116,7 @@ def _deviation(conc: np.ndarray, weights: np.ndarray, ref: np.ndarray, lay: Layo
     (K + 1, N) per system (its mean, or a held state's value; 0 in the last row, for H+
     and OH-), in the work array ``dev``."""
     out = _buffer("dev", *conc.shape)
-    ref.take(lay.row_sys, axis=0, out=out)
+    ref.take(lay.row_sys, axis=0, out=out, mode="clip")
     np.subtract(weights[:, None], out, out=out)
     out *= conc
     return out
