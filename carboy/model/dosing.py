@@ -47,6 +47,8 @@ class Dosing:
     fresh_loss: LossFunction | None
     s_air: float | None
     pco2_atm: float | None
+    grid_air: gas.State | None = field(default=None, repr=False, compare=False)
+    """The state open to air at every amount of ``grid`` (None without carbonate)."""
     seen: dict = field(default_factory=dict, repr=False, compare=False)
     """amount (mol) -> (CO2 lost right after adding it, carbonate kept once vented), as
     worked out for a batch (``co2_lost_mol`` reads it back)."""
@@ -94,7 +96,10 @@ class Dosing:
         start = None
         vented = np.broadcast_to(np.asarray(vented, dtype=bool), n.shape)
         if vented.any():
-            air = self.model.forward(n, co2_molar=self.s_air, start=air_start)
+            on_grid = (self.grid_air is not None and n.shape == self.grid.shape
+                       and np.array_equal(n, self.grid))
+            air = self.grid_air if on_grid else self.model.forward(n, co2_molar=self.s_air,
+                                                                    start=air_start)
             at_air = air.carbonate_molar() * air.volume_l
             exact = vented & (at_air <= kept)   # these points are the state open to air
             kept = np.where(vented, np.minimum(kept, at_air), kept)
@@ -142,15 +147,17 @@ def find_doses(model: gas.TitrationModel, composition: Mapping[str, float], l_pe
         span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[doses, 0.0]))
         span = span if span > 0 else 1e-6
         grid = np.linspace(0.0, span, points)
-        fresh_loss = None
+        fresh_loss = grid_air = None
     else:
-        doses, grid, fresh_loss = _vented_doses(model, targets, n_full, s_sat, s_air, points)
+        doses, grid, fresh_loss, grid_air = _vented_doses(model, targets, n_full, s_sat,
+                                                          s_air, points)
     # doses on the wrong side of the start are unreachable in this direction
     for i, ph_i in enumerate(targets):
         if (direction == "base" and ph_i <= initial_pH) or (
                 direction == "acid" and ph_i >= initial_pH):
             doses[i] = 0.0
-    return Dosing(model, composition, l_per_mol, doses, grid, fresh_loss, s_air, pco2)
+    return Dosing(model, composition, l_per_mol, doses, grid, fresh_loss, s_air, pco2,
+                  grid_air=grid_air)
 
 
 def fresh_loss_function(model: gas.TitrationModel, grid: np.ndarray,
@@ -160,7 +167,20 @@ def fresh_loss_function(model: gas.TitrationModel, grid: np.ndarray,
     CO2(aq) beyond ``s_sat`` leaves as it forms, and lost CO2 never returns: the loss
     at n is the largest loss needed anywhere along the addition up to n.
     """
-    run = np.maximum.accumulate(model.saturation_loss_mol(grid, s_sat))
+    return grid_losses(model, grid, s_sat)[0]
+
+
+def grid_losses(model: gas.TitrationModel, grid: np.ndarray, s_sat: float,
+                s_air: float | None = None) -> tuple[LossFunction, gas.State | None]:
+    """:func:`fresh_loss_function` and (given ``s_air``) the state open to air at every
+    amount of the grid, both from one solve."""
+    need = model.saturation_need(grid, s_sat)
+    levels = [(grid[need], s_sat)] if need.any() else []
+    if s_air is not None:
+        levels.append((grid, s_air))
+    states = model.open_states(levels) if levels else []
+    sat = states[0] if need.any() else None
+    run = np.maximum.accumulate(model.loss_from(grid, sat, s_sat))
 
     def loss_of(n):
         n = np.atleast_1d(np.asarray(n, dtype=float))
@@ -169,7 +189,7 @@ def fresh_loss_function(model: gas.TitrationModel, grid: np.ndarray,
         idx = np.clip(np.searchsorted(grid, n, side="right") - 1, 0, len(run) - 1)
         return np.maximum(run[idx], model.saturation_loss_mol(n, s_sat))
 
-    return loss_of
+    return loss_of, (states[-1] if s_air is not None else None)
 
 
 def kept_carbonate_mol(model: gas.TitrationModel, n: np.ndarray, fresh_loss: LossFunction,
@@ -215,7 +235,7 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
     span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[n_air, 0.0]))
     span = span if span > 0 else 1e-6
     grid = np.linspace(0.0, span, points)
-    loss_of = fresh_loss_function(model, grid, s_sat)
+    loss_of, grid_air = grid_losses(model, grid, s_sat, s_air)
     doses = np.full(len(targets), np.nan)
     ok = np.isfinite(n_air)
     if ok.any():
@@ -230,5 +250,5 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
     far = np.nanmax(np.r_[doses, 0.0])
     if CURVE_SPAN * far > span * 1.0001:
         grid = np.linspace(0.0, CURVE_SPAN * max(far, n_full), points)
-        loss_of = fresh_loss_function(model, grid, s_sat)
-    return doses, grid, loss_of
+        loss_of, grid_air = grid_losses(model, grid, s_sat, s_air)
+    return doses, grid, loss_of, grid_air

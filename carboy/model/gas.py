@@ -248,15 +248,42 @@ class TitrationModel:
         k = self.carb
         return self.n0[k] + np.atleast_1d(np.asarray(n, dtype=float)) * self.per[k]
 
-    def saturation_loss_mol(self, n, co2_molar: float) -> np.ndarray:
-        """CO2 that must leave at ``n`` for CO2(aq) to fall to ``co2_molar`` (0 if below)."""
+    def open_states(self, levels) -> list[State]:
+        """States held open at several CO2(aq) levels in one solve: ``levels`` is a list
+        of (amounts (mol), CO2(aq) mol/L); one :class:`State` per pair."""
+        ns = [np.atleast_1d(np.asarray(a, dtype=float)) for a, _ in levels]
+        co2 = np.concatenate([np.full(a.size, float(c)) for a, (_, c) in zip(ns, levels)])
+        whole = self.forward(np.concatenate(ns), co2_molar=co2)
+        out, first = [], 0
+        for a, (_, c) in zip(ns, levels):
+            part = slice(first, first + a.size)
+            st = State(a, whole.volume_l[part], whole.result.rows(part))
+            self._remember_open(c, a, st.result)
+            out.append(st)
+            first += a.size
+        return out
+
+    def loss_from(self, n, state: State | None, co2_molar: float) -> np.ndarray:
+        """:meth:`saturation_loss_mol` at ``n`` from the open ``state`` of the amounts
+        that need it (those where the total could exceed ``co2_molar``; see
+        :meth:`saturation_need`)."""
         n = np.atleast_1d(np.asarray(n, dtype=float))
         total = self.carbonate_total_mol(n)
         out = np.zeros_like(n)
-        # CO2(aq) can exceed saturation only where total carbonate does
-        need = total / (self.v0 + n * self.lpm) > co2_molar
-        if need.any():
-            st = self.forward(n[need], co2_molar=co2_molar)
-            kept = st.carbonate_molar() * st.volume_l
+        need = self.saturation_need(n, co2_molar)
+        if state is not None and need.any():
+            kept = state.carbonate_molar() * state.volume_l
             out[need] = np.maximum(total[need] - kept, 0.0)
         return out
+
+    def saturation_need(self, n, co2_molar: float) -> np.ndarray:
+        """Where CO2(aq) could exceed ``co2_molar`` at all: where total carbonate does."""
+        n = np.atleast_1d(np.asarray(n, dtype=float))
+        return self.carbonate_total_mol(n) / (self.v0 + n * self.lpm) > co2_molar
+
+    def saturation_loss_mol(self, n, co2_molar: float) -> np.ndarray:
+        """CO2 that must leave at ``n`` for CO2(aq) to fall to ``co2_molar`` (0 if below)."""
+        n = np.atleast_1d(np.asarray(n, dtype=float))
+        need = self.saturation_need(n, co2_molar)
+        st = self.forward(n[need], co2_molar=co2_molar) if need.any() else None
+        return self.loss_from(n, st, co2_molar)

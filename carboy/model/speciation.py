@@ -40,6 +40,7 @@ A. V. Bandura and S. N. Lvov, J. Phys. Chem. Ref. Data 35, 15 (2006).
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import operator
 from collections.abc import Mapping
@@ -165,6 +166,19 @@ class BatchSpeciation:
 
     def __len__(self) -> int:
         return self.pH.shape[0]
+
+    def rows(self, idx) -> BatchSpeciation:
+        """The points ``idx`` (a slice, indices or a mask) as a batch of their own."""
+        return dataclasses.replace(
+            self, pH=self.pH[idx], log_h=self.log_h[idx],
+            ionic_strength_molar=self.ionic_strength_molar[idx],
+            charge_residual_molar=self.charge_residual_molar[idx],
+            converged=self.converged[idx], species_molar=self.species_molar[idx],
+            fractions=self.fractions[idx], log_gamma_by_charge=self.log_gamma_by_charge[idx],
+            system_totals_molar=self.system_totals_molar[idx],
+            warnings=tuple(np.asarray(self.warnings, dtype=object)[idx].tolist()),
+            batch=None if self.batch is None else MixtureBatch(
+                self.batch.keys, self.batch.totals[idx], self.batch.temperature_c))
 
     def point(self, n: int) -> Speciation:
         """The result for point ``n`` as a :class:`Speciation`."""

@@ -83,3 +83,20 @@ def test_solve_equals_solving_the_batch(catalog):
     ref = speciate_batch(b, catalog=catalog)
     np.testing.assert_allclose(res.pH, ref.pH, atol=1e-9)
     np.testing.assert_array_equal(vol, vol_b)
+
+
+def test_grid_losses_in_one_solve_equal_the_separate_solves(catalog):
+    # the saturation loss and the state open to air on the grid come from one solve
+    from carboy.model.dosing import grid_losses
+
+    d = dosing_for(catalog, {"Cl-": 0.5}, "NaHCO3", [7.0, 6.0, 8.0], n_full=0.5)
+    model, grid = d.model, d.grid
+    s_sat = gas.henry_co2_molar_per_atm(25.0)
+    loss_of, air = grid_losses(model, grid, s_sat, d.s_air)
+    alone = gas.TitrationModel(model.sample, model.composition, model.lpm,
+                               activity="davies", catalog=catalog)
+    np.testing.assert_allclose(loss_of(grid), np.maximum.accumulate(
+        alone.saturation_loss_mol(grid, s_sat)), rtol=1e-9, atol=1e-15)
+    ref = alone.forward(grid, co2_molar=d.s_air)
+    np.testing.assert_allclose(air.pH, ref.pH, atol=1e-9)
+    np.testing.assert_allclose(air.carbonate_molar(), ref.carbonate_molar(), rtol=1e-9)

@@ -146,3 +146,14 @@ def test_start_along_returns_the_roots_at_the_nodes(catalog):
     mid, _ = sp.start_along(nodes[:-1] + 0.5, nodes, res)
     assert np.all((mid >= np.minimum(res.log_h[:-1], res.log_h[1:]) - 0.05)
                   & (mid <= np.maximum(res.log_h[:-1], res.log_h[1:]) + 0.05))
+
+
+def test_rows_of_a_batch_are_a_batch(catalog):
+    batch = _curve(catalog, 30)
+    res = sp.speciate_batch(batch, catalog=catalog)
+    part = res.rows(slice(5, 12))
+    assert len(part) == 7 and part.batch.totals.shape[0] == 7
+    np.testing.assert_array_equal(part.pH, res.pH[5:12])
+    np.testing.assert_array_equal(part.species_molar, res.species_molar[5:12])
+    assert part.point(2).pH == res.point(7).pH
+    assert part.warnings == res.warnings[5:12]
