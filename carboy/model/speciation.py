@@ -176,7 +176,7 @@ class BatchSpeciation:
             converged=self.converged[idx], species_molar=self.species_molar[idx],
             fractions=self.fractions[idx], log_gamma_by_charge=self.log_gamma_by_charge[idx],
             system_totals_molar=self.system_totals_molar[idx],
-            warnings=tuple(np.asarray(self.warnings, dtype=object)[idx].tolist()),
+            warnings=tuple(self.warnings[i] for i in np.arange(len(self))[idx].tolist()),
             batch=None if self.batch is None else MixtureBatch(
                 self.batch.keys, self.batch.totals[idx], self.batch.temperature_c))
 
