@@ -91,15 +91,24 @@ class Dosing:
         b, vol = titration_batch(self.model.sample, self.composition, n, self.l_per_mol)
         if self.fresh_loss is None:
             return b, vol, None
-        loss = self.fresh_loss(n)
+        vented = np.broadcast_to(np.asarray(vented, dtype=bool), n.shape)
+        on_grid = (self.grid_air is not None and n.shape == self.grid.shape
+                   and np.array_equal(n, self.grid))
+        air = self.grid_air if on_grid else None
+        saturated = None
+        if vented.any() and air is None:
+            # the saturated and the vented states in one solve
+            s_sat = gas.henry_co2_molar_per_atm(self.model.temperature_c)
+            need = self.model.saturation_need(n, s_sat)
+            if need.any():
+                saturated, air = self.model.open_states([(n[need], s_sat), (n, self.s_air)],
+                                                        starts=[None, air_start])
+        loss = self.fresh_loss(n, saturated) if saturated is not None else self.fresh_loss(n)
         kept = np.maximum(self.model.carbonate_total_mol(n) - loss, 0.0)
         start = None
-        vented = np.broadcast_to(np.asarray(vented, dtype=bool), n.shape)
         if vented.any():
-            on_grid = (self.grid_air is not None and n.shape == self.grid.shape
-                       and np.array_equal(n, self.grid))
-            air = self.grid_air if on_grid else self.model.forward(n, co2_molar=self.s_air,
-                                                                    start=air_start)
+            if air is None:
+                air = self.model.forward(n, co2_molar=self.s_air, start=air_start)
             at_air = air.carbonate_molar() * air.volume_l
             exact = vented & (at_air <= kept)   # these points are the state open to air
             kept = np.where(vented, np.minimum(kept, at_air), kept)
@@ -182,12 +191,16 @@ def grid_losses(model: gas.TitrationModel, grid: np.ndarray, s_sat: float,
     sat = states[0] if need.any() else None
     run = np.maximum.accumulate(model.loss_from(grid, sat, s_sat))
 
-    def loss_of(n):
+    def loss_of(n, saturated: gas.State | None = None):
+        """The loss at ``n``; ``saturated``: the open state at 1 atm of the amounts of
+        ``n`` that need it (``model.saturation_need``), when already solved."""
         n = np.atleast_1d(np.asarray(n, dtype=float))
         if n.shape == grid.shape and np.array_equal(n, grid):
             return run.copy()   # on the grid the running maximum is the loss itself
         idx = np.clip(np.searchsorted(grid, n, side="right") - 1, 0, len(run) - 1)
-        return np.maximum(run[idx], model.saturation_loss_mol(n, s_sat))
+        here = (model.loss_from(n, saturated, s_sat) if saturated is not None
+                else model.saturation_loss_mol(n, s_sat))
+        return np.maximum(run[idx], here)
 
     return loss_of, (states[-1] if s_air is not None else None)
 

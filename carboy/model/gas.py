@@ -248,12 +248,20 @@ class TitrationModel:
         k = self.carb
         return self.n0[k] + np.atleast_1d(np.asarray(n, dtype=float)) * self.per[k]
 
-    def open_states(self, levels) -> list[State]:
+    def open_states(self, levels, starts=None) -> list[State]:
         """States held open at several CO2(aq) levels in one solve: ``levels`` is a list
-        of (amounts (mol), CO2(aq) mol/L); one :class:`State` per pair."""
+        of (amounts (mol), CO2(aq) mol/L); one :class:`State` per pair.  ``starts``: the
+        solver's starts for each level, or None (then from earlier solves, see
+        :meth:`forward`)."""
         ns = [np.atleast_1d(np.asarray(a, dtype=float)) for a, _ in levels]
         co2 = np.concatenate([np.full(a.size, float(c)) for a, (_, c) in zip(ns, levels)])
-        whole = self.forward(np.concatenate(ns), co2_molar=co2)
+        starts = [self._open_start(c, a) if (starts is None or starts[k] is None)
+                  else starts[k] for k, (a, (_, c)) in enumerate(zip(ns, levels))]
+        start = None
+        if any(st is not None for st in starts):   # NaN: no start for that part
+            start = tuple(np.concatenate([np.full(a.size, np.nan) if st is None else st[k]
+                                          for a, st in zip(ns, starts)]) for k in range(2))
+        whole = self.forward(np.concatenate(ns), co2_molar=co2, start=start)
         out, first = [], 0
         for a, (_, c) in zip(ns, levels):
             part = slice(first, first + a.size)
