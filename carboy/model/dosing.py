@@ -253,8 +253,10 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
     ok = np.isfinite(n_air)
     if ok.any():
         na = n_air[ok]
-        fresh = model.carbonate_total_mol(na) - loss_of(na)
-        air = model.forward(na, co2_molar=s_air)
+        need = model.saturation_need(na, s_sat)
+        saturated, air = (model.open_states([(na[need], s_sat), (na, s_air)]) if need.any()
+                          else (None, model.forward(na, co2_molar=s_air)))
+        fresh = model.carbonate_total_mol(na) - loss_of(na, saturated)
         degassing = air.carbonate_molar() * air.volume_l <= fresh * (1 + 1e-9)
         doses[np.flatnonzero(ok)[degassing]] = na[degassing]
     todo = np.flatnonzero(np.isnan(doses))
