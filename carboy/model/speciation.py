@@ -391,43 +391,47 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
     lay, n = pr.lay, x.shape[0]
     ad = pr.a_dh * davies_d(ionic)
     log_kw = -pr.pkw + 2.0 * ad
-    h = 10.0 ** x
-    oh = 10.0 ** (log_kw - x)
+    h = np.exp(LN10 * x)             # exp: a vector loop, where ** takes pow point by point
+    oh = np.exp(LN10 * (log_kw - x))
     k, m = lay.z.shape
     labels = _species_labels(lay)
-    table = np.empty((n, len(labels)))
-    fractions = np.zeros((n, k * m))
-    c_sys = np.empty((n, k))
+    # points last, as the solver works (row writes); the result holds their transposes
+    table = np.empty((len(labels), n))
+    fractions = np.zeros((k * m, n))
+    c_sys = np.empty((k, n))
     sums = np.empty((3, n))
     first = 2 + len(lay.ion_labels)
-    table[:, 0], table[:, 1] = h, oh
-    table[:, 2:first] = batch.totals[:, lay.ion_cols]
+    table[0], table[1] = h, oh
+    table[2:first] = batch.totals[:, lay.ion_cols].T
     for a in range(0, n, lay.chunk):
         b = min(n, a + lay.chunk)
         st = species_at(x[a:b], ad[a:b] if pr.a_dh != 0.0 else None, log_kw[a:b], lay,
                         pr.am[a:b])
-        table[a:b, first:] = st["conc"].T
-        fractions[a:b, lay.flat_index] = st["alpha"].T
-        c_sys[a:b] = st["ceff"].T
+        table[first:, a:b] = st["conc"]
+        fractions[lay.flat_index, a:b] = st["alpha"]
+        c_sys[:, a:b] = st["ceff"]
         sums[:, a:b] = st["sums"]
     residual = (pr.zs_pos + sums[0]) - (pr.zs_neg + sums[1])
     # with activity, report the ionic strength the coefficients were computed with
     ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * sums[2]
-    species_labels, species = _merge_labels(labels, table)
+    species_labels, species = _merge_labels(labels, table.T)
     hot = t_c > ENTHALPY_DATA_MAX_C
     code = (ionic_out > DAVIES_LIMIT_MOLAR).astype(int) + 2 * (~converged).astype(int)
     texts = [_warning_texts(bool(c & 1), bool(c & 2), hot, activity) for c in range(4)]
+    if n and code.min() == code.max():   # the usual case: one text for every point
+        warnings = (texts[int(code[0])],) * n
+    else:
+        warnings = tuple(map(texts.__getitem__, code.tolist()))
     return BatchSpeciation(
         pH=ad - x,  # -log10 a(H+) = -(x + log10 gamma_H), with log10 gamma_H = -ad
         log_h=x, ionic_strength_molar=ionic_out, charge_residual_molar=residual,
         converged=converged, iterations=iterations, species_labels=species_labels,
         species_charges=tuple(lay.charge_map[lab] for lab in species_labels),
         species_molar=species, system_keys=lay.sys_keys, system_labels=lay.sys_labels,
-        fractions=fractions.reshape(n, k, m),
+        fractions=fractions.T.reshape(n, k, m),
         log_gamma_by_charge=log_gamma_by_charge(ad, lay.zmax), pkw=pr.pkw,
-        temperature_c=t_c, activity=activity,
-        warnings=tuple(texts[c] for c in code.tolist()),
-        system_totals_molar=c_sys, batch=batch,
+        temperature_c=t_c, activity=activity, warnings=warnings,
+        system_totals_molar=c_sys.T, batch=batch,
     )
 
 
