@@ -9,12 +9,19 @@ Every model here gives each species the coefficient
 with one number ``ad`` per solution: ``A`` from :func:`debye_huckel_scale` (the
 Debye–Hückel A at the temperature for ``"davies"``, 0 for ``"ideal"``) and ``D`` from
 :func:`davies_d` (its slope :func:`davies_dprime` for Newton steps on the ionic
-strength; the ``_float`` twins serve the one-solution path, which works in plain
-Python floats).  Because the coefficients depend on the charge alone, a conditional
+strength; :func:`davies_d_and_slope` gives both at once; the ``_float`` twins serve
+the one-solution path, which works in plain Python floats).  Because the coefficients depend on the charge alone, a conditional
 constant needs only ``ad`` (``log10 K' = log10 K - 2 ad (z_acid - 1)``), the solver's
 result keeps them as :func:`log_gamma_by_charge`, and the ionic strength is the one
-extra unknown.  A model that is not of this form (a specific-interaction model for
-concentrated solutions) needs a path of its own through the solver: add it here
+extra unknown.  Where the solver uses them: the vectorized paths build each state's
+weight as 10**(log beta0 - 2·ad·cmat - j·x) in ``solver.charge_balance.state_weights``
+(H+ and OH- as two more rows, OH- through log10 Kw' = 2·ad - pKw), and take the
+derivatives with respect to ``ad`` for the Newton step in (x, I) through the rows'
+``cmat`` (``row_c``); the one-solution path does the same in floats
+(``solver.single``).  A model that is not of this form (a specific-interaction model
+for concentrated solutions) needs its own per-state term in place of ``2·ad·cmat``
+(an (S, N) array of log10 of the ratio of coefficients of each state to the top
+state's, with H+ and OH-) and its own second unknown in place of I: add it here
 beside Davies, name it in ``ACTIVITY_MODELS`` and let ``speciation`` choose by name.
 
 References
@@ -70,6 +77,18 @@ def davies_dprime(ionic):
     with np.errstate(divide="ignore"):
         slope = np.where(sq > 0, 0.5 / (sq * (1.0 + sq) ** 2), 0.0) - 0.3
     return np.where(ionic < DAVIES_LIMIT_MOLAR, slope, 0.0)
+
+
+def davies_d_and_slope(ionic):
+    """(:func:`davies_d`, :func:`davies_dprime`) of positive ionic strengths, together
+    (one square root; the solver's Newton steps need both)."""
+    held = np.minimum(ionic, DAVIES_LIMIT_MOLAR)
+    sq = np.sqrt(held)
+    one = 1.0 + sq
+    d = sq / one - 0.3 * held
+    slope = 0.5 / (sq * one * one) - 0.3
+    slope[ionic >= DAVIES_LIMIT_MOLAR] = 0.0
+    return d, slope
 
 
 def davies_d_float(ionic: float) -> float:

@@ -13,12 +13,13 @@ also gives the state right after the addition.
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
 from carboy.model import gas
 from carboy.model.mixture import MixtureBatch, titration_batch
+from carboy.model.speciation import BatchSpeciation, speciate_batch
 
 CURVE_SPAN = 1.3
 """The pH curve runs from 0 to this times the largest dose of interest."""
@@ -46,6 +47,11 @@ class Dosing:
     fresh_loss: LossFunction | None
     s_air: float | None
     pco2_atm: float | None
+    grid_air: gas.State | None = field(default=None, repr=False, compare=False)
+    """The state open to air at every amount of ``grid`` (None without carbonate)."""
+    seen: dict = field(default_factory=dict, repr=False, compare=False)
+    """amount (mol) -> (CO2 lost right after adding it, carbonate kept once vented), as
+    worked out for a batch (``co2_lost_mol`` reads it back)."""
 
     @property
     def carbonate(self) -> bool:
@@ -62,24 +68,68 @@ class Dosing:
         """The dose to the target, or 0 where it cannot be reached."""
         return self.doses[0] if self.target_reached else 0.0
 
-    def batch_at(self, n, *, vented: bool = True) -> tuple[MixtureBatch, np.ndarray]:
+    def batch_at(self, n, *, vented=True) -> tuple[MixtureBatch, np.ndarray]:
         """The batch after adding each amount ``n`` (mol) and its volumes (L): once vented
-        to air (default), or right after the addition (``vented=False``)."""
-        n = np.asarray(n, dtype=float)
-        b, vol = titration_batch(self.model.sample, self.composition, n, self.l_per_mol)
-        if self.fresh_loss is not None:
-            kept = kept_carbonate_mol(self.model, n, self.fresh_loss,
-                                      self.s_air if vented else None)
-            tot = b.totals.copy()
-            tot[:, b.keys.index(gas.CARBONATE)] = kept / vol
-            b = MixtureBatch(b.keys, tot, b.temperature_c)
+        to air (default), or right after the addition (``vented=False``; or one flag per
+        amount)."""
+        b, vol, _ = self._batch_and_air(np.asarray(n, dtype=float), vented)
         return b, vol
+
+    def solve(self, n, *, vented=True, start=None) -> tuple[BatchSpeciation, np.ndarray]:
+        """:meth:`batch_at`, solved: the states and their volumes (L).  Each point starts
+        from ``start`` where given (see :func:`~carboy.model.speciation.speciate_batch`),
+        else from the same batch in equilibrium with air (which it equals wherever the
+        air's level of CO2 is the lower)."""
+        b, vol, air = self._batch_and_air(np.asarray(n, dtype=float), vented, start)
+        res = speciate_batch(b, activity=self.model.activity, catalog=self.model.catalog,
+                             start=air if start is None else start)
+        return res, vol
+
+    def _batch_and_air(self, n: np.ndarray, vented, air_start=None):
+        """(batch, volumes, starts or None): see :meth:`batch_at`; a vented point whose
+        state is the one open to air starts from its root, the others from none."""
+        b, vol = titration_batch(self.model.sample, self.composition, n, self.l_per_mol)
+        if self.fresh_loss is None:
+            return b, vol, None
+        vented = np.broadcast_to(np.asarray(vented, dtype=bool), n.shape)
+        on_grid = (self.grid_air is not None and n.shape == self.grid.shape
+                   and np.array_equal(n, self.grid))
+        air = self.grid_air if on_grid else None
+        saturated = None
+        if vented.any() and air is None:
+            # the saturated and the vented states in one solve
+            s_sat = gas.henry_co2_molar_per_atm(self.model.temperature_c)
+            need = self.model.saturation_need(n, s_sat)
+            if need.any():
+                saturated, air = self.model.open_states([(n[need], s_sat), (n, self.s_air)],
+                                                        starts=[None, air_start])
+        loss = self.fresh_loss(n, saturated) if saturated is not None else self.fresh_loss(n)
+        kept = np.maximum(self.model.carbonate_total_mol(n) - loss, 0.0)
+        start = None
+        if vented.any():
+            if air is None:
+                air = self.model.forward(n, co2_molar=self.s_air, start=air_start)
+            at_air = air.carbonate_molar() * air.volume_l
+            exact = vented & (at_air <= kept)   # these points are the state open to air
+            kept = np.where(vented, np.minimum(kept, at_air), kept)
+            for a, lost, k, v in zip(n.tolist(), loss.tolist(), kept.tolist(), vented.tolist()):
+                if v:
+                    self.seen[a] = (lost, k)
+            if exact.any():
+                start = (np.where(exact, air.result.log_h, np.nan),
+                         np.where(exact, air.result.ionic_strength_molar, np.nan))
+        tot = b.totals.copy()
+        tot[:, b.keys.index(gas.CARBONATE)] = kept / vol
+        return MixtureBatch(b.keys, tot, b.temperature_c), vol, start
 
     def co2_lost_mol(self, n_end: float) -> tuple[float, float]:
         """CO2 given off (mol) by adding ``n_end``: right after the addition, and in all
         once the batch has vented to air (0, 0 without carbonate)."""
         if self.fresh_loss is None:
             return 0.0, 0.0
+        if float(n_end) in self.seen:   # worked out already, for a batch that held it
+            fresh, kept = self.seen[float(n_end)]
+            return fresh, float(self.model.carbonate_total_mol([n_end])[0]) - kept
         fresh = float(self.fresh_loss(np.array([n_end]))[0])
         vented = float(self.model.carbonate_total_mol([n_end])[0]
                        - kept_carbonate_mol(self.model, np.array([n_end]), self.fresh_loss,
@@ -106,15 +156,17 @@ def find_doses(model: gas.TitrationModel, composition: Mapping[str, float], l_pe
         span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[doses, 0.0]))
         span = span if span > 0 else 1e-6
         grid = np.linspace(0.0, span, points)
-        fresh_loss = None
+        fresh_loss = grid_air = None
     else:
-        doses, grid, fresh_loss = _vented_doses(model, targets, n_full, s_sat, s_air, points)
+        doses, grid, fresh_loss, grid_air = _vented_doses(model, targets, n_full, s_sat,
+                                                          s_air, points)
     # doses on the wrong side of the start are unreachable in this direction
     for i, ph_i in enumerate(targets):
         if (direction == "base" and ph_i <= initial_pH) or (
                 direction == "acid" and ph_i >= initial_pH):
             doses[i] = 0.0
-    return Dosing(model, composition, l_per_mol, doses, grid, fresh_loss, s_air, pco2)
+    return Dosing(model, composition, l_per_mol, doses, grid, fresh_loss, s_air, pco2,
+                  grid_air=grid_air)
 
 
 def fresh_loss_function(model: gas.TitrationModel, grid: np.ndarray,
@@ -124,14 +176,33 @@ def fresh_loss_function(model: gas.TitrationModel, grid: np.ndarray,
     CO2(aq) beyond ``s_sat`` leaves as it forms, and lost CO2 never returns: the loss
     at n is the largest loss needed anywhere along the addition up to n.
     """
-    run = np.maximum.accumulate(model.saturation_loss_mol(grid, s_sat))
+    return grid_losses(model, grid, s_sat)[0]
 
-    def loss_of(n):
+
+def grid_losses(model: gas.TitrationModel, grid: np.ndarray, s_sat: float,
+                s_air: float | None = None) -> tuple[LossFunction, gas.State | None]:
+    """:func:`fresh_loss_function` and (given ``s_air``) the state open to air at every
+    amount of the grid, both from one solve."""
+    need = model.saturation_need(grid, s_sat)
+    levels = [(grid[need], s_sat)] if need.any() else []
+    if s_air is not None:
+        levels.append((grid, s_air))
+    states = model.open_states(levels) if levels else []
+    sat = states[0] if need.any() else None
+    run = np.maximum.accumulate(model.loss_from(grid, sat, s_sat))
+
+    def loss_of(n, saturated: gas.State | None = None):
+        """The loss at ``n``; ``saturated``: the open state at 1 atm of the amounts of
+        ``n`` that need it (``model.saturation_need``), when already solved."""
         n = np.atleast_1d(np.asarray(n, dtype=float))
+        if n.shape == grid.shape and np.array_equal(n, grid):
+            return run.copy()   # on the grid the running maximum is the loss itself
         idx = np.clip(np.searchsorted(grid, n, side="right") - 1, 0, len(run) - 1)
-        return np.maximum(run[idx], model.saturation_loss_mol(n, s_sat))
+        here = (model.loss_from(n, saturated, s_sat) if saturated is not None
+                else model.saturation_loss_mol(n, s_sat))
+        return np.maximum(run[idx], here)
 
-    return loss_of
+    return loss_of, (states[-1] if s_air is not None else None)
 
 
 def kept_carbonate_mol(model: gas.TitrationModel, n: np.ndarray, fresh_loss: LossFunction,
@@ -177,13 +248,15 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
     span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[n_air, 0.0]))
     span = span if span > 0 else 1e-6
     grid = np.linspace(0.0, span, points)
-    loss_of = fresh_loss_function(model, grid, s_sat)
+    loss_of, grid_air = grid_losses(model, grid, s_sat, s_air)
     doses = np.full(len(targets), np.nan)
     ok = np.isfinite(n_air)
     if ok.any():
         na = n_air[ok]
-        fresh = model.carbonate_total_mol(na) - loss_of(na)
-        air = model.forward(na, co2_molar=s_air)
+        need = model.saturation_need(na, s_sat)
+        saturated, air = (model.open_states([(na[need], s_sat), (na, s_air)]) if need.any()
+                          else (None, model.forward(na, co2_molar=s_air)))
+        fresh = model.carbonate_total_mol(na) - loss_of(na, saturated)
         degassing = air.carbonate_molar() * air.volume_l <= fresh * (1 + 1e-9)
         doses[np.flatnonzero(ok)[degassing]] = na[degassing]
     todo = np.flatnonzero(np.isnan(doses))
@@ -192,5 +265,5 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
     far = np.nanmax(np.r_[doses, 0.0])
     if CURVE_SPAN * far > span * 1.0001:
         grid = np.linspace(0.0, CURVE_SPAN * max(far, n_full), points)
-        loss_of = fresh_loss_function(model, grid, s_sat)
-    return doses, grid, loss_of
+        loss_of, grid_air = grid_losses(model, grid, s_sat, s_air)
+    return doses, grid, loss_of, grid_air

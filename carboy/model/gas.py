@@ -21,7 +21,7 @@ import numpy as np
 from carboy.errors import InvalidInput
 from carboy.model import water
 from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
-from carboy.model.speciation import BatchSpeciation, speciate_batch, state_at
+from carboy.model.speciation import BatchSpeciation, speciate_batch, start_along, state_at
 from carboy.model.thermo import planning_constants
 
 LN10 = math.log(10.0)
@@ -118,6 +118,7 @@ class TitrationModel:
             if ion_z[j] is None and catalog.systems[k].strong_steps == catalog.systems[k].n_steps:
                 ion_z[j] = catalog.systems[k].bottom_charge
         self.ion_cols = np.array([j for j, z in enumerate(ion_z) if z is not None], dtype=int)
+        self._open: dict = {}   # CO2(aq) level -> roots of an open-system solve (starts)
         self.ion_z = np.array([z for z in ion_z if z is not None], dtype=float)
 
     # ------------------------------------------------------------------ forward
@@ -131,11 +132,13 @@ class TitrationModel:
             b = MixtureBatch(b.keys, tot, b.temperature_c)
         return b, vol
 
-    def forward(self, n_reagent, *, carbonate_mol=None, co2_molar=None) -> State:
+    def forward(self, n_reagent, *, carbonate_mol=None, co2_molar=None, start=None) -> State:
         """States after adding each amount ``n_reagent`` (mol).
 
         ``carbonate_mol`` overrides the total carbonate left (mol, per point) and
         ``co2_molar`` instead holds CO2(aq) fixed (open system); neither: closed.
+        ``start``: the solver's starts (see ``speciate_batch``); an open system starts
+        by default from the largest open solve at the same CO2 level so far.
         """
         n = np.atleast_1d(np.asarray(n_reagent, dtype=float))
         held = None
@@ -144,8 +147,35 @@ class TitrationModel:
                 raise InvalidInput("CO2 equilibrium", co2_molar, "the solution holds no carbonate")
             held = {CARBONATE: (self.co2_label, co2_molar)}
         b, vol = self._batch(n, None if held else carbonate_mol)
-        res = speciate_batch(b, activity=self.activity, catalog=self.catalog, held=held)
+        if start is None and held is not None:
+            start = self._open_start(co2_molar, n)
+        res = speciate_batch(b, activity=self.activity, catalog=self.catalog, held=held,
+                             start=start)
+        if held is not None:
+            self._remember_open(co2_molar, n, res)
         return State(n, vol, res)
+
+    def _open_start(self, co2_molar, n: np.ndarray):
+        """Starts for an open-system solve at ``co2_molar``: the roots of the largest such
+        solve so far, interpolated in the amount (NaN outside its range), or None."""
+        memo = self._open.get(float(co2_molar)) if np.ndim(co2_molar) == 0 else None
+        if memo is None or memo[0].size < min(n.size, 16):  # too coarse to start from
+            return None
+        nodes, res = memo
+        inside = (n >= nodes[0]) & (n <= nodes[-1])
+        if not inside.any():
+            return None
+        x0, i0 = start_along(n, nodes, res)
+        return np.where(inside, x0, np.nan), np.where(inside, i0, np.nan)
+
+    def _remember_open(self, co2_molar, n: np.ndarray, res: BatchSpeciation) -> None:
+        """Keep the roots of an open-system solve of several amounts (see _open_start)."""
+        if np.ndim(co2_molar) != 0 or n.size < 2:
+            return
+        memo = self._open.get(float(co2_molar))
+        if memo is None or memo[0].size < n.size:
+            if np.all(np.diff(n) > 0):
+                self._open[float(co2_molar)] = (n, res)
 
     # ------------------------------------------------------------------ inverse
 
@@ -218,15 +248,50 @@ class TitrationModel:
         k = self.carb
         return self.n0[k] + np.atleast_1d(np.asarray(n, dtype=float)) * self.per[k]
 
-    def saturation_loss_mol(self, n, co2_molar: float) -> np.ndarray:
-        """CO2 that must leave at ``n`` for CO2(aq) to fall to ``co2_molar`` (0 if below)."""
+    def open_states(self, levels, starts=None) -> list[State]:
+        """States held open at several CO2(aq) levels in one solve: ``levels`` is a list
+        of (amounts (mol), CO2(aq) mol/L); one :class:`State` per pair.  ``starts``: the
+        solver's starts for each level, or None (then from earlier solves, see
+        :meth:`forward`)."""
+        ns = [np.atleast_1d(np.asarray(a, dtype=float)) for a, _ in levels]
+        co2 = np.concatenate([np.full(a.size, float(c)) for a, (_, c) in zip(ns, levels)])
+        starts = [self._open_start(c, a) if (starts is None or starts[k] is None)
+                  else starts[k] for k, (a, (_, c)) in enumerate(zip(ns, levels))]
+        start = None
+        if any(st is not None for st in starts):   # NaN: no start for that part
+            start = tuple(np.concatenate([np.full(a.size, np.nan) if st is None else st[k]
+                                          for a, st in zip(ns, starts)]) for k in range(2))
+        whole = self.forward(np.concatenate(ns), co2_molar=co2, start=start)
+        out, first = [], 0
+        for a, (_, c) in zip(ns, levels):
+            part = slice(first, first + a.size)
+            st = State(a, whole.volume_l[part], whole.result.rows(part))
+            self._remember_open(c, a, st.result)
+            out.append(st)
+            first += a.size
+        return out
+
+    def loss_from(self, n, state: State | None, co2_molar: float) -> np.ndarray:
+        """:meth:`saturation_loss_mol` at ``n`` from the open ``state`` of the amounts
+        that need it (those where the total could exceed ``co2_molar``; see
+        :meth:`saturation_need`)."""
         n = np.atleast_1d(np.asarray(n, dtype=float))
         total = self.carbonate_total_mol(n)
         out = np.zeros_like(n)
-        # CO2(aq) can exceed saturation only where total carbonate does
-        need = total / (self.v0 + n * self.lpm) > co2_molar
-        if need.any():
-            st = self.forward(n[need], co2_molar=co2_molar)
-            kept = st.carbonate_molar() * st.volume_l
+        need = self.saturation_need(n, co2_molar)
+        if state is not None and need.any():
+            kept = state.carbonate_molar() * state.volume_l
             out[need] = np.maximum(total[need] - kept, 0.0)
         return out
+
+    def saturation_need(self, n, co2_molar: float) -> np.ndarray:
+        """Where CO2(aq) could exceed ``co2_molar`` at all: where total carbonate does."""
+        n = np.atleast_1d(np.asarray(n, dtype=float))
+        return self.carbonate_total_mol(n) / (self.v0 + n * self.lpm) > co2_molar
+
+    def saturation_loss_mol(self, n, co2_molar: float) -> np.ndarray:
+        """CO2 that must leave at ``n`` for CO2(aq) to fall to ``co2_molar`` (0 if below)."""
+        n = np.atleast_1d(np.asarray(n, dtype=float))
+        need = self.saturation_need(n, co2_molar)
+        st = self.forward(n[need], co2_molar=co2_molar) if need.any() else None
+        return self.loss_from(n, st, co2_molar)

@@ -60,7 +60,7 @@ import numpy as np
 from carboy.errors import InvalidInput
 from carboy.model import cautions as caution_rules
 from carboy.model import gas, thermo, water
-from carboy.model.activity import check_model
+from carboy.model.activity import check_model, davies_d, debye_huckel_scale
 from carboy.model.cautions import derived_hazards
 from carboy.model.dosing import Dosing, find_doses
 from carboy.model.equivalence import equivalence_amounts
@@ -68,7 +68,7 @@ from carboy.model.mixture import Mixture
 from carboy.model.plan_result import Dose, EquivalencePoint, Plan, Stage
 from carboy.model.precipitates import Precipitate, saturation_indices, slurry_check
 from carboy.model.reagents import Reagent
-from carboy.model.speciation import BatchSpeciation, speciate_batch
+from carboy.model.speciation import BatchSpeciation, start_along
 
 __all__ = ["Dose", "EquivalencePoint", "Plan", "Stage", "plan_neutralization"]
 
@@ -101,7 +101,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     demand = _proton_demand(req, start)
     dosing = _find_doses(req, start, demand)
     curve_res, curve_vol = _solve_curve(req, dosing)
-    pts = _solve_points(req, start, dosing, demand.n_full)
+    pts = _solve_points(req, start, dosing, demand.n_full, curve_res)
     doses = _dose_results(req, dosing, pts, demand.n_full)
     heat = _heat_and_gas(req, dosing, pts, curve_res, curve_vol)
     bound, precipitates = _at_target(req, pts)
@@ -286,15 +286,15 @@ def _find_doses(req: _Request, start: _Start, demand: _Demand) -> Dosing:
 def _solve_curve(req: _Request, dosing: Dosing) -> tuple[BatchSpeciation, np.ndarray]:
     """Step 5: the vented batch at every amount of the curve grid, solved at once, and
     its volumes (L)."""
-    cb, cvol = dosing.batch_at(dosing.grid)
-    return speciate_batch(cb, activity=req.activity, catalog=req.catalog), cvol
+    return dosing.solve(dosing.grid)
 
 
 @dataclass(frozen=True)
 class _Points:
     """One batch solve of every state the plan reports besides the curve, in this
     order: the full dose, the target, the window's low and high edges, the stages,
-    0.99 and 1.01 times the target dose, the equivalence points."""
+    0.99 and 1.01 times the target dose, the equivalence points (all after venting),
+    and with carbonate the target dose right after the addition."""
 
     res: BatchSpeciation
     volume_l: np.ndarray
@@ -312,10 +312,18 @@ class _Points:
     def first_equivalence(self) -> int:
         return self.first_sensitivity + 2
 
+    @property
+    def fresh(self) -> int:
+        """The state right after the dose to the target (before venting): the last
+        point, present when carbonate is."""
+        return self.first_equivalence + len(self.equivalence)
 
-def _solve_points(req: _Request, start: _Start, dosing: Dosing, n_full: float) -> _Points:
+
+def _solve_points(req: _Request, start: _Start, dosing: Dosing, n_full: float,
+                  curve: BatchSpeciation) -> _Points:
     """Step 6: the states at the full dose, the doses, the stages (planning.toml
-    ``[stages]``), ±1 % of the target dose and the labelled equivalence points."""
+    ``[stages]``), ±1 % of the target dose and the labelled equivalence points; each
+    starts from the curve between its neighbours on the grid."""
     fracs = np.asarray(thermo.planning_constants()["stages"]["cumulative_fractions"],
                        dtype=float)
     eqs = equivalence_amounts(req.sample, req.catalog, start.direction, start.capacity,
@@ -325,8 +333,17 @@ def _solve_points(req: _Request, start: _Start, dosing: Dosing, n_full: float) -
     pts += [d if np.isfinite(d) else 0.0 for d in dosing.doses]
     pts += list(fracs * base_t) + [0.99 * base_t, 1.01 * base_t]
     pts += [e[0] for e in eqs]
-    pb, pvol = dosing.batch_at(np.asarray(pts))
-    pres = speciate_batch(pb, activity=req.activity, catalog=req.catalog)
+    vented = [True] * len(pts)
+    if dosing.carbonate:  # and the state right after the addition, in the same solve
+        pts.append(base_t)
+        vented.append(False)
+    at = np.asarray(pts)
+    x0, i0 = start_along(at, dosing.grid, curve)
+    # a dose that reaches a pH leaves that pH: its root is known but for the coefficient
+    ad = debye_huckel_scale(req.activity, req.temperature_c) * davies_d(i0[1:4])
+    reached = np.isfinite(dosing.doses) & (dosing.doses > 0)
+    x0[1:4] = np.where(reached, ad - np.array([req.target, *req.window]), x0[1:4])
+    pres, pvol = dosing.solve(at, vented=vented, start=(x0, i0))
     return _Points(pres, pvol, fracs, eqs)
 
 
@@ -416,10 +433,7 @@ def _heat_and_gas(req: _Request, dosing: Dosing, pts: _Points, curve_res: BatchS
     # right after the addition: CO2 beyond saturation at 1 atm has left; by the time the
     # batch has vented to air, more has gone: that is the final state
     gas_mol, vented_gas_mol = dosing.co2_lost_mol(n_end)
-    fresh_ph = None
-    if dosing.carbonate:
-        fb, _ = dosing.batch_at([n_end], vented=False)
-        fresh_ph = float(speciate_batch(fb, activity=req.activity, catalog=catalog).pH[0])
+    fresh_ph = float(pts.res.pH[pts.fresh]) if dosing.carbonate else None
     heat = h_final - h_start - n_end * thermo.reagent_enthalpy_kj(reagent, catalog)
     heat += vented_gas_mol * thermo.co2_degassing_kj()
     warnings: list[str] = []

@@ -40,6 +40,9 @@ A. V. Bandura and S. N. Lvov, J. Phys. Chem. Ref. Data 35, 15 (2006).
 
 from __future__ import annotations
 
+import dataclasses
+import math
+import operator
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -47,12 +50,14 @@ from types import MappingProxyType
 
 import numpy as np
 
+from carboy.errors import InvalidInput
 from carboy.model import water
 from carboy.model.activity import (
     ACTIVITY_MODELS,
     DAVIES_LIMIT_MOLAR,
     check_model,
     davies_d,
+    davies_d_float,
     debye_huckel_scale,
     log_gamma_by_charge,
     outside_range_warning,
@@ -60,7 +65,7 @@ from carboy.model.activity import (
 from carboy.model.activity import davies_d as _davies_d  # noqa: F401 (tests use the old name)
 from carboy.model.mixture import Mixture, MixtureBatch
 from carboy.model.solver.bracketed import solve_nested
-from carboy.model.solver.charge_balance import moments
+from carboy.model.solver.charge_balance import fractions_at, padded_fractions, species_at
 from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
     COUPLED_ITER,
     COUPLED_NEAR,
@@ -73,7 +78,7 @@ from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
     WIDEN_STEPS,
     X_TOL,
 )
-from carboy.model.solver.coupled import solve_coupled
+from carboy.model.solver.coupled import solve_warm
 from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
     ENTHALPY_DATA_MAX_C,
     R_J_MOL_K,
@@ -83,15 +88,16 @@ from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
     pka_at,
 )
 from carboy.model.solver.layout import compile_layout as _layout  # noqa: F401 (tests)
-from carboy.model.solver.problem import Amounts, Problem, build_problem
+from carboy.model.solver.problem import Problem, build_problem
 from carboy.model.solver.single import solve_one
+from carboy.model.solver.starts import start_between
 
 __all__ = [
     "ACTIVITY_MODELS", "COUPLED_ITER", "COUPLED_NEAR", "DAVIES_LIMIT_MOLAR",
     "ENTHALPY_DATA_MAX_C", "F_TOL", "I_RTOL", "LN10", "MAX_I_ITER", "MAX_ROOT_ITER",
     "QUADRATIC_STEP", "R_J_MOL_K", "T_REF_K", "WIDEN_STEPS", "X_TOL",
     "BatchSpeciation", "Speciation", "StateAt", "pka_at", "speciate", "speciate_batch",
-    "state_at",
+    "start_along", "state_at",
 ]
 
 
@@ -160,6 +166,19 @@ class BatchSpeciation:
 
     def __len__(self) -> int:
         return self.pH.shape[0]
+
+    def rows(self, idx) -> BatchSpeciation:
+        """The points ``idx`` (a slice, indices or a mask) as a batch of their own."""
+        return dataclasses.replace(
+            self, pH=self.pH[idx], log_h=self.log_h[idx],
+            ionic_strength_molar=self.ionic_strength_molar[idx],
+            charge_residual_molar=self.charge_residual_molar[idx],
+            converged=self.converged[idx], species_molar=self.species_molar[idx],
+            fractions=self.fractions[idx], log_gamma_by_charge=self.log_gamma_by_charge[idx],
+            system_totals_molar=self.system_totals_molar[idx],
+            warnings=tuple(self.warnings[i] for i in np.arange(len(self))[idx].tolist()),
+            batch=None if self.batch is None else MixtureBatch(
+                self.batch.keys, self.batch.totals[idx], self.batch.temperature_c))
 
     def point(self, n: int) -> Speciation:
         """The result for point ``n`` as a :class:`Speciation`."""
@@ -249,7 +268,8 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
 
 
 def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=None,
-                   held: Mapping[str, tuple[str, object]] | None = None) -> BatchSpeciation:
+                   held: Mapping[str, tuple[str, object]] | None = None,
+                   start: BatchSpeciation | tuple | None = None) -> BatchSpeciation:
     """Solve every mixture of ``batch`` at once.
 
     Parameters
@@ -261,6 +281,11 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
         that concentration (a number or one per point) instead of fixing the system's
         total, e.g. ``{"carbonate": ("CO2", 1.4e-5)}`` for a solution in equilibrium
         with air.  The system's solved total is in ``system_totals_molar``.
+    start : a solved batch of the same length whose roots (log10[H+] and ionic
+        strength) each point starts from (a nearby state: the same batch open to air,
+        say), or those two arrays themselves.  It saves steps only: the results are
+        the same within the tolerances.
+        Without it, a long batch is warm-started along its points (neighbours alike).
 
     Returns
     -------
@@ -276,7 +301,25 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
             batch = MixtureBatch(batch.keys + missing, np.hstack(
                 [batch.totals, np.zeros((len(batch), len(missing)))]), batch.temperature_c)
     lay = cached_layout(catalog, batch.keys, t_c)
-    return _solve(batch, lay, activity, t_c, held)
+    guess = None
+    if start is not None:
+        guess = ((start.log_h, start.ionic_strength_molar)
+                 if isinstance(start, BatchSpeciation) else start)
+        guess = tuple(np.asarray(g, dtype=float).reshape(-1) for g in guess)
+        if len(guess) != 2 or any(g.shape[0] != len(batch) for g in guess):
+            raise InvalidInput("start", f"{len(guess)} arrays",
+                               f"expected log10[H+] and ionic strength for {len(batch)} points")
+    return _solve(batch, lay, activity, t_c, held, guess)
+
+
+def start_along(at, nodes, result: BatchSpeciation) -> tuple[np.ndarray, np.ndarray]:
+    """Starts for :func:`speciate_batch` (``start=``) at the positions ``at`` (amounts
+    of reagent, say) from a solved curve ``result`` at the increasing positions
+    ``nodes``: the roots between its points, a cubic where the curve is smooth and the
+    straight line in the excess of H+ over OH- across a jump
+    (see :mod:`carboy.model.solver.starts`)."""
+    return start_between(np.asarray(at, dtype=float), np.asarray(nodes, dtype=float),
+                         result.log_h, result.ionic_strength_molar, result.pkw)
 
 
 def state_at(keys: tuple[str, ...], ph, ionic_strength, *, temperature_c: float = 25.0,
@@ -296,96 +339,119 @@ def state_at(keys: tuple[str, ...], ph, ionic_strength, *, temperature_c: float 
     a_dh = debye_huckel_scale(activity, t_c)
     ad = a_dh * davies_d(ionic)
     x = ad - ph  # pH = -(x + log10 gamma_H) with log10 gamma_H = -ad
-    alpha = moments(x, ad, lay, Amounts(np.ones((x.shape[0], len(lay.sys_keys)))),
-                    want_alpha=True)["alpha"]
+    alpha = padded_fractions(fractions_at(x, ad if a_dh != 0.0 else None, lay), lay)
     return StateAt(lay.sys_keys, lay.sys_labels, alpha, lay.z, x, 2.0 * ad - water.pkw(t_c))
 
 
 # --------------------------------------------------------------------------- the solve
 
 def _solve(batch: MixtureBatch, lay: Layout, activity: str, t_c: float,
-           held=None) -> BatchSpeciation:
+           held=None, start=None) -> BatchSpeciation:
     """Solve every point of ``batch`` (laid out by ``lay``) and assemble the result."""
     pkw = water.pkw(t_c)
     a_dh = debye_huckel_scale(activity, t_c)
     pr = build_problem(lay, batch.totals, held, pkw, a_dh)
-    x, ionic, converged, iterations = _solve_points(pr, batch.totals)
+    x, ionic, converged, iterations = _solve_points(pr, start)
     return _batch_result(pr, batch, x, ionic, converged, iterations, activity, t_c)
 
 
-def _solve_points(pr: Problem, totals: np.ndarray):
+def _solve_points(pr: Problem, start=None):
     """``(x, ionic, converged, iterations)`` for every point of ``pr``.
 
     One solution (with an unshifted layout) goes through the plain-Python fast path,
-    several through the vectorized one; points the fast path leaves unsettled go to
-    the guaranteed path.  The fast paths get ``COUPLED_ITER`` from this module.
+    several through the vectorized one, warm-started along the batch (or from
+    ``start``, a pair of arrays (log10[H+], I)); points the fast paths leave unsettled
+    go to the guaranteed path.  The fast paths get ``COUPLED_ITER`` from this module.
     """
-    lay, am = pr.lay, pr.am
+    n = pr.ispec.shape[0]
     fast = None
-    if totals.shape[0] == 1 and not lay.needs_shift:  # one solution: the plain-Python path
-        hold = {} if am.held is None else {
-            int(k): (float(am.j0[k]), float(am.c0[k]), float(am.held[0, k]))
-            for k in np.flatnonzero(am.mask)}
-        fast = solve_one(lay, totals[0].tolist(), pr.pkw, pr.a_dh, hold, max_iter=COUPLED_ITER)
+    if n == 1 and start is None and not pr.lay.needs_shift:  # the plain-Python path
+        fast = solve_one(pr.lay, pr.totals[0].tolist(), pr.pkw, pr.a_dh, pr.held_of(0),
+                         max_iter=COUPLED_ITER)
     if fast is not None:
         x, ionic = np.array([fast[0]]), np.array([fast[1]])
         ok, iterations = np.array([True]), fast[2]
     else:
-        x, ionic, ok, iterations = solve_coupled(pr, max_iter=COUPLED_ITER)
+        x0, i0 = (None, None) if start is None else start
+        x, ionic, ok, iterations = solve_warm(pr, max_iter=COUPLED_ITER, x0=x0, i0=i0)
     converged = ok.copy()
-    if not ok.all():
-        bad = ~ok
-        xb, ib, cb, outer = solve_nested(pr[bad], x[bad], ionic[bad])
-        x[bad], ionic[bad], converged[bad] = xb, ib, cb
-        iterations += outer
-    return x, ionic, converged, iterations
+    outer = 0
+    for a in range(0, n, pr.lay.chunk):
+        bad = a + np.flatnonzero(~ok[a:a + pr.lay.chunk])
+        if bad.size:
+            x[bad], ionic[bad], converged[bad], it = solve_nested(pr[bad], x[bad], ionic[bad])
+            outer = max(outer, it)
+    return x, ionic, converged, iterations + outer
 
 
 def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterations,
                   activity: str, t_c: float) -> BatchSpeciation:
-    """Species, fractions, coefficients and warnings of the solved points."""
-    lay = pr.lay
+    """Species, fractions, coefficients and warnings of the solved points (worked out
+    block by block, see ``Layout.chunk``)."""
+    lay, n = pr.lay, x.shape[0]
     ad = pr.a_dh * davies_d(ionic)
     log_kw = -pr.pkw + 2.0 * ad
-    mo = moments(x, ad, lay, pr.am, want_alpha=True)
-    psys, nsys, iz2, alpha = mo["pos"], mo["neg"], mo["iz2"], mo["alpha"]
-    c_sys = mo["ceff"]
-    h = 10.0 ** x
-    oh = 10.0 ** (log_kw - x)
-    residual = (h + pr.zs_pos + psys) - (oh + pr.zs_neg + nsys)
+    h = np.exp(LN10 * x)             # exp: a vector loop, where ** takes pow point by point
+    oh = np.exp(LN10 * (log_kw - x))
+    k, m = lay.z.shape
+    labels = _species_labels(lay)
+    # points last, as the solver works (row writes); the result holds their transposes
+    table = np.empty((len(labels), n))
+    fractions = np.zeros((k * m, n))
+    c_sys = np.empty((k, n))
+    sums = np.empty((3, n))
+    first = 2 + len(lay.ion_labels)
+    table[0], table[1] = h, oh
+    table[2:first] = batch.totals[:, lay.ion_cols].T
+    for a in range(0, n, lay.chunk):
+        b = min(n, a + lay.chunk)
+        st = species_at(x[a:b], ad[a:b] if pr.a_dh != 0.0 else None, log_kw[a:b], lay,
+                        pr.am[a:b])
+        table[first:, a:b] = st["conc"]
+        fractions[lay.flat_index, a:b] = st["alpha"]
+        c_sys[:, a:b] = st["ceff"]
+        sums[:, a:b] = st["sums"]
+    residual = (pr.zs_pos + sums[0]) - (pr.zs_neg + sums[1])
     # with activity, report the ionic strength the coefficients were computed with
-    ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * (h + oh + iz2)
-    ph = ad - x  # -log10 a(H+) = -(x + log10 gamma_H), with log10 gamma_H = -ad
-    species_labels, species = _species_table(lay, h, oh, batch.totals[:, lay.ion_cols],
-                                             c_sys[:, :, None] * alpha)
+    ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * sums[2]
+    species_labels, species = _merge_labels(labels, table.T)
     hot = t_c > ENTHALPY_DATA_MAX_C
     code = (ionic_out > DAVIES_LIMIT_MOLAR).astype(int) + 2 * (~converged).astype(int)
-    table = [_warning_texts(bool(c & 1), bool(c & 2), hot, activity) for c in range(4)]
-    warnings = tuple(table[c] for c in code.tolist())
+    texts = [_warning_texts(bool(c & 1), bool(c & 2), hot, activity) for c in range(4)]
+    if n and code.min() == code.max():   # the usual case: one text for every point
+        warnings = (texts[int(code[0])],) * n
+    else:
+        warnings = tuple(map(texts.__getitem__, code.tolist()))
     return BatchSpeciation(
-        pH=ph, log_h=x, ionic_strength_molar=ionic_out, charge_residual_molar=residual,
+        pH=ad - x,  # -log10 a(H+) = -(x + log10 gamma_H), with log10 gamma_H = -ad
+        log_h=x, ionic_strength_molar=ionic_out, charge_residual_molar=residual,
         converged=converged, iterations=iterations, species_labels=species_labels,
         species_charges=tuple(lay.charge_map[lab] for lab in species_labels),
         species_molar=species, system_keys=lay.sys_keys, system_labels=lay.sys_labels,
-        fractions=alpha, log_gamma_by_charge=log_gamma_by_charge(ad, lay.zmax), pkw=pr.pkw,
-        temperature_c=t_c, activity=activity, warnings=warnings, system_totals_molar=c_sys,
-        batch=batch,
+        fractions=fractions.T.reshape(n, k, m),
+        log_gamma_by_charge=log_gamma_by_charge(ad, lay.zmax), pkw=pr.pkw,
+        temperature_c=t_c, activity=activity, warnings=warnings,
+        system_totals_molar=c_sys.T, batch=batch,
     )
 
 
-def _species_table(lay: Layout, h, oh, c_ion, sys_conc) -> tuple[tuple[str, ...], np.ndarray]:
-    """Species labels and their (N, S) concentrations; a label that two components
-    share (Na+ from two salts, say) is summed into one column."""
-    labels: list[str] = ["H+", "OH-", *lay.ion_labels]
-    cols: list[np.ndarray] = [h, oh, *(c_ion[:, j] for j in range(len(lay.ion_labels)))]
-    for k, labs in enumerate(lay.sys_labels):
-        labels.extend(labs)
-        cols.extend(sys_conc[:, k, j] for j in range(len(labs)))
-    merged: dict[str, np.ndarray] = {}
-    for lab, col in zip(labels, cols):
-        merged[lab] = merged[lab] + col if lab in merged else col
-    species_labels = tuple(merged)
-    return species_labels, np.stack([merged[lab] for lab in species_labels], axis=1)
+def _species_labels(lay: Layout) -> tuple[str, ...]:
+    """H+, OH-, the spectator ions, then every state of every system (flat order)."""
+    return ("H+", "OH-", *lay.ion_labels, *(lab for labs in lay.sys_labels for lab in labs))
+
+
+def _merge_labels(labels: tuple[str, ...], table: np.ndarray):
+    """A label that two components share (Na+ from two salts, say) summed into one
+    column: ``(labels, (N, columns) concentrations)``."""
+    if len(set(labels)) == len(labels):
+        return labels, table
+    merged: dict[str, int] = {}
+    for lab in labels:
+        merged.setdefault(lab, len(merged))
+    out = np.zeros((table.shape[0], len(merged)))
+    for col, lab in enumerate(labels):
+        out[:, merged[lab]] += table[:, col]
+    return tuple(merged), out
 
 
 @lru_cache(maxsize=64)
@@ -405,42 +471,41 @@ def _warning_texts(high_i: bool, bad: bool, hot: bool, activity: str) -> tuple[s
 
 def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixture) -> Speciation:
     """Species, fractions and coefficients of one solved solution."""
-    ad = a_dh * float(davies_d(ionic))
+    exp = math.exp
+    ad = a_dh * davies_d_float(ionic)
     tad = 2.0 * ad
     h = 10.0 ** x
     oh = 10.0 ** (tad - pkw - x)
-    species: dict[str, float] = {"H+": h, "OH-": oh}
-    pos, neg = h, oh
-    ionic_ideal = 0.5 * (h + oh)
-    for (col, z), label in zip(lay.py_ions, lay.ion_labels):
-        c = row[col]
-        species[label] = species.get(label, 0.0) + c
-        if z > 0:
-            pos += z * c
-        else:
-            neg -= z * c
-        ionic_ideal += 0.5 * z * z * c
+    values = [h, oh, *(row[col] for col, _ in lay.py_ions)]
     fractions = {}
-    for (col, states, _, _), key, labels in zip(lay.py_systems, lay.sys_keys, lay.sys_labels):
-        e = [10.0 ** (lb0 - tad * cc - st * x) for lb0, cc, st, _, _, _ in states]
-        tot = sum(e)
-        fr = {lab: v / tot for lab, v in zip(labels, e)}
-        fractions[key] = MappingProxyType(fr)
+    xl, tl = x * LN10, tad * LN10
+    for (col, states, _, _, _), key, labels in zip(lay.py_systems, lay.sys_keys,
+                                                   lay.sys_labels):
+        es = [exp(lb0 * LN10 - tl * cc - st * xl) for lb0, cc, st, _, _, _ in states]
+        inv = 1.0 / sum(es)
+        fr = [e * inv for e in es]
+        fractions[key] = MappingProxyType(dict(zip(labels, fr)))
         ctot = row[col]
-        for (_, _, _, zp, zn, z2), lab in zip(states, labels):
-            c = ctot * fr[lab]
-            species[lab] = species.get(lab, 0.0) + c
-            pos += zp * c
-            neg += zn * c
-            ionic_ideal += 0.5 * z2 * c
-    coeff = {lab: 10.0 ** (-ad * lay.charge_map[lab] ** 2) for lab in species}
+        values.extend([ctot * f for f in fr])
+    labels, charges = lay.py_species
+    residual = math.fsum(map(operator.mul, charges, values))
     if a_dh == 0.0:
-        ionic = ionic_ideal
+        ionic = 0.5 * sum(z * z * v for z, v in zip(charges, values))
+    by_z = [10.0 ** (-ad * z * z) for z in range(lay.zmax + 1)]
+    if len(set(labels)) == len(labels):
+        species = dict(zip(labels, values))
+    else:  # a label two components share (Na+ from two salts) is summed
+        species = {}
+        for lab, v in zip(labels, values):
+            species[lab] = species.get(lab, 0.0) + v
+    charge = lay.charge_map
+    coeff = {lab: by_z[abs(charge[lab])] for lab in species}
     warnings = _warning_texts(ionic > DAVIES_LIMIT_MOLAR, False, t_c > ENTHALPY_DATA_MAX_C,
                               activity)
     return Speciation(
         pH=ad - x, h_molar=h, oh_molar=oh, pkw=pkw, species=MappingProxyType(species),
         fractions=MappingProxyType(fractions), activity_coefficients=MappingProxyType(coeff),
         ionic_strength_molar=ionic, temperature_c=t_c, activity=activity, warnings=warnings,
-        converged=True, iterations=iterations, charge_residual_molar=pos - neg, mixture=mixture,
+        converged=True, iterations=iterations, charge_residual_molar=residual,
+        mixture=mixture,
     )

@@ -1,66 +1,78 @@
-"""Time a whole neutralization plan for a 10-component waste, and similar work in phreeqpython.
+"""Speed of a whole neutralization plan for every demo waste container (target 10 ms).
 
-Run by hand:  python tests/benchmarks/bench_planner.py   (not collected by pytest)
+Run by hand:  python tests/benchmarks/bench_planner.py   (or run_all.py for every figure)
+
+The demo storeroom is built once (``create_demo_database``), each container read with
+``container_sample`` (setup, outside the timed region); the timed work is the plan the
+Neutralize form makes, ``carboy.model.forms.neutralize.evaluate``: reading the fields,
+planning, cautions.  Each container with the reagent the app offers first (a base for
+acid waste, an acid for alkaline waste), and the carbonate reagent for acid waste (its
+CO2 makes the plan solve open systems).  Medians of interleaved runs with one core
+kept busy; peak memory of a fresh process that planned every case once.
 """
 
 from __future__ import annotations
 
-import statistics
-import time
+import sys
+import tempfile
+from pathlib import Path
 
-from carboy.model.mixture import Mixture
-from carboy.model.planner import plan_neutralization
-from carboy.model.reagents import parse_reagent
+sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-WASTE = {"sulfate": 0.005, "phosphate": 0.002, "acetate": 0.003, "citrate": 0.001,
-         "Cl-": 0.005, "NO3-": 0.002, "Na+": 0.001, "carbonate": 0.0005, "ammonium": 0.001,
-         "formate": 0.001}
+from _bench import Row, busy_core, interleaved, peak_rss_mb, print_table  # noqa: E402
+
+TARGET_MS = 10.0
+CASES = [("MA-01", "NaOH=1M"), ("OA-02", "NaOH=1M"), ("AL-03", "HCl=1M"),
+         ("HF-04", "NaOH@99%"), ("MA-01", "Na2CO3"), ("OA-02", "Na2CO3"),
+         ("HF-04", "Na2CO3")]
 
 
-def best_ms(fn, repeat=15):
-    fn()
-    times = []
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        times.append((time.perf_counter() - t) * 1000)
-    return min(times), statistics.median(times)
+def setup():
+    """(label, reagent) -> (fields, container, catalog), read from a fresh demo store."""
+    from carboy.model.forms.neutralize import NeutralizeFields
+    from carboy.store.db import open_database
+    from carboy.store.demo import create_demo_database
+    from carboy.store.planning import container_sample
+
+    with tempfile.TemporaryDirectory() as tmp:
+        store = open_database(create_demo_database(Path(tmp) / "demo.db"))
+        try:
+            found = {label: container_sample(store, label) for label, _ in CASES}
+        finally:
+            store.close()
+    return {(label, reagent): (NeutralizeFields(reagent=reagent), *found[label])
+            for label, reagent in CASES}
+
+
+def plan_all() -> None:
+    """Setup and one plan of every case (for the peak-memory figure)."""
+    from carboy.model.forms.neutralize import evaluate
+
+    for fields, container, catalog in setup().values():
+        evaluate(fields, catalog, container)
+
+
+def figures() -> list[Row]:
+    """One row per case, and the peak memory."""
+    from carboy.model.forms.neutralize import evaluate
+
+    cases = setup()
+    for (label, reagent), (fields, container, catalog) in cases.items():
+        got = evaluate(fields, catalog, container)
+        assert got.value is not None, (label, reagent, got.errors)
+    with busy_core():
+        med = interleaved({key: (lambda c=c: evaluate(c[0], c[2], c[1]))
+                           for key, c in cases.items()}, rounds=21)
+    rss = peak_rss_mb("bench_planner", "plan_all")
+    rows = [Row(f"plan: {label} with {reagent}", f"{t * 1e3:.1f} ms", f"<= {TARGET_MS:g} ms",
+                t * 1e3 <= TARGET_MS) for (label, reagent), t in med.items()]
+    rows.append(Row("plan: peak RSS, every case once", f"{rss:.0f} MB", "reported", True))
+    return rows
 
 
 def main() -> None:
-    sample = Mixture(WASTE, volume_l=1.0)
-    for text in ("NaOH=1M", "NaOH", "Na2CO3"):
-        reagent = parse_reagent(text)
-        lo, med = best_ms(lambda r=reagent: plan_neutralization(sample, r))
-        print(f"carboy plan, 10 components, {text:<8} best {lo:7.1f} ms  median {med:7.1f} ms"
-              f"  (budget 20 ms)")
-    try:
-        import phreeqpython
-    except ImportError:
-        print("phreeqpython not installed: no comparison")
-        return
-    # phreeqc.dat has no acetate/citrate/formate: the comparison waste keeps the rest
-    sol_def = {"units": "mmol/kgw", "pH": "7 charge", "S(6)": 5.0, "P": 2.0, "Cl": 5.0,
-               "N(5)": 2.0, "Na": 1.0, "C(4)": 0.5, "Amm": 1.0}
-
-    def phreeqc_work():
-        pp = phreeqpython.PhreeqPython()
-        base = pp.add_solution(sol_def)
-        for k in range(400):  # the curve: 400 additions
-            s = base.copy()
-            s.add("NaOH", 0.03 * k / 400 * 1000, "mmol")
-            s.forget()
-        for target in (7.0, 6.0, 9.0):  # three doses by bisection
-            lo, hi = 0.0, 30.0
-            for _ in range(30):
-                mid = 0.5 * (lo + hi)
-                s = base.copy()
-                s.add("NaOH", mid, "mmol")
-                lo, hi = (mid, hi) if s.pH < target else (lo, mid)
-                s.forget()
-
-    lo, med = best_ms(phreeqc_work, repeat=3)
-    print(f"phreeqpython, same curve + 3 doses (7 components)  best {lo:7.1f} ms  median {med:7.1f} ms")
+    print_table(figures(), "neutralization plans of the demo containers (medians, one core "
+                "kept busy)")
 
 
 if __name__ == "__main__":

@@ -44,7 +44,7 @@ def spy(monkeypatch, name):
 def test_fast_paths_settle_ordinary_solutions(catalog, monkeypatch, activity):
     mixes = mixtures(catalog)
     one, coupled, nested = (spy(monkeypatch, n) for n in
-                            ("solve_one", "solve_coupled", "solve_nested"))
+                            ("solve_one", "solve_warm", "solve_nested"))
     singles = [sp.speciate(m, activity=activity, catalog=catalog) for m in mixes]
     assert len(one) == len(mixes) and all(r is not None for r in one)
     assert not coupled and not nested

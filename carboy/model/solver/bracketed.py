@@ -14,11 +14,10 @@ from __future__ import annotations
 import numpy as np
 
 from carboy.model.activity import davies_d
-from carboy.model.solver.charge_balance import bracket, moments
+from carboy.model.solver.charge_balance import moments
 from carboy.model.solver.constants import (
     F_TOL,
     I_RTOL,
-    LN10,
     MAX_I_ITER,
     MAX_ROOT_ITER,
     WIDEN_STEPS,
@@ -37,7 +36,7 @@ def root(x0, ad, log_kw, pr: Problem):
     imbalance) is below ``F_TOL``, or when its bracket has shrunk below ``X_TOL``.
     """
     lay, am, zs_pos, zs_neg = pr.lay, pr.am, pr.zs_pos, pr.zs_neg
-    lo, hi = bracket(pr.q, pr.p, log_kw)
+    lo, hi = pr.bounds(log_kw)
     if pr.open_system:
         lo, hi = widen(lo, hi, ad, log_kw, pr)
     x = np.clip(x0, lo, hi)
@@ -46,14 +45,12 @@ def root(x0, ad, log_kw, pr: Problem):
     act = np.arange(x.shape[0])
     for _ in range(MAX_ROOT_ITER):
         xa = x[act]
-        mo = moments(xa, ad[act], lay, am[act])
-        psys, nsys, dpsys, dnsys, iz2 = mo["pos"], mo["neg"], mo["dpos"], mo["dneg"], mo["iz2"]
-        h = np.exp(xa * LN10)
-        oh = np.exp((log_kw[act] - xa) * LN10)
-        pos = h + zs_pos[act] + psys
-        neg = oh + zs_neg[act] + nsys
+        sums, d_x, _, _ = moments(xa, None if pr.a_dh == 0.0 else ad[act], log_kw[act], lay,
+                                  am[act])
+        pos = zs_pos[act] + sums[0]
+        neg = zs_neg[act] + sums[1]
         big_f = np.log(pos / neg)
-        fp = (LN10 * h + dpsys) / pos + (LN10 * oh - dnsys) / neg
+        fp = d_x[0] / pos - d_x[1] / neg
         la = np.where(big_f < 0, xa, lo[act])
         ha = np.where(big_f > 0, xa, hi[act])
         xn = xa - big_f / fp
@@ -63,7 +60,7 @@ def root(x0, ad, log_kw, pr: Problem):
         x[act] = np.where(big_f == 0, xa, xn)
         lo[act], hi[act] = la, ha
         done[act] = fin
-        gi[act] = 0.5 * (h + oh + iz2)
+        gi[act] = 0.5 * sums[2]
         act = act[~fin]
         if act.size == 0:
             break
@@ -72,9 +69,8 @@ def root(x0, ad, log_kw, pr: Problem):
 
 def charge_ratio(x, ad, log_kw, pr: Problem):
     """F = ln(POS / NEG) at log10[H+] = ``x`` for every point."""
-    mo = moments(x, ad, pr.lay, pr.am)
-    return np.log((np.exp(x * LN10) + pr.zs_pos + mo["pos"])
-                  / (np.exp((log_kw - x) * LN10) + pr.zs_neg + mo["neg"]))
+    sums = moments(x, None if pr.a_dh == 0.0 else ad, log_kw, pr.lay, pr.am)[0]
+    return np.log((pr.zs_pos + sums[0]) / (pr.zs_neg + sums[1]))
 
 
 def widen(lo, hi, ad, log_kw, pr: Problem):

@@ -5,104 +5,176 @@ The charge balance is written as POS(x) = NEG(x), with POS the positive charge
 falls with x, so F = ln POS - ln NEG is strictly increasing with the same root as
 f = POS - NEG.  Newton on F is nearly linear where one species dominates each side (a
 strong acid converges in one step), which is what makes the solve fast; the bracket
-(:func:`bracket`) keeps it safe.  :func:`moments` gives every system's share of POS,
-NEG and the ionic strength, with their derivatives, from one matrix product.
+(``problem.Problem.bounds``) keeps it safe.  :func:`moments` gives the systems' share of POS,
+NEG and the ionic strength, with their derivatives.
+
+Arrays here hold the points last: (S, N) for the S valid states of the layout
+(system after system), (K, N) for the K systems, so that each sum over a system's
+states adds whole rows.  H+ and OH- ride along as two more rows (H+ as a "state" one
+proton above the top, OH- one below, whose amounts are their own: no total fixes
+them), so that POS, NEG and the ionic strength with all their derivatives come from
+three weighted sums of rows each.  Every sum is a weighted sum of rows (``einsum``)
+or of a system's rows: no matrix product, so no BLAS call and none of its threads.
 """
 
 from __future__ import annotations
 
+import threading
+
 import numpy as np
 
 from carboy.model.solver.constants import LN10
-from carboy.model.solver.layout import NMOM, Layout
+from carboy.model.solver.layout import Layout
 from carboy.model.solver.problem import Amounts
 
-_POS_NEG_Z2 = [2, 3, 6]
-"""The moment columns of z+, z- and z² (see ``layout.NMOM``)."""
+try:  # numpy's own loop behind np.einsum, without the Python wrapper (a call per step)
+    from numpy._core._multiarray_umath import c_einsum as _einsum
+except ImportError:  # pragma: no cover - another numpy layout
+    _einsum = np.einsum
+
+_WORK = threading.local()
 
 
-def bracket(q, p, log_kw):
-    """log10[H+] bounds with f(lo) < 0 < f(hi), from the totals alone.
+def _buffer(name: str, rows: int, n: int) -> np.ndarray:
+    """A reusable (rows, n) work array of this thread.  The (states, points) arrays are
+    rewritten at every step of a solve: taking fresh memory for each would cost a page
+    fault per page (the allocator hands such blocks back to the system when freed)."""
+    cache = getattr(_WORK, "arrays", None)
+    if cache is None:
+        cache = _WORK.arrays = {}
+    buf = cache.get(name)
+    if buf is None or buf.shape != (rows, n):
+        buf = cache[name] = np.empty((rows, n))
+    return buf
 
-    With Q the largest negative charge the solutes can carry and P the largest
-    positive one, f(x) >= [H+] - [OH-] - Q and f(x) <= [H+] - [OH-] + P.  So
-    [H+] = Q + 1 gives f > 0 and [H+] = Kw'/(P + 1) gives f < 0.
+
+def state_weights(x, ad, lay: Layout, log_kw=None) -> np.ndarray:
+    """(S + 3, N): the unnormalized weights e of every state at log10[H+] = ``x`` and
+    A·D = ``ad``, then [H+] and [OH-] (with ``log_kw``, log10 Kw' at A·D; else 0) and a
+    row of zeros (for :func:`group_sums`).
+
+    e = 10**(log beta0 - 2 A D cmat - j x): with log10 gamma = -A D z², the step
+    HA(z) = H+ + A(z-1) has log10 K' = log10 K - 2 A D (z - 1), summed in cmat.  Where
+    the layout says the range could overflow, each system is shifted by its largest
+    exponent (a common factor of the system's states, which cancels).
     """
-    return log_kw - np.log10(p + 1.0) - 1e-3, np.log10(q + 1.0) + 1e-3
+    s, n = lay.flat_j.shape[0], x.shape[0]
+    t = _buffer("t", s + 3, n)
+    np.multiply.outer(lay.flat_j, x, out=t[:s])
+    np.subtract(lay.flat_lb0[:, None], t[:s], out=t[:s])
+    if ad is not None:
+        tmp = _buffer("tmp", s, n)
+        np.multiply.outer(lay.flat_c, 2.0 * ad, out=tmp)
+        t[:s] -= tmp
+    if lay.needs_shift:
+        for a, b in lay.sys_slices:
+            t[a:b] -= t[a:b].max(axis=0)
+    if log_kw is None:
+        t[s:s + 2] = -np.inf
+    else:
+        t[s] = x
+        np.subtract(log_kw, x, out=t[s + 1])
+    t[:s + 2] *= LN10
+    np.exp(t[:s + 2], out=t[:s + 2])
+    t[s + 2] = 0.0
+    return t
 
 
-def conditional_logbeta(lay: Layout, ad):
-    """Cumulative log10 beta of each state with Davies coefficients, ``ad`` = A·D(I).
-
-    With log10 gamma = -A D z², the step HA(z) = H+ + A(z-1) has
-    log10 K' = log10 K - 2 A D (z - 1); summed over the steps below each state.
-    """
-    return lay.logbeta0[None] - (2.0 * ad)[:, None, None] * lay.cmat[None]
-
-
-def _state_weights(x, ad, lay: Layout):
-    """e (unnormalized state weights, shifted where the layout needs it) and the
-    (N, K, NMOM) moments, each still multiplied by the system's sum of e."""
-    n = x.shape[0]
+def group_sums(e: np.ndarray, lay: Layout):
+    """Each system's sums over its states of e, j·e and cmat·e: three (K, N) arrays."""
     k, m = lay.z.shape
-    if lay.needs_shift:  # rare: padded layout with a per-system shift against overflow
-        t = conditional_logbeta(lay, ad) - np.arange(m, dtype=float) * x[:, None, None]
-        t -= t.max(axis=2, keepdims=True)
-        e = np.exp(t * LN10)
-        mom = (e.reshape(n, k * m) @ lay.wmat).reshape(n, k, NMOM)
-    else:  # valid states only; 10**t stays within the float range (see _needs_shift)
-        t = lay.flat_lb0 - np.multiply.outer(2.0 * ad, lay.flat_c) - np.multiply.outer(x, lay.flat_j)
-        e = np.exp(t * LN10)
-        mom = (e @ lay.flat_w).reshape(n, k, NMOM)
-    return e, mom
+    pad = _buffer("pad", k * m, e.shape[1])
+    # mode="clip" (the rows are valid anyway): "raise" would first take into a copy
+    e.take(lay.pad_rows, axis=0, out=pad, mode="clip")
+    e3 = pad.reshape(k, m, e.shape[1])
+    return (e3.sum(axis=1), _einsum("m,kmn->kn", lay.jj, e3),
+            _einsum("km,kmn->kn", lay.cmat, e3))
 
 
-def moments(x, ad, lay: Layout, am: Amounts, want_alpha: bool = False,
-            want_jac: bool = False):
+def _concentrations(x, ad, log_kw, lay: Layout, am: Amounts):
+    """The weights e (see :func:`state_weights`), each system's sums (see
+    :func:`group_sums`), its total (K, N) and the (S + 2, N) concentration of each
+    state, then of H+ and OH-."""
+    e = state_weights(x, ad, lay, log_kw)
+    sums = group_sums(e, lay)
+    s = lay.flat_j.shape[0]
+    s0 = sums[0]
+    if am.held is None:
+        ceff = am.c
+    else:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ceff = np.where(am.mask[:, None], am.held * s0 / e[am.e0_col], am.c)
+    conc = _buffer("conc", s + 2, e.shape[1])
+    (ceff / s0).take(lay.flat_sys, axis=0, out=conc[:s], mode="clip")
+    conc[:s] *= e[:s]
+    conc[s:] = e[s:s + 2]
+    return e, sums, ceff, conc
+
+
+def _deviation(conc: np.ndarray, weights: np.ndarray, ref: np.ndarray, lay: Layout):
+    """(weights - ref) conc for every row of ``conc``: ``weights`` per row, ``ref``
+    (K + 1, N) per system (its mean, or a held state's value; 0 in the last row, for H+
+    and OH-), in the work array ``dev``."""
+    out = _buffer("dev", *conc.shape)
+    ref.take(lay.row_sys, axis=0, out=out, mode="clip")
+    np.subtract(weights[:, None], out, out=out)
+    out *= conc
+    return out
+
+
+def species_at(x, ad, log_kw, lay: Layout, am: Amounts):
+    """The solved state: ``sums`` (3, N) as :func:`moments` gives them, ``ceff``
+    (K, N), and the (S, N) ``conc`` and fractions ``alpha`` of every state."""
+    e, sums, ceff, conc = _concentrations(x, ad, log_kw, lay, am)
+    s = lay.flat_j.shape[0]
+    return {"sums": _einsum("ws,sn->wn", lay.row_w, conc), "ceff": ceff,
+            "conc": conc[:s], "alpha": e[:s] / sums[0][lay.flat_sys]}
+
+
+def fractions_at(x, ad, lay: Layout) -> np.ndarray:
+    """(S, N) fraction of each state in its system at log10[H+] = ``x``, A·D = ``ad``."""
+    e = state_weights(x, ad, lay)
+    return e[:lay.flat_j.shape[0]] / group_sums(e, lay)[0][lay.flat_sys]
+
+
+def moments(x, ad, log_kw, lay: Layout, am: Amounts, want_jac: bool = False):
     """Charge sums, their derivatives and the ionic-strength sum at log10[H+] = x.
 
-    ``ad`` is A·D(I) of each point.  All per-system weighted sums come from one
-    matrix product with the block-diagonal moment weights of the layout.  Returns a
-    dict of arrays summed over systems (mol/L): ``pos``, ``neg`` (charge carried by
-    positive and negative system species), ``dpos``, ``dneg`` (their x-derivatives),
-    ``iz2`` (sum of c z²); with ``want_jac`` also ``diz2`` (its x-derivative) and
-    ``apos``, ``aneg``, ``aiz2`` (derivatives with respect to A·D, for the ionic
-    strength); ``ceff`` (N, K), each system's total (solved where a state is held);
-    with ``want_alpha`` the fractions ``alpha`` (N, K, M).
+    ``ad`` is A·D(I) of each point (``None``: ideal, every coefficient 1) and ``log_kw``
+    log10 Kw' there.  Returns ``(sums, d_x, d_ad, ceff)``: ``sums`` (3, N) holds POS and
+    NEG less the spectator ions (the charge carried by H+, OH- and the positive and
+    negative system species, mol/L) and Σ c z² of the same species; ``d_x`` their
+    x-derivatives; with ``want_jac`` ``d_ad`` their derivatives with respect to A·D
+    (for the ionic strength; else None); ``ceff`` (K, N), each system's total (solved
+    where a state is held).
 
     With alpha_j proportional to 10**(log beta0_j - 2 A D c_j - j x), d alpha_j/dx
-    = -ln10 alpha_j (j - jbar) and d alpha_j/d(AD) = -2 ln10 alpha_j (c_j - cbar), so
-    a weighted sum's derivatives are -ln10 cov(j, w) and -2 ln10 cov(c, w).
+    = -ln10 alpha_j (j - jbar) and d alpha_j/d(AD) = -2 ln10 alpha_j (c_j - cbar): each
+    derivative is a sum over states of a weight times (j - jbar) or (c - cbar) times
+    the state's concentration.  A held state j0 takes the place of jbar and cbar (the
+    system's total then moves with it, see ``problem.Amounts``); H+ counts as j = -1,
+    c = 0 and OH- as j = 1, c = -1, both about 0.
     """
-    n = x.shape[0]
-    k, m = lay.z.shape
-    e, mom = _state_weights(x, ad, lay)
-    ssum = mom[:, :, 0].copy()
-    mom /= mom[:, :, :1]
-    jbar = mom[:, :, 1]
-    cbar = mom[:, :, 7]
-    if am.held is None:
-        ceff, jref, cref = am.c, jbar, cbar
-    else:
-        e0 = e.reshape(n, -1)[:, am.e0_col]
-        with np.errstate(divide="ignore", invalid="ignore"):
-            ceff = np.where(am.mask, am.held * ssum / e0, am.c)
-        jref = np.where(am.mask, am.j0, jbar)
-        cref = np.where(am.mask, am.c0, cbar)
-    # sums over systems: a = sum C m_w, b = sum C jref m_w, c = sum C cref m_w
-    a = np.einsum("nk,nkw->wn", ceff, mom)
-    b = np.einsum("nk,nkw->wn", ceff * jref, mom[:, :, _POS_NEG_Z2])
-    out = {"pos": a[2], "neg": a[3], "iz2": a[6],
-           "dpos": -LN10 * (a[4] - b[0]), "dneg": -LN10 * (a[5] - b[1])}
+    e, (s0, s_j, s_c), ceff, conc = _concentrations(x, ad, log_kw, lay, am)
+    k = s0.shape[0]
+    ref = _buffer("ref", k + 1, x.shape[0])
+    ref[k] = 0.0
+    np.divide(s_j, s0, out=ref[:k])
+    if am.held is not None:
+        ref[:k] = np.where(am.mask[:, None], am.j0[:, None], ref[:k])
+    d_x = _einsum("ws,sn->wn", lay.row_w_dx, _deviation(conc, lay.row_j, ref, lay))
+    d_ad = None
     if want_jac:
-        c = np.einsum("nk,nkw->wn", ceff * cref, mom[:, :, _POS_NEG_Z2])
-        out.update(diz2=-LN10 * (a[10] - b[2]), apos=-2 * LN10 * (a[8] - c[0]),
-                   aneg=-2 * LN10 * (a[9] - c[1]), aiz2=-2 * LN10 * (a[11] - c[2]))
-    out["ceff"] = ceff
-    if want_alpha:
-        if not lay.needs_shift:
-            full = np.zeros((n, k * m))
-            full[:, lay.valid.reshape(-1)] = e
-            e = full.reshape(n, k, m)
-        out["alpha"] = e / e.sum(axis=2, keepdims=True)
-    return out
+        np.divide(s_c, s0, out=ref[:k])
+        if am.held is not None:
+            ref[:k] = np.where(am.mask[:, None], am.c0[:, None], ref[:k])
+        d_ad = _einsum("ws,sn->wn", lay.row_w_dad, _deviation(conc, lay.row_c, ref, lay))
+    return _einsum("ws,sn->wn", lay.row_w, conc), d_x, d_ad, ceff
+
+
+def padded_fractions(alpha: np.ndarray, lay: Layout) -> np.ndarray:
+    """(N, K, M) fractions, padded with 0, from the (S, N) flat ones."""
+    k, m = lay.z.shape
+    full = np.zeros((alpha.shape[1], k * m))
+    full[:, lay.flat_index] = alpha.T
+    return full.reshape(alpha.shape[1], k, m)

@@ -15,27 +15,32 @@ from __future__ import annotations
 
 import numpy as np
 
-from carboy.model.activity import davies_d, davies_dprime
-from carboy.model.solver.charge_balance import bracket, moments
+from carboy.model.activity import davies_d_and_slope
+from carboy.model.solver.charge_balance import moments
 from carboy.model.solver.constants import (
     COUPLED_ITER,
     COUPLED_NEAR,
     F_TOL,
     I_RTOL,
-    LN10,
     QUADRATIC_STEP,
 )
 from carboy.model.solver.problem import Problem
+from carboy.model.solver.single import solve_each
+from carboy.model.solver.starts import cubic_between
+
+TAIL_POINTS = 8
+"""When no more than this many points are left unsettled, the plain-Python path
+finishes them (numpy's per-call cost would dominate a vectorized step)."""
 
 
-def _newton_2x2(pr: Problem, mo, ia, h, oh, pos, neg, big_f, f_x, g):
-    """The step (dx, I_new, I settled?) with Davies coefficients: the exact 2×2 step
-    near the root, the plain step in x at a held I far from it, and the plain update
-    g of I where the 2×2 step of I is not trusted."""
-    dd = pr.a_dh * davies_dprime(ia)            # d(AD)/dI
-    f_i = (mo["apos"] / pos - (2 * LN10 * oh + mo["aneg"]) / neg) * dd
-    g_x = 0.5 * (LN10 * (h - oh) + mo["diz2"])
-    g_i = 0.5 * (2 * LN10 * oh + mo["aiz2"]) * dd - 1.0
+def _newton_2x2(d_ad, dz_x, ia, dd, pos, neg, big_f, f_x, g):
+    """The step (dx, I_new, I settled?) with Davies coefficients (``dd`` = d(AD)/dI,
+    ``d_ad`` the charge sums' A·D-derivatives, ``dz_x`` that of Σ c z² in x): the exact
+    2×2 step near the root, the plain step in x at a held I far from it, and the plain
+    update g of I where the 2×2 step of I is not trusted."""
+    f_i = (d_ad[0] / pos - d_ad[1] / neg) * dd
+    g_x = 0.5 * dz_x
+    g_i = 0.5 * d_ad[2] * dd - 1.0
     res_g = g - ia
     det = f_x * g_i - f_i * g_x
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -44,15 +49,14 @@ def _newton_2x2(pr: Problem, mo, ia, h, oh, pos, neg, big_f, f_x, g):
     # far from the root the coupled step can cycle: there, take the plain Newton
     # step in x at a held I; near it, the exact 2x2 step (or, if that fails,
     # the plain step with the plain update of I)
-    far = np.abs(big_f / f_x) > COUPLED_NEAR
+    plain = -big_f / f_x
+    far = np.abs(plain) > COUPLED_NEAR
     # ...and an ionic-strength step far from the plain update g is not trusted
-    bad = far | ~(np.isfinite(dx) & np.isfinite(di) & (ia + di > 0.5 * g)
-                  & (ia + di < 2.0 * g))
+    inew = ia + di
+    bad = far | ~(np.isfinite(dx) & (inew > 0.5 * g) & (inew < 2.0 * g))
     if bad.any():
-        dx = np.where(bad, -big_f / f_x, dx)
-        inew = np.where(far, ia, np.where(bad, g, ia + di))
-    else:
-        inew = ia + di
+        dx = np.where(bad, plain, dx)
+        inew = np.where(far, ia, np.where(bad, g, inew))
     i_ok = np.abs(inew - ia) <= I_RTOL * np.maximum(inew, 1e-12)
     return dx, inew, i_ok
 
@@ -64,18 +68,21 @@ def _newton_step(pr: Problem, xa, ia):
     I is the plain update g and I counts as settled.
     """
     davies = pr.a_dh != 0.0
-    ad = pr.a_dh * davies_d(ia)
-    log_kw = 2.0 * ad - pr.pkw
-    mo = moments(xa, ad, pr.lay, pr.am, want_jac=davies)
-    h = np.exp(xa * LN10)
-    oh = np.exp((log_kw - xa) * LN10)
-    pos = h + pr.zs_pos + mo["pos"]
-    neg = oh + pr.zs_neg + mo["neg"]
-    big_f = np.log(pos / neg)
-    f_x = (LN10 * h + mo["dpos"]) / pos + (LN10 * oh - mo["dneg"]) / neg
-    g = pr.ispec + 0.5 * (h + oh + mo["iz2"])
     if davies:
-        dx, inew, i_ok = _newton_2x2(pr, mo, ia, h, oh, pos, neg, big_f, f_x, g)
+        d, slope = davies_d_and_slope(ia)
+        ad = pr.a_dh * d
+        log_kw = 2.0 * ad - pr.pkw
+    else:
+        ad, log_kw = None, np.full(xa.shape, -pr.pkw)
+    sums, d_x, d_ad, _ = moments(xa, ad, log_kw, pr.lay, pr.am, want_jac=davies)
+    pos = sums[0] + pr.zs_pos
+    neg = sums[1] + pr.zs_neg
+    big_f = np.log(pos / neg)
+    f_x = d_x[0] / pos - d_x[1] / neg
+    g = pr.ispec + 0.5 * sums[2]
+    if davies:
+        dx, inew, i_ok = _newton_2x2(d_ad, d_x[2], ia, pr.a_dh * slope, pos, neg, big_f,
+                                     f_x, g)
     else:
         dx = -big_f / f_x
         inew = g
@@ -87,6 +94,10 @@ def _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi):
     """Where F was seen negative / positive while I stayed the same: a step leaving
     that interval is replaced by its midpoint (plain Newton can cycle on a buffer
     plateau); the memory is dropped whenever I moves.  Returns (xn, seen_lo, seen_hi)."""
+    if not held_i.any():   # I moved everywhere: nothing to remember
+        seen_lo.fill(-np.inf)
+        seen_hi.fill(np.inf)
+        return xn, seen_lo, seen_hi
     seen_lo = np.where(held_i, np.where(big_f < 0, np.maximum(seen_lo, xa), seen_lo), -np.inf)
     seen_hi = np.where(held_i, np.where(big_f > 0, np.minimum(seen_hi, xa), seen_hi), np.inf)
     guard = ((xn <= seen_lo) | (xn >= seen_hi)) & np.isfinite(seen_lo) & np.isfinite(seen_hi)
@@ -96,16 +107,24 @@ def _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi):
     return xn, seen_lo, seen_hi
 
 
-def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER):
-    """Newton on (x, I) for every point of ``pr``, from x = -7 and the spectators' I.
+def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
+    """Newton on (x, I) for every point of ``pr``, from ``x0`` and ``i0`` where given
+    (a neighbour's root, say), else from x = -7 and the spectators' I.
 
     Steps are kept inside the bracket of x (moderate steps for an open system, whose
     totals do not bound it) and at positive I.  Returns ``(x, ionic, ok, iterations)``;
     ``ok`` is False where a point was not accepted within ``max_iter`` steps.
     """
     n = pr.ispec.shape[0]
-    x_out = np.full(n, -7.0)
-    i_out = pr.ispec + 1e-7
+    if n > pr.lay.chunk:  # block by block (see Layout.chunk)
+        parts = [solve_coupled(pr[a:a + pr.lay.chunk], max_iter=max_iter,
+                               x0=None if x0 is None else x0[a:a + pr.lay.chunk],
+                               i0=None if i0 is None else i0[a:a + pr.lay.chunk])
+                 for a in range(0, n, pr.lay.chunk)]
+        return (np.concatenate([p[0] for p in parts]), np.concatenate([p[1] for p in parts]),
+                np.concatenate([p[2] for p in parts]), max(p[3] for p in parts))
+    x_out = np.full(n, -7.0) if x0 is None else np.array(x0, dtype=float)
+    i_out = pr.ispec + 1e-7 if i0 is None else np.maximum(np.array(i0, dtype=float), 1e-12)
     ok = np.zeros(n, dtype=bool)
     # working copies of the unfinished points, compacted whenever some finish
     idx = np.arange(n)
@@ -117,11 +136,11 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER):
     for it in range(1, max_iter + 1):  # noqa: B007 (used after the loop)
         big_f, dx, inew, i_ok, log_kw = _newton_step(cur, xa, ia)
         if cur.open_system:  # the totals do not bound a held system: keep steps moderate
-            xn = xa + np.clip(dx, -3.0, 3.0)
+            xn = xa + np.minimum(np.maximum(dx, -3.0), 3.0)
         else:
-            lo, hi = bracket(cur.q, cur.p, log_kw)
-            xn = np.clip(xa + dx, lo, hi)
-        held_i = (inew == ia) | (not davies)
+            lo, hi = cur.bounds(log_kw)
+            xn = np.minimum(np.maximum(xa + dx, lo), hi)
+        held_i = (inew == ia) if davies else np.ones(xa.shape, dtype=bool)
         xn, seen_lo, seen_hi = _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi)
         # accept on the Newton step itself, and keep that step (never a clipped or
         # guarded one) as the answer
@@ -136,6 +155,66 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER):
             idx, xa, ia = idx[keep], xa[keep], ia[keep]
             seen_lo, seen_hi = seen_lo[keep], seen_hi[keep]
             cur = cur[keep]
+        if idx.size <= TAIL_POINTS and not cur.lay.needs_shift and it < max_iter:
+            xt, i_t, okt, itt = solve_each(cur, xa, ia, max_iter=max_iter - it)
+            x_out[idx], i_out[idx], ok[idx] = xt, i_t, okt
+            return x_out, i_out, ok, it + itt
     else:
         x_out[idx], i_out[idx] = xa, ia
     return x_out, i_out, ok, it
+
+
+WARM_MIN = 25
+"""Batches at least this long are solved coarse to fine (see :func:`solve_warm`)."""
+WARM_STRIDE = 8
+"""Every this many points is solved first; the points between start from there."""
+
+
+def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
+    """:func:`solve_coupled` for a batch whose neighbouring points are alike (a curve).
+
+    Every ``WARM_STRIDE``-th point (and the last) is solved first, itself coarse to fine
+    when it is long; each point between then starts from the cubic through its solved
+    neighbours' roots (log10[H+] and I, see ``starts.cubic_between``), a few Newton
+    steps from its own.  A start only saves steps: a point is accepted on the same test
+    whatever its start, so the order of the points never changes a result beyond the
+    tolerances.  Given ``x0`` and ``i0``, a point starts there instead, and the points
+    whose start is NaN are solved coarse to fine among themselves.
+    """
+    n = pr.ispec.shape[0]
+    if x0 is not None:
+        given = np.isfinite(x0) & np.isfinite(i0)
+        if not given.all():
+            return _merge(n, (np.flatnonzero(given), _started(pr, given, x0, i0, max_iter)),
+                          (np.flatnonzero(~given), solve_warm(pr[~given], max_iter=max_iter)))
+        return _started(pr, slice(None), x0, i0, max_iter)
+    if n < WARM_MIN:
+        return (solve_coupled(pr, max_iter=max_iter) if pr.lay.needs_shift
+                else solve_each(pr, chain=True, max_iter=max_iter))  # step by step
+    coarse = np.unique(np.r_[np.arange(0, n, WARM_STRIDE), n - 1])
+    fine = np.ones(n, dtype=bool)
+    fine[coarse] = False
+    fine = np.flatnonzero(fine)
+    xc, ic, okc, itc = solve_warm(pr[coarse], max_iter=max_iter)
+    xs, i_s = cubic_between(fine, coarse, xc, ic)
+    return _merge(n, (coarse, (xc, ic, okc, itc)),
+                  (fine, solve_coupled(pr[fine], max_iter=max_iter, x0=xs, i0=i_s)))
+
+
+def _started(pr: Problem, which, x0, i0, max_iter: int):
+    """Solve the points ``which`` of ``pr`` from their starts."""
+    sub = pr if isinstance(which, slice) else pr[which]
+    xs, i_s = np.asarray(x0)[which], np.asarray(i0)[which]
+    if sub.ispec.shape[0] < WARM_MIN and not pr.lay.needs_shift:
+        return solve_each(sub, xs, i_s, max_iter=max_iter)
+    return solve_coupled(sub, max_iter=max_iter, x0=xs, i0=i_s)
+
+
+def _merge(n: int, *parts):
+    """``(x, ionic, ok, iterations)`` of n points from (indices, result) parts."""
+    x, ionic, ok = np.empty(n), np.empty(n), np.empty(n, dtype=bool)
+    worst = 0
+    for idx, (xp, ip, okp, itp) in parts:
+        x[idx], ionic[idx], ok[idx] = xp, ip, okp
+        worst = max(worst, itp)
+    return x, ionic, ok, worst

@@ -32,9 +32,10 @@ ENTHALPY_DATA_MAX_C = 77.0
 """Upper end (350 K) of the range the ionization enthalpies were fitted over
 (Goldberg, Kishore & Lennen 2002); beyond it pKa(T) is an extrapolation."""
 
-NMOM = 12
-"""Moments per system, the columns of ``Layout.wmat``: sums of e times
-1, j, z+, z-, j z+, j z-, z², c, c z+, c z-, j z², c z² (c: the activity term of cmat)."""
+CHUNK_BYTES = 256_000
+"""The vectorized paths work through a batch in blocks whose (states, points) arrays
+stay below this size: larger temporaries come from fresh pages of memory on every
+allocation (each page then costs a fault), and stay out of the fastest caches."""
 
 
 def pka_at(system: System, temperature_c: float) -> np.ndarray:
@@ -73,16 +74,29 @@ class Layout:
     ion_labels: tuple[str, ...]
     charge_map: Mapping[str, int]
     zmax: int
-    wmat: np.ndarray              # (K*M, K*NMOM) block-diagonal moment weights
     needs_shift: bool             # could 10**(log beta - j x) leave the float range?
     logbeta0: np.ndarray          # (K, M) cumulative log10 beta at I = 0, -inf where padded
     cmat: np.ndarray              # (K, M) its activity term: log beta' = log beta0 - 2 A D cmat
-    flat_lb0: np.ndarray          # (S,) log beta0 of the valid states only
-    flat_c: np.ndarray            # (S,)
-    flat_j: np.ndarray            # (S,)
-    flat_w: np.ndarray            # (S, K*NMOM) the valid rows of wmat
+    # the valid states only, system after system (S states in all): "flat" arrays
+    flat_lb0: np.ndarray          # (S,) log beta0
+    flat_c: np.ndarray            # (S,) cmat
+    flat_j: np.ndarray            # (S,) protons lost from the top state
+    flat_sys: np.ndarray          # (S,) the system each state belongs to
+    flat_index: np.ndarray        # (S,) position of each state in the padded (K*M) order
+    sys_slices: tuple             # per system, (first, end) of its states in the flat order
+    jj: np.ndarray                # (M,) 0, 1, ..., M-1: protons lost from the top state
+    pad_rows: np.ndarray          # (K*M,) flat row of each padded state (S + 2: zeros)
+    # the rows of the charge sums: the S states, then H+ and OH- (see charge_balance)
+    row_sys: np.ndarray           # (S+2,) the system of each row (K for H+ and OH-)
+    row_j: np.ndarray             # (S+2,) j, and -1 for H+, 1 for OH-
+    row_c: np.ndarray             # (S+2,) cmat, and 0 for H+, -1 for OH-
+    row_w: np.ndarray             # (3, S+2) z+, z-, z² of each row
+    row_w_dx: np.ndarray          # (3, S+2) -ln10 times row_w (x-derivatives)
+    row_w_dad: np.ndarray         # (3, S+2) -2 ln10 times row_w (A·D-derivatives)
+    chunk: int                    # points per block of the vectorized paths (see CHUNK_BYTES)
     py_systems: tuple             # the same, as Python tuples, for the one-solution path
     py_ions: tuple
+    py_species: tuple             # (labels, charges): H+, OH-, the ions, every state
 
 
 def resolve(catalog, key: str) -> System | Ion:
@@ -140,28 +154,24 @@ def _parts(catalog, keys: tuple[str, ...], temperature_c: float) -> _Parts:
     return out
 
 
-def _moment_weights(z: np.ndarray, valid: np.ndarray, cmat: np.ndarray) -> np.ndarray:
-    """(K*M, K*NMOM) block-diagonal weights: one matrix product gives every moment."""
-    k, m = z.shape
-    jj = np.arange(m, dtype=float)
-    wmat = np.zeros((k * m, k * NMOM))
-    for i in range(k):
-        zp, zn, z2, c = np.maximum(z[i], 0.0), np.maximum(-z[i], 0.0), z[i] ** 2, cmat[i]
-        block = np.stack([np.ones(m), jj, zp, zn, jj * zp, jj * zn, z2,
-                          c, c * zp, c * zn, jj * z2, c * z2], axis=1)
-        wmat[i * m:(i + 1) * m, i * NMOM:(i + 1) * NMOM] = block * valid[i][:, None]
-    return wmat
-
-
 def _python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray) -> tuple:
-    """Per system: (column, per state (log beta0, c, j, z+, z-, z²), -zmin+, zmax+)."""
-    return tuple(
-        (sys_cols[i], tuple((float(lb0[i, st]), float(cmat[i, st]), float(st),
-                             float(max(zs[i][st], 0)), float(max(-zs[i][st], 0)),
-                             float(zs[i][st] ** 2)) for st in range(len(zs[i]))),
-         float(max(-min(zs[i]), 0)), float(max(max(zs[i]), 0)))
-        for i in range(len(zs))
-    )
+    """Per system: (column, per state (log beta0, c, j, z+, z-, z²), -zmin+, zmax+, fast).
+
+    ``fast`` serves the closed forms of the one-solution path (``single``) where every
+    state has the same sign of charge: (sign, top charge, per state after the first
+    (ln10 log beta0, ln10 c, ln10 j, j, j², j³, j⁴)); None for a system with states of
+    both signs."""
+    out = []
+    for i, z in enumerate(zs):
+        states = tuple((float(lb0[i, st]), float(cmat[i, st]), float(st), float(max(z[st], 0)),
+                        float(max(-z[st], 0)), float(z[st] ** 2)) for st in range(len(z)))
+        fast = None
+        if min(z) >= 0 or max(z) <= 0:
+            fast = (1.0 if min(z) >= 0 else -1.0, float(z[0]), tuple(
+                (LN10 * lb, LN10 * c, LN10 * j, j, j * j, j ** 3, j ** 4)
+                for lb, c, j, _, _, _ in states[1:]))
+        out.append((sys_cols[i], states, float(max(-min(z), 0)), float(max(max(z), 0)), fast))
+    return tuple(out)
 
 
 def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layout:
@@ -184,7 +194,6 @@ def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layo
     jj = np.arange(m, dtype=float)
     cmat = np.concatenate([np.zeros((k, 1)), np.cumsum(np.where(valid[:, 1:], zacid - 1.0, 0.0),
                                                        axis=1)], axis=1)
-    wmat = _moment_weights(z, valid, cmat)
     lb0 = np.where(valid, np.concatenate([np.zeros((k, 1)), np.cumsum(logk, axis=1)], axis=1),
                    -np.inf)
     return Layout(
@@ -194,14 +203,48 @@ def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layo
         sys_zmin=np.array([min(c) for c in zs]), sys_zmax=np.array([max(c) for c in zs]),
         ion_cols=np.asarray(pt.ion_cols, dtype=int), ion_z=np.asarray(pt.ion_z, dtype=float),
         ion_labels=tuple(pt.ion_labels), charge_map=MappingProxyType(pt.charge_map), zmax=zmax,
-        wmat=wmat, needs_shift=_needs_shift(logk, m),
-        logbeta0=lb0,
-        cmat=cmat,
+        needs_shift=_needs_shift(logk, m), logbeta0=lb0, cmat=cmat,
         flat_lb0=lb0[valid], flat_c=cmat[valid], flat_j=np.broadcast_to(jj, (k, m))[valid],
-        flat_w=wmat[valid.reshape(-1)],
+        flat_sys=np.broadcast_to(np.arange(k)[:, None], (k, m))[valid],
+        flat_index=np.flatnonzero(valid.reshape(-1)), sys_slices=_slices(valid),
+        jj=jj, pad_rows=_pad_rows(valid), **_rows(z, valid, cmat), chunk=max(64, CHUNK_BYTES // (8 * (int(valid.sum()) + 1))),
         py_systems=_python_systems(pt.sys_cols, zs, lb0, cmat),
         py_ions=tuple(zip(pt.ion_cols, (float(v) for v in pt.ion_z))),
+        py_species=_species(pt),
     )
+
+
+def _species(pt: _Parts) -> tuple:
+    """(labels, charges) of H+, OH-, the spectator ions and every state, in that order
+    (a label may repeat: Na+ from two salts)."""
+    labels = ("H+", "OH-", *pt.ion_labels, *(lab for labs in pt.sys_labels for lab in labs))
+    return labels, tuple(pt.charge_map[lab] for lab in labels)
+
+
+def _rows(z: np.ndarray, valid: np.ndarray, cmat: np.ndarray) -> dict:
+    """The rows of the charge sums: every valid state, then H+ and OH-."""
+    k, m = z.shape
+    zs = np.r_[z[valid], 1.0, -1.0]
+    w = np.stack([np.maximum(zs, 0.0), np.maximum(-zs, 0.0), zs ** 2])
+    return {"row_sys": np.r_[np.broadcast_to(np.arange(k)[:, None], (k, m))[valid], k, k],
+            "row_j": np.r_[np.broadcast_to(np.arange(m, dtype=float), (k, m))[valid], -1.0, 1.0],
+            "row_c": np.r_[cmat[valid], 0.0, -1.0], "row_w": w, "row_w_dx": -LN10 * w,
+            "row_w_dad": -2.0 * LN10 * w}
+
+
+def _pad_rows(valid: np.ndarray) -> np.ndarray:
+    """For each padded (K*M) state, its row in the flat order, or S + 2 (the zero row
+    after H+ and OH-, see ``charge_balance.state_weights``)."""
+    flat = valid.reshape(-1)
+    rows = np.full(flat.shape[0], int(flat.sum()) + 2, dtype=np.intp)
+    rows[flat] = np.arange(int(flat.sum()))
+    return rows
+
+
+def _slices(valid: np.ndarray) -> tuple:
+    """(first, end) of each system's states in the flat order of the valid states."""
+    ends = np.cumsum(valid.sum(axis=1))
+    return tuple((int(e - n), int(e)) for e, n in zip(ends, valid.sum(axis=1)))
 
 
 def _needs_shift(logk: np.ndarray, m: int) -> bool:

@@ -26,19 +26,22 @@ class Amounts:
     For a held state j0 at concentration F, every state is F·e_j/e_j0, i.e. the
     system behaves as a total C = F·S/e_j0 that moves with x and A·D; its moments'
     derivatives then take j0 and c_j0 where a closed system has jbar and cbar.
+
+    Arrays hold the points last, as the charge sums use them.
     """
 
-    c: np.ndarray                        # (N, K) totals (ignored where held)
-    held: np.ndarray | None = None       # (N, K) held concentration of the reference state
+    c: np.ndarray                        # (K, N) totals (ignored where held)
+    held: np.ndarray | None = None       # (K, N) held concentration of the reference state
     mask: np.ndarray | None = None       # (K,) True where held
     j0: np.ndarray | None = None         # (K,) reference state
     c0: np.ndarray | None = None         # (K,) cmat of the reference state
-    e0_col: np.ndarray | None = None     # (K,) column of the reference state in e
+    e0_col: np.ndarray | None = None     # (K,) row of the reference state in the flat states
 
     def __getitem__(self, idx) -> Amounts:
         if self.held is None:
-            return Amounts(self.c[idx])
-        return Amounts(self.c[idx], self.held[idx], self.mask, self.j0, self.c0, self.e0_col)
+            return Amounts(self.c[:, idx])
+        return Amounts(self.c[:, idx], self.held[:, idx], self.mask, self.j0, self.c0,
+                       self.e0_col)
 
 
 def _held_value(lay: Layout, key: str, spec, n: int) -> tuple[int, int, np.ndarray]:
@@ -62,22 +65,20 @@ def _held_value(lay: Layout, key: str, spec, n: int) -> tuple[int, int, np.ndarr
 
 def held_amounts(lay: Layout, c_sys: np.ndarray, held) -> Amounts:
     """Validate ``held`` ({system key: (species label, mol/L)}) and express it as
-    :class:`Amounts` over the totals ``c_sys`` (N, K)."""
-    n, k = c_sys.shape
+    :class:`Amounts` over the totals ``c_sys`` (K, N)."""
+    k, n = c_sys.shape
     if not held:
         return Amounts(c_sys)
-    conc = np.zeros((n, k))
+    conc = np.zeros((k, n))
     mask = np.zeros(k, dtype=bool)
     j0 = np.zeros(k)
-    m = lay.z.shape[1]
-    offsets = np.concatenate([[0], np.cumsum(lay.valid.sum(axis=1))[:-1]]) if k else np.zeros(0)
     e0_col = np.zeros(k, dtype=int)
     for key, spec in held.items():
         i, jj, v = _held_value(lay, key, spec, n)
-        conc[:, i] = v
+        conc[i] = v
         mask[i] = True
         j0[i] = jj
-        e0_col[i] = (i * m + jj) if lay.needs_shift else int(offsets[i]) + jj
+        e0_col[i] = lay.sys_slices[i][0] + jj
     c0 = lay.cmat[np.arange(k), j0.astype(int)] if k else np.zeros(0)
     return Amounts(c_sys, conc, mask, j0, c0, e0_col)
 
@@ -95,10 +96,32 @@ class Problem:
     p: np.ndarray          # (N,) largest positive charge the solutes can carry
     pkw: float
     a_dh: float            # activity scale A (0: ideal)
+    totals: np.ndarray     # (N, columns) the totals as given, for the one-solution path
+    hi: np.ndarray         # (N,) upper bound of x, log10(Q + 1) + 1e-3
+    lo_below: np.ndarray   # (N,) the lower bound's distance below log10 Kw', log10(P + 1) + 1e-3
 
     def __getitem__(self, idx) -> Problem:
         return Problem(self.lay, self.am[idx], self.zs_pos[idx], self.zs_neg[idx],
-                       self.ispec[idx], self.q[idx], self.p[idx], self.pkw, self.a_dh)
+                       self.ispec[idx], self.q[idx], self.p[idx], self.pkw, self.a_dh,
+                       self.totals[idx], self.hi[idx], self.lo_below[idx])
+
+    def bounds(self, log_kw):
+        """log10[H+] bounds with f(lo) < 0 < f(hi), from the totals alone.
+
+        With Q the largest negative charge the solutes can carry and P the largest
+        positive one, f(x) >= [H+] - [OH-] - Q and f(x) <= [H+] - [OH-] + P.  So
+        [H+] = Q + 1 gives f > 0 and [H+] = Kw'/(P + 1) gives f < 0.
+        """
+        return log_kw - self.lo_below, self.hi.copy()
+
+    def held_of(self, n: int) -> dict:
+        """The held states of point ``n`` as the one-solution path takes them:
+        {system index: (reference state, its cmat term, its concentration)}."""
+        am = self.am
+        if am.held is None:
+            return {}
+        return {int(k): (float(am.j0[k]), float(am.c0[k]), float(am.held[k, n]))
+                for k in np.flatnonzero(am.mask)}
 
     @property
     def open_system(self) -> bool:
@@ -112,15 +135,22 @@ def build_problem(lay: Layout, totals: np.ndarray, held, pkw: float, a_dh: float
     ``held`` is validated here (see :func:`held_amounts`); a held system's total does
     not bound the charge, so it is left out of ``q`` and ``p``.
     """
-    c_sys = totals[:, lay.sys_cols]
+    c_sys = np.ascontiguousarray(totals[:, lay.sys_cols].T)
     am = held_amounts(lay, c_sys, held)
     if am.held is not None:
-        c_sys = np.where(am.mask, 0.0, c_sys)  # held systems' totals do not bound the charge
+        # held systems' totals do not bound the charge
+        c_sys = np.where(am.mask[:, None], 0.0, c_sys)
         am = Amounts(c_sys, am.held, am.mask, am.j0, am.c0, am.e0_col)
     c_ion = totals[:, lay.ion_cols]
-    zs_pos = c_ion @ np.maximum(lay.ion_z, 0.0)
-    zs_neg = c_ion @ np.maximum(-lay.ion_z, 0.0)
-    ispec = 0.5 * (c_ion @ (lay.ion_z ** 2))
-    q = zs_neg + c_sys @ np.maximum(-lay.sys_zmin, 0.0)
-    p = zs_pos + c_sys @ np.maximum(lay.sys_zmax, 0.0)
-    return Problem(lay, am, zs_pos, zs_neg, ispec, q, p, pkw, a_dh)
+    zs_pos = _weighted(c_ion, np.maximum(lay.ion_z, 0.0))
+    zs_neg = _weighted(c_ion, np.maximum(-lay.ion_z, 0.0))
+    ispec = 0.5 * _weighted(c_ion, lay.ion_z ** 2)
+    q = zs_neg + _weighted(c_sys.T, np.maximum(-lay.sys_zmin, 0.0))
+    p = zs_pos + _weighted(c_sys.T, np.maximum(lay.sys_zmax, 0.0))
+    return Problem(lay, am, zs_pos, zs_neg, ispec, q, p, pkw, a_dh, totals,
+                   np.log10(q + 1.0) + 1e-3, np.log10(p + 1.0) + 1e-3)
+
+
+def _weighted(cols: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """(N,) sum over columns of ``cols`` (N, J) times ``w`` (J,), without BLAS."""
+    return np.einsum("nj,j->n", cols, w)

@@ -1,0 +1,71 @@
+"""Start values for points between solved neighbours (warm starts along a curve).
+
+A start only saves Newton steps: a point is accepted on the same test whatever its
+start.  Between two solved neighbours, log10[H+] is taken from the cubic through the
+four nearest roots where the curve is smooth; across a jump (an equivalence point,
+where log10[H+] changes by whole units from one neighbour to the next) a cubic
+overshoots and a straight line in log10[H+] misses by as much, but the net excess of
+H+ over OH-, [H+] - Kw/[H+], changes nearly linearly with the amount added there: the
+start then comes from the straight line in that excess (:func:`start_between`, for
+states between the points of a coarse grid; a batch's own warm start, whose
+neighbours are close, takes the cubic alone).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+CUBIC_TRUST = 0.05
+"""A start interpolated by a cubic is used only this close to the straight line."""
+JUMP = 2.0
+"""Neighbouring roots this far apart (in log10[H+]) mark a jump."""
+
+
+def cubic_between(at: np.ndarray, nodes: np.ndarray, *columns: np.ndarray) -> list:
+    """Each of ``columns`` (values known at the increasing positions ``nodes``) at the
+    positions ``at``: the cubic through the four nearest nodes where it stays within
+    ``CUBIC_TRUST`` of the straight line between the two neighbours, the line
+    elsewhere."""
+    m = nodes.shape[0]
+    at = np.asarray(at, dtype=float)
+    lines = [np.interp(at, nodes, v) for v in columns]
+    if m < 4:
+        return lines
+    first = np.clip(np.searchsorted(nodes, at) - 2, 0, m - 4)
+    p = [nodes[first + k].astype(float) for k in range(4)]   # the four nodes
+    d = [at - pk for pk in p]
+    # Lagrange weights: w_k = prod_(q != k) (at - p_q) / (p_k - p_q)
+    w = [d[(k + 1) % 4] * d[(k + 2) % 4] * d[(k + 3) % 4]
+         / ((p[k] - p[(k + 1) % 4]) * (p[k] - p[(k + 2) % 4]) * (p[k] - p[(k + 3) % 4]))
+         for k in range(4)]
+    out = []
+    for v, line in zip(columns, lines):
+        cubic = (w[0] * v[first] + w[1] * v[first + 1] + w[2] * v[first + 2]
+                 + w[3] * v[first + 3])
+        out.append(np.where(np.abs(cubic - line) <= CUBIC_TRUST, cubic, line))
+    return out
+
+
+def start_between(at, nodes, log_h, ionic, pkw: float):
+    """(log10[H+], I) starts at the positions ``at`` from roots known at the increasing
+    positions ``nodes`` (see the module docstring); ``pkw`` sets the excess's Kw."""
+    at = np.asarray(at, dtype=float)
+    x, i = cubic_between(at, nodes, log_h, ionic)
+    right = np.clip(np.searchsorted(nodes, at), 1, nodes.shape[0] - 1)
+    jump = np.abs(log_h[right] - log_h[right - 1]) > JUMP
+    if jump.any():
+        x = np.where(jump, _excess_line(at, nodes, log_h, pkw), x)
+    return x, i
+
+
+def _excess_line(at, nodes, log_h, pkw: float) -> np.ndarray:
+    """log10[H+] from the straight line in [H+] - Kw/[H+] between the nodes."""
+    h = 10.0 ** log_h
+    kw = 10.0 ** -pkw
+    excess = np.interp(at, nodes, h - kw / h)
+    root = np.sqrt(excess * excess + 4.0 * kw)
+    # the larger of [H+] and [OH-] from the root that does not cancel (np.where works
+    # out both: the other one may take the log of 0)
+    with np.errstate(divide="ignore"):
+        return np.where(excess >= 0, np.log10(0.5 * (excess + root)),
+                        np.log10(kw) - np.log10(0.5 * (root - excess)))
