@@ -28,6 +28,7 @@ from __future__ import annotations
 
 import bisect
 import re
+import threading
 import unicodedata
 from dataclasses import dataclass
 
@@ -123,15 +124,19 @@ _NAMES_KEPT = 8
 """Catalogs whose name words are kept (the packaged one, and a few with user compounds)."""
 
 
+_NAMES_LOCK = threading.Lock()  # the app's workers search from several threads
+
+
 def _names(catalog: Catalog) -> _Names:
-    kept = _NAMES.get(id(catalog))
-    if kept is not None and kept[0] is catalog:
-        return kept[1]
-    names = _Names(catalog)
-    if len(_NAMES) >= _NAMES_KEPT:
-        _NAMES.pop(next(iter(_NAMES)))
-    _NAMES[id(catalog)] = (catalog, names)
-    return names
+    with _NAMES_LOCK:
+        kept = _NAMES.get(id(catalog))
+        if kept is not None and kept[0] is catalog:
+            return kept[1]
+        names = _Names(catalog)
+        if len(_NAMES) >= _NAMES_KEPT:
+            _NAMES.pop(next(iter(_NAMES)))
+        _NAMES[id(catalog)] = (catalog, names)
+        return names
 
 
 TEXT_COLUMNS = "{compound_key compound_name location lot}"
