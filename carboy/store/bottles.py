@@ -1,9 +1,10 @@
 """Stock bottles in the database: adding, standardizing, status, and the paged, searched list.
 
 The stock list is paged with keysets on the bottle id (``page(after_id=...)``) and
-searched through an FTS5 index (compound key and name, location, lot), every word of
-the search taken as a quoted prefix, so any text a user types is safe.  The strength
-check of every bottle in use (:func:`check`) reads the list in such pages.
+searched through an FTS5 index (compound key and name, location, lot, and the catalog's
+names of each compound: :mod:`carboy.store.stock_search`), so any text a user types is
+safe.  Counts are kept by the database for the whole list and each status, and a
+search's count stops at :data:`~carboy.store.stock_search.COUNT_BOUND`.
 """
 
 from __future__ import annotations
@@ -16,14 +17,15 @@ from typing import Any
 
 from carboy.errors import InvalidInput
 from carboy.model import numbers
-from carboy.store import journal, rules
+from carboy.store import journal, rules, stock_search
 from carboy.store.bottle_fields import Bottle, validate
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store, current_user, stamp
 from carboy.store.errors import NotFound
 from carboy.store.readers import format_strength, parse_strength, parse_whole
 from carboy.store.statuses import BottleStatus
-from carboy.store.strength import CheckRow, check_row, strength_status
+from carboy.store.stock_search import COUNT_BOUND, Count, Search
+from carboy.store.strength import strength_status
 
 PAGE_SIZE = 50
 
@@ -169,93 +171,164 @@ def get(store: Store, bottle_id: int | str, *, today: date | None = None) -> Bot
     return _bottle(row, today or date.today(), rules.load(store))
 
 
-def fts_query(search: str | None) -> str | None:
-    """A search box's text as a safe FTS5 query: every word a quoted prefix, all required."""
-    if not search:
-        return None
-    words = [w for w in search.split() if any(ch.isalnum() for ch in w)]
-    if not words:
-        return None
-    return " ".join('"' + w.replace('"', '""') + '"*' for w in words)
-
-
 def _status_filter(status: str | None) -> BottleStatus | None:
     return None if status is None else BottleStatus.parse(status)
 
 
-def _page_query(search: str | None, after_id: int | None, before_id: int | None,
-                status: BottleStatus | None, limit: int) -> tuple[str, list, bool]:
-    """The SQL of one page (one row more than ``limit``), its parameters, and its direction."""
-    query = fts_query(search)
-    cols = ", ".join("b." + c for c in _BOTTLE_COLUMNS)
+def _conditions(found: Search, status: BottleStatus | None, *,
+                rows: bool = True) -> tuple[str, str, list[str], list]:
+    """The FROM clause, the id column it pages on, and the conditions of a search with
+    their parameters (``rows`` False: only counted, the bottles themselves not read).
+    With words to match, the search index drives, the status among its conditions."""
     where, params = [], []
-    if query:
-        source = ("stock_bottles_fts f JOIN stock_bottles b ON b.id = f.rowid")
+    if found.match:
+        match = found.match
+        if status is not None:
+            match = f"({match}) AND {stock_search.status_condition(status)}"
+        # CROSS JOIN: the index drives, in id order (never the table asking the index
+        # about one bottle at a time)
+        source = ("stock_bottles_fts f" if not rows else
+                  "stock_bottles_fts f CROSS JOIN stock_bottles b ON b.id = f.rowid")
         where.append("stock_bottles_fts MATCH ?")
-        params.append(query)
+        params.append(match)
         key = "f.rowid"
     else:
-        source = "stock_bottles b"
-        key = "b.id"
+        source, key = "stock_bottles b", "b.id"
+        if status is not None:
+            where.append("b.status = ?")
+            params.append(status)
+    if found.ids:
+        where.append(f"{key} IN ({', '.join('?' for _ in found.ids)})")
+        params += found.ids
+    return source, key, where, params
+
+
+def _page_query(found: Search, after_id: int | None, before_id: int | None,
+                status: BottleStatus | None, limit: int) -> tuple[str, list, bool]:
+    """The SQL of one page (one row more than ``limit``), its parameters, and its direction."""
+    source, key, clauses, params = _conditions(found, status)
     backwards = before_id is not None and after_id is None
     if after_id is not None:
-        where.append(f"{key} > ?")
+        clauses.append(f"{key} > ?")
         params.append(int(after_id))
     if backwards:
-        where.append(f"{key} < ?")
+        clauses.append(f"{key} < ?")
         params.append(int(before_id))
-    if status is not None:
-        where.append("b.status = ?")
-        params.append(status)
+    cols = ", ".join("b." + c for c in _BOTTLE_COLUMNS)
     order = "DESC" if backwards else "ASC"
-    sql = (f"SELECT {cols} FROM {source}" + (" WHERE " + " AND ".join(where) if where else "")
+    sql = (f"SELECT {cols} FROM {source}" + (" WHERE " + " AND ".join(clauses) if clauses
+                                              else "")
            + f" ORDER BY {key} {order} LIMIT {int(limit) + 1}")
     return sql, params, backwards
+
+
+def _search(store: Store, search: str | None) -> Search:
+    return stock_search.parse(search, catalog_for(store)) if search else Search()
 
 
 def page(store: Store, search: str | None = None, *, after_id: int | None = None,
          before_id: int | None = None, limit: int = PAGE_SIZE, status: str | None = None,
          today: date | None = None) -> Page:
-    """One page of bottles in id order, optionally matching ``search`` (keyset pagination).
+    """One page of bottles in id order, optionally matching ``search`` (keyset pagination;
+    what a search finds: :mod:`carboy.store.stock_search`).
 
     ``after_id`` gives the page after that id; ``before_id`` the page before it.
     """
-    if not 0 < limit <= 1000:
-        raise InvalidInput("page size", limit, "expected 1 to 1000", field="limit")
-    sql, params, backwards = _page_query(search, after_id, before_id, _status_filter(status),
+    _check_limit(limit)
+    wanted = _status_filter(status)
+    if wanted is not None and _kept_count(store, wanted) == 0:
+        return Page([], None, None)  # a search would read every match to find none
+    sql, params, backwards = _page_query(_search(store, search), after_id, before_id, wanted,
                                          limit)
     rows = store.rows(sql, params)
     more = len(rows) > limit
     rows = rows[:limit]
     if backwards:
         rows.reverse()
+    return _page_of(store, rows, more, backwards, after_id is not None, today)
+
+
+def _check_limit(limit: int) -> None:
+    if not 0 < limit <= 1000:
+        raise InvalidInput("page size", limit, "expected 1 to 1000", field="limit")
+
+
+def _page_of(store: Store, rows: list[dict], more: bool, backwards: bool, anchored: bool,
+             today: date | None) -> Page:
     day = today or date.today()
     in_force = rules.load(store)
     bottles = [_bottle(r, day, in_force) for r in rows]
     if not bottles:
         return Page([], None, None)
     if backwards:
-        next_after = bottles[-1].id
-        prev_before = bottles[0].id if more else None
-    else:
-        next_after = bottles[-1].id if more else None
-        prev_before = bottles[0].id if after_id is not None else None
-    return Page(bottles, next_after, prev_before)
+        return Page(bottles, bottles[-1].id, bottles[0].id if more else None)
+    return Page(bottles, bottles[-1].id if more else None, bottles[0].id if anchored else None)
+
+
+def listing(store: Store, search: str | None = None, *, limit: int = PAGE_SIZE,
+            status: str | None = None, today: date | None = None,
+            bound: int = COUNT_BOUND) -> tuple[Page, Count]:
+    """The first page of a list and how many it holds, as the lists show them ("rows
+    1–50 of N"): :func:`page` and :func:`count_upto` in one read of the search index
+    (its matching ids, up to ``bound`` and one more, give both)."""
+    _check_limit(limit)
+    found = _search(store, search)
+    wanted = _status_filter(status)
+    if not found.match:
+        return (page(store, search, limit=limit, status=status, today=today),
+                count_upto(store, search, status=status, bound=bound))
+    source, key, where, params = _conditions(found, wanted, rows=False)
+    if wanted is not None and _kept_count(store, wanted) == 0:
+        return Page([], None, None), Count(0)
+    cols = ", ".join("b." + c for c in _BOTTLE_COLUMNS)
+    rows = store.rows(
+        f"WITH hits(id) AS MATERIALIZED (SELECT {key} FROM {source} "
+        f"WHERE {' AND '.join(where)} ORDER BY {key} LIMIT {max(int(bound), limit) + 1}), "
+        f"shown(id) AS (SELECT id FROM hits ORDER BY id LIMIT {limit + 1}) "
+        f"SELECT (SELECT count(*) FROM hits) AS matched, {cols} "
+        "FROM shown JOIN stock_bottles b ON b.id = shown.id ORDER BY b.id", params)
+    matched = rows[0].pop("matched") if rows else 0
+    for row in rows[1:]:
+        del row["matched"]
+    total = Count(matched) if matched <= bound else Count(bound, exact=False)
+    return _page_of(store, rows[:limit], len(rows) > limit, False, False, today), total
+
+
+def _kept_count(store: Store, status: BottleStatus | None = None) -> int:
+    """The bottles the database counts as they change (``stock_bottle_counts``)."""
+    if status is None:
+        return int(store.scalar("SELECT coalesce(sum(bottles), 0) FROM stock_bottle_counts"))
+    return int(store.scalar("SELECT coalesce(sum(bottles), 0) FROM stock_bottle_counts "
+                            "WHERE status = ?", [status]))
+
+
+def count_upto(store: Store, search: str | None = None, *, status: str | None = None,
+               bound: int = COUNT_BOUND) -> Count:
+    """How many bottles match ``search`` (and ``status``), counting no further than
+    ``bound``: exact for the whole list or a status (the database keeps those counts),
+    else exact up to ``bound`` and "more than ``bound``" beyond it."""
+    wanted = _status_filter(status)
+    found = _search(store, search)
+    if not found.anything:
+        return Count(_kept_count(store, wanted))
+    if wanted is not None and _kept_count(store, wanted) == 0:
+        return Count(0)
+    source, _key, where, params = _conditions(found, wanted, rows=False)
+    n = int(store.scalar(f"SELECT count(*) FROM (SELECT 1 FROM {source} "
+                         f"WHERE {' AND '.join(where)} LIMIT {int(bound) + 1})", params))
+    return Count(n) if n <= bound else Count(bound, exact=False)
 
 
 def count(store: Store, search: str | None = None, *, status: str | None = None) -> int:
-    """How many bottles match ``search`` (and ``status``)."""
-    query = fts_query(search)
-    if query and status is None:
-        return int(store.scalar(
-            "SELECT count(*) FROM stock_bottles_fts WHERE stock_bottles_fts MATCH ?", [query]))
-    if query:
-        return int(store.scalar(
-            "SELECT count(*) FROM stock_bottles_fts f JOIN stock_bottles b ON b.id = f.rowid "
-            "WHERE stock_bottles_fts MATCH ? AND b.status = ?", [query, status]))
-    if status is not None:
-        return int(store.scalar("SELECT count(*) FROM stock_bottles WHERE status = ?", [status]))
-    return int(store.scalar("SELECT count(*) FROM stock_bottles"))
+    """How many bottles match ``search`` (and ``status``), exactly (a search that matches
+    a large part of a very large stock takes time: the lists use :func:`count_upto`)."""
+    wanted = _status_filter(status)
+    found = _search(store, search)
+    if not found.anything:
+        return _kept_count(store, wanted)
+    source, _key, where, params = _conditions(found, wanted, rows=False)
+    return int(store.scalar(f"SELECT count(*) FROM {source} WHERE {' AND '.join(where)}",
+                            params))
 
 
 def all_bottles(store: Store, *, today: date | None = None, batch: int = 1000,
@@ -268,13 +341,3 @@ def all_bottles(store: Store, *, today: date | None = None, batch: int = 1000,
         if got.next_after is None:
             return
         after = got.next_after
-
-
-def check(store: Store, *, today: date | None = None, everything: bool = False,
-          batch: int = 1000) -> list[CheckRow]:
-    """The strength check of every bottle in use: by default only those with a flag,
-    most serious first (expired, off-label, overdue or never standardized, expiring soon)."""
-    day = today or date.today()
-    rows = (check_row(bottle, day) for bottle in all_bottles(
-        store, today=day, batch=batch, status=BottleStatus.IN_USE))
-    return sorted((row for row in rows if everything or row.flags), key=lambda row: row.rank)

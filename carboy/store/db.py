@@ -63,6 +63,10 @@ above it, every table but the bulky ``journal_entries`` (run :meth:`Store.integr
 for all of it)."""
 LARGE_TABLES_SKIPPED_AT_OPEN = ("journal_entries",)
 
+ANALYSIS_LIMIT = 400
+"""Rows ANALYZE reads per index when :meth:`Store.close` refreshes the statistics (SQLite's
+``analysis_limit``: approximate statistics in milliseconds, even at a million rows)."""
+
 _LOCKED_MESSAGES = ("database is locked", "database table is locked", "database is busy")
 
 
@@ -133,7 +137,29 @@ class Store:
 
     # -- lifecycle -------------------------------------------------------------
     def close(self) -> None:
+        """Refresh the query planner's statistics where they are missing or stale (see
+        :meth:`optimize`), then close the connection."""
+        self.optimize()
         self.conn.close()
+
+    def optimize(self) -> None:
+        """``PRAGMA optimize``, as SQLite advises before a connection closes: it analyzes
+        only the tables this connection's queries needed statistics for whose statistics
+        are missing or far out of date (nothing, most of the time), each index read up to
+        :data:`ANALYSIS_LIMIT` rows.  It never waits for another writer and never fails:
+        a file that is busy, read-only or in trouble is left as it is for a later close."""
+        try:
+            if self.conn.in_transaction:
+                return
+            self.conn.execute("PRAGMA busy_timeout = 0")
+            self.conn.execute(f"PRAGMA analysis_limit = {ANALYSIS_LIMIT}")
+            self.conn.execute("PRAGMA optimize")
+        except sqlite3.Error:  # closed already, busy, read-only, damaged: skip it this time
+            with contextlib.suppress(sqlite3.Error):
+                self._rollback()
+        finally:
+            with contextlib.suppress(sqlite3.Error):
+                self.conn.execute(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
 
     def __enter__(self) -> Store:
         return self
@@ -158,6 +184,14 @@ class Store:
         """The first row of a query, or ``None``."""
         found = self.rows(sql, params)
         return found[0] if found else None
+
+    def column(self, sql: str, params: Sequence[Any] | Mapping[str, Any] = ()) -> list:
+        """The first value of every row of a query (the cursor is closed at once)."""
+        cur = self._execute(sql, params)
+        try:
+            return [row[0] for row in cur.fetchall()]
+        finally:
+            cur.close()
 
     def scalar(self, sql: str, params: Sequence[Any] | Mapping[str, Any] = ()) -> Any:
         cur = self._execute(sql, params)

@@ -161,14 +161,15 @@ def create_demo_database(path: str | os.PathLike, today: date = DEMO_TODAY) -> P
     store = open_database(target)
     store.origin = "local"
     try:
-        seed(store, today)
+        store.write(lambda s: seed(s, today))  # one transaction: one commit, one fsync
     finally:
         store.close()
     return target
 
 
 def seed(store: Store, today: date = DEMO_TODAY) -> None:
-    """Fill an empty database with the demo storeroom."""
+    """Fill an empty database with the demo storeroom (each step its own transaction, or
+    savepoints of the caller's: :func:`create_demo_database` runs it as one)."""
     lead, tech, student = STAFF
     for n, (key, strength, size, left, where, lot, received, expires, every, _measured) in \
             enumerate(_BOTTLES):

@@ -208,10 +208,19 @@ def _filters(kind: str | None, since) -> tuple[list[str], list]:
     return where, params
 
 
+NEWEST_FIRST = " ORDER BY j.recorded_at DESC, j.id DESC"
+"""The journal's order: by the time each entry records, newest first (entries recorded
+after the event, with an earlier time, take their place by that time); the id breaks
+ties.  The time indexes (``journal_entries_by_time``, ``_by_kind``, ``_by_bottle``,
+``_by_container``) hold their rows in this order, so a page never sorts."""
+
+
 def entries(store: Store, *, kind: str | None = None, since: date | datetime | str | None = None,
             bottle_id: int | None = None, container_id: int | None = None,
             before_id: int | None = None, limit: int | None = 100) -> list[Entry]:
-    """Entries newest first, optionally filtered; page with ``before_id`` (keyset)."""
+    """Entries newest first by their recorded time (:data:`NEWEST_FIRST`), optionally
+    filtered; ``before_id`` gives the entries that come after entry ``before_id`` in that
+    order (keyset paging: pass the last entry of a page for the next one)."""
     where, params = _filters(kind, since)
     if bottle_id is not None:
         where.append("j.bottle_id = ?")
@@ -220,9 +229,13 @@ def entries(store: Store, *, kind: str | None = None, since: date | datetime | s
         where.append("j.container_id = ?")
         params.append(container_id)
     if before_id is not None:
-        where.append("j.id < ?")
-        params.append(before_id)
-    sql = _SELECT + (" WHERE " + " AND ".join(where) if where else "") + " ORDER BY j.id DESC"
+        when = store.scalar("SELECT recorded_at FROM journal_entries WHERE id = ?", [before_id])
+        if when is None:
+            raise NotFound("journal entry", before_id)
+        # the first condition alone lets the index range start at the anchor
+        where.append("j.recorded_at <= ? AND (j.recorded_at < ? OR j.id < ?)")
+        params += [when, when, before_id]
+    sql = _SELECT + (" WHERE " + " AND ".join(where) if where else "") + NEWEST_FIRST
     if limit is not None:
         if limit <= 0:
             raise InvalidInput("limit", limit, "must be positive", field="limit")

@@ -14,6 +14,8 @@ This module is the one door to them; each idea lives in its own module:
 ``strength``       strength status (expired, off-label, overdue, current) and the check
                    of one bottle; re-check intervals come from :mod:`carboy.store.rules`
 ``bottles``        adding, standardizing, status, the paged and searched list, the check
+``stock_search``   what a search finds (words as prefixes, the catalog's names, ``#ID``)
+``strength_check`` the strength check of every bottle in use, in one read
 ``preparations``   drawing from a bottle and adding the one made, in one transaction
 """
 
@@ -25,12 +27,12 @@ from carboy.store.bottles import (
     Page,
     add,
     all_bottles,
-    check,
     count,
+    count_upto,
     effective_recheck,
-    fts_query,
     get,
     insert_in,
+    listing,
     page,
     record_standardization,
     set_status,
@@ -54,6 +56,7 @@ from carboy.store.readers import (
     parse_date,
     parse_strength,
 )
+from carboy.store.stock_search import COUNT_BOUND, Count, fts_query
 from carboy.store.strength import (
     CHECK_FLAGS,
     EXPIRES_SOON_DAYS,
@@ -63,13 +66,14 @@ from carboy.store.strength import (
     check_row,
     strength_status,
 )
+from carboy.store.strength_check import check
 
 __all__ = [
-    "CHECK_FLAGS", "EXPIRES_SOON_DAYS", "FIELDS", "MAX_MASS_G", "MAX_MOLARITY", "MAX_VOLUME_L",
+    "CHECK_FLAGS", "COUNT_BOUND", "Count", "EXPIRES_SOON_DAYS", "FIELDS", "MAX_MASS_G", "MAX_MOLARITY", "MAX_VOLUME_L",
     "OFF_LABEL_TOLERANCE", "PAGE_SIZE", "PREVIOUS", "STRENGTH_STATUSES", "Bottle", "CheckRow",
-    "Page", "PreparationStep", "Prepared", "add", "all_bottles", "check", "check_row", "count",
+    "Page", "PreparationStep", "Prepared", "add", "all_bottles", "check", "check_row", "count", "count_upto",
     "effective_recheck", "format_amount", "format_number", "format_strength", "fts_query",
-    "get", "insert_in", "page", "parse_amount", "parse_date", "parse_strength", "prepare",
+    "get", "insert_in", "listing", "page", "parse_amount", "parse_date", "parse_strength", "prepare",
     "prepare_series", "record_preparation", "record_standardization", "set_status",
     "strength_status", "to_fields", "validate",
 ]

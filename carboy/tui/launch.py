@@ -20,7 +20,8 @@ from carboy.tui.edge import EXIT_BAD_INPUT, EXIT_OK, run_guarded
 def main(argv: list[str] | None = None) -> int:
     with clean_output():
         try:
-            args = build_parser().parse_args(sys.argv[1:] if argv is None else argv)
+            argv = sys.argv[1:] if argv is None else argv
+            args = build_parser(argv).parse_args(argv)
         except SystemExit as done:  # --help, --version, or bad usage (already reported)
             code = done.code
             return code if isinstance(code, int) else (EXIT_OK if code is None

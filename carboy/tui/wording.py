@@ -11,7 +11,7 @@ from carboy.model import numbers
 from carboy.model.numbers import amount, count, mass, moles, ph, strength, volume
 
 __all__ = ["amount", "count", "heat_text", "mass", "moles", "ph", "short_strength", "strength",
-           "volume"]
+           "tally", "volume"]
 
 
 def heat_text(recipe) -> str:
@@ -34,3 +34,12 @@ def heat_text(recipe) -> str:
 def short_strength(value: float | None, unit: str) -> str:
     """A strength for a narrow column: ``0.1 M``, ``37 %`` (w/w), ``—`` when unknown."""
     return numbers.strength(value, unit).replace(" %w/w", " %")
+
+
+def tally(found, noun: str | None = None) -> str:
+    """A count the store may have stopped counting (``found.n``, ``found.exact``, as
+    :class:`carboy.store.stock_search.Count`): ``1,234`` or ``more than 10,000``; with
+    ``noun``, ``1 bottle`` or ``more than 10,000 bottles``."""
+    if found.exact:
+        return f"{found.n:,}" if noun is None else count(found.n, noun)
+    return f"more than {found.n:,}" + ("" if noun is None else f" {noun}s")

@@ -21,7 +21,7 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from bench_store import timed  # noqa: E402  (median of several runs, ms)
+from benchkit import timed  # noqa: E402  (median of several runs, ms)
 
 from carboy.model import preparation, standardization  # noqa: E402
 from carboy.store import stock  # noqa: E402

@@ -3,7 +3,8 @@
 from __future__ import annotations
 
 TABLES = {
-    "_sqlite_migrations", "journal_entries", "record_chain", "stock_bottles", "stock_bottles_fts",
+    "_sqlite_migrations", "journal_entries", "record_chain", "stock_bottle_counts",
+    "stock_bottles", "stock_bottles_fts",
     "stock_bottles_fts_config", "stock_bottles_fts_data", "stock_bottles_fts_docsize",
     "stock_bottles_fts_idx", "storeroom_rules", "user_compounds", "waste_additions",
     "waste_containers",
@@ -18,6 +19,8 @@ INDEXES = {
     ("record_chain", "sqlite_autoindex_record_chain_1"),
     ("stock_bottles", "stock_bottles_by_compound"),
     ("stock_bottles", "stock_bottles_by_expiry"),
+    ("stock_bottles", "stock_bottles_by_status"),
+    ("stock_bottle_counts", "sqlite_autoindex_stock_bottle_counts_1"),
     ("storeroom_rules", "sqlite_autoindex_storeroom_rules_1"),
     ("user_compounds", "sqlite_autoindex_user_compounds_1"),
     ("waste_additions", "sqlite_autoindex_waste_additions_1"),
@@ -31,6 +34,9 @@ TRIGGERS = {
     ("record_chain", "record_chain_no_delete"),
     ("record_chain", "record_chain_no_reused_id"),
     ("record_chain", "record_chain_no_update"),
+    ("stock_bottles", "stock_bottle_counts_delete"),
+    ("stock_bottles", "stock_bottle_counts_insert"),
+    ("stock_bottles", "stock_bottle_counts_update"),
     ("stock_bottles", "stock_bottles_fts_delete"),
     ("stock_bottles", "stock_bottles_fts_insert"),
     ("stock_bottles", "stock_bottles_fts_update"),
@@ -102,4 +108,5 @@ def test_migrations_recorded(store):
     assert rows == [{"migration_set": "carboy", "name": "0001_storeroom"},
                     {"migration_set": "carboy", "name": "0002_storeroom_rules"},
                     {"migration_set": "carboy", "name": "0003_record_chain"},
-                    {"migration_set": "carboy", "name": "0004_waste_streams"}]
+                    {"migration_set": "carboy", "name": "0004_waste_streams"},
+                    {"migration_set": "carboy", "name": "0005_speed_at_scale"}]

@@ -8,7 +8,7 @@ import sys
 from carboy.model.forms import MAX_ID
 from carboy.store.statuses import BOTTLE_STATUSES, BottleStatus
 from carboy.tui.cli.kit import EXIT_OK, common_options, emit_json, group, open_store, whole
-from carboy.tui.wording import amount, count, strength
+from carboy.tui.wording import amount, count, strength, tally
 
 STOCK_IMPORT_HELP = """CSV column layout (header row required; any column order):
   compound            catalog key, formula or name (required), e.g. HCl
@@ -39,8 +39,12 @@ def register(sub) -> None:
 
     p = stock_sub.add_parser("list", parents=[common], help="list bottles (50 per page)",
                              description="List bottles in id order, optionally searching "
-                             "compound, name, location and lot (each word a prefix).")
-    p.add_argument("--search", metavar="TEXT", help="words to look for, e.g. 'HCl cab'")
+                             "compound, name (or any other name of the compound), location "
+                             "and lot (each word a prefix), or #ID for one bottle. A search "
+                             "counts its matches up to 10,000 (then: more than 10,000; in "
+                             "--json, total_exact is false).")
+    p.add_argument("--search", metavar="TEXT", help="words to look for, e.g. 'HCl cab', "
+                   "'caustic soda', '#17'")
     p.add_argument("--status", choices=BOTTLE_STATUSES)
     p.add_argument("--after", type=whole(0, MAX_ID, "bottle id"), metavar="ID",
                    help="start after this bottle id")
@@ -129,11 +133,15 @@ def stock_list(args) -> int:
     from carboy.store import stock
 
     with open_store(args) as store:
-        got = stock.page(store, args.search, after_id=args.after, limit=args.limit,
-                         status=args.status)
-        total = stock.count(store, args.search, status=args.status)
+        if args.after is None:
+            got, total = stock.listing(store, args.search, limit=args.limit,
+                                       status=args.status)
+        else:
+            got = stock.page(store, args.search, after_id=args.after, limit=args.limit,
+                             status=args.status)
+            total = stock.count_upto(store, args.search, status=args.status)
     if args.json:
-        emit_json({"total": total, "next_after": got.next_after,
+        emit_json({"total": total.n, "total_exact": total.exact, "next_after": got.next_after,
                    "bottles": [b.as_dict() for b in got.bottles]})
         return EXIT_OK
     print(f"{'id':>6}  {'compound':<10} {'strength':<12} {'left':>9}  {'strength?':<9} "
@@ -141,7 +149,7 @@ def stock_list(args) -> int:
     for b in got.bottles:
         print(_bottle_line(b))
     more = f"; next page: --after {got.next_after}" if got.next_after else ""
-    print(f"{len(got.bottles)} of {count(total, 'bottle')}{more}")
+    print(f"{len(got.bottles)} of {tally(total, 'bottle')}{more}")
     return EXIT_OK
 
 

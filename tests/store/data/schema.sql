@@ -1,10 +1,10 @@
 -- application_id 1129464409
 
 -- index journal_entries_by_bottle on journal_entries
-CREATE INDEX journal_entries_by_bottle ON journal_entries (bottle_id) WHERE bottle_id IS NOT NULL;
+CREATE INDEX journal_entries_by_bottle ON journal_entries (bottle_id, recorded_at) WHERE bottle_id IS NOT NULL;
 
 -- index journal_entries_by_container on journal_entries
-CREATE INDEX journal_entries_by_container ON journal_entries (container_id) WHERE container_id IS NOT NULL;
+CREATE INDEX journal_entries_by_container ON journal_entries (container_id, recorded_at) WHERE container_id IS NOT NULL;
 
 -- index journal_entries_by_corrected on journal_entries
 CREATE INDEX journal_entries_by_corrected ON journal_entries (corrects_id) WHERE corrects_id IS NOT NULL;
@@ -20,6 +20,9 @@ CREATE INDEX stock_bottles_by_compound ON stock_bottles (compound_key);
 
 -- index stock_bottles_by_expiry on stock_bottles
 CREATE INDEX stock_bottles_by_expiry ON stock_bottles (expires_on);
+
+-- index stock_bottles_by_status on stock_bottles
+CREATE INDEX stock_bottles_by_status ON stock_bottles (status);
 
 -- index waste_additions_by_container on waste_additions
 CREATE INDEX waste_additions_by_container ON waste_additions (container_id, id);
@@ -49,6 +52,12 @@ CREATE TABLE record_chain (
     UNIQUE (record_table, record_id)
 );
 
+-- table stock_bottle_counts on stock_bottle_counts
+CREATE TABLE stock_bottle_counts (
+    status TEXT PRIMARY KEY,
+    bottles INTEGER NOT NULL CHECK (bottles >= 0)
+);
+
 -- table stock_bottles on stock_bottles
 CREATE TABLE stock_bottles (
     id INTEGER PRIMARY KEY,
@@ -76,9 +85,9 @@ CREATE TABLE stock_bottles (
 
 -- table stock_bottles_fts on stock_bottles_fts
 CREATE VIRTUAL TABLE stock_bottles_fts USING fts5 (
-    compound_key, compound_name, location, lot,
+    compound_key, compound_name, location, lot, status,
     content = 'stock_bottles', content_rowid = 'id',
-    tokenize = 'unicode61 remove_diacritics 2'
+    tokenize = 'unicode61 remove_diacritics 2', prefix = '1 2 3 4 5 6 7 8 9 10', detail = column
 );
 
 -- table stock_bottles_fts_config on stock_bottles_fts_config
@@ -165,27 +174,48 @@ BEGIN SELECT RAISE(ABORT, 'carboy: chain links are append-only; an id is never r
 CREATE TRIGGER record_chain_no_update BEFORE UPDATE ON record_chain
 BEGIN SELECT RAISE(ABORT, 'carboy: chain links are append-only; record a correction instead'); END;
 
+-- trigger stock_bottle_counts_delete on stock_bottles
+CREATE TRIGGER stock_bottle_counts_delete AFTER DELETE ON stock_bottles BEGIN
+    UPDATE stock_bottle_counts SET bottles = bottles - 1 WHERE status = old.status;
+END;
+
+-- trigger stock_bottle_counts_insert on stock_bottles
+CREATE TRIGGER stock_bottle_counts_insert AFTER INSERT ON stock_bottles BEGIN
+    INSERT INTO stock_bottle_counts (status, bottles) VALUES (new.status, 1)
+    ON CONFLICT (status) DO UPDATE SET bottles = bottles + 1;
+END;
+
+-- trigger stock_bottle_counts_update on stock_bottles
+CREATE TRIGGER stock_bottle_counts_update AFTER UPDATE OF status ON stock_bottles
+WHEN new.status IS NOT old.status BEGIN
+    UPDATE stock_bottle_counts SET bottles = bottles - 1 WHERE status = old.status;
+    INSERT INTO stock_bottle_counts (status, bottles) VALUES (new.status, 1)
+    ON CONFLICT (status) DO UPDATE SET bottles = bottles + 1;
+END;
+
 -- trigger stock_bottles_fts_delete on stock_bottles
 CREATE TRIGGER stock_bottles_fts_delete AFTER DELETE ON stock_bottles BEGIN
     INSERT INTO stock_bottles_fts (stock_bottles_fts, rowid, compound_key, compound_name,
-                                   location, lot)
-    VALUES ('delete', old.id, old.compound_key, old.compound_name, old.location, old.lot);
+                                   location, lot, status)
+    VALUES ('delete', old.id, old.compound_key, old.compound_name, old.location, old.lot,
+            old.status);
 END;
 
 -- trigger stock_bottles_fts_insert on stock_bottles
 CREATE TRIGGER stock_bottles_fts_insert AFTER INSERT ON stock_bottles BEGIN
-    INSERT INTO stock_bottles_fts (rowid, compound_key, compound_name, location, lot)
-    VALUES (new.id, new.compound_key, new.compound_name, new.location, new.lot);
+    INSERT INTO stock_bottles_fts (rowid, compound_key, compound_name, location, lot, status)
+    VALUES (new.id, new.compound_key, new.compound_name, new.location, new.lot, new.status);
 END;
 
 -- trigger stock_bottles_fts_update on stock_bottles
 CREATE TRIGGER stock_bottles_fts_update AFTER UPDATE OF compound_key, compound_name,
-    location, lot ON stock_bottles BEGIN
+    location, lot, status ON stock_bottles BEGIN
     INSERT INTO stock_bottles_fts (stock_bottles_fts, rowid, compound_key, compound_name,
-                                   location, lot)
-    VALUES ('delete', old.id, old.compound_key, old.compound_name, old.location, old.lot);
-    INSERT INTO stock_bottles_fts (rowid, compound_key, compound_name, location, lot)
-    VALUES (new.id, new.compound_key, new.compound_name, new.location, new.lot);
+                                   location, lot, status)
+    VALUES ('delete', old.id, old.compound_key, old.compound_name, old.location, old.lot,
+            old.status);
+    INSERT INTO stock_bottles_fts (rowid, compound_key, compound_name, location, lot, status)
+    VALUES (new.id, new.compound_key, new.compound_name, new.location, new.lot, new.status);
 END;
 
 -- trigger waste_additions_no_delete on waste_additions

@@ -26,7 +26,7 @@ from carboy.tui.app.widgets.marks import STRENGTH_MARKS, bottle_mark, strength_m
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.steady_input import SteadyInput
 from carboy.tui.edge import describe
-from carboy.tui.wording import amount, short_strength
+from carboy.tui.wording import amount, short_strength, tally
 
 PAGE_ROWS = 50
 SEARCH_DELAY_S = 0.15
@@ -121,7 +121,7 @@ class StockScreen(Screen):
         super().__init__()
         self.search_text = ""
         self.page_index = 0
-        self.total = 0
+        self.total = stock.Count(0)
         self.next_after: int | None = None
         self.first_id: int | None = None
         self._anchor: tuple[str, int | None] = ("after", None)
@@ -181,12 +181,16 @@ class StockScreen(Screen):
         kind, ref = anchor
         try:
             with self.app.open_store() as store, store.reading():
-                page = stock.page(store, search or None,
-                                  after_id=ref if kind == "after" else None,
-                                  before_id=ref if kind == "before" else None,
-                                  limit=PAGE_ROWS, today=self.app.today)
-                total = stock.count(store, search or None) if request in ("first", "same") \
-                    else None
+                if ref is None and request in ("first", "same"):
+                    page, total = stock.listing(store, search or None, limit=PAGE_ROWS,
+                                                today=self.app.today)
+                else:
+                    page = stock.page(store, search or None,
+                                      after_id=ref if kind == "after" else None,
+                                      before_id=ref if kind == "before" else None,
+                                      limit=PAGE_ROWS, today=self.app.today)
+                    total = stock.count_upto(store, search or None) \
+                        if request in ("first", "same") else None
         except Exception as exc:  # shown in place, never a traceback
             if not worker.is_cancelled:
                 self.app.call_from_thread(self._show_error, describe(exc))
@@ -199,7 +203,8 @@ class StockScreen(Screen):
         self.query_one("#stock-error", ErrorLine).show(message)
         self.loads += 1
 
-    def _show_page(self, page: stock.Page, total: int | None, anchor, request: str) -> None:
+    def _show_page(self, page: stock.Page, total: stock.Count | None, anchor,
+                   request: str) -> None:
         self.loading = False
         self.loads += 1
         self.query_one("#stock-error", ErrorLine).show("")
@@ -257,14 +262,15 @@ class StockScreen(Screen):
             table.add_row(*bottle_row(bottle), key=str(bottle.id))
 
     def _show_position(self, shown: int) -> None:
-        pages = max(1, math.ceil(self.total / PAGE_ROWS))
+        pages = tally(stock.Count(max(1, math.ceil(self.total.n / PAGE_ROWS)),
+                                  self.total.exact))
         if shown == 0:
             text = ("no bottle matches “" + self.search_text + "”") if self.search_text \
                 else "no bottles yet"
         else:
             first = self.page_index * PAGE_ROWS + 1
-            text = (f"rows {first}–{first + shown - 1} of {self.total:,} · "
-                    f"page {self.page_index + 1} of {pages:,}")
+            text = (f"rows {first}–{first + shown - 1} of {tally(self.total)} · "
+                    f"page {self.page_index + 1} of {pages}")
             if self.search_text:
                 text += f" · matching “{self.search_text}”"
         self.query_one("#stock-position", Static).update(text)

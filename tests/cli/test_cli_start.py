@@ -1,0 +1,111 @@
+"""Start-up: a command builds only its own parser and loads only what it needs; the stock
+list's count and ``#ID`` search from the command line; the journal in time order.
+
+(The start-up times themselves are tests/benchmarks/bench_start.py's.)"""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+from carboy.store import demo
+from carboy.tui.cli import main as cli_main
+from carboy.tui.launch import main
+
+HEAVY = ("carboy.store", "sqlite_utils", "pandas", "textual", "carboy.tui.app",
+         "carboy.tui.cli.stock", "carboy.tui.cli.journal", "carboy.tui.cli.prep")
+
+
+def _loaded_by(*argv: str) -> list[str]:
+    code = ("import sys, io, contextlib\nfrom carboy.tui.launch import main\n"
+            "with contextlib.redirect_stdout(io.StringIO()): status = main(sys.argv[1:])\n"
+            "assert status == 0, status\n"
+            f"print(' '.join(sorted(m for m in sys.modules if m.startswith({HEAVY!r}))))")
+    done = subprocess.run([sys.executable, "-c", code, *argv], capture_output=True,
+                          text=True, timeout=60)
+    assert done.returncode == 0, done.stderr
+    return done.stdout.split()
+
+
+@pytest.mark.parametrize("argv", [
+    ("ph", "HCl=0.1M"),
+    ("neutralize", "H2SO4=0.5M", "--volume", "250mL", "--reagent", "NaOH=2M"),
+])
+def test_a_calculation_loads_neither_the_store_nor_other_commands(argv):
+    """Nor pandas, which sqlite-utils would import when it is installed: the cold start
+    of `carboy ph` and `carboy neutralize` pays only for what they compute."""
+    assert _loaded_by(*argv) == []
+
+
+@pytest.mark.parametrize(("argv", "named"), [
+    (["ph", "HCl=1"], "ph"),
+    (["--db", "ph", "stock", "list"], "stock"),
+    (["--demo", "journal", "list"], "journal"),
+    (["--db=x.db", "waste", "list"], "waste"),
+    (["--help"], None),
+    (["-h", "ph"], None),
+    (["phx"], None),
+    ([], None),
+])
+def test_the_command_named_is_found_among_the_global_options(argv, named):
+    assert cli_main.command_named(argv) == named
+
+
+def test_only_the_named_command_is_built_and_every_one_without_a_name():
+    def commands(parser):
+        sub = next(a for a in parser._actions if a.dest == "command")
+        return list(sub.choices)
+
+    assert commands(cli_main.build_parser(["ph", "HCl=1"])) == ["ph"]
+    assert commands(cli_main.build_parser(["--help"])) == list(cli_main.COMMANDS)
+    assert commands(cli_main.build_parser()) == list(cli_main.COMMANDS)
+
+
+def test_a_wrong_command_name_still_lists_every_command(capsys):
+    assert main(["stok", "list"]) == 2
+    err = capsys.readouterr().err
+    assert "invalid choice" in err and "stock" in err and "neutralize" in err
+
+
+@pytest.fixture
+def demo_db(tmp_path):
+    return str(demo.create_demo_database(tmp_path / "demo.db"))
+
+
+def _json(capsys, *argv):
+    code = main([*argv, "--json"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    return json.loads(out)
+
+
+def test_stock_list_counts_and_finds_by_id_and_by_common_name(capsys, demo_db):
+    got = _json(capsys, "stock", "list", "--db", demo_db, "--limit", "1000")
+    assert got["total_exact"] is True and got["total"] == len(got["bottles"]) > 0
+    one = _json(capsys, "stock", "list", "--db", demo_db, "--search", "#7")
+    assert [b["id"] for b in one["bottles"]] == [7] and one["total"] == 1
+    vitriol = _json(capsys, "stock", "list", "--db", demo_db, "--search", "oil of vitriol")
+    assert vitriol["bottles"] and {b["compound_key"] for b in vitriol["bottles"]} == {"H2SO4"}
+    code = main(["stock", "list", "--db", demo_db, "--search", "caustic soda"])
+    out = capsys.readouterr().out
+    assert code == 0 and "NaOH" in out and out.rstrip().splitlines()[-1].endswith("bottles")
+
+
+def test_journal_list_is_in_time_order(capsys, demo_db):
+    entries = _json(capsys, "journal", "list", "--db", demo_db, "--limit", "100")
+    times = [e["recorded_at"] for e in entries]
+    assert times == sorted(times, reverse=True)
+    assert [e["id"] for e in entries] != sorted((e["id"] for e in entries), reverse=True)
+
+
+def test_a_count_that_stopped_says_more_than():
+    from carboy.store.stock import Count
+    from carboy.tui.wording import tally
+
+    assert tally(Count(1234)) == "1,234"
+    assert tally(Count(10_000, exact=False)) == "more than 10,000"
+    assert tally(Count(1), "bottle") == "1 bottle"
+    assert tally(Count(10_000, exact=False), "bottle") == "more than 10,000 bottles"
