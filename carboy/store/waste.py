@@ -37,10 +37,10 @@ from carboy.errors import InvalidInput
 from carboy.model.components import Component, read_component
 from carboy.model.entities import Compound
 from carboy.model.mixture import Mixture
-from carboy.store import chain, journal, waste_streams
+from carboy.store import chain, disposal, journal, waste_streams
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store, current_user, stamp
-from carboy.store.errors import AlreadyExists, ContainerClosed, NotFound, OverCapacity
+from carboy.store.errors import AlreadyExists, ContainerClosed, HeadspaceRefused, NotFound
 from carboy.store.readers import check_length, fielded, parse_litres
 from carboy.store.statuses import CONTAINER_STATUSES, ContainerStatus
 from carboy.store.waste_rows import (  # noqa: F401 (check_label, moles: public here too)
@@ -85,6 +85,12 @@ class Container:
     stream_note: str = ""
     """How the stream came to be when no person chose it (an upgrade's inference), or
     the reason of the last change."""
+    fill_percent: float = 0.0
+    """Volume against capacity, %."""
+    nearly_full: bool = False
+    """Collecting and at or past the rules' nearly-full level (default 80 %)."""
+    full: bool = False
+    """Collecting and at the rules' fill limit (default 90 %): it takes no more."""
 
     def as_dict(self) -> dict:
         return asdict(self)
@@ -186,10 +192,13 @@ def new_container(store: Store, label: str, *, location: str = "",
 
 
 def _check_room(store: Store, row: Mapping[str, Any], change_l: float) -> None:
-    """Refuse a change of ``change_l`` litres that would overfill the container."""
-    would_be = counted_volume(store, row["id"]) + change_l
-    if would_be > row["capacity_l"] * (1 + 1e-9):
-        raise OverCapacity(row["label"], row["capacity_l"], would_be)
+    """Refuse a change of ``change_l`` litres that would fill the container past the fill
+    limit of the storeroom's rules (the headspace kept free; 90 % unless set)."""
+    now = counted_volume(store, row["id"])
+    would_be = now + change_l
+    limit = disposal.load(store).fill_limit_percent
+    if change_l > 0 and would_be > row["capacity_l"] * limit / 100.0 * (1 + 1e-9):
+        raise HeadspaceRefused(row["label"], row["capacity_l"], would_be, limit, now)
 
 
 def _insert_addition(s: Store, row: dict, component: Component, volume_l: float, *,
@@ -224,7 +233,8 @@ def add(store: Store, label: str, component: str, volume: str | float | None = N
     UnknownCompound, InvalidInput : the component or volume is unusable.
     NotFound : no such container.
     ContainerClosed : the container is no longer collecting.
-    OverCapacity : the addition would overfill it.
+    HeadspaceRefused : the addition would fill it past the fill limit (an
+        :class:`~carboy.store.errors.OverCapacity`; the message names the free volume).
     Refused : the rules refuse it (a gas hazard, an explosive or violent reaction, an
         acid into a cyanide container …); no ``accept`` overrides that.
     NeedsConfirmation : the rules ask for a reason and ``accept`` gave none.
@@ -395,15 +405,22 @@ def record_neutralization(store: Store, label: str, plan_snapshot: Mapping[str, 
 
 # -- reads -------------------------------------------------------------------------------
 
-def _container(store: Store, row: Mapping[str, Any]) -> Container:
+def _container(store: Store, row: Mapping[str, Any], profile=None) -> Container:
     agg = store.one(f"SELECT count(*) AS n, coalesce(sum(a.volume_l), 0) AS v {LIVE}",
                     {"cid": row["id"]})
+    profile = profile or disposal.load(store)
+    volume = float(agg["v"])
+    fill = volume / row["capacity_l"] * 100.0 if row["capacity_l"] else 0.0
+    collecting = ContainerStatus(row["status"]).takes_additions
     return Container(id=row["id"], label=row["label"], location=row["location"],
                      capacity_l=row["capacity_l"], status=row["status"],
                      opened_on=row["opened_on"], closed_on=row["closed_on"], notes=row["notes"],
-                     created_by=row["created_by"], volume_l=float(agg["v"]),
+                     created_by=row["created_by"], volume_l=volume,
                      n_additions=int(agg["n"]), stream=row["stream"],
-                     material=row["material"], stream_note=row["stream_note"])
+                     material=row["material"], stream_note=row["stream_note"],
+                     fill_percent=fill,
+                     nearly_full=collecting and fill >= profile.nearly_full_percent - 1e-9,
+                     full=collecting and fill >= profile.fill_limit_percent - 1e-9)
 
 
 def container(store: Store, label: str) -> Container:
@@ -411,14 +428,18 @@ def container(store: Store, label: str) -> Container:
         return _container(store, container_row(store, label))
 
 
-def containers(store: Store, *, status: str | None = None) -> list[Container]:
-    """Every container (optionally of one status), by label."""
+def containers(store: Store, *, status: str | None = None,
+               nearly_full: bool = False) -> list[Container]:
+    """Every container (optionally of one status, or only the nearly full ones), by label."""
     wanted = None if status is None else ContainerStatus.parse(status)
     with store.reading():
+        profile = disposal.load(store)
         rows = store.rows("SELECT * FROM waste_containers" +
                           (" WHERE status = ?" if wanted else "") + " ORDER BY label",
                           [wanted] if wanted else [])
-        return [_container(store, {**r, "status": ContainerStatus(r["status"])}) for r in rows]
+        found = [_container(store, {**r, "status": ContainerStatus(r["status"])}, profile)
+                 for r in rows]
+    return [c for c in found if c.nearly_full] if nearly_full else found
 
 
 def composition(store: Store, label: str, *, temperature_c: float = 25.0) -> Mixture:
@@ -488,7 +509,8 @@ def show(store: Store, label: str) -> dict:
             journal.entries(store, container_id=row["id"], limit=None))
     rules_view = waste_streams.view(info.stream, info.material, h, catalog)
     return {"label": info.label, "status": info.status, "volume_l": volume,
-            "capacity_l": info.capacity_l, "location": info.location,
+            "capacity_l": info.capacity_l, "fill_percent": info.fill_percent,
+            "nearly_full": info.nearly_full, "full": info.full, "location": info.location,
             "opened_on": info.opened_on, "closed_on": info.closed_on, "notes": info.notes,
             "stream": info.stream, "stream_name": waste_streams.stream_name(info.stream),
             "stream_note": info.stream_note, "material": info.material,
