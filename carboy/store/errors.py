@@ -106,6 +106,18 @@ class HeadspaceRefused(OverCapacity):
 
 
 @dataclass
+class DisposalRefused(StoreError, Refused):
+    """A waste container may not be marked disposed, or treated here, by the rules."""
+
+    label: str
+    reason: str
+    action: str = "mark it disposed"
+
+    def __str__(self) -> str:
+        return f"waste container {self.label!r}: cannot {self.action}: {self.reason}"
+
+
+@dataclass
 class Busy(StoreError):
     """The database stayed locked by other users through every retry."""
 
