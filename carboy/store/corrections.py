@@ -16,6 +16,8 @@ corrected values through the same store rules.  Nothing is ever edited in place.
 A value the entry does not hold is refused naming it; an entry that was already
 corrected is refused (correct the newer entry); without values the correction records
 only the reason.  A waste addition is corrected by :func:`carboy.store.waste.correct_addition`.
+
+:func:`note` appends a free note about a bottle or a container.
 """
 
 from __future__ import annotations
@@ -30,9 +32,10 @@ from carboy.model.components import Component
 from carboy.model.forms.correction import CorrectionValues
 from carboy.model.reagents import parse_reagent
 from carboy.store import journal, treatment_records, waste
+from carboy.store.bottles import get as get_bottle
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store
-from carboy.store.readers import parse_whole
+from carboy.store.readers import check_length, parse_whole
 from carboy.store.waste_rows import container_row, counted_volume
 
 TREATMENT_VALUES = ("final_ph", "vented_ph", "stage_ph", "final_volume_l", "temperature_c",
@@ -262,3 +265,30 @@ def _shown(value: object) -> str:
     if isinstance(value, float):
         return f"{value:g}"
     return "—" if value is None else str(value)
+
+
+def note(store: Store, text: str, *, bottle: int | str | None = None,
+         container: str | None = None, who: str | None = None,
+         when: datetime | None = None) -> int:
+    """A free note about one stock bottle or one waste container (exactly one); returns the
+    journal entry id."""
+    words = " ".join((text or "").split())
+    if not words:
+        raise InvalidInput("note", text, "is empty: say what to note", field="note")
+    check_length("note", words, field="note")
+    if (bottle is None) == (container is None):
+        raise InvalidInput("note", words[:40], "name a bottle or a container (one of them)",
+                           field="about")
+
+    def work(s: Store) -> int:
+        if bottle is not None:
+            found = get_bottle(s, bottle)
+            return journal.append_in(s, "note", bottle_id=found.id, who=who, when=when,
+                                     summary=f"bottle {found.id}: {words}",
+                                     snapshot={"event": "note", "text": words})
+        row = container_row(s, container)
+        return journal.append_in(s, "note", container_id=row["id"], who=who, when=when,
+                                 summary=f"{row['label']}: {words}",
+                                 snapshot={"event": "note", "text": words})
+
+    return store.write(work)

@@ -196,7 +196,7 @@ COLUMNS = (Column("Date", weight=1.0), Column("#", "right", 0.45), Column("Who",
            Column("Route", weight=0.9))
 
 
-def _cells(row: TreatmentRow) -> tuple[str, ...]:
+def cells(row: TreatmentRow) -> tuple[str, ...]:
     treated = ", ".join(f"{formula_text(k)} {v:.3g} mol" for k, v in sorted(row.treated.items()))
     reagent = row.reagent if row.reagent_amount is None else \
         f"{numbers.amount(row.reagent_amount, row.reagent_unit)} {row.reagent}"
@@ -239,7 +239,7 @@ def document(report: Report, *, storeroom: str = "", today: date | None = None) 
     for key, rows in report.groups():
         if key:
             blocks.append(Heading(key))
-        blocks.append(Table(COLUMNS, tuple(_cells(r) for r in rows),
+        blocks.append(Table(COLUMNS, tuple(cells(r) for r in rows),
                             _totals_cells(report.totals(rows), "Total"),
                             empty_text=f"No treatments recorded in {report.year}."))
     blocks += _summary_table("Stream", {stream_name(k): v for k, v in

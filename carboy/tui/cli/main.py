@@ -24,6 +24,7 @@ SUBCOMMAND_MODULES = (
     "carboy.tui.cli.rules",
     "carboy.tui.cli.waste",
     "carboy.tui.cli.journal",
+    "carboy.tui.cli.report",
     "carboy.tui.cli.init",
 )
 
