@@ -281,6 +281,13 @@ def read_items(raw: object, catalog=None) -> tuple[NeverTreat, ...]:
     return tuple(out)
 
 
+def with_reasons(text: str, current: tuple[NeverTreat, ...]) -> list:
+    """A never-treat list typed as text (comma-separated), each item already on the list
+    keeping its reason (for :func:`read_items`)."""
+    known = {i.item: i.to_dict() for i in current}
+    return [known.get(part.strip(), part.strip()) for part in text.split(",") if part.strip()]
+
+
 def describe(name: str, value: Any) -> str:
     """A rule's value as people read it (``1 L``, ``no limit``, ``pH 6``, ``yes``)."""
     r = rule(name)
@@ -300,6 +307,26 @@ def describe(name: str, value: Any) -> str:
         return f"{value:g} °C"
     if r.kind == "factor":
         return f"{value:g} volumes"
+    return f"{value:g} %"
+
+
+def as_text(name: str, value: Any) -> str:
+    """A rule's value as text :func:`read_rule` reads back (what an edit field starts with)."""
+    r = rule(name)
+    if r.kind == "items":
+        return ", ".join(i.item for i in value)
+    if value is None:
+        return "none"
+    if r.kind == "ph" or r.kind == "factor":
+        return f"{value:g}"
+    if r.kind == "yes-no":
+        return "yes" if value else "no"
+    if r.kind == "litres-or-none":
+        return f"{value:g} L"
+    if r.kind == "fraction":
+        return f"{value * 100:g} %"
+    if r.kind == "celsius":
+        return f"{value:g} °C"
     return f"{value:g} %"
 
 

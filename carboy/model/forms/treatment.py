@@ -194,6 +194,8 @@ def _reagent(form: FormReader, fields: TreatmentFields, catalog) -> tuple[int | 
 def read(fields: TreatmentFields, catalog=None) -> Reading[TreatmentReadings]:
     """Parse the form; every problem is named by its field (see :data:`FIELDS`)."""
     form = FormReader()
+    final = form.read("final_ph", read_ph, fields.final_ph, "final pH", field_name="final_ph") \
+        if form.need("final_ph", fields.final_ph, NEED_PH) else None
     bottle_id, reagent_text = _reagent(form, fields, catalog)
     added = form.read("added", read_amount, fields.added) \
         if form.need("added", fields.added, NEED_ADDED) else None
@@ -205,8 +207,6 @@ def read(fields: TreatmentFields, catalog=None) -> Reading[TreatmentReadings]:
                                             "measured (L, mL)", field="added"))
     stage_added = _stage_amounts(form, fields, added)
     stages, vented = read_readings(form, fields.stage_ph, fields.vented_ph)
-    final = form.read("final_ph", read_ph, fields.final_ph, "final pH", field_name="final_ph") \
-        if form.need("final_ph", fields.final_ph, NEED_PH) else None
     volume = form.read("final_volume", read_final_volume, fields.final_volume) \
         if fields.final_volume.strip() else None
     temperature = form.read("temperature", read_temperature, fields.temperature) \
