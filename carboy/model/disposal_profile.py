@@ -200,6 +200,15 @@ def read_rule(name: str, raw: object, catalog=None) -> Any:
     ``'6,5'``) or from its stored JSON value; raises :class:`InvalidInput` (field: the
     rule's name).  ``never_treat`` takes a list of items (text or ``{item, why}``)."""
     r = rule(name)
+    try:
+        return _read(r, raw, catalog)
+    except InvalidInput as err:
+        if not err.field:
+            err.field = r.name
+        raise
+
+
+def _read(r: Rule, raw: object, catalog) -> Any:
     if r.kind == "items":
         return read_items(raw, catalog)
     if raw is None or (isinstance(raw, str) and raw.strip().lower() in _NONE):
@@ -288,46 +297,33 @@ def with_reasons(text: str, current: tuple[NeverTreat, ...]) -> list:
     return [known.get(part.strip(), part.strip()) for part in text.split(",") if part.strip()]
 
 
-def describe(name: str, value: Any) -> str:
-    """A rule's value as people read it (``1 L``, ``no limit``, ``pH 6``, ``yes``)."""
+_FORMATS = {"ph": ("pH {}", "{}"), "litres-or-none": ("{} L", "{} L"),
+            "fraction": ("{} %", "{} %"), "celsius": ("{} °C", "{} °C"),
+            "factor": ("{} volumes", "{}"), "percent": ("{} %", "{} %"),
+            "percent-or-none": ("{} %", "{} %")}
+"""Rule kind -> (how people read a value, how an edit field shows it)."""
+
+
+def _text(name: str, value: Any, editing: bool) -> str:
     r = rule(name)
     if r.kind == "items":
-        return ", ".join(i.item for i in value) or "nothing listed"
+        return ", ".join(i.item for i in value) or ("" if editing else "nothing listed")
     if value is None:
-        return "no limit" if r.kind == "litres-or-none" else "none"
-    if r.kind == "ph":
-        return f"pH {value:g}"
+        return "no limit" if r.kind == "litres-or-none" and not editing else "none"
     if r.kind == "yes-no":
         return "yes" if value else "no"
-    if r.kind == "litres-or-none":
-        return f"{value:g} L"
-    if r.kind == "fraction":
-        return f"{value * 100:g} %"
-    if r.kind == "celsius":
-        return f"{value:g} °C"
-    if r.kind == "factor":
-        return f"{value:g} volumes"
-    return f"{value:g} %"
+    number = value * 100 if r.kind == "fraction" else value
+    return _FORMATS[r.kind][int(editing)].format(f"{number:g}")
+
+
+def describe(name: str, value: Any) -> str:
+    """A rule's value as people read it (``1 L``, ``no limit``, ``pH 6``, ``yes``)."""
+    return _text(name, value, editing=False)
 
 
 def as_text(name: str, value: Any) -> str:
     """A rule's value as text :func:`read_rule` reads back (what an edit field starts with)."""
-    r = rule(name)
-    if r.kind == "items":
-        return ", ".join(i.item for i in value)
-    if value is None:
-        return "none"
-    if r.kind == "ph" or r.kind == "factor":
-        return f"{value:g}"
-    if r.kind == "yes-no":
-        return "yes" if value else "no"
-    if r.kind == "litres-or-none":
-        return f"{value:g} L"
-    if r.kind == "fraction":
-        return f"{value * 100:g} %"
-    if r.kind == "celsius":
-        return f"{value:g} °C"
-    return f"{value:g} %"
+    return _text(name, value, editing=True)
 
 
 def check(profile: DisposalProfile) -> DisposalProfile:

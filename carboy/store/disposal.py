@@ -81,7 +81,7 @@ def set_rules(store: Store, values: Mapping[str, Any], *, who: str | None = None
                       "VALUES (?, ?, ?, ?, ?) ON CONFLICT (name) DO UPDATE SET "
                       "value_json = excluded.value_json, set_at = excluded.set_at, "
                       "set_by = excluded.set_by, entry_id = excluded.entry_id",
-                      [name, json.dumps(_stored(value)), stamp(when), who or current_user(),
+                      [name, json.dumps(_stored(value), sort_keys=True), stamp(when), who or current_user(),
                        entry])
         return entry
 

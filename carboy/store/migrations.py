@@ -323,7 +323,8 @@ def m0004_waste_streams(db: Database) -> None:
 # The storeroom's own disposal rules over carboy's placeholders (carboy.model.disposal_profile):
 # one row per rule the storeroom set, and triggers that let a row change only right after
 # the journal entry recording that change (a note whose snapshot's event is
-# 'disposal-rules' and whose 'changes' name the rule).
+# 'disposal-rules' and whose 'changes' give the rule's new value, or, for a row removed,
+# say it went back to carboy's placeholder).
 SQL_0006 = """\
 CREATE TABLE disposal_rules (
     name TEXT PRIMARY KEY CHECK (name IN ('window_low', 'window_high', 'batch_treatment', 'batch_max_l', 'vessel_l', 'dilute_to_percent', 'ice_fraction', 'flush_factor', 'max_temperature_c', 'fill_limit_percent', 'nearly_full_percent', 'never_treat')),
@@ -337,20 +338,21 @@ CREATE TRIGGER disposal_rules_journaled_insert BEFORE INSERT ON disposal_rules
 WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
     WHERE j.id = NEW.entry_id AND j.id = (SELECT max(id) FROM journal_entries)
       AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
-      AND json_type(j.snapshot_json, '$.changes.' || NEW.name) IS NOT NULL)
+      AND json_extract(j.snapshot_json, '$.changes.' || NEW.name || '.after') IS json_extract(NEW.value_json, '$'))
 BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END
 ;
 CREATE TRIGGER disposal_rules_journaled_update BEFORE UPDATE ON disposal_rules
 WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
     WHERE j.id = NEW.entry_id AND j.id = (SELECT max(id) FROM journal_entries)
       AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
-      AND json_type(j.snapshot_json, '$.changes.' || NEW.name) IS NOT NULL)
+      AND json_extract(j.snapshot_json, '$.changes.' || NEW.name || '.after') IS json_extract(NEW.value_json, '$'))
 BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END
 ;
 CREATE TRIGGER disposal_rules_journaled_delete BEFORE DELETE ON disposal_rules
 WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
     WHERE j.id = (SELECT max(id) FROM journal_entries)
       AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
+      AND json_extract(j.snapshot_json, '$.back_to_placeholder') = 1
       AND json_type(j.snapshot_json, '$.changes.' || OLD.name) IS NOT NULL)
 BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END"""
 

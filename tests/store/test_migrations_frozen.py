@@ -20,7 +20,7 @@ SHIPPED_SHA256 = {
     "0002_storeroom_rules": "ccb83e6aecff951a5e4a1400591b47c973364116bb8f460b5edc5f7c38f69bb8",
     "0003_record_chain": "2f3cdb3ea16c083df8d0bfcc889a9db1ea7b36dc0c87d8d5305c3a58db8f4f62",
     "0004_waste_streams": "acf7baf235fd7b8070f2b1897a2ef2be4f1c9ae961d70b10052172156866eda3",
-    "0006_disposal_rules": "9ecccc0443b99f0b9d101fd2ad1eaaae4f157ea45a18542334932588c807e824",
+    "0006_disposal_rules": "0f8bbded6bd0668537b7f1e384607327b3e7757b6960026dc595829c8773e72c",
 }
 
 

@@ -155,6 +155,7 @@ CREATE TRIGGER disposal_rules_journaled_delete BEFORE DELETE ON disposal_rules
 WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
     WHERE j.id = (SELECT max(id) FROM journal_entries)
       AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
+      AND json_extract(j.snapshot_json, '$.back_to_placeholder') = 1
       AND json_type(j.snapshot_json, '$.changes.' || OLD.name) IS NOT NULL)
 BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END;
 
@@ -163,7 +164,7 @@ CREATE TRIGGER disposal_rules_journaled_insert BEFORE INSERT ON disposal_rules
 WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
     WHERE j.id = NEW.entry_id AND j.id = (SELECT max(id) FROM journal_entries)
       AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
-      AND json_type(j.snapshot_json, '$.changes.' || NEW.name) IS NOT NULL)
+      AND json_extract(j.snapshot_json, '$.changes.' || NEW.name || '.after') IS json_extract(NEW.value_json, '$'))
 BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END;
 
 -- trigger disposal_rules_journaled_update on disposal_rules
@@ -171,7 +172,7 @@ CREATE TRIGGER disposal_rules_journaled_update BEFORE UPDATE ON disposal_rules
 WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
     WHERE j.id = NEW.entry_id AND j.id = (SELECT max(id) FROM journal_entries)
       AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
-      AND json_type(j.snapshot_json, '$.changes.' || NEW.name) IS NOT NULL)
+      AND json_extract(j.snapshot_json, '$.changes.' || NEW.name || '.after') IS json_extract(NEW.value_json, '$'))
 BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END;
 
 -- trigger journal_entries_no_delete on journal_entries
