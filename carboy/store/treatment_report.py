@@ -130,7 +130,7 @@ class Report:
 
         out = {"year": self.year, "group_by": self.group_by,
                "treatments": [asdict(r) for r in self.rows],
-               "totals": {"all": plain(self.totals()),
+               "totals": {**plain(self.totals()),
                           "per_stream": {k: plain(v) for k, v in
                                          self.by(lambda r: r.stream).items()},
                           "per_month": {MONTHS[m - 1]: plain(v) for m, v in

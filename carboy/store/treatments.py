@@ -82,10 +82,15 @@ def plan_for(store: Store, label: str, reagent_text: str, *, target: str | None 
 
 def reagent_of(store: Store, readings: TreatmentReadings, catalog):
     """(reagent, bottle or None) the readings name; the bottle must be in use and hold
-    the amount in its own unit."""
+    the amount in its own unit (its own strength counts when a reagent is named too)."""
     if readings.bottle_id is None:
         return parse_reagent(readings.reagent_text, catalog), None
     bottle = get_bottle(store, readings.bottle_id)
+    if readings.reagent_text is not None:
+        named = parse_reagent(readings.reagent_text, catalog)
+        if named.key != bottle.compound_key:
+            raise InvalidInput("reagent", readings.reagent_text, f"bottle {bottle.id} holds "
+                               f"{bottle.compound_key}: give one or the other", field="reagent")
     if not bottle.status.is_usable:
         raise InvalidInput("bottle", bottle.id, f"is {bottle.status.words}, not in use",
                            field="bottle")

@@ -87,8 +87,8 @@ def test_end_to_end_plan_treat_report(capsys, filled):
     assert row["container"] == "ACID-07" and row["final_ph"] == 7.2
     assert row["treated"] == {"HCl": pytest.approx(6.0), "H2SO4": pytest.approx(2.0)}
     totals = report["totals"]
-    assert totals["all"]["count"] == 1 and totals["all"]["waste_l"] == pytest.approx(10.0)
-    assert totals["all"]["reagent"] == {"NaOH=2M": {"L": pytest.approx(5.0)}}
+    assert totals["count"] == 1 and totals["waste_l"] == pytest.approx(10.0)
+    assert totals["reagent"] == {"NaOH=2M": {"L": pytest.approx(5.0)}}
     assert totals["per_stream"]["acid"]["waste_l"] == pytest.approx(10.0)
     assert sum(m["count"] for m in totals["per_month"].values()) == 1
     ok(capsys, "waste", "dispose", "ACID-07", "--db", db)

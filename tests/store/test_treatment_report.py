@@ -51,9 +51,9 @@ def test_the_treatments_of_the_year_with_totals(store, year):
     assert b1.final_ph == 6.2 and b1.in_window and b1.corrected
     assert report.rows[0].treated == {"HCl": pytest.approx(2.0)}
     data = report.to_dict()
-    assert data["totals"]["all"]["count"] == 3
-    assert data["totals"]["all"]["waste_l"] == pytest.approx(6.0)
-    assert data["totals"]["all"]["reagent"] == {"NaOH=2M": {"L": 2.0}, "HCl=1M": {"L": 2.0}}
+    assert data["totals"]["count"] == 3
+    assert data["totals"]["waste_l"] == pytest.approx(6.0)
+    assert data["totals"]["reagent"] == {"NaOH=2M": {"L": 2.0}, "HCl=1M": {"L": 2.0}}
     assert {k: v["count"] for k, v in data["totals"]["per_stream"].items()} == \
         {"acid": 2, "alkaline": 1}
     assert {k: v["count"] for k, v in data["totals"]["per_month"].items()} == \

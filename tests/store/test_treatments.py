@@ -76,6 +76,7 @@ def test_a_short_bottle_is_refused_and_nothing_is_written(store):
 @pytest.mark.parametrize(("fields", "error"), [
     (dict(bottle="99", added="1 L", final_ph="7"), "no stock bottle"),
     (dict(bottle="1", added="100 g", final_ph="7"), "kept in L"),
+    (dict(bottle="1", reagent="KOH=2M", added="1 L", final_ph="7"), "bottle 1 holds NaOH"),
 ])
 def test_a_bottle_that_cannot_supply_it_writes_nothing(store, fields, error):
     label = acid(store)
@@ -181,3 +182,10 @@ def test_every_rule_change_is_journaled_and_the_database_holds_to_it(store):
     with pytest.raises(InvalidInput):
         disposal.set_rules(store, {"window_low": "9.5"})  # above the high edge
     assert disposal.load(store).batch_max_l == 0.25 and journal.verify(store).ok
+
+
+def test_a_bottle_with_its_reagent_named_too_draws_the_bottle(store):
+    label, b = acid(store), bottle(store)
+    done = treatments.record_treatment(store, label, readings(
+        bottle=str(b), reagent="NaOH=2M", added="1 L", final_ph="7"))
+    assert done.bottle_id == b and stock.get(store, b).amount_left == pytest.approx(4.0)

@@ -37,7 +37,7 @@ def test_a_full_treatment_reads(catalog):
     (dict(bottle="7", added="1 L", final_ph="7", temperature="150"), "temperature"),
     (dict(bottle="7", added="1 L", final_ph="7", final_volume="-2 L"), "final_volume"),
     (dict(bottle="bottle seven", added="1 L", final_ph="7"), "bottle"),
-    (dict(bottle="7", reagent="NaOH=1M", added="1 L", final_ph="7"), "reagent"),
+    (dict(bottle="7", reagent="NaOHx=1M", added="1 L", final_ph="7"), "reagent"),
     (dict(added="1 L", final_ph="7"), "bottle"),
     (dict(reagent="NaHCO3", added="1 L", final_ph="7"), "added"),
     (dict(reagent="NaOH=1M", added="40 g", final_ph="7"), "added"),

@@ -66,7 +66,8 @@ class Amount:
 
 @dataclass(frozen=True)
 class TreatmentReadings:
-    """The treatment as read; ``reagent_text`` is set when no bottle supplied it."""
+    """The treatment as read: the bottle the reagent came from, or ``reagent_text`` for
+    one not from a bottle (with a bottle, a reagent named too must be the bottle's)."""
 
     bottle_id: int | None
     reagent_text: str | None
@@ -174,21 +175,18 @@ def _stage_amounts(form: FormReader, fields: TreatmentFields, added: Amount | No
 
 def _reagent(form: FormReader, fields: TreatmentFields, catalog) -> tuple[int | None, str | None]:
     has_bottle, has_reagent = bool(fields.bottle.strip()), bool(fields.reagent.strip())
-    if has_bottle and has_reagent:
-        form.fail("reagent", InvalidInput("reagent", fields.reagent, "give the bottle or a "
-                                          "reagent not from a bottle, not both",
-                                          field="reagent"))
-        return None, None
     if not has_bottle and not form.need("bottle", fields.reagent, NEED_REAGENT):
         return None, None
+    bid = None
     if has_bottle:
         bid = form.read("bottle", bottle_ref, fields.bottle)
         if bid is None and "bottle" not in form.reading.errors:
             form.fail("bottle", InvalidInput("bottle", fields.bottle, "expected a bottle id "
                                              "such as #7", field="bottle"))
+    if not has_reagent:
         return bid, None
     reagent = form.read("reagent", parse_reagent, fields.reagent, catalog)
-    return None, (reagent.text if reagent is not None else None)
+    return bid, (reagent.text if reagent is not None else None)
 
 
 def read(fields: TreatmentFields, catalog=None) -> Reading[TreatmentReadings]:
@@ -199,7 +197,7 @@ def read(fields: TreatmentFields, catalog=None) -> Reading[TreatmentReadings]:
     bottle_id, reagent_text = _reagent(form, fields, catalog)
     added = form.read("added", read_amount, fields.added) \
         if form.need("added", fields.added, NEED_ADDED) else None
-    if added is not None and reagent_text is not None:
+    if added is not None and reagent_text is not None and bottle_id is None:
         solid = parse_reagent(reagent_text, catalog).is_solid
         if solid != (added.unit == "g"):
             form.fail("added", InvalidInput("amount added", fields.added,

@@ -180,8 +180,9 @@ def waste_show(args) -> int:
     if args.json:
         emit_json(info)
         return EXIT_OK
+    fill = " (full)" if info["full"] else " (nearly full)" if info["nearly_full"] else ""
     print(f"{info['label']}  {ContainerStatus(info['status']).words}  "
-          f"{volume(info['volume_l'])} of {volume(info['capacity_l'])}"
+          f"{volume(info['volume_l'])} of {volume(info['capacity_l'])}{fill}"
           f"  {info['location']}")
     made_of = f", {info['material']}" if info["material"] else ""
     print(f"  stream: {info['stream_name']}{made_of}"
