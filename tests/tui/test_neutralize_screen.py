@@ -255,3 +255,24 @@ async def test_an_older_result_never_overwrites_a_newer_one(demo_db):
         screen.post_message(Computed(old))
         await pilot.pause(0.2)
         assert screen.plan is shown
+
+
+async def test_the_most_serious_caution_shows_in_one_line_and_one_key_opens_them_all(demo_db):
+    from carboy.tui.app.widgets.plan_view import CautionsScreen
+
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=(80, 24)) as pilot:
+        screen = await open_container(app, pilot, "HF-04")
+        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        await settled(pilot, screen)
+        panel = screen.query_one(CautionsPanel)
+        line = panel.query_one("#cautions-headline", Static)
+        first = str(line.content)
+        assert line.region.height == 1 and line.region.y < 24  # on screen, one line
+        assert "DANGER" in first and f"{len(screen.plan.cautions) - 1} more: ctrl+g" in first
+        await pilot.press("ctrl+g")
+        await wait_for(pilot, lambda: isinstance(app.screen, CautionsScreen))
+        shown = " ".join(str(w.content) for w in app.screen.query(Static))
+        assert all(f"[{c.code}]" in shown for c in screen.plan.cautions)
+        await pilot.press("escape")
+        await wait_for(pilot, lambda: app.screen is screen)

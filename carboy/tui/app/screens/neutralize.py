@@ -115,8 +115,8 @@ class NeutralizeScreen(Screen):
                 tooltip="Cycle the plan views: figures, stages, curve"),
         Binding("ctrl+n", "typed_sample", "Type sample", id="neutralize.typed_sample",
                 tooltip="Leave the container and type the sample's components"),
-        Binding("ctrl+g", "read_cautions", "Cautions", id="neutralize.read_cautions",
-                tooltip="Move to the cautions to scroll through them"),
+        Binding("ctrl+g", "read_cautions", "All cautions", id="neutralize.read_cautions",
+                tooltip="Every caution of the plan, most serious first"),
     ]
 
     def __init__(self, name: str | None = None, id: str | None = None,  # noqa: A002
@@ -437,7 +437,7 @@ class NeutralizeScreen(Screen):
         self._inputs_changed()
 
     def action_read_cautions(self) -> None:
-        self.query_one("#cautions-scroll").focus()
+        self.app.push_screen(self.query_one(CautionsPanel).full_screen())
 
     # -- recompute -------------------------------------------------------------------------
     def _form_state(self) -> FormState:

@@ -99,6 +99,8 @@ class PrepareScreen(Screen):
                 tooltip="The label text for the new bottle"),
         Binding("ctrl+e", "show_tab('recipe')", "Recipe", id="prepare.recipe",
                 tooltip="The recipe: amounts, steps and heat"),
+        Binding("ctrl+g", "read_cautions", "All cautions", id="prepare.read_cautions",
+                tooltip="Every caution of the recipe, most serious first"),
     ]
 
     def __init__(self) -> None:
@@ -198,6 +200,9 @@ class PrepareScreen(Screen):
         if action == "record":
             return self._current() is not None
         return True
+
+    def action_read_cautions(self) -> None:
+        self.app.push_screen(self.query_one(CautionsPanel).full_screen())
 
     def action_show_tab(self, tab: str) -> None:
         self.query_one(TabbedContent).active = tab

@@ -9,7 +9,9 @@ from __future__ import annotations
 
 from rich.text import Text
 from textual.app import ComposeResult
+from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
+from textual.screen import ModalScreen
 from textual.widgets import DataTable, Static
 
 SEVERITY_MARKS = {"danger": "‼ DANGER", "warning": "! WARNING", "notice": "· NOTE"}
@@ -23,6 +25,9 @@ STANDING_NOTE = (
 NOT_FOR_DRAIN = (
     "‼ NOT FOR DRAIN DISPOSAL: this waste goes to licensed hazardous-waste disposal "
     "through the safety office, neutralized or not. The doses are for information only.")
+
+NOT_FOR_DRAIN_LINE = "‼ NOT FOR DRAIN DISPOSAL: licensed disposal through the safety office"
+"""The drain verdict in one line (the full text is in the cautions)."""
 
 NO_PLAN_YET = "No plan yet: give a sample (a container, or components and a volume) and a reagent."
 
@@ -227,25 +232,52 @@ class StagesTable(DataTable):
             self.add_row(*row)
 
 
+SEVERITY_RANK = {"danger": 0, "warning": 1, "notice": 2}
+
+
+def by_severity(cautions) -> list:
+    """The cautions, most serious first (the order within a severity kept)."""
+    return sorted(cautions, key=lambda c: SEVERITY_RANK.get(c.severity, 3))
+
+
+def headline(cautions, *, stale: bool = False, empty: str | None = None,
+             key: str = "ctrl+g") -> Text:
+    """One line: the most serious caution, and how many more there are and how to see them."""
+    t = Text(no_wrap=True, overflow="ellipsis")
+    ranked = by_severity(cautions)
+    if stale:
+        t.append("(last good plan) ", style="italic")
+    if not ranked:
+        t.append(f"· NOTE  {empty or NO_CAUTIONS_YET}")
+        return t
+    first, rest = ranked[0], len(ranked) - 1
+    if rest:
+        t.append(f"[{rest} more: {key}] ", style="bold")
+    t.append(f"{SEVERITY_MARKS.get(first.severity, '· NOTE')} ",
+             style=SEVERITY_STYLES.get(first.severity, ""))
+    t.append(first.text)
+    return t
+
+
 class CautionsPanel(Vertical):
-    """The cautions, always on screen; the standing disposal note never scrolls away."""
+    """The cautions, never below the fold: the most serious in one line with the count of
+    the rest (one key opens them all, :class:`CautionsScreen`), the drain verdict, and the
+    standing disposal note."""
 
     DEFAULT_CSS = """
     CautionsPanel {
-        height: 7;
+        height: auto;
+        max-height: 5;
         border-top: heavy $foreground 50%;
     }
     CautionsPanel > #drain-banner {
         display: none;
         text-style: bold reverse;
-        height: auto;
+        height: 1;
     }
     CautionsPanel.-no-drain > #drain-banner { display: block; }
-    CautionsPanel > #cautions-scroll { height: 1fr; }
-    CautionsPanel > #standing-note {
-        height: auto;
-        text-style: bold;
-    }
+    CautionsPanel > #cautions-headline { height: 1; }
+    CautionsPanel > #standing-note { height: auto; text-style: bold; }
     """
 
     can_focus = False
@@ -255,11 +287,12 @@ class CautionsPanel(Vertical):
         super().__init__(**kwargs)
         self.note = note
         self.empty = empty
+        self.cautions: tuple = ()
+        self.stale = False
 
     def compose(self) -> ComposeResult:
-        yield Static(NOT_FOR_DRAIN, id="drain-banner", markup=False)
-        with VerticalScroll(id="cautions-scroll", can_focus=True):
-            yield Static(cautions_text((), empty=self.empty), id="cautions-text")
+        yield Static(NOT_FOR_DRAIN_LINE, id="drain-banner", markup=False)
+        yield Static(headline((), empty=self.empty), id="cautions-headline")
         yield Static("· " + self.note, id="standing-note", markup=False)
 
     def on_mount(self) -> None:
@@ -267,17 +300,54 @@ class CautionsPanel(Vertical):
 
     def show_cautions(self, cautions, *, drain_plan: bool = True, stale: bool = False) -> None:
         self.cautions = tuple(cautions)
+        self.stale = stale
         self.set_class(not drain_plan, "-no-drain")
-        self.query_one("#cautions-text", Static).update(
-            cautions_text(cautions, stale=stale, empty=self.empty))
+        self.query_one("#cautions-headline", Static).update(
+            headline(self.cautions, stale=stale, empty=self.empty))
 
     @property
     def text(self) -> str:
-        parts = []
-        for wid in ("#drain-banner", "#cautions-text", "#standing-note"):
-            w = self.query_one(wid, Static)
-            if wid == "#drain-banner" and not self.has_class("-no-drain"):
-                continue
-            c = w.content
-            parts.append(c.plain if isinstance(c, Text) else str(c))
+        """Everything the panel stands for: the drain verdict, every caution, the note."""
+        parts = [NOT_FOR_DRAIN] if self.has_class("-no-drain") else []
+        parts.append(cautions_text(self.cautions, stale=self.stale, empty=self.empty).plain)
+        parts.append("· " + self.note)
         return "\n".join(parts)
+
+    def full_screen(self) -> CautionsScreen:
+        return CautionsScreen(self.cautions, drain_plan=not self.has_class("-no-drain"),
+                              stale=self.stale, note=self.note, empty=self.empty)
+
+
+class CautionsScreen(ModalScreen[None]):
+    """Every caution, most serious first, with the drain verdict and the standing note."""
+
+    BINDINGS = [Binding("escape,ctrl+g", "close", "Close", id="cautions.close")]
+
+    DEFAULT_CSS = """
+    CautionsScreen { align: center middle; }
+    CautionsScreen > #all-cautions { width: 90%; max-width: 100; height: auto;
+        max-height: 90%; border: heavy $foreground; background: $surface; padding: 0 1; }
+    """
+
+    def __init__(self, cautions, *, drain_plan: bool, stale: bool, note: str,
+                 empty: str | None) -> None:
+        super().__init__()
+        self.cautions, self.drain_plan, self.stale = tuple(cautions), drain_plan, stale
+        self.note, self.empty = note, empty
+
+    def compose(self) -> ComposeResult:
+        with VerticalScroll(id="all-cautions"):
+            if not self.drain_plan:
+                yield Static(Text(NOT_FOR_DRAIN, style="bold reverse"))
+            yield Static(cautions_text(by_severity(self.cautions), stale=self.stale,
+                                       empty=self.empty))
+            yield Static(Text("· " + self.note, style="bold"))
+            yield Static(Text("esc closes", style="dim"))
+
+    def on_mount(self) -> None:
+        self.query_one("#all-cautions").border_title = \
+            f"All cautions ({len(self.cautions)})"
+        self.query_one("#all-cautions").focus()
+
+    def action_close(self) -> None:
+        self.dismiss(None)
