@@ -17,6 +17,7 @@ compatibility.toml waste streams and the rules refusing an addition     compatib
 metals.toml        metal hydrolysis, hydroxides, ligand solids          metals
 pitzer.toml        Pitzer ion-interaction parameters                    pitzer_data
 ion_pairs.toml     ion-pair formation constants                         ion_pairs
+disposal_rules.toml  the disposal rule profile's placeholders           disposal_profile
 =================  ===================================================  =====================
 
 Every value carries a ``source`` and a ``status`` from the one vocabulary of
@@ -65,6 +66,7 @@ DATA_FILES = (
     "metals.toml",
     "pitzer.toml",
     "ion_pairs.toml",
+    "disposal_rules.toml",
 )
 """Every packaged data file."""
 
@@ -306,6 +308,15 @@ def _compatibility_keys(data: Mapping[str, Any]) -> Iterable:
                 yield from alternative.get("compounds", ())
 
 
+def _never_treat_keys(data: Mapping[str, Any]) -> Iterable:
+    """The compounds of the never-treat list (``HClO4``, ``HNO3>20%``; not ``stream:`` or
+    ``tag:`` items)."""
+    for rec in data.get("never_treat", ()):
+        item = str(rec.get("item", "")) if isinstance(rec, Mapping) else ""
+        if item and ":" not in item:
+            yield item.partition(">")[0].strip()
+
+
 def _ghs_keys(data: Mapping[str, Any]) -> Iterable:
     yield from _array_keys("compounds")(data)
     yield from _array_keys("compounds", key="bands_of")(data)
@@ -322,6 +333,7 @@ COMPOUND_KEYS: Mapping[str, Callable[[Mapping[str, Any]], Iterable]] = {
         "supplied_strength", "fume_hood_from_percent", "weigh_from_percent", "hygroscopic_solids"
     ),
     "compatibility.toml": _compatibility_keys,
+    "disposal_rules.toml": _never_treat_keys,
 }
 """Per data file: where its keys that name a compound (``compounds.toml`` key) stand."""
 

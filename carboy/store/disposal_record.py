@@ -123,7 +123,7 @@ def _plan_fields(entry: journal.Entry) -> Fields:
         items.append(("Window", f"pH {window['low_pH']:g}–{window['high_pH']:g}"))
     if plan.get("note"):
         items.append(("Note", _text_of(plan["note"])))
-    measured = entry.snapshot.get("measured_ph")
+    measured = _final_ph(entry)
     items.append(("Measured pH", f"{measured:g}" if isinstance(measured, (int, float))
                   else "not yet (plan only)"))
     return Fields(tuple(items))
@@ -158,11 +158,22 @@ def _cautions(tags: frozenset[str], plan: Mapping[str, Any]) -> list[str]:
     return texts
 
 
+def _final_ph(entry: journal.Entry) -> float | None:
+    """The pH a neutralization entry recorded: a treatment's final reading, or an older
+    entry's measured pH (a later correction is listed in the journal table)."""
+    value = entry.snapshot.get("measured_ph")
+    if value is None:
+        value = (entry.snapshot.get("readings") or {}).get("final_ph")
+    return float(value) if isinstance(value, (int, float)) else None
+
+
 def _treatment_table(entries: list[journal.Entry]) -> Table:
     rows = []
     for e in entries:
-        if e.kind == "neutralization" and e.snapshot.get("measured_ph") is not None:
-            what = f"neutralized, measured pH {e.snapshot['measured_ph']:g}"
+        if e.kind == "neutralization" and _final_ph(e) is not None:
+            route = e.snapshot.get("route")
+            what = f"neutralized, measured pH {_final_ph(e):g}" + (
+                f" ({route.replace('-', ' ')})" if route else "")
         elif e.kind == "disposal" or e.kind not in ("neutralization", "note", "correction"):
             what = str(e.snapshot.get("status") or e.kind)
         else:

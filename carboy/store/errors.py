@@ -83,6 +83,41 @@ class OverCapacity(StoreError, Refused):
 
 
 @dataclass
+class HeadspaceRefused(OverCapacity):
+    """An addition would fill a waste container past its fill limit (the headspace the
+    storeroom's rules keep free); the message names the free volume left."""
+
+    limit_percent: float = 90.0
+    volume_l: float = 0.0
+    """What the container holds now."""
+
+    @property
+    def limit_l(self) -> float:
+        return self.capacity_l * self.limit_percent / 100.0
+
+    @property
+    def free_l(self) -> float:
+        return max(self.limit_l - self.volume_l, 0.0)
+
+    def __str__(self) -> str:
+        return (f"waste container {self.label!r} may be filled to {self.limit_percent:g} % "
+                f"({self.limit_l:.4g} L of {self.capacity_l:g} L): {self.free_l:.4g} L free "
+                f"below that; this would bring it to {self.would_be_l:.4g} L")
+
+
+@dataclass
+class DisposalRefused(StoreError, Refused):
+    """A waste container may not be marked disposed, or treated here, by the rules."""
+
+    label: str
+    reason: str
+    action: str = "mark it disposed"
+
+    def __str__(self) -> str:
+        return f"waste container {self.label!r}: cannot {self.action}: {self.reason}"
+
+
+@dataclass
 class Busy(StoreError):
     """The database stayed locked by other users through every retry."""
 

@@ -25,6 +25,8 @@ Tables (names are ours):
                        intervals per compound, standardization acceptance
 ``record_chain``       one hash-chain link per journal entry and waste addition (0003),
                        with guards that refuse UPDATE, DELETE and an INSERT reusing an id
+``disposal_rules``     the storeroom's own disposal rules over carboy's placeholders
+                       (0006), changed only right after the journal entry recording it
 
 Migration 0004 gives each waste container a ``stream`` (what it is meant for, the
 vocabulary of :mod:`carboy.model.compatibility`), a ``stream_note`` (how the stream was
@@ -407,6 +409,46 @@ CREATE INDEX journal_entries_by_container ON journal_entries (container_id, reco
 @migrations(name="0005_speed_at_scale")
 def m0005_speed_at_scale(db: Database) -> None:
     _run(db, SQL_0005)
+# The storeroom's own disposal rules over carboy's placeholders (carboy.model.disposal_profile):
+# one row per rule the storeroom set, and triggers that let a row change only right after
+# the journal entry recording that change (a note whose snapshot's event is
+# 'disposal-rules' and whose 'changes' give the rule's new value, or, for a row removed,
+# say it went back to carboy's placeholder).
+SQL_0006 = """\
+CREATE TABLE disposal_rules (
+    name TEXT PRIMARY KEY CHECK (name IN ('window_low', 'window_high', 'batch_treatment', 'batch_max_l', 'vessel_l', 'dilute_to_percent', 'ice_fraction', 'flush_factor', 'max_temperature_c', 'fill_limit_percent', 'nearly_full_percent', 'never_treat')),
+    value_json TEXT NOT NULL CHECK (json_valid(value_json)),
+    set_at TEXT NOT NULL,
+    set_by TEXT NOT NULL,
+    entry_id INTEGER NOT NULL REFERENCES journal_entries (id)
+)
+;
+CREATE TRIGGER disposal_rules_journaled_insert BEFORE INSERT ON disposal_rules
+WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
+    WHERE j.id = NEW.entry_id AND j.id = (SELECT max(id) FROM journal_entries)
+      AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
+      AND json_extract(j.snapshot_json, '$.changes.' || NEW.name || '.after') IS json_extract(NEW.value_json, '$'))
+BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END
+;
+CREATE TRIGGER disposal_rules_journaled_update BEFORE UPDATE ON disposal_rules
+WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
+    WHERE j.id = NEW.entry_id AND j.id = (SELECT max(id) FROM journal_entries)
+      AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
+      AND json_extract(j.snapshot_json, '$.changes.' || NEW.name || '.after') IS json_extract(NEW.value_json, '$'))
+BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END
+;
+CREATE TRIGGER disposal_rules_journaled_delete BEFORE DELETE ON disposal_rules
+WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
+    WHERE j.id = (SELECT max(id) FROM journal_entries)
+      AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
+      AND json_extract(j.snapshot_json, '$.back_to_placeholder') = 1
+      AND json_type(j.snapshot_json, '$.changes.' || OLD.name) IS NOT NULL)
+BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END"""
+
+
+@migrations(name="0006_disposal_rules")
+def m0006_disposal_rules(db: Database) -> None:
+    _run(db, SQL_0006)
 
 
 class _HasDatabase(Protocol):

@@ -37,10 +37,16 @@ from carboy.errors import InvalidInput
 from carboy.model.components import Component, read_component
 from carboy.model.entities import Compound
 from carboy.model.mixture import Mixture
-from carboy.store import chain, journal, waste_streams
+from carboy.store import chain, disposal, journal, treatment_records, waste_streams
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store, current_user, stamp
-from carboy.store.errors import AlreadyExists, ContainerClosed, NotFound, OverCapacity
+from carboy.store.errors import (
+    AlreadyExists,
+    ContainerClosed,
+    DisposalRefused,
+    HeadspaceRefused,
+    NotFound,
+)
 from carboy.store.readers import check_length, fielded, parse_litres
 from carboy.store.statuses import CONTAINER_STATUSES, ContainerStatus
 from carboy.store.waste_rows import (  # noqa: F401 (check_label, moles: public here too)
@@ -85,6 +91,12 @@ class Container:
     stream_note: str = ""
     """How the stream came to be when no person chose it (an upgrade's inference), or
     the reason of the last change."""
+    fill_percent: float = 0.0
+    """Volume against capacity, %."""
+    nearly_full: bool = False
+    """Collecting and at or past the rules' nearly-full level (default 80 %)."""
+    full: bool = False
+    """Collecting and at the rules' fill limit (default 90 %): it takes no more."""
 
     def as_dict(self) -> dict:
         return asdict(self)
@@ -186,15 +198,20 @@ def new_container(store: Store, label: str, *, location: str = "",
 
 
 def _check_room(store: Store, row: Mapping[str, Any], change_l: float) -> None:
-    """Refuse a change of ``change_l`` litres that would overfill the container."""
-    would_be = counted_volume(store, row["id"]) + change_l
-    if would_be > row["capacity_l"] * (1 + 1e-9):
-        raise OverCapacity(row["label"], row["capacity_l"], would_be)
+    """Refuse a change of ``change_l`` litres that would fill the container past the fill
+    limit of the storeroom's rules (the headspace kept free; 90 % unless set)."""
+    now = counted_volume(store, row["id"])
+    would_be = now + change_l
+    limit = disposal.load(store).fill_limit_percent
+    if change_l > 0 and would_be > row["capacity_l"] * limit / 100.0 * (1 + 1e-9):
+        raise HeadspaceRefused(row["label"], row["capacity_l"], would_be, limit, now)
 
 
-def _insert_addition(s: Store, row: dict, component: Component, volume_l: float, *,
+def insert_addition(s: Store, row: dict, component: Component, volume_l: float, *,
                      note: str, supersedes: int | None, who: str | None, when: datetime | None,
                      ) -> int:
+    """Write one addition row and its chain link (inside ``Store.write``; no rule is
+    judged here: :func:`add` and the treatment record judge before they call it)."""
     moles = moles_of(component, volume_l)
     cur = s.execute(
         "INSERT INTO waste_additions (container_id, compound_key, conc_molar, volume_l, mass_g, "
@@ -224,7 +241,8 @@ def add(store: Store, label: str, component: str, volume: str | float | None = N
     UnknownCompound, InvalidInput : the component or volume is unusable.
     NotFound : no such container.
     ContainerClosed : the container is no longer collecting.
-    OverCapacity : the addition would overfill it.
+    HeadspaceRefused : the addition would fill it past the fill limit (an
+        :class:`~carboy.store.errors.OverCapacity`; the message names the free volume).
     Refused : the rules refuse it (a gas hazard, an explosive or violent reaction, an
         acid into a cyanide container …); no ``accept`` overrides that.
     NeedsConfirmation : the rules ask for a reason and ``accept`` gave none.
@@ -243,7 +261,7 @@ def add(store: Store, label: str, component: str, volume: str | float | None = N
         asked = waste_streams.enforce(
             waste_streams.judge_component(s, row, parsed, vol, catalog),
             f"adding {parsed.compound.key} to {row['label']}", accept)
-        addition_id = _insert_addition(s, row, parsed, vol, note=note, supersedes=None,
+        addition_id = insert_addition(s, row, parsed, vol, note=note, supersedes=None,
                                        who=who, when=when)
         if asked:
             journal.append_in(
@@ -297,13 +315,13 @@ def correct_addition(store: Store, addition_id: int, reason: str, *,
         if not row["status"].takes_additions:
             raise ContainerClosed(row["label"], row["status"], "correct its additions")
         if component is None:
-            parsed = Component(_withdrawn(old["compound_key"]), 0.0, None,
+            parsed = Component(nothing(old["compound_key"]), 0.0, None,
                                f"(withdrawn: {old['entered']})")
             vol = 0.0
         else:
             parsed, vol = read_addition(component, volume, catalog)
         _check_room(s, row, vol - old["volume_l"])
-        new_id = _insert_addition(s, row, parsed, vol, note=reason.strip(),
+        new_id = insert_addition(s, row, parsed, vol, note=reason.strip(),
                                   supersedes=old["id"], who=who, when=when)
         journal.append_in(s, "note", container_id=row["id"], who=who, when=when,
                           summary=f"{row['label']}: addition {old['id']} corrected by {new_id}",
@@ -315,13 +333,14 @@ def correct_addition(store: Store, addition_id: int, reason: str, *,
     return store.write(work)
 
 
-def _withdrawn(key: str) -> Compound:
-    """A stand-in that brings nothing: the row that withdraws a mistaken addition."""
+def nothing(key: str) -> Compound:
+    """A stand-in that brings nothing: the row that withdraws a mistaken addition, or the
+    water a treatment adds up to its final volume."""
     return Compound(key=key, formula="", name=key, aliases=(), composition={},
                     molar_mass_g_mol=1.0)
 
 
-def _move(s: Store, row: Mapping[str, Any], target: ContainerStatus, today: date | None) -> None:
+def move(s: Store, row: Mapping[str, Any], target: ContainerStatus, today: date | None) -> None:
     """Set the status; the first move away from collecting dates the closing."""
     s.execute("UPDATE waste_containers SET status = ?, closed_on = ? WHERE id = ?",
               [target, row["closed_on"] or _today(today), row["id"]])
@@ -330,7 +349,12 @@ def _move(s: Store, row: Mapping[str, Any], target: ContainerStatus, today: date
 def set_status(store: Store, label: str, status: str, *, note: str = "",
                who: str | None = None, when: datetime | None = None,
                today: date | None = None) -> int:
-    """Move a container on (see :attr:`ContainerStatus.next`); journaled. Returns the entry id."""
+    """Move a container on (see :attr:`ContainerStatus.next`); journaled. Returns the entry id.
+
+    Marking it disposed is refused (:class:`~carboy.store.errors.DisposalRefused`) while
+    its last treatment ended outside the acceptance window
+    (:func:`carboy.store.treatment_records.disposal_block`).
+    """
     target = ContainerStatus.parse(status)
 
     def work(s: Store) -> int:
@@ -338,14 +362,18 @@ def set_status(store: Store, label: str, status: str, *, note: str = "",
         was = row["status"]
         if not was.can_move_to(target):
             raise ContainerClosed(row["label"], was, f"move it to {target.words}")
-        _move(s, row, target, today)
+        if target is ContainerStatus.DISPOSED:
+            block = treatment_records.disposal_block(s, row["id"], disposal.load(s).window)
+            if block:
+                raise DisposalRefused(row["label"], block)
+        move(s, row, target, today)
         return journal.append_in(
             s, "disposal" if target.is_disposal else "note", container_id=row["id"], who=who,
             when=when,
             summary=f"{row['label']}: {was.words} -> {target.words}"
                     + (f" ({note})" if note else ""),
             snapshot={"previous_status": was, "status": target, "note": note,
-                      **_snapshot_of(s, row)})
+                      **snapshot_of(s, row)})
 
     return store.write(work)
 
@@ -381,12 +409,12 @@ def record_neutralization(store: Store, label: str, plan_snapshot: Mapping[str, 
         row = container_row(s, label)
         if not row["status"].can_record_neutralization:
             raise ContainerClosed(row["label"], row["status"], "record a neutralization")
-        _move(s, row, target, today)
+        move(s, row, target, today)
         summary = (f"{row['label']}: neutralization "
                    + ("planned" if measured_ph is None else f"done, measured pH {measured_ph:g}"))
         return journal.append_in(
             s, "neutralization", container_id=row["id"], who=who, when=when, summary=summary,
-            snapshot={"container": _snapshot_of(s, row), "plan": json.loads(plan_json),
+            snapshot={"container": snapshot_of(s, row), "plan": json.loads(plan_json),
                       "measured_ph": measured_ph, "previous_status": row["status"],
                       "status": target})
 
@@ -395,15 +423,22 @@ def record_neutralization(store: Store, label: str, plan_snapshot: Mapping[str, 
 
 # -- reads -------------------------------------------------------------------------------
 
-def _container(store: Store, row: Mapping[str, Any]) -> Container:
+def _container(store: Store, row: Mapping[str, Any], profile=None) -> Container:
     agg = store.one(f"SELECT count(*) AS n, coalesce(sum(a.volume_l), 0) AS v {LIVE}",
                     {"cid": row["id"]})
+    profile = profile or disposal.load(store)
+    volume = float(agg["v"])
+    fill = volume / row["capacity_l"] * 100.0 if row["capacity_l"] else 0.0
+    collecting = ContainerStatus(row["status"]).takes_additions
     return Container(id=row["id"], label=row["label"], location=row["location"],
                      capacity_l=row["capacity_l"], status=row["status"],
                      opened_on=row["opened_on"], closed_on=row["closed_on"], notes=row["notes"],
-                     created_by=row["created_by"], volume_l=float(agg["v"]),
+                     created_by=row["created_by"], volume_l=volume,
                      n_additions=int(agg["n"]), stream=row["stream"],
-                     material=row["material"], stream_note=row["stream_note"])
+                     material=row["material"], stream_note=row["stream_note"],
+                     fill_percent=fill,
+                     nearly_full=collecting and fill >= profile.nearly_full_percent - 1e-9,
+                     full=collecting and fill >= profile.fill_limit_percent - 1e-9)
 
 
 def container(store: Store, label: str) -> Container:
@@ -411,14 +446,18 @@ def container(store: Store, label: str) -> Container:
         return _container(store, container_row(store, label))
 
 
-def containers(store: Store, *, status: str | None = None) -> list[Container]:
-    """Every container (optionally of one status), by label."""
+def containers(store: Store, *, status: str | None = None,
+               nearly_full: bool = False) -> list[Container]:
+    """Every container (optionally of one status, or only the nearly full ones), by label."""
     wanted = None if status is None else ContainerStatus.parse(status)
     with store.reading():
+        profile = disposal.load(store)
         rows = store.rows("SELECT * FROM waste_containers" +
                           (" WHERE status = ?" if wanted else "") + " ORDER BY label",
                           [wanted] if wanted else [])
-        return [_container(store, {**r, "status": ContainerStatus(r["status"])}) for r in rows]
+        found = [_container(store, {**r, "status": ContainerStatus(r["status"])}, profile)
+                 for r in rows]
+    return [c for c in found if c.nearly_full] if nearly_full else found
 
 
 def composition(store: Store, label: str, *, temperature_c: float = 25.0) -> Mixture:
@@ -464,10 +503,13 @@ def hazard_tags(store: Store, label: str) -> frozenset[str]:
     return frozenset(tags)
 
 
-def _snapshot_of(store: Store, row: Mapping[str, Any]) -> dict:
+def snapshot_of(store: Store, row: Mapping[str, Any]) -> dict:
+    """What the journal keeps of a container as it stood: volume, capacity, stream, the
+    moles of each system and ion, and the mol of each compound logged (``contents``)."""
     amounts, volume = moles(store, row["label"])
+    held = waste_streams.held_in(store, row, catalog_for(store))
     return {"label": row["label"], "volume_l": volume, "capacity_l": row["capacity_l"],
-            "moles": amounts}
+            "stream": row.get("stream"), "moles": amounts, "contents": dict(held.contents)}
 
 
 def show(store: Store, label: str) -> dict:
@@ -488,7 +530,8 @@ def show(store: Store, label: str) -> dict:
             journal.entries(store, container_id=row["id"], limit=None))
     rules_view = waste_streams.view(info.stream, info.material, h, catalog)
     return {"label": info.label, "status": info.status, "volume_l": volume,
-            "capacity_l": info.capacity_l, "location": info.location,
+            "capacity_l": info.capacity_l, "fill_percent": info.fill_percent,
+            "nearly_full": info.nearly_full, "full": info.full, "location": info.location,
             "opened_on": info.opened_on, "closed_on": info.closed_on, "notes": info.notes,
             "stream": info.stream, "stream_name": waste_streams.stream_name(info.stream),
             "stream_note": info.stream_note, "material": info.material,

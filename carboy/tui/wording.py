@@ -10,8 +10,8 @@ from __future__ import annotations
 from carboy.model import numbers
 from carboy.model.numbers import amount, count, mass, moles, ph, strength, volume
 
-__all__ = ["amount", "count", "heat_text", "mass", "moles", "ph", "short_strength", "strength",
-           "tally", "volume"]
+__all__ = ["amount", "count", "disposal_lines", "heat_text", "mass", "moles", "ph",
+           "short_strength", "strength", "tally", "treatment_line", "volume"]
 
 
 def heat_text(recipe) -> str:
@@ -43,3 +43,31 @@ def tally(found, noun: str | None = None) -> str:
     if found.exact:
         return f"{found.n:,}" if noun is None else count(found.n, noun)
     return f"more than {found.n:,}" + ("" if noun is None else f" {noun}s")
+
+
+def disposal_lines(disposal) -> list[str]:
+    """The plan under the storeroom's disposal rules, one line a step (both front ends):
+    a :class:`~carboy.model.disposal_rules.DisposalPlan`."""
+    lines = []
+    if not disposal.may_treat:
+        lines.append("NOT TO BE TREATED HERE: route licensed disposal")
+    for step, text in disposal.steps:
+        lines.append(f"{step:<12} {text}")
+    lines += [f"!            {w}" for w in disposal.warnings]
+    if disposal.profile.all_placeholders:
+        lines.append(f"             ({disposal.profile.to_dict()['note']})")
+    return lines
+
+
+def treatment_line(treated) -> str:
+    """What a recorded treatment did, in one line (a
+    :class:`~carboy.store.treatments.Treated`)."""
+    lo, hi = treated.window
+    where = "in" if treated.in_window else "OUTSIDE"
+    bottle = ""
+    if treated.bottle_id is not None:
+        bottle = (f"; bottle {treated.bottle_id} has "
+                  f"{numbers.amount(treated.bottle_left, treated.bottle_unit)} left")
+    return (f"recorded the treatment of {treated.label} as journal entry {treated.entry_id}: "
+            f"final pH {where} the window pH {lo:g}–{hi:g}; {treated.label} is now "
+            f"{treated.status.replace('-', ' ')}, {numbers.volume(treated.volume_l)}{bottle}")

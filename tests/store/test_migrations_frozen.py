@@ -21,6 +21,7 @@ SHIPPED_SHA256 = {
     "0003_record_chain": "2f3cdb3ea16c083df8d0bfcc889a9db1ea7b36dc0c87d8d5305c3a58db8f4f62",
     "0004_waste_streams": "acf7baf235fd7b8070f2b1897a2ef2be4f1c9ae961d70b10052172156866eda3",
     "0005_speed_at_scale": "e55156fbe5496a815a93638b65db31b8ebda0222a1c31ba3a46034d54884f7b8",
+    "0006_disposal_rules": "0f8bbded6bd0668537b7f1e384607327b3e7757b6960026dc595829c8773e72c",
 }
 
 

@@ -7,7 +7,7 @@ TABLES = {
     "stock_bottles", "stock_bottles_fts",
     "stock_bottles_fts_config", "stock_bottles_fts_data", "stock_bottles_fts_docsize",
     "stock_bottles_fts_idx", "storeroom_rules", "user_compounds", "waste_additions",
-    "waste_containers",
+    "waste_containers", "disposal_rules",
 }
 INDEXES = {
     ("_sqlite_migrations", "idx__sqlite_migrations_migration_set_name"),
@@ -22,6 +22,7 @@ INDEXES = {
     ("stock_bottles", "stock_bottles_by_status"),
     ("stock_bottle_counts", "sqlite_autoindex_stock_bottle_counts_1"),
     ("storeroom_rules", "sqlite_autoindex_storeroom_rules_1"),
+    ("disposal_rules", "sqlite_autoindex_disposal_rules_1"),
     ("user_compounds", "sqlite_autoindex_user_compounds_1"),
     ("waste_additions", "sqlite_autoindex_waste_additions_1"),
     ("waste_additions", "waste_additions_by_container"),
@@ -44,6 +45,9 @@ TRIGGERS = {
     ("waste_additions", "waste_additions_no_reused_id"),
     ("waste_additions", "waste_additions_no_update"),
     ("waste_containers", "waste_containers_stream_journaled"),
+    ("disposal_rules", "disposal_rules_journaled_insert"),
+    ("disposal_rules", "disposal_rules_journaled_update"),
+    ("disposal_rules", "disposal_rules_journaled_delete"),
 }
 COLUMNS = {
     "journal_entries": ["id", "kind", "recorded_at", "recorded_by", "origin", "bottle_id",
@@ -56,6 +60,7 @@ COLUMNS = {
                         "added_at", "added_by", "origin", "note"],
     "user_compounds": ["key", "definition_json", "source", "added_at", "added_by"],
     "storeroom_rules": ["name", "value_json", "set_at", "set_by"],
+    "disposal_rules": ["name", "value_json", "set_at", "set_by", "entry_id"],
     "record_chain": ["seq", "record_table", "record_id", "content_sha256", "link_sha256"],
     "stock_bottles": ["id", "compound_key", "compound_name", "strength_unit", "label_strength",
                       "current_strength", "measured_at", "measured_how", "restandardize_days",
@@ -100,6 +105,7 @@ def test_foreign_keys_declared(store):
         ("journal_entries", "corrects_id", "journal_entries"),
         ("waste_additions", "container_id", "waste_containers"),
         ("waste_additions", "supersedes_id", "waste_additions"),
+        ("disposal_rules", "entry_id", "journal_entries"),
     }
 
 
@@ -109,4 +115,5 @@ def test_migrations_recorded(store):
                     {"migration_set": "carboy", "name": "0002_storeroom_rules"},
                     {"migration_set": "carboy", "name": "0003_record_chain"},
                     {"migration_set": "carboy", "name": "0004_waste_streams"},
-                    {"migration_set": "carboy", "name": "0005_speed_at_scale"}]
+                    {"migration_set": "carboy", "name": "0005_speed_at_scale"},
+                    {"migration_set": "carboy", "name": "0006_disposal_rules"}]

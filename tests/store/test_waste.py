@@ -6,7 +6,7 @@ import pytest
 
 from carboy.errors import InvalidInput, UnknownCompound
 from carboy.model.mixture import Mixture
-from carboy.store import journal, waste
+from carboy.store import disposal, journal, waste
 from carboy.store.errors import AlreadyExists, ContainerClosed, NotFound, OverCapacity
 
 
@@ -85,7 +85,8 @@ def test_bad_additions_write_nothing(carboy, component, volume, error, match):
     assert waste.additions(carboy, "MA-01") == []
 
 
-def test_over_capacity(carboy):
+def test_over_capacity_when_the_rules_allow_filling_to_the_brim(carboy):
+    disposal.set_rules(carboy, {"fill_limit_percent": "100", "nearly_full_percent": "80"})
     waste.add(carboy, "MA-01", "HCl=1M", "9.5 L", who="t")
     with pytest.raises(OverCapacity) as info:
         waste.add(carboy, "MA-01", "HCl=1M", "600 mL", who="t")

@@ -149,7 +149,7 @@ async def test_typed_sample_with_bad_volume_keeps_the_text(demo_db):
         assert screen.stale
 
 
-async def test_record_with_measured_ph_appends_a_journal_entry(demo_db):
+async def test_record_of_a_treatment_appends_a_journal_entry(demo_db):
     app = make_app(demo_db, today=DEMO_TODAY, who="tester")
     async with app.run_test(size=SIZE) as pilot:
         screen = await open_container(app, pilot, "MA-01")
@@ -163,8 +163,13 @@ async def test_record_with_measured_ph_appends_a_journal_entry(demo_db):
         assert "✗" in str(dialog.query_one("#measured-echo", Static).content)
         assert app.screen is dialog  # a bad reading is never accepted
         dialog.query_one("#who", Input).value = "a.helper"  # who did the work
+        dialog.query_one("#bottle", Input).value = ""  # the reagent was not from a bottle
         dialog.query_one("#measured", Input).value = ""
         await pilot.press(*"7,2")
+        await pilot.press("enter")
+        assert "added" in str(dialog.query_one("#measured-echo", Static).content)
+        assert app.screen is dialog  # a pH without the amount added is not a treatment
+        dialog.query_one("#added", Input).value = "4.6 L"
         await pilot.press("enter")  # asks to confirm, with the safe answer focused
         await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
         assert "from planned to neutralized" in app.screen.message
@@ -184,8 +189,10 @@ async def test_record_with_measured_ph_appends_a_journal_entry(demo_db):
     # the name typed is kept as who did the work; the entry records the account (app.who)
     assert entry.recorded_by == "tester"
     assert entry.snapshot["plan"]["performed_by"] == "a.helper"
-    assert entry.snapshot["measured_ph"] == 7.2
+    assert entry.snapshot["readings"]["final_ph"] == 7.2
+    assert entry.snapshot["readings"]["added"]["value"] == pytest.approx(4.6)
     assert entry.snapshot["status"] == "neutralized"
+    assert entry.snapshot["plan"]["disposal"]["route"] == "drain"
     assert entry.snapshot["plan"]["inputs"]["reagent"] == "NaOH=1M"
     assert entry.snapshot["plan"]["plan"]["to_target"]["reagent_mol"] == pytest.approx(
         4.58, rel=0.01)
@@ -202,6 +209,7 @@ async def test_record_can_be_cancelled_and_writes_nothing(demo_db):
         store.close()
         await pilot.press("ctrl+r")
         await wait_for(pilot, lambda: isinstance(app.screen, RecordDialog))
+        app.screen.query_one("#added", Input).value = "4 L"
         await pilot.press(*"7.1", "enter")
         await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
         await pilot.press("enter", "enter")  # Enter, Enter: the safe answer, twice

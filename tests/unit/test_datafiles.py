@@ -8,7 +8,7 @@ import copy
 import pytest
 
 from carboy.errors import CatalogError
-from carboy.model import compatibility, datafiles, metals, upkeep
+from carboy.model import compatibility, datafiles, disposal_profile, metals, upkeep
 from carboy.model.catalog_files import load_builtin
 from carboy.model.datafiles import DATA_FILES, compound_keys_by_file, read_data_file
 from carboy.model.ghs import ghs_data, parse_ghs
@@ -35,12 +35,13 @@ EXPECTED_APPEARANCES = {
     "HCl":            ("compounds", "densities", "ghs", "standards", "planning", "upkeep", "handling"),
     "HBr":            ("compounds", "planning"),
     "HI":             ("compounds", "planning"),
-    "HNO3":           ("compounds", "densities", "ghs", "standards", "planning", "upkeep", "handling"),
-    "HClO4":          ("compounds", "ghs", "planning", "upkeep"),
+    "HNO3":           ("compounds", "densities", "ghs", "standards", "planning", "upkeep", "handling",
+                       "disposal_rules"),
+    "HClO4":          ("compounds", "ghs", "planning", "upkeep", "disposal_rules"),
     "H2SO4":          ("compounds", "densities", "ghs", "standards", "planning", "upkeep", "handling"),
     "H3PO4":          ("compounds", "densities", "ghs", "upkeep", "handling"),
     "CO2":            ("compounds",),
-    "HF":             ("compounds", "ghs", "planning"),
+    "HF":             ("compounds", "ghs", "planning", "disposal_rules"),
     "H3BO3":          ("compounds",),
     "H2SO3":          ("compounds",),
     "H3NSO3":         ("compounds", "ghs", "standards", "upkeep"),
@@ -265,6 +266,8 @@ def _load(name, raw):
         return compatibility._settings.__wrapped__()
     if name == "metals.toml":
         return metals.metal_data.__wrapped__()
+    if name == "disposal_rules.toml":
+        return disposal_profile._shipped.__wrapped__()
     return {
         "ghs.toml": parse_ghs,
         "standards.toml": parse_standards,
@@ -366,6 +369,12 @@ BROKEN = [
      ("pitzer.toml", "H+", "status")),
     ("ion_pairs.toml", _set(("pairs", 0, "status"), "PRACTICE"),
      ("ion_pairs.toml", "CaOH+", "'PRACTICE' is not one of")),
+    ("disposal_rules.toml", _set(("rules", "batch_max_l", "value"), -1.0),
+     ("disposal_rules.toml", "[rules.batch_max_l]", "'value'")),
+    ("disposal_rules.toml", _set(("rules", "flush_factor", "status"), "PRACTICE"),
+     ("disposal_rules.toml", "[rules.flush_factor]", "common practice")),
+    ("disposal_rules.toml", _set(("never_treat", 0, "item"), "stream:lava"),
+     ("disposal_rules.toml", "never_treat stream:lava", "'item'")),
 ]
 
 

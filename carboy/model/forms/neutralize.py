@@ -105,6 +105,9 @@ class PlanReading(Reading):
     direction: str | None = None
     request: NeutralizeRequest | None = None
     elapsed_ms: float = 0.0
+    disposal: object | None = None
+    """The plan under the storeroom's disposal rules
+    (:class:`~carboy.model.disposal_rules.DisposalPlan`), when a profile was given."""
 
 
 def conc_text(molar: float) -> str:
@@ -315,8 +318,11 @@ def _direction(mixture: Mixture, target: float, activity: str, catalog) -> str |
 
 
 def evaluate(fields: NeutralizeFields, catalog, container: ContainerSample | None = None,
-             *, curve_points: int | None = None) -> PlanReading:
-    """Read the form and plan; never raises (every problem comes back by field)."""
+             *, curve_points: int | None = None, profile=None) -> PlanReading:
+    """Read the form and plan; never raises (every problem comes back by field).
+
+    With ``profile`` (a :class:`~carboy.model.disposal_profile.DisposalProfile`) the
+    reading also carries the plan under the storeroom's rules (``disposal``)."""
     started = time.perf_counter()
     form = FormReader()
     parts = _read_parts(form, fields, catalog, container)
@@ -328,6 +334,11 @@ def evaluate(fields: NeutralizeFields, catalog, container: ContainerSample | Non
         try:
             result = plan(request, catalog, curve_points=curve_points)
             out.value, out.direction = result, result.direction
+            if profile is not None:
+                from carboy.model.disposal_rules import apply
+
+                out.disposal = apply(result, profile, container,
+                                     compounds=request.compounds, catalog=catalog)
         except CarboyError as err:
             name = _field_of(err)
             out.errors[name] = str(err) if name != "plan" or isinstance(err, Refused) else \
@@ -342,10 +353,11 @@ def evaluate(fields: NeutralizeFields, catalog, container: ContainerSample | Non
 
 
 def snapshot(fields: NeutralizeFields, plan_, *, container_label: str | None,
-             reagent_bottle_id: int | None, recorded_from: str) -> dict:
+             reagent_bottle_id: int | None, recorded_from: str, disposal=None) -> dict:
     """What the journal keeps of a neutralization: the inputs as typed, the plan as
-    computed then (a later catalog change never rewrites it)."""
-    return {
+    computed then (a later catalog change never rewrites it), and the plan under the
+    storeroom's disposal rules when there is one."""
+    out = {
         "inputs": {
             "container": container_label,
             "reagent": fields.reagent, "reagent_bottle_id": reagent_bottle_id,
@@ -355,3 +367,6 @@ def snapshot(fields: NeutralizeFields, plan_, *, container_label: str | None,
         "plan": plan_.to_dict(),
         "recorded_from": recorded_from,
     }
+    if disposal is not None:
+        out["disposal"] = disposal.to_dict()
+    return out

@@ -1,4 +1,5 @@
-"""``carboy journal``: the append-only journal headless (list, show, export, verify)."""
+"""``carboy journal``: the append-only journal headless (list, show, export, verify; correct
+and note in :mod:`carboy.tui.cli.journal_edit`)."""
 
 from __future__ import annotations
 
@@ -9,6 +10,7 @@ import re
 import sys
 
 from carboy.store.statuses import JOURNAL_KINDS
+from carboy.tui.cli import journal_edit
 from carboy.tui.cli.kit import (
     EXIT_OK,
     EXIT_REFUSED,
@@ -35,7 +37,8 @@ use it only after looking at what verify reported (see docs/shared-server.md).
 
 def register(sub) -> None:
     common = common_options()
-    journal_sub = group(sub, "journal", help="the journal: list, show, export",
+    journal_sub = group(sub, "journal", help="the journal: list, show, export, verify, "
+                        "correct, note",
                         description="The append-only journal.")
 
     p = journal_sub.add_parser("list", parents=[common], help="entries, newest first")
@@ -64,6 +67,7 @@ def register(sub) -> None:
     p.add_argument("--restore-guards", action="store_true",
                    help="put back missing or altered guard triggers (journaled)")
     p.set_defaults(func=journal_verify)
+    journal_edit.register(journal_sub, common)
 
 
 def journal_list(args) -> int:

@@ -22,7 +22,7 @@ from carboy.tui.edge import EXIT_BAD_INPUT, run_guarded
 # the subcommands, in the order their help is listed; each is the module
 # carboy.tui.cli.<name>, whose register() adds the command <name>
 COMMANDS = ("ph", "neutralize", "prep", "standardize", "stock", "rules", "waste", "journal",
-            "init")
+            "report", "init")
 SUBCOMMAND_MODULES = tuple(f"carboy.tui.cli.{name}" for name in COMMANDS)
 _TAKES_VALUE = ("--db",)
 """Global options followed by a value (skipped when looking for the command's name)."""

@@ -8,6 +8,7 @@ import sys
 from carboy.errors import HazardRefused
 from carboy.model.forms.neutralize import NeutralizeFields
 from carboy.tui.cli.kit import EXIT_REFUSED, UsageError, emit_json, first_problem, open_store
+from carboy.tui.wording import disposal_lines
 
 EXAMPLES = """examples:
   carboy neutralize H2SO4=0.5M --volume 250mL --reagent NaOH=2M
@@ -36,8 +37,9 @@ def register(sub) -> None:
                    help="NaOH=2M (solution), NaOH=50%% (%%w/w), NaHCO3 (solid), NaOH@97%% "
                    "(solid with assay)")
     p.add_argument("--target", default="7", metavar="PH", help="target pH (default 7)")
-    p.add_argument("--window", default="6:9", metavar="LO:HI",
-                   help="acceptance window (default 6:9; local rules set the real one)")
+    p.add_argument("--window", default=None, metavar="LO:HI",
+                   help="acceptance window (default: the storeroom's disposal rules with "
+                        "--waste, else carboy's placeholder 6:9; local rules set the real one)")
     p.add_argument("--temperature", default="25", metavar="C",
                    help="temperature in °C, 0–100 (default 25)")
     p.add_argument("--ideal", action="store_true", help="ideal solution (activities 1)")
@@ -50,11 +52,12 @@ OPTIONS = {"components": "components (NAME=CONC, or --waste LABEL)", "volume": "
 """The option that carries each field of the neutralization form."""
 
 
-def fields_of(args) -> NeutralizeFields:
-    """The neutralization form as the command line fills it."""
-    low, sep, high = str(args.window).partition(":")
+def fields_of(args, window: tuple[float, float] = (6.0, 9.0)) -> NeutralizeFields:
+    """The neutralization form as the command line fills it (``window``: the default)."""
+    text = args.window if args.window is not None else f"{window[0]:g}:{window[1]:g}"
+    low, sep, high = str(text).partition(":")
     if not sep or ":" in high:
-        raise UsageError(f"window {args.window!r}: expected LO:HI, e.g. 6:9")
+        raise UsageError(f"window {text!r}: expected LO:HI, e.g. 6:9")
     return NeutralizeFields(components=tuple(args.components), volume=args.volume or "",
                             reagent=args.reagent, target=args.target, window_low=low,
                             window_high=high, temperature=args.temperature,
@@ -62,23 +65,28 @@ def fields_of(args) -> NeutralizeFields:
 
 
 def build_plan(args):
-    """The plan of ``carboy neutralize`` (the Neutralize screen reads the same form)."""
+    """The plan of ``carboy neutralize`` (the Neutralize screen reads the same form) and
+    the plan under the disposal rules: the storeroom's with ``--waste``, else carboy's
+    placeholders."""
     from carboy.model.catalog import default_catalog
+    from carboy.model.disposal_profile import shipped
     from carboy.model.forms import neutralize as form
 
-    fields = fields_of(args)
-    container, catalog = None, None
+    container, catalog, profile = None, None, shipped()
     if args.waste:
         if args.components:
             raise UsageError("give either components or --waste, not both")
         if args.volume:
             raise UsageError("--volume comes from the container with --waste; leave it out")
+        from carboy.store import disposal
         from carboy.store.planning import container_sample
 
         with open_store(args) as store:
             container, catalog = container_sample(store, args.waste)
-    reading = form.evaluate(fields, catalog or default_catalog(), container)
-    return first_problem(reading, OPTIONS)
+            profile = disposal.load(store)
+    reading = form.evaluate(fields_of(args, profile.window), catalog or default_catalog(),
+                            container, profile=profile)
+    return first_problem(reading, OPTIONS), reading.disposal
 
 
 def _amount(dose, reagent) -> str:
@@ -156,14 +164,18 @@ def format_report(plan) -> str:
 
 def run(args) -> int:
     try:
-        plan = build_plan(args)
+        plan, rules = build_plan(args)
     except HazardRefused as exc:  # a cyanide or sulfide waste is never planned towards acid
         if args.json:
             emit_json({"plan": None, "refused": str(exc)})
         print(f"carboy: {exc}", file=sys.stderr)
         return EXIT_REFUSED
     if args.json:
-        emit_json(plan.to_dict())
+        emit_json({**plan.to_dict(), "disposal": rules.to_dict() if rules else None})
     else:
         print(format_report(plan))
+        if rules is not None:
+            print("\nunder the disposal rules" + ("" if args.waste else
+                                                  " (carboy's placeholders)"))
+            print("\n".join("  " + line for line in disposal_lines(rules)))
     return 0

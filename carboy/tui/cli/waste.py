@@ -1,4 +1,5 @@
-"""``carboy waste``: waste containers headless (new, add, stream, show, list, record).
+"""``carboy waste``: waste containers headless (new, add, stream, show, list, record; treat,
+licensed and dispose in :mod:`carboy.tui.cli.waste_treat`).
 
 An addition the compatibility rules refuse is not logged: one line on stderr names the
 hazard and the exit status is 1.  One they question needs ``--accept "REASON"``; a gas
@@ -13,6 +14,7 @@ import sys
 from carboy.errors import HazardRefused, Refused
 from carboy.model.compatibility import MATERIALS, streams
 from carboy.store.statuses import CONTAINER_STATUSES, ContainerStatus
+from carboy.tui.cli import waste_treat
 from carboy.tui.cli.kit import (
     EXIT_OK,
     EXIT_REFUSED,
@@ -33,7 +35,8 @@ def register(sub) -> None:
     common = common_options()
     fmt = argparse.RawDescriptionHelpFormatter
     waste_sub = group(sub, "waste", help="waste containers: new, add, stream, show, list, "
-                      "record", description="Waste containers and what went into them.")
+                      "record, treat, licensed, dispose",
+                      description="Waste containers and what went into them.")
 
     p = waste_sub.add_parser("new", parents=[common], help="open a new container")
     p.add_argument("label")
@@ -78,6 +81,9 @@ def register(sub) -> None:
 
     p = waste_sub.add_parser("list", parents=[common], help="every container")
     p.add_argument("--status", choices=CONTAINER_STATUSES)
+    p.add_argument("--nearly-full", action="store_true",
+                   help="only collecting containers at or past the rules' nearly-full level "
+                        "(80 %% unless set: carboy rules --nearly-full)")
     p.set_defaults(func=waste_list)
 
     p = waste_sub.add_parser(
@@ -90,6 +96,7 @@ def register(sub) -> None:
     p.add_argument("--pdf", required=True, metavar="PATH", help="the PDF file to write")
     p.add_argument("--storeroom", metavar="NAME", help="storeroom name printed on each page")
     p.set_defaults(func=waste_record)
+    waste_treat.register(waste_sub, common)
 
 
 def waste_new(args) -> int:
@@ -173,8 +180,9 @@ def waste_show(args) -> int:
     if args.json:
         emit_json(info)
         return EXIT_OK
+    fill = " (full)" if info["full"] else " (nearly full)" if info["nearly_full"] else ""
     print(f"{info['label']}  {ContainerStatus(info['status']).words}  "
-          f"{volume(info['volume_l'])} of {volume(info['capacity_l'])}"
+          f"{volume(info['volume_l'])} of {volume(info['capacity_l'])}{fill}"
           f"  {info['location']}")
     made_of = f", {info['material']}" if info["material"] else ""
     print(f"  stream: {info['stream_name']}{made_of}"
@@ -202,14 +210,15 @@ def waste_list(args) -> int:
     from carboy.store import waste
 
     with open_store(args) as store:
-        found = waste.containers(store, status=args.status)
+        found = waste.containers(store, status=args.status, nearly_full=args.nearly_full)
     if args.json:
         emit_json([c.as_dict() for c in found])
         return EXIT_OK
     for c in found:
+        mark = "FULL" if c.full else "nearly full" if c.nearly_full else ""
         print(f"{c.label:<12} {ContainerStatus(c.status).words:<18} {c.stream:<16} "
-              f"{volume(c.volume_l):>8} of {volume(c.capacity_l):<8} "
-              f"{count(c.n_additions, 'addition'):>13}  {c.location}")
+              f"{volume(c.volume_l):>8} of {volume(c.capacity_l):<8} {c.fill_percent:4.0f} % "
+              f"{mark:<11} {count(c.n_additions, 'addition'):>13}  {c.location}")
     return EXIT_OK
 
 

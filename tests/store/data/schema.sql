@@ -27,6 +27,15 @@ CREATE INDEX stock_bottles_by_status ON stock_bottles (status);
 -- index waste_additions_by_container on waste_additions
 CREATE INDEX waste_additions_by_container ON waste_additions (container_id, id);
 
+-- table disposal_rules on disposal_rules
+CREATE TABLE disposal_rules (
+    name TEXT PRIMARY KEY CHECK (name IN ('window_low', 'window_high', 'batch_treatment', 'batch_max_l', 'vessel_l', 'dilute_to_percent', 'ice_fraction', 'flush_factor', 'max_temperature_c', 'fill_limit_percent', 'nearly_full_percent', 'never_treat')),
+    value_json TEXT NOT NULL CHECK (json_valid(value_json)),
+    set_at TEXT NOT NULL,
+    set_by TEXT NOT NULL,
+    entry_id INTEGER NOT NULL REFERENCES journal_entries (id)
+);
+
 -- table journal_entries on journal_entries
 CREATE TABLE journal_entries (
     id INTEGER PRIMARY KEY,
@@ -149,6 +158,31 @@ CREATE TABLE waste_containers (
     notes TEXT NOT NULL DEFAULT '',
     created_by TEXT NOT NULL
 , stream TEXT NOT NULL DEFAULT 'mixed' CHECK (stream IN ('acid', 'alkaline', 'cyanide_sulfide', 'heavy_metal', 'hf', 'oxidizing_acid', 'mixed')), stream_note TEXT NOT NULL DEFAULT '', material TEXT CHECK (material IS NULL OR material IN ('glass', 'plastic', 'metal')));
+
+-- trigger disposal_rules_journaled_delete on disposal_rules
+CREATE TRIGGER disposal_rules_journaled_delete BEFORE DELETE ON disposal_rules
+WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
+    WHERE j.id = (SELECT max(id) FROM journal_entries)
+      AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
+      AND json_extract(j.snapshot_json, '$.back_to_placeholder') = 1
+      AND json_type(j.snapshot_json, '$.changes.' || OLD.name) IS NOT NULL)
+BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END;
+
+-- trigger disposal_rules_journaled_insert on disposal_rules
+CREATE TRIGGER disposal_rules_journaled_insert BEFORE INSERT ON disposal_rules
+WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
+    WHERE j.id = NEW.entry_id AND j.id = (SELECT max(id) FROM journal_entries)
+      AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
+      AND json_extract(j.snapshot_json, '$.changes.' || NEW.name || '.after') IS json_extract(NEW.value_json, '$'))
+BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END;
+
+-- trigger disposal_rules_journaled_update on disposal_rules
+CREATE TRIGGER disposal_rules_journaled_update BEFORE UPDATE ON disposal_rules
+WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
+    WHERE j.id = NEW.entry_id AND j.id = (SELECT max(id) FROM journal_entries)
+      AND j.kind = 'note' AND json_extract(j.snapshot_json, '$.event') = 'disposal-rules'
+      AND json_extract(j.snapshot_json, '$.changes.' || NEW.name || '.after') IS json_extract(NEW.value_json, '$'))
+BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END;
 
 -- trigger journal_entries_no_delete on journal_entries
 CREATE TRIGGER journal_entries_no_delete BEFORE DELETE ON journal_entries

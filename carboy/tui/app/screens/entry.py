@@ -22,7 +22,7 @@ from carboy.tui.app.widgets.safety_note import DISPOSAL_NOTE
 from carboy.tui.edge import describe
 
 
-def entry_header(entry: journal.Entry) -> Table:
+def entry_header(entry: journal.Entry, corrected_by: tuple = ()) -> Table:
     grid = Table.grid(padding=(0, 1), expand=True)
     grid.add_column(style="bold", no_wrap=True)
     grid.add_column(ratio=1)
@@ -38,6 +38,8 @@ def entry_header(entry: journal.Entry) -> Table:
     grid.add_row("About", Text(", ".join(about) or "—"))
     if entry.corrects_id is not None:
         grid.add_row("Corrects", Text(f"entry {entry.corrects_id}"))
+    for later in corrected_by:
+        grid.add_row("Corrected by", Text(f"entry {later.id}: {later.summary}", style="bold"))
     grid.add_row("Summary", Text(entry.summary or "—"))
     return grid
 
@@ -81,21 +83,22 @@ class EntryScreen(Screen):
         try:
             with self.app.open_store() as store:
                 entry = journal.get(store, self.entry_id)
+                later = tuple(journal.corrections_of(store, entry.id))
         except Exception as exc:
             if not worker.is_cancelled:
                 self.app.call_from_thread(self._show_error, describe(exc))
             return
         if not worker.is_cancelled:
-            self.app.call_from_thread(self._show, entry)
+            self.app.call_from_thread(self._show, entry, later)
 
     def _show_error(self, message: str) -> None:
         self.query_one("#entry-error", ErrorLine).show(message)
         self.loads += 1
 
-    def _show(self, entry: journal.Entry) -> None:
+    def _show(self, entry: journal.Entry, later: tuple = ()) -> None:
         self.entry = entry
         self.query_one("#entry-title", Static).update(f"Journal entry {entry.id} · {entry.kind}")
-        self.query_one("#entry-header", Static).update(entry_header(entry))
+        self.query_one("#entry-header", Static).update(entry_header(entry, later))
         if entry.kind in ("neutralization", "disposal"):
             note = self.query_one("#entry-note", Static)
             note.update(DISPOSAL_NOTE)

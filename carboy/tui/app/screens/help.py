@@ -37,7 +37,9 @@ CHILDREN: dict[str, tuple[tuple[str, str], ...]] = {
               ("An addition the rules question", "waste_accept:AcceptAdditionScreen"),
               ("New waste container", "waste_new:NewContainerScreen"),
               ("Change a container's stream", "waste_stream:ChangeStreamScreen")),
-    "journal": (("Journal entry", "entry:EntryScreen"),),
+    "journal": (("Journal entry", "entry:EntryScreen"),
+                ("Correct a journal entry", "correct_entry:CorrectionDialog")),
+    "rules": (("Change a disposal rule", "rule_edit:RuleDialog"),),
 }
 """Screens and dialogs opened from a main screen: (title, ``module:Class`` under screens)."""
 

@@ -1,7 +1,8 @@
 """Journal: every preparation, standardization, neutralization, disposal and note.
 
 Newest first, a page at a time, filtered by kind and by a since-date; Enter
-opens an entry with its full inputs and results.
+opens an entry with its full inputs and results; ``c`` corrects the highlighted entry
+(a new entry that points at it: nothing is edited).
 """
 
 from __future__ import annotations
@@ -51,6 +52,9 @@ class JournalScreen(Screen):
         Binding("n", "page('older')", "Older", id="journal.older"),
         Binding("p", "page('newer')", "Newer", id="journal.newer"),
         Binding("escape", "clear_filters", "Clear filters", id="journal.clear"),
+        Binding("c", "correct", "Correct", id="journal.correct",
+                tooltip="Correct the highlighted entry: a new entry with the reason and the "
+                        "corrected values"),
     ]
 
     def __init__(self) -> None:
@@ -60,6 +64,7 @@ class JournalScreen(Screen):
         self._starts: list[int | None] = [None]  # before_id of each page shown so far
         self.has_older = False
         self.oldest_id: int | None = None
+        self.shown: dict[str, journal.Entry] = {}
         self.loads = 0
 
     def compose(self) -> ComposeResult:
@@ -115,6 +120,7 @@ class JournalScreen(Screen):
         found = found[:PAGE_ROWS]
         table = self.query_one(EntryTable)
         table.clear()
+        self.shown = {str(e.id): e for e in found}
         for e in found:
             table.add_row(str(e.id), journal.local_time(e.recorded_at), e.kind, about(e),
                           e.summary, e.recorded_by, key=str(e.id))
@@ -178,10 +184,38 @@ class JournalScreen(Screen):
             if parameters and parameters[0] == "older":
                 return self.has_older
             return len(self._starts) > 1
+        if action == "correct":
+            return not typing and self.highlighted is not None
         if action == "clear_filters":
             return bool(self.kind or self.since
                         or self.query_one("#journal-since", Input).value)
         return True
+
+    @property
+    def highlighted(self) -> journal.Entry | None:
+        """The entry under the cursor."""
+        table = self.query_one(EntryTable)
+        if not table.row_count:
+            return None
+        try:
+            key = table.coordinate_to_cell_key(table.cursor_coordinate).row_key.value
+        except Exception:  # noqa: BLE001 - the cursor is between a clear and a refill
+            return None
+        return self.shown.get(key)
+
+    def action_correct(self) -> None:
+        from carboy.tui.app.screens.correct_entry import CorrectionDialog
+
+        entry = self.highlighted
+        if entry is None:
+            return
+
+        def done(new_id: int | None) -> None:
+            if new_id:
+                self.notify(f"Entry {entry.id} corrected by entry {new_id}.", timeout=4)
+                self.app.refresh_data()
+
+        self.app.push_screen(CorrectionDialog(entry), done)
 
     def action_focus_kind(self) -> None:
         self.query_one("#journal-kind", Select).focus()

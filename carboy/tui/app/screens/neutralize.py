@@ -53,8 +53,9 @@ from carboy.tui.app.screens.neutralize_parts import (
     container_summary,
     reagent_options,
     sample_options,
+    window_values,
 )
-from carboy.tui.app.screens.neutralize_record import RecordRequest, ask_to_record
+from carboy.tui.app.screens.neutralize_record import RecordRequest, ask_to_record, record
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.ph_curve import PHCurvePanel, curve_data_from_plan
 from carboy.tui.app.widgets.plan_view import CautionsPanel, PlanSummary, StagesTable, dose_text
@@ -73,6 +74,8 @@ class FormState:
     fields: NeutralizeFields
     container: ContainerSample | None = None
     sample_note: str = ""
+    profile: object | None = None
+    """The storeroom's disposal rules the plan obeys (None until loaded)."""
 
 
 def compute(state: FormState, generation: int = 0, catalog=None) -> Outcome:
@@ -80,7 +83,7 @@ def compute(state: FormState, generation: int = 0, catalog=None) -> Outcome:
     from carboy.model.catalog import default_catalog
 
     reading = evaluate(state.fields, catalog or default_catalog(), state.container,
-                       curve_points=CURVE_POINTS)
+                       curve_points=CURVE_POINTS, profile=state.profile)
     return Outcome(generation, state, reading)
 
 
@@ -121,6 +124,7 @@ class NeutralizeScreen(Screen):
         super().__init__(name=name, id=id, classes=classes)
         self.plan = None
         """The last good plan (None before the first)."""
+        self.disposal = self.profile = None  # the plan under the rules; the rules in force
         self.plan_state: FormState | None = None
         """The inputs that plan was made from."""
         self.outcome: Outcome | None = None
@@ -226,7 +230,7 @@ class NeutralizeScreen(Screen):
 
     @work(thread=True, exclusive=True, group="neutralize-lists", exit_on_error=False)
     def _load_choices(self) -> None:
-        from carboy.store import planning, waste
+        from carboy.store import disposal, planning, waste
         from carboy.store.compounds import catalog_for
 
         try:
@@ -234,11 +238,12 @@ class NeutralizeScreen(Screen):
                 catalog = catalog_for(store)
                 choices = planning.choices(store, getattr(self.app, "today", None))
                 containers = [(c.label, c.status) for c in waste.containers(store)]
+                profile = disposal.load(store)
         except Exception as err:  # noqa: BLE001 - reported in place
             self.post_message(ChoicesLoaded([], [], None,
                                             f"stock list unavailable: {describe(err)}"))
             return
-        self.post_message(ChoicesLoaded(choices, containers, catalog))
+        self.post_message(ChoicesLoaded(choices, containers, catalog, profile=profile))
 
     def _start_container_load(self, label: str) -> None:
         self._pending_label = label
@@ -263,25 +268,21 @@ class NeutralizeScreen(Screen):
 
     @work(thread=True, exclusive=True, group="neutralize-record", exit_on_error=False)
     def _record(self, label: str, snapshot: dict, request: RecordRequest) -> None:
-        from carboy.store import waste
-
-        try:
+        try:  # the name typed is who did the work; recorded_by is the account running carboy
             with self._open_store() as store:
-                # the name typed in the dialog is who did the work, kept in the snapshot;
-                # the entry's recorded_by is always the account running carboy
-                entry = waste.record_neutralization(
-                    store, label, {**snapshot, "performed_by": request.who},
-                    request.measured_ph, who=getattr(self.app, "who", None),
-                    today=getattr(self.app, "today", None))
+                entry, warnings = record(store, label, snapshot, request, who=self.app.who,
+                                         today=getattr(self.app, "today", None))
         except Exception as err:  # noqa: BLE001 - reported in place
-            self.post_message(Recorded(label, None, request.measured_ph, describe(err)))
+            self.post_message(Recorded(label, None, request.final_ph, describe(err)))
             return
-        self.post_message(Recorded(label, entry, request.measured_ph))
+        self.post_message(Recorded(label, entry, request.final_ph, warnings=warnings))
 
     # -- message handlers ------------------------------------------------------------------
     def on_choices_loaded(self, message: ChoicesLoaded) -> None:
         if message.catalog is not None:
             self._catalog = message.catalog
+        if message.profile is not None:
+            self._use_profile(message.profile)
         self.choices = list(message.choices)
         self.containers = list(message.containers)
         if message.error:
@@ -324,6 +325,8 @@ class NeutralizeScreen(Screen):
             self._set_status(f"✗ not recorded: {message.error}")
             self.notify(f"Not recorded: {message.error}", severity="error")
             return
+        for text in message.warnings:
+            self.notify(text, severity="warning", timeout=8)
         self.last_journal_id = message.entry_id
         self._recorded_label = message.label
         done = ("plan recorded (pH not measured)" if message.measured_ph is None
@@ -399,18 +402,20 @@ class NeutralizeScreen(Screen):
         if self.check_action("record", ()) is not True:
             return
         plan, container = self.plan, self.container
-        plan_line = (f"{plan.reagent.describe()}: to pH {plan.to_target.target_pH:g} "
+        plan_line = (f"planned: {plan.reagent.describe()}: to pH {plan.to_target.target_pH:g} "
                      f"{dose_text(plan, plan.to_target)}")
         who = str(getattr(self.app, "who", "") or "")
+        bottle = self.snapshot()["inputs"]["reagent_bottle_id"]
 
-        def record(request: RecordRequest | None) -> None:
+        def go_on(request: RecordRequest | None) -> None:
             if request is None:
                 self._set_status("recording cancelled: nothing was written")
                 return
             self._set_status(f"recording {container.label}…")
             self._record(container.label, self.snapshot(), request)
 
-        ask_to_record(self.app, container, plan_line, who, plan.drain_plan, record)
+        ask_to_record(self.app, container, plan_line, who, plan.drain_plan, go_on,
+                      reagent=plan.reagent.text, bottle_id=bottle, catalog=self._catalog)
 
     def action_next_view(self) -> None:
         tabs = self.query_one("#nz-views", TabbedContent)
@@ -444,7 +449,7 @@ class NeutralizeScreen(Screen):
             temperature=text("temperature"), reagent=text("reagent"), target=text("target"),
             window_low=text("window_low"), window_high=text("window_high"),
             activity="ideal" if self.query_one("#ideal", Checkbox).value else "davies")
-        return FormState(fields, self.container, self.sample_note)
+        return FormState(fields, self.container, self.sample_note, self.profile)
 
     def _inputs_changed(self) -> None:
         if not self._composed:
@@ -473,7 +478,7 @@ class NeutralizeScreen(Screen):
         if reading.direction:
             self._fill_reagent_select(reading.direction)
         if outcome.ok:
-            self.plan = outcome.value
+            self.plan, self.disposal = outcome.value, reading.disposal
             self.plan_state = outcome.state
             self.stale = False
             self._show_plan()
@@ -488,14 +493,15 @@ class NeutralizeScreen(Screen):
             parts = ([f"check {', '.join(bad)} (marked ✗)"] if bad else []) + (
                 [f"fill in {', '.join(todo)}"] if todo else [])
             if self.plan is not None:
-                self._set_status(f"✗ {'; '.join(parts)}: the plan shown is STALE")
+                self._set_status(f"✗ {'; '.join(parts)}: the plan shown is STALE"
+                                 + self._record_note())
             else:
                 self._set_status(f"○ no plan yet: {'; '.join(parts)}")
 
     def _show_plan(self) -> None:
         plan = self.plan
         summary = self.query_one(PlanSummary)
-        summary.show_plan(plan)
+        summary.show_plan(plan, self.disposal)
         summary.remove_class("-stale")
         table = self.query_one(StagesTable)
         table.show_plan(plan)
@@ -584,4 +590,11 @@ class NeutralizeScreen(Screen):
         return snapshot(state.fields, self.plan,
                         container_label=state.container.label if state.container else None,
                         reagent_bottle_id=reagent_bottle,
-                        recorded_from="carboy neutralize screen")
+                        recorded_from="carboy neutralize screen", disposal=self.disposal)
+
+    def _use_profile(self, profile) -> None:
+        """Plan under the storeroom's rules; its window fills window fields left as they were."""
+        boxes = [self.query_one(f"#{wid}", Input) for wid in ("window_low", "window_high")]
+        for box, value in zip(boxes, window_values(self.profile, profile, boxes)):
+            box.value = value
+        self.profile = profile

@@ -38,13 +38,31 @@ def container_summary(c: ContainerSample) -> str:
     return head + "\n" + (comp or "(no additions recorded)")
 
 
+def window_values(old, new, boxes) -> list[str]:
+    """The window fields' text under the disposal rules ``new``: a field still showing the
+    old rules' edge (or the form's default) takes the new edge; one a person typed stays."""
+    from carboy.model.forms.neutralize import DEFAULTS
+
+    was = old.window if old is not None else (float(DEFAULTS["window_low"]),
+                                             float(DEFAULTS["window_high"]))
+    out = []
+    for box, before, now, default in zip(boxes, was, new.window,
+                                         (DEFAULTS["window_low"], DEFAULTS["window_high"])):
+        typed = box.value.strip()
+        out.append(f"{now:g}" if typed in (f"{before:g}", default) else box.value)
+    return out
+
+
 # -- messages ------------------------------------------------------------------------------
 
 class ChoicesLoaded(Message):
-    def __init__(self, choices, containers, catalog, error: str = "") -> None:
+    def __init__(self, choices, containers, catalog, error: str = "", *,
+                 profile=None) -> None:
         super().__init__()
         self.choices, self.containers, self.catalog = choices, containers, catalog
         self.error = error
+        self.profile = profile
+        """The storeroom's disposal rules (None when they could not be read)."""
 
 
 class ContainerLoaded(Message):
@@ -55,7 +73,9 @@ class ContainerLoaded(Message):
 
 
 class Recorded(Message):
-    def __init__(self, label: str, entry_id: int | None, measured_ph, error: str = "") -> None:
+    def __init__(self, label: str, entry_id: int | None, measured_ph, error: str = "", *,
+                 warnings: tuple[str, ...] = ()) -> None:
         super().__init__()
         self.label, self.entry_id, self.measured_ph = label, entry_id, measured_ph
         self.error = error
+        self.warnings = warnings

@@ -112,6 +112,17 @@ def route_text(detail: Detail) -> Text:
     }.get(status, status))
 
 
+def fill_cell(volume_l: float, capacity_l: float, full: bool | None,
+              nearly_full: bool | None) -> Text:
+    """The fill bar, with the word the storeroom's fill levels give it (never colour alone)."""
+    bar = fill_bar(volume_l, capacity_l)
+    if full:
+        bar.append(" ■ full", style="bold")
+    elif nearly_full:
+        bar.append(" ▲ nearly full", style="bold")
+    return bar
+
+
 def detail_renderable(detail: Detail) -> Table:
     info = detail.info
     grid = Table.grid(padding=(0, 1), expand=True)
@@ -122,8 +133,14 @@ def detail_renderable(detail: Detail) -> Table:
     if info.get("location"):
         head.append(f"  · {info['location']}")
     grid.add_row("Container", head)
-    fill = fill_bar(info["volume_l"], info["capacity_l"])
+    fill = fill_cell(info["volume_l"], info["capacity_l"], info.get("full"),
+                     info.get("nearly_full"))
     fill.append(f"  {litres(info['volume_l'])} of {litres(info['capacity_l'])}")
+    if info.get("full"):
+        fill.append("\nat the fill limit: it takes no more; plan its treatment or start "
+                    "another container", style="bold")
+    elif info.get("nearly_full"):
+        fill.append("\nnearly full: plan its treatment soon", style="bold")
     grid.add_row("Fill", fill)
     stream = Text(info["stream_name"])
     if info.get("material"):
@@ -248,7 +265,7 @@ class WasteScreen(Screen):
         table.clear()
         for c in found:
             table.add_row(c.label, container_mark(c.status), c.stream,
-                          fill_bar(c.volume_l, c.capacity_l),
+                          fill_cell(c.volume_l, c.capacity_l, c.full, c.nearly_full),
                           f"{litres(c.volume_l)} / {litres(c.capacity_l)}", c.location,
                           key=c.label)
         if not found:

@@ -136,6 +136,22 @@ def plan_text(plan) -> Text:
     return t
 
 
+def disposal_text(disposal) -> Text:
+    """The plan under the storeroom's disposal rules (the steps, in order)."""
+    t = Text("\nUnder the storeroom's disposal rules\n", style="bold underline")
+    if not disposal.may_treat:
+        t.append("‼ NOT TO BE TREATED HERE: route licensed disposal\n", style="bold reverse")
+    for step, text in disposal.steps:
+        t.append(f"{step.capitalize():<13}", style="bold")
+        t.append(text + "\n")
+    for w in disposal.warnings:
+        t.append(f"! {w}\n", style="bold")
+    if disposal.profile.all_placeholders:
+        t.append("(carboy's placeholders: set your institution's rules on the Rules screen)\n",
+                 style="italic")
+    return t
+
+
 def stage_rows(plan) -> list[tuple[str, str, str, str]]:
     """(stage, add, total so far, pH after) for the staged-addition table."""
     r = plan.reagent
@@ -179,8 +195,12 @@ class PlanSummary(VerticalScroll):
     def compose(self) -> ComposeResult:
         yield Static(NO_PLAN_YET, id="plan-text")
 
-    def show_plan(self, plan) -> None:
-        self.query_one("#plan-text", Static).update(plan_text(plan) if plan else NO_PLAN_YET)
+    def show_plan(self, plan, disposal=None) -> None:
+        """The plan, and under it the plan under the storeroom's disposal rules."""
+        text = plan_text(plan) if plan else Text(NO_PLAN_YET)
+        if plan and disposal is not None:
+            text.append_text(disposal_text(disposal))
+        self.query_one("#plan-text", Static).update(text)
 
     @property
     def text(self) -> str:
