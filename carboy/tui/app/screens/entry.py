@@ -76,6 +76,7 @@ class EntryScreen(Screen):
         self.query_one("#entry-note").display = False
         self.query_one("#entry-scroll").focus()
         self.load()
+        self.watch(self.app, "data_version", lambda _v: self.load(), init=False)
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="entry")
     def load(self) -> None:

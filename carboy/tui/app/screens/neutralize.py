@@ -149,6 +149,15 @@ class NeutralizeScreen(Screen):
     def on_mount(self) -> None:
         # Children may still be mounting when a mode is switched to very early.
         self.call_after_refresh(self._start)
+        self.watch(self.app, "data_version", self._data_changed, init=False)
+
+    def _data_changed(self, _version: int) -> None:
+        """Something was written: the bottles, the containers and the one loaded here."""
+        if not self._composed:
+            return
+        self._load_choices()
+        if self.container is not None and self._pending_label is None:
+            self._start_container_load(self.container.label)
 
     def _start(self) -> None:
         self._composed = True
@@ -248,6 +257,8 @@ class NeutralizeScreen(Screen):
         info.remove_class("-error")
         if message.catalog is not None:
             self._catalog = message.catalog
+        if self.container is None or self.container.label != message.info.label:
+            self._clear_plan()  # a plan of another sample is never shown for this one
         self.container = message.info
         self.sample_note = ""
         info.update(container_summary(self.container))
@@ -278,11 +289,7 @@ class NeutralizeScreen(Screen):
                 else f"measured pH {message.measured_ph:g}")
         self._set_status(f"✓ journal entry #{message.entry_id}: {message.label}, {done}")
         self.notify(f"Recorded journal entry #{message.entry_id} for {message.label}")
-        refresh = getattr(self.app, "refresh_data", None)
-        if callable(refresh):
-            refresh()
-        self._start_container_load(message.label)
-        self._load_choices()
+        self.app.refresh_data()  # every screen, this one included, reads the new state
 
     # -- form events -----------------------------------------------------------------------
     @on(Input.Changed)
@@ -328,23 +335,34 @@ class NeutralizeScreen(Screen):
     # -- actions ---------------------------------------------------------------------------
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
         if action == "record":
-            if self.container is None or self.plan is None:
-                return False
-            if not ContainerStatus(self.container.status).can_record_neutralization:
-                return False
-            if not self._plan_is_current():
-                return None
-            return True
+            # shown whenever a container is the sample; pressing it says why when it can't
+            return self.container is not None
         if action == "typed_sample":
             return self.container is not None
         return True
+
+    def record_blocker(self) -> str | None:
+        """Why the plan on screen cannot be recorded now, or None when it can."""
+        if self.container is None:
+            return "records are kept for a waste container: pick one as the sample"
+        status = ContainerStatus(self.container.status)
+        if not status.can_record_neutralization:
+            return f"{self.container.label} is {status.state}: no neutralization is recorded"
+        if self.plan is None:
+            return "no plan yet: give a reagent (and fix what is marked ✗)"
+        if not self._plan_is_current():
+            return "the plan shown is stale: fix the inputs marked ✗, or wait for the new plan"
+        return None
 
     def _plan_is_current(self) -> bool:
         return (not self.stale and self.live.settled and self.plan_state is not None
                 and self.plan_state == self._form_state())
 
     def action_record(self) -> None:
-        if self.check_action("record", ()) is not True:
+        why = self.record_blocker()
+        if why is not None:
+            self._set_status(f"✗ cannot record: {why}")
+            self.notify(f"Cannot record: {why}", severity="warning", timeout=6)
             return
         plan, container = self.plan, self.container
         plan_line = (f"planned: {plan.reagent.describe()}: to pH {plan.to_target.target_pH:g} "
@@ -446,6 +464,15 @@ class NeutralizeScreen(Screen):
         table.remove_class("-stale")
         self.query_one(PHCurvePanel).show_curve(curve_data_from_plan(plan))
         self.query_one(CautionsPanel).show_cautions(plan.cautions, drain_plan=plan.drain_plan)
+
+    def _clear_plan(self) -> None:
+        """No plan on screen (another sample is being loaded)."""
+        self.plan = self.plan_state = self.disposal = None
+        self.stale = False
+        self.query_one(PlanSummary).show_plan(None, None)
+        self.query_one(StagesTable).show_plan(None)
+        self.query_one(PHCurvePanel).show_curve(None)
+        self.query_one(CautionsPanel).show_cautions(())
 
     def _mark_stale(self) -> None:
         if self.plan is None:
