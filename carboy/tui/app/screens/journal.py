@@ -48,7 +48,9 @@ class JournalScreen(Screen):
 
     BINDINGS = [
         Binding("k", "focus_kind", "Kind filter", id="journal.kind"),
-        Binding("s", "focus_since", "Since date", id="journal.since"),
+        # priority: handled as the key arrives, so a date typed right after it lands in
+        # the box (not typing in a field: check_action lets the key through)
+        Binding("s", "focus_since", "Since date", id="journal.since", priority=True),
         Binding("n", "page('older')", "Older", id="journal.older"),
         Binding("p", "page('newer')", "Newer", id="journal.newer"),
         Binding("escape", "clear_filters", "Clear filters", id="journal.clear"),
@@ -221,7 +223,7 @@ class JournalScreen(Screen):
         self.query_one("#journal-kind", Select).focus()
 
     def action_focus_since(self) -> None:
-        self.query_one("#journal-since", Input).focus()
+        self.set_focus(self.query_one("#journal-since", Input))
 
     def action_page(self, direction: str) -> None:
         if direction == "older" and self.has_older and self.oldest_id is not None:
