@@ -85,8 +85,8 @@ class JournalScreen(Screen):
 
     def on_mount(self) -> None:
         table = self.query_one(EntryTable)
-        for key, label in (("id", "#"), ("when", "When"), ("kind", "Kind"), ("about", "About"),
-                           ("summary", "Summary"), ("who", "Who")):
+        for key, label in (("id", "#"), ("when", "When"), ("who", "Who"), ("kind", "Kind"),
+                           ("about", "About"), ("summary", "Summary")):
             table.add_column(label, key=key)
         table.focus()
         self.watch(self.app, "data_version", lambda _v: self.load(reset=True), init=False)
@@ -124,8 +124,8 @@ class JournalScreen(Screen):
         table.clear()
         self.shown = {str(e.id): e for e in found}
         for e in found:
-            table.add_row(str(e.id), journal.local_time(e.recorded_at), e.kind, about(e),
-                          e.summary, e.recorded_by, key=str(e.id))
+            table.add_row(str(e.id), journal.local_time(e.recorded_at), e.recorded_by, e.kind,
+                          about(e), e.summary, key=str(e.id))
         self.oldest_id = found[-1].id if found else None
         page = len(self._starts)
         first = (page - 1) * PAGE_ROWS + 1
