@@ -78,11 +78,11 @@ class CarboyCommands(Provider):
             if status.takes_additions:
                 found.append((f"Log addition to {label}…",
                               partial(self._waste_action, "action_add", label),
-                              f"waste container {label} ({status})"))
+                              f"waste container {label} ({status.words})"))
             if status.can_be_planned:
                 found.append((f"Plan neutralization of {label}",
                               partial(self.app.plan_container, label),
-                              f"waste container {label} ({status})"))
+                              f"waste container {label} ({status.words})"))
         return found
 
     async def discover(self) -> Hits:
