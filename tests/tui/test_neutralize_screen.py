@@ -281,3 +281,12 @@ async def test_the_most_serious_caution_shows_in_one_line_and_one_key_opens_them
         assert all(f"[{c.code}]" in shown for c in screen.plan.cautions)
         await pilot.press("escape")
         await wait_for(pilot, lambda: app.screen is screen)
+
+
+def test_the_curve_axis_has_even_ticks_that_cover_the_dose():
+    from carboy.tui.app.widgets.ph_curve import even_ticks
+
+    for end in (6.8, 0.34, 4.59, 0.0021, 137.0):
+        ticks = even_ticks(end)
+        steps = {round(b - a, 12) for a, b in zip(ticks, ticks[1:])}
+        assert ticks[0] == 0 and ticks[-1] >= end and len(steps) == 1 and len(ticks) <= 6

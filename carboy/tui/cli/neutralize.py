@@ -132,7 +132,8 @@ def format_report(plan) -> str:
     lines.append("               (local disposal rules set the real acceptance window)")
     if plan.bound_protons_at_target:
         bound = ", ".join(f"{k} {v:.2f}" for k, v in plan.bound_protons_at_target.items())
-        lines.append(f"still bound    protons per unit at the target: {bound}")
+        lines.append(f"left acidic    acid hydrogens still held per formula unit at the "
+                     f"target (expected for weak acids): {bound}")
     lines.append(f"heat           {plan.heat_kj:.3g} kJ, temperature rise about "
                  f"{plan.temperature_rise_c:.1f} K (adiabatic, heat capacity of water)")
     if plan.gas_l or plan.vented_pH is not None:

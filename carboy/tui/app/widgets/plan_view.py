@@ -107,8 +107,9 @@ def plan_text(plan) -> Text:
         if mol:
             t.append(f"{'':13}  {name}: {fmt_mol(mol)}\n")
     if plan.bound_protons_at_target:
-        bound = ", ".join(f"{k} {v:.2f}" for k, v in plan.bound_protons_at_target.items())
-        line("Still bound", f"protons per unit at pH {tgt.target_pH:g}: {bound}")
+        held = ", ".join(f"{k} {v:.2f}" for k, v in plan.bound_protons_at_target.items())
+        line("Left acidic", f"at pH {tgt.target_pH:g} these still hold acid hydrogens (per "
+                            f"formula unit; expected for weak acids): {held}")
     released = "released" if plan.temperature_rise_c >= 0 else "taken up"
     line("Heat", f"{abs(plan.heat_kj):.3g} kJ {released}, temperature rise about "
          f"{plan.temperature_rise_c:.1f} K (adiabatic batch)")
