@@ -14,6 +14,8 @@ from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import DataTable, Static
 
+from carboy.model import numbers
+
 SEVERITY_MARKS = {"danger": "‼ DANGER", "warning": "! WARNING", "notice": "· NOTE"}
 SEVERITY_STYLES = {"danger": "bold reverse", "warning": "bold", "notice": ""}
 
@@ -34,20 +36,8 @@ NO_PLAN_YET = "No plan yet: give a sample (a container, or components and a volu
 
 # -- numbers as people read them --------------------------------------------------------
 
-def fmt_volume_l(litres: float | None) -> str:
-    if litres is None:
-        return "—"
-    if abs(litres) < 1.0:
-        return f"{litres * 1000:.3g} mL"
-    return f"{litres:.3g} L"
-
-
-def fmt_mass_g(grams: float | None) -> str:
-    if grams is None:
-        return "—"
-    if abs(grams) >= 1000.0:
-        return f"{grams / 1000:.3g} kg"
-    return f"{grams:.3g} g"
+fmt_volume_l = numbers.volume
+fmt_mass_g = numbers.mass
 
 
 def fmt_mol(mol: float | None) -> str:
