@@ -146,13 +146,18 @@ def _heat_danger(f: Facts) -> str:
             f"stages{_stages_text(f)}.")
 
 
-def stronger_reagent(f: Facts) -> str:
-    """A stronger reagent than the plan's, in words."""
-    if f.direction == "acid":
+def stronger_reagent_words(direction: str, reagent_key: str) -> str:
+    """A stronger reagent than ``reagent_key`` for a plan of ``direction``, in words."""
+    if direction == "acid":
         return "a strong acid such as HCl or H2SO4, diluted"
-    if f.reagent_key in ("NaHCO3", "KHCO3"):
+    if reagent_key in ("NaHCO3", "KHCO3"):
         return "Na2CO3 (to about pH 10.3) or a hydroxide such as NaOH or KOH"
     return "a hydroxide such as NaOH or KOH"
+
+
+def stronger_reagent(f: Facts) -> str:
+    """A stronger reagent than the plan's, in words."""
+    return stronger_reagent_words(f.direction, f.reagent_key)
 
 
 def _salt_text(f: Facts) -> str:

@@ -34,7 +34,7 @@ from carboy.model.catalog import molar_mass_of
 from carboy.model.thermo import planning_constants
 
 __all__ = ["HeatCapacity", "batch_heat_capacity", "salts_of", "solute_cp", "solute_for_formula",
-           "solute_mass_g", "solution_cp"]
+           "solute_mass_g", "solutes", "solution_cp"]
 
 SOURCE = "Laliberté, J. Chem. Eng. Data 54, 1725 (2009)"
 _CHARGE = re.compile(r"[+-]\d*$")
@@ -111,7 +111,8 @@ def _tables() -> tuple[Mapping[tuple[str, str], _Solute], Mapping[str, _Solute]]
     return pairs, neutral
 
 
-def _by_name() -> Mapping[str, _Solute]:
+def solutes() -> Mapping[str, _Solute]:
+    """Every solute of ``[[heat_capacity]]`` by name (``NaCl``, ``HCH3CO2``...)."""
     pairs, neutral = _tables()
     return {s.name: s for s in (*pairs.values(), *neutral.values())}
 
@@ -139,7 +140,7 @@ def _mix(masses: Mapping[str, float], unknown_mass: float, total_mass: float,
         return HeatCapacity(cp_w)
     solids = sum(masses.values()) + unknown_mass
     x = min(solids / total_mass, 0.999)
-    table = _by_name()
+    table = solutes()
     cp = (1.0 - x) * cp_w + unknown_mass / total_mass * cp_w
     named, clamped = [], []
     for name, mass in masses.items():
@@ -155,7 +156,7 @@ def _mix(masses: Mapping[str, float], unknown_mass: float, total_mass: float,
 def solution_cp(mass_fractions: Mapping[str, float], temperature_c: float) -> HeatCapacity:
     """The heat capacity of a solution given by the mass fraction of each solute, named as
     in ``[[heat_capacity]]`` (``NaOH``, ``H2SO4``...); other names count as water."""
-    table = _by_name()
+    table = solutes()
     known = {k: 100.0 * w for k, w in mass_fractions.items() if k in table and w > 0}
     unknown = sum(100.0 * w for k, w in mass_fractions.items() if k not in table and w > 0)
     found = _mix(known, unknown, 100.0, temperature_c)
@@ -219,7 +220,7 @@ def batch_heat_capacity(species_molar: Mapping[str, float], charges: Mapping[str
     that have no parameters are counted as water without being named.
     """
     known, other = salts_of(species_molar, charges)
-    table = _by_name()
+    table = solutes()
     masses = {name: mol_l * volume_l * table[name].molar_mass for name, mol_l in known.items()
               if mol_l > 0}
     unknown = {k: g_l * volume_l for k, g_l in other.items() if g_l > 0}
@@ -234,7 +235,7 @@ def solute_mass_g(species_molar: Mapping[str, float], charges: Mapping[str, int]
     neutral species of :func:`salts_of` (a species whose formula molmass cannot read is
     left out)."""
     known, other = salts_of(species_molar, charges)
-    table = _by_name()
+    table = solutes()
     return volume_l * (sum(mol * table[name].molar_mass for name, mol in known.items())
                        + sum(other.values()))
 
@@ -247,7 +248,7 @@ def solute_for_formula(formula: str) -> str | None:
         hill = molmass.Formula(formula).formula
     except Exception:  # molmass raises FormulaError and, on odd input, others
         return None
-    for name in _by_name():
+    for name in solutes():
         if molmass.Formula(name).formula == hill:
             return name
     return None

@@ -251,8 +251,8 @@ def _start(req: _Request) -> _Start:
         raise InvalidInput(
             "reagent", reagent.text or reagent.key,
             f"the sample is at pH {initial_pH:.2f} and needs {need} to reach pH {target:g}; "
-            f"{reagent.key} (its own pH about {own_pH:.1f}) cannot move it that way",
-            field="reagent")
+            f"{reagent.key} (its own pH about {own_pH:.1f}) cannot move it that way: choose "
+            f"{caution_rules.stronger_reagent_words(direction, reagent.key)}", field="reagent")
     return _Start(model, initial_pH, direction, capacity)
 
 
