@@ -8,6 +8,7 @@ status reads the same in both: the phrasing lives here, once (numbers by the rul
 from __future__ import annotations
 
 from carboy.model import numbers
+from carboy.model.batch_heat import boil_c
 from carboy.model.numbers import amount, count, mass, moles, ph, strength, volume
 
 __all__ = ["amount", "count", "disposal_lines", "heat_text", "mass", "moles", "ph", "plan_heat_text",
@@ -20,6 +21,10 @@ def heat_text(recipe) -> str:
         return "not estimated (no published data held for this solution)"
     text = _released(recipe.heat_released_kj)
     mixing = getattr(recipe, "mixing_rise_c", None)
+    rises = [r for r in (mixing, recipe.temperature_rise_c) if r is not None]
+    if rises and recipe.temperature_c + max(rises) >= boil_c():
+        return text + (f"; enough to take it past boiling (about {boil_c():g} °C): add it in "
+                       "portions, cooling between them")
     if mixing is not None and recipe.temperature_rise_c is not None:
         text += (f"; about {mixing:+.1f} K while mixing, {recipe.temperature_rise_c:+.1f} K "
                  "once made up")

@@ -138,3 +138,28 @@ def test_a_concentrate_without_dilution_data_is_not_estimated():
     assert any("not estimated" in w and "KOH" in w for w in p.warnings)
     q = plan_neutralization(mixture(("HCl", 1.0)), parse_reagent("NaOH=30%"))
     assert not any("dilution-heat" in w for w in q.warnings)
+
+
+# -- recipes --------------------------------------------------------------------------------
+
+@pytest.mark.parametrize("source", ["NaOH=30%", "NH3=28%", "H3PO4=85%"])
+def test_recipes_from_naoh_ammonia_and_phosphoric_concentrates_count_their_heat(source):
+    from carboy.model.preparation import parse_source, plan_recipe
+
+    r = plan_recipe(parse_source(source), 1.0, 1.0)
+    assert r.heat_released_kj is not None and r.heat_released_kj > 0
+    assert r.to_dict()["heat_released_kj"] == r.heat_released_kj and "heat_kj" not in r.to_dict()
+    assert any("Koretsky" in n for n in r.notes)
+
+
+def test_a_recipe_past_boiling_says_it_would_boil():
+    from carboy.model.preparation import parse_source, plan_recipe
+    from carboy.tui.wording import heat_text
+
+    r = plan_recipe(parse_source("H2SO4=96%"), 12.0, 1.0)
+    assert r.temperature_c + max(r.mixing_rise_c, r.temperature_rise_c) >= boil_c()
+    danger = next(c.text for c in r.cautions if c.code == "heat-danger")
+    assert "past boiling" in danger and "portions keep each below 50 °C" in danger
+    assert "past boiling" in heat_text(r) and " K " not in heat_text(r)
+    mild = plan_recipe(parse_source("H2SO4=96%"), 0.5, 1.0)
+    assert "released" in heat_text(mild) and "once made up" in heat_text(mild)
