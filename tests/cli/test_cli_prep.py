@@ -76,7 +76,10 @@ def test_record_draws_from_the_bottle_and_adds_the_new_one(capsys, tmp_path):
         new = stock.get(s, got["recorded"]["new_bottle_id"])
         assert (new.compound_key, new.label_strength, new.strength_unit) == ("HCl", 1.0, "M")
         assert new.location == "Bench 2" and new.expires_on
-        assert journal.count(s) == before + 1
+        assert journal.count(s) == before + 2  # the preparation, and the new bottle's own
+        first = journal.entries(s, bottle_id=new.id)[0]
+        assert first.snapshot["made_from_bottle"] == src
+        assert f"made from bottle {src}" in first.summary
         # asking for more than is left writes nothing
         count_before = (stock.count(s), journal.count(s))
     finally:

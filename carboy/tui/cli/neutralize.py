@@ -135,7 +135,8 @@ def format_report(plan) -> str:
     lines.append("               (local disposal rules set the real acceptance window)")
     if plan.bound_protons_at_target:
         bound = ", ".join(f"{k} {v:.2f}" for k, v in plan.bound_protons_at_target.items())
-        lines.append(f"still bound    protons per unit at the target: {bound}")
+        lines.append(f"left acidic    acid hydrogens still held per formula unit at the "
+                     f"target (expected for weak acids): {bound}")
     lines.append(f"heat           {plan_heat_text(plan)}")
     if plan.gas_l or plan.vented_pH is not None:
         lines.append(f"CO2            {plan.gas_l:.3g} L right after adding the dose to target, "

@@ -28,7 +28,7 @@ computed but not accepted, 2 on bad input.
 def register(sub) -> None:
     p = sub.add_parser(
         "standardize", help="molarity of a titrant from replicate titrations",
-        description="Molarity of each replicate, mean, standard deviation, RSD, 95 %% "
+        description="Molarity of each replicate, mean, standard deviation, RSD, 95 % "
         "confidence interval, an outlier test and the acceptance decision.",
         epilog=EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("--titrant", metavar="NAME",

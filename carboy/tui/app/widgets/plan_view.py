@@ -14,6 +14,7 @@ from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import DataTable, Static
 
+from carboy.model import numbers
 from carboy.tui.wording import plan_heat_text
 
 SEVERITY_MARKS = {"danger": "‼ DANGER", "warning": "! WARNING", "notice": "· NOTE"}
@@ -36,20 +37,8 @@ NO_PLAN_YET = "No plan yet: give a sample (a container, or components and a volu
 
 # -- numbers as people read them --------------------------------------------------------
 
-def fmt_volume_l(litres: float | None) -> str:
-    if litres is None:
-        return "—"
-    if abs(litres) < 1.0:
-        return f"{litres * 1000:.3g} mL"
-    return f"{litres:.3g} L"
-
-
-def fmt_mass_g(grams: float | None) -> str:
-    if grams is None:
-        return "—"
-    if abs(grams) >= 1000.0:
-        return f"{grams / 1000:.3g} kg"
-    return f"{grams:.3g} g"
+fmt_volume_l = numbers.volume
+fmt_mass_g = numbers.mass
 
 
 def fmt_mol(mol: float | None) -> str:
@@ -112,8 +101,9 @@ def plan_text(plan) -> Text:
         cannot = ", ".join(f"{k} {fmt_mol(v)}" for k, v in plan.reagent_reach.cannot.items())
         t.append(f"{'':13}not counted ({r.key} cannot take them): {cannot}\n")
     if plan.bound_protons_at_target:
-        bound = ", ".join(f"{k} {v:.2f}" for k, v in plan.bound_protons_at_target.items())
-        line("Still bound", f"protons per unit at pH {tgt.target_pH:g}: {bound}")
+        held = ", ".join(f"{k} {v:.2f}" for k, v in plan.bound_protons_at_target.items())
+        line("Left acidic", f"at pH {tgt.target_pH:g} these still hold acid hydrogens (per "
+                            f"formula unit; expected for weak acids): {held}")
     line("Heat", plan_heat_text(plan))
     if plan.gas_l > 0 or plan.vented_pH is not None:
         line("CO2 gas", f"{fmt_volume_l(plan.gas_l)} at {plan.gas_conditions}")
