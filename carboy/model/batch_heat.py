@@ -65,6 +65,12 @@ class BatchHeat:
         return bool(self.start_c + self.rise_k > self.safe_c)
 
     @property
+    def reached_rise_k(self) -> float:
+        """The rise the batch can reach: the adiabatic estimate, or up to boiling where it
+        would boil (the rest of the heat boils the batch)."""
+        return min(self.rise_k, self.boil_c - self.start_c) if self.boils else self.rise_k
+
+    @property
     def final_c(self) -> float | None:
         """The temperature the batch reaches, or None where it would boil first."""
         return None if self.boils else self.start_c + self.rise_k

@@ -88,7 +88,8 @@ class Plan:
     heat_released_kj: float
     """Heat released by the dose to the target, kJ: positive when the batch warms."""
     temperature_rise_c: float
-    """The adiabatic estimate, K; past boiling see ``batch_heat.boils``."""
+    """The adiabatic rise, K, up to boiling: where the batch would boil it stops there
+    (``batch_heat.boils``; the full estimate is ``batch_heat.rise_k``)."""
     gas_l: float
     gas_mol: float
     gas_conditions: str

@@ -76,7 +76,7 @@ from carboy.model.precipitates import (
     saturation_indices,
     slurry_check,
 )
-from carboy.model.reagent_reach import Reach, proton_reach
+from carboy.model.reagent_reach import Reach, bicarbonate_ceiling, proton_reach
 from carboy.model.reagents import Reagent
 from carboy.model.speciation import BatchSpeciation, speciate, start_along
 
@@ -114,7 +114,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     req = _with_safe_temperature(req, safe_temperature_c, safe_from)
     start = _start(req)
     demand, reach = _reagent_reach(req, start, _proton_demand(req, start))
-    dosing = _find_doses(req, start, demand)
+    dosing = _bicarbonate_ceiling(req, reach, _find_doses(req, start, demand))
     curve_res, curve_vol = _solve_curve(req, dosing)
     pts = _solve_points(req, start, dosing, demand.n_full, curve_res)
     doses = _dose_results(req, dosing, pts, demand.n_full)
@@ -129,7 +129,8 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
         initial_pH=start.initial_pH, proton_equivalents_mol=float(demand.proton_eq),
         breakdown=demand.breakdown, full=doses.full, to_target=doses.to_target,
         window=req.window, window_doses=doses.window, bound_protons_at_target=bound,
-        heat_released_kj=heat.released_kj, temperature_rise_c=heat.rise_k, gas_l=heat.gas_l,
+        heat_released_kj=heat.released_kj, temperature_rise_c=heat.batch.reached_rise_k,
+        gas_l=heat.gas_l,
         gas_mol=heat.gas_mol, gas_conditions=gas.gas_conditions(req.temperature_c),
         vented_pH=facts.vented_pH, vent_pco2_atm=dosing.pco2_atm,
         pH_before_venting=heat.pH_before_venting, vented_gas_l=heat.vented_gas_l,
@@ -294,6 +295,18 @@ def _reagent_reach(req: _Request, start: _Start, demand: _Demand
     if reach is None:
         return demand, None
     return dataclasses.replace(demand, n_full=reach.n_full), reach
+
+
+def _bicarbonate_ceiling(req: _Request, reach: Reach | None, dosing: Dosing) -> Dosing:
+    """Step 4b: a bicarbonate reagent cannot carry a batch above about pH 8.3 (the pH of
+    a fresh bicarbonate solution, ``reagent_reach``): a dose to a higher pH, which only the
+    slow loss of CO2 to the air would reach, is not offered (it reads as unreachable)."""
+    ceiling = bicarbonate_ceiling(reach)
+    if ceiling is None:
+        return dosing
+    asked = np.array([req.target, *req.window])
+    doses = np.where(asked > ceiling, np.nan, dosing.doses)
+    return dataclasses.replace(dosing, doses=doses)
 
 
 def _charge_parts(sample: Mixture, catalog, which: str) -> dict:

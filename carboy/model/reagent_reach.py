@@ -27,7 +27,7 @@ from dataclasses import dataclass
 from carboy.model.mixture import Mixture
 from carboy.model.reagents import Reagent
 
-__all__ = ["Reach", "carbonate_levels", "proton_reach"]
+__all__ = ["Reach", "bicarbonate_ceiling", "carbonate_levels", "proton_reach"]
 
 CARBONATE = "carbonate"
 
@@ -74,6 +74,14 @@ def carbonate_levels(reagent: Reagent, catalog) -> tuple[tuple[float, int], ...]
     if lost == 2:
         levels.append((pk2, 1 * int(count)))
     return tuple(levels)
+
+
+def bicarbonate_ceiling(reach: Reach | None) -> float | None:
+    """The highest pH a bicarbonate reagent carries a batch to (about 8.3), or None for a
+    reagent that reaches further (a carbonate, whose CO3 2- goes on to pH 10 and above)."""
+    if reach is None or len(reach.levels) != 1:
+        return None
+    return reach.levels[0][0]
 
 
 def _bound_protons(sample: Mixture, catalog, fractions: Mapping[str, Mapping[str, float]]

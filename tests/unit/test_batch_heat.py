@@ -163,3 +163,10 @@ def test_a_recipe_past_boiling_says_it_would_boil():
     assert "past boiling" in heat_text(r) and " K " not in heat_text(r)
     mild = plan_recipe(parse_source("H2SO4=96%"), 0.5, 1.0)
     assert "released" in heat_text(mild) and "once made up" in heat_text(mild)
+
+
+def test_the_reported_rise_stops_at_boiling(violent):
+    bh = violent.batch_heat
+    assert bh.rise_k > bh.boil_c - bh.start_c
+    assert violent.temperature_rise_c == pytest.approx(bh.boil_c - bh.start_c)
+    assert violent.to_dict()["heat"]["adiabatic_rise_k"] == pytest.approx(bh.rise_k)

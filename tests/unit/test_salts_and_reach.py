@@ -135,3 +135,15 @@ def test_a_reagent_that_cannot_move_the_ph_far_enough_suggests_a_stronger_one():
         plan_neutralization(mixture(("H3BO3", 0.1)), parse_reagent("NaHCO3"), target_pH=9.8,
                             window=(9.5, 10.5))
     assert "NaOH" in str(err.value) and "Na2CO3" in str(err.value)
+
+
+def test_bicarbonate_does_not_offer_a_dose_above_about_ph_8_3():
+    # the window's high edge (pH 9) is reached only as dissolved CO2 slowly leaves for the
+    # air; the plan does not offer it with NaHCO3, and says the batch stays near 8.3
+    p = plan_neutralization(mixture(("H3BO3", 0.1), ("HCl", 0.05)), parse_reagent("NaHCO3"))
+    assert p.to_target.reachable and p.window_doses[0].reachable
+    assert not p.window_doses[1].reachable
+    assert any("high edge" in w for w in p.warnings)
+    carbonate = plan_neutralization(mixture(("H3BO3", 0.1), ("HCl", 0.05)),
+                                    parse_reagent("Na2CO3"))
+    assert carbonate.window_doses[1].reachable
