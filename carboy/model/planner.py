@@ -27,24 +27,32 @@ The steps of a plan
 -------------------
 :func:`plan_neutralization` is this sequence; each step is a function of its own:
 
-1. ``_check_request``     the arguments, checked and gathered in a :class:`_Request`;
+1. ``_check_request``     the arguments, checked and gathered in a :class:`_Request`
+                          (``_with_safe_temperature``: the batch's safe temperature);
 2. ``_start``             the sample's own pH, the direction (base or acid) and the
                           reagent's capacity that way; a reagent that moves the pH the
                           wrong way is refused;
 3. ``_proton_demand``     every dissociable proton: the full dose and its breakdown;
+   ``_reagent_reach``     with a carbonate reagent, only the protons it can take count
+                          in the full dose (``reagent_reach``);
 4. ``_find_doses``        the doses to the target and the window edges, with CO2
                           leaving, and the curve's amounts (``dosing``);
+   ``_bicarbonate_ceiling`` no dose above about pH 8.3 with a bicarbonate;
 5. ``_solve_curve``       the pH curve, in one batch solve;
 6. ``_solve_points``      every other state in one batch solve (full dose, doses,
                           stages, ±1 % of the target dose, equivalence points);
 7. ``_dose_results``      the doses, stages, sensitivity and equivalence points read
                           from it;
-8. ``_heat_and_gas``      reaction heat, temperature rise, CO2 given off and the pH
-                          before venting (``thermo``, ``dosing``);
+8. ``_heat_and_gas``      heat released, the batch's rise with its own heat capacity,
+                          boiling and the stages that keep it safe, CO2 given off and
+                          the pH before venting (``plan_heat``, ``batch_heat``);
 9. ``_at_target``         the state at the target: protons still bound, saturation of
                           solids (``precipitates``);
+   ``_salt_limits``       soluble salts against their solubility at the batch's
+                          temperature (``precipitates.salt_limits``);
 10. ``_warnings``         the solver's and the planner's own warnings;
-11. ``_facts``            what the caution rules look at; ``cautions.evaluate`` then
+11. ``_facts``            what the caution rules look at (``_limit_facts``: heat, salts,
+                          reach); ``cautions.evaluate`` then
                           gives the cautions and ``cautions.not_for_drain`` the drain
                           verdict.
 """

@@ -11,8 +11,9 @@ fully protonated form of each system (all at infinite dilution, 25 °C):
 * CO2 that leaves as gas carries +19.75 kJ/mol (CO2(aq) -> CO2(g), DERIVED from CODATA).
 
 The reaction heat is then ``H(final) - H(sample) - n·H(reagent)`` plus the heat of
-solution of a solid reagent (NaOH, KOH) and the heat of diluting a concentrated
-reagent (H2SO4, HCl tables).  Proton transfer is thereby counted exactly: e.g.
+solution of a solid reagent (every solid reagent: NaOH, KOH, LiOH, Na2CO3, K2CO3, NaHCO3,
+Ca(OH)2, Mg(OH)2) and the heat of diluting a concentrated reagent (the H2SO4, HCl, HNO3
+... tables; NaOH, NH3 and H3PO4 from Koretsky's Table 6.1; none for KOH).  Proton transfer is thereby counted exactly: e.g.
 HA + OH- -> A- + H2O gives ``ΔH_a + ΔH_w``, and H+ + HCO3- -> CO2(g) + H2O gives
 ``-ΔH_1 + 19.75`` = +10.6 kJ/mol.  The reagent enters in its nominal formula state
 (Na2CO3 as CO3 2-, NH3 as NH3); its own slight hydrolysis in the bottle is neglected.
