@@ -3,14 +3,13 @@
 from __future__ import annotations
 
 import os
-import shutil
 import time
 from collections.abc import Callable
 from pathlib import Path
 
 import pytest
 
-from carboy.store.demo import DEMO_TODAY, create_demo_database
+from carboy.store.demo import DEMO_TODAY
 
 WHO = "tester"
 
@@ -30,19 +29,10 @@ def clean_environment(monkeypatch):
     time.tzset()
 
 
-@pytest.fixture(scope="session")
-def demo_template(tmp_path_factory) -> Path:
-    path = tmp_path_factory.mktemp("demo-template") / "demo.db"
-    create_demo_database(path, today=DEMO_TODAY)
-    return path
-
-
 @pytest.fixture
-def demo_db(demo_template, tmp_path) -> Path:
-    """A private copy of the demo storeroom (the template is closed, its WAL merged)."""
-    path = tmp_path / "demo.db"
-    shutil.copyfile(demo_template, path)
-    return path
+def demo_db(copy_demo) -> Path:
+    """A private copy of the demo storeroom."""
+    return copy_demo()
 
 
 @pytest.fixture
