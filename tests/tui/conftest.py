@@ -54,6 +54,14 @@ async def wait_for(pilot, condition: Callable[[], bool], timeout: float = 5.0) -
         await pilot.pause(0.02)
 
 
+async def loaded(pilot, timeout: float = 5.0) -> None:
+    """Let the app run until no worker is busy (a screen's data has arrived) and the
+    messages that followed are handled: a condition, not a fixed sleep."""
+    app = pilot.app
+    await wait_for(pilot, lambda: not any(w.is_running for w in app.workers), timeout)
+    await pilot.pause()
+
+
 def text_of(widget) -> str:
     """What a Static shows, as plain text."""
     return str(widget.render())
@@ -62,6 +70,11 @@ def text_of(widget) -> str:
 @pytest.fixture(name="wait_for")
 def wait_for_fixture():
     return wait_for
+
+
+@pytest.fixture(name="loaded")
+def loaded_fixture():
+    return loaded
 
 
 @pytest.fixture(name="who")

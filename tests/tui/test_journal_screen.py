@@ -14,6 +14,13 @@ async def on_journal(app, pilot, wait_for) -> JournalScreen:
     return app.screen
 
 
+async def type_last_key(pilot, box, text: str) -> None:
+    """Fill a focused field as if typed: all but the last character set, the last a key."""
+    box.value = text[:-1]
+    box.cursor_position = len(box.value)
+    await pilot.press(text[-1])
+
+
 def column(table, key: str) -> list[str]:
     return [str(table.get_cell(r, key)) for r in table.rows]
 
@@ -46,12 +53,14 @@ async def test_since_date_filters_and_a_bad_date_is_named(make, wait_for):
         screen = await on_journal(app, pilot, wait_for)
         table = screen.query_one(EntryTable)
         total = table.row_count
-        await pilot.press("s", *"2025-03-13")
+        box = screen.query_one("#journal-since")
+        await pilot.press("s")  # the key that leads to the since-date field
+        assert app.focused is box
+        await type_last_key(pilot, box, "2025-03-13")
         await wait_for(pilot, lambda: screen.since == "2025-03-13" and table.row_count < total)
         assert all(w >= "2025-03-13" for w in column(table, "when"))
-        box = screen.query_one("#journal-since")
-        box.value = ""
-        await pilot.press(*"2025-13-45", "enter")
+        await type_last_key(pilot, box, "2025-13-45")
+        await pilot.press("enter")
         error = screen.query_one("#journal-error")
         await wait_for(pilot, lambda: error.display)
         assert "2025-13-45" in str(error.render())

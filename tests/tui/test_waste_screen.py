@@ -16,10 +16,15 @@ async def on_waste(app, pilot, wait_for, label: str | None = None) -> WasteScree
     await wait_for(pilot, lambda: isinstance(app.screen, WasteScreen) and app.screen.detail)
     screen = app.screen
     if label is not None:
-        table = screen.query_one("#waste-table")
-        table.move_cursor(row=table.get_row_index(label))
-        await wait_for(pilot, lambda: screen.detail and screen.detail.info["label"] == label)
+        await select(pilot, wait_for, screen, label)
     return screen
+
+
+async def select(pilot, wait_for, screen: WasteScreen, label: str) -> None:
+    """Move the cursor to the container ``label`` and wait for its details."""
+    table = screen.query_one("#waste-table")
+    table.move_cursor(row=table.get_row_index(label))
+    await wait_for(pilot, lambda: screen.detail and screen.detail.info["label"] == label)
 
 
 def detail_text(screen: WasteScreen) -> str:
@@ -31,8 +36,14 @@ def detail_text(screen: WasteScreen) -> str:
 
 
 async def type_into(pilot, screen, field: str, text: str) -> None:
-    screen.query_one(f"#{field}").focus()
-    await pilot.press(*text) if text else None
+    """Fill a field as if typed: focused, all but the last character set, the last a key
+    (typing key by key, however fast, is test_app's keys test)."""
+    box = screen.query_one(f"#{field}")
+    box.focus()
+    await pilot.pause()  # focusing selects the text; set it only after that
+    box.value = text[:-1]
+    box.cursor_position = len(box.value)
+    await pilot.press(text[-1])
 
 
 async def test_log_an_addition_and_see_the_composition(make, wait_for, demo_db):
@@ -92,9 +103,14 @@ async def test_bad_values_are_named_in_place_and_the_text_is_kept(make, wait_for
         assert len(waste.additions(store, "OA-02")) == 4  # nothing was stored
 
 
-async def test_fluoride_waste_goes_to_licensed_disposal_and_offers_no_plan(make, wait_for):
+async def test_each_container_offers_only_the_moves_that_apply(make, wait_for, monkeypatch):
+    from carboy.tui.app.app import CarboyApp
+
+    asked = []
+    monkeypatch.setattr(CarboyApp, "plan_container", lambda self, label: asked.append(label))
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
+        # fluoride waste goes to licensed disposal and offers no plan
         screen = await on_waste(app, pilot, wait_for, "HF-04")
         text = detail_text(screen)
         assert "Licensed disposal only" in text and "fluoride" in text
@@ -102,21 +118,15 @@ async def test_fluoride_waste_goes_to_licensed_disposal_and_offers_no_plan(make,
         assert screen.check_action("plan", ()) is False
         assert screen.check_action("add", ()) is False
         assert str(screen.query_one("#waste-note").render()) == DISPOSAL_NOTE
-
-
-async def test_plan_key_opens_the_planner_for_the_container(make, wait_for, monkeypatch):
-    from carboy.tui.app.app import CarboyApp
-
-    asked = []
-    monkeypatch.setattr(CarboyApp, "plan_container", lambda self, label: asked.append(label))
-    app = make()
-    async with app.run_test(size=(80, 24)) as pilot:
-        await on_waste(app, pilot, wait_for, "MA-01")
+        # a collecting container: the plan key opens the planner on it; it is marked
+        # disposed only once neutralized
+        await select(pilot, wait_for, screen, "MA-01")
+        assert screen.check_action("mark_disposed", ()) is False
         await pilot.press("p")
         assert asked == ["MA-01"]
 
 
-async def test_licensed_disposal_asks_first(make, wait_for, demo_db):
+async def test_licensed_disposal_asks_first(make, wait_for, loaded, demo_db):
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
         screen = await on_waste(app, pilot, wait_for, "AL-03")
@@ -129,7 +139,7 @@ async def test_licensed_disposal_asks_first(make, wait_for, demo_db):
         await pilot.press("l")
         await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
         await pilot.press("enter", "enter")  # Enter, Enter: the safe answer holds the focus
-        await pilot.pause(0.2)
+        await loaded(pilot)  # a write would have run in a worker: every worker is done
         with open_database(demo_db) as store:
             assert waste.container(store, "AL-03").status == "collecting"
         while isinstance(app.screen, ConfirmScreen):
@@ -142,13 +152,6 @@ async def test_licensed_disposal_asks_first(make, wait_for, demo_db):
         assert screen.check_action("licensed", ()) is False
     with open_database(demo_db) as store:
         assert waste.container(store, "AL-03").status == "licensed-disposal"
-
-
-async def test_mark_disposed_only_when_neutralized(make, wait_for):
-    app = make()
-    async with app.run_test(size=(80, 24)) as pilot:
-        screen = await on_waste(app, pilot, wait_for, "MA-01")
-        assert screen.check_action("mark_disposed", ()) is False
 
 
 async def test_open_a_new_container_with_its_stream_then_change_it(make, wait_for, demo_db):
