@@ -46,33 +46,15 @@ async def type_into(pilot, screen, field: str, text: str) -> None:
     await pilot.press(text[-1])
 
 
-async def test_log_an_addition_and_see_the_composition(make, wait_for, demo_db):
+async def test_bad_values_are_named_in_place_then_an_addition_is_logged(make, wait_for,
+                                                                       demo_db):
+    """The dialog's wiring: each error beside its field, the typed text kept, nothing
+    stored; then a good addition shows in the container.  (What the form reads and echoes:
+    tests/unit/test_forms_waste_addition.py.)"""
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
         screen = await on_waste(app, pilot, wait_for, "OA-02")
         assert "HCl" not in detail_text(screen)
-        await pilot.press("a")
-        await wait_for(pilot, lambda: isinstance(app.screen, AddWasteScreen))
-        form = app.screen
-        await type_into(pilot, form, "add-compound", "HCl")
-        await type_into(pilot, form, "add-conc", "0,1 M")
-        await type_into(pilot, form, "add-volume", "1,5 L")
-        await wait_for(pilot, lambda: "1.5 L" in form.row("add-volume").echo_text)
-        assert "0.1 M" in form.row("add-conc").echo_text  # the decimal comma understood
-        assert "hydrochloric acid" in form.row("add-compound").echo_text
-        await pilot.press("ctrl+s")
-        await wait_for(pilot, lambda: app.screen is screen and "HCl 1.5 L" in detail_text(screen))
-        assert "85 %" in str(screen.query_one("#waste-table").get_cell("OA-02", "fill"))
-    with open_database(demo_db) as store:
-        last = waste.additions(store, "OA-02")[-1]
-    assert (last.compound_key, last.conc_molar, last.volume_l, last.added_by) == \
-        ("HCl", 0.1, 1.5, "tester")
-
-
-async def test_bad_values_are_named_in_place_and_the_text_is_kept(make, wait_for, demo_db):
-    app = make()
-    async with app.run_test(size=(80, 24)) as pilot:
-        await on_waste(app, pilot, wait_for, "OA-02")
         await pilot.press("a")
         await wait_for(pilot, lambda: isinstance(app.screen, AddWasteScreen))
         form = app.screen
@@ -99,8 +81,25 @@ async def test_bad_values_are_named_in_place_and_the_text_is_kept(make, wait_for
         await pilot.press("escape")
         await pilot.pause()
         assert isinstance(app.screen, WasteScreen)
+        with open_database(demo_db) as store:
+            assert len(waste.additions(store, "OA-02")) == 4  # nothing was stored
+        # a good addition, typed with decimal commas, shows in the container
+        await pilot.press("a")
+        await wait_for(pilot, lambda: isinstance(app.screen, AddWasteScreen))
+        form = app.screen
+        await type_into(pilot, form, "add-compound", "HCl")
+        await type_into(pilot, form, "add-conc", "0,1 M")
+        await type_into(pilot, form, "add-volume", "1,5 L")
+        await wait_for(pilot, lambda: "1.5 L" in form.row("add-volume").echo_text)
+        assert "0.1 M" in form.row("add-conc").echo_text  # the decimal comma understood
+        assert "hydrochloric acid" in form.row("add-compound").echo_text
+        await pilot.press("ctrl+s")
+        await wait_for(pilot, lambda: app.screen is screen and "HCl 1.5 L" in detail_text(screen))
+        assert "85 %" in str(screen.query_one("#waste-table").get_cell("OA-02", "fill"))
     with open_database(demo_db) as store:
-        assert len(waste.additions(store, "OA-02")) == 4  # nothing was stored
+        last = waste.additions(store, "OA-02")[-1]
+    assert (last.compound_key, last.conc_molar, last.volume_l, last.added_by) == \
+        ("HCl", 0.1, 1.5, "tester")
 
 
 async def test_each_container_offers_only_the_moves_that_apply(make, wait_for, monkeypatch):
