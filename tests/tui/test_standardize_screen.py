@@ -154,11 +154,19 @@ async def test_a_bad_line_is_named_by_number_and_value(make, wait_for):
         assert "line 2" in shown(screen, "sz-status")
         blocker = screen.record_blocker()
         assert "errors" in blocker or "no result" in blocker
+        # a bad field is named beside it, its text kept
+        await set_field(pilot, screen, "sz-assay", "abc")
+        await settled(pilot, screen, wait_for)
+        assert "✗" in shown(screen, "echo-assay") and "abc" in shown(screen, "echo-assay")
+        assert screen.query_one("#sz-assay", Input).has_class("-invalid")
+        assert screen.query_one("#sz-assay", Input).value == "abc"
         # fixed in place, the result follows
+        screen.query_one("#sz-assay", Input).value = ""
         area.text = "\n".join(lines_of(GOOD))
         await settled(pilot, screen, wait_for)
         assert screen.result is not None and screen.result.n == 3
         assert shown(screen, "echo-replicates") == ""
+        assert not screen.query_one("#sz-assay", Input).has_class("-invalid")
 
 
 async def test_what_is_not_accepted_or_stale_is_never_recorded(make, wait_for, demo_db):
