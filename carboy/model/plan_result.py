@@ -3,6 +3,19 @@
 The plan is computed by :func:`carboy.model.planner.plan_neutralization` (see that
 module for the modelling choices); front ends show it and the journal stores its
 ``to_dict()`` as computed then.  The JSON names are a public contract: keep them.
+
+The metals' names (the state the dose to the target leaves):
+
+``sludge``                 list of ``{"solid", "formula", "mol", "dry_mass_g"}``: each
+                           solid present (hydroxide, oxide or salt), in the whole batch
+``dissolved_metals_mg_l``  ``{"Zn+2": 0.27, ...}``: each modelled metal left dissolved
+                           (free ion and hydroxo complexes), mg of the metal per litre
+``metal_hydroxide_mol``    the hydroxide the metals hold (complexes, hydroxides, basic
+                           salts): their share of the dose to the target, mol
+``unmodelled_metals``      cations with no hydrolysis or solubility data (a warning
+                           names them too; their share is not in the dose)
+
+The solids present also appear in ``precipitates`` with ``"expected": true``.
 """
 
 from __future__ import annotations
@@ -13,6 +26,7 @@ import numpy as np
 
 from carboy.model.cautions import Caution
 from carboy.model.mixture import Mixture
+from carboy.model.plan_metals import SludgeItem
 from carboy.model.precipitates import Precipitate
 from carboy.model.reagents import Reagent
 from carboy.model.speciation import BatchSpeciation
@@ -104,6 +118,15 @@ class Plan:
     vented_gas_l: float = 0.0
     curve_speciation: BatchSpeciation | None = field(default=None, repr=False, compare=False)
     curve_volume_l: np.ndarray | None = field(default=None, repr=False, compare=False)
+    sludge: tuple[SludgeItem, ...] = ()
+    """The solids present at the target, in the whole batch (mol, dry mass)."""
+    dissolved_metals_mg_l: dict = field(default_factory=dict)
+    """Each modelled metal left dissolved at the target (free ion and complexes), mg/L."""
+    metal_hydroxide_mol: float = 0.0
+    """The hydroxide the metals hold at the target (complexes, hydroxides, basic salts):
+    what they take of the dose to the target, mol."""
+    unmodelled_metals: tuple[str, ...] = ()
+    """Cations of the sample with no hydrolysis or solubility data (not counted)."""
 
     def to_dict(self) -> dict:
         lo, hi = self.window_doses
@@ -138,6 +161,10 @@ class Plan:
             "curve": self.curve.tolist(),
             "equivalence_points": [e.to_dict() for e in self.equivalence_points],
             "precipitates": [p.to_dict() for p in self.precipitates],
+            "sludge": [s.to_dict() for s in self.sludge],
+            "dissolved_metals_mg_l": dict(self.dissolved_metals_mg_l),
+            "metal_hydroxide_mol": self.metal_hydroxide_mol,
+            "unmodelled_metals": list(self.unmodelled_metals),
             "cautions": [c.to_dict() for c in self.cautions],
             "drain_plan": self.drain_plan,
             "hazards": sorted(self.hazards),

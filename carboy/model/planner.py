@@ -27,13 +27,17 @@ The steps of a plan
 -------------------
 :func:`plan_neutralization` is this sequence; each step is a function of its own:
 
-1. ``_check_request``     the arguments, checked and gathered in a :class:`_Request`;
+1. ``_check_request``     the arguments, checked and gathered in a :class:`_Request`
+                          (an unknown component is an error naming it, field ``sample``);
 2. ``_start``             the sample's own pH, the direction (base or acid) and the
-                          reagent's capacity that way; a reagent that moves the pH the
-                          wrong way is refused;
-3. ``_proton_demand``     every dissociable proton: the full dose and its breakdown;
+                          reagent's capacity that way; a cyanide or sulfide waste the
+                          plan would acidify is refused (``cautions.refuse_plan``), and a
+                          reagent that moves the pH the wrong way too;
+3. ``_proton_demand``     every dissociable proton: the full dose and its breakdown (a
+                          modelled metal cation counts as its hydroxide, z OH- each);
 4. ``_find_doses``        the doses to the target and the window edges, with CO2
-                          leaving, and the curve's amounts (``dosing``);
+                          leaving and the hydroxide the metals take, and the curve's
+                          amounts (``dosing``, ``metal_doses``);
 5. ``_solve_curve``       the pH curve, in one batch solve;
 6. ``_solve_points``      every other state in one batch solve (full dose, doses,
                           stages, ±1 % of the target dose, equivalence points);
@@ -43,10 +47,21 @@ The steps of a plan
                           before venting (``thermo``, ``dosing``);
 9. ``_at_target``         the state at the target: protons still bound, saturation of
                           solids (``precipitates``);
-10. ``_warnings``         the solver's and the planner's own warnings;
-11. ``_facts``            what the caution rules look at; ``cautions.evaluate`` then
+10. ``_metals``           the sludge, the metal left dissolved, the hydroxide the metals
+                          hold and the cations without data (``plan_metals``);
+11. ``_warnings``         the solver's and the planner's own warnings;
+12. ``_facts``            what the caution rules look at; ``cautions.evaluate`` then
                           gives the cautions and ``cautions.not_for_drain`` the drain
-                          verdict.
+                          verdict;
+13. ``_waste_cautions``   the waste's own cautions (gas escaping now, ammonia, the
+                          compatibility rules its compounds break, its stream) and the
+                          drain verdict settled with them (``cautions.amend``).
+
+Metals (Zn2+, Cu2+, Pb2+, Al3+, Fe3+ ...; ``metals.toml``) are solved with the acid-base
+system at every state: hydrolysis, and hydroxide or salt precipitation decided by
+saturation.  The doses count the hydroxide they take; the plan reports the sludge
+(``sludge``), the metal left dissolved (``dissolved_metals_mg_l``) and that hydroxide
+(``metal_hydroxide_mol``), and names cations with no data (``unmodelled_metals``).
 """
 
 from __future__ import annotations
@@ -57,14 +72,16 @@ from typing import ClassVar
 
 import numpy as np
 
-from carboy.errors import InvalidInput
+from carboy.errors import HazardRefused, InvalidInput
 from carboy.model import cautions as caution_rules
 from carboy.model import gas, thermo, water
 from carboy.model.activity import check_model, davies_d, debye_huckel_scale
 from carboy.model.cautions import derived_hazards
 from carboy.model.dosing import Dosing, find_doses
 from carboy.model.equivalence import equivalence_amounts
+from carboy.model.metal_doses import MetalDoses
 from carboy.model.mixture import Mixture
+from carboy.model.plan_metals import MetalReport, metals_at_target
 from carboy.model.plan_result import Dose, EquivalencePoint, Plan, Stage
 from carboy.model.precipitates import Precipitate, saturation_indices, slurry_check
 from carboy.model.reagents import Reagent
@@ -78,7 +95,8 @@ __all__ = ["Dose", "EquivalencePoint", "Plan", "Stage", "plan_neutralization"]
 def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float = 7.0,  # noqa: N803
                         window: tuple[float, float] = (6.0, 9.0), activity: str = "davies",
                         catalog=None, hazards: frozenset[str] = frozenset(),
-                        curve_points: int = 400) -> Plan:
+                        curve_points: int = 400,
+                        waste: caution_rules.Sample | None = None) -> Plan:
     """Plan the neutralization of ``sample`` with ``reagent``.
 
     Parameters
@@ -90,13 +108,18 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     activity : ``"davies"`` or ``"ideal"``.
     hazards : hazard tags known about the sample (the store passes its additions' tags).
     curve_points : points of the pH curve (>= 20).
+    waste : what is known of the waste beyond its totals (its compounds, a container's
+        stream and material): the compatibility rules and the stream's drain verdict
+        look at it (:func:`carboy.model.cautions.amend`).
 
     Raises
     ------
-    InvalidInput for a bad target, window, volume or a reagent of the wrong direction.
+    InvalidInput for a bad target, window, volume, an unknown component (field
+    ``sample``) or a reagent of the wrong direction; HazardRefused for a cyanide or
+    sulfide waste the plan would acidify (:func:`carboy.model.cautions.refuse_plan`).
     """
     req = _check_request(sample, reagent, target_pH, window, activity, catalog, hazards,
-                         curve_points)
+                         curve_points, waste)
     start = _start(req)
     demand = _proton_demand(req, start)
     dosing = _find_doses(req, start, demand)
@@ -105,9 +128,11 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     doses = _dose_results(req, dosing, pts, demand.n_full)
     heat = _heat_and_gas(req, dosing, pts, curve_res, curve_vol)
     bound, precipitates = _at_target(req, pts)
-    warnings = heat.warnings + _warnings(req, dosing, pts, doses)
+    metals = _metals(req, pts, precipitates)
+    precipitates = metals.precipitates
+    warnings = heat.warnings + _warnings(req, dosing, pts, doses) + list(metals.warnings)
     facts = _facts(req, start, dosing, pts, doses, heat, precipitates)
-    return Plan(
+    plan = Plan(
         sample=sample, reagent=reagent, direction=start.direction, activity=activity,
         initial_pH=start.initial_pH, proton_equivalents_mol=float(demand.proton_eq),
         breakdown=demand.breakdown, full=doses.full, to_target=doses.to_target,
@@ -121,8 +146,12 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
         equivalence_points=doses.equivalence, precipitates=precipitates,
         cautions=caution_rules.evaluate(facts), warnings=tuple(warnings),
         hazards=facts.hazards, drain_plan=not caution_rules.not_for_drain(facts),
-        assumptions=heat.assumptions, curve_speciation=curve_res, curve_volume_l=curve_vol,
+        assumptions=heat.assumptions + metals.assumptions, curve_speciation=curve_res,
+        curve_volume_l=curve_vol, sludge=metals.sludge,
+        dissolved_metals_mg_l=metals.dissolved_mg_l,
+        metal_hydroxide_mol=metals.hydroxide_mol, unmodelled_metals=metals.unmodelled,
     )
+    return _waste_cautions(req, plan)
 
 
 # ----------------------------------------------------------------------------- the steps
@@ -139,6 +168,7 @@ class _Request:
     window: tuple[float, float]
     hazards: frozenset[str]
     curve_points: int
+    waste: caution_rules.Sample | None = None
 
     @property
     def temperature_c(self) -> float:
@@ -157,7 +187,7 @@ def _check_ph(what: str, value, field: str) -> float:
 
 
 def _check_request(sample: Mixture, reagent: Reagent, target_ph, window, activity: str,
-                   catalog, hazards, curve_points) -> _Request:
+                   catalog, hazards, curve_points, waste=None) -> _Request:
     """Step 1: the arguments of :func:`plan_neutralization`, checked (InvalidInput
     naming the bad one), with the built-in catalog where none is given."""
     if catalog is None:
@@ -176,6 +206,11 @@ def _check_request(sample: Mixture, reagent: Reagent, target_ph, window, activit
         raise InvalidInput("window", window, "the low pH must be below the high pH",
                            field="window")
     check_model(activity)
+    unknown = sorted(k for k in sample.totals
+                     if k not in catalog.systems and k not in catalog.ions)
+    if unknown:
+        raise InvalidInput("sample", ", ".join(unknown), "the catalog knows no such acid–base "
+                           "system, ion, metal or salt", field="sample")
     if sample.volume_l is None:
         raise InvalidInput("sample volume", None, "a plan needs the sample's volume",
                            field="volume")
@@ -186,7 +221,7 @@ def _check_request(sample: Mixture, reagent: Reagent, target_ph, window, activit
         raise InvalidInput("curve points", curve_points, "need at least 20")
     water.check_temperature(sample.temperature_c)
     return _Request(sample, reagent, catalog, activity, target, (lo_w, hi_w),
-                    frozenset(hazards), int(curve_points))
+                    frozenset(hazards), int(curve_points), waste)
 
 
 @dataclass(frozen=True)
@@ -207,6 +242,10 @@ def _start(req: _Request) -> _Start:
                                reagent.l_per_mol, activity=req.activity, catalog=req.catalog)
     initial_pH = float(model.forward([0.0]).pH[0])
     direction = "base" if initial_pH < target else "acid"
+    refused = caution_rules.refuse_plan(req.sample.totals, req.hazards, initial_pH, target,
+                                        direction)
+    if refused:
+        raise HazardRefused("a neutralization plan", refused)
     capacity = reagent.base_capacity if direction == "base" else reagent.acid_capacity
     own = gas.TitrationModel(Mixture.from_compounds(
         [(reagent.compound, reagent.conc_molar or 1.0)], volume_l=1.0,
@@ -250,11 +289,18 @@ def _proton_demand(req: _Request, start: _Start) -> _Demand:
 
 
 def _charge_parts(sample: Mixture, catalog, which: str) -> dict:
-    """Per-key contribution to Σ z n (ions) or n·top/bottom charge (systems), mol."""
+    """Per-key contribution to Σ z n (ions) or n·top/bottom charge (systems), mol.
+
+    Towards base a modelled metal cation counts as its hydroxide (z OH- per ion, the
+    neutral form that settles): it takes no part, where a spectator cation counts as
+    base already present."""
     out = {}
     v = sample.volume_l
+    metals = MetalDoses.of(tuple(sample.totals), catalog) if which == "bottom" else None
     for key, c in sample.totals.items():
         n = c * v
+        if metals is not None and key in metals.keys:
+            continue
         if key in catalog.ions:
             out[key] = catalog.ions[key].charge * n
         else:
@@ -471,8 +517,17 @@ def _at_target(req: _Request, pts: _Points) -> tuple[dict, tuple[Precipitate, ..
     return bound, found
 
 
+def _metals(req: _Request, pts: _Points, found: tuple[Precipitate, ...]) -> MetalReport:
+    """Step 10: at the target state, the sludge, the metal left dissolved and the
+    hydroxide the metals hold; the solids present join the saturation list; cations
+    with no metal data are named (see :mod:`carboy.model.plan_metals`)."""
+    i_tp = pts.TARGET
+    return metals_at_target(pts.res, i_tp, float(pts.volume_l[i_tp]), req.sample.totals,
+                            req.catalog, found)
+
+
 def _warnings(req: _Request, dosing: Dosing, pts: _Points, doses: _Doses) -> list[str]:
-    """Step 10: the solver's warnings at the target state, doses that cannot be reached,
+    """Step 11: the solver's warnings at the target state, doses that cannot be reached,
     and a dose to target whose re-solved pH misses the target."""
     key, target = req.reagent.key, req.target
     warnings = list(dict.fromkeys(pts.res.warnings[pts.TARGET]))
@@ -491,7 +546,7 @@ def _warnings(req: _Request, dosing: Dosing, pts: _Points, doses: _Doses) -> lis
 
 def _facts(req: _Request, start: _Start, dosing: Dosing, pts: _Points, doses: _Doses,
            heat: _Heat, precipitates: tuple[Precipitate, ...]) -> caution_rules.Facts:
-    """Step 11: what the caution rules look at, from the request and every step."""
+    """Step 12: what the caution rules look at, from the request and every step."""
     reagent = req.reagent
     slurry_limit, slurry_exceeded = "", False
     if reagent.is_slurry:
@@ -513,3 +568,10 @@ def _facts(req: _Request, start: _Start, dosing: Dosing, pts: _Points, doses: _D
         expected_solids=tuple(p.solid for p in precipitates if p.expected),
         target_reached=dosing.target_reached,
         thresholds=dict(thermo.planning_constants()["thresholds"]))
+
+
+def _waste_cautions(req: _Request, plan: Plan) -> Plan:
+    """Step 13: the plan with the waste's own cautions and the drain verdict settled by
+    them (:func:`carboy.model.cautions.amend`: gas escaping now, ammonia driven off,
+    the compatibility rules its compounds break, a container's stream)."""
+    return caution_rules.amend(plan, req.waste, catalog=req.catalog)
