@@ -22,9 +22,10 @@ and less of it precipitates as x rises: ``POS - NEG`` still rises with x.
 Derivatives.  Each state carries the derivatives of the charges and of Σ c z² with
 respect to x and to A·D (the solver's Newton steps on x and the ionic strength), in
 closed form: where a salt precipitates, the free cation's own derivative follows from
-the mass balance by implicit differentiation, at the ligands' fractions as given (their
-own x-dependence is the solver's).  Sums are weighted sums (``einsum``), never matrix
-products: the solver calls this at every step and uses no BLAS.
+the mass balance by implicit differentiation, with the ligand's fractions moving as an
+acid-base ladder's do (the ``alpha`` given must be the ladder's fractions at x and A·D,
+as the solver's are).  Sums are weighted sums (``einsum``), never matrix products: the
+solver calls this at every step and uses no BLAS.
 
 Activity: ``ad`` is A·D(I) of the Davies equation (log10 gamma_z = -ad z²; 0 = ideal),
 as in ``speciation.py``.  The constants are for 25 °C; there is no temperature
@@ -303,14 +304,27 @@ def _record(acc, m: Metal, conc, dissolved, solid, si) -> None:
 class _Salt:
     """One salt in the dose at the trial points: a cations, b ligands, c OH-, and the
     log10 of its ligand's saturation level less the cation's share, ``lsat0`` (N,):
-    log10(dissolved ligand at saturation) = lsat0 - (a / b) u, u = log10[cation]."""
+    log10(dissolved ligand at saturation) = lsat0 - (a / b) u, u = log10[cation];
+    ``gx`` and ``ga`` are the derivatives of ``lsat0`` by x and by A·D."""
 
     solid: LigandSolid
     ligand: LigandAtX
     total: np.ndarray
     lsat0: np.ndarray
     k: float               # a / b
-    zl2: float             # z² of the ligand state the product names
+    gx: np.ndarray
+    ga: np.ndarray
+
+
+def _ladder_moments(lig: LigandAtX) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """(j, c, jbar, cbar): each state's protons lost from the top and its activity term
+    (log10 of the state's weight carries -j x - 2 A·D c), and their means at the points.
+    The fractions move with x and A·D as d alpha_j = -ln10 alpha_j ((j - jbar) dx
+    + 2 (c_j - cbar) d(A·D))."""
+    q = np.array(lig.charges, dtype=float)
+    j = np.arange(q.shape[0], dtype=float)
+    c = 0.5 * (q[0] ** 2 - q * q) - 0.5 * j
+    return j, c, np.einsum("nm,m->n", lig.alpha, j), np.einsum("nm,m->n", lig.alpha, c)
 
 
 def _salts_at(m: Metal, dosed, ligands, ad, log_oh_act) -> list[_Salt]:
@@ -320,10 +334,13 @@ def _salts_at(m: Metal, dosed, ligands, ad, log_oh_act) -> list[_Salt]:
         zl = lig.charges[s.ligand_index]
         with np.errstate(divide="ignore"):
             lf = np.log10(lig.alpha[:, s.ligand_index]) - ad * zl * zl
-        lsat0 = ((s.log_ksp + s.cation_count * ad * m.charge**2 - s.oh_count * log_oh_act)
-                 / s.ligand_count - lf)
-        out.append(_Salt(s, lig, lig.total_molar, lsat0, s.cation_count / s.ligand_count,
-                         float(zl * zl)))
+        a, b = s.cation_count, s.ligand_count
+        lsat0 = (s.log_ksp + a * ad * m.charge**2 - s.oh_count * log_oh_act) / b - lf
+        j, c, jbar, cbar = _ladder_moments(lig)
+        jl, cl = j[s.ligand_index], c[s.ligand_index]
+        gx = s.oh_count / b + (jl - jbar)
+        ga = (a * m.charge**2 - s.oh_count) / b + zl * zl + 2.0 * (cl - cbar)
+        out.append(_Salt(s, lig, lig.total_molar, lsat0, a / b, gx, ga))
     return out
 
 
@@ -423,51 +440,52 @@ def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, dosed, ligands) -> None:
 def _salt_slopes(m: Metal, conc, dissolved, capped, at, frees):
     """d u/dx and d u/d(A·D) of the free cation (u = log10 of it), and each salt's
     d(amount)/dx and d(amount)/d(A·D), by implicit differentiation of the mass balance
-    dissolved + Σ a·amount = total at fixed ligand fractions (the hydroxide, where
-    present, fixes u itself)."""
+    dissolved + Σ a·amount = total (the hydroxide, where present, fixes u itself)."""
     n, q, _ = m.arrays
     z = float(m.charge)
     tiny = np.finfo(float).tiny
     nbar = _weighted(conc, n) / np.maximum(dissolved, tiny)
     wbar = _weighted(conc, n + q * q - z * z) / np.maximum(dissolved, tiny)
-    # d log10(dissolved ligand at saturation) = -k du + g: g by x and by A·D, per salt
-    gx = [s.solid.oh_count / s.solid.ligand_count for s in at]
-    ga = [(s.solid.cation_count * z * z - s.solid.oh_count) / s.solid.ligand_count + s.zl2
-          for s in at]
+    # d log10(dissolved ligand at saturation) = -k du + g (g by x and by A·D, per salt)
     den, num_x, num_a = dissolved.copy(), dissolved * nbar, -dissolved * wbar
-    for s, (free, present), g_x, g_a in zip(at, frees, gx, ga, strict=True):
+    for s, (free, present) in zip(at, frees, strict=True):
         a, b = s.solid.cation_count, s.solid.ligand_count
         held = np.where(present, free, 0.0)
         den = den + a * s.k * held / b
-        num_x = num_x + a * held * g_x / b
-        num_a = num_a + a * held * g_a / b
+        num_x = num_x + a * held * s.gx / b
+        num_a = num_a + a * held * s.ga / b
     with np.errstate(divide="ignore", invalid="ignore"):
         du_x = np.where(capped, z, np.where(den > 0, num_x / den, 0.0))
         du_a = np.where(capped, z * z - z, np.where(den > 0, num_a / den, 0.0))
     dp_x, dp_a = [], []
-    for s, (free, present), g_x, g_a in zip(at, frees, gx, ga, strict=True):
+    for s, (free, present) in zip(at, frees, strict=True):
         held = np.where(present, free, 0.0) * LN10 / s.solid.ligand_count
-        dp_x.append(-held * (g_x - s.k * du_x))
-        dp_a.append(-held * (g_a - s.k * du_a))
+        dp_x.append(-held * (s.gx - s.k * du_x))
+        dp_a.append(-held * (s.ga - s.k * du_a))
     return du_x, du_a, dp_x, dp_a
 
 
 def _ligand_terms(at, amounts, dp_x, dp_a) -> dict:
     """The ligand systems' corrections (charge and c z² held in salts, <= 0) and their
-    derivatives, at the ligands' fractions as given."""
+    derivatives (the amounts' and the held states' shares' own)."""
     out = dict.fromkeys(("pos", "neg", "iz2", "dpos", "dneg", "diz2", "apos", "aneg",
                          "aiz2"), 0.0)
     removed: dict[str, np.ndarray] = {}
     for s, p, px, pa in zip(at, amounts, dp_x, dp_a, strict=True):
         lig, b = s.ligand, s.solid.ligand_count
         qs = np.array(lig.charges, dtype=float)
+        j, c, jbar, cbar = _ladder_moments(lig)
+        dev_j = lig.alpha * (j[None, :] - jbar[:, None])
+        dev_c = lig.alpha * (c[None, :] - cbar[:, None])
         removed[s.solid.ligand_system] = removed.get(s.solid.ligand_system, 0.0) + b * p
         for name, wt in (("pos", np.maximum(qs, 0)), ("neg", np.maximum(-qs, 0)),
                          ("iz2", qs * qs)):
             mean = np.einsum("nm,m->n", lig.alpha, wt)
+            mean_x = -LN10 * np.einsum("nm,m->n", dev_j, wt)
+            mean_a = -2.0 * LN10 * np.einsum("nm,m->n", dev_c, wt)
             out[name] = out[name] - b * p * mean
-            out[f"d{name}"] = out[f"d{name}"] - b * px * mean
-            out[f"a{name}"] = out[f"a{name}"] - b * pa * mean
+            out[f"d{name}"] = out[f"d{name}"] - b * (px * mean + p * mean_x)
+            out[f"a{name}"] = out[f"a{name}"] - b * (pa * mean + p * mean_a)
     out["removed"] = removed
     return out
 

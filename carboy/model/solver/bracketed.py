@@ -3,7 +3,10 @@
 At a fixed ionic strength the charge balance F(x) is strictly increasing and its
 root lies inside a bracket computed from the totals alone (widened step by step when
 a state is held fixed), so a Newton iteration that falls back to bisection whenever
-a step leaves the bracket cannot miss it (:func:`root`).  Around it, the ionic
+a step leaves the bracket cannot miss it (:func:`root`); a step that is not half the
+one two steps before is a bisection too, so that Newton cannot cycle about a kink
+(where a metal's solid appears, F's slope jumps) and every point settles in a bounded
+number of steps.  Around it, the ionic
 strength is iterated to self-consistency by secant steps with a fixed-point fallback
 (:func:`solve_nested`).  Slower than the coupled fast path; it takes the points that
 path leaves unsettled.
@@ -43,6 +46,9 @@ def root(x0, ad, log_kw, pr: Problem):
     done = np.zeros(x.shape, dtype=bool)
     gi = np.zeros(x.shape)
     act = np.arange(x.shape[0])
+    # the last two steps of each point: a Newton step that is not half the one two steps
+    # before becomes a bisection (Newton can cycle about a kink, where a solid appears)
+    last = np.full((2, x.shape[0]), np.inf)
     for _ in range(MAX_ROOT_ITER):
         xa = x[act]
         sums, d_x, _, _ = moments(xa, None if pr.a_dh == 0.0 else ad[act], log_kw[act], lay,
@@ -54,8 +60,10 @@ def root(x0, ad, log_kw, pr: Problem):
         la = np.where(big_f < 0, xa, lo[act])
         ha = np.where(big_f > 0, xa, hi[act])
         xn = xa - big_f / fp
-        out = ~((xn >= la) & (xn <= ha))
+        small = np.abs(xn - xa) < X_TOL
+        out = (~((xn >= la) & (xn <= ha)) | (np.abs(xn - xa) > 0.5 * last[0, act])) & ~small
         xn = np.where(out, 0.5 * (la + ha), xn)
+        last[0, act], last[1, act] = last[1, act], np.abs(xn - xa)
         fin = (np.abs(xn - xa) < X_TOL) | (np.abs(big_f) < F_TOL) | ((ha - la) < X_TOL)
         x[act] = np.where(big_f == 0, xa, xn)
         lo[act], hi[act] = la, ha
