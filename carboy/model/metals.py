@@ -42,6 +42,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
+from functools import lru_cache
 from types import MappingProxyType
 
 import numpy as np
@@ -301,84 +302,106 @@ def _record(acc, m: Metal, conc, dissolved, solid, si) -> None:
 
 
 @dataclass(frozen=True)
-class _Salt:
-    """One salt in the dose at the trial points: a cations, b ligands, c OH-, and the
-    log10 of its ligand's saturation level less the cation's share, ``lsat0`` (N,):
-    log10(dissolved ligand at saturation) = lsat0 - (a / b) u, u = log10[cation];
-    ``gx`` and ``ga`` are the derivatives of ``lsat0`` by x and by A·D."""
+class _Salts:
+    """The salts of one cation in the dose at the trial points, stacked (P salts, N
+    points): a cations and b ligands each (``ab`` = a/b, ``k`` = a/b too: the slope of
+    the saturation level in u), the ligand's total, and ``lsat0`` with
+    log10(dissolved ligand at saturation) = lsat0 - k u, u = log10[cation]; ``gx`` and
+    ``ga`` are the derivatives of ``lsat0`` by x and by A·D.  ``ladders`` holds each
+    ligand's (j, c, jbar, cbar) (see :func:`_ladder_moments`)."""
 
-    solid: LigandSolid
-    ligand: LigandAtX
-    total: np.ndarray
-    lsat0: np.ndarray
-    k: float               # a / b
-    gx: np.ndarray
-    ga: np.ndarray
+    solids: tuple[LigandSolid, ...]
+    ligands: tuple[LigandAtX, ...]
+    ladders: tuple
+    a: np.ndarray          # (P, 1)
+    b: np.ndarray          # (P, 1)
+    k: np.ndarray          # (P, 1)
+    total: np.ndarray      # (P, N)
+    lsat0: np.ndarray      # (P, N)
+    gx: np.ndarray         # (P, N)
+    ga: np.ndarray         # (P, N)
+
+
+@lru_cache(maxsize=64)
+def _ladder(charges: tuple[int, ...]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(j, c, weights) of a ladder of ``charges``: each state's protons lost from the top,
+    its activity term (log10 of the state's weight carries -j x - 2 A·D c) and its
+    (M, 3) positive charge, negative charge and z²."""
+    q = np.array(charges, dtype=float)
+    j = np.arange(q.shape[0], dtype=float)
+    c = 0.5 * (q[0] ** 2 - q * q) - 0.5 * j
+    return j, c, np.stack([np.maximum(q, 0), np.maximum(-q, 0), q * q], axis=1)
 
 
 def _ladder_moments(lig: LigandAtX) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """(j, c, jbar, cbar): each state's protons lost from the top and its activity term
-    (log10 of the state's weight carries -j x - 2 A·D c), and their means at the points.
+    """(j, c, jbar, cbar): see :func:`_ladder`, with the means of j and c at the points.
     The fractions move with x and A·D as d alpha_j = -ln10 alpha_j ((j - jbar) dx
     + 2 (c_j - cbar) d(A·D))."""
-    q = np.array(lig.charges, dtype=float)
-    j = np.arange(q.shape[0], dtype=float)
-    c = 0.5 * (q[0] ** 2 - q * q) - 0.5 * j
-    return j, c, np.einsum("nm,m->n", lig.alpha, j), np.einsum("nm,m->n", lig.alpha, c)
+    j, c, _ = _ladder(tuple(lig.charges))
+    jc = np.einsum("nm,mk->kn", lig.alpha, np.stack([j, c], axis=1))
+    return j, c, jc[0], jc[1]
 
 
-def _salts_at(m: Metal, dosed, ligands, ad, log_oh_act) -> list[_Salt]:
-    out = []
+def _salts_at(m: Metal, dosed, ligands, ad, log_oh_act) -> _Salts:
+    rows = {k: [] for k in ("lsat0", "gx", "ga", "total")}
+    ligs, ladders = [], []
     for s in dosed:
         lig = ligands[s.ligand_system]
         zl = lig.charges[s.ligand_index]
         with np.errstate(divide="ignore"):
             lf = np.log10(lig.alpha[:, s.ligand_index]) - ad * zl * zl
         a, b = s.cation_count, s.ligand_count
-        lsat0 = (s.log_ksp + a * ad * m.charge**2 - s.oh_count * log_oh_act) / b - lf
-        j, c, jbar, cbar = _ladder_moments(lig)
-        jl, cl = j[s.ligand_index], c[s.ligand_index]
-        gx = s.oh_count / b + (jl - jbar)
-        ga = (a * m.charge**2 - s.oh_count) / b + zl * zl + 2.0 * (cl - cbar)
-        out.append(_Salt(s, lig, lig.total_molar, lsat0, a / b, gx, ga))
-    return out
+        ladder = _ladder_moments(lig)
+        j, c, jbar, cbar = ladder
+        rows["lsat0"].append((s.log_ksp + a * ad * m.charge**2 - s.oh_count * log_oh_act) / b
+                             - lf)
+        rows["gx"].append(s.oh_count / b + (j[s.ligand_index] - jbar))
+        rows["ga"].append((a * m.charge**2 - s.oh_count) / b + zl * zl
+                          + 2.0 * (c[s.ligand_index] - cbar))
+        rows["total"].append(lig.total_molar)
+        ligs.append(lig)
+        ladders.append(ladder)
+    a = np.array([[s.cation_count] for s in dosed], dtype=float)
+    b = np.array([[s.ligand_count] for s in dosed], dtype=float)
+    return _Salts(tuple(dosed), tuple(ligs), tuple(ladders), a, b, a / b,
+                  **{k: np.array(v) for k, v in rows.items()})
 
 
-def _free_ligand(salt: _Salt, u: np.ndarray, idx=slice(None)) -> tuple[np.ndarray, np.ndarray]:
-    """(dissolved ligand, True where the salt is present) at log10[cation] = u (of the
-    points ``idx``)."""
-    sat = np.exp(LN10 * np.minimum(salt.lsat0[idx] - salt.k * u, 300.0))
-    total = salt.total[idx]
+def _free_ligand(lsat0, k, total, u) -> tuple[np.ndarray, np.ndarray]:
+    """(dissolved ligand, True where the salt is present) of each salt (P, n) at
+    log10[cation] = u (n,), from its saturation level and total (P, n)."""
+    sat = np.exp(LN10 * np.minimum(lsat0 - k * u, 300.0))
     present = sat < total
     return np.where(present, sat, total), present
 
 
-def _excess(u, log_s, c, salts, idx=slice(None)):
-    """Dissolved plus held in salts, less the total, and its u-derivative / ln 10 (at
-    the points ``idx``)."""
+def _excess(u, log_s, c, k, lsat0, total):
+    """Dissolved plus held in salts, less the total, and its u-derivative / ln 10."""
     dissolved = np.exp(LN10 * (u + log_s))
-    excess, slope = dissolved - c, dissolved.copy()
-    for salt in salts:
-        free, present = _free_ligand(salt, u, idx)
-        a, b = salt.solid.cation_count, salt.solid.ligand_count
-        excess += a * (salt.total[idx] - free) / b
-        slope += np.where(present, a * salt.k * free / b, 0.0)
-    return excess, slope
+    free, present = _free_ligand(lsat0, k, total, u)
+    held = (k * (total - free)).sum(axis=0)            # a/b per ligand taken
+    slope = (k * k * np.where(present, free, 0.0)).sum(axis=0)
+    return dissolved + held - c, dissolved + slope
 
 
-def _solve_free_cation(c, log_s, salts) -> np.ndarray:
+def _solve_free_cation(c, log_s, salts: _Salts) -> np.ndarray:
     """log10 of the free cation where dissolved + salts = total: safeguarded Newton (a
     bisection where a step leaves the bracket) at the points where some salt is present
     at the unsaturated level, the others keep that level."""
     with np.errstate(divide="ignore"):
         u = np.log10(c) - log_s
-    e, slope = _excess(u, log_s, c, salts)
+    k = salts.k
+    e, slope = _excess(u, log_s, c, k, salts.lsat0, salts.total)
     idx = np.flatnonzero(e > 0)
-    hi, lo = u[idx], u[idx] - LIGAND_SPAN
-    ua, ea, sa, ca, ls = hi.copy(), e[idx], slope[idx], c[idx], log_s[idx]
+    if idx.size == 0:
+        return u
+    whole = idx.size == u.size
+    hi = u[idx]
+    lo, ua, ea, sa = hi - LIGAND_SPAN, hi.copy(), e[idx], slope[idx]
+    ca, ls = (c, log_s) if whole else (c[idx], log_s[idx])
+    lsat0, total = ((salts.lsat0, salts.total) if whole
+                    else (salts.lsat0[:, idx], salts.total[:, idx]))
     for _ in range(LIGAND_STEPS):
-        if idx.size == 0:
-            break
         step = -ea / (LN10 * sa)
         small = np.abs(step) < LIGAND_TOL   # converged (the bracket may sit on u itself)
         nxt = ua + step
@@ -386,11 +409,14 @@ def _solve_free_cation(c, log_s, salts) -> np.ndarray:
         nxt = np.where(out, 0.5 * (lo + hi), nxt)
         fin = small | (np.abs(nxt - ua) < LIGAND_TOL) | (hi - lo < LIGAND_TOL)
         u[idx] = nxt
-        keep = ~fin
-        if not keep.any():
+        if fin.all():
             break
-        idx, nxt, lo, hi, ca, ls = idx[keep], nxt[keep], lo[keep], hi[keep], ca[keep], ls[keep]
-        ea, sa = _excess(nxt, ls, ca, salts, idx)
+        if fin.any():
+            keep = ~fin
+            idx, nxt, lo, hi, ca, ls = (idx[keep], nxt[keep], lo[keep], hi[keep], ca[keep],
+                                        ls[keep])
+            lsat0, total = lsat0[:, keep], total[:, keep]
+        ea, sa = _excess(nxt, ls, ca, k, lsat0, total)
         hi = np.where(ea >= 0, nxt, hi)
         lo = np.where(ea < 0, nxt, lo)
         ua = nxt
@@ -410,82 +436,73 @@ def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, dosed, ligands) -> None:
     u = np.where(c > 0, np.minimum(u, log_free_sat), -np.inf)
     conc = np.exp(LN10 * (u[:, None] + r))
     with np.errstate(over="ignore", invalid="ignore"):
-        frees = [_free_ligand(s, u) for s in at]
-    amounts = [np.where(c > 0, (s.total - f) / s.solid.ligand_count, 0.0)
-               for s, (f, _) in zip(at, frees, strict=True)]
-    held = sum((s.solid.cation_count * p for s, p in zip(at, amounts, strict=True)), 0.0)
+        free, present = _free_ligand(at.lsat0, at.k, at.total, u)
+    amounts = np.where(c > 0, (at.total - free) / at.b, 0.0)       # (P, N)
     dissolved = conc.sum(axis=1)
-    hydroxide = np.where(capped, np.maximum(c - dissolved - held, 0.0), 0.0)
-    du_x, du_a, dp_x, dp_a = _salt_slopes(m, conc, dissolved, capped, at, frees)
+    hydroxide = np.where(capped, np.maximum(c - dissolved - (at.a * amounts).sum(axis=0),
+                                            0.0), 0.0)
+    du_x, du_a, dp_x, dp_a = _salt_slopes(m, conc, dissolved, capped, at,
+                                          np.where(present, free, 0.0))
     w = n + q * q - m.charge**2
     terms = _species_terms(m, conc, du_x[:, None] - n, du_a[:, None] + w)
     lig = _ligand_terms(at, amounts, dp_x, dp_a)
     for k in ("pos", "neg", "iz2"):
         terms[f"d{k}"] = terms[f"d{k}"] + lig[f"d{k}"]
         terms[f"a{k}"] = terms[f"a{k}"] + lig[f"a{k}"]
-    oh_salts = sum((s.solid.oh_count * p for s, p in zip(at, amounts, strict=True)), 0.0)
-    terms["oh_bound"] = terms["oh_bound"] + m.charge * hydroxide + oh_salts
+    oh = np.array([[s.oh_count] for s in at.solids], dtype=float)
+    terms["oh_bound"] = terms["oh_bound"] + m.charge * hydroxide + (oh * amounts).sum(axis=0)
     acc.add(**terms, ligand_pos=lig["pos"], ligand_neg=lig["neg"], ligand_iz2=lig["iz2"])
     if not acc.detail:
         return
     for system, arr in lig["removed"].items():
         acc.removed[system] = acc.removed.get(system, 0.0) + arr
     _record(acc, m, conc, dissolved, hydroxide, u - log_free_sat)
-    for s, p in zip(at, amounts, strict=True):
-        acc.precipitated[s.solid.name] = p
+    for s, p in zip(at.solids, amounts, strict=True):
+        acc.precipitated[s.name] = p
     for s in salts:
         acc.si[s.name] = _salt_si(s, m, u, ligands, lig["removed"], log_oh_act, ad)
 
 
-def _salt_slopes(m: Metal, conc, dissolved, capped, at, frees):
+def _salt_slopes(m: Metal, conc, dissolved, capped, at: _Salts, held):
     """d u/dx and d u/d(A·D) of the free cation (u = log10 of it), and each salt's
-    d(amount)/dx and d(amount)/d(A·D), by implicit differentiation of the mass balance
-    dissolved + Σ a·amount = total (the hydroxide, where present, fixes u itself)."""
+    d(amount)/dx and d(amount)/d(A·D) (P, N), by implicit differentiation of the mass
+    balance dissolved + Σ a·amount = total (the hydroxide, where present, fixes u
+    itself); ``held`` is each salt's dissolved ligand where it is present, else 0."""
     n, q, _ = m.arrays
     z = float(m.charge)
     tiny = np.finfo(float).tiny
     nbar = _weighted(conc, n) / np.maximum(dissolved, tiny)
     wbar = _weighted(conc, n + q * q - z * z) / np.maximum(dissolved, tiny)
     # d log10(dissolved ligand at saturation) = -k du + g (g by x and by A·D, per salt)
-    den, num_x, num_a = dissolved.copy(), dissolved * nbar, -dissolved * wbar
-    for s, (free, present) in zip(at, frees, strict=True):
-        a, b = s.solid.cation_count, s.solid.ligand_count
-        held = np.where(present, free, 0.0)
-        den = den + a * s.k * held / b
-        num_x = num_x + a * held * s.gx / b
-        num_a = num_a + a * held * s.ga / b
+    den = dissolved + (at.k * at.k * held).sum(axis=0)
+    num_x = dissolved * nbar + (at.k * held * at.gx).sum(axis=0)
+    num_a = -dissolved * wbar + (at.k * held * at.ga).sum(axis=0)
     with np.errstate(divide="ignore", invalid="ignore"):
         du_x = np.where(capped, z, np.where(den > 0, num_x / den, 0.0))
         du_a = np.where(capped, z * z - z, np.where(den > 0, num_a / den, 0.0))
-    dp_x, dp_a = [], []
-    for s, (free, present) in zip(at, frees, strict=True):
-        held = np.where(present, free, 0.0) * LN10 / s.solid.ligand_count
-        dp_x.append(-held * (s.gx - s.k * du_x))
-        dp_a.append(-held * (s.ga - s.k * du_a))
-    return du_x, du_a, dp_x, dp_a
+    scale = -held * LN10 / at.b
+    return du_x, du_a, scale * (at.gx - at.k * du_x), scale * (at.ga - at.k * du_a)
 
 
-def _ligand_terms(at, amounts, dp_x, dp_a) -> dict:
+def _ligand_terms(at: _Salts, amounts, dp_x, dp_a) -> dict:
     """The ligand systems' corrections (charge and c z² held in salts, <= 0) and their
     derivatives (the amounts' and the held states' shares' own)."""
     out = dict.fromkeys(("pos", "neg", "iz2", "dpos", "dneg", "diz2", "apos", "aneg",
                          "aiz2"), 0.0)
     removed: dict[str, np.ndarray] = {}
-    for s, p, px, pa in zip(at, amounts, dp_x, dp_a, strict=True):
-        lig, b = s.ligand, s.solid.ligand_count
-        qs = np.array(lig.charges, dtype=float)
-        j, c, jbar, cbar = _ladder_moments(lig)
-        dev_j = lig.alpha * (j[None, :] - jbar[:, None])
-        dev_c = lig.alpha * (c[None, :] - cbar[:, None])
-        removed[s.solid.ligand_system] = removed.get(s.solid.ligand_system, 0.0) + b * p
-        for name, wt in (("pos", np.maximum(qs, 0)), ("neg", np.maximum(-qs, 0)),
-                         ("iz2", qs * qs)):
-            mean = np.einsum("nm,m->n", lig.alpha, wt)
-            mean_x = -LN10 * np.einsum("nm,m->n", dev_j, wt)
-            mean_a = -2.0 * LN10 * np.einsum("nm,m->n", dev_c, wt)
-            out[name] = out[name] - b * p * mean
-            out[f"d{name}"] = out[f"d{name}"] - b * (px * mean + p * mean_x)
-            out[f"a{name}"] = out[f"a{name}"] - b * (pa * mean + p * mean_a)
+    for i, (s, lig, (j, c, jbar, cbar)) in enumerate(zip(at.solids, at.ligands, at.ladders,
+                                                          strict=True)):
+        b, p, px, pa = s.ligand_count, amounts[i], dp_x[i], dp_a[i]
+        removed[s.ligand_system] = removed.get(s.ligand_system, 0.0) + b * p
+        alpha = lig.alpha
+        # the mean of each weight, and its x- and A·D-derivatives (the fractions move)
+        stacked = np.stack([alpha, -LN10 * alpha * (j[None, :] - jbar[:, None]),
+                            -2.0 * LN10 * alpha * (c[None, :] - cbar[:, None])])
+        mean, mean_x, mean_a = np.einsum("knm,mw->kwn", stacked, _ladder(tuple(lig.charges))[2])
+        for row, name in enumerate(("pos", "neg", "iz2")):
+            out[name] = out[name] - b * p * mean[row]
+            out[f"d{name}"] = out[f"d{name}"] - b * (px * mean[row] + p * mean_x[row])
+            out[f"a{name}"] = out[f"a{name}"] - b * (pa * mean[row] + p * mean_a[row])
     out["removed"] = removed
     return out
 

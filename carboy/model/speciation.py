@@ -410,6 +410,14 @@ def _solve_points(pr: Problem, start=None):
     if fast is not None:
         x, ionic = np.array([fast[0]]), np.array([fast[1]])
         ok, iterations = np.array([True]), fast[2]
+    elif pr.lay.metals is not None:
+        # metals: straight to the guaranteed path (kinks where solids appear make the
+        # coupled iteration slow), from the starts where given
+        x, ionic = np.full(n, -7.0), pr.ispec + 1e-7
+        if start is not None:
+            given = np.isfinite(start[0]) & np.isfinite(start[1])
+            x, ionic = np.where(given, start[0], x), np.where(given, start[1], ionic)
+        ok, iterations = np.zeros(n, dtype=bool), 0
     else:
         x0, i0 = (None, None) if start is None else start
         x, ionic, ok, iterations = solve_warm(pr, max_iter=COUPLED_ITER, x0=x0, i0=i0)
