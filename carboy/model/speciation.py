@@ -64,7 +64,7 @@ from carboy.model.activity import (
 )
 from carboy.model.activity import davies_d as _davies_d  # noqa: F401 (tests use the old name)
 from carboy.model.mixture import Mixture, MixtureBatch
-from carboy.model.solver.bracketed import solve_nested
+from carboy.model.solver.bracketed import solve_nested, solve_with_metals
 from carboy.model.solver.charge_balance import fractions_at, padded_fractions, species_at
 from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
     COUPLED_ITER,
@@ -401,8 +401,11 @@ def _solve_points(pr: Problem, start=None):
     several through the vectorized one, warm-started along the batch (or from
     ``start``, a pair of arrays (log10[H+], I)); points the fast paths leave unsettled
     go to the guaranteed path.  The fast paths get ``COUPLED_ITER`` from this module.
+    With metals, see :func:`~carboy.model.solver.bracketed.solve_with_metals`.
     """
     n = pr.ispec.shape[0]
+    if pr.lay.metals is not None:   # kinks where solids appear: see solve_with_metals
+        return solve_with_metals(pr, start, max_iter=COUPLED_ITER)
     fast = None
     if n == 1 and start is None and pr.lay.python_path:  # the plain-Python path
         fast = solve_one(pr.lay, pr.totals[0].tolist(), pr.pkw, pr.a_dh, pr.held_of(0),
@@ -410,14 +413,6 @@ def _solve_points(pr: Problem, start=None):
     if fast is not None:
         x, ionic = np.array([fast[0]]), np.array([fast[1]])
         ok, iterations = np.array([True]), fast[2]
-    elif pr.lay.metals is not None:
-        # metals: straight to the guaranteed path (kinks where solids appear make the
-        # coupled iteration slow), from the starts where given
-        x, ionic = np.full(n, -7.0), pr.ispec + 1e-7
-        if start is not None:
-            given = np.isfinite(start[0]) & np.isfinite(start[1])
-            x, ionic = np.where(given, start[0], x), np.where(given, start[1], ionic)
-        ok, iterations = np.zeros(n, dtype=bool), 0
     else:
         x0, i0 = (None, None) if start is None else start
         x, ionic, ok, iterations = solve_warm(pr, max_iter=COUPLED_ITER, x0=x0, i0=i0)
