@@ -15,6 +15,11 @@ is bracketed from the totals alone (``solver.charge_balance.bracket``) and found
 Newton steps that fall back to bisection whenever a step leaves the bracket: the
 root cannot be missed.  No textbook approximation is made.
 
+Modelled metal ions (``metals.toml``: Zn2+, Cu2+, Al3+, Fe3+, Ca2+ ...) are not
+spectators: their hydrolysis, and their hydroxides and calcium salts present or absent
+by saturation, join the charge balance at every trial x (``solver.metal_terms``); f
+stays increasing, with kinks where a solid appears, which the guaranteed path settles.
+
 Activity follows the Davies equation, log10 gamma = -A z² (sqrt(I)/(1+sqrt(I)) - 0.3 I),
 with A from the temperature (``water.debye_huckel_a``) and the ionic strength I
 iterated to self-consistency; pH is -log10 a(H+).  ``activity="ideal"`` sets every

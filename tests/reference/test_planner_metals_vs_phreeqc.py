@@ -27,6 +27,8 @@ import pytest
 
 phreeqpython = pytest.importorskip("phreeqpython")
 
+from phreeqc_waste import dose_to_ph, ph_with_naoh  # noqa: E402
+
 from carboy.model.mixture import Mixture  # noqa: E402
 from carboy.model.planner import plan_neutralization  # noqa: E402
 from carboy.model.reagents import parse_reagent  # noqa: E402
@@ -65,24 +67,6 @@ def pp():
     return engine
 
 
-def phreeqc_ph(pp, solution: dict, phase: str, naoh_mol: float) -> float:
-    """pH of 1 kgw of the waste with ``naoh_mol`` NaOH, the solid ``phase`` allowed."""
-    sol = pp.add_solution({"units": "mmol/kgw", "pH": "7 charge", **solution})
-    sol.add("NaOH", naoh_mol * 1000.0, "mmol")
-    sol.desaturate(phase)
-    ph = sol.pH
-    sol.forget()
-    return ph
-
-
-def phreeqc_dose(pp, solution: dict, phase: str, target: float) -> float:
-    lo, hi = 0.0, 1.0
-    for _ in range(50):
-        mid = 0.5 * (lo + hi)
-        lo, hi = (mid, hi) if phreeqc_ph(pp, solution, phase, mid) < target else (lo, mid)
-    return 0.5 * (lo + hi)
-
-
 def plan(totals: dict, target: float):
     return plan_neutralization(Mixture(totals, volume_l=1.0), parse_reagent("NaOH"),
                                target_pH=target, window=(target - 1.0, target + 1.0))
@@ -92,7 +76,7 @@ def plan(totals: dict, target: float):
 def test_dose_to_target_with_the_metal_hydroxide(pp, case):
     _, totals, solution, phase, target, acid_only = case
     p = plan(totals, target)
-    expected = phreeqc_dose(pp, solution, phase, target)
+    expected = dose_to_ph(pp, solution, phase, target)
     assert p.to_target.reagent_mol == pytest.approx(expected, rel=DOSE_RTOL)
     assert p.to_target.pH == pytest.approx(target, abs=1e-3)
     # the metals' share is in the dose, and the plan says how much it is
@@ -102,7 +86,7 @@ def test_dose_to_target_with_the_metal_hydroxide(pp, case):
     if not case[0].startswith("pb"):
         # phreeqc's own pH at carboy's dose: the final pH the plan promises (lead: the
         # 0.5 % the solids' data move the dose is a whole pH unit on its steep curve)
-        assert phreeqc_ph(pp, solution, phase, p.to_target.reagent_mol) == pytest.approx(
+        assert ph_with_naoh(pp, solution, phase, p.to_target.reagent_mol) == pytest.approx(
             target, abs=FINAL_PH_ABS)
 
 
@@ -120,4 +104,4 @@ def test_ph_where_the_metal_buffers(pp, case):
     curve = p.curve
     ours = float(curve[abs(curve[:, 0] - n).argmin(), 1])
     n_on_curve = float(curve[abs(curve[:, 0] - n).argmin(), 0])
-    assert ours == pytest.approx(phreeqc_ph(pp, solution, phase, n_on_curve), abs=0.3)
+    assert ours == pytest.approx(ph_with_naoh(pp, solution, phase, n_on_curve), abs=0.3)

@@ -15,6 +15,8 @@ proton above the top, OH- one below, whose amounts are their own: no total fixes
 them), so that POS, NEG and the ionic strength with all their derivatives come from
 three weighted sums of rows each.  Every sum is a weighted sum of rows (``einsum``)
 or of a system's rows: no matrix product, so no BLAS call and none of its threads.
+Modelled metal ions add their terms to the sums and their derivatives at the same x
+(``metal_terms``), the systems they form salts with read from the same weights.
 """
 
 from __future__ import annotations
