@@ -26,7 +26,9 @@ from carboy.model.precipitates import Precipitate
 ASSUMPTION = ("metals: hydrolysis and solids at 25 °C constants (mononuclear hydroxo "
               "complexes; fresh, amorphous hydroxides; chloride, sulfate and polynuclear "
               "complexes not modelled); a solid is present where the batch is saturated "
-              "with it, and its hydroxide is counted in the doses")
+              "with it, and its hydroxide is counted in the doses; the heat counts the "
+              "hydroxide the metals take as if it formed water (an overestimate: a "
+              "hydroxide's heat of precipitation is smaller)")
 
 
 @dataclass(frozen=True)
@@ -97,6 +99,20 @@ def _merged(found: tuple[Precipitate, ...], res, i: int) -> tuple[Precipitate, .
             out.append(Precipitate(name, float(si[name]), amount[name] > 0, sources[name],
                                    note if amount[name] > 0 else "25 °C constant"))
     return tuple(out)
+
+
+def dissolved_totals_mol(res, i: int, volume_l: float) -> dict[str, float]:
+    """What stays dissolved of each component at point ``i`` of the solved batch ``res``
+    (volume ``volume_l`` L), mol: a modelled metal's dissolved total, a system's solved
+    total (a ligand a solid has taken is not in it), every other ion's total."""
+    batch = res.batch
+    out = {k: float(c) * volume_l for k, c in zip(batch.keys, batch.totals[i].tolist())}
+    out.update({k: float(c) * volume_l
+                for k, c in zip(res.system_keys, res.system_totals_molar[i].tolist())})
+    if res.metal_keys:
+        out.update({k: float(c) * volume_l
+                    for k, c in zip(res.metal_keys, res.dissolved_metal_molar[i].tolist())})
+    return out
 
 
 def metals_at_target(res, i: int, volume_l: float, totals, catalog,

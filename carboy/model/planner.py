@@ -27,30 +27,39 @@ The steps of a plan
 -------------------
 :func:`plan_neutralization` is this sequence; each step is a function of its own:
 
-1. ``_check_request``     the arguments, checked and gathered in a :class:`_Request`
-                          (an unknown component is an error naming it, field ``sample``);
+1. ``check_request``      the arguments, checked and gathered in a ``PlanRequest``
+                          (an unknown component is an error naming it, field ``sample``)
+                          and ``with_safe_temperature``, the batch's safe temperature
+                          (``plan_request``);
 2. ``_start``             the sample's own pH, the direction (base or acid) and the
                           reagent's capacity that way; a cyanide or sulfide waste the
                           plan would acidify is refused (``cautions.refuse_plan``), and a
                           reagent that moves the pH the wrong way too;
 3. ``_proton_demand``     every dissociable proton: the full dose and its breakdown (a
                           modelled metal cation counts as its hydroxide, z OH- each);
+   ``_reagent_reach``     with a carbonate reagent, only the protons it can take count
+                          in the full dose (``reagent_reach``);
 4. ``_find_doses``        the doses to the target and the window edges, with CO2
                           leaving and the hydroxide the metals take, and the curve's
                           amounts (``dosing``, ``metal_doses``);
+   ``_bicarbonate_ceiling`` no dose above about pH 8.3 with a bicarbonate;
 5. ``_solve_curve``       the pH curve, in one batch solve;
 6. ``_solve_points``      every other state in one batch solve (full dose, doses,
                           stages, ±1 % of the target dose, equivalence points);
 7. ``_dose_results``      the doses, stages, sensitivity and equivalence points read
                           from it;
-8. ``_heat_and_gas``      reaction heat, temperature rise, CO2 given off and the pH
-                          before venting (``thermo``, ``dosing``);
+8. ``_heat_and_gas``      heat released, the batch's rise with its own heat capacity,
+                          boiling and the stages that keep it safe, CO2 given off and
+                          the pH before venting (``plan_heat``, ``batch_heat``);
 9. ``_at_target``         the state at the target: protons still bound, saturation of
                           solids (``precipitates``);
+   ``_salt_limits``       soluble salts against their solubility at the batch's
+                          temperature (``precipitates.salt_limits``);
 10. ``_metals``           the sludge, the metal left dissolved, the hydroxide the metals
                           hold and the cations without data (``plan_metals``);
 11. ``_warnings``         the solver's and the planner's own warnings;
-12. ``_facts``            what the caution rules look at; ``cautions.evaluate`` then
+12. ``_facts``            what the caution rules look at (``_limit_facts``: heat, salts,
+                          reach); ``cautions.evaluate`` then
                           gives the cautions and ``cautions.not_for_drain`` the drain
                           verdict;
 13. ``_waste_cautions``   the waste's own cautions (gas escaping now, ammonia, the
@@ -66,7 +75,7 @@ saturation.  The doses count the hydroxide they take; the plan reports the sludg
 
 from __future__ import annotations
 
-import math
+import dataclasses
 from dataclasses import dataclass
 from typing import ClassVar
 
@@ -74,18 +83,28 @@ import numpy as np
 
 from carboy.errors import HazardRefused, InvalidInput
 from carboy.model import cautions as caution_rules
-from carboy.model import gas, thermo, water
-from carboy.model.activity import check_model, davies_d, debye_huckel_scale
+from carboy.model import gas, thermo
+from carboy.model.activity import davies_d, debye_huckel_scale
 from carboy.model.cautions import derived_hazards
 from carboy.model.dosing import Dosing, find_doses
 from carboy.model.equivalence import equivalence_amounts
+from carboy.model.heat_capacity import solute_mass_g
 from carboy.model.metal_doses import MetalDoses
 from carboy.model.mixture import Mixture
-from carboy.model.plan_metals import MetalReport, metals_at_target
+from carboy.model.plan_heat import HeatAndGas, heat_and_gas
+from carboy.model.plan_metals import MetalReport, dissolved_totals_mol, metals_at_target
+from carboy.model.plan_request import PlanRequest, check_request, with_safe_temperature
 from carboy.model.plan_result import Dose, EquivalencePoint, Plan, Stage
-from carboy.model.precipitates import Precipitate, saturation_indices, slurry_check
+from carboy.model.precipitates import (
+    Precipitate,
+    SaltLimit,
+    salt_limits,
+    saturation_indices,
+    slurry_check,
+)
+from carboy.model.reagent_reach import Reach, bicarbonate_ceiling, proton_reach
 from carboy.model.reagents import Reagent
-from carboy.model.speciation import BatchSpeciation, start_along
+from carboy.model.speciation import BatchSpeciation, speciate, start_along
 
 __all__ = ["Dose", "EquivalencePoint", "Plan", "Stage", "plan_neutralization"]
 
@@ -95,7 +114,8 @@ __all__ = ["Dose", "EquivalencePoint", "Plan", "Stage", "plan_neutralization"]
 def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float = 7.0,  # noqa: N803
                         window: tuple[float, float] = (6.0, 9.0), activity: str = "davies",
                         catalog=None, hazards: frozenset[str] = frozenset(),
-                        curve_points: int = 400,
+                        curve_points: int = 400, safe_temperature_c: float | None = None,
+                        safe_from: str = "",
                         waste: caution_rules.Sample | None = None) -> Plan:
     """Plan the neutralization of ``sample`` with ``reagent``.
 
@@ -108,6 +128,9 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     activity : ``"davies"`` or ``"ideal"``.
     hazards : hazard tags known about the sample (the store passes its additions' tags).
     curve_points : points of the pH curve (>= 20).
+    safe_temperature_c : the temperature a batch is kept under (°C; default carboy's, 50);
+        the disposal profile's when the plan is made under the storeroom's rules, with
+        ``safe_from`` saying whose it is.
     waste : what is known of the waste beyond its totals (its compounds, a container's
         stream and material): the compatibility rules and the stream's drain verdict
         look at it (:func:`carboy.model.cautions.amend`).
@@ -118,26 +141,30 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     ``sample``) or a reagent of the wrong direction; HazardRefused for a cyanide or
     sulfide waste the plan would acidify (:func:`carboy.model.cautions.refuse_plan`).
     """
-    req = _check_request(sample, reagent, target_pH, window, activity, catalog, hazards,
+    req = check_request(sample, reagent, target_pH, window, activity, catalog, hazards,
                          curve_points, waste)
+    req = with_safe_temperature(req, safe_temperature_c, safe_from)
     start = _start(req)
-    demand = _proton_demand(req, start)
-    dosing = _find_doses(req, start, demand)
+    demand, reach = _reagent_reach(req, start, _proton_demand(req, start))
+    dosing = _bicarbonate_ceiling(req, reach, _find_doses(req, start, demand))
     curve_res, curve_vol = _solve_curve(req, dosing)
     pts = _solve_points(req, start, dosing, demand.n_full, curve_res)
     doses = _dose_results(req, dosing, pts, demand.n_full)
     heat = _heat_and_gas(req, dosing, pts, curve_res, curve_vol)
     bound, precipitates = _at_target(req, pts)
+    salts = _salt_limits(req, pts, heat)
     metals = _metals(req, pts, precipitates)
     precipitates = metals.precipitates
     warnings = heat.warnings + _warnings(req, dosing, pts, doses) + list(metals.warnings)
-    facts = _facts(req, start, dosing, pts, doses, heat, precipitates)
+    facts = dataclasses.replace(_facts(req, start, dosing, pts, doses, heat, precipitates),
+                                **_limit_facts(heat, salts, reach, doses, start))
     plan = Plan(
         sample=sample, reagent=reagent, direction=start.direction, activity=activity,
         initial_pH=start.initial_pH, proton_equivalents_mol=float(demand.proton_eq),
         breakdown=demand.breakdown, full=doses.full, to_target=doses.to_target,
         window=req.window, window_doses=doses.window, bound_protons_at_target=bound,
-        heat_kj=heat.heat_kj, temperature_rise_c=heat.rise_c, gas_l=heat.gas_l,
+        heat_released_kj=heat.released_kj, temperature_rise_c=heat.batch.reached_rise_k,
+        gas_l=heat.gas_l,
         gas_mol=heat.gas_mol, gas_conditions=gas.gas_conditions(req.temperature_c),
         vented_pH=facts.vented_pH, vent_pco2_atm=dosing.pco2_atm,
         pH_before_venting=heat.pH_before_venting, vented_gas_l=heat.vented_gas_l,
@@ -147,82 +174,14 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
         cautions=caution_rules.evaluate(facts), warnings=tuple(warnings),
         hazards=facts.hazards, drain_plan=not caution_rules.not_for_drain(facts),
         assumptions=heat.assumptions + metals.assumptions, curve_speciation=curve_res,
-        curve_volume_l=curve_vol, sludge=metals.sludge,
-        dissolved_metals_mg_l=metals.dissolved_mg_l,
+        curve_volume_l=curve_vol, batch_heat=heat.batch, salt_limits=salts,
+        reagent_reach=reach, sludge=metals.sludge, dissolved_metals_mg_l=metals.dissolved_mg_l,
         metal_hydroxide_mol=metals.hydroxide_mol, unmodelled_metals=metals.unmodelled,
     )
     return _waste_cautions(req, plan)
 
 
 # ----------------------------------------------------------------------------- the steps
-
-@dataclass(frozen=True)
-class _Request:
-    """The checked arguments of a plan."""
-
-    sample: Mixture
-    reagent: Reagent
-    catalog: object
-    activity: str
-    target: float
-    window: tuple[float, float]
-    hazards: frozenset[str]
-    curve_points: int
-    waste: caution_rules.Sample | None = None
-
-    @property
-    def temperature_c(self) -> float:
-        return self.sample.temperature_c
-
-
-def _check_ph(what: str, value, field: str) -> float:
-    """``value`` as a pH from 0 to 14; InvalidInput naming ``what`` otherwise."""
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InvalidInput(what, value, "must be a number", field=field) from None
-    if not math.isfinite(v) or not 0.0 <= v <= 14.0:
-        raise InvalidInput(what, value, "must be a pH between 0 and 14", field=field)
-    return v
-
-
-def _check_request(sample: Mixture, reagent: Reagent, target_ph, window, activity: str,
-                   catalog, hazards, curve_points, waste=None) -> _Request:
-    """Step 1: the arguments of :func:`plan_neutralization`, checked (InvalidInput
-    naming the bad one), with the built-in catalog where none is given."""
-    if catalog is None:
-        from carboy.model.catalog import default_catalog
-
-        catalog = default_catalog()
-    target = _check_ph("target pH", target_ph, "target")
-    try:
-        lo_w, hi_w = (float(window[0]), float(window[1]))
-    except (TypeError, ValueError, IndexError):
-        raise InvalidInput("window", window, "expected (low pH, high pH)",
-                           field="window") from None
-    lo_w = _check_ph("window low pH", lo_w, "window")
-    hi_w = _check_ph("window high pH", hi_w, "window")
-    if not lo_w < hi_w:
-        raise InvalidInput("window", window, "the low pH must be below the high pH",
-                           field="window")
-    check_model(activity)
-    unknown = sorted(k for k in sample.totals
-                     if k not in catalog.systems and k not in catalog.ions)
-    if unknown:
-        raise InvalidInput("sample", ", ".join(unknown), "the catalog knows no such acid–base "
-                           "system, ion, metal or salt", field="sample")
-    if sample.volume_l is None:
-        raise InvalidInput("sample volume", None, "a plan needs the sample's volume",
-                           field="volume")
-    if not sample.totals:
-        raise InvalidInput("sample", dict(sample.totals), "holds nothing to neutralize",
-                           field="sample")
-    if int(curve_points) < 20:
-        raise InvalidInput("curve points", curve_points, "need at least 20")
-    water.check_temperature(sample.temperature_c)
-    return _Request(sample, reagent, catalog, activity, target, (lo_w, hi_w),
-                    frozenset(hazards), int(curve_points), waste)
-
 
 @dataclass(frozen=True)
 class _Start:
@@ -234,7 +193,7 @@ class _Start:
     capacity: int         # protons one formula unit of reagent moves that way
 
 
-def _start(req: _Request) -> _Start:
+def _start(req: PlanRequest) -> _Start:
     """Step 2: the sample's pH and direction; InvalidInput for a reagent that cannot
     move the pH towards the target (judged by its capacity and its own pH)."""
     reagent, target = req.reagent, req.target
@@ -257,8 +216,8 @@ def _start(req: _Request) -> _Start:
         raise InvalidInput(
             "reagent", reagent.text or reagent.key,
             f"the sample is at pH {initial_pH:.2f} and needs {need} to reach pH {target:g}; "
-            f"{reagent.key} (its own pH about {own_pH:.1f}) cannot move it that way",
-            field="reagent")
+            f"{reagent.key} (its own pH about {own_pH:.1f}) cannot move it that way: choose "
+            f"{caution_rules.stronger_reagent_words(direction, reagent.key)}", field="reagent")
     return _Start(model, initial_pH, direction, capacity)
 
 
@@ -271,7 +230,7 @@ class _Demand:
     n_full: float
 
 
-def _proton_demand(req: _Request, start: _Start) -> _Demand:
+def _proton_demand(req: PlanRequest, start: _Start) -> _Demand:
     """Step 3: the protons to remove (base) or add (acid), per component and in all,
     and the reagent (mol) that does it (see the module docstring)."""
     sample, catalog = req.sample, req.catalog
@@ -286,6 +245,32 @@ def _proton_demand(req: _Request, start: _Start) -> _Demand:
         equivalents = sum(parts.values())
         proton_eq = -equivalents
     return _Demand(breakdown, proton_eq, max(equivalents, 0.0) / start.capacity)
+
+
+def _reagent_reach(req: PlanRequest, start: _Start, demand: _Demand
+                   ) -> tuple[_Demand, Reach | None]:
+    """Step 3b: with a carbonate reagent, the full dose counts only the protons it can
+    take (:mod:`~carboy.model.reagent_reach`); the others are named in the plan."""
+    if start.direction != "base" or not req.reagent.has_carbonate:
+        return demand, None
+    initial = speciate(req.sample, activity=req.activity, catalog=req.catalog)
+    reach = proton_reach(req.sample, req.reagent, req.catalog, demand.proton_eq,
+                         initial.fractions)
+    if reach is None:
+        return demand, None
+    return dataclasses.replace(demand, n_full=reach.n_full), reach
+
+
+def _bicarbonate_ceiling(req: PlanRequest, reach: Reach | None, dosing: Dosing) -> Dosing:
+    """Step 4b: a bicarbonate reagent cannot carry a batch above about pH 8.3 (the pH of
+    a fresh bicarbonate solution, ``reagent_reach``): a dose to a higher pH, which only the
+    slow loss of CO2 to the air would reach, is not offered (it reads as unreachable)."""
+    ceiling = bicarbonate_ceiling(reach)
+    if ceiling is None:
+        return dosing
+    asked = np.array([req.target, *req.window])
+    doses = np.where(asked > ceiling, np.nan, dosing.doses)
+    return dataclasses.replace(dosing, doses=doses)
 
 
 def _charge_parts(sample: Mixture, catalog, which: str) -> dict:
@@ -319,7 +304,7 @@ def _component_name(key: str, catalog) -> str:
     return catalog.ions[key].name if key in catalog.ions else key
 
 
-def _find_doses(req: _Request, start: _Start, demand: _Demand) -> Dosing:
+def _find_doses(req: PlanRequest, start: _Start, demand: _Demand) -> Dosing:
     """Step 4: the doses (mol) to the target and to the window's low and high edges, the
     curve's amounts, and the batch each amount leaves (see :mod:`carboy.model.dosing`)."""
     reagent = req.reagent
@@ -329,7 +314,7 @@ def _find_doses(req: _Request, start: _Start, demand: _Demand) -> Dosing:
                       points=req.curve_points)
 
 
-def _solve_curve(req: _Request, dosing: Dosing) -> tuple[BatchSpeciation, np.ndarray]:
+def _solve_curve(req: PlanRequest, dosing: Dosing) -> tuple[BatchSpeciation, np.ndarray]:
     """Step 5: the vented batch at every amount of the curve grid, solved at once, and
     its volumes (L)."""
     return dosing.solve(dosing.grid)
@@ -365,7 +350,7 @@ class _Points:
         return self.first_equivalence + len(self.equivalence)
 
 
-def _solve_points(req: _Request, start: _Start, dosing: Dosing, n_full: float,
+def _solve_points(req: PlanRequest, start: _Start, dosing: Dosing, n_full: float,
                   curve: BatchSpeciation) -> _Points:
     """Step 6: the states at the full dose, the doses, the stages (planning.toml
     ``[stages]``), ±1 % of the target dose and the labelled equivalence points; each
@@ -413,7 +398,7 @@ def _dose(reagent: Reagent, pts: _Points, i_pt: int, n, target=None) -> Dose:
                 float(pts.volume_l[i_pt]), target)
 
 
-def _dose_results(req: _Request, dosing: Dosing, pts: _Points, n_full: float) -> _Doses:
+def _dose_results(req: PlanRequest, dosing: Dosing, pts: _Points, n_full: float) -> _Doses:
     """Step 7: doses, staged additions, the pH change per 1 % of the target dose and
     the equivalence points, read from the point solve."""
     reagent, doses, ph = req.reagent, dosing.doses, pts.res.pH
@@ -440,70 +425,21 @@ def _dose_results(req: _Request, dosing: Dosing, pts: _Points, n_full: float) ->
         stages=tuple(stages), sensitivity=sensitivity, equivalence=equivalence)
 
 
-@dataclass(frozen=True)
-class _Heat:
-    """Heat and gas of the dose to the target."""
-
-    heat_kj: float
-    rise_c: float
-    gas_mol: float
-    gas_l: float
-    vented_gas_l: float
-    pH_before_venting: float | None
-    warnings: list[str]
-    assumptions: tuple[str, ...]
-
-
-_HEAT_ASSUMPTIONS = (
-    "heat: adiabatic batch, heat capacity of water; species enthalpies at 25 °C, "
-    "infinite dilution (CODATA-derived water formation -55.815 kJ/mol)",
-    "gas volume at {conditions}",
-    "CO2 beyond its solubility at 1 atm leaves as it forms and does not return; doses, "
-    "stages and the curve are for the batch after it has vented to air (dissolved CO2 "
-    "no higher than in equilibrium with air, none taken up from it)",
-    "local disposal rules set the real acceptance window",
-)
-
-
-def _heat_and_gas(req: _Request, dosing: Dosing, pts: _Points, curve_res: BatchSpeciation,
-                  curve_vol: np.ndarray) -> _Heat:
-    """Step 8: heat released (``thermo``: species enthalpies, CO2 leaving, a solid's heat
-    of solution, a concentrate's heat of dilution), the adiabatic temperature rise,
-    and the CO2 given off, with the pH right after the addition."""
-    reagent, catalog, t_c = req.reagent, req.catalog, req.temperature_c
-    n_end = dosing.target_mol
+def _heat_and_gas(req: PlanRequest, dosing: Dosing, pts: _Points, curve_res: BatchSpeciation,
+                  curve_vol: np.ndarray) -> HeatAndGas:
+    """Step 8: heat released (positive: the batch warms), the batch's rise with its own
+    heat capacity, boiling and the stages that keep it under the safe temperature, and
+    the CO2 given off with the pH right after the addition (:mod:`~carboy.model.plan_heat`,
+    :mod:`~carboy.model.batch_heat`)."""
     i_tp = pts.TARGET
-    h_final = thermo.state_enthalpy_kj(pts.res, np.array([i_tp]), pts.volume_l[[i_tp]],
-                                       catalog)[0]
-    h_start = thermo.state_enthalpy_kj(curve_res, np.array([0]), curve_vol[[0]], catalog)[0]
-    # right after the addition: CO2 beyond saturation at 1 atm has left; by the time the
-    # batch has vented to air, more has gone: that is the final state
-    gas_mol, vented_gas_mol = dosing.co2_lost_mol(n_end)
     fresh_ph = float(pts.res.pH[pts.fresh]) if dosing.carbonate else None
-    heat = h_final - h_start - n_end * thermo.reagent_enthalpy_kj(reagent, catalog)
-    heat += vented_gas_mol * thermo.co2_degassing_kj()
-    warnings: list[str] = []
-    assumptions = [a.format(conditions=gas.gas_conditions(t_c)) for a in _HEAT_ASSUMPTIONS]
-    if reagent.is_solid:
-        sol = thermo.heat_of_solution_kj(reagent.key)
-        if sol is not None:
-            heat += n_end * sol[0]
-        assumptions.append("the volume of the solid reagent is neglected")
-    if reagent.form == "concentrate":
-        dil = thermo.dilution_heat_kj(reagent.key, reagent.mass_percent)
-        if dil is not None:
-            heat += n_end * dil[0]
-        else:
-            warnings.append(f"no dilution-heat data for {reagent.describe()}: its heat of "
-                            "dilution is not included, so the heat is underestimated")
-    mass = req.sample.volume_l * 1000.0 * water.density_g_cm3(t_c) + reagent.mass_g(n_end)
-    rise = thermo.temperature_rise_k(heat, mass, t_c)
-    vm = gas.molar_volume_l(t_c, gas.gas_pressure_kpa())
-    return _Heat(float(heat), float(rise), gas_mol, float(gas_mol * vm),
-                 float(vented_gas_mol * vm), fresh_ph, warnings, tuple(assumptions))
+    return heat_and_gas(req.reagent, req.catalog, req.sample.volume_l, req.temperature_c,
+                        dosing, (pts.res, i_tp, float(pts.volume_l[i_tp])),
+                        (curve_res, 0, float(curve_vol[0])), fresh_ph,
+                        req.safe_temperature_c, req.safe_from)
 
 
-def _at_target(req: _Request, pts: _Points) -> tuple[dict, tuple[Precipitate, ...]]:
+def _at_target(req: PlanRequest, pts: _Points) -> tuple[dict, tuple[Precipitate, ...]]:
     """Step 9: at the target state, the protons each sample system still holds and the
     saturation of every tabulated solid."""
     res, i_tp = pts.res, pts.TARGET
@@ -517,7 +453,26 @@ def _at_target(req: _Request, pts: _Points) -> tuple[dict, tuple[Precipitate, ..
     return bound, found
 
 
-def _metals(req: _Request, pts: _Points, found: tuple[Precipitate, ...]) -> MetalReport:
+def _salt_limits(req: PlanRequest, pts: _Points, heat: HeatAndGas) -> tuple[SaltLimit, ...]:
+    """Step 9b: the soluble salts at the target against their solubility at the batch's
+    temperature (:func:`~carboy.model.precipitates.salt_limits`), counting what stays
+    dissolved (a metal or ligand the solver has settled as a solid is not counted twice;
+    a salt the solver itself settles, gypsum, is in the sludge instead); the batch's
+    water is its mass less its solutes."""
+    res, i_tp = pts.res, pts.TARGET
+    volume = float(pts.volume_l[i_tp])
+    if res.batch is None:
+        return ()
+    totals = dissolved_totals_mol(res, i_tp, volume)
+    species = dict(zip(res.species_labels, res.species_molar[i_tp].tolist()))
+    charges = dict(zip(res.species_labels, res.species_charges))
+    water_g = heat.batch.mass_g - solute_mass_g(species, charges, volume)
+    found = salt_limits(totals, max(water_g, 0.1 * heat.batch.mass_g) / 1000.0,
+                        req.temperature_c)
+    return tuple(s for s in found if s.solid not in res.solid_names)
+
+
+def _metals(req: PlanRequest, pts: _Points, found: tuple[Precipitate, ...]) -> MetalReport:
     """Step 10: at the target state, the sludge, the metal left dissolved and the
     hydroxide the metals hold; the solids present join the saturation list; cations
     with no metal data are named (see :mod:`carboy.model.plan_metals`)."""
@@ -526,7 +481,7 @@ def _metals(req: _Request, pts: _Points, found: tuple[Precipitate, ...]) -> Meta
                             req.catalog, found)
 
 
-def _warnings(req: _Request, dosing: Dosing, pts: _Points, doses: _Doses) -> list[str]:
+def _warnings(req: PlanRequest, dosing: Dosing, pts: _Points, doses: _Doses) -> list[str]:
     """Step 11: the solver's warnings at the target state, doses that cannot be reached,
     and a dose to target whose re-solved pH misses the target."""
     key, target = req.reagent.key, req.target
@@ -544,8 +499,16 @@ def _warnings(req: _Request, dosing: Dosing, pts: _Points, doses: _Doses) -> lis
     return warnings
 
 
-def _facts(req: _Request, start: _Start, dosing: Dosing, pts: _Points, doses: _Doses,
-           heat: _Heat, precipitates: tuple[Precipitate, ...]) -> caution_rules.Facts:
+def _limit_facts(heat: HeatAndGas, salts: tuple[SaltLimit, ...], reach: Reach | None,
+                 doses: _Doses, start: _Start) -> dict:
+    """Step 11b: what the heat, salt and reach cautions look at."""
+    edge = doses.window[0] if start.direction == "base" else doses.window[1]
+    return {"batch_heat": heat.batch, "salt_limits": tuple(s for s in salts if s.exceeded),
+            "reagent_reach": reach, "window_reached": edge.reachable}
+
+
+def _facts(req: PlanRequest, start: _Start, dosing: Dosing, pts: _Points, doses: _Doses,
+           heat: HeatAndGas, precipitates: tuple[Precipitate, ...]) -> caution_rules.Facts:
     """Step 12: what the caution rules look at, from the request and every step."""
     reagent = req.reagent
     slurry_limit, slurry_exceeded = "", False
@@ -558,7 +521,7 @@ def _facts(req: _Request, start: _Start, dosing: Dosing, pts: _Points, doses: _D
         reagent_form=reagent.form, reagent_hazards=reagent.compound.hazards,
         reagent_is_slurry=reagent.is_slurry, reagent_has_carbonate=reagent.has_carbonate,
         slurry_limit=slurry_limit, slurry_exceeded=slurry_exceeded,
-        temperature_rise_k=heat.rise_c, final_temperature_c=t_c + heat.rise_c,
+        temperature_rise_k=heat.rise_k, final_temperature_c=t_c + heat.rise_k,
         gas_l=heat.gas_l, carbonate_present=dosing.carbonate,
         pH_before_venting=heat.pH_before_venting,
         vented_pH=float(pts.res.pH[pts.TARGET]) if dosing.carbonate else None,
@@ -570,7 +533,7 @@ def _facts(req: _Request, start: _Start, dosing: Dosing, pts: _Points, doses: _D
         thresholds=dict(thermo.planning_constants()["thresholds"]))
 
 
-def _waste_cautions(req: _Request, plan: Plan) -> Plan:
+def _waste_cautions(req: PlanRequest, plan: Plan) -> Plan:
     """Step 13: the plan with the waste's own cautions and the drain verdict settled by
     them (:func:`carboy.model.cautions.amend`: gas escaping now, ammonia driven off,
     the compatibility rules its compounds break, a container's stream)."""

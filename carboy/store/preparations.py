@@ -152,7 +152,22 @@ def _record(s: Store, item: _Checked, before: _Checked | None, made_before: int 
     entry = journal.append_in(
         s, "preparation", bottle_id=source_id if source_id is not None else new_id,
         snapshot=snap, who=who, when=when, summary=item.step.summary or "; ".join(parts))
+    if new_id is not None and source_id is not None:
+        _link_made_bottle(s, new_id, source_id, entry, who=who, when=when)
     return Prepared(entry, new_id, left_after)
+
+
+def _link_made_bottle(s: Store, new_id: int, source_id: int, entry: int, *,
+                      who: str | None, when: datetime | None) -> None:
+    """The made bottle's own first history entry: what it was made from (bottle and lot)
+    and by which preparation."""
+    src = s.one("SELECT compound_key, lot FROM stock_bottles WHERE id = ?", [source_id])
+    lot = f", lot {src['lot']}" if src and src["lot"] else ""
+    journal.append_in(
+        s, "receipt", bottle_id=new_id, who=who, when=when,
+        snapshot={"made_from_bottle": source_id, "made_from_lot": src["lot"] if src else "",
+                  "preparation_entry": entry},
+        summary=f"bottle {new_id} made from bottle {source_id}{lot} (preparation #{entry})")
 
 
 def prepare_series(store: Store, steps: Iterable[PreparationStep], *, who: str | None = None,

@@ -73,3 +73,22 @@ def test_rules_set_show_and_refuse(capsys, db):
     s.close()
     code, out, _ = run(capsys, "rules", "--db", db)
     assert "0.3 %" in out and "Ph. Eur." in out
+
+
+def test_every_help_text_reads_without_escapes():
+    import argparse
+
+    from carboy.tui.cli.main import build_parser
+
+    def walk(parser):
+        yield parser
+        for action in parser._actions:
+            if isinstance(action, argparse._SubParsersAction):
+                for sub in action.choices.values():
+                    yield from walk(sub)
+
+    parsers = list(walk(build_parser()))
+    assert len(parsers) > 20
+    for parser in parsers:
+        text = parser.format_help()
+        assert "%%" not in text and "%(" not in text, parser.prog

@@ -23,13 +23,13 @@ def test_json_keys_and_model_numbers(capsys):
                          "1L", "--json")
     assert code == 0, err
     got = json.loads(out)
-    assert {"stock_molar", "stock_volume_ml", "stock_mass_g", "water_ml", "heat_kj",
+    assert {"stock_molar", "stock_volume_ml", "stock_mass_g", "water_ml", "heat_released_kj",
             "temperature_rise_c", "steps", "cautions", "label"} <= set(got)
     want = preparation.plan_recipe(preparation.parse_source("H2SO4=96%"), 1.0, 1.0)
     assert got["stock_volume_ml"] == pytest.approx(want.stock_volume_ml)
     # 96 % H2SO4 is about 18.0 M (buffer-preparation guide, reference-data §4a)
     assert got["stock_molar"] == pytest.approx(18.0, abs=0.1)
-    assert got["heat_kj"] > 0 and all(isinstance(s, str) for s in got["steps"])
+    assert got["heat_released_kj"] > 0 and all(isinstance(s, str) for s in got["steps"])
     assert any("never water" in c["text"] for c in got["cautions"])
     assert got["label"]["lines"][0].startswith("Sulfuric acid")
 
@@ -76,7 +76,10 @@ def test_record_draws_from_the_bottle_and_adds_the_new_one(capsys, tmp_path):
         new = stock.get(s, got["recorded"]["new_bottle_id"])
         assert (new.compound_key, new.label_strength, new.strength_unit) == ("HCl", 1.0, "M")
         assert new.location == "Bench 2" and new.expires_on
-        assert journal.count(s) == before + 1
+        assert journal.count(s) == before + 2  # the preparation, and the new bottle's own
+        first = journal.entries(s, bottle_id=new.id)[0]
+        assert first.snapshot["made_from_bottle"] == src
+        assert f"made from bottle {src}" in first.summary
         # asking for more than is left writes nothing
         count_before = (stock.count(s), journal.count(s))
     finally:

@@ -86,7 +86,7 @@ def test_stream_at_creation_in_list_and_show(capsys, db):
                        "--db", db)
     assert code == 0 and "HF/fluoride waste" in out
     code, out, _ = run(capsys, "waste", "list", "--db", db)
-    assert code == 0 and "hf" in out.split()
+    assert code == 0 and "HF/fluoride" in out.split() and "hf" not in out.split()
     code, out, _ = run(capsys, "waste", "show", "HF-1", "--db", db)
     assert "stream: HF/fluoride waste, plastic" in out
 

@@ -58,3 +58,22 @@ async def test_since_date_filters_and_a_bad_date_is_named(make, wait_for):
         assert box.value == "2025-13-45"
         await pilot.press("escape")
         await wait_for(pilot, lambda: not error.display and table.row_count == total)
+
+
+async def test_an_entry_reads_as_a_page_and_the_raw_snapshot_is_one_key_away(make, wait_for):
+    app = make()
+    async with app.run_test(size=(80, 24)) as pilot:
+        screen = await on_journal(app, pilot, wait_for)
+        table = screen.query_one(EntryTable)
+        assert "who" in [str(c.key.value) for c in table.columns.values()][:3]
+        screen.query_one("#journal-kind", Select).value = "neutralization"
+        await wait_for(pilot, lambda: set(column(table, "kind")) == {"neutralization"})
+        table.focus()
+        await pilot.press("enter")
+        await wait_for(pilot, lambda: isinstance(app.screen, EntryScreen) and app.screen.loads)
+        page = str(app.screen.query_one("#entry-json").content)
+        assert "plan" in page and "{" not in page  # sections and lines, not JSON
+        await pilot.press("r")
+        await pilot.pause()
+        assert app.screen.raw and "as stored" in str(app.screen.query_one("#entry-section")
+                                                     .content)

@@ -96,16 +96,21 @@ async def test_container_plan_has_dose_and_disposal_note(demo_db):
         assert "[local-rules]" in cautions
         assert "safety office" in cautions
         assert "understood: NaOH 1 M solution" in echo(screen, "reagent")
-        assert screen.check_action("record", ()) is True
+        assert screen.check_action("record", ()) is True and screen.record_blocker() is None
         # a fluoride container: the drain verdict reaches every view, nothing to record
         screen = await open_container(app, pilot, "HF-04")
+        assert screen.plan is None or screen.plan_state.container.label == "HF-04"
         await settled(pilot, screen)
+        assert screen.plan_state.container.label == "HF-04"  # never MA-01's plan
         assert screen.plan is not None and not screen.plan.drain_plan
         panel = screen.query_one(CautionsPanel)
         assert panel.has_class("-no-drain")
         assert "NOT FOR DRAIN DISPOSAL" in panel.text and "[not-a-drain-plan]" in panel.text
         assert "NOT FOR DRAIN DISPOSAL" in screen.query_one(PlanSummary).text
-        assert screen.check_action("record", ()) is False
+        # held for licensed disposal: the key says why nothing can be recorded
+        assert "held for licensed disposal" in screen.record_blocker()
+        await pilot.press("ctrl+r")
+        assert "cannot record" in str(screen.query_one("#nz-status", Static).content)
 
 
 async def test_bad_reagent_is_explained_in_place_and_the_plan_goes_stale(demo_db):
@@ -125,7 +130,7 @@ async def test_bad_reagent_is_explained_in_place_and_the_plan_goes_stale(demo_db
         assert screen.query_one(PHCurve).stale
         assert "STALE" in str(screen.query_one("#nz-status", Static).content)
         assert "[local-rules]" in screen.query_one(CautionsPanel).text
-        assert screen.check_action("record", ()) is None  # shown, but not with a stale plan
+        assert "stale" in screen.record_blocker()  # shown, and it says why it cannot record
 
 
 async def test_typed_sample_with_bad_volume_keeps_the_text(demo_db):
@@ -276,3 +281,12 @@ async def test_the_most_serious_caution_shows_in_one_line_and_one_key_opens_them
         assert all(f"[{c.code}]" in shown for c in screen.plan.cautions)
         await pilot.press("escape")
         await wait_for(pilot, lambda: app.screen is screen)
+
+
+def test_the_curve_axis_has_even_ticks_that_cover_the_dose():
+    from carboy.tui.app.widgets.ph_curve import even_ticks
+
+    for end in (6.8, 0.34, 4.59, 0.0021, 137.0):
+        ticks = even_ticks(end)
+        steps = {round(b - a, 12) for a, b in zip(ticks, ticks[1:])}
+        assert ticks[0] == 0 and ticks[-1] >= end and len(steps) == 1 and len(ticks) <= 6

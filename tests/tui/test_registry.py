@@ -62,3 +62,19 @@ async def test_the_mode_bar_takes_twice_as_many_screens_at_80_columns(make, monk
         assert sum(len(str(t.content)) + 1 for t in tabs) <= 80
         current = next(t for t in tabs if t.current)
         assert "Stock" in str(current.content)  # where you are stays in words
+
+
+async def test_the_palette_finds_compounds_by_any_name_bottles_and_containers(make, wait_for):
+    app = make()
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        provider = CarboyCommands(app.screen)
+        await provider.startup()
+
+        async def titles(query: str) -> list[str]:
+            return [str(hit.text) for hit in [h async for h in provider.search(query)]]
+
+        assert any("Compound H2SO4" in t for t in await titles("sulphuric"))
+        assert any("Compound NaOH" in t for t in await titles("caustic soda"))
+        assert any(t.startswith("Bottle #2 ") for t in await titles("#2"))
+        assert any("MA-01" in t for t in await titles("MA-01"))

@@ -11,6 +11,7 @@ from carboy.model.forms.treatment import TreatmentFields, read
 from carboy.store import disposal, journal, stock, treatments, waste
 from carboy.store.db import open_database
 from carboy.store.demo import DEMO_TODAY
+from carboy.tui.app.screens.confirm import ConfirmScreen
 from carboy.tui.app.screens.correct_entry import CorrectionDialog
 from carboy.tui.app.screens.journal import JournalScreen
 from carboy.tui.app.screens.rule_edit import RuleDialog
@@ -76,6 +77,13 @@ async def test_the_journal_corrects_the_highlighted_entry(make, demo_db, wait_fo
         dialog.query_one("#cd-reason", Input).value = "read before the CO2 had gone"
         dialog.query_one("#cd-final_ph", Input).value = "6,6"
         await pilot.press("ctrl+s")
+        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
+        await pilot.press("enter", "enter")  # the safe answer, then the question again
+        await pilot.pause(0.2)
+        with open_database(demo_db) as s:
+            assert journal.corrections_of(s, entry_id) == []  # nothing written
+        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
+        await pilot.press("y")
         await wait_for(pilot, lambda: app.screen is screen)
     with open_database(demo_db) as s:
         (later,) = journal.corrections_of(s, entry_id)

@@ -17,7 +17,7 @@ async def settle(pilot, mode_key: str | None, ready) -> None:
     if mode_key:
         await pilot.press(mode_key)
     deadline = time.monotonic() + 5
-    while not ready(app.screen):
+    while not ready(app.screen) or any(w.is_running for w in app.workers):
         assert time.monotonic() < deadline, "screen did not load"
         await pilot.pause(0.02)
     for box in app.screen.query(Input):

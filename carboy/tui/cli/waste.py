@@ -216,7 +216,7 @@ def waste_list(args) -> int:
         return EXIT_OK
     for c in found:
         mark = "FULL" if c.full else "nearly full" if c.nearly_full else ""
-        print(f"{c.label:<12} {ContainerStatus(c.status).words:<18} {c.stream:<16} "
+        print(f"{c.label:<12} {ContainerStatus(c.status).words:<18} {streams()[c.stream].name.split(' waste')[0]:<16} "
               f"{volume(c.volume_l):>8} of {volume(c.capacity_l):<8} {c.fill_percent:4.0f} % "
               f"{mark:<11} {count(c.n_additions, 'addition'):>13}  {c.location}")
     return EXIT_OK

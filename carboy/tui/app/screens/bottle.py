@@ -106,6 +106,8 @@ class BottleScreen(Screen):
         table.add_column("Summary", key="summary")
         table.focus()
         self.load()
+        # a write anywhere (a preparation drawing from it, a standardization) shows here
+        self.watch(self.app, "data_version", lambda _v: self.load(), init=False)
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="bottle")
     def load(self) -> None:

@@ -48,7 +48,9 @@ class JournalScreen(Screen):
 
     BINDINGS = [
         Binding("k", "focus_kind", "Kind filter", id="journal.kind"),
-        Binding("s", "focus_since", "Since date", id="journal.since"),
+        # priority: handled as the key arrives, so a date typed right after it lands in
+        # the box (not typing in a field: check_action lets the key through)
+        Binding("s", "focus_since", "Since date", id="journal.since", priority=True),
         Binding("n", "page('older')", "Older", id="journal.older"),
         Binding("p", "page('newer')", "Newer", id="journal.newer"),
         Binding("escape", "clear_filters", "Clear filters", id="journal.clear"),
@@ -83,8 +85,8 @@ class JournalScreen(Screen):
 
     def on_mount(self) -> None:
         table = self.query_one(EntryTable)
-        for key, label in (("id", "#"), ("when", "When"), ("kind", "Kind"), ("about", "About"),
-                           ("summary", "Summary"), ("who", "Who")):
+        for key, label in (("id", "#"), ("when", "When"), ("who", "Who"), ("kind", "Kind"),
+                           ("about", "About"), ("summary", "Summary")):
             table.add_column(label, key=key)
         table.focus()
         self.watch(self.app, "data_version", lambda _v: self.load(reset=True), init=False)
@@ -122,8 +124,8 @@ class JournalScreen(Screen):
         table.clear()
         self.shown = {str(e.id): e for e in found}
         for e in found:
-            table.add_row(str(e.id), journal.local_time(e.recorded_at), e.kind, about(e),
-                          e.summary, e.recorded_by, key=str(e.id))
+            table.add_row(str(e.id), journal.local_time(e.recorded_at), e.recorded_by, e.kind,
+                          about(e), e.summary, key=str(e.id))
         self.oldest_id = found[-1].id if found else None
         page = len(self._starts)
         first = (page - 1) * PAGE_ROWS + 1
@@ -221,7 +223,7 @@ class JournalScreen(Screen):
         self.query_one("#journal-kind", Select).focus()
 
     def action_focus_since(self) -> None:
-        self.query_one("#journal-since", Input).focus()
+        self.set_focus(self.query_one("#journal-since", Input))
 
     def action_page(self, direction: str) -> None:
         if direction == "older" and self.has_older and self.oldest_id is not None:

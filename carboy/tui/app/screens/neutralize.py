@@ -20,13 +20,11 @@ from dataclasses import dataclass
 from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Horizontal, VerticalScroll
+from textual.containers import Horizontal
 from textual.screen import Screen
 from textual.widgets import (
-    Checkbox,
     Footer,
     Input,
-    Label,
     Select,
     Static,
     TabbedContent,
@@ -34,7 +32,6 @@ from textual.widgets import (
 )
 
 from carboy.model.forms.neutralize import (
-    DEFAULTS,
     FIELDS,
     ContainerSample,
     NeutralizeFields,
@@ -44,9 +41,9 @@ from carboy.model.forms.neutralize import (
 from carboy.store.planning import BottleChoice
 from carboy.store.statuses import ContainerStatus
 from carboy.tui.app.live import Computed, LiveComputation, Outcome
+from carboy.tui.app.screens.neutralize_form import NeutralizeForm
 from carboy.tui.app.screens.neutralize_parts import (
     TYPED,
-    TYPED_TITLE,
     ChoicesLoaded,
     ContainerLoaded,
     Recorded,
@@ -95,15 +92,6 @@ class NeutralizeScreen(Screen):
     DEFAULT_CSS = """
     NeutralizeScreen { layout: vertical; }
     #nz-main { height: 1fr; }
-    #nz-form { width: 38; height: 1fr; border-right: vkey $foreground 30%; scrollbar-size-vertical: 1; }
-    #nz-form > .nz-row { height: 1; margin-top: 0; }
-    #nz-form > .nz-row > Label { width: 10; text-style: bold; }
-    #nz-form > .nz-row > Input, #nz-form > .nz-row > Select { width: 1fr; }
-    #nz-form > .nz-row > .nz-dash { width: 3; content-align: center middle; }
-    #nz-form > .nz-row > Checkbox { border: none; padding: 0; height: 1; width: 1fr; background: transparent; }
-    #nz-form > .nz-echo { height: auto; padding-left: 2; color: $text-muted; }
-    #nz-form > .nz-echo.-error { color: $text-error; text-style: bold; }
-    #nz-form Input.-invalid { text-style: underline; }
     #nz-views { width: 1fr; height: 1fr; }
     #nz-views TabPane { padding: 0; }
     #nz-status { height: 1; padding: 0 1; background: $boost; text-style: bold; }
@@ -146,50 +134,7 @@ class NeutralizeScreen(Screen):
     def compose(self) -> ComposeResult:
         yield ModeBar("neutralize")
         with Horizontal(id="nz-main"):
-            with VerticalScroll(id="nz-form"):
-                with Horizontal(classes="nz-row"):
-                    yield Label("Sample")
-                    yield QuietSelect([(TYPED_TITLE, TYPED)], value=TYPED, allow_blank=False,
-                                      compact=True, id="sample-source")
-                yield Static("typed in below", id="sample-info", classes="nz-echo",
-                             markup=False)
-                with Horizontal(classes="nz-row", id="row-components"):
-                    yield Label("Contents")
-                    yield Input(placeholder="e.g. H2SO4=0.05M NaH2PO4=10mM", id="components",
-                                compact=True)
-                yield Static("", id="echo-components", classes="nz-echo", markup=False)
-                with Horizontal(classes="nz-row", id="row-volume"):
-                    yield Label("Volume")
-                    yield Input(placeholder="e.g. 250 mL (needed)", id="volume", compact=True)
-                yield Static("", id="echo-volume", classes="nz-echo", markup=False)
-                with Horizontal(classes="nz-row"):
-                    yield Label("Stock")
-                    yield QuietSelect([], prompt="reagent bottle…", compact=True,
-                                      id="reagent-bottle")
-                with Horizontal(classes="nz-row"):
-                    yield Label("Reagent")
-                    yield Input(placeholder="e.g. NaOH=1M, NaHCO3 (needed)", id="reagent",
-                                compact=True)
-                yield Static("", id="echo-reagent", classes="nz-echo", markup=False)
-                with Horizontal(classes="nz-row"):
-                    yield Label("Target pH")
-                    yield Input(DEFAULTS["target"], id="target", compact=True)
-                yield Static("", id="echo-target", classes="nz-echo", markup=False)
-                with Horizontal(classes="nz-row"):
-                    yield Label("Window")
-                    yield Input(DEFAULTS["window_low"], id="window_low", compact=True)
-                    yield Static("–", classes="nz-dash")
-                    yield Input(DEFAULTS["window_high"], id="window_high", compact=True)
-                yield Static("local rules set the real window", id="echo-window",
-                             classes="nz-echo", markup=False)
-                with Horizontal(classes="nz-row"):
-                    yield Label("Temp.")
-                    yield Input(DEFAULTS["temperature"], id="temperature", compact=True)
-                yield Static("", id="echo-temperature", classes="nz-echo", markup=False)
-                with Horizontal(classes="nz-row"):
-                    yield Label("Activity")
-                    yield Checkbox("ideal (no Davies)", id="ideal")
-                yield Static("", id="echo-plan", classes="nz-echo", markup=False)
+            yield NeutralizeForm(id="nz-form")
             with TabbedContent(id="nz-views", initial="view-plan"):
                 with TabPane("Plan", id="view-plan"):
                     yield PlanSummary(id="plan-summary")
@@ -204,6 +149,15 @@ class NeutralizeScreen(Screen):
     def on_mount(self) -> None:
         # Children may still be mounting when a mode is switched to very early.
         self.call_after_refresh(self._start)
+        self.watch(self.app, "data_version", self._data_changed, init=False)
+
+    def _data_changed(self, _version: int) -> None:
+        """Something was written: the bottles, the containers and the one loaded here."""
+        if not self._composed:
+            return
+        self._load_choices()
+        if self.container is not None and self._pending_label is None:
+            self._start_container_load(self.container.label)
 
     def _start(self) -> None:
         self._composed = True
@@ -303,6 +257,8 @@ class NeutralizeScreen(Screen):
         info.remove_class("-error")
         if message.catalog is not None:
             self._catalog = message.catalog
+        if self.container is None or self.container.label != message.info.label:
+            self._clear_plan()  # a plan of another sample is never shown for this one
         self.container = message.info
         self.sample_note = ""
         info.update(container_summary(self.container))
@@ -333,11 +289,7 @@ class NeutralizeScreen(Screen):
                 else f"measured pH {message.measured_ph:g}")
         self._set_status(f"✓ journal entry #{message.entry_id}: {message.label}, {done}")
         self.notify(f"Recorded journal entry #{message.entry_id} for {message.label}")
-        refresh = getattr(self.app, "refresh_data", None)
-        if callable(refresh):
-            refresh()
-        self._start_container_load(message.label)
-        self._load_choices()
+        self.app.refresh_data()  # every screen, this one included, reads the new state
 
     # -- form events -----------------------------------------------------------------------
     @on(Input.Changed)
@@ -346,8 +298,8 @@ class NeutralizeScreen(Screen):
                               "window_high", "temperature"):
             self._inputs_changed()
 
-    @on(Checkbox.Changed, "#ideal")
-    def _ideal_changed(self) -> None:
+    @on(Select.Changed, "#activity")
+    def _activity_changed(self) -> None:
         self._inputs_changed()
 
     @on(Select.Changed, "#sample-source")
@@ -383,23 +335,34 @@ class NeutralizeScreen(Screen):
     # -- actions ---------------------------------------------------------------------------
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
         if action == "record":
-            if self.container is None or self.plan is None:
-                return False
-            if not ContainerStatus(self.container.status).can_record_neutralization:
-                return False
-            if not self._plan_is_current():
-                return None
-            return True
+            # shown whenever a container is the sample; pressing it says why when it can't
+            return self.container is not None
         if action == "typed_sample":
             return self.container is not None
         return True
+
+    def record_blocker(self) -> str | None:
+        """Why the plan on screen cannot be recorded now, or None when it can."""
+        if self.container is None:
+            return "records are kept for a waste container: pick one as the sample"
+        status = ContainerStatus(self.container.status)
+        if not status.can_record_neutralization:
+            return f"{self.container.label} is {status.state}: no neutralization is recorded"
+        if self.plan is None:
+            return "no plan yet: give a reagent (and fix what is marked ✗)"
+        if not self._plan_is_current():
+            return "the plan shown is stale: fix the inputs marked ✗, or wait for the new plan"
+        return None
 
     def _plan_is_current(self) -> bool:
         return (not self.stale and self.live.settled and self.plan_state is not None
                 and self.plan_state == self._form_state())
 
     def action_record(self) -> None:
-        if self.check_action("record", ()) is not True:
+        why = self.record_blocker()
+        if why is not None:
+            self._set_status(f"✗ cannot record: {why}")
+            self.notify(f"Cannot record: {why}", severity="warning", timeout=6)
             return
         plan, container = self.plan, self.container
         plan_line = (f"planned: {plan.reagent.describe()}: to pH {plan.to_target.target_pH:g} "
@@ -441,14 +404,7 @@ class NeutralizeScreen(Screen):
 
     # -- recompute -------------------------------------------------------------------------
     def _form_state(self) -> FormState:
-        def text(wid: str) -> str:
-            return self.query_one(f"#{wid}", Input).value
-
-        fields = NeutralizeFields(
-            components=text("components"), volume=text("volume"),
-            temperature=text("temperature"), reagent=text("reagent"), target=text("target"),
-            window_low=text("window_low"), window_high=text("window_high"),
-            activity="ideal" if self.query_one("#ideal", Checkbox).value else "davies")
+        fields = self.query_one(NeutralizeForm).fields()
         return FormState(fields, self.container, self.sample_note, self.profile)
 
     def _inputs_changed(self) -> None:
@@ -509,6 +465,15 @@ class NeutralizeScreen(Screen):
         self.query_one(PHCurvePanel).show_curve(curve_data_from_plan(plan))
         self.query_one(CautionsPanel).show_cautions(plan.cautions, drain_plan=plan.drain_plan)
 
+    def _clear_plan(self) -> None:
+        """No plan on screen (another sample is being loaded)."""
+        self.plan = self.plan_state = self.disposal = None
+        self.stale = False
+        self.query_one(PlanSummary).show_plan(None, None)
+        self.query_one(StagesTable).show_plan(None)
+        self.query_one(PHCurvePanel).show_curve(None)
+        self.query_one(CautionsPanel).show_cautions(())
+
     def _mark_stale(self) -> None:
         if self.plan is None:
             return
@@ -519,18 +484,8 @@ class NeutralizeScreen(Screen):
                                                     drain_plan=self.plan.drain_plan, stale=True)
 
     def _show_field(self, name: str, error: str | None, echo: str) -> None:
-        widget = self.query_one(f"#echo-{name}", Static)
-        if name == "window" and not error:
-            echo = echo or "local rules set the real window"
-        if name in ("components", "volume") and self.container is not None:
-            widget.display = False
-            return
-        widget.update(f"✗ {error}" if error else echo)
-        widget.set_class(bool(error), "-error")
-        widget.display = bool(error or echo)
-        ids = ("window_low", "window_high") if name == "window" else (name,)
-        for wid in ids:
-            self.query_one(f"#{wid}", Input).set_class(bool(error), "-invalid")
+        self.query_one(NeutralizeForm).show_field(name, error, echo,
+                                                  typed=self.container is None)
 
     def _record_note(self) -> str:
         """The last journal entry recorded here, while its container is still loaded."""
@@ -575,11 +530,7 @@ class NeutralizeScreen(Screen):
         self._inputs_changed()
 
     def _set_sample_inputs_enabled(self, enabled: bool) -> None:
-        """Typed components and volume apply only without a container (hidden, not lost)."""
-        for wid in ("components", "volume"):
-            self.query_one(f"#{wid}", Input).disabled = not enabled
-            self.query_one(f"#row-{wid}").display = enabled
-            self.query_one(f"#echo-{wid}").display = enabled
+        self.query_one(NeutralizeForm).typed_sample(enabled)
 
     # -- the record ---------------------------------------------------------------------------
     def snapshot(self) -> dict:

@@ -7,6 +7,7 @@ from textual.message import Message
 
 from carboy.model.forms.neutralize import ContainerSample, conc_text
 from carboy.store.statuses import ContainerStatus
+from carboy.tui.wording import volume
 
 TYPED = "typed"
 TYPED_TITLE = "components typed in"
@@ -16,7 +17,8 @@ TYPED_TITLE = "components typed in"
 def sample_options(containers, choices) -> list[tuple[str, str]]:
     """The sample chooser: typed components, every container, bottles that can be a sample."""
     return ([(TYPED_TITLE, TYPED)]
-            + [(f"waste {label} ({status})", f"c:{label}") for label, status in containers]
+            + [(f"waste {label} ({ContainerStatus(status).words})", f"c:{label}")
+               for label, status in containers]
             + [(f"bottle {c.title}", f"b:{c.bottle_id}") for c in choices if c.kind == "sample"])
 
 
@@ -31,10 +33,11 @@ def container_summary(c: ContainerSample) -> str:
     """The lines under the sample chooser when a container is loaded."""
     comp = ", ".join(f"{k} {conc_text(n / c.volume_l)}" for k, n in c.moles.items()
                      if c.volume_l > 0)
-    head = (f"{c.label} · {c.status} · {c.volume_l:.3g} L of {c.capacity_l:.3g} L · "
+    status = ContainerStatus(c.status)
+    head = (f"{c.label} · {status.words} · {volume(c.volume_l)} of {volume(c.capacity_l)} · "
             f"{c.location}")
     if not ContainerStatus(c.status).can_record_neutralization:
-        head += f"\nstatus {c.status}: no neutralization can be recorded for it"
+        head += f"\n{c.label} is {status.state}: no neutralization can be recorded for it"
     return head + "\n" + (comp or "(no additions recorded)")
 
 

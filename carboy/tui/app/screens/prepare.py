@@ -136,6 +136,8 @@ class PrepareScreen(Screen):
 
     def on_mount(self) -> None:
         self.call_after_refresh(lambda: self.query_one("#source", Input).focus())
+        # the source bottle may have less in it now: read it again
+        self.watch(self.app, "data_version", lambda _v: self.live.changed(), init=False)
 
     # -- entry points -----------------------------------------------------------------
     def use_source(self, text: str) -> None:

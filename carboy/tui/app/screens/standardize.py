@@ -65,7 +65,7 @@ from carboy.tui.edge import describe
 
 INPUT_IDS = ("sz-titrant", "sz-standard", "sz-assay", "sz-blank")
 REPLICATES_TITLE = "Replicates: mass g  titre mL"
-PLACEHOLDER = "0.5106 25.02\n0,5098 g 24,97 mL\n…"
+PLACEHOLDER = "e.g. 0.5106 25.02\ne.g. 0,5098 g 24,97 mL"
 
 NO_RESULT = ("No result yet: give the titrant, the standard and at least one titration "
              "(mass of standard and titre, one per line).")
@@ -443,7 +443,8 @@ class StandardizeScreen(Screen):
             return (f"the storeroom's rule could not be read ({self.rule_error})"
                     if self.rule_error else "the storeroom's rule is still being read")
         if not BottleStatus(outcome.reading.bottle.status).is_usable:
-            return (f"bottle {outcome.reading.bottle.id} is {outcome.reading.bottle.status}: only a bottle in "
+            return (f"bottle {outcome.reading.bottle.id} is "
+                    f"{BottleStatus(outcome.reading.bottle.status).words}: only a bottle in "
                     "use takes a new strength")
         if self._already_recorded(outcome):
             return f"already recorded as journal entry #{self.last_journal_id}"

@@ -33,7 +33,7 @@ SEARCH_DELAY_S = 0.15
 """Pause after the last keystroke before the search runs (typing stays smooth)."""
 
 # key, header, width (the location takes what is left)
-COLUMNS = (("compound", "Compound", 8), ("label", "Label", 8), ("now", "Measured", 9),
+COLUMNS = (("id", "#", 5), ("compound", "Compound", 8), ("label", "Label", 8), ("now", "Measured", 9),
            ("check", "Strength", 11), ("left", "Left", 8), ("status", "Bottle", 7),
            ("location", "Location", 0))
 MIN_LOCATION_WIDTH = 8
@@ -41,6 +41,7 @@ MIN_LOCATION_WIDTH = 8
 
 def bottle_row(bottle: stock.Bottle) -> tuple:
     return (
+        Text(str(bottle.id), justify="right"),
         bottle.compound_key,
         short_strength(bottle.label_strength, bottle.strength_unit),
         short_strength(bottle.current_strength, bottle.strength_unit),
@@ -109,7 +110,7 @@ class StockScreen(Screen):
             "that needs attention.")
 
     BINDINGS = [
-        Binding("slash", "focus_search", "Search", id="stock.search"),
+        Binding("slash", "focus_search", "Search", id="stock.search", priority=True),
         Binding("n", "page('next')", "Next page", id="stock.next_page"),
         Binding("p", "page('prev')", "Previous page", id="stock.prev_page"),
         Binding("escape", "clear_search", "Clear search", id="stock.clear_search"),
@@ -336,7 +337,8 @@ class StockScreen(Screen):
         self.app.push_screen(CheckScreen())
 
     def action_focus_search(self) -> None:
-        self.query_one("#stock-search", Input).focus()
+        # at once, not after a refresh: keys typed right after "/" land in the box
+        self.set_focus(self.query_one("#stock-search", Input))
 
     def action_page(self, direction: str) -> None:
         self.load(direction)

@@ -41,6 +41,12 @@ NO_DRAIN_NAMES = {
     "cyanide": "cyanide", "sulfide": "sulfide", "explosive_residue": "perchlorate residue",
 }
 
+def stream_short(key: str) -> str:
+    """A stream in a word or two for the list (``HF/fluoride``), never its internal key."""
+    found = streams().get(key or "")
+    return found.name.split(" waste")[0] if found else (key or "—")
+
+
 @dataclass(frozen=True)
 class Detail:
     """One container as the detail pane shows it."""
@@ -264,7 +270,7 @@ class WasteScreen(Screen):
         table = self.query_one("#waste-table", DataTable)
         table.clear()
         for c in found:
-            table.add_row(c.label, container_mark(c.status), c.stream,
+            table.add_row(c.label, container_mark(c.status), stream_short(c.stream),
                           fill_cell(c.volume_l, c.capacity_l, c.full, c.nearly_full),
                           f"{litres(c.volume_l)} / {litres(c.capacity_l)}", c.location,
                           key=c.label)
@@ -431,5 +437,5 @@ class WasteScreen(Screen):
         self.app.call_from_thread(self._moved, label, status)
 
     def _moved(self, label: str, status: str) -> None:
-        self.notify(f"{label} is now {status}.", timeout=3)
+        self.notify(f"{label} is now {ContainerStatus(status).words}.", timeout=3)
         self.app.refresh_data()

@@ -64,6 +64,19 @@ class CurveData:
         return f"{self.reagent} added / {self.x_unit}"
 
 
+def even_ticks(value: float, most: int = 5) -> list[float]:
+    """Ticks from 0 past ``value`` at an even step of 1, 2, 2.5 or 5 × 10ⁿ, at most
+    ``most`` intervals (``6.8`` -> 0, 2, 4, 6, 8)."""
+    if not value > 0 or not np.isfinite(value):
+        return [0.0, 1.0]
+    rough = value / most
+    magnitude = 10.0 ** np.floor(np.log10(rough))
+    step = next(m * magnitude for m in (1.0, 2.0, 2.5, 5.0, 10.0)
+                if m * magnitude >= rough * (1 - 1e-9))
+    n = int(np.ceil(value / step - 1e-9))
+    return [float(round(k * step, 12)) for k in range(n + 1)]
+
+
 def reagent_axis(plan) -> tuple[str, float]:
     """The unit the x axis uses for ``plan``'s reagent, and the factor from mol to it.
 
@@ -103,7 +116,8 @@ def curve_key(data: CurveData | None, *, stale: bool = False) -> str:
     if data is None:
         return "No curve yet: complete the sample and the reagent."
     lo, hi = data.window
-    parts = [f"{WINDOW_MARK * 2} window pH {lo:g}–{hi:g} (local rules set the real one)"]
+    parts = [f"across: {data.x_label}",
+             f"{WINDOW_MARK * 2} window pH {lo:g}–{hi:g} (local rules set the real one)"]
     if data.target_x is not None:
         parts.append(f"│ to pH {data.target_pH:g}: {data.target_x:.4g} {data.x_unit}")
     else:
@@ -158,9 +172,11 @@ class PHCurve(PlotWidget):
             self.set_xlimits(0.0, 1.0)
             self.set_xlabel("reagent added")
             return
-        x0, x1 = 0.0, float(np.max(data.x)) or 1.0
+        ticks = even_ticks(float(np.max(data.x)))
+        x0, x1 = 0.0, ticks[-1]
         self.set_xlimits(x0, x1)
         self.set_xlabel(data.x_label)
+        self.set_xticks(ticks)
         edge_x = np.linspace(x0, x1, WINDOW_SAMPLES)
         for edge in data.window:
             self.scatter(edge_x, np.full_like(edge_x, edge), marker=WINDOW_MARK,
