@@ -18,6 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from carboy.model import numbers
 from carboy.model.catalog import molar_mass_of
 from carboy.model.metal_data import metal_data, unmodelled_cations
 from carboy.model.metals import solid_formulas
@@ -134,3 +135,23 @@ def metals_at_target(res, i: int, volume_l: float, totals, catalog,
                  for key, c in zip(res.metal_keys, res.dissolved_metal_molar[i].tolist())}
     return MetalReport(tuple(sludge), dissolved, float(res.metal_oh_molar[i]) * volume_l,
                        missing, _merged(found, res, i), warnings, (ASSUMPTION,))
+
+
+def metal_lines(sludge: tuple[SludgeItem, ...], dissolved_mg_l: dict, hydroxide_mol: float,
+                ph: float) -> tuple[tuple[str, str], ...]:
+    """What a front end shows of the metals in the state the dose to the target leaves
+    (at ``ph``), as (heading, text) lines: the sludge, the metal left dissolved and the
+    metals' share of the dose (none without metals)."""
+    lines = []
+    for item in sludge:
+        lines.append(("sludge", f"{item.solid}: {numbers.figures(item.mol, 3)} mol, about "
+                                f"{numbers.mass(item.dry_mass_g)} dry, in the whole batch"))
+    if dissolved_mg_l:
+        left = ", ".join(f"{element_of(k)} {numbers.figures(v, 2)} mg/L"
+                         for k, v in dissolved_mg_l.items())
+        lines.append(("dissolved", f"at pH {ph:.2f}: {left} (free ion and hydroxo "
+                                   "complexes)"))
+    if hydroxide_mol > 0:
+        lines.append(("metals' OH-", f"{numbers.figures(hydroxide_mol, 3)} mol of the dose "
+                                     "goes into the metals' hydroxides"))
+    return tuple(lines)

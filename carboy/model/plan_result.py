@@ -27,7 +27,7 @@ import numpy as np
 from carboy.model.batch_heat import BatchHeat
 from carboy.model.cautions import Caution
 from carboy.model.mixture import Mixture
-from carboy.model.plan_metals import SludgeItem
+from carboy.model.plan_metals import SludgeItem, metal_lines
 from carboy.model.precipitates import Precipitate, SaltLimit
 from carboy.model.reagent_reach import Reach
 from carboy.model.reagents import Reagent
@@ -138,6 +138,13 @@ class Plan:
     """Soluble salts at the target against their solubility at the batch temperature."""
     reagent_reach: Reach | None = None
     """With a carbonate reagent: the protons it cannot take (not in the full dose)."""
+
+    def metal_lines(self) -> tuple[tuple[str, str], ...]:
+        """The metals at the target for a front end: (heading, text) lines
+        (:func:`carboy.model.plan_metals.metal_lines`); none without metals."""
+        ph = self.to_target.pH if self.to_target.reachable else self.initial_pH
+        return metal_lines(self.sludge, self.dissolved_metals_mg_l, self.metal_hydroxide_mol,
+                           ph)
 
     def to_dict(self) -> dict:
         lo, hi = self.window_doses
