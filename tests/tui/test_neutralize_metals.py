@@ -27,18 +27,24 @@ def screen_lines(app) -> list[str]:
             for strip in app.screen._compositor.render_strips()]
 
 
+async def typed_plan(app, pilot, **fields) -> NeutralizeScreen:
+    """The Neutralize screen with ``fields`` typed in (components, volume, reagent...) and
+    planned."""
+    app.action_go("neutralize")
+    await wait_for(pilot, lambda: isinstance(app.screen, NeutralizeScreen)
+                   and app.screen._composed)
+    screen = app.screen
+    for wid, text in fields.items():
+        await set_field(pilot, screen, wid, text)
+    await settled(pilot, screen)
+    return screen
+
+
 async def test_the_plan_of_a_zinc_waste_shows_its_sludge_and_dissolved_zinc(demo_db):
     app = make_app(demo_db, today=DEMO_TODAY, who="tester")
     async with app.run_test(size=SIZE) as pilot:
-        app.action_go("neutralize")
-        await wait_for(pilot, lambda: isinstance(app.screen, NeutralizeScreen)
-                       and app.screen._composed)
-        screen = app.screen
-        await set_field(pilot, screen, "components", "HCl=0.1M ZnCl2=0.05M")
-        await set_field(pilot, screen, "volume", "1 L")
-        await set_field(pilot, screen, "reagent", "NaOH=1M")
-        await set_field(pilot, screen, "target", "9")
-        await settled(pilot, screen)
+        screen = await typed_plan(app, pilot, components="HCl=0.1M ZnCl2=0.05M",
+                                  volume="1 L", reagent="NaOH=1M", target="9")
         plan = screen.plan
         assert plan is not None and plan.sludge
         # the dose counts the zinc hydroxide: 0.2 mol, not the 0.1 of the acid alone
@@ -63,14 +69,8 @@ async def test_the_plan_of_a_zinc_waste_shows_its_sludge_and_dissolved_zinc(demo
 async def test_a_plan_without_metals_has_no_metal_lines(demo_db):
     app = make_app(demo_db, today=DEMO_TODAY, who="tester")
     async with app.run_test(size=SIZE) as pilot:
-        app.action_go("neutralize")
-        await wait_for(pilot, lambda: isinstance(app.screen, NeutralizeScreen)
-                       and app.screen._composed)
-        screen = app.screen
-        await set_field(pilot, screen, "components", "HCl=0.1M")
-        await set_field(pilot, screen, "volume", "1 L")
-        await set_field(pilot, screen, "reagent", "NaOH=1M")
-        await settled(pilot, screen)
+        screen = await typed_plan(app, pilot, components="HCl=0.1M", volume="1 L",
+                                  reagent="NaOH=1M")
         text = screen.query_one(PlanSummary).text
         assert screen.plan is not None and "To pH 7" in text
         assert "Sludge" not in text and "Dissolved" not in text
