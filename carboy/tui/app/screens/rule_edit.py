@@ -41,6 +41,10 @@ class ValueDialog(FormDialog):
     change, or ``None`` when cancelled.  Subclasses give the words and two calls:
     :meth:`understood` (raises on a bad value) and :meth:`store_value`."""
 
+    HELP = ("Change one of the storeroom's disposal rules, or its name printed on paper. The "
+            "journal keeps the old and new value; carboy's placeholders are not your "
+            "institution's rules.")
+
     BINDINGS = [
         Binding("ctrl+s", "submit", "Change it", id="rule_edit.submit"),
         Binding("escape", "cancel", "Cancel", id="rule_edit.cancel"),
