@@ -46,7 +46,6 @@ from carboy.tui.app.screens.neutralize_parts import (
     TYPED,
     ChoicesLoaded,
     ContainerLoaded,
-    PlanWithMetals,
     Recorded,
     container_summary,
     reagent_options,
@@ -138,7 +137,7 @@ class NeutralizeScreen(Screen):
             yield NeutralizeForm(id="nz-form")
             with TabbedContent(id="nz-views", initial="view-plan"):
                 with TabPane("Plan", id="view-plan"):
-                    yield PlanWithMetals(id="plan-summary")
+                    yield PlanSummary(id="plan-summary")
                 with TabPane("Stages", id="view-stages"):
                     yield StagesTable(id="stages")
                 with TabPane("Curve", id="view-curve"):

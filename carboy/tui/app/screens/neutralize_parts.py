@@ -3,13 +3,10 @@ summary, the plan summary with the metals, and the messages its workers post."""
 
 from __future__ import annotations
 
-from rich.text import Text
 from textual.message import Message
-from textual.widgets import Static
 
 from carboy.model.forms.neutralize import ContainerSample, conc_text
 from carboy.store.statuses import ContainerStatus
-from carboy.tui.app.widgets.plan_view import PlanSummary, disposal_text, plan_text
 from carboy.tui.wording import volume
 
 TYPED = "typed"
@@ -57,33 +54,6 @@ def window_values(old, new, boxes) -> list[str]:
         typed = box.value.strip()
         out.append(f"{now:g}" if typed in (f"{before:g}", default) else box.value)
     return out
-
-
-# -- the plan with its metals -------------------------------------------------------------
-
-def metals_text(plan) -> Text:
-    """The metals in the state the dose to the target leaves: sludge, metal left
-    dissolved, their share of the dose (empty without metals)."""
-    t = Text()
-    for head, body in plan.metal_lines():
-        t.append(f"{head[:1].upper() + head[1:]:<13}", style="bold")
-        t.append(body + "\n")
-    return t
-
-
-class PlanWithMetals(PlanSummary):
-    """The plan summary, with the metals (:func:`metals_text`) under the plan's figures
-    and above the plan under the disposal rules."""
-
-    def show_plan(self, plan, disposal=None) -> None:
-        if plan is None or not plan.metal_lines():
-            super().show_plan(plan, disposal)
-            return
-        text = plan_text(plan)
-        text.append_text(metals_text(plan))
-        if disposal is not None:
-            text.append_text(disposal_text(disposal))
-        self.query_one("#plan-text", Static).update(text)
 
 
 # -- messages ------------------------------------------------------------------------------
