@@ -41,3 +41,18 @@ def copy_demo(demo_template, tmp_path):
         return target
 
     return copy
+
+
+def pytest_xdist_make_scheduler(config, log):
+    """Hand out tests by work stealing when the run uses xdist's default ``load`` mode.
+
+    ``load`` sends each worker long runs of consecutive tests, counted not timed, so one
+    worker would get nearly all the slow app tests (tests/tui) and the other sit idle for
+    a minute.  With work stealing an idle worker takes half of what the other still has
+    queued.  (``--dist worksteal`` in the pytest options does the same; then this is not
+    used.)"""
+    if config.getoption("dist") != "load":
+        return None
+    from xdist.scheduler import WorkStealingScheduling
+
+    return WorkStealingScheduling(config, log)
