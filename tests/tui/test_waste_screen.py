@@ -46,6 +46,17 @@ async def type_into(pilot, screen, field: str, text: str) -> None:
     await pilot.press(text[-1])
 
 
+async def add_dialog(app, pilot, wait_for, compound: str, conc: str, volume: str):
+    """The addition dialog opened by its key, with its three fields filled as typed."""
+    await pilot.press("a")
+    await wait_for(pilot, lambda: isinstance(app.screen, AddWasteScreen))
+    form = app.screen
+    for field, text in (("add-compound", compound), ("add-conc", conc),
+                        ("add-volume", volume)):
+        await type_into(pilot, form, field, text)
+    return form
+
+
 async def test_bad_values_are_named_in_place_then_an_addition_is_logged(make, wait_for,
                                                                        demo_db):
     """The dialog's wiring: each error beside its field, the typed text kept, nothing
@@ -55,12 +66,7 @@ async def test_bad_values_are_named_in_place_then_an_addition_is_logged(make, wa
     async with app.run_test(size=(80, 24)) as pilot:
         screen = await on_waste(app, pilot, wait_for, "OA-02")
         assert "HCl" not in detail_text(screen)
-        await pilot.press("a")
-        await wait_for(pilot, lambda: isinstance(app.screen, AddWasteScreen))
-        form = app.screen
-        await type_into(pilot, form, "add-compound", "HCl")
-        await type_into(pilot, form, "add-conc", "1 M")
-        await type_into(pilot, form, "add-volume", "25 q")
+        form = await add_dialog(app, pilot, wait_for, "HCl", "1 M", "25 q")
         await pilot.press("ctrl+s")
         await wait_for(pilot, lambda: "✗" in form.row("add-volume").echo_text)
         assert "'25 q'" in form.row("add-volume").echo_text
@@ -84,12 +90,7 @@ async def test_bad_values_are_named_in_place_then_an_addition_is_logged(make, wa
         with open_database(demo_db) as store:
             assert len(waste.additions(store, "OA-02")) == 4  # nothing was stored
         # a good addition, typed with decimal commas, shows in the container
-        await pilot.press("a")
-        await wait_for(pilot, lambda: isinstance(app.screen, AddWasteScreen))
-        form = app.screen
-        await type_into(pilot, form, "add-compound", "HCl")
-        await type_into(pilot, form, "add-conc", "0,1 M")
-        await type_into(pilot, form, "add-volume", "1,5 L")
+        form = await add_dialog(app, pilot, wait_for, "HCl", "0,1 M", "1,5 L")
         await wait_for(pilot, lambda: "1.5 L" in form.row("add-volume").echo_text)
         assert "0.1 M" in form.row("add-conc").echo_text  # the decimal comma understood
         assert "hydrochloric acid" in form.row("add-compound").echo_text
