@@ -43,6 +43,7 @@ def copy_demo(demo_template, tmp_path):
     return copy
 
 
+@pytest.hookimpl(optionalhook=True)  # a hook of pytest-xdist: unused when it is not loaded
 def pytest_xdist_make_scheduler(config, log):
     """Hand out tests by work stealing when the run uses xdist's default ``load`` mode.
 
