@@ -9,7 +9,7 @@ import json
 import pytest
 from pypdf import PdfReader
 
-from carboy.store import demo, journal
+from carboy.store import journal
 from carboy.store.db import open_database
 from carboy.tui.launch import main
 
@@ -18,8 +18,8 @@ A4_PT = (595.28, 841.89)
 
 
 @pytest.fixture
-def demo_db(tmp_path):
-    return demo.create_demo_database(tmp_path / "demo.db")
+def demo_db(copy_demo):
+    return copy_demo()
 
 
 def run(capsys, *argv):

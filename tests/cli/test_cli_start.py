@@ -11,7 +11,6 @@ import sys
 
 import pytest
 
-from carboy.store import demo
 from carboy.tui.cli import main as cli_main
 from carboy.tui.launch import main
 
@@ -71,8 +70,8 @@ def test_a_wrong_command_name_still_lists_every_command(capsys):
 
 
 @pytest.fixture
-def demo_db(tmp_path):
-    return str(demo.create_demo_database(tmp_path / "demo.db"))
+def demo_db(copy_demo):
+    return str(copy_demo())
 
 
 def _json(capsys, *argv):

@@ -8,7 +8,6 @@ import json
 
 import pytest
 
-from carboy.store import demo
 from carboy.store.db import open_database
 from carboy.tui.launch import main
 
@@ -22,8 +21,8 @@ def db(tmp_path):
 
 
 @pytest.fixture
-def demo_db(tmp_path):
-    return str(demo.create_demo_database(tmp_path / "demo.db"))
+def demo_db(copy_demo):
+    return str(copy_demo())
 
 
 def run(capsys, *argv):

@@ -28,8 +28,8 @@ def run(capsys, *argv):
 
 
 @pytest.fixture
-def demo_db(tmp_path):
-    return str(demo.create_demo_database(tmp_path / "demo.db"))
+def demo_db(copy_demo):
+    return str(copy_demo())
 
 
 @pytest.fixture(autouse=True)

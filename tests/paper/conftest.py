@@ -14,8 +14,9 @@ TODAY = demo.DEMO_TODAY
 
 
 @pytest.fixture
-def demo_path(tmp_path):
-    return demo.create_demo_database(tmp_path / "demo.db")
+def demo_path(copy_demo):
+    """A private copy of the demo storeroom."""
+    return copy_demo()
 
 
 @pytest.fixture

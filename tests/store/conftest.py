@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import pytest
 
-from carboy.store import demo
 from carboy.store.db import open_database
 
 
@@ -22,8 +21,9 @@ def store(db_path):
 
 
 @pytest.fixture
-def demo_path(tmp_path):
-    return demo.create_demo_database(tmp_path / "demo.db")
+def demo_path(copy_demo):
+    """A private copy of the demo storeroom."""
+    return copy_demo()
 
 
 @pytest.fixture

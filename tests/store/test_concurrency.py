@@ -14,13 +14,17 @@ from carboy.store import journal, waste
 from carboy.store.db import open_database
 
 WORKERS = 8
-WRITES = 200
+WRITES = 50
+"""Writes per process.  The eight start together (a barrier), so they contend from the
+first write; without the barrier, 50 writes each would mostly run one process after the
+other."""
 
 
-def _worker(path, n, results):
+def _worker(path, n, results, start):
     try:
         store = open_database(path)
         store.origin = "local"
+        start.wait(timeout=60)  # every process connected: they start writing together
         for i in range(WRITES):
             tag = f"w{n}-{i}"
             if i % 2:
@@ -34,13 +38,15 @@ def _worker(path, n, results):
 
 
 @pytest.mark.slow
-def test_eight_processes_two_hundred_writes_each(db_path):
+def test_eight_processes_writing_at_once_lose_nothing(db_path):
     setup = open_database(db_path)
     waste.new_container(setup, "SHARED", capacity="100 L", who="t")
     setup.close()
     ctx = multiprocessing.get_context("fork")
     results = ctx.Queue()
-    procs = [ctx.Process(target=_worker, args=(db_path, n, results)) for n in range(WORKERS)]
+    start = ctx.Barrier(WORKERS)
+    procs = [ctx.Process(target=_worker, args=(db_path, n, results, start))
+             for n in range(WORKERS)]
     for p in procs:
         p.start()
     outcome = dict(results.get(timeout=120) for _ in procs)
@@ -71,7 +77,9 @@ def _crash_writer(path, log_path, run):
             if i % 3 == 0:
                 waste.add(store, "CRASH", "HNO3=0.1M", "1 mL", note=tag, who="k")
             else:
-                journal.append(store, "note", summary=tag, snapshot={"pad": "x" * (i % 500)},
+                # rows of every size from the first writes on (some span two pages)
+                journal.append(store, "note", summary=tag,
+                               snapshot={"pad": "x" * (i * 137 % 500 + 3000 * (i % 7 == 1))},
                                who="k")
             log.write(tag + "\n")     # only after the commit returned
             log.flush()
@@ -87,15 +95,23 @@ def test_sigkill_at_random_moments_loses_nothing_committed(tmp_path):
     setup.close()
     ctx = multiprocessing.get_context("fork")
     rng = random.Random(20250314)
-    for run in range(20):
+
+    def committed() -> list[str]:
+        return log_path.read_text(encoding="utf-8").split() if log_path.exists() else []
+
+    run = 0
+    # at least 20 kills, each at a random moment of the first ~60 ms (opening the file, or
+    # one of the first few dozen writes), and on until more than 100 writes have committed
+    while run < 20 or len(committed()) <= 100:
+        assert run < 400, "the writers hardly got to write"
         proc = ctx.Process(target=_crash_writer, args=(path, log_path, run))
         proc.start()
-        time.sleep(rng.uniform(0.02, 0.25))
+        time.sleep(rng.uniform(0.005, 0.06))
         os.kill(proc.pid, signal.SIGKILL)
         proc.join()
         assert proc.exitcode == -signal.SIGKILL
-    committed = log_path.read_text(encoding="utf-8").split()
-    assert len(committed) > 100
+        run += 1
+    committed = committed()
     store = open_database(path)
     assert store.integrity_problems() == []
     present = {a.note for a in waste.additions(store, "CRASH")}

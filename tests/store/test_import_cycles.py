@@ -8,6 +8,7 @@ since they never run.  Importing ``a.b.c`` also imports the packages ``a`` and `
 from __future__ import annotations
 
 import ast
+import functools
 from pathlib import Path
 
 import carboy
@@ -74,17 +75,23 @@ def _targets(node: ast.Import | ast.ImportFrom, here: str, is_package: bool,
 
 
 def import_graph() -> dict[str, set[str]]:
-    """Module -> the carboy modules it imports (anywhere in its text)."""
+    """Module -> the carboy modules it imports (anywhere in its text); a fresh copy of the
+    graph read once per test process."""
+    return {name: set(edges) for name, edges in _read_graph().items()}
+
+
+@functools.cache
+def _read_graph() -> dict[str, frozenset[str]]:
     files = {module_name(p): p for p in sorted(ROOT.rglob("*.py"))}
     modules = set(files)
-    graph: dict[str, set[str]] = {}
+    graph: dict[str, frozenset[str]] = {}
     for name, path in files.items():
         tree = ast.parse(path.read_text(encoding="utf-8"), filename=str(path))
         is_package = path.name == "__init__.py"
         edges: set[str] = set()
         for node in _imports(tree):
             edges |= _targets(node, name, is_package, modules)
-        graph[name] = edges - {name}
+        graph[name] = frozenset(edges - {name})
     return graph
 
 

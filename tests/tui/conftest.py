@@ -3,14 +3,13 @@
 from __future__ import annotations
 
 import os
-import shutil
 import time
 from collections.abc import Callable
 from pathlib import Path
 
 import pytest
 
-from carboy.store.demo import DEMO_TODAY, create_demo_database
+from carboy.store.demo import DEMO_TODAY
 
 WHO = "tester"
 
@@ -30,19 +29,10 @@ def clean_environment(monkeypatch):
     time.tzset()
 
 
-@pytest.fixture(scope="session")
-def demo_template(tmp_path_factory) -> Path:
-    path = tmp_path_factory.mktemp("demo-template") / "demo.db"
-    create_demo_database(path, today=DEMO_TODAY)
-    return path
-
-
 @pytest.fixture
-def demo_db(demo_template, tmp_path) -> Path:
-    """A private copy of the demo storeroom (the template is closed, its WAL merged)."""
-    path = tmp_path / "demo.db"
-    shutil.copyfile(demo_template, path)
-    return path
+def demo_db(copy_demo) -> Path:
+    """A private copy of the demo storeroom."""
+    return copy_demo()
 
 
 @pytest.fixture
@@ -64,6 +54,14 @@ async def wait_for(pilot, condition: Callable[[], bool], timeout: float = 5.0) -
         await pilot.pause(0.02)
 
 
+async def loaded(pilot, timeout: float = 5.0) -> None:
+    """Let the app run until no worker is busy (a screen's data has arrived) and the
+    messages that followed are handled: a condition, not a fixed sleep."""
+    app = pilot.app
+    await wait_for(pilot, lambda: not any(w.is_running for w in app.workers), timeout)
+    await pilot.pause()
+
+
 def text_of(widget) -> str:
     """What a Static shows, as plain text."""
     return str(widget.render())
@@ -72,6 +70,11 @@ def text_of(widget) -> str:
 @pytest.fixture(name="wait_for")
 def wait_for_fixture():
     return wait_for
+
+
+@pytest.fixture(name="loaded")
+def loaded_fixture():
+    return loaded
 
 
 @pytest.fixture(name="who")

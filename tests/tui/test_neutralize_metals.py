@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import pytest
 from test_neutralize_screen import set_field, settled, wait_for
-from textual.widgets import TabbedContent
+from textual.widgets import Input, TabbedContent
 
 from carboy.store.demo import DEMO_TODAY, create_demo_database
 from carboy.tui.app.app import make_app
@@ -34,8 +34,10 @@ async def typed_plan(app, pilot, **fields) -> NeutralizeScreen:
     await wait_for(pilot, lambda: isinstance(app.screen, NeutralizeScreen)
                    and app.screen._composed)
     screen = app.screen
-    for wid, text in fields.items():
-        await set_field(pilot, screen, wid, text)
+    *first, (last, text) = fields.items()
+    for wid, value in first:  # set at once; the last one typed, so the form is read once
+        screen.query_one(f"#{wid}", Input).value = value
+    await set_field(pilot, screen, last, text)
     await settled(pilot, screen)
     return screen
 
@@ -60,7 +62,7 @@ async def test_the_plan_of_a_zinc_waste_shows_its_sludge_and_dissolved_zinc(demo
         summary.scroll_home(animate=False)
         seen = set()
         for _ in range(12):
-            await pilot.pause(0.05)
+            await pilot.pause()  # the scrolled plan is drawn before the pause returns
             drawn = "\n".join(screen_lines(app))
             seen |= {w for w in ("Sludge", "Zn(OH)2", "Dissolved", "mg/L") if w in drawn}
             summary.scroll_page_down(animate=False)

@@ -80,7 +80,10 @@ def echo(screen: NeutralizeScreen, name: str) -> str:
     return str(screen.query_one(f"#echo-{name}", Static).content)
 
 
-async def test_container_plan_has_dose_and_disposal_note(demo_db):
+async def test_container_plan_reaches_every_view_and_an_older_result_never_wins(demo_db):
+    """The plan of a container in its figures, cautions, echo and curve; an older result
+    arriving late never replaces it; another container gets its own plan.  (The form's
+    reading and echoes: test_forms_neutralize.)"""
     app = make_app(demo_db, today=DEMO_TODAY, who="tester")
     async with app.run_test(size=SIZE) as pilot:
         screen = await open_container(app, pilot, "MA-01")
@@ -97,20 +100,33 @@ async def test_container_plan_has_dose_and_disposal_note(demo_db):
         assert "safety office" in cautions
         assert "understood: NaOH 1 M solution" in echo(screen, "reagent")
         assert screen.check_action("record", ()) is True and screen.record_blocker() is None
-        # a fluoride container: the drain verdict reaches every view, nothing to record
+        # the curve view: the curve, window, target and equivalence points
+        await pilot.press("ctrl+t", "ctrl+t")
+        await wait_for(pilot, lambda: screen.query_one("#nz-views").active == "view-curve")
+        plot = screen.query_one(PHCurve)
+        data = plot.data
+        assert data is not None and len(data.x) == len(screen.plan.curve) == CURVE_POINTS
+        assert data.window == (6.0, 9.0)
+        assert data.x_unit == "L"
+        assert data.target_x == pytest.approx(screen.plan.to_target.reagent_volume_l)
+        assert [m.tag for m in data.equivalence] == ["E1", "E2"]
+        assert data.pH[0] == pytest.approx(screen.plan.initial_pH)
+        key = str(screen.query_one("#curve-key", Static).content)
+        assert "window pH 6–9" in key and "E1" in key
+        # a result computed for older inputs, arriving late, is dropped
+        shown = screen.plan
+        old = compute(FormState(NeutralizeFields(reagent="NaOH=2M"), screen.container),
+                      generation=screen.live.generation - 1)
+        assert old.value is not None
+        screen.post_message(Computed(old))
+        await pilot.pause()  # the message is handled before the pause returns
+        assert screen.plan is shown
+        # another container: its own plan, never the last one's
         screen = await open_container(app, pilot, "HF-04")
         assert screen.plan is None or screen.plan_state.container.label == "HF-04"
         await settled(pilot, screen)
-        assert screen.plan_state.container.label == "HF-04"  # never MA-01's plan
+        assert screen.plan_state.container.label == "HF-04"
         assert screen.plan is not None and not screen.plan.drain_plan
-        panel = screen.query_one(CautionsPanel)
-        assert panel.has_class("-no-drain")
-        assert "NOT FOR DRAIN DISPOSAL" in panel.text and "[not-a-drain-plan]" in panel.text
-        assert "NOT FOR DRAIN DISPOSAL" in screen.query_one(PlanSummary).text
-        # held for licensed disposal: the key says why nothing can be recorded
-        assert "held for licensed disposal" in screen.record_blocker()
-        await pilot.press("ctrl+r")
-        assert "cannot record" in str(screen.query_one("#nz-status", Static).content)
 
 
 async def test_bad_reagent_is_explained_in_place_and_the_plan_goes_stale(demo_db):
@@ -140,8 +156,8 @@ async def test_typed_sample_with_bad_volume_keeps_the_text(demo_db):
         await wait_for(pilot, lambda: isinstance(app.screen, NeutralizeScreen)
                        and app.screen._composed)
         screen = app.screen
-        await set_field(pilot, screen, "components", "H2SO4=0.05M NaH2PO4=10mM")
-        await set_field(pilot, screen, "volume", "1,5 L")
+        for wid, text in (("components", "H2SO4=0.05M NaH2PO4=10mM"), ("volume", "1,5 L")):
+            screen.query_one(f"#{wid}", Input).value = text
         await set_field(pilot, screen, "reagent", "NaOH@97%")
         await settled(pilot, screen)
         assert screen.plan is not None
@@ -154,12 +170,32 @@ async def test_typed_sample_with_bad_volume_keeps_the_text(demo_db):
         assert screen.stale
 
 
-async def test_record_of_a_treatment_appends_a_journal_entry(demo_db):
+def journal_count(path) -> int:
+    store = open_database(path)
+    try:
+        return journal.count(store, kind="neutralization")
+    finally:
+        store.close()
+
+
+async def test_a_cancelled_record_writes_nothing_and_a_confirmed_one_is_journaled(demo_db):
     app = make_app(demo_db, today=DEMO_TODAY, who="tester")
     async with app.run_test(size=SIZE) as pilot:
         screen = await open_container(app, pilot, "MA-01")
         await set_field(pilot, screen, "reagent", "NaOH=1M")
         await settled(pilot, screen)
+        before = journal_count(demo_db)
+        # cancelled: Enter, Enter gives the safe answer twice, and nothing is written
+        await pilot.press("ctrl+r")
+        await wait_for(pilot, lambda: isinstance(app.screen, RecordDialog))
+        app.screen.query_one("#added", Input).value = "4 L"
+        await pilot.press(*"7.1", "enter")
+        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
+        await pilot.press("enter", "enter")
+        await wait_for(pilot, lambda: app.screen is screen)
+        await wait_for(pilot, lambda: not any(w.is_running for w in app.workers))
+        assert journal_count(demo_db) == before
+        # recorded: bad readings are refused in place, then an explicit yes writes it
         await pilot.press("ctrl+r")
         await wait_for(pilot, lambda: isinstance(app.screen, RecordDialog))
         dialog = app.screen
@@ -169,9 +205,8 @@ async def test_record_of_a_treatment_appends_a_journal_entry(demo_db):
         assert app.screen is dialog  # a bad reading is never accepted
         dialog.query_one("#who", Input).value = "a.helper"  # who did the work
         dialog.query_one("#bottle", Input).value = ""  # the reagent was not from a bottle
-        dialog.query_one("#measured", Input).value = ""
-        await pilot.press(*"7,2")
-        await pilot.press("enter")
+        dialog.query_one("#measured", Input).value = "7,"
+        await pilot.press("2", "enter")
         assert "added" in str(dialog.query_one("#measured-echo", Static).content)
         assert app.screen is dialog  # a pH without the amount added is not a treatment
         dialog.query_one("#added", Input).value = "4.6 L"
@@ -203,66 +238,8 @@ async def test_record_of_a_treatment_appends_a_journal_entry(demo_db):
         4.58, rel=0.01)
 
 
-async def test_record_can_be_cancelled_and_writes_nothing(demo_db):
-    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
-    async with app.run_test(size=SIZE) as pilot:
-        screen = await open_container(app, pilot, "MA-01")
-        await set_field(pilot, screen, "reagent", "NaOH=1M")
-        await settled(pilot, screen)
-        store = open_database(demo_db)
-        before = journal.count(store, kind="neutralization")
-        store.close()
-        await pilot.press("ctrl+r")
-        await wait_for(pilot, lambda: isinstance(app.screen, RecordDialog))
-        app.screen.query_one("#added", Input).value = "4 L"
-        await pilot.press(*"7.1", "enter")
-        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
-        await pilot.press("enter", "enter")  # Enter, Enter: the safe answer, twice
-        await wait_for(pilot, lambda: app.screen is screen)
-        await pilot.pause(0.2)
-    store = open_database(demo_db)
-    try:
-        assert journal.count(store, kind="neutralization") == before
-    finally:
-        store.close()
-
-
-async def test_plot_gets_the_curve_window_target_and_equivalence_points(demo_db):
-    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
-    async with app.run_test(size=SIZE) as pilot:
-        screen = await open_container(app, pilot, "MA-01")
-        await set_field(pilot, screen, "reagent", "NaOH=1M")
-        await settled(pilot, screen)
-        await pilot.press("ctrl+t", "ctrl+t")
-        await pilot.pause(0.2)
-        plot = screen.query_one(PHCurve)
-        data = plot.data
-        assert data is not None and len(data.x) == len(screen.plan.curve) == CURVE_POINTS
-        assert data.window == (6.0, 9.0)
-        assert data.x_unit == "L"
-        assert data.target_x == pytest.approx(screen.plan.to_target.reagent_volume_l)
-        assert [m.tag for m in data.equivalence] == ["E1", "E2"]
-        assert data.pH[0] == pytest.approx(screen.plan.initial_pH)
-        key = str(screen.query_one("#curve-key", Static).content)
-        assert "window pH 6–9" in key and "E1" in key
-
-
-async def test_an_older_result_never_overwrites_a_newer_one(demo_db):
-    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
-    async with app.run_test(size=SIZE) as pilot:
-        screen = await open_container(app, pilot, "MA-01")
-        await set_field(pilot, screen, "reagent", "NaOH=1M")
-        await settled(pilot, screen)
-        shown = screen.plan
-        old = compute(FormState(NeutralizeFields(reagent="NaOH=2M"), screen.container),
-                      generation=screen.live.generation - 1)
-        assert old.value is not None
-        screen.post_message(Computed(old))
-        await pilot.pause(0.2)
-        assert screen.plan is shown
-
-
-async def test_the_most_serious_caution_shows_in_one_line_and_one_key_opens_them_all(demo_db):
+async def test_a_fluoride_container_is_no_drain_plan_and_its_cautions_are_one_key_away(
+        demo_db):
     from carboy.tui.app.widgets.plan_view import CautionsScreen
 
     app = make_app(demo_db, today=DEMO_TODAY, who="tester")
@@ -270,7 +247,14 @@ async def test_the_most_serious_caution_shows_in_one_line_and_one_key_opens_them
         screen = await open_container(app, pilot, "HF-04")
         await set_field(pilot, screen, "reagent", "NaOH=1M")
         await settled(pilot, screen)
+        # the drain verdict reaches every view, nothing to record
+        assert screen.plan_state.container.label == "HF-04"
+        assert screen.plan is not None and not screen.plan.drain_plan
         panel = screen.query_one(CautionsPanel)
+        assert panel.has_class("-no-drain")
+        assert "NOT FOR DRAIN DISPOSAL" in panel.text and "[not-a-drain-plan]" in panel.text
+        assert "NOT FOR DRAIN DISPOSAL" in screen.query_one(PlanSummary).text
+        # the most serious caution in one line on screen; one key opens them all
         line = panel.query_one("#cautions-headline", Static)
         first = str(line.content)
         assert line.region.height == 1 and line.region.y < 24  # on screen, one line
@@ -281,6 +265,10 @@ async def test_the_most_serious_caution_shows_in_one_line_and_one_key_opens_them
         assert all(f"[{c.code}]" in shown for c in screen.plan.cautions)
         await pilot.press("escape")
         await wait_for(pilot, lambda: app.screen is screen)
+        # held for licensed disposal: the key says why nothing can be recorded
+        assert "held for licensed disposal" in screen.record_blocker()
+        await pilot.press("ctrl+r")
+        assert "cannot record" in str(screen.query_one("#nz-status", Static).content)
 
 
 def test_the_curve_axis_has_even_ticks_that_cover_the_dose():

@@ -33,6 +33,11 @@ async def test_recipe_matches_the_model_and_bad_fields_are_named(make, wait_for)
         screen = app.screen
         assert isinstance(screen, PrepareScreen)
         screen.query_one("#source", Input).value = "H2SO4=96%"
+        # the source alone: echoed, the empty fields not marked wrong, no recipe to record
+        await wait_for(pilot, lambda: screen.results > 0 and screen.live.settled)
+        assert "H2SO4 96 % w/w" in screen.query_one("#row-source").echo_text
+        assert not screen.query_one("#row-target").has_class("-invalid")
+        assert screen.outcome is None and not screen.check_action("record", ())
         screen.query_one("#target", Input).value = "1 M"
         screen.query_one("#volume", Input).value = "1 L"
         await wait_for(pilot, lambda: screen.outcome is not None)

@@ -33,15 +33,17 @@ def unreadable(app) -> list[tuple[int, str]]:
 
 
 @pytest.mark.parametrize("no_color", [True, False], ids=["NO_COLOR", "16 colours"])
-async def test_every_screen_is_readable(make, monkeypatch, no_color):
+async def test_every_screen_is_readable(make, loaded, monkeypatch, no_color):
+    """One app per colour mode visits every screen by its key (so each key is also seen
+    to lead to its screen from the one before)."""
     if no_color:
         monkeypatch.setenv("NO_COLOR", "1")
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
-        await pilot.pause()
+        await loaded(pilot)
         assert app.no_color is no_color
         for d in registry.DESTINATIONS:
             await pilot.press(d.key)
-            await pilot.pause(0.1)
+            await loaded(pilot)
             assert app.current_mode == d.mode
             assert unreadable(app) == [], d.mode

@@ -61,7 +61,7 @@ async def test_a_rule_changes_through_its_dialog_and_the_log_lists_treatments(
         assert "largest batch" in journal.entries(s, limit=1)[0].summary
 
 
-async def test_the_journal_corrects_the_highlighted_entry(make, demo_db, wait_for):
+async def test_the_journal_corrects_the_highlighted_entry(make, demo_db, wait_for, loaded):
     entry_id = _treat(demo_db)
     app = make()
     async with app.run_test(size=SIZE) as pilot:
@@ -81,7 +81,7 @@ async def test_the_journal_corrects_the_highlighted_entry(make, demo_db, wait_fo
         await pilot.press("ctrl+s")
         await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
         await pilot.press("enter", "enter")  # the safe answer, then the question again
-        await pilot.pause(0.2)
+        await loaded(pilot)  # a write would have run in a worker: every worker is done
         with open_database(demo_db) as s:
             assert journal.corrections_of(s, entry_id) == []  # nothing written
         await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))

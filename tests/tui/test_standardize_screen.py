@@ -35,15 +35,6 @@ async def open_screen(app, pilot, wait_for) -> StandardizeScreen:
     return app.screen
 
 
-async def type_into(pilot, screen, wid: str, text: str) -> None:
-    """Type ``text`` into a field, key by key."""
-    field = screen.query_one(f"#{wid}", Input)
-    field.focus()
-    await pilot.pause()
-    field.value = ""
-    await pilot.press(*text)
-
-
 async def set_field(pilot, screen, wid: str, text: str) -> None:
     """Fill a field as if typed: all but the last character set, the last one a keystroke."""
     field = screen.query_one(f"#{wid}", Input)
@@ -100,12 +91,14 @@ def bottle_state(db_path, bottle_id: int):
 
 
 # -- typed titrant: the numbers are the model's --------------------------------------
+# (the form's reading, echoes, cautions and result text are tested without the app in
+# tests/unit/test_forms_standardize.py; these tests check that they reach the screen)
 
 async def test_typed_standardization_shows_the_models_numbers(make, wait_for):
     app = make()
     async with app.run_test(size=SIZE) as pilot:
         screen = await open_screen(app, pilot, wait_for)
-        await type_into(pilot, screen, "sz-titrant", "NaOH 0,1 M")
+        await set_field(pilot, screen, "sz-titrant", "NaOH 0,1 M")
         await set_field(pilot, screen, "sz-standard", "KHP")
         await set_replicates(pilot, screen, ["0.5106 25.02", "0,5098 g 24,97 mL",
                                              "25.05 mL 0.5112 g"])
@@ -161,15 +154,24 @@ async def test_a_bad_line_is_named_by_number_and_value(make, wait_for):
         assert "line 2" in shown(screen, "sz-status")
         blocker = screen.record_blocker()
         assert "errors" in blocker or "no result" in blocker
+        # a bad field is named beside it, its text kept
+        await set_field(pilot, screen, "sz-assay", "abc")
+        await settled(pilot, screen, wait_for)
+        assert "✗" in shown(screen, "echo-assay") and "abc" in shown(screen, "echo-assay")
+        assert screen.query_one("#sz-assay", Input).has_class("-invalid")
+        assert screen.query_one("#sz-assay", Input).value == "abc"
         # fixed in place, the result follows
+        screen.query_one("#sz-assay", Input).value = ""
         area.text = "\n".join(lines_of(GOOD))
         await settled(pilot, screen, wait_for)
         assert screen.result is not None and screen.result.n == 3
         assert shown(screen, "echo-replicates") == ""
+        assert not screen.query_one("#sz-assay", Input).has_class("-invalid")
 
 
-async def test_bad_line_after_a_good_result_greys_it_and_records_nothing(
-        make, wait_for, demo_db):
+async def test_what_is_not_accepted_or_stale_is_never_recorded(make, wait_for, demo_db):
+    """A result outside the rule says why; a good result made stale by a bad line is
+    greyed; neither can be recorded, and the bottle is untouched."""
     bottle = naoh_bottle(demo_db)
     before = bottle_state(demo_db, bottle.id)[:3]
     app = make()
@@ -177,6 +179,23 @@ async def test_bad_line_after_a_good_result_greys_it_and_records_nothing(
         screen = await open_screen(app, pilot, wait_for)
         await set_field(pilot, screen, "sz-titrant", f"#{bottle.id}")
         await set_field(pilot, screen, "sz-standard", "KHP")
+        # not accepted: the reason is on the result, in the status line and on the key
+        await set_replicates(pilot, screen, lines_of(SPREAD))
+        await settled(pilot, screen, wait_for)
+        expected = standardize("NaOH", "KHP", [Replicate(m, v) for m, v in SPREAD],
+                               nominal_molar=0.1)
+        assert expected.accepted is False  # the example is what it claims
+        assert screen.result.accepted is False
+        assert screen.result.rsd_percent == expected.rsd_percent
+        panel = shown(screen, "sz-result-text")
+        assert REJECTED_MARK in panel
+        why = f"RSD {expected.rsd_percent:.3f} % > 0.2 %"
+        assert why in panel and why in shown(screen, "sz-status")
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert not isinstance(app.screen, ConfirmScreen)
+        assert screen.record_blocker() == f"not accepted: {why}"
+        # accepted, then a bad line after it: the result greys and cannot be recorded
         await set_replicates(pilot, screen, lines_of(GOOD))
         await settled(pilot, screen, wait_for)
         assert screen.result.accepted and screen.record_blocker() is None
@@ -213,7 +232,8 @@ async def test_use_bottle_fills_the_titrant_and_the_nominal(make, wait_for, demo
         assert screen.result.nominal_molar == bottle.label_strength
 
 
-async def test_record_on_a_bottle_writes_its_strength_and_one_entry(make, wait_for, demo_db):
+async def test_a_cancelled_record_writes_nothing_and_a_confirmed_one_writes_the_strength(
+        make, wait_for, demo_db):
     bottle = naoh_bottle(demo_db)
     old_strength, _, old_count, _ = bottle_state(demo_db, bottle.id)
     app = make()
@@ -229,6 +249,19 @@ async def test_record_on_a_bottle_writes_its_strength_and_one_entry(make, wait_f
                                purity_percent=99.97, nominal_molar=0.1)
         assert screen.result.mean_molar == expected.mean_molar and screen.result.accepted
         versions = app.data_version
+        # cancelled: the safe answer has the focus, and nothing is written
+        await pilot.press("ctrl+s")
+        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
+        await pilot.press("enter")
+        await wait_for(pilot, lambda: app.screen is screen)
+        assert "nothing was written" in shown(screen, "sz-status")
+        await pilot.press("enter")  # a second Enter lands in the form, never a record
+        await wait_for(pilot, lambda: not any(w.is_running for w in app.workers))
+        assert bottle_state(demo_db, bottle.id)[:3] == (old_strength, bottle.measured_at,
+                                                        old_count)
+        # confirmed: the question names the bottle and both strengths
+        typed = screen.query_one("#sz-replicates", TextArea).text  # with that Enter's newline
+        assert typed.strip() == "\n".join(lines_of(GOOD))
         await pilot.press("ctrl+s")
         await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
         message = app.screen.message
@@ -248,59 +281,14 @@ async def test_record_on_a_bottle_writes_its_strength_and_one_entry(make, wait_f
         entry_id = screen.last_journal_id
     strength, measured_at, count, kept = bottle_state(demo_db, bottle.id)
     assert strength == expected.mean_molar
-    assert measured_at is not None
+    assert measured_at is not None and measured_at != bottle.measured_at
     assert count == old_count + 1
     entry = next(e for e in kept if e.id == entry_id)
     assert entry.recorded_by == "tester"
     snap = entry.snapshot
     assert snap["previous_strength"] == old_strength
     assert snap["standardization"]["mean_molar"] == expected.mean_molar
-    assert snap["inputs"]["replicates"] == "\n".join(lines_of(GOOD))
-
-
-async def test_cancelled_record_writes_nothing(make, wait_for, demo_db):
-    bottle = naoh_bottle(demo_db)
-    before = bottle_state(demo_db, bottle.id)[:3]
-    app = make()
-    async with app.run_test(size=SIZE) as pilot:
-        screen = await open_screen(app, pilot, wait_for)
-        await set_field(pilot, screen, "sz-titrant", f"#{bottle.id}")
-        await set_field(pilot, screen, "sz-standard", "KHP")
-        await set_replicates(pilot, screen, lines_of(GOOD))
-        await settled(pilot, screen, wait_for)
-        await pilot.press("ctrl+s")
-        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
-        await pilot.press("enter")  # the safe answer has the focus
-        await wait_for(pilot, lambda: app.screen is screen)
-        assert "nothing was written" in shown(screen, "sz-status")
-        await pilot.press("enter")  # a second Enter lands in the form, never a record
-    assert bottle_state(demo_db, bottle.id)[:3] == before
-
-
-async def test_not_accepted_result_cannot_be_recorded(make, wait_for, demo_db):
-    bottle = naoh_bottle(demo_db)
-    before = bottle_state(demo_db, bottle.id)[:3]
-    app = make()
-    async with app.run_test(size=SIZE) as pilot:
-        screen = await open_screen(app, pilot, wait_for)
-        await set_field(pilot, screen, "sz-titrant", f"#{bottle.id}")
-        await set_field(pilot, screen, "sz-standard", "KHP")
-        await set_replicates(pilot, screen, lines_of(SPREAD))
-        await settled(pilot, screen, wait_for)
-        expected = standardize("NaOH", "KHP", [Replicate(m, v) for m, v in SPREAD],
-                               nominal_molar=0.1)
-        assert expected.accepted is False  # the example is what it claims
-        assert screen.result.accepted is False
-        assert screen.result.rsd_percent == expected.rsd_percent
-        panel = shown(screen, "sz-result-text")
-        assert REJECTED_MARK in panel
-        why = f"RSD {expected.rsd_percent:.3f} % > 0.2 %"
-        assert why in panel and why in shown(screen, "sz-status")
-        await pilot.press("ctrl+s")
-        await pilot.pause()
-        assert not isinstance(app.screen, ConfirmScreen)
-        assert screen.record_blocker() == f"not accepted: {why}"
-    assert bottle_state(demo_db, bottle.id)[:3] == before
+    assert snap["inputs"]["replicates"] == typed  # as typed
 
 
 async def test_the_storeroom_rule_is_the_one_applied(make, wait_for, demo_db):
@@ -320,6 +308,3 @@ async def test_the_storeroom_rule_is_the_one_applied(make, wait_for, demo_db):
         assert screen.result.accepted is False
         panel = shown(screen, "sz-result-text")
         assert "rule (storeroom): RSD ≤ 0.02 %" in panel
-
-
-# -- the form's reading, without the app ---------------------------------------------------

@@ -16,10 +16,15 @@ async def on_waste(app, pilot, wait_for, label: str | None = None) -> WasteScree
     await wait_for(pilot, lambda: isinstance(app.screen, WasteScreen) and app.screen.detail)
     screen = app.screen
     if label is not None:
-        table = screen.query_one("#waste-table")
-        table.move_cursor(row=table.get_row_index(label))
-        await wait_for(pilot, lambda: screen.detail and screen.detail.info["label"] == label)
+        await select(pilot, wait_for, screen, label)
     return screen
+
+
+async def select(pilot, wait_for, screen: WasteScreen, label: str) -> None:
+    """Move the cursor to the container ``label`` and wait for its details."""
+    table = screen.query_one("#waste-table")
+    table.move_cursor(row=table.get_row_index(label))
+    await wait_for(pilot, lambda: screen.detail and screen.detail.info["label"] == label)
 
 
 def detail_text(screen: WasteScreen) -> str:
@@ -31,43 +36,37 @@ def detail_text(screen: WasteScreen) -> str:
 
 
 async def type_into(pilot, screen, field: str, text: str) -> None:
-    screen.query_one(f"#{field}").focus()
-    await pilot.press(*text) if text else None
+    """Fill a field as if typed: focused, all but the last character set, the last a key
+    (typing key by key, however fast, is test_app's keys test)."""
+    box = screen.query_one(f"#{field}")
+    box.focus()
+    await pilot.pause()  # focusing selects the text; set it only after that
+    box.value = text[:-1]
+    box.cursor_position = len(box.value)
+    await pilot.press(text[-1])
 
 
-async def test_log_an_addition_and_see_the_composition(make, wait_for, demo_db):
+async def add_dialog(app, pilot, wait_for, compound: str, conc: str, volume: str):
+    """The addition dialog opened by its key, with its three fields filled as typed."""
+    await pilot.press("a")
+    await wait_for(pilot, lambda: isinstance(app.screen, AddWasteScreen))
+    form = app.screen
+    for field, text in (("add-compound", compound), ("add-conc", conc),
+                        ("add-volume", volume)):
+        await type_into(pilot, form, field, text)
+    return form
+
+
+async def test_bad_values_are_named_in_place_then_an_addition_is_logged(make, wait_for,
+                                                                       demo_db):
+    """The dialog's wiring: each error beside its field, the typed text kept, nothing
+    stored; then a good addition shows in the container.  (What the form reads and echoes:
+    tests/unit/test_forms_waste_addition.py.)"""
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
         screen = await on_waste(app, pilot, wait_for, "OA-02")
         assert "HCl" not in detail_text(screen)
-        await pilot.press("a")
-        await wait_for(pilot, lambda: isinstance(app.screen, AddWasteScreen))
-        form = app.screen
-        await type_into(pilot, form, "add-compound", "HCl")
-        await type_into(pilot, form, "add-conc", "0,1 M")
-        await type_into(pilot, form, "add-volume", "1,5 L")
-        await wait_for(pilot, lambda: "1.5 L" in form.row("add-volume").echo_text)
-        assert "0.1 M" in form.row("add-conc").echo_text  # the decimal comma understood
-        assert "hydrochloric acid" in form.row("add-compound").echo_text
-        await pilot.press("ctrl+s")
-        await wait_for(pilot, lambda: app.screen is screen and "HCl 1.5 L" in detail_text(screen))
-        assert "85 %" in str(screen.query_one("#waste-table").get_cell("OA-02", "fill"))
-    with open_database(demo_db) as store:
-        last = waste.additions(store, "OA-02")[-1]
-    assert (last.compound_key, last.conc_molar, last.volume_l, last.added_by) == \
-        ("HCl", 0.1, 1.5, "tester")
-
-
-async def test_bad_values_are_named_in_place_and_the_text_is_kept(make, wait_for, demo_db):
-    app = make()
-    async with app.run_test(size=(80, 24)) as pilot:
-        await on_waste(app, pilot, wait_for, "OA-02")
-        await pilot.press("a")
-        await wait_for(pilot, lambda: isinstance(app.screen, AddWasteScreen))
-        form = app.screen
-        await type_into(pilot, form, "add-compound", "HCl")
-        await type_into(pilot, form, "add-conc", "1 M")
-        await type_into(pilot, form, "add-volume", "25 q")
+        form = await add_dialog(app, pilot, wait_for, "HCl", "1 M", "25 q")
         await pilot.press("ctrl+s")
         await wait_for(pilot, lambda: "✗" in form.row("add-volume").echo_text)
         assert "'25 q'" in form.row("add-volume").echo_text
@@ -88,13 +87,30 @@ async def test_bad_values_are_named_in_place_and_the_text_is_kept(make, wait_for
         await pilot.press("escape")
         await pilot.pause()
         assert isinstance(app.screen, WasteScreen)
+        with open_database(demo_db) as store:
+            assert len(waste.additions(store, "OA-02")) == 4  # nothing was stored
+        # a good addition, typed with decimal commas, shows in the container
+        form = await add_dialog(app, pilot, wait_for, "HCl", "0,1 M", "1,5 L")
+        await wait_for(pilot, lambda: "1.5 L" in form.row("add-volume").echo_text)
+        assert "0.1 M" in form.row("add-conc").echo_text  # the decimal comma understood
+        assert "hydrochloric acid" in form.row("add-compound").echo_text
+        await pilot.press("ctrl+s")
+        await wait_for(pilot, lambda: app.screen is screen and "HCl 1.5 L" in detail_text(screen))
+        assert "85 %" in str(screen.query_one("#waste-table").get_cell("OA-02", "fill"))
     with open_database(demo_db) as store:
-        assert len(waste.additions(store, "OA-02")) == 4  # nothing was stored
+        last = waste.additions(store, "OA-02")[-1]
+    assert (last.compound_key, last.conc_molar, last.volume_l, last.added_by) == \
+        ("HCl", 0.1, 1.5, "tester")
 
 
-async def test_fluoride_waste_goes_to_licensed_disposal_and_offers_no_plan(make, wait_for):
+async def test_each_container_offers_only_the_moves_that_apply(make, wait_for, monkeypatch):
+    from carboy.tui.app.app import CarboyApp
+
+    asked = []
+    monkeypatch.setattr(CarboyApp, "plan_container", lambda self, label: asked.append(label))
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
+        # fluoride waste goes to licensed disposal and offers no plan
         screen = await on_waste(app, pilot, wait_for, "HF-04")
         text = detail_text(screen)
         assert "Licensed disposal only" in text and "fluoride" in text
@@ -102,21 +118,15 @@ async def test_fluoride_waste_goes_to_licensed_disposal_and_offers_no_plan(make,
         assert screen.check_action("plan", ()) is False
         assert screen.check_action("add", ()) is False
         assert str(screen.query_one("#waste-note").render()) == DISPOSAL_NOTE
-
-
-async def test_plan_key_opens_the_planner_for_the_container(make, wait_for, monkeypatch):
-    from carboy.tui.app.app import CarboyApp
-
-    asked = []
-    monkeypatch.setattr(CarboyApp, "plan_container", lambda self, label: asked.append(label))
-    app = make()
-    async with app.run_test(size=(80, 24)) as pilot:
-        await on_waste(app, pilot, wait_for, "MA-01")
+        # a collecting container: the plan key opens the planner on it; it is marked
+        # disposed only once neutralized
+        await select(pilot, wait_for, screen, "MA-01")
+        assert screen.check_action("mark_disposed", ()) is False
         await pilot.press("p")
         assert asked == ["MA-01"]
 
 
-async def test_licensed_disposal_asks_first(make, wait_for, demo_db):
+async def test_licensed_disposal_asks_first(make, wait_for, loaded, demo_db):
     app = make()
     async with app.run_test(size=(80, 24)) as pilot:
         screen = await on_waste(app, pilot, wait_for, "AL-03")
@@ -129,7 +139,7 @@ async def test_licensed_disposal_asks_first(make, wait_for, demo_db):
         await pilot.press("l")
         await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
         await pilot.press("enter", "enter")  # Enter, Enter: the safe answer holds the focus
-        await pilot.pause(0.2)
+        await loaded(pilot)  # a write would have run in a worker: every worker is done
         with open_database(demo_db) as store:
             assert waste.container(store, "AL-03").status == "collecting"
         while isinstance(app.screen, ConfirmScreen):
@@ -142,13 +152,6 @@ async def test_licensed_disposal_asks_first(make, wait_for, demo_db):
         assert screen.check_action("licensed", ()) is False
     with open_database(demo_db) as store:
         assert waste.container(store, "AL-03").status == "licensed-disposal"
-
-
-async def test_mark_disposed_only_when_neutralized(make, wait_for):
-    app = make()
-    async with app.run_test(size=(80, 24)) as pilot:
-        screen = await on_waste(app, pilot, wait_for, "MA-01")
-        assert screen.check_action("mark_disposed", ()) is False
 
 
 async def test_open_a_new_container_with_its_stream_then_change_it(make, wait_for, demo_db):

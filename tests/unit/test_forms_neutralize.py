@@ -110,3 +110,30 @@ def test_a_fluoride_sample_is_never_a_drain_plan(catalog):
     out = evaluate(fields(components="HF=0.5M NaF=0.1M"), catalog)
     assert out.ok and out.value.drain_plan is False
     assert any(c.code == "not-a-drain-plan" for c in out.value.cautions)
+
+
+def test_each_field_echoes_what_was_understood(catalog):
+    """What the Neutralize screen shows beside each field (its Pilot tests check only that
+    an echo reaches its place)."""
+    reading = read(fields(components="H2SO4=0.05M NaH2PO4=10mM", volume="1,5 L"), catalog)
+    assert reading.echoes["components"] == ("understood: H2SO4 50 mM · NaH2PO4 10 mM "
+                                            "in 1.5 L")
+    assert reading.echoes["reagent"].startswith("understood: NaOH 1 M solution")
+    assert reading.echoes["target"] == "understood: pH 7"
+    assert reading.echoes["window"].startswith("window pH 6–9")
+
+
+def test_an_unknown_reagent_is_named_on_the_reagent_field(catalog):
+    reading = read(fields(reagent="NaOX=1M"), catalog)
+    assert reading.value is None and set(reading.errors) == {"reagent"}
+    assert "NaOX" in reading.errors["reagent"] and "NaOH" in reading.errors["reagent"]
+
+
+def test_a_typed_sample_with_a_solid_reagent_of_given_assay_is_planned(catalog):
+    out = evaluate(fields(components="H2SO4=0.05M NaH2PO4=10mM", volume="1,5 L",
+                          reagent="NaOH@97%"), catalog)
+    assert out.ok and out.direction == "base"
+    assert out.echoes["reagent"].startswith("understood: NaOH solid, assay 97 %")
+    # stoichiometry of the inputs: 0.075 mol H2SO4 gives 0.15 mol H+, and the 0.015 mol of
+    # H2PO4- gives up part of one proton each on the way to pH 7 (its pKa2 is near 7)
+    assert 0.15 < out.value.to_target.reagent_mol < 0.15 + 0.015

@@ -22,6 +22,7 @@ from carboy.tui.app.screens.standardize_text import (
     ACCEPTED_MARK,
     OUTLIER_MARK,
     REJECTED_MARK,
+    cautions_text,
     result_text,
     short_reasons,
 )
@@ -57,6 +58,7 @@ def test_typed_values_with_commas_units_and_either_order_give_the_models_numbers
     assert "sodium hydroxide" in reading.echoes["titrant"]
     assert "nominal 0.1 M" in reading.echoes["titrant"]
     assert "204.22 g/mol" in reading.echoes["standard"] and "120 °C" in reading.echoes["standard"]
+    assert "potassium hydrogen phthalate" in reading.echoes["standard"]
     panel = result_text(result).plain
     assert ACCEPTED_MARK in panel and f"{expected.rsd_percent:.3f} %" in panel
     assert all(fmt_molar(r.molar) in panel for r in expected.replicates)
@@ -170,3 +172,17 @@ def test_replicate_lines_read_back_what_was_written(mass, volume, comma, units):
     want_mass = round(mass * 1000, 1) / 1000 if units == "mg mL" else round(mass, 4)
     assert abs(lines[0].mass_g - want_mass) < 1e-9
     assert abs(lines[0].volume_ml - round(volume, 2)) < 1e-9
+
+
+def test_the_cautions_follow_the_titrant_and_the_standard():
+    base = evaluate(StandardizeFields(titrant="NaOH 0,1 M", standard="KHP",
+                                      replicates=lines(GOOD)))
+    text = cautions_text(base.titrant, base.standard)
+    assert text.startswith("⚠ KHP: dry for 3 hours at 120 °C")
+    assert "CO2-free water" in text and "soda-lime" in text
+    acid = evaluate(StandardizeFields(titrant="HCl", standard="Na2CO3", replicates=lines(GOOD)))
+    text = cautions_text(acid.titrant, acid.standard)
+    assert "acid into water, never water into acid" in text and "soda-lime" not in text
+    assert cautions_text() != text and "CO2-free water" in cautions_text()  # nothing read yet
+    assert all("safe" not in t.lower() for t in (text, cautions_text(),
+                                                 cautions_text(base.titrant, base.standard)))
