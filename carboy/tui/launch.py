@@ -13,7 +13,7 @@ from __future__ import annotations
 import sys
 
 from carboy.tui.cli.kit import clean_output
-from carboy.tui.cli.main import build_parser
+from carboy.tui.cli.main import build_parser, command_named
 from carboy.tui.edge import EXIT_BAD_INPUT, EXIT_OK, run_guarded
 
 
@@ -21,7 +21,7 @@ def main(argv: list[str] | None = None) -> int:
     with clean_output():
         try:
             argv = sys.argv[1:] if argv is None else argv
-            args = build_parser(argv).parse_args(argv)
+            args = _parser(argv).parse_args(argv)
         except SystemExit as done:  # --help, --version, or bad usage (already reported)
             code = done.code
             return code if isinstance(code, int) else (EXIT_OK if code is None
@@ -32,6 +32,20 @@ def main(argv: list[str] | None = None) -> int:
     return run_guarded(open_app, args)  # the app writes to the terminal itself
 
 
+def _parser(argv: list[str]):
+    """The parser for ``argv``.  Without a command word (the app opens) only the global
+    options are read, so the parser is built with one light subcommand instead of all of
+    them (each loads its part of the model: time the app's first frame would wait for).
+    ``argv`` with the light command appended names it only when ``argv`` names no
+    command, asks for no help and has no stray word."""
+    light = command_named([*argv, _LIGHT_COMMAND]) == _LIGHT_COMMAND
+    return build_parser([_LIGHT_COMMAND] if light else argv)
+
+
+_LIGHT_COMMAND = "init"
+"""A subcommand whose module loads almost nothing (it is not run: no word names it)."""
+
+
 def open_app(args) -> int:
     """Open the terminal app: on the default database, or on a throwaway demo storeroom.
 
@@ -39,11 +53,16 @@ def open_app(args) -> int:
     (in the terminal, before the app starts); without a terminal to ask, carboy stops
     with the ``carboy init`` hint.
     """
+    if args.demo:
+        from carboy.store.demo import DemoTemplate
+
+        template = DemoTemplate.start()  # if the day's is not kept yet: built while we load
+        from carboy.tui.app.app import run
+
+        return run(demo=True, template=template)
     from carboy.tui.app.app import run
     from carboy.tui.first_start import ensure_database
 
-    if args.demo:
-        return run(db=getattr(args, "db", None), demo=True)
     path = ensure_database(getattr(args, "db", None))
     if path is None:
         return EXIT_BAD_INPUT
