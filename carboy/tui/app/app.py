@@ -18,9 +18,10 @@ from pathlib import Path
 from textual import events
 from textual.app import App
 from textual.binding import Binding
-from textual.reactive import reactive
+from textual.reactive import Reactive, reactive
 
 from carboy.store import db as store_db
+from carboy.store.demo import DemoTemplate, throwaway
 from carboy.tui.app import registry
 from carboy.tui.app.commands import CarboyCommands
 from carboy.tui.app.database_watch import DatabaseWatch
@@ -49,6 +50,10 @@ class CarboyApp(DatabaseWatch, App):
         Binding("f6", "reload", "Reload", id="app.reload",
                 tooltip="Read the database again (other staff may have changed it)"),
     ]
+
+    theme: Reactive[str] = Reactive("ansi-dark")
+    """The terminal's own palette (16 colours, NO_COLOR), from the first frame: set on
+    mount instead, it would parse and apply every style sheet a second time."""
 
     data_version: reactive[int] = reactive(0)
     """Bumped by :meth:`refresh_data`; screens that show data watch it and reload."""
@@ -116,7 +121,6 @@ class CarboyApp(DatabaseWatch, App):
 
     # -- lifecycle ------------------------------------------------------------------
     def on_mount(self) -> None:
-        self.theme = "ansi-dark"
         self._guard_size()
 
     def on_resize(self, event: events.Resize) -> None:
@@ -168,13 +172,13 @@ def make_app(db_path: str | Path, *, demo: bool = False, today: date | None = No
     return CarboyApp(Path(db_path), demo=demo, today=today, who=who)
 
 
-def run(*, db: str | None = None, demo: bool = False) -> int:
+def run(*, db: str | None = None, demo: bool = False,
+        template: DemoTemplate | None = None) -> int:
     """Run the app until it quits: on the database ``db`` (``--db``, else ``$CARBOY_DB``,
-    else the user data directory) or, with ``demo``, on a throwaway demo storeroom."""
+    else the user data directory) or, with ``demo``, on a throwaway demo storeroom (a
+    copy of ``template``, when the caller started it early)."""
     if demo:
-        from carboy.store.demo import throwaway
-
-        with throwaway() as path:
+        with throwaway(template=template) as path:
             make_app(path, demo=True).run()
         return 0
     path = store_db.default_path(db)
