@@ -17,13 +17,14 @@ from textual.containers import Horizontal
 from textual.message import Message
 from textual.screen import Screen
 from textual.timer import Timer
-from textual.widgets import DataTable, Footer, Input, Label, Static
+from textual.widgets import DataTable, Input, Label, Static
 from textual.worker import get_current_worker
 
-from carboy.store import stock
+from carboy.store import bottles  # not store.stock: the first screen needs no recipes
 from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.marks import STRENGTH_MARKS, bottle_mark, strength_mark
 from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.widgets.steady_footer import SteadyFooter
 from carboy.tui.app.widgets.steady_input import SteadyInput
 from carboy.tui.edge import describe
 from carboy.tui.wording import amount, short_strength, tally
@@ -39,7 +40,7 @@ COLUMNS = (("id", "#", 5), ("compound", "Compound", 8), ("label", "Label", 8), (
 MIN_LOCATION_WIDTH = 8
 
 
-def bottle_row(bottle: stock.Bottle) -> tuple:
+def bottle_row(bottle: bottles.Bottle) -> tuple:
     return (
         Text(str(bottle.id), justify="right"),
         bottle.compound_key,
@@ -122,13 +123,13 @@ class StockScreen(Screen):
         super().__init__()
         self.search_text = ""
         self.page_index = 0
-        self.total = stock.Count(0)
+        self.total = bottles.Count(0)
         self.next_after: int | None = None
         self.first_id: int | None = None
         self._anchor: tuple[str, int | None] = ("after", None)
         self._timer: Timer | None = None
         self.loading = False
-        self.bottles: list[stock.Bottle] = []
+        self.bottles: list[bottles.Bottle] = []
         self._location_width = 0
         self.loads = 0
         """Completed loads (tests wait on it)."""
@@ -145,7 +146,7 @@ class StockScreen(Screen):
         with Horizontal(id="stock-statusbar", classes="statusbar"):
             yield Static("", id="stock-position", markup=False)
             yield Static(legend(), id="stock-legend")
-        yield Footer()
+        yield SteadyFooter()
 
     def on_mount(self) -> None:
         table = self.query_one(StockTable)
@@ -183,14 +184,14 @@ class StockScreen(Screen):
         try:
             with self.app.open_store() as store, store.reading():
                 if ref is None and request in ("first", "same"):
-                    page, total = stock.listing(store, search or None, limit=PAGE_ROWS,
+                    page, total = bottles.listing(store, search or None, limit=PAGE_ROWS,
                                                 today=self.app.today)
                 else:
-                    page = stock.page(store, search or None,
+                    page = bottles.page(store, search or None,
                                       after_id=ref if kind == "after" else None,
                                       before_id=ref if kind == "before" else None,
                                       limit=PAGE_ROWS, today=self.app.today)
-                    total = stock.count_upto(store, search or None) \
+                    total = bottles.count_upto(store, search or None) \
                         if request in ("first", "same") else None
         except Exception as exc:  # shown in place, never a traceback
             if not worker.is_cancelled:
@@ -204,7 +205,7 @@ class StockScreen(Screen):
         self.query_one("#stock-error", ErrorLine).show(message)
         self.loads += 1
 
-    def _show_page(self, page: stock.Page, total: stock.Count | None, anchor,
+    def _show_page(self, page: bottles.Page, total: bottles.Count | None, anchor,
                    request: str) -> None:
         self.loading = False
         self.loads += 1
@@ -263,7 +264,7 @@ class StockScreen(Screen):
             table.add_row(*bottle_row(bottle), key=str(bottle.id))
 
     def _show_position(self, shown: int) -> None:
-        pages = tally(stock.Count(max(1, math.ceil(self.total.n / PAGE_ROWS)),
+        pages = tally(bottles.Count(max(1, math.ceil(self.total.n / PAGE_ROWS)),
                                   self.total.exact))
         if shown == 0:
             text = ("no bottle matches “" + self.search_text + "”") if self.search_text \
