@@ -55,8 +55,9 @@ class CarboyApp(DatabaseWatch, App):
     """The terminal's own palette (16 colours, NO_COLOR), from the first frame: set on
     mount instead, it would parse and apply every style sheet a second time."""
 
-    data_version: reactive[int] = reactive(0)
-    """Bumped by :meth:`refresh_data`; screens that show data watch it and reload."""
+    data_version: reactive[int] = reactive(0, init=False)
+    """Bumped by :meth:`refresh_data`; screens that show data watch it and reload (not at
+    start: the first screen's watcher would load its first page a second time)."""
 
     def __init__(self, db_path: Path, *, demo: bool = False, today: date | None = None,
                  who: str | None = None) -> None:

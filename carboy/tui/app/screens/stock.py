@@ -109,6 +109,7 @@ class StockScreen(Screen):
             "or lot; Enter opens a bottle with its details and history. The Strength column "
             "says whether the label strength can still be trusted; c lists every bottle "
             "that needs attention.")
+    AUTO_FOCUS = "#stock-table"  # the list has the focus from the first frame
 
     BINDINGS = [
         Binding("slash", "focus_search", "Search", id="stock.search", priority=True),
