@@ -23,7 +23,6 @@ from textual.binding import Binding
 from textual.containers import Horizontal
 from textual.screen import Screen
 from textual.widgets import (
-    Footer,
     Input,
     Select,
     Static,
@@ -53,10 +52,12 @@ from carboy.tui.app.screens.neutralize_parts import (
     window_values,
 )
 from carboy.tui.app.screens.neutralize_record import RecordRequest, ask_to_record, record
+from carboy.tui.app.widgets import redraw
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.ph_curve import PHCurvePanel, curve_data_from_plan
 from carboy.tui.app.widgets.plan_view import CautionsPanel, PlanSummary, StagesTable, dose_text
 from carboy.tui.app.widgets.quiet_select import QuietSelect
+from carboy.tui.app.widgets.steady_footer import SteadyFooter
 from carboy.tui.edge import describe
 
 CURVE_POINTS = 200
@@ -144,7 +145,7 @@ class NeutralizeScreen(Screen):
                     yield PHCurvePanel(id="curve-panel")
         yield Static("", id="nz-status", markup=False)
         yield CautionsPanel(id="cautions")
-        yield Footer()
+        yield SteadyFooter()  # refresh_bindings on each key and result: rebuilt only on change
 
     def on_mount(self) -> None:
         # Children may still be mounting when a mode is switched to very early.
@@ -428,7 +429,7 @@ class NeutralizeScreen(Screen):
                 self._show_field(name, reason, reading.echoes.get(name, ""))
         general = reading.errors.get("plan") or reading.errors.get("sample")
         plan_echo = self.query_one("#echo-plan", Static)
-        plan_echo.update(f"✗ {general}" if general else "")
+        redraw.update(plan_echo, f"✗ {general}" if general else "")
         plan_echo.set_class(bool(general), "-error")
         plan_echo.display = bool(general)
         if reading.direction:
@@ -498,7 +499,7 @@ class NeutralizeScreen(Screen):
         status = self.query_one("#nz-status", Static)
         if keep_result and self.outcome is not None and self.stale:
             text = f"{text} (the plan shown is STALE)"
-        status.update(text)
+        redraw.update(status, text, layout=False)  # one line: the screen keeps its layout
 
     # -- the lists ---------------------------------------------------------------------------
     def _fill_sample_select(self) -> None:

@@ -10,6 +10,7 @@ from textual.widgets import Input, Label, Select, Static
 
 from carboy.model.forms.neutralize import ACTIVITY_CHOICES, DEFAULTS, NeutralizeFields
 from carboy.tui.app.screens.neutralize_parts import TYPED, TYPED_TITLE
+from carboy.tui.app.widgets import redraw
 from carboy.tui.app.widgets.quiet_select import QuietSelect
 
 ACTIVITY_WORDS = {"davies": "Davies (ionic strength)", "ideal": "ideal (activities 1)"}
@@ -98,7 +99,7 @@ class NeutralizeForm(VerticalScroll):
         if name in ("components", "volume") and not typed:
             widget.display = False
             return
-        widget.update(f"✗ {error}" if error else echo)
+        redraw.update(widget, f"✗ {error}" if error else echo)
         widget.set_class(bool(error), "-error")
         widget.display = bool(error or echo)
         ids = ("window_low", "window_high") if name == "window" else (name,)
