@@ -12,30 +12,17 @@ organic-acid waste, an alkaline cleaning waste, and a fluoride waste held for
 licensed disposal) and a few journal entries.  Disposal notes never call anything
 safe to pour away: they point to local disposal rules and the safety office.
 
-``carboy --demo`` starts quickly: the day's demo storeroom is built once and kept in the
-user cache directory (:class:`DemoTemplate`, named by carboy's version, the day and the
-store's and model's files), and each run gets a copy of it.  When the day's is missing,
-a second process builds it while the app loads.  This module loads the store's record
-modules (and the model parts they need) only to build one.
+``carboy --demo`` works on a copy of the day's demo storeroom kept in the user cache
+directory (:mod:`carboy.store.demo_cache`); this module loads the store's record modules
+(and the model parts they need) only to build one.
 """
 
 from __future__ import annotations
 
-import contextlib
-import hashlib
 import os
-import shutil
-import sqlite3
-import subprocess
-import sys
-import tempfile
-from collections.abc import Iterator
 from datetime import UTC, date, datetime, time, timedelta
 from pathlib import Path
 
-import carboy
-from carboy.errors import CarboyError
-from carboy.store import files
 from carboy.store.db import Store, open_database
 from carboy.store.errors import AlreadyExists
 from carboy.store.statuses import BottleStatus, ContainerStatus
@@ -237,149 +224,3 @@ def seed(store: Store, today: date = DEMO_TODAY) -> None:
     journal.append(store, "note", who=student, when=_at(today, 1, 8),
                    summary="Weekly check of eyewash and spill station done",
                    snapshot={"checked": ["eyewash", "spill kit", "NaHCO3 stock"]})
-
-
-@contextlib.contextmanager
-def throwaway(today: date | None = None, *, template: DemoTemplate | None = None
-              ) -> Iterator[Path]:
-    """A demo database in a new temporary directory, removed on exit (``carboy --demo``).
-
-    Dated from ``today`` (default: the real today), so the demo's expiry and
-    standardization dates look fresh.  It is a copy of the day's template (``template``,
-    when the caller started it early; else found or built now).
-    """
-    template = template or DemoTemplate(today or date.today())
-    with tempfile.TemporaryDirectory(prefix="carboy-demo-") as tmp:
-        yield template.copy_to(Path(tmp) / "demo.db")
-
-
-BUILD_TIMEOUT_S = 60.0
-"""How long to wait for the second process building a template (then build here)."""
-
-_BUILD = ("import sys; sys.path.insert(0, sys.argv[1]); "
-          "from carboy.store.demo import build_template; "
-          "build_template(sys.argv[2], sys.argv[3])")
-"""What the second process runs: this carboy (its folder first on the path; ``-P`` keeps
-the working directory off it), building the template named."""
-
-
-class DemoTemplate:
-    """The demo storeroom of one day, kept in the user cache directory between runs.
-
-    :meth:`start` begins building it in a second process when the cache lacks it (it
-    builds while the caller loads the app); :meth:`copy_to` waits for it and copies it.
-    Without a usable cache directory, or when the build there fails, the copy is built
-    in place, as before there was a cache.
-    """
-
-    def __init__(self, today: date) -> None:
-        self.today = today
-        self.path = template_path(today)
-        self._build: subprocess.Popen | None = None
-
-    @classmethod
-    def start(cls, today: date | None = None) -> DemoTemplate:
-        template = cls(today or date.today())
-        if template.path is not None and not _usable(template.path):
-            argv = [sys.executable, "-P", "-c", _BUILD, str(Path(carboy.__file__).parents[1]),
-                    str(template.path), template.today.isoformat()]
-            with contextlib.suppress(OSError):
-                template._build = subprocess.Popen(
-                    argv, stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL,
-                    stderr=subprocess.DEVNULL, start_new_session=True)
-        return template
-
-    def ready(self) -> Path | None:
-        """The template, once built (by the second process, or here when it did not);
-        None when it cannot be kept."""
-        if self._build is not None:
-            try:
-                self._build.wait(timeout=BUILD_TIMEOUT_S)
-            except subprocess.TimeoutExpired:
-                self._build.kill()
-                self._build.wait()
-            self._build = None
-        if self.path is None or _usable(self.path):
-            return self.path
-        try:
-            return build_template(self.path, self.today.isoformat())
-        except (OSError, CarboyError, sqlite3.Error):
-            return None
-
-    def copy_to(self, dest: Path) -> Path:
-        """A new demo database at ``dest`` (which must not exist): a checked copy of the
-        template (a damaged one is removed), else built there."""
-        source = self.ready()
-        if source is None:
-            return create_demo_database(dest, self.today)
-        files.create_file(dest)  # mode 0660, as every database carboy makes
-        try:
-            shutil.copyfile(source, dest)
-            open_database(dest, create=False).close()  # the open check, once
-            return dest
-        except (OSError, CarboyError, sqlite3.Error):  # a damaged template: built afresh
-            for spoilt in (source, *_beside(dest)):
-                with contextlib.suppress(OSError):
-                    spoilt.unlink()
-            dest.write_bytes(b"")
-        return create_demo_database(dest, self.today)
-
-
-def template_path(today: date) -> Path | None:
-    """Where the demo storeroom of ``today`` is kept: the user cache directory, the name
-    telling carboy's version, the day and a fingerprint of the store's and the model's
-    files (a changed checkout builds afresh).  None when there is no cache directory."""
-    try:
-        import platformdirs
-
-        folder = Path(platformdirs.user_cache_dir("carboy", appauthor=False)) / "demo"
-    except Exception:  # noqa: BLE001 - no home, no cache: the demo is built in place
-        return None
-    return folder / f"demo-{carboy.__version__}-{today.isoformat()}-{_fingerprint()}.db"
-
-
-def build_template(path: str | os.PathLike, today: str) -> Path:
-    """Build the demo storeroom dated ``today`` (ISO) as ``path`` in one step: built in a
-    private folder beside it, then renamed into place (a reader never finds half a file;
-    two builds at once both leave a whole one).  Older templates beside it are removed."""
-    target = Path(path)
-    target.parent.mkdir(parents=True, exist_ok=True)
-    work = Path(tempfile.mkdtemp(prefix="building-", dir=target.parent))
-    try:
-        os.replace(create_demo_database(work / target.name, date.fromisoformat(today)),
-                   target)
-    finally:
-        shutil.rmtree(work, ignore_errors=True)
-    for old in target.parent.glob("demo-*.db"):
-        if old != target:
-            with contextlib.suppress(OSError):
-                old.unlink()
-    return target
-
-
-def _usable(path: Path) -> bool:
-    try:
-        return path.stat().st_size > 0
-    except OSError:
-        return False
-
-
-def _beside(path: Path) -> list[Path]:
-    return [path.with_name(path.name + end) for end in ("-wal", "-shm")]
-
-
-def _fingerprint() -> str:
-    """Size and time of every file of carboy's store and model, hashed (about a
-    millisecond): what the demo storeroom is built from."""
-    found: list[str] = []
-    todo = [Path(carboy.__file__).parent / part for part in ("store", "model")]
-    while todo:
-        with os.scandir(todo.pop()) as entries:
-            for entry in entries:
-                if entry.is_dir(follow_symlinks=False):
-                    if entry.name != "__pycache__":
-                        todo.append(Path(entry.path))
-                elif entry.name.endswith((".py", ".toml")):
-                    st = entry.stat()
-                    found.append(f"{entry.path}\0{st.st_size}\0{st.st_mtime_ns}")
-    return hashlib.sha256("\n".join(sorted(found)).encode()).hexdigest()[:12]

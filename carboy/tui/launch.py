@@ -54,7 +54,7 @@ def open_app(args) -> int:
     with the ``carboy init`` hint.
     """
     if args.demo:
-        from carboy.store.demo import DemoTemplate
+        from carboy.store.demo_cache import DemoTemplate
 
         template = DemoTemplate.start()  # if the day's is not kept yet: built while we load
         from carboy.tui.app.app import run

@@ -21,7 +21,7 @@ from textual.binding import Binding
 from textual.reactive import Reactive, reactive
 
 from carboy.store import db as store_db
-from carboy.store.demo import DemoTemplate, throwaway
+from carboy.store.demo_cache import DemoTemplate, throwaway
 from carboy.tui.app import registry
 from carboy.tui.app.commands import CarboyCommands
 from carboy.tui.app.database_watch import DatabaseWatch
