@@ -12,6 +12,7 @@ open their own connection with :meth:`CarboyApp.open_store`.
 
 from __future__ import annotations
 
+import gc
 from datetime import date
 from pathlib import Path
 
@@ -19,6 +20,7 @@ from textual import events
 from textual.app import App
 from textual.binding import Binding
 from textual.reactive import Reactive, reactive
+from textual.widget import AwaitMount
 
 from carboy.store import db as store_db
 from carboy.store.demo_cache import DemoTemplate, throwaway
@@ -67,6 +69,7 @@ class CarboyApp(DatabaseWatch, App):
         self._today = today
         self.who = who or store_db.current_user()
         self._previous_mode = self.DEFAULT_MODE
+        self._visited = {self.DEFAULT_MODE}
         self.watch_database()
 
     # -- the contract the screens rely on -------------------------------------------
@@ -123,6 +126,23 @@ class CarboyApp(DatabaseWatch, App):
     # -- lifecycle ------------------------------------------------------------------
     def on_mount(self) -> None:
         self._guard_size()
+        self._freeze_after_refresh()
+
+    def switch_mode(self, mode: str) -> AwaitMount:
+        """Show ``mode``'s screen (the first time, see :meth:`_freeze_after_refresh`)."""
+        if mode not in self._visited:
+            self._visited.add(mode)
+            self._freeze_after_refresh()
+        return super().switch_mode(mode)
+
+    def _freeze_after_refresh(self) -> None:
+        """Once a screen is first drawn, everything alive then (the modules, the screens
+        and their widgets: they last as long as the app) is moved out of the garbage
+        collector's reach (:func:`gc.freeze`); else every full collection walks it all
+        again, a pause of 50–90 ms in the middle of typing.  Not under a test's headless
+        driver: many apps in one process would each keep the garbage of the last."""
+        if not self.is_headless:
+            self.call_after_refresh(gc.freeze)
 
     def on_resize(self, event: events.Resize) -> None:
         self._guard_size(event.size.width, event.size.height)
