@@ -6,7 +6,8 @@ defaults in ``data/standards.toml``):
 * at least ``min_replicates`` replicates (default 3);
 * relative standard deviation (sample SD, n - 1) at most ``max_rsd_percent``
   (default 0.2 %, Ph. Eur. 4.2.2);
-* no replicate flagged by the two-sided Grubbs test at ``alpha`` (default 0.05).
+* no replicate flagged by the two-sided Grubbs test at ``alpha`` (default 0.05), which is
+  applied from four replicates (below that acceptance rests on the RSD).
 
 :func:`rejection_reasons` says why a set is not accepted; the ``*_warnings`` functions
 give advice that does not block acceptance: an RSD in the band between the limit and
@@ -24,7 +25,7 @@ from typing import TYPE_CHECKING, Any
 
 from carboy.errors import InvalidInput
 from carboy.model.standards_data import RULE_DEFAULTS, PrimaryStandard, standards_data
-from carboy.model.titration_stats import SetStatistics, is_real, positive
+from carboy.model.titration_stats import GRUBBS_MIN_N, SetStatistics, is_real, positive
 
 if TYPE_CHECKING:  # the records of a result; standardization imports this module
     from carboy.model.standardization import ReplicateResult
@@ -167,20 +168,22 @@ def rsd_warnings(stats: SetStatistics, rule: AcceptanceRule) -> list[str]:
 
 
 def outlier_test_warnings(stats: SetStatistics) -> list[str]:
-    """Too few replicates for Grubbs' test to flag anything."""
+    """Too few replicates for Grubbs' test: it is not applied, and acceptance rests on RSD."""
     n = stats.n
+    if n >= GRUBBS_MIN_N:
+        return []
     if n == 3:
         return [
-            f"With 3 replicates Grubbs' test can hardly flag anything: G cannot exceed "
-            f"(n-1)/sqrt(n) = {stats.test['max_possible']:.4f} and the critical value is "
-            f"{stats.test['critical']:.4f}; titrate 5 or more to test for outliers."
+            f"Grubbs' test is not applied to 3 replicates: G cannot exceed (n-1)/sqrt(n) = "
+            f"{stats.test['max_possible']:.4f} against a critical value of "
+            f"{stats.test['critical']:.4f} (here G = {stats.test['statistic']:.4f}), so it "
+            f"cannot judge the spread; acceptance rests on the RSD. Titrate {GRUBBS_MIN_N} "
+            "or more to test for an outlier."
         ]
-    if n < 3:
-        return [
-            f"With {n} replicate{_plural(n)} no outlier test is possible "
-            "(Grubbs' test needs at least 3)."
-        ]
-    return []
+    return [
+        f"With {n} replicate{_plural(n)} no outlier test is possible (Grubbs' test is "
+        f"applied from {GRUBBS_MIN_N}); acceptance rests on the RSD."
+    ]
 
 
 def purity_warnings(std: PrimaryStandard, purity: float, defaulted: bool) -> list[str]:

@@ -22,7 +22,7 @@ import dataclasses
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
-from carboy.model import compatibility
+from carboy.model import compatibility, numbers
 
 SEVERITIES = ("danger", "warning", "notice")
 
@@ -86,6 +86,15 @@ class Facts:
     expected_solids: tuple[str, ...] = ()
     target_reached: bool = True
     thresholds: dict = field(default_factory=dict)
+    batch_heat: object | None = None
+    """:class:`~carboy.model.batch_heat.BatchHeat`: boiling and the stages that keep the
+    batch under its safe temperature."""
+    salt_limits: tuple = ()
+    """:class:`~carboy.model.precipitates.SaltLimit` of each salt beyond its solubility."""
+    reagent_reach: object | None = None
+    """:class:`~carboy.model.reagent_reach.Reach` of a carbonate reagent."""
+    window_reached: bool = True
+    """False when the reagent cannot bring the batch into the window at all."""
 
 
 def _t(f: Facts, key: str, default: float) -> float:
@@ -105,6 +114,72 @@ def _reasons(f: Facts) -> str:
     }
     found = sorted({names[t] for t in f.hazards & NO_DRAIN_TAGS})
     return ", ".join(found)
+
+
+def _boils(f: Facts) -> bool:
+    return f.batch_heat is not None and f.batch_heat.boils
+
+
+def _stages_text(f: Facts) -> str:
+    """How many stages keep the batch under its safe temperature, when it would pass it."""
+    bh = f.batch_heat
+    if bh is None or not bh.above_safe:
+        return ""
+    if bh.stages is None:
+        return (f"; staging alone cannot keep it below {bh.safe_c:g} °C ({bh.safe_from}): "
+                "dilute and cool it first")
+    return (f"; at least {bh.stages} equal stages, letting it cool back to about "
+            f"{bh.start_c:g} °C between them, keep it below {bh.safe_c:g} °C ({bh.safe_from})")
+
+
+def _heat_danger(f: Facts) -> str:
+    if _boils(f):
+        bh = f.batch_heat
+        return (f"The heat released (about {numbers.figures(bh.released_kj, 2)} kJ) would take "
+                "this batch past "
+                f"boiling (about {bh.boil_c:g} °C): it would boil and spatter hot corrosive "
+                "liquid. Dilute it first, stand it in an ice bath and add the reagent in "
+                f"portions{_stages_text(f)}.")
+    return (f"Predicted temperature rise {f.temperature_rise_k:.0f} K (to about "
+            f"{f.final_temperature_c:.0f} °C): boiling and spattering risk. Dilute first, stage "
+            "the additions and cool in an ice bath; wait for the batch to cool between "
+            f"stages{_stages_text(f)}.")
+
+
+def stronger_reagent_words(direction: str, reagent_key: str) -> str:
+    """A stronger reagent than ``reagent_key`` for a plan of ``direction``, in words."""
+    if direction == "acid":
+        return "a strong acid such as HCl or H2SO4, diluted"
+    if reagent_key in ("NaHCO3", "KHCO3"):
+        return "Na2CO3 (to about pH 10.3) or a hydroxide such as NaOH or KOH"
+    return "a hydroxide such as NaOH or KOH"
+
+
+def stronger_reagent(f: Facts) -> str:
+    """A stronger reagent than the plan's, in words."""
+    return stronger_reagent_words(f.direction, f.reagent_key)
+
+
+def _salt_text(f: Facts) -> str:
+    parts = []
+    for s in f.salt_limits:
+        parts.append(f"{s.salt} about {s.molality:.2g} mol/kg against {s.saturated_molality:.2g}"
+                     f" that dissolve at {s.temperature_c:g} °C ({s.solid}; {s.source})")
+    water = max(s.water_to_add_l for s in f.salt_limits)
+    return ("At the target this batch holds more salt than its water dissolves: "
+            + "; ".join(parts) + ". It crystallizes as the batch stands or cools. Add about "
+            f"{water:.2g} L more water (before neutralizing) to keep it dissolved, or settle and "
+            "collect the solid for disposal; do not wash it down the drain.")
+
+
+def _reach_text(f: Facts) -> str:
+    r = f.reagent_reach
+    names = ", ".join(f"{k} ({v:.3g} mol)" for k, v in r.cannot.items())
+    limit = max(p for p, _ in r.levels)
+    return (f"{f.reagent_key} cannot take the protons of {names}, even once its CO2 has gone "
+            f"(it takes acids of pKa below about {limit:.1f}): the full dose counts only the "
+            f"others, and the batch stays near pH {limit:.1f} at most. To neutralize them "
+            f"choose a stronger base: {stronger_reagent(f)}.")
 
 
 Rule = tuple[str, str, Callable[[Facts], bool], Callable[[Facts], str]]
@@ -142,15 +217,12 @@ RULES: tuple[Rule, ...] = (
         "of a concentrated sample is not included in the heat figure.")),
     ("heat-danger", "danger",
      lambda f: f.temperature_rise_k >= _t(f, "rise_danger_k", 25.0)
-     or f.final_temperature_c >= _t(f, "final_danger_c", 60.0), lambda f: (
-        f"Predicted temperature rise {f.temperature_rise_k:.0f} K (to about "
-        f"{f.final_temperature_c:.0f} °C): boiling and spattering risk. Dilute first, stage "
-        "the additions and cool in an ice bath; wait for the batch to cool between stages.")),
+     or f.final_temperature_c >= _t(f, "final_danger_c", 60.0) or _boils(f), _heat_danger),
     ("heat-warning", "warning",
      lambda f: _t(f, "rise_warn_k", 10.0) <= f.temperature_rise_k < _t(f, "rise_danger_k", 25.0)
-     and f.final_temperature_c < _t(f, "final_danger_c", 60.0), lambda f: (
+     and f.final_temperature_c < _t(f, "final_danger_c", 60.0) and not _boils(f), lambda f: (
         f"Predicted temperature rise {f.temperature_rise_k:.0f} K: add in stages, cool the "
-        "container (ice bath) and let it cool between stages.")),
+        f"container (ice bath) and let it cool between stages{_stages_text(f)}.")),
     ("co2-foaming", "warning",
      lambda f: f.gas_l > 0 or f.reagent_has_carbonate or f.carbonate_present, lambda f: (
         f"CO2 is given off ({f.gas_l:.3g} L predicted): foaming and pressure. Use an open, "
@@ -171,9 +243,15 @@ RULES: tuple[Rule, ...] = (
         f"At this end point the solution would hold more dissolved {f.reagent_key} than its "
         "solubility product allows: undissolved solid remains and the pH levels off below the "
         "prediction.")),
+    ("salt-limit", "warning", lambda f: bool(f.salt_limits), _salt_text),
+    ("weak-reagent", "warning",
+     lambda f: f.reagent_reach is not None and f.reagent_reach.limited, _reach_text),
     ("target-unreached", "warning", lambda f: not f.target_reached, lambda f: (
         f"{f.reagent_key} cannot bring this batch to the target pH: choose a stronger "
-        "reagent.")),
+        f"reagent, {stronger_reagent(f)}.")),
+    ("window-unreached", "warning", lambda f: f.target_reached and not f.window_reached,
+     lambda f: (f"{f.reagent_key} cannot bring this batch into the window: choose a stronger "
+                f"reagent, {stronger_reagent(f)}.")),
     ("steep-end-point", "warning",
      lambda f: f.sensitivity_pH_per_percent > _t(f, "steep_ph_per_percent", 0.5), lambda f: (
         f"Steep end point: about {f.sensitivity_pH_per_percent:.2g} pH units per 1 % of dose, "

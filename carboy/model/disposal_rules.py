@@ -223,7 +223,7 @@ def _count(profile: DisposalProfile, volume_l: float, final_l: float,
 def _peak(plan, profile, waste_kg: float, water_kg: float, ice_kg: float, reagent_kg: float,
           n: int) -> tuple[float, float]:
     """(peak temperature °C, extra ice kg to keep under the limit) of one batch."""
-    heat = max(-plan.heat_kj, 0.0) / n  # the plan's heat is negative when released
+    heat = max(plan.heat_released_kj, 0.0) / n
     cp, t0 = CP_KJ_KG_K, plan.sample.temperature_c
     total = waste_kg + water_kg + reagent_kg
     if total <= 0:

@@ -11,9 +11,11 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from carboy.model.batch_heat import BatchHeat
 from carboy.model.cautions import Caution
 from carboy.model.mixture import Mixture
-from carboy.model.precipitates import Precipitate
+from carboy.model.precipitates import Precipitate, SaltLimit
+from carboy.model.reagent_reach import Reach
 from carboy.model.reagents import Reagent
 from carboy.model.speciation import BatchSpeciation
 
@@ -83,8 +85,11 @@ class Plan:
     window: tuple[float, float]
     window_doses: tuple[Dose, Dose]
     bound_protons_at_target: dict
-    heat_kj: float
+    heat_released_kj: float
+    """Heat released by the dose to the target, kJ: positive when the batch warms."""
     temperature_rise_c: float
+    """The adiabatic rise, K, up to boiling: where the batch would boil it stops there
+    (``batch_heat.boils``; the full estimate is ``batch_heat.rise_k``)."""
     gas_l: float
     gas_mol: float
     gas_conditions: str
@@ -104,6 +109,12 @@ class Plan:
     vented_gas_l: float = 0.0
     curve_speciation: BatchSpeciation | None = field(default=None, repr=False, compare=False)
     curve_volume_l: np.ndarray | None = field(default=None, repr=False, compare=False)
+    batch_heat: BatchHeat | None = None
+    """The heat's effect on the batch: heat capacity, boiling, stages to stay safe."""
+    salt_limits: tuple[SaltLimit, ...] = ()
+    """Soluble salts at the target against their solubility at the batch temperature."""
+    reagent_reach: Reach | None = None
+    """With a carbonate reagent: the protons it cannot take (not in the full dose)."""
 
     def to_dict(self) -> dict:
         lo, hi = self.window_doses
@@ -118,14 +129,16 @@ class Plan:
             "proton_equivalents_mol": self.proton_equivalents_mol,
             "breakdown": self.breakdown,
             "full": {k: v for k, v in self.full.to_dict().items() if k != "final_volume_l"}
-            | {"final_volume_l": self.full.final_volume_l},
+            | {"final_volume_l": self.full.final_volume_l}
+            | ({"reagent_reach": self.reagent_reach.to_dict()} if self.reagent_reach else {}),
             "to_target": self.to_target.to_dict(),
             "window": {"low_pH": self.window[0], "high_pH": self.window[1],
                        "low": lo.to_dict(), "high": hi.to_dict(),
                        "note": "local disposal rules set the real acceptance window"},
             "bound_protons_at_target": self.bound_protons_at_target,
-            "heat_kj": self.heat_kj,
+            "heat_released_kj": self.heat_released_kj,
             "temperature_rise_c": self.temperature_rise_c,
+            "heat": self.batch_heat.to_dict() if self.batch_heat else None,
             "gas_l": self.gas_l,
             "gas_mol": self.gas_mol,
             "gas_conditions": self.gas_conditions,
@@ -138,6 +151,7 @@ class Plan:
             "curve": self.curve.tolist(),
             "equivalence_points": [e.to_dict() for e in self.equivalence_points],
             "precipitates": [p.to_dict() for p in self.precipitates],
+            "salt_solubility": [s.to_dict() for s in self.salt_limits],
             "cautions": [c.to_dict() for c in self.cautions],
             "drain_plan": self.drain_plan,
             "hazards": sorted(self.hazards),

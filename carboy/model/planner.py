@@ -27,30 +27,39 @@ The steps of a plan
 -------------------
 :func:`plan_neutralization` is this sequence; each step is a function of its own:
 
-1. ``_check_request``     the arguments, checked and gathered in a :class:`_Request`;
+1. ``_check_request``     the arguments, checked and gathered in a :class:`_Request`
+                          (``_with_safe_temperature``: the batch's safe temperature);
 2. ``_start``             the sample's own pH, the direction (base or acid) and the
                           reagent's capacity that way; a reagent that moves the pH the
                           wrong way is refused;
 3. ``_proton_demand``     every dissociable proton: the full dose and its breakdown;
+   ``_reagent_reach``     with a carbonate reagent, only the protons it can take count
+                          in the full dose (``reagent_reach``);
 4. ``_find_doses``        the doses to the target and the window edges, with CO2
                           leaving, and the curve's amounts (``dosing``);
+   ``_bicarbonate_ceiling`` no dose above about pH 8.3 with a bicarbonate;
 5. ``_solve_curve``       the pH curve, in one batch solve;
 6. ``_solve_points``      every other state in one batch solve (full dose, doses,
                           stages, ±1 % of the target dose, equivalence points);
 7. ``_dose_results``      the doses, stages, sensitivity and equivalence points read
                           from it;
-8. ``_heat_and_gas``      reaction heat, temperature rise, CO2 given off and the pH
-                          before venting (``thermo``, ``dosing``);
+8. ``_heat_and_gas``      heat released, the batch's rise with its own heat capacity,
+                          boiling and the stages that keep it safe, CO2 given off and
+                          the pH before venting (``plan_heat``, ``batch_heat``);
 9. ``_at_target``         the state at the target: protons still bound, saturation of
                           solids (``precipitates``);
+   ``_salt_limits``       soluble salts against their solubility at the batch's
+                          temperature (``precipitates.salt_limits``);
 10. ``_warnings``         the solver's and the planner's own warnings;
-11. ``_facts``            what the caution rules look at; ``cautions.evaluate`` then
+11. ``_facts``            what the caution rules look at (``_limit_facts``: heat, salts,
+                          reach); ``cautions.evaluate`` then
                           gives the cautions and ``cautions.not_for_drain`` the drain
                           verdict.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 from typing import ClassVar
@@ -64,11 +73,20 @@ from carboy.model.activity import check_model, davies_d, debye_huckel_scale
 from carboy.model.cautions import derived_hazards
 from carboy.model.dosing import Dosing, find_doses
 from carboy.model.equivalence import equivalence_amounts
+from carboy.model.heat_capacity import solute_mass_g
 from carboy.model.mixture import Mixture
+from carboy.model.plan_heat import HeatAndGas, heat_and_gas
 from carboy.model.plan_result import Dose, EquivalencePoint, Plan, Stage
-from carboy.model.precipitates import Precipitate, saturation_indices, slurry_check
+from carboy.model.precipitates import (
+    Precipitate,
+    SaltLimit,
+    salt_limits,
+    saturation_indices,
+    slurry_check,
+)
+from carboy.model.reagent_reach import Reach, bicarbonate_ceiling, proton_reach
 from carboy.model.reagents import Reagent
-from carboy.model.speciation import BatchSpeciation, start_along
+from carboy.model.speciation import BatchSpeciation, speciate, start_along
 
 __all__ = ["Dose", "EquivalencePoint", "Plan", "Stage", "plan_neutralization"]
 
@@ -78,7 +96,8 @@ __all__ = ["Dose", "EquivalencePoint", "Plan", "Stage", "plan_neutralization"]
 def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float = 7.0,  # noqa: N803
                         window: tuple[float, float] = (6.0, 9.0), activity: str = "davies",
                         catalog=None, hazards: frozenset[str] = frozenset(),
-                        curve_points: int = 400) -> Plan:
+                        curve_points: int = 400, safe_temperature_c: float | None = None,
+                        safe_from: str = "") -> Plan:
     """Plan the neutralization of ``sample`` with ``reagent``.
 
     Parameters
@@ -90,6 +109,9 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     activity : ``"davies"`` or ``"ideal"``.
     hazards : hazard tags known about the sample (the store passes its additions' tags).
     curve_points : points of the pH curve (>= 20).
+    safe_temperature_c : the temperature a batch is kept under (°C; default carboy's, 50);
+        the disposal profile's when the plan is made under the storeroom's rules, with
+        ``safe_from`` saying whose it is.
 
     Raises
     ------
@@ -97,22 +119,26 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     """
     req = _check_request(sample, reagent, target_pH, window, activity, catalog, hazards,
                          curve_points)
+    req = _with_safe_temperature(req, safe_temperature_c, safe_from)
     start = _start(req)
-    demand = _proton_demand(req, start)
-    dosing = _find_doses(req, start, demand)
+    demand, reach = _reagent_reach(req, start, _proton_demand(req, start))
+    dosing = _bicarbonate_ceiling(req, reach, _find_doses(req, start, demand))
     curve_res, curve_vol = _solve_curve(req, dosing)
     pts = _solve_points(req, start, dosing, demand.n_full, curve_res)
     doses = _dose_results(req, dosing, pts, demand.n_full)
     heat = _heat_and_gas(req, dosing, pts, curve_res, curve_vol)
     bound, precipitates = _at_target(req, pts)
+    salts = _salt_limits(req, pts, heat)
     warnings = heat.warnings + _warnings(req, dosing, pts, doses)
-    facts = _facts(req, start, dosing, pts, doses, heat, precipitates)
+    facts = dataclasses.replace(_facts(req, start, dosing, pts, doses, heat, precipitates),
+                                **_limit_facts(heat, salts, reach, doses, start))
     return Plan(
         sample=sample, reagent=reagent, direction=start.direction, activity=activity,
         initial_pH=start.initial_pH, proton_equivalents_mol=float(demand.proton_eq),
         breakdown=demand.breakdown, full=doses.full, to_target=doses.to_target,
         window=req.window, window_doses=doses.window, bound_protons_at_target=bound,
-        heat_kj=heat.heat_kj, temperature_rise_c=heat.rise_c, gas_l=heat.gas_l,
+        heat_released_kj=heat.released_kj, temperature_rise_c=heat.batch.reached_rise_k,
+        gas_l=heat.gas_l,
         gas_mol=heat.gas_mol, gas_conditions=gas.gas_conditions(req.temperature_c),
         vented_pH=facts.vented_pH, vent_pco2_atm=dosing.pco2_atm,
         pH_before_venting=heat.pH_before_venting, vented_gas_l=heat.vented_gas_l,
@@ -122,6 +148,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
         cautions=caution_rules.evaluate(facts), warnings=tuple(warnings),
         hazards=facts.hazards, drain_plan=not caution_rules.not_for_drain(facts),
         assumptions=heat.assumptions, curve_speciation=curve_res, curve_volume_l=curve_vol,
+        batch_heat=heat.batch, salt_limits=salts, reagent_reach=reach,
     )
 
 
@@ -139,6 +166,8 @@ class _Request:
     window: tuple[float, float]
     hazards: frozenset[str]
     curve_points: int
+    safe_temperature_c: float | None = None
+    safe_from: str = ""
 
     @property
     def temperature_c(self) -> float:
@@ -189,6 +218,19 @@ def _check_request(sample: Mixture, reagent: Reagent, target_ph, window, activit
                     frozenset(hazards), int(curve_points))
 
 
+def _with_safe_temperature(req: _Request, safe_c, safe_from: str) -> _Request:
+    """Step 1b: the safe temperature of the batch, checked (InvalidInput naming it)."""
+    if safe_c is None:
+        return req
+    try:
+        t = float(safe_c)
+    except (TypeError, ValueError):
+        raise InvalidInput("safe temperature", safe_c, "must be a number (°C)") from None
+    if not math.isfinite(t) or not 0.0 < t < 100.0:
+        raise InvalidInput("safe temperature", safe_c, "must lie between 0 and 100 °C")
+    return dataclasses.replace(req, safe_temperature_c=t, safe_from=safe_from)
+
+
 @dataclass(frozen=True)
 class _Start:
     """The sample before any reagent, and which way it has to go."""
@@ -218,8 +260,8 @@ def _start(req: _Request) -> _Start:
         raise InvalidInput(
             "reagent", reagent.text or reagent.key,
             f"the sample is at pH {initial_pH:.2f} and needs {need} to reach pH {target:g}; "
-            f"{reagent.key} (its own pH about {own_pH:.1f}) cannot move it that way",
-            field="reagent")
+            f"{reagent.key} (its own pH about {own_pH:.1f}) cannot move it that way: choose "
+            f"{caution_rules.stronger_reagent_words(direction, reagent.key)}", field="reagent")
     return _Start(model, initial_pH, direction, capacity)
 
 
@@ -247,6 +289,32 @@ def _proton_demand(req: _Request, start: _Start) -> _Demand:
         equivalents = sum(parts.values())
         proton_eq = -equivalents
     return _Demand(breakdown, proton_eq, max(equivalents, 0.0) / start.capacity)
+
+
+def _reagent_reach(req: _Request, start: _Start, demand: _Demand
+                   ) -> tuple[_Demand, Reach | None]:
+    """Step 3b: with a carbonate reagent, the full dose counts only the protons it can
+    take (:mod:`~carboy.model.reagent_reach`); the others are named in the plan."""
+    if start.direction != "base" or not req.reagent.has_carbonate:
+        return demand, None
+    initial = speciate(req.sample, activity=req.activity, catalog=req.catalog)
+    reach = proton_reach(req.sample, req.reagent, req.catalog, demand.proton_eq,
+                         initial.fractions)
+    if reach is None:
+        return demand, None
+    return dataclasses.replace(demand, n_full=reach.n_full), reach
+
+
+def _bicarbonate_ceiling(req: _Request, reach: Reach | None, dosing: Dosing) -> Dosing:
+    """Step 4b: a bicarbonate reagent cannot carry a batch above about pH 8.3 (the pH of
+    a fresh bicarbonate solution, ``reagent_reach``): a dose to a higher pH, which only the
+    slow loss of CO2 to the air would reach, is not offered (it reads as unreachable)."""
+    ceiling = bicarbonate_ceiling(reach)
+    if ceiling is None:
+        return dosing
+    asked = np.array([req.target, *req.window])
+    doses = np.where(asked > ceiling, np.nan, dosing.doses)
+    return dataclasses.replace(dosing, doses=doses)
 
 
 def _charge_parts(sample: Mixture, catalog, which: str) -> dict:
@@ -394,67 +462,18 @@ def _dose_results(req: _Request, dosing: Dosing, pts: _Points, n_full: float) ->
         stages=tuple(stages), sensitivity=sensitivity, equivalence=equivalence)
 
 
-@dataclass(frozen=True)
-class _Heat:
-    """Heat and gas of the dose to the target."""
-
-    heat_kj: float
-    rise_c: float
-    gas_mol: float
-    gas_l: float
-    vented_gas_l: float
-    pH_before_venting: float | None
-    warnings: list[str]
-    assumptions: tuple[str, ...]
-
-
-_HEAT_ASSUMPTIONS = (
-    "heat: adiabatic batch, heat capacity of water; species enthalpies at 25 °C, "
-    "infinite dilution (CODATA-derived water formation -55.815 kJ/mol)",
-    "gas volume at {conditions}",
-    "CO2 beyond its solubility at 1 atm leaves as it forms and does not return; doses, "
-    "stages and the curve are for the batch after it has vented to air (dissolved CO2 "
-    "no higher than in equilibrium with air, none taken up from it)",
-    "local disposal rules set the real acceptance window",
-)
-
-
 def _heat_and_gas(req: _Request, dosing: Dosing, pts: _Points, curve_res: BatchSpeciation,
-                  curve_vol: np.ndarray) -> _Heat:
-    """Step 8: heat released (``thermo``: species enthalpies, CO2 leaving, a solid's heat
-    of solution, a concentrate's heat of dilution), the adiabatic temperature rise,
-    and the CO2 given off, with the pH right after the addition."""
-    reagent, catalog, t_c = req.reagent, req.catalog, req.temperature_c
-    n_end = dosing.target_mol
+                  curve_vol: np.ndarray) -> HeatAndGas:
+    """Step 8: heat released (positive: the batch warms), the batch's rise with its own
+    heat capacity, boiling and the stages that keep it under the safe temperature, and
+    the CO2 given off with the pH right after the addition (:mod:`~carboy.model.plan_heat`,
+    :mod:`~carboy.model.batch_heat`)."""
     i_tp = pts.TARGET
-    h_final = thermo.state_enthalpy_kj(pts.res, np.array([i_tp]), pts.volume_l[[i_tp]],
-                                       catalog)[0]
-    h_start = thermo.state_enthalpy_kj(curve_res, np.array([0]), curve_vol[[0]], catalog)[0]
-    # right after the addition: CO2 beyond saturation at 1 atm has left; by the time the
-    # batch has vented to air, more has gone: that is the final state
-    gas_mol, vented_gas_mol = dosing.co2_lost_mol(n_end)
     fresh_ph = float(pts.res.pH[pts.fresh]) if dosing.carbonate else None
-    heat = h_final - h_start - n_end * thermo.reagent_enthalpy_kj(reagent, catalog)
-    heat += vented_gas_mol * thermo.co2_degassing_kj()
-    warnings: list[str] = []
-    assumptions = [a.format(conditions=gas.gas_conditions(t_c)) for a in _HEAT_ASSUMPTIONS]
-    if reagent.is_solid:
-        sol = thermo.heat_of_solution_kj(reagent.key)
-        if sol is not None:
-            heat += n_end * sol[0]
-        assumptions.append("the volume of the solid reagent is neglected")
-    if reagent.form == "concentrate":
-        dil = thermo.dilution_heat_kj(reagent.key, reagent.mass_percent)
-        if dil is not None:
-            heat += n_end * dil[0]
-        else:
-            warnings.append(f"no dilution-heat data for {reagent.describe()}: its heat of "
-                            "dilution is not included, so the heat is underestimated")
-    mass = req.sample.volume_l * 1000.0 * water.density_g_cm3(t_c) + reagent.mass_g(n_end)
-    rise = thermo.temperature_rise_k(heat, mass, t_c)
-    vm = gas.molar_volume_l(t_c, gas.gas_pressure_kpa())
-    return _Heat(float(heat), float(rise), gas_mol, float(gas_mol * vm),
-                 float(vented_gas_mol * vm), fresh_ph, warnings, tuple(assumptions))
+    return heat_and_gas(req.reagent, req.catalog, req.sample.volume_l, req.temperature_c,
+                        dosing, (pts.res, i_tp, float(pts.volume_l[i_tp])),
+                        (curve_res, 0, float(curve_vol[0])), fresh_ph,
+                        req.safe_temperature_c, req.safe_from)
 
 
 def _at_target(req: _Request, pts: _Points) -> tuple[dict, tuple[Precipitate, ...]]:
@@ -469,6 +488,23 @@ def _at_target(req: _Request, pts: _Points) -> tuple[dict, tuple[Precipitate, ..
     found = saturation_indices(species, res.log_gamma_by_charge[i_tp], charges,
                                req.temperature_c)
     return bound, found
+
+
+def _salt_limits(req: _Request, pts: _Points, heat: HeatAndGas) -> tuple[SaltLimit, ...]:
+    """Step 9b: the soluble salts at the target against their solubility at the batch's
+    temperature (:func:`~carboy.model.precipitates.salt_limits`); the batch's water is its
+    mass less its solutes."""
+    res, i_tp = pts.res, pts.TARGET
+    volume = float(pts.volume_l[i_tp])
+    batch = res.batch
+    if batch is None:
+        return ()
+    totals = {k: float(c) * volume for k, c in zip(batch.keys, batch.totals[i_tp])}
+    species = dict(zip(res.species_labels, res.species_molar[i_tp].tolist()))
+    charges = dict(zip(res.species_labels, res.species_charges))
+    water_g = heat.batch.mass_g - solute_mass_g(species, charges, volume)
+    return salt_limits(totals, max(water_g, 0.1 * heat.batch.mass_g) / 1000.0,
+                       req.temperature_c)
 
 
 def _warnings(req: _Request, dosing: Dosing, pts: _Points, doses: _Doses) -> list[str]:
@@ -489,8 +525,16 @@ def _warnings(req: _Request, dosing: Dosing, pts: _Points, doses: _Doses) -> lis
     return warnings
 
 
+def _limit_facts(heat: HeatAndGas, salts: tuple[SaltLimit, ...], reach: Reach | None,
+                 doses: _Doses, start: _Start) -> dict:
+    """Step 11b: what the heat, salt and reach cautions look at."""
+    edge = doses.window[0] if start.direction == "base" else doses.window[1]
+    return {"batch_heat": heat.batch, "salt_limits": tuple(s for s in salts if s.exceeded),
+            "reagent_reach": reach, "window_reached": edge.reachable}
+
+
 def _facts(req: _Request, start: _Start, dosing: Dosing, pts: _Points, doses: _Doses,
-           heat: _Heat, precipitates: tuple[Precipitate, ...]) -> caution_rules.Facts:
+           heat: HeatAndGas, precipitates: tuple[Precipitate, ...]) -> caution_rules.Facts:
     """Step 11: what the caution rules look at, from the request and every step."""
     reagent = req.reagent
     slurry_limit, slurry_exceeded = "", False
@@ -503,7 +547,7 @@ def _facts(req: _Request, start: _Start, dosing: Dosing, pts: _Points, doses: _D
         reagent_form=reagent.form, reagent_hazards=reagent.compound.hazards,
         reagent_is_slurry=reagent.is_slurry, reagent_has_carbonate=reagent.has_carbonate,
         slurry_limit=slurry_limit, slurry_exceeded=slurry_exceeded,
-        temperature_rise_k=heat.rise_c, final_temperature_c=t_c + heat.rise_c,
+        temperature_rise_k=heat.rise_k, final_temperature_c=t_c + heat.rise_k,
         gas_l=heat.gas_l, carbonate_present=dosing.carbonate,
         pH_before_venting=heat.pH_before_venting,
         vented_pH=float(pts.res.pH[pts.TARGET]) if dosing.carbonate else None,

@@ -2,8 +2,9 @@
 
 The file holds the heat of water formation and of CO2 degassing, CO2 solubility, the
 air and pressure assumptions, heats of solution and dilution tables per compound,
-solubility products, the reagents fed as a slurry, and the planner's thresholds, stages
-and end-point rules.  :func:`load_planning` checks every section (fields present and of
+solubility products, the reagents fed as a slurry, the planner's thresholds, stages and
+end-point rules, the boiling and safe temperatures, the solubility of salts against
+temperature and the heat-capacity parameters of solutes.  :func:`load_planning` checks every section (fields present and of
 the right kind, tables that rise, compound keys that name catalog compounds, slurry
 solids that name a solubility product, and every status and source through the one
 provenance check) and returns the parsed file unchanged, so that
@@ -60,7 +61,7 @@ def _dilution_table(rec: Table) -> None:
     if basis == "n_water":
         n = rec.numbers("n", ascending=True, low=0.0)
         heats = rec.numbers("dh_kj")
-        rec.number("dh_inf_kj")
+        rec.number("dh_inf_kj", None)
     elif basis == "molality":
         n = rec.numbers("m", ascending=True, low=0.0)
         heats = rec.numbers("released_kj")
@@ -124,6 +125,54 @@ def _rules(doc: Table) -> None:
     equivalence.provenance()
 
 
+def _boiling(doc: Table) -> None:
+    boiling = doc.table("boiling", "[boiling]")
+    boil = boiling.number("boil_c", low=50.0, high=150.0)
+    if not boiling.number("safe_c", low=15.0) < boil:
+        raise boiling.fail("safe_c", "must lie below boil_c")
+    boiling.provenance()
+
+
+def _salt_solubility(doc: Table) -> None:
+    catalog = default_catalog()
+    for rec in doc.tables("solubility", name=lambda i, d: f"[[solubility]] {d.get('salt', i + 1)}"):
+        rec.text("salt")
+        rec.text("solid")
+        ions = rec.table("ions")
+        if not ions.data:
+            raise ions.fail(None, "a salt needs its ions")
+        for key in ions.data:
+            if key not in catalog.ions and key not in catalog.systems:
+                raise ions.fail(key, "not an ion or system of systems.toml")
+            ions.integer(key, low=1)
+        temps = rec.numbers("temperature_c", ascending=True, low=-20.0, high=150.0)
+        kinds = [k for k in ("mass_percent", "molality") if rec.has(k)]
+        if len(kinds) != 1:
+            raise rec.fail(None, "give exactly one of mass_percent and molality")
+        values = rec.numbers(kinds[0], positive=True, high=100.0 if kinds[0] == "mass_percent"
+                             else None)
+        if len(values) != len(temps):
+            raise rec.fail(kinds[0], f"{len(values)} values for {len(temps)} temperatures")
+        rec.provenance()
+
+
+def _heat_capacity(doc: Table) -> None:
+    for rec in doc.tables("heat_capacity",
+                          name=lambda i, d: f"[[heat_capacity]] {d.get('solute', i + 1)}"):
+        rec.text("solute")
+        if rec.has("neutral") == (rec.has("cation") or rec.has("anion")):
+            raise rec.fail(None, "give either neutral, or cation and anion")
+        for field in ("neutral",) if rec.has("neutral") else ("cation", "anion"):
+            rec.text(field)
+        if len(rec.numbers("a")) != 6:
+            raise rec.fail("a", "needs the six parameters a1 to a6")
+        t = rec.numbers("temperature_c")
+        if len(t) != 2 or t[1] < t[0]:
+            raise rec.fail("temperature_c", "must be [lowest, highest]")
+        rec.number("max_mass_fraction", low=0.0, high=1.0, positive=True)
+        rec.provenance()
+
+
 def validate_planning(data: Mapping[str, Any]) -> Mapping[str, Any]:
     """Check the contents of ``planning.toml`` (as read by tomllib); return them unchanged.
 
@@ -137,6 +186,9 @@ def validate_planning(data: Mapping[str, Any]) -> Mapping[str, Any]:
     _heats(doc)
     _solubility(doc)
     _rules(doc)
+    _boiling(doc)
+    _salt_solubility(doc)
+    _heat_capacity(doc)
     return data
 
 

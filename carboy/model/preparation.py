@@ -25,10 +25,12 @@ How the numbers are computed
   estimate for concentrated products of NaOH and KOH).  ``None`` where no published data
   are held; where a table's rows are too sparse for linear interpolation
   (``planning.toml [dilution.KEY] understated``) the recipe says the heat is understated.
-* Temperature rise (adiabatic): ``heat / (m_final · c_p,water(T))``; the rise while
-  mixing, before making up to volume, uses the heat to the strength in the beaker and
-  the mass there (concentrate or solid plus the water put in first).  The cautions look
-  at the larger of the two.
+* Temperature rise (adiabatic): ``heat / (m_final · c_p)``, with the heat capacity of the
+  product's solution from Laliberté's model where ``planning.toml [[heat_capacity]]``
+  has its solute (NaOH, KOH, H2SO4, HCl, HNO3, H3PO4, NH3, acetic acid...), else water's;
+  the rise while mixing, before making up to volume, uses the heat to the strength in the
+  beaker, the mass there (concentrate or solid plus the water put in first) and that
+  strength's heat capacity.  The cautions look at the larger of the two.
 
 Thresholds (common practice, carboy's choice, stated in the cautions): heat warning from a
 10 K rise, danger from 25 K or a final 60 °C (``planning.toml [thresholds]``, shared with
@@ -48,6 +50,8 @@ from carboy.errors import InvalidInput
 from carboy.model import thermo, water
 from carboy.model.catalog import default_catalog
 from carboy.model.cautions import Caution
+from carboy.model.heat_capacity import SOURCE as CP_SOURCE
+from carboy.model.heat_capacity import solute_for_formula, solution_cp
 from carboy.model.recipe_advice import recipe_cautions, recipe_steps, volume_text
 from carboy.model.recipe_sources import (
     BASES,
@@ -108,8 +112,9 @@ class Recipe:
 
     ``stock_molar``/``stock_volume_ml`` are ``None`` for a solid; ``stock_mass_g`` is the
     mass of concentrate or solid to weigh (``None`` only for a solution whose density is
-    unknown).  ``water_ml`` is the water to put in the vessel first.  ``heat_kj`` is the
-    heat released (positive) on dilution or dissolution, ``None`` without published data;
+    unknown).  ``water_ml`` is the water to put in the vessel first.  ``heat_released_kj``
+    is the heat released (positive; negative when it cools) on dilution or dissolution,
+    ``None`` without published data;
     ``temperature_rise_c`` the adiabatic rise of the finished solution, ``mixing_rise_c``
     the rise in the vessel before making up to volume.
     """
@@ -122,7 +127,7 @@ class Recipe:
     stock_volume_ml: float | None
     stock_mass_g: float | None
     water_ml: float
-    heat_kj: float | None
+    heat_released_kj: float | None
     temperature_rise_c: float | None
     mixing_rise_c: float | None
     final_mass_percent: float | None
@@ -144,7 +149,7 @@ class Recipe:
             "stock_volume_ml": self.stock_volume_ml,
             "stock_mass_g": self.stock_mass_g,
             "water_ml": self.water_ml,
-            "heat_kj": self.heat_kj,
+            "heat_released_kj": self.heat_released_kj,
             "temperature_rise_c": self.temperature_rise_c,
             "mixing_rise_c": self.mixing_rise_c,
             "final_mass_percent": self.final_mass_percent,
@@ -169,7 +174,7 @@ class _Stock(NamedTuple):
 class _Heat(NamedTuple):
     """Heat released (kJ) and the adiabatic rises of the product and of the mixture (K)."""
 
-    heat_kj: float | None
+    heat_released_kj: float | None
     rise_k: float | None
     mix_rise_k: float | None
 
@@ -219,7 +224,8 @@ def _water_needed(vol_ml: float, final_mass: float | None, stock: _Stock, rho_w:
 
 def _dilution_heats(source: Source, n: float, final: Strength, stock: _Stock,
                     mix_mass: float, notes: list[str]) -> tuple[float | None, float | None]:
-    """Heat (kJ) released diluting to the product, and to the strength in the beaker."""
+    """Heat (kJ) released diluting to the product, and to the strength in the beaker
+    (:func:`_mix_percent`)."""
     compound = source.compound
     if source.mass_percent is None or final.mass_percent is None:
         return None, None
@@ -230,9 +236,8 @@ def _dilution_heats(source: Source, n: float, final: Strength, stock: _Stock,
                  f"{fmt(final.mass_percent)} % w/w: {per_mol[0]:.3g} kJ/mol "
                  f"released (25 °C data): {per_mol[1]}")
     heat_to_mix = None
-    if stock.mass_g is not None and mix_mass > 0:
-        w_mix = 100.0 * n * compound.molar_mass_g_mol / mix_mass
-        w_mix = min(max(w_mix, final.mass_percent), source.mass_percent)
+    w_mix = _mix_percent(source, n, final, stock, mix_mass)
+    if w_mix is not None:
         mixed = heat_released_kj(compound.key, source.mass_percent, w_mix)
         if mixed is not None:
             heat_to_mix = n * mixed[0]
@@ -255,29 +260,54 @@ def _solution_heat(source: Source, n: float, notes: list[str]) -> float | None:
     return -n * sol[0]
 
 
+def _mix_percent(source: Source, n: float, final: Strength, stock: _Stock,
+                 mix_mass: float) -> float | None:
+    """The strength (% w/w) in the beaker before making up to volume, or None."""
+    if stock.mass_g is None or mix_mass <= 0 or final.mass_percent is None:
+        return None
+    solute = source.anhydrous or source.compound
+    w_mix = 100.0 * n * solute.molar_mass_g_mol / mix_mass
+    if source.kind == "solution" and source.mass_percent is not None:
+        return min(max(w_mix, final.mass_percent), source.mass_percent)
+    return max(min(w_mix, 100.0), final.mass_percent)
+
+
+def _cp(source: Source, percent: float | None, t_c: float) -> tuple[float, str]:
+    """Heat capacity (J/(g K)) of the solute's solution at ``percent`` % w/w, and what it
+    rests on: Laliberté's model where the solute has parameters, else water's."""
+    solute = source.anhydrous or source.compound
+    name = solute_for_formula(solute.formula)
+    if name is None or percent is None:
+        cp = water.specific_heat_j_gk(t_c)
+        return cp, f"c_p of water, {cp:.4f} J/(g K) at {t_c:g} °C"
+    found = solution_cp({name: percent / 100.0}, t_c)
+    edge = "; beyond its fit, taken at its edge" if found.clamped else ""
+    return found.cp_j_gk, (f"c_p {found.cp_j_gk:.4f} J/(g K) of {fmt(percent)} % {name} at "
+                           f"{t_c:g} °C ({CP_SOURCE}{edge})")
+
+
 def _heat(source: Source, n: float, final: Strength, stock: _Stock, heat_mass: float,
           mix_mass: float, t_c: float, notes: list[str]) -> _Heat:
     if source.kind == "solution":
         heat, heat_to_mix = _dilution_heats(source, n, final, stock, mix_mass, notes)
     else:
         heat = heat_to_mix = _solution_heat(source, n, notes)
-    cp = water.specific_heat_j_gk(t_c)
+    cp, cp_note = _cp(source, final.mass_percent, t_c)
+    cp_mix, _ = _cp(source, _mix_percent(source, n, final, stock, mix_mass), t_c)
     rise = None if heat is None else heat * 1000.0 / (heat_mass * cp)
     mix_rise = None
     if heat_to_mix is not None and mix_mass > 0:
-        mix_rise = heat_to_mix * 1000.0 / (mix_mass * cp)
+        mix_rise = heat_to_mix * 1000.0 / (mix_mass * cp_mix)
     if heat is None:
         what = "dilution" if source.kind == "solution" else "solution"
         notes.append(f"heat of {what} not estimated: carboy holds no published data for "
                      f"{source.label}")
     else:
         notes.append(
-            f"temperature rise (adiabatic) = heat / (mass × c_p of water, {cp:.4f} J/(g K) at "
-            f"{t_c:g} °C): {rise:+.3g} K in the finished {heat_mass:.4g} g"
-            + (f", {mix_rise:+.3g} K in the {mix_mass:.4g} g mixed before making up to volume"
-               if mix_rise is not None else "")
-            + "; a concentrated product has a lower heat capacity than water (e.g. 100 % "
-            "H2SO4 about 1.39 J/(g K)) and heats more than this")
+            f"temperature rise (adiabatic) = heat / (mass × {cp_note}): {rise:+.3g} K in the "
+            f"finished {heat_mass:.4g} g"
+            + (f", {mix_rise:+.3g} K in the {mix_mass:.4g} g mixed before making up to volume "
+               f"(c_p {cp_mix:.4f} J/(g K))" if mix_rise is not None else ""))
     return _Heat(heat, rise, mix_rise)
 
 
@@ -313,13 +343,14 @@ def plan_recipe(source: Source, target_molar: float, final_volume_l: float, *,
         notes.append(f"density tables are for 20 °C; at {t_c:g} °C volumes differ slightly, "
                      "and volumetric glassware is calibrated at 20 °C")
     worst = max((r for r in (heat.rise_k, heat.mix_rise_k) if r is not None), default=None)
-    cautions = recipe_cautions(source, target, worst, t_c, heat.heat_kj is None, final)
+    cautions = recipe_cautions(source, target, worst, t_c, heat.heat_released_kj is None, final)
     steps = recipe_steps(source, solute, target, vol_ml, stock.volume_ml, stock.mass_g,
                          water_first, water_total, worst, t_c, cautions)
     return Recipe(
         source=source, target_molar=target, final_volume_ml=vol_ml, amount_mol=n,
         stock_molar=stock.molar, stock_volume_ml=stock.volume_ml, stock_mass_g=stock.mass_g,
-        water_ml=water_first, heat_kj=heat.heat_kj, temperature_rise_c=heat.rise_k,
+        water_ml=water_first, heat_released_kj=heat.heat_released_kj,
+        temperature_rise_c=heat.rise_k,
         mixing_rise_c=heat.mix_rise_k, final_mass_percent=final.mass_percent,
         final_density_g_ml=final.density_g_ml, dilution_factor=stock.dilution,
         temperature_c=t_c, steps=tuple(steps), cautions=cautions, notes=tuple(notes))

@@ -16,6 +16,7 @@ import math
 from collections.abc import Mapping, Sequence
 
 from carboy.model import thermo
+from carboy.model.batch_heat import boil_c, default_safe_c
 from carboy.model.cautions import SEVERITIES, Caution
 from carboy.model.entities import Compound
 from carboy.model.handling import HandlingFact, handling
@@ -139,6 +140,26 @@ def _danger_cautions(source: Source) -> list[Caution]:
     return out
 
 
+def portions_to_stay_safe(rise: float | None, t_c: float) -> int | None:
+    """About how many portions keep each under carboy's safe temperature (``planning.toml
+    [boiling] safe_c``) when the whole would pass it, cooling back to ``t_c`` between
+    portions (each portion's rise taken as the whole's shared out); None when one does or
+    when the start is already too warm."""
+    safe = default_safe_c()
+    if rise is None or t_c + rise <= safe or t_c >= safe:
+        return None
+    return max(2, math.ceil(rise / (safe - t_c) - 1e-9))
+
+
+def _boil_text(rise: float, t_c: float) -> str:
+    """The temperature a heat danger names, or that the mixture would boil."""
+    if t_c + rise >= boil_c():
+        return (f"The heat would take the mixture past boiling (about {boil_c():g} °C): it "
+                "would boil and spatter")
+    boil = " - it can boil and spatter" if t_c + rise >= 90.0 else ""
+    return f"Estimated temperature rise about {rise:.0f} K (to about {t_c + rise:.0f} °C){boil}"
+
+
 def _heat_cautions(source: Source, rise: float | None, t_c: float,
                    heat_unknown: bool) -> list[Caution]:
     """Heat danger or warning, unknown heat, and the order of mixing."""
@@ -151,13 +172,14 @@ def _heat_cautions(source: Source, rise: float | None, t_c: float,
     corrosive = "corrosive" in hz
     out: list[Caution] = []
     if rise is not None and (rise >= danger_k or t_c + rise >= final_danger_c):
-        boil = " - it can boil and spatter" if t_c + rise >= 90.0 else ""
+        portions = portions_to_stay_safe(rise, t_c)
+        many = (f" (at least {portions} portions keep each below {default_safe_c():g} °C)"
+                if portions else "")
         out.append(Caution("heat-danger", "danger", (
-            f"Estimated temperature rise about {rise:.0f} K (to about {t_c + rise:.0f} °C)"
-            f"{boil}. Stand the vessel in an ice/water bath, add in small portions with "
-            "stirring and let it cool between portions; for a large batch make it in "
-            f"stages. (Danger from a {danger_k:g} K rise or {final_danger_c:g} °C: common "
-            "practice, carboy's choice.)")))
+            f"{_boil_text(rise, t_c)}. Stand the vessel in an ice/water bath, add in small "
+            f"portions{many} with stirring and let it cool between portions; for a large "
+            f"batch make it in stages. (Danger from a {danger_k:g} K rise or "
+            f"{final_danger_c:g} °C: common practice, carboy's choice.)")))
     elif rise is not None and rise >= warn_k:
         out.append(Caution("heat-warning", "warning", (
             f"Estimated temperature rise about {rise:.0f} K: cool the vessel in an ice/water "

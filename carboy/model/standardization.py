@@ -25,7 +25,8 @@ A standardization is accepted when all of these hold:
 * at least ``min_replicates`` replicates (default 3);
 * relative standard deviation (sample SD, n - 1) at most ``max_rsd_percent``
   (default 0.2 %, Ph. Eur. 4.2.2);
-* no replicate flagged by the two-sided Grubbs test at ``alpha`` (default 0.05).
+* no replicate flagged by the two-sided Grubbs test at ``alpha`` (default 0.05), applied
+  from four replicates.
 
 Statistics are always over every replicate entered: a flagged outlier is reported and
 makes the result not accepted (repeat that titration), but it is never dropped silently.
@@ -34,8 +35,10 @@ warning, as does an RSD in the band between the limit and ``warn_rsd_percent``.
 
 Outlier test
 ------------
-Two-sided Grubbs test for one outlier (:mod:`carboy.model.titration_stats`); it needs
-three replicates, and three can hardly flag anything.
+Two-sided Grubbs test for one outlier (:mod:`carboy.model.titration_stats`).  It is not
+applied below four replicates (``GRUBBS_MIN_N``): at three, G cannot exceed 1.1547 against
+a critical 1.1543, so a tight triplicate could be rejected on a rounding digit.  The result
+says so, and acceptance then rests on the RSD.
 
 Data and lookup
 ---------------
@@ -396,7 +399,7 @@ def standardize(
     Standardization
         ``accepted`` is True exactly when ``n >= rule.min_replicates``,
         ``rsd_percent <= rule.max_rsd_percent`` and no replicate is flagged by the
-        two-sided Grubbs test at ``rule.alpha``.
+        two-sided Grubbs test at ``rule.alpha`` (applied from four replicates).
 
     Raises
     ------

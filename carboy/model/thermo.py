@@ -11,13 +11,16 @@ fully protonated form of each system (all at infinite dilution, 25 °C):
 * CO2 that leaves as gas carries +19.75 kJ/mol (CO2(aq) -> CO2(g), DERIVED from CODATA).
 
 The reaction heat is then ``H(final) - H(sample) - n·H(reagent)`` plus the heat of
-solution of a solid reagent (NaOH, KOH) and the heat of diluting a concentrated
-reagent (H2SO4, HCl tables).  Proton transfer is thereby counted exactly: e.g.
+solution of a solid reagent (every solid reagent: NaOH, KOH, LiOH, Na2CO3, K2CO3, NaHCO3,
+Ca(OH)2, Mg(OH)2) and the heat of diluting a concentrated reagent (the H2SO4, HCl, HNO3
+... tables; NaOH, NH3 and H3PO4 from Koretsky's Table 6.1; none for KOH).  Proton transfer is thereby counted exactly: e.g.
 HA + OH- -> A- + H2O gives ``ΔH_a + ΔH_w``, and H+ + HCO3- -> CO2(g) + H2O gives
 ``-ΔH_1 + 19.75`` = +10.6 kJ/mol.  The reagent enters in its nominal formula state
 (Na2CO3 as CO3 2-, NH3 as NH3); its own slight hydrolysis in the bottle is neglected.
 
-The temperature rise assumes an adiabatic batch with the heat capacity of water.
+The heat *released* (positive when the batch warms) is ``-ΔH``; the temperature rise
+assumes an adiabatic batch, with the batch's own heat capacity where
+:mod:`carboy.model.heat_capacity` has parameters for its solutes (water's otherwise).
 """
 
 from __future__ import annotations
@@ -111,16 +114,17 @@ def heat_of_solution_kj(compound_key: str) -> tuple[float, str] | None:
 def dilution_heat_kj(compound_key: str, mass_percent: float) -> tuple[float, str] | None:
     """Enthalpy change (kJ per mol of solute) on diluting a concentrate to infinite dilution.
 
-    Negative means heat released.  ``None`` where no table is held (e.g. NaOH, H3PO4) or
-    the strength lies above the table.
+    Negative means heat released.  ``None`` where no table is held (e.g. KOH) or the
+    strength lies above the table.
 
-    Inside a table the value is interpolated linearly (in n mol H2O per mol for H2SO4, in
-    molality for the CRC acid tables).  At the dilute end nothing is clamped: below the
-    first row of a table that does not reach infinite dilution (m = 0, or n = infinity)
-    the value goes to 0 as sqrt(molality), the Debye–Hückel limiting form of the relative
-    apparent molar enthalpy (an assumption; the heats there are small), so a solution
-    that is already very dilute releases nearly nothing on further dilution.  Above the
-    last molality row a table may give ``pure_released_kj`` (the pure liquid diluted to
+    Inside a table the value is interpolated linearly (in n mol H2O per mol for the
+    ``n_water`` tables, in molality for the CRC acid tables).  At the dilute end nothing is
+    clamped: below the first row of a table that does not reach infinite dilution (m = 0,
+    or n = infinity) the value goes to 0 as sqrt(molality), the Debye–Hückel limiting form
+    of the relative apparent molar enthalpy (an assumption; the heats there are small), so
+    a solution that is already very dilute releases nearly nothing on further dilution.  An
+    ``n_water`` table without ``dh_inf_kj`` neglects the heat beyond its last row.  Above
+    the last molality row a table may give ``pure_released_kj`` (the pure liquid diluted to
     infinite dilution); when its last row is the n = 1 row (55.506 mol/kg) the value is
     interpolated linearly in n between the pure liquid (n = 0) and that row.
     """
@@ -134,13 +138,7 @@ def dilution_heat_kj(compound_key: str, mass_percent: float) -> tuple[float, str
     m_solute = default_catalog().compound(compound_key).molar_mass_g_mol
     if rec["basis"] == "n_water":
         n = (1.0 - w) / water_MW() / (w / m_solute) if w < 1.0 else 0.0
-        ns, hs = rec["n"], rec["dh_kj"]
-        dh_inf = float(rec["dh_inf_kj"])
-        if n > ns[-1]:
-            h_n = dh_inf + (float(hs[-1]) - dh_inf) * math.sqrt(ns[-1] / n)
-        else:
-            h_n = float(np.interp(n, ns, hs))
-        return dh_inf - h_n, note
+        return _n_water_dilution(rec, n, note)
     molality = (w / m_solute) / ((1.0 - w) / 1000.0) if w < 1.0 else float("inf")
     ms, released = rec["m"], rec["released_kj"]
     if ms[-1] < molality <= ms[-1] * (1.0 + 1e-9):
@@ -156,6 +154,32 @@ def dilution_heat_kj(compound_key: str, mass_percent: float) -> tuple[float, str
     if molality < ms[0]:
         return -float(released[0]) * math.sqrt(molality / ms[0]), note
     return -float(np.interp(molality, ms, released)), note
+
+
+EXTRAPOLATE_BELOW_FIRST_ROW = 0.9
+"""An ``n_water`` table that does not start at n = 0 is extrapolated linearly from its first
+two rows down to this fraction of its first n (a concentrate slightly stronger than its
+first row, e.g. 85 % H3PO4 at n = 0.96 against a first row at n = 1); below: no value."""
+
+
+def _n_water_dilution(rec: Mapping, n: float, note: str) -> tuple[float, str] | None:
+    """ΔH (kJ/mol) from n mol H2O per mol of solute to infinite dilution, by an ``n_water``
+    table (see :func:`dilution_heat_kj`)."""
+    ns, hs = [float(x) for x in rec["n"]], [float(x) for x in rec["dh_kj"]]
+    dh_inf = rec.get("dh_inf_kj")
+    end = float(dh_inf) if dh_inf is not None else hs[-1]
+    if dh_inf is None:
+        note += " (the heat of diluting beyond the last row is neglected)"
+    if n < ns[0]:
+        if n < EXTRAPOLATE_BELOW_FIRST_ROW * ns[0] or len(ns) < 2:
+            return None
+        slope = (hs[1] - hs[0]) / (ns[1] - ns[0])
+        return end - (hs[0] + slope * (n - ns[0])), note + " (just above its first row)"
+    if n > ns[-1]:
+        h_n = end + (hs[-1] - end) * math.sqrt(ns[-1] / n) if dh_inf is not None else end
+    else:
+        h_n = float(np.interp(n, ns, hs))
+    return end - h_n, note
 
 
 def dilution_understated(compound_key: str) -> tuple[float, float, str] | None:
@@ -174,12 +198,14 @@ def water_MW() -> float:  # noqa: N802 (chemical symbol)
     return 18.01528
 
 
-def temperature_rise_k(heat_kj: float, mass_g: float, temperature_c: float) -> float:
-    """Adiabatic temperature rise of ``mass_g`` of batch for a reaction enthalpy ``heat_kj``.
+def temperature_rise_k(heat_released_kj: float, mass_g: float, temperature_c: float,
+                       cp_j_gk: float | None = None) -> float:
+    """Adiabatic temperature rise of ``mass_g`` of batch that takes up ``heat_released_kj``.
 
-    ``ΔT = -ΔH / (m c_p)`` with c_p of water at ``temperature_c``; a negative ΔH
-    (heat released) gives a rise.
+    ``ΔT = Q / (m c_p)`` with ``cp_j_gk`` (J/(g K)), by default that of water at
+    ``temperature_c``; heat taken up (negative) gives a fall.
     """
     if mass_g <= 0:
         return 0.0
-    return -heat_kj * 1000.0 / (mass_g * water.specific_heat_j_gk(temperature_c))
+    cp = water.specific_heat_j_gk(temperature_c) if cp_j_gk is None else cp_j_gk
+    return heat_released_kj * 1000.0 / (mass_g * cp)

@@ -7,9 +7,12 @@ two-sided: ``G = max |x_i - mean| / s`` against::
     G_crit = (n - 1)/sqrt(n) * sqrt(t**2 / (n - 2 + t**2)),  t = t_{1 - alpha/(2n), n-2}
 
 (NIST/SEMATECH e-Handbook of Statistical Methods, Grubbs' test page; the formula is
-checked against published tables in tests/reference).  It needs n >= 3.  ``G`` can never
-exceed ``(n - 1)/sqrt(n)``; at n = 3 that bound (1.1547) is barely above the critical value
-(1.1543 at alpha = 0.05), so three replicates can hardly flag anything.
+checked against published tables in tests/reference).  The formula holds from n = 3, but
+``G`` can never exceed ``(n - 1)/sqrt(n)``; at n = 3 that bound (1.1547) is barely above
+the critical value (1.1543 at alpha = 0.05), so a triplicate whose two close readings agree
+to the last digit is "flagged" however small its spread (RSD 0.076 % gives G = 1.1546).
+The test is therefore not applied below :data:`GRUBBS_MIN_N` values: there the result says
+so, and acceptance rests on the RSD.
 
 ``scipy.stats`` is imported only inside the functions that need it, so importing this
 module stays cheap.
@@ -27,6 +30,7 @@ from carboy.errors import InvalidInput
 
 __all__ = [
     "GRUBBS_METHOD",
+    "GRUBBS_MIN_N",
     "GRUBBS_SOURCE",
     "T_SOURCE",
     "SetStatistics",
@@ -43,6 +47,12 @@ __all__ = [
 ]
 
 GRUBBS_METHOD = "Grubbs test for one outlier, two-sided"
+GRUBBS_MIN_N = 4
+"""Fewest values the outlier test is applied to: at n = 3 ``G`` cannot exceed 1.1547 against
+a critical 1.1543, so the test says nothing about the spread (carboy's rule)."""
+NOT_APPLIED = ("not applied below {min_n} values (at n = 3 G cannot exceed 1.1547 against a "
+               "critical value of 1.1543, so it cannot judge the spread): acceptance rests on "
+               "the RSD")
 GRUBBS_SOURCE = (
     "F. E. Grubbs, Technometrics 11, 1-21 (1969); critical value from the t distribution, "
     "G_crit = (n-1)/sqrt(n) * sqrt(t^2/(n-2+t^2)), t = t(1-alpha/(2n), n-2), as in the "
@@ -174,27 +184,30 @@ def grubbs_test(values: Sequence[float], alpha: float = 0.05) -> tuple[int | Non
 
 
 def outlier_test(molars: Sequence[float], alpha: float) -> dict[str, Any]:
-    """The outlier test as reported with a result (``suspect`` is 1-based, or None)."""
+    """The outlier test as reported with a result (``suspect`` is 1-based, or None).
+
+    Below :data:`GRUBBS_MIN_N` values ``applicable`` is False, nothing is flagged and
+    ``note`` says why; ``statistic`` and ``critical`` are still given from n = 3, for
+    information only.
+    """
     n = len(molars)
+    applicable = n >= GRUBBS_MIN_N
     test: dict[str, Any] = {
         "method": GRUBBS_METHOD,
         "alpha": alpha,
         "n": n,
-        "applicable": n >= 3,
+        "applicable": applicable,
         "statistic": None,
         "critical": None,
         "max_possible": None,
         "suspect": None,
+        "note": "" if applicable else NOT_APPLIED.format(min_n=GRUBBS_MIN_N),
         "source": GRUBBS_SOURCE,
     }
     if n >= 3:
         suspect, g, crit = grubbs_test(molars, alpha)
-        test.update(
-            statistic=g,
-            critical=crit,
-            max_possible=grubbs_max_statistic(n),
-            suspect=None if suspect is None else suspect + 1,
-        )
+        test.update(statistic=g, critical=crit, max_possible=grubbs_max_statistic(n),
+                    suspect=None if suspect is None or not applicable else suspect + 1)
     return test
 
 

@@ -8,27 +8,58 @@ status reads the same in both: the phrasing lives here, once (numbers by the rul
 from __future__ import annotations
 
 from carboy.model import numbers
+from carboy.model.batch_heat import boil_c
 from carboy.model.numbers import amount, count, mass, moles, ph, strength, volume
 
-__all__ = ["amount", "count", "disposal_lines", "heat_text", "mass", "moles", "ph",
+__all__ = ["amount", "count", "disposal_lines", "heat_text", "mass", "moles", "ph", "plan_heat_text",
            "short_strength", "strength", "tally", "treatment_line", "volume"]
 
 
 def heat_text(recipe) -> str:
     """The heat line of a recipe: how much, and how warm it gets while mixing and after."""
-    if recipe.heat_kj is None:
+    if recipe.heat_released_kj is None:
         return "not estimated (no published data held for this solution)"
-    if recipe.heat_kj < 0:
-        text = f"about {-recipe.heat_kj:.2g} kJ taken up (it cools)"
-    else:
-        text = f"about {recipe.heat_kj:.2g} kJ released"
+    text = _released(recipe.heat_released_kj)
     mixing = getattr(recipe, "mixing_rise_c", None)
+    rises = [r for r in (mixing, recipe.temperature_rise_c) if r is not None]
+    if rises and recipe.temperature_c + max(rises) >= boil_c():
+        return text + (f"; enough to take it past boiling (about {boil_c():g} °C): add it in "
+                       "portions, cooling between them")
     if mixing is not None and recipe.temperature_rise_c is not None:
         text += (f"; about {mixing:+.1f} K while mixing, {recipe.temperature_rise_c:+.1f} K "
                  "once made up")
     elif recipe.temperature_rise_c is not None:
         text += f"; temperature change about {recipe.temperature_rise_c:+.1f} K"
     return text
+
+
+def _released(kj: float) -> str:
+    """``about 12 kJ released`` or ``about 3 kJ taken up (it cools)``: heat released is
+    the positive figure everywhere."""
+    if kj < 0:
+        return f"about {numbers.figures(-kj, 2)} kJ taken up (it cools)"
+    return f"about {numbers.figures(kj, 2)} kJ released"
+
+
+def plan_heat_text(plan) -> str:
+    """The heat line of a neutralization plan: heat released, the batch's temperature (or
+    that it would boil), the stages that keep it under the safe temperature, and the heat
+    capacity it rests on."""
+    text = _released(plan.heat_released_kj)
+    bh = getattr(plan, "batch_heat", None)
+    if bh is None:
+        return text + f", temperature change about {plan.temperature_rise_c:+.1f} K"
+    if bh.boils:
+        text += (f"; enough to take the batch past boiling (about {bh.boil_c:g} °C): it would "
+                 "boil and spatter")
+    else:
+        text += (f"; temperature change about {bh.rise_k:+.1f} K, to about "
+                 f"{numbers.figures(bh.final_c, 2)} °C")
+    if bh.above_safe:
+        text += (f"; to stay below {bh.safe_c:g} °C ({bh.safe_from}) add it in at least "
+                 f"{bh.stages} stages, cooling between them" if bh.stages is not None else
+                 f"; staging alone cannot keep it below {bh.safe_c:g} °C: dilute and cool first")
+    return text + f" (adiabatic; {bh.heat_capacity.note()})"
 
 
 def short_strength(value: float | None, unit: str) -> str:

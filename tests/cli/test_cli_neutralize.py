@@ -17,7 +17,7 @@ def test_json(capsys):
     rc, out, _ = run(capsys, "H2SO4=0.5M", "--volume", "250mL", "--reagent", "NaOH=2M", "--json")
     assert rc == 0
     d = json.loads(out)
-    for key in ("initial_pH", "proton_equivalents_mol", "full", "to_target", "window", "heat_kj",
+    for key in ("initial_pH", "proton_equivalents_mol", "full", "to_target", "window", "heat_released_kj",
                 "temperature_rise_c", "gas_l", "vented_pH", "stages", "curve",
                 "equivalence_points", "precipitates", "cautions"):
         assert key in d

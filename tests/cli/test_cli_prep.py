@@ -23,13 +23,13 @@ def test_json_keys_and_model_numbers(capsys):
                          "1L", "--json")
     assert code == 0, err
     got = json.loads(out)
-    assert {"stock_molar", "stock_volume_ml", "stock_mass_g", "water_ml", "heat_kj",
+    assert {"stock_molar", "stock_volume_ml", "stock_mass_g", "water_ml", "heat_released_kj",
             "temperature_rise_c", "steps", "cautions", "label"} <= set(got)
     want = preparation.plan_recipe(preparation.parse_source("H2SO4=96%"), 1.0, 1.0)
     assert got["stock_volume_ml"] == pytest.approx(want.stock_volume_ml)
     # 96 % H2SO4 is about 18.0 M (buffer-preparation guide, reference-data §4a)
     assert got["stock_molar"] == pytest.approx(18.0, abs=0.1)
-    assert got["heat_kj"] > 0 and all(isinstance(s, str) for s in got["steps"])
+    assert got["heat_released_kj"] > 0 and all(isinstance(s, str) for s in got["steps"])
     assert any("never water" in c["text"] for c in got["cautions"])
     assert got["label"]["lines"][0].startswith("Sulfuric acid")
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 import json
 import subprocess
 import sys
@@ -15,10 +16,11 @@ print(json.dumps(sorted(sys.modules)))
 """
 
 
-def loaded(code: str) -> set[str]:
+@functools.cache
+def loaded(code: str) -> frozenset[str]:
     out = subprocess.run([sys.executable, "-c", PROBE.format(code=code)], capture_output=True,
                          text=True, check=True)
-    return set(json.loads(out.stdout))
+    return frozenset(json.loads(out.stdout))
 
 
 def _has(mods: set[str], root: str) -> bool:

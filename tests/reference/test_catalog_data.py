@@ -62,7 +62,7 @@ def test_pka(system, step, expected, tol, source, status):
 
 # (id, system key, step index, ΔH° kJ/mol, ΔCp° J/K/mol or None, tolerance, source, status)
 ENTHALPY_RECORDS = [
-    ("acetic", "acetate", 0, 0.41, -142, 0.01, "Goldberg et al. 2002", "MEMORY"),
+    ("acetic", "acetate", 0, -0.41, -142, 0.01, "Goldberg et al. 2002", "MEMORY"),
     ("NH4+", "ammonium", 0, 51.95, 8, 0.01, "Goldberg et al. 2002", "MEMORY"),
     ("CO2-1", "carbonate", 0, 9.15, -371, 0.01, "Goldberg et al. 2002", "MEMORY"),
     ("HCO3-", "carbonate", 1, 14.70, -249, 0.01, "Goldberg et al. 2002", "MEMORY"),

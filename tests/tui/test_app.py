@@ -101,3 +101,37 @@ async def test_today_defaults_to_the_real_day(demo_db):
     from carboy.tui.app.app import make_app
 
     assert make_app(demo_db).today == date.today()
+
+
+def _burst(app, keys: str | list[str]) -> None:
+    """Keys as a terminal delivers them in one read: posted at once, none waiting for the
+    one before to be handled (a Pilot's press waits, which hides lost or misrouted keys)."""
+    from textual import events
+
+    for key in keys:
+        name = {"\t": "tab", " ": "space", "/": "slash"}.get(key, key)
+        app.post_message(events.Key(name, None if name == "tab" else key))
+
+
+async def test_keys_typed_faster_than_the_screen_are_never_lost_or_misrouted(make, wait_for):
+    from textual.widgets import Input
+
+    from carboy.tui.app.screens.waste_add import AddWasteScreen
+
+    app = make()
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        app.screen.query_one(StockTable).focus()
+        await pilot.pause()
+        _burst(app, "/KOH")  # the search takes every key typed after /
+        await wait_for(pilot, lambda: app.screen.query_one("#stock-search").value == "KOH")
+        await pilot.press("f3")
+        await wait_for(pilot, lambda: isinstance(app.screen, WasteScreen) and app.screen.loads)
+        await pilot.press("a")
+        await wait_for(pilot, lambda: isinstance(app.screen, AddWasteScreen))
+        await pilot.pause()
+        _burst(app, list("HCl") + ["\t"] + list("1 M") + ["\t"] + list("2 L"))
+        await pilot.pause(0.5)
+        values = [app.screen.query_one(f"#{f}", Input).value
+                  for f in ("add-compound", "add-conc", "add-volume")]
+        assert values == ["HCl", "1 M", "2 L"]

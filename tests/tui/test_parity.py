@@ -100,7 +100,7 @@ def test_prepare_gives_the_same_recipe_or_the_same_refusal(capsys, demo_db, row)
     if code == 0:
         assert outcome.recipe is not None
         mine = outcome.recipe.to_dict()
-        for key in ("stock_volume_ml", "stock_mass_g", "water_ml", "heat_kj"):
+        for key in ("stock_volume_ml", "stock_mass_g", "water_ml", "heat_released_kj"):
             assert mine[key] == recipe[key], key
     else:
         assert code == 2 and outcome.recipe is None and outcome.errors

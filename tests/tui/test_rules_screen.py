@@ -11,6 +11,7 @@ from carboy.model.forms.treatment import TreatmentFields, read
 from carboy.store import disposal, journal, stock, treatments, waste
 from carboy.store.db import open_database
 from carboy.store.demo import DEMO_TODAY
+from carboy.tui.app.screens.confirm import ConfirmScreen
 from carboy.tui.app.screens.correct_entry import CorrectionDialog
 from carboy.tui.app.screens.journal import JournalScreen
 from carboy.tui.app.screens.rule_edit import RuleDialog
@@ -76,8 +77,52 @@ async def test_the_journal_corrects_the_highlighted_entry(make, demo_db, wait_fo
         dialog.query_one("#cd-reason", Input).value = "read before the CO2 had gone"
         dialog.query_one("#cd-final_ph", Input).value = "6,6"
         await pilot.press("ctrl+s")
+        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
+        await pilot.press("enter", "enter")  # the safe answer, then the question again
+        await pilot.pause(0.2)
+        with open_database(demo_db) as s:
+            assert journal.corrections_of(s, entry_id) == []  # nothing written
+        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
+        await pilot.press("y")
         await wait_for(pilot, lambda: app.screen is screen)
     with open_database(demo_db) as s:
         (later,) = journal.corrections_of(s, entry_id)
         assert later.snapshot["readings"]["final_ph"] == 6.6
         waste.set_status(s, "T-01", "disposed")  # the corrected reading allows it
+
+
+async def test_the_storeroom_name_is_set_and_removed_from_the_rules_screen(
+        make, demo_db, wait_for):
+    from carboy.store import rules
+    from carboy.tui.app.screens.rule_edit import StoreroomNameDialog
+
+    app = make()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f9")
+        await wait_for(pilot, lambda: isinstance(app.screen, RulesScreen)
+                       and app.screen.loads > 0)
+        screen = app.screen
+        table = screen.query_one("#rules-table", DataTable)
+        table.move_cursor(row=0)
+        await pilot.pause()
+        assert table.ordered_rows[0].key.value == "storeroom.name"
+        assert screen.check_action("reset", ()) is False   # nothing set yet
+        await pilot.press("e")
+        await wait_for(pilot, lambda: isinstance(app.screen, StoreroomNameDialog))
+        dialog = app.screen
+        dialog.query_one("#rule-value", Input).value = "Room\u202e4"
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert "RIGHT-TO-LEFT" in str(dialog.query_one("#rule-error", Static).content)
+        dialog.query_one("#rule-value", Input).value = " Stores  Room 4 "
+        await pilot.press("ctrl+s")
+        await wait_for(pilot, lambda: app.screen is screen and screen.storeroom == "Stores Room 4")
+        assert screen.check_action("reset", ()) is True
+        await pilot.press("r")
+        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
+        app.screen.query_one("#confirm-yes").press()
+        await wait_for(pilot, lambda: app.screen is screen and screen.storeroom == "")
+    with open_database(demo_db) as s:
+        assert rules.load(s).storeroom_name == ""
+        summaries = [e.summary for e in journal.entries(s, limit=2)]
+    assert "storeroom name removed" in summaries[0] and "'Stores Room 4'" in summaries[1]

@@ -128,6 +128,15 @@ async def test_licensed_disposal_asks_first(make, wait_for, demo_db):
         assert app.screen is screen and screen.containers["AL-03"].status == "collecting"
         await pilot.press("l")
         await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
+        await pilot.press("enter", "enter")  # Enter, Enter: the safe answer holds the focus
+        await pilot.pause(0.2)
+        with open_database(demo_db) as store:
+            assert waste.container(store, "AL-03").status == "collecting"
+        while isinstance(app.screen, ConfirmScreen):
+            await pilot.press("escape")
+            await pilot.pause()
+        await pilot.press("l")
+        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
         await pilot.press("y")
         await wait_for(pilot, lambda: screen.containers["AL-03"].status == "licensed-disposal")
         assert screen.check_action("licensed", ()) is False

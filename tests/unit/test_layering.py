@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 import json
 import subprocess
 import sys
@@ -16,10 +17,11 @@ print(json.dumps(sorted(m for m in sys.modules)))
 """
 
 
-def loaded(module: str, extra: str = "") -> set[str]:
+@functools.cache
+def loaded(module: str, extra: str = "") -> frozenset[str]:
     out = subprocess.run([sys.executable, "-c", PROBE.format(module=module, extra=extra)],
                          capture_output=True, text=True, check=True)
-    return set(json.loads(out.stdout))
+    return frozenset(json.loads(out.stdout))
 
 
 def _has(mods: set[str], root: str) -> bool:

@@ -8,7 +8,7 @@ from carboy.model.mixture import Mixture
 from carboy.model.planner import plan_neutralization
 from carboy.model.reagents import parse_reagent
 
-JSON_KEYS = {"initial_pH", "proton_equivalents_mol", "full", "to_target", "window", "heat_kj",
+JSON_KEYS = {"initial_pH", "proton_equivalents_mol", "full", "to_target", "window", "heat_released_kj",
              "temperature_rise_c", "gas_l", "vented_pH", "stages", "curve",
              "equivalence_points", "precipitates", "cautions"}
 
@@ -126,14 +126,14 @@ def test_gypsum_expected():
 def test_heat_of_strong_neutralization_per_mol():
     p = plan_neutralization(Mixture({"Cl-": 0.01}, volume_l=1.0), parse_reagent("NaOH=1M"),
                             activity="ideal")
-    assert p.heat_kj / p.to_target.reagent_mol == pytest.approx(-55.815, rel=2e-3)
+    assert p.heat_released_kj / p.to_target.reagent_mol == pytest.approx(55.815, rel=2e-3)
 
 
 def test_solid_naoh_adds_heat_of_solution():
     a = plan_neutralization(acid(), parse_reagent("NaOH=1M"), activity="ideal")
     b = plan_neutralization(acid(), parse_reagent("NaOH"), activity="ideal")
     n = b.to_target.reagent_mol
-    assert b.heat_kj - a.heat_kj == pytest.approx(-44.5 * n, rel=0.02)
+    assert b.heat_released_kj - a.heat_released_kj == pytest.approx(44.5 * n, rel=0.02)
 
 
 def test_curve_is_monotone_for_base():

@@ -266,9 +266,26 @@ def read(fields: NeutralizeFields, catalog, container: ContainerSample | None = 
     return form.done(_request(parts, fields, container))
 
 
-def plan(request: NeutralizeRequest, catalog, *, curve_points: int | None = None):
+def safe_temperature(profile) -> tuple[float | None, str]:
+    """The safe temperature a plan keeps the batch under, and whose it is: the disposal
+    profile's (:class:`~carboy.model.disposal_profile.DisposalProfile`) when there is one,
+    else carboy's default (None)."""
+    if profile is None:
+        return None, ""
+    from carboy.model.disposal_profile import STOREROOM
+
+    whose = ("the storeroom's disposal rules"
+             if profile.origin.get("max_temperature_c") == STOREROOM
+             else "carboy's placeholder disposal rules")
+    return float(profile.max_temperature_c), whose
+
+
+def plan(request: NeutralizeRequest, catalog, *, curve_points: int | None = None,
+         profile=None):
     """The neutralization plan of a read request (see :func:`carboy.model.planner`), with
     the waste's own cautions and drain verdict (:func:`carboy.model.cautions.amend`).
+    Under a disposal ``profile`` the batch is kept under the profile's safe temperature
+    (:func:`safe_temperature`).
 
     Raises :class:`~carboy.errors.HazardRefused` for a cyanide or sulfide waste that the plan
     would acidify (no dose, stages or curve are computed).
@@ -283,6 +300,9 @@ def plan(request: NeutralizeRequest, catalog, *, curve_points: int | None = None
         if reason:
             raise HazardRefused("a neutralization plan", reason)
     extra = {} if curve_points is None else {"curve_points": curve_points}
+    safe_c, safe_from = safe_temperature(profile)
+    if safe_c is not None:
+        extra |= {"safe_temperature_c": safe_c, "safe_from": safe_from}
     found = plan_neutralization(
         request.mixture, request.reagent, target_pH=request.target_pH, window=request.window,
         activity=request.activity, catalog=catalog, hazards=request.hazards, **extra)
@@ -332,7 +352,7 @@ def evaluate(fields: NeutralizeFields, catalog, container: ContainerSample | Non
     if base.ok:
         out.request = request
         try:
-            result = plan(request, catalog, curve_points=curve_points)
+            result = plan(request, catalog, curve_points=curve_points, profile=profile)
             out.value, out.direction = result, result.direction
             if profile is not None:
                 from carboy.model.disposal_rules import apply

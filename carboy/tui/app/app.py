@@ -51,6 +51,12 @@ class CarboyApp(DatabaseWatch, App):
                 tooltip="Leave carboy"),
         Binding("f6", "reload", "Reload", id="app.reload",
                 tooltip="Read the database again (other staff may have changed it)"),
+        # Tab moves the focus as the key arrives, so what is typed right after it lands in
+        # the next field, however fast (not in the field that had the focus)
+        Binding("tab", "focus_next", "Next field", id="app.focus_next", show=False,
+                priority=True),
+        Binding("shift+tab", "focus_previous", "Previous field", id="app.focus_previous",
+                show=False, priority=True),
     ]
 
     theme: Reactive[str] = Reactive("ansi-dark")

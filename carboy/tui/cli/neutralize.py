@@ -8,7 +8,7 @@ import sys
 from carboy.errors import HazardRefused
 from carboy.model.forms.neutralize import NeutralizeFields
 from carboy.tui.cli.kit import EXIT_REFUSED, UsageError, emit_json, first_problem, open_store
-from carboy.tui.wording import disposal_lines
+from carboy.tui.wording import disposal_lines, plan_heat_text
 
 EXAMPLES = """examples:
   carboy neutralize H2SO4=0.5M --volume 250mL --reagent NaOH=2M
@@ -125,6 +125,9 @@ def format_report(plan) -> str:
     for name, v in plan.breakdown.items():
         lines.append(f"                 {name:<{width}}{v:+.4g} mol")
     lines.append(f"full dose      {_amount(plan.full, r)}")
+    if plan.reagent_reach is not None and plan.reagent_reach.limited:
+        cannot = ", ".join(f"{k} {v:.4g} mol" for k, v in plan.reagent_reach.cannot.items())
+        lines.append(f"not counted    protons {r.key} cannot take: {cannot}")
     lines.append(f"to pH {plan.to_target.target_pH:<8g} {_amount(plan.to_target, r)}")
     lo, hi = plan.window_doses
     lines.append(f"window {plan.window[0]:g}-{plan.window[1]:g}   low edge: {_amount(lo, r)}")
@@ -134,8 +137,7 @@ def format_report(plan) -> str:
         bound = ", ".join(f"{k} {v:.2f}" for k, v in plan.bound_protons_at_target.items())
         lines.append(f"left acidic    acid hydrogens still held per formula unit at the "
                      f"target (expected for weak acids): {bound}")
-    lines.append(f"heat           {plan.heat_kj:.3g} kJ, temperature rise about "
-                 f"{plan.temperature_rise_c:.1f} K (adiabatic, heat capacity of water)")
+    lines.append(f"heat           {plan_heat_text(plan)}")
     if plan.gas_l or plan.vented_pH is not None:
         lines.append(f"CO2            {plan.gas_l:.3g} L right after adding the dose to target, "
                      f"{plan.vented_gas_l:.3g} L once vented; at {plan.gas_conditions}")
@@ -151,6 +153,11 @@ def format_report(plan) -> str:
         vol = f"{s.add_volume_l * 1000:8.4g} mL" if s.add_volume_l is not None else ""
         lines.append(f"  {s.index}. add {s.add_mol:9.4g} mol {s.add_mass_g:9.4g} g {vol}"
                      f"  -> pH {s.pH_after:.2f}")
+    over = [s for s in plan.salt_limits if s.exceeded]
+    for s in over:
+        lines.append(f"salt limit     {s.salt} about {s.molality:.3g} mol/kg, "
+                     f"{s.saturated_molality:.3g} dissolve at {s.temperature_c:g} °C: "
+                     f"add about {s.water_to_add_l:.2g} L water or collect the solid")
     if plan.precipitates:
         lines.append("saturation at the target (SI > 0: expected to precipitate)")
         for p in plan.precipitates:

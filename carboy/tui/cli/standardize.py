@@ -177,9 +177,11 @@ def render(result) -> str:
         lines.append(f"  sd {result.sd_molar:.2g} M, RSD {result.rsd_percent:.3f} %, "
                      f"95 % CI ± {result.ci95_molar:.2g} M (t = {result.t_critical:.3f})")
     test = result.outlier_test
-    if test.get("statistic") is not None:
+    if test.get("applicable", test.get("statistic") is not None):
         lines.append(f"  outlier test: {test.get('method')} G = {test['statistic']:.3f}, "
                      f"critical {test['critical']:.3f} at alpha {test.get('alpha')}")
+    else:
+        lines.append(f"  outlier test: {test.get('note') or 'not applied'}")
     if result.deviation_percent is not None:
         lines.append(f"  against the label {result.nominal_molar:g} M: "
                      f"{result.deviation_percent:+.2f} %")

@@ -14,6 +14,7 @@ from textual.widgets import Button, Input, Label, Static
 from carboy.model.forms.correction import CorrectionFields
 from carboy.model.forms.correction import read as read_correction
 from carboy.store import journal
+from carboy.tui.app.screens.confirm import ConfirmScreen
 from carboy.tui.app.screens.form_dialog import FormDialog
 from carboy.tui.edge import describe
 
@@ -100,7 +101,18 @@ class CorrectionDialog(FormDialog):
             self._fail(text, field)
             return
         self.busy = True
-        self._store(reading.value)
+
+        def answered(yes: bool | None) -> None:
+            if yes:
+                self._store(reading.value)
+            else:
+                self.busy = False
+                self.query_one("#correct-error", Static).update("not recorded")
+
+        self.app.push_screen(ConfirmScreen(
+            f"Record this correction of entry {self.entry.id}?",
+            "A correction is a new, permanent journal entry; the entry it corrects stays on "
+            "record beside it.", yes_label="Record correction"), answered)
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="correct-entry")
     def _store(self, values) -> None:

@@ -65,7 +65,7 @@ from carboy.tui.edge import describe
 
 INPUT_IDS = ("sz-titrant", "sz-standard", "sz-assay", "sz-blank")
 REPLICATES_TITLE = "Replicates: mass g  titre mL"
-PLACEHOLDER = "0.5106 25.02\n0,5098 g 24,97 mL\n…"
+PLACEHOLDER = "e.g. 0.5106 25.02\ne.g. 0,5098 g 24,97 mL"
 
 NO_RESULT = ("No result yet: give the titrant, the standard and at least one titration "
              "(mass of standard and titre, one per line).")

@@ -6,6 +6,7 @@ from __future__ import annotations
 from rich.text import Text
 
 from carboy.model.forms.standardize import _brief, fmt_molar
+from carboy.model.titration_stats import GRUBBS_MIN_N
 
 OUTLIER_MARK = "◆ OUTLIER"
 ACCEPTED_MARK = "✓ ACCEPTED"
@@ -83,8 +84,9 @@ def result_text(result, *, rule_origin: str = "", stale: bool = False) -> Text:
         t.append(f"± {result.ci95_molar:.2g} M (t {result.t_critical:.3f}, n {result.n})\n")
     test = result.outlier_test
     t.append("Grubbs  ", style="bold")
-    if test.get("statistic") is None:
-        t.append(f"not possible with n {result.n} (needs 3)\n")
+    if not test.get("applicable", test.get("statistic") is not None):
+        t.append(f"not applied with n {result.n} (from {GRUBBS_MIN_N}): acceptance rests "
+                 "on the RSD\n")
     else:
         flagged = (f"replicate {test['suspect']} flagged" if test.get("suspect")
                    else "none flagged")

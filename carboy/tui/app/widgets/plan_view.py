@@ -14,7 +14,9 @@ from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import DataTable, Static
 
+from carboy.model import numbers
 from carboy.tui.app.widgets import redraw
+from carboy.tui.wording import plan_heat_text
 
 SEVERITY_MARKS = {"danger": "‼ DANGER", "warning": "! WARNING", "notice": "· NOTE"}
 SEVERITY_STYLES = {"danger": "bold reverse", "warning": "bold", "notice": ""}
@@ -36,20 +38,8 @@ NO_PLAN_YET = "No plan yet: give a sample (a container, or components and a volu
 
 # -- numbers as people read them --------------------------------------------------------
 
-def fmt_volume_l(litres: float | None) -> str:
-    if litres is None:
-        return "—"
-    if abs(litres) < 1.0:
-        return f"{litres * 1000:.3g} mL"
-    return f"{litres:.3g} L"
-
-
-def fmt_mass_g(grams: float | None) -> str:
-    if grams is None:
-        return "—"
-    if abs(grams) >= 1000.0:
-        return f"{grams / 1000:.3g} kg"
-    return f"{grams:.3g} g"
+fmt_volume_l = numbers.volume
+fmt_mass_g = numbers.mass
 
 
 def fmt_mol(mol: float | None) -> str:
@@ -108,13 +98,14 @@ def plan_text(plan) -> Text:
     for name, mol in plan.breakdown.items():
         if mol:
             t.append(f"{'':13}  {name}: {fmt_mol(mol)}\n")
+    if plan.reagent_reach is not None and plan.reagent_reach.limited:
+        cannot = ", ".join(f"{k} {fmt_mol(v)}" for k, v in plan.reagent_reach.cannot.items())
+        t.append(f"{'':13}not counted ({r.key} cannot take them): {cannot}\n")
     if plan.bound_protons_at_target:
         held = ", ".join(f"{k} {v:.2f}" for k, v in plan.bound_protons_at_target.items())
         line("Left acidic", f"at pH {tgt.target_pH:g} these still hold acid hydrogens (per "
                             f"formula unit; expected for weak acids): {held}")
-    released = "released" if plan.temperature_rise_c >= 0 else "taken up"
-    line("Heat", f"{abs(plan.heat_kj):.3g} kJ {released}, temperature rise about "
-         f"{plan.temperature_rise_c:.1f} K (adiabatic batch)")
+    line("Heat", plan_heat_text(plan))
     if plan.gas_l > 0 or plan.vented_pH is not None:
         line("CO2 gas", f"{fmt_volume_l(plan.gas_l)} at {plan.gas_conditions}")
         if plan.vented_pH is not None:
@@ -122,6 +113,10 @@ def plan_text(plan) -> Text:
                      f"{plan.vent_pco2_atm:.2g} atm assumed)\n")
     else:
         line("Gas", "none expected")
+    for s in plan.salt_limits:
+        if s.exceeded:
+            line("Salt limit", f"{s.salt} about {s.molality:.3g} mol/kg, "
+                 f"{s.saturated_molality:.3g} dissolve at {s.temperature_c:g} °C")
     expected = [p for p in plan.precipitates if p.expected]
     if expected:
         line("Solids", "; ".join(f"{p.solid} (SI {p.saturation_index:+.2f})" for p in expected)
