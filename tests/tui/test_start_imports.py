@@ -1,6 +1,7 @@
 """What `carboy --demo` loads before its first frame: the app, the stock list and the
 copy of the kept demo storeroom, and none of the heavy parts other screens need (numpy,
-scipy, pint, sqlite-utils, the planner, the recipes, the command line's commands)."""
+scipy, pint, sqlite-utils, the planner, the recipes, the label tables, the command
+line's commands)."""
 
 from __future__ import annotations
 
@@ -9,7 +10,8 @@ import sys
 
 HEAVY = ("numpy", "scipy", "pint", "sqlite_utils", "pandas", "carboy.model.planner",
          "carboy.store.stock", "carboy.store.preparations", "carboy.tui.cli.ph",
-         "carboy.tui.app.screens.neutralize")
+         "carboy.tui.app.screens.neutralize", "carboy.model.label_documents",
+         "carboy.model.ghs")
 FIRST_FRAME = ("carboy.tui.launch", "carboy.store.demo_cache", "carboy.tui.app.app",
                "carboy.tui.app.screens.stock")
 
