@@ -22,6 +22,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal
 from textual.screen import Screen
+from textual.timer import Timer
 from textual.widgets import (
     Input,
     Select,
@@ -61,6 +62,9 @@ from carboy.tui.app.widgets.steady_footer import SteadyFooter
 from carboy.tui.edge import describe
 
 CURVE_POINTS = 200
+PLANNING_NOTE_S = 0.1
+"""A plan that takes longer says "… planning" meanwhile (a quicker one draws one frame
+less, and the plan arrives sooner)."""
 """Points of the pH curve on screen: a plot at most ~100 columns wide draws 2 braille
 dots per column, so 200 points are as smooth as the screen can show (and replan faster)."""
 
@@ -127,6 +131,7 @@ class NeutralizeScreen(Screen):
         self.containers: list[tuple[str, str]] = []
         self._catalog = None
         self.live = LiveComputation(self, self._start_plan)
+        self._planning_note: Timer | None = None
         self._pending_label: str | None = None
         self._reagent_options: list | None = None
         self._composed = False
@@ -275,6 +280,9 @@ class NeutralizeScreen(Screen):
     def on_computed(self, message: Computed) -> None:
         if self.live.finished(message.outcome.generation):
             self._apply(message.outcome)
+        if self.live.settled and self._planning_note is not None:
+            self._planning_note.stop()
+            self._planning_note = None
         self.refresh_bindings()
 
     def on_recorded(self, message: Recorded) -> None:
@@ -415,8 +423,14 @@ class NeutralizeScreen(Screen):
         self.refresh_bindings()
 
     def _start_plan(self, generation: int) -> None:
-        self._set_status("… planning", keep_result=True)
+        if self._planning_note is None:  # said only if it takes long enough to be seen
+            self._planning_note = self.set_timer(PLANNING_NOTE_S, self._note_planning)
         self._plan(self._form_state(), generation, self._catalog)
+
+    def _note_planning(self) -> None:
+        self._planning_note = None
+        if not self.live.settled:
+            self._set_status("… planning", keep_result=True)
 
     def _apply(self, outcome: Outcome) -> None:
         self.outcome = outcome
