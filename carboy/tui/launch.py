@@ -10,6 +10,7 @@ returns the status instead of exiting, also for ``--help`` and for bad usage.
 
 from __future__ import annotations
 
+import gc
 import sys
 
 from carboy.tui.cli.kit import clean_output
@@ -52,7 +53,19 @@ def open_app(args) -> int:
     A database that does not exist yet is created only after a question naming its path
     (in the terminal, before the app starts); without a terminal to ask, carboy stops
     with the ``carboy init`` hint.
+
+    The garbage collector is held off until the app has drawn its first screen (it
+    would walk every new module and widget several times over: about 45 ms of the first
+    frame); the app lets it resume then (:meth:`carboy.tui.app.app.CarboyApp.on_mount`).
     """
+    gc.disable()
+    try:
+        return _open_app(args)
+    finally:
+        gc.enable()
+
+
+def _open_app(args) -> int:
     if args.demo:
         from carboy.store.demo_cache import DemoTemplate
 

@@ -138,3 +138,17 @@ def launch_light() -> str:
     from carboy.tui import launch
 
     return launch._LIGHT_COMMAND
+
+
+def test_the_collector_is_held_off_while_the_app_starts(monkeypatch):
+    """The app resumes it after its first frame; if the app never gets that far, carboy
+    resumes it as the app returns."""
+    import gc
+
+    from carboy.tui import launch
+
+    seen = []
+    monkeypatch.setattr(launch, "_open_app", lambda args: seen.append(gc.isenabled()) or 0)
+    assert gc.isenabled()
+    assert launch.open_app(object()) == 0
+    assert seen == [False] and gc.isenabled()

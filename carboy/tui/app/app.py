@@ -145,10 +145,13 @@ class CarboyApp(DatabaseWatch, App):
         """Once a screen is first drawn, everything alive then (the modules, the screens
         and their widgets: they last as long as the app) is moved out of the garbage
         collector's reach (:func:`gc.freeze`); else every full collection walks it all
-        again, a pause of 50–90 ms in the middle of typing.  Not under a test's headless
-        driver: many apps in one process would each keep the garbage of the last."""
+        again, a pause of 50–90 ms in the middle of typing.  The first time, collection
+        resumes then (``carboy`` holds it off while the app starts: about 45 ms of the
+        first frame; the few thousand objects of garbage from that time stay).  Not under
+        a test's headless driver: many apps in one process would each keep the garbage of
+        the last."""
         if not self.is_headless:
-            self.call_after_refresh(gc.freeze)
+            self.call_after_refresh(_settle_heap)
 
     def on_resize(self, event: events.Resize) -> None:
         self._guard_size(event.size.width, event.size.height)
@@ -187,6 +190,11 @@ class CarboyApp(DatabaseWatch, App):
     def action_reload(self) -> None:
         self.refresh_data()
         self.notify("Reloaded from the database.", timeout=2)
+
+
+def _settle_heap() -> None:
+    gc.freeze()
+    gc.enable()
 
 
 def make_app(db_path: str | Path, *, demo: bool = False, today: date | None = None,
