@@ -8,6 +8,8 @@ past the last row of a page brings the next page; past the first, the previous.
 from __future__ import annotations
 
 import math
+import threading
+from concurrent.futures import Future
 
 from rich.text import Text
 from textual import on, work
@@ -31,6 +33,9 @@ from carboy.tui.wording import amount, short_strength, tally
 
 PAGE_ROWS = 50
 SEARCH_DELAY_S = 0.15
+FIRST_PAGE_WAIT_S = 0.25
+"""How long the first frame waits for the first page read while the screen was built
+(then it is drawn without, and the page follows as every other)."""
 """Pause after the last keystroke before the search runs (typing stays smooth)."""
 
 # key, header, width (the location takes what is left)
@@ -134,6 +139,7 @@ class StockScreen(Screen):
         self._location_width = 0
         self.loads = 0
         """Completed loads (tests wait on it)."""
+        self._first_page = self._read_first_page()
 
     def compose(self) -> ComposeResult:
         yield ModeBar("stock")
@@ -155,7 +161,40 @@ class StockScreen(Screen):
             table.add_column(label, key=key, width=width or MIN_LOCATION_WIDTH)
         table.focus()
         self.watch(self.app, "data_version", self._data_changed, init=False)
-        self.load("first")
+        first = self._first_page_read()
+        if first is None:
+            self.load("first")
+        else:  # the first frame shows it: no second layout of the whole screen
+            self._show_page(*first, ("after", None), "first")
+
+    def _read_first_page(self) -> Future | None:
+        """Start reading the first page in a thread of its own (its own store), while the
+        screen is composed and styled."""
+        try:
+            app = self.app
+        except Exception:  # noqa: BLE001 - made outside a running app: read on mount
+            return None
+        found: Future = Future()
+
+        def read() -> None:
+            try:
+                with app.open_store() as store, store.reading():
+                    found.set_result(bottles.listing(store, None, limit=PAGE_ROWS,
+                                                     today=app.today))
+            except BaseException as exc:  # noqa: BLE001 - on mount the worker reads again
+                found.set_exception(exc)
+
+        threading.Thread(target=read, name="stock-first-page", daemon=True).start()
+        return found
+
+    def _first_page_read(self) -> tuple | None:
+        """The first page read ahead, if it came in time (a failure is read again by the
+        worker, which shows it)."""
+        ahead, self._first_page = self._first_page, None
+        try:
+            return None if ahead is None else ahead.result(timeout=FIRST_PAGE_WAIT_S)
+        except Exception:  # noqa: BLE001 - not in time (FutureTimeout), or failed
+            return None
 
     def _data_changed(self, _version: int) -> None:
         self.load("same")
