@@ -23,6 +23,7 @@ from textual.widgets import DataTable, Input, Label, Static
 from textual.worker import get_current_worker
 
 from carboy.store import bottles  # not store.stock: the first screen needs no recipes
+from carboy.tui.app.widgets import redraw
 from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.marks import STRENGTH_MARKS, bottle_mark, strength_mark
 from carboy.tui.app.widgets.mode_bar import ModeBar
@@ -349,7 +350,7 @@ class StockScreen(Screen):
                 line = (f"▸ bottle {bottle.id} · {bottle.compound_name} · "
                         f"{bottle.location or 'no location'} · lot {bottle.lot or '—'}")
                 break
-        self.query_one("#stock-selected", Static).update(line)
+        redraw.update(self.query_one("#stock-selected", Static), line)
 
     @on(DataTable.RowSelected, "#stock-table")
     def _open(self, event: DataTable.RowSelected) -> None:
