@@ -11,6 +11,7 @@ returns the status instead of exiting, also for ``--help`` and for bad usage.
 from __future__ import annotations
 
 import gc
+import os
 import sys
 
 from carboy.tui.cli.kit import clean_output
@@ -65,7 +66,13 @@ def open_app(args) -> int:
         gc.enable()
 
 
+FRAMES_PER_SECOND = "120"
+"""Textual's frame rate for the app (``TEXTUAL_FPS``, unless set): a change waits for the
+next frame, up to 17 ms at Textual's 60; a keystroke's answer often comes just after one."""
+
+
 def _open_app(args) -> int:
+    os.environ.setdefault("TEXTUAL_FPS", FRAMES_PER_SECOND)  # read as Textual is imported
     if args.demo:
         from carboy.store.demo_cache import DemoTemplate
 

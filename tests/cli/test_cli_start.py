@@ -152,3 +152,23 @@ def test_the_collector_is_held_off_while_the_app_starts(monkeypatch):
     assert gc.isenabled()
     assert launch.open_app(object()) == 0
     assert seen == [False] and gc.isenabled()
+
+
+
+@pytest.mark.parametrize("given", [None, "30"])
+def test_the_app_draws_at_120_frames_a_second_unless_told_otherwise(monkeypatch, given):
+    import os
+    import types
+
+    from carboy.store import demo_cache
+    from carboy.tui import launch
+    from carboy.tui.app import app
+
+    monkeypatch.setenv("TEXTUAL_FPS", "placeholder")  # restored (or removed) afterwards
+    if given is None:
+        monkeypatch.delenv("TEXTUAL_FPS")
+    else:
+        monkeypatch.setenv("TEXTUAL_FPS", given)
+    monkeypatch.setattr(demo_cache.DemoTemplate, "start", classmethod(lambda cls: None))
+    monkeypatch.setattr(app, "run", lambda **kw: int(os.environ["TEXTUAL_FPS"]))
+    assert launch._open_app(types.SimpleNamespace(demo=True)) == int(given or 120)
