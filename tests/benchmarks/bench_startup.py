@@ -80,16 +80,17 @@ def first_frame_s(cache: Path) -> float:
         term.close()
 
 
-def first_frames(runs: int) -> dict[str, list[float]]:
-    """Warm and cold starts, interleaved (a cold one empties its own cache first)."""
+def first_frames(runs: int, *, cold: bool = True) -> dict[str, list[float]]:
+    """Warm and cold starts, interleaved (a cold one has a cache folder of its own)."""
     out: dict[str, list[float]] = {"warm cache": [], "cold cache": []}
     with tempfile.TemporaryDirectory(prefix="carboy-bench-") as tmp:
         warm = Path(tmp) / "warm"
         first_frame_s(warm)  # builds the day's demo storeroom (and compiles bytecode)
         for n in range(runs):
             out["warm cache"].append(first_frame_s(warm))
-            out["cold cache"].append(first_frame_s(Path(tmp) / f"cold-{n}"))
-    return out
+            if cold:
+                out["cold cache"].append(first_frame_s(Path(tmp) / f"cold-{n}"))
+    return {name: runs for name, runs in out.items() if runs}
 
 
 def timed_key(term: PtyTerminal, key: str, quiet_s: float) -> float:
