@@ -48,6 +48,8 @@ async def test_a_rule_changes_through_its_dialog_and_the_log_lists_treatments(
         assert "placeholder" in str(screen.query_one("#rules-source", Static).content)
         await pilot.press("e")
         await wait_for(pilot, lambda: isinstance(app.screen, RuleDialog))
+        heading = str(app.screen.query_one(".dialog-title", Static).content)
+        assert heading == "Change: largest batch of waste treated at once"
         app.screen.query_one("#rule-value", Input).value = "500 mL"
         await pilot.press("ctrl+s")
         await wait_for(pilot, lambda: app.screen is screen and screen.profile is not None
@@ -110,6 +112,8 @@ async def test_the_storeroom_name_is_set_and_removed_from_the_rules_screen(
         await pilot.press("e")
         await wait_for(pilot, lambda: isinstance(app.screen, StoreroomNameDialog))
         dialog = app.screen
+        heading = str(dialog.query_one(".dialog-title", Static).content)
+        assert heading == "Change: the storeroom's name on paper"
         dialog.query_one("#rule-value", Input).value = "Room\u202e4"
         await pilot.press("ctrl+s")
         await pilot.pause()

@@ -9,11 +9,15 @@ from pathlib import Path
 
 import pytest
 
+import carboy.model.metal_data
+import carboy.model.metals
 import carboy.model.solver
 import carboy.model.speciation
 
 SOLVER = sorted(Path(carboy.model.solver.__file__).parent.glob("*.py")) + [
-    Path(carboy.model.speciation.__file__)]
+    Path(carboy.model.speciation.__file__), Path(carboy.model.metals.__file__),
+    Path(carboy.model.metal_data.__file__)]
+"""The solver's own modules and the metal terms it evaluates at every trial point."""
 BLAS_CALLS = {"dot", "matmul", "tensordot", "inner", "vdot", "outer_product", "solve",
               "lstsq", "inv", "multi_dot"}
 

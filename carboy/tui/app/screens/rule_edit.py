@@ -50,7 +50,7 @@ class ValueDialog(FormDialog):
         Binding("escape", "cancel", "Cancel", id="rule_edit.cancel"),
     ]
 
-    title = ""
+    heading = ""
     now = ""
     field_label = "Value"
     current = ""
@@ -69,7 +69,7 @@ class ValueDialog(FormDialog):
 
     def compose(self) -> ComposeResult:
         with Vertical(id="rule-dialog", classes="dialog"):
-            yield Static(f"Change: {self.title}", classes="dialog-title", markup=False)
+            yield Static(f"Change: {self.heading}", classes="dialog-title", markup=False)
             yield Static(f"now {self.now}", markup=False)
             yield FieldRow(self.field_label, field_id="rule-value", value=self.current,
                            placeholder=f"e.g. {self.example}", hint=self.hint)
@@ -135,7 +135,7 @@ class RuleDialog(ValueDialog):
         self.profile = profile
         self.catalog = catalog
         value = profile.value(name)
-        self.title = self.rule.words
+        self.heading = self.rule.words
         self.now = f"{dp.describe(name, value)} ({profile.origin.get(name, dp.PLACEHOLDER)})"
         self.current = dp.as_text(name, value)
         self.example = self.rule.example
@@ -156,7 +156,7 @@ class StoreroomNameDialog(ValueDialog):
 
     HELP = ("The storeroom's name, printed on bottle labels, disposal records and the "
             "treatment report. The journal keeps the old and new name.")
-    title = "the storeroom's name on paper"
+    heading = "the storeroom's name on paper"
     field_label = "Name"
     example = "Stores Room 4, East Annex"
     hint = "empty: no name printed"
