@@ -49,9 +49,10 @@ FIRST_FRAME_TARGET_S = 0.6
 KEY_MEDIAN_TARGET_MS = 50.0
 KEY_P95_TARGET_MS = 100.0
 FIRST_PAGE = "rows 1–"
-CARBOY = [sys.executable, "-c", "import sys; from carboy.tui.launch import main; "
+CARBOY = [sys.executable, "-P", "-c", "import sys; from carboy.tui.launch import main; "
           "sys.exit(main())"]
-"""``carboy`` itself (what the console script runs), for this Python."""
+"""``carboy`` itself (what the console script runs), for this Python (``-P``: never a
+carboy that happens to be in the working directory)."""
 
 
 SOURCE: Path | None = None
