@@ -26,8 +26,9 @@ works on its own copy in a temporary folder (:func:`throwaway`).
 * **Never more than a source of copies**: a template is only ever read to be checked and
   copied; nothing opens it as a store, and nothing here touches any other database.
 
-When the day's template is missing, :meth:`DemoTemplate.start` builds it in a second
-process while the app loads its modules; :meth:`DemoTemplate.copy_to` waits for it.
+When the day's template is missing, the run that finds it so builds it, in its own
+process (a second process building it while the app loads its modules was slower on a
+busy two-core machine: it loads Python and the store a second time).
 """
 
 from __future__ import annotations
@@ -37,8 +38,6 @@ import hashlib
 import os
 import shutil
 import sqlite3
-import subprocess
-import sys
 import tempfile
 import time
 from collections.abc import Iterator
@@ -63,68 +62,37 @@ KEEP_S = 2 * 24 * 3600.0
 is removed by the next build."""
 STALE_BUILD_S = 3600.0
 """A build folder older than this is a crashed build's leftover, removed by the next one."""
-BUILD_TIMEOUT_S = 60.0
-"""How long to wait for the second process building a template (then build here)."""
-
-_BUILD = ("import sys; sys.path.insert(0, sys.argv[1]); "
-          "from carboy.store.demo_cache import build_template; "
-          "build_template(sys.argv[2], sys.argv[3])")
-"""What the second process runs: this carboy (its folder first on the path; ``-P`` keeps
-the working directory off it), building the template named."""
 _PREFIX, _SUFFIX = "demo-", ".db"
 _BUILDING = "building-"
 
 
 @contextlib.contextmanager
-def throwaway(today: date | None = None, *, template: DemoTemplate | None = None
-              ) -> Iterator[Path]:
+def throwaway(today: date | None = None) -> Iterator[Path]:
     """A demo database in a new temporary directory, removed on exit (``carboy --demo``).
 
     Dated from ``today`` (default: the real today), so the demo's expiry and
-    standardization dates look fresh.  It is a copy of the day's template (``template``,
-    when the caller started it early; else found or built now).
+    standardization dates look fresh.  It is a copy of the day's template (built first
+    when there is none).
     """
-    template = template or DemoTemplate(today or date.today())
+    template = DemoTemplate(today or date.today())
     with tempfile.TemporaryDirectory(prefix="carboy-demo-") as tmp:
         yield template.copy_to(Path(tmp) / "demo.db")
 
 
 class DemoTemplate:
-    """The demo storeroom of one day in the cache, and copies of it.
-
-    :meth:`start` begins building it in a second process when the cache lacks it (it
-    builds while the caller loads the app); :meth:`copy_to` waits for it, checks it and
-    copies it.  Without a usable cache directory, or when the build there fails, the
-    copy is built in place.
+    """The demo storeroom of one day in the cache, and copies of it: :meth:`copy_to`
+    finds it, checks it (built again when damaged or stale, built first when missing)
+    and copies it.  Without a usable cache directory, or when the build there fails,
+    the copy is built in place.
     """
 
     def __init__(self, today: date) -> None:
         self.today = today
         self.path = template_path(today)
-        self._build: subprocess.Popen | None = None
-
-    @classmethod
-    def start(cls, today: date | None = None) -> DemoTemplate:
-        template = cls(today or date.today())
-        if template.path is not None and not _present(template.path):
-            argv = [sys.executable, "-P", "-c", _BUILD, str(Path(carboy.__file__).parents[1]),
-                    str(template.path), template.today.isoformat()]
-            with contextlib.suppress(OSError):
-                template._build = subprocess.Popen(
-                    argv, stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL,
-                    stderr=subprocess.DEVNULL, start_new_session=True)
-        return template
 
     def ready(self) -> Path | None:
-        """The template, built (by the second process, else here) and checked; None when
-        none can be kept."""
-        if self._build is not None:
-            try:
-                self._build.wait(timeout=BUILD_TIMEOUT_S)
-            except subprocess.TimeoutExpired:
-                self._build.kill()
-                self._build.wait()
-            self._build = None
+        """The template, checked (built when missing, damaged or stale); None when none
+        can be kept."""
         if self.path is None:
             return None
         if _present(self.path) and template_problem(self.path) is None:

@@ -73,14 +73,10 @@ next frame, up to 17 ms at Textual's 60; a keystroke's answer often comes just a
 
 def _open_app(args) -> int:
     os.environ.setdefault("TEXTUAL_FPS", FRAMES_PER_SECOND)  # read as Textual is imported
-    if args.demo:
-        from carboy.store.demo_cache import DemoTemplate
-
-        template = DemoTemplate.start()  # if the day's is not kept yet: built while we load
-        from carboy.tui.app.app import run
-
-        return run(demo=True, template=template)
     from carboy.tui.app.app import run
+
+    if args.demo:
+        return run(demo=True)
     from carboy.tui.first_start import ensure_database
 
     path = ensure_database(getattr(args, "db", None))

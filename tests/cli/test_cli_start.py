@@ -160,7 +160,6 @@ def test_the_app_draws_at_120_frames_a_second_unless_told_otherwise(monkeypatch,
     import os
     import types
 
-    from carboy.store import demo_cache
     from carboy.tui import launch
     from carboy.tui.app import app
 
@@ -169,6 +168,5 @@ def test_the_app_draws_at_120_frames_a_second_unless_told_otherwise(monkeypatch,
         monkeypatch.delenv("TEXTUAL_FPS")
     else:
         monkeypatch.setenv("TEXTUAL_FPS", given)
-    monkeypatch.setattr(demo_cache.DemoTemplate, "start", classmethod(lambda cls: None))
     monkeypatch.setattr(app, "run", lambda **kw: int(os.environ["TEXTUAL_FPS"]))
     assert launch._open_app(types.SimpleNamespace(demo=True)) == int(given or 120)

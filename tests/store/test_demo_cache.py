@@ -155,11 +155,9 @@ def test_old_templates_and_crashed_builds_are_cleared_by_a_build(cache):
 
 
 PROBE = """
-import sys
-from carboy.store.demo_cache import DemoTemplate, throwaway
+from carboy.store.demo_cache import throwaway
 from carboy.store.db import open_database
-template = DemoTemplate.start()
-with throwaway(template=template) as path:
+with throwaway() as path:
     store = open_database(path, create=False)
     print(store.scalar("SELECT count(*) FROM stock_bottles"))
     store.close()

@@ -23,7 +23,7 @@ from textual.reactive import Reactive, reactive
 from textual.widget import AwaitMount
 
 from carboy.store import db as store_db
-from carboy.store.demo_cache import DemoTemplate, throwaway
+from carboy.store.demo_cache import throwaway
 from carboy.tui.app import registry
 from carboy.tui.app.commands import CarboyCommands
 from carboy.tui.app.database_watch import DatabaseWatch
@@ -207,13 +207,12 @@ def make_app(db_path: str | Path, *, demo: bool = False, today: date | None = No
     return CarboyApp(Path(db_path), demo=demo, today=today, who=who)
 
 
-def run(*, db: str | None = None, demo: bool = False,
-        template: DemoTemplate | None = None) -> int:
+def run(*, db: str | None = None, demo: bool = False) -> int:
     """Run the app until it quits: on the database ``db`` (``--db``, else ``$CARBOY_DB``,
     else the user data directory) or, with ``demo``, on a throwaway demo storeroom (a
-    copy of ``template``, when the caller started it early)."""
+    copy of the day's kept in the user cache: :mod:`carboy.store.demo_cache`)."""
     if demo:
-        with throwaway(template=template) as path:
+        with throwaway() as path:
             make_app(path, demo=True).run()
         return 0
     path = store_db.default_path(db)
