@@ -2,10 +2,25 @@
 
 from __future__ import annotations
 
+import os
 import shutil
 from pathlib import Path
 
 import pytest
+
+
+@pytest.fixture(autouse=True, scope="session")
+def private_cache(tmp_path_factory):
+    """Every test (and every process a test starts) keeps the demo storeroom in a
+    temporary folder: never in the user cache directory of whoever runs the tests."""
+    folder = tmp_path_factory.mktemp("carboy-cache")
+    before = os.environ.get("CARBOY_CACHE_DIR")
+    os.environ["CARBOY_CACHE_DIR"] = str(folder)
+    yield folder
+    if before is None:
+        os.environ.pop("CARBOY_CACHE_DIR", None)
+    else:
+        os.environ["CARBOY_CACHE_DIR"] = before
 
 
 @pytest.fixture(scope="session")
@@ -42,18 +57,3 @@ def copy_demo(demo_template, tmp_path):
 
     return copy
 
-
-@pytest.hookimpl(optionalhook=True)  # a hook of pytest-xdist: unused when it is not loaded
-def pytest_xdist_make_scheduler(config, log):
-    """Hand out tests by work stealing when the run uses xdist's default ``load`` mode.
-
-    ``load`` sends each worker long runs of consecutive tests, counted not timed, so one
-    worker would get nearly all the slow app tests (tests/tui) and the other sit idle for
-    a minute.  With work stealing an idle worker takes half of what the other still has
-    queued.  (``--dist worksteal`` in the pytest options does the same; then this is not
-    used.)"""
-    if config.getoption("dist") != "load":
-        return None
-    from xdist.scheduler import WorkStealingScheduling
-
-    return WorkStealingScheduling(config, log)

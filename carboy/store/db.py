@@ -31,15 +31,16 @@ from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
-from typing import Any, TypeVar
-
-import sqlite_utils
+from typing import TYPE_CHECKING, Any, TypeVar
 
 from carboy.errors import Refused, quoted
 from carboy.store import chain, files, migrations
 from carboy.store.errors import AlreadyExists, Busy, DatabaseUnusable, StoreError
 from carboy.store.files import DatabaseMissing, DatabaseReplaced, FileIdentity
 from carboy.store.identity import current_origin, current_user
+
+if TYPE_CHECKING:
+    import sqlite_utils
 
 __all__ = ["Store", "open_database", "init_database", "default_path", "current_user",
            "current_origin", "utc_now", "iso_utc", "stamp", "file_lock", "APPLICATION_ID",
@@ -122,7 +123,7 @@ class Store:
     def __init__(self, path: Path, conn: sqlite3.Connection):
         self.path = path
         self.conn = conn
-        self.db = sqlite_utils.Database(conn, execute_plugins=False)
+        self._db: sqlite_utils.Database | None = None
         self.origin: str | None = None
         """Where writes come from; ``None`` reads SSH_CLIENT / SSH_CONNECTION each time."""
         self.identity: FileIdentity | None = None
@@ -134,6 +135,17 @@ class Store:
 
     def origin_of(self) -> str:
         return self.origin or current_origin()
+
+    @property
+    def db(self) -> sqlite_utils.Database:
+        """The connection as a sqlite-utils ``Database`` (migrations, nested writes).
+        sqlite-utils is imported on first use: it loads numpy, and opening an up-to-date
+        database for reading never needs it (the app's first frame waits for nothing)."""
+        if self._db is None:
+            import sqlite_utils
+
+            self._db = sqlite_utils.Database(self.conn, execute_plugins=False)
+        return self._db
 
     # -- lifecycle -------------------------------------------------------------
     def close(self) -> None:

@@ -11,18 +11,18 @@ four waste containers with their histories (a mixed mineral-acid rinse, an
 organic-acid waste, an alkaline cleaning waste, and a fluoride waste held for
 licensed disposal) and a few journal entries.  Disposal notes never call anything
 safe to pour away: they point to local disposal rules and the safety office.
+
+``carboy --demo`` works on a copy of the day's demo storeroom kept in the user cache
+directory (:mod:`carboy.store.demo_cache`); this module loads the store's record modules
+(and the model parts they need) only to build one.
 """
 
 from __future__ import annotations
 
-import contextlib
 import os
-import tempfile
-from collections.abc import Iterator
 from datetime import UTC, date, datetime, time, timedelta
 from pathlib import Path
 
-from carboy.store import journal, stock, waste
 from carboy.store.db import Store, open_database
 from carboy.store.errors import AlreadyExists
 from carboy.store.statuses import BottleStatus, ContainerStatus
@@ -170,6 +170,9 @@ def create_demo_database(path: str | os.PathLike, today: date = DEMO_TODAY) -> P
 def seed(store: Store, today: date = DEMO_TODAY) -> None:
     """Fill an empty database with the demo storeroom (each step its own transaction, or
     savepoints of the caller's: :func:`create_demo_database` runs it as one)."""
+    # here, not at the top: a run that copies the day's template never needs them
+    from carboy.store import journal, stock, waste
+
     lead, tech, student = STAFF
     for n, (key, strength, size, left, where, lot, received, expires, every, _measured) in \
             enumerate(_BOTTLES):
@@ -221,14 +224,3 @@ def seed(store: Store, today: date = DEMO_TODAY) -> None:
     journal.append(store, "note", who=student, when=_at(today, 1, 8),
                    summary="Weekly check of eyewash and spill station done",
                    snapshot={"checked": ["eyewash", "spill kit", "NaHCO3 stock"]})
-
-
-@contextlib.contextmanager
-def throwaway(today: date | None = None) -> Iterator[Path]:
-    """A demo database in a new temporary directory, removed on exit (``carboy --demo``).
-
-    Dated from ``today`` (default: the real today), so the demo's expiry and
-    standardization dates look fresh.
-    """
-    with tempfile.TemporaryDirectory(prefix="carboy-demo-") as tmp:
-        yield create_demo_database(Path(tmp) / "demo.db", today or date.today())

@@ -46,20 +46,52 @@ change (the stock list's "rows 1–50 of N" without counting a million rows).
 
 from __future__ import annotations
 
-from typing import Protocol
-
-from sqlite_utils import Database
-from sqlite_utils.migrations import Migrations
+import functools
+import sqlite3
+from collections.abc import Callable
+from typing import TYPE_CHECKING, Protocol
 
 from carboy.store.chain import seal_existing
+
+if TYPE_CHECKING:
+    from sqlite_utils import Database
+    from sqlite_utils.migrations import Migrations
 
 # No migration reads this: carboy/tui/cli_store.py still imports it from here.  Its home
 # is carboy.store.statuses; drop this line once the command line imports it from there.
 
 MIGRATION_SET = "carboy"
-MIGRATIONS_TABLE = Migrations.migrations_table
+MIGRATIONS_TABLE = "_sqlite_migrations"
+"""sqlite-utils' record of the migrations applied (``Migrations.migrations_table``)."""
 
-migrations = Migrations(MIGRATION_SET)
+_SHIPPED: list[tuple[str, Callable[[Database], None]]] = []
+"""Every migration in order, name and function.  sqlite-utils (which loads numpy) is
+imported only to apply them (:func:`migration_set`): opening an up-to-date database reads
+the names applied with one query and never needs it."""
+
+
+def _migration(name: str) -> Callable[[Callable[[Database], None]], Callable[[Database], None]]:
+    def register(fn: Callable[[Database], None]) -> Callable[[Database], None]:
+        _SHIPPED.append((name, fn))
+        return fn
+    return register
+
+
+@functools.cache
+def migration_set() -> Migrations:
+    """The migrations as a sqlite-utils set (built, and sqlite-utils imported, on first use)."""
+    from sqlite_utils.migrations import Migrations
+
+    found = Migrations(MIGRATION_SET)
+    for name, fn in _SHIPPED:
+        found(name=name)(fn)
+    return found
+
+
+def __getattr__(name: str):
+    if name == "migrations":  # the sqlite-utils set, as this module once held it
+        return migration_set()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 STATEMENT_BREAK = "\n;\n"
 """Between two statements of a migration's SQL text (a line holding only ``;``: trigger
@@ -206,7 +238,7 @@ CREATE TRIGGER journal_entries_no_delete BEFORE DELETE ON journal_entries
 BEGIN SELECT RAISE(ABORT, 'carboy: journal entries are append-only; record a correction instead'); END"""
 
 
-@migrations(name="0001_storeroom")
+@_migration("0001_storeroom")
 def m0001_storeroom(db: Database) -> None:
     _run(db, SQL_0001)
 
@@ -220,7 +252,7 @@ CREATE TABLE storeroom_rules (
 )"""
 
 
-@migrations(name="0002_storeroom_rules")
+@_migration("0002_storeroom_rules")
 def m0002_storeroom_rules(db: Database) -> None:
     _run(db, SQL_0002)
 
@@ -254,7 +286,7 @@ CREATE TRIGGER record_chain_no_reused_id BEFORE INSERT ON record_chain WHEN new.
 BEGIN SELECT RAISE(ABORT, 'carboy: chain links are append-only; an id is never reused'); END"""
 
 
-@migrations(name="0003_record_chain")
+@_migration("0003_record_chain")
 def m0003_record_chain(db: Database) -> None:
     _run(db, SQL_0003)
     seal_existing(db)
@@ -322,7 +354,7 @@ def _infer_streams(db: Database) -> None:
                                   container_id])
 
 
-@migrations(name="0004_waste_streams")
+@_migration("0004_waste_streams")
 def m0004_waste_streams(db: Database) -> None:
     _run(db, SQL_0004)
     _infer_streams(db)
@@ -406,7 +438,7 @@ CREATE INDEX journal_entries_by_bottle ON journal_entries (bottle_id, recorded_a
 CREATE INDEX journal_entries_by_container ON journal_entries (container_id, recorded_at) WHERE container_id IS NOT NULL"""
 
 
-@migrations(name="0005_speed_at_scale")
+@_migration("0005_speed_at_scale")
 def m0005_speed_at_scale(db: Database) -> None:
     _run(db, SQL_0005)
 # The storeroom's own disposal rules over carboy's placeholders (carboy.model.disposal_profile):
@@ -446,29 +478,37 @@ WHEN NOT EXISTS (SELECT 1 FROM journal_entries j
 BEGIN SELECT RAISE(ABORT, 'carboy: a disposal rule changes only right after the journal entry that records it'); END"""
 
 
-@migrations(name="0006_disposal_rules")
+@_migration("0006_disposal_rules")
 def m0006_disposal_rules(db: Database) -> None:
     _run(db, SQL_0006)
 
 
 class _HasDatabase(Protocol):
+    conn: sqlite3.Connection
     db: Database
 
 
 def known_names() -> list[str]:
-    return [m.name for m in migrations._migrations]
+    return [name for name, _fn in _SHIPPED]
 
 
 def applied_names(store: _HasDatabase) -> list[str]:
-    return [m.name for m in migrations.applied(store.db)]
+    """The names applied, in the order they were (as sqlite-utils reads them)."""
+    if not store.conn.execute("SELECT 1 FROM sqlite_master WHERE type = 'table' AND name = ?",
+                              [MIGRATIONS_TABLE]).fetchone():
+        return []
+    return [row[0] for row in store.conn.execute(
+        f"SELECT name FROM {MIGRATIONS_TABLE} WHERE migration_set = ? ORDER BY rowid",
+        [MIGRATION_SET]).fetchall()]
 
 
 def pending_names(store: _HasDatabase) -> list[str]:
-    return [m.name for m in migrations.pending(store.db)]
+    applied = set(applied_names(store))
+    return [name for name in known_names() if name not in applied]
 
 
 def apply(store: _HasDatabase) -> list[str]:
     """Apply pending migrations; call only inside ``Store.write`` holding the file lock."""
     pending = pending_names(store)
-    migrations.apply(store.db)
+    migration_set().apply(store.db)
     return pending

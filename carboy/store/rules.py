@@ -25,7 +25,6 @@ from types import MappingProxyType
 
 from carboy.errors import InvalidInput
 from carboy.model import upkeep
-from carboy.model.label_documents import STOREROOM_NAME_MOST
 from carboy.model.text import read_label
 from carboy.store import journal
 from carboy.store.compounds import catalog_for
@@ -233,6 +232,10 @@ def set_storeroom_name(store: Store, name: str, *, who: str | None = None,
     empty name removes it.  Read like every label (NFKC, no control or invisible
     characters, at most :data:`~carboy.model.label_documents.STOREROOM_NAME_MOST` characters).  Journaled; returns the
     entry id."""
+    # here, not at the top: label_documents loads the label and GHS tables, which every
+    # reader of the rules (the app's first screen among them) would otherwise wait for
+    from carboy.model.label_documents import STOREROOM_NAME_MOST
+
     text = read_label(name, "storeroom name", field="storeroom_name", most=STOREROOM_NAME_MOST)
     before = load(store).storeroom_name
 

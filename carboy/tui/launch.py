@@ -10,10 +10,12 @@ returns the status instead of exiting, also for ``--help`` and for bad usage.
 
 from __future__ import annotations
 
+import gc
+import os
 import sys
 
 from carboy.tui.cli.kit import clean_output
-from carboy.tui.cli.main import build_parser
+from carboy.tui.cli.main import build_parser, command_named
 from carboy.tui.edge import EXIT_BAD_INPUT, EXIT_OK, run_guarded
 
 
@@ -21,7 +23,7 @@ def main(argv: list[str] | None = None) -> int:
     with clean_output():
         try:
             argv = sys.argv[1:] if argv is None else argv
-            args = build_parser(argv).parse_args(argv)
+            args = _parser(argv).parse_args(argv)
         except SystemExit as done:  # --help, --version, or bad usage (already reported)
             code = done.code
             return code if isinstance(code, int) else (EXIT_OK if code is None
@@ -32,18 +34,51 @@ def main(argv: list[str] | None = None) -> int:
     return run_guarded(open_app, args)  # the app writes to the terminal itself
 
 
+def _parser(argv: list[str]):
+    """The parser for ``argv``.  Without a command word (the app opens) only the global
+    options are read, so the parser is built with one light subcommand instead of all of
+    them (each loads its part of the model: time the app's first frame would wait for).
+    ``argv`` with the light command appended names it only when ``argv`` names no
+    command, asks for no help and has no stray word."""
+    light = command_named([*argv, _LIGHT_COMMAND]) == _LIGHT_COMMAND
+    return build_parser([_LIGHT_COMMAND] if light else argv)
+
+
+_LIGHT_COMMAND = "init"
+"""A subcommand whose module loads almost nothing (it is not run: no word names it)."""
+
+
 def open_app(args) -> int:
     """Open the terminal app: on the default database, or on a throwaway demo storeroom.
 
     A database that does not exist yet is created only after a question naming its path
     (in the terminal, before the app starts); without a terminal to ask, carboy stops
     with the ``carboy init`` hint.
+
+    The garbage collector is held off until the app has drawn its first screen (it
+    would walk every new module and widget several times over: about 45 ms of the first
+    frame); the app lets it resume then (:meth:`carboy.tui.app.app.CarboyApp.on_mount`).
     """
+    gc.disable()
+    try:
+        return _open_app(args)
+    finally:
+        gc.enable()
+
+
+FRAMES_PER_SECOND = "120"
+"""Textual's frame rate for the app (``TEXTUAL_FPS``, unless set): a change waits for the
+next frame, up to 17 ms at Textual's 60; a keystroke's answer often comes just after one."""
+
+
+def _open_app(args) -> int:
+    os.environ.setdefault("TEXTUAL_FPS", FRAMES_PER_SECOND)  # read as Textual is imported
     from carboy.tui.app.app import run
-    from carboy.tui.first_start import ensure_database
 
     if args.demo:
-        return run(db=getattr(args, "db", None), demo=True)
+        return run(demo=True)
+    from carboy.tui.first_start import ensure_database
+
     path = ensure_database(getattr(args, "db", None))
     if path is None:
         return EXIT_BAD_INPUT

@@ -8,7 +8,6 @@ status reads the same in both: the phrasing lives here, once (numbers by the rul
 from __future__ import annotations
 
 from carboy.model import numbers
-from carboy.model.batch_heat import boil_c
 from carboy.model.numbers import amount, count, mass, moles, ph, strength, volume
 
 __all__ = ["amount", "count", "disposal_lines", "heat_text", "mass", "moles", "ph", "plan_heat_text",
@@ -17,6 +16,10 @@ __all__ = ["amount", "count", "disposal_lines", "heat_text", "mass", "moles", "p
 
 def heat_text(recipe) -> str:
     """The heat line of a recipe: how much, and how warm it gets while mixing and after."""
+    # here, not at the top: batch_heat loads numpy, which the app's first screen (the
+    # stock list, worded here) never needs
+    from carboy.model.batch_heat import boil_c
+
     if recipe.heat_released_kj is None:
         return "not estimated (no published data held for this solution)"
     text = _released(recipe.heat_released_kj)

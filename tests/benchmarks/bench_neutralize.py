@@ -1,4 +1,5 @@
-"""Neutralize screen: a keystroke in the form to an updated plan on screen (target 50 ms).
+"""Neutralize screen: a keystroke in the form to an updated plan applied (targets: median
+50 ms, 95th percentile 100 ms).
 
 Run by hand (pytest does not collect it)::
 
@@ -8,7 +9,9 @@ For each demo container (and a typed-in sample), with the screen idle, one keyst
 changes the target pH; the time is taken from just before the key is sent to the
 moment the new plan has been applied to the widgets (parse, plan in the worker
 thread, message back, panels, table, curve and cautions updated).  The planner alone
-(:func:`compute`, no screen) is timed too.  Medians and maxima in milliseconds.
+(:func:`compute`, no screen) is timed too.  Medians, 95th percentiles and maxima in
+milliseconds.  This is the app's own view, driven headless; the time until the terminal
+shows it (drawing and writing the frame included) is ``bench_startup.py``'s.
 """
 
 from __future__ import annotations
@@ -36,6 +39,7 @@ from carboy.tui.app.screens.neutralize import (  # noqa: E402
 )
 
 TARGET_MS = 50.0
+P95_TARGET_MS = 100.0
 CASES = [
     ("MA-01", "NaOH=1M"),
     ("OA-02", "NaOH=1M"),
@@ -134,23 +138,30 @@ def bench_compute(repeat: int) -> dict[str, list[float]]:
     return out
 
 
+def p95(times: list[float]) -> float:
+    ordered = sorted(times)
+    return ordered[min(len(ordered) - 1, round(0.95 * (len(ordered) - 1)))]
+
+
 def report(title: str, figures: dict[str, list[float]]) -> None:
     print(title)
     for name, times in figures.items():
-        med, worst = statistics.median(times), max(times)
-        mark = "ok  " if med <= TARGET_MS else "SLOW"
-        print(f"  {mark} {name:<7} median {med:7.1f} ms   max {worst:7.1f} ms   (n={len(times)})")
+        med, high, worst = statistics.median(times), p95(times), max(times)
+        mark = "ok  " if med <= TARGET_MS and high <= P95_TARGET_MS else "SLOW"
+        print(f"  {mark} {name:<7} median {med:7.1f} ms   p95 {high:7.1f} ms   "
+              f"max {worst:7.1f} ms   (n={len(times)})")
 
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--repeat", type=int, default=10)
+    parser.add_argument("--repeat", type=int, default=20)
     args = parser.parse_args()
-    report(f"planner alone (compute), target {TARGET_MS:g} ms", bench_compute(args.repeat))
+    targets = f"targets median {TARGET_MS:g} ms, p95 {P95_TARGET_MS:g} ms"
+    report(f"planner alone (compute), {targets}", bench_compute(args.repeat))
     with tempfile.TemporaryDirectory() as tmp:
         db = create_demo_database(Path(tmp) / "demo.db", today=DEMO_TODAY)
         figures = asyncio.run(bench_screen(db, args.repeat))
-    report(f"keystroke -> plan on screen, target {TARGET_MS:g} ms", figures)
+    report(f"keystroke -> plan applied (headless), {targets}", figures)
 
 
 if __name__ == "__main__":

@@ -108,3 +108,64 @@ def test_a_count_that_stopped_says_more_than():
     assert tally(Count(10_000, exact=False)) == "more than 10,000"
     assert tally(Count(1), "bottle") == "1 bottle"
     assert tally(Count(10_000, exact=False), "bottle") == "more than 10,000 bottles"
+
+
+def test_the_app_reads_only_the_global_options():
+    """`carboy --demo` (no command word) builds the parser with one light subcommand
+    and loads no other command module; a command word or --help still builds its own."""
+    from carboy.tui.launch import _parser
+
+    def commands(parser):
+        return list(next(a for a in parser._actions if a.dest == "command").choices)
+
+    assert commands(_parser(["--demo"])) == [launch_light()]
+    assert commands(_parser(["--db", "x.db"])) == [launch_light()]
+    assert commands(_parser(["--demo", "stock", "list"])) == ["stock"]
+    assert commands(_parser(["--demo", "--help"])) == list(cli_main.COMMANDS)
+    assert commands(_parser(["--demo", "stok"])) == list(cli_main.COMMANDS)
+    code = ("import sys\nfrom carboy.tui.launch import _parser\n"
+            "_parser(['--demo']).parse_args(['--demo'])\n"
+            "print(' '.join(sorted(m for m in sys.modules if m.startswith('carboy.tui.cli.'))))")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          timeout=60)
+    assert done.returncode == 0, done.stderr
+    loaded = set(done.stdout.split())
+    assert not loaded & (set(cli_main.SUBCOMMAND_MODULES) - {f"carboy.tui.cli.{launch_light()}"})
+
+
+def launch_light() -> str:
+    from carboy.tui import launch
+
+    return launch._LIGHT_COMMAND
+
+
+def test_the_collector_is_held_off_while_the_app_starts(monkeypatch):
+    """The app resumes it after its first frame; if the app never gets that far, carboy
+    resumes it as the app returns."""
+    import gc
+
+    from carboy.tui import launch
+
+    seen = []
+    monkeypatch.setattr(launch, "_open_app", lambda args: seen.append(gc.isenabled()) or 0)
+    assert gc.isenabled()
+    assert launch.open_app(object()) == 0
+    assert seen == [False] and gc.isenabled()
+
+
+
+@pytest.mark.parametrize("given", [None, "30"])
+def test_the_app_draws_at_120_frames_a_second_unless_told_otherwise(monkeypatch, given):
+    import os
+    import types
+
+    from carboy.tui import launch
+    from carboy.tui.app import app
+
+    monkeypatch.setenv("TEXTUAL_FPS", "placeholder")  # restored (or removed) afterwards
+    if given is None:
+        monkeypatch.delenv("TEXTUAL_FPS")
+    else:
+        monkeypatch.setenv("TEXTUAL_FPS", given)
+    monkeypatch.setattr(app, "run", lambda **kw: int(os.environ["TEXTUAL_FPS"]))
+    assert launch._open_app(types.SimpleNamespace(demo=True)) == int(given or 120)

@@ -278,3 +278,32 @@ def test_the_curve_axis_has_even_ticks_that_cover_the_dose():
         ticks = even_ticks(end)
         steps = {round(b - a, 12) for a, b in zip(ticks, ticks[1:])}
         assert ticks[0] == 0 and ticks[-1] >= end and len(steps) == 1 and len(ticks) <= 6
+
+
+@pytest.mark.parametrize("slow", [False, True])
+async def test_planning_is_said_only_while_a_plan_takes_long(demo_db, monkeypatch, slow):
+    """A plan quicker than the note's delay draws no "… planning" frame before it."""
+    import carboy.tui.app.screens.neutralize as nz
+
+    monkeypatch.setattr(nz, "PLANNING_NOTE_S", 0.05 if slow else 30.0)
+    if slow:
+        quick = nz.compute
+
+        def slow_compute(*args, **kwargs):
+            time.sleep(0.4)
+            return quick(*args, **kwargs)
+
+        monkeypatch.setattr(nz, "compute", slow_compute)
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "MA-01")
+        await settled(pilot, screen)
+        said: list[str] = []
+        original = screen._set_status
+        screen._set_status = lambda text, keep_result=False: (said.append(text),
+                                                             original(text, keep_result))
+        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        await settled(pilot, screen)
+        assert any(text.startswith("… planning") for text in said) is slow
+        assert said[-1].startswith("✓ plan up to date")
+        assert screen._planning_note is None

@@ -138,3 +138,50 @@ async def test_paging_by_keys_and_by_scrolling_past_the_end(big_db, wait_for):
         await pilot.press("p")
         await wait_for(pilot, lambda: screen.page_index == 0 and not screen.loading)
         assert str(position.render()).startswith("rows 1–50")
+
+
+async def test_the_first_page_is_read_while_the_screen_is_built(make, monkeypatch):
+    """It is on the table when the screen mounts (the first frame shows it), no worker
+    asked; a read-ahead that fails or is late leaves the page to the worker."""
+    asked = []
+    real_load = StockScreen.load
+    monkeypatch.setattr(StockScreen, "load", lambda self, request: (asked.append(request),
+                                                                    real_load(self, request)))
+    seen = {}
+    real_mount = StockScreen.on_mount
+
+    def mounted(self):
+        real_mount(self)
+        seen["rows"] = self.query_one(StockTable).row_count
+
+    monkeypatch.setattr(StockScreen, "on_mount", mounted)
+    app = make()
+    async with app.run_test(size=(80, 24)):
+        assert seen["rows"] == 40 and asked == []
+
+
+@pytest.mark.parametrize("trouble", ["fails", "late"])
+async def test_a_failed_or_late_read_ahead_leaves_the_page_to_the_worker(
+        make, wait_for, monkeypatch, trouble):
+    import time
+
+    from carboy.tui.app.screens import stock as stock_screen
+
+    real = stock_screen.bottles.listing
+    calls = []
+
+    def listing(*args, **kwargs):
+        calls.append(1)
+        if len(calls) == 1:  # the read-ahead
+            if trouble == "fails":
+                raise OSError("disk trouble")
+            time.sleep(0.5)
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(stock_screen.bottles, "listing", listing)
+    monkeypatch.setattr(stock_screen, "FIRST_PAGE_WAIT_S", 0.05)
+    app = make()
+    async with app.run_test(size=(80, 24)) as pilot:
+        screen = await started(app, pilot, wait_for)
+        await wait_for(pilot, lambda: screen.query_one(StockTable).row_count == 40)
+        assert len(calls) == 2

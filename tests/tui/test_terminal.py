@@ -41,7 +41,9 @@ def test_demo_starts_draws_and_quits(tmp_path):
                          or k == "NO_COLOR")
     scratch = tmp_path / "scratch"
     scratch.mkdir()
-    command = (f"env {env_unset} TERM=xterm-256color TMPDIR={scratch} {CARBOY} --demo; "
+    cache = tmp_path / "cache"  # the day's demo storeroom is kept here, never in the user's
+    command = (f"env {env_unset} TERM=xterm-256color TMPDIR={scratch} "
+               f"CARBOY_CACHE_DIR={cache} {CARBOY} --demo; "
                f"echo $? > {status}; sleep 30")
     tmux("new-session", "-d", "-s", session, "-x", "80", "-y", "24", command)
     try:
@@ -59,5 +61,8 @@ def test_demo_starts_draws_and_quits(tmp_path):
         after = tmux("capture-pane", "-t", session, "-p")
         assert "Traceback" not in after
         assert list(scratch.iterdir()) == []  # the throwaway database is gone
+        kept = list((cache / "demo").iterdir())
+        assert len(kept) == 1 and kept[0].name.startswith("demo-")
+        assert kept[0].stat().st_mode & 0o777 == 0o660
     finally:
         subprocess.run(["tmux", "kill-session", "-t", session], capture_output=True)

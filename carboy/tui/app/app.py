@@ -12,15 +12,18 @@ open their own connection with :meth:`CarboyApp.open_store`.
 
 from __future__ import annotations
 
+import gc
 from datetime import date
 from pathlib import Path
 
 from textual import events
 from textual.app import App
 from textual.binding import Binding
-from textual.reactive import reactive
+from textual.reactive import Reactive, reactive
+from textual.widget import AwaitMount
 
 from carboy.store import db as store_db
+from carboy.store.demo_cache import throwaway
 from carboy.tui.app import registry
 from carboy.tui.app.commands import CarboyCommands
 from carboy.tui.app.database_watch import DatabaseWatch
@@ -56,8 +59,13 @@ class CarboyApp(DatabaseWatch, App):
                 show=False, priority=True),
     ]
 
-    data_version: reactive[int] = reactive(0)
-    """Bumped by :meth:`refresh_data`; screens that show data watch it and reload."""
+    theme: Reactive[str] = Reactive("ansi-dark")
+    """The terminal's own palette (16 colours, NO_COLOR), from the first frame: set on
+    mount instead, it would parse and apply every style sheet a second time."""
+
+    data_version: reactive[int] = reactive(0, init=False)
+    """Bumped by :meth:`refresh_data`; screens that show data watch it and reload (not at
+    start: the first screen's watcher would load its first page a second time)."""
 
     def __init__(self, db_path: Path, *, demo: bool = False, today: date | None = None,
                  who: str | None = None) -> None:
@@ -67,6 +75,7 @@ class CarboyApp(DatabaseWatch, App):
         self._today = today
         self.who = who or store_db.current_user()
         self._previous_mode = self.DEFAULT_MODE
+        self._visited = {self.DEFAULT_MODE}
         self.watch_database()
 
     # -- the contract the screens rely on -------------------------------------------
@@ -122,8 +131,27 @@ class CarboyApp(DatabaseWatch, App):
 
     # -- lifecycle ------------------------------------------------------------------
     def on_mount(self) -> None:
-        self.theme = "ansi-dark"
         self._guard_size()
+        self._freeze_after_refresh()
+
+    def switch_mode(self, mode: str) -> AwaitMount:
+        """Show ``mode``'s screen (the first time, see :meth:`_freeze_after_refresh`)."""
+        if mode not in self._visited:
+            self._visited.add(mode)
+            self._freeze_after_refresh()
+        return super().switch_mode(mode)
+
+    def _freeze_after_refresh(self) -> None:
+        """Once a screen is first drawn, everything alive then (the modules, the screens
+        and their widgets: they last as long as the app) is moved out of the garbage
+        collector's reach (:func:`gc.freeze`); else every full collection walks it all
+        again, a pause of 50–90 ms in the middle of typing.  The first time, collection
+        resumes then (``carboy`` holds it off while the app starts: about 45 ms of the
+        first frame; the few thousand objects of garbage from that time stay).  Not under
+        a test's headless driver: many apps in one process would each keep the garbage of
+        the last."""
+        if not self.is_headless:
+            self.call_after_refresh(_settle_heap)
 
     def on_resize(self, event: events.Resize) -> None:
         self._guard_size(event.size.width, event.size.height)
@@ -164,6 +192,11 @@ class CarboyApp(DatabaseWatch, App):
         self.notify("Reloaded from the database.", timeout=2)
 
 
+def _settle_heap() -> None:
+    gc.freeze()
+    gc.enable()
+
+
 def make_app(db_path: str | Path, *, demo: bool = False, today: date | None = None,
              who: str | None = None) -> CarboyApp:
     """The app on the database at ``db_path`` (which must exist: open it once first).
@@ -176,10 +209,9 @@ def make_app(db_path: str | Path, *, demo: bool = False, today: date | None = No
 
 def run(*, db: str | None = None, demo: bool = False) -> int:
     """Run the app until it quits: on the database ``db`` (``--db``, else ``$CARBOY_DB``,
-    else the user data directory) or, with ``demo``, on a throwaway demo storeroom."""
+    else the user data directory) or, with ``demo``, on a throwaway demo storeroom (a
+    copy of the day's kept in the user cache: :mod:`carboy.store.demo_cache`)."""
     if demo:
-        from carboy.store.demo import throwaway
-
         with throwaway() as path:
             make_app(path, demo=True).run()
         return 0

@@ -151,7 +151,7 @@ def open_store(args: argparse.Namespace):
 
     with contextlib.ExitStack() as stack:
         if getattr(args, "demo", False) and getattr(args, "db", None) is None:
-            from carboy.store.demo import throwaway
+            from carboy.store.demo_cache import throwaway
 
             path = stack.enter_context(throwaway())
         else:

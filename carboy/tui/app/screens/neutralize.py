@@ -22,8 +22,8 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal
 from textual.screen import Screen
+from textual.timer import Timer
 from textual.widgets import (
-    Footer,
     Input,
     Select,
     Static,
@@ -53,13 +53,18 @@ from carboy.tui.app.screens.neutralize_parts import (
     window_values,
 )
 from carboy.tui.app.screens.neutralize_record import RecordRequest, ask_to_record, record
+from carboy.tui.app.widgets import redraw
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.ph_curve import PHCurvePanel, curve_data_from_plan
 from carboy.tui.app.widgets.plan_view import CautionsPanel, PlanSummary, StagesTable, dose_text
 from carboy.tui.app.widgets.quiet_select import QuietSelect
+from carboy.tui.app.widgets.steady_footer import SteadyFooter
 from carboy.tui.edge import describe
 
 CURVE_POINTS = 200
+PLANNING_NOTE_S = 0.1
+"""A plan that takes longer says "… planning" meanwhile (a quicker one draws one frame
+less, and the plan arrives sooner)."""
 """Points of the pH curve on screen: a plot at most ~100 columns wide draws 2 braille
 dots per column, so 200 points are as smooth as the screen can show (and replan faster)."""
 
@@ -126,6 +131,7 @@ class NeutralizeScreen(Screen):
         self.containers: list[tuple[str, str]] = []
         self._catalog = None
         self.live = LiveComputation(self, self._start_plan)
+        self._planning_note: Timer | None = None
         self._pending_label: str | None = None
         self._reagent_options: list | None = None
         self._composed = False
@@ -144,7 +150,7 @@ class NeutralizeScreen(Screen):
                     yield PHCurvePanel(id="curve-panel")
         yield Static("", id="nz-status", markup=False)
         yield CautionsPanel(id="cautions")
-        yield Footer()
+        yield SteadyFooter()  # refresh_bindings on each key and result: rebuilt only on change
 
     def on_mount(self) -> None:
         # Children may still be mounting when a mode is switched to very early.
@@ -274,6 +280,9 @@ class NeutralizeScreen(Screen):
     def on_computed(self, message: Computed) -> None:
         if self.live.finished(message.outcome.generation):
             self._apply(message.outcome)
+        if self.live.settled and self._planning_note is not None:
+            self._planning_note.stop()
+            self._planning_note = None
         self.refresh_bindings()
 
     def on_recorded(self, message: Recorded) -> None:
@@ -414,8 +423,14 @@ class NeutralizeScreen(Screen):
         self.refresh_bindings()
 
     def _start_plan(self, generation: int) -> None:
-        self._set_status("… planning", keep_result=True)
+        if self._planning_note is None:  # said only if it takes long enough to be seen
+            self._planning_note = self.set_timer(PLANNING_NOTE_S, self._note_planning)
         self._plan(self._form_state(), generation, self._catalog)
+
+    def _note_planning(self) -> None:
+        self._planning_note = None
+        if not self.live.settled:
+            self._set_status("… planning", keep_result=True)
 
     def _apply(self, outcome: Outcome) -> None:
         self.outcome = outcome
@@ -428,7 +443,7 @@ class NeutralizeScreen(Screen):
                 self._show_field(name, reason, reading.echoes.get(name, ""))
         general = reading.errors.get("plan") or reading.errors.get("sample")
         plan_echo = self.query_one("#echo-plan", Static)
-        plan_echo.update(f"✗ {general}" if general else "")
+        redraw.update(plan_echo, f"✗ {general}" if general else "")
         plan_echo.set_class(bool(general), "-error")
         plan_echo.display = bool(general)
         if reading.direction:
@@ -498,7 +513,7 @@ class NeutralizeScreen(Screen):
         status = self.query_one("#nz-status", Static)
         if keep_result and self.outcome is not None and self.stale:
             text = f"{text} (the plan shown is STALE)"
-        status.update(text)
+        redraw.update(status, text, layout=False)  # one line: the screen keeps its layout
 
     # -- the lists ---------------------------------------------------------------------------
     def _fill_sample_select(self) -> None:

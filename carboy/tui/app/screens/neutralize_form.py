@@ -10,7 +10,9 @@ from textual.widgets import Input, Label, Select, Static
 
 from carboy.model.forms.neutralize import ACTIVITY_CHOICES, DEFAULTS, NeutralizeFields
 from carboy.tui.app.screens.neutralize_parts import TYPED, TYPED_TITLE
+from carboy.tui.app.widgets import redraw
 from carboy.tui.app.widgets.quiet_select import QuietSelect
+from carboy.tui.app.widgets.steady_input import InPlaceInput
 
 ACTIVITY_WORDS = {"davies": "Davies (ionic strength)", "ideal": "ideal (activities 1)"}
 """The activity choice in words: its state is the text shown, never a colour."""
@@ -40,12 +42,12 @@ class NeutralizeForm(VerticalScroll):
                      markup=False)
         with Horizontal(classes="nz-row", id="row-components"):
             yield Label("Contents")
-            yield Input(placeholder="e.g. H2SO4=0.05M NaH2PO4=10mM", id="components",
+            yield InPlaceInput(placeholder="e.g. H2SO4=0.05M NaH2PO4=10mM", id="components",
                         compact=True)
         yield Static("", id="echo-components", classes="nz-echo", markup=False)
         with Horizontal(classes="nz-row", id="row-volume"):
             yield Label("Volume")
-            yield Input(placeholder="e.g. 250 mL (needed)", id="volume", compact=True)
+            yield InPlaceInput(placeholder="e.g. 250 mL (needed)", id="volume", compact=True)
         yield Static("", id="echo-volume", classes="nz-echo", markup=False)
         with Horizontal(classes="nz-row"):
             yield Label("Stock")
@@ -53,23 +55,23 @@ class NeutralizeForm(VerticalScroll):
                               id="reagent-bottle")
         with Horizontal(classes="nz-row"):
             yield Label("Reagent")
-            yield Input(placeholder="e.g. NaOH=1M, NaHCO3 (needed)", id="reagent",
+            yield InPlaceInput(placeholder="e.g. NaOH=1M, NaHCO3 (needed)", id="reagent",
                         compact=True)
         yield Static("", id="echo-reagent", classes="nz-echo", markup=False)
         with Horizontal(classes="nz-row"):
             yield Label("Target pH")
-            yield Input(DEFAULTS["target"], id="target", compact=True)
+            yield InPlaceInput(DEFAULTS["target"], id="target", compact=True)
         yield Static("", id="echo-target", classes="nz-echo", markup=False)
         with Horizontal(classes="nz-row"):
             yield Label("Window")
-            yield Input(DEFAULTS["window_low"], id="window_low", compact=True)
+            yield InPlaceInput(DEFAULTS["window_low"], id="window_low", compact=True)
             yield Static("–", classes="nz-dash")
-            yield Input(DEFAULTS["window_high"], id="window_high", compact=True)
+            yield InPlaceInput(DEFAULTS["window_high"], id="window_high", compact=True)
         yield Static("local rules set the real window", id="echo-window",
                      classes="nz-echo", markup=False)
         with Horizontal(classes="nz-row"):
             yield Label("Temp.")
-            yield Input(DEFAULTS["temperature"], id="temperature", compact=True)
+            yield InPlaceInput(DEFAULTS["temperature"], id="temperature", compact=True)
         yield Static("", id="echo-temperature", classes="nz-echo", markup=False)
         with Horizontal(classes="nz-row"):
             yield Label("Activity")
@@ -98,7 +100,7 @@ class NeutralizeForm(VerticalScroll):
         if name in ("components", "volume") and not typed:
             widget.display = False
             return
-        widget.update(f"✗ {error}" if error else echo)
+        redraw.update(widget, f"✗ {error}" if error else echo)
         widget.set_class(bool(error), "-error")
         widget.display = bool(error or echo)
         ids = ("window_low", "window_high") if name == "window" else (name,)

@@ -8,6 +8,8 @@ past the last row of a page brings the next page; past the first, the previous.
 from __future__ import annotations
 
 import math
+import threading
+from concurrent.futures import Future
 
 from rich.text import Text
 from textual import on, work
@@ -17,19 +19,24 @@ from textual.containers import Horizontal
 from textual.message import Message
 from textual.screen import Screen
 from textual.timer import Timer
-from textual.widgets import DataTable, Footer, Input, Label, Static
+from textual.widgets import DataTable, Input, Label, Static
 from textual.worker import get_current_worker
 
-from carboy.store import stock
+from carboy.store import bottles  # not store.stock: the first screen needs no recipes
+from carboy.tui.app.widgets import redraw
 from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.marks import STRENGTH_MARKS, bottle_mark, strength_mark
 from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.widgets.steady_footer import SteadyFooter
 from carboy.tui.app.widgets.steady_input import SteadyInput
 from carboy.tui.edge import describe
 from carboy.tui.wording import amount, short_strength, tally
 
 PAGE_ROWS = 50
 SEARCH_DELAY_S = 0.15
+FIRST_PAGE_WAIT_S = 0.25
+"""How long the first frame waits for the first page read while the screen was built
+(then it is drawn without, and the page follows as every other)."""
 """Pause after the last keystroke before the search runs (typing stays smooth)."""
 
 # key, header, width (the location takes what is left)
@@ -39,7 +46,7 @@ COLUMNS = (("id", "#", 5), ("compound", "Compound", 8), ("label", "Label", 8), (
 MIN_LOCATION_WIDTH = 8
 
 
-def bottle_row(bottle: stock.Bottle) -> tuple:
+def bottle_row(bottle: bottles.Bottle) -> tuple:
     return (
         Text(str(bottle.id), justify="right"),
         bottle.compound_key,
@@ -108,6 +115,7 @@ class StockScreen(Screen):
             "or lot; Enter opens a bottle with its details and history. The Strength column "
             "says whether the label strength can still be trusted; c lists every bottle "
             "that needs attention.")
+    AUTO_FOCUS = "#stock-table"  # the list has the focus from the first frame
 
     BINDINGS = [
         Binding("slash", "focus_search", "Search", id="stock.search", priority=True),
@@ -122,16 +130,17 @@ class StockScreen(Screen):
         super().__init__()
         self.search_text = ""
         self.page_index = 0
-        self.total = stock.Count(0)
+        self.total = bottles.Count(0)
         self.next_after: int | None = None
         self.first_id: int | None = None
         self._anchor: tuple[str, int | None] = ("after", None)
         self._timer: Timer | None = None
         self.loading = False
-        self.bottles: list[stock.Bottle] = []
+        self.bottles: list[bottles.Bottle] = []
         self._location_width = 0
         self.loads = 0
         """Completed loads (tests wait on it)."""
+        self._first_page = self._read_first_page()
 
     def compose(self) -> ComposeResult:
         yield ModeBar("stock")
@@ -145,7 +154,7 @@ class StockScreen(Screen):
         with Horizontal(id="stock-statusbar", classes="statusbar"):
             yield Static("", id="stock-position", markup=False)
             yield Static(legend(), id="stock-legend")
-        yield Footer()
+        yield SteadyFooter()
 
     def on_mount(self) -> None:
         table = self.query_one(StockTable)
@@ -153,7 +162,40 @@ class StockScreen(Screen):
             table.add_column(label, key=key, width=width or MIN_LOCATION_WIDTH)
         table.focus()
         self.watch(self.app, "data_version", self._data_changed, init=False)
-        self.load("first")
+        first = self._first_page_read()
+        if first is None:
+            self.load("first")
+        else:  # the first frame shows it: no second layout of the whole screen
+            self._show_page(*first, ("after", None), "first")
+
+    def _read_first_page(self) -> Future | None:
+        """Start reading the first page in a thread of its own (its own store), while the
+        screen is composed and styled."""
+        try:
+            app = self.app
+        except Exception:  # noqa: BLE001 - made outside a running app: read on mount
+            return None
+        found: Future = Future()
+
+        def read() -> None:
+            try:
+                with app.open_store() as store, store.reading():
+                    found.set_result(bottles.listing(store, None, limit=PAGE_ROWS,
+                                                     today=app.today))
+            except BaseException as exc:  # noqa: BLE001 - on mount the worker reads again
+                found.set_exception(exc)
+
+        threading.Thread(target=read, name="stock-first-page", daemon=True).start()
+        return found
+
+    def _first_page_read(self) -> tuple | None:
+        """The first page read ahead, if it came in time (a failure is read again by the
+        worker, which shows it)."""
+        ahead, self._first_page = self._first_page, None
+        try:
+            return None if ahead is None else ahead.result(timeout=FIRST_PAGE_WAIT_S)
+        except Exception:  # noqa: BLE001 - not in time (FutureTimeout), or failed
+            return None
 
     def _data_changed(self, _version: int) -> None:
         self.load("same")
@@ -183,14 +225,14 @@ class StockScreen(Screen):
         try:
             with self.app.open_store() as store, store.reading():
                 if ref is None and request in ("first", "same"):
-                    page, total = stock.listing(store, search or None, limit=PAGE_ROWS,
+                    page, total = bottles.listing(store, search or None, limit=PAGE_ROWS,
                                                 today=self.app.today)
                 else:
-                    page = stock.page(store, search or None,
+                    page = bottles.page(store, search or None,
                                       after_id=ref if kind == "after" else None,
                                       before_id=ref if kind == "before" else None,
                                       limit=PAGE_ROWS, today=self.app.today)
-                    total = stock.count_upto(store, search or None) \
+                    total = bottles.count_upto(store, search or None) \
                         if request in ("first", "same") else None
         except Exception as exc:  # shown in place, never a traceback
             if not worker.is_cancelled:
@@ -204,7 +246,7 @@ class StockScreen(Screen):
         self.query_one("#stock-error", ErrorLine).show(message)
         self.loads += 1
 
-    def _show_page(self, page: stock.Page, total: stock.Count | None, anchor,
+    def _show_page(self, page: bottles.Page, total: bottles.Count | None, anchor,
                    request: str) -> None:
         self.loading = False
         self.loads += 1
@@ -263,7 +305,7 @@ class StockScreen(Screen):
             table.add_row(*bottle_row(bottle), key=str(bottle.id))
 
     def _show_position(self, shown: int) -> None:
-        pages = tally(stock.Count(max(1, math.ceil(self.total.n / PAGE_ROWS)),
+        pages = tally(bottles.Count(max(1, math.ceil(self.total.n / PAGE_ROWS)),
                                   self.total.exact))
         if shown == 0:
             text = ("no bottle matches “" + self.search_text + "”") if self.search_text \
@@ -308,7 +350,7 @@ class StockScreen(Screen):
                 line = (f"▸ bottle {bottle.id} · {bottle.compound_name} · "
                         f"{bottle.location or 'no location'} · lot {bottle.lot or '—'}")
                 break
-        self.query_one("#stock-selected", Static).update(line)
+        redraw.update(self.query_one("#stock-selected", Static), line)
 
     @on(DataTable.RowSelected, "#stock-table")
     def _open(self, event: DataTable.RowSelected) -> None:

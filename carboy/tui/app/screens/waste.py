@@ -20,7 +20,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import VerticalScroll
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Static
+from textual.widgets import DataTable, Static
 from textual.worker import get_current_worker
 
 from carboy.errors import CarboyError
@@ -33,6 +33,7 @@ from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.marks import container_mark, fill_bar, fill_fraction, litres
 from carboy.tui.app.widgets.mode_bar import ModeBar
 from carboy.tui.app.widgets.safety_note import DISPOSAL_NOTE, LICENSED_ONLY_NOTE, SafetyNote
+from carboy.tui.app.widgets.steady_footer import SteadyFooter
 from carboy.tui.edge import describe
 
 NO_DRAIN_NAMES = {
@@ -228,7 +229,7 @@ class WasteScreen(Screen):
         yield ErrorLine(id="waste-error")
         with VerticalScroll(id="waste-detail-scroll"):
             yield Static("", id="waste-detail")
-        yield Footer()
+        yield SteadyFooter()
 
     def on_mount(self) -> None:
         table = self.query_one("#waste-table", DataTable)
@@ -263,6 +264,7 @@ class WasteScreen(Screen):
     def _show_error(self, message: str) -> None:
         self.query_one("#waste-error", ErrorLine).show(message)
         self.loads += 1
+        self.refresh_bindings()
 
     def _show_list(self, found: list[waste.Container]) -> None:
         self.query_one("#waste-error", ErrorLine).show("")
@@ -289,8 +291,7 @@ class WasteScreen(Screen):
 
     def _select(self, label: str) -> None:
         self.selected = label
-        self.refresh_bindings()
-        self._fetch_detail(label)
+        self._fetch_detail(label)  # the footer follows with the details: one layout pass
 
     @property
     def cursor_label(self) -> str | None:

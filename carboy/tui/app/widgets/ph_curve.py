@@ -26,6 +26,8 @@ from textual.widgets import Static
 from textual_hires_canvas import Canvas, HiResMode, TextAlign
 from textual_plot import PlotWidget
 
+from carboy.tui.app.widgets import redraw
+
 PH_AXIS = (0.0, 14.0)
 WINDOW_MARK = "╌"
 EQUIVALENCE_MARK = "◆"
@@ -111,6 +113,15 @@ def curve_data_from_plan(plan) -> CurveData:
     )
 
 
+def same_curve(a: CurveData | None, b: CurveData | None) -> bool:
+    """Whether two curves draw the same (their arrays compared by value)."""
+    if a is None or b is None:
+        return a is b
+    return (a.x_unit, a.reagent, a.window, a.target_pH, a.target_x, a.equivalence) == \
+        (b.x_unit, b.reagent, b.window, b.target_pH, b.target_x, b.equivalence) and \
+        np.array_equal(a.x, b.x) and np.array_equal(a.pH, b.pH)
+
+
 def curve_key(data: CurveData | None, *, stale: bool = False) -> str:
     """The key line under the plot: what each mark means, equivalence points spelled out."""
     if data is None:
@@ -152,6 +163,8 @@ class PHCurve(PlotWidget):
 
     def show_curve(self, data: CurveData | None, *, stale: bool = False) -> None:
         """Show ``data`` (None: empty axes); ``stale`` greys it and says so."""
+        if stale == self.stale and same_curve(data, self.data):
+            return  # drawn already
         self.data = data
         self.stale = stale
         self._draw()
@@ -244,8 +257,9 @@ class PHCurvePanel(Vertical):
 
     def show_curve(self, data: CurveData | None, *, stale: bool = False) -> None:
         self.plot.show_curve(data, stale=stale)
-        self.query_one("#curve-key", Static).update(curve_key(data, stale=stale))
+        redraw.update(self.query_one("#curve-key", Static), curve_key(data, stale=stale))
 
     def mark_stale(self, stale: bool) -> None:
         self.plot.mark_stale(stale)
-        self.query_one("#curve-key", Static).update(curve_key(self.plot.data, stale=stale))
+        redraw.update(self.query_one("#curve-key", Static),
+                      curve_key(self.plot.data, stale=stale))

@@ -15,6 +15,7 @@ from textual.screen import ModalScreen
 from textual.widgets import DataTable, Static
 
 from carboy.model import numbers
+from carboy.tui.app.widgets import redraw
 from carboy.tui.wording import plan_heat_text
 
 SEVERITY_MARKS = {"danger": "‼ DANGER", "warning": "! WARNING", "notice": "· NOTE"}
@@ -199,7 +200,7 @@ class PlanSummary(VerticalScroll):
         text = plan_text(plan) if plan else Text(NO_PLAN_YET)
         if plan and disposal is not None:
             text.append_text(disposal_text(disposal))
-        self.query_one("#plan-text", Static).update(text)
+        redraw.update(self.query_one("#plan-text", Static), text)
 
     @property
     def text(self) -> str:
@@ -223,11 +224,15 @@ class StagesTable(DataTable):
         self.add_column("total so far", key="total")
         self.add_column("pH after", key="ph")
 
+    shown_rows: list[tuple[str, str, str, str]] = []
+
     def show_plan(self, plan) -> None:
+        rows = stage_rows(plan) if plan is not None else []
+        if rows == self.shown_rows:
+            return  # the same stages: nothing to redraw
+        self.shown_rows = rows
         self.clear()
-        if plan is None:
-            return
-        for row in stage_rows(plan):
+        for row in rows:
             self.add_row(*row)
 
 
@@ -301,8 +306,8 @@ class CautionsPanel(Vertical):
         self.cautions = tuple(cautions)
         self.stale = stale
         self.set_class(not drain_plan, "-no-drain")
-        self.query_one("#cautions-headline", Static).update(
-            headline(self.cautions, stale=stale, empty=self.empty))
+        redraw.update(self.query_one("#cautions-headline", Static),
+                      headline(self.cautions, stale=stale, empty=self.empty), layout=False)
 
     @property
     def text(self) -> str:
