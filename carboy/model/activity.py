@@ -38,8 +38,10 @@ import numpy as np
 from carboy.errors import InvalidInput
 from carboy.model import water
 
-ACTIVITY_MODELS = ("davies", "ideal")
-"""Names accepted by ``activity=`` everywhere in the model."""
+ACTIVITY_MODELS = ("auto", "pitzer", "davies", "ideal")
+"""Names accepted by ``activity=`` everywhere in the model: ``"pitzer"`` and ``"auto"``
+are solved through ``speciation_models`` (the specific-interaction model); where a
+Davies-form coefficient is needed for them (a start, an inverse), Davies stands in."""
 
 DAVIES_LIMIT_MOLAR = 0.5
 """Above this ionic strength the Davies equation is outside its range."""
@@ -54,8 +56,9 @@ def check_model(activity: str) -> str:
 
 
 def debye_huckel_scale(activity: str, temperature_c: float) -> float:
-    """``A`` of ``log10 gamma = -A D(I) z²``: Debye–Hückel A for Davies, 0 when ideal."""
-    return water.debye_huckel_a(temperature_c) if activity == "davies" else 0.0
+    """``A`` of ``log10 gamma = -A D(I) z²``: Debye–Hückel A, 0 when ideal (Davies
+    stands in for ``"pitzer"`` and ``"auto"`` where a charge-only form is needed)."""
+    return water.debye_huckel_a(temperature_c) if activity != "ideal" else 0.0
 
 
 def davies_d(ionic):

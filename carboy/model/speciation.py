@@ -91,6 +91,7 @@ from carboy.model.solver.layout import compile_layout as _layout  # noqa: F401 (
 from carboy.model.solver.problem import Problem, build_problem
 from carboy.model.solver.single import solve_one
 from carboy.model.solver.starts import start_between
+from carboy.model.speciation_models import ModelPart, ModelPoint, needs_route, ph_scale_of, route
 
 __all__ = [
     "ACTIVITY_MODELS", "COUPLED_ITER", "COUPLED_NEAR", "DAVIES_LIMIT_MOLAR",
@@ -127,6 +128,20 @@ class Speciation:
     iterations: int
     charge_residual_molar: float
     mixture: Mixture | None = None
+    model_part: ModelPoint | None = None
+    """The model used (``activity="auto"``), molal ionic strength, water (see
+    ``speciation_models``); None on the plain Davies and ideal paths."""
+
+    @property
+    def ph_scale(self) -> str:
+        """What the pH means: ``"macinnes"``, ``"davies"`` or ``"concentration"``."""
+        return self.model_part.ph_scale if self.model_part else ph_scale_of(self.activity)
+
+    @property
+    def molality(self) -> Mapping[str, float]:
+        """Species in mol/kg of water (empty where the result has no model part)."""
+        w = self.model_part.water_kg_per_l if self.model_part else None
+        return {} if w is None else {k: v / w for k, v in self.species.items()}
 
     def mean_protons_bound(self, system: str) -> float:
         """Average number of dissociable protons still bound per unit of ``system``."""
@@ -163,6 +178,7 @@ class BatchSpeciation:
     activity: str
     warnings: tuple[tuple[str, ...], ...]
     batch: MixtureBatch = field(repr=False, default=None)
+    model_part: ModelPart | None = None
 
     def __len__(self) -> int:
         return self.pH.shape[0]
@@ -176,6 +192,7 @@ class BatchSpeciation:
             converged=self.converged[idx], species_molar=self.species_molar[idx],
             fractions=self.fractions[idx], log_gamma_by_charge=self.log_gamma_by_charge[idx],
             system_totals_molar=self.system_totals_molar[idx],
+            model_part=None if self.model_part is None else self.model_part.rows(idx),
             warnings=tuple(self.warnings[i] for i in np.arange(len(self))[idx].tolist()),
             batch=None if self.batch is None else MixtureBatch(
                 self.batch.keys, self.batch.totals[idx], self.batch.temperature_c))
@@ -190,6 +207,8 @@ class BatchSpeciation:
         lg = self.log_gamma_by_charge[n]
         gam = {lab: float(10 ** lg[abs(z)])
                for lab, z in zip(self.species_labels, self.species_charges)}
+        if self.model_part is not None:   # one coefficient per species
+            gam = dict(zip(self.species_labels, (10.0 ** self.model_part.log_gamma[n]).tolist()))
         h = 10.0 ** float(self.log_h[n])
         return Speciation(
             pH=float(self.pH[n]),
@@ -207,6 +226,7 @@ class BatchSpeciation:
             iterations=self.iterations,
             charge_residual_molar=float(self.charge_residual_molar[n]),
             mixture=self.batch.mixture(n) if self.batch is not None else None,
+            model_part=None if self.model_part is None else self.model_part.point(n),
         )
 
 
@@ -256,6 +276,10 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
         res = speciate_batch(batch, activity=activity, catalog=catalog, held=held).point(0)
         return Speciation(**{**res.__dict__, "mixture": mixture})
     lay = cached_layout(catalog, keys, t_c)
+    if needs_route(lay, activity, t_c):
+        batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
+        res = route(batch, lay, activity, catalog, None, None, _solve).point(0)
+        return Speciation(**{**res.__dict__, "mixture": mixture})
     pkw = water.pkw(t_c)
     a_dh = debye_huckel_scale(activity, t_c)
     fast = None if lay.needs_shift else solve_one(lay, row, pkw, a_dh, max_iter=COUPLED_ITER)
@@ -275,7 +299,8 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
     Parameters
     ----------
     batch : mixtures sharing keys and temperature (0–100 °C); totals in mol/L.
-    activity : ``"davies"`` (default) or ``"ideal"``.
+    activity : ``"davies"`` (default), ``"ideal"``, ``"pitzer"`` or ``"auto"`` (see
+        :mod:`carboy.model.speciation_models`).
     catalog : where the keys are looked up; the built-in catalog by default.
     held : open systems: ``{system key: (species label, mol/L)}`` holds that species at
         that concentration (a number or one per point) instead of fixing the system's
@@ -309,6 +334,8 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
         if len(guess) != 2 or any(g.shape[0] != len(batch) for g in guess):
             raise InvalidInput("start", f"{len(guess)} arrays",
                                f"expected log10[H+] and ionic strength for {len(batch)} points")
+    if needs_route(lay, activity, t_c):
+        return route(batch, lay, activity, catalog, held, guess, _solve)
     return _solve(batch, lay, activity, t_c, held, guess)
 
 
