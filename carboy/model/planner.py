@@ -75,6 +75,7 @@ from carboy.model.dosing import Dosing, find_doses
 from carboy.model.equivalence import equivalence_amounts
 from carboy.model.heat_capacity import solute_mass_g
 from carboy.model.mixture import Mixture
+from carboy.model.plan_activity import model_used, settle_activity
 from carboy.model.plan_heat import HeatAndGas, heat_and_gas
 from carboy.model.plan_result import Dose, EquivalencePoint, Plan, Stage
 from carboy.model.precipitates import (
@@ -106,7 +107,8 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     reagent : from :func:`~carboy.model.reagents.parse_reagent`.
     target_pH : pH to aim for, 0–14.
     window : (low, high) acceptance window, 0–14, low < high (local rules set the real one).
-    activity : ``"davies"`` or ``"ideal"``.
+    activity : ``"auto"``, ``"pitzer"``, ``"davies"`` or ``"ideal"`` (``"auto"`` is
+        settled once for the whole plan: ``plan_activity``).
     hazards : hazard tags known about the sample (the store passes its additions' tags).
     curve_points : points of the pH curve (>= 20).
     safe_temperature_c : the temperature a batch is kept under (°C; default carboy's, 50);
@@ -122,6 +124,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     req = _with_safe_temperature(req, safe_temperature_c, safe_from)
     start = _start(req)
     demand, reach = _reagent_reach(req, start, _proton_demand(req, start))
+    req = settle_activity(req, demand.n_full)   # "auto": one model for the whole plan
     dosing = _bicarbonate_ceiling(req, reach, _find_doses(req, start, demand))
     curve_res, curve_vol = _solve_curve(req, dosing)
     pts = _solve_points(req, start, dosing, demand.n_full, curve_res)
@@ -149,6 +152,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
         hazards=facts.hazards, drain_plan=not caution_rules.not_for_drain(facts),
         assumptions=heat.assumptions, curve_speciation=curve_res, curve_volume_l=curve_vol,
         batch_heat=heat.batch, salt_limits=salts, reagent_reach=reach,
+        activity_model=model_used(req.activity, curve_res),
     )
 
 

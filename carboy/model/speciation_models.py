@@ -3,13 +3,16 @@
 ``speciate``/``speciate_batch`` hand a batch here (:func:`route`) when it needs more than
 the Davies path's fast solve:
 
-* ``activity="davies"`` with ion pairs (a spectator Ca2+, Mg2+, Na+ or K+ with sulfate
-  or OH-): the Davies coefficients with the pairs (``solver.outer.solve_with_pairs``);
 * ``activity="pitzer"``: the specific-interaction model (``solver.outer.solve_pitzer``),
-  started from the Davies solution, in molalities;
-* ``activity="auto"``: Davies (with its pairs) where the whole batch stays at or below
+  started from the Davies solution, in molalities, with the pairs of its own set (MgOH+);
+* ``activity="auto"``: the Davies equation with the ion pairs (a spectator Ca2+, Mg2+,
+  Na+ or K+ with sulfate or OH-: CaOH+, MgOH+, NaSO4-, KSO4-, CaSO4°, MgSO4°;
+  ``solver.outer.solve_with_pairs``) where the whole batch stays at or below
   ``AUTO_LIMIT_MOLAL`` of ionic strength, the Pitzer model above it.  A batch (a curve)
   is never split between the two models, so it has no jump where one takes over.
+
+``activity="davies"`` and ``"ideal"`` stay on the charge-only path (no pairs): their
+coefficients depend on the ionic strength alone, so ``state_at`` inverts them exactly.
 
 pH scales (``ph_scale`` in every result and in ``--json``)
 -----------------------------------------------------------
@@ -110,9 +113,7 @@ def check_activity(activity: str, known: tuple[str, ...]) -> str:
 
 def needs_route(lay: Layout, activity: str, temperature_c: float) -> bool:
     """True when a batch with this layout must go through :func:`route`."""
-    if activity in ROUTED:
-        return True
-    return activity == "davies" and _pairs_apply(lay, temperature_c)
+    return activity in ROUTED
 
 
 def _pairs_apply(lay: Layout, temperature_c: float) -> bool:
@@ -131,20 +132,20 @@ def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
     base = solve_davies(batch, lay, "davies", t_c, held, start)
     w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
     res = base
-    if _pairs_apply(lay, t_c):
+    if activity == "auto" and _pairs_apply(lay, t_c):
         pr = build_problem(lay, base.batch.totals, held, base.pkw,
                            _a_dh(t_c))
         out = solve_with_pairs(pr, t_c, base.log_h.copy(), base.ionic_strength_molar.copy())
         res = _assemble(base, out, lay, table_of(lay, "davies", t_c), activity, ())
     molal_i = res.ionic_strength_molar / w
     metals = getattr(lay, "metals", None) is not None
-    if activity == "davies" or (activity == "auto" and (
-            metals or float(molal_i.max(initial=0.0)) <= AUTO_LIMIT_MOLAL)):
+    if activity == "auto" and (
+            metals or float(molal_i.max(initial=0.0)) <= AUTO_LIMIT_MOLAL):
         lg = _davies_log_gamma(res)
         extra = ((_METALS_NOTE,) if metals and activity == "auto"
                  and float(molal_i.max(initial=0.0)) > AUTO_LIMIT_MOLAL else ())
         return dataclasses.replace(
-            res, activity=activity, warnings=_with(res.warnings, notes + extra),
+            res, activity=activity, warnings=_with(res.warnings, extra),
             model_part=ModelPart("davies", lg, w, molal_i))
     if metals:
         raise InvalidInput("activity model", activity, _METALS_NOTE)
