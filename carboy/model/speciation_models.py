@@ -61,6 +61,17 @@ PH_SCALES = {"pitzer": "macinnes", "davies": "davies", "ideal": "concentration"}
 """The pH scale of each model (see the module docstring)."""
 MODEL_WORDS = {"pitzer": "specific-interaction (Pitzer) activity",
                "davies": "Davies activity", "ideal": "ideal solution"}
+SCALE_WORDS = {"macinnes": "MacInnes pH scale, mol/kg",
+               "davies": "pH from Davies activity, mol/L",
+               "concentration": "pH = -log10[H+], mol/L"}
+
+
+def describe_model(activity: str, model: str) -> str:
+    """The model and pH scale in words, e.g. ``"auto: Davies activity (pH from Davies
+    activity, mol/L)"``; ``model`` is the model used (``activity`` itself but for auto)."""
+    used = model or activity
+    text = f"{MODEL_WORDS.get(used, used)} ({SCALE_WORDS.get(ph_scale_of(used), used)})"
+    return f"auto: {text}" if activity == "auto" else text
 
 
 def ph_scale_of(model: str) -> str:
