@@ -134,7 +134,8 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     salts = _salt_limits(req, pts, heat)
     warnings = heat.warnings + _warnings(req, dosing, pts, doses)
     facts = dataclasses.replace(_facts(req, start, dosing, pts, doses, heat, precipitates),
-                                **_limit_facts(heat, salts, reach, doses, start))
+                                **_limit_facts(heat, salts, reach, doses, start),
+                                activity_model=req.activity)
     return Plan(
         sample=sample, reagent=reagent, direction=start.direction, activity=activity,
         initial_pH=start.initial_pH, proton_equivalents_mol=float(demand.proton_eq),
