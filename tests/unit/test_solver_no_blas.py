@@ -9,11 +9,17 @@ from pathlib import Path
 
 import pytest
 
+import carboy.model.etheta
+import carboy.model.molality
+import carboy.model.pitzer
 import carboy.model.solver
 import carboy.model.speciation
+import carboy.model.speciation_models
 
 SOLVER = sorted(Path(carboy.model.solver.__file__).parent.glob("*.py")) + [
-    Path(carboy.model.speciation.__file__)]
+    Path(m.__file__) for m in (carboy.model.speciation, carboy.model.speciation_models,
+                               carboy.model.pitzer, carboy.model.etheta,
+                               carboy.model.molality)]
 BLAS_CALLS = {"dot", "matmul", "tensordot", "inner", "vdot", "outer_product", "solve",
               "lstsq", "inv", "multi_dot"}
 
