@@ -18,11 +18,10 @@ weight as 10**(log beta0 - 2·ad·cmat - j·x) in ``solver.charge_balance.state_
 (H+ and OH- as two more rows, OH- through log10 Kw' = 2·ad - pKw), and take the
 derivatives with respect to ``ad`` for the Newton step in (x, I) through the rows'
 ``cmat`` (``row_c``); the one-solution path does the same in floats
-(``solver.single``).  A model that is not of this form (a specific-interaction model
-for concentrated solutions) needs its own per-state term in place of ``2·ad·cmat``
-(an (S, N) array of log10 of the ratio of coefficients of each state to the top
-state's, with H+ and OH-) and its own second unknown in place of I: add it here
-beside Davies, name it in ``ACTIVITY_MODELS`` and let ``speciation`` choose by name.
+(``solver.single``).  Models not of this form (the specific-interaction model, and
+ion pairs) are solved by the outer loops of ``solver.outer``: a per-state term
+(``problem.Amounts.shift``, an (S, N) array) and a per-point effective pKw held around
+the guaranteed path; ``speciation_models`` routes ``"pitzer"`` and ``"auto"`` there.
 
 References
 ----------
