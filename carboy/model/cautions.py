@@ -8,12 +8,13 @@ is the order of the output, most serious first within the drain-route rules.
 (fluoride, perchlorate, chromate, heavy-metal ions…), which join the tags the store
 knows and the reagent's own.
 
-The second half looks at the waste itself, beside a finished plan: :func:`refuse_plan`
-says when no plan may be given at all (acidifying a cyanide or sulfide waste), and
-:func:`amend` adds the cautions that need no solver change (gas escaping now, ammonia
-released above pH 9, an oxidizing acid with organics, any other compatibility rule the
-contents break) and settles the drain verdict by the container's stream and the rule
-table (:mod:`carboy.model.compatibility`).
+The second half looks at the waste itself, beside a finished plan; the planner calls
+both (:mod:`carboy.model.planner`, its start and last steps), so every caller of
+``plan_neutralization`` gets them: :func:`refuse_plan` says when no plan may be given at
+all (acidifying a cyanide or sulfide waste), and :func:`amend` adds the cautions that
+need no solver change (gas escaping now, ammonia released above pH 9, an oxidizing acid
+with organics, any other compatibility rule the contents break) and settles the drain
+verdict by the container's stream and the rule table (:mod:`carboy.model.compatibility`).
 """
 
 from __future__ import annotations
@@ -32,7 +33,7 @@ strength (mol/L; about 6 mol/kg, the range its parameters were fitted to)."""
 NO_DRAIN_TAGS = frozenset({"hf_type", "no_drain", "heavy_metal", "chromic", "perchloric",
                            "cyanide", "sulfide", "explosive_residue"})
 
-HEAVY_METAL_IONS = frozenset({"Cu+2", "Zn+2", "Ni+2", "Pb+2", "Ag+"})
+HEAVY_METAL_IONS = frozenset({"Cu+2", "Zn+2", "Ni+2", "Pb+2", "Ag+", "Cd+2", "Cr+3"})
 
 
 def derived_hazards(totals: Mapping[str, float]) -> frozenset[str]:

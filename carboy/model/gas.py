@@ -20,6 +20,7 @@ import numpy as np
 
 from carboy.errors import InvalidInput
 from carboy.model import water
+from carboy.model.metal_doses import MetalDoses
 from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
 from carboy.model.speciation import BatchSpeciation, speciate_batch, start_along, state_at
 from carboy.model.thermo import planning_constants
@@ -81,6 +82,21 @@ class State:
         return self.result.system_totals_molar[:, self.result.system_keys.index(CARBONATE)]
 
 
+@dataclass(frozen=True)
+class _Linear:
+    """The volume-weighted charge balance ``a + b n`` at fixed pH and ionic strength,
+    with what the ionic strength needs (per target)."""
+
+    a: np.ndarray
+    b: np.ndarray
+    h: np.ndarray
+    oh: np.ndarray
+    sys_n0: np.ndarray
+    sys_per: np.ndarray
+    open_c: np.ndarray | None
+    kc: int | None
+
+
 class TitrationModel:
     """The sample plus ``n`` mol of a reagent of given composition, at one temperature.
 
@@ -117,6 +133,11 @@ class TitrationModel:
         for j, k in enumerate(self.keys):  # an all-strong system acts as its anion
             if ion_z[j] is None and catalog.systems[k].strong_steps == catalog.systems[k].n_steps:
                 ion_z[j] = catalog.systems[k].bottom_charge
+        self.metals = MetalDoses.of(self.keys, catalog)
+        # modelled metal ions are no spectators: the inverse takes their charge from
+        # their hydrolysis and solids (metal_doses)
+        for j in (self.metals.cols if self.metals is not None else ()):
+            ion_z[j] = None
         self.ion_cols = np.array([j for j, z in enumerate(ion_z) if z is not None], dtype=int)
         self._open: dict = {}   # CO2(aq) level -> roots of an open-system solve (starts)
         self.ion_z = np.array([z for z in ion_z if z is not None], dtype=float)
@@ -185,8 +206,10 @@ class TitrationModel:
 
         Exact: at fixed pH and ionic strength the volume-weighted charge balance is
         ``a + b n = 0``; the ionic strength is then iterated to self-consistency.
-        ``carbonate_loss_mol`` is CO2 already lost (closed otherwise); ``co2_molar``
-        holds CO2(aq) fixed instead.  NaN where no non-negative amount reaches the pH.
+        Where metals take part their charge joins it and the root is found inside a
+        bracket (:mod:`carboy.model.metal_doses`).  ``carbonate_loss_mol`` is CO2
+        already lost (closed otherwise); ``co2_molar`` holds CO2(aq) fixed instead.
+        NaN where no non-negative amount reaches the pH.
         """
         ph = np.atleast_1d(np.asarray(ph, dtype=float))
         t = ph.shape[0]
@@ -198,46 +221,62 @@ class TitrationModel:
         for _ in range(MAX_I_ITER):
             st = state_at(self.keys, ph, ionic, temperature_c=self.temperature_c,
                           activity=self.activity, catalog=self.catalog)
-            x = st.log_h
-            cols = [self.keys.index(k) for k in st.system_keys]
-            zbar = st.mean_charge                                    # (t, K)
-            z2bar = (st.fractions * st.charges[None] ** 2).sum(axis=2)
-            h = 10.0 ** x
-            oh = 10.0 ** (st.log_kw_conditional - x)
-            sys_n0 = np.broadcast_to(self.n0[cols], zbar.shape).copy()
-            sys_per = np.broadcast_to(self.per[cols], zbar.shape).copy()
-            open_c = None
-            if self.carb is not None:
-                kc = st.system_keys.index(CARBONATE)
-                if co2_molar is not None:
-                    # held CO2(aq): total carbonate per litre = co2 / alpha0
-                    open_c = float(co2_molar) / st.fractions[:, kc, 0]
-                    sys_n0[:, kc] = 0.0
-                    sys_per[:, kc] = 0.0
-                else:
-                    sys_n0[:, kc] -= loss
-            a = (h - oh) * self.v0 + self.n0[self.ion_cols] @ self.ion_z + (zbar * sys_n0).sum(1)
-            b = (h - oh) * self.lpm + self.per[self.ion_cols] @ self.ion_z + (zbar * sys_per).sum(1)
-            if open_c is not None:
-                a = a + zbar[:, kc] * open_c * self.v0
-                b = b + zbar[:, kc] * open_c * self.lpm
-            with np.errstate(divide="ignore", invalid="ignore"):
-                n = -a / b
+            lin = self._linear(st, loss, co2_molar)
+            if self.metals is None:
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    n = -lin.a / lin.b
+            else:
+                n = self.metals.amounts(self, st, ionic, lin.a, lin.b)
             ok = np.isfinite(n) & (n >= 0)
             nn = np.where(ok, n, 0.0)
-            vol = self.v0 + nn * self.lpm
-            tot = (sys_n0 + nn[:, None] * sys_per) / vol[:, None]
-            if open_c is not None:
-                tot[:, kc] = open_c
-            ions = (self.n0[self.ion_cols][None] + nn[:, None] * self.per[self.ion_cols][None])
-            new_i = (0.5 * (ions @ self.ion_z**2) / vol + 0.5 * (h + oh)
-                     + 0.5 * (tot * z2bar).sum(axis=1))
+            new_i = self._ionic_at(st, lin, nn, ionic)
             new_i = np.where(ok, new_i, ionic)
             done = np.abs(new_i - ionic) <= I_RTOL * np.maximum(new_i, 1e-12)
             ionic = new_i
             if self.activity == "ideal" or done.all():
                 break
         return np.where(ok, n, np.nan)
+
+    def _linear(self, st, loss, co2_molar) -> _Linear:
+        """The coefficients of the volume-weighted charge balance ``a + b n`` at the
+        targets of ``st`` (``state_at``), without the metals."""
+        x = st.log_h
+        cols = [self.keys.index(k) for k in st.system_keys]
+        zbar = st.mean_charge                                    # (t, K)
+        h = 10.0 ** x
+        oh = 10.0 ** (st.log_kw_conditional - x)
+        sys_n0 = np.broadcast_to(self.n0[cols], zbar.shape).copy()
+        sys_per = np.broadcast_to(self.per[cols], zbar.shape).copy()
+        open_c = kc = None
+        if self.carb is not None:
+            kc = st.system_keys.index(CARBONATE)
+            if co2_molar is not None:
+                # held CO2(aq): total carbonate per litre = co2 / alpha0
+                open_c = float(co2_molar) / st.fractions[:, kc, 0]
+                sys_n0[:, kc] = 0.0
+                sys_per[:, kc] = 0.0
+            else:
+                sys_n0[:, kc] -= loss
+        a = (h - oh) * self.v0 + self.n0[self.ion_cols] @ self.ion_z + (zbar * sys_n0).sum(1)
+        b = (h - oh) * self.lpm + self.per[self.ion_cols] @ self.ion_z + (zbar * sys_per).sum(1)
+        if open_c is not None:
+            a = a + zbar[:, kc] * open_c * self.v0
+            b = b + zbar[:, kc] * open_c * self.lpm
+        return _Linear(a, b, h, oh, sys_n0, sys_per, open_c, kc)
+
+    def _ionic_at(self, st, lin: _Linear, nn: np.ndarray, ionic) -> np.ndarray:
+        """The ionic strength of the batch after ``nn`` mol at the targets' pH."""
+        vol = self.v0 + nn * self.lpm
+        tot = (lin.sys_n0 + nn[:, None] * lin.sys_per) / vol[:, None]
+        if lin.open_c is not None:
+            tot[:, lin.kc] = lin.open_c
+        z2bar = (st.fractions * st.charges[None] ** 2).sum(axis=2)
+        ions = (self.n0[self.ion_cols][None] + nn[:, None] * self.per[self.ion_cols][None])
+        out = (0.5 * (ions @ self.ion_z**2) / vol + 0.5 * (lin.h + lin.oh)
+               + 0.5 * (tot * z2bar).sum(axis=1))
+        if self.metals is not None:
+            out = out + 0.5 * self.metals.ionic_part(self, st, ionic, nn)
+        return out
 
     # ------------------------------------------------------------------ carbonate
 

@@ -42,6 +42,8 @@ GENERIC_PICTOGRAM = "GHS05"
 GENERIC_SIGNAL = "Danger"
 GENERIC_LINE = ("Generic corrosive label: carboy holds no GHS bands for this compound. "
                 + SDS_LINE)
+STOREROOM_NAME_MOST = 80
+"""Longest storeroom name: it fits one line of a 70 mm label."""
 QR_PREFIX = "carboy:bottle:"
 """A bottle's QR code reads ``carboy:bottle:17``: scanners type it, people can read it."""
 

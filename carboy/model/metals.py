@@ -7,7 +7,8 @@ trial point.  For each metal with a total concentration it gives the dissolved s
 saturation, never assumed), the amount precipitated, the positive and negative charge
 the dissolved species carry, and the hydroxide the metal has bound (what it costs in a
 dose).  Calcium salts of fluoride, phosphate and sulfate are handled the same way, with
-the ligand's fractions at ``x`` supplied by the caller.
+the ligand's fractions at ``x`` supplied by the caller.  The data (``data/metals.toml``,
+each constant with its source) is read by :mod:`carboy.model.metal_data`.
 
 Monotonicity.  At a fixed ionic strength the metal terms keep the solver's
 ``POS(x) = NEG(x)`` monotone: a hydrolysis ladder is an acid-base ladder (the positive
@@ -18,9 +19,17 @@ takes ``a`` cations of charge z and ``b`` ligands whose mean charge is at most t
 fully deprotonated charge, so it removes at least as much positive as negative charge,
 and less of it precipitates as x rises: ``POS - NEG`` still rises with x.
 
+Derivatives.  Each state carries the derivatives of the charges and of Σ c z² with
+respect to x and to A·D (the solver's Newton steps on x and the ionic strength), in
+closed form: where a salt precipitates, the free cation's own derivative follows from
+the mass balance by implicit differentiation, with the ligand's fractions moving as an
+acid-base ladder's do (the ``alpha`` given must be the ladder's fractions at x and A·D,
+as the solver's are).  Sums are weighted sums (``einsum``), never matrix products: the
+solver calls this at every step and uses no BLAS.
+
 Activity: ``ad`` is A·D(I) of the Davies equation (log10 gamma_z = -ad z²; 0 = ideal),
-as in ``speciation.py``.  The constants are for 25 °C (``data/metals.toml``, each with its
-source); there is no temperature correction.
+as in ``speciation.py``.  The constants are for 25 °C; there is no temperature
+correction.
 
 References
 ----------
@@ -37,83 +46,33 @@ from functools import lru_cache
 from types import MappingProxyType
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 
 from carboy.errors import InvalidInput
-from carboy.model.catalog import default_catalog, molar_mass_of
-from carboy.model.datafiles import Table
-from carboy.model.thermo import planning_constants
-from carboy.model.water import pkw
+from carboy.model.metal_data import (  # noqa: F401 (re-exported: the public metal API)
+    PKW25,
+    STATUSES,
+    Hydroxide,
+    HydroxoSpecies,
+    LigandSolid,
+    Metal,
+    MetalData,
+    charge_bounds,
+    metal,
+    metal_data,
+    unmodelled_cations,
+)
 
 LN10 = math.log(10.0)
-PKW25 = pkw(25.0)
-"""pKw at 25 °C (IAPWS R11-07), the default and the conversion of OH- solubility products."""
-LIGAND_BISECTIONS = 80
-"""Bisection steps in log10 of the free cation when salts precipitate (2**-80 of 60 decades)."""
 LIGAND_SPAN = 60.0
 """Decades below the unsaturated free-cation level where the salt search starts."""
-DERIVATIVE_STEP = 1e-6
-"""Step in x of the central difference used where salts precipitate."""
-STATUSES = frozenset({"FOUND", "MEMORY", "DERIVED"})
+LIGAND_STEPS = 100
+"""Safeguarded Newton steps (bisection where a step leaves the bracket) on log10 of the
+free cation when salts precipitate."""
+LIGAND_TOL = 1e-13
+"""The free-cation search stops when its step in log10 is below this."""
 
-
-@dataclass(frozen=True)
-class HydroxoSpecies:
-    """M(OH)n: ``log_beta`` of M(z+) + n H2O = M(OH)n(z-n) + n H+ (0 for the free ion)."""
-
-    label: str
-    n: int
-    charge: int
-    log_beta: float
-    source: str = ""
-
-
-@dataclass(frozen=True)
-class Hydroxide:
-    """The hydroxide or oxide: ``log_ks`` of solid + z H+ = M(z+) + H2O's."""
-
-    name: str
-    formula: str
-    log_ks: float
-    molar_mass_g_mol: float
-    source: str = ""
-
-
-@dataclass(frozen=True)
-class Metal:
-    """A metal cation with its hydrolysis ladder and its hydroxide."""
-
-    key: str
-    name: str
-    charge: int
-    species: tuple[HydroxoSpecies, ...]
-    """The free ion first, then each hydroxo complex by n."""
-    solid: Hydroxide
-    choice: str = ""
-
-    @property
-    def max_negative_charge(self) -> int:
-        return max(0, -min(s.charge for s in self.species))
-
-
-@dataclass(frozen=True)
-class LigandSolid:
-    """A salt of a cation and the anion of an acid-base system: a·M + b·L_j + c·OH-."""
-
-    name: str
-    formula: str
-    cation: str
-    cation_count: int
-    ligand_system: str
-    ligand_index: int
-    """Which protonation state of the system the solubility product names."""
-    ligand_count: int
-    oh_count: int
-    log_ksp: float
-    molar_mass_g_mol: float
-    in_dose: bool
-    why: str
-    source: str
+_SUMS = ("pos", "neg", "iz2", "dpos", "dneg", "diz2", "apos", "aneg", "aiz2", "oh_bound",
+         "ligand_pos", "ligand_neg", "ligand_iz2")
 
 
 @dataclass(frozen=True)
@@ -127,24 +86,18 @@ class LigandAtX:
 
 
 @dataclass(frozen=True)
-class MetalData:
-    metals: Mapping[str, Metal]
-    ligand_solids: tuple[LigandSolid, ...]
-    inert_cations: frozenset[str]
-
-
-@dataclass(frozen=True)
 class MetalState:
     """The metal terms at N trial points (arrays of shape (N,), mol/L).
 
     ``pos`` and ``neg`` are the charge the dissolved metal species carry (add them to
-    the solver's POS and NEG), ``dpos`` and ``dneg`` the x-derivatives, at fixed ionic
-    strength, of ``pos + ligand_pos`` and ``neg + ligand_neg``; ``iz2`` the species' sum
-    of c z² (ionic strength); ``oh_bound`` the hydroxide bound in hydroxo complexes,
-    hydroxides and basic salts (mol OH- per L): what the metals cost in a dose.
-    ``ligand_pos``, ``ligand_neg`` and ``ligand_iz2`` (all <= 0) correct the ligand
-    systems' charge and c z² for the share held in salts; ``ligand_removed`` is that share
-    per system.
+    the solver's POS and NEG), ``iz2`` the species' sum of c z² (ionic strength);
+    ``dpos``, ``dneg`` and ``diz2`` the x-derivatives, at fixed ionic strength, of
+    ``pos + ligand_pos``, ``neg + ligand_neg`` and ``iz2 + ligand_iz2``; ``apos``,
+    ``aneg`` and ``aiz2`` their derivatives with respect to A·D at fixed x.
+    ``oh_bound`` is the hydroxide bound in hydroxo complexes, hydroxides and basic salts
+    (mol OH- per L): what the metals cost in a dose.  ``ligand_pos``, ``ligand_neg`` and
+    ``ligand_iz2`` (all <= 0) correct the ligand systems' charge and c z² for the share
+    held in salts; ``ligand_removed`` is that share per system.
     """
 
     pos: np.ndarray
@@ -163,6 +116,10 @@ class MetalState:
     """Solid name -> mol of formula units per L (0 where undersaturated)."""
     saturation_index: Mapping[str, np.ndarray]
     """Solid name -> log10(IAP/Ks): 0 where the solid is present, < 0 where not."""
+    diz2: np.ndarray | None = None
+    apos: np.ndarray | None = None
+    aneg: np.ndarray | None = None
+    aiz2: np.ndarray | None = None
 
 
 @dataclass(frozen=True)
@@ -173,145 +130,6 @@ class Sludge:
     formula: str
     mol_per_l: float
     dry_g_per_l: float
-
-
-# ----------------------------------------------------------------------------- data
-
-
-def _checked(t: Table, value_key: str) -> tuple[float, str]:
-    """The value and its citation, once status and source pass the one provenance check."""
-    prov = t.provenance(value_key, allowed=STATUSES)
-    return t.number(value_key), f"{t.text('source').strip()} [{prov.status}]"
-
-
-def _parse_metal(t: Table) -> Metal:
-    key, z = t.text("key"), t.integer("charge", low=1, high=4)
-    species = [HydroxoSpecies(key, 0, z, 0.0, "free ion")]
-    for s in t.tables("species", name=lambda i, d: f"{key} species {i + 1}"):
-        n = s.integer("n", low=1, high=6)
-        log_beta, cite = _checked(s, "log_beta")
-        species.append(HydroxoSpecies(s.text("label"), n, z - n, log_beta, cite))
-    if [s.n for s in species] != list(range(len(species))):
-        raise t.fail("species", "hydroxo species must run n = 1, 2, ... without gaps")
-    srec = t.table("solid", f"{key} solid")
-    if srec.has("log_ks"):
-        log_ks, source = _checked(srec, "log_ks")
-    else:
-        log_ksp, cite = _checked(srec, "log_ksp_oh")
-        log_ks = log_ksp + z * PKW25
-        source = f"{cite}; log *Ks = log Ksp + {z} pKw(25 °C) [DERIVED]"
-    formula = srec.text("formula")
-    solid = Hydroxide(srec.text("name"), formula, log_ks,
-                      molar_mass_of(formula, entry=key), source)
-    return Metal(key, t.text("name"), z, tuple(species), solid, t.text("choice", ""))
-
-
-def _parse_ligand_solid(t: Table, ksp_by_name: Mapping, catalog) -> LigandSolid:
-    name = t.text("ksp")
-    if name not in ksp_by_name:
-        raise t.fail("ksp", f"no [[ksp]] record {name!r} in planning.toml")
-    ksp = ksp_by_name[name]
-    system_key, cation = t.text("ligand_system"), t.text("cation")
-    if system_key not in catalog.systems:
-        raise t.fail("ligand_system", f"no acid-base system {system_key!r} in the catalog")
-    system = catalog.systems[system_key]
-    ions = dict(ksp["ions"])
-    cation_count = int(ions.pop(cation, 0))
-    oh_count = int(ions.pop("OH-", 0))
-    if not cation_count or len(ions) != 1 or next(iter(ions)) not in system.species:
-        raise t.fail("ksp", f"ions {sorted(ksp['ions'])} are not {cation}, OH- and one "
-                            f"state of {system.key}")
-    label, count = next(iter(ions.items()))
-    formula = t.text("formula")
-    return LigandSolid(name, formula, cation, cation_count, system.key,
-                       system.species.index(label), int(count), oh_count,
-                       float(ksp["log10_ksp"]), molar_mass_of(formula, entry=name),
-                       bool(t.raw("in_dose")), t.text("why"),
-                       f"{ksp['source']} [{ksp['status']}]")
-
-
-@lru_cache(maxsize=1)
-def metal_data() -> MetalData:
-    """The packaged ``metals.toml``, validated (cached); errors name file, entry and field."""
-    top = Table.of_file("metals.toml")
-    metals = {}
-    for t in top.tables("metals"):
-        metal = _parse_metal(t)
-        if metal.key in metals:
-            raise t.fail("key", "metal listed twice")
-        metals[metal.key] = metal
-    ksp_by_name = {r["solid"]: r for r in planning_constants()["ksp"]}
-    catalog = default_catalog()
-    solids = tuple(_parse_ligand_solid(t, ksp_by_name, catalog)
-                   for t in top.tables("ligand_solids", name=lambda i, d: str(d.get("ksp", i))))
-    dosed = [(s.cation, s.ligand_system) for s in solids if s.in_dose]
-    if len(dosed) != len(set(dosed)):
-        raise top.fail("ligand_solids", "one solid in the dose per cation and ligand system")
-    if any(s.cation not in metals for s in solids):
-        raise top.fail("ligand_solids", "a salt's cation has no metal record")
-    return MetalData(MappingProxyType(metals), solids, frozenset(top.texts("inert_cations")))
-
-
-def metal(key: str, data: MetalData | None = None) -> Metal:
-    """The metal record for an ion key such as ``"Zn+2"``; unknown keys are an error."""
-    metals = (data or metal_data()).metals
-    if key not in metals:
-        raise InvalidInput("metal", key, "no hydrolysis or solubility data; known: "
-                           + ", ".join(sorted(metals)))
-    return metals[key]
-
-
-def unmodelled_cations(charges: Mapping[str, int]) -> tuple[str, ...]:
-    """Cations (ion key -> charge) that are neither modelled here nor inert (Na+, K+ ...):
-    the plan must say their hydrolysis and precipitation are not counted."""
-    data = metal_data()
-    return tuple(sorted(k for k, z in charges.items()
-                        if z > 0 and k not in data.metals and k not in data.inert_cations))
-
-
-def charge_bounds(totals: Mapping[str, object], data: MetalData | None = None
-                  ) -> tuple[np.ndarray, np.ndarray]:
-    """The most positive and most negative charge the metals can carry (mol/L): widen the
-    solver's bracket by these so that it still holds the root."""
-    p = q = np.zeros(())
-    for key, c in totals.items():
-        m = metal(key, data)
-        c = np.asarray(c, dtype=float)
-        p = p + m.charge * c
-        q = q + m.max_negative_charge * c
-    return p, q
-
-
-# ----------------------------------------------------------------------------- one metal
-
-
-def _log_ratios(m: Metal, log_h_act: np.ndarray, ad: np.ndarray) -> np.ndarray:
-    """log10(c_n / c_free) of each species, shape (N, S)."""
-    n = np.array([s.n for s in m.species], dtype=float)
-    q = np.array([s.charge for s in m.species], dtype=float)
-    lb = np.array([s.log_beta for s in m.species])
-    return (lb - np.multiply.outer(log_h_act, n)
-            + np.multiply.outer(ad, q**2 - m.charge**2))
-
-
-def _log_sum(r: np.ndarray) -> np.ndarray:
-    top = r.max(axis=1)
-    return top + np.log10(np.exp((r - top[:, None]) * LN10).sum(axis=1))
-
-
-def _log_free_saturated(m: Metal, log_h_act, ad) -> np.ndarray:
-    """log10 of the free ion's concentration over the hydroxide."""
-    return m.solid.log_ks + m.charge * log_h_act + ad * m.charge**2
-
-
-def _species_terms(m: Metal, conc: np.ndarray, slope: np.ndarray):
-    """Charges, c z², bound OH- and x-derivatives from species concentrations (N, S) and
-    d log10 c / dx of each species (N, S)."""
-    q = np.array([s.charge for s in m.species], dtype=float)
-    n = np.array([s.n for s in m.species], dtype=float)
-    dc = LN10 * conc * slope
-    pos_w, neg_w = np.maximum(q, 0), np.maximum(-q, 0)
-    return (conc @ pos_w, conc @ neg_w, dc @ pos_w, dc @ neg_w, conc @ (q * q), conc @ n)
 
 
 # ----------------------------------------------------------------------------- the state
@@ -358,10 +176,8 @@ def metal_state(totals: Mapping[str, object], x, *, ad=0.0, log_kw=-PKW25,
         ``"phosphate"``, ``"sulfate"``) at these points; omitted systems take no part.
     precipitate : False gives the supersaturated solution (no solid allowed).
     data : other constants than the packaged ones (tests, a user's own data).
-    derivatives : False skips ``dpos``/``dneg`` where salts precipitate (NaN there).  Where
-        they do, the derivatives are a central difference at the ligands' fractions as
-        given (their own x-dependence is the solver's): good for a Newton step inside a
-        bracket, not an exact Jacobian.
+    derivatives : accepted for compatibility; the derivatives are closed forms and
+        always given (where salts precipitate, at the ligands' fractions as given).
 
     Returns
     -------
@@ -370,31 +186,42 @@ def metal_state(totals: Mapping[str, object], x, *, ad=0.0, log_kw=-PKW25,
     data = data or metal_data()
     x, ad, log_kw = _as_points(x, ad, log_kw)
     tot = _totals(totals, x.shape, data)
-    ligands = dict(ligands or {})
-    acc = _Accumulator(x.shape)
+    return state_of(tot, x, ad, log_kw, dict(ligands or {}), precipitate, data)
+
+
+def state_of(tot: Mapping[str, np.ndarray], x, ad, log_kw, ligands: Mapping[str, LigandAtX],
+             precipitate: bool, data: MetalData, *, detail: bool = True):
+    """:func:`metal_state` of checked arrays (the solver's entry: no validation).
+
+    With ``detail`` False only the sums are worked out (the solver's trial points): a
+    dict of the arrays named as :class:`MetalState`'s charge and derivative fields."""
+    acc = _Accumulator(x.shape, detail)
     for key, c in tot.items():
+        m = data.metals[key]
         salts = [s for s in data.ligand_solids
                  if s.cation == key and s.ligand_system in ligands]
-        if salts and precipitate:
-            _with_salts(acc, data.metals[key], c, x, ad, log_kw, salts, ligands, derivatives)
+        dosed = [s for s in salts if s.in_dose]
+        if dosed and precipitate:
+            _with_salts(acc, m, c, x, ad, log_kw, salts, dosed, ligands)
         else:
-            _hydroxide_only(acc, data.metals[key], c, x, ad, precipitate)
-    return acc.state()
+            _hydroxide_only(acc, m, c, x, ad, precipitate)
+    return acc.state() if detail else acc.sums
 
 
 class _Accumulator:
     """Sums the metals' terms into one :class:`MetalState`."""
 
-    def __init__(self, shape):
-        self.sums = {k: np.zeros(shape) for k in
-                     ("pos", "neg", "dpos", "dneg", "iz2", "oh_bound", "ligand_pos",
-                      "ligand_neg", "ligand_iz2")}
+    def __init__(self, shape, detail: bool = True):
+        zero = np.zeros(shape)
+        self.sums = dict.fromkeys(_SUMS, zero)
+        self.detail = detail
         self.removed, self.dissolved, self.species = {}, {}, {}
         self.precipitated, self.si = {}, {}
 
     def add(self, **terms):
+        sums = self.sums
         for k, v in terms.items():
-            self.sums[k] = self.sums[k] + v
+            sums[k] = sums[k] + v
 
     def state(self) -> MetalState:
         ro = MappingProxyType
@@ -403,7 +230,43 @@ class _Accumulator:
                           precipitated=ro(self.precipitated), saturation_index=ro(self.si))
 
 
+def _log_ratios(m: Metal, log_h_act: np.ndarray, ad: np.ndarray) -> np.ndarray:
+    """log10(c_n / c_free) of each species, shape (N, S)."""
+    n, q, lb = m.arrays
+    return (lb - np.multiply.outer(log_h_act, n)
+            + np.multiply.outer(ad, q * q - m.charge**2))
+
+
+def _log_sum(r: np.ndarray) -> np.ndarray:
+    top = r.max(axis=1)
+    return top + np.log10(np.exp((r - top[:, None]) * LN10).sum(axis=1))
+
+
+def _log_free_saturated(m: Metal, log_h_act, ad) -> np.ndarray:
+    """log10 of the free ion's concentration over the hydroxide."""
+    return m.solid.log_ks + m.charge * log_h_act + ad * m.charge**2
+
+
+def _weighted(a: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """(N,) sum over species of ``a`` (N, S) times ``w`` (S,), without BLAS."""
+    return np.einsum("ns,s->n", a, w)
+
+
+def _species_terms(m: Metal, conc: np.ndarray, slope_x: np.ndarray, slope_ad: np.ndarray):
+    """Charges, c z², bound OH- and their derivatives from the species concentrations
+    (N, S) and d log10 c / dx, d log10 c / d(A·D) of each species (N, S)."""
+    n, q, _ = m.arrays
+    pos_w, neg_w, z2_w = np.maximum(q, 0), np.maximum(-q, 0), q * q
+    dcx, dca = LN10 * conc * slope_x, LN10 * conc * slope_ad
+    return dict(pos=_weighted(conc, pos_w), neg=_weighted(conc, neg_w),
+                iz2=_weighted(conc, z2_w), dpos=_weighted(dcx, pos_w),
+                dneg=_weighted(dcx, neg_w), diz2=_weighted(dcx, z2_w),
+                apos=_weighted(dca, pos_w), aneg=_weighted(dca, neg_w),
+                aiz2=_weighted(dca, z2_w), oh_bound=_weighted(conc, n))
+
+
 def _hydroxide_only(acc: _Accumulator, m: Metal, c, x, ad, precipitate: bool) -> None:
+    n, q, _ = m.arrays
     log_h_act = x - ad
     r = _log_ratios(m, log_h_act, ad)
     log_s = _log_sum(r)
@@ -412,15 +275,20 @@ def _hydroxide_only(acc: _Accumulator, m: Metal, c, x, ad, precipitate: bool) ->
     log_free_sat = _log_free_saturated(m, log_h_act, ad)
     present = (log_free_unsat > log_free_sat) & (c > 0) & precipitate
     log_free = np.where(present, log_free_sat, log_free_unsat)
-    conc = np.where(c[:, None] > 0, 10.0 ** (log_free[:, None] + r), 0.0)
-    n = np.array([s.n for s in m.species], dtype=float)
-    nbar = conc @ n / np.maximum(conc.sum(axis=1), np.finfo(float).tiny)
-    slope = np.where(present[:, None], m.charge, nbar[:, None]) - n
-    pos, neg, dpos, dneg, iz2, n_oh = _species_terms(m, conc, slope)
+    conc = np.where(c[:, None] > 0, np.exp(LN10 * (log_free[:, None] + r)), 0.0)
+    total = np.maximum(conc.sum(axis=1), np.finfo(float).tiny)
+    w = n + q * q - m.charge**2                       # d r_n / d(A·D)
+    nbar, wbar = _weighted(conc, n) / total, _weighted(conc, w) / total
+    # unsaturated: the ladder's shares move; saturated: the free ion follows *Ks {H+}^z
+    slope_x = np.where(present[:, None], float(m.charge), nbar[:, None]) - n
+    slope_ad = np.where(present[:, None], w - m.charge + m.charge**2, w - wbar[:, None])
+    terms = _species_terms(m, conc, slope_x, slope_ad)
     dissolved = conc.sum(axis=1)
     solid = np.where(present, c - dissolved, 0.0)
-    acc.add(pos=pos, neg=neg, dpos=dpos, dneg=dneg, iz2=iz2, oh_bound=n_oh + m.charge * solid)
-    _record(acc, m, conc, dissolved, solid, log_free - log_free_sat)
+    terms["oh_bound"] = terms["oh_bound"] + m.charge * solid
+    acc.add(**terms)
+    if acc.detail:
+        _record(acc, m, conc, dissolved, solid, log_free - log_free_sat)
 
 
 def _record(acc, m: Metal, conc, dissolved, solid, si) -> None:
@@ -433,118 +301,218 @@ def _record(acc, m: Metal, conc, dissolved, solid, si) -> None:
 # ----------------------------------------------------------------------------- salts
 
 
-def _ligand_log_activity_factor(s: LigandSolid, lig: LigandAtX, ad) -> np.ndarray:
-    """log10 of (activity of the named ligand state) / (dissolved ligand total)."""
-    z = lig.charges[s.ligand_index]
-    with np.errstate(divide="ignore"):
-        return np.log10(lig.alpha[:, s.ligand_index]) - ad * z * z
+@dataclass(frozen=True)
+class _Salts:
+    """The salts of one cation in the dose at the trial points, stacked (P salts, N
+    points): a cations and b ligands each (``ab`` = a/b, ``k`` = a/b too: the slope of
+    the saturation level in u), the ligand's total, and ``lsat0`` with
+    log10(dissolved ligand at saturation) = lsat0 - k u, u = log10[cation]; ``gx`` and
+    ``ga`` are the derivatives of ``lsat0`` by x and by A·D.  ``ladders`` holds each
+    ligand's (j, c, jbar, cbar) (see :func:`_ladder_moments`)."""
+
+    solids: tuple[LigandSolid, ...]
+    ligands: tuple[LigandAtX, ...]
+    ladders: tuple
+    a: np.ndarray          # (P, 1)
+    b: np.ndarray          # (P, 1)
+    k: np.ndarray          # (P, 1)
+    total: np.ndarray      # (P, N)
+    lsat0: np.ndarray      # (P, N)
+    gx: np.ndarray         # (P, N)
+    ga: np.ndarray         # (P, N)
 
 
-def _salt_amounts(log_free, m: Metal, salts, ligands, log_oh_act, ad):
-    """Mol/L of each salt when the free cation is 10**log_free (each salt alone takes its
-    ligand down to saturation; one salt in the dose per ligand system)."""
-    out = []
-    for s in salts:
+@lru_cache(maxsize=64)
+def _ladder(charges: tuple[int, ...]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(j, c, weights) of a ladder of ``charges``: each state's protons lost from the top,
+    its activity term (log10 of the state's weight carries -j x - 2 A·D c) and its
+    (M, 3) positive charge, negative charge and z²."""
+    q = np.array(charges, dtype=float)
+    j = np.arange(q.shape[0], dtype=float)
+    c = 0.5 * (q[0] ** 2 - q * q) - 0.5 * j
+    return j, c, np.stack([np.maximum(q, 0), np.maximum(-q, 0), q * q], axis=1)
+
+
+def _ladder_moments(lig: LigandAtX) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """(j, c, jbar, cbar): see :func:`_ladder`, with the means of j and c at the points.
+    The fractions move with x and A·D as d alpha_j = -ln10 alpha_j ((j - jbar) dx
+    + 2 (c_j - cbar) d(A·D))."""
+    j, c, _ = _ladder(tuple(lig.charges))
+    jc = np.einsum("nm,mk->kn", lig.alpha, np.stack([j, c], axis=1))
+    return j, c, jc[0], jc[1]
+
+
+def _salts_at(m: Metal, dosed, ligands, ad, log_oh_act) -> _Salts:
+    rows = {k: [] for k in ("lsat0", "gx", "ga", "total")}
+    ligs, ladders = [], []
+    for s in dosed:
         lig = ligands[s.ligand_system]
-        log_act_m = log_free - ad * m.charge**2
-        log_lig_sat = ((s.log_ksp - s.cation_count * log_act_m - s.oh_count * log_oh_act)
-                       / s.ligand_count - _ligand_log_activity_factor(s, lig, ad))
-        with np.errstate(over="ignore"):
-            free_lig = np.minimum(10.0 ** np.minimum(log_lig_sat, 300.0), lig.total_molar)
-        out.append(np.maximum(lig.total_molar - free_lig, 0.0) / s.ligand_count)
+        zl = lig.charges[s.ligand_index]
+        with np.errstate(divide="ignore"):
+            lf = np.log10(lig.alpha[:, s.ligand_index]) - ad * zl * zl
+        a, b = s.cation_count, s.ligand_count
+        ladder = _ladder_moments(lig)
+        j, c, jbar, cbar = ladder
+        rows["lsat0"].append((s.log_ksp + a * ad * m.charge**2 - s.oh_count * log_oh_act) / b
+                             - lf)
+        rows["gx"].append(s.oh_count / b + (j[s.ligand_index] - jbar))
+        rows["ga"].append((a * m.charge**2 - s.oh_count) / b + zl * zl
+                          + 2.0 * (c[s.ligand_index] - cbar))
+        rows["total"].append(lig.total_molar)
+        ligs.append(lig)
+        ladders.append(ladder)
+    a = np.array([[s.cation_count] for s in dosed], dtype=float)
+    b = np.array([[s.ligand_count] for s in dosed], dtype=float)
+    return _Salts(tuple(dosed), tuple(ligs), tuple(ladders), a, b, a / b,
+                  **{k: np.array(v) for k, v in rows.items()})
+
+
+def _free_ligand(lsat0, k, total, u) -> tuple[np.ndarray, np.ndarray]:
+    """(dissolved ligand, True where the salt is present) of each salt (P, n) at
+    log10[cation] = u (n,), from its saturation level and total (P, n)."""
+    sat = np.exp(LN10 * np.minimum(lsat0 - k * u, 300.0))
+    present = sat < total
+    return np.where(present, sat, total), present
+
+
+def _excess(u, log_s, c, k, lsat0, total):
+    """Dissolved plus held in salts, less the total, and its u-derivative / ln 10."""
+    dissolved = np.exp(LN10 * (u + log_s))
+    free, present = _free_ligand(lsat0, k, total, u)
+    held = (k * (total - free)).sum(axis=0)            # a/b per ligand taken
+    slope = (k * k * np.where(present, free, 0.0)).sum(axis=0)
+    return dissolved + held - c, dissolved + slope
+
+
+def _solve_free_cation(c, log_s, salts: _Salts) -> np.ndarray:
+    """log10 of the free cation where dissolved + salts = total: safeguarded Newton (a
+    bisection where a step leaves the bracket) at the points where some salt is present
+    at the unsaturated level, the others keep that level."""
+    with np.errstate(divide="ignore"):
+        u = np.log10(c) - log_s
+    k = salts.k
+    e, slope = _excess(u, log_s, c, k, salts.lsat0, salts.total)
+    idx = np.flatnonzero(e > 0)
+    if idx.size == 0:
+        return u
+    whole = idx.size == u.size
+    hi = u[idx]
+    lo, ua, ea, sa = hi - LIGAND_SPAN, hi.copy(), e[idx], slope[idx]
+    ca, ls = (c, log_s) if whole else (c[idx], log_s[idx])
+    lsat0, total = ((salts.lsat0, salts.total) if whole
+                    else (salts.lsat0[:, idx], salts.total[:, idx]))
+    for _ in range(LIGAND_STEPS):
+        step = -ea / (LN10 * sa)
+        small = np.abs(step) < LIGAND_TOL   # converged (the bracket may sit on u itself)
+        nxt = ua + step
+        out = ~((nxt > lo) & (nxt < hi) | small)
+        nxt = np.where(out, 0.5 * (lo + hi), nxt)
+        fin = small | (np.abs(nxt - ua) < LIGAND_TOL) | (hi - lo < LIGAND_TOL)
+        u[idx] = nxt
+        if fin.all():
+            break
+        if fin.any():
+            keep = ~fin
+            idx, nxt, lo, hi, ca, ls = (idx[keep], nxt[keep], lo[keep], hi[keep], ca[keep],
+                                        ls[keep])
+            lsat0, total = lsat0[:, keep], total[:, keep]
+        ea, sa = _excess(nxt, ls, ca, k, lsat0, total)
+        hi = np.where(ea >= 0, nxt, hi)
+        lo = np.where(ea < 0, nxt, lo)
+        ua = nxt
+    return u
+
+
+def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, dosed, ligands) -> None:
+    n, q, _ = m.arrays
+    log_h_act, log_oh_act = x - ad, log_kw - x + ad  # log10 a(OH-) = log10 Kw - log10 a(H+)
+    r = _log_ratios(m, log_h_act, ad)
+    log_s = _log_sum(r)
+    at = _salts_at(m, dosed, ligands, ad, log_oh_act)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        u = _solve_free_cation(np.where(c > 0, c, 1e-300), log_s, at)
+    log_free_sat = _log_free_saturated(m, log_h_act, ad)
+    capped = (u >= log_free_sat) & (c > 0)             # the hydroxide is present
+    u = np.where(c > 0, np.minimum(u, log_free_sat), -np.inf)
+    conc = np.exp(LN10 * (u[:, None] + r))
+    with np.errstate(over="ignore", invalid="ignore"):
+        free, present = _free_ligand(at.lsat0, at.k, at.total, u)
+    amounts = np.where(c > 0, (at.total - free) / at.b, 0.0)       # (P, N)
+    dissolved = conc.sum(axis=1)
+    hydroxide = np.where(capped, np.maximum(c - dissolved - (at.a * amounts).sum(axis=0),
+                                            0.0), 0.0)
+    du_x, du_a, dp_x, dp_a = _salt_slopes(m, conc, dissolved, capped, at,
+                                          np.where(present, free, 0.0))
+    w = n + q * q - m.charge**2
+    terms = _species_terms(m, conc, du_x[:, None] - n, du_a[:, None] + w)
+    lig = _ligand_terms(at, amounts, dp_x, dp_a)
+    for k in ("pos", "neg", "iz2"):
+        terms[f"d{k}"] = terms[f"d{k}"] + lig[f"d{k}"]
+        terms[f"a{k}"] = terms[f"a{k}"] + lig[f"a{k}"]
+    oh = np.array([[s.oh_count] for s in at.solids], dtype=float)
+    terms["oh_bound"] = terms["oh_bound"] + m.charge * hydroxide + (oh * amounts).sum(axis=0)
+    acc.add(**terms, ligand_pos=lig["pos"], ligand_neg=lig["neg"], ligand_iz2=lig["iz2"])
+    if not acc.detail:
+        return
+    for system, arr in lig["removed"].items():
+        acc.removed[system] = acc.removed.get(system, 0.0) + arr
+    _record(acc, m, conc, dissolved, hydroxide, u - log_free_sat)
+    for s, p in zip(at.solids, amounts, strict=True):
+        acc.precipitated[s.name] = p
+    for s in salts:
+        acc.si[s.name] = _salt_si(s, m, u, ligands, lig["removed"], log_oh_act, ad)
+
+
+def _salt_slopes(m: Metal, conc, dissolved, capped, at: _Salts, held):
+    """d u/dx and d u/d(A·D) of the free cation (u = log10 of it), and each salt's
+    d(amount)/dx and d(amount)/d(A·D) (P, N), by implicit differentiation of the mass
+    balance dissolved + Σ a·amount = total (the hydroxide, where present, fixes u
+    itself); ``held`` is each salt's dissolved ligand where it is present, else 0."""
+    n, q, _ = m.arrays
+    z = float(m.charge)
+    tiny = np.finfo(float).tiny
+    nbar = _weighted(conc, n) / np.maximum(dissolved, tiny)
+    wbar = _weighted(conc, n + q * q - z * z) / np.maximum(dissolved, tiny)
+    # d log10(dissolved ligand at saturation) = -k du + g (g by x and by A·D, per salt)
+    den = dissolved + (at.k * at.k * held).sum(axis=0)
+    num_x = dissolved * nbar + (at.k * held * at.gx).sum(axis=0)
+    num_a = -dissolved * wbar + (at.k * held * at.ga).sum(axis=0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        du_x = np.where(capped, z, np.where(den > 0, num_x / den, 0.0))
+        du_a = np.where(capped, z * z - z, np.where(den > 0, num_a / den, 0.0))
+    scale = -held * LN10 / at.b
+    return du_x, du_a, scale * (at.gx - at.k * du_x), scale * (at.ga - at.k * du_a)
+
+
+def _ligand_terms(at: _Salts, amounts, dp_x, dp_a) -> dict:
+    """The ligand systems' corrections (charge and c z² held in salts, <= 0) and their
+    derivatives (the amounts' and the held states' shares' own)."""
+    out = dict.fromkeys(("pos", "neg", "iz2", "dpos", "dneg", "diz2", "apos", "aneg",
+                         "aiz2"), 0.0)
+    removed: dict[str, np.ndarray] = {}
+    for i, (s, lig, (j, c, jbar, cbar)) in enumerate(zip(at.solids, at.ligands, at.ladders,
+                                                          strict=True)):
+        b, p, px, pa = s.ligand_count, amounts[i], dp_x[i], dp_a[i]
+        removed[s.ligand_system] = removed.get(s.ligand_system, 0.0) + b * p
+        alpha = lig.alpha
+        # the mean of each weight, and its x- and A·D-derivatives (the fractions move)
+        stacked = np.stack([alpha, -LN10 * alpha * (j[None, :] - jbar[:, None]),
+                            -2.0 * LN10 * alpha * (c[None, :] - cbar[:, None])])
+        mean, mean_x, mean_a = np.einsum("knm,mw->kwn", stacked, _ladder(tuple(lig.charges))[2])
+        for row, name in enumerate(("pos", "neg", "iz2")):
+            out[name] = out[name] - b * p * mean[row]
+            out[f"d{name}"] = out[f"d{name}"] - b * (px * mean[row] + p * mean_x[row])
+            out[f"a{name}"] = out[f"a{name}"] - b * (pa * mean[row] + p * mean_a[row])
+    out["removed"] = removed
     return out
 
 
-def _solve_free_cation(m: Metal, c, log_s, salts, ligands, log_oh_act, ad):
-    """log10 of the free cation where dissolved + salts = total (bisection, vectorized)."""
-    with np.errstate(divide="ignore"):
-        hi = np.log10(c) - log_s
-    lo = hi - LIGAND_SPAN
-
-    def excess(lf):
-        held = sum(s.cation_count * p for s, p in
-                   zip(salts, _salt_amounts(lf, m, salts, ligands, log_oh_act, ad), strict=True))
-        return 10.0 ** (lf + log_s) + held - c
-
-    for _ in range(LIGAND_BISECTIONS):
-        mid = 0.5 * (lo + hi)
-        over = excess(mid) > 0
-        hi = np.where(over, mid, hi)
-        lo = np.where(over, lo, mid)
-    return 0.5 * (lo + hi)
-
-
-def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, ligands, derivatives=True) -> None:
-    c_solve = np.where(c > 0, c, 1e-300)
-
-    def evaluate(xx):
-        log_h_act = xx - ad
-        log_oh_act = log_kw - xx + ad  # log10 a(OH-) = log10 Kw - log10 a(H+)
-        r = _log_ratios(m, log_h_act, ad)
-        log_s = _log_sum(r)
-        dosed = [s for s in salts if s.in_dose]
-        log_free = _solve_free_cation(m, c_solve, log_s, dosed, ligands, log_oh_act, ad)
-        log_free_sat = _log_free_saturated(m, log_h_act, ad)
-        capped = (log_free >= log_free_sat) & (c > 0)  # the hydroxide is present
-        log_free = np.where(c > 0, np.minimum(log_free, log_free_sat), -np.inf)
-        conc = 10.0 ** (log_free[:, None] + r)
-        amounts = _salt_amounts(log_free, m, dosed, ligands, log_oh_act, ad)
-        held = sum((s.cation_count * p for s, p in zip(dosed, amounts, strict=True)),
-                   np.zeros_like(c))
-        hydroxide = np.where(capped, np.maximum(c - conc.sum(axis=1) - held, 0.0), 0.0)
-        return r, conc, log_free, log_free_sat, amounts, hydroxide, log_oh_act
-
-    r, conc, log_free, log_free_sat, amounts, hydroxide, log_oh_act = evaluate(x)
-    dosed = [s for s in salts if s.in_dose]
-    slope = np.zeros_like(conc)  # derivatives by central difference below
-    pos, neg, _, _, iz2, n_oh = _species_terms(m, conc, slope)
-    lig_pos, lig_neg, removed, lig_iz2 = _ligand_corrections(dosed, amounts, ligands)
-    oh_salts = sum((s.oh_count * p for s, p in zip(dosed, amounts, strict=True)), 0.0)
-    if derivatives:
-        hi_state = _charges_of(evaluate(x + DERIVATIVE_STEP), m, dosed, ligands)
-        lo_state = _charges_of(evaluate(x - DERIVATIVE_STEP), m, dosed, ligands)
-        dpos, dneg = ((hi - lo) / (2 * DERIVATIVE_STEP)
-                      for hi, lo in zip(hi_state, lo_state, strict=True))
-    else:
-        dpos = dneg = np.full(x.shape, np.nan)
-    acc.add(pos=pos, neg=neg, dpos=dpos, dneg=dneg, iz2=iz2, ligand_pos=lig_pos,
-            ligand_neg=lig_neg, ligand_iz2=lig_iz2, oh_bound=n_oh + m.charge * hydroxide + oh_salts)
-    for system, arr in removed.items():
-        acc.removed[system] = acc.removed.get(system, 0.0) + arr
-    _record(acc, m, conc, conc.sum(axis=1), hydroxide, log_free - log_free_sat)
-    for s, p in zip(dosed, amounts, strict=True):
-        acc.precipitated[s.name] = p
-    for s in salts:
-        acc.si[s.name] = _salt_si(s, m, log_free, conc, ligands, removed, log_oh_act, ad)
-
-
-def _ligand_corrections(dosed, amounts, ligands):
-    removed: dict[str, np.ndarray] = {}
-    lig_pos = lig_neg = lig_iz2 = 0.0
-    for s, p in zip(dosed, amounts, strict=True):
-        lig = ligands[s.ligand_system]
-        q = np.array(lig.charges, dtype=float)
-        taken = s.ligand_count * p
-        removed[s.ligand_system] = removed.get(s.ligand_system, 0.0) + taken
-        lig_pos = lig_pos - taken * (lig.alpha @ np.maximum(q, 0))
-        lig_neg = lig_neg - taken * (lig.alpha @ np.maximum(-q, 0))
-        lig_iz2 = lig_iz2 - taken * (lig.alpha @ (q * q))
-    return lig_pos, lig_neg, removed, lig_iz2
-
-
-def _charges_of(evaluated, m: Metal, dosed, ligands):
-    """POS and NEG contributions (metal species plus ligand corrections) of one evaluation."""
-    _, conc, _, _, amounts, _, _ = evaluated
-    q = np.array([s.charge for s in m.species], dtype=float)
-    lig_pos, lig_neg, _, _ = _ligand_corrections(dosed, amounts, ligands)
-    return conc @ np.maximum(q, 0) + lig_pos, conc @ np.maximum(-q, 0) + lig_neg
-
-
-def _salt_si(s: LigandSolid, m: Metal, log_free, conc, ligands, removed, log_oh_act, ad):
+def _salt_si(s: LigandSolid, m: Metal, log_free, ligands, removed, log_oh_act, ad):
     lig = ligands[s.ligand_system]
     dissolved = np.maximum(lig.total_molar - removed.get(s.ligand_system, 0.0), 0.0)
+    z = lig.charges[s.ligand_index]
     with np.errstate(divide="ignore"):
-        log_lig = np.log10(dissolved) + _ligand_log_activity_factor(s, lig, ad)
+        log_lig = np.log10(dissolved) + np.log10(lig.alpha[:, s.ligand_index]) - ad * z * z
     log_iap = (s.cation_count * (log_free - ad * m.charge**2) + s.ligand_count * log_lig
                + s.oh_count * log_oh_act)
     return log_iap - s.log_ksp
@@ -571,19 +539,27 @@ def minimum_solubility(key: str, *, ad: float = 0.0, data: MetalData | None = No
     log10 of the solubility is a log-sum-exp of lines in pH, hence convex: the bounded
     scalar minimum is the only one.
     """
+    from scipy.optimize import minimize_scalar  # slow to import; only this needs it
+
     res = minimize_scalar(lambda p: float(np.log10(solubility(key, p, ad=ad, data=data))[0]),
                           bounds=(0.0, 14.0), method="bounded",
                           options={"xatol": 1e-6})
     return float(res.x), float(solubility(key, res.x, ad=ad, data=data)[0])
 
 
+def solid_formulas(data: MetalData | None = None) -> dict[str, tuple[str, float]]:
+    """Solid name -> (formula, molar mass g/mol) of every hydroxide and salt."""
+    data = data or metal_data()
+    out = {m.solid.name: (m.solid.formula, m.solid.molar_mass_g_mol)
+           for m in data.metals.values()}
+    out.update({s.name: (s.formula, s.molar_mass_g_mol) for s in data.ligand_solids})
+    return out
+
+
 def sludge(state: MetalState, point: int = 0, data: MetalData | None = None
            ) -> tuple[Sludge, ...]:
     """The solids present at one point, with their dry mass (mol/L times molar mass)."""
-    data = data or metal_data()
-    formulas = {m.solid.name: (m.solid.formula, m.solid.molar_mass_g_mol)
-                for m in data.metals.values()}
-    formulas.update({s.name: (s.formula, s.molar_mass_g_mol) for s in data.ligand_solids})
+    formulas = solid_formulas(data)
     out = []
     for name, arr in state.precipitated.items():
         mol = float(np.asarray(arr)[point])

@@ -3,6 +3,19 @@
 The plan is computed by :func:`carboy.model.planner.plan_neutralization` (see that
 module for the modelling choices); front ends show it and the journal stores its
 ``to_dict()`` as computed then.  The JSON names are a public contract: keep them.
+
+The metals' names (the state the dose to the target leaves):
+
+``sludge``                 list of ``{"solid", "formula", "mol", "dry_mass_g"}``: each
+                           solid present (hydroxide, oxide or salt), in the whole batch
+``dissolved_metals_mg_l``  ``{"Zn+2": 0.27, ...}``: each modelled metal left dissolved
+                           (free ion and hydroxo complexes), mg of the metal per litre
+``metal_hydroxide_mol``    the hydroxide the metals hold (complexes, hydroxides, basic
+                           salts): their share of the dose to the target, mol
+``unmodelled_metals``      cations with no hydrolysis or solubility data (a warning
+                           names them too; their share is not in the dose)
+
+The solids present also appear in ``precipitates`` with ``"expected": true``.
 """
 
 from __future__ import annotations
@@ -14,6 +27,7 @@ import numpy as np
 from carboy.model.batch_heat import BatchHeat
 from carboy.model.cautions import Caution
 from carboy.model.mixture import Mixture
+from carboy.model.plan_metals import SludgeItem, metal_lines
 from carboy.model.precipitates import Precipitate, SaltLimit
 from carboy.model.reagent_reach import Reach
 from carboy.model.reagents import Reagent
@@ -110,6 +124,15 @@ class Plan:
     vented_gas_l: float = 0.0
     curve_speciation: BatchSpeciation | None = field(default=None, repr=False, compare=False)
     curve_volume_l: np.ndarray | None = field(default=None, repr=False, compare=False)
+    sludge: tuple[SludgeItem, ...] = ()
+    """The solids present at the target, in the whole batch (mol, dry mass)."""
+    dissolved_metals_mg_l: dict = field(default_factory=dict)
+    """Each modelled metal left dissolved at the target (free ion and complexes), mg/L."""
+    metal_hydroxide_mol: float = 0.0
+    """The hydroxide the metals hold at the target (complexes, hydroxides, basic salts):
+    what they take of the dose to the target, mol."""
+    unmodelled_metals: tuple[str, ...] = ()
+    """Cations of the sample with no hydrolysis or solubility data (not counted)."""
     batch_heat: BatchHeat | None = None
     """The heat's effect on the batch: heat capacity, boiling, stages to stay safe."""
     salt_limits: tuple[SaltLimit, ...] = ()
@@ -124,6 +147,13 @@ class Plan:
     def ph_scale(self) -> str:
         """What the plan's pH values mean (see ``speciation_models.PH_SCALES``)."""
         return ph_scale_of(self.activity_model or self.activity)
+
+    def metal_lines(self) -> tuple[tuple[str, str], ...]:
+        """The metals at the target for a front end: (heading, text) lines
+        (:func:`carboy.model.plan_metals.metal_lines`); none without metals."""
+        ph = self.to_target.pH if self.to_target.reachable else self.initial_pH
+        return metal_lines(self.sludge, self.dissolved_metals_mg_l, self.metal_hydroxide_mol,
+                           ph)
 
     def to_dict(self) -> dict:
         lo, hi = self.window_doses
@@ -162,6 +192,10 @@ class Plan:
             "curve": self.curve.tolist(),
             "equivalence_points": [e.to_dict() for e in self.equivalence_points],
             "precipitates": [p.to_dict() for p in self.precipitates],
+            "sludge": [s.to_dict() for s in self.sludge],
+            "dissolved_metals_mg_l": dict(self.dissolved_metals_mg_l),
+            "metal_hydroxide_mol": self.metal_hydroxide_mol,
+            "unmodelled_metals": list(self.unmodelled_metals),
             "salt_solubility": [s.to_dict() for s in self.salt_limits],
             "cautions": [c.to_dict() for c in self.cautions],
             "drain_plan": self.drain_plan,

@@ -27,16 +27,21 @@ The steps of a plan
 -------------------
 :func:`plan_neutralization` is this sequence; each step is a function of its own:
 
-1. ``_check_request``     the arguments, checked and gathered in a :class:`_Request`
-                          (``_with_safe_temperature``: the batch's safe temperature);
+1. ``check_request``      the arguments, checked and gathered in a ``PlanRequest``
+                          (an unknown component is an error naming it, field ``sample``)
+                          and ``with_safe_temperature``, the batch's safe temperature
+                          (``plan_request``);
 2. ``_start``             the sample's own pH, the direction (base or acid) and the
-                          reagent's capacity that way; a reagent that moves the pH the
-                          wrong way is refused;
-3. ``_proton_demand``     every dissociable proton: the full dose and its breakdown;
+                          reagent's capacity that way; a cyanide or sulfide waste the
+                          plan would acidify is refused (``cautions.refuse_plan``), and a
+                          reagent that moves the pH the wrong way too;
+3. ``_proton_demand``     every dissociable proton: the full dose and its breakdown (a
+                          modelled metal cation counts as its hydroxide, z OH- each);
    ``_reagent_reach``     with a carbonate reagent, only the protons it can take count
                           in the full dose (``reagent_reach``);
 4. ``_find_doses``        the doses to the target and the window edges, with CO2
-                          leaving, and the curve's amounts (``dosing``);
+                          leaving and the hydroxide the metals take, and the curve's
+                          amounts (``dosing``, ``metal_doses``);
    ``_bicarbonate_ceiling`` no dose above about pH 8.3 with a bicarbonate;
 5. ``_solve_curve``       the pH curve, in one batch solve;
 6. ``_solve_points``      every other state in one batch solve (full dose, doses,
@@ -50,33 +55,46 @@ The steps of a plan
                           solids (``precipitates``);
    ``_salt_limits``       soluble salts against their solubility at the batch's
                           temperature (``precipitates.salt_limits``);
-10. ``_warnings``         the solver's and the planner's own warnings;
-11. ``_facts``            what the caution rules look at (``_limit_facts``: heat, salts,
+10. ``_metals``           the sludge, the metal left dissolved, the hydroxide the metals
+                          hold and the cations without data (``plan_metals``);
+11. ``_warnings``         the solver's and the planner's own warnings;
+12. ``_facts``            what the caution rules look at (``_limit_facts``: heat, salts,
                           reach); ``cautions.evaluate`` then
                           gives the cautions and ``cautions.not_for_drain`` the drain
-                          verdict.
+                          verdict;
+13. ``_waste_cautions``   the waste's own cautions (gas escaping now, ammonia, the
+                          compatibility rules its compounds break, its stream) and the
+                          drain verdict settled with them (``cautions.amend``).
+
+Metals (Zn2+, Cu2+, Pb2+, Al3+, Fe3+ ...; ``metals.toml``) are solved with the acid-base
+system at every state: hydrolysis, and hydroxide or salt precipitation decided by
+saturation.  The doses count the hydroxide they take; the plan reports the sludge
+(``sludge``), the metal left dissolved (``dissolved_metals_mg_l``) and that hydroxide
+(``metal_hydroxide_mol``), and names cations with no data (``unmodelled_metals``).
 """
 
 from __future__ import annotations
 
 import dataclasses
-import math
 from dataclasses import dataclass
 from typing import ClassVar
 
 import numpy as np
 
-from carboy.errors import InvalidInput
+from carboy.errors import HazardRefused, InvalidInput
 from carboy.model import cautions as caution_rules
-from carboy.model import gas, thermo, water
-from carboy.model.activity import check_model, davies_d, debye_huckel_scale
+from carboy.model import gas, thermo
+from carboy.model.activity import davies_d, debye_huckel_scale
 from carboy.model.cautions import derived_hazards
 from carboy.model.dosing import Dosing, find_doses
 from carboy.model.equivalence import equivalence_amounts
 from carboy.model.heat_capacity import solute_mass_g
+from carboy.model.metal_doses import MetalDoses
 from carboy.model.mixture import Mixture
 from carboy.model.plan_activity import model_used, settle_activity
 from carboy.model.plan_heat import HeatAndGas, heat_and_gas
+from carboy.model.plan_metals import MetalReport, dissolved_totals_mol, metals_at_target
+from carboy.model.plan_request import PlanRequest, check_request, with_safe_temperature
 from carboy.model.plan_result import Dose, EquivalencePoint, Plan, Stage
 from carboy.model.precipitates import (
     Precipitate,
@@ -98,7 +116,8 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
                         window: tuple[float, float] = (6.0, 9.0), activity: str = "davies",
                         catalog=None, hazards: frozenset[str] = frozenset(),
                         curve_points: int = 400, safe_temperature_c: float | None = None,
-                        safe_from: str = "") -> Plan:
+                        safe_from: str = "",
+                        waste: caution_rules.Sample | None = None) -> Plan:
     """Plan the neutralization of ``sample`` with ``reagent``.
 
     Parameters
@@ -114,14 +133,19 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     safe_temperature_c : the temperature a batch is kept under (°C; default carboy's, 50);
         the disposal profile's when the plan is made under the storeroom's rules, with
         ``safe_from`` saying whose it is.
+    waste : what is known of the waste beyond its totals (its compounds, a container's
+        stream and material): the compatibility rules and the stream's drain verdict
+        look at it (:func:`carboy.model.cautions.amend`).
 
     Raises
     ------
-    InvalidInput for a bad target, window, volume or a reagent of the wrong direction.
+    InvalidInput for a bad target, window, volume, an unknown component (field
+    ``sample``) or a reagent of the wrong direction; HazardRefused for a cyanide or
+    sulfide waste the plan would acidify (:func:`carboy.model.cautions.refuse_plan`).
     """
-    req = _check_request(sample, reagent, target_pH, window, activity, catalog, hazards,
-                         curve_points)
-    req = _with_safe_temperature(req, safe_temperature_c, safe_from)
+    req = check_request(sample, reagent, target_pH, window, activity, catalog, hazards,
+                         curve_points, waste)
+    req = with_safe_temperature(req, safe_temperature_c, safe_from)
     start = _start(req)
     demand, reach = _reagent_reach(req, start, _proton_demand(req, start))
     req = settle_activity(req, demand.n_full)   # "auto": one model for the whole plan
@@ -132,11 +156,13 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     heat = _heat_and_gas(req, dosing, pts, curve_res, curve_vol)
     bound, precipitates = _at_target(req, pts)
     salts = _salt_limits(req, pts, heat)
-    warnings = heat.warnings + _warnings(req, dosing, pts, doses)
+    metals = _metals(req, pts, precipitates)
+    precipitates = metals.precipitates
+    warnings = heat.warnings + _warnings(req, dosing, pts, doses) + list(metals.warnings)
     facts = dataclasses.replace(_facts(req, start, dosing, pts, doses, heat, precipitates),
                                 **_limit_facts(heat, salts, reach, doses, start),
                                 activity_model=req.activity)
-    return Plan(
+    plan = Plan(
         sample=sample, reagent=reagent, direction=start.direction, activity=activity,
         initial_pH=start.initial_pH, proton_equivalents_mol=float(demand.proton_eq),
         breakdown=demand.breakdown, full=doses.full, to_target=doses.to_target,
@@ -151,90 +177,16 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
         equivalence_points=doses.equivalence, precipitates=precipitates,
         cautions=caution_rules.evaluate(facts), warnings=tuple(warnings),
         hazards=facts.hazards, drain_plan=not caution_rules.not_for_drain(facts),
-        assumptions=heat.assumptions, curve_speciation=curve_res, curve_volume_l=curve_vol,
-        batch_heat=heat.batch, salt_limits=salts, reagent_reach=reach,
+        assumptions=heat.assumptions + metals.assumptions, curve_speciation=curve_res,
+        curve_volume_l=curve_vol, batch_heat=heat.batch, salt_limits=salts,
+        reagent_reach=reach, sludge=metals.sludge, dissolved_metals_mg_l=metals.dissolved_mg_l,
+        metal_hydroxide_mol=metals.hydroxide_mol, unmodelled_metals=metals.unmodelled,
         activity_model=model_used(req.activity, curve_res),
     )
+    return _waste_cautions(req, plan)
 
 
 # ----------------------------------------------------------------------------- the steps
-
-@dataclass(frozen=True)
-class _Request:
-    """The checked arguments of a plan."""
-
-    sample: Mixture
-    reagent: Reagent
-    catalog: object
-    activity: str
-    target: float
-    window: tuple[float, float]
-    hazards: frozenset[str]
-    curve_points: int
-    safe_temperature_c: float | None = None
-    safe_from: str = ""
-
-    @property
-    def temperature_c(self) -> float:
-        return self.sample.temperature_c
-
-
-def _check_ph(what: str, value, field: str) -> float:
-    """``value`` as a pH from 0 to 14; InvalidInput naming ``what`` otherwise."""
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InvalidInput(what, value, "must be a number", field=field) from None
-    if not math.isfinite(v) or not 0.0 <= v <= 14.0:
-        raise InvalidInput(what, value, "must be a pH between 0 and 14", field=field)
-    return v
-
-
-def _check_request(sample: Mixture, reagent: Reagent, target_ph, window, activity: str,
-                   catalog, hazards, curve_points) -> _Request:
-    """Step 1: the arguments of :func:`plan_neutralization`, checked (InvalidInput
-    naming the bad one), with the built-in catalog where none is given."""
-    if catalog is None:
-        from carboy.model.catalog import default_catalog
-
-        catalog = default_catalog()
-    target = _check_ph("target pH", target_ph, "target")
-    try:
-        lo_w, hi_w = (float(window[0]), float(window[1]))
-    except (TypeError, ValueError, IndexError):
-        raise InvalidInput("window", window, "expected (low pH, high pH)",
-                           field="window") from None
-    lo_w = _check_ph("window low pH", lo_w, "window")
-    hi_w = _check_ph("window high pH", hi_w, "window")
-    if not lo_w < hi_w:
-        raise InvalidInput("window", window, "the low pH must be below the high pH",
-                           field="window")
-    check_model(activity)
-    if sample.volume_l is None:
-        raise InvalidInput("sample volume", None, "a plan needs the sample's volume",
-                           field="volume")
-    if not sample.totals:
-        raise InvalidInput("sample", dict(sample.totals), "holds nothing to neutralize",
-                           field="sample")
-    if int(curve_points) < 20:
-        raise InvalidInput("curve points", curve_points, "need at least 20")
-    water.check_temperature(sample.temperature_c)
-    return _Request(sample, reagent, catalog, activity, target, (lo_w, hi_w),
-                    frozenset(hazards), int(curve_points))
-
-
-def _with_safe_temperature(req: _Request, safe_c, safe_from: str) -> _Request:
-    """Step 1b: the safe temperature of the batch, checked (InvalidInput naming it)."""
-    if safe_c is None:
-        return req
-    try:
-        t = float(safe_c)
-    except (TypeError, ValueError):
-        raise InvalidInput("safe temperature", safe_c, "must be a number (°C)") from None
-    if not math.isfinite(t) or not 0.0 < t < 100.0:
-        raise InvalidInput("safe temperature", safe_c, "must lie between 0 and 100 °C")
-    return dataclasses.replace(req, safe_temperature_c=t, safe_from=safe_from)
-
 
 @dataclass(frozen=True)
 class _Start:
@@ -246,7 +198,7 @@ class _Start:
     capacity: int         # protons one formula unit of reagent moves that way
 
 
-def _start(req: _Request) -> _Start:
+def _start(req: PlanRequest) -> _Start:
     """Step 2: the sample's pH and direction; InvalidInput for a reagent that cannot
     move the pH towards the target (judged by its capacity and its own pH)."""
     reagent, target = req.reagent, req.target
@@ -254,6 +206,10 @@ def _start(req: _Request) -> _Start:
                                reagent.l_per_mol, activity=req.activity, catalog=req.catalog)
     initial_pH = float(model.forward([0.0]).pH[0])
     direction = "base" if initial_pH < target else "acid"
+    refused = caution_rules.refuse_plan(req.sample.totals, req.hazards, initial_pH, target,
+                                        direction)
+    if refused:
+        raise HazardRefused("a neutralization plan", refused)
     capacity = reagent.base_capacity if direction == "base" else reagent.acid_capacity
     own = gas.TitrationModel(Mixture.from_compounds(
         [(reagent.compound, reagent.conc_molar or 1.0)], volume_l=1.0,
@@ -279,7 +235,7 @@ class _Demand:
     n_full: float
 
 
-def _proton_demand(req: _Request, start: _Start) -> _Demand:
+def _proton_demand(req: PlanRequest, start: _Start) -> _Demand:
     """Step 3: the protons to remove (base) or add (acid), per component and in all,
     and the reagent (mol) that does it (see the module docstring)."""
     sample, catalog = req.sample, req.catalog
@@ -296,7 +252,7 @@ def _proton_demand(req: _Request, start: _Start) -> _Demand:
     return _Demand(breakdown, proton_eq, max(equivalents, 0.0) / start.capacity)
 
 
-def _reagent_reach(req: _Request, start: _Start, demand: _Demand
+def _reagent_reach(req: PlanRequest, start: _Start, demand: _Demand
                    ) -> tuple[_Demand, Reach | None]:
     """Step 3b: with a carbonate reagent, the full dose counts only the protons it can
     take (:mod:`~carboy.model.reagent_reach`); the others are named in the plan."""
@@ -310,7 +266,7 @@ def _reagent_reach(req: _Request, start: _Start, demand: _Demand
     return dataclasses.replace(demand, n_full=reach.n_full), reach
 
 
-def _bicarbonate_ceiling(req: _Request, reach: Reach | None, dosing: Dosing) -> Dosing:
+def _bicarbonate_ceiling(req: PlanRequest, reach: Reach | None, dosing: Dosing) -> Dosing:
     """Step 4b: a bicarbonate reagent cannot carry a batch above about pH 8.3 (the pH of
     a fresh bicarbonate solution, ``reagent_reach``): a dose to a higher pH, which only the
     slow loss of CO2 to the air would reach, is not offered (it reads as unreachable)."""
@@ -323,11 +279,18 @@ def _bicarbonate_ceiling(req: _Request, reach: Reach | None, dosing: Dosing) -> 
 
 
 def _charge_parts(sample: Mixture, catalog, which: str) -> dict:
-    """Per-key contribution to Σ z n (ions) or n·top/bottom charge (systems), mol."""
+    """Per-key contribution to Σ z n (ions) or n·top/bottom charge (systems), mol.
+
+    Towards base a modelled metal cation counts as its hydroxide (z OH- per ion, the
+    neutral form that settles): it takes no part, where a spectator cation counts as
+    base already present."""
     out = {}
     v = sample.volume_l
+    metals = MetalDoses.of(tuple(sample.totals), catalog) if which == "bottom" else None
     for key, c in sample.totals.items():
         n = c * v
+        if metals is not None and key in metals.keys:
+            continue
         if key in catalog.ions:
             out[key] = catalog.ions[key].charge * n
         else:
@@ -346,7 +309,7 @@ def _component_name(key: str, catalog) -> str:
     return catalog.ions[key].name if key in catalog.ions else key
 
 
-def _find_doses(req: _Request, start: _Start, demand: _Demand) -> Dosing:
+def _find_doses(req: PlanRequest, start: _Start, demand: _Demand) -> Dosing:
     """Step 4: the doses (mol) to the target and to the window's low and high edges, the
     curve's amounts, and the batch each amount leaves (see :mod:`carboy.model.dosing`)."""
     reagent = req.reagent
@@ -356,7 +319,7 @@ def _find_doses(req: _Request, start: _Start, demand: _Demand) -> Dosing:
                       points=req.curve_points)
 
 
-def _solve_curve(req: _Request, dosing: Dosing) -> tuple[BatchSpeciation, np.ndarray]:
+def _solve_curve(req: PlanRequest, dosing: Dosing) -> tuple[BatchSpeciation, np.ndarray]:
     """Step 5: the vented batch at every amount of the curve grid, solved at once, and
     its volumes (L)."""
     return dosing.solve(dosing.grid)
@@ -392,7 +355,7 @@ class _Points:
         return self.first_equivalence + len(self.equivalence)
 
 
-def _solve_points(req: _Request, start: _Start, dosing: Dosing, n_full: float,
+def _solve_points(req: PlanRequest, start: _Start, dosing: Dosing, n_full: float,
                   curve: BatchSpeciation) -> _Points:
     """Step 6: the states at the full dose, the doses, the stages (planning.toml
     ``[stages]``), ±1 % of the target dose and the labelled equivalence points; each
@@ -440,7 +403,7 @@ def _dose(reagent: Reagent, pts: _Points, i_pt: int, n, target=None) -> Dose:
                 float(pts.volume_l[i_pt]), target)
 
 
-def _dose_results(req: _Request, dosing: Dosing, pts: _Points, n_full: float) -> _Doses:
+def _dose_results(req: PlanRequest, dosing: Dosing, pts: _Points, n_full: float) -> _Doses:
     """Step 7: doses, staged additions, the pH change per 1 % of the target dose and
     the equivalence points, read from the point solve."""
     reagent, doses, ph = req.reagent, dosing.doses, pts.res.pH
@@ -467,7 +430,7 @@ def _dose_results(req: _Request, dosing: Dosing, pts: _Points, n_full: float) ->
         stages=tuple(stages), sensitivity=sensitivity, equivalence=equivalence)
 
 
-def _heat_and_gas(req: _Request, dosing: Dosing, pts: _Points, curve_res: BatchSpeciation,
+def _heat_and_gas(req: PlanRequest, dosing: Dosing, pts: _Points, curve_res: BatchSpeciation,
                   curve_vol: np.ndarray) -> HeatAndGas:
     """Step 8: heat released (positive: the batch warms), the batch's rise with its own
     heat capacity, boiling and the stages that keep it under the safe temperature, and
@@ -481,7 +444,7 @@ def _heat_and_gas(req: _Request, dosing: Dosing, pts: _Points, curve_res: BatchS
                         req.safe_temperature_c, req.safe_from)
 
 
-def _at_target(req: _Request, pts: _Points) -> tuple[dict, tuple[Precipitate, ...]]:
+def _at_target(req: PlanRequest, pts: _Points) -> tuple[dict, tuple[Precipitate, ...]]:
     """Step 9: at the target state, the protons each sample system still holds and the
     saturation of every tabulated solid."""
     res, i_tp = pts.res, pts.TARGET
@@ -495,25 +458,36 @@ def _at_target(req: _Request, pts: _Points) -> tuple[dict, tuple[Precipitate, ..
     return bound, found
 
 
-def _salt_limits(req: _Request, pts: _Points, heat: HeatAndGas) -> tuple[SaltLimit, ...]:
+def _salt_limits(req: PlanRequest, pts: _Points, heat: HeatAndGas) -> tuple[SaltLimit, ...]:
     """Step 9b: the soluble salts at the target against their solubility at the batch's
-    temperature (:func:`~carboy.model.precipitates.salt_limits`); the batch's water is its
-    mass less its solutes."""
+    temperature (:func:`~carboy.model.precipitates.salt_limits`), counting what stays
+    dissolved (a metal or ligand the solver has settled as a solid is not counted twice;
+    a salt the solver itself settles, gypsum, is in the sludge instead); the batch's
+    water is its mass less its solutes."""
     res, i_tp = pts.res, pts.TARGET
     volume = float(pts.volume_l[i_tp])
-    batch = res.batch
-    if batch is None:
+    if res.batch is None:
         return ()
-    totals = {k: float(c) * volume for k, c in zip(batch.keys, batch.totals[i_tp])}
+    totals = dissolved_totals_mol(res, i_tp, volume)
     species = dict(zip(res.species_labels, res.species_molar[i_tp].tolist()))
     charges = dict(zip(res.species_labels, res.species_charges))
     water_g = heat.batch.mass_g - solute_mass_g(species, charges, volume)
-    return salt_limits(totals, max(water_g, 0.1 * heat.batch.mass_g) / 1000.0,
-                       req.temperature_c)
+    found = salt_limits(totals, max(water_g, 0.1 * heat.batch.mass_g) / 1000.0,
+                        req.temperature_c)
+    return tuple(s for s in found if s.solid not in res.solid_names)
 
 
-def _warnings(req: _Request, dosing: Dosing, pts: _Points, doses: _Doses) -> list[str]:
-    """Step 10: the solver's warnings at the target state, doses that cannot be reached,
+def _metals(req: PlanRequest, pts: _Points, found: tuple[Precipitate, ...]) -> MetalReport:
+    """Step 10: at the target state, the sludge, the metal left dissolved and the
+    hydroxide the metals hold; the solids present join the saturation list; cations
+    with no metal data are named (see :mod:`carboy.model.plan_metals`)."""
+    i_tp = pts.TARGET
+    return metals_at_target(pts.res, i_tp, float(pts.volume_l[i_tp]), req.sample.totals,
+                            req.catalog, found)
+
+
+def _warnings(req: PlanRequest, dosing: Dosing, pts: _Points, doses: _Doses) -> list[str]:
+    """Step 11: the solver's warnings at the target state, doses that cannot be reached,
     and a dose to target whose re-solved pH misses the target."""
     key, target = req.reagent.key, req.target
     warnings = list(dict.fromkeys(pts.res.warnings[pts.TARGET]))
@@ -538,9 +512,9 @@ def _limit_facts(heat: HeatAndGas, salts: tuple[SaltLimit, ...], reach: Reach | 
             "reagent_reach": reach, "window_reached": edge.reachable}
 
 
-def _facts(req: _Request, start: _Start, dosing: Dosing, pts: _Points, doses: _Doses,
+def _facts(req: PlanRequest, start: _Start, dosing: Dosing, pts: _Points, doses: _Doses,
            heat: HeatAndGas, precipitates: tuple[Precipitate, ...]) -> caution_rules.Facts:
-    """Step 11: what the caution rules look at, from the request and every step."""
+    """Step 12: what the caution rules look at, from the request and every step."""
     reagent = req.reagent
     slurry_limit, slurry_exceeded = "", False
     if reagent.is_slurry:
@@ -562,3 +536,10 @@ def _facts(req: _Request, start: _Start, dosing: Dosing, pts: _Points, doses: _D
         expected_solids=tuple(p.solid for p in precipitates if p.expected),
         target_reached=dosing.target_reached,
         thresholds=dict(thermo.planning_constants()["thresholds"]))
+
+
+def _waste_cautions(req: PlanRequest, plan: Plan) -> Plan:
+    """Step 13: the plan with the waste's own cautions and the drain verdict settled by
+    them (:func:`carboy.model.cautions.amend`: gas escaping now, ammonia driven off,
+    the compatibility rules its compounds break, a container's stream)."""
+    return caution_rules.amend(plan, req.waste, catalog=req.catalog)

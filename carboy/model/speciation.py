@@ -15,6 +15,11 @@ is bracketed from the totals alone (``solver.charge_balance.bracket``) and found
 Newton steps that fall back to bisection whenever a step leaves the bracket: the
 root cannot be missed.  No textbook approximation is made.
 
+Modelled metal ions (``metals.toml``: Zn2+, Cu2+, Al3+, Fe3+, Ca2+ ...) are not
+spectators: their hydrolysis, and their hydroxides and calcium salts present or absent
+by saturation, join the charge balance at every trial x (``solver.metal_terms``); f
+stays increasing, with kinks where a solid appears, which the guaranteed path settles.
+
 Activity follows the Davies equation, log10 gamma = -A z² (sqrt(I)/(1+sqrt(I)) - 0.3 I),
 with A from the temperature (``water.debye_huckel_a``) and the ionic strength I
 iterated to self-consistency; pH is -log10 a(H+).  ``activity="ideal"`` sets every
@@ -66,7 +71,7 @@ from carboy.model.activity import (
 )
 from carboy.model.activity import davies_d as _davies_d  # noqa: F401 (tests use the old name)
 from carboy.model.mixture import Mixture, MixtureBatch
-from carboy.model.solver.bracketed import solve_nested
+from carboy.model.solver.bracketed import solve_nested, solve_with_metals
 from carboy.model.solver.charge_balance import fractions_at, padded_fractions, species_at
 from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
     COUPLED_ITER,
@@ -90,10 +95,14 @@ from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
     pka_at,
 )
 from carboy.model.solver.layout import compile_layout as _layout  # noqa: F401 (tests)
+from carboy.model.solver.metal_terms import columns as metal_columns
 from carboy.model.solver.problem import Problem, build_problem
 from carboy.model.solver.single import solve_one
 from carboy.model.solver.starts import start_between
 from carboy.model.speciation_models import ModelPart, ModelPoint, needs_route, ph_scale_of, route
+
+METAL_T_SPAN_C = 5.0
+"""Beyond this distance from 25 °C a result with metals says their constants are for 25 °C."""
 
 __all__ = [
     "ACTIVITY_MODELS", "COUPLED_ITER", "COUPLED_NEAR", "DAVIES_LIMIT_MOLAR",
@@ -130,9 +139,13 @@ class Speciation:
     iterations: int
     charge_residual_molar: float
     mixture: Mixture | None = None
-    model_part: ModelPoint | None = None
-    """The model used (``activity="auto"``), molal ionic strength, water (see
-    ``speciation_models``); None on the plain Davies and ideal paths."""
+    solids: Mapping[str, float] = field(default_factory=dict)
+    """Every solid the metals present may form -> mol of formula units per L (0: absent)."""
+    saturation_indices: Mapping[str, float] = field(default_factory=dict)
+    """The same solids -> log10(IAP / K)."""
+    dissolved_metals: Mapping[str, float] = field(default_factory=dict)
+    """Each modelled metal ion -> its dissolved total (free ion and complexes), mol/L."""
+    model_part: ModelPoint | None = None   # the model used, mol/kg (speciation_models)
 
     @property
     def ph_scale(self) -> str:
@@ -142,8 +155,8 @@ class Speciation:
     @property
     def molality(self) -> Mapping[str, float]:
         """Species in mol/kg of water (empty where the result has no model part)."""
-        w = self.model_part.water_kg_per_l if self.model_part else None
-        return {} if w is None else {k: v / w for k, v in self.species.items()}
+        w = self.model_part.water_kg_per_l if self.model_part else 0.0
+        return {k: v / w for k, v in self.species.items()} if w else {}
 
     def mean_protons_bound(self, system: str) -> float:
         """Average number of dissociable protons still bound per unit of ``system``."""
@@ -180,6 +193,18 @@ class BatchSpeciation:
     activity: str
     warnings: tuple[tuple[str, ...], ...]
     batch: MixtureBatch = field(repr=False, default=None)
+    metal_keys: tuple[str, ...] = ()
+    """The modelled metal ions (their species are among ``species_labels``)."""
+    dissolved_metal_molar: np.ndarray | None = None
+    """(N, len(metal_keys)) dissolved total of each metal (free ion and complexes)."""
+    metal_oh_molar: np.ndarray | None = None
+    """(N,) hydroxide the metals hold (complexes, hydroxides, basic salts), mol/L."""
+    solid_names: tuple[str, ...] = ()
+    """Every solid the metals present may form (hydroxides, oxides, salts)."""
+    solids_molar: np.ndarray | None = None
+    """(N, len(solid_names)) precipitated, mol of formula units per L (0: absent)."""
+    saturation_indices: np.ndarray | None = None
+    """(N, len(solid_names)) log10(IAP / K): 0 where present, < 0 where absent."""
     model_part: ModelPart | None = None
 
     def __len__(self) -> int:
@@ -187,8 +212,14 @@ class BatchSpeciation:
 
     def rows(self, idx) -> BatchSpeciation:
         """The points ``idx`` (a slice, indices or a mask) as a batch of their own."""
+        def cut(a):
+            return None if a is None else a[idx]
+
         return dataclasses.replace(
             self, pH=self.pH[idx], log_h=self.log_h[idx],
+            dissolved_metal_molar=cut(self.dissolved_metal_molar),
+            metal_oh_molar=cut(self.metal_oh_molar), solids_molar=cut(self.solids_molar),
+            saturation_indices=cut(self.saturation_indices),
             ionic_strength_molar=self.ionic_strength_molar[idx],
             charge_residual_molar=self.charge_residual_molar[idx],
             converged=self.converged[idx], species_molar=self.species_molar[idx],
@@ -228,9 +259,20 @@ class BatchSpeciation:
             iterations=self.iterations,
             charge_residual_molar=float(self.charge_residual_molar[n]),
             mixture=self.batch.mixture(n) if self.batch is not None else None,
+            **self._metals_of(n),
             model_part=None if self.model_part is None else self.model_part.point(n),
         )
 
+    def _metals_of(self, n: int) -> dict:
+        """Point ``n``'s solids and dissolved metals as :class:`Speciation` holds them."""
+        if not self.metal_keys:
+            return {}
+        return {"solids": MappingProxyType(dict(zip(self.solid_names,
+                                                    self.solids_molar[n].tolist()))),
+                "saturation_indices": MappingProxyType(dict(zip(
+                    self.solid_names, self.saturation_indices[n].tolist()))),
+                "dissolved_metals": MappingProxyType(dict(zip(
+                    self.metal_keys, self.dissolved_metal_molar[n].tolist())))}
 
 
 @dataclass(frozen=True)
@@ -284,7 +326,7 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
         return Speciation(**{**res.__dict__, "mixture": mixture})
     pkw = water.pkw(t_c)
     a_dh = debye_huckel_scale(activity, t_c)
-    fast = None if lay.needs_shift else solve_one(lay, row, pkw, a_dh, max_iter=COUPLED_ITER)
+    fast = None if not lay.python_path else solve_one(lay, row, pkw, a_dh, max_iter=COUPLED_ITER)
     if fast is None:
         batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
         res = _solve(batch, lay, activity, t_c).point(0)
@@ -391,10 +433,13 @@ def _solve_points(pr: Problem, start=None):
     several through the vectorized one, warm-started along the batch (or from
     ``start``, a pair of arrays (log10[H+], I)); points the fast paths leave unsettled
     go to the guaranteed path.  The fast paths get ``COUPLED_ITER`` from this module.
+    With metals, see :func:`~carboy.model.solver.bracketed.solve_with_metals`.
     """
     n = pr.ispec.shape[0]
+    if pr.lay.metals is not None:   # kinks where solids appear: see solve_with_metals
+        return solve_with_metals(pr, start, max_iter=COUPLED_ITER)
     fast = None
-    if n == 1 and start is None and not pr.lay.needs_shift:  # the plain-Python path
+    if n == 1 and start is None and pr.lay.python_path:  # the plain-Python path
         fast = solve_one(pr.lay, pr.totals[0].tolist(), pr.pkw, pr.a_dh, pr.held_of(0),
                          max_iter=COUPLED_ITER)
     if fast is not None:
@@ -432,6 +477,7 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
     first = 2 + len(lay.ion_labels)
     table[0], table[1] = h, oh
     table[2:first] = batch.totals[:, lay.ion_cols].T
+    metal_states = []
     for a in range(0, n, lay.chunk):
         b = min(n, a + lay.chunk)
         st = species_at(x[a:b], ad[a:b] if pr.a_dh != 0.0 else None, log_kw[a:b], lay,
@@ -440,13 +486,23 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
         fractions[lay.flat_index, a:b] = st["alpha"]
         c_sys[:, a:b] = st["ceff"]
         sums[:, a:b] = st["sums"]
+        metal_states.append(st["metal"])
     residual = (pr.zs_pos + sums[0]) - (pr.zs_neg + sums[1])
     # with activity, report the ionic strength the coefficients were computed with
     ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * sums[2]
-    species_labels, species = _merge_labels(labels, table.T)
+    metal_part = {}
+    table = table.T
+    if lay.metals is not None and n:
+        cols = metal_columns(lay.metals, metal_states)
+        labels, table = labels + lay.metals.labels, np.hstack([table, cols.species])
+        metal_part = {"metal_keys": lay.metals.keys, "dissolved_metal_molar": cols.dissolved,
+                      "metal_oh_molar": cols.oh_bound, "solid_names": lay.metals.solids,
+                      "solids_molar": cols.solids, "saturation_indices": cols.saturation}
+    species_labels, species = _merge_labels(labels, table)
     hot = t_c > ENTHALPY_DATA_MAX_C
     code = (ionic_out > DAVIES_LIMIT_MOLAR).astype(int) + 2 * (~converged).astype(int)
-    texts = [_warning_texts(bool(c & 1), bool(c & 2), hot, activity) for c in range(4)]
+    warm = lay.metals is not None and abs(t_c - 25.0) > METAL_T_SPAN_C
+    texts = [_warning_texts(bool(c & 1), bool(c & 2), hot, activity, warm) for c in range(4)]
     if n and code.min() == code.max():   # the usual case: one text for every point
         warnings = (texts[int(code[0])],) * n
     else:
@@ -460,7 +516,7 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
         fractions=fractions.T.reshape(n, k, m),
         log_gamma_by_charge=log_gamma_by_charge(ad, lay.zmax), pkw=pr.pkw,
         temperature_c=t_c, activity=activity, warnings=warnings,
-        system_totals_molar=c_sys.T, batch=batch,
+        system_totals_molar=c_sys.T, batch=batch, **metal_part,
     )
 
 
@@ -484,8 +540,12 @@ def _merge_labels(labels: tuple[str, ...], table: np.ndarray):
 
 
 @lru_cache(maxsize=64)
-def _warning_texts(high_i: bool, bad: bool, hot: bool, activity: str) -> tuple[str, ...]:
+def _warning_texts(high_i: bool, bad: bool, hot: bool, activity: str,
+                   metals_off: bool = False) -> tuple[str, ...]:
     out = []
+    if metals_off:
+        out.append("the metals' hydrolysis and solubility constants are for 25 °C: at this "
+                   "temperature their share of the pH and the solids is approximate")
     if high_i:
         out.append(outside_range_warning(activity))
     if hot:

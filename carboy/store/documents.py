@@ -16,7 +16,6 @@ The storeroom's name comes from the caller, else from the storeroom rule
 
 from __future__ import annotations
 
-import json
 from collections import Counter
 from collections.abc import Iterable
 from datetime import date
@@ -26,27 +25,23 @@ from carboy.model import labels, solutions
 from carboy.model.documents import Column, Document, formula_text, table_document
 from carboy.model.label_documents import BottleFacts
 from carboy.model.label_documents import bottle_label as label_document
-from carboy.store import journal, stock
+from carboy.store import journal, rules, stock
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store
 
 __all__ = ["STOREROOM_NAME_RULE", "bottle_label", "bottle_labels", "due_list", "due_list_of",
            "storeroom_name"]
 
-STOREROOM_NAME_RULE = "storeroom.name"
-"""The ``storeroom_rules`` row that names the storeroom on paper, if a storeroom sets one."""
+STOREROOM_NAME_RULE = rules.STOREROOM_NAME
+"""The ``storeroom_rules`` row that names the storeroom on paper (set with
+:func:`carboy.store.rules.set_storeroom_name`)."""
 
 
 def storeroom_name(store: Store, given: str | None = None) -> str:
     """``given`` if not empty, else the storeroom's own name from its rules, else ``""``."""
     if given and given.strip():
         return " ".join(given.split())
-    raw = store.scalar("SELECT value_json FROM storeroom_rules WHERE name = ?",
-                       [STOREROOM_NAME_RULE])
-    if raw is None:
-        return ""
-    value = json.loads(raw)
-    return " ".join(value.split()) if isinstance(value, str) else ""
+    return rules.load(store).storeroom_name
 
 
 def _preparation_of(store: Store, bottle_id: int) -> journal.Entry | None:

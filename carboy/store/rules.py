@@ -11,6 +11,7 @@ Rule names:
 ``recheck_days.<compound key>``        days between standardizations of a molar solution
 ``standardization.max_rsd_percent``    largest accepted RSD of the replicates, %
 ``standardization.min_replicates``     fewest replicates for an accepted result
+``storeroom.name``                     the storeroom's name, printed on labels and records
 """
 
 from __future__ import annotations
@@ -24,6 +25,8 @@ from types import MappingProxyType
 
 from carboy.errors import InvalidInput
 from carboy.model import upkeep
+from carboy.model.label_documents import STOREROOM_NAME_MOST
+from carboy.model.text import read_label
 from carboy.store import journal
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store, current_user, stamp
@@ -32,6 +35,7 @@ from carboy.store.readers import parse_whole
 RECHECK_PREFIX = "recheck_days."
 MAX_RSD = "standardization.max_rsd_percent"
 MIN_REPLICATES = "standardization.min_replicates"
+STOREROOM_NAME = "storeroom.name"
 MAX_RSD_RANGE = (0.01, 5.0)
 """Accepted range for a storeroom's RSD limit, % (0.2 % is the default; 5 % is no check)."""
 MIN_REPLICATES_RANGE = (2, 20)
@@ -47,6 +51,8 @@ class Rules:
     max_rsd_percent: float | None = None
     """The storeroom's RSD limit, or None for the model's default."""
     min_replicates: int | None = None
+    storeroom_name: str = ""
+    """The storeroom's name as set with :func:`set_storeroom_name` (empty when unset)."""
     changed: Mapping[str, tuple[str, str]] = field(default_factory=dict)
     """Rule name -> (set_at, set_by) for the storeroom's own rules."""
 
@@ -78,6 +84,7 @@ class Rules:
             "acceptance_origin": "storeroom" if (self.max_rsd_percent is not None
                                                  or self.min_replicates is not None)
             else "default",
+            "storeroom_name": self.storeroom_name,
         }
 
 
@@ -87,6 +94,7 @@ def load(store: Store) -> Rules:
     days = {key: iv.days for key, iv in upkeep.recheck_defaults().items()}
     origin = dict.fromkeys(days, "default")
     max_rsd = min_rep = None
+    name_set = ""
     changed = {}
     for row in rows:
         name, value = row["name"], json.loads(row["value_json"])
@@ -103,8 +111,10 @@ def load(store: Store) -> Rules:
             max_rsd = float(value)
         elif name == MIN_REPLICATES:
             min_rep = int(value)
+        elif name == STOREROOM_NAME and isinstance(value, str):
+            name_set = " ".join(value.split())
     return Rules(MappingProxyType(days), MappingProxyType(origin), max_rsd, min_rep,
-                 MappingProxyType(changed))
+                 name_set, MappingProxyType(changed))
 
 
 def _put(s: Store, name: str, value, *, who: str | None, when: datetime | None) -> None:
@@ -213,5 +223,29 @@ def reset_acceptance(store: Store, *, who: str | None = None,
         return journal.append_in(s, "note", who=who, when=when,
                                  summary="rule: standardization acceptance back to the default",
                                  snapshot={"rules": "default"})
+
+    return store.write(work)
+
+
+def set_storeroom_name(store: Store, name: str, *, who: str | None = None,
+                       when: datetime | None = None) -> int:
+    """Name the storeroom (printed on bottle labels, disposal records and reports); an
+    empty name removes it.  Read like every label (NFKC, no control or invisible
+    characters, at most :data:`~carboy.model.label_documents.STOREROOM_NAME_MOST` characters).  Journaled; returns the
+    entry id."""
+    text = read_label(name, "storeroom name", field="storeroom_name", most=STOREROOM_NAME_MOST)
+    before = load(store).storeroom_name
+
+    def work(s: Store) -> int:
+        if text:
+            _put(s, STOREROOM_NAME, text, who=who, when=when)
+            summary = f"rule: storeroom name {text!r} (was {before!r})" if before else \
+                f"rule: storeroom name {text!r}"
+        else:
+            s.execute("DELETE FROM storeroom_rules WHERE name = ?", [STOREROOM_NAME])
+            summary = f"rule: storeroom name removed (was {before!r})"
+        return journal.append_in(s, "note", who=who, when=when, summary=summary,
+                                 snapshot={"rule": STOREROOM_NAME, "before": before,
+                                           "after": text})
 
     return store.write(work)

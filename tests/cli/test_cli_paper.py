@@ -141,3 +141,36 @@ def test_waste_record(capsys, demo_db, tmp_path):
     assert "HF-04" in text and "licensed-disposal" in text and "Signature" in text
     assert f"Page 1 of {len(got)}" in text
     assert _state(demo_db) == before
+
+
+def test_the_storeroom_name_set_once_is_on_every_label(capsys, demo_db, tmp_path):
+    code, out, err = run(capsys, "rules", "--storeroom-name", "  Stores  Room 4, East Annex ",
+                         "--db", demo_db)
+    assert code == 0, err
+    assert "storeroom name on paper: Stores Room 4, East Annex" in out
+    store = open_database(demo_db)
+    try:
+        last = journal.entries(store, kind="note")[0]
+    finally:
+        store.close()
+    assert "storeroom name 'Stores Room 4, East Annex'" in last.summary
+    pdf = tmp_path / "label.pdf"
+    code, _, err = run(capsys, "stock", "label", "1", "--pdf", pdf, "--db", demo_db)
+    assert code == 0, err
+    assert "Stores Room 4, East Annex" in pages(pdf)[0][2]
+    # given on the command line, the name printed is that one for this print only
+    code, _, err = run(capsys, "stock", "label", "1", "--pdf", pdf, "--db", demo_db,
+                       "--storeroom", "Cold room")
+    assert code == 0, err
+    assert "Cold room" in pages(pdf)[0][2] and "East Annex" not in pages(pdf)[0][2]
+    # removed with an empty name
+    code, out, _ = run(capsys, "rules", "--storeroom-name", "", "--json", "--db", demo_db)
+    assert code == 0 and json.loads(out)["storeroom_name"] == ""
+
+
+@pytest.mark.parametrize("bad", ["Room\u202e4", "x" * 81, "tab\there"])
+def test_a_bad_storeroom_name_is_refused_and_nothing_changes(capsys, demo_db, bad):
+    before = _state(demo_db)
+    code, _, err = run(capsys, "rules", "--storeroom-name", bad, "--db", demo_db)
+    assert code == 2 and "storeroom name" in err
+    assert _state(demo_db) == before

@@ -25,6 +25,7 @@ import math
 
 import numpy as np
 import pytest
+from phreeqc_waste import dose_to_ph
 from scipy.optimize import brentq
 
 from carboy.model import metals as M
@@ -176,15 +177,7 @@ def carboy_dose(metals: dict, cl: float, target: float) -> float:
 
 
 def phreeqc_dose(pp, solution: dict, phase: str, target: float) -> float:
-    def ph_after(dose):
-        sol = pp.add_solution({"units": "mmol/kgw", "pH": "7 charge", **solution})
-        sol.add("NaOH", dose * 1000.0, "mmol")
-        sol.desaturate(phase)
-        ph = sol.pH
-        sol.forget()
-        return ph
-
-    return brentq(lambda d: ph_after(d) - target, 0.0, 1.0, xtol=1e-9)
+    return dose_to_ph(pp, solution, phase, target)
 
 
 DOSES = [

@@ -48,6 +48,8 @@ async def test_a_rule_changes_through_its_dialog_and_the_log_lists_treatments(
         assert "placeholder" in str(screen.query_one("#rules-source", Static).content)
         await pilot.press("e")
         await wait_for(pilot, lambda: isinstance(app.screen, RuleDialog))
+        heading = str(app.screen.query_one(".dialog-title", Static).content)
+        assert heading == "Change: largest batch of waste treated at once"
         app.screen.query_one("#rule-value", Input).value = "500 mL"
         await pilot.press("ctrl+s")
         await wait_for(pilot, lambda: app.screen is screen and screen.profile is not None
@@ -89,3 +91,42 @@ async def test_the_journal_corrects_the_highlighted_entry(make, demo_db, wait_fo
         (later,) = journal.corrections_of(s, entry_id)
         assert later.snapshot["readings"]["final_ph"] == 6.6
         waste.set_status(s, "T-01", "disposed")  # the corrected reading allows it
+
+
+async def test_the_storeroom_name_is_set_and_removed_from_the_rules_screen(
+        make, demo_db, wait_for):
+    from carboy.store import rules
+    from carboy.tui.app.screens.rule_edit import StoreroomNameDialog
+
+    app = make()
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f9")
+        await wait_for(pilot, lambda: isinstance(app.screen, RulesScreen)
+                       and app.screen.loads > 0)
+        screen = app.screen
+        table = screen.query_one("#rules-table", DataTable)
+        table.move_cursor(row=0)
+        await pilot.pause()
+        assert table.ordered_rows[0].key.value == "storeroom.name"
+        assert screen.check_action("reset", ()) is False   # nothing set yet
+        await pilot.press("e")
+        await wait_for(pilot, lambda: isinstance(app.screen, StoreroomNameDialog))
+        dialog = app.screen
+        heading = str(dialog.query_one(".dialog-title", Static).content)
+        assert heading == "Change: the storeroom's name on paper"
+        dialog.query_one("#rule-value", Input).value = "Room\u202e4"
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert "RIGHT-TO-LEFT" in str(dialog.query_one("#rule-error", Static).content)
+        dialog.query_one("#rule-value", Input).value = " Stores  Room 4 "
+        await pilot.press("ctrl+s")
+        await wait_for(pilot, lambda: app.screen is screen and screen.storeroom == "Stores Room 4")
+        assert screen.check_action("reset", ()) is True
+        await pilot.press("r")
+        await wait_for(pilot, lambda: isinstance(app.screen, ConfirmScreen))
+        app.screen.query_one("#confirm-yes").press()
+        await wait_for(pilot, lambda: app.screen is screen and screen.storeroom == "")
+    with open_database(demo_db) as s:
+        assert rules.load(s).storeroom_name == ""
+        summaries = [e.summary for e in journal.entries(s, limit=2)]
+    assert "storeroom name removed" in summaries[0] and "'Stores Room 4'" in summaries[1]

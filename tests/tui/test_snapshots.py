@@ -23,7 +23,16 @@ async def settle(pilot, mode_key: str | None, ready) -> None:
     for box in app.screen.query(Input):
         box.cursor_blink = False
     await pilot.wait_for_scheduled_animations()
-    await pilot.pause(0.2)  # the footer and focus settle after the data arrives
+    # The footer and focus settle after the data arrives, later on a loaded machine: wait
+    # until two pictures a moment apart are the same rather than for a fixed time.
+    picture = None
+    while True:
+        await pilot.pause(0.1)
+        now = app.export_screenshot()
+        if now == picture:
+            return
+        assert time.monotonic() < deadline + 5, "screen did not stop changing"
+        picture = now
 
 
 SIZES = [pytest.param((80, 24), id="80x24"), pytest.param((120, 40), id="120x40")]

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import math
-import time
 from dataclasses import replace
 from itertools import pairwise
 
@@ -16,7 +14,6 @@ from carboy.model.catalog import (
     Catalog,
     default_catalog,
     density_at,
-    load_builtin,
     make_user_compound,
     molarity_at,
     normalize_name,
@@ -408,15 +405,6 @@ def test_search(cat):
 
 def test_default_catalog_is_cached():
     assert default_catalog() is default_catalog()
-
-
-def test_loading_is_fast():
-    best = math.inf
-    for _ in range(3):
-        start = time.perf_counter()
-        load_builtin()
-        best = min(best, time.perf_counter() - start)
-    assert best < 0.050
 
 
 def test_mappings_are_read_only(cat):

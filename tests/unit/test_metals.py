@@ -100,11 +100,12 @@ def test_sludge_has_the_dry_mass_of_the_solid():
     assert zn.mol_per_l == pytest.approx(0.05, rel=1e-4)
 
 
-def _fluoride(total, x):
+def _fluoride(total, x, ad=0.0):
+    """HF/F- fractions at x = log10[H+] and A·D: K' = K 10**(2 ad) for HF = H+ + F-."""
     from carboy.model.catalog import default_catalog
 
     pka = default_catalog().systems["fluoride"].pka25[0]
-    a_f = 1.0 / (1.0 + 10.0 ** (x + pka))
+    a_f = 1.0 / (1.0 + 10.0 ** (x + pka - 2.0 * ad))
     alpha = np.stack([1 - a_f, a_f], axis=1)
     return M.LigandAtX(np.full(x.shape, total), alpha, (0, -1))
 
@@ -127,16 +128,35 @@ def test_calcium_fluoride_keeps_the_balance_monotone_and_the_masses():
 
 
 def test_salt_derivatives_follow_the_charges():
-    x = np.linspace(-10.0, -2.0, 41)
-    lig = {"fluoride": _fluoride(0.02, x)}
-    st = M.metal_state({"Ca+2": 0.01}, x, ligands=lig)
-    h = 1e-5
+    # with the ligand's fractions moving with x as the ladder's do, the closed-form
+    # derivatives are those of the charges (central differences, fractions recomputed)
+    x = np.linspace(-10.0, -2.0, 41) + 0.0013
+    st = M.metal_state({"Ca+2": 0.01}, x, ligands={"fluoride": _fluoride(0.02, x)})
+    h = 1e-6
     up = M.metal_state({"Ca+2": 0.01}, x + h, ligands={"fluoride": _fluoride(0.02, x + h)})
     dn = M.metal_state({"Ca+2": 0.01}, x - h, ligands={"fluoride": _fluoride(0.02, x - h)})
-    # the alpha of the ligand is held in the function's own difference; compare in sign
-    assert np.all(np.isfinite(st.dpos)) and np.all(st.dpos >= -1e-9)
-    assert np.all(st.dneg <= 1e-9)
-    assert np.all((up.pos + up.ligand_pos) - (dn.pos + dn.ligand_pos) >= -1e-12)
+    for d, part in ((st.dpos, lambda s: s.pos + s.ligand_pos),
+                    (st.dneg, lambda s: s.neg + s.ligand_neg),
+                    (st.diz2, lambda s: s.iz2 + s.ligand_iz2)):
+        assert np.allclose(d, (part(up) - part(dn)) / (2 * h), rtol=1e-5, atol=1e-9)
+    # the whole balance (fluoride's own charge with the correction) still rises with x
+    net = _net(st) - 0.02 * _fluoride(0.02, x).alpha[:, 1]
+    assert np.all(np.diff(net) > 0)
+
+
+def test_derivatives_by_activity_are_those_of_the_charges():
+    x = np.linspace(-12.0, -2.0, 37) + 0.0017
+    ad, h = 0.09, 1e-6
+
+    def at(a):
+        return M.metal_state({"Zn+2": 0.01, "Ca+2": 0.01}, x, ad=a,
+                             ligands={"fluoride": _fluoride(0.02, x, a)})
+
+    st, up, dn = at(ad), at(ad + h), at(ad - h)
+    for d, part in ((st.apos, lambda s: s.pos + s.ligand_pos),
+                    (st.aneg, lambda s: s.neg + s.ligand_neg),
+                    (st.aiz2, lambda s: s.iz2 + s.ligand_iz2)):
+        assert np.allclose(d, (part(up) - part(dn)) / (2 * h), rtol=1e-5, atol=1e-9)
 
 
 def test_non_dose_solid_is_reported_by_its_saturation_index_only():

@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from carboy.errors import InvalidInput
+from carboy.errors import HazardRefused, InvalidInput
 from carboy.model.mixture import Mixture
 from carboy.model.planner import plan_neutralization
 from carboy.model.reagents import parse_reagent
@@ -158,12 +158,16 @@ def test_metal_bearing_waste_is_not_a_drain_plan(compound, tag):
 
 @pytest.mark.parametrize("compound", ["NaCN", "Na2S"])
 def test_cyanide_and_sulfide_waste_must_never_be_acidified(compound):
+    # the planner itself refuses (its start step), so a direct caller gets no dose either
     from carboy.model.catalog import default_catalog
 
     cat = default_catalog()
     sample = Mixture.from_compounds([(cat.compound(compound), 0.01),
                                      (cat.compound("NaOH"), 0.05)], volume_l=1.0)
-    p = plan_neutralization(sample, parse_reagent("HCl=1M"), target_pH=9.0, window=(8.5, 10))
+    with pytest.raises(HazardRefused, match="no acidification dose"):
+        plan_neutralization(sample, parse_reagent("HCl=1M"), target_pH=9.0, window=(8.5, 10))
+    p = plan_neutralization(sample, parse_reagent("NaOH=1M"), target_pH=12.8,
+                            window=(12.5, 13.0))   # kept alkaline: planned, never drained
     codes = [c.code for c in p.cautions]
     assert "never-acidify" in codes and "not-a-drain-plan" in codes
     assert not p.drain_plan

@@ -10,6 +10,8 @@ from pathlib import Path
 import pytest
 
 import carboy.model.etheta
+import carboy.model.metal_data
+import carboy.model.metals
 import carboy.model.molality
 import carboy.model.pitzer
 import carboy.model.solver
@@ -17,9 +19,12 @@ import carboy.model.speciation
 import carboy.model.speciation_models
 
 SOLVER = sorted(Path(carboy.model.solver.__file__).parent.glob("*.py")) + [
-    Path(m.__file__) for m in (carboy.model.speciation, carboy.model.speciation_models,
+    Path(m.__file__) for m in (carboy.model.speciation, carboy.model.metals,
+                               carboy.model.metal_data, carboy.model.speciation_models,
                                carboy.model.pitzer, carboy.model.etheta,
                                carboy.model.molality)]
+"""The solver's own modules, the metal terms it evaluates at every trial point, and the
+specific-interaction model's."""
 BLAS_CALLS = {"dot", "matmul", "tensordot", "inner", "vdot", "outer_product", "solve",
               "lstsq", "inv", "multi_dot"}
 

@@ -7,6 +7,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from carboy.model.catalog import default_catalog
+from carboy.model.metals import metal, metal_data
 from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
 from carboy.model.speciation import speciate, speciate_batch
 
@@ -34,8 +35,22 @@ def test_charge_balance_and_mass_balances_close(comps, act, t):
     assert abs(res.charge_residual_molar) <= 1e-10 * max(total_charge_scale, 1e-7)
     for key, fr in res.fractions.items():
         assert abs(sum(fr.values()) - 1.0) < 1e-12
-        total = sum(res.species[lab] for lab in fr)
+        total = sum(res.species[lab] for lab in fr) + _held_in_salts(res, key)
         assert np.isclose(total, mix.totals[key], rtol=1e-10, atol=0)
+    for key, dissolved in res.dissolved_metals.items():  # metals: dissolved + in solids
+        held = sum(res.solids.get(s.name, 0.0) * s.cation_count for s in SALTS
+                   if s.cation == key)
+        held += res.solids.get(metal(key).solid.name, 0.0)
+        assert np.isclose(dissolved + held, mix.totals[key], rtol=1e-9, atol=1e-300)
+
+
+SALTS = metal_data().ligand_solids
+
+
+def _held_in_salts(res, system: str) -> float:
+    """mol/L of ``system`` in the salts a metal formed with it (gypsum, fluorite...)."""
+    return sum(res.solids.get(s.name, 0.0) * s.ligand_count for s in SALTS
+               if s.ligand_system == system)
 
 
 @settings(max_examples=60, deadline=None)

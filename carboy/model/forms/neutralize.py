@@ -6,11 +6,12 @@ The sample is either components typed with a volume (``H2SO4=0.05M NaH2PO4=10mM`
 plans, so the Neutralize screen and ``carboy neutralize`` give the same answer for the
 same input.
 
-A waste holding cyanide or sulfide is never planned towards acid: :func:`plan` raises
+A waste holding cyanide or sulfide is never planned towards acid: the planner raises
 :class:`~carboy.errors.HazardRefused` with the reason and what to do instead
-(:func:`carboy.model.cautions.refuse_plan`).  Every plan it gives carries the waste's
-own cautions and the drain verdict of the container's stream and the compatibility
-rules (:func:`carboy.model.cautions.amend`).
+(:func:`carboy.model.cautions.refuse_plan`, in its start step).  Every plan carries the
+waste's own cautions and the drain verdict of the container's stream and the
+compatibility rules (:func:`carboy.model.cautions.amend`, the planner's last step), for
+which :func:`plan` passes the compounds and the container's stream.
 """
 
 from __future__ import annotations
@@ -21,7 +22,6 @@ from dataclasses import dataclass, field
 
 from carboy.errors import (
     CarboyError,
-    HazardRefused,
     InvalidInput,
     Refused,
     TemperatureOutOfRange,
@@ -283,7 +283,8 @@ def safe_temperature(profile) -> tuple[float | None, str]:
 def plan(request: NeutralizeRequest, catalog, *, curve_points: int | None = None,
          profile=None):
     """The neutralization plan of a read request (see :func:`carboy.model.planner`), with
-    the waste's own cautions and drain verdict (:func:`carboy.model.cautions.amend`).
+    the waste's own cautions and drain verdict (the planner applies
+    :func:`carboy.model.cautions.amend` to the compounds and the container's stream).
     Under a disposal ``profile`` the batch is kept under the profile's safe temperature
     (:func:`safe_temperature`).
 
@@ -292,33 +293,29 @@ def plan(request: NeutralizeRequest, catalog, *, curve_points: int | None = None
     """
     from carboy.model.planner import plan_neutralization
 
-    if cautions.gas_hazards(request.mixture.totals, request.hazards):
-        ph0 = _initial_ph(request.mixture, request.activity, catalog)
-        direction = "base" if ph0 < request.target_pH else "acid"
-        reason = cautions.refuse_plan(request.mixture.totals, request.hazards, ph0,
-                                      request.target_pH, direction)
-        if reason:
-            raise HazardRefused("a neutralization plan", reason)
     extra = {} if curve_points is None else {"curve_points": curve_points}
     safe_c, safe_from = safe_temperature(profile)
     if safe_c is not None:
         extra |= {"safe_temperature_c": safe_c, "safe_from": safe_from}
-    found = plan_neutralization(
-        request.mixture, request.reagent, target_pH=request.target_pH, window=request.window,
-        activity=request.activity, catalog=catalog, hazards=request.hazards, **extra)
     box = request.container
-    sample = cautions.Sample(dict(request.compounds), box.stream if box else None,
-                             box.material if box else None)
-    return cautions.amend(found, sample, catalog=catalog)
+    waste = cautions.Sample(dict(request.compounds), box.stream if box else None,
+                            box.material if box else None)
+    return plan_neutralization(
+        request.mixture, request.reagent, target_pH=request.target_pH, window=request.window,
+        activity=request.activity, catalog=catalog, hazards=request.hazards, waste=waste,
+        **extra)
 
 
-def _field_of(err: CarboyError) -> str:
-    """The field a planner error belongs to."""
+def _field_of(err: CarboyError, container: ContainerSample | None = None) -> str:
+    """The field a planner error belongs to (the planner's ``sample`` is the typed
+    components, or the container)."""
     if isinstance(err, TemperatureOutOfRange):
         return "temperature"
     if isinstance(err, UnknownCompound):
         return "reagent"
     if isinstance(err, InvalidInput):
+        if err.field == "sample" and container is None:
+            return "components"
         return err.field or "plan"
     return "plan"
 
@@ -360,7 +357,7 @@ def evaluate(fields: NeutralizeFields, catalog, container: ContainerSample | Non
                 out.disposal = apply(result, profile, container,
                                      compounds=request.compounds, catalog=catalog)
         except CarboyError as err:
-            name = _field_of(err)
+            name = _field_of(err, container)
             out.errors[name] = str(err) if name != "plan" or isinstance(err, Refused) else \
                 f"the planner could not finish: {err}"
             out.problems.append((name, err))

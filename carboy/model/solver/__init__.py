@@ -12,7 +12,10 @@
                     solved neighbours (a curve's points are alike)
 ``starts``          start values between solved neighbours (cubic; across a large jump the
                     straight line in the excess of H+ over OH-)
-``bracketed``       the guaranteed path: bracketed Newton inside an ionic-strength loop
+``bracketed``       the guaranteed path: bracketed Newton inside an ionic-strength loop;
+                    ``solve_with_metals``, the route of a solution with metals
+``metal_terms``     the modelled metal ions laid out, and their terms (hydrolysis, solids
+                    by saturation, calcium salts) added to the charge sums at each x
 ``single``          the fast path for one solution, in plain Python floats (closed forms for
                     single-signed systems); also a handful of points, one after another
 

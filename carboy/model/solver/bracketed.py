@@ -3,7 +3,10 @@
 At a fixed ionic strength the charge balance F(x) is strictly increasing and its
 root lies inside a bracket computed from the totals alone (widened step by step when
 a state is held fixed), so a Newton iteration that falls back to bisection whenever
-a step leaves the bracket cannot miss it (:func:`root`).  Around it, the ionic
+a step leaves the bracket cannot miss it (:func:`root`); a step that is not half the
+one two steps before is a bisection too, so that Newton cannot cycle about a kink
+(where a metal's solid appears, F's slope jumps) and every point settles in a bounded
+number of steps.  Around it, the ionic
 strength is iterated to self-consistency by secant steps with a fixed-point fallback
 (:func:`solve_nested`).  Slower than the coupled fast path; it takes the points that
 path leaves unsettled.
@@ -23,7 +26,9 @@ from carboy.model.solver.constants import (
     WIDEN_STEPS,
     X_TOL,
 )
+from carboy.model.solver.coupled import WARM_MIN, WARM_STRIDE, solve_coupled
 from carboy.model.solver.problem import Problem
+from carboy.model.solver.starts import cubic_between
 
 
 def root(x0, ad, log_kw, pr: Problem):
@@ -43,6 +48,9 @@ def root(x0, ad, log_kw, pr: Problem):
     done = np.zeros(x.shape, dtype=bool)
     gi = np.zeros(x.shape)
     act = np.arange(x.shape[0])
+    # the last two steps of each point: a Newton step that is not half the one two steps
+    # before becomes a bisection (Newton can cycle about a kink, where a solid appears)
+    last = np.full((2, x.shape[0]), np.inf)
     for _ in range(MAX_ROOT_ITER):
         xa = x[act]
         sums, d_x, _, _ = moments(xa, None if pr.a_dh == 0.0 else ad[act], log_kw[act], lay,
@@ -54,8 +62,10 @@ def root(x0, ad, log_kw, pr: Problem):
         la = np.where(big_f < 0, xa, lo[act])
         ha = np.where(big_f > 0, xa, hi[act])
         xn = xa - big_f / fp
-        out = ~((xn >= la) & (xn <= ha))
+        small = np.abs(xn - xa) < X_TOL
+        out = (~((xn >= la) & (xn <= ha)) | (np.abs(xn - xa) > 0.5 * last[0, act])) & ~small
         xn = np.where(out, 0.5 * (la + ha), xn)
+        last[0, act], last[1, act] = last[1, act], np.abs(xn - xa)
         fin = (np.abs(xn - xa) < X_TOL) | (np.abs(big_f) < F_TOL) | ((ha - la) < X_TOL)
         x[act] = np.where(big_f == 0, xa, xn)
         lo[act], hi[act] = la, ha
@@ -130,3 +140,44 @@ def solve_nested(pr: Problem, x, ionic):
         i_prev, r_prev = ionic, r
         ionic = np.where(i_conv, ionic, nxt)
     return x, ionic, root_ok & i_conv, outer
+
+
+def _from(pr: Problem, start):
+    """Start values for every point: ``start`` (a pair of arrays) where finite, else
+    x = -7 and the spectators' ionic strength."""
+    n = pr.ispec.shape[0]
+    x, ionic = np.full(n, -7.0), pr.ispec + 1e-7
+    if start is not None:
+        given = np.isfinite(start[0]) & np.isfinite(start[1])
+        x, ionic = np.where(given, start[0], x), np.where(given, start[1], ionic)
+    return x, ionic
+
+
+def solve_with_metals(pr: Problem, start=None, *, max_iter: int):
+    """Every point of a problem with metals: ``(x, ionic, converged, iterations)``.
+
+    Where a metal's solid appears F's slope jumps, and the coupled iteration can wander
+    about the kink; the guaranteed path settles every point.  One solution without a
+    start takes the coupled iteration (``max_iter`` steps, fewer evaluations) first; a
+    batch without starts is solved coarse to fine (every ``WARM_STRIDE``-th point, then
+    each point between from the cubic through its solved neighbours), each point by
+    :func:`solve_nested`.  A start only saves steps.
+    """
+    n = pr.ispec.shape[0]
+    if start is None and n == 1:
+        x, ionic, ok, iterations = solve_coupled(pr, max_iter=max_iter)
+        if not ok.all():
+            x, ionic, ok, more = solve_nested(pr, x, ionic)
+            iterations += more
+        return x, ionic, ok, iterations
+    if start is not None or n < WARM_MIN:
+        return solve_nested(pr, *_from(pr, start))
+    coarse = np.unique(np.r_[np.arange(0, n, WARM_STRIDE), n - 1])
+    fine = np.setdiff1d(np.arange(n), coarse)
+    xc, ic, okc, itc = solve_with_metals(pr[coarse], max_iter=max_iter)
+    xs, i_s = cubic_between(fine, coarse, xc, ic)
+    xf, i_f, okf, itf = solve_nested(pr[fine], xs, i_s)
+    x, ionic, ok = np.empty(n), np.empty(n), np.empty(n, dtype=bool)
+    x[coarse], ionic[coarse], ok[coarse] = xc, ic, okc
+    x[fine], ionic[fine], ok[fine] = xf, i_f, okf
+    return x, ionic, ok, max(itc, itf)

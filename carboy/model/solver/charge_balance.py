@@ -15,6 +15,8 @@ proton above the top, OH- one below, whose amounts are their own: no total fixes
 them), so that POS, NEG and the ionic strength with all their derivatives come from
 three weighted sums of rows each.  Every sum is a weighted sum of rows (``einsum``)
 or of a system's rows: no matrix product, so no BLAS call and none of its threads.
+Modelled metal ions add their terms to the sums and their derivatives at the same x
+(``metal_terms``), the systems they form salts with read from the same weights.
 """
 
 from __future__ import annotations
@@ -25,6 +27,7 @@ import numpy as np
 
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.layout import Layout
+from carboy.model.solver.metal_terms import add_terms, dissolved_ligands, ligands_at, solved_state
 from carboy.model.solver.problem import Amounts
 
 try:  # numpy's own loop behind np.einsum, without the Python wrapper (a call per step)
@@ -127,11 +130,24 @@ def _deviation(conc: np.ndarray, weights: np.ndarray, ref: np.ndarray, lay: Layo
 
 def species_at(x, ad, log_kw, lay: Layout, am: Amounts):
     """The solved state: ``sums`` (3, N) as :func:`moments` gives them, ``ceff``
-    (K, N), and the (S, N) ``conc`` and fractions ``alpha`` of every state."""
+    (K, N), and the (S, N) ``conc`` and fractions ``alpha`` of every state; with metals,
+    ``metal`` (their :class:`~carboy.model.metals.MetalState`), and ``conc`` and
+    ``ceff`` less what salts hold (the dissolved part)."""
     e, sums, ceff, conc = _concentrations(x, ad, log_kw, lay, am)
     s = lay.flat_j.shape[0]
-    return {"sums": _einsum("ws,sn->wn", lay.row_w, conc), "ceff": ceff,
-            "conc": conc[:s], "alpha": e[:s] / sums[0][lay.flat_sys]}
+    alpha = e[:s] / sums[0][lay.flat_sys]
+    out = {"sums": _einsum("ws,sn->wn", lay.row_w, conc), "ceff": ceff, "conc": conc[:s],
+           "alpha": alpha, "metal": None}
+    if lay.metals is not None and am.metal is not None:
+        metal = solved_state(lay.metals, am.metal, x, ad, log_kw,
+                             ligands_at(lay.metals, e, sums[0], ceff))
+        out["sums"][0] += metal.pos + metal.ligand_pos
+        out["sums"][1] += metal.neg + metal.ligand_neg
+        out["sums"][2] += metal.iz2 + metal.ligand_iz2
+        out["ceff"] = ceff = ceff.copy()
+        dissolved_ligands(lay.metals, metal, conc[:s], alpha, ceff, lay.sys_slices)
+        out["metal"] = metal
+    return out
 
 
 def fractions_at(x, ad, lay: Layout) -> np.ndarray:
@@ -172,7 +188,11 @@ def moments(x, ad, log_kw, lay: Layout, am: Amounts, want_jac: bool = False):
         if am.held is not None:
             ref[:k] = np.where(am.mask[:, None], am.c0[:, None], ref[:k])
         d_ad = _einsum("ws,sn->wn", lay.row_w_dad, _deviation(conc, lay.row_c, ref, lay))
-    return _einsum("ws,sn->wn", lay.row_w, conc), d_x, d_ad, ceff
+    sums = _einsum("ws,sn->wn", lay.row_w, conc)
+    if lay.metals is not None and am.metal is not None:
+        add_terms(lay.metals, am.metal, x, ad, log_kw, ligands_at(lay.metals, e, s0, ceff),
+                  sums, d_x, d_ad)
+    return sums, d_x, d_ad, ceff
 
 
 def padded_fractions(alpha: np.ndarray, lay: Layout) -> np.ndarray:

@@ -155,7 +155,7 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
             idx, xa, ia = idx[keep], xa[keep], ia[keep]
             seen_lo, seen_hi = seen_lo[keep], seen_hi[keep]
             cur = cur[keep]
-        if idx.size <= TAIL_POINTS and not cur.lay.needs_shift and it < max_iter:
+        if idx.size <= TAIL_POINTS and cur.lay.python_path and it < max_iter:
             xt, i_t, okt, itt = solve_each(cur, xa, ia, max_iter=max_iter - it)
             x_out[idx], i_out[idx], ok[idx] = xt, i_t, okt
             return x_out, i_out, ok, it + itt
@@ -189,7 +189,7 @@ def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
                           (np.flatnonzero(~given), solve_warm(pr[~given], max_iter=max_iter)))
         return _started(pr, slice(None), x0, i0, max_iter)
     if n < WARM_MIN:
-        return (solve_coupled(pr, max_iter=max_iter) if pr.lay.needs_shift
+        return (solve_coupled(pr, max_iter=max_iter) if not pr.lay.python_path
                 else solve_each(pr, chain=True, max_iter=max_iter))  # step by step
     coarse = np.unique(np.r_[np.arange(0, n, WARM_STRIDE), n - 1])
     fine = np.ones(n, dtype=bool)
@@ -205,7 +205,7 @@ def _started(pr: Problem, which, x0, i0, max_iter: int):
     """Solve the points ``which`` of ``pr`` from their starts."""
     sub = pr if isinstance(which, slice) else pr[which]
     xs, i_s = np.asarray(x0)[which], np.asarray(i0)[which]
-    if sub.ispec.shape[0] < WARM_MIN and not pr.lay.needs_shift:
+    if sub.ispec.shape[0] < WARM_MIN and pr.lay.python_path:
         return solve_each(sub, xs, i_s, max_iter=max_iter)
     return solve_coupled(sub, max_iter=max_iter, x0=xs, i0=i_s)
 

@@ -25,6 +25,7 @@ from carboy.errors import InvalidInput
 from carboy.model import water
 from carboy.model.entities import Ion, System
 from carboy.model.solver.constants import LN10
+from carboy.model.solver.metal_terms import MetalLayout, compile_metals, metal_keys
 
 R_J_MOL_K = 8.314462618  # J/(mol K), exact since the 2019 SI (CODATA)
 T_REF_K = 298.15
@@ -97,6 +98,13 @@ class Layout:
     py_systems: tuple             # the same, as Python tuples, for the one-solution path
     py_ions: tuple
     py_species: tuple             # (labels, charges): H+, OH-, the ions, every state
+    metals: MetalLayout | None = None   # the modelled metal ions (see metal_terms), if any
+
+    @property
+    def python_path(self) -> bool:
+        """True when the plain-Python path (``single``) can take a solution: no shifted
+        exponentials and no metals."""
+        return not self.needs_shift and self.metals is None
 
 
 def resolve(catalog, key: str) -> System | Ion:
@@ -174,9 +182,26 @@ def _python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray)
     return tuple(out)
 
 
+def _split_metals(pt: _Parts) -> tuple[list[int], tuple[str, ...]]:
+    """Take the modelled metal ions out of the spectators of ``pt`` (in place): their
+    batch columns and keys."""
+    found = metal_keys(dict(zip(pt.ion_labels, pt.ion_z)))
+    cols = [pt.ion_cols[pt.ion_labels.index(k)] for k in found]
+    keep = [i for i, lab in enumerate(pt.ion_labels) if lab not in found]
+    pt.ion_cols = [pt.ion_cols[i] for i in keep]
+    pt.ion_z = [pt.ion_z[i] for i in keep]
+    pt.ion_labels = [pt.ion_labels[i] for i in keep]
+    return cols, found
+
+
 def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layout:
     """The :class:`Layout` of a solution with columns ``keys`` at ``temperature_c``."""
     pt = _parts(catalog, keys, temperature_c)
+    metal_cols, metals_found = _split_metals(pt)
+    metals = compile_metals(catalog, metal_cols, metals_found, tuple(pt.sys_keys),
+                            _slices_of(pt.zs))
+    if metals is not None:
+        pt.charge_map.update(zip(metals.labels, metals.charges))
     zs = pt.zs
     k = len(pt.sys_keys)
     m = max((len(z) for z in zs), default=1)
@@ -210,8 +235,14 @@ def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layo
         jj=jj, pad_rows=_pad_rows(valid), **_rows(z, valid, cmat), chunk=max(64, CHUNK_BYTES // (8 * (int(valid.sum()) + 1))),
         py_systems=_python_systems(pt.sys_cols, zs, lb0, cmat),
         py_ions=tuple(zip(pt.ion_cols, (float(v) for v in pt.ion_z))),
-        py_species=_species(pt),
+        py_species=_species(pt), metals=metals,
     )
+
+
+def _slices_of(zs: list) -> tuple:
+    """(first, end) of each system's states in the flat order, from their charges."""
+    ends = np.cumsum([len(z) for z in zs]).tolist()
+    return tuple((e - len(z), e) for e, z in zip(ends, zs))
 
 
 def _species(pt: _Parts) -> tuple:

@@ -10,7 +10,7 @@ mask or an index array selects points, so a path can drop the points it has sett
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -36,16 +36,18 @@ class Amounts:
     j0: np.ndarray | None = None         # (K,) reference state
     c0: np.ndarray | None = None         # (K,) cmat of the reference state
     e0_col: np.ndarray | None = None     # (K,) row of the reference state in the flat states
+    metal: np.ndarray | None = None      # (Mt, N) totals of the modelled metal ions
     shift: np.ndarray | None = None      # (S, N) log10 term added to each state's weight
     # (set by an outer loop: the specific-interaction coefficients, or ion pairs lumped
     # into the state they hold; see solver.outer)
 
     def __getitem__(self, idx) -> Amounts:
+        metal = None if self.metal is None else self.metal[:, idx]
         shift = None if self.shift is None else self.shift[:, idx]
         if self.held is None:
-            return Amounts(self.c[:, idx], shift=shift)
+            return Amounts(self.c[:, idx], metal=metal, shift=shift)
         return Amounts(self.c[:, idx], self.held[:, idx], self.mask, self.j0, self.c0,
-                       self.e0_col, shift)
+                       self.e0_col, metal, shift)
 
 
 def _held_value(lay: Layout, key: str, spec, n: int) -> tuple[int, int, np.ndarray]:
@@ -138,7 +140,9 @@ def build_problem(lay: Layout, totals: np.ndarray, held, pkw: float, a_dh: float
     """The :class:`Problem` of the (N, columns) ``totals`` laid out by ``lay``.
 
     ``held`` is validated here (see :func:`held_amounts`); a held system's total does
-    not bound the charge, so it is left out of ``q`` and ``p``.
+    not bound the charge, so it is left out of ``q`` and ``p``.  Modelled metal ions
+    (``lay.metals``) are not spectators: their totals go to ``am.metal`` and the
+    largest charges their species can carry widen ``q`` and ``p``.
     """
     c_sys = np.ascontiguousarray(totals[:, lay.sys_cols].T)
     am = held_amounts(lay, c_sys, held)
@@ -152,6 +156,11 @@ def build_problem(lay: Layout, totals: np.ndarray, held, pkw: float, a_dh: float
     ispec = 0.5 * _weighted(c_ion, lay.ion_z ** 2)
     q = zs_neg + _weighted(c_sys.T, np.maximum(-lay.sys_zmin, 0.0))
     p = zs_pos + _weighted(c_sys.T, np.maximum(lay.sys_zmax, 0.0))
+    if lay.metals is not None:
+        c_metal = totals[:, lay.metals.cols]
+        am = replace(am, metal=np.ascontiguousarray(c_metal.T))
+        q = q + _weighted(c_metal, lay.metals.qneg)
+        p = p + _weighted(c_metal, lay.metals.z)
     return Problem(lay, am, zs_pos, zs_neg, ispec, q, p, pkw, a_dh, totals,
                    np.log10(q + 1.0) + 1e-3, np.log10(p + 1.0) + 1e-3)
 

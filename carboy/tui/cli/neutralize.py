@@ -173,6 +173,8 @@ def format_report(plan) -> str:
         for p in plan.precipitates:
             lines.append(f"  {p.solid:<32} SI {p.saturation_index:+.2f}"
                          f"{'  expected: sludge, not drain' if p.expected else ''}")
+    for head, text in plan.metal_lines():
+        lines.append(f"{head:<15}{text}")
     if plan.equivalence_points:
         lines.append("equivalence points")
         for e in plan.equivalence_points:

@@ -20,6 +20,7 @@ def register(sub) -> None:
                "  carboy rules --recheck NaOH=default\n"
                "  carboy rules --max-rsd 0.3 --min-replicates 3\n"
                "  carboy rules --acceptance-default\n"
+               "  carboy rules --storeroom-name 'Storeroom B, North Wing'\n"
                "  carboy rules --window 5.5:9.5 --batch-max 500mL --flush 20\n"
                "  carboy rules --batch-treatment no\n"
                "  carboy rules --never-treat 'HNO3>10%' --treat-again HF\n"
@@ -32,6 +33,9 @@ def register(sub) -> None:
     p.add_argument("--min-replicates", metavar="N", help="fewest replicates (default 3)")
     p.add_argument("--acceptance-default", action="store_true",
                    help="return to carboy's default acceptance rule")
+    p.add_argument("--storeroom-name", metavar="NAME",
+                   help="the storeroom's name printed on labels, records and reports "
+                        "('' removes it)")
     d = p.add_argument_group("disposal rules", "the storeroom's rules for treating waste in "
                              "the lab; carboy's values are placeholders until set")
     for option, _name, metavar, words in DISPOSAL_OPTIONS:
@@ -105,6 +109,8 @@ def rules_cmd(args) -> int:
             rules.set_recheck(store, compound.strip(), days.strip())
         if args.acceptance_default:
             rules.reset_acceptance(store)
+        if args.storeroom_name is not None:
+            rules.set_storeroom_name(store, args.storeroom_name)
         if args.max_rsd is not None or args.min_replicates is not None:
             rules.set_acceptance(store, max_rsd_percent=args.max_rsd,
                                  min_replicates=args.min_replicates)
@@ -120,6 +126,7 @@ def rules_cmd(args) -> int:
         emit_json({**in_force.to_dict(), "disposal": profile.to_dict()})
         return EXIT_OK
     rule = in_force.acceptance()
+    print(f"storeroom name on paper: {in_force.storeroom_name or '(not set)'}")
     print("re-check intervals of molar solutions (a bottle's own interval wins):")
     for key, days in sorted(in_force.recheck_days.items()):
         print(f"  {key:<10} every {days:>4} days  ({in_force.recheck_origin[key]})")

@@ -39,7 +39,7 @@ CHILDREN: dict[str, tuple[tuple[str, str], ...]] = {
               ("Change a container's stream", "waste_stream:ChangeStreamScreen")),
     "journal": (("Journal entry", "entry:EntryScreen"),
                 ("Correct a journal entry", "correct_entry:CorrectionDialog")),
-    "rules": (("Change a disposal rule", "rule_edit:RuleDialog"),),
+    "rules": (("Change a rule or the storeroom's name", "rule_edit:ValueDialog"),),
 }
 """Screens and dialogs opened from a main screen: (title, ``module:Class`` under screens)."""
 

@@ -1,5 +1,5 @@
 """The Neutralize screen's parts: the sample and reagent choosers' options, the container
-summary, and the messages its workers post."""
+summary, the plan summary with the metals, and the messages its workers post."""
 
 from __future__ import annotations
 

@@ -1,6 +1,6 @@
 """Rules: the storeroom's disposal rules, and the yearly treatment log they shape.
 
-Two tabs.  *Disposal rules*: every rule of the profile with its value and where it comes
+Two tabs.  *Disposal rules*: the storeroom's name printed on paper, every rule of the profile with its value and where it comes
 from (carboy's placeholder, with its source, or the storeroom's own), and the never-treat
 list; ``e`` changes the highlighted rule, ``r`` returns it to carboy's placeholder (both
 journaled).  *Treatment log*: every treatment of a year, with totals per stream and per
@@ -31,9 +31,16 @@ GROUPS = (None, "person", "stream")
 GROUP_WORDS = {None: "in the order recorded", "person": "by person", "stream": "by stream"}
 
 
-def rule_rows(profile: dp.DisposalProfile) -> list[tuple[str, str, str, Text]]:
-    """(key, rule, value, origin) of each rule, then each never-treat item."""
-    rows = []
+STOREROOM_NAME = "storeroom.name"
+"""The row of the storeroom's name (as the store's rule name)."""
+
+
+def rule_rows(profile: dp.DisposalProfile,
+              storeroom: str = "") -> list[tuple[str, str, str, Text]]:
+    """(key, rule, value, origin): the storeroom's name, each rule, each never-treat item."""
+    rows = [(STOREROOM_NAME, "storeroom name on paper", storeroom or "(not set)",
+             Text(dp.STOREROOM if storeroom else "not set",
+                  style="bold" if storeroom else "dim"))]
     for r in dp.RULES:
         origin = profile.origin.get(r.name, dp.PLACEHOLDER)
         mark = Text(origin, style="dim" if origin == dp.PLACEHOLDER else "bold")
@@ -49,6 +56,9 @@ def rule_rows(profile: dp.DisposalProfile) -> list[tuple[str, str, str, Text]]:
 def source_text(key: str, profile: dp.DisposalProfile) -> str:
     """Where the highlighted rule comes from: the placeholder's source, or the storeroom."""
     name, _, item = key.partition(":")
+    if name == STOREROOM_NAME:
+        return ("printed on bottle labels, disposal records and the treatment report; "
+                "e changes it, r removes it (journaled)")
     if profile.origin.get(name, dp.PLACEHOLDER) == dp.STOREROOM:
         return "set by the storeroom (carboy rules, or e here); the journal keeps each change"
     status, source = dp.shipped_sources().get(f"never_treat {item}" if item else name,
@@ -115,6 +125,7 @@ class RulesScreen(Screen):
     def __init__(self) -> None:
         super().__init__()
         self.profile: dp.DisposalProfile | None = None
+        self.storeroom = ""
         self.catalog = None
         self.report = None
         self.group: str | None = None
@@ -152,7 +163,7 @@ class RulesScreen(Screen):
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="rules")
     def _fetch(self, year: str, group: str | None) -> None:
-        from carboy.store import disposal, treatment_report
+        from carboy.store import disposal, rules, treatment_report
         from carboy.store.compounds import catalog_for
 
         worker = get_current_worker()
@@ -160,6 +171,7 @@ class RulesScreen(Screen):
         try:
             with self.app.open_store() as store, store.reading():
                 profile, catalog = disposal.load(store), catalog_for(store)
+                storeroom = rules.load(store).storeroom_name
                 try:
                     report = treatment_report.treatments(store, year, group_by=group)
                 except CarboyError as exc:  # a year that cannot be read: the rules still show
@@ -169,19 +181,20 @@ class RulesScreen(Screen):
                 self.app.call_from_thread(self._show_error, describe(exc))
             return
         if not worker.is_cancelled:
-            self.app.call_from_thread(self._show, profile, catalog, report, problem)
+            self.app.call_from_thread(self._show, profile, catalog, report, problem, storeroom)
 
     def _show_error(self, message: str) -> None:
         self.query_one("#rules-error", ErrorLine).show(message)
         self.loads += 1
 
-    def _show(self, profile, catalog, report, problem: str = "") -> None:
+    def _show(self, profile, catalog, report, problem: str = "", storeroom: str = "") -> None:
         self.query_one("#rules-error", ErrorLine).show(problem)
         self.profile, self.catalog, self.report = profile, catalog, report
+        self.storeroom = storeroom
         table = self.query_one("#rules-table", DataTable)
         row = table.cursor_row
         table.clear()
-        for key, words, value, origin in rule_rows(profile):
+        for key, words, value, origin in rule_rows(profile, storeroom):
             table.add_row(words, value, origin, key=key)
         table.move_cursor(row=min(row, table.row_count - 1))
         self._show_source()
@@ -221,11 +234,13 @@ class RulesScreen(Screen):
             if self.profile is None or self.rule_key is None:
                 return False
             name = self.rule_key.partition(":")[0]
+            if name == STOREROOM_NAME:
+                return action == "edit" or bool(self.storeroom)
             return action == "edit" or self.profile.origin.get(name) == dp.STOREROOM
         return True
 
     def action_edit(self) -> None:
-        from carboy.tui.app.screens.rule_edit import RuleDialog
+        from carboy.tui.app.screens.rule_edit import RuleDialog, StoreroomNameDialog
 
         name = (self.rule_key or "").partition(":")[0]
         if not name or self.profile is None:
@@ -236,7 +251,9 @@ class RulesScreen(Screen):
                 self.notify(f"Rule changed (journal entry {entry}).", timeout=4)
                 self.app.refresh_data()
 
-        self.app.push_screen(RuleDialog(name, self.profile, self.catalog), done)
+        dialog = (StoreroomNameDialog(self.storeroom) if name == STOREROOM_NAME
+                  else RuleDialog(name, self.profile, self.catalog))
+        self.app.push_screen(dialog, done)
 
     def action_reset(self) -> None:
         name = (self.rule_key or "").partition(":")[0]
@@ -247,19 +264,28 @@ class RulesScreen(Screen):
             if yes:
                 self._reset(name)
 
-        words = dp.rule(name).words
-        self.app.push_screen(ConfirmScreen(f"Back to carboy's placeholder: {words}?",
-                                           "The storeroom's own value is replaced by carboy's "
-                                           "placeholder; the journal keeps the change.",
-                                           yes_label="Reset it"), answered)
+        if name == STOREROOM_NAME:
+            question = ConfirmScreen(f"Remove the storeroom's name ({self.storeroom})?",
+                                     "Labels and records print no storeroom name until one "
+                                     "is set again; the journal keeps the change.",
+                                     yes_label="Remove it")
+        else:
+            question = ConfirmScreen(f"Back to carboy's placeholder: {dp.rule(name).words}?",
+                                     "The storeroom's own value is replaced by carboy's "
+                                     "placeholder; the journal keeps the change.",
+                                     yes_label="Reset it")
+        self.app.push_screen(question, answered)
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="rules-reset")
     def _reset(self, name: str) -> None:
-        from carboy.store import disposal
+        from carboy.store import disposal, rules
 
         try:
             with self.app.open_store() as store:
-                disposal.reset(store, [name], who=self.app.who)
+                if name == STOREROOM_NAME:
+                    rules.set_storeroom_name(store, "", who=self.app.who)
+                else:
+                    disposal.reset(store, [name], who=self.app.who)
         except Exception as exc:  # noqa: BLE001 - shown in place
             self.app.call_from_thread(self._show_error, describe(exc))
             return

@@ -123,6 +123,8 @@ def plan_text(plan) -> Text:
              + ": a sludge to collect, not to drain")
     else:
         line("Solids", "none expected to precipitate")
+    for head, body in plan.metal_lines():
+        line(head[:1].upper() + head[1:], body)
     line("Sensitivity", f"{plan.sensitivity_pH_per_percent:.2g} pH per 1 % of the dose")
     if plan.equivalence_points:
         t.append("Equivalence points\n", style="bold")

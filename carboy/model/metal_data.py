@@ -1,0 +1,214 @@
+"""The metal data of ``data/metals.toml``: hydrolysis ladders, hydroxides and ligand salts.
+
+The records here are what :mod:`carboy.model.metals` computes with and what the solver
+(:mod:`carboy.model.solver.metal_terms`) lays out: each metal cation's mononuclear hydroxo
+complexes (``log *beta_n`` of M(z+) + n H2O = M(OH)n(z-n) + n H+), the hydroxide or oxide
+that precipitates (``log *Ks`` of solid + z H+ = M(z+) + H2O's), and the salts of a cation
+with the anion of an acid-base system whose solubility product ``planning.toml`` holds.
+Every constant carries its source and status (checked by the one provenance check).
+The constants are for 25 °C and I = 0.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from functools import cached_property, lru_cache
+from types import MappingProxyType
+
+import numpy as np
+
+from carboy.errors import InvalidInput
+from carboy.model.catalog import default_catalog, molar_mass_of
+from carboy.model.datafiles import Table
+from carboy.model.thermo import planning_constants
+from carboy.model.water import pkw
+
+PKW25 = pkw(25.0)
+"""pKw at 25 °C (IAPWS R11-07), the default and the conversion of OH- solubility products."""
+STATUSES = frozenset({"FOUND", "MEMORY", "DERIVED"})
+
+__all__ = ["PKW25", "STATUSES", "Hydroxide", "HydroxoSpecies", "LigandSolid", "Metal",
+           "MetalData", "charge_bounds", "metal", "metal_data", "unmodelled_cations"]
+
+
+@dataclass(frozen=True)
+class HydroxoSpecies:
+    """M(OH)n: ``log_beta`` of M(z+) + n H2O = M(OH)n(z-n) + n H+ (0 for the free ion)."""
+
+    label: str
+    n: int
+    charge: int
+    log_beta: float
+    source: str = ""
+
+
+@dataclass(frozen=True)
+class Hydroxide:
+    """The hydroxide or oxide: ``log_ks`` of solid + z H+ = M(z+) + H2O's."""
+
+    name: str
+    formula: str
+    log_ks: float
+    molar_mass_g_mol: float
+    source: str = ""
+
+
+@dataclass(frozen=True)
+class Metal:
+    """A metal cation with its hydrolysis ladder and its hydroxide."""
+
+    key: str
+    name: str
+    charge: int
+    species: tuple[HydroxoSpecies, ...]
+    """The free ion first, then each hydroxo complex by n."""
+    solid: Hydroxide
+    choice: str = ""
+
+    @property
+    def max_negative_charge(self) -> int:
+        return max(0, -min(s.charge for s in self.species))
+
+    @cached_property
+    def arrays(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """(n, charge, log *beta) of every species as float arrays, free ion first."""
+        return (np.array([s.n for s in self.species], dtype=float),
+                np.array([s.charge for s in self.species], dtype=float),
+                np.array([s.log_beta for s in self.species], dtype=float))
+
+
+@dataclass(frozen=True)
+class LigandSolid:
+    """A salt of a cation and the anion of an acid-base system: a·M + b·L_j + c·OH-."""
+
+    name: str
+    formula: str
+    cation: str
+    cation_count: int
+    ligand_system: str
+    ligand_index: int
+    """Which protonation state of the system the solubility product names."""
+    ligand_count: int
+    oh_count: int
+    log_ksp: float
+    molar_mass_g_mol: float
+    in_dose: bool
+    why: str
+    source: str
+
+
+@dataclass(frozen=True)
+class MetalData:
+    metals: Mapping[str, Metal]
+    ligand_solids: tuple[LigandSolid, ...]
+    inert_cations: frozenset[str]
+
+
+# ----------------------------------------------------------------------------- data
+
+
+def _checked(t: Table, value_key: str) -> tuple[float, str]:
+    """The value and its citation, once status and source pass the one provenance check."""
+    prov = t.provenance(value_key, allowed=STATUSES)
+    return t.number(value_key), f"{t.text('source').strip()} [{prov.status}]"
+
+
+def _parse_metal(t: Table) -> Metal:
+    key, z = t.text("key"), t.integer("charge", low=1, high=4)
+    species = [HydroxoSpecies(key, 0, z, 0.0, "free ion")]
+    for s in t.tables("species", name=lambda i, d: f"{key} species {i + 1}"):
+        n = s.integer("n", low=1, high=6)
+        log_beta, cite = _checked(s, "log_beta")
+        species.append(HydroxoSpecies(s.text("label"), n, z - n, log_beta, cite))
+    if [s.n for s in species] != list(range(len(species))):
+        raise t.fail("species", "hydroxo species must run n = 1, 2, ... without gaps")
+    srec = t.table("solid", f"{key} solid")
+    if srec.has("log_ks"):
+        log_ks, source = _checked(srec, "log_ks")
+    else:
+        log_ksp, cite = _checked(srec, "log_ksp_oh")
+        log_ks = log_ksp + z * PKW25
+        source = f"{cite}; log *Ks = log Ksp + {z} pKw(25 °C) [DERIVED]"
+    formula = srec.text("formula")
+    solid = Hydroxide(srec.text("name"), formula, log_ks,
+                      molar_mass_of(formula, entry=key), source)
+    return Metal(key, t.text("name"), z, tuple(species), solid, t.text("choice", ""))
+
+
+def _parse_ligand_solid(t: Table, ksp_by_name: Mapping, catalog) -> LigandSolid:
+    name = t.text("ksp")
+    if name not in ksp_by_name:
+        raise t.fail("ksp", f"no [[ksp]] record {name!r} in planning.toml")
+    ksp = ksp_by_name[name]
+    system_key, cation = t.text("ligand_system"), t.text("cation")
+    if system_key not in catalog.systems:
+        raise t.fail("ligand_system", f"no acid-base system {system_key!r} in the catalog")
+    system = catalog.systems[system_key]
+    ions = dict(ksp["ions"])
+    cation_count = int(ions.pop(cation, 0))
+    oh_count = int(ions.pop("OH-", 0))
+    if not cation_count or len(ions) != 1 or next(iter(ions)) not in system.species:
+        raise t.fail("ksp", f"ions {sorted(ksp['ions'])} are not {cation}, OH- and one "
+                            f"state of {system.key}")
+    label, count = next(iter(ions.items()))
+    formula = t.text("formula")
+    return LigandSolid(name, formula, cation, cation_count, system.key,
+                       system.species.index(label), int(count), oh_count,
+                       float(ksp["log10_ksp"]), molar_mass_of(formula, entry=name),
+                       bool(t.raw("in_dose")), t.text("why"),
+                       f"{ksp['source']} [{ksp['status']}]")
+
+
+@lru_cache(maxsize=1)
+def metal_data() -> MetalData:
+    """The packaged ``metals.toml``, validated (cached); errors name file, entry and field."""
+    top = Table.of_file("metals.toml")
+    metals = {}
+    for t in top.tables("metals"):
+        metal = _parse_metal(t)
+        if metal.key in metals:
+            raise t.fail("key", "metal listed twice")
+        metals[metal.key] = metal
+    ksp_by_name = {r["solid"]: r for r in planning_constants()["ksp"]}
+    catalog = default_catalog()
+    solids = tuple(_parse_ligand_solid(t, ksp_by_name, catalog)
+                   for t in top.tables("ligand_solids", name=lambda i, d: str(d.get("ksp", i))))
+    dosed = [(s.cation, s.ligand_system) for s in solids if s.in_dose]
+    if len(dosed) != len(set(dosed)):
+        raise top.fail("ligand_solids", "one solid in the dose per cation and ligand system")
+    if any(s.cation not in metals for s in solids):
+        raise top.fail("ligand_solids", "a salt's cation has no metal record")
+    return MetalData(MappingProxyType(metals), solids, frozenset(top.texts("inert_cations")))
+
+
+def metal(key: str, data: MetalData | None = None) -> Metal:
+    """The metal record for an ion key such as ``"Zn+2"``; unknown keys are an error."""
+    metals = (data or metal_data()).metals
+    if key not in metals:
+        raise InvalidInput("metal", key, "no hydrolysis or solubility data; known: "
+                           + ", ".join(sorted(metals)))
+    return metals[key]
+
+
+def unmodelled_cations(charges: Mapping[str, int]) -> tuple[str, ...]:
+    """Cations (ion key -> charge) that are neither modelled here nor inert (Na+, K+ ...):
+    the plan must say their hydrolysis and precipitation are not counted."""
+    data = metal_data()
+    return tuple(sorted(k for k, z in charges.items()
+                        if z > 0 and k not in data.metals and k not in data.inert_cations))
+
+
+def charge_bounds(totals: Mapping[str, object], data: MetalData | None = None
+                  ) -> tuple[np.ndarray, np.ndarray]:
+    """The most positive and most negative charge the metals can carry (mol/L): widen the
+    solver's bracket by these so that it still holds the root."""
+    p = q = np.zeros(())
+    for key, c in totals.items():
+        m = metal(key, data)
+        c = np.asarray(c, dtype=float)
+        p = p + m.charge * c
+        q = q + m.max_negative_charge * c
+    return p, q
+
+

@@ -1,0 +1,157 @@
+"""The planner's metals step: the sludge, the metal left dissolved and what the metals cost.
+
+The solver has settled, at every state of a plan, each modelled metal's hydrolysis and
+which solids are present (:mod:`carboy.model.solver.metal_terms`).  At the state the
+dose to the target leaves, this step reads: the sludge (each solid present, mol and dry
+mass in the batch), the metal left dissolved (mg/L of each metal, free ion and hydroxo
+complexes), the hydroxide the metals hold (mol: what they cost in the dose), and the
+cations the sample holds that have no metal data (a warning names them).  The solids
+the solver found join the plan's saturation list as expected (SI 0: present), so the
+sludge caution names them.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import re
+from dataclasses import dataclass
+
+import numpy as np
+
+from carboy.model import numbers
+from carboy.model.catalog import molar_mass_of
+from carboy.model.metal_data import metal_data, unmodelled_cations
+from carboy.model.metals import solid_formulas
+from carboy.model.precipitates import Precipitate
+
+ASSUMPTION = ("metals: hydrolysis and solids at 25 °C constants (mononuclear hydroxo "
+              "complexes; fresh, amorphous hydroxides; chloride, sulfate and polynuclear "
+              "complexes not modelled); a solid is present where the batch is saturated "
+              "with it, and its hydroxide is counted in the doses; the heat counts the "
+              "hydroxide the metals take as if it formed water (an overestimate: a "
+              "hydroxide's heat of precipitation is smaller)")
+
+
+@dataclass(frozen=True)
+class SludgeItem:
+    """One solid present at the target, in the whole batch."""
+
+    solid: str
+    formula: str
+    mol: float
+    dry_mass_g: float
+
+    def to_dict(self) -> dict:
+        return {"solid": self.solid, "formula": self.formula, "mol": self.mol,
+                "dry_mass_g": self.dry_mass_g}
+
+
+@dataclass(frozen=True)
+class MetalReport:
+    """What the metals step gives the plan."""
+
+    sludge: tuple[SludgeItem, ...] = ()
+    dissolved_mg_l: dict = dataclasses.field(default_factory=dict)
+    hydroxide_mol: float = 0.0
+    unmodelled: tuple[str, ...] = ()
+    precipitates: tuple[Precipitate, ...] = ()
+    warnings: tuple[str, ...] = ()
+    assumptions: tuple[str, ...] = ()
+
+
+def element_of(ion_key: str) -> str:
+    """``"Zn+2"`` -> ``"Zn"``: the element a metal ion key names."""
+    found = re.match(r"[A-Z][a-z]?", ion_key)
+    return found.group(0) if found else ion_key
+
+
+def _unmodelled_warning(keys: tuple[str, ...]) -> str:
+    return (f"no hydrolysis or solubility data for {', '.join(keys)}: "
+            f"{'its' if len(keys) == 1 else 'their'} hydrolysis and any solid "
+            f"{'it forms' if len(keys) == 1 else 'they form'} are not counted in the dose or "
+            "the sludge; treat the dose as a lower bound and measure the pH")
+
+
+def _sources() -> dict[str, str]:
+    data = metal_data()
+    out = {m.solid.name: m.solid.source for m in data.metals.values()}
+    out.update({s.name: s.source for s in data.ligand_solids})
+    return out
+
+
+def _merged(found: tuple[Precipitate, ...], res, i: int) -> tuple[Precipitate, ...]:
+    """The saturation list with the solver's solids: a solid present at point ``i`` is
+    expected (it settles at saturation); one the list lacks is added."""
+    if not res.solid_names:
+        return found
+    amount = dict(zip(res.solid_names, res.solids_molar[i].tolist()))
+    si = dict(zip(res.solid_names, res.saturation_indices[i].tolist()))
+    note = "present at the target: counted in the dose and the sludge"
+    out = []
+    for p in found:
+        if amount.get(p.solid, 0.0) > 0:
+            p = dataclasses.replace(p, expected=True, note="; ".join(filter(None, (p.note,
+                                                                                    note))))
+        out.append(p)
+    listed = {p.solid for p in found}
+    sources = _sources()
+    for name in res.solid_names:
+        if name not in listed and (amount[name] > 0 or np.isfinite(si[name])):
+            out.append(Precipitate(name, float(si[name]), amount[name] > 0, sources[name],
+                                   note if amount[name] > 0 else "25 °C constant"))
+    return tuple(out)
+
+
+def dissolved_totals_mol(res, i: int, volume_l: float) -> dict[str, float]:
+    """What stays dissolved of each component at point ``i`` of the solved batch ``res``
+    (volume ``volume_l`` L), mol: a modelled metal's dissolved total, a system's solved
+    total (a ligand a solid has taken is not in it), every other ion's total."""
+    batch = res.batch
+    out = {k: float(c) * volume_l for k, c in zip(batch.keys, batch.totals[i].tolist())}
+    out.update({k: float(c) * volume_l
+                for k, c in zip(res.system_keys, res.system_totals_molar[i].tolist())})
+    if res.metal_keys:
+        out.update({k: float(c) * volume_l
+                    for k, c in zip(res.metal_keys, res.dissolved_metal_molar[i].tolist())})
+    return out
+
+
+def metals_at_target(res, i: int, volume_l: float, totals, catalog,
+                     found: tuple[Precipitate, ...]) -> MetalReport:
+    """The metals of point ``i`` of the solved batch ``res`` (volume ``volume_l`` L), for
+    a sample of ``totals`` (key -> mol/L); ``found`` is the plan's saturation list."""
+    charges = {k: catalog.ions[k].charge for k in totals if k in catalog.ions}
+    missing = unmodelled_cations(charges) if any(z > 0 for z in charges.values()) else ()
+    warnings = (_unmodelled_warning(missing),) if missing else ()
+    if not res.metal_keys:
+        return MetalReport(unmodelled=missing, precipitates=found, warnings=warnings)
+    formulas = solid_formulas()
+    sludge = []
+    for name, mol_l in zip(res.solid_names, res.solids_molar[i].tolist()):
+        if mol_l > 0:
+            formula, mass = formulas[name]
+            sludge.append(SludgeItem(name, formula, mol_l * volume_l, mol_l * volume_l * mass))
+    dissolved = {key: float(c) * molar_mass_of(element_of(key)) * 1000.0
+                 for key, c in zip(res.metal_keys, res.dissolved_metal_molar[i].tolist())}
+    return MetalReport(tuple(sludge), dissolved, float(res.metal_oh_molar[i]) * volume_l,
+                       missing, _merged(found, res, i), warnings, (ASSUMPTION,))
+
+
+def metal_lines(sludge: tuple[SludgeItem, ...], dissolved_mg_l: dict, hydroxide_mol: float,
+                ph: float) -> tuple[tuple[str, str], ...]:
+    """What a front end shows of the metals in the state the dose to the target leaves
+    (at ``ph``), as (heading, text) lines: the sludge, the metal left dissolved and the
+    metals' share of the dose (none without metals)."""
+    lines = []
+    for item in sludge:
+        lines.append(("sludge", f"{item.solid}: {numbers.figures(item.mol, 3)} mol, about "
+                                f"{numbers.mass(item.dry_mass_g)} dry, in the whole batch"))
+    if dissolved_mg_l:
+        left = ", ".join(f"{element_of(k)} {numbers.figures(v, 2)} mg/L"
+                         for k, v in dissolved_mg_l.items())
+        lines.append(("dissolved", f"at pH {ph:.2f}: {left} (free ion and hydroxo "
+                                   "complexes)"))
+    if hydroxide_mol > 0:
+        lines.append(("metals' OH-", f"{numbers.figures(hydroxide_mol, 3)} mol of the dose "
+                                     "goes into the metals' hydroxides"))
+    return tuple(lines)
