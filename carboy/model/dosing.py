@@ -317,5 +317,7 @@ def refine_doses(dosing: Dosing, targets, direction: str) -> Dosing:
         f_hi = np.where(left, f_hi * 0.5, fn)   # Illinois: halve the kept end's value
         f_lo = np.where(left, fn, f_lo * 0.5)
         lo, hi = np.where(left, n, lo), np.where(left, hi, n)
-    doses[idx] = n
+    # to 12 significant digits: the pH is settled to REFINE_PH_TOL, and the last bits of a
+    # false-position root would differ between two runs whose sums round differently
+    doses[idx] = [float(f"{v:.12g}") for v in n.tolist()]
     return dataclasses.replace(dosing, doses=doses)
