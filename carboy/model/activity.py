@@ -18,11 +18,10 @@ weight as 10**(log beta0 - 2·ad·cmat - j·x) in ``solver.charge_balance.state_
 (H+ and OH- as two more rows, OH- through log10 Kw' = 2·ad - pKw), and take the
 derivatives with respect to ``ad`` for the Newton step in (x, I) through the rows'
 ``cmat`` (``row_c``); the one-solution path does the same in floats
-(``solver.single``).  A model that is not of this form (a specific-interaction model
-for concentrated solutions) needs its own per-state term in place of ``2·ad·cmat``
-(an (S, N) array of log10 of the ratio of coefficients of each state to the top
-state's, with H+ and OH-) and its own second unknown in place of I: add it here
-beside Davies, name it in ``ACTIVITY_MODELS`` and let ``speciation`` choose by name.
+(``solver.single``).  Models not of this form (the specific-interaction model, and
+ion pairs) are solved by the outer loops of ``solver.outer``: a per-state term
+(``problem.Amounts.shift``, an (S, N) array) and a per-point effective pKw held around
+the guaranteed path; ``speciation_models`` routes ``"pitzer"`` and ``"auto"`` there.
 
 References
 ----------
@@ -38,8 +37,10 @@ import numpy as np
 from carboy.errors import InvalidInput
 from carboy.model import water
 
-ACTIVITY_MODELS = ("davies", "ideal")
-"""Names accepted by ``activity=`` everywhere in the model."""
+ACTIVITY_MODELS = ("auto", "pitzer", "davies", "ideal")
+"""Names accepted by ``activity=`` everywhere in the model: ``"pitzer"`` and ``"auto"``
+are solved through ``speciation_models`` (the specific-interaction model); where a
+Davies-form coefficient is needed for them (a start, an inverse), Davies stands in."""
 
 DAVIES_LIMIT_MOLAR = 0.5
 """Above this ionic strength the Davies equation is outside its range."""
@@ -54,8 +55,9 @@ def check_model(activity: str) -> str:
 
 
 def debye_huckel_scale(activity: str, temperature_c: float) -> float:
-    """``A`` of ``log10 gamma = -A D(I) z²``: Debye–Hückel A for Davies, 0 when ideal."""
-    return water.debye_huckel_a(temperature_c) if activity == "davies" else 0.0
+    """``A`` of ``log10 gamma = -A D(I) z²``: Debye–Hückel A, 0 when ideal (Davies
+    stands in for ``"pitzer"`` and ``"auto"`` where a charge-only form is needed)."""
+    return water.debye_huckel_a(temperature_c) if activity != "ideal" else 0.0
 
 
 def davies_d(ionic):

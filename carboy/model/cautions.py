@@ -26,6 +26,9 @@ from dataclasses import dataclass, field
 from carboy.model import compatibility, numbers
 
 SEVERITIES = ("danger", "warning", "notice")
+PITZER_NOTICE_MOLAR = 5.0
+"""With the specific-interaction model the validity notice comes above this ionic
+strength (mol/L; about 6 mol/kg, the range its parameters were fitted to)."""
 
 NO_DRAIN_TAGS = frozenset({"hf_type", "no_drain", "heavy_metal", "chromic", "perchloric",
                            "cyanide", "sulfide", "explosive_residue"})
@@ -83,6 +86,7 @@ class Facts:
     vented_pH: float | None = None
     sensitivity_pH_per_percent: float = 0.0
     ionic_strength_molar: float = 0.0
+    activity_model: str = ""   # the plan's model once "auto" is settled ("pitzer", ...)
     max_total_molar: float = 0.0
     expected_solids: tuple[str, ...] = ()
     target_reached: bool = True
@@ -265,10 +269,14 @@ RULES: tuple[Rule, ...] = (
         + ". Settle and collect the solid as a sludge for disposal; do not wash it down the "
         "drain.")),
     ("model-validity", "notice",
-     lambda f: f.ionic_strength_molar > _t(f, "ionic_strength_notice_molar", 0.1), lambda f: (
+     lambda f: f.ionic_strength_molar > (
+         PITZER_NOTICE_MOLAR if f.activity_model == "pitzer"
+         else _t(f, "ionic_strength_notice_molar", 0.1)), lambda f: (
         f"Ionic strength about {f.ionic_strength_molar:.2g} M: the activity model is "
-        "approximate here (Davies is reliable to about 0.1-0.5 M); measure the pH rather "
-        "than trust the prediction.")),
+        "approximate here (" + ("the specific-interaction parameters were fitted to about "
+                                "6 mol/kg" if f.activity_model == "pitzer" else
+                                "Davies is reliable to about 0.1-0.5 M")
+        + "); measure the pH rather than trust the prediction.")),
     ("local-rules", "notice", lambda f: True, lambda f: (
         "Follow your local disposal rules and your institution's safety office: they set the "
         "real acceptance window and whether drain disposal is allowed at all. carboy advises; "

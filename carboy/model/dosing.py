@@ -12,6 +12,7 @@ also gives the state right after the addition.
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
@@ -20,9 +21,15 @@ import numpy as np
 from carboy.model import gas
 from carboy.model.mixture import MixtureBatch, titration_batch
 from carboy.model.speciation import BatchSpeciation, speciate_batch
+from carboy.model.speciation_models import ROUTED
 
 CURVE_SPAN = 1.3
 """The pH curve runs from 0 to this times the largest dose of interest."""
+
+REFINE_PH_TOL = 1e-6
+"""A dose refined on the forward solve reaches its pH to this."""
+REFINE_ROUNDS = 40
+"""Forward solves (each of every dose at once) allowed to refine the doses."""
 
 LossFunction = Callable[[np.ndarray], np.ndarray]
 """n (mol reagent) -> CO2 lost (mol) right after adding n."""
@@ -165,8 +172,11 @@ def find_doses(model: gas.TitrationModel, composition: Mapping[str, float], l_pe
         if (direction == "base" and ph_i <= initial_pH) or (
                 direction == "acid" and ph_i >= initial_pH):
             doses[i] = 0.0
-    return Dosing(model, composition, l_per_mol, doses, grid, fresh_loss, s_air, pco2,
-                  grid_air=grid_air)
+    found = Dosing(model, composition, l_per_mol, doses, grid, fresh_loss, s_air, pco2,
+                   grid_air=grid_air)
+    if model.activity in ROUTED:   # the inverse took Davies coefficients: settle forward
+        return refine_doses(found, targets, direction)
+    return found
 
 
 def fresh_loss_function(model: gas.TitrationModel, grid: np.ndarray,
@@ -267,3 +277,47 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
         grid = np.linspace(0.0, CURVE_SPAN * max(far, n_full), points)
         loss_of, grid_air = grid_losses(model, grid, s_sat, s_air)
     return doses, grid, loss_of, grid_air
+
+
+def refine_doses(dosing: Dosing, targets, direction: str) -> Dosing:
+    """The doses settled on the forward solve (Illinois false position, every dose at
+    once): with ``activity="auto"`` or ``"pitzer"`` the coefficients depend on the whole
+    composition, so the exact inverse (:meth:`gas.TitrationModel.amount_at_pH`, which
+    takes Davies coefficients) gives a start, and the dose that reaches each pH on the
+    model's own curve is found from there (pH rises with a base's dose, falls with an
+    acid's)."""
+    doses = dosing.doses.copy()
+    idx = np.flatnonzero(np.isfinite(doses) & (doses > 0))
+    if idx.size == 0:
+        return dosing
+    sign = 1.0 if direction == "base" else -1.0
+    want = np.asarray(targets, dtype=float)[idx]
+
+    def f(n):
+        return sign * (dosing.solve(n)[0].pH - want)
+
+    lo, hi = doses[idx] * 0.999, doses[idx] * 1.001
+    f_lo, f_hi = f(lo), f(hi)
+    for _ in range(REFINE_ROUNDS):   # widen until each dose is bracketed
+        low, high = f_lo > 0, f_hi < 0
+        if not (low.any() or high.any()):
+            break
+        lo = np.where(low, lo * 0.9, lo)
+        hi = np.where(high, hi * 1.1 + 1e-12, hi)
+        f_lo, f_hi = np.where(low, f(lo), f_lo), np.where(high, f(hi), f_hi)
+    n = 0.5 * (lo + hi)
+    for _ in range(REFINE_ROUNDS):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            n = np.where(f_hi != f_lo, (lo * f_hi - hi * f_lo) / (f_hi - f_lo), n)
+        n = np.where(np.isfinite(n) & (n > lo) & (n < hi), n, 0.5 * (lo + hi))
+        fn = f(n)
+        if np.all(np.abs(fn) <= REFINE_PH_TOL):
+            break
+        left = fn < 0
+        f_hi = np.where(left, f_hi * 0.5, fn)   # Illinois: halve the kept end's value
+        f_lo = np.where(left, fn, f_lo * 0.5)
+        lo, hi = np.where(left, n, lo), np.where(left, hi, n)
+    # to 12 significant digits: the pH is settled to REFINE_PH_TOL, and the last bits of a
+    # false-position root would differ between two runs whose sums round differently
+    doses[idx] = [float(f"{v:.12g}") for v in n.tolist()]
+    return dataclasses.replace(dosing, doses=doses)

@@ -44,6 +44,12 @@ def _integrands(q: np.ndarray):
     return h, qh1, q2h2
 
 
+def rows_times(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """a times b (rows by a matrix, or by a vector) as numpy's own sum of products: no
+    BLAS call, so none of its threads (the solver's rule, tests/unit/test_solver_no_blas)."""
+    return np.einsum("ij,j->i" if b.ndim == 1 else "ij,jk->ik", a, b)
+
+
 def j_integral(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """J, J' and J'' at ``x`` (> 0) by direct quadrature (1-D input)."""
     x = np.asarray(x, dtype=float)
@@ -53,7 +59,7 @@ def j_integral(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     w[-1] *= 0.5
     q = -(x[:, None] / y) * np.exp(-y)
     h, qh1, q2h2 = _integrands(q)
-    k0, k1, k2 = h @ w, qh1 @ w, q2h2 @ w
+    k0, k1, k2 = rows_times(h, w), rows_times(qh1, w), rows_times(q2h2, w)
     lin = k1 - k0
     return k0 / x, lin / x**2, (k2 - 2.0 * lin) / x**3
 

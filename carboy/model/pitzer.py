@@ -53,6 +53,7 @@ import numpy as np
 from carboy.errors import InvalidInput
 from carboy.model import water
 from carboy.model.etheta import etheta
+from carboy.model.etheta import rows_times as _mm
 from carboy.model.pitzer_data import load_pitzer_data, parameter_arrays
 
 I_MAX_MOLAL = 6.0
@@ -287,11 +288,11 @@ class PitzerModel:
 
     def _like(self, mx, theta, pairs, ionic, eth):
         """Like-signed mixing: Σ_j m_j 2Φ_ij (N, k), Σ_i<j m m Φ'_ij and Σ_i<j m m Φ^φ_ij."""
-        t = mx @ theta
+        t = _mm(mx, theta)
         lin, fprime, osm = 2.0 * t, np.zeros_like(ionic), 0.5 * (mx * t).sum(axis=1)
         for za, zb, mask in pairs:
             e, ep = eth[(za, zb)]
-            u = mx @ mask
+            u = _mm(mx, mask)
             half = 0.5 * (mx * u).sum(axis=1)
             lin = lin + 2.0 * e[:, None] * u
             fprime = fprime + ep * half
@@ -304,8 +305,8 @@ class PitzerModel:
         acc_c, acc_a = np.zeros_like(mc), np.zeros_like(ma)
         fprime, osm = np.zeros_like(ionic), np.zeros_like(ionic)
         for alpha, mat in self._terms:
-            q = ma @ mat.T
-            r = mc @ mat
+            q = _mm(ma, mat.T)
+            r = _mm(mc, mat)
             both = (mc * q).sum(axis=1)
             if alpha is None:
                 f_gamma, f_phi = 1.0, 1.0
@@ -317,8 +318,8 @@ class PitzerModel:
             acc_c = acc_c + 2.0 * f_gamma * q
             acc_a = acc_a + 2.0 * f_gamma * r
             osm = osm + f_phi * both
-        qc = ma @ self._p.c.T
-        rc = mc @ self._p.c
+        qc = _mm(ma, self._p.c.T)
+        rc = _mm(mc, self._p.c)
         csum = (mc * qc).sum(axis=1)
         acc_c = acc_c + big_z[:, None] * qc
         acc_a = acc_a + big_z[:, None] * rc
@@ -341,21 +342,21 @@ class PitzerModel:
         n = len(ionic)
         if self._has_psi:
             pca = (mc[:, :, None] * ma[:, None, :]).reshape(n, -1)
-            psi_c, psi_a = pca @ self._psi_c_ca, pca @ self._psi_a_ca
+            psi_c, psi_a = _mm(pca, self._psi_c_ca), _mm(pca, self._psi_a_ca)
             paa = (ma[:, :, None] * ma[:, None, :]).reshape(n, -1)
             pcc = (mc[:, :, None] * mc[:, None, :]).reshape(n, -1)
-            ln_c = ln_c + psi_c + 0.5 * (paa @ self._psi_a_aa)
-            ln_a = ln_a + psi_a + 0.5 * (pcc @ self._psi_c_cc)
+            ln_c = ln_c + psi_c + 0.5 * (_mm(paa, self._psi_a_aa))
+            ln_a = ln_a + psi_a + 0.5 * (_mm(pcc, self._psi_c_cc))
             osm = osm + 0.5 * (mc * psi_c).sum(axis=1) + 0.5 * (ma * psi_a).sum(axis=1)
         ln_n = np.zeros_like(mn)
         if mn.shape[1]:
-            lam_c, lam_a, lam_n = mn @ p.lam_c, mn @ p.lam_a, mn @ p.lam_n
+            lam_c, lam_a, lam_n = _mm(mn, p.lam_c), _mm(mn, p.lam_a), _mm(mn, p.lam_n)
             zeta_c = np.einsum("nk,na,kca->nc", mn, ma, p.zeta)
             zeta_a = np.einsum("nk,nc,kca->na", mn, mc, p.zeta)
             zeta_n = np.einsum("nc,na,kca->nk", mc, ma, p.zeta)
             ln_c = ln_c + 2.0 * lam_c + zeta_c
             ln_a = ln_a + 2.0 * lam_a + zeta_a
-            ln_n = 2.0 * (mc @ p.lam_c.T + ma @ p.lam_a.T + lam_n) + zeta_n
+            ln_n = 2.0 * (_mm(mc, p.lam_c.T) + _mm(ma, p.lam_a.T) + lam_n) + zeta_n
             osm = (osm + (mc * lam_c).sum(axis=1) + (ma * lam_a).sum(axis=1)
                    + 0.5 * (mn * lam_n).sum(axis=1) + (mn * zeta_n).sum(axis=1))
         return (ln_c, ln_a, ln_n), osm, f_dh

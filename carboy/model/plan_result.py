@@ -32,6 +32,7 @@ from carboy.model.precipitates import Precipitate, SaltLimit
 from carboy.model.reagent_reach import Reach
 from carboy.model.reagents import Reagent
 from carboy.model.speciation import BatchSpeciation
+from carboy.model.speciation_models import ph_scale_of
 
 
 @dataclass(frozen=True)
@@ -138,6 +139,14 @@ class Plan:
     """Soluble salts at the target against their solubility at the batch temperature."""
     reagent_reach: Reach | None = None
     """With a carbonate reagent: the protons it cannot take (not in the full dose)."""
+    activity_model: str = ""
+    """The model the plan was solved with (``activity="auto"``: ``"davies"`` or
+    ``"pitzer"``; else ``activity`` itself)."""
+
+    @property
+    def ph_scale(self) -> str:
+        """What the plan's pH values mean (see ``speciation_models.PH_SCALES``)."""
+        return ph_scale_of(self.activity_model or self.activity)
 
     def metal_lines(self) -> tuple[tuple[str, str], ...]:
         """The metals at the target for a front end: (heading, text) lines
@@ -155,6 +164,8 @@ class Plan:
                         "form": self.reagent.form},
             "direction": self.direction,
             "activity": self.activity,
+            "activity_model": self.activity_model or self.activity,
+            "ph_scale": self.ph_scale,
             "initial_pH": self.initial_pH,
             "proton_equivalents_mol": self.proton_equivalents_mol,
             "breakdown": self.breakdown,

@@ -91,6 +91,7 @@ from carboy.model.equivalence import equivalence_amounts
 from carboy.model.heat_capacity import solute_mass_g
 from carboy.model.metal_doses import MetalDoses
 from carboy.model.mixture import Mixture
+from carboy.model.plan_activity import model_used, settle_activity
 from carboy.model.plan_heat import HeatAndGas, heat_and_gas
 from carboy.model.plan_metals import MetalReport, dissolved_totals_mol, metals_at_target
 from carboy.model.plan_request import PlanRequest, check_request, with_safe_temperature
@@ -125,7 +126,8 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     reagent : from :func:`~carboy.model.reagents.parse_reagent`.
     target_pH : pH to aim for, 0–14.
     window : (low, high) acceptance window, 0–14, low < high (local rules set the real one).
-    activity : ``"davies"`` or ``"ideal"``.
+    activity : ``"auto"``, ``"pitzer"``, ``"davies"`` or ``"ideal"`` (``"auto"`` is
+        settled once for the whole plan: ``plan_activity``).
     hazards : hazard tags known about the sample (the store passes its additions' tags).
     curve_points : points of the pH curve (>= 20).
     safe_temperature_c : the temperature a batch is kept under (°C; default carboy's, 50);
@@ -146,6 +148,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     req = with_safe_temperature(req, safe_temperature_c, safe_from)
     start = _start(req)
     demand, reach = _reagent_reach(req, start, _proton_demand(req, start))
+    req = settle_activity(req, demand.n_full)   # "auto": one model for the whole plan
     dosing = _bicarbonate_ceiling(req, reach, _find_doses(req, start, demand))
     curve_res, curve_vol = _solve_curve(req, dosing)
     pts = _solve_points(req, start, dosing, demand.n_full, curve_res)
@@ -157,7 +160,8 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     precipitates = metals.precipitates
     warnings = heat.warnings + _warnings(req, dosing, pts, doses) + list(metals.warnings)
     facts = dataclasses.replace(_facts(req, start, dosing, pts, doses, heat, precipitates),
-                                **_limit_facts(heat, salts, reach, doses, start))
+                                **_limit_facts(heat, salts, reach, doses, start),
+                                activity_model=req.activity)
     plan = Plan(
         sample=sample, reagent=reagent, direction=start.direction, activity=activity,
         initial_pH=start.initial_pH, proton_equivalents_mol=float(demand.proton_eq),
@@ -177,6 +181,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
         curve_volume_l=curve_vol, batch_heat=heat.batch, salt_limits=salts,
         reagent_reach=reach, sludge=metals.sludge, dissolved_metals_mg_l=metals.dissolved_mg_l,
         metal_hydroxide_mol=metals.hydroxide_mol, unmodelled_metals=metals.unmodelled,
+        activity_model=model_used(req.activity, curve_res),
     )
     return _waste_cautions(req, plan)
 

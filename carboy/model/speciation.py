@@ -26,6 +26,8 @@ iterated to self-consistency; pH is -log10 a(H+).  ``activity="ideal"`` sets eve
 activity coefficient to 1 and pH = -log10[H+] (see :mod:`carboy.model.activity`).
 Temperature enters through pKw (IAPWS R11-07) and each step's pKa by the van 't Hoff
 equation integrated with a constant heat-capacity change (Clarke & Glew form).
+``activity="pitzer"`` and ``"auto"`` (the specific-interaction model, ion pairs) are
+routed to :mod:`carboy.model.speciation_models`.
 
 This module is the public API: :func:`speciate` (one solution), :func:`speciate_batch`
 (N solutions in one set of numpy operations, not a Python loop), :func:`state_at`
@@ -97,6 +99,7 @@ from carboy.model.solver.metal_terms import columns as metal_columns
 from carboy.model.solver.problem import Problem, build_problem
 from carboy.model.solver.single import solve_one
 from carboy.model.solver.starts import start_between
+from carboy.model.speciation_models import ModelPart, ModelPoint, needs_route, ph_scale_of, route
 
 METAL_T_SPAN_C = 5.0
 """Beyond this distance from 25 °C a result with metals says their constants are for 25 °C."""
@@ -142,6 +145,18 @@ class Speciation:
     """The same solids -> log10(IAP / K)."""
     dissolved_metals: Mapping[str, float] = field(default_factory=dict)
     """Each modelled metal ion -> its dissolved total (free ion and complexes), mol/L."""
+    model_part: ModelPoint | None = None   # the model used, mol/kg (speciation_models)
+
+    @property
+    def ph_scale(self) -> str:
+        """What the pH means: ``"macinnes"``, ``"davies"`` or ``"concentration"``."""
+        return self.model_part.ph_scale if self.model_part else ph_scale_of(self.activity)
+
+    @property
+    def molality(self) -> Mapping[str, float]:
+        """Species in mol/kg of water (empty where the result has no model part)."""
+        w = self.model_part.water_kg_per_l if self.model_part else 0.0
+        return {k: v / w for k, v in self.species.items()} if w else {}
 
     def mean_protons_bound(self, system: str) -> float:
         """Average number of dissociable protons still bound per unit of ``system``."""
@@ -190,6 +205,7 @@ class BatchSpeciation:
     """(N, len(solid_names)) precipitated, mol of formula units per L (0: absent)."""
     saturation_indices: np.ndarray | None = None
     """(N, len(solid_names)) log10(IAP / K): 0 where present, < 0 where absent."""
+    model_part: ModelPart | None = None
 
     def __len__(self) -> int:
         return self.pH.shape[0]
@@ -209,6 +225,7 @@ class BatchSpeciation:
             converged=self.converged[idx], species_molar=self.species_molar[idx],
             fractions=self.fractions[idx], log_gamma_by_charge=self.log_gamma_by_charge[idx],
             system_totals_molar=self.system_totals_molar[idx],
+            model_part=None if self.model_part is None else self.model_part.rows(idx),
             warnings=tuple(self.warnings[i] for i in np.arange(len(self))[idx].tolist()),
             batch=None if self.batch is None else MixtureBatch(
                 self.batch.keys, self.batch.totals[idx], self.batch.temperature_c))
@@ -223,6 +240,8 @@ class BatchSpeciation:
         lg = self.log_gamma_by_charge[n]
         gam = {lab: float(10 ** lg[abs(z)])
                for lab, z in zip(self.species_labels, self.species_charges)}
+        if self.model_part is not None:   # one coefficient per species
+            gam = dict(zip(self.species_labels, (10.0 ** self.model_part.log_gamma[n]).tolist()))
         h = 10.0 ** float(self.log_h[n])
         return Speciation(
             pH=float(self.pH[n]),
@@ -241,6 +260,7 @@ class BatchSpeciation:
             charge_residual_molar=float(self.charge_residual_molar[n]),
             mixture=self.batch.mixture(n) if self.batch is not None else None,
             **self._metals_of(n),
+            model_part=None if self.model_part is None else self.model_part.point(n),
         )
 
     def _metals_of(self, n: int) -> dict:
@@ -300,6 +320,10 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
         res = speciate_batch(batch, activity=activity, catalog=catalog, held=held).point(0)
         return Speciation(**{**res.__dict__, "mixture": mixture})
     lay = cached_layout(catalog, keys, t_c)
+    if needs_route(lay, activity, t_c):
+        batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
+        res = route(batch, lay, activity, catalog, None, None, _solve).point(0)
+        return Speciation(**{**res.__dict__, "mixture": mixture})
     pkw = water.pkw(t_c)
     a_dh = debye_huckel_scale(activity, t_c)
     fast = None if not lay.python_path else solve_one(lay, row, pkw, a_dh, max_iter=COUPLED_ITER)
@@ -319,7 +343,8 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
     Parameters
     ----------
     batch : mixtures sharing keys and temperature (0–100 °C); totals in mol/L.
-    activity : ``"davies"`` (default) or ``"ideal"``.
+    activity : ``"davies"`` (default), ``"ideal"``, ``"pitzer"`` or ``"auto"`` (see
+        :mod:`carboy.model.speciation_models`).
     catalog : where the keys are looked up; the built-in catalog by default.
     held : open systems: ``{system key: (species label, mol/L)}`` holds that species at
         that concentration (a number or one per point) instead of fixing the system's
@@ -353,6 +378,8 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
         if len(guess) != 2 or any(g.shape[0] != len(batch) for g in guess):
             raise InvalidInput("start", f"{len(guess)} arrays",
                                f"expected log10[H+] and ionic strength for {len(batch)} points")
+    if needs_route(lay, activity, t_c):
+        return route(batch, lay, activity, catalog, held, guess, _solve)
     return _solve(batch, lay, activity, t_c, held, guess)
 
 

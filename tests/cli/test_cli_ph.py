@@ -25,9 +25,34 @@ def test_json_has_the_promised_keys(capsys):
     for key in ("pH", "ionic_strength_molar", "temperature_c", "activity", "species", "warnings"):
         assert key in data
     assert data["temperature_c"] == 35.0
-    assert data["activity"] == "davies"
+    assert data["activity"] == "auto"                 # the default
+    assert data["activity_model"] == "davies" and data["ph_scale"] == "davies"
     assert 1.0 < data["pH"] < 1.7
     assert data["species"]["HSO4-"] > 0
+
+
+def test_activity_choices(capsys):
+    code, out, err = run(capsys, "ph", "HCl=2M", "NaCl=1M", "--activity", "pitzer", "--json")
+    assert code == 0, err
+    data = json.loads(out)
+    assert (data["activity"], data["activity_model"], data["ph_scale"]) == (
+        "pitzer", "pitzer", "macinnes")
+    assert data["molality"]["Na+"] > data["species"]["Na+"]
+    assert data["ionic_strength_molal"] > data["ionic_strength_molar"]
+    code, out, _ = run(capsys, "ph", "HCl=2M", "NaCl=1M")
+    assert code == 0
+    assert "auto: specific-interaction (Pitzer) activity (MacInnes pH scale" in out
+    assert "mol/kg" in out
+    code, out, _ = run(capsys, "ph", "HCl=0.01M", "--activity", "davies")
+    assert code == 0 and "(Davies activity (pH from Davies activity, mol/L))" in out
+    code, out, _ = run(capsys, "ph", "HCl=0.01M", "--activity", "ideal", "--json")
+    assert json.loads(out)["ph_scale"] == "concentration"
+
+
+def test_ideal_contradicting_activity_is_refused(capsys):
+    code, _, err = run(capsys, "ph", "HCl=0.01M", "--ideal", "--activity", "pitzer")
+    assert code == 2
+    assert "--ideal" in err
 
 
 def test_ideal_switch_and_names(capsys):
@@ -46,11 +71,16 @@ def test_readable_table(capsys):
 
 
 def test_high_ionic_strength_warns(capsys):
-    code, out, _ = run(capsys, "ph", "HCl=2M", "--json")
+    code, out, _ = run(capsys, "ph", "HCl=2M", "--activity", "davies", "--json")
     assert code == 0
     data = json.loads(out)
     assert data["pH"] < 0
     assert any("0.5 M" in w for w in data["warnings"])
+    # the default (auto) takes the specific-interaction model there, without that warning
+    code, out, _ = run(capsys, "ph", "HCl=2M", "--json")
+    data = json.loads(out)
+    assert data["activity_model"] == "pitzer"
+    assert not any("0.5 M" in w for w in data["warnings"])
 
 
 @pytest.mark.parametrize(

@@ -32,7 +32,7 @@ def test_a_good_form_reads_into_a_request(catalog):
     request = reading.value
     assert request.mixture.volume_l == pytest.approx(1.5)
     assert request.target_pH == 6.5 and request.window == (6.0, 9.0)
-    assert request.temperature_c == 30.0 and request.activity == "davies"
+    assert request.temperature_c == 30.0 and request.activity == "auto"   # the default
     assert reading.echoes["volume"] == "understood: 1.5 L"
 
 

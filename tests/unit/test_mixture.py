@@ -39,8 +39,8 @@ def test_temperature_out_of_range(catalog):
 
 def test_unknown_activity_model(catalog):
     with pytest.raises(InvalidInput) as info:
-        speciate(Mixture({"Na+": 0.1}), activity="pitzer", catalog=catalog)
-    assert "pitzer" in str(info.value)
+        speciate(Mixture({"Na+": 0.1}), activity="debye-huckel", catalog=catalog)
+    assert "debye-huckel" in str(info.value)
 
 
 def test_combine_adds_volumes_and_moles():

@@ -65,7 +65,7 @@ def test_wrong_direction_is_clear():
 
 
 @pytest.mark.parametrize("kw", [{"target_pH": 15}, {"target_pH": -1}, {"window": (9, 6)},
-                                {"window": (6, 6)}, {"activity": "pitzer"}, {"curve_points": 3}])
+                                {"window": (6, 6)}, {"activity": "debye-huckel"}, {"curve_points": 3}])
 def test_bad_arguments(kw):
     with pytest.raises(InvalidInput):
         plan_neutralization(acid(), parse_reagent("NaOH=1M"), **kw)

@@ -9,15 +9,22 @@ from pathlib import Path
 
 import pytest
 
+import carboy.model.etheta
 import carboy.model.metal_data
 import carboy.model.metals
+import carboy.model.molality
+import carboy.model.pitzer
 import carboy.model.solver
 import carboy.model.speciation
+import carboy.model.speciation_models
 
 SOLVER = sorted(Path(carboy.model.solver.__file__).parent.glob("*.py")) + [
-    Path(carboy.model.speciation.__file__), Path(carboy.model.metals.__file__),
-    Path(carboy.model.metal_data.__file__)]
-"""The solver's own modules and the metal terms it evaluates at every trial point."""
+    Path(m.__file__) for m in (carboy.model.speciation, carboy.model.metals,
+                               carboy.model.metal_data, carboy.model.speciation_models,
+                               carboy.model.pitzer, carboy.model.etheta,
+                               carboy.model.molality)]
+"""The solver's own modules, the metal terms it evaluates at every trial point, and the
+specific-interaction model's."""
 BLAS_CALLS = {"dot", "matmul", "tensordot", "inner", "vdot", "outer_product", "solve",
               "lstsq", "inv", "multi_dot"}
 

@@ -36,7 +36,7 @@ from carboy.model.water import check_temperature
 
 DEFAULTS = {"target": "7.0", "window_low": "6.0", "window_high": "9.0",
             "temperature": "25 °C"}
-ACTIVITY_CHOICES = ("davies", "ideal")
+ACTIVITY_CHOICES = ("auto", "pitzer", "davies", "ideal")
 FIELDS = ("components", "volume", "temperature", "reagent", "target", "window")
 
 NEED_COMPONENTS = ("needed: the components, e.g. H2SO4=0.05M NaH2PO4=10mM, or a waste "
@@ -60,7 +60,7 @@ class NeutralizeFields:
     window_low: str = DEFAULTS["window_low"]
     window_high: str = DEFAULTS["window_high"]
     temperature: str = DEFAULTS["temperature"]
-    activity: str = "davies"
+    activity: str = "auto"
 
 
 @dataclass(frozen=True)

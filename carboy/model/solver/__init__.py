@@ -19,5 +19,9 @@
 ``single``          the fast path for one solution, in plain Python floats (closed forms for
                     single-signed systems); also a handful of points, one after another
 
-The activity model (Davies or ideal) is :mod:`carboy.model.activity`.
+``outer``           outer loops around the guaranteed path: the specific-interaction
+                    (Pitzer) coefficients and ion pairs, held per point as state terms
+
+The activity model (Davies or ideal) is :mod:`carboy.model.activity`; the routing of
+``"pitzer"`` and ``"auto"`` is :mod:`carboy.model.speciation_models`.
 """

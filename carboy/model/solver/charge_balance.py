@@ -51,7 +51,7 @@ def _buffer(name: str, rows: int, n: int) -> np.ndarray:
     return buf
 
 
-def state_weights(x, ad, lay: Layout, log_kw=None) -> np.ndarray:
+def state_weights(x, ad, lay: Layout, log_kw=None, shift=None) -> np.ndarray:
     """(S + 3, N): the unnormalized weights e of every state at log10[H+] = ``x`` and
     A·D = ``ad``, then [H+] and [OH-] (with ``log_kw``, log10 Kw' at A·D; else 0) and a
     row of zeros (for :func:`group_sums`).
@@ -59,7 +59,8 @@ def state_weights(x, ad, lay: Layout, log_kw=None) -> np.ndarray:
     e = 10**(log beta0 - 2 A D cmat - j x): with log10 gamma = -A D z², the step
     HA(z) = H+ + A(z-1) has log10 K' = log10 K - 2 A D (z - 1), summed in cmat.  Where
     the layout says the range could overflow, each system is shifted by its largest
-    exponent (a common factor of the system's states, which cancels).
+    exponent (a common factor of the system's states, which cancels).  ``shift`` (S, N),
+    where given, is added to each state's exponent (see ``problem.Amounts.shift``).
     """
     s, n = lay.flat_j.shape[0], x.shape[0]
     t = _buffer("t", s + 3, n)
@@ -69,6 +70,8 @@ def state_weights(x, ad, lay: Layout, log_kw=None) -> np.ndarray:
         tmp = _buffer("tmp", s, n)
         np.multiply.outer(lay.flat_c, 2.0 * ad, out=tmp)
         t[:s] -= tmp
+    if shift is not None:
+        t[:s] += shift
     if lay.needs_shift:
         for a, b in lay.sys_slices:
             t[a:b] -= t[a:b].max(axis=0)
@@ -98,7 +101,7 @@ def _concentrations(x, ad, log_kw, lay: Layout, am: Amounts):
     """The weights e (see :func:`state_weights`), each system's sums (see
     :func:`group_sums`), its total (K, N) and the (S + 2, N) concentration of each
     state, then of H+ and OH-."""
-    e = state_weights(x, ad, lay, log_kw)
+    e = state_weights(x, ad, lay, log_kw, am.shift)
     sums = group_sums(e, lay)
     s = lay.flat_j.shape[0]
     s0 = sums[0]

@@ -37,13 +37,17 @@ class Amounts:
     c0: np.ndarray | None = None         # (K,) cmat of the reference state
     e0_col: np.ndarray | None = None     # (K,) row of the reference state in the flat states
     metal: np.ndarray | None = None      # (Mt, N) totals of the modelled metal ions
+    shift: np.ndarray | None = None      # (S, N) log10 term added to each state's weight
+    # (set by an outer loop: the specific-interaction coefficients, or ion pairs lumped
+    # into the state they hold; see solver.outer)
 
     def __getitem__(self, idx) -> Amounts:
         metal = None if self.metal is None else self.metal[:, idx]
+        shift = None if self.shift is None else self.shift[:, idx]
         if self.held is None:
-            return Amounts(self.c[:, idx], metal=metal)
+            return Amounts(self.c[:, idx], metal=metal, shift=shift)
         return Amounts(self.c[:, idx], self.held[:, idx], self.mask, self.j0, self.c0,
-                       self.e0_col, metal)
+                       self.e0_col, metal, shift)
 
 
 def _held_value(lay: Layout, key: str, spec, n: int) -> tuple[int, int, np.ndarray]:
@@ -96,15 +100,16 @@ class Problem:
     ispec: np.ndarray      # (N,) ionic strength of the spectator ions
     q: np.ndarray          # (N,) largest negative charge the solutes can carry
     p: np.ndarray          # (N,) largest positive charge the solutes can carry
-    pkw: float
+    pkw: float             # or (N,) where an outer loop sets an effective pKw per point
     a_dh: float            # activity scale A (0: ideal)
     totals: np.ndarray     # (N, columns) the totals as given, for the one-solution path
     hi: np.ndarray         # (N,) upper bound of x, log10(Q + 1) + 1e-3
     lo_below: np.ndarray   # (N,) the lower bound's distance below log10 Kw', log10(P + 1) + 1e-3
 
     def __getitem__(self, idx) -> Problem:
+        pkw = self.pkw if np.ndim(self.pkw) == 0 else self.pkw[idx]
         return Problem(self.lay, self.am[idx], self.zs_pos[idx], self.zs_neg[idx],
-                       self.ispec[idx], self.q[idx], self.p[idx], self.pkw, self.a_dh,
+                       self.ispec[idx], self.q[idx], self.p[idx], pkw, self.a_dh,
                        self.totals[idx], self.hi[idx], self.lo_below[idx])
 
     def bounds(self, log_kw):

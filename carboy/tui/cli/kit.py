@@ -204,3 +204,27 @@ def first_problem(reading, options: dict[str, str]):
     if option and problem is not None and not str(problem).startswith(option):
         raise UsageError(f"{option}: {problem}")
     return reading.raise_first()
+
+
+ACTIVITY_CHOICES = ("auto", "pitzer", "davies", "ideal")
+"""The activity models every command that computes a pH offers (default ``auto``)."""
+
+
+def add_activity_options(p) -> None:
+    """``--activity`` and its short form ``--ideal`` on a command that computes a pH."""
+    p.add_argument("--activity", choices=ACTIVITY_CHOICES, default=None,
+                   help="activity model: auto (default: Davies with ion pairs up to an "
+                   "ionic strength of 0.5 mol/kg, the specific-interaction (Pitzer) model "
+                   "above), pitzer, davies or ideal")
+    p.add_argument("--ideal", action="store_true",
+                   help="short for --activity ideal: activity coefficients 1, "
+                   "pH = -log10[H+]")
+
+
+def chosen_activity(args) -> str:
+    """The activity model the options name; --ideal with another --activity is refused."""
+    if args.ideal:
+        if args.activity not in (None, "ideal"):
+            raise UsageError(f"--ideal and --activity {args.activity} contradict each other")
+        return "ideal"
+    return args.activity or "auto"

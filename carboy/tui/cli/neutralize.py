@@ -7,7 +7,15 @@ import sys
 
 from carboy.errors import HazardRefused
 from carboy.model.forms.neutralize import NeutralizeFields
-from carboy.tui.cli.kit import EXIT_REFUSED, UsageError, emit_json, first_problem, open_store
+from carboy.tui.cli.kit import (
+    EXIT_REFUSED,
+    UsageError,
+    add_activity_options,
+    chosen_activity,
+    emit_json,
+    first_problem,
+    open_store,
+)
 from carboy.tui.wording import disposal_lines, plan_heat_text
 
 EXAMPLES = """examples:
@@ -42,7 +50,7 @@ def register(sub) -> None:
                         "--waste, else carboy's placeholder 6:9; local rules set the real one)")
     p.add_argument("--temperature", default="25", metavar="C",
                    help="temperature in °C, 0–100 (default 25)")
-    p.add_argument("--ideal", action="store_true", help="ideal solution (activities 1)")
+    add_activity_options(p)
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(func=run)
 
@@ -61,7 +69,7 @@ def fields_of(args, window: tuple[float, float] = (6.0, 9.0)) -> NeutralizeField
     return NeutralizeFields(components=tuple(args.components), volume=args.volume or "",
                             reagent=args.reagent, target=args.target, window_low=low,
                             window_high=high, temperature=args.temperature,
-                            activity="ideal" if args.ideal else "davies")
+                            activity=chosen_activity(args))
 
 
 def build_plan(args):
@@ -100,6 +108,8 @@ def _amount(dose, reagent) -> str:
 
 
 def format_report(plan) -> str:
+    from carboy.model.speciation_models import describe_model
+
     lines = []
     marks = {"danger": "!!", "warning": "! ", "notice": "- "}
     if not plan.drain_plan:
@@ -114,7 +124,7 @@ def format_report(plan) -> str:
     lines.append(f"reagent        {r.describe()}")
     lines.append(f"sample         {plan.sample.volume_l * 1000:.4g} mL at "
                  f"{plan.sample.temperature_c:g} °C, pH {plan.initial_pH:.2f} "
-                 f"({'Davies activity' if plan.activity == 'davies' else 'ideal solution'})")
+                 f"({describe_model(plan.activity, plan.activity_model)})")
     if plan.direction == "base":
         lines.append(f"every proton   {plan.proton_equivalents_mol:.4g} mol OH- needed to take "
                      "every acid to its fully deprotonated form")

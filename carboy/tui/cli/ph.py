@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from carboy.tui.cli.kit import emit_json
+from carboy.tui.cli.kit import add_activity_options, chosen_activity, emit_json
 
 EXAMPLES = """examples:
   carboy ph H2SO4=0.05M NaH2PO4=10mM --temperature 35
@@ -26,8 +26,7 @@ def register(sub) -> None:
                    "a bare number is molar)")
     p.add_argument("--temperature", default="25", metavar="C",
                    help="temperature in °C, 0–100 (default 25)")
-    p.add_argument("--ideal", action="store_true",
-                   help="ideal solution: activity coefficients 1, pH = -log10[H+]")
+    add_activity_options(p)
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(func=run)
 
@@ -43,8 +42,8 @@ def build_result(args) -> dict:
     parsed = [parse_component(text, catalog) for text in args.components]
     t = quantities.temperature_c(args.temperature)
     mixture = Mixture.from_compounds(parsed, temperature_c=t)
-    activity = "ideal" if args.ideal else "davies"
-    res = speciate(mixture, activity=activity, catalog=catalog)
+    res = speciate(mixture, activity=chosen_activity(args), catalog=catalog)
+    part = res.model_part
     return {
         "pH": res.pH,
         "h_molar": res.h_molar,
@@ -52,12 +51,18 @@ def build_result(args) -> dict:
         "ionic_strength_molar": res.ionic_strength_molar,
         "temperature_c": res.temperature_c,
         "activity": res.activity,
+        "activity_model": part.model if part else res.activity,
+        "ph_scale": res.ph_scale,
+        "ionic_strength_molal": part.ionic_strength_molal if part else None,
+        "water_kg_per_l": part.water_kg_per_l if part else None,
+        "water_activity": part.water_activity if part else None,
         "components": [
             {"compound": c.key, "name": c.name, "formula": c.formula, "conc_molar": v}
             for c, v in parsed
         ],
         "totals_molar": dict(mixture.totals),
         "species": dict(res.species),
+        "molality": dict(res.molality),
         "fractions": {k: dict(v) for k, v in res.fractions.items()},
         "activity_coefficients": dict(res.activity_coefficients),
         "warnings": list(res.warnings),
@@ -68,24 +73,32 @@ def build_result(args) -> dict:
 
 
 def format_report(r: dict) -> str:
+    from carboy.model.speciation_models import describe_model
+
     lines = []
     for w in r["warnings"]:
         lines.append(f"! {w}")
     comps = ", ".join(f"{c['compound']} {c['conc_molar']:.4g} M" for c in r["components"])
-    model = "Davies activity" if r["activity"] == "davies" else "ideal solution"
+    model = describe_model(r["activity"], r["activity_model"])
+    ionic = f"{r['ionic_strength_molar']:.4g} M"
+    if r["ionic_strength_molal"] is not None:
+        ionic += f"   ({r['ionic_strength_molal']:.4g} mol/kg)"
     for label, value in (
         ("solution", comps),
         ("temperature", f"{r['temperature_c']:g} °C   (pKw {r['pkw']:.3f})"),
         ("pH", f"{r['pH']:.3f}   ({model})"),
-        ("ionic strength", f"{r['ionic_strength_molar']:.4g} M"),
+        ("ionic strength", ionic),
     ):
         lines.append(f"{label:<16}{value}")
     lines.append("")
-    lines.append(f"{'species':<14}{'mol/L':>12}   {'gamma':>6}")
+    molal = r["molality"]
+    lines.append(f"{'species':<14}{'mol/L':>12}" + (f"{'mol/kg':>12}" if molal else "")
+                 + f"   {'gamma':>6}")
     order = sorted(r["species"].items(), key=lambda kv: -kv[1])
     for label, c in order:
         g = r["activity_coefficients"].get(label, 1.0)
-        lines.append(f"{label:<14}{c:>12.4e}   {g:>6.3f}")
+        kg = f"{molal[label]:>12.4e}" if molal else ""
+        lines.append(f"{label:<14}{c:>12.4e}{kg}   {g:>6.3f}")
     if r["fractions"]:
         lines.append("")
         lines.append("fraction of each system in each form")

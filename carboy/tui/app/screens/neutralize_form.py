@@ -14,7 +14,9 @@ from carboy.tui.app.widgets import redraw
 from carboy.tui.app.widgets.quiet_select import QuietSelect
 from carboy.tui.app.widgets.steady_input import InPlaceInput
 
-ACTIVITY_WORDS = {"davies": "Davies (ionic strength)", "ideal": "ideal (activities 1)"}
+ACTIVITY_WORDS = {"auto": "auto (Davies, Pitzer above 0.5 mol/kg)",
+                  "pitzer": "Pitzer (concentrated)", "davies": "Davies (ionic strength)",
+                  "ideal": "ideal (activities 1)"}
 """The activity choice in words: its state is the text shown, never a colour."""
 
 
@@ -75,7 +77,7 @@ class NeutralizeForm(VerticalScroll):
         yield Static("", id="echo-temperature", classes="nz-echo", markup=False)
         with Horizontal(classes="nz-row"):
             yield Label("Activity")
-            yield Select([(ACTIVITY_WORDS[a], a) for a in ACTIVITY_CHOICES], value="davies",
+            yield Select([(ACTIVITY_WORDS[a], a) for a in ACTIVITY_CHOICES], value="auto",
                          allow_blank=False, compact=True, id="activity")
         yield Static("", id="echo-plan", classes="nz-echo", markup=False)
 
@@ -89,7 +91,7 @@ class NeutralizeForm(VerticalScroll):
             components=text("components"), volume=text("volume"),
             temperature=text("temperature"), reagent=text("reagent"), target=text("target"),
             window_low=text("window_low"), window_high=text("window_high"),
-            activity=activity if isinstance(activity, str) else "davies")
+            activity=activity if isinstance(activity, str) else "auto")
 
     def show_field(self, name: str, error: str | None, echo: str, *, typed: bool) -> None:
         """The echo (or error) under field ``name``; a wrong value is also marked on its

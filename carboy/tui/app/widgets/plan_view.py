@@ -15,6 +15,7 @@ from textual.screen import ModalScreen
 from textual.widgets import DataTable, Static
 
 from carboy.model import numbers
+from carboy.model.speciation_models import describe_model
 from carboy.tui.app.widgets import redraw
 from carboy.tui.wording import plan_heat_text
 
@@ -83,7 +84,7 @@ def plan_text(plan) -> Text:
     direction = "base" if plan.direction == "base" else "acid"
     line("Reagent", f"{r.describe()} ({direction})")
     line("Sample", f"{fmt_volume_l(s.volume_l)} at {s.temperature_c:g} °C, pH "
-         f"{plan.initial_pH:.2f} ({'Davies activity' if plan.activity == 'davies' else 'ideal'})")
+         f"{plan.initial_pH:.2f} ({describe_model(plan.activity, plan.activity_model)})")
     tgt = plan.to_target
     line(f"To pH {tgt.target_pH:g}", dose_text(plan, tgt), style="bold")
     if tgt.reachable:

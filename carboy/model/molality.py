@@ -1,0 +1,147 @@
+"""From mol/L to mol/kg: the water in a litre of a mixture.
+
+The specific-interaction model works in molalities (mol per kg of water); carboy's
+mixtures are in mol/L.  ``m_i = c_i / W`` with ``W`` the kilograms of water in one litre
+of the solution, found one of two ways (the result says which):
+
+* **a density table**: when the mixture is, in its proportions, exactly one compound
+  that has a density table in the catalog (HCl, H2SO4, HNO3, H3PO4, acetic acid, NaOH,
+  KOH, NH3 solutions), its molality comes from that table
+  (:func:`carboy.model.solutions.strength_of`, 20 °C tables);
+* **an estimate** otherwise: ``W = ρ_w(T) (1 - Σ c_i V_i / 1000)``, the litre less the
+  volume the solutes take, with V_i their partial molar volumes at infinite dilution
+  (``pitzer.toml [[molar_volumes]]``, conventional scale V(H+) = 0; the H+ or OH- that
+  balances the components' charge counted too; an ion not listed takes a default).
+  Real apparent molar volumes grow with concentration (NaCl: about 17 cm³/mol at
+  infinite dilution, 21 near 5 mol/kg), so at several mol/L the estimate can put the
+  molality a few per cent high; the result's warnings say the estimate was used.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from functools import lru_cache
+from types import MappingProxyType
+
+import numpy as np
+
+from carboy.errors import CarboyError, CatalogError
+from carboy.model import water
+from carboy.model.datafiles import read_data_file
+from carboy.model.entities import Ion
+from carboy.model.provenance import check_provenance
+from carboy.model.solver.layout import resolve
+
+DATA_FILE = "pitzer.toml"
+ESTIMATE_NOTE = ("molality (mol/kg) estimated from the solutes' partial molar volumes "
+                 "(no density table for this mixture)")
+
+
+@dataclass(frozen=True)
+class MolarVolumes:
+    """Partial molar volumes at infinite dilution (cm³/mol) by species label."""
+
+    by_label: Mapping[str, float]
+    default: float
+
+
+@lru_cache(maxsize=1)
+def molar_volumes() -> MolarVolumes:
+    """The packaged volumes, each checked for its source and status (cached)."""
+    raw = read_data_file(DATA_FILE)
+    out = {}
+    for rec in raw.get("molar_volumes", ()):
+        label = rec.get("label")
+        check_provenance(f"pitzer.toml molar volume {label!r}", "", rec.get("status"),
+                         rec.get("source"))
+        value = rec.get("value")
+        if not isinstance(label, str) or not isinstance(value, int | float) or label in out:
+            raise CatalogError(f"pitzer.toml molar volume {label!r}",
+                               "needs a unique label and a number")
+        out[label] = float(value)
+    default = raw.get("molar_volume_default", {})
+    check_provenance("pitzer.toml molar_volume_default", "", default.get("status"),
+                     default.get("source"))
+    return MolarVolumes(MappingProxyType(out), float(default.get("value", 20.0)))
+
+
+def _key_volume(comp, volumes: MolarVolumes) -> tuple[float, int]:
+    """(V cm³/mol, charge) of one component: an ion by its label; a system by its most
+    deprotonated species that has a volume (the protons it gives count 0), charged as
+    that species."""
+    if isinstance(comp, Ion):
+        return volumes.by_label.get(comp.key, volumes.default), comp.charge
+    for j in range(comp.n_steps, -1, -1):
+        if comp.species[j] in volumes.by_label:
+            return volumes.by_label[comp.species[j]], comp.charge_of(j)
+    return volumes.default, comp.charge_of(comp.n_steps)
+
+
+@lru_cache(maxsize=256)
+def _layout_of(catalog, keys: tuple[str, ...]):
+    """Per key (V, charge), and the one compound with a density table whose composition
+    the keys could be (or None)."""
+    vols = molar_volumes()
+    per = [_key_volume(resolve(catalog, k), vols) for k in keys]
+    tabled = []
+    for comp in catalog.compounds.values():
+        if comp.density is not None and set(comp.composition) <= set(keys):
+            tabled.append(comp)
+    return (np.array([v for v, _ in per]), np.array([z for _, z in per], dtype=float),
+            tuple(tabled), vols.by_label.get("OH-", vols.default))
+
+
+def _from_table(catalog, keys, row: np.ndarray, tabled) -> float | None:
+    """kg of water per litre from a density table, when the row is one such compound."""
+    from carboy.model.solutions import strength_of  # solutions imports the catalog
+
+    for comp in tabled:
+        counts = np.array([comp.composition.get(k, 0) for k in keys], dtype=float)
+        used = counts > 0
+        if np.any(row[~used] != 0) or not used.any():
+            continue
+        c = row[used] / counts[used]
+        if not np.allclose(c, c[0], rtol=1e-9, atol=0.0) or c[0] <= 0:
+            continue
+        try:
+            s = strength_of(comp, conc_molar=float(c[0]), catalog=catalog)
+        except CarboyError:
+            return None
+        if s.molal is None or s.molal <= 0:
+            return None
+        return float(c[0]) / s.molal
+    return None
+
+
+def water_kg_per_litre(catalog, keys: tuple[str, ...], totals, temperature_c: float
+                       ) -> tuple[np.ndarray, tuple[str, ...]]:
+    """``(W, notes)``: kg of water in one litre of each mixture (totals (N, K) in mol/L
+    of ``keys``), and the notes the result should carry (empty where every W came from a
+    density table)."""
+    totals = np.atleast_2d(np.asarray(totals, dtype=float))
+    vol, charge, tabled, v_oh = _layout_of(catalog, tuple(keys))
+    net = np.einsum("nk,k->n", totals, charge)          # + : balanced by OH-
+    solute_l = (np.einsum("nk,k->n", totals, vol) + np.maximum(net, 0.0) * v_oh) / 1000.0
+    w = water.density_g_cm3(temperature_c) * np.maximum(1.0 - solute_l, 0.05)
+    estimated = np.ones(w.shape, dtype=bool)
+    if tabled and totals.shape[0] <= 64:   # one compound's solutions: its own table
+        for n in range(totals.shape[0]):
+            got = _from_table(catalog, keys, totals[n], tabled)
+            if got is not None:
+                w[n], estimated[n] = got, False
+    return w, ((ESTIMATE_NOTE,) if estimated.any() and totals.any() else ())
+
+
+def molar_from_molal(catalog, keys: tuple[str, ...], molal, temperature_c: float,
+                     *, iterations: int = 60) -> np.ndarray:
+    """The mol/L totals whose molalities (by :func:`water_kg_per_litre`) are ``molal``
+    (N, K): the inverse, by fixed-point iteration (W changes slowly with the totals)."""
+    molal = np.atleast_2d(np.asarray(molal, dtype=float))
+    w = np.full(molal.shape[0], water.density_g_cm3(temperature_c))
+    for _ in range(iterations):
+        new, _ = water_kg_per_litre(catalog, keys, molal * w[:, None], temperature_c)
+        if np.allclose(new, w, rtol=1e-13, atol=0.0):
+            break
+        w = new
+    return molal * w[:, None]

@@ -1,0 +1,39 @@
+"""The activity model of a plan: ``"auto"`` settled once for the whole plan.
+
+With ``activity="auto"`` each batch solve picks the Davies equation (with its ion pairs)
+or the specific-interaction (Pitzer) model by its own largest ionic strength.  A plan
+solves several batches (its curve, its doses, the states it reports), and they must
+all use one model, so the plan settles it first: the Pitzer model when the sample, the
+full dose or the end of the curve is above ``AUTO_LIMIT_MOLAL``
+(``speciation_models``), else auto's Davies branch throughout.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+
+from carboy.model.dosing import CURVE_SPAN
+from carboy.model.mixture import titration_batch
+from carboy.model.speciation import speciate_batch
+
+
+def settle_activity(req, n_full: float):
+    """``req`` (the planner's request) with ``"auto"`` replaced by ``"pitzer"`` where
+    some state of the plan needs it; any other model unchanged."""
+    if req.activity != "auto":
+        return req
+    amounts = np.array([0.0, n_full, CURVE_SPAN * n_full])
+    batch, _ = titration_batch(req.sample, dict(req.reagent.compound.composition), amounts,
+                               req.reagent.l_per_mol)
+    res = speciate_batch(batch, activity="auto", catalog=req.catalog)
+    if res.model_part is not None and res.model_part.model == "pitzer":
+        return dataclasses.replace(req, activity="pitzer")
+    return req
+
+
+def model_used(requested: str, curve) -> str:
+    """The model a plan's curve was solved with (``requested`` where it says none)."""
+    part = getattr(curve, "model_part", None)
+    return part.model if part is not None else requested

@@ -1,0 +1,260 @@
+"""Which activity model solves a batch, and what its result says about it.
+
+``speciate``/``speciate_batch`` hand a batch here (:func:`route`) when it needs more than
+the Davies path's fast solve:
+
+* ``activity="pitzer"``: the specific-interaction model (``solver.outer.solve_pitzer``),
+  started from the Davies solution, in molalities, with the pairs of its own set (MgOH+);
+* ``activity="auto"``: the Davies equation with the ion pairs (a spectator Ca2+, Mg2+,
+  Na+ or K+ with sulfate or OH-: CaOH+, MgOH+, NaSO4-, KSO4-, CaSO4°, MgSO4°;
+  ``solver.outer.solve_with_pairs``) where the whole batch stays at or below
+  ``AUTO_LIMIT_MOLAL`` of ionic strength, the Pitzer model above it.  A batch (a curve)
+  is never split between the two models, so it has no jump where one takes over.
+
+``activity="davies"`` and ``"ideal"`` stay on the charge-only path (no pairs): their
+coefficients depend on the ionic strength alone, so ``state_at`` inverts them exactly.
+
+pH scales (``ph_scale`` in every result and in ``--json``)
+-----------------------------------------------------------
+``"macinnes"`` (Pitzer): pH = -log10(m_H γ_H), molal, with the single-ion coefficients
+on the MacInnes convention (γ(Cl-) = γ±(KCl) at the same ionic strength), as PHREEQC's
+Pitzer model reports it.  ``"davies"``: pH = -log10(c_H γ_H), mol/L, γ_H by the Davies
+equation.  ``"concentration"`` (ideal): pH = -log10([H+]/(mol/L)).
+
+Ions outside the Pitzer set (phosphate, organic anions, fluoride, ...) take the Davies
+form at the solution's molal ionic strength; the result's warnings name them.  Beyond
+``I_MAX_MOLAL`` (6 mol/kg) a point says it is outside the parameters' range; every
+coefficient is still evaluated at the point's own composition (none is held).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass
+from functools import lru_cache
+
+import numpy as np
+
+from carboy.errors import InvalidInput
+from carboy.model import water
+from carboy.model.activity import DAVIES_LIMIT_MOLAR, outside_range_warning
+from carboy.model.mixture import MixtureBatch
+from carboy.model.molality import water_kg_per_litre
+from carboy.model.pitzer import I_MAX_MOLAL
+from carboy.model.solver.charge_balance import padded_fractions
+from carboy.model.solver.layout import Layout
+from carboy.model.solver.outer import (
+    Outcome,
+    has_pairs,
+    pitzer_for,
+    solve_pitzer,
+    solve_with_pairs,
+    table_of,
+)
+from carboy.model.solver.problem import build_problem
+
+AUTO_LIMIT_MOLAL = 0.5
+"""``activity="auto"`` keeps the Davies equation up to this ionic strength (mol/kg),
+the upper end of its usual range (Davies 1962), and takes the Pitzer model above."""
+ROUTED = ("pitzer", "auto")
+PH_SCALES = {"pitzer": "macinnes", "davies": "davies", "ideal": "concentration"}
+"""The pH scale of each model (see the module docstring)."""
+MODEL_WORDS = {"pitzer": "specific-interaction (Pitzer) activity",
+               "davies": "Davies activity", "ideal": "ideal solution"}
+SCALE_WORDS = {"macinnes": "MacInnes pH scale, mol/kg",
+               "davies": "pH from Davies activity, mol/L",
+               "concentration": "pH = -log10[H+], mol/L"}
+
+
+def describe_model(activity: str, model: str) -> str:
+    """The model and pH scale in words, e.g. ``"auto: Davies activity (pH from Davies
+    activity, mol/L)"``; ``model`` is the model used (``activity`` itself but for auto)."""
+    used = model or activity
+    text = f"{MODEL_WORDS.get(used, used)} ({SCALE_WORDS.get(ph_scale_of(used), used)})"
+    return f"auto: {text}" if activity == "auto" else text
+
+
+def ph_scale_of(model: str) -> str:
+    """The pH scale a model's results are on (``"auto"`` reads as the model used)."""
+    return PH_SCALES.get(model, model)
+
+
+@dataclass(frozen=True)
+class ModelPoint:
+    """What one solution's result says about its activity model."""
+
+    model: str
+    ph_scale: str
+    water_kg_per_l: float
+    ionic_strength_molal: float
+    water_activity: float | None
+
+
+@dataclass(frozen=True)
+class ModelPart:
+    """The activity model's part of a batch result (arrays by point)."""
+
+    model: str
+    log_gamma: np.ndarray               # (N, S) log10 γ of the result's species_labels
+    water_kg_per_l: np.ndarray          # (N,)
+    ionic_strength_molal: np.ndarray    # (N,)
+    water_activity: np.ndarray | None = None
+
+    @property
+    def ph_scale(self) -> str:
+        return ph_scale_of(self.model)
+
+    def rows(self, idx) -> ModelPart:
+        return ModelPart(self.model, self.log_gamma[idx], self.water_kg_per_l[idx],
+                         self.ionic_strength_molal[idx],
+                         None if self.water_activity is None else self.water_activity[idx])
+
+    def point(self, n: int) -> ModelPoint:
+        aw = None if self.water_activity is None else float(self.water_activity[n])
+        return ModelPoint(self.model, self.ph_scale, float(self.water_kg_per_l[n]),
+                          float(self.ionic_strength_molal[n]), aw)
+
+
+def check_activity(activity: str, known: tuple[str, ...]) -> str:
+    if activity not in known + ROUTED:
+        raise InvalidInput("activity model", activity,
+                           f"choose one of {', '.join(ROUTED + known)}")
+    return activity
+
+
+def needs_route(lay: Layout, activity: str, temperature_c: float) -> bool:
+    """True when a batch with this layout must go through :func:`route`."""
+    return activity in ROUTED
+
+
+def _pairs_apply(lay: Layout, temperature_c: float) -> bool:
+    # a layout with modelled metals (Ca2+, Mg2+ ...) keeps them out of the pairs
+    return getattr(lay, "metals", None) is None and has_pairs(lay, temperature_c)
+
+
+# --------------------------------------------------------------------------- routing
+
+def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
+          solve_davies):
+    """Solve ``batch`` (its layout ``lay``) with ``activity``; ``solve_davies(batch,
+    lay, activity, t_c, held, start)`` is the Davies path's batch solve (a
+    ``BatchSpeciation``), whose result is the start and the frame of the answer."""
+    t_c = batch.temperature_c
+    base = solve_davies(batch, lay, "davies", t_c, held, start)
+    w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
+    res = base
+    if activity == "auto" and _pairs_apply(lay, t_c):
+        pr = build_problem(lay, base.batch.totals, held, base.pkw,
+                           _a_dh(t_c))
+        out = solve_with_pairs(pr, t_c, base.log_h.copy(), base.ionic_strength_molar.copy())
+        res = _assemble(base, out, lay, table_of(lay, "davies", t_c), activity, ())
+    molal_i = res.ionic_strength_molar / w
+    metals = getattr(lay, "metals", None) is not None
+    if activity == "auto" and (
+            metals or float(molal_i.max(initial=0.0)) <= AUTO_LIMIT_MOLAL):
+        lg = _davies_log_gamma(res)
+        extra = ((_METALS_NOTE,) if metals and activity == "auto"
+                 and float(molal_i.max(initial=0.0)) > AUTO_LIMIT_MOLAL else ())
+        return dataclasses.replace(
+            res, activity=activity, warnings=_with(res.warnings, extra),
+            model_part=ModelPart("davies", lg, w, molal_i))
+    if metals:
+        raise InvalidInput("activity model", activity, _METALS_NOTE)
+    return _pitzer(base, lay, activity, held, w, notes)
+
+
+_METALS_NOTE = ("the specific-interaction model does not cover the metals' hydrolysis "
+                "and solids: the Davies equation is used, outside its range")
+
+
+def _a_dh(t_c: float) -> float:
+    return water.debye_huckel_a(t_c)
+
+
+def _pitzer(base, lay: Layout, activity: str, held, w: np.ndarray, notes):
+    """The Pitzer path from the Davies result ``base``."""
+    t_c = base.temperature_c
+    tab = table_of(lay, "pitzer", t_c)
+    model = pitzer_for(tab, t_c)
+    pr = build_problem(lay, base.batch.totals, held, base.pkw, 0.0)
+    out = solve_pitzer(pr, model, tab, 1.0 / w, base.log_h.copy())
+    molal_i = out.extra["ionic_strength_molal"]
+    common = tuple(t for t in out.extra["warnings"] if not t.startswith("ionic strength above"))
+    hot = tuple(t for t in base.warnings[0] if "enthalpy data" in t) if len(base) else ()
+    texts = _pitzer_texts(common + notes + hot)
+    code = (molal_i > I_MAX_MOLAL).astype(int) + 2 * (~out.converged).astype(int)
+    warnings = tuple(texts[c] for c in code.tolist())
+    res = _assemble(base, out, lay, tab, activity, warnings)
+    return dataclasses.replace(res, model_part=ModelPart(
+        "pitzer", out.log_gamma, w, molal_i, out.extra["water_activity"]))
+
+
+def _pitzer_texts(common: tuple[str, ...]) -> tuple[tuple[str, ...], ...]:
+    """The warnings of a Pitzer point by code: +1 beyond I_MAX_MOLAL, +2 unsettled."""
+    high = (f"ionic strength above {I_MAX_MOLAL:g} mol/kg, beyond the range the "
+            "specific-interaction parameters were fitted to: treat the pH as indicative only")
+    bad = "the solver did not reach its tolerance: the result is approximate"
+    return tuple(common + ((high,) if c & 1 else ()) + ((bad,) if c & 2 else ())
+                 for c in range(4))
+
+
+def _with(warnings, extra: tuple[str, ...]):
+    if not extra:
+        return warnings
+    return tuple(w + tuple(e for e in extra if e not in w) for w in warnings)
+
+
+def _davies_log_gamma(res) -> np.ndarray:
+    """(N, S) log10 γ of each species of a Davies (or ideal) result, by its charge."""
+    z = np.abs(np.asarray(res.species_charges, dtype=int))
+    return res.log_gamma_by_charge[:, z]
+
+
+def _by_charge(lg: np.ndarray, charges: np.ndarray, zmax: int) -> np.ndarray:
+    """(N, zmax+1): per |z|, the mean log10 γ of the species of that charge (for
+    callers that read coefficients by charge; 0 for |z| = 0 or none)."""
+    out = np.zeros((lg.shape[0], zmax + 1))
+    z = np.abs(charges).astype(int)
+    for q in range(1, zmax + 1):
+        sel = z == q
+        if sel.any():
+            out[:, q] = lg[:, sel].mean(axis=1)
+    return out
+
+
+def _assemble(base, out: Outcome, lay: Layout, tab, activity: str, warnings):
+    """The batch result of an outer loop, in the frame of the Davies result ``base``."""
+    alpha, ceff = out.systems
+    z = tab.charges
+    table = out.table
+    residual = np.einsum("nu,u->n", table, z)
+    ionic = 0.5 * np.einsum("nu,u->n", table, z * z)
+    if not warnings:
+        code = (ionic > DAVIES_LIMIT_MOLAR) & (base.activity != "ideal")
+        high = outside_range_warning("davies")
+        warnings = tuple(_drop(w, high) + ((high,) if c else ())
+                         for w, c in zip(base.warnings, code.tolist()))
+        warnings = tuple(w if ok else w + _unsettled(w)
+                         for w, ok in zip(warnings, out.converged.tolist()))
+    zmax = max(lay.zmax, int(np.abs(z).max(initial=1)))
+    return dataclasses.replace(
+        base, pH=out.ph, log_h=out.x, ionic_strength_molar=ionic,
+        charge_residual_molar=residual, converged=out.converged & base.converged,
+        iterations=base.iterations + out.iterations, species_labels=tab.labels,
+        species_charges=tuple(int(c) for c in z.tolist()), species_molar=table,
+        fractions=padded_fractions(alpha, lay), system_totals_molar=ceff.T,
+        log_gamma_by_charge=_by_charge(out.log_gamma, z, zmax), activity=activity,
+        warnings=warnings)
+
+
+def _drop(texts: tuple[str, ...], text: str) -> tuple[str, ...]:
+    return tuple(t for t in texts if t != text)
+
+
+@lru_cache(maxsize=1)
+def _unsettled_text() -> str:
+    return "the solver did not reach its tolerance: the result is approximate"
+
+
+def _unsettled(texts: tuple[str, ...]) -> tuple[str, ...]:
+    return () if _unsettled_text() in texts else (_unsettled_text(),)
