@@ -1,16 +1,11 @@
-"""Fixtures for the paper tests: a demo storeroom and PDF reading helpers."""
+"""Fixtures for the paper tests: a demo storeroom.  PDF reading helpers are in
+``pdf_reading.py`` (importing from a ``conftest`` breaks when several tiers run together)."""
 
 from __future__ import annotations
 
-import io
-
 import pytest
-from pypdf import PdfReader
 
-from carboy.store import demo
 from carboy.store.db import open_database
-
-TODAY = demo.DEMO_TODAY
 
 
 @pytest.fixture
@@ -24,16 +19,3 @@ def demo_store(demo_path):
     s = open_database(demo_path)
     yield s
     s.close()
-
-
-def read_pdf(data: bytes) -> PdfReader:
-    return PdfReader(io.BytesIO(data))
-
-
-def pdf_text(data: bytes) -> str:
-    return "\n".join(page.extract_text() for page in read_pdf(data).pages)
-
-
-def page_sizes(data: bytes) -> list[tuple[float, float]]:
-    return [(round(float(p.mediabox.width), 2), round(float(p.mediabox.height), 2))
-            for p in read_pdf(data).pages]

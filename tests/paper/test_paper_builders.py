@@ -5,7 +5,7 @@ from __future__ import annotations
 import hashlib
 
 import pytest
-from conftest import TODAY
+from pdf_reading import TODAY
 
 from carboy.model.documents import Fields, HazardText, Paragraph, PictogramRow, QrCode, Table
 from carboy.model.label_documents import GENERIC_LINE, BottleFacts, bottle_label

@@ -11,7 +11,7 @@ import os
 import re
 from pathlib import Path
 
-from conftest import read_pdf
+from pdf_reading import read_pdf
 
 from carboy.model.label_documents import BottleFacts, bottle_label
 from carboy.model.labels import make_label

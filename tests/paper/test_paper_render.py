@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import pytest
-from conftest import TODAY, page_sizes, pdf_text, read_pdf
+from pdf_reading import TODAY, page_sizes, pdf_text, read_pdf
 
 from carboy.errors import CarboyError, InvalidInput
 from carboy.store import disposal_record, documents
