@@ -59,13 +59,15 @@ def source_text(key: str, profile: dp.DisposalProfile) -> str:
     if name == STOREROOM_NAME:
         return ("printed on bottle labels, disposal records and the treatment report; "
                 "e changes it, r removes it (journaled)")
+    why = next((f"{i.item}: {i.why}. " for i in profile.never_treat if i.item == item), "")
     if profile.origin.get(name, dp.PLACEHOLDER) == dp.STOREROOM:
-        return "set by the storeroom (carboy rules, or e here); the journal keeps each change"
+        return (f"{why}set by the storeroom (carboy rules, or e here); "
+                "the journal keeps each change")
     status, source = dp.shipped_sources().get(f"never_treat {item}" if item else name,
                                               ("", ""))
     if not source:
-        return "carboy's placeholder"
-    return f"carboy's placeholder [{status}]: {' '.join(source.split())}"
+        return f"{why}carboy's placeholder"
+    return f"{why}carboy's placeholder [{status}]: {' '.join(source.split())}"
 
 
 def report_lines(report) -> Text:
