@@ -214,8 +214,12 @@ def seed(store: Store, today: date = DEMO_TODAY) -> None:
             waste.add(store, label, component, volume, note=note,
                       accept=_ACCEPTED.get((label, component), ""),
                       who=STAFF[(i + j) % 3], when=_at(today, 38 - 5 * i - 3 * j, 15, j))
-    plan = {"reagent": "NaOH 1 M", "note": "plan recorded; neutralization not yet done",
-            "cautions": ["corrosive", "heat on neutralization", _FOLLOW_RULES]}
+    plan = {"inputs": {"container": "MA-01", "reagent": "NaOH=1M", "reagent_bottle_id": None,
+                       "target_pH": "7", "window": ["6", "9"], "temperature": "20 °C",
+                       "activity": "auto"},
+            "plan": {"reagent": "NaOH 1 M", "note": "plan recorded; neutralization not yet done",
+                     "cautions": ["corrosive", "heat on neutralization", _FOLLOW_RULES]},
+            "recorded_from": "demo storeroom"}
     waste.record_neutralization(store, "MA-01", plan, None, who=lead,
                                 when=_at(today, 1, 13), today=today - timedelta(days=1))
     waste.set_status(store, "HF-04", ContainerStatus.LICENSED_DISPOSAL, who=lead, when=_at(today, 2, 10),

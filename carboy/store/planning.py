@@ -10,10 +10,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import date
 
-from carboy.model.forms.neutralize import ContainerSample
-from carboy.store import stock, waste
+from carboy.model.forms.neutralize import ContainerSample, RecordedPlan, recorded_fields
+from carboy.store import journal, stock, waste
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store
+from carboy.store.statuses import ContainerStatus
+from carboy.store.waste_rows import container_row
 
 REAGENT_BASES = ("NaOH", "KOH", "Na2CO3", "NaHCO3", "Ca(OH)2", "Mg(OH)2")
 """Stock compounds offered to neutralize acid waste."""
@@ -80,10 +82,32 @@ def container_sample(store: Store, label: str) -> tuple[ContainerSample, object]
     with store.reading():
         shown = waste.show(store, label)
         hazards = waste.hazard_tags(store, label)
+        recorded = recorded_plan(store, label)
     sample = ContainerSample(label=shown["label"], status=shown["status"],
                              volume_l=float(shown["volume_l"]),
                              capacity_l=float(shown["capacity_l"]), location=shown["location"],
                              moles=dict(shown["composition"]), hazards=hazards,
                              notes=shown.get("notes", ""), contents=dict(shown["contents"]),
-                             stream=shown["stream"], material=shown["material"])
+                             stream=shown["stream"], material=shown["material"],
+                             recorded=recorded)
     return sample, catalog_for(store)
+
+
+PLANS_LOOKED_AT = 5
+"""How many of a container's newest neutralization entries are searched for its plan."""
+
+
+def recorded_plan(store: Store, label: str) -> RecordedPlan | None:
+    """The inputs of the plan recorded for a ``planned`` container (its newest plan-only
+    neutralization entry), so the form opens on that plan; None for any other status, or
+    when the record holds no form inputs."""
+    row = container_row(store, label)
+    if row["status"] != ContainerStatus.PLANNED:
+        return None
+    for entry in journal.entries(store, kind="neutralization", container_id=row["id"],
+                                 limit=PLANS_LOOKED_AT):
+        if entry.snapshot.get("measured_ph") is None:
+            fields = recorded_fields(entry.snapshot)
+            return (RecordedPlan(entry.id, entry.recorded_at, entry.recorded_by, fields)
+                    if fields else None)
+    return None

@@ -11,6 +11,7 @@ import pytest
 from carboy.errors import InvalidInput, Refused
 from carboy.model.forms.treatment import TreatmentFields, read
 from carboy.store import disposal, journal, stock, treatments, waste
+from carboy.store.db import open_database
 from carboy.store.errors import ContainerClosed, DisposalRefused, HeadspaceRefused
 
 
@@ -189,3 +190,33 @@ def test_a_bottle_with_its_reagent_named_too_draws_the_bottle(store):
     done = treatments.record_treatment(store, label, readings(
         bottle=str(b), reagent="NaOH=2M", added="1 L", final_ph="7"))
     assert done.bottle_id == b and stock.get(store, b).amount_left == pytest.approx(4.0)
+
+
+def test_a_planned_container_gives_back_the_inputs_of_its_recorded_plan(copy_demo):
+    """The demo's MA-01 is planned (entry with the form's inputs); a collecting container
+    has no recorded plan, and once a plan of it is recorded its inputs come back."""
+    from carboy.model.forms.neutralize import NeutralizeFields, evaluate, snapshot
+    from carboy.store.planning import container_sample, recorded_plan
+
+    store = open_database(copy_demo())
+    try:
+        ma01 = recorded_plan(store, "MA-01")
+        assert ma01 is not None and ma01.fields["reagent"] == "NaOH=1M"
+        assert ma01.recorded_by == "h.ostervald"
+        assert "#" in ma01.heading() and "loaded" in ma01.heading()
+        assert recorded_plan(store, "AL-03") is None
+        sample, catalog = container_sample(store, "AL-03")
+        fields = NeutralizeFields(reagent="HCl=1M", target="8", window_low="6.5",
+                                  window_high="9", temperature="22 °C", activity="davies")
+        reading = evaluate(fields, catalog, sample)
+        assert reading.value is not None, reading.errors
+        waste.record_neutralization(store, "AL-03", snapshot(
+            fields, reading.value, container_label="AL-03", reagent_bottle_id=None,
+            recorded_from="test"))
+        again = container_sample(store, "AL-03")[0].recorded
+        assert again is not None
+        assert dict(again.fields) == {"reagent": "HCl=1M", "target": "8", "window_low": "6.5",
+                                      "window_high": "9", "temperature": "22 °C",
+                                      "activity": "davies"}
+    finally:
+        store.close()

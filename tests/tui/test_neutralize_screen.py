@@ -307,3 +307,18 @@ async def test_planning_is_said_only_while_a_plan_takes_long(demo_db, monkeypatc
         assert any(text.startswith("… planning") for text in said) is slow
         assert said[-1].startswith("✓ plan up to date")
         assert screen._planning_note is None
+
+
+async def test_a_planned_container_opens_on_its_recorded_plan(demo_db):
+    """MA-01 is planned in the demo: its form opens with the recorded reagent, target and
+    temperature and says whose plan it is; a collecting container keeps what was typed."""
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "AL-03")
+        assert screen.query_one("#reagent", Input).value == ""
+        screen = await open_container(app, pilot, "MA-01")
+        await settled(pilot, screen)
+        assert screen.query_one("#reagent", Input).value == "NaOH=1M"
+        assert screen.query_one("#temperature", Input).value == "20 °C"
+        assert "h.ostervald) loaded" in str(screen.query_one("#sample-info", Static).content)
+        assert screen.plan is not None and screen.plan.sample.temperature_c == pytest.approx(20.0)

@@ -137,3 +137,20 @@ def test_a_typed_sample_with_a_solid_reagent_of_given_assay_is_planned(catalog):
     # stoichiometry of the inputs: 0.075 mol H2SO4 gives 0.15 mol H+, and the 0.015 mol of
     # H2PO4- gives up part of one proton each on the way to pH 7 (its pKa2 is near 7)
     assert 0.15 < out.value.to_target.reagent_mol < 0.15 + 0.015
+
+
+def test_recorded_fields_read_only_what_a_plan_entry_holds_as_text():
+    from carboy.model.forms.neutralize import recorded_fields
+
+    snap = {"plan": {"inputs": {"reagent": "KOH=2M", "target_pH": "7.5", "window": ["6", "9"],
+                                "temperature": "18 °C", "activity": "davies"}}}
+    assert recorded_fields(snap) == {"reagent": "KOH=2M", "target": "7.5", "window_low": "6",
+                                     "window_high": "9", "temperature": "18 °C",
+                                     "activity": "davies"}
+    # an older record (no inputs), a foreign one, wrong types and an unknown model
+    assert recorded_fields({"plan": {"reagent": "NaOH 1 M"}}) == {}
+    assert recorded_fields({"plan": "text"}) == {}
+    assert recorded_fields({}) == {}
+    odd = {"plan": {"inputs": {"reagent": ["NaOH"], "target_pH": 7.25, "window": [6],
+                               "temperature": True, "activity": "exotic"}}}
+    assert recorded_fields(odd) == {"target": "7.25"}

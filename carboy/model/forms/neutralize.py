@@ -64,6 +64,44 @@ class NeutralizeFields:
 
 
 @dataclass(frozen=True)
+class RecordedPlan:
+    """The inputs of the plan last recorded for a container (a ``planned`` one), so that
+    opening it again shows that plan, not an empty form.  ``fields`` holds only the form
+    fields the record gives, as text (``reagent``, ``target``, ``window_low``, ...)."""
+
+    entry_id: int
+    recorded_at: str
+    recorded_by: str
+    fields: Mapping[str, str]
+
+    def heading(self) -> str:
+        return (f"plan of entry #{self.entry_id} ({self.recorded_at[:10]}, "
+                f"{self.recorded_by}) loaded")
+
+
+def recorded_fields(snapshot: Mapping) -> dict[str, str]:
+    """The form fields a neutralization entry's snapshot records (``plan.inputs``):
+    reagent, target pH, window edges, temperature and activity model, each only when the
+    record holds it as text or a number (an older or foreign record gives fewer)."""
+    plan = snapshot.get("plan") if isinstance(snapshot, Mapping) else None
+    inputs = plan.get("inputs") if isinstance(plan, Mapping) else None
+    if not isinstance(inputs, Mapping):
+        return {}
+    window = inputs.get("window")
+    edges = window if isinstance(window, (list, tuple)) and len(window) == 2 else (None, None)
+    found = {"reagent": inputs.get("reagent"), "target": inputs.get("target_pH"),
+             "window_low": edges[0], "window_high": edges[1],
+             "temperature": inputs.get("temperature"), "activity": inputs.get("activity")}
+    out = {name: f"{value:g}" if isinstance(value, float) else str(value)
+           for name, value in found.items()
+           if isinstance(value, (str, int, float)) and not isinstance(value, bool)
+           and str(value).strip()}
+    if out.get("activity") not in ACTIVITY_CHOICES:
+        out.pop("activity", None)
+    return out
+
+
+@dataclass(frozen=True)
 class ContainerSample:
     """A stored waste container's contents, as the store reads them for planning."""
 
@@ -79,6 +117,8 @@ class ContainerSample:
     """Mol of each compound logged (compound key -> mol)."""
     stream: str | None = None
     material: str | None = None
+    recorded: RecordedPlan | None = None
+    """The plan last recorded for a ``planned`` container (None otherwise)."""
 
 
 @dataclass(frozen=True)

@@ -263,11 +263,17 @@ class NeutralizeScreen(Screen):
         info.remove_class("-error")
         if message.catalog is not None:
             self._catalog = message.catalog
-        if self.container is None or self.container.label != message.info.label:
+        fresh = self.container is None or self.container.label != message.info.label
+        if fresh:
             self._clear_plan()  # a plan of another sample is never shown for this one
         self.container = message.info
         self.sample_note = ""
-        info.update(container_summary(self.container))
+        summary = container_summary(self.container)
+        recorded = self.container.recorded
+        if fresh and recorded is not None:  # a planned container opens on its recorded plan
+            self.query_one(NeutralizeForm).fill(recorded.fields)
+            summary += f"\n{recorded.heading()}"
+        info.update(summary)
         self._set_sample_inputs_enabled(False)
         label = self.container.label
         self.query_one("#sample-source", QuietSelect).select_quietly(f"c:{label}")

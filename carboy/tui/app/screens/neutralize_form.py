@@ -93,6 +93,15 @@ class NeutralizeForm(VerticalScroll):
             window_low=text("window_low"), window_high=text("window_high"),
             activity=activity if isinstance(activity, str) else "auto")
 
+    def fill(self, values) -> None:
+        """Put recorded text into the fields it names (``reagent``, ``target``,
+        ``window_low``, ``window_high``, ``temperature``, ``activity``); others stay."""
+        for wid, value in values.items():
+            if wid == "activity":
+                self.query_one("#activity", Select).value = value
+            elif wid in ("reagent", "target", "window_low", "window_high", "temperature"):
+                self.query_one(f"#{wid}", Input).value = value
+
     def show_field(self, name: str, error: str | None, echo: str, *, typed: bool) -> None:
         """The echo (or error) under field ``name``; a wrong value is also marked on its
         input.  The typed sample's lines stay hidden while a container is the sample."""
