@@ -280,44 +280,109 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
 
 
 def refine_doses(dosing: Dosing, targets, direction: str) -> Dosing:
-    """The doses settled on the forward solve (Illinois false position, every dose at
-    once): with ``activity="auto"`` or ``"pitzer"`` the coefficients depend on the whole
-    composition, so the exact inverse (:meth:`gas.TitrationModel.amount_at_pH`, which
-    takes Davies coefficients) gives a start, and the dose that reaches each pH on the
-    model's own curve is found from there (pH rises with a base's dose, falls with an
-    acid's)."""
+    """The doses settled on the forward solve: with ``activity="auto"`` or ``"pitzer"``
+    the coefficients depend on the whole composition, so the exact inverse
+    (:meth:`gas.TitrationModel.amount_at_pH`, which takes Davies coefficients) gives a
+    start, and the dose that reaches each pH on the model's own curve is found from there.
+
+    Both searches run on the Davies-dose scale: g(n) = D(pH(n)) - D(target), with pH(n)
+    the model's forward pH and D that inverse.  D is monotone in the pH (rising with the
+    dose either way), so g has the root the pH has; and D flattens the steep rise of the
+    pH near an equivalence point (g is nearly n - n0 where the two models differ
+    little).  The secant method on g settles most doses in a few forward solves (every
+    dose at once); a dose it leaves is found by Illinois false position inside a bracket
+    (:func:`_false_position`).  Where D is undefined (a pH the closed Davies batch cannot
+    reach) g takes the sign of the pH's miss.  A dose is settled when its pH is within
+    :data:`REFINE_PH_TOL` of the target."""
     doses = dosing.doses.copy()
     idx = np.flatnonzero(np.isfinite(doses) & (doses > 0))
     if idx.size == 0:
         return dosing
     sign = 1.0 if direction == "base" else -1.0
     want = np.asarray(targets, dtype=float)[idx]
+    inverse = dosing.model.amount_at_pH
+    aim = inverse(want)
 
-    def f(n):
-        return sign * (dosing.solve(n)[0].pH - want)
+    def g(n, which):
+        """(g, pH - target) at doses ``n`` of the doses ``which`` (one forward solve)."""
+        ph = dosing.solve(n)[0].pH
+        miss = ph - want[which]
+        with np.errstate(invalid="ignore"):
+            on_scale = inverse(ph) - aim[which]
+            steep = np.where(miss == 0.0, 0.0, np.sign(sign * miss) * np.inf)
+        return np.where(np.isfinite(on_scale), on_scale, steep), miss
 
-    lo, hi = doses[idx] * 0.999, doses[idx] * 1.001
-    f_lo, f_hi = f(lo), f(hi)
-    for _ in range(REFINE_ROUNDS):   # widen until each dose is bracketed
-        low, high = f_lo > 0, f_hi < 0
-        if not (low.any() or high.any()):
-            break
-        lo = np.where(low, lo * 0.9, lo)
-        hi = np.where(high, hi * 1.1 + 1e-12, hi)
-        f_lo, f_hi = np.where(low, f(lo), f_lo), np.where(high, f(hi), f_hi)
-    n = 0.5 * (lo + hi)
-    for _ in range(REFINE_ROUNDS):
-        with np.errstate(divide="ignore", invalid="ignore"):
-            n = np.where(f_hi != f_lo, (lo * f_hi - hi * f_lo) / (f_hi - f_lo), n)
-        n = np.where(np.isfinite(n) & (n > lo) & (n < hi), n, 0.5 * (lo + hi))
-        fn = f(n)
-        if np.all(np.abs(fn) <= REFINE_PH_TOL):
-            break
-        left = fn < 0
-        f_hi = np.where(left, f_hi * 0.5, fn)   # Illinois: halve the kept end's value
-        f_lo = np.where(left, fn, f_lo * 0.5)
-        lo, hi = np.where(left, n, lo), np.where(left, hi, n)
+    n, miss = _secant(g, doses[idx])
+    left = np.flatnonzero(~(np.abs(miss) <= REFINE_PH_TOL))
+    if left.size:
+        n[left] = _false_position(lambda m, which: g(m, left[which]), n[left])
     # to 12 significant digits: the pH is settled to REFINE_PH_TOL, and the last bits of a
-    # false-position root would differ between two runs whose sums round differently
+    # root would differ between two runs whose sums round differently
     doses[idx] = [float(f"{v:.12g}") for v in n.tolist()]
     return dataclasses.replace(dosing, doses=doses)
+
+
+SECANT_ROUNDS = 6
+"""Forward solves the secant may take before the bracketing search takes over."""
+
+
+def _secant(g, start: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The secant method on ``g`` from ``start`` (the first step takes slope one):
+    (the best dose found for each, the pH's miss there)."""
+    k = start.size
+    best, best_miss = start.copy(), np.full(k, np.inf)
+    prev_n = prev_g = None
+    n = start.copy()
+    for _ in range(SECANT_ROUNDS):
+        live = np.flatnonzero(np.isfinite(n) & (n > 0) & ~(np.abs(best_miss) <= REFINE_PH_TOL))
+        if live.size == 0:
+            break
+        gl, ml = g(n[live], live)
+        here_g = np.full(k, np.nan)
+        here_g[live] = gl
+        better = np.abs(ml) < np.abs(best_miss[live])
+        best[live[better]], best_miss[live[better]] = n[live[better]], ml[better]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = here_g if prev_g is None else here_g * (n - prev_n) / (here_g - prev_g)
+        prev_n, prev_g = n, here_g
+        n = np.where(np.isfinite(step), n - step, np.nan)
+    return best, best_miss
+
+
+def _false_position(g, start: np.ndarray) -> np.ndarray:
+    """Roots of ``g`` (rising with the dose; ``g(n, which)`` gives it and the pH's miss
+    for the doses ``which``), bracketed from ``start`` and found by Illinois false
+    position; each root is kept once its pH's miss is within :data:`REFINE_PH_TOL`.
+    Both ends of the first bracket and every widening are one forward solve."""
+    k = start.size
+    every = np.arange(k)
+    ends, miss = g(np.r_[start * 0.999, start * 1.001], np.r_[every, every])
+    lo, hi = start * 0.999, start * 1.001
+    g_lo, g_hi = ends[:k], ends[k:]
+    best = np.where(np.abs(miss[:k]) <= np.abs(miss[k:]), lo, hi)
+    done = np.minimum(np.abs(miss[:k]), np.abs(miss[k:])) <= REFINE_PH_TOL
+    for _ in range(REFINE_ROUNDS):   # widen until each dose is bracketed
+        low, high = ~done & (g_lo > 0), ~done & (g_hi < 0)
+        if not (low.any() or high.any()):
+            break
+        lo, hi = np.where(low, lo * 0.9, lo), np.where(high, hi * 1.1 + 1e-12, hi)
+        which = np.r_[np.flatnonzero(low), np.flatnonzero(high)]
+        new, _ = g(np.r_[lo[low], hi[high]], which)
+        g_lo[low], g_hi[high] = new[:low.sum()], new[low.sum():]
+    n = best.copy()
+    for _ in range(REFINE_ROUNDS):
+        live = np.flatnonzero(~done)
+        if live.size == 0:
+            break
+        a, b, ga, gb = lo[live], hi[live], g_lo[live], g_hi[live]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            guess = (a * gb - b * ga) / (gb - ga)
+        guess = np.where(np.isfinite(guess) & (guess > a) & (guess < b), guess, 0.5 * (a + b))
+        gn, mn = g(guess, live)
+        n[live] = guess
+        done[live] = np.abs(mn) <= REFINE_PH_TOL
+        left = gn < 0
+        g_hi[live] = np.where(left, gb * 0.5, gn)   # Illinois: halve the kept end's value
+        g_lo[live] = np.where(left, gn, ga * 0.5)
+        lo[live], hi[live] = np.where(left, guess, a), np.where(left, b, guess)
+    return n
