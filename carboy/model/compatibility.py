@@ -25,8 +25,7 @@ from types import MappingProxyType
 
 from carboy.errors import CatalogError, InvalidInput
 from carboy.model.catalog import default_catalog
-from carboy.model.datafiles import read_data_file
-from carboy.model.provenance import check_provenance
+from carboy.model.datafiles import Table
 
 SEVERITIES = ("refuse", "confirm")
 KINDS = ("acid", "base", "neutral")
@@ -150,64 +149,72 @@ class _Settings:
 # ----------------------------------------------------------------------------- data
 
 
-def _sourced(entry: str, rec: Mapping) -> str:
+DATA_FILE = "compatibility.toml"
+
+
+def _sourced(t: Table) -> str:
     """The source cited with its status, checked by the one provenance check."""
-    source = str(rec.get("source", "")).strip()
-    return check_provenance(entry, "", rec.get("status"), source, allowed=STATUSES).cited()
+    return t.provenance(allowed=STATUSES).cited()
 
 
-def _sides(entry: str, alternatives: Iterable[Mapping]) -> tuple[Mapping, ...]:
+def _sides(t: Table, field: str, *, required: bool = True) -> tuple[Mapping, ...]:
+    """The alternatives of one side of a rule (or a stream's accepts/refuses): each a
+    table of match criteria among ``_ALL_KEYS``."""
+    if required:
+        t.raw(field)
     out = []
-    for alt in alternatives:
-        unknown = set(alt) - _ALL_KEYS
+    for alt in t.tables(field, name=lambda i, _d: f"{t.entry} {field}[{i}]"):
+        unknown = set(alt.data) - _ALL_KEYS
         if unknown:
-            raise CatalogError(entry, f"unknown match criteria {sorted(unknown)}")
-        bad = set(alt.get("kinds", ())) - set(KINDS)
+            raise alt.fail(None, f"unknown match criteria {sorted(unknown)}")
+        bad = set(alt.texts("kinds", ())) - set(KINDS)
         if bad:
-            raise CatalogError(entry, f"kinds {sorted(bad)} are not among {KINDS}")
-        out.append(MappingProxyType(dict(alt)))
+            raise alt.fail("kinds", f"{sorted(bad)} are not among {KINDS}")
+        out.append(MappingProxyType(dict(alt.data)))
     return tuple(out)
 
 
-def _parse_stream(rec: Mapping) -> Stream:
-    key = rec["key"]
-    return Stream(key, rec["name"], rec["words"], bool(rec["drain_treatable"]),
-                  bool(rec.get("acidic", False)), tuple(rec.get("materials", ())),
-                  _sides(key, rec["accepts"]), _sides(key, rec.get("refuses", ())),
-                  rec.get("refuse_hazard", ""), _sourced(key, rec))
+def _parse_stream(t: Table) -> Stream:
+    key = t.text("key")
+    return Stream(key, t.text("name"), t.text("words"), t.flag("drain_treatable"),
+                  t.flag("acidic", False), t.texts("materials", ()), _sides(t, "accepts"),
+                  _sides(t, "refuses", required=False), t.text("refuse_hazard", ""),
+                  _sourced(t))
 
 
-def _parse_rule(rec: Mapping) -> Rule:
-    rid = rec["id"]
-    severity, gas = rec["severity"], rec.get("gas", "")
+def _parse_rule(t: Table) -> Rule:
+    severity, gas = t.text("severity"), t.text("gas", "")
     if severity not in SEVERITIES:
-        raise CatalogError(rid, f"severity {severity!r} is not one of {SEVERITIES}")
+        raise t.fail("severity", f"{severity!r} is not one of {SEVERITIES}")
     if gas and severity != "refuse":
-        raise CatalogError(rid, f"releases {gas}: a gas hazard must refuse, never confirm")
-    return Rule(rid, severity, rec["hazard"], _sides(rid, rec["a"]), _sides(rid, rec["b"]),
-                rec["advice_a"], rec["advice_b"], _sourced(rid, rec), gas,
-                float(rec.get("acidic_below_ph", REFERENCE_PH)),
-                tuple(rec.get("superseded_by", ())))
+        raise t.fail("gas", f"releases {gas}: a gas hazard must refuse, never confirm")
+    return Rule(t.text("id"), severity, t.text("hazard"), _sides(t, "a"), _sides(t, "b"),
+                t.text("advice_a"), t.text("advice_b"), _sourced(t), gas,
+                t.number("acidic_below_ph", REFERENCE_PH, low=0.0, high=14.0),
+                t.texts("superseded_by", ()))
 
 
 @lru_cache(maxsize=1)
 def _settings() -> _Settings:
-    data = read_data_file("compatibility.toml")
-    streams = {rec["key"]: _parse_stream(rec) for rec in data["streams"]}
-    rules = tuple(_parse_rule(rec) for rec in data["rules"])
+    top = Table.of_file(DATA_FILE)
+    streams = {st.key: st for st in map(_parse_stream, top.tables("streams"))}
+    rules = tuple(map(_parse_rule, top.tables(
+        "rules", name=lambda i, d: str(d.get("id") or f"rules[{i}]"))))
     ids = [r.id for r in rules]
     if len(ids) != len(set(ids)):
-        raise CatalogError("compatibility.toml", "rule ids must be unique")
+        raise top.fail("rules", "rule ids must be unique")
     for rule in rules:
         for side in (rule.a, rule.b):
             for alt in side:
                 unknown = set(alt.get("streams", ())) - set(streams)
                 if unknown:
-                    raise CatalogError(rule.id, f"names unknown streams {sorted(unknown)}")
+                    raise CatalogError(f"{DATA_FILE}: {rule.id}",
+                                       f"names unknown streams {sorted(unknown)}")
         if set(rule.superseded_by) - set(ids):
-            raise CatalogError(rule.id, "superseded by an unknown rule")
-    return _Settings(MappingProxyType(streams), rules, float(data["kind_threshold"]),
-                     float(data["concentrated_molar"]))
+            raise CatalogError(f"{DATA_FILE}: {rule.id}", "superseded by an unknown rule")
+    return _Settings(MappingProxyType(streams), rules,
+                     top.number("kind_threshold", positive=True),
+                     top.number("concentrated_molar", positive=True))
 
 
 def streams() -> Mapping[str, Stream]:

@@ -24,8 +24,8 @@ Every value carries a ``source`` and a ``status`` from the one vocabulary of
 :mod:`carboy.model.provenance`, checked by its one check.  Loaders read a file with
 :func:`read_data_file` and walk it with :class:`Table`, whose readers raise
 :class:`~carboy.errors.CatalogError` naming the file, the entry and the field of anything
-missing or malformed (``compatibility``, ``pitzer_data`` and ``ion_pairs`` still check
-their fields with readers of their own, through the same provenance check).
+missing or malformed (``pitzer_data`` and ``ion_pairs`` still check their fields with
+readers of their own, through the same provenance check).
 
 :func:`compound_keys_by_file` lists, per file, every key that names a compound of the
 catalog (a test checks each against the catalog and lists where each compound appears).
@@ -164,6 +164,15 @@ class Table:
         ):
             raise self.fail(field, f"must be a list of non-empty strings, got {value!r}")
         return tuple(value)
+
+    def flag(self, field: str, default: Any = _MISSING) -> bool:
+        """A true or false (a TOML boolean, nothing else)."""
+        if field not in self.data and default is not _MISSING:
+            return default
+        value = self.raw(field)
+        if not isinstance(value, bool):
+            raise self.fail(field, f"must be true or false, got {value!r}")
+        return value
 
     def number(
         self,

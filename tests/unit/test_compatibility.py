@@ -18,6 +18,7 @@ import pytest
 from carboy.errors import CatalogError, InvalidInput, UnknownCompound
 from carboy.model import compatibility as C
 from carboy.model.compatibility import Addition, Container
+from carboy.model.datafiles import Table
 
 # The organic compounds of the built-in catalog: each carries the "organic" tag in
 # compounds.toml (the oxidizing-acid rule matches on it).
@@ -199,9 +200,26 @@ def test_every_gas_hazard_refuses_and_the_loader_holds_to_it():
     assert gases == {"HCN", "H2S", "Cl2", "chloramines", "HN3"}
     assert all(r.severity == "refuse" for r in C.rules() if r.gas)
     bad = {"id": "x", "severity": "confirm", "gas": "HCN", "hazard": "h", "a": [{}],
-           "b": [{}], "advice_a": "", "advice_b": "", "status": "PRACTICE", "source": "s"}
+           "b": [{}], "advice_a": "a", "advice_b": "b", "status": "PRACTICE",
+           "source": "common practice"}
     with pytest.raises(CatalogError, match="gas hazard must refuse"):
-        C._parse_rule(bad)
+        C._parse_rule(Table("compatibility.toml", "x", bad))
+    assert C._parse_rule(Table("compatibility.toml", "x", {**bad, "severity": "refuse"})).gas
+
+
+@pytest.mark.parametrize("change, words", [
+    ({"hazard": ""}, "'hazard': must be a non-empty string"),
+    ({"a": [{"colour": "red"}]}, "unknown match criteria"),
+    ({"b": [{"kinds": ["salty"]}]}, "are not among"),
+    ({"acidic_below_ph": 15}, "'acidic_below_ph': must be from 0 to 14"),
+    ({"severity": "maybe"}, "'severity': 'maybe' is not one of"),
+])
+def test_a_malformed_rule_is_an_error_naming_file_rule_and_field(change, words):
+    good = {"id": "r-1", "severity": "refuse", "hazard": "h", "a": [{}], "b": [{}],
+            "advice_a": "a", "advice_b": "b", "status": "PRACTICE", "source": "common practice"}
+    with pytest.raises(CatalogError, match="compatibility.toml: r-1") as err:
+        C._parse_rule(Table("compatibility.toml", "r-1", {**good, **change}))
+    assert words in str(err.value)
 
 
 def test_every_rule_has_a_source_and_advice():

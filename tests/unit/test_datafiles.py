@@ -280,10 +280,9 @@ def _load(name, raw):
 
 def _with_file(monkeypatch, name, raw):
     real = datafiles.read_data_file
-    for module in (datafiles, compatibility):  # the last holds the name itself
-        monkeypatch.setattr(
-            module, "read_data_file", lambda n: copy.deepcopy(raw) if n == name else real(n)
-        )
+    monkeypatch.setattr(
+        datafiles, "read_data_file", lambda n: copy.deepcopy(raw) if n == name else real(n)
+    )
 
 
 def _set(path, value):
@@ -356,9 +355,14 @@ BROKEN = [
      ("handling.toml", "NaOH", "common practice")),
     ("handling.toml", _set(("weigh_from_percent", "Unobtainium"), {"percent": 50.0}),
      ("handling.toml", "Unobtainium", "not a compound")),
-    # compatibility.toml errors name the entry but not yet the file
     ("compatibility.toml", _set(("rules", 2, "source"), "Bretherick's Handbook"),
-     ("hypochlorite-acid", "from memory")),
+     ("compatibility.toml", "hypochlorite-acid", "from memory")),
+    ("compatibility.toml", _set(("rules", 0, "hazard"), _DELETE),
+     ("compatibility.toml", "'hazard'", "missing")),
+    ("compatibility.toml", _set(("streams", 0, "drain_treatable"), "yes"),
+     ("compatibility.toml", "'drain_treatable'", "true or false")),
+    ("compatibility.toml", _set(("concentrated_molar",), -1.0),
+     ("compatibility.toml", "'concentrated_molar'", "above 0")),
     ("metals.toml", _set(("metals", 0, "species", 0, "status"), "GUESS"),
      ("metals.toml", "Zn+2 species 1", "log_beta", "GUESS")),
     ("metals.toml", _set(("metals", 1, "solid", "formula"), _DELETE),
