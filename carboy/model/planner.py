@@ -282,14 +282,18 @@ def _charge_parts(sample: Mixture, catalog, which: str) -> dict:
     """Per-key contribution to Σ z n (ions) or n·top/bottom charge (systems), mol.
 
     Towards base a modelled metal cation counts as its hydroxide (z OH- per ion, the
-    neutral form that settles): it takes no part, where a spectator cation counts as
-    base already present."""
+    neutral form that settles), so its two parts cancel: its charge (+z n, as a spectator
+    cation counts as base already present) and the OH- its hydroxide takes (-z n, under
+    ``HYDROXIDE_PART``), both shown so that the anions it came with are not read as
+    acid."""
     out = {}
     v = sample.volume_l
     metals = MetalDoses.of(tuple(sample.totals), catalog) if which == "bottom" else None
     for key, c in sample.totals.items():
         n = c * v
         if metals is not None and key in metals.keys:
+            out[key] = catalog.ions[key].charge * n
+            out[HYDROXIDE_PART + key] = -catalog.ions[key].charge * n
             continue
         if key in catalog.ions:
             out[key] = catalog.ions[key].charge * n
@@ -299,9 +303,16 @@ def _charge_parts(sample: Mixture, catalog, which: str) -> dict:
     return out
 
 
+HYDROXIDE_PART = "hydroxide of "
+"""A breakdown key's prefix for the OH- a metal's hydroxide takes."""
+
+
 def _component_name(key: str, catalog) -> str:
     """What the breakdown calls a component: its strong acid (Cl- -> hydrochloric acid),
-    its system's name, its ion's name, or the key."""
+    its system's name, its ion's name, or the key; a metal's hydroxide part is
+    ``"zinc, as its hydroxide"``."""
+    if key.startswith(HYDROXIDE_PART):
+        return f"{_component_name(key[len(HYDROXIDE_PART):], catalog)}, as its hydroxide"
     if key in catalog.strong_acid_by_anion:
         return catalog.strong_acid_by_anion[key]
     if key in catalog.systems:

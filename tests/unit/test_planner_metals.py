@@ -40,7 +40,12 @@ def test_the_dose_counts_the_zinc_hydroxide():
     assert p.metal_hydroxide_mol == pytest.approx(0.100, rel=0.01)
     # every dissociable proton: the zinc counts as its hydroxide (2 OH- per Zn)
     assert p.full.reagent_mol == pytest.approx(0.200, rel=1e-9)
-    assert "zinc" not in p.breakdown
+    # the breakdown shows the zinc's charge and its hydroxide's OH- (they cancel), so the
+    # chloride it came with is not read as 0.2 mol of acid
+    assert p.breakdown["zinc"] == pytest.approx(-0.100, rel=1e-9)
+    assert p.breakdown["zinc, as its hydroxide"] == pytest.approx(0.100, rel=1e-9)
+    assert p.breakdown["hydrochloric acid"] == pytest.approx(0.200, rel=1e-9)
+    assert sum(p.breakdown.values()) == pytest.approx(p.full.reagent_mol, rel=1e-9)
 
 
 def test_the_plan_reports_the_sludge_and_the_zinc_left_dissolved():

@@ -127,7 +127,9 @@ def format_report(plan) -> str:
                  f"({describe_model(plan.activity, plan.activity_model)})")
     if plan.direction == "base":
         lines.append(f"every proton   {plan.proton_equivalents_mol:.4g} mol OH- needed to take "
-                     "every acid to its fully deprotonated form")
+                     "every acid to its fully deprotonated form"
+                     + (" and every metal to its hydroxide" if plan.metal_hydroxide_mol
+                        else ""))
     else:
         lines.append(f"every proton   {-plan.proton_equivalents_mol:.4g} mol H+ needed to take "
                      "every base to its fully protonated form")
