@@ -52,6 +52,9 @@ class Hydroxide:
     log_ks: float
     molar_mass_g_mol: float
     source: str = ""
+    dh_acid_kj: float | None = None
+    """ΔH of solid + z H+ = M(z+) + H2O's, kJ per mol of solid (None: no value held)."""
+    dh_source: str = ""
 
 
 @dataclass(frozen=True)
@@ -131,8 +134,13 @@ def _parse_metal(t: Table) -> Metal:
         log_ks = log_ksp + z * PKW25
         source = f"{cite}; log *Ks = log Ksp + {z} pKw(25 °C) [DERIVED]"
     formula = srec.text("formula")
+    dh, dh_cite = None, ""
+    if srec.has("dh_acid_kj"):
+        prov = srec.provenance("dh_acid_kj", status="dh_status", source="dh_source",
+                               allowed=STATUSES)
+        dh, dh_cite = srec.number("dh_acid_kj", low=-500.0, high=500.0), prov.cited()
     solid = Hydroxide(srec.text("name"), formula, log_ks,
-                      molar_mass_of(formula, entry=key), source)
+                      molar_mass_of(formula, entry=key), source, dh, dh_cite)
     return Metal(key, t.text("name"), z, tuple(species), solid, t.text("choice", ""))
 
 

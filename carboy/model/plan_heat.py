@@ -9,7 +9,9 @@ batch takes heat up (it cools), in ``prep`` and ``neutralize`` alike.  It is ``-
 * a solid reagent's heat of solution (every solid reagent carboy knows: NaOH, KOH, LiOH,
   Na2CO3, K2CO3, NaHCO3, Ca(OH)2, Mg(OH)2), for the amount dosed;
 * a concentrate's heat of dilution, where a table is held (H2SO4, HCl, HNO3, NaOH, NH3,
-  H3PO4 ...); otherwise a warning says it is not included.
+  H3PO4 ...); otherwise a warning says it is not included;
+* a metal hydroxide's own heat of precipitation in place of its OH- counted as water
+  formed (``metals_dh_kj``, from the plan's metals step).
 
 What the heat does to the batch (its heat capacity, the boiling cap and the stages that
 keep it under the safe temperature) is :mod:`carboy.model.batch_heat`.
@@ -80,13 +82,16 @@ def _reagent_heats(reagent: Reagent, n_end: float, warnings: list[str],
 
 def heat_and_gas(reagent: Reagent, catalog, sample_volume_l: float, temperature_c: float,
                  dosing, target: tuple, start: tuple, fresh_pH: float | None,
-                 safe_c: float | None = None, safe_from: str = "") -> HeatAndGas:
+                 safe_c: float | None = None, safe_from: str = "", *,
+                 metals_dh_kj: float = 0.0) -> HeatAndGas:
     """The heat released by the dose to the target, what it does to the batch, and the CO2.
 
     ``target`` is ``(speciation, index, volume_l)`` of the batch at the target, ``start``
     the same for the sample before any reagent; ``dosing`` the plan's
     :class:`~carboy.model.dosing.Dosing`; ``fresh_pH`` the pH right after the addition
     (carbonate only).  ``safe_c`` the safe temperature (default carboy's).
+    ``metals_dh_kj`` is added to ΔH: the metal hydroxides' own heat of precipitation
+    against their OH- counted as water formed (:mod:`~carboy.model.plan_metals`).
     """
     res, i_tp, vol = target
     n_end = dosing.target_mol
@@ -95,7 +100,7 @@ def heat_and_gas(reagent: Reagent, catalog, sample_volume_l: float, temperature_
                                        catalog)[0]
     gas_mol, vented_gas_mol = dosing.co2_lost_mol(n_end)
     dh = h_final - h_start - n_end * thermo.reagent_enthalpy_kj(reagent, catalog)
-    dh += vented_gas_mol * thermo.co2_degassing_kj()
+    dh += vented_gas_mol * thermo.co2_degassing_kj() + metals_dh_kj
     warnings: list[str] = []
     extra: list[str] = []
     dh += _reagent_heats(reagent, n_end, warnings, extra)

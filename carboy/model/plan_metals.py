@@ -27,9 +27,10 @@ from carboy.model.precipitates import Precipitate
 ASSUMPTION = ("metals: hydrolysis and solids at 25 °C constants (mononuclear hydroxo "
               "complexes; fresh, amorphous hydroxides; chloride, sulfate and polynuclear "
               "complexes not modelled); a solid is present where the batch is saturated "
-              "with it, and its hydroxide is counted in the doses; the heat counts the "
-              "hydroxide the metals take as if it formed water (an overestimate: a "
-              "hydroxide's heat of precipitation is smaller)")
+              "with it, and its hydroxide is counted in the doses; the heat counts each "
+              "hydroxide's own heat of precipitation where metals.toml holds it, and the "
+              "OH- of dissolved hydroxo complexes (and of a hydroxide without a value) as "
+              "if it formed water")
 
 
 @dataclass(frozen=True)
@@ -57,6 +58,34 @@ class MetalReport:
     precipitates: tuple[Precipitate, ...] = ()
     warnings: tuple[str, ...] = ()
     assumptions: tuple[str, ...] = ()
+    precipitation_dh_kj: float = 0.0
+    """What the hydroxides' own heat of precipitation changes in the batch's ΔH, kJ, against
+    counting their OH- as water formed (:func:`precipitation_heat`)."""
+
+
+def precipitation_heat(sludge: tuple[SludgeItem, ...], data=None
+                       ) -> tuple[float, tuple[str, ...]]:
+    """(ΔH correction kJ, notes) for the hydroxides in ``sludge``.
+
+    The heat step counts every OH- the metals take as if it formed water (z ΔH_w per mol
+    of solid).  A hydroxide's own precipitation, M(z+) + z OH- = solid, has ΔH =
+    -ΔH_acid + z ΔH_w, with ΔH_acid that of solid + z H+ = M(z+) + H2O's (metals.toml
+    ``dh_acid_kj``); so the correction is -ΔH_acid per mol of solid.  The notes cite
+    each value used and name the solids without one (left as water formed)."""
+    by_name = {m.solid.name: m.solid for m in (data or metal_data()).metals.values()}
+    dh, notes = 0.0, []
+    for item in sludge:
+        solid = by_name.get(item.solid)
+        if solid is None:
+            continue          # a salt (gypsum, fluorite ...): no hydroxide counted
+        if solid.dh_acid_kj is None:
+            notes.append(f"{item.solid}: no heat of precipitation held, its OH- counted as "
+                         "water formed (an overestimate)")
+            continue
+        dh -= item.mol * solid.dh_acid_kj
+        notes.append(f"{item.solid}: heat of precipitation from ΔH {solid.dh_acid_kj:g} "
+                     f"kJ/mol of its reaction with acid, {solid.dh_source}")
+    return dh, tuple(notes)
 
 
 def element_of(ion_key: str) -> str:
@@ -133,8 +162,9 @@ def metals_at_target(res, i: int, volume_l: float, totals, catalog,
             sludge.append(SludgeItem(name, formula, mol_l * volume_l, mol_l * volume_l * mass))
     dissolved = {key: float(c) * molar_mass_of(element_of(key)) * 1000.0
                  for key, c in zip(res.metal_keys, res.dissolved_metal_molar[i].tolist())}
+    dh, notes = precipitation_heat(tuple(sludge))
     return MetalReport(tuple(sludge), dissolved, float(res.metal_oh_molar[i]) * volume_l,
-                       missing, _merged(found, res, i), warnings, (ASSUMPTION,))
+                       missing, _merged(found, res, i), warnings, (ASSUMPTION, *notes), dh)
 
 
 def metal_lines(sludge: tuple[SludgeItem, ...], dissolved_mg_l: dict, hydroxide_mol: float,

@@ -153,11 +153,11 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     curve_res, curve_vol = _solve_curve(req, dosing)
     pts = _solve_points(req, start, dosing, demand.n_full, curve_res)
     doses = _dose_results(req, dosing, pts, demand.n_full)
-    heat = _heat_and_gas(req, dosing, pts, curve_res, curve_vol)
     bound, precipitates = _at_target(req, pts)
-    salts = _salt_limits(req, pts, heat)
     metals = _metals(req, pts, precipitates)
     precipitates = metals.precipitates
+    heat = _heat_and_gas(req, dosing, pts, curve_res, curve_vol, metals.precipitation_dh_kj)
+    salts = _salt_limits(req, pts, heat)
     warnings = heat.warnings + _warnings(req, dosing, pts, doses) + list(metals.warnings)
     facts = dataclasses.replace(_facts(req, start, dosing, pts, doses, heat, precipitates),
                                 **_limit_facts(heat, salts, reach, doses, start),
@@ -442,17 +442,19 @@ def _dose_results(req: PlanRequest, dosing: Dosing, pts: _Points, n_full: float)
 
 
 def _heat_and_gas(req: PlanRequest, dosing: Dosing, pts: _Points, curve_res: BatchSpeciation,
-                  curve_vol: np.ndarray) -> HeatAndGas:
+                  curve_vol: np.ndarray, metals_dh_kj: float) -> HeatAndGas:
     """Step 8: heat released (positive: the batch warms), the batch's rise with its own
     heat capacity, boiling and the stages that keep it under the safe temperature, and
     the CO2 given off with the pH right after the addition (:mod:`~carboy.model.plan_heat`,
-    :mod:`~carboy.model.batch_heat`)."""
+    :mod:`~carboy.model.batch_heat`); ``metals_dh_kj`` the hydroxides' own heat of
+    precipitation against counting their OH- as water (step 10's
+    :func:`~carboy.model.plan_metals.precipitation_heat`)."""
     i_tp = pts.TARGET
     fresh_ph = float(pts.res.pH[pts.fresh]) if dosing.carbonate else None
     return heat_and_gas(req.reagent, req.catalog, req.sample.volume_l, req.temperature_c,
                         dosing, (pts.res, i_tp, float(pts.volume_l[i_tp])),
                         (curve_res, 0, float(curve_vol[0])), fresh_ph,
-                        req.safe_temperature_c, req.safe_from)
+                        req.safe_temperature_c, req.safe_from, metals_dh_kj=metals_dh_kj)
 
 
 def _at_target(req: PlanRequest, pts: _Points) -> tuple[dict, tuple[Precipitate, ...]]:

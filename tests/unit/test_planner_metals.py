@@ -157,3 +157,24 @@ def test_gypsum_is_in_the_sludge_not_a_salt_limit():
     # the sulfate gypsum took is not counted: 0.2 mol/L left of 0.5 (volume grows with
     # the 1 M reagent, so a little less per kg)
     assert sodium.molality < 0.2
+
+
+def test_the_heat_counts_the_hydroxides_own_heat_of_precipitation():
+    """ZnCl2 0.05 M taken to pH 9: 0.05 mol Zn(OH)2 settles.  Zn+2 + 2 OH- = epsilon-Zn(OH)2
+    has ΔH = -643.25 - (-153.89 + 2 x -229.994) = -29.37 kJ/mol (Wagman et al. 1982, NBS
+    tables, ΔfH of the solid, the ion and OH-(aq); from memory), so the batch receives
+    about 0.05 x 29.37 = 1.47 kJ, not the 5.58 kJ of 0.1 mol OH- forming water."""
+    p = plan_neutralization(waste([("ZnCl2", 0.05)]), parse_reagent("NaOH=1M"),
+                            target_pH=9.0, window=(8.0, 10.0), curve_points=CURVE)
+    (sludge,) = p.sludge
+    assert sludge.mol == pytest.approx(0.05, rel=1e-3)
+    assert p.heat_released_kj == pytest.approx(0.05 * 29.37, abs=0.05)
+    assert any("Zn(OH)2 (epsilon): heat of precipitation" in a for a in p.assumptions)
+
+
+def test_a_hydroxide_without_a_heat_of_precipitation_is_counted_as_water_and_said_so():
+    p = plan_neutralization(waste([("NiCl2", 0.05)]), parse_reagent("NaOH=1M"),
+                            target_pH=9.5, window=(8.5, 10.5), curve_points=CURVE)
+    assert p.sludge and p.heat_released_kj == pytest.approx(
+        p.metal_hydroxide_mol * 55.815, rel=0.02)   # CODATA water formation, as thermo.py
+    assert any("Ni(OH)2: no heat of precipitation held" in a for a in p.assumptions)
