@@ -153,8 +153,8 @@ class RulesScreen(Screen):
     def on_mount(self) -> None:
         table = self.query_one("#rules-table", DataTable)
         table.add_column("Rule", key="rule")
+        table.add_column("From", key="from")   # before the value: a long value is cut last
         table.add_column("Value", key="value")
-        table.add_column("From", key="from")
         table.focus()
         self.watch(self.app, "data_version", lambda _v: self.load(), init=False)
         self.load()
@@ -197,7 +197,7 @@ class RulesScreen(Screen):
         row = table.cursor_row
         table.clear()
         for key, words, value, origin in rule_rows(profile, storeroom):
-            table.add_row(words, value, origin, key=key)
+            table.add_row(words, origin, value, key=key)
         table.move_cursor(row=min(row, table.row_count - 1))
         self._show_source()
         if report is not None:
