@@ -162,7 +162,7 @@ def _parts(catalog, keys: tuple[str, ...], temperature_c: float) -> _Parts:
     return out
 
 
-def _python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray) -> tuple:
+def python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray) -> tuple:
     """Per system: (column, per state (log beta0, c, j, z+, z-, z²), -zmin+, zmax+, fast).
 
     ``fast`` serves the closed forms of the one-solution path (``single``) where every
@@ -233,7 +233,7 @@ def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layo
         flat_sys=np.broadcast_to(np.arange(k)[:, None], (k, m))[valid],
         flat_index=np.flatnonzero(valid.reshape(-1)), sys_slices=_slices(valid),
         jj=jj, pad_rows=_pad_rows(valid), **_rows(z, valid, cmat), chunk=max(64, CHUNK_BYTES // (8 * (int(valid.sum()) + 1))),
-        py_systems=_python_systems(pt.sys_cols, zs, lb0, cmat),
+        py_systems=python_systems(pt.sys_cols, zs, lb0, cmat),
         py_ions=tuple(zip(pt.ion_cols, (float(v) for v in pt.ion_z))),
         py_species=_species(pt), metals=metals,
     )

@@ -27,11 +27,13 @@ from carboy.model.solver.constants import (
 from carboy.model.solver.layout import Layout
 
 
-def _inputs(lay: Layout, row, held: dict):
+def _inputs(lay: Layout, row, held: dict, extra: tuple = ()):
     """The systems present (total, states, held spec), the spectators' positive and
-    negative charge and ionic strength, and the charge bounds Q and P (mol/L)."""
+    negative charge and ionic strength, and the charge bounds Q and P (mol/L);
+    ``extra`` are more systems in ``Layout.py_systems``' form (never held)."""
+    every = lay.py_systems + extra if extra else lay.py_systems
     systems = [(row[col], states, held.get(k), fast)
-               for k, (col, states, _, _, fast) in enumerate(lay.py_systems)
+               for k, (col, states, _, _, fast) in enumerate(every)
                if row[col] > 0.0 or k in held]
     zs_pos = zs_neg = ispec = 0.0
     for col, z in lay.py_ions:
@@ -42,7 +44,7 @@ def _inputs(lay: Layout, row, held: dict):
             zs_neg -= z * c
         ispec += 0.5 * z * z * c
     q, p = zs_neg, zs_pos
-    for k, (col, _, neg_cap, pos_cap, _) in enumerate(lay.py_systems):
+    for k, (col, _, neg_cap, pos_cap, _) in enumerate(every):
         if k not in held:
             q += row[col] * neg_cap
             p += row[col] * pos_cap
@@ -227,17 +229,18 @@ def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators,
 
 def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
               max_iter: int = COUPLED_ITER, x0: float | None = None,
-              i0: float | None = None):
+              i0: float | None = None, extra: tuple = ()):
     """The coupled (x, I) iteration for one solution with totals ``row`` (mol/L, in the
     layout's column order), from ``x0`` and ``i0`` where given (else x = -7 and the
     spectators' ionic strength).
 
     ``held`` maps a system's index to (reference state, its cmat term, its
-    concentration).  Returns ``(x, ionic, iterations)``, or ``None`` when it did not
+    concentration); ``extra`` are more systems in ``Layout.py_systems``' form (the
+    metals' hydrolysis ladders, see ``single_metals``).  Returns ``(x, ionic, iterations)``, or ``None`` when it did not
     get there within ``max_iter`` steps (the caller then takes the vectorized solve).
     """
     held = held or {}
-    systems, zs_pos, zs_neg, ispec, q, p = _inputs(lay, row, held)
+    systems, zs_pos, zs_neg, ispec, q, p = _inputs(lay, row, held, extra)
     spectators = (zs_pos, zs_neg, ispec)
     davies = a_dh != 0.0
     lo_below, hi = math.log10(p + 1.0) + 1e-3, math.log10(q + 1.0) + 1e-3
