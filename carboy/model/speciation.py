@@ -26,8 +26,9 @@ iterated to self-consistency; pH is -log10 a(H+).  ``activity="ideal"`` sets eve
 activity coefficient to 1 and pH = -log10[H+] (see :mod:`carboy.model.activity`).
 Temperature enters through pKw (IAPWS R11-07) and each step's pKa by the van 't Hoff
 equation integrated with a constant heat-capacity change (Clarke & Glew form).
-``activity="pitzer"`` and ``"auto"`` (the specific-interaction model, ion pairs) are
-routed to :mod:`carboy.model.speciation_models`.
+``activity="pitzer"`` and ``"auto"`` (the specific-interaction model, ion pairs), and
+``"davies"`` where ion pairs form (NaSO4-, KSO4- ...), are routed to
+:mod:`carboy.model.speciation_models`; ``state_at`` stays charge-only.
 
 This module is the public API: :func:`speciate` (one solution), :func:`speciate_batch`
 (N solutions in one set of numpy operations, not a Python loop), :func:`state_at`

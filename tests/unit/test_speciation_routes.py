@@ -66,3 +66,25 @@ def test_zero_coupled_steps_send_every_point_to_the_guaranteed_path(catalog, mon
     assert res.converged.all()
     # one call per solution, then one for the whole batch, each solving every point given
     assert [len(x) for x, _, _, _ in nested] == [1] * len(mixes) + [len(mixes)]
+
+
+def test_davies_takes_the_pairs_only_where_they_form(catalog, monkeypatch):
+    from carboy.model.speciation_models import davies_pairs, needs_route
+
+    calls = spy(monkeypatch, "route")
+    plain = sp.speciate(Mixture({"Na+": 0.1, "Cl-": 0.1}), catalog=catalog)
+    assert not calls and "NaSO4-" not in plain.species   # no sulfate: charge-only path
+    for keys in (("Na+", "Cl-"), ("sulfate", "Cl-"), ("Ca+2", "Na+", "sulfate")):
+        lay = sp.cached_layout(catalog, keys, 25.0)
+        assert not davies_pairs(lay, 25.0) and not needs_route(lay, "davies", 25.0)
+    mix = Mixture({"Na+": 0.1, "sulfate": 0.05})
+    res = sp.speciate(mix, catalog=catalog)
+    assert len(calls) == 1 and res.species["NaSO4-"] > 0
+    assert res.species["Na+"] + res.species["NaSO4-"] == pytest.approx(0.1, rel=1e-12)
+    assert res.species["HSO4-"] + res.species["SO4-2"] + res.species["NaSO4-"] == \
+        pytest.approx(0.05, rel=1e-12)
+    auto = sp.speciate(mix, activity="auto", catalog=catalog)
+    assert res.pH == pytest.approx(auto.pH, abs=1e-12)
+    assert res.activity == "davies" and res.model_part is None
+    ideal = sp.speciate(mix, activity="ideal", catalog=catalog)
+    assert "NaSO4-" not in ideal.species   # ideal stays charge-only
