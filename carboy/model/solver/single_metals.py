@@ -35,34 +35,59 @@ class MetalPart:
     dissolved: dict            # each metal -> its total
 
 
-_LADDERS: dict = {}
+@dataclass(frozen=True)
+class _Compiled:
+    """The metals of a layout as plain tuples (cached beside the layout)."""
+
+    ladders: tuple     # each metal as a system, ``Layout.py_systems``' form
+    metals: tuple      # (col, key, z, ((log *beta, n, q² - z²), ...), log Ks, solid name)
+    salts: tuple       # (name, metal index, ligand column, state, its states, zl², zm²,
+                       #  a, b, c, log Ksp, in the dose)
 
 
-def metal_ladders(lay: Layout):
-    """Each metal of ``lay`` as a system of the one-solution path (``py_systems``'
-    form), or None when some metal's complexes are not a ladder n = 1, 2, ... (cached
-    beside the layout, which never changes)."""
-    hit = _LADDERS.get(id(lay))
+_COMPILED: dict = {}
+
+
+def compiled(lay: Layout) -> _Compiled | None:
+    """The metals of ``lay`` for this path, or None when some metal's complexes are not
+    a ladder n = 1, 2, ... (cached beside the layout, which never changes)."""
+    hit = _COMPILED.get(id(lay))
     if hit is not None and hit[0] is lay:
         return hit[1]
+    got = _compile(lay)
+    if len(_COMPILED) >= 512:
+        _COMPILED.clear()
+    _COMPILED[id(lay)] = (lay, got)
+    return got
+
+
+def _compile(lay: Layout) -> _Compiled | None:
     ml = lay.metals
-    out = []
+    ladders, metals = [], []
     for col, key in zip(ml.cols.tolist(), ml.keys):
         m = ml.data.metals[key]
         ns = [s.n for s in m.species]
         if ns != list(range(len(ns))):
-            out = None
-            break
+            return None
         z = m.charge
         zs = [s.charge for s in m.species]
         lb = np.array([[s.log_beta for s in m.species]])
         cm = np.array([[0.5 * (z * z - q * q - n) for q, n in zip(zs, ns)]])
-        out.append(python_systems([col], [zs], lb, cm)[0])
-    got = None if out is None else tuple(out)
-    if len(_LADDERS) >= 512:
-        _LADDERS.clear()
-    _LADDERS[id(lay)] = (lay, got)
-    return got
+        ladders.append(python_systems([col], [zs], lb, cm)[0])
+        metals.append((col, key, z, tuple((s.log_beta, s.n, s.charge ** 2 - z * z)
+                                          for s in m.species), m.solid.log_ks, m.solid.name))
+    links = {lk.key: lk for lk in ml.ligands}
+    salts = []
+    for s in ml.data.ligand_solids:
+        lk = links.get(s.ligand_system)
+        if s.cation not in ml.keys or lk is None:
+            continue
+        col, states = lay.py_systems[lk.k][:2]
+        zl, zm = lk.charges[s.ligand_index], ml.data.metals[s.cation].charge
+        salts.append((s.name, ml.keys.index(s.cation), col, s.ligand_index - lk.strong, states,
+                      zl * zl, zm * zm, s.cation_count, s.ligand_count, s.oh_count,
+                      s.log_ksp, s.in_dose))
+    return _Compiled(tuple(ladders), tuple(metals), tuple(salts))
 
 
 def solve_unsaturated(lay: Layout, row, pkw: float, a_dh: float, *, max_iter: int):
@@ -71,14 +96,14 @@ def solve_unsaturated(lay: Layout, row, pkw: float, a_dh: float, *, max_iter: in
     path cannot take it: a layout with shifted exponentials or a metal whose
     complexes are no ladder, no root within ``max_iter`` steps, or a solid of the dose
     saturated at the root."""
-    ladders = None if lay.needs_shift else metal_ladders(lay)
-    if ladders is None:
+    comp = None if lay.needs_shift else compiled(lay)
+    if comp is None:
         return None
-    got = solve_one(lay, row, pkw, a_dh, max_iter=max_iter, extra=ladders)
+    got = solve_one(lay, row, pkw, a_dh, max_iter=max_iter, extra=comp.ladders)
     if got is None:
         return None
     x, ionic, iterations = got
-    part = _metal_part(lay, row, x, a_dh * davies_d_float(ionic), pkw)
+    part = _metal_part(lay, comp, row, x, a_dh * davies_d_float(ionic), pkw)
     return None if part is None else (x, ionic, iterations, part)
 
 
@@ -88,38 +113,29 @@ def _fraction(states, index: int, x: float, tad: float) -> float:
     return es[index] / sum(es)
 
 
-def _metal_part(lay: Layout, row, x: float, ad: float, pkw: float) -> MetalPart | None:
+def _metal_part(lay: Layout, comp: _Compiled, row, x: float, ad: float,
+                pkw: float) -> MetalPart | None:
     """The metals at the root (x, A·D), or None where a solid of the dose is saturated."""
-    ml = lay.metals
     log_h_act, log_oh_act = x - ad, -pkw - x + ad
-    values, si, dissolved, log_free = [], {}, {}, {}
-    for col, key in zip(ml.cols.tolist(), ml.keys):
-        m = ml.data.metals[key]
-        c, z = row[col], m.charge
-        rs = [s.log_beta - s.n * log_h_act + ad * (s.charge ** 2 - z * z) for s in m.species]
-        ws = [math.exp(r * LN10) for r in rs]
+    values, si, dissolved, log_free = [], {}, {}, []
+    exp, log10 = math.exp, math.log10
+    for col, key, z, species, log_ks, solid in comp.metals:
+        c = row[col]
+        ws = [exp((lb - n * log_h_act + ad * dz2) * LN10) for lb, n, dz2 in species]
         free = c / sum(ws)
-        values.extend(free * w for w in ws)
+        values.extend([free * w for w in ws])
         dissolved[key] = c
-        u = math.log10(free) if free > 0 else -math.inf
-        log_free[key] = u
-        si[m.solid.name] = u - (m.solid.log_ks + z * log_h_act + ad * z * z)
-        if si[m.solid.name] >= 0:
+        u = log10(free) if free > 0 else -math.inf
+        log_free.append(u)
+        si[solid] = u - (log_ks + z * log_h_act + ad * z * z)
+        if si[solid] >= 0:
             return None
-    links = {lk.key: lk for lk in ml.ligands}
-    for s in ml.data.ligand_solids:
-        lk = links.get(s.ligand_system)
-        if s.cation not in log_free or lk is None:
-            continue
-        col, states = lay.py_systems[lk.k][:2]
-        idx = s.ligand_index - lk.strong
+    for name, i, col, idx, states, zl2, zm2, a, b, oh, log_ksp, in_dose in comp.salts:
         lig = row[col] * (_fraction(states, idx, x, 2.0 * ad) if idx >= 0 else 0.0)
-        zl, zm = lk.charges[s.ligand_index], ml.data.metals[s.cation].charge
-        log_lig = (math.log10(lig) if lig > 0 else -math.inf) - ad * zl * zl
-        log_iap = (s.cation_count * (log_free[s.cation] - ad * zm * zm)
-                   + s.ligand_count * log_lig + s.oh_count * log_oh_act)
-        si[s.name] = log_iap - s.log_ksp
-        if s.in_dose and si[s.name] >= 0:
+        log_lig = (log10(lig) if lig > 0 else -math.inf) - ad * zl2
+        si[name] = a * (log_free[i] - ad * zm2) + b * log_lig + oh * log_oh_act - log_ksp
+        if in_dose and si[name] >= 0:
             return None
-    return MetalPart(values, dict.fromkeys(ml.solids, 0.0),
-                     {name: si[name] for name in ml.solids}, dissolved)
+    solids = lay.metals.solids
+    return MetalPart(values, dict.fromkeys(solids, 0.0), {n: si[n] for n in solids},
+                     dissolved)
