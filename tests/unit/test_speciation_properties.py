@@ -83,7 +83,9 @@ def test_batch_equals_one_by_one(many, act):
     batch = MixtureBatch.of(mixes)
     res = speciate_batch(batch, activity=act, catalog=CAT)
     for i, m in enumerate(mixes):
-        # each alone with the batch's keys (the absent ones at 0): the model depends on
-        # the keys (a layout with metals forms no ion pairs), the arithmetic must not
-        alone = Mixture({**dict.fromkeys(batch.keys, 0.0), **m.totals}, m.temperature_c)
-        assert abs(res.pH[i] - speciate(alone, activity=act, catalog=CAT).pH) < 1e-9
+        # each point alone with the batch's keys (the model depends on the keys: a
+        # layout with metals forms no ion pairs), and the one-solution path on its own
+        alone = MixtureBatch(batch.keys, batch.totals[i:i + 1], batch.temperature_c)
+        assert abs(res.pH[i] - speciate_batch(alone, activity=act, catalog=CAT).pH[0]) < 1e-9
+        own = speciate_batch(MixtureBatch.of([m]), activity=act, catalog=CAT).pH[0]
+        assert abs(own - speciate(m, activity=act, catalog=CAT).pH) < 1e-9
