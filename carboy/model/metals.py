@@ -493,6 +493,8 @@ def _ligand_terms(at: _Salts, amounts, dp_x, dp_a) -> dict:
     for i, (s, lig, (j, c, jbar, cbar)) in enumerate(zip(at.solids, at.ligands, at.ladders,
                                                           strict=True)):
         b, p, px, pa = s.ligand_count, amounts[i], dp_x[i], dp_a[i]
+        if not (p.any() or px.any() or pa.any()):   # absent at every point: adds nothing
+            continue
         removed[s.ligand_system] = removed.get(s.ligand_system, 0.0) + b * p
         alpha = lig.alpha
         # the mean of each weight, and its x- and A·D-derivatives (the fractions move)
