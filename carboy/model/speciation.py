@@ -92,12 +92,14 @@ from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
 )
 from carboy.model.solver.layout import compile_layout as _layout  # noqa: F401 (tests)
 from carboy.model.solver.metal_terms import columns as metal_columns
+from carboy.model.solver.outer import table_of
 from carboy.model.solver.problem import Problem, build_problem
 from carboy.model.solver.single import solve_one
 from carboy.model.solver.single_metals import solve_unsaturated
+from carboy.model.solver.single_pairs import solve_pairs_one
 from carboy.model.solver.starts import start_between
 from carboy.model.speciation_models import ModelPart, ModelPoint, needs_route, ph_scale_of, route
-from carboy.model.speciation_one import METAL_T_SPAN_C, one_fields
+from carboy.model.speciation_one import METAL_T_SPAN_C, one_fields, pairs_fields
 from carboy.model.speciation_one import warning_texts as _warning_texts
 
 __all__ = [
@@ -317,6 +319,10 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
         return Speciation(**{**res.__dict__, "mixture": mixture})
     lay = cached_layout(catalog, keys, t_c)
     if needs_route(lay, activity, t_c):
+        if activity == "davies":   # ion pairs form: first the plain-Python outer loop
+            got = _pairs_one(lay, row, t_c)
+            if got is not None:
+                return Speciation(**got, mixture=mixture)
         batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
         res = route(batch, lay, activity, catalog, None, None, _solve).point(0)
         return Speciation(**{**res.__dict__, "mixture": mixture})
@@ -332,6 +338,15 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
         return Speciation(**{**res.__dict__, "mixture": mixture})
     return Speciation(**one_fields(lay, row, *fast[:3], pkw, a_dh, t_c, activity, *fast[3:]),
                       mixture=mixture)
+
+
+def _pairs_one(lay: Layout, row: list, t_c: float) -> dict | None:
+    """The fields of one solution solved with its ion pairs in plain Python, or None."""
+    pkw = water.pkw(t_c)
+    tab = table_of(lay, "davies", t_c)
+    got = solve_pairs_one(lay, tab, row, pkw, debye_huckel_scale("davies", t_c),
+                          max_iter=COUPLED_ITER)
+    return None if got is None else pairs_fields(lay, tab, got, pkw, t_c, "davies")
 
 
 def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=None,

@@ -90,3 +90,27 @@ def one_fields(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, metals=
         ionic_strength_molar=ionic, temperature_c=t_c, activity=activity, warnings=warnings,
         converged=True, iterations=iterations, charge_residual_molar=residual, **extra,
     )
+
+
+def pairs_fields(lay, tab, got, pkw: float, t_c: float, activity: str) -> dict:
+    """The fields of a ``Speciation`` (all but ``mixture``) of one solution solved with
+    its ion pairs (``solver.single_pairs``: ``tab`` its species table, ``got`` its
+    ``PairsSolved``), in the order and form the vectorized outer loop gives them."""
+    ro = MappingProxyType
+    charges = tab.charges.tolist()
+    species = dict(zip(tab.labels, got.table))
+    ionic = 0.5 * sum(c * z * z for c, z in zip(got.table, charges))
+    by_z = {abs(int(z)): 10.0 ** (-got.ad * z * z) for z in charges}
+    fractions = {key: ro(dict(zip(labels, fr)))
+                 for key, labels, fr in zip(lay.sys_keys, lay.sys_labels, got.fractions)}
+    hot = warning_texts(False, False, t_c > ENTHALPY_DATA_MAX_C, activity)
+    extra = (warning_texts(True, False, False, activity) if ionic > DAVIES_LIMIT_MOLAR else ())
+    extra += () if got.converged else warning_texts(False, True, False, activity)
+    return dict(
+        pH=got.ad - got.x, h_molar=10.0 ** got.x, oh_molar=species["OH-"], pkw=pkw,
+        species=ro(species), fractions=ro(fractions),
+        activity_coefficients=ro({lab: by_z[abs(int(z))]
+                                  for lab, z in zip(tab.labels, charges)}),
+        ionic_strength_molar=ionic, temperature_c=t_c, activity=activity,
+        warnings=hot + extra, converged=got.converged, iterations=got.rounds,
+        charge_residual_molar=math.fsum(c * z for c, z in zip(got.table, charges)))

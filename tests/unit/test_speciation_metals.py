@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from same_result import assert_same_species
 
 import carboy.model.speciation as S
 from carboy.model.catalog import default_catalog
@@ -126,20 +127,12 @@ def test_a_batch_keeps_its_solids_through_rows():
 
 def _same_result(one, other):
     """Every field of two one-solution results alike (to the solver's tolerance)."""
-    assert one.pH == pytest.approx(other.pH, abs=1e-9)
-    assert one.ionic_strength_molar == pytest.approx(other.ionic_strength_molar, rel=1e-8)
-    assert set(one.species) == set(other.species)   # (their order follows the keys')
-    for lab, c in other.species.items():
-        assert one.species[lab] == pytest.approx(c, rel=1e-7, abs=1e-300), lab
-        assert one.activity_coefficients[lab] == pytest.approx(
-            other.activity_coefficients[lab], rel=1e-8)
+    assert_same_species(one, other)
     assert dict(one.solids) == pytest.approx(dict(other.solids), abs=1e-15)
     assert dict(one.dissolved_metals) == pytest.approx(dict(other.dissolved_metals), rel=1e-9)
     assert set(one.saturation_indices) == set(other.saturation_indices)
     for name, si in other.saturation_indices.items():
         assert one.saturation_indices[name] == pytest.approx(si, abs=1e-7), name
-    assert one.warnings == other.warnings and one.converged and other.converged
-    assert abs(one.charge_residual_molar) <= 1e-12 * sum(one.species.values())
 
 
 @pytest.mark.parametrize("components", [w[1] for w in WASTES], ids=[w[0] for w in WASTES])

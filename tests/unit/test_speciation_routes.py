@@ -9,6 +9,7 @@ path and that a batch of several goes through the vectorized one.
 from __future__ import annotations
 
 import pytest
+from same_result import assert_same_species
 
 import carboy.model.speciation as sp
 from carboy.model.mixture import Mixture, MixtureBatch
@@ -71,7 +72,7 @@ def test_zero_coupled_steps_send_every_point_to_the_guaranteed_path(catalog, mon
 def test_davies_takes_the_pairs_only_where_they_form(catalog, monkeypatch):
     from carboy.model.speciation_models import davies_pairs, needs_route
 
-    calls = spy(monkeypatch, "route")
+    calls = spy(monkeypatch, "solve_pairs_one")
     plain = sp.speciate(Mixture({"Na+": 0.1, "Cl-": 0.1}), catalog=catalog)
     assert not calls and "NaSO4-" not in plain.species   # no sulfate: charge-only path
     for keys in (("Na+", "Cl-"), ("sulfate", "Cl-"), ("Ca+2", "Na+", "sulfate")):
@@ -84,7 +85,31 @@ def test_davies_takes_the_pairs_only_where_they_form(catalog, monkeypatch):
     assert res.species["HSO4-"] + res.species["SO4-2"] + res.species["NaSO4-"] == \
         pytest.approx(0.05, rel=1e-12)
     auto = sp.speciate(mix, activity="auto", catalog=catalog)
-    assert res.pH == pytest.approx(auto.pH, abs=1e-12)
+    assert res.pH == pytest.approx(auto.pH, abs=1e-9)   # (auto: the vectorized loop)
     assert res.activity == "davies" and res.model_part is None
     ideal = sp.speciate(mix, activity="ideal", catalog=catalog)
     assert "NaSO4-" not in ideal.species   # ideal stays charge-only
+
+
+PAIR_CASES = [
+    {"Na+": 0.1, "sulfate": 0.05},                          # one pair, closed form
+    {"Na+": 0.1, "K+": 0.05, "sulfate": 0.08},              # two pairs share SO4-2
+    {"Na+": 0.02, "sulfate": 0.06, "Cl-": 0.01},            # acid: HSO4- takes most
+    {"K+": 0.3, "sulfate": 0.05, "carbonate": 0.02, "phosphate": 0.01},   # alkaline
+    {"Na+": 0.9, "sulfate": 0.4},                           # beyond the Davies range
+]
+
+
+@pytest.mark.parametrize("totals", PAIR_CASES)
+@pytest.mark.parametrize("temperature_c", [25.0, 85.0])
+def test_pairs_in_plain_python_agree_with_the_vectorized_outer_loop(catalog, monkeypatch,
+                                                                    totals, temperature_c):
+    mix = Mixture(totals, temperature_c=temperature_c)
+    calls = spy(monkeypatch, "solve_pairs_one")
+    one = sp.speciate(mix, catalog=catalog)
+    assert calls and calls[0] is not None and calls[0].converged   # the plain path took it
+    ref = sp.speciate_batch(MixtureBatch.of([mix]), catalog=catalog).point(0)
+    assert_same_species(one, ref)
+    for key, fr in ref.fractions.items():
+        assert one.fractions[key] == pytest.approx(dict(fr), rel=1e-7, abs=1e-300)
+    assert one.pkw == ref.pkw

@@ -171,7 +171,7 @@ def python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray) 
     both signs."""
     out = []
     for i, z in enumerate(zs):
-        states = tuple((float(lb0[i, st]), float(cmat[i, st]), float(st), float(max(z[st], 0)),
+        states = tuple((float(lb0[i][st]), float(cmat[i][st]), float(st), float(max(z[st], 0)),
                         float(max(-z[st], 0)), float(z[st] ** 2)) for st in range(len(z)))
         fast = None
         if min(z) >= 0 or max(z) <= 0:

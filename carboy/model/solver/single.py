@@ -27,11 +27,13 @@ from carboy.model.solver.constants import (
 from carboy.model.solver.layout import Layout
 
 
-def _inputs(lay: Layout, row, held: dict, extra: tuple = ()):
+def _inputs(lay: Layout, row, held: dict, extra: tuple = (), systems=None):
     """The systems present (total, states, held spec), the spectators' positive and
     negative charge and ionic strength, and the charge bounds Q and P (mol/L);
-    ``extra`` are more systems in ``Layout.py_systems``' form (never held)."""
-    every = lay.py_systems + extra if extra else lay.py_systems
+    ``extra`` are more systems in ``Layout.py_systems``' form (never held), ``systems``
+    the layout's own with other weights (ion pairs lumped in, see ``single_pairs``)."""
+    every = lay.py_systems if systems is None else systems
+    every = every + extra if extra else every
     systems = [(row[col], states, held.get(k), fast)
                for k, (col, states, _, _, fast) in enumerate(every)
                if row[col] > 0.0 or k in held]
@@ -229,18 +231,22 @@ def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators,
 
 def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
               max_iter: int = COUPLED_ITER, x0: float | None = None,
-              i0: float | None = None, extra: tuple = ()):
+              i0: float | None = None, extra: tuple = (), systems=None,
+              ispec_add: float = 0.0):
     """The coupled (x, I) iteration for one solution with totals ``row`` (mol/L, in the
     layout's column order), from ``x0`` and ``i0`` where given (else x = -7 and the
     spectators' ionic strength).
 
     ``held`` maps a system's index to (reference state, its cmat term, its
     concentration); ``extra`` are more systems in ``Layout.py_systems``' form (the
-    metals' hydrolysis ladders, see ``single_metals``).  Returns ``(x, ionic, iterations)``, or ``None`` when it did not
+    metals' hydrolysis ladders, see ``single_metals``); ``systems`` replaces
+    ``Layout.py_systems`` and ``ispec_add`` is added to the spectators' ionic strength
+    (both held by the outer loop of ``single_pairs``).  Returns ``(x, ionic, iterations)``, or ``None`` when it did not
     get there within ``max_iter`` steps (the caller then takes the vectorized solve).
     """
     held = held or {}
-    systems, zs_pos, zs_neg, ispec, q, p = _inputs(lay, row, held, extra)
+    systems, zs_pos, zs_neg, ispec, q, p = _inputs(lay, row, held, extra, systems)
+    ispec += ispec_add
     spectators = (zs_pos, zs_neg, ispec)
     davies = a_dh != 0.0
     lo_below, hi = math.log10(p + 1.0) + 1e-3, math.log10(q + 1.0) + 1e-3
