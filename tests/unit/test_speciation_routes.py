@@ -113,3 +113,20 @@ def test_pairs_in_plain_python_agree_with_the_vectorized_outer_loop(catalog, mon
     for key, fr in ref.fractions.items():
         assert one.fractions[key] == pytest.approx(dict(fr), rel=1e-7, abs=1e-300)
     assert one.pkw == ref.pkw
+
+
+def test_the_pairs_outer_loop_agrees_with_its_guaranteed_inner_solve(catalog, monkeypatch):
+    import carboy.model.solver.outer as outer
+    from carboy.model.mixture import titration_batch
+
+    sample = Mixture({"sulfate": 0.05, "K+": 0.02, "phosphate": 0.01, "Cl-": 0.03},
+                     volume_l=1.0)
+    batch, _ = titration_batch(sample, {"Na+": 1.0}, [0.0, 0.03, 0.08, 0.12, 0.2], 0.0)
+    fast = sp.speciate_batch(batch, catalog=catalog)
+    monkeypatch.setattr(outer, "COUPLED_ITER", 0)   # every round's inner solve: solve_nested
+    monkeypatch.setattr(sp, "COUPLED_ITER", 0)
+    sure = sp.speciate_batch(batch, catalog=catalog)
+    assert "NaSO4-" in fast.species_labels and "KSO4-" in fast.species_labels
+    assert fast.converged.all() and sure.converged.all()
+    assert abs(fast.pH - sure.pH).max() <= 1e-9
+    assert abs(fast.species_molar - sure.species_molar).max() <= 1e-12

@@ -153,7 +153,7 @@ def _from(pr: Problem, start):
     return x, ionic
 
 
-def _coupled_then_nested(pr: Problem, x0, i0, max_iter: int):
+def coupled_then_nested(pr: Problem, x0, i0, max_iter: int):
     """Points started near their roots: the coupled iteration (at most ``max_iter``
     steps), and :func:`solve_nested` for those it leaves unsettled (about a kink)."""
     x, ionic, ok, iterations = solve_coupled(pr, max_iter=max_iter, x0=x0, i0=i0)
@@ -177,12 +177,12 @@ def solve_with_metals(pr: Problem, start=None, *, max_iter: int):
     """
     n = pr.ispec.shape[0]
     if start is not None or n < WARM_MIN:
-        return _coupled_then_nested(pr, *_from(pr, start), max_iter)
+        return coupled_then_nested(pr, *_from(pr, start), max_iter)
     coarse = np.unique(np.r_[np.arange(0, n, WARM_STRIDE), n - 1])
     fine = np.setdiff1d(np.arange(n), coarse)
     xc, ic, okc, itc = solve_with_metals(pr[coarse], max_iter=max_iter)
     xs, i_s = cubic_between(fine, coarse, xc, ic)
-    xf, i_f, okf, itf = _coupled_then_nested(pr[fine], xs, i_s, max_iter)
+    xf, i_f, okf, itf = coupled_then_nested(pr[fine], xs, i_s, max_iter)
     x, ionic, ok = np.empty(n), np.empty(n), np.empty(n, dtype=bool)
     x[coarse], ionic[coarse], ok[coarse] = xc, ic, okc
     x[fine], ionic[fine], ok[fine] = xf, i_f, okf

@@ -107,6 +107,13 @@ def _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi):
     return xn, seen_lo, seen_hi
 
 
+def plain_python(pr: Problem) -> bool:
+    """True when ``single.solve_each`` can take points of ``pr``: a layout it knows
+    (``Layout.python_path``) and no terms an outer loop holds (state shifts, a pKw or a
+    spectators' ionic strength of its own per point), which it would not see."""
+    return pr.lay.python_path and pr.am.shift is None and np.ndim(pr.pkw) == 0
+
+
 def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
     """Newton on (x, I) for every point of ``pr``, from ``x0`` and ``i0`` where given
     (a neighbour's root, say), else from x = -7 and the spectators' I.
@@ -155,7 +162,7 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
             idx, xa, ia = idx[keep], xa[keep], ia[keep]
             seen_lo, seen_hi = seen_lo[keep], seen_hi[keep]
             cur = cur[keep]
-        if idx.size <= TAIL_POINTS and cur.lay.python_path and it < max_iter:
+        if idx.size <= TAIL_POINTS and plain_python(cur) and it < max_iter:
             xt, i_t, okt, itt = solve_each(cur, xa, ia, max_iter=max_iter - it)
             x_out[idx], i_out[idx], ok[idx] = xt, i_t, okt
             return x_out, i_out, ok, it + itt
@@ -189,7 +196,7 @@ def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
                           (np.flatnonzero(~given), solve_warm(pr[~given], max_iter=max_iter)))
         return _started(pr, slice(None), x0, i0, max_iter)
     if n < WARM_MIN:
-        return (solve_coupled(pr, max_iter=max_iter) if not pr.lay.python_path
+        return (solve_coupled(pr, max_iter=max_iter) if not plain_python(pr)
                 else solve_each(pr, chain=True, max_iter=max_iter))  # step by step
     coarse = np.unique(np.r_[np.arange(0, n, WARM_STRIDE), n - 1])
     fine = np.ones(n, dtype=bool)
@@ -205,7 +212,7 @@ def _started(pr: Problem, which, x0, i0, max_iter: int):
     """Solve the points ``which`` of ``pr`` from their starts."""
     sub = pr if isinstance(which, slice) else pr[which]
     xs, i_s = np.asarray(x0)[which], np.asarray(i0)[which]
-    if sub.ispec.shape[0] < WARM_MIN and pr.lay.python_path:
+    if sub.ispec.shape[0] < WARM_MIN and plain_python(pr):
         return solve_each(sub, xs, i_s, max_iter=max_iter)
     return solve_coupled(sub, max_iter=max_iter, x0=xs, i0=i_s)
 
