@@ -241,8 +241,9 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
     concentration); ``extra`` are more systems in ``Layout.py_systems``' form (the
     metals' hydrolysis ladders, see ``single_metals``); ``systems`` replaces
     ``Layout.py_systems`` and ``ispec_add`` is added to the spectators' ionic strength
-    (both held by the outer loop of ``single_pairs``).  Returns ``(x, ionic, iterations)``, or ``None`` when it did not
-    get there within ``max_iter`` steps (the caller then takes the vectorized solve).
+    (both held by the outer loop of ``single_pairs``).  Returns ``(x, ionic,
+    iterations)``, or ``None`` when it did not get there within ``max_iter`` steps (the
+    caller then takes the vectorized solve).
     """
     held = held or {}
     systems, zs_pos, zs_neg, ispec, q, p = _inputs(lay, row, held, extra, systems)
