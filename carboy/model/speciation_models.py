@@ -259,11 +259,7 @@ def _assemble(base, out: Outcome, lay: Layout, tab, activity: str, warnings):
     ionic = 0.5 * np.einsum("nu,u->n", table, z * z)
     if not warnings:
         code = (ionic > DAVIES_LIMIT_MOLAR) & (base.activity != "ideal")
-        high = outside_range_warning("davies")
-        warnings = tuple(_drop(w, high) + ((high,) if c else ())
-                         for w, c in zip(base.warnings, code.tolist()))
-        warnings = tuple(w if ok else w + _unsettled(w)
-                         for w, ok in zip(warnings, out.converged.tolist()))
+        warnings = _pair_warnings(base.warnings, code, out.converged)
     zmax = max(lay.zmax, int(np.abs(z).max(initial=1)))
     return dataclasses.replace(
         base, pH=out.ph, log_h=out.x, ionic_strength_molar=ionic,
@@ -273,6 +269,32 @@ def _assemble(base, out: Outcome, lay: Layout, tab, activity: str, warnings):
         fractions=padded_fractions(alpha, lay), system_totals_molar=ceff.T,
         log_gamma_by_charge=_by_charge(out.log_gamma, z, zmax), activity=activity,
         warnings=warnings)
+
+
+def _pair_warnings(before, high_i: np.ndarray, settled: np.ndarray) -> tuple:
+    """Each point's warnings after the pairs' loop: those of the charge-only solve
+    ``before``, the ionic-strength one as ``high_i`` now says, the unsettled one where
+    not ``settled`` (worked out once per distinct case: a curve has a handful)."""
+    high = outside_range_warning("davies")
+
+    def one(w, c, ok):
+        w = _drop(w, high) + ((high,) if c else ())
+        return w if ok else w + _unsettled(w)
+
+    code = high_i.astype(int) + 2 * (~settled).astype(int)
+    if len(before) and len({id(w) for w in before}) == 1:   # the usual case
+        texts = [one(before[0], c & 1, not c & 2) for c in range(4)]
+        if code.min() == code.max():
+            return (texts[int(code[0])],) * len(before)
+        return tuple(map(texts.__getitem__, code.tolist()))
+    memo: dict = {}
+    out = []
+    for w, c in zip(before, code.tolist()):
+        got = memo.get((w, c))
+        if got is None:
+            got = memo[(w, c)] = one(w, c & 1, not c & 2)
+        out.append(got)
+    return tuple(out)
 
 
 def _drop(texts: tuple[str, ...], text: str) -> tuple[str, ...]:

@@ -130,3 +130,16 @@ def test_the_pairs_outer_loop_agrees_with_its_guaranteed_inner_solve(catalog, mo
     assert fast.converged.all() and sure.converged.all()
     assert abs(fast.pH - sure.pH).max() <= 1e-9
     assert abs(fast.species_molar - sure.species_molar).max() <= 1e-12
+
+
+def test_pairs_warnings_point_by_point(catalog):
+    # Na2SO4 from 0.05 to 0.4 M: the ionic strength crosses the Davies range on the way
+    c = [0.05, 0.1, 0.2, 0.3, 0.4]
+    batch = MixtureBatch(("Na+", "sulfate"), [[2 * v, v] for v in c], 25.0)
+    res = sp.speciate_batch(batch, catalog=catalog)
+    high = [i > sp.DAVIES_LIMIT_MOLAR for i in res.ionic_strength_molar]
+    assert any(high) and not all(high)
+    for n, v in enumerate(c):
+        one = sp.speciate(Mixture({"Na+": 2 * v, "sulfate": v}), catalog=catalog)
+        assert res.warnings[n] == one.warnings
+        assert any("outside" in w for w in one.warnings) == high[n]
