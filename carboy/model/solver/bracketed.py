@@ -176,8 +176,10 @@ def solve_with_metals(pr: Problem, start=None, *, max_iter: int):
     a point is accepted on the same test whatever its start.
     """
     n = pr.ispec.shape[0]
-    if start is not None or n < WARM_MIN:
+    if start is not None:
         return coupled_then_nested(pr, *_from(pr, start), max_iter)
+    if n < WARM_MIN:   # cold: x = -7 (and the first step balances the protons)
+        return coupled_then_nested(pr, None, None, max_iter)
     coarse = np.unique(np.r_[np.arange(0, n, WARM_STRIDE), n - 1])
     fine = np.setdiff1d(np.arange(n), coarse)
     xc, ic, okc, itc = solve_with_metals(pr[coarse], max_iter=max_iter)

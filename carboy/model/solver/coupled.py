@@ -22,6 +22,7 @@ from carboy.model.solver.constants import (
     COUPLED_NEAR,
     F_TOL,
     I_RTOL,
+    LN10,
     QUADRATIC_STEP,
 )
 from carboy.model.solver.problem import Problem
@@ -61,11 +62,14 @@ def _newton_2x2(d_ad, dz_x, ia, dd, pos, neg, big_f, f_x, g):
     return dx, inew, i_ok
 
 
-def _newton_step(pr: Problem, xa, ia):
+def _newton_step(pr: Problem, xa, ia, cold: bool = False):
     """F at (xa, ia) and the Newton step from there.
 
     Returns ``(F, dx, I_new, I settled?, log10 Kw')``; with ideal activity the step of
-    I is the plain update g and I counts as settled.
+    I is the plain update g and I counts as settled.  With ``cold`` (a first step from
+    no start), a point far from its root first balances the protons, as if only H+ or
+    OH- took up the imbalance, and takes the ionic strength of the species as they are
+    (as ``single.solve_one`` does).
     """
     davies = pr.a_dh != 0.0
     if davies:
@@ -87,6 +91,15 @@ def _newton_step(pr: Problem, xa, ia):
         dx = -big_f / f_x
         inew = g
         i_ok = True
+    if cold:
+        far = np.abs(dx) > COUPLED_NEAR
+        if far.any():
+            h, oh = np.exp(LN10 * xa), np.exp(LN10 * (log_kw - xa))
+            lin = np.where(neg > pos, np.log10(np.maximum(h + neg - pos, 1e-300)),
+                           log_kw - np.log10(np.maximum(oh + pos - neg, 1e-300)))
+            dx = np.where(far, lin - xa, dx)
+            inew = np.where(far, g, inew)
+            i_ok = i_ok & ~far
     return big_f, dx, inew, i_ok, log_kw
 
 
@@ -141,7 +154,7 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
     it = 0
     davies = pr.a_dh != 0.0
     for it in range(1, max_iter + 1):  # noqa: B007 (used after the loop)
-        big_f, dx, inew, i_ok, log_kw = _newton_step(cur, xa, ia)
+        big_f, dx, inew, i_ok, log_kw = _newton_step(cur, xa, ia, it == 1 and x0 is None)
         if cur.open_system:  # the totals do not bound a held system: keep steps moderate
             xn = xa + np.minimum(np.maximum(dx, -3.0), 3.0)
         else:
