@@ -68,6 +68,8 @@ def _sums(systems, x: float, tad: float):
     acc = [0.0] * 9   # pos, neg, dpos, dneg, iz2, diz2, apos, aneg, aiz2
     exp = math.exp
     xl = x * LN10
+    # the two-state systems' share, in local floats (the hot path)
+    pos = neg = dpos = dneg = iz2 = diz2 = apos = aneg = aiz2 = 0.0
     for ctot, states, hold, fast in systems:
         if fast is None:
             _general(acc, ctot, states, hold, x, tad)
@@ -75,19 +77,23 @@ def _sums(systems, x: float, tad: float):
         sign, t, ladder = fast
         if hold is None and len(ladder) == 1:
             # two states: every moment of j is the fraction p of the second state and
-            # v = u3 = u4 = p (1 - p); _closed_form written out for them (the hot path)
+            # v = u3 = u4 = p (1 - p); _closed_form written out for them
             lb, cl = ladder[0][0], ladder[0][1]
             e = exp(lb - tad * cl - xl)
             p = e / (1.0 + e)
             lcv = LN10 * ctot * p * (1.0 - p)
             k1 = 1.0 - 2.0 * t
-            side = 0 if sign > 0 else 1
-            acc[side] += sign * ctot * (t - p)
-            acc[2 + side] += sign * lcv
-            acc[4] += ctot * (t * t + p * k1)
-            acc[5] -= lcv * k1
-            acc[6 + side] -= sign * lcv * (k1 + 1.0)
-            acc[8] += lcv * (k1 * k1 - 2.0 * t + 1.0)
+            if sign > 0:
+                pos += ctot * (t - p)
+                dpos += lcv
+                apos -= lcv * (k1 + 1.0)
+            else:
+                neg -= ctot * (t - p)
+                dneg -= lcv
+                aneg += lcv * (k1 + 1.0)
+            iz2 += ctot * (t * t + p * k1)
+            diz2 -= lcv * k1
+            aiz2 += lcv * (k1 * k1 - 2.0 * t + 1.0)
             continue
         e_ref = 1.0   # e of the held state (the first state's e is 1)
         if len(ladder) == 1:  # two states: every moment of j is the fraction p of the second
@@ -116,7 +122,8 @@ def _sums(systems, x: float, tad: float):
             _closed_form(acc, ctot, sign, t, m1, m2, v, u3, u4)
         else:  # the total follows x: C = F·S/e_ref, and j0, c0 replace jbar, cbar
             _held_form(acc, hold, hold[2] * p0 / e_ref, sign, t, m1, m2, v, u3, u4)
-    return acc
+    return [acc[0] + pos, acc[1] + neg, acc[2] + dpos, acc[3] + dneg, acc[4] + iz2,
+            acc[5] + diz2, acc[6] + apos, acc[7] + aneg, acc[8] + aiz2]
 
 
 def _held_form(acc, hold, c, sign, t, m1, m2, v, u3, u4):
