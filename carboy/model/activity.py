@@ -21,7 +21,8 @@ derivatives with respect to ``ad`` for the Newton step in (x, I) through the row
 (``solver.single``).  Models not of this form (the specific-interaction model, and
 ion pairs) are solved by the outer loops of ``solver.outer``: a per-state term
 (``problem.Amounts.shift``, an (S, N) array) and a per-point effective pKw held around
-the guaranteed path; ``speciation_models`` routes ``"pitzer"`` and ``"auto"`` there.
+the guaranteed path; ``speciation_models`` routes ``"pitzer"``, ``"auto"`` and
+``"davies"`` where ion pairs form there.
 
 References
 ----------

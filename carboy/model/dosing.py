@@ -21,7 +21,7 @@ import numpy as np
 from carboy.model import gas
 from carboy.model.mixture import MixtureBatch, titration_batch
 from carboy.model.speciation import BatchSpeciation, speciate_batch
-from carboy.model.speciation_models import ROUTED
+from carboy.model.speciation_models import settles_forward
 
 CURVE_SPAN = 1.3
 """The pH curve runs from 0 to this times the largest dose of interest."""
@@ -174,7 +174,8 @@ def find_doses(model: gas.TitrationModel, composition: Mapping[str, float], l_pe
             doses[i] = 0.0
     found = Dosing(model, composition, l_per_mol, doses, grid, fresh_loss, s_air, pco2,
                    grid_air=grid_air)
-    if model.activity in ROUTED:   # the inverse took Davies coefficients: settle forward
+    if settles_forward(model.activity, model.keys, model.catalog, t_c):
+        # the inverse took charge-only Davies coefficients: settle on the forward solve
         return refine_doses(found, targets, direction)
     return found
 
@@ -281,7 +282,8 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
 
 def refine_doses(dosing: Dosing, targets, direction: str) -> Dosing:
     """The doses settled on the forward solve: with ``activity="auto"`` or ``"pitzer"``
-    the coefficients depend on the whole composition, so the exact inverse
+    the coefficients depend on the whole composition, and with ion pairs (``"davies"``
+    too) the pairs take their share, so the exact inverse
     (:meth:`gas.TitrationModel.amount_at_pH`, which takes Davies coefficients) gives a
     start, and the dose that reaches each pH on the model's own curve is found from there.
 

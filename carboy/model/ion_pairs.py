@@ -127,3 +127,10 @@ def formation_constants(temperature_c: float = 25.0,
     """log10 K of each pair's formation reaction at ``temperature_c`` (all pairs by default)."""
     chosen = load_ion_pairs() if species is None else tuple(ion_pair(s) for s in species)
     return {p.species: p.log_k(temperature_c) for p in chosen}
+
+
+def pairs_with(labels) -> tuple[str, ...]:
+    """The ion pairs one of whose partners is among ``labels`` (the states of a system,
+    say: its mass balance counts these pairs too)."""
+    wanted = set(labels)
+    return tuple(p.species for p in load_ion_pairs() if wanted & set(p.formed_from))

@@ -66,8 +66,8 @@ LN10 = math.log(10.0)
 LIGAND_SPAN = 60.0
 """Decades below the unsaturated free-cation level where the salt search starts."""
 LIGAND_STEPS = 100
-"""Safeguarded Newton steps (bisection where a step leaves the bracket) on log10 of the
-free cation when salts precipitate."""
+"""Safeguarded Newton steps (bisection where a step leaves the bracket, or is not half
+the one two steps before) on log10 of the free cation when salts precipitate."""
 LIGAND_TOL = 1e-13
 """The free-cation search stops when its step in log10 is below this."""
 
@@ -401,12 +401,16 @@ def _solve_free_cation(c, log_s, salts: _Salts) -> np.ndarray:
     ca, ls = (c, log_s) if whole else (c[idx], log_s[idx])
     lsat0, total = ((salts.lsat0, salts.total) if whole
                     else (salts.lsat0[:, idx], salts.total[:, idx]))
+    # the last two steps of each point: a Newton step that is not half the one two steps
+    # before becomes a bisection (Newton can bounce about a kink, where a salt appears)
+    last = np.full((2, idx.size), np.inf)
     for _ in range(LIGAND_STEPS):
         step = -ea / (LN10 * sa)
         small = np.abs(step) < LIGAND_TOL   # converged (the bracket may sit on u itself)
         nxt = ua + step
-        out = ~((nxt > lo) & (nxt < hi) | small)
+        out = ~((nxt > lo) & (nxt < hi) & (np.abs(step) <= 0.5 * last[0]) | small)
         nxt = np.where(out, 0.5 * (lo + hi), nxt)
+        last = np.stack([last[1], np.abs(nxt - ua)])
         fin = small | (np.abs(nxt - ua) < LIGAND_TOL) | (hi - lo < LIGAND_TOL)
         u[idx] = nxt
         if fin.all():
@@ -415,7 +419,7 @@ def _solve_free_cation(c, log_s, salts: _Salts) -> np.ndarray:
             keep = ~fin
             idx, nxt, lo, hi, ca, ls = (idx[keep], nxt[keep], lo[keep], hi[keep], ca[keep],
                                         ls[keep])
-            lsat0, total = lsat0[:, keep], total[:, keep]
+            lsat0, total, last = lsat0[:, keep], total[:, keep], last[:, keep]
         ea, sa = _excess(nxt, ls, ca, k, lsat0, total)
         hi = np.where(ea >= 0, nxt, hi)
         lo = np.where(ea < 0, nxt, lo)
@@ -493,6 +497,8 @@ def _ligand_terms(at: _Salts, amounts, dp_x, dp_a) -> dict:
     for i, (s, lig, (j, c, jbar, cbar)) in enumerate(zip(at.solids, at.ligands, at.ladders,
                                                           strict=True)):
         b, p, px, pa = s.ligand_count, amounts[i], dp_x[i], dp_a[i]
+        if not (p.any() or px.any() or pa.any()):   # absent at every point: adds nothing
+            continue
         removed[s.ligand_system] = removed.get(s.ligand_system, 0.0) + b * p
         alpha = lig.alpha
         # the mean of each weight, and its x- and A·D-derivatives (the fractions move)

@@ -26,8 +26,9 @@ iterated to self-consistency; pH is -log10 a(H+).  ``activity="ideal"`` sets eve
 activity coefficient to 1 and pH = -log10[H+] (see :mod:`carboy.model.activity`).
 Temperature enters through pKw (IAPWS R11-07) and each step's pKa by the van 't Hoff
 equation integrated with a constant heat-capacity change (Clarke & Glew form).
-``activity="pitzer"`` and ``"auto"`` (the specific-interaction model, ion pairs) are
-routed to :mod:`carboy.model.speciation_models`.
+``activity="pitzer"`` and ``"auto"`` (the specific-interaction model, ion pairs), and
+``"davies"`` where ion pairs form (NaSO4-, KSO4- ...), are routed to
+:mod:`carboy.model.speciation_models`; ``state_at`` stays charge-only.
 
 This module is the public API: :func:`speciate` (one solution), :func:`speciate_batch`
 (N solutions in one set of numpy operations, not a Python loop), :func:`state_at`
@@ -48,11 +49,8 @@ A. V. Bandura and S. N. Lvov, J. Phys. Chem. Ref. Data 35, 15 (2006).
 from __future__ import annotations
 
 import dataclasses
-import math
-import operator
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from functools import lru_cache
 from types import MappingProxyType
 
 import numpy as np
@@ -64,10 +62,8 @@ from carboy.model.activity import (
     DAVIES_LIMIT_MOLAR,
     check_model,
     davies_d,
-    davies_d_float,
     debye_huckel_scale,
     log_gamma_by_charge,
-    outside_range_warning,
 )
 from carboy.model.activity import davies_d as _davies_d  # noqa: F401 (tests use the old name)
 from carboy.model.mixture import Mixture, MixtureBatch
@@ -96,13 +92,15 @@ from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
 )
 from carboy.model.solver.layout import compile_layout as _layout  # noqa: F401 (tests)
 from carboy.model.solver.metal_terms import columns as metal_columns
+from carboy.model.solver.outer import table_of
 from carboy.model.solver.problem import Problem, build_problem
 from carboy.model.solver.single import solve_one
+from carboy.model.solver.single_metals import solve_unsaturated
+from carboy.model.solver.single_pairs import solve_pairs_one
 from carboy.model.solver.starts import start_between
 from carboy.model.speciation_models import ModelPart, ModelPoint, needs_route, ph_scale_of, route
-
-METAL_T_SPAN_C = 5.0
-"""Beyond this distance from 25 °C a result with metals says their constants are for 25 °C."""
+from carboy.model.speciation_one import METAL_T_SPAN_C, one_fields, pairs_fields
+from carboy.model.speciation_one import warning_texts as _warning_texts
 
 __all__ = [
     "ACTIVITY_MODELS", "COUPLED_ITER", "COUPLED_NEAR", "DAVIES_LIMIT_MOLAR",
@@ -321,18 +319,34 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
         return Speciation(**{**res.__dict__, "mixture": mixture})
     lay = cached_layout(catalog, keys, t_c)
     if needs_route(lay, activity, t_c):
+        if activity == "davies":   # ion pairs form: first the plain-Python outer loop
+            got = _pairs_one(lay, row, t_c)
+            if got is not None:
+                return Speciation(**got, mixture=mixture)
         batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
         res = route(batch, lay, activity, catalog, None, None, _solve).point(0)
         return Speciation(**{**res.__dict__, "mixture": mixture})
     pkw = water.pkw(t_c)
     a_dh = debye_huckel_scale(activity, t_c)
-    fast = None if not lay.python_path else solve_one(lay, row, pkw, a_dh, max_iter=COUPLED_ITER)
+    if lay.metals is not None:   # the plain-Python path where no solid forms
+        fast = solve_unsaturated(lay, row, pkw, a_dh, max_iter=COUPLED_ITER)
+    else:
+        fast = solve_one(lay, row, pkw, a_dh, max_iter=COUPLED_ITER) if lay.python_path else None
     if fast is None:
         batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
         res = _solve(batch, lay, activity, t_c).point(0)
         return Speciation(**{**res.__dict__, "mixture": mixture})
-    x, ionic, iterations = fast
-    return _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixture)
+    return Speciation(**one_fields(lay, row, *fast[:3], pkw, a_dh, t_c, activity, *fast[3:]),
+                      mixture=mixture)
+
+
+def _pairs_one(lay: Layout, row: list, t_c: float) -> dict | None:
+    """The fields of one solution solved with its ion pairs in plain Python, or None."""
+    pkw = water.pkw(t_c)
+    tab = table_of(lay, "davies", t_c)
+    got = solve_pairs_one(lay, tab, row, pkw, debye_huckel_scale("davies", t_c),
+                          max_iter=COUPLED_ITER)
+    return None if got is None else pairs_fields(lay, tab, got, pkw, t_c, "davies")
 
 
 def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=None,
@@ -537,64 +551,3 @@ def _merge_labels(labels: tuple[str, ...], table: np.ndarray):
     for col, lab in enumerate(labels):
         out[:, merged[lab]] += table[:, col]
     return tuple(merged), out
-
-
-@lru_cache(maxsize=64)
-def _warning_texts(high_i: bool, bad: bool, hot: bool, activity: str,
-                   metals_off: bool = False) -> tuple[str, ...]:
-    out = []
-    if metals_off:
-        out.append("the metals' hydrolysis and solubility constants are for 25 °C: at this "
-                   "temperature their share of the pH and the solids is approximate")
-    if high_i:
-        out.append(outside_range_warning(activity))
-    if hot:
-        out.append(
-            f"above {ENTHALPY_DATA_MAX_C:g} °C the pKa temperature correction extrapolates "
-            "beyond the range of its enthalpy data"
-        )
-    if bad:
-        out.append("the solver did not reach its tolerance: the result is approximate")
-    return tuple(out)
-
-
-def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixture) -> Speciation:
-    """Species, fractions and coefficients of one solved solution."""
-    exp = math.exp
-    ad = a_dh * davies_d_float(ionic)
-    tad = 2.0 * ad
-    h = 10.0 ** x
-    oh = 10.0 ** (tad - pkw - x)
-    values = [h, oh, *(row[col] for col, _ in lay.py_ions)]
-    fractions = {}
-    xl, tl = x * LN10, tad * LN10
-    for (col, states, _, _, _), key, labels in zip(lay.py_systems, lay.sys_keys,
-                                                   lay.sys_labels):
-        es = [exp(lb0 * LN10 - tl * cc - st * xl) for lb0, cc, st, _, _, _ in states]
-        inv = 1.0 / sum(es)
-        fr = [e * inv for e in es]
-        fractions[key] = MappingProxyType(dict(zip(labels, fr)))
-        ctot = row[col]
-        values.extend([ctot * f for f in fr])
-    labels, charges = lay.py_species
-    residual = math.fsum(map(operator.mul, charges, values))
-    if a_dh == 0.0:
-        ionic = 0.5 * sum(z * z * v for z, v in zip(charges, values))
-    by_z = [10.0 ** (-ad * z * z) for z in range(lay.zmax + 1)]
-    if len(set(labels)) == len(labels):
-        species = dict(zip(labels, values))
-    else:  # a label two components share (Na+ from two salts) is summed
-        species = {}
-        for lab, v in zip(labels, values):
-            species[lab] = species.get(lab, 0.0) + v
-    charge = lay.charge_map
-    coeff = {lab: by_z[abs(charge[lab])] for lab in species}
-    warnings = _warning_texts(ionic > DAVIES_LIMIT_MOLAR, False, t_c > ENTHALPY_DATA_MAX_C,
-                              activity)
-    return Speciation(
-        pH=ad - x, h_molar=h, oh_molar=oh, pkw=pkw, species=MappingProxyType(species),
-        fractions=MappingProxyType(fractions), activity_coefficients=MappingProxyType(coeff),
-        ionic_strength_molar=ionic, temperature_c=t_c, activity=activity, warnings=warnings,
-        converged=True, iterations=iterations, charge_residual_molar=residual,
-        mixture=mixture,
-    )

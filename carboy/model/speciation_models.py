@@ -5,14 +5,20 @@ the Davies path's fast solve:
 
 * ``activity="pitzer"``: the specific-interaction model (``solver.outer.solve_pitzer``),
   started from the Davies solution, in molalities, with the pairs of its own set (MgOH+);
-* ``activity="auto"``: the Davies equation with the ion pairs (a spectator Ca2+, Mg2+,
+* ``activity="davies"``: the Davies equation with the ion pairs (a spectator Ca2+, Mg2+,
   Na+ or K+ with sulfate or OH-: CaOH+, MgOH+, NaSO4-, KSO4-, CaSO4°, MgSO4°;
-  ``solver.outer.solve_with_pairs``) where the whole batch stays at or below
-  ``AUTO_LIMIT_MOLAL`` of ionic strength, the Pitzer model above it.  A batch (a curve)
-  is never split between the two models, so it has no jump where one takes over.
+  ``solver.outer.solve_with_pairs``) where a pair-forming cation and ligand are both
+  present; without them (:func:`davies_pairs` False) it never comes here and stays on
+  the charge-only fast paths;
+* ``activity="auto"``: the Davies equation with those pairs where the whole batch stays
+  at or below ``AUTO_LIMIT_MOLAL`` of ionic strength, the Pitzer model above it.  A batch
+  (a curve) is never split between the two models, so it has no jump where one takes over.
 
-``activity="davies"`` and ``"ideal"`` stay on the charge-only path (no pairs): their
-coefficients depend on the ionic strength alone, so ``state_at`` inverts them exactly.
+Modelled metal ions (Ca2+ and Mg2+ among them, ``metals.toml``) are solved with their own
+hydrolysis (CaOH+ and MgOH+ there) and solids, and take no part in the pairs; a layout
+with metals keeps the charge-only path.  ``activity="ideal"`` stays on the charge-only
+path too.  ``state_at`` (the exact inverse) knows no pairs: where they form, the planner
+settles its doses on the forward solve (:func:`settles_forward`).
 
 pH scales (``ph_scale`` in every result and in ``--json``)
 -----------------------------------------------------------
@@ -123,8 +129,27 @@ def check_activity(activity: str, known: tuple[str, ...]) -> str:
 
 
 def needs_route(lay: Layout, activity: str, temperature_c: float) -> bool:
-    """True when a batch with this layout must go through :func:`route`."""
-    return activity in ROUTED
+    """True when a batch with this layout must go through :func:`route`: the Pitzer
+    and auto models, and Davies where ion pairs form."""
+    return activity in ROUTED or (activity == "davies" and davies_pairs(lay, temperature_c))
+
+
+def davies_pairs(lay: Layout, temperature_c: float) -> bool:
+    """True when ``activity="davies"`` forms ion pairs in this layout."""
+    return _pairs_apply(lay, temperature_c)
+
+
+def settles_forward(activity: str, keys: tuple[str, ...], catalog,
+                    temperature_c: float) -> bool:
+    """True when the exact inverse (``state_at``, charge-only Davies coefficients) is only
+    a start for a dose with these components: the model's own solve must settle it."""
+    if activity in ROUTED:
+        return True
+    if activity != "davies":
+        return False
+    from carboy.model.solver.layout import cached_layout
+
+    return davies_pairs(cached_layout(catalog, tuple(keys), temperature_c), temperature_c)
 
 
 def _pairs_apply(lay: Layout, temperature_c: float) -> bool:
@@ -141,13 +166,12 @@ def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
     ``BatchSpeciation``), whose result is the start and the frame of the answer."""
     t_c = batch.temperature_c
     base = solve_davies(batch, lay, "davies", t_c, held, start)
+    if activity == "davies":   # pairs form (needs_route)
+        return _with_pairs(base, lay, activity, held)
     w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
     res = base
     if activity == "auto" and _pairs_apply(lay, t_c):
-        pr = build_problem(lay, base.batch.totals, held, base.pkw,
-                           _a_dh(t_c))
-        out = solve_with_pairs(pr, t_c, base.log_h.copy(), base.ionic_strength_molar.copy())
-        res = _assemble(base, out, lay, table_of(lay, "davies", t_c), activity, ())
+        res = _with_pairs(base, lay, activity, held)
     molal_i = res.ionic_strength_molar / w
     metals = getattr(lay, "metals", None) is not None
     if activity == "auto" and (
@@ -167,8 +191,12 @@ _METALS_NOTE = ("the specific-interaction model does not cover the metals' hydro
                 "and solids: the Davies equation is used, outside its range")
 
 
-def _a_dh(t_c: float) -> float:
-    return water.debye_huckel_a(t_c)
+def _with_pairs(base, lay: Layout, activity: str, held):
+    """The Davies result with the ion pairs, from the charge-only one ``base``."""
+    t_c = base.temperature_c
+    pr = build_problem(lay, base.batch.totals, held, base.pkw, water.debye_huckel_a(t_c))
+    out = solve_with_pairs(pr, t_c, base.log_h.copy(), base.ionic_strength_molar.copy())
+    return _assemble(base, out, lay, table_of(lay, "davies", t_c), activity, ())
 
 
 def _pitzer(base, lay: Layout, activity: str, held, w: np.ndarray, notes):
@@ -231,11 +259,7 @@ def _assemble(base, out: Outcome, lay: Layout, tab, activity: str, warnings):
     ionic = 0.5 * np.einsum("nu,u->n", table, z * z)
     if not warnings:
         code = (ionic > DAVIES_LIMIT_MOLAR) & (base.activity != "ideal")
-        high = outside_range_warning("davies")
-        warnings = tuple(_drop(w, high) + ((high,) if c else ())
-                         for w, c in zip(base.warnings, code.tolist()))
-        warnings = tuple(w if ok else w + _unsettled(w)
-                         for w, ok in zip(warnings, out.converged.tolist()))
+        warnings = _pair_warnings(base.warnings, code, out.converged)
     zmax = max(lay.zmax, int(np.abs(z).max(initial=1)))
     return dataclasses.replace(
         base, pH=out.ph, log_h=out.x, ionic_strength_molar=ionic,
@@ -245,6 +269,32 @@ def _assemble(base, out: Outcome, lay: Layout, tab, activity: str, warnings):
         fractions=padded_fractions(alpha, lay), system_totals_molar=ceff.T,
         log_gamma_by_charge=_by_charge(out.log_gamma, z, zmax), activity=activity,
         warnings=warnings)
+
+
+def _pair_warnings(before, high_i: np.ndarray, settled: np.ndarray) -> tuple:
+    """Each point's warnings after the pairs' loop: those of the charge-only solve
+    ``before``, the ionic-strength one as ``high_i`` now says, the unsettled one where
+    not ``settled`` (worked out once per distinct case: a curve has a handful)."""
+    high = outside_range_warning("davies")
+
+    def one(w, c, ok):
+        w = _drop(w, high) + ((high,) if c else ())
+        return w if ok else w + _unsettled(w)
+
+    code = high_i.astype(int) + 2 * (~settled).astype(int)
+    if len(before) and len({id(w) for w in before}) == 1:   # the usual case
+        texts = [one(before[0], c & 1, not c & 2) for c in range(4)]
+        if code.min() == code.max():
+            return (texts[int(code[0])],) * len(before)
+        return tuple(map(texts.__getitem__, code.tolist()))
+    memo: dict = {}
+    out = []
+    for w, c in zip(before, code.tolist()):
+        got = memo.get((w, c))
+        if got is None:
+            got = memo[(w, c)] = one(w, c & 1, not c & 2)
+        out.append(got)
+    return tuple(out)
 
 
 def _drop(texts: tuple[str, ...], text: str) -> tuple[str, ...]:

@@ -1,6 +1,8 @@
 """Speed of the speciation solver against PHREEQC (phreeqpython, database phreeqc.dat).
 
 Run by hand:  python tests/benchmarks/bench_speciation.py   (or run_all.py for every figure)
+Options: ``--parts abc`` (only those figures), ``--without-calcium`` ((a)-(c) on the
+solution less its CaCl2, see ``WITHOUT_CALCIUM``).
 
 Three figures, each the median of interleaved runs with a second process keeping one
 core busy, setup outside the timed region on both sides, peak memory beside time:
@@ -26,6 +28,8 @@ and its own ion-size terms); the largest difference along the curve is printed.
 
 from __future__ import annotations
 
+import os
+import subprocess
 import sys
 from pathlib import Path
 
@@ -49,6 +53,14 @@ DATABASE = "phreeqc.dat"
 NAOH_MAX_MOL = 0.08   # per litre of sample, added over the curve
 ONE_REPEAT = 200      # solutions per timed run of (a)
 TARGETS = {"one": 5.0, 1000: 30.0, 10000: 50.0}
+WITHOUT_CALCIUM = "CARBOY_BENCH_WITHOUT_CALCIUM"
+"""Set (by ``--without-calcium``, inherited by the memory runs): (a)-(c) on the same
+solution less its CaCl2 (nine components).  Calcium is a modelled metal (its hydrolysis
+and solids; a layout with metals forms no ion pairs): without it the Davies path forms
+NaSO4- and KSO4- (as PHREEQC does) and no solid can form."""
+if os.environ.get(WITHOUT_CALCIUM):
+    COMPONENTS = [c for c in COMPONENTS if c[0] != "CaCl2"]
+    PEER_MMOL = {**{k: v for k, v in PEER_MMOL.items() if k != "Ca"}, "Cl": 17.0}
 
 
 def ours(points: int = 0):
@@ -126,7 +138,7 @@ def _one_solution() -> Row:
     rss = peak_rss_mb("bench_speciation", "run_ours", "one"), \
         peak_rss_mb("bench_speciation", "run_peer", "one")
     ph = (speciate(mix, catalog=cat).pH, _one_peer(pp, sol))
-    return Row("speciation: one 10-component solution", f"{b / a:.1f}x",
+    return Row(f"speciation: one {len(COMPONENTS)}-component solution", f"{b / a:.1f}x",
                f">= {TARGETS['one']:g}x", b / a >= TARGETS["one"],
                f"carboy {a * 1e6:.1f} us, PHREEQC {b * 1e6:.1f} us; peak RSS "
                f"{rss[0]:.0f} / {rss[1]:.0f} MB; pH {ph[0]:.3f} / {ph[1]:.3f}")
@@ -245,19 +257,32 @@ def _pitzer_curve(points: int) -> Row:
                "NaOH differ slightly)")
 
 
-def figures() -> list[Row]:
-    """Every figure of this benchmark (a second core kept busy meanwhile)."""
+def figures(parts: str = "abcde") -> list[Row]:
+    """The figures of this benchmark named in ``parts`` (a second core kept busy
+    meanwhile)."""
     try:
         import phreeqpython  # noqa: F401
     except ImportError:  # pragma: no cover
         return [Row("speciation", "n/a", "phreeqpython", False, "pip install '.[test]'")]
+    runs = {"a": _one_solution, "b": lambda: _curve(1000, 15), "c": lambda: _curve(10000, 7),
+            "d": _pitzer_one, "e": lambda: _pitzer_curve(1000)}
     with busy_core():
-        return [_one_solution(), _curve(1000, 15), _curve(10000, 7), _pitzer_one(),
-                _pitzer_curve(1000)]
+        return [runs[p]() for p in parts]
 
 
 def main() -> None:
-    print_table(figures(), "speciation against PHREEQC (medians, one core kept busy)")
+    import argparse
+
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--parts", default="abcde", help="which figures, e.g. abc")
+    ap.add_argument("--without-calcium", action="store_true",
+                    help=f"(a)-(c) without the CaCl2: see {WITHOUT_CALCIUM}")
+    args = ap.parse_args()
+    if args.without_calcium:
+        os.environ[WITHOUT_CALCIUM] = "1"
+        print("(a)-(c) without CaCl2: run again in this environment")
+        raise SystemExit(subprocess.call([sys.executable, __file__, "--parts", args.parts]))
+    print_table(figures(args.parts), "speciation against PHREEQC (medians, one core kept busy)")
 
 
 if __name__ == "__main__":

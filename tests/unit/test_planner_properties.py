@@ -6,6 +6,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from carboy.model.catalog import default_catalog
+from carboy.model.ion_pairs import pairs_with
 from carboy.model.mixture import Mixture
 from carboy.model.planner import plan_neutralization
 from carboy.model.reagents import parse_reagent
@@ -53,7 +54,8 @@ def test_balances_on_the_curve(totals):
     batch = res.batch
     assert np.allclose(vol, 0.5 + p.curve[:, 0] / 1.0)
     for k, key in enumerate(res.system_keys):
-        labels = res.system_labels[k]
+        labels = res.system_labels[k]   # and the ion pairs that hold the system (NaSO4-)
+        labels += tuple(lab for lab in pairs_with(labels) if lab in res.species_labels)
         cols = [res.species_labels.index(lab) for lab in labels]
         total = res.species_molar[:, cols].sum(axis=1)
         assert np.allclose(total, batch.totals[:, batch.keys.index(key)], rtol=1e-9, atol=1e-15)

@@ -6,11 +6,12 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from same_result import assert_same_species
 
 import carboy.model.speciation as S
 from carboy.model.catalog import default_catalog
 from carboy.model.metals import metal, metal_data
-from carboy.model.mixture import Mixture, titration_batch
+from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
 from carboy.model.solver.layout import cached_layout
 
 CAT = default_catalog()
@@ -122,3 +123,42 @@ def test_a_batch_keeps_its_solids_through_rows():
     assert part.solids_molar.shape == (2, len(res.solid_names))
     assert np.array_equal(part.dissolved_metal_molar, res.dissolved_metal_molar[2:4])
     assert part.point(1).solids == res.point(3).solids
+
+
+def _same_result(one, other):
+    """Every field of two one-solution results alike (to the solver's tolerance)."""
+    assert_same_species(one, other)
+    assert dict(one.solids) == pytest.approx(dict(other.solids), abs=1e-15)
+    assert dict(one.dissolved_metals) == pytest.approx(dict(other.dissolved_metals), rel=1e-9)
+    assert set(one.saturation_indices) == set(other.saturation_indices)
+    for name, si in other.saturation_indices.items():
+        assert one.saturation_indices[name] == pytest.approx(si, abs=1e-7), name
+
+
+@pytest.mark.parametrize("components", [w[1] for w in WASTES], ids=[w[0] for w in WASTES])
+@pytest.mark.parametrize("temperature_c", [25.0, 40.0])
+@pytest.mark.parametrize("activity", ["davies", "ideal"])
+def test_one_solution_with_metals_in_plain_python_where_no_solid_forms(
+        components, temperature_c, activity, monkeypatch):
+    import carboy.model.solver.single_metals as single_metals
+
+    taken = []
+    real = single_metals.solve_unsaturated
+    monkeypatch.setattr(S, "solve_unsaturated",
+                        lambda *a, **k: taken.append(real(*a, **k)) or taken[-1])
+    for base in (0.0, 0.05, 0.2):   # mol NaOH per L: from the acid waste to past its solids
+        mix = Mixture.from_compounds(
+            [(CAT.compound(n), c) for n, c in components + [("NaOH", base)]],
+            temperature_c=temperature_c)
+        one = S.speciate(mix, catalog=CAT, activity=activity)
+        batch = S.speciate_batch(MixtureBatch.of([mix]), catalog=CAT,
+                                 activity=activity).point(0)
+        _same_result(one, batch)
+        undosed = {s.name for s in metal_data().ligand_solids if not s.in_dose}
+        dosed_si = [v for k, v in one.saturation_indices.items() if k not in undosed]
+        if taken[-1] is None:   # the guaranteed path: some solid of the dose is present
+            assert any(v > 0 for v in one.solids.values()) or max(dosed_si) > -1e-6
+        else:
+            assert not any(one.solids.values())
+        if max(dosed_si) < -1e-6:   # nothing near saturation: the plain-Python path took it
+            assert taken[-1] is not None

@@ -9,6 +9,7 @@ path and that a batch of several goes through the vectorized one.
 from __future__ import annotations
 
 import pytest
+from same_result import assert_same_species
 
 import carboy.model.speciation as sp
 from carboy.model.mixture import Mixture, MixtureBatch
@@ -66,3 +67,79 @@ def test_zero_coupled_steps_send_every_point_to_the_guaranteed_path(catalog, mon
     assert res.converged.all()
     # one call per solution, then one for the whole batch, each solving every point given
     assert [len(x) for x, _, _, _ in nested] == [1] * len(mixes) + [len(mixes)]
+
+
+def test_davies_takes_the_pairs_only_where_they_form(catalog, monkeypatch):
+    from carboy.model.speciation_models import davies_pairs, needs_route
+
+    calls = spy(monkeypatch, "solve_pairs_one")
+    plain = sp.speciate(Mixture({"Na+": 0.1, "Cl-": 0.1}), catalog=catalog)
+    assert not calls and "NaSO4-" not in plain.species   # no sulfate: charge-only path
+    for keys in (("Na+", "Cl-"), ("sulfate", "Cl-"), ("Ca+2", "Na+", "sulfate")):
+        lay = sp.cached_layout(catalog, keys, 25.0)
+        assert not davies_pairs(lay, 25.0) and not needs_route(lay, "davies", 25.0)
+    mix = Mixture({"Na+": 0.1, "sulfate": 0.05})
+    res = sp.speciate(mix, catalog=catalog)
+    assert len(calls) == 1 and res.species["NaSO4-"] > 0
+    assert res.species["Na+"] + res.species["NaSO4-"] == pytest.approx(0.1, rel=1e-12)
+    assert res.species["HSO4-"] + res.species["SO4-2"] + res.species["NaSO4-"] == \
+        pytest.approx(0.05, rel=1e-12)
+    auto = sp.speciate(mix, activity="auto", catalog=catalog)
+    assert res.pH == pytest.approx(auto.pH, abs=1e-9)   # (auto: the vectorized loop)
+    assert res.activity == "davies" and res.model_part is None
+    ideal = sp.speciate(mix, activity="ideal", catalog=catalog)
+    assert "NaSO4-" not in ideal.species   # ideal stays charge-only
+
+
+PAIR_CASES = [
+    {"Na+": 0.1, "sulfate": 0.05},                          # one pair, closed form
+    {"Na+": 0.1, "K+": 0.05, "sulfate": 0.08},              # two pairs share SO4-2
+    {"Na+": 0.02, "sulfate": 0.06, "Cl-": 0.01},            # acid: HSO4- takes most
+    {"K+": 0.3, "sulfate": 0.05, "carbonate": 0.02, "phosphate": 0.01},   # alkaline
+    {"Na+": 0.9, "sulfate": 0.4},                           # beyond the Davies range
+]
+
+
+@pytest.mark.parametrize("totals", PAIR_CASES)
+@pytest.mark.parametrize("temperature_c", [25.0, 85.0])
+def test_pairs_in_plain_python_agree_with_the_vectorized_outer_loop(catalog, monkeypatch,
+                                                                    totals, temperature_c):
+    mix = Mixture(totals, temperature_c=temperature_c)
+    calls = spy(monkeypatch, "solve_pairs_one")
+    one = sp.speciate(mix, catalog=catalog)
+    assert calls and calls[0] is not None and calls[0].converged   # the plain path took it
+    ref = sp.speciate_batch(MixtureBatch.of([mix]), catalog=catalog).point(0)
+    assert_same_species(one, ref)
+    for key, fr in ref.fractions.items():
+        assert one.fractions[key] == pytest.approx(dict(fr), rel=1e-7, abs=1e-300)
+    assert one.pkw == ref.pkw
+
+
+def test_the_pairs_outer_loop_agrees_with_its_guaranteed_inner_solve(catalog, monkeypatch):
+    import carboy.model.solver.outer as outer
+    from carboy.model.mixture import titration_batch
+
+    sample = Mixture({"sulfate": 0.05, "K+": 0.02, "phosphate": 0.01, "Cl-": 0.03},
+                     volume_l=1.0)
+    batch, _ = titration_batch(sample, {"Na+": 1.0}, [0.0, 0.03, 0.08, 0.12, 0.2], 0.0)
+    fast = sp.speciate_batch(batch, catalog=catalog)
+    monkeypatch.setattr(outer, "COUPLED_ITER", 0)   # every round's inner solve: solve_nested
+    monkeypatch.setattr(sp, "COUPLED_ITER", 0)
+    sure = sp.speciate_batch(batch, catalog=catalog)
+    assert "NaSO4-" in fast.species_labels and "KSO4-" in fast.species_labels
+    assert fast.converged.all() and sure.converged.all()
+    assert abs(fast.pH - sure.pH).max() <= 1e-9
+    assert abs(fast.species_molar - sure.species_molar).max() <= 1e-12
+
+
+def test_pairs_warnings_point_by_point(catalog):
+    # Na2SO4 from 0.05 to 0.4 M: the ionic strength crosses the Davies range on the way
+    c = [0.05, 0.1, 0.2, 0.3, 0.4]
+    batch = MixtureBatch(("Na+", "sulfate"), [[2 * v, v] for v in c], 25.0)
+    res = sp.speciate_batch(batch, catalog=catalog)
+    high = [i > sp.DAVIES_LIMIT_MOLAR for i in res.ionic_strength_molar]
+    assert any(high) and not all(high)
+    for n, v in enumerate(c):
+        one = sp.speciate(Mixture({"Na+": 2 * v, "sulfate": v}), catalog=catalog)
+        assert res.warnings[n] == one.warnings
+        assert any("outside" in w for w in one.warnings) == high[n]

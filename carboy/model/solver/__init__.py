@@ -23,5 +23,5 @@
                     (Pitzer) coefficients and ion pairs, held per point as state terms
 
 The activity model (Davies or ideal) is :mod:`carboy.model.activity`; the routing of
-``"pitzer"`` and ``"auto"`` is :mod:`carboy.model.speciation_models`.
+``"pitzer"``, ``"auto"`` and Davies with ion pairs is :mod:`carboy.model.speciation_models`.
 """

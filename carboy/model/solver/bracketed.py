@@ -153,30 +153,38 @@ def _from(pr: Problem, start):
     return x, ionic
 
 
+def coupled_then_nested(pr: Problem, x0, i0, max_iter: int):
+    """Points started near their roots: the coupled iteration (at most ``max_iter``
+    steps), and :func:`solve_nested` for those it leaves unsettled (about a kink)."""
+    x, ionic, ok, iterations = solve_coupled(pr, max_iter=max_iter, x0=x0, i0=i0)
+    bad = np.flatnonzero(~ok)
+    if bad.size:
+        x[bad], ionic[bad], ok[bad], more = solve_nested(pr[bad], x[bad], ionic[bad])
+        iterations += more
+    return x, ionic, ok, iterations
+
+
 def solve_with_metals(pr: Problem, start=None, *, max_iter: int):
     """Every point of a problem with metals: ``(x, ionic, converged, iterations)``.
 
     Where a metal's solid appears F's slope jumps, and the coupled iteration can wander
-    about the kink; the guaranteed path settles every point.  One solution without a
-    start takes the coupled iteration (``max_iter`` steps, fewer evaluations) first; a
-    batch without starts is solved coarse to fine (every ``WARM_STRIDE``-th point, then
-    each point between from the cubic through its solved neighbours), each point by
-    :func:`solve_nested`.  A start only saves steps.
+    about the kink: each point takes the coupled iteration (at most ``max_iter`` steps,
+    fewer evaluations) first and the guaranteed path (:func:`solve_nested`) where that
+    leaves it unsettled.  A batch without starts is solved coarse to fine (every
+    ``WARM_STRIDE``-th point, then each point between from the cubic through its solved
+    neighbours); a point without a start starts at x = -7.  A start only saves steps:
+    a point is accepted on the same test whatever its start.
     """
     n = pr.ispec.shape[0]
-    if start is None and n == 1:
-        x, ionic, ok, iterations = solve_coupled(pr, max_iter=max_iter)
-        if not ok.all():
-            x, ionic, ok, more = solve_nested(pr, x, ionic)
-            iterations += more
-        return x, ionic, ok, iterations
-    if start is not None or n < WARM_MIN:
-        return solve_nested(pr, *_from(pr, start))
+    if start is not None:
+        return coupled_then_nested(pr, *_from(pr, start), max_iter)
+    if n < WARM_MIN:   # cold: x = -7 (and the first step balances the protons)
+        return coupled_then_nested(pr, None, None, max_iter)
     coarse = np.unique(np.r_[np.arange(0, n, WARM_STRIDE), n - 1])
     fine = np.setdiff1d(np.arange(n), coarse)
     xc, ic, okc, itc = solve_with_metals(pr[coarse], max_iter=max_iter)
     xs, i_s = cubic_between(fine, coarse, xc, ic)
-    xf, i_f, okf, itf = solve_nested(pr[fine], xs, i_s)
+    xf, i_f, okf, itf = coupled_then_nested(pr[fine], xs, i_s, max_iter)
     x, ionic, ok = np.empty(n), np.empty(n), np.empty(n, dtype=bool)
     x[coarse], ionic[coarse], ok[coarse] = xc, ic, okc
     x[fine], ionic[fine], ok[fine] = xf, i_f, okf

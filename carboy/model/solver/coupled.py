@@ -22,6 +22,7 @@ from carboy.model.solver.constants import (
     COUPLED_NEAR,
     F_TOL,
     I_RTOL,
+    LN10,
     QUADRATIC_STEP,
 )
 from carboy.model.solver.problem import Problem
@@ -61,11 +62,14 @@ def _newton_2x2(d_ad, dz_x, ia, dd, pos, neg, big_f, f_x, g):
     return dx, inew, i_ok
 
 
-def _newton_step(pr: Problem, xa, ia):
+def _newton_step(pr: Problem, xa, ia, cold: bool = False):
     """F at (xa, ia) and the Newton step from there.
 
     Returns ``(F, dx, I_new, I settled?, log10 Kw')``; with ideal activity the step of
-    I is the plain update g and I counts as settled.
+    I is the plain update g and I counts as settled.  With ``cold`` (a first step from
+    no start), a point far from its root first balances the protons, as if only H+ or
+    OH- took up the imbalance, and takes the ionic strength of the species as they are
+    (as ``single.solve_one`` does).
     """
     davies = pr.a_dh != 0.0
     if davies:
@@ -87,6 +91,15 @@ def _newton_step(pr: Problem, xa, ia):
         dx = -big_f / f_x
         inew = g
         i_ok = True
+    if cold:
+        far = np.abs(dx) > COUPLED_NEAR
+        if far.any():
+            h, oh = np.exp(LN10 * xa), np.exp(LN10 * (log_kw - xa))
+            lin = np.where(neg > pos, np.log10(np.maximum(h + neg - pos, 1e-300)),
+                           log_kw - np.log10(np.maximum(oh + pos - neg, 1e-300)))
+            dx = np.where(far, lin - xa, dx)
+            inew = np.where(far, g, inew)
+            i_ok = i_ok & ~far
     return big_f, dx, inew, i_ok, log_kw
 
 
@@ -105,6 +118,13 @@ def _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi):
         xn = np.where(guard, 0.5 * (np.where(guard, seen_lo, 0.0)
                                     + np.where(guard, seen_hi, 0.0)), xn)
     return xn, seen_lo, seen_hi
+
+
+def plain_python(pr: Problem) -> bool:
+    """True when ``single.solve_each`` can take points of ``pr``: a layout it knows
+    (``Layout.python_path``) and no terms an outer loop holds (state shifts, a pKw or a
+    spectators' ionic strength of its own per point), which it would not see."""
+    return pr.lay.python_path and pr.am.shift is None and np.ndim(pr.pkw) == 0
 
 
 def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
@@ -134,7 +154,7 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
     it = 0
     davies = pr.a_dh != 0.0
     for it in range(1, max_iter + 1):  # noqa: B007 (used after the loop)
-        big_f, dx, inew, i_ok, log_kw = _newton_step(cur, xa, ia)
+        big_f, dx, inew, i_ok, log_kw = _newton_step(cur, xa, ia, it == 1 and x0 is None)
         if cur.open_system:  # the totals do not bound a held system: keep steps moderate
             xn = xa + np.minimum(np.maximum(dx, -3.0), 3.0)
         else:
@@ -155,7 +175,7 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
             idx, xa, ia = idx[keep], xa[keep], ia[keep]
             seen_lo, seen_hi = seen_lo[keep], seen_hi[keep]
             cur = cur[keep]
-        if idx.size <= TAIL_POINTS and cur.lay.python_path and it < max_iter:
+        if idx.size <= TAIL_POINTS and plain_python(cur) and it < max_iter:
             xt, i_t, okt, itt = solve_each(cur, xa, ia, max_iter=max_iter - it)
             x_out[idx], i_out[idx], ok[idx] = xt, i_t, okt
             return x_out, i_out, ok, it + itt
@@ -189,7 +209,7 @@ def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
                           (np.flatnonzero(~given), solve_warm(pr[~given], max_iter=max_iter)))
         return _started(pr, slice(None), x0, i0, max_iter)
     if n < WARM_MIN:
-        return (solve_coupled(pr, max_iter=max_iter) if not pr.lay.python_path
+        return (solve_coupled(pr, max_iter=max_iter) if not plain_python(pr)
                 else solve_each(pr, chain=True, max_iter=max_iter))  # step by step
     coarse = np.unique(np.r_[np.arange(0, n, WARM_STRIDE), n - 1])
     fine = np.ones(n, dtype=bool)
@@ -205,7 +225,7 @@ def _started(pr: Problem, which, x0, i0, max_iter: int):
     """Solve the points ``which`` of ``pr`` from their starts."""
     sub = pr if isinstance(which, slice) else pr[which]
     xs, i_s = np.asarray(x0)[which], np.asarray(i0)[which]
-    if sub.ispec.shape[0] < WARM_MIN and pr.lay.python_path:
+    if sub.ispec.shape[0] < WARM_MIN and plain_python(pr):
         return solve_each(sub, xs, i_s, max_iter=max_iter)
     return solve_coupled(sub, max_iter=max_iter, x0=xs, i0=i_s)
 

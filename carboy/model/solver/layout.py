@@ -162,7 +162,7 @@ def _parts(catalog, keys: tuple[str, ...], temperature_c: float) -> _Parts:
     return out
 
 
-def _python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray) -> tuple:
+def python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray) -> tuple:
     """Per system: (column, per state (log beta0, c, j, z+, z-, z²), -zmin+, zmax+, fast).
 
     ``fast`` serves the closed forms of the one-solution path (``single``) where every
@@ -171,7 +171,7 @@ def _python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray)
     both signs."""
     out = []
     for i, z in enumerate(zs):
-        states = tuple((float(lb0[i, st]), float(cmat[i, st]), float(st), float(max(z[st], 0)),
+        states = tuple((float(lb0[i][st]), float(cmat[i][st]), float(st), float(max(z[st], 0)),
                         float(max(-z[st], 0)), float(z[st] ** 2)) for st in range(len(z)))
         fast = None
         if min(z) >= 0 or max(z) <= 0:
@@ -233,7 +233,7 @@ def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layo
         flat_sys=np.broadcast_to(np.arange(k)[:, None], (k, m))[valid],
         flat_index=np.flatnonzero(valid.reshape(-1)), sys_slices=_slices(valid),
         jj=jj, pad_rows=_pad_rows(valid), **_rows(z, valid, cmat), chunk=max(64, CHUNK_BYTES // (8 * (int(valid.sum()) + 1))),
-        py_systems=_python_systems(pt.sys_cols, zs, lb0, cmat),
+        py_systems=python_systems(pt.sys_cols, zs, lb0, cmat),
         py_ions=tuple(zip(pt.ion_cols, (float(v) for v in pt.ion_z))),
         py_species=_species(pt), metals=metals,
     )

@@ -43,9 +43,9 @@ from carboy.model.activity import davies_d
 from carboy.model.ion_pairs import load_ion_pairs
 from carboy.model.pitzer import PitzerModel, pitzer_model
 from carboy.model.pitzer_data import load_pitzer_data
-from carboy.model.solver.bracketed import solve_nested
+from carboy.model.solver.bracketed import coupled_then_nested, solve_nested
 from carboy.model.solver.charge_balance import species_at
-from carboy.model.solver.constants import LN10
+from carboy.model.solver.constants import COUPLED_ITER, LN10
 from carboy.model.solver.layout import R_J_MOL_K, T_REF_K, Layout
 from carboy.model.solver.problem import Problem
 
@@ -309,7 +309,8 @@ def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic) -> Outcome:
     conv = np.zeros(n, dtype=bool)
     rounds = 0
     for rounds in range(1, MAX_OUTER + 1):  # noqa: B007 (used after the loop)
-        x, ionic, ok, _ = solve_nested(_inner(pr0, terms), x, ionic)
+        # from the last round's roots: the coupled iteration, the guaranteed path after
+        x, ionic, ok, _ = coupled_then_nested(_inner(pr0, terms), x, ionic, COUPLED_ITER)
         table, ad, systems = lumped_table(_inner(pr0, terms), tab, x, ionic)
         lg = np.broadcast_to(_davies_lg(tab, ad), table.shape).copy()
         lift, corr = pair_shares(tab, table, lg, np.ones(n))

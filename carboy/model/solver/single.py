@@ -27,11 +27,15 @@ from carboy.model.solver.constants import (
 from carboy.model.solver.layout import Layout
 
 
-def _inputs(lay: Layout, row, held: dict):
+def _inputs(lay: Layout, row, held: dict, extra: tuple = (), systems=None):
     """The systems present (total, states, held spec), the spectators' positive and
-    negative charge and ionic strength, and the charge bounds Q and P (mol/L)."""
+    negative charge and ionic strength, and the charge bounds Q and P (mol/L);
+    ``extra`` are more systems in ``Layout.py_systems``' form (never held), ``systems``
+    the layout's own with other weights (ion pairs lumped in, see ``single_pairs``)."""
+    every = lay.py_systems if systems is None else systems
+    every = every + extra if extra else every
     systems = [(row[col], states, held.get(k), fast)
-               for k, (col, states, _, _, fast) in enumerate(lay.py_systems)
+               for k, (col, states, _, _, fast) in enumerate(every)
                if row[col] > 0.0 or k in held]
     zs_pos = zs_neg = ispec = 0.0
     for col, z in lay.py_ions:
@@ -42,7 +46,7 @@ def _inputs(lay: Layout, row, held: dict):
             zs_neg -= z * c
         ispec += 0.5 * z * z * c
     q, p = zs_neg, zs_pos
-    for k, (col, _, neg_cap, pos_cap, _) in enumerate(lay.py_systems):
+    for k, (col, _, neg_cap, pos_cap, _) in enumerate(every):
         if k not in held:
             q += row[col] * neg_cap
             p += row[col] * pos_cap
@@ -64,6 +68,8 @@ def _sums(systems, x: float, tad: float):
     acc = [0.0] * 9   # pos, neg, dpos, dneg, iz2, diz2, apos, aneg, aiz2
     exp = math.exp
     xl = x * LN10
+    # the two-state systems' share, in local floats (the hot path)
+    pos = neg = dpos = dneg = iz2 = diz2 = apos = aneg = aiz2 = 0.0
     for ctot, states, hold, fast in systems:
         if fast is None:
             _general(acc, ctot, states, hold, x, tad)
@@ -71,19 +77,23 @@ def _sums(systems, x: float, tad: float):
         sign, t, ladder = fast
         if hold is None and len(ladder) == 1:
             # two states: every moment of j is the fraction p of the second state and
-            # v = u3 = u4 = p (1 - p); _closed_form written out for them (the hot path)
+            # v = u3 = u4 = p (1 - p); _closed_form written out for them
             lb, cl = ladder[0][0], ladder[0][1]
             e = exp(lb - tad * cl - xl)
             p = e / (1.0 + e)
             lcv = LN10 * ctot * p * (1.0 - p)
             k1 = 1.0 - 2.0 * t
-            side = 0 if sign > 0 else 1
-            acc[side] += sign * ctot * (t - p)
-            acc[2 + side] += sign * lcv
-            acc[4] += ctot * (t * t + p * k1)
-            acc[5] -= lcv * k1
-            acc[6 + side] -= sign * lcv * (k1 + 1.0)
-            acc[8] += lcv * (k1 * k1 - 2.0 * t + 1.0)
+            if sign > 0:
+                pos += ctot * (t - p)
+                dpos += lcv
+                apos -= lcv * (k1 + 1.0)
+            else:
+                neg -= ctot * (t - p)
+                dneg -= lcv
+                aneg += lcv * (k1 + 1.0)
+            iz2 += ctot * (t * t + p * k1)
+            diz2 -= lcv * k1
+            aiz2 += lcv * (k1 * k1 - 2.0 * t + 1.0)
             continue
         e_ref = 1.0   # e of the held state (the first state's e is 1)
         if len(ladder) == 1:  # two states: every moment of j is the fraction p of the second
@@ -112,7 +122,8 @@ def _sums(systems, x: float, tad: float):
             _closed_form(acc, ctot, sign, t, m1, m2, v, u3, u4)
         else:  # the total follows x: C = F·S/e_ref, and j0, c0 replace jbar, cbar
             _held_form(acc, hold, hold[2] * p0 / e_ref, sign, t, m1, m2, v, u3, u4)
-    return acc
+    return [acc[0] + pos, acc[1] + neg, acc[2] + dpos, acc[3] + dneg, acc[4] + iz2,
+            acc[5] + diz2, acc[6] + apos, acc[7] + aneg, acc[8] + aiz2]
 
 
 def _held_form(acc, hold, c, sign, t, m1, m2, v, u3, u4):
@@ -227,17 +238,23 @@ def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators,
 
 def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
               max_iter: int = COUPLED_ITER, x0: float | None = None,
-              i0: float | None = None):
+              i0: float | None = None, extra: tuple = (), systems=None,
+              ispec_add: float = 0.0):
     """The coupled (x, I) iteration for one solution with totals ``row`` (mol/L, in the
     layout's column order), from ``x0`` and ``i0`` where given (else x = -7 and the
     spectators' ionic strength).
 
     ``held`` maps a system's index to (reference state, its cmat term, its
-    concentration).  Returns ``(x, ionic, iterations)``, or ``None`` when it did not
-    get there within ``max_iter`` steps (the caller then takes the vectorized solve).
+    concentration); ``extra`` are more systems in ``Layout.py_systems``' form (the
+    metals' hydrolysis ladders, see ``single_metals``); ``systems`` replaces
+    ``Layout.py_systems`` and ``ispec_add`` is added to the spectators' ionic strength
+    (both held by the outer loop of ``single_pairs``).  Returns ``(x, ionic,
+    iterations)``, or ``None`` when it did not get there within ``max_iter`` steps (the
+    caller then takes the vectorized solve).
     """
     held = held or {}
-    systems, zs_pos, zs_neg, ispec, q, p = _inputs(lay, row, held)
+    systems, zs_pos, zs_neg, ispec, q, p = _inputs(lay, row, held, extra, systems)
+    ispec += ispec_add
     spectators = (zs_pos, zs_neg, ispec)
     davies = a_dh != 0.0
     lo_below, hi = math.log10(p + 1.0) + 1e-3, math.log10(q + 1.0) + 1e-3

@@ -215,7 +215,7 @@ def add_activity_options(p) -> None:
     p.add_argument("--activity", choices=ACTIVITY_CHOICES, default=None,
                    help="activity model: auto (default: Davies with ion pairs up to an "
                    "ionic strength of 0.5 mol/kg, the specific-interaction (Pitzer) model "
-                   "above), pitzer, davies or ideal")
+                   "above), pitzer, davies (with the same ion pairs) or ideal")
     p.add_argument("--ideal", action="store_true",
                    help="short for --activity ideal: activity coefficients 1, "
                    "pH = -log10[H+]")

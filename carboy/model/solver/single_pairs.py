@@ -1,0 +1,180 @@
+"""One solution with ion pairs (the Davies path) in plain Python floats.
+
+The outer loop of ``outer.solve_with_pairs`` for one solution without numpy's per-call
+cost: each round solves the charge balance with the pairs lumped into their ligands'
+states (``single.solve_one`` with those states' weights lifted by log10(lumped/free),
+pKw lowered by the OH- row's lift and the spectators' ionic strength corrected), then
+splits the lumped amounts into free ions and pairs as ``outer.pair_shares`` does, until
+no term moves more than ``outer.OUTER_TOL``.  It gives up (returns None) rather than
+fall back itself: a layout with shifted exponentials or metals, or a round that finds
+no root within ``max_iter`` steps; the caller then takes the vectorized outer loop.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from carboy.model.activity import davies_d_float
+from carboy.model.solver.constants import LN10
+from carboy.model.solver.layout import Layout, python_systems
+from carboy.model.solver.outer import MAX_OUTER, OUTER_TOL, SPLIT_ROUNDS, Table
+from carboy.model.solver.single import solve_one
+
+
+@dataclass(frozen=True)
+class PairsSolved:
+    """The settled outer loop of one solution."""
+
+    x: float
+    ionic: float
+    rounds: int
+    converged: bool
+    table: list          # mol/L of each column of the Table: free ions, states, pairs
+    fractions: list      # per system, the lumped fraction of each state
+    ad: float            # A·D at the inner solve's ionic strength
+
+
+def solve_pairs_one(lay: Layout, tab: Table, row, pkw: float, a_dh: float, *,
+                    max_iter: int) -> PairsSolved | None:
+    """The Davies path with the pairs of ``tab`` for one solution (``row``: totals in
+    the layout's column order), or None where this path cannot take it."""
+    if not lay.python_path or not tab.pairs:
+        return None
+    n_states = len(tab.state_cols)
+    shift, pkw_eff, corr = [0.0] * n_states, pkw, 0.0
+    x0 = i0 = None
+    conv, rounds = False, 0
+    for rounds in range(1, MAX_OUTER + 1):  # noqa: B007 (used after the loop)
+        systems = _lifted(lay, shift)
+        got = solve_one(lay, row, pkw_eff, a_dh, max_iter=max_iter, x0=x0, i0=i0,
+                        systems=systems, ispec_add=corr)
+        if got is None:
+            return None
+        x0, i0, _ = got
+        ad = a_dh * davies_d_float(i0)
+        table, fractions = _lumped(lay, tab, systems, row, x0, ad, pkw_eff)
+        lift, corr = _split(tab, table, ad)
+        new_pkw = pkw - lift[-1]
+        moved = max([abs(a - b) for a, b in zip(lift, shift)] + [abs(new_pkw - pkw_eff)])
+        conv = moved <= OUTER_TOL
+        shift, pkw_eff = lift[:-1], new_pkw
+        if conv:
+            break
+    return PairsSolved(x0, i0, rounds, conv, table, fractions, ad)
+
+
+def _lifted(lay: Layout, shift: list) -> tuple:
+    """``Layout.py_systems`` with each state's log10 weight raised by its ``shift``."""
+    if not any(shift):
+        return lay.py_systems
+    out = []
+    for system, (a, b) in zip(lay.py_systems, lay.sys_slices):
+        col, states = system[:2]
+        lifts = shift[a:b]
+        if not any(lifts):
+            out.append(system)
+            continue
+        zs = [int(zp - zn) for _, _, _, zp, zn, _ in states]
+        lb = [[st[0] + d for st, d in zip(states, lifts)]]
+        out.append(python_systems([col], [zs], lb, [[st[1] for st in states]])[0])
+    return tuple(out)
+
+
+def _lumped(lay: Layout, tab: Table, systems, row, x: float, ad: float, pkw_eff: float):
+    """The Table's columns at the root (pairs still lumped in their ligands, pair
+    columns 0) and each system's (lumped) fractions."""
+    tad = 2.0 * ad
+    table = [0.0] * len(tab.labels)
+    table[0] = 10.0 ** x
+    table[1] = 10.0 ** (tad - pkw_eff - x)
+    for (col, _), c in zip(lay.py_ions, tab.ion_cols.tolist()):
+        table[c] += row[col]
+    fractions = []
+    cols = tab.state_cols.tolist()
+    for (col, states, _, _, _), (a, _) in zip(systems, lay.sys_slices):
+        es = [math.exp((lb0 - tad * cc - st * x) * LN10) for lb0, cc, st, _, _, _ in states]
+        inv = 1.0 / sum(es)
+        fr = [e * inv for e in es]
+        fractions.append(fr)
+        for i, f in enumerate(fr):
+            table[cols[a + i]] += row[col] * f
+    return table, fractions
+
+
+def _split(tab: Table, table: list, ad: float):
+    """Split the lumped ``table`` in place into free ions and pairs (see
+    ``outer.pair_shares``): (the lift of each state and, last, of OH-, the
+    ionic-strength correction)."""
+    z2 = [z * z for z in tab.charges.tolist()]
+    ion_cols, state_cols = tab.ion_cols.tolist(), tab.state_cols.tolist()
+    cols = [(ion_cols[p.ion], 1 if p.state < 0 else state_cols[p.state], c)
+            for p, c in zip(tab.pairs, tab.pair_cols.tolist())]
+    k = [10.0 ** (p.log_k - ad * (z2[m] + z2[lc] - z2[pc]))
+         for p, (m, lc, pc) in zip(tab.pairs, cols)]
+    amount, factor = _amounts(k, [table[m] for m, _, _ in cols],
+                              [table[lc] for _, lc, _ in cols], cols)
+    lift = [0.0] * (len(state_cols) + 1)
+    corr = 0.0
+    done: set = set()
+    for a, (p, (m, lc, pc)) in enumerate(zip(tab.pairs, cols)):
+        table[pc] += amount[a]
+        table[m] -= amount[a]
+        corr -= 0.5 * p.dz2 * amount[a]
+        if lc not in done:
+            done.add(lc)
+            table[lc] /= factor[a]
+            lift[p.state] = math.log10(factor[a])   # state -1 is the OH- row (last)
+    return lift, corr
+
+
+def _one_ligand(k: list, metal: list, lig: float):
+    """:func:`_amounts` where every pair holds the same ligand and each its own cation
+    (NaSO4- and KSO4-): Newton on the free ligand l of l (1 + Σ k M / (1 + k l)) = L,
+    increasing and concave in l, from below (so every step stays below the root)."""
+    if lig <= 0.0:
+        return [0.0] * len(k), [1.0 + sum(kk * mm for kk, mm in zip(k, metal))] * len(k)
+    free = lig / (1.0 + sum(kk * mm for kk, mm in zip(k, metal)))
+    for _ in range(SPLIT_ROUNDS):
+        terms = [kk * mm / (1.0 + kk * free) for kk, mm in zip(k, metal)]
+        f = free * (1.0 + sum(terms)) - lig
+        slope = 1.0 + sum(t / (1.0 + kk * free) for t, kk in zip(terms, k))
+        step = -f / slope
+        free += step
+        if abs(step) <= 1e-15 * free:
+            break
+    factor = lig / free
+    return [kk * mm * free / (1.0 + kk * free) for kk, mm in zip(k, metal)], \
+        [factor] * len(k)
+
+
+def _amounts(k: list, metal: list, lig: list, cols: list):
+    """Each pair's amount and, per pair, lumped/free of its ligand (``outer.split_pairs``
+    for one point): the closed form where no ion takes part in two pairs, else
+    alternating mass balances to a relative change of 1e-13."""
+    m_key, l_key = [c[0] for c in cols], [c[1] for c in cols]
+    if len(set(m_key)) == len(m_key) and len(set(l_key)) == len(l_key):
+        amount, factor = [], []
+        for kk, mm, ll in zip(k, metal, lig):
+            b = kk * (mm + ll) + 1.0
+            c = 2.0 * kk * mm * ll / (b + math.sqrt(max(b * b - 4.0 * kk * kk * mm * ll, 0.0)))
+            amount.append(c)
+            factor.append(ll / (ll - c) if ll > 0 else 1.0 + kk * (mm - c))
+        return amount, factor
+    if len(set(m_key)) == len(m_key) and len(set(l_key)) == 1:
+        return _one_ligand(k, metal, lig[0])
+    same_l = [[b for b in range(len(l_key)) if l_key[b] == la] for la in l_key]
+    same_m = [[b for b in range(len(m_key)) if m_key[b] == ma] for ma in m_key]
+    m_free = list(metal)
+    for _ in range(SPLIT_ROUNDS):
+        l_free = [lig[a] / (1.0 + sum(k[b] * m_free[b] for b in same_l[a]))
+                  for a in range(len(k))]
+        new = [metal[a] / (1.0 + sum(k[b] * l_free[b] for b in same_m[a]))
+               for a in range(len(k))]
+        settled = all(abs(n - o) <= 1e-13 * max(t, 1e-300)
+                      for n, o, t in zip(new, m_free, metal))
+        m_free = new
+        if settled:
+            break
+    factor = [1.0 + sum(k[b] * m_free[b] for b in same_l[a]) for a in range(len(k))]
+    return [k[a] * m_free[a] * (lig[a] / factor[a]) for a in range(len(k))], factor

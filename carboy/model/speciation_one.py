@@ -1,0 +1,116 @@
+"""One solution's result from the plain-Python paths, and the warnings of every result.
+
+:func:`one_fields` works out the species, fractions and coefficients of one solution
+solved by ``solver.single`` (or ``solver.single_metals``, with its metals) in floats, as
+the fields of a :class:`~carboy.model.speciation.Speciation`: numpy's per-call cost
+would dominate for one solution.  :func:`warning_texts` gives the warnings a point
+carries, shared with the batch results.
+"""
+
+from __future__ import annotations
+
+import math
+import operator
+from functools import lru_cache
+from types import MappingProxyType
+
+from carboy.model.activity import DAVIES_LIMIT_MOLAR, davies_d_float, outside_range_warning
+from carboy.model.solver.constants import LN10
+from carboy.model.solver.layout import ENTHALPY_DATA_MAX_C
+
+METAL_T_SPAN_C = 5.0
+"""Beyond this distance from 25 °C a result with metals says their constants are for 25 °C."""
+
+
+@lru_cache(maxsize=64)
+def warning_texts(high_i: bool, bad: bool, hot: bool, activity: str,
+                  metals_off: bool = False) -> tuple[str, ...]:
+    """The warnings of a point: ionic strength beyond the model's range (``high_i``),
+    unsettled (``bad``), beyond the enthalpy data (``hot``), metals away from 25 °C."""
+    out = []
+    if metals_off:
+        out.append("the metals' hydrolysis and solubility constants are for 25 °C: at this "
+                   "temperature their share of the pH and the solids is approximate")
+    if high_i:
+        out.append(outside_range_warning(activity))
+    if hot:
+        out.append(
+            f"above {ENTHALPY_DATA_MAX_C:g} °C the pKa temperature correction extrapolates "
+            "beyond the range of its enthalpy data"
+        )
+    if bad:
+        out.append("the solver did not reach its tolerance: the result is approximate")
+    return tuple(out)
+
+
+def one_fields(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, metals=None) -> dict:
+    """The fields of a ``Speciation`` (all but ``mixture``) of one solved solution;
+    ``metals`` is the ``single_metals.MetalPart`` of a layout with metals."""
+    exp = math.exp
+    ad = a_dh * davies_d_float(ionic)
+    tad = 2.0 * ad
+    h = 10.0 ** x
+    oh = 10.0 ** (tad - pkw - x)
+    values = [h, oh, *(row[col] for col, _ in lay.py_ions)]
+    fractions = {}
+    xl, tl = x * LN10, tad * LN10
+    for (col, states, _, _, _), key, labels in zip(lay.py_systems, lay.sys_keys,
+                                                   lay.sys_labels):
+        es = [exp(lb0 * LN10 - tl * cc - st * xl) for lb0, cc, st, _, _, _ in states]
+        inv = 1.0 / sum(es)
+        fr = [e * inv for e in es]
+        fractions[key] = MappingProxyType(dict(zip(labels, fr)))
+        ctot = row[col]
+        values.extend([ctot * f for f in fr])
+    labels, charges = lay.py_species
+    extra = {}
+    if metals is not None:
+        labels, charges = labels + lay.metals.labels, charges + lay.metals.charges
+        values.extend(metals.values)
+        ro = MappingProxyType
+        extra = {"solids": ro(metals.solids), "dissolved_metals": ro(metals.dissolved),
+                 "saturation_indices": ro(metals.saturation_indices)}
+    residual = math.fsum(map(operator.mul, charges, values))
+    if a_dh == 0.0:
+        ionic = 0.5 * sum(z * z * v for z, v in zip(charges, values))
+    by_z = [10.0 ** (-ad * z * z) for z in range(lay.zmax + 1)]
+    if len(set(labels)) == len(labels):
+        species = dict(zip(labels, values))
+    else:  # a label two components share (Na+ from two salts) is summed
+        species = {}
+        for lab, v in zip(labels, values):
+            species[lab] = species.get(lab, 0.0) + v
+    charge = lay.charge_map
+    coeff = {lab: by_z[abs(charge[lab])] for lab in species}
+    warnings = warning_texts(ionic > DAVIES_LIMIT_MOLAR, False, t_c > ENTHALPY_DATA_MAX_C,
+                             activity, metals is not None and abs(t_c - 25.0) > METAL_T_SPAN_C)
+    return dict(
+        pH=ad - x, h_molar=h, oh_molar=oh, pkw=pkw, species=MappingProxyType(species),
+        fractions=MappingProxyType(fractions), activity_coefficients=MappingProxyType(coeff),
+        ionic_strength_molar=ionic, temperature_c=t_c, activity=activity, warnings=warnings,
+        converged=True, iterations=iterations, charge_residual_molar=residual, **extra,
+    )
+
+
+def pairs_fields(lay, tab, got, pkw: float, t_c: float, activity: str) -> dict:
+    """The fields of a ``Speciation`` (all but ``mixture``) of one solution solved with
+    its ion pairs (``solver.single_pairs``: ``tab`` its species table, ``got`` its
+    ``PairsSolved``), in the order and form the vectorized outer loop gives them."""
+    ro = MappingProxyType
+    charges = tab.charges.tolist()
+    species = dict(zip(tab.labels, got.table))
+    ionic = 0.5 * sum(c * z * z for c, z in zip(got.table, charges))
+    by_z = {abs(int(z)): 10.0 ** (-got.ad * z * z) for z in charges}
+    fractions = {key: ro(dict(zip(labels, fr)))
+                 for key, labels, fr in zip(lay.sys_keys, lay.sys_labels, got.fractions)}
+    hot = warning_texts(False, False, t_c > ENTHALPY_DATA_MAX_C, activity)
+    extra = (warning_texts(True, False, False, activity) if ionic > DAVIES_LIMIT_MOLAR else ())
+    extra += () if got.converged else warning_texts(False, True, False, activity)
+    return dict(
+        pH=got.ad - got.x, h_molar=10.0 ** got.x, oh_molar=species["OH-"], pkw=pkw,
+        species=ro(species), fractions=ro(fractions),
+        activity_coefficients=ro({lab: by_z[abs(int(z))]
+                                  for lab, z in zip(tab.labels, charges)}),
+        ionic_strength_molar=ionic, temperature_c=t_c, activity=activity,
+        warnings=hot + extra, converged=got.converged, iterations=got.rounds,
+        charge_residual_molar=math.fsum(c * z for c, z in zip(got.table, charges)))
