@@ -15,7 +15,7 @@ from carboy.tui.app.widgets.quiet_select import QuietSelect
 from carboy.tui.app.widgets.steady_input import InPlaceInput
 
 ACTIVITY_WORDS = {"auto": "auto (Davies, Pitzer above 0.5 mol/kg)",
-                  "pitzer": "Pitzer (concentrated)", "davies": "Davies (ionic strength)",
+                  "pitzer": "Pitzer (concentrated)", "davies": "Davies, with ion pairs",
                   "ideal": "ideal (activities 1)"}
 """The activity choice in words: its state is the text shown, never a colour."""
 
