@@ -22,7 +22,7 @@ phreeqpython = pytest.importorskip("phreeqpython")
 # our component key -> PHREEQC master species
 TO_PHREEQC = {
     "phosphate": "P", "carbonate": "C(4)", "sulfate": "S(6)", "fluoride": "F",
-    "borate": "B", "ammonium": "Amm", "Na+": "Na", "K+": "K", "Cl-": "Cl", "NO3-": "N(5)",
+    "borate": "B", "ammonium": "N(-3)", "Na+": "Na", "K+": "K", "Cl-": "Cl", "NO3-": "N(5)",
     "Ca+2": "Ca", "Mg+2": "Mg", "Br-": "Br", "Li+": "Li",
 }
 
@@ -55,7 +55,7 @@ MIXTURES = [
 
 @pytest.fixture(scope="module")
 def pp():
-    return phreeqpython.PhreeqPython()
+    return phreeqpython.PhreeqPython(database="phreeqc.dat")
 
 
 def phreeqc_ph(pp, totals):

@@ -43,7 +43,7 @@ def test_vented_bicarbonate_against_phreeqc(catalog, nahco3):
     # phreeqpython (phreeqc.dat): the same solution saturated with CO2(g) at log pCO2.
     # phreeqc.dat's own CO2 constants and ion pairs differ from ours: within 0.05 pH.
     phreeqpython = pytest.importorskip("phreeqpython")
-    pp = phreeqpython.PhreeqPython()
+    pp = phreeqpython.PhreeqPython(database="phreeqc.dat")
     sol = pp.add_solution({"units": "mmol/kgw", "pH": "7 charge", "Na": nahco3 * 1e3,
                            "C(4)": nahco3 * 1e3})
     sol.saturate("CO2(g)", LOG_PCO2)

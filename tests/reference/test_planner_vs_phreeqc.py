@@ -20,7 +20,7 @@ CASES = [
     ("phosphoric-to-7", {"phosphate": 0.01}, {"P": 10.0}, "NaOH", 7.0, False),
     ("phosphoric-to-6.5", {"phosphate": 0.01, "Cl-": 0.002}, {"P": 10.0, "Cl": 2.0}, "NaOH",
      6.5, False),
-    ("ammonium-hcl-to-9", {"ammonium": 0.01, "Cl-": 0.012}, {"Amm": 10.0, "Cl": 12.0}, "NaOH",
+    ("ammonium-hcl-to-9", {"ammonium": 0.01, "Cl-": 0.012}, {"N(-3)": 10.0, "Cl": 12.0}, "NaOH",
      9.0, False),
     ("phosphate-carbonate-vented-to-7", {"phosphate": 0.005, "carbonate": 0.002},
      {"P": 5.0, "C(4)": 2.0}, "NaOH", 7.0, True),
@@ -31,7 +31,7 @@ LOG_PCO2_AIR = math.log10(4.2e-4)
 
 
 def phreeqc_dose(solution, reagent, target, vent):
-    pp = phreeqpython.PhreeqPython()
+    pp = phreeqpython.PhreeqPython(database="phreeqc.dat")
     lo, hi = 0.0, 100.0  # mmol of reagent into 1 L
     for _ in range(60):
         mid = 0.5 * (lo + hi)
