@@ -41,8 +41,15 @@ from carboy.model.activity import DAVIES_LIMIT_MOLAR, outside_range_warning
 from carboy.model.mixture import MixtureBatch
 from carboy.model.molality import water_kg_per_litre
 from carboy.model.pitzer import I_MAX_MOLAL
+from carboy.model.pitzer_metals import (
+    SOLID_FALLBACK,
+    pitzer_takes,
+    saturated_solids,
+    saturation,
+    with_metal_fields,
+)
 from carboy.model.solver.charge_balance import padded_fractions
-from carboy.model.solver.layout import Layout
+from carboy.model.solver.layout import Layout, cached_layout
 from carboy.model.solver.outer import (
     Outcome,
     has_pairs,
@@ -140,6 +147,9 @@ def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
     lay, activity, t_c, held, start)`` is the Davies path's batch solve (a
     ``BatchSpeciation``), whose result is the start and the frame of the answer."""
     t_c = batch.temperature_c
+    metals = getattr(lay, "metals", None) is not None
+    if activity == "pitzer" and metals:
+        return _pitzer_with_metals(batch, lay, activity, catalog, held, start, solve_davies)
     base = solve_davies(batch, lay, "davies", t_c, held, start)
     w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
     res = base
@@ -149,22 +159,51 @@ def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
         out = solve_with_pairs(pr, t_c, base.log_h.copy(), base.ionic_strength_molar.copy())
         res = _assemble(base, out, lay, table_of(lay, "davies", t_c), activity, ())
     molal_i = res.ionic_strength_molar / w
-    metals = getattr(lay, "metals", None) is not None
-    if activity == "auto" and (
-            metals or float(molal_i.max(initial=0.0)) <= AUTO_LIMIT_MOLAL):
-        lg = _davies_log_gamma(res)
-        extra = ((_METALS_NOTE,) if metals and activity == "auto"
-                 and float(molal_i.max(initial=0.0)) > AUTO_LIMIT_MOLAL else ())
-        return dataclasses.replace(
-            res, activity=activity, warnings=_with(res.warnings, extra),
-            model_part=ModelPart("davies", lg, w, molal_i))
+    high = float(molal_i.max(initial=0.0)) > AUTO_LIMIT_MOLAL
+    if activity == "auto" and metals and high and pitzer_takes(lay):
+        return _pitzer_with_metals(batch, lay, activity, catalog, held, start, solve_davies,
+                                   davies=_auto_davies(res, activity, w, molal_i))
+    if activity == "auto" and (metals or not high):
+        extra = (_METALS_NOTE,) if metals and high else ()
+        return _auto_davies(res, activity, w, molal_i, extra)
     if metals:
         raise InvalidInput("activity model", activity, _METALS_NOTE)
     return _pitzer(base, lay, activity, held, w, notes)
 
 
-_METALS_NOTE = ("the specific-interaction model does not cover the metals' hydrolysis "
-                "and solids: the Davies equation is used, outside its range")
+def _auto_davies(res, activity: str, w, molal_i, extra: tuple[str, ...] = ()):
+    """A Davies result as ``auto`` reports it (with its model part)."""
+    return dataclasses.replace(
+        res, activity=activity, warnings=_with(res.warnings, extra),
+        model_part=ModelPart("davies", _davies_log_gamma(res), w, molal_i))
+
+
+_METALS_NOTE = ("the specific-interaction model covers calcium and magnesium only, not "
+                "the other metals' hydrolysis and solids: the Davies equation is used, "
+                "outside its range")
+
+
+def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, held, start,
+                        solve_davies, davies=None):
+    """Calcium and magnesium under the Pitzer model while they stay dissolved
+    (``pitzer_metals``); a batch where one of their solids would form falls back, whole,
+    to the metal path with the Davies equation (``davies``, solved here if not given)."""
+    if not pitzer_takes(lay):
+        raise InvalidInput("activity model", activity, _METALS_NOTE)
+    t_c = batch.temperature_c
+    lay_s = cached_layout(catalog, batch.keys, t_c, metals=False)
+    base = solve_davies(batch, lay_s, "davies", t_c, held, start)
+    w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
+    res = _pitzer(base, lay_s, activity, held, w, notes)
+    si = saturation(res, lay.metals, catalog)
+    solids = saturated_solids(si, lay.metals)
+    if not solids:
+        return with_metal_fields(res, lay.metals, si)
+    if davies is None:
+        dav = solve_davies(batch, lay, "davies", t_c, held, start)
+        davies = _auto_davies(dav, activity, w, dav.ionic_strength_molar / w)
+    text = SOLID_FALLBACK.format(solids=", ".join(solids))
+    return dataclasses.replace(davies, warnings=_with(davies.warnings, (text,)))
 
 
 def _a_dh(t_c: float) -> float:

@@ -12,6 +12,13 @@ sides: pH = -log10(m_H γ_H), molal, single-ion coefficients on the MacInnes sca
 issue's 0.05 pH unit (the differences seen are below 0.003: the Debye–Hückel slope and
 the HSO4- constant, 1.979 in pitzer.dat against carboy's 1.99).
 
+Calcium and magnesium
+---------------------
+HCl in CaCl2 and in MgCl2 (0.1 mol/kg HCl, the salt making up the ionic strength to
+5 mol/kg) against the same pitzer.dat solutions, same tolerance: the metals stay
+dissolved and the Pitzer path takes them as ions (``pitzer_metals``).  Where one of their
+solids would form the batch falls back to the Davies metal path and says so.
+
 Saturated calcium hydroxide
 ---------------------------
 Bates, Bower & Smith, "Calcium hydroxide as a highly alkaline pH standard", J. Res.
@@ -26,6 +33,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+from carboy.errors import InvalidInput
 from carboy.model.catalog import default_catalog
 from carboy.model.mixture import Mixture, MixtureBatch
 from carboy.model.molality import molar_from_molal
@@ -58,6 +66,19 @@ def _cases():
 CASES = _cases()
 
 
+def _metal_cases():
+    out = []
+    for metal, el in (("Ca+2", "Ca"), ("Mg+2", "Mg")):
+        for ionic in (0.6, 1.0, 2.0, 3.0, 5.0):
+            m = (ionic - 0.1) / 3.0
+            out.append((f"HCl 0.1 in {el}Cl2, I {ionic}", {metal: m, "Cl-": 2 * m + 0.1},
+                        {el: m, "Cl": 2 * m + 0.1, "pH": "1 charge"}))
+    return out
+
+
+METAL_CASES = _metal_cases()
+
+
 @pytest.fixture(scope="module")
 def pitzer_dat():
     return phreeqpython.PhreeqPython(database="pitzer.dat")
@@ -79,6 +100,48 @@ def test_ph_against_phreeqc_pitzer_dat(pitzer_dat, name, comp, peer):
     assert res.ph_scale == "macinnes" and res.model_part.model == "pitzer"
     assert res.model_part.ionic_strength_molal == pytest.approx(ionic, rel=0.02)
     assert res.pH == pytest.approx(expected, abs=PH_TOL)
+
+
+@pytest.mark.parametrize("name, comp, peer", METAL_CASES, ids=[c[0] for c in METAL_CASES])
+def test_calcium_and_magnesium_against_phreeqc_pitzer_dat(pitzer_dat, name, comp, peer):
+    sol = pitzer_dat.add_solution({"units": "mol/kgw", "temp": 25.0, **peer})
+    expected, ionic = sol.pH, sol.I
+    sol.forget()
+    for activity in ("pitzer", "auto"):   # auto: above 0.5 mol/kg, the same model
+        res = speciate(_molar(comp), activity=activity, catalog=CAT)
+        assert res.converged and res.model_part.model == "pitzer"
+        assert res.model_part.ionic_strength_molal == pytest.approx(ionic, rel=0.02)
+        assert res.pH == pytest.approx(expected, abs=PH_TOL)
+    metal = next(k for k in comp if k != "Cl-")
+    total = _molar(comp).totals[metal]
+    assert res.dissolved_metals[metal] == pytest.approx(total, rel=1e-9)
+    assert all(v == 0.0 for v in res.solids.values())
+    assert all(v < 0.0 for v in res.saturation_indices.values())
+
+
+def test_a_saturated_metal_solid_falls_back_to_the_davies_metal_path():
+    # MgCl2 1 M with a little NaOH: brucite is far past saturation (pH would be ~10
+    # without it); the Pitzer path has no solids, so the batch goes to the metal path.
+    batch = MixtureBatch(("Mg+2", "Cl-", "Na+"), np.array([[1.0, 2.0, 0.0],
+                                                             [1.0, 2.0, 0.02]]), 25.0)
+    res = speciate_batch(batch, activity="pitzer", catalog=CAT)
+    assert res.model_part.model == "davies"             # the whole batch, one model
+    assert all("Mg(OH)2 (brucite) would precipitate" in " ".join(w) for w in res.warnings)
+    brucite = res.solid_names.index("Mg(OH)2 (brucite)")
+    assert res.solids_molar[0, brucite] == 0.0
+    assert res.solids_molar[1, brucite] == pytest.approx(0.01, rel=0.05)
+    alone = speciate_batch(MixtureBatch(batch.keys, batch.totals[:1], 25.0),
+                           activity="pitzer", catalog=CAT)
+    assert alone.model_part.model == "pitzer"           # dissolved: the Pitzer path
+
+
+def test_other_metals_stay_outside_the_pitzer_model():
+    mix = Mixture({"Zn+2": 1.0, "Cl-": 2.1}, 25.0)
+    with pytest.raises(InvalidInput, match="calcium and magnesium only"):
+        speciate(mix, activity="pitzer", catalog=CAT)
+    auto = speciate(mix, activity="auto", catalog=CAT)
+    assert auto.model_part.model == "davies"
+    assert any("calcium and magnesium only" in w for w in auto.warnings)
 
 
 def test_the_same_solution_batched_gives_the_same_ph(pitzer_dat):

@@ -1,0 +1,125 @@
+"""Calcium and magnesium under the specific-interaction (Pitzer) model.
+
+The solver's metal path (``solver/metal_terms``, ``metals.py``) decides hydrolysis and
+solids by saturation with Davies coefficients.  The Pitzer parameter set (HMW 1984 as
+PHREEQC's pitzer.dat carries it) covers Ca2+ and Mg2+ as ions: binary β0, β1, β2, Cφ
+with chloride, sulfate, bisulfate, hydroxide and bicarbonate, θ and ψ with the other
+ions, and MgOH+ as its one hydrolysis species (``outer.PITZER_PAIRS``; the set has no
+CaOH+).  So where both metals stay dissolved, the Pitzer path takes them as spectator
+ions (a layout compiled with ``metals=False``) and reports them as the metal path
+does: dissolved totals, the hydroxide MgOH+ holds, no solid, and the saturation index
+of every solid the metal path knows (portlandite, brucite, gypsum, fluorite, brushite,
+hydroxyapatite) from Pitzer activities.
+
+Where some point of a batch is saturated with a solid that takes part in the dose, the
+Pitzer path cannot settle it (it has no solid phases): the whole batch falls back to the
+metal path with the Davies equation, and says so (:data:`SOLID_FALLBACK`).  Other
+modelled metals (Zn2+, Cu2+, Al3+, ...) have no specific-interaction parameters here.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import re
+
+import numpy as np
+
+from carboy.model.metal_data import PKW25
+
+PITZER_METALS = frozenset({"Ca+2", "Mg+2"})
+"""The modelled metal ions the specific-interaction parameters cover."""
+SATURATION_TOL = 1e-6
+"""A solid counts as saturated above this saturation index (log10)."""
+SOLID_FALLBACK = ("{solids} would precipitate: the specific-interaction model has no solid "
+                  "phases, so the metals' solids are settled with the Davies equation "
+                  "(outside its range above 0.5 mol/kg)")
+_HYDRATE = re.compile(r"\.(\d*)H2O$")
+
+
+def pitzer_takes(lay) -> bool:
+    """True when every modelled metal of the layout is one the parameters cover."""
+    ml = getattr(lay, "metals", None)
+    return ml is None or set(ml.keys) <= PITZER_METALS
+
+
+def _hydrate_water(formula: str) -> int:
+    m = _HYDRATE.search(formula)
+    return 0 if m is None else int(m.group(1) or 1)
+
+
+def _log_activity(res, label: str) -> np.ndarray:
+    """(N,) log10 of the molal activity of ``label`` in a Pitzer result (-inf if absent)."""
+    if label not in res.species_labels:
+        return np.full(len(res), -np.inf)
+    i = res.species_labels.index(label)
+    molal = res.species_molar[:, i] / res.model_part.water_kg_per_l
+    with np.errstate(divide="ignore"):
+        return np.log10(molal) + res.model_part.log_gamma[:, i]
+
+
+def _ligand_label(catalog, system: str, index: int) -> str | None:
+    sysm = catalog.systems.get(system)
+    return None if sysm is None else sysm.species[index]
+
+
+def saturation(res, ml, catalog) -> np.ndarray:
+    """(N, P) log10(IAP/K) of each solid of ``ml.solids`` from a Pitzer result ``res``
+    that keeps the metals as ions (molal activities, a_w for hydrates)."""
+    data = ml.data
+    log_aw = np.log10(res.model_part.water_activity)
+    log_oh = _log_activity(res, "OH-")
+    out = np.full((len(res), len(ml.solids)), -np.inf)
+    by_name = {s.name: s for s in data.ligand_solids}
+    for p, name in enumerate(ml.solids):
+        hyd = next((m for m in data.metals.values() if m.solid.name == name), None)
+        if hyd is not None:
+            z = hyd.charge
+            out[:, p] = (_log_activity(res, hyd.key) + z * log_oh
+                         - (hyd.solid.log_ks - z * PKW25))
+            continue
+        s = by_name[name]
+        label = _ligand_label(catalog, s.ligand_system, s.ligand_index)
+        if label is None:
+            continue
+        iap = (s.cation_count * _log_activity(res, s.cation)
+               + s.ligand_count * _log_activity(res, label)
+               + s.oh_count * log_oh + _hydrate_water(s.formula) * log_aw)
+        out[:, p] = iap - s.log_ksp
+    return out
+
+
+def in_dose(ml) -> np.ndarray:
+    """(P,) True for each solid of ``ml.solids`` the metal path lets precipitate."""
+    data = ml.data
+    hydroxides = {m.solid.name for m in data.metals.values()}
+    dosed = {s.name for s in data.ligand_solids if s.in_dose}
+    return np.array([n in hydroxides or n in dosed for n in ml.solids], dtype=bool)
+
+
+def saturated_solids(si: np.ndarray, ml) -> tuple[str, ...]:
+    """The solids (that take part in the dose) saturated at some point."""
+    hit = (si > SATURATION_TOL).any(axis=0) & in_dose(ml)
+    return tuple(n for n, h in zip(ml.solids, hit.tolist()) if h)
+
+
+def with_metal_fields(res, ml, si: np.ndarray):
+    """``res`` (a Pitzer result with the metals as ions) with the metal path's fields:
+    dissolved totals (the free ion and MgOH+), the hydroxide MgOH+ holds, no solids."""
+    labels = res.species_labels
+    col = {lab: i for i, lab in enumerate(labels)}
+    n = len(res)
+    dissolved = np.zeros((n, len(ml.keys)))
+    oh = np.zeros(n)
+    for k, key in enumerate(ml.keys):
+        for s in ml.data.metals[key].species:   # the free ion first (n = 0)
+            if s.label in col:
+                dissolved[:, k] += res.species_molar[:, col[s.label]]
+                oh += s.n * res.species_molar[:, col[s.label]]
+    return dataclasses.replace(
+        res, metal_keys=ml.keys, dissolved_metal_molar=dissolved, metal_oh_molar=oh,
+        solid_names=ml.solids, solids_molar=np.zeros((n, len(ml.solids))),
+        saturation_indices=np.where(np.isfinite(si), si, -math.inf))
+
+
+__all__ = ["PITZER_METALS", "SATURATION_TOL", "SOLID_FALLBACK", "in_dose", "pitzer_takes", "saturated_solids", "saturation", "with_metal_fields"]
