@@ -52,7 +52,6 @@ import math
 import operator
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from functools import lru_cache
 from types import MappingProxyType
 
 import numpy as np
@@ -67,10 +66,10 @@ from carboy.model.activity import (
     davies_d_float,
     debye_huckel_scale,
     log_gamma_by_charge,
-    outside_range_warning,
 )
 from carboy.model.activity import davies_d as _davies_d  # noqa: F401 (tests use the old name)
 from carboy.model.mixture import Mixture, MixtureBatch
+from carboy.model.result_warnings import warning_texts as _warning_texts
 from carboy.model.solver.bracketed import solve_nested, solve_with_metals
 from carboy.model.solver.charge_balance import fractions_at, padded_fractions, species_at
 from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
@@ -322,7 +321,7 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
     lay = cached_layout(catalog, keys, t_c)
     if needs_route(lay, activity, t_c):
         batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
-        res = route(batch, lay, activity, catalog, None, None, _solve).point(0)
+        res = route(batch, lay, activity, catalog, None, None, _solve, _frame).point(0)
         return Speciation(**{**res.__dict__, "mixture": mixture})
     pkw = water.pkw(t_c)
     a_dh = debye_huckel_scale(activity, t_c)
@@ -379,7 +378,7 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
             raise InvalidInput("start", f"{len(guess)} arrays",
                                f"expected log10[H+] and ionic strength for {len(batch)} points")
     if needs_route(lay, activity, t_c):
-        return route(batch, lay, activity, catalog, held, guess, _solve)
+        return route(batch, lay, activity, catalog, held, guess, _solve, _frame)
     return _solve(batch, lay, activity, t_c, held, guess)
 
 
@@ -424,6 +423,22 @@ def _solve(batch: MixtureBatch, lay: Layout, activity: str, t_c: float,
     pr = build_problem(lay, batch.totals, held, pkw, a_dh)
     x, ionic, converged, iterations = _solve_points(pr, start)
     return _batch_result(pr, batch, x, ionic, converged, iterations, activity, t_c)
+
+
+def _frame(batch: MixtureBatch, lay: Layout, activity: str, t_c: float) -> BatchSpeciation:
+    """An empty result of ``batch`` that another path fills (``speciation_models``):
+    the systems, temperature, pKw and the temperature's warnings."""
+    n = len(batch)
+    zero = np.zeros(n)
+    warn = _warning_texts(False, False, t_c > ENTHALPY_DATA_MAX_C, activity)
+    return BatchSpeciation(
+        pH=zero, log_h=zero, ionic_strength_molar=zero, charge_residual_molar=zero,
+        converged=np.ones(n, dtype=bool), iterations=0, species_labels=(),
+        species_charges=(), species_molar=np.zeros((n, 0)), system_keys=lay.sys_keys,
+        system_labels=lay.sys_labels, fractions=np.zeros((n, 0, 0)),
+        log_gamma_by_charge=np.zeros((n, 1)), system_totals_molar=np.zeros((n, 0)),
+        pkw=water.pkw(t_c), temperature_c=t_c, activity=activity, warnings=(warn,) * n,
+        batch=batch)
 
 
 def _solve_points(pr: Problem, start=None):
@@ -537,25 +552,6 @@ def _merge_labels(labels: tuple[str, ...], table: np.ndarray):
     for col, lab in enumerate(labels):
         out[:, merged[lab]] += table[:, col]
     return tuple(merged), out
-
-
-@lru_cache(maxsize=64)
-def _warning_texts(high_i: bool, bad: bool, hot: bool, activity: str,
-                   metals_off: bool = False) -> tuple[str, ...]:
-    out = []
-    if metals_off:
-        out.append("the metals' hydrolysis and solubility constants are for 25 °C: at this "
-                   "temperature their share of the pH and the solids is approximate")
-    if high_i:
-        out.append(outside_range_warning(activity))
-    if hot:
-        out.append(
-            f"above {ENTHALPY_DATA_MAX_C:g} °C the pKa temperature correction extrapolates "
-            "beyond the range of its enthalpy data"
-        )
-    if bad:
-        out.append("the solver did not reach its tolerance: the result is approximate")
-    return tuple(out)
 
 
 def _one_result(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, mixture) -> Speciation:

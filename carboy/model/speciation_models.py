@@ -48,6 +48,7 @@ from carboy.model.pitzer_metals import (
     saturation,
     with_metal_fields,
 )
+from carboy.model.pitzer_scalar import scalar_model
 from carboy.model.solver.charge_balance import padded_fractions
 from carboy.model.solver.layout import Layout, cached_layout
 from carboy.model.solver.outer import (
@@ -58,6 +59,7 @@ from carboy.model.solver.outer import (
     solve_with_pairs,
     table_of,
 )
+from carboy.model.solver.pitzer_one import one_outcome, one_table
 from carboy.model.solver.problem import build_problem
 
 AUTO_LIMIT_MOLAL = 0.5
@@ -142,33 +144,46 @@ def _pairs_apply(lay: Layout, temperature_c: float) -> bool:
 # --------------------------------------------------------------------------- routing
 
 def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
-          solve_davies):
+          solve_davies, frame=None):
     """Solve ``batch`` (its layout ``lay``) with ``activity``; ``solve_davies(batch,
     lay, activity, t_c, held, start)`` is the Davies path's batch solve (a
-    ``BatchSpeciation``), whose result is the start and the frame of the answer."""
+    ``BatchSpeciation``), whose result is the start and the frame of the answer;
+    ``frame(batch, lay, activity, t_c)`` an empty result for the one-solution path."""
     t_c = batch.temperature_c
     metals = getattr(lay, "metals", None) is not None
+    paths = _Paths(solve_davies, frame, held, start)
     if activity == "pitzer" and metals:
-        return _pitzer_with_metals(batch, lay, activity, catalog, held, start, solve_davies)
+        return _pitzer_with_metals(batch, lay, activity, catalog, paths)
+    if activity == "pitzer":
+        return _pitzer(batch, lay, activity, catalog, paths)
     base = solve_davies(batch, lay, "davies", t_c, held, start)
-    w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
+    w, _ = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
     res = base
-    if activity == "auto" and _pairs_apply(lay, t_c):
+    if _pairs_apply(lay, t_c):
         pr = build_problem(lay, base.batch.totals, held, base.pkw,
                            _a_dh(t_c))
         out = solve_with_pairs(pr, t_c, base.log_h.copy(), base.ionic_strength_molar.copy())
         res = _assemble(base, out, lay, table_of(lay, "davies", t_c), activity, ())
     molal_i = res.ionic_strength_molar / w
     high = float(molal_i.max(initial=0.0)) > AUTO_LIMIT_MOLAL
-    if activity == "auto" and metals and high and pitzer_takes(lay):
-        return _pitzer_with_metals(batch, lay, activity, catalog, held, start, solve_davies,
+    if metals and high and pitzer_takes(lay):
+        return _pitzer_with_metals(batch, lay, activity, catalog, paths,
                                    davies=_auto_davies(res, activity, w, molal_i))
-    if activity == "auto" and (metals or not high):
+    if metals or not high:
         extra = (_METALS_NOTE,) if metals and high else ()
         return _auto_davies(res, activity, w, molal_i, extra)
-    if metals:
-        raise InvalidInput("activity model", activity, _METALS_NOTE)
-    return _pitzer(base, lay, activity, held, w, notes)
+    return _pitzer(batch, lay, activity, catalog, paths, base)
+
+
+@dataclass(frozen=True)
+class _Paths:
+    """What :func:`route` was handed to solve with: the Davies batch solve, the frame of
+    a one-solution result, the held species and the start."""
+
+    solve_davies: object
+    frame: object
+    held: object
+    start: object
 
 
 def _auto_davies(res, activity: str, w, molal_i, extra: tuple[str, ...] = ()):
@@ -183,8 +198,8 @@ _METALS_NOTE = ("the specific-interaction model covers calcium and magnesium onl
                 "outside its range")
 
 
-def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, held, start,
-                        solve_davies, davies=None):
+def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, paths: _Paths,
+                        davies=None):
     """Calcium and magnesium under the Pitzer model while they stay dissolved
     (``pitzer_metals``); a batch where one of their solids would form falls back, whole,
     to the metal path with the Davies equation (``davies``, solved here if not given)."""
@@ -192,15 +207,14 @@ def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, held, start,
         raise InvalidInput("activity model", activity, _METALS_NOTE)
     t_c = batch.temperature_c
     lay_s = cached_layout(catalog, batch.keys, t_c, metals=False)
-    base = solve_davies(batch, lay_s, "davies", t_c, held, start)
-    w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
-    res = _pitzer(base, lay_s, activity, held, w, notes)
+    res = _pitzer(batch, lay_s, activity, catalog, paths)
     si = saturation(res, lay.metals, catalog)
     solids = saturated_solids(si, lay.metals)
     if not solids:
         return with_metal_fields(res, lay.metals, si)
     if davies is None:
-        dav = solve_davies(batch, lay, "davies", t_c, held, start)
+        dav = paths.solve_davies(batch, lay, "davies", t_c, paths.held, paths.start)
+        w = res.model_part.water_kg_per_l
         davies = _auto_davies(dav, activity, w, dav.ionic_strength_molar / w)
     text = SOLID_FALLBACK.format(solids=", ".join(solids))
     return dataclasses.replace(davies, warnings=_with(davies.warnings, (text,)))
@@ -210,13 +224,31 @@ def _a_dh(t_c: float) -> float:
     return water.debye_huckel_a(t_c)
 
 
-def _pitzer(base, lay: Layout, activity: str, held, w: np.ndarray, notes):
-    """The Pitzer path from the Davies result ``base``."""
-    t_c = base.temperature_c
+def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None):
+    """The Pitzer path: one solution on floats (``solver.pitzer_one``) where it can,
+    else vectorized from the Davies result ``base`` (solved here if not given)."""
+    t_c = batch.temperature_c
     tab = table_of(lay, "pitzer", t_c)
     model = pitzer_for(tab, t_c)
-    pr = build_problem(lay, base.batch.totals, held, base.pkw, 0.0)
+    one = None
+    if len(batch) == 1 and not paths.held and paths.frame is not None:
+        one = one_table(lay, tab, water.pkw(t_c))
+    if one is not None:
+        w, notes = water_kg_per_litre(catalog, batch.keys, batch.totals, t_c)
+        frame = paths.frame(batch, lay, activity, t_c)
+        out = one_outcome(one, model, scalar_model(model), batch.totals[0].tolist(),
+                          float(w[0]))
+        return _pitzer_result(frame, out, lay, tab, activity, w, notes)
+    if base is None:
+        base = paths.solve_davies(batch, lay, "davies", t_c, paths.held, paths.start)
+    w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
+    pr = build_problem(lay, base.batch.totals, paths.held, base.pkw, 0.0)
     out = solve_pitzer(pr, model, tab, 1.0 / w, base.log_h.copy())
+    return _pitzer_result(base, out, lay, tab, activity, w, notes)
+
+
+def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes):
+    """The batch result of the Pitzer path in the frame ``base``."""
     molal_i = out.extra["ionic_strength_molal"]
     common = tuple(t for t in out.extra["warnings"] if not t.startswith("ionic strength above"))
     hot = tuple(t for t in base.warnings[0] if "enthalpy data" in t) if len(base) else ()

@@ -1,0 +1,238 @@
+"""The specific-interaction (Pitzer) path for one solution, in plain Python floats.
+
+The vectorized path (``outer.solve_pitzer``) pays numpy's cost per call on every
+round; for one solution that cost is most of the time, so this module does the same
+arithmetic on floats (as ``single.py`` does for the Davies path).  Molal throughout:
+the unknown is x = log10 m(H+) (mol/kg); with the log10 coefficients ``lg`` of every
+species and log10 a_w held, a state j of a system (j protons lost from its top state)
+weighs ``10**(log beta_j - lg_j - j (x + lg_H))``, OH- is ``Kw a_w / (γ_H γ_OH m_H)``,
+and a pair P = M + OH- (MgOH+, the Pitzer set's one) holds ``T_M k m_OH / (1 + k m_OH)``
+of its cation, k = K γ_M γ_OH / γ_P.
+
+Each round solves the charge balance for x with the coefficients held (Newton on
+ln POS - ln NEG, which rises with x, inside a bracket that each step narrows; a step
+that leaves it bisects), then evaluates the coefficients at the composition it gives
+(``pitzer_scalar``).  The rounds are a fixed-point iteration on (lg, log10 a_w),
+accelerated by Anderson mixing of depth one; a solution has settled when no
+coefficient moved more than ``ONE_TOL`` in its last round.
+
+:func:`compile_one` returns None for a table this path does not take (a pair whose
+ligand is a protonation state); the vectorized path then solves it.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from carboy.model.pitzer import I_MAX_MOLAL
+from carboy.model.pitzer_scalar import ScalarPitzer
+from carboy.model.solver.constants import LN10
+from carboy.model.solver.outer import Outcome
+
+ONE_TOL = 1e-11
+"""A round that moves no log10 coefficient more than this ends the iteration."""
+ONE_ROUNDS = 60
+"""Rounds before the solution is reported unsettled."""
+X_BOUNDS = (-20.0, 3.0)
+"""log10 m(H+) always lies here (pH -3 to 20 on the molal scale)."""
+NEWTON_STEPS = 100
+X_STEP_TOL = 1e-12
+"""The charge balance's root in x is settled when a Newton step is below this."""
+
+
+@dataclass(frozen=True)
+class OneTable:
+    """A species table compiled for the float path."""
+
+    n: int                          # species (columns of the table)
+    charges: tuple[float, ...]
+    ions: tuple                     # (column, batch column) of each spectator ion
+    systems: tuple                  # (batch column, ((column, log beta0, j), ...))
+    pairs: tuple                    # (pair column, cation column, log10 K)
+    pkw: float
+
+
+def compile_one(lay, tab, pkw: float) -> OneTable | None:
+    """The :class:`OneTable` of a layout's Pitzer table (None: a pair on a state)."""
+    if any(p.state >= 0 for p in tab.pairs):
+        return None
+    ions = tuple((int(c), int(b)) for c, b in zip(tab.ion_cols.tolist(), lay.ion_cols.tolist()))
+    systems = []
+    cols = tab.state_cols.tolist()
+    for k, (a, b) in enumerate(lay.sys_slices):
+        states = tuple((cols[s], float(lay.flat_lb0[s]), float(lay.flat_j[s]))
+                       for s in range(a, b))
+        systems.append((int(lay.sys_cols[k]), states))
+    pairs = tuple((int(c), int(tab.ion_cols[p.ion]), float(p.log_k))
+                  for p, c in zip(tab.pairs, tab.pair_cols.tolist()))
+    return OneTable(len(tab.labels), tuple(float(z) for z in tab.charges.tolist()), ions,
+                    tuple(systems), pairs, float(pkw))
+
+
+def _composition(ot: OneTable, x: float, lg, lw: float, ions, sys_tot, want_slope=False):
+    """Molalities of every column at x, and d(POS)/dx, d(NEG)/dx if asked."""
+    m = list(ions)
+    lg_h = lg[0]
+    m[0] = 10.0 ** x
+    oh = 10.0 ** (lw - ot.pkw - lg_h - lg[1] - x)
+    m[1] = oh
+    d_oh = -LN10 * oh
+    d_pair = []
+    for pc, mc, log_k in ot.pairs:
+        total = m[mc]
+        k = 10.0 ** (log_k + lg[mc] + lg[1] - lg[pc])
+        p = total * k * oh / (1.0 + k * oh)
+        m[pc] += p
+        m[mc] -= p
+        d_pair.append((pc, mc, total * k * d_oh / (1.0 + k * oh) ** 2))
+    slopes = []
+    for (_, states), tot in zip(ot.systems, sys_tot):
+        xs = x + lg_h
+        ws = [10.0 ** (lb - lg[c] - j * xs) for c, lb, j in states]
+        inv = tot / sum(ws)
+        conc = [w * inv for w in ws]
+        for (c, _, _), v in zip(states, conc):
+            m[c] += v
+        if want_slope:
+            jbar = sum(v * j for v, (_, _, j) in zip(conc, states)) / tot if tot else 0.0
+            slopes.extend((c, -LN10 * v * (j - jbar)) for v, (c, _, j) in zip(conc, states))
+    return m, (d_oh, d_pair, slopes)
+
+
+def _balance(ot: OneTable, m, slope):
+    """ln POS - ln NEG and its x-derivative."""
+    pos = neg = dpos = dneg = 0.0
+    z = ot.charges
+    for zi, mi in zip(z, m):
+        if zi > 0:
+            pos += zi * mi
+        elif zi < 0:
+            neg -= zi * mi
+    d_oh, d_pair, slopes = slope
+    dpos += LN10 * m[0]
+    dneg += d_oh
+    for pc, mc, dp in d_pair:
+        for col, d in ((pc, dp), (mc, -dp)):
+            if z[col] > 0:
+                dpos += z[col] * d
+            else:
+                dneg -= z[col] * d
+    for c, d in slopes:
+        if z[c] > 0:
+            dpos += z[c] * d
+        elif z[c] < 0:
+            dneg -= z[c] * d
+    return math.log(pos) - math.log(neg), dpos / pos - dneg / neg
+
+
+def solve_x(ot: OneTable, x: float, lg, lw: float, ions, sys_tot,
+            tol: float = X_STEP_TOL) -> float:
+    """The root in x of the charge balance with ``lg`` and ``lw`` held, to a Newton
+    step below ``tol``."""
+    lo, hi = X_BOUNDS
+    x = min(max(x, lo), hi)
+    for _ in range(NEWTON_STEPS):
+        m, slope = _composition(ot, x, lg, lw, ions, sys_tot, True)
+        g, dg = _balance(ot, m, slope)
+        if g > 0:
+            hi = x
+        else:
+            lo = x
+        if dg > 0:
+            step = -g / dg
+            if abs(step) < tol:
+                return x + step
+            new = x + step
+        else:   # cannot happen for a balance that rises with x: bisect all the same
+            new = lo - 1.0
+        if not lo < new < hi:
+            new = 0.5 * (lo + hi)
+        if hi - lo < X_STEP_TOL:
+            return new
+        x = new
+    return x
+
+
+def _anderson(v, g, prev):
+    """Depth-one Anderson mixing: the next iterate from v, f(v) = g and the last pair."""
+    if prev is None:
+        return g
+    v0, g0 = prev
+    r = [b - a for a, b in zip(v, g)]
+    dr = [ri - (b - a) for ri, a, b in zip(r, v0, g0)]
+    den = sum(d * d for d in dr)
+    if den == 0.0:
+        return g
+    theta = sum(ri * d for ri, d in zip(r, dr)) / den
+    return [gi - theta * (gi - gj) for gi, gj in zip(g, g0)]
+
+
+def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
+                     x0: float | None = None):
+    """Solve one solution: ``row`` the batch totals (mol/L), ``per_molar`` mol/kg per
+    mol/L.  Returns (x molal, molalities, lg, (φ, a_w, I), rounds, converged)."""
+    ions = [0.0] * ot.n
+    for c, b in ot.ions:
+        ions[c] += row[b] * per_molar
+    sys_tot = [row[b] * per_molar for b, _ in ot.systems]
+    n = ot.n
+    v = [0.0] * (n + 1)         # log10 γ of every column, then log10 a_w
+    x = -7.0 if x0 is None else x0
+    prev = None
+    out = None
+    moved = 1.0
+    for rounds in range(1, ONE_ROUNDS + 1):
+        lg, lw = v[:n], v[n]
+        # early rounds need x no closer than their coefficients are settled
+        x = solve_x(ot, x, lg, lw, ions, sys_tot, max(X_STEP_TOL, 1e-3 * moved))
+        m, _ = _composition(ot, x, lg, lw, ions, sys_tot)
+        ln, phi, aw, ionic = model.evaluate(m)
+        g = [a / LN10 for a in ln] + [math.log10(aw)]
+        moved = max(abs(a - b) for a, b in zip(g, v))
+        out = (x, m, g[:n], (phi, aw, ionic))
+        if moved <= ONE_TOL:
+            return (*out, rounds, True)
+        v, prev = _anderson(v, g, prev), (v, g)
+    return (*out, ONE_ROUNDS, False)
+
+
+_ONE: dict = {}
+
+
+def one_table(lay, tab, pkw: float) -> OneTable | None:
+    """:func:`compile_one`, cached beside the layout and its table (both never change)."""
+    key = (id(lay), id(tab), pkw)
+    hit = _ONE.get(key)
+    if hit is not None and hit[0] is lay and hit[1] is tab:
+        return hit[2]
+    ot = compile_one(lay, tab, pkw)
+    if len(_ONE) >= 512:
+        _ONE.clear()
+    _ONE[key] = (lay, tab, ot)
+    return ot
+
+
+def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: float):
+    """The :class:`~carboy.model.solver.outer.Outcome` of one solution (``row`` its batch
+    totals, mol/L) as the vectorized path gives it: concentrations in mol/L, x = log10
+    [H+] in mol/L, the Pitzer model's (``model``) warnings at the composition."""
+    w = water_kg_per_l
+    x, m, lg, (phi, aw, ionic), rounds, ok = solve_one_pitzer(ot, scalar, row, 1.0 / w)
+    table = np.array([m]) * w
+    alpha, ceff = [], []
+    for b, states in ot.systems:
+        tot = row[b]
+        ceff.append([tot])
+        alpha.extend([m[c] * w / tot if tot > 0 else 0.0] for c, _, _ in states)
+    molal = np.array([m + [0.0] * (len(model._all) - len(m))])
+    here = bool((molal[:, :len(m)][:, model._fallback_mask[:len(m)]] > 0).any())
+    i_arr = np.array([ionic])
+    extra = {"ionic_strength_molal": i_arr, "water_activity": np.array([aw]),
+             "osmotic": np.array([phi]), "valid": np.array([ionic <= I_MAX_MOLAL and not here]),
+             "warnings": model._warnings(molal, i_arr, np.array([here]))}
+    return Outcome(np.array([x + math.log10(w)]), np.zeros(1), np.array([ok]), rounds,
+                   table, np.array([lg]), np.array([-(x + lg[0])]),
+                   (np.array(alpha).reshape(-1, 1), np.array(ceff).reshape(-1, 1)), extra)
