@@ -59,6 +59,7 @@ from carboy.model.solver.outer import (
     solve_with_pairs,
     table_of,
 )
+from carboy.model.solver.pitzer_batch import batch_outcome
 from carboy.model.solver.pitzer_one import one_outcome, one_table
 from carboy.model.solver.problem import build_problem
 
@@ -225,19 +226,23 @@ def _a_dh(t_c: float) -> float:
 
 
 def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None):
-    """The Pitzer path: one solution on floats (``solver.pitzer_one``) where it can,
-    else vectorized from the Davies result ``base`` (solved here if not given)."""
+    """The Pitzer path: one solution on floats (``solver.pitzer_one``), a batch on
+    arrays (``solver.pitzer_batch``); with held species or pairs on a state, the outer
+    loop (``solver.outer.solve_pitzer``) from the Davies result ``base``."""
     t_c = batch.temperature_c
     tab = table_of(lay, "pitzer", t_c)
     model = pitzer_for(tab, t_c)
     one = None
-    if len(batch) == 1 and not paths.held and paths.frame is not None:
+    if len(batch) and not paths.held and paths.frame is not None:
         one = one_table(lay, tab, water.pkw(t_c))
     if one is not None:
         w, notes = water_kg_per_litre(catalog, batch.keys, batch.totals, t_c)
         frame = paths.frame(batch, lay, activity, t_c)
-        out = one_outcome(one, model, scalar_model(model), batch.totals[0].tolist(),
-                          float(w[0]))
+        if len(batch) == 1:
+            out = one_outcome(one, model, scalar_model(model), batch.totals[0].tolist(),
+                              float(w[0]))
+        else:
+            out = batch_outcome(one, model, batch.totals, w)
         return _pitzer_result(frame, out, lay, tab, activity, w, notes)
     if base is None:
         base = paths.solve_davies(batch, lay, "davies", t_c, paths.held, paths.start)

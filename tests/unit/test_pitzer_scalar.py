@@ -81,3 +81,20 @@ def test_one_solution_path_equals_the_batch_path(comp):
 
     assert counted(one.warnings) == counted(ref.warnings)
     assert set(one.fractions) == set(ref.fractions)
+
+
+@pytest.mark.parametrize("comp, naoh", [(MIXES[0], 2.5), (MIXES[2], 0.0999), (MIXES[4], 1.2)],
+                         ids=["acid-waste", "cacl2-below-portlandite", "nh4cl"])
+def test_a_curve_coarse_to_fine_equals_its_points_one_by_one(comp, naoh):
+    from carboy.model.mixture import titration_batch
+
+    mix = Mixture.from_compounds([(CAT.compound(k), v) for k, v in comp.items()],
+                                 volume_l=1.0)
+    n = np.linspace(0.0, naoh, 61)      # through the equivalence point(s)
+    batch, _ = titration_batch(mix, {"Na+": 1.0}, n, reagent_l_per_mol=0.0)
+    curve = speciate_batch(batch, activity="pitzer", catalog=CAT)
+    assert curve.model_part.model == "pitzer"
+    assert curve.converged.all()
+    for i in range(0, 61, 5):
+        one = speciate(batch.mixture(i), activity="pitzer", catalog=CAT)
+        assert float(curve.pH[i]) == pytest.approx(one.pH, abs=1e-8), i

@@ -32,8 +32,10 @@ from carboy.model.pitzer_scalar import ScalarPitzer
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.outer import Outcome
 
-ONE_TOL = 1e-11
-"""A round that moves no log10 coefficient more than this ends the iteration."""
+ONE_TOL = 1e-8
+"""A round that moves no log10 coefficient more than this ends the iteration; x is then
+solved once more at the last coefficients (the Anderson-mixed rounds have by then
+settled them to about 1e-11)."""
 ONE_ROUNDS = 60
 """Rounds before the solution is reported unsettled."""
 X_BOUNDS = (-20.0, 3.0)
@@ -129,11 +131,12 @@ def _balance(ot: OneTable, m, slope):
 
 
 def solve_x(ot: OneTable, x: float, lg, lw: float, ions, sys_tot,
-            tol: float = X_STEP_TOL) -> float:
+            tol: float = X_STEP_TOL):
     """The root in x of the charge balance with ``lg`` and ``lw`` held, to a Newton
-    step below ``tol``."""
+    step below ``tol``: (x, the molalities there)."""
     lo, hi = X_BOUNDS
     x = min(max(x, lo), hi)
+    m = None
     for _ in range(NEWTON_STEPS):
         m, slope = _composition(ot, x, lg, lw, ions, sys_tot, True)
         g, dg = _balance(ot, m, slope)
@@ -144,16 +147,31 @@ def solve_x(ot: OneTable, x: float, lg, lw: float, ions, sys_tot,
         if dg > 0:
             step = -g / dg
             if abs(step) < tol:
-                return x + step
+                return x, m
             new = x + step
         else:   # cannot happen for a balance that rises with x: bisect all the same
             new = lo - 1.0
         if not lo < new < hi:
             new = 0.5 * (lo + hi)
         if hi - lo < X_STEP_TOL:
-            return new
+            return x, m
         x = new
-    return x
+    return x, m
+
+
+def _start(ot: OneTable, ions, sys_tot) -> float:
+    """A first x from the charge the spectators and systems leave to H+ or OH-: with
+    every system at its lowest charge (an upper bound on H+) or at its highest (an
+    upper bound on OH-); -7 where neither bound is one-sided."""
+    z = ot.charges
+    fixed = sum(zi * mi for zi, mi in zip(z, ions))
+    low = fixed + sum(t * min(z[c] for c, _, _ in st) for (_, st), t in zip(ot.systems, sys_tot))
+    high = fixed + sum(t * max(z[c] for c, _, _ in st) for (_, st), t in zip(ot.systems, sys_tot))
+    if low < 0:
+        return math.log10(-low)
+    if high > 0:
+        return -ot.pkw - math.log10(high)
+    return -7.0
 
 
 def _anderson(v, g, prev):
@@ -180,21 +198,21 @@ def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
     sys_tot = [row[b] * per_molar for b, _ in ot.systems]
     n = ot.n
     v = [0.0] * (n + 1)         # log10 γ of every column, then log10 a_w
-    x = -7.0 if x0 is None else x0
+    x = _start(ot, ions, sys_tot) if x0 is None else x0
     prev = None
     out = None
     moved = 1.0
     for rounds in range(1, ONE_ROUNDS + 1):
         lg, lw = v[:n], v[n]
         # early rounds need x no closer than their coefficients are settled
-        x = solve_x(ot, x, lg, lw, ions, sys_tot, max(X_STEP_TOL, 1e-3 * moved))
-        m, _ = _composition(ot, x, lg, lw, ions, sys_tot)
+        x, m = solve_x(ot, x, lg, lw, ions, sys_tot, max(X_STEP_TOL, 1e-7 * moved))
         ln, phi, aw, ionic = model.evaluate(m)
         g = [a / LN10 for a in ln] + [math.log10(aw)]
         moved = max(abs(a - b) for a, b in zip(g, v))
         out = (x, m, g[:n], (phi, aw, ionic))
         if moved <= ONE_TOL:
-            return (*out, rounds, True)
+            x, m = solve_x(ot, x, g[:n], g[n], ions, sys_tot)
+            return x, m, g[:n], (phi, aw, ionic), rounds, True
         v, prev = _anderson(v, g, prev), (v, g)
     return (*out, ONE_ROUNDS, False)
 
