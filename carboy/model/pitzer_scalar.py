@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import math
 from functools import lru_cache
+from operator import mul
 
 from carboy.model.etheta import GRID_STEP, X_MAX, X_MIN, j_integral
 from carboy.model.etheta import _table as _j_table
@@ -68,6 +69,7 @@ class ScalarPitzer:
         self.z = z
         self.z2 = [v * v for v in z]
         self.az = [abs(v) for v in z]
+        self.ions = [i for i, v in enumerate(z) if v]
         cat, ani = p.cat.tolist(), p.ani.tolist()
         self.binary = []
         alphas = set()
@@ -80,8 +82,10 @@ class ScalarPitzer:
                     self.binary.append((c, a, b0, b1, a1, b2, a2, cc))
                     alphas.update(v for v, b in ((a1, b1), (a2, b2)) if b)
         self.alphas = tuple(sorted(alphas))
-        self.like = self._like(cat, p.theta_c) + self._like(ani, p.theta_a)
-        self.charge_pairs = tuple(sorted({key for *_, key in self.like if key}))
+        like = self._like(cat, p.theta_c) + self._like(ani, p.theta_a)
+        self.theta = [(i, j, 2.0 * th, th) for i, j, th, key in like if key is None]
+        self.like = [t for t in like if t[3] is not None]    # with an Eθ term
+        self.charge_pairs = tuple(sorted({key for *_, key in self.like}))
         self.neutral, zeta = self._neutrals(cat, ani, p.neu.tolist(), p)
         # ψ (two like ions and one other) and ζ (a neutral, a cation, an anion) enter
         # every sum in the same form: one list of triplets
@@ -172,8 +176,13 @@ class ScalarPitzer:
         """θ, Eθ, ψ, ζ and λ terms into ``ln``; returns (Σ m m Φ', osmotic sum)."""
         eth = self._etheta(ionic, root) if self.charge_pairs else {}
         fprime = osm = 0.0
+        for i, j, th2, th in self.theta:
+            mi, mj = m[i], m[j]
+            ln[i] += mj * th2
+            ln[j] += mi * th2
+            osm += mi * mj * th
         for i, j, th, key in self.like:
-            e, ep = eth[key] if key else (0.0, 0.0)
+            e, ep = eth[key]
             mi, mj = m[i], m[j]
             phi = th + e
             ln[i] += 2.0 * mj * phi
@@ -182,11 +191,12 @@ class ScalarPitzer:
             fprime += mm * ep
             osm += mm * (phi + ionic * ep)
         for i, j, k, v in self.triples:
-            mi, mj, mk = m[i], m[j], m[k]
-            ln[i] += mj * mk * v
-            ln[j] += mi * mk * v
-            ln[k] += mi * mj * v
-            osm += mi * mj * mk * v
+            mj, mk = m[j], m[k]
+            a, b = m[i] * v, mj * mk
+            ln[i] += b * v
+            ln[j] += a * mk
+            ln[k] += a * mj
+            osm += a * b
         for n, o, v, ion in self.neutral:
             mn, mo = m[n], m[o]
             if ion or o != n:
@@ -204,8 +214,8 @@ class ScalarPitzer:
         if len(m) < self.n:
             m.append(0.0)   # the reference anion (Cl-), carried at zero
         z, z2, az = self.z, self.z2, self.az
-        ionic = 0.5 * sum(a * b for a, b in zip(m, z2))
-        big_z = sum(a * b for a, b in zip(m, az))
+        ionic = 0.5 * sum(map(mul, m, z2))
+        big_z = sum(map(mul, m, az))
         total = sum(m)
         i_safe = ionic if ionic > 1e-100 else 1e-100
         root = math.sqrt(i_safe)
@@ -215,9 +225,8 @@ class ScalarPitzer:
         bprime, osm_b, csum = self._binary(m, ln, i_safe, root, big_z)
         mprime, osm_m = self._mixing(m, ln, i_safe, root)
         big_f = f_dh + bprime + mprime
-        for i in range(self.n):
-            if z[i]:
-                ln[i] += z2[i] * big_f + az[i] * csum
+        for i in self.ions:
+            ln[i] += z2[i] * big_f + az[i] * csum
         osm = -aphi * ionic * root / (1.0 + b * root) + osm_b + osm_m
         b0, b1, cphi = self.kcl
         x = 2.0 * root

@@ -32,6 +32,9 @@ from carboy.model.solver.pitzer_one import (
     NEWTON_STEPS,
     ONE_ROUNDS,
     ONE_TOL,
+    MAX_STEP,
+    QUADRATIC,
+    SETTLED_TOL,
     X_BOUNDS,
     X_STEP_TOL,
     OneTable,
@@ -81,7 +84,8 @@ def batch_table(ot: OneTable) -> BatchTable:
 
 
 def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
-    """(N, U) molalities at x, and ln POS - ln NEG with its x-derivative."""
+    """(N, U) molalities at x and their x-derivatives, and ln POS - ln NEG with its
+    x-derivative."""
     m = ions.copy()
     dm = np.zeros_like(m)
     h = np.exp(LN10 * x)
@@ -114,7 +118,7 @@ def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
             dm[:, bt.cols] += slope
     pos, neg = np.einsum("nu,u->n", m, bt.zpos), np.einsum("nu,u->n", m, bt.zneg)
     dpos, dneg = np.einsum("nu,u->n", dm, bt.zpos), np.einsum("nu,u->n", dm, bt.zneg)
-    return m, np.log(pos) - np.log(neg), dpos / pos - dneg / neg
+    return m, dm, np.log(pos) - np.log(neg), dpos / pos - dneg / neg
 
 
 def solve_x(bt: BatchTable, x, lg, lw, ions, sys_tot, tol):
@@ -127,16 +131,18 @@ def solve_x(bt: BatchTable, x, lg, lw, ions, sys_tot, tol):
     act = np.arange(x.shape[0])
     xa = x
     for _ in range(NEWTON_STEPS):
-        ma, g, dg = _composition(bt, xa, lg[act], lw[act], ions[act], sys_tot[act])
-        m[act] = ma
+        ma, dma, g, dg = _composition(bt, xa, lg[act], lw[act], ions[act], sys_tot[act])
         h = np.where(g > 0, xa, hi[act])
         lo_a = np.where(g > 0, lo[act], xa)
         step = np.where(dg > 0, -g / np.where(dg > 0, dg, 1.0), np.inf)
-        done = (np.abs(step) < tol[act]) | (h - lo_a < X_STEP_TOL)
-        x[act] = xa
+        near = (np.abs(step) < tol[act]) | (step * step < QUADRATIC * tol[act])
+        done = near | (h - lo_a < X_STEP_TOL)
+        last = np.where(near, step, 0.0)     # Newton's last step, taken to first order
+        m[act] = ma + dma * last[:, None]
+        x[act] = xa + last
         if done.all():
             break
-        new = xa + step
+        new = xa + np.clip(step, -MAX_STEP, MAX_STEP)
         new = np.where((new > lo_a) & (new < h), new, 0.5 * (lo_a + h))
         keep = ~done
         act, xa = act[keep], new[keep]
@@ -185,7 +191,7 @@ def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot) 
     n = bt.n
     x, v = st.x[idx], st.v[idx]
     prev = None
-    moved = np.ones(idx.shape[0])
+    moved = last = np.ones(idx.shape[0])
     for r in range(1, ONE_ROUNDS + 1):
         tol = np.maximum(X_STEP_TOL, 1e-7 * moved)
         x, m = solve_x(bt, x, v[:, :n], v[:, n], ions[idx], sys_tot[idx], tol)
@@ -193,7 +199,10 @@ def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot) 
         g = np.concatenate([res.ln_gamma / LN10, np.log10(res.water_activity)[:, None]],
                            axis=1)
         moved = np.abs(g - v).max(axis=1)
-        done = moved <= ONE_TOL
+        rho = moved / np.where(last > 0, last, 1.0)
+        done = (moved <= ONE_TOL) | ((r >= 3) & (rho < 0.5)
+                                     & (moved * rho <= SETTLED_TOL * (1.0 - rho)))
+        ok = done
         if r == ONE_ROUNDS:
             done = np.ones_like(done)
         if done.any():
@@ -201,7 +210,7 @@ def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot) 
             xd, md = solve_x(bt, x[done], g[done, :n], g[done, n], ions[d], sys_tot[d],
                              np.full(int(done.sum()), X_STEP_TOL))
             st.x[d], st.v[d], st.m[d], st.rounds[d] = xd, g[done], md, r
-            st.ok[d] = moved[done] <= ONE_TOL
+            st.ok[d] = ok[done]
             st.extra[d] = np.column_stack([res.osmotic[done], res.water_activity[done],
                                            res.ionic_strength_molal[done]])
         keep = ~done
@@ -209,7 +218,7 @@ def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot) 
             return
         nv = _anderson(v, g, prev)
         prev = (v[keep], g[keep])
-        idx, x, v, moved = idx[keep], x[keep], nv[keep], moved[keep]
+        idx, x, v, last, moved = idx[keep], x[keep], nv[keep], moved[keep], moved[keep]
 
 
 def _between(st: _State, coarse: np.ndarray, fine: np.ndarray) -> None:

@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from operator import mul
 
 import numpy as np
 
@@ -36,6 +37,8 @@ ONE_TOL = 1e-8
 """A round that moves no log10 coefficient more than this ends the iteration; x is then
 solved once more at the last coefficients (the Anderson-mixed rounds have by then
 settled them to about 1e-11)."""
+SETTLED_TOL = 1e-10
+"""The error in log10 γ a settled solution may keep by the contraction estimate."""
 ONE_ROUNDS = 60
 """Rounds before the solution is reported unsettled."""
 X_BOUNDS = (-20.0, 3.0)
@@ -43,6 +46,11 @@ X_BOUNDS = (-20.0, 3.0)
 NEWTON_STEPS = 100
 X_STEP_TOL = 1e-12
 """The charge balance's root in x is settled when a Newton step is below this."""
+MAX_STEP = 2.0
+"""A Newton step in x is cut to this length (log10) before the bracket is consulted."""
+QUADRATIC = 1e-2
+"""A Newton step s with s² below this times the tolerance also ends the x-solve:
+Newton's error after it is of order s²."""
 
 
 @dataclass(frozen=True)
@@ -55,6 +63,8 @@ class OneTable:
     systems: tuple                  # (batch column, ((column, log beta0, j), ...))
     pairs: tuple                    # (pair column, cation column, log10 K)
     pkw: float
+    zpos: tuple[float, ...] = ()    # positive charge of each column
+    zneg: tuple[float, ...] = ()    # magnitude of the negative charge
 
 
 def compile_one(lay, tab, pkw: float) -> OneTable | None:
@@ -70,85 +80,72 @@ def compile_one(lay, tab, pkw: float) -> OneTable | None:
         systems.append((int(lay.sys_cols[k]), states))
     pairs = tuple((int(c), int(tab.ion_cols[p.ion]), float(p.log_k))
                   for p, c in zip(tab.pairs, tab.pair_cols.tolist()))
-    return OneTable(len(tab.labels), tuple(float(z) for z in tab.charges.tolist()), ions,
-                    tuple(systems), pairs, float(pkw))
+    z = tuple(float(v) for v in tab.charges.tolist())
+    return OneTable(len(tab.labels), z, ions, tuple(systems), pairs, float(pkw),
+                    tuple(max(v, 0.0) for v in z), tuple(max(-v, 0.0) for v in z))
 
 
 def _composition(ot: OneTable, x: float, lg, lw: float, ions, sys_tot, want_slope=False):
-    """Molalities of every column at x, and d(POS)/dx, d(NEG)/dx if asked."""
+    """Molalities of every column at x, and (if asked) their x-derivatives."""
     m = list(ions)
     lg_h = lg[0]
-    m[0] = 10.0 ** x
-    oh = 10.0 ** (lw - ot.pkw - lg_h - lg[1] - x)
-    m[1] = oh
-    d_oh = -LN10 * oh
-    d_pair = []
+    m[0] = h = 10.0 ** x
+    m[1] = oh = 10.0 ** (lw - ot.pkw - lg_h - lg[1] - x)
+    dm = [0.0] * ot.n if want_slope else None
+    if want_slope:
+        dm[0], dm[1] = LN10 * h, -LN10 * oh
     for pc, mc, log_k in ot.pairs:
         total = m[mc]
         k = 10.0 ** (log_k + lg[mc] + lg[1] - lg[pc])
         p = total * k * oh / (1.0 + k * oh)
         m[pc] += p
         m[mc] -= p
-        d_pair.append((pc, mc, total * k * d_oh / (1.0 + k * oh) ** 2))
-    slopes = []
+        if want_slope:
+            dp = -LN10 * total * k * oh / (1.0 + k * oh) ** 2
+            dm[pc] += dp
+            dm[mc] -= dp
+    xs = x + lg_h
     for (_, states), tot in zip(ot.systems, sys_tot):
-        xs = x + lg_h
         ws = [10.0 ** (lb - lg[c] - j * xs) for c, lb, j in states]
         inv = tot / sum(ws)
         conc = [w * inv for w in ws]
         for (c, _, _), v in zip(states, conc):
             m[c] += v
-        if want_slope:
-            jbar = sum(v * j for v, (_, _, j) in zip(conc, states)) / tot if tot else 0.0
-            slopes.extend((c, -LN10 * v * (j - jbar)) for v, (c, _, j) in zip(conc, states))
-    return m, (d_oh, d_pair, slopes)
+        if want_slope and tot:
+            jbar = sum(v * j for v, (_, _, j) in zip(conc, states)) / tot
+            for v, (c, _, j) in zip(conc, states):
+                dm[c] -= LN10 * v * (j - jbar)
+    return m, dm
 
 
-def _balance(ot: OneTable, m, slope):
+def _balance(ot: OneTable, m, dm):
     """ln POS - ln NEG and its x-derivative."""
-    pos = neg = dpos = dneg = 0.0
-    z = ot.charges
-    for zi, mi in zip(z, m):
-        if zi > 0:
-            pos += zi * mi
-        elif zi < 0:
-            neg -= zi * mi
-    d_oh, d_pair, slopes = slope
-    dpos += LN10 * m[0]
-    dneg += d_oh
-    for pc, mc, dp in d_pair:
-        for col, d in ((pc, dp), (mc, -dp)):
-            if z[col] > 0:
-                dpos += z[col] * d
-            else:
-                dneg -= z[col] * d
-    for c, d in slopes:
-        if z[c] > 0:
-            dpos += z[c] * d
-        elif z[c] < 0:
-            dneg -= z[c] * d
+    zp, zn = ot.zpos, ot.zneg
+    pos, neg = sum(map(mul, zp, m)), sum(map(mul, zn, m))
+    dpos, dneg = sum(map(mul, zp, dm)), sum(map(mul, zn, dm))
     return math.log(pos) - math.log(neg), dpos / pos - dneg / neg
 
 
 def solve_x(ot: OneTable, x: float, lg, lw: float, ions, sys_tot,
             tol: float = X_STEP_TOL):
     """The root in x of the charge balance with ``lg`` and ``lw`` held, to a Newton
-    step below ``tol``: (x, the molalities there)."""
+    step below ``tol``: (x, the molalities there).  The last step, below ``tol``, moves
+    the molalities by their derivatives (an error of order step²)."""
     lo, hi = X_BOUNDS
     x = min(max(x, lo), hi)
     m = None
     for _ in range(NEWTON_STEPS):
-        m, slope = _composition(ot, x, lg, lw, ions, sys_tot, True)
-        g, dg = _balance(ot, m, slope)
+        m, dm = _composition(ot, x, lg, lw, ions, sys_tot, True)
+        g, dg = _balance(ot, m, dm)
         if g > 0:
             hi = x
         else:
             lo = x
         if dg > 0:
             step = -g / dg
-            if abs(step) < tol:
-                return x, m
-            new = x + step
+            if abs(step) < tol or step * step < QUADRATIC * tol:
+                return x + step, [a + b * step for a, b in zip(m, dm)]
+            new = x + max(-MAX_STEP, min(MAX_STEP, step))
         else:   # cannot happen for a balance that rises with x: bisect all the same
             new = lo - 1.0
         if not lo < new < hi:
@@ -172,6 +169,16 @@ def _start(ot: OneTable, ions, sys_tot) -> float:
     if high > 0:
         return -ot.pkw - math.log10(high)
     return -7.0
+
+
+def settled(moved: float, last: float, rounds: int) -> bool:
+    """True when the coefficients are within ``ONE_TOL`` of their fixed point, or, from
+    the third round on, when the contraction the last two rounds show (ρ = moved / last
+    below one half) puts them within ``SETTLED_TOL`` (ρ moved / (1 - ρ))."""
+    if moved <= ONE_TOL:
+        return True
+    rho = moved / last if last > 0 else 1.0
+    return rounds >= 3 and rho < 0.5 and moved * rho / (1.0 - rho) <= SETTLED_TOL
 
 
 def _anderson(v, g, prev):
@@ -201,16 +208,16 @@ def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
     x = _start(ot, ions, sys_tot) if x0 is None else x0
     prev = None
     out = None
-    moved = 1.0
+    moved = last = 1.0
     for rounds in range(1, ONE_ROUNDS + 1):
         lg, lw = v[:n], v[n]
         # early rounds need x no closer than their coefficients are settled
         x, m = solve_x(ot, x, lg, lw, ions, sys_tot, max(X_STEP_TOL, 1e-7 * moved))
         ln, phi, aw, ionic = model.evaluate(m)
         g = [a / LN10 for a in ln] + [math.log10(aw)]
-        moved = max(abs(a - b) for a, b in zip(g, v))
+        last, moved = moved, max(abs(a - b) for a, b in zip(g, v))
         out = (x, m, g[:n], (phi, aw, ionic))
-        if moved <= ONE_TOL:
+        if settled(moved, last, rounds):
             x, m = solve_x(ot, x, g[:n], g[n], ions, sys_tot)
             return x, m, g[:n], (phi, aw, ionic), rounds, True
         v, prev = _anderson(v, g, prev), (v, g)
