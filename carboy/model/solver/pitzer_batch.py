@@ -29,10 +29,10 @@ from carboy.model.pitzer import I_MAX_MOLAL, PitzerModel
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.outer import Outcome
 from carboy.model.solver.pitzer_one import (
+    MAX_STEP,
     NEWTON_STEPS,
     ONE_ROUNDS,
     ONE_TOL,
-    MAX_STEP,
     QUADRATIC,
     SETTLED_TOL,
     X_BOUNDS,
