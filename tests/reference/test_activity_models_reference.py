@@ -19,6 +19,14 @@ HCl in CaCl2 and in MgCl2 (0.1 mol/kg HCl, the salt making up the ionic strength
 dissolved and the Pitzer path takes them as ions (``pitzer_metals``).  Where one of their
 solids would form the batch falls back to the Davies metal path and says so.
 
+Carbon dioxide and water activity
+---------------------------------
+pitzer.dat writes carbonate's first step with water (CO2 + H2O = HCO3- + H+), so where
+a_w falls (0.80 in 5 mol/kg NaCl) the bicarbonate buffer's pH falls with it: 0.1 mol/kg
+NaHCO3 with 0.1 mol/kg CO2 in NaCl to 5 mol/kg against the same pitzer.dat solutions.
+What is left is the same at every ionic strength: carboy's catalog pKa1 6.35 against the
+6.337 of pitzer.dat's constants (16.6767 - 10.3393), about 0.01, so the tolerance is 0.02.
+
 Saturated calcium hydroxide
 ---------------------------
 Bates, Bower & Smith, "Calcium hydroxide as a highly alkaline pH standard", J. Res.
@@ -117,6 +125,17 @@ def test_calcium_and_magnesium_against_phreeqc_pitzer_dat(pitzer_dat, name, comp
     assert res.dissolved_metals[metal] == pytest.approx(total, rel=1e-9)
     assert all(v == 0.0 for v in res.solids.values())
     assert all(v < 0.0 for v in res.saturation_indices.values())
+
+
+@pytest.mark.parametrize("nacl", [0.0, 1.0, 3.0, 5.0])
+def test_bicarbonate_buffer_takes_the_water_activity(pitzer_dat, nacl):
+    sol = pitzer_dat.add_solution({"units": "mol/kgw", "temp": 25.0, "C(4)": 0.2,
+                                   "Na": nacl + 0.1, "Cl": nacl, "pH": "6 charge"})
+    expected = sol.pH
+    sol.forget()
+    res = speciate(_molar({"carbonate": 0.2, "Na+": nacl + 0.1, "Cl-": nacl}),
+                   activity="pitzer", catalog=CAT)
+    assert res.pH == pytest.approx(expected, abs=0.02)
 
 
 def test_a_saturated_metal_solid_falls_back_to_the_davies_metal_path():

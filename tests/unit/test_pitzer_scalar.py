@@ -98,3 +98,15 @@ def test_a_curve_coarse_to_fine_equals_its_points_one_by_one(comp, naoh):
     for i in range(0, 61, 5):
         one = speciate(batch.mixture(i), activity="pitzer", catalog=CAT)
         assert float(curve.pH[i]) == pytest.approx(one.pH, abs=1e-8), i
+
+
+def test_the_outer_loop_with_a_held_species_agrees_with_the_float_path():
+    # 1 M NaHCO3 + 0.5 M HCl in 3 M NaCl (a_w about 0.87): holding CO2 at the amount the
+    # float path found must give the same solution through solver.outer (water term too)
+    mix = Mixture({"carbonate": 1.0, "Na+": 4.0, "Cl-": 3.5}, 25.0)
+    one = speciate(mix, activity="pitzer", catalog=CAT)
+    held = speciate(mix, activity="pitzer", catalog=CAT,
+                    held={"carbonate": ("CO2", one.species["CO2"])})
+    assert one.model_part.water_activity < 0.9
+    assert held.pH == pytest.approx(one.pH, abs=1e-7)
+    assert held.species["HCO3-"] == pytest.approx(one.species["HCO3-"], rel=1e-6)

@@ -65,14 +65,16 @@ class BatchTable:
     sys_of: np.ndarray               # (S,) its system
     starts: np.ndarray               # (K,) first state of each system
     repeats: bool                    # does a column hold states of two systems?
+    water: np.ndarray                # (S,) water each state takes (outer.HYDRATED)
 
 
 def batch_table(ot: OneTable) -> BatchTable:
     z = np.array(ot.charges)
-    systems = tuple((b, np.array([c for c, _, _ in st], dtype=int),
-                     np.array([lb for _, lb, _ in st]), np.array([j for _, _, j in st]))
+    systems = tuple((b, np.array([s[0] for s in st], dtype=int),
+                     np.array([s[1] for s in st]), np.array([s[2] for s in st]))
                     for b, st in ot.systems)
-    flat = [(c, lb, j, k) for k, (_, st) in enumerate(ot.systems) for c, lb, j in st]
+    flat = [(c, lb, j, k, h2o) for k, (_, st) in enumerate(ot.systems)
+            for c, lb, j, h2o in st]
     sizes = [len(st) for _, st in ot.systems]
     return BatchTable(ot.n, np.maximum(z, 0.0), np.maximum(-z, 0.0),
                       np.array([c for c, _ in ot.ions], dtype=int),
@@ -80,7 +82,7 @@ def batch_table(ot: OneTable) -> BatchTable:
                       np.array([f[0] for f in flat], dtype=int), np.array([f[1] for f in flat]),
                       np.array([f[2] for f in flat]), np.array([f[3] for f in flat], dtype=int),
                       np.cumsum([0] + sizes[:-1]).astype(int),
-                      len({f[0] for f in flat}) < len(flat))
+                      len({f[0] for f in flat}) < len(flat), np.array([f[4] for f in flat]))
 
 
 def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
@@ -103,7 +105,8 @@ def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
         dm[:, mc] -= dp
     if bt.systems:
         j, so = bt.j, bt.sys_of
-        logw = bt.lb[None, :] - lg[:, bt.cols] - np.multiply.outer(x + lg[:, 0], j)
+        logw = (bt.lb[None, :] - lg[:, bt.cols] - np.multiply.outer(x + lg[:, 0], j)
+                + np.multiply.outer(lw, bt.water))
         logw -= np.maximum.reduceat(logw, bt.starts, axis=1)[:, so]
         w = np.exp(LN10 * logw)
         conc = w * (sys_tot / np.add.reduceat(w, bt.starts, axis=1))[:, so]

@@ -60,7 +60,7 @@ class OneTable:
     n: int                          # species (columns of the table)
     charges: tuple[float, ...]
     ions: tuple                     # (column, batch column) of each spectator ion
-    systems: tuple                  # (batch column, ((column, log beta0, j), ...))
+    systems: tuple                  # (batch column, ((column, log beta0, j, water), ...))
     pairs: tuple                    # (pair column, cation column, log10 K)
     pkw: float
     zpos: tuple[float, ...] = ()    # positive charge of each column
@@ -73,9 +73,9 @@ def compile_one(lay, tab, pkw: float) -> OneTable | None:
         return None
     ions = tuple((int(c), int(b)) for c, b in zip(tab.ion_cols.tolist(), lay.ion_cols.tolist()))
     systems = []
-    cols = tab.state_cols.tolist()
+    cols, water = tab.state_cols.tolist(), tab.state_water.tolist()
     for k, (a, b) in enumerate(lay.sys_slices):
-        states = tuple((cols[s], float(lay.flat_lb0[s]), float(lay.flat_j[s]))
+        states = tuple((cols[s], float(lay.flat_lb0[s]), float(lay.flat_j[s]), water[s])
                        for s in range(a, b))
         systems.append((int(lay.sys_cols[k]), states))
     pairs = tuple((int(c), int(tab.ion_cols[p.ion]), float(p.log_k))
@@ -106,14 +106,14 @@ def _composition(ot: OneTable, x: float, lg, lw: float, ions, sys_tot, want_slop
             dm[mc] -= dp
     xs = x + lg_h
     for (_, states), tot in zip(ot.systems, sys_tot):
-        ws = [10.0 ** (lb - lg[c] - j * xs) for c, lb, j in states]
+        ws = [10.0 ** (lb - lg[c] - j * xs + h2o * lw) for c, lb, j, h2o in states]
         inv = tot / sum(ws)
         conc = [w * inv for w in ws]
-        for (c, _, _), v in zip(states, conc):
+        for (c, _, _, _), v in zip(states, conc):
             m[c] += v
         if want_slope and tot:
-            jbar = sum(v * j for v, (_, _, j) in zip(conc, states)) / tot
-            for v, (c, _, j) in zip(conc, states):
+            jbar = sum(v * j for v, (_, _, j, _) in zip(conc, states)) / tot
+            for v, (c, _, j, _) in zip(conc, states):
                 dm[c] -= LN10 * v * (j - jbar)
     return m, dm
 
@@ -162,8 +162,8 @@ def _start(ot: OneTable, ions, sys_tot) -> float:
     upper bound on OH-); -7 where neither bound is one-sided."""
     z = ot.charges
     fixed = sum(zi * mi for zi, mi in zip(z, ions))
-    low = fixed + sum(t * min(z[c] for c, _, _ in st) for (_, st), t in zip(ot.systems, sys_tot))
-    high = fixed + sum(t * max(z[c] for c, _, _ in st) for (_, st), t in zip(ot.systems, sys_tot))
+    low = fixed + sum(t * min(z[s[0]] for s in st) for (_, st), t in zip(ot.systems, sys_tot))
+    high = fixed + sum(t * max(z[s[0]] for s in st) for (_, st), t in zip(ot.systems, sys_tot))
     if low < 0:
         return math.log10(-low)
     if high > 0:
@@ -251,7 +251,7 @@ def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: 
     for b, states in ot.systems:
         tot = row[b]
         ceff.append([tot])
-        alpha.extend([m[c] * w / tot if tot > 0 else 0.0] for c, _, _ in states)
+        alpha.extend([m[s[0]] * w / tot if tot > 0 else 0.0] for s in states)
     molal = np.array([m + [0.0] * (len(model._all) - len(m))])
     here = bool((molal[:, :len(m)][:, model._fallback_mask[:len(m)]] > 0).any())
     i_arr = np.array([ionic])
