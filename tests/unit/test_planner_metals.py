@@ -152,3 +152,18 @@ def test_gypsum_is_in_the_sludge_not_a_salt_limit():
     # the sulfate gypsum took is not counted: 0.2 mol/L left of 0.5 (volume grows with
     # the 1 M reagent, so a little less per kg)
     assert sodium.molality < 0.2
+
+
+def test_a_calcium_solid_on_the_curve_puts_the_whole_plan_on_the_davies_metal_path():
+    # HCl 1 M + CaCl2 1 M (I about 4 mol/kg): the sample alone would take the Pitzer
+    # path (calcium dissolved), but NaOH past the end point precipitates portlandite,
+    # which only the Davies metal path settles: every state of the plan uses that model
+    sample = waste([("HCl", 1.0), ("CaCl2", 1.0)])
+    p = plan_neutralization(sample, parse_reagent("NaOH=5M"), target_pH=7.0,
+                            window=(6.0, 9.0), activity="auto", curve_points=CURVE)
+    from carboy.model.speciation import speciate
+
+    assert speciate(sample, activity="auto", catalog=CAT).model_part.model == "pitzer"
+    assert p.activity_model == "davies"
+    assert p.initial_pH == pytest.approx(speciate(sample, activity="davies",
+                                                  catalog=CAT).pH, abs=1e-9)
