@@ -44,6 +44,10 @@ WARM_MIN = 25
 """Batches of at least this many points are solved coarse to fine."""
 WARM_STRIDE = 8
 """The coarse pass takes every this-many-th point (and the last)."""
+COLD_TOL = 1e-3
+"""The first round from coefficients of 1 needs x only roughly (log10)."""
+WARM_TOL = 1e-10
+"""The first round from interpolated coefficients needs x as closely as they are known."""
 
 
 @dataclass(frozen=True)
@@ -189,18 +193,20 @@ class _State:
     ok: np.ndarray
 
 
-def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot) -> None:
-    """Settle the points ``idx`` of ``st`` (from their x and v), in place."""
+def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot,
+            first_tol: float) -> None:
+    """Settle the points ``idx`` of ``st`` (from their x and v), in place; the first
+    round's x-solve stops at a step below ``first_tol``."""
     n = bt.n
     x, v = st.x[idx], st.v[idx]
     prev = None
     moved = last = np.ones(idx.shape[0])
     for r in range(1, ONE_ROUNDS + 1):
-        tol = np.maximum(X_STEP_TOL, 1e-7 * moved)
+        tol = np.maximum(X_STEP_TOL, 1e-7 * moved) if r > 1 else np.full(moved.shape,
+                                                                          first_tol)
         x, m = solve_x(bt, x, v[:, :n], v[:, n], ions[idx], sys_tot[idx], tol)
-        res = model.evaluate(m)
-        g = np.concatenate([res.ln_gamma / LN10, np.log10(res.water_activity)[:, None]],
-                           axis=1)
+        ln_gamma, phi, aw, ionic = model.coefficients(m)
+        g = np.concatenate([ln_gamma / LN10, np.log10(aw)[:, None]], axis=1)
         moved = np.abs(g - v).max(axis=1)
         rho = moved / np.where(last > 0, last, 1.0)
         done = (moved <= ONE_TOL) | ((r >= 3) & (rho < 0.5)
@@ -214,8 +220,7 @@ def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot) 
                              np.full(int(done.sum()), X_STEP_TOL))
             st.x[d], st.v[d], st.m[d], st.rounds[d] = xd, g[done], md, r
             st.ok[d] = ok[done]
-            st.extra[d] = np.column_stack([res.osmotic[done], res.water_activity[done],
-                                           res.ionic_strength_molal[done]])
+            st.extra[d] = np.column_stack([phi[done], aw[done], ionic[done]])
         keep = ~done
         if not keep.any():
             return
@@ -257,12 +262,12 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
     every = np.arange(npts)
     if npts >= WARM_MIN:
         coarse = np.unique(np.r_[every[::WARM_STRIDE], npts - 1])
-        _rounds(bt, model, st, coarse, ions, sys_tot)
+        _rounds(bt, model, st, coarse, ions, sys_tot, COLD_TOL)
         fine = np.setdiff1d(every, coarse)
         _between(st, coarse, fine)
-        _rounds(bt, model, st, fine, ions, sys_tot)
+        _rounds(bt, model, st, fine, ions, sys_tot, WARM_TOL)
     else:
-        _rounds(bt, model, st, every, ions, sys_tot)
+        _rounds(bt, model, st, every, ions, sys_tot, COLD_TOL)
     return st
 
 
