@@ -5,16 +5,19 @@ solids by saturation with Davies coefficients.  The Pitzer parameter set (HMW 19
 PHREEQC's pitzer.dat carries it) covers Ca2+ and Mg2+ as ions: binary β0, β1, β2, Cφ
 with chloride, sulfate, bisulfate, hydroxide and bicarbonate, θ and ψ with the other
 ions, and MgOH+ as its one hydrolysis species (``outer.PITZER_PAIRS``; the set has no
-CaOH+).  So where both metals stay dissolved, the Pitzer path takes them as spectator
-ions (a layout compiled with ``metals=False``) and reports them as the metal path
-does: dissolved totals, the hydroxide MgOH+ holds, no solid, and the saturation index
-of every solid the metal path knows (portlandite, brucite, gypsum, fluorite, brushite,
-hydroxyapatite) from Pitzer activities.
+CaOH+).  So the Pitzer path takes them as spectator ions (a layout compiled with
+``metals=False``), with their hydroxides (portlandite, brucite: metals.toml's solubility
+products) present or absent by saturation at Pitzer activities (:func:`hydroxides`,
+``solver.pitzer_one``), and reports them as the metal path does: dissolved totals, the
+hydroxide precipitated, the hydroxide the metals hold, and the saturation index of every
+solid the metal path knows from Pitzer activities (0 where present).
 
-Where some point of a batch is saturated with a solid that takes part in the dose, the
-Pitzer path cannot settle it (it has no solid phases): the whole batch falls back to the
-metal path with the Davies equation, and says so (:data:`SOLID_FALLBACK`).  Other
-modelled metals (Zn2+, Cu2+, Al3+, ...) have no specific-interaction parameters here.
+Where some point of a batch is saturated with a salt that takes part in the dose
+(gypsum, fluorite, brushite: their ligand is an acid-base system, which this path does
+not let precipitate), or with a hydroxide on a path without solids (held species), the
+whole batch falls back to the metal path with the Davies equation, and says so
+(:data:`SOLID_FALLBACK`).  Other modelled metals (Zn2+, Cu2+, Al3+, ...) have no
+specific-interaction parameters here.
 """
 
 from __future__ import annotations
@@ -29,11 +32,13 @@ from carboy.model.metal_data import PKW25
 
 PITZER_METALS = frozenset({"Ca+2", "Mg+2"})
 """The modelled metal ions the specific-interaction parameters cover."""
+SOLID_MIN = 1e-12
+"""A hydroxide amount below this share of its metal's total is rounding, not a solid."""
 SATURATION_TOL = 1e-6
 """A solid counts as saturated above this saturation index (log10)."""
-SOLID_FALLBACK = ("{solids} would precipitate: the specific-interaction model has no solid "
-                  "phases, so the metals' solids are settled with the Davies equation "
-                  "(outside its range above 0.5 mol/kg)")
+SOLID_FALLBACK = ("{solids} would precipitate: the specific-interaction path settles only "
+                  "the calcium and magnesium hydroxides, so the metals' solids are settled "
+                  "with the Davies equation (outside its range above 0.5 mol/kg)")
 _HYDRATE = re.compile(r"\.(\d*)H2O$")
 
 
@@ -89,6 +94,16 @@ def saturation(res, ml, catalog) -> np.ndarray:
     return out
 
 
+def hydroxides(ml) -> tuple:
+    """(cation label, z, log10 Ksp of M(OH)z = M + z OH-) of each metal's hydroxide, for
+    the Pitzer paths that let it precipitate (``solver.pitzer_one``)."""
+    out = []
+    for key in ml.keys:
+        m = ml.data.metals[key]
+        out.append((key, m.charge, m.solid.log_ks - m.charge * PKW25))
+    return tuple(out)
+
+
 def in_dose(ml) -> np.ndarray:
     """(P,) True for each solid of ``ml.solids`` the metal path lets precipitate."""
     data = ml.data
@@ -105,21 +120,30 @@ def saturated_solids(si: np.ndarray, ml) -> tuple[str, ...]:
 
 def with_metal_fields(res, ml, si: np.ndarray):
     """``res`` (a Pitzer result with the metals as ions) with the metal path's fields:
-    dissolved totals (the free ion and MgOH+), the hydroxide MgOH+ holds, no solids."""
+    dissolved totals (the free ion and MgOH+), each hydroxide precipitated (the total
+    less the dissolved), the hydroxide the metals hold (MgOH+ and the solids)."""
     labels = res.species_labels
     col = {lab: i for i, lab in enumerate(labels)}
     n = len(res)
     dissolved = np.zeros((n, len(ml.keys)))
     oh = np.zeros(n)
+    solids = np.zeros((n, len(ml.solids)))
     for k, key in enumerate(ml.keys):
-        for s in ml.data.metals[key].species:   # the free ion first (n = 0)
+        metal = ml.data.metals[key]
+        for s in metal.species:   # the free ion first (n = 0)
             if s.label in col:
                 dissolved[:, k] += res.species_molar[:, col[s.label]]
                 oh += s.n * res.species_molar[:, col[s.label]]
+        total = res.batch.totals[:, ml.cols[k]]
+        solid = np.where(total - dissolved[:, k] > SOLID_MIN * total,
+                         total - dissolved[:, k], 0.0)
+        solids[:, ml.solids.index(metal.solid.name)] = solid
+        oh += metal.charge * solid
     return dataclasses.replace(
         res, metal_keys=ml.keys, dissolved_metal_molar=dissolved, metal_oh_molar=oh,
-        solid_names=ml.solids, solids_molar=np.zeros((n, len(ml.solids))),
-        saturation_indices=np.where(np.isfinite(si), si, -math.inf))
+        solid_names=ml.solids, solids_molar=solids,
+        saturation_indices=np.where(solids > 0, 0.0, np.where(np.isfinite(si), si, -math.inf)))
 
 
-__all__ = ["PITZER_METALS", "SATURATION_TOL", "SOLID_FALLBACK", "in_dose", "pitzer_takes", "saturated_solids", "saturation", "with_metal_fields"]
+__all__ = ["PITZER_METALS", "SATURATION_TOL", "SOLID_FALLBACK", "hydroxides", "in_dose",
+           "pitzer_takes", "saturated_solids", "saturation", "with_metal_fields"]

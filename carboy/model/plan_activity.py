@@ -24,6 +24,10 @@ from carboy.model.dosing import CURVE_SPAN
 from carboy.model.mixture import titration_batch
 from carboy.model.speciation import speciate_batch
 
+SOLID_CHECK_POINTS = 41
+"""With calcium or magnesium on the Pitzer path, the doses along the curve checked for a
+solid that only the Davies metal path settles (gypsum, fluorite, brushite)."""
+
 
 def settle_activity(req, n_full: float):
     """``req`` (the planner's request) with ``"auto"`` replaced by ``"pitzer"`` where
@@ -36,6 +40,12 @@ def settle_activity(req, n_full: float):
                                req.reagent.l_per_mol)
     res = speciate_batch(batch, activity=req.activity, catalog=req.catalog)
     used = res.model_part.model if res.model_part is not None else req.activity
+    if res.metal_keys and used == "pitzer":   # a solid may form between those states
+        amounts = np.linspace(0.0, CURVE_SPAN * n_full, SOLID_CHECK_POINTS)
+        batch, _ = titration_batch(req.sample, dict(req.reagent.compound.composition),
+                                   amounts, req.reagent.l_per_mol)
+        res = speciate_batch(batch, activity=req.activity, catalog=req.catalog)
+        used = res.model_part.model if res.model_part is not None else req.activity
     if res.metal_keys and used == "davies":   # Davies (low I, or a solid's fallback)
         return dataclasses.replace(req, activity="davies")
     if res.model_part is not None and res.model_part.model == "pitzer":

@@ -43,6 +43,7 @@ from carboy.model.molality import water_kg_per_litre
 from carboy.model.pitzer import I_MAX_MOLAL
 from carboy.model.pitzer_metals import (
     SOLID_FALLBACK,
+    hydroxides,
     pitzer_takes,
     saturated_solids,
     saturation,
@@ -208,7 +209,7 @@ def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, paths: _Path
         raise InvalidInput("activity model", activity, _METALS_NOTE)
     t_c = batch.temperature_c
     lay_s = cached_layout(catalog, batch.keys, t_c, metals=False)
-    res = _pitzer(batch, lay_s, activity, catalog, paths)
+    res = _pitzer(batch, lay_s, activity, catalog, paths, hydroxides=hydroxides(lay.metals))
     si = saturation(res, lay.metals, catalog)
     solids = saturated_solids(si, lay.metals)
     if not solids:
@@ -225,7 +226,8 @@ def _a_dh(t_c: float) -> float:
     return water.debye_huckel_a(t_c)
 
 
-def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None):
+def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None,
+            hydroxides: tuple = ()):
     """The Pitzer path: one solution on floats (``solver.pitzer_one``), a batch on
     arrays (``solver.pitzer_batch``); with held species or pairs on a state, the outer
     loop (``solver.outer.solve_pitzer``) from the Davies result ``base``."""
@@ -234,7 +236,7 @@ def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None
     model = pitzer_for(tab, t_c)
     one = None
     if len(batch) and not paths.held and paths.frame is not None:
-        one = one_table(lay, tab, water.pkw(t_c))
+        one = one_table(lay, tab, water.pkw(t_c), hydroxides)
     if one is not None:
         w, notes = water_kg_per_litre(catalog, batch.keys, batch.totals, t_c)
         frame = paths.frame(batch, lay, activity, t_c)

@@ -139,19 +139,49 @@ def test_bicarbonate_buffer_takes_the_water_activity(pitzer_dat, nacl):
 
 
 def test_a_saturated_metal_solid_falls_back_to_the_davies_metal_path():
-    # MgCl2 1 M with a little NaOH: brucite is far past saturation (pH would be ~10
-    # without it); the Pitzer path has no solids, so the batch goes to the metal path.
-    batch = MixtureBatch(("Mg+2", "Cl-", "Na+"), np.array([[1.0, 2.0, 0.0],
-                                                             [1.0, 2.0, 0.02]]), 25.0)
+    # CaCl2 1 M with Na2SO4: gypsum is past saturation at the second point; the Pitzer
+    # path has no salt solids, so the whole batch goes to the metal path
+    keys = ("Ca+2", "Cl-", "Na+", "sulfate")
+    batch = MixtureBatch(keys, np.array([[1.0, 2.0, 0.0, 0.0], [1.0, 2.0, 0.4, 0.2]]), 25.0)
     res = speciate_batch(batch, activity="pitzer", catalog=CAT)
     assert res.model_part.model == "davies"             # the whole batch, one model
-    assert all("Mg(OH)2 (brucite) would precipitate" in " ".join(w) for w in res.warnings)
-    brucite = res.solid_names.index("Mg(OH)2 (brucite)")
-    assert res.solids_molar[0, brucite] == 0.0
-    assert res.solids_molar[1, brucite] == pytest.approx(0.01, rel=0.05)
+    assert all("CaSO4·2H2O (gypsum) would precipitate" in " ".join(w)
+               for w in res.warnings)
+    gypsum = res.solid_names.index("CaSO4·2H2O (gypsum)")
+    assert res.solids_molar[0, gypsum] == 0.0
+    assert res.solids_molar[1, gypsum] > 0.15
     alone = speciate_batch(MixtureBatch(batch.keys, batch.totals[:1], 25.0),
                            activity="pitzer", catalog=CAT)
     assert alone.model_part.model == "pitzer"           # dissolved: the Pitzer path
+
+
+# Hydroxides on the Pitzer path, against pitzer.dat with the solid given carboy's own
+# solubility product (metals.toml: portlandite log Ksp -5.299, brucite -11.251, CRC
+# from memory; pitzer.dat's own Portlandite -5.19 and Brucite -10.88 would differ by
+# design): (cation, element, formula, log Ksp, mol/kg of the chloride, mol/kg NaOH)
+HYDROXIDES = [("Mg+2", "Mg", "Mg(OH)2", -11.251, 1.0, 0.5),
+              ("Mg+2", "Mg", "Mg(OH)2", -11.251, 2.0, 0.2),
+              ("Ca+2", "Ca", "Ca(OH)2", -5.299, 1.0, 0.5),
+              ("Ca+2", "Ca", "Ca(OH)2", -5.299, 1.5, 1.0)]
+
+
+@pytest.mark.parametrize("metal, el, formula, log_ksp, m, naoh", HYDROXIDES,
+                         ids=[f"{h[2]}-{h[4]}" for h in HYDROXIDES])
+def test_hydroxide_precipitates_on_the_pitzer_path(pitzer_dat, metal, el, formula, log_ksp,
+                                                   m, naoh):
+    pitzer_dat.ip.run_string(
+        f"PHASES\nOwn\n  {formula} = {el}+2 + 2 OH-\n  log_k {log_ksp}\n"
+        f"SOLUTION 1\n  units mol/kgw\n  temp 25\n  {el} {m}\n  Cl {2 * m}\n"
+        f"  Na {naoh}\n  pH 12 charge\nEQUILIBRIUM_PHASES 1\n  Own 0 0\n"
+        "SELECTED_OUTPUT 1\n  -reset false\n  -pH true\n  -equilibrium_phases Own\nEND\n")
+    ph, amount, _ = pitzer_dat.ip.get_selected_output_array()[-1]   # pH, mol of solid
+    res = speciate(_molar({metal: m, "Cl-": 2 * m, "Na+": naoh}), activity="pitzer",
+                   catalog=CAT)
+    assert res.model_part.model == "pitzer" and res.converged
+    solid = next(v for k, v in res.solids.items() if formula in k)
+    assert solid / res.model_part.water_kg_per_l == pytest.approx(amount, rel=0.005)
+    assert res.pH == pytest.approx(ph, abs=0.01)
+    assert res.saturation_indices[next(k for k in res.solids if formula in k)] == 0.0
 
 
 def test_other_metals_stay_outside_the_pitzer_model():

@@ -83,8 +83,10 @@ def test_one_solution_path_equals_the_batch_path(comp):
     assert set(one.fractions) == set(ref.fractions)
 
 
-@pytest.mark.parametrize("comp, naoh", [(MIXES[0], 2.5), (MIXES[2], 0.0999), (MIXES[4], 1.2)],
-                         ids=["acid-waste", "cacl2-below-portlandite", "nh4cl"])
+@pytest.mark.parametrize("comp, naoh", [(MIXES[0], 2.5), (MIXES[2], 0.0999), (MIXES[4], 1.2),
+                                        (MIXES[2], 1.5)],
+                         ids=["acid-waste", "cacl2-below-portlandite", "nh4cl",
+                              "cacl2-through-portlandite"])
 def test_a_curve_coarse_to_fine_equals_its_points_one_by_one(comp, naoh):
     from carboy.model.mixture import titration_batch
 

@@ -70,6 +70,7 @@ class BatchTable:
     starts: np.ndarray               # (K,) first state of each system
     repeats: bool                    # does a column hold states of two systems?
     water: np.ndarray                # (S,) water each state takes (outer.HYDRATED)
+    solids: tuple = ()               # OneTable.solids: the hydroxides that may form
 
 
 def batch_table(ot: OneTable) -> BatchTable:
@@ -86,7 +87,8 @@ def batch_table(ot: OneTable) -> BatchTable:
                       np.array([f[0] for f in flat], dtype=int), np.array([f[1] for f in flat]),
                       np.array([f[2] for f in flat]), np.array([f[3] for f in flat], dtype=int),
                       np.cumsum([0] + sizes[:-1]).astype(int),
-                      len({f[0] for f in flat}) < len(flat), np.array([f[4] for f in flat]))
+                      len({f[0] for f in flat}) < len(flat), np.array([f[4] for f in flat]),
+                      ot.solids)
 
 
 def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
@@ -107,6 +109,8 @@ def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
         m[:, mc] -= p
         dm[:, pc] += dp
         dm[:, mc] -= dp
+    if bt.solids:
+        _hydroxides(bt, m, dm, lg, lw - bt.pkw - lg[:, 0] - x, oh)
     if bt.systems:
         j, so = bt.j, bt.sys_of
         logw = (bt.lb[None, :] - lg[:, bt.cols] - np.multiply.outer(x + lg[:, 0], j)
@@ -126,6 +130,25 @@ def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
     pos, neg = np.einsum("nu,u->n", m, bt.zpos), np.einsum("nu,u->n", m, bt.zneg)
     dpos, dneg = np.einsum("nu,u->n", dm, bt.zpos), np.einsum("nu,u->n", dm, bt.zneg)
     return m, dm, np.log(pos) - np.log(neg), dpos / pos - dneg / neg
+
+
+def _hydroxides(bt: BatchTable, m, dm, lg, log_oh_act, oh) -> None:
+    """``pitzer_one._hydroxides`` on arrays: the free cation is the smaller of its mass
+    balance's and the solubility product's, in place."""
+    for mc, pc, log_k, z, log_ksp in bt.solids:
+        total = m[:, mc].copy()
+        k = np.exp(LN10 * (log_k + lg[:, mc] + lg[:, 1] - lg[:, pc])) if pc >= 0 else 0.0
+        free = total / (1.0 + k * oh)
+        cap = np.exp(LN10 * (log_ksp - lg[:, mc] - z * log_oh_act))
+        present = cap < free
+        free = np.where(present, cap, free)
+        p = k * free * oh
+        m[:, mc] = free
+        dfree = np.where(present, z * LN10 * free, LN10 * p / (1.0 + k * oh))
+        dm[:, mc] += dfree
+        if pc >= 0:
+            m[:, pc] += p
+            dm[:, pc] += np.where(present, p * LN10 * (z - 1.0), -dfree)
 
 
 def solve_x(bt: BatchTable, x, lg, lw, ions, sys_tot, tol):

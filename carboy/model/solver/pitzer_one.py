@@ -65,10 +65,13 @@ class OneTable:
     pkw: float
     zpos: tuple[float, ...] = ()    # positive charge of each column
     zneg: tuple[float, ...] = ()    # magnitude of the negative charge
+    solids: tuple = ()              # (cation column, pair column or -1, pair log10 K,
+    #                                  z, log10 Ksp of M(OH)z = M + z OH-) per hydroxide
 
 
-def compile_one(lay, tab, pkw: float) -> OneTable | None:
-    """The :class:`OneTable` of a layout's Pitzer table (None: a pair on a state)."""
+def compile_one(lay, tab, pkw: float, hydroxides: tuple = ()) -> OneTable | None:
+    """The :class:`OneTable` of a layout's Pitzer table (None: a pair on a state);
+    ``hydroxides`` (cation label, z, log10 Ksp of M(OH)z = M + z OH-) may precipitate."""
     if any(p.state >= 0 for p in tab.pairs):
         return None
     ions = tuple((int(c), int(b)) for c, b in zip(tab.ion_cols.tolist(), lay.ion_cols.tolist()))
@@ -78,11 +81,45 @@ def compile_one(lay, tab, pkw: float) -> OneTable | None:
         states = tuple((cols[s], float(lay.flat_lb0[s]), float(lay.flat_j[s]), water[s])
                        for s in range(a, b))
         systems.append((int(lay.sys_cols[k]), states))
-    pairs = tuple((int(c), int(tab.ion_cols[p.ion]), float(p.log_k))
-                  for p, c in zip(tab.pairs, tab.pair_cols.tolist()))
+    pairs = [(int(c), int(tab.ion_cols[p.ion]), float(p.log_k))
+             for p, c in zip(tab.pairs, tab.pair_cols.tolist())]
+    solids = []
+    for label, zm, log_ksp in hydroxides:
+        if label not in tab.labels:
+            continue
+        mc = tab.labels.index(label)
+        own = [pr for pr in pairs if pr[1] == mc]
+        pairs = [pr for pr in pairs if pr[1] != mc]
+        pc, log_k = (own[0][0], own[0][2]) if own else (-1, 0.0)
+        solids.append((mc, pc, log_k, float(zm), float(log_ksp)))
     z = tuple(float(v) for v in tab.charges.tolist())
-    return OneTable(len(tab.labels), z, ions, tuple(systems), pairs, float(pkw),
-                    tuple(max(v, 0.0) for v in z), tuple(max(-v, 0.0) for v in z))
+    return OneTable(len(tab.labels), z, ions, tuple(systems), tuple(pairs), float(pkw),
+                    tuple(max(v, 0.0) for v in z), tuple(max(-v, 0.0) for v in z),
+                    tuple(solids))
+
+
+def _hydroxides(ot: OneTable, m, dm, lg, log_oh_act: float, oh: float) -> None:
+    """Each hydroxide's cation (and its pair with OH-) at x, in place: the free cation
+    is the smaller of its mass balance's and the solubility product's (the solid present
+    by saturation, as the metal path decides it)."""
+    for mc, pc, log_k, z, log_ksp in ot.solids:
+        total = m[mc]
+        k = 10.0 ** (log_k + lg[mc] + lg[1] - lg[pc]) if pc >= 0 else 0.0
+        free = total / (1.0 + k * oh)
+        cap = 10.0 ** (log_ksp - lg[mc] - z * log_oh_act)
+        present = cap < free
+        if present:
+            free = cap
+        p = k * free * oh
+        m[mc] = free
+        if pc >= 0:
+            m[pc] += p
+        if dm is not None:
+            dfree = z * LN10 * free if present else LN10 * p / (1.0 + k * oh)
+            dp = p * LN10 * (z - 1.0) if present else -dfree
+            dm[mc] += dfree
+            if pc >= 0:
+                dm[pc] += dp
 
 
 def _composition(ot: OneTable, x: float, lg, lw: float, ions, sys_tot, want_slope=False):
@@ -104,6 +141,8 @@ def _composition(ot: OneTable, x: float, lg, lw: float, ions, sys_tot, want_slop
             dp = -LN10 * total * k * oh / (1.0 + k * oh) ** 2
             dm[pc] += dp
             dm[mc] -= dp
+    if ot.solids:
+        _hydroxides(ot, m, dm, lg, lw - ot.pkw - lg_h - x, oh)
     xs = x + lg_h
     for (_, states), tot in zip(ot.systems, sys_tot):
         ws = [10.0 ** (lb - lg[c] - j * xs + h2o * lw) for c, lb, j, h2o in states]
@@ -227,13 +266,13 @@ def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
 _ONE: dict = {}
 
 
-def one_table(lay, tab, pkw: float) -> OneTable | None:
+def one_table(lay, tab, pkw: float, hydroxides: tuple = ()) -> OneTable | None:
     """:func:`compile_one`, cached beside the layout and its table (both never change)."""
-    key = (id(lay), id(tab), pkw)
+    key = (id(lay), id(tab), pkw, hydroxides)
     hit = _ONE.get(key)
     if hit is not None and hit[0] is lay and hit[1] is tab:
         return hit[2]
-    ot = compile_one(lay, tab, pkw)
+    ot = compile_one(lay, tab, pkw, hydroxides)
     if len(_ONE) >= 512:
         _ONE.clear()
     _ONE[key] = (lay, tab, ot)
