@@ -6,17 +6,17 @@ PHREEQC's pitzer.dat carries it) covers Ca2+ and Mg2+ as ions: binary β0, β1, 
 with chloride, sulfate, bisulfate, hydroxide and bicarbonate, θ and ψ with the other
 ions, and MgOH+ as its one hydrolysis species (``outer.PITZER_PAIRS``; the set has no
 CaOH+).  So the Pitzer path takes them as spectator ions (a layout compiled with
-``metals=False``), with their hydroxides (portlandite, brucite: metals.toml's solubility
-products) present or absent by saturation at Pitzer activities (:func:`hydroxides`,
-``solver.pitzer_one``), and reports them as the metal path does: dissolved totals, the
-hydroxide precipitated, the hydroxide the metals hold, and the saturation index of every
-solid the metal path knows from Pitzer activities (0 where present).
+``metals=False``), with their hydroxides (portlandite, brucite: :func:`hydroxides`) and
+the 1:1 calcium salts of a ligand system in the dose (gypsum, brushite: :func:`salts`;
+metals.toml's solubility products) present or absent by saturation at Pitzer
+activities (``solver.pitzer_one``, ``solver.pitzer_salts``), and reports them as the
+metal path does: dissolved totals, each solid precipitated, the hydroxide the metals
+hold, and the saturation index of every solid the metal path knows (0 where present).
 
-Where some point of a batch is saturated with a salt that takes part in the dose
-(gypsum, fluorite, brushite: their ligand is an acid-base system, which this path does
-not let precipitate), or with a hydroxide on a path without solids (held species), the
-whole batch falls back to the metal path with the Davies equation, and says so
-(:data:`SOLID_FALLBACK`).  Other modelled metals (Zn2+, Cu2+, Al3+, ...) have no
+Where some point of a batch is saturated with a solid this path does not settle (fluorite,
+two ligands per cation; a second salt of the same cation; any solid on the held-species
+path), the whole batch falls back to the metal path with the Davies equation, and says
+so (:data:`SOLID_FALLBACK`).  Other modelled metals (Zn2+, Cu2+, Al3+, ...) have no
 specific-interaction parameters here.
 """
 
@@ -37,8 +37,9 @@ SOLID_MIN = 1e-12
 SATURATION_TOL = 1e-6
 """A solid counts as saturated above this saturation index (log10)."""
 SOLID_FALLBACK = ("{solids} would precipitate: the specific-interaction path settles only "
-                  "the calcium and magnesium hydroxides, so the metals' solids are settled "
-                  "with the Davies equation (outside its range above 0.5 mol/kg)")
+                  "the calcium and magnesium hydroxides and 1:1 calcium salts, so the "
+                  "metals' solids are settled with the Davies equation (outside its range "
+                  "above 0.5 mol/kg)")
 _HYDRATE = re.compile(r"\.(\d*)H2O$")
 
 
@@ -104,6 +105,23 @@ def hydroxides(ml) -> tuple:
     return tuple(out)
 
 
+def salts(ml, catalog) -> tuple:
+    """(cation, system key, ligand label, log10 Ksp, waters of hydration) of each 1:1
+    salt in the dose (gypsum, brushite) whose cation has no other such salt in this
+    layout, for the Pitzer paths that let it precipitate (``solver.pitzer_salts``)."""
+    linked = {lk.key for lk in ml.ligands}
+    found = [s for s in ml.data.ligand_solids
+             if s.in_dose and s.cation in ml.keys and s.ligand_system in linked
+             and s.cation_count == 1 and s.ligand_count == 1 and s.oh_count == 0]
+    out = []
+    for s in found:
+        if sum(o.cation == s.cation for o in found) == 1:
+            label = _ligand_label(catalog, s.ligand_system, s.ligand_index)
+            out.append((s.cation, s.ligand_system, label, s.log_ksp,
+                        _hydrate_water(s.formula)))
+    return tuple(out)
+
+
 def in_dose(ml) -> np.ndarray:
     """(P,) True for each solid of ``ml.solids`` the metal path lets precipitate."""
     data = ml.data
@@ -135,8 +153,16 @@ def with_metal_fields(res, ml, si: np.ndarray):
                 dissolved[:, k] += res.species_molar[:, col[s.label]]
                 oh += s.n * res.species_molar[:, col[s.label]]
         total = res.batch.totals[:, ml.cols[k]]
-        solid = np.where(total - dissolved[:, k] > SOLID_MIN * total,
-                         total - dissolved[:, k], 0.0)
+        held = total - dissolved[:, k]
+        for s in ml.data.ligand_solids:   # a salt: what its ligand system lost
+            if s.cation == key and s.name in ml.solids and s.ligand_system in res.system_keys:
+                i = res.system_keys.index(s.ligand_system)
+                lost = res.batch.totals[:, res.batch.keys.index(s.ligand_system)] \
+                    - res.system_totals_molar[:, i]
+                amount = np.where(lost > SOLID_MIN * total, lost / s.ligand_count, 0.0)
+                solids[:, ml.solids.index(s.name)] = amount
+                held = held - s.cation_count * amount
+        solid = np.where(held > SOLID_MIN * total, held, 0.0)
         solids[:, ml.solids.index(metal.solid.name)] = solid
         oh += metal.charge * solid
     return dataclasses.replace(
@@ -146,4 +172,4 @@ def with_metal_fields(res, ml, si: np.ndarray):
 
 
 __all__ = ["PITZER_METALS", "SATURATION_TOL", "SOLID_FALLBACK", "hydroxides", "in_dose",
-           "pitzer_takes", "saturated_solids", "saturation", "with_metal_fields"]
+           "pitzer_takes", "salts", "saturated_solids", "saturation", "with_metal_fields"]

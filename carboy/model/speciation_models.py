@@ -45,6 +45,7 @@ from carboy.model.pitzer_metals import (
     SOLID_FALLBACK,
     hydroxides,
     pitzer_takes,
+    salts,
     saturated_solids,
     saturation,
     with_metal_fields,
@@ -209,7 +210,8 @@ def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, paths: _Path
         raise InvalidInput("activity model", activity, _METALS_NOTE)
     t_c = batch.temperature_c
     lay_s = cached_layout(catalog, batch.keys, t_c, metals=False)
-    res = _pitzer(batch, lay_s, activity, catalog, paths, hydroxides=hydroxides(lay.metals))
+    res = _pitzer(batch, lay_s, activity, catalog, paths,
+                  solids=(hydroxides(lay.metals), salts(lay.metals, catalog)))
     si = saturation(res, lay.metals, catalog)
     solids = saturated_solids(si, lay.metals)
     if not solids:
@@ -227,7 +229,7 @@ def _a_dh(t_c: float) -> float:
 
 
 def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None,
-            hydroxides: tuple = ()):
+            solids: tuple = ((), ())):
     """The Pitzer path: one solution on floats (``solver.pitzer_one``), a batch on
     arrays (``solver.pitzer_batch``); with held species or pairs on a state, the outer
     loop (``solver.outer.solve_pitzer``) from the Davies result ``base``."""
@@ -236,7 +238,7 @@ def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None
     model = pitzer_for(tab, t_c)
     one = None
     if len(batch) and not paths.held and paths.frame is not None:
-        one = one_table(lay, tab, water.pkw(t_c), hydroxides)
+        one = one_table(lay, tab, water.pkw(t_c), *solids)
     if one is not None:
         w, notes = water_kg_per_litre(catalog, batch.keys, batch.totals, t_c)
         frame = paths.frame(batch, lay, activity, t_c)

@@ -57,6 +57,7 @@ MIXES = [
     {"CaCl2": 1.0, "HCl": 0.1},
     {"H3PO4": 0.3, "NaOH": 0.5, "NaCl": 1.0},          # phosphate: Davies fallback
     {"NH4Cl": 1.0, "HNO3": 0.05},
+    {"CaCl2": 1.0, "H2SO4": 0.3},                       # gypsum, then portlandite too
 ]
 
 
@@ -84,9 +85,9 @@ def test_one_solution_path_equals_the_batch_path(comp):
 
 
 @pytest.mark.parametrize("comp, naoh", [(MIXES[0], 2.5), (MIXES[2], 0.0999), (MIXES[4], 1.2),
-                                        (MIXES[2], 1.5)],
+                                        (MIXES[2], 1.5), (MIXES[5], 1.5)],
                          ids=["acid-waste", "cacl2-below-portlandite", "nh4cl",
-                              "cacl2-through-portlandite"])
+                              "cacl2-through-portlandite", "gypsum-and-portlandite"])
 def test_a_curve_coarse_to_fine_equals_its_points_one_by_one(comp, naoh):
     from carboy.model.mixture import titration_batch
 

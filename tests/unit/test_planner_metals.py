@@ -155,13 +155,13 @@ def test_gypsum_is_in_the_sludge_not_a_salt_limit():
 
 
 def test_a_calcium_solid_on_the_curve_puts_the_whole_plan_on_the_davies_metal_path():
-    # HCl 2 M + H2SO4 0.03 M + CaCl2 0.5 M: the sample alone takes the Pitzer path
-    # (sulfate mostly HSO4-, gypsum undersaturated), but NaOH turns it to SO4-2 and
-    # gypsum forms, which only the Davies metal path settles: every state of the plan
-    # uses that model
+    # HCl 2 M + HF 0.05 M + CaCl2 0.5 M: the sample alone takes the Pitzer path
+    # (fluoride as HF, fluorite undersaturated), but NaOH turns it to F- and fluorite
+    # forms (two ligands per cation), which only the Davies metal path settles: every
+    # state of the plan uses that model
     from carboy.model.speciation import speciate
 
-    sample = waste([("HCl", 2.0), ("H2SO4", 0.03), ("CaCl2", 0.5)])
+    sample = waste([("HCl", 2.0), ("HF", 0.05), ("CaCl2", 0.5)])
     p = plan_neutralization(sample, parse_reagent("NaOH=10M"), target_pH=7.0,
                             window=(6.0, 9.0), activity="auto", curve_points=CURVE)
     assert speciate(sample, activity="auto", catalog=CAT).model_part.model == "pitzer"

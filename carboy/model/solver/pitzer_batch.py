@@ -39,6 +39,7 @@ from carboy.model.solver.pitzer_one import (
     X_STEP_TOL,
     OneTable,
 )
+from carboy.model.solver.pitzer_salts import salt_array
 
 WARM_MIN = 25
 """Batches of at least this many points are solved coarse to fine."""
@@ -71,6 +72,7 @@ class BatchTable:
     repeats: bool                    # does a column hold states of two systems?
     water: np.ndarray                # (S,) water each state takes (outer.HYDRATED)
     solids: tuple = ()               # OneTable.solids: the hydroxides that may form
+    salts: tuple = ()                # OneTable.salts: the 1:1 salts that may form
 
 
 def batch_table(ot: OneTable) -> BatchTable:
@@ -88,7 +90,7 @@ def batch_table(ot: OneTable) -> BatchTable:
                       np.array([f[2] for f in flat]), np.array([f[3] for f in flat], dtype=int),
                       np.cumsum([0] + sizes[:-1]).astype(int),
                       len({f[0] for f in flat}) < len(flat), np.array([f[4] for f in flat]),
-                      ot.solids)
+                      ot.solids, ot.salts)
 
 
 def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
@@ -127,6 +129,11 @@ def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
         else:
             m[:, bt.cols] += conc
             dm[:, bt.cols] += slope
+        for k, entry in bt.salts:
+            _, cols, _, jk = bt.systems[k]
+            a = bt.starts[k]
+            salt_array(entry, m, dm, lg, lw, lw - bt.pkw - lg[:, 0] - x, cols, jk,
+                       conc[:, a:a + cols.shape[0]], jbar[:, k], sys_tot[:, k])
     pos, neg = np.einsum("nu,u->n", m, bt.zpos), np.einsum("nu,u->n", m, bt.zneg)
     dpos, dneg = np.einsum("nu,u->n", dm, bt.zpos), np.einsum("nu,u->n", dm, bt.zneg)
     return m, dm, np.log(pos) - np.log(neg), dpos / pos - dneg / neg
@@ -302,11 +309,13 @@ def batch_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
     w = water_kg_per_l
     lg = st.v[:, :bt.n]
     table = st.m * w[:, None]
-    alpha = np.concatenate([(st.m[:, c] / np.where(totals[:, b] > 0, totals[:, b] / w, 1.0)
-                             [:, None]) for b, c, _, _ in bt.systems], axis=1).T \
+    # the systems' dissolved totals (a salt holds the rest) and their shares
+    dissolved = [st.m[:, c].sum(axis=1) for _, c, _, _ in bt.systems]
+    alpha = np.concatenate([st.m[:, c] / np.where(d > 0, d, 1.0)[:, None]
+                            for (_, c, _, _), d in zip(bt.systems, dissolved)], axis=1).T \
         if bt.systems else np.zeros((0, totals.shape[0]))
-    ceff = np.stack([totals[:, b] for b, _, _, _ in bt.systems]) \
-        if bt.systems else np.zeros((0, totals.shape[0]))
+    ceff = np.stack([d * w for d in dissolved]) if bt.systems \
+        else np.zeros((0, totals.shape[0]))
     phi, aw, ionic = st.extra.T
     mall = np.concatenate([st.m, np.zeros((st.m.shape[0], len(model._all) - bt.n))], axis=1)
     here = (mall[:, :bt.n][:, model._fallback_mask[:bt.n]] > 0).any(axis=1)

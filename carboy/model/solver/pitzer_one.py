@@ -32,6 +32,7 @@ from carboy.model.pitzer import I_MAX_MOLAL
 from carboy.model.pitzer_scalar import ScalarPitzer
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.outer import Outcome
+from carboy.model.solver.pitzer_salts import salt_float
 
 ONE_TOL = 1e-8
 """A round that moves no log10 coefficient more than this ends the iteration; x is then
@@ -67,11 +68,14 @@ class OneTable:
     zneg: tuple[float, ...] = ()    # magnitude of the negative charge
     solids: tuple = ()              # (cation column, pair column or -1, pair log10 K,
     #                                  z, log10 Ksp of M(OH)z = M + z OH-) per hydroxide
+    salts: tuple = ()               # (system, pitzer_salts entry) per 1:1 salt
 
 
-def compile_one(lay, tab, pkw: float, hydroxides: tuple = ()) -> OneTable | None:
+def compile_one(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
+                ) -> OneTable | None:
     """The :class:`OneTable` of a layout's Pitzer table (None: a pair on a state);
-    ``hydroxides`` (cation label, z, log10 Ksp of M(OH)z = M + z OH-) may precipitate."""
+    ``hydroxides`` (cation label, z, log10 Ksp of M(OH)z = M + z OH-) and ``salts``
+    (cation label, system key, ligand label, log10 Ksp, waters) may precipitate."""
     if any(p.state >= 0 for p in tab.pairs):
         return None
     ions = tuple((int(c), int(b)) for c, b in zip(tab.ion_cols.tolist(), lay.ion_cols.tolist()))
@@ -92,10 +96,33 @@ def compile_one(lay, tab, pkw: float, hydroxides: tuple = ()) -> OneTable | None
         pairs = [pr for pr in pairs if pr[1] != mc]
         pc, log_k = (own[0][0], own[0][2]) if own else (-1, 0.0)
         solids.append((mc, pc, log_k, float(zm), float(log_ksp)))
+    solids, salt_rows = _salt_rows(lay, tab, solids, pairs, salts)
     z = tuple(float(v) for v in tab.charges.tolist())
     return OneTable(len(tab.labels), z, ions, tuple(systems), tuple(pairs), float(pkw),
                     tuple(max(v, 0.0) for v in z), tuple(max(-v, 0.0) for v in z),
-                    tuple(solids))
+                    tuple(solids), salt_rows)
+
+
+def _salt_rows(lay, tab, solids: list, pairs: list, salts: tuple):
+    """The salts a table can take (cation without a pair, ligand state present), each
+    with its cation's hydroxide, which then leaves ``solids``."""
+    rows = []
+    for label, system, ligand, log_ksp, waters in salts:
+        if label not in tab.labels or system not in lay.sys_keys:
+            continue
+        ca = tab.labels.index(label)
+        k = lay.sys_keys.index(system)
+        a, b = lay.sys_slices[k]
+        cols = tab.state_cols.tolist()[a:b]
+        if any(pr[1] == ca for pr in pairs) or ligand not in tab.labels or \
+                tab.labels.index(ligand) not in cols:
+            continue
+        own = [sd for sd in solids if sd[0] == ca]
+        solids = [sd for sd in solids if sd[0] != ca]
+        hz, hlog = (own[0][3], own[0][4]) if own else (0.0, 0.0)
+        rows.append((k, (ca, cols.index(tab.labels.index(ligand)), float(log_ksp),
+                         float(waters), hz, hlog)))
+    return solids, tuple(rows)
 
 
 def _hydroxides(ot: OneTable, m, dm, lg, log_oh_act: float, oh: float) -> None:
@@ -141,19 +168,24 @@ def _composition(ot: OneTable, x: float, lg, lw: float, ions, sys_tot, want_slop
             dp = -LN10 * total * k * oh / (1.0 + k * oh) ** 2
             dm[pc] += dp
             dm[mc] -= dp
-    if ot.solids:
-        _hydroxides(ot, m, dm, lg, lw - ot.pkw - lg_h - x, oh)
     xs = x + lg_h
+    sysc = []
     for (_, states), tot in zip(ot.systems, sys_tot):
         ws = [10.0 ** (lb - lg[c] - j * xs + h2o * lw) for c, lb, j, h2o in states]
         inv = tot / sum(ws)
         conc = [w * inv for w in ws]
         for (c, _, _, _), v in zip(states, conc):
             m[c] += v
+        jbar = sum(v * j for v, (_, _, j, _) in zip(conc, states)) / tot if tot else 0.0
         if want_slope and tot:
-            jbar = sum(v * j for v, (_, _, j, _) in zip(conc, states)) / tot
             for v, (c, _, j, _) in zip(conc, states):
                 dm[c] -= LN10 * v * (j - jbar)
+        sysc.append((states, conc, jbar, tot))
+    log_oh_act = lw - ot.pkw - lg_h - x
+    if ot.solids:
+        _hydroxides(ot, m, dm, lg, log_oh_act, oh)
+    for k, entry in ot.salts:
+        salt_float(entry, m, dm, lg, lw, log_oh_act, *sysc[k])
     return m, dm
 
 
@@ -266,13 +298,14 @@ def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
 _ONE: dict = {}
 
 
-def one_table(lay, tab, pkw: float, hydroxides: tuple = ()) -> OneTable | None:
+def one_table(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
+              ) -> OneTable | None:
     """:func:`compile_one`, cached beside the layout and its table (both never change)."""
-    key = (id(lay), id(tab), pkw, hydroxides)
+    key = (id(lay), id(tab), pkw, hydroxides, salts)
     hit = _ONE.get(key)
     if hit is not None and hit[0] is lay and hit[1] is tab:
         return hit[2]
-    ot = compile_one(lay, tab, pkw, hydroxides)
+    ot = compile_one(lay, tab, pkw, hydroxides, salts)
     if len(_ONE) >= 512:
         _ONE.clear()
     _ONE[key] = (lay, tab, ot)
@@ -287,10 +320,10 @@ def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: 
     x, m, lg, (phi, aw, ionic), rounds, ok = solve_one_pitzer(ot, scalar, row, 1.0 / w)
     table = np.array([m]) * w
     alpha, ceff = [], []
-    for b, states in ot.systems:
-        tot = row[b]
-        ceff.append([tot])
-        alpha.extend([m[s[0]] * w / tot if tot > 0 else 0.0] for s in states)
+    for _, states in ot.systems:
+        tot = sum(m[s[0]] for s in states)     # dissolved: a salt holds the rest
+        ceff.append([tot * w])
+        alpha.extend([m[s[0]] / tot if tot > 0 else 0.0] for s in states)
     molal = np.array([m + [0.0] * (len(model._all) - len(m))])
     here = bool((molal[:, :len(m)][:, model._fallback_mask[:len(m)]] > 0).any())
     i_arr = np.array([ionic])
