@@ -105,21 +105,22 @@ def hydroxides(ml) -> tuple:
     return tuple(out)
 
 
-def salts(ml, catalog) -> tuple:
-    """(cation, system key, ligand label, log10 Ksp, waters of hydration) of each 1:1
-    salt in the dose (gypsum, brushite) whose cation has no other such salt in this
-    layout, for the Pitzer paths that let it precipitate (``solver.pitzer_salts``)."""
+def settled_salts(ml) -> list:
+    """The 1:1 salts in the dose (gypsum, brushite) whose cation has no other such salt
+    with a ligand system of this layout: the salts the Pitzer paths settle."""
     linked = {lk.key for lk in ml.ligands}
     found = [s for s in ml.data.ligand_solids
              if s.in_dose and s.cation in ml.keys and s.ligand_system in linked
              and s.cation_count == 1 and s.ligand_count == 1 and s.oh_count == 0]
-    out = []
-    for s in found:
-        if sum(o.cation == s.cation for o in found) == 1:
-            label = _ligand_label(catalog, s.ligand_system, s.ligand_index)
-            out.append((s.cation, s.ligand_system, label, s.log_ksp,
-                        _hydrate_water(s.formula)))
-    return tuple(out)
+    return [s for s in found if sum(o.cation == s.cation for o in found) == 1]
+
+
+def salts(ml, catalog) -> tuple:
+    """(cation, system key, ligand label, log10 Ksp, waters of hydration) of each of
+    :func:`settled_salts`, for the Pitzer paths (``solver.pitzer_salts``)."""
+    return tuple((s.cation, s.ligand_system,
+                  _ligand_label(catalog, s.ligand_system, s.ligand_index), s.log_ksp,
+                  _hydrate_water(s.formula)) for s in settled_salts(ml))
 
 
 def in_dose(ml) -> np.ndarray:
@@ -146,6 +147,7 @@ def with_metal_fields(res, ml, si: np.ndarray):
     dissolved = np.zeros((n, len(ml.keys)))
     oh = np.zeros(n)
     solids = np.zeros((n, len(ml.solids)))
+    settled = settled_salts(ml)
     for k, key in enumerate(ml.keys):
         metal = ml.data.metals[key]
         for s in metal.species:   # the free ion first (n = 0)
@@ -154,8 +156,8 @@ def with_metal_fields(res, ml, si: np.ndarray):
                 oh += s.n * res.species_molar[:, col[s.label]]
         total = res.batch.totals[:, ml.cols[k]]
         held = total - dissolved[:, k]
-        for s in ml.data.ligand_solids:   # a salt: what its ligand system lost
-            if s.cation == key and s.name in ml.solids and s.ligand_system in res.system_keys:
+        for s in settled:   # a salt: what its ligand system lost
+            if s.cation == key and s.ligand_system in res.system_keys:
                 i = res.system_keys.index(s.ligand_system)
                 lost = res.batch.totals[:, res.batch.keys.index(s.ligand_system)] \
                     - res.system_totals_molar[:, i]
@@ -172,4 +174,4 @@ def with_metal_fields(res, ml, si: np.ndarray):
 
 
 __all__ = ["PITZER_METALS", "SATURATION_TOL", "SOLID_FALLBACK", "hydroxides", "in_dose",
-           "pitzer_takes", "salts", "saturated_solids", "saturation", "with_metal_fields"]
+           "pitzer_takes", "salts", "settled_salts", "saturated_solids", "saturation", "with_metal_fields"]

@@ -113,3 +113,17 @@ def test_the_outer_loop_with_a_held_species_agrees_with_the_float_path():
     assert one.model_part.water_activity < 0.9
     assert held.pH == pytest.approx(one.pH, abs=1e-7)
     assert held.species["HCO3-"] == pytest.approx(one.species["HCO3-"], rel=1e-6)
+
+
+@pytest.mark.parametrize("na", [0.1, 0.25, 0.5])
+def test_calcium_is_conserved_between_solution_and_solids(na):
+    # CaCl2 1 M with phosphate and NaOH: brushite (in the dose), then portlandite too;
+    # hydroxyapatite is reported by its saturation index only (metals.toml: in_dose false)
+    mix = Mixture({"Ca+2": 1.0, "Cl-": 2.0, "Na+": na, "phosphate": 0.1}, 25.0)
+    res = speciate(mix, activity="pitzer", catalog=CAT)
+    assert res.model_part.model == "pitzer" and res.converged
+    assert res.solids["Ca5(PO4)3OH (hydroxyapatite)"] == 0.0
+    held = res.solids["CaHPO4·2H2O (brushite)"] + res.solids["Ca(OH)2 (portlandite)"]
+    assert res.dissolved_metals["Ca+2"] + held == pytest.approx(1.0, rel=1e-9)
+    dissolved_p = sum(res.species[lab] for lab in res.fractions["phosphate"])
+    assert dissolved_p + res.solids["CaHPO4·2H2O (brushite)"] == pytest.approx(0.1, rel=1e-9)
