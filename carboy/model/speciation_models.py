@@ -11,6 +11,11 @@ the Davies path's fast solve:
   ``AUTO_LIMIT_MOLAL`` of ionic strength, the Pitzer model above it.  A batch (a curve)
   is never split between the two models, so it has no jump where one takes over.
 
+Calcium and magnesium (modelled metals) take the Pitzer path as ions with their
+hydroxides and 1:1 salts settled by saturation (``pitzer_metals``); a batch where another
+of their solids would form falls back, whole, to the Davies metal path and says so.
+Other metals keep the Davies metal path (``auto``) or are refused (``pitzer``).
+
 ``activity="davies"`` and ``"ideal"`` stay on the charge-only path (no pairs): their
 coefficients depend on the ionic strength alone, so ``state_at`` inverts them exactly.
 
