@@ -3,8 +3,10 @@
 ``speciate``/``speciate_batch`` hand a batch here (:func:`route`) when it needs more than
 the Davies path's fast solve:
 
-* ``activity="pitzer"``: the specific-interaction model (``solver.outer.solve_pitzer``),
-  started from the Davies solution, in molalities, with the pairs of its own set (MgOH+);
+* ``activity="pitzer"``: the specific-interaction model, in molalities, with the pairs
+  of its own set (MgOH+): one solution on floats (``solver.pitzer_one``), a batch on
+  arrays (``solver.pitzer_batch``), both from the totals alone; with held species the
+  outer loop (``solver.outer.solve_pitzer``) started from the Davies solution;
 * ``activity="auto"``: the Davies equation with the ion pairs (a spectator Ca2+, Mg2+,
   Na+ or K+ with sulfate or OH-: CaOH+, MgOH+, NaSO4-, KSO4-, CaSO4°, MgSO4°;
   ``solver.outer.solve_with_pairs``) where the whole batch stays at or below
