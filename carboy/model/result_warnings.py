@@ -7,6 +7,9 @@ from functools import lru_cache
 from carboy.model.activity import outside_range_warning
 from carboy.model.solver.layout import ENTHALPY_DATA_MAX_C
 
+METAL_T_SPAN_C = 5.0
+"""Beyond this distance from 25 °C a result with metals says their constants are for 25 °C."""
+
 
 @lru_cache(maxsize=64)
 def warning_texts(high_i: bool, bad: bool, hot: bool, activity: str,

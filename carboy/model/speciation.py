@@ -69,6 +69,7 @@ from carboy.model.activity import (
 )
 from carboy.model.activity import davies_d as _davies_d  # noqa: F401 (tests use the old name)
 from carboy.model.mixture import Mixture, MixtureBatch
+from carboy.model.result_warnings import METAL_T_SPAN_C
 from carboy.model.result_warnings import warning_texts as _warning_texts
 from carboy.model.solver.bracketed import solve_nested, solve_with_metals
 from carboy.model.solver.charge_balance import fractions_at, padded_fractions, species_at
@@ -99,9 +100,6 @@ from carboy.model.solver.problem import Problem, build_problem
 from carboy.model.solver.single import solve_one
 from carboy.model.solver.starts import start_between
 from carboy.model.speciation_models import ModelPart, ModelPoint, needs_route, ph_scale_of, route
-
-METAL_T_SPAN_C = 5.0
-"""Beyond this distance from 25 °C a result with metals says their constants are for 25 °C."""
 
 __all__ = [
     "ACTIVITY_MODELS", "COUPLED_ITER", "COUPLED_NEAR", "DAVIES_LIMIT_MOLAR",

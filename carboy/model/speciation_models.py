@@ -58,6 +58,7 @@ from carboy.model.pitzer_metals import (
     with_metal_fields,
 )
 from carboy.model.pitzer_scalar import scalar_model
+from carboy.model.result_warnings import METAL_T_SPAN_C, warning_texts
 from carboy.model.solver.charge_balance import padded_fractions
 from carboy.model.solver.layout import Layout, cached_layout
 from carboy.model.solver.outer import (
@@ -222,7 +223,11 @@ def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, paths: _Path
     si = saturation(res, lay.metals, catalog)
     solids = saturated_solids(si, lay.metals)
     if not solids:
-        return with_metal_fields(res, lay.metals, si)
+        warm = warning_texts(False, False, False, activity, True)   # 25 °C constants
+        res = with_metal_fields(res, lay.metals, si)
+        if abs(t_c - 25.0) > METAL_T_SPAN_C:
+            res = dataclasses.replace(res, warnings=_with(res.warnings, warm))
+        return res
     if davies is None:
         dav = paths.solve_davies(batch, lay, "davies", t_c, paths.held, paths.start)
         w = res.model_part.water_kg_per_l
