@@ -127,3 +127,13 @@ def test_calcium_is_conserved_between_solution_and_solids(na):
     assert res.dissolved_metals["Ca+2"] + held == pytest.approx(1.0, rel=1e-9)
     dissolved_p = sum(res.species[lab] for lab in res.fractions["phosphate"])
     assert dissolved_p + res.solids["CaHPO4·2H2O (brushite)"] == pytest.approx(0.1, rel=1e-9)
+
+
+def test_metals_away_from_25_c_say_their_constants_are_for_25_c():
+    hot = speciate(Mixture({"Ca+2": 1.0, "Cl-": 2.1}, temperature_c=40.0),
+                   activity="pitzer", catalog=CAT)
+    cool = speciate(Mixture({"Ca+2": 1.0, "Cl-": 2.1}, temperature_c=25.0),
+                    activity="pitzer", catalog=CAT)
+    assert hot.model_part.model == cool.model_part.model == "pitzer"
+    assert any("constants are for 25 °C" in w for w in hot.warnings)
+    assert not any("constants are for 25 °C" in w for w in cool.warnings)
