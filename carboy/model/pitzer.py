@@ -251,6 +251,27 @@ class PitzerModel:
     def evaluate(self, molality) -> PitzerResult:
         """ln γ, φ, a_w and I at every point of the (N, S) ``molality`` array (mol/kg)."""
         m = self._check(molality)
+        ln_gamma, osmotic, aw, ionic, phimac = self._coefficients(m)
+        n_user = len(self.species)
+        present = m[:, :n_user][:, self._fallback_mask[:n_user]] > 0
+        fallback_here = present.any(axis=1)
+        valid = (ionic <= I_MAX_MOLAL) & ~fallback_here
+        return PitzerResult(
+            species=self.species, ln_gamma=ln_gamma, osmotic=osmotic, water_activity=aw,
+            ionic_strength_molal=ionic, phimac=phimac, valid=valid,
+            fallback=self.fallback, warnings=self._warnings(m, ionic, fallback_here),
+            ph_scale=PH_SCALE if self.scale == "macinnes" else "unscaled Pitzer")
+
+    def coefficients(self, molality: np.ndarray):
+        """(ln γ (N, S), φ, a_w, I) of checked molalities (finite, >= 0, shaped (N, S)):
+        :meth:`evaluate`'s numbers without its checks and warnings, for a solver's
+        rounds."""
+        m = molality
+        if len(self._all) > len(self.species):
+            m = np.concatenate([m, np.zeros((m.shape[0], 1))], axis=1)
+        return self._coefficients(m)[:4]
+
+    def _coefficients(self, m: np.ndarray):
         p, z = self._p, self._z
         ionic = 0.5 * (m * z * z).sum(axis=1)
         big_z = (m * np.abs(z)).sum(axis=1)
@@ -269,16 +290,8 @@ class PitzerModel:
         if self.scale == "macinnes":
             ln_gamma = ln_gamma + np.outer(phimac, z)
         osmotic = np.where(total > 0, 1.0 + 2.0 * osm / np.where(total > 0, total, 1.0), 1.0)
-        n_user = len(self.species)
-        present = m[:, :n_user][:, self._fallback_mask[:n_user]] > 0
-        fallback_here = present.any(axis=1)
-        valid = (ionic <= I_MAX_MOLAL) & ~fallback_here
-        return PitzerResult(
-            species=self.species, ln_gamma=ln_gamma[:, :n_user], osmotic=osmotic,
-            water_activity=np.exp(-osmotic * total * WATER_KG_PER_MOL),
-            ionic_strength_molal=ionic, phimac=phimac, valid=valid,
-            fallback=self.fallback, warnings=self._warnings(m, ionic, fallback_here),
-            ph_scale=PH_SCALE if self.scale == "macinnes" else "unscaled Pitzer")
+        aw = np.exp(-osmotic * total * WATER_KG_PER_MOL)
+        return ln_gamma[:, :len(self.species)], osmotic, aw, ionic, phimac
 
     def _ln_gamma_kcl(self, f_dh, ionic, root) -> np.ndarray:
         """ln γ±(KCl) of a pure KCl solution of molality ``ionic`` (same Debye–Hückel term)."""

@@ -6,6 +6,12 @@ solves several batches (its curve, its doses, the states it reports), and they m
 all use one model, so the plan settles it first: the Pitzer model when the sample, the
 full dose or the end of the curve is above ``AUTO_LIMIT_MOLAL``
 (``speciation_models``), else auto's Davies branch throughout.
+
+Calcium and magnesium stay on the Pitzer path while they are dissolved; where one of
+their solids would form at one of those states, the batch falls back to the metal path
+with the Davies equation (``pitzer_metals``), and so does the whole plan (``"auto"`` or
+``"pitzer"`` become ``"davies"``: with metals present auto's Davies branch has no pairs,
+the same solve).
 """
 
 from __future__ import annotations
@@ -18,19 +24,34 @@ from carboy.model.dosing import CURVE_SPAN
 from carboy.model.mixture import titration_batch
 from carboy.model.speciation import speciate_batch
 
+SOLID_CHECK_POINTS = 41
+"""With calcium or magnesium on the Pitzer path, the doses along the curve checked for a
+solid that only the Davies metal path settles (gypsum, fluorite, brushite)."""
+
 
 def settle_activity(req, n_full: float):
     """``req`` (the planner's request) with ``"auto"`` replaced by ``"pitzer"`` where
-    some state of the plan needs it; any other model unchanged."""
-    if req.activity != "auto":
+    some state of the plan needs it, and ``"auto"`` or ``"pitzer"`` by ``"davies"``
+    where a calcium or magnesium solid forms; any other model unchanged."""
+    if req.activity not in ("auto", "pitzer"):
         return req
     amounts = np.array([0.0, n_full, CURVE_SPAN * n_full])
     batch, _ = titration_batch(req.sample, dict(req.reagent.compound.composition), amounts,
                                req.reagent.l_per_mol)
-    res = speciate_batch(batch, activity="auto", catalog=req.catalog)
+    res = speciate_batch(batch, activity=req.activity, catalog=req.catalog)
+    used = res.model_part.model if res.model_part is not None else req.activity
+    if res.metal_keys and used == "pitzer":   # a solid may form between those states
+        amounts = np.linspace(0.0, CURVE_SPAN * n_full, SOLID_CHECK_POINTS)
+        batch, _ = titration_batch(req.sample, dict(req.reagent.compound.composition),
+                                   amounts, req.reagent.l_per_mol)
+        res = speciate_batch(batch, activity=req.activity, catalog=req.catalog)
+        used = res.model_part.model if res.model_part is not None else req.activity
+    if res.metal_keys and used == "davies":   # Davies (low I, or a solid's fallback)
+        return dataclasses.replace(req, activity="davies")
     if res.model_part is not None and res.model_part.model == "pitzer":
         return dataclasses.replace(req, activity="pitzer")
     return req
+
 
 
 def model_used(requested: str, curve) -> str:

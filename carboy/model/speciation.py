@@ -67,6 +67,8 @@ from carboy.model.activity import (
 )
 from carboy.model.activity import davies_d as _davies_d  # noqa: F401 (tests use the old name)
 from carboy.model.mixture import Mixture, MixtureBatch
+from carboy.model.result_warnings import METAL_T_SPAN_C
+from carboy.model.result_warnings import warning_texts as _warning_texts
 from carboy.model.solver.bracketed import solve_nested, solve_with_metals
 from carboy.model.solver.charge_balance import fractions_at, padded_fractions, species_at
 from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
@@ -99,8 +101,7 @@ from carboy.model.solver.single_metals import solve_unsaturated
 from carboy.model.solver.single_pairs import solve_pairs_one
 from carboy.model.solver.starts import start_between
 from carboy.model.speciation_models import ModelPart, ModelPoint, needs_route, ph_scale_of, route
-from carboy.model.speciation_one import METAL_T_SPAN_C, one_fields, pairs_fields
-from carboy.model.speciation_one import warning_texts as _warning_texts
+from carboy.model.speciation_one import one_fields, pairs_fields
 
 __all__ = [
     "ACTIVITY_MODELS", "COUPLED_ITER", "COUPLED_NEAR", "DAVIES_LIMIT_MOLAR",
@@ -324,7 +325,7 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
             if got is not None:
                 return Speciation(**got, mixture=mixture)
         batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
-        res = route(batch, lay, activity, catalog, None, None, _solve).point(0)
+        res = route(batch, lay, activity, catalog, None, None, _solve, _frame).point(0)
         return Speciation(**{**res.__dict__, "mixture": mixture})
     pkw = water.pkw(t_c)
     a_dh = debye_huckel_scale(activity, t_c)
@@ -393,7 +394,7 @@ def speciate_batch(batch: MixtureBatch, *, activity: str = "davies", catalog=Non
             raise InvalidInput("start", f"{len(guess)} arrays",
                                f"expected log10[H+] and ionic strength for {len(batch)} points")
     if needs_route(lay, activity, t_c):
-        return route(batch, lay, activity, catalog, held, guess, _solve)
+        return route(batch, lay, activity, catalog, held, guess, _solve, _frame)
     return _solve(batch, lay, activity, t_c, held, guess)
 
 
@@ -438,6 +439,22 @@ def _solve(batch: MixtureBatch, lay: Layout, activity: str, t_c: float,
     pr = build_problem(lay, batch.totals, held, pkw, a_dh)
     x, ionic, converged, iterations = _solve_points(pr, start)
     return _batch_result(pr, batch, x, ionic, converged, iterations, activity, t_c)
+
+
+def _frame(batch: MixtureBatch, lay: Layout, activity: str, t_c: float) -> BatchSpeciation:
+    """An empty result of ``batch`` that another path fills (``speciation_models``):
+    the systems, temperature, pKw and the temperature's warnings."""
+    n = len(batch)
+    zero = np.zeros(n)
+    warn = _warning_texts(False, False, t_c > ENTHALPY_DATA_MAX_C, activity)
+    return BatchSpeciation(
+        pH=zero, log_h=zero, ionic_strength_molar=zero, charge_residual_molar=zero,
+        converged=np.ones(n, dtype=bool), iterations=0, species_labels=(),
+        species_charges=(), species_molar=np.zeros((n, 0)), system_keys=lay.sys_keys,
+        system_labels=lay.sys_labels, fractions=np.zeros((n, 0, 0)),
+        log_gamma_by_charge=np.zeros((n, 1)), system_totals_molar=np.zeros((n, 0)),
+        pkw=water.pkw(t_c), temperature_c=t_c, activity=activity, warnings=(warn,) * n,
+        batch=batch)
 
 
 def _solve_points(pr: Problem, start=None):

@@ -3,8 +3,10 @@
 ``speciate``/``speciate_batch`` hand a batch here (:func:`route`) when it needs more than
 the Davies path's fast solve:
 
-* ``activity="pitzer"``: the specific-interaction model (``solver.outer.solve_pitzer``),
-  started from the Davies solution, in molalities, with the pairs of its own set (MgOH+);
+* ``activity="pitzer"``: the specific-interaction model, in molalities, with the pairs
+  of its own set (MgOH+): one solution on floats (``solver.pitzer_one``), a batch on
+  arrays (``solver.pitzer_batch``), both from the totals alone; with held species the
+  outer loop (``solver.outer.solve_pitzer``) started from the Davies solution;
 * ``activity="davies"``: the Davies equation with the ion pairs (a spectator Ca2+, Mg2+,
   Na+ or K+ with sulfate or OH-: CaOH+, MgOH+, NaSO4-, KSO4-, CaSO4°, MgSO4°;
   ``solver.outer.solve_with_pairs``) where a pair-forming cation and ligand are both
@@ -19,6 +21,11 @@ hydrolysis (CaOH+ and MgOH+ there) and solids, and take no part in the pairs; a 
 with metals keeps the charge-only path.  ``activity="ideal"`` stays on the charge-only
 path too.  ``state_at`` (the exact inverse) knows no pairs: where they form, the planner
 settles its doses on the forward solve (:func:`settles_forward`).
+
+Calcium and magnesium (modelled metals) take the Pitzer path as ions with their
+hydroxides and 1:1 salts settled by saturation (``pitzer_metals``); a batch where another
+of their solids would form falls back, whole, to the Davies metal path and says so.
+Other metals keep the Davies metal path (``auto``) or are refused (``pitzer``).
 
 pH scales (``ph_scale`` in every result and in ``--json``)
 -----------------------------------------------------------
@@ -47,8 +54,19 @@ from carboy.model.activity import DAVIES_LIMIT_MOLAR, outside_range_warning
 from carboy.model.mixture import MixtureBatch
 from carboy.model.molality import water_kg_per_litre
 from carboy.model.pitzer import I_MAX_MOLAL
+from carboy.model.pitzer_metals import (
+    SOLID_FALLBACK,
+    hydroxides,
+    pitzer_takes,
+    salts,
+    saturated_solids,
+    saturation,
+    with_metal_fields,
+)
+from carboy.model.pitzer_scalar import scalar_model
+from carboy.model.result_warnings import METAL_T_SPAN_C, warning_texts
 from carboy.model.solver.charge_balance import padded_fractions
-from carboy.model.solver.layout import Layout
+from carboy.model.solver.layout import Layout, cached_layout
 from carboy.model.solver.outer import (
     Outcome,
     has_pairs,
@@ -57,6 +75,8 @@ from carboy.model.solver.outer import (
     solve_with_pairs,
     table_of,
 )
+from carboy.model.solver.pitzer_batch import batch_outcome
+from carboy.model.solver.pitzer_one import one_outcome, one_table
 from carboy.model.solver.problem import build_problem
 
 AUTO_LIMIT_MOLAL = 0.5
@@ -160,35 +180,84 @@ def _pairs_apply(lay: Layout, temperature_c: float) -> bool:
 # --------------------------------------------------------------------------- routing
 
 def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
-          solve_davies):
+          solve_davies, frame=None):
     """Solve ``batch`` (its layout ``lay``) with ``activity``; ``solve_davies(batch,
     lay, activity, t_c, held, start)`` is the Davies path's batch solve (a
-    ``BatchSpeciation``), whose result is the start and the frame of the answer."""
+    ``BatchSpeciation``), whose result is the start and the frame of the answer;
+    ``frame(batch, lay, activity, t_c)`` an empty result for the one-solution path."""
     t_c = batch.temperature_c
+    metals = getattr(lay, "metals", None) is not None
+    paths = _Paths(solve_davies, frame, held, start)
+    if activity == "pitzer" and metals:
+        return _pitzer_with_metals(batch, lay, activity, catalog, paths)
+    if activity == "pitzer":
+        return _pitzer(batch, lay, activity, catalog, paths)
     base = solve_davies(batch, lay, "davies", t_c, held, start)
     if activity == "davies":   # pairs form (needs_route)
         return _with_pairs(base, lay, activity, held)
-    w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
+    w, _ = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
     res = base
-    if activity == "auto" and _pairs_apply(lay, t_c):
+    if _pairs_apply(lay, t_c):
         res = _with_pairs(base, lay, activity, held)
     molal_i = res.ionic_strength_molar / w
-    metals = getattr(lay, "metals", None) is not None
-    if activity == "auto" and (
-            metals or float(molal_i.max(initial=0.0)) <= AUTO_LIMIT_MOLAL):
-        lg = _davies_log_gamma(res)
-        extra = ((_METALS_NOTE,) if metals and activity == "auto"
-                 and float(molal_i.max(initial=0.0)) > AUTO_LIMIT_MOLAL else ())
-        return dataclasses.replace(
-            res, activity=activity, warnings=_with(res.warnings, extra),
-            model_part=ModelPart("davies", lg, w, molal_i))
-    if metals:
+    high = float(molal_i.max(initial=0.0)) > AUTO_LIMIT_MOLAL
+    if metals and high and pitzer_takes(lay):
+        return _pitzer_with_metals(batch, lay, activity, catalog, paths,
+                                   davies=_auto_davies(res, activity, w, molal_i))
+    if metals or not high:
+        extra = (_METALS_NOTE,) if metals and high else ()
+        return _auto_davies(res, activity, w, molal_i, extra)
+    return _pitzer(batch, lay, activity, catalog, paths, base)
+
+
+@dataclass(frozen=True)
+class _Paths:
+    """What :func:`route` was handed to solve with: the Davies batch solve, the frame of
+    a one-solution result, the held species and the start."""
+
+    solve_davies: object
+    frame: object
+    held: object
+    start: object
+
+
+def _auto_davies(res, activity: str, w, molal_i, extra: tuple[str, ...] = ()):
+    """A Davies result as ``auto`` reports it (with its model part)."""
+    return dataclasses.replace(
+        res, activity=activity, warnings=_with(res.warnings, extra),
+        model_part=ModelPart("davies", _davies_log_gamma(res), w, molal_i))
+
+
+_METALS_NOTE = ("the specific-interaction model covers calcium and magnesium only, not "
+                "the other metals' hydrolysis and solids: the Davies equation is used, "
+                "outside its range")
+
+
+def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, paths: _Paths,
+                        davies=None):
+    """Calcium and magnesium under the Pitzer model while they stay dissolved
+    (``pitzer_metals``); a batch where one of their solids would form falls back, whole,
+    to the metal path with the Davies equation (``davies``, solved here if not given)."""
+    if not pitzer_takes(lay):
         raise InvalidInput("activity model", activity, _METALS_NOTE)
-    return _pitzer(base, lay, activity, held, w, notes)
-
-
-_METALS_NOTE = ("the specific-interaction model does not cover the metals' hydrolysis "
-                "and solids: the Davies equation is used, outside its range")
+    t_c = batch.temperature_c
+    lay_s = cached_layout(catalog, batch.keys, t_c, metals=False)
+    res = _pitzer(batch, lay_s, activity, catalog, paths,
+                  solids=(hydroxides(lay.metals), salts(lay.metals, catalog)))
+    si = saturation(res, lay.metals, catalog)
+    solids = saturated_solids(si, lay.metals)
+    if not solids:
+        warm = warning_texts(False, False, False, activity, True)   # 25 °C constants
+        res = with_metal_fields(res, lay.metals, si)
+        if abs(t_c - 25.0) > METAL_T_SPAN_C:
+            res = dataclasses.replace(res, warnings=_with(res.warnings, warm))
+        return res
+    if davies is None:
+        dav = paths.solve_davies(batch, lay, "davies", t_c, paths.held, paths.start)
+        w = res.model_part.water_kg_per_l
+        davies = _auto_davies(dav, activity, w, dav.ionic_strength_molar / w)
+    text = SOLID_FALLBACK.format(solids=", ".join(solids))
+    return dataclasses.replace(davies, warnings=_with(davies.warnings, (text,)))
 
 
 def _with_pairs(base, lay: Layout, activity: str, held):
@@ -199,13 +268,36 @@ def _with_pairs(base, lay: Layout, activity: str, held):
     return _assemble(base, out, lay, table_of(lay, "davies", t_c), activity, ())
 
 
-def _pitzer(base, lay: Layout, activity: str, held, w: np.ndarray, notes):
-    """The Pitzer path from the Davies result ``base``."""
-    t_c = base.temperature_c
+def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None,
+            solids: tuple = ((), ())):
+    """The Pitzer path: one solution on floats (``solver.pitzer_one``), a batch on
+    arrays (``solver.pitzer_batch``); with held species or pairs on a state, the outer
+    loop (``solver.outer.solve_pitzer``) from the Davies result ``base``."""
+    t_c = batch.temperature_c
     tab = table_of(lay, "pitzer", t_c)
     model = pitzer_for(tab, t_c)
-    pr = build_problem(lay, base.batch.totals, held, base.pkw, 0.0)
+    one = None
+    if len(batch) and not paths.held and paths.frame is not None:
+        one = one_table(lay, tab, water.pkw(t_c), *solids)
+    if one is not None:
+        w, notes = water_kg_per_litre(catalog, batch.keys, batch.totals, t_c)
+        frame = paths.frame(batch, lay, activity, t_c)
+        if len(batch) == 1:
+            out = one_outcome(one, model, scalar_model(model), batch.totals[0].tolist(),
+                              float(w[0]))
+        else:
+            out = batch_outcome(one, model, batch.totals, w)
+        return _pitzer_result(frame, out, lay, tab, activity, w, notes)
+    if base is None:
+        base = paths.solve_davies(batch, lay, "davies", t_c, paths.held, paths.start)
+    w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
+    pr = build_problem(lay, base.batch.totals, paths.held, base.pkw, 0.0)
     out = solve_pitzer(pr, model, tab, 1.0 / w, base.log_h.copy())
+    return _pitzer_result(base, out, lay, tab, activity, w, notes)
+
+
+def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes):
+    """The batch result of the Pitzer path in the frame ``base``."""
     molal_i = out.extra["ionic_strength_molal"]
     common = tuple(t for t in out.extra["warnings"] if not t.startswith("ionic strength above"))
     hot = tuple(t for t in base.warnings[0] if "enthalpy data" in t) if len(base) else ()

@@ -1,46 +1,22 @@
-"""One solution's result from the plain-Python paths, and the warnings of every result.
+"""One solution's result from the plain-Python paths.
 
 :func:`one_fields` works out the species, fractions and coefficients of one solution
 solved by ``solver.single`` (or ``solver.single_metals``, with its metals) in floats, as
 the fields of a :class:`~carboy.model.speciation.Speciation`: numpy's per-call cost
-would dominate for one solution.  :func:`warning_texts` gives the warnings a point
-carries, shared with the batch results.
+would dominate for one solution.  The warnings a point carries come from
+:func:`~carboy.model.result_warnings.warning_texts`, shared with the batch results.
 """
 
 from __future__ import annotations
 
 import math
 import operator
-from functools import lru_cache
 from types import MappingProxyType
 
-from carboy.model.activity import DAVIES_LIMIT_MOLAR, davies_d_float, outside_range_warning
+from carboy.model.activity import DAVIES_LIMIT_MOLAR, davies_d_float
+from carboy.model.result_warnings import METAL_T_SPAN_C, warning_texts
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.layout import ENTHALPY_DATA_MAX_C
-
-METAL_T_SPAN_C = 5.0
-"""Beyond this distance from 25 °C a result with metals says their constants are for 25 °C."""
-
-
-@lru_cache(maxsize=64)
-def warning_texts(high_i: bool, bad: bool, hot: bool, activity: str,
-                  metals_off: bool = False) -> tuple[str, ...]:
-    """The warnings of a point: ionic strength beyond the model's range (``high_i``),
-    unsettled (``bad``), beyond the enthalpy data (``hot``), metals away from 25 °C."""
-    out = []
-    if metals_off:
-        out.append("the metals' hydrolysis and solubility constants are for 25 °C: at this "
-                   "temperature their share of the pH and the solids is approximate")
-    if high_i:
-        out.append(outside_range_warning(activity))
-    if hot:
-        out.append(
-            f"above {ENTHALPY_DATA_MAX_C:g} °C the pKa temperature correction extrapolates "
-            "beyond the range of its enthalpy data"
-        )
-    if bad:
-        out.append("the solver did not reach its tolerance: the result is approximate")
-    return tuple(out)
 
 
 def one_fields(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, metals=None) -> dict:

@@ -175,8 +175,8 @@ def _curve(points: int, rounds: int) -> Row:
 PITZER_COMPONENTS = [("HCl", 1.0), ("H2SO4", 0.2), ("NaCl", 1.0), ("KCl", 0.3),
                      ("NaHSO4", 0.1), ("Na2SO4", 0.2), ("K2SO4", 0.05), ("NaHCO3", 0.01),
                      ("KHCO3", 0.01), ("CO2", 0.005)]
-"""A concentrated acid waste (I about 3 mol/kg) of ten compounds pitzer.dat knows (no
-Ca2+ or Mg2+: they are modelled metals, which the Pitzer path does not take)."""
+"""A concentrated acid waste (I about 3 mol/kg) of ten compounds pitzer.dat knows (the
+same ten since the figure was first taken, so that it compares across versions)."""
 PITZER_TO_PHREEQC = {"Cl-": "Cl", "sulfate": "S(6)", "Na+": "Na", "K+": "K", "Ca+2": "Ca",
                      "Mg+2": "Mg", "carbonate": "C(4)"}
 PITZER_NAOH_MOL = 2.0   # per litre, over the curve

@@ -12,6 +12,21 @@ sides: pH = -log10(m_H γ_H), molal, single-ion coefficients on the MacInnes sca
 issue's 0.05 pH unit (the differences seen are below 0.003: the Debye–Hückel slope and
 the HSO4- constant, 1.979 in pitzer.dat against carboy's 1.99).
 
+Calcium and magnesium
+---------------------
+HCl in CaCl2 and in MgCl2 (0.1 mol/kg HCl, the salt making up the ionic strength to
+5 mol/kg) against the same pitzer.dat solutions, same tolerance: the metals stay
+dissolved and the Pitzer path takes them as ions (``pitzer_metals``).  Where one of their
+solids would form the batch falls back to the Davies metal path and says so.
+
+Carbon dioxide and water activity
+---------------------------------
+pitzer.dat writes carbonate's first step with water (CO2 + H2O = HCO3- + H+), so where
+a_w falls (0.80 in 5 mol/kg NaCl) the bicarbonate buffer's pH falls with it: 0.1 mol/kg
+NaHCO3 with 0.1 mol/kg CO2 in NaCl to 5 mol/kg against the same pitzer.dat solutions.
+What is left is the same at every ionic strength: carboy's catalog pKa1 6.35 against the
+6.337 of pitzer.dat's constants (16.6767 - 10.3393), about 0.01, so the tolerance is 0.02.
+
 Saturated calcium hydroxide
 ---------------------------
 Bates, Bower & Smith, "Calcium hydroxide as a highly alkaline pH standard", J. Res.
@@ -26,6 +41,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+from carboy.errors import InvalidInput
 from carboy.model.catalog import default_catalog
 from carboy.model.mixture import Mixture, MixtureBatch
 from carboy.model.molality import molar_from_molal
@@ -58,6 +74,19 @@ def _cases():
 CASES = _cases()
 
 
+def _metal_cases():
+    out = []
+    for metal, el in (("Ca+2", "Ca"), ("Mg+2", "Mg")):
+        for ionic in (0.6, 1.0, 2.0, 3.0, 5.0):
+            m = (ionic - 0.1) / 3.0
+            out.append((f"HCl 0.1 in {el}Cl2, I {ionic}", {metal: m, "Cl-": 2 * m + 0.1},
+                        {el: m, "Cl": 2 * m + 0.1, "pH": "1 charge"}))
+    return out
+
+
+METAL_CASES = _metal_cases()
+
+
 @pytest.fixture(scope="module")
 def pitzer_dat():
     return phreeqpython.PhreeqPython(database="pitzer.dat")
@@ -79,6 +108,118 @@ def test_ph_against_phreeqc_pitzer_dat(pitzer_dat, name, comp, peer):
     assert res.ph_scale == "macinnes" and res.model_part.model == "pitzer"
     assert res.model_part.ionic_strength_molal == pytest.approx(ionic, rel=0.02)
     assert res.pH == pytest.approx(expected, abs=PH_TOL)
+
+
+@pytest.mark.parametrize("name, comp, peer", METAL_CASES, ids=[c[0] for c in METAL_CASES])
+def test_calcium_and_magnesium_against_phreeqc_pitzer_dat(pitzer_dat, name, comp, peer):
+    sol = pitzer_dat.add_solution({"units": "mol/kgw", "temp": 25.0, **peer})
+    expected, ionic = sol.pH, sol.I
+    sol.forget()
+    for activity in ("pitzer", "auto"):   # auto: above 0.5 mol/kg, the same model
+        res = speciate(_molar(comp), activity=activity, catalog=CAT)
+        assert res.converged and res.model_part.model == "pitzer"
+        assert res.model_part.ionic_strength_molal == pytest.approx(ionic, rel=0.02)
+        assert res.pH == pytest.approx(expected, abs=PH_TOL)
+    metal = next(k for k in comp if k != "Cl-")
+    total = _molar(comp).totals[metal]
+    assert res.dissolved_metals[metal] == pytest.approx(total, rel=1e-9)
+    assert all(v == 0.0 for v in res.solids.values())
+    assert all(v < 0.0 for v in res.saturation_indices.values())
+
+
+@pytest.mark.parametrize("nacl", [0.0, 1.0, 3.0, 5.0])
+def test_bicarbonate_buffer_takes_the_water_activity(pitzer_dat, nacl):
+    sol = pitzer_dat.add_solution({"units": "mol/kgw", "temp": 25.0, "C(4)": 0.2,
+                                   "Na": nacl + 0.1, "Cl": nacl, "pH": "6 charge"})
+    expected = sol.pH
+    sol.forget()
+    res = speciate(_molar({"carbonate": 0.2, "Na+": nacl + 0.1, "Cl-": nacl}),
+                   activity="pitzer", catalog=CAT)
+    assert res.pH == pytest.approx(expected, abs=0.02)
+
+
+def test_a_saturated_metal_solid_falls_back_to_the_davies_metal_path():
+    # CaCl2 1 M with NaF: fluorite (CaF2, two ligands per cation) is past saturation at
+    # the second point; the Pitzer path settles only hydroxides and 1:1 salts, so the
+    # whole batch goes to the metal path
+    keys = ("Ca+2", "Cl-", "Na+", "fluoride")
+    batch = MixtureBatch(keys, np.array([[1.0, 2.0, 0.0, 0.0], [1.0, 2.0, 0.1, 0.1]]), 25.0)
+    res = speciate_batch(batch, activity="pitzer", catalog=CAT)
+    assert res.model_part.model == "davies"             # the whole batch, one model
+    assert all("CaF2 (fluorite) would precipitate" in " ".join(w) for w in res.warnings)
+    fluorite = res.solid_names.index("CaF2 (fluorite)")
+    assert res.solids_molar[0, fluorite] == 0.0
+    assert res.solids_molar[1, fluorite] == pytest.approx(0.05, rel=0.01)
+    alone = speciate_batch(MixtureBatch(batch.keys, batch.totals[:1], 25.0),
+                           activity="pitzer", catalog=CAT)
+    assert alone.model_part.model == "pitzer"           # dissolved: the Pitzer path
+
+
+# Gypsum on the Pitzer path, against pitzer.dat with the solid given carboy's solubility
+# product (metals.toml via planning.toml, log Ksp -4.503; pitzer.dat's Gypsum is -4.58):
+# mol/kg of Ca, Na, S(6) and Cl (the balance H+ from acid).  Tolerance 0.02 pH: where
+# much sulfate is HSO4- carboy's pKa 1.99 against pitzer.dat's 1.979 shows (0.015).
+GYPSUM = [(1.0, 0.4, 0.2, 2.0), (0.5, 0.2, 0.1, 1.01), (1.0, 0.0, 0.5, 2.0),
+          (2.0, 1.0, 0.5, 4.0), (0.2, 0.0, 0.1, 0.4)]
+
+
+@pytest.mark.parametrize("ca, na, s6, cl", GYPSUM, ids=[f"ca{g[0]}-s{g[2]}" for g in GYPSUM])
+def test_gypsum_precipitates_on_the_pitzer_path(pitzer_dat, ca, na, s6, cl):
+    from carboy.model.metal_data import metal_data
+
+    log_ksp = next(s.log_ksp for s in metal_data().ligand_solids if "gypsum" in s.name)
+    pitzer_dat.ip.run_string(
+        f"PHASES\nOwn\n  CaSO4:2H2O = Ca+2 + SO4-2 + 2 H2O\n  log_k {log_ksp}\n"
+        f"SOLUTION 1\n  units mol/kgw\n  temp 25\n  Ca {ca}\n  Na {na}\n  S(6) {s6}\n"
+        f"  Cl {cl}\n  pH 3 charge\nEQUILIBRIUM_PHASES 1\n  Own 0 0\n"
+        "SELECTED_OUTPUT 1\n  -reset false\n  -pH true\n  -equilibrium_phases Own\nEND\n")
+    ph, amount, _ = pitzer_dat.ip.get_selected_output_array()[-1]   # pH, mol of solid
+    res = speciate(_molar({"Ca+2": ca, "Na+": na, "sulfate": s6, "Cl-": cl}),
+                   activity="pitzer", catalog=CAT)
+    assert res.model_part.model == "pitzer" and res.converged
+    gypsum = res.solids["CaSO4·2H2O (gypsum)"]
+    assert gypsum / res.model_part.water_kg_per_l == pytest.approx(amount, rel=0.015)
+    assert res.pH == pytest.approx(ph, abs=0.02)
+    assert res.saturation_indices["CaSO4·2H2O (gypsum)"] == 0.0
+    assert sum(res.fractions["sulfate"].values()) == pytest.approx(1.0, rel=1e-12)
+
+
+# Hydroxides on the Pitzer path, against pitzer.dat with the solid given carboy's own
+# solubility product (metals.toml: portlandite log Ksp -5.299, brucite -11.251, CRC
+# from memory; pitzer.dat's own Portlandite -5.19 and Brucite -10.88 would differ by
+# design): (cation, element, formula, log Ksp, mol/kg of the chloride, mol/kg NaOH)
+HYDROXIDES = [("Mg+2", "Mg", "Mg(OH)2", -11.251, 1.0, 0.5),
+              ("Mg+2", "Mg", "Mg(OH)2", -11.251, 2.0, 0.2),
+              ("Ca+2", "Ca", "Ca(OH)2", -5.299, 1.0, 0.5),
+              ("Ca+2", "Ca", "Ca(OH)2", -5.299, 1.5, 1.0)]
+
+
+@pytest.mark.parametrize("metal, el, formula, log_ksp, m, naoh", HYDROXIDES,
+                         ids=[f"{h[2]}-{h[4]}" for h in HYDROXIDES])
+def test_hydroxide_precipitates_on_the_pitzer_path(pitzer_dat, metal, el, formula, log_ksp,
+                                                   m, naoh):
+    pitzer_dat.ip.run_string(
+        f"PHASES\nOwn\n  {formula} = {el}+2 + 2 OH-\n  log_k {log_ksp}\n"
+        f"SOLUTION 1\n  units mol/kgw\n  temp 25\n  {el} {m}\n  Cl {2 * m}\n"
+        f"  Na {naoh}\n  pH 12 charge\nEQUILIBRIUM_PHASES 1\n  Own 0 0\n"
+        "SELECTED_OUTPUT 1\n  -reset false\n  -pH true\n  -equilibrium_phases Own\nEND\n")
+    ph, amount, _ = pitzer_dat.ip.get_selected_output_array()[-1]   # pH, mol of solid
+    res = speciate(_molar({metal: m, "Cl-": 2 * m, "Na+": naoh}), activity="pitzer",
+                   catalog=CAT)
+    assert res.model_part.model == "pitzer" and res.converged
+    solid = next(v for k, v in res.solids.items() if formula in k)
+    assert solid / res.model_part.water_kg_per_l == pytest.approx(amount, rel=0.005)
+    assert res.pH == pytest.approx(ph, abs=0.01)
+    assert res.saturation_indices[next(k for k in res.solids if formula in k)] == 0.0
+
+
+def test_other_metals_stay_outside_the_pitzer_model():
+    mix = Mixture({"Zn+2": 1.0, "Cl-": 2.1}, 25.0)
+    with pytest.raises(InvalidInput, match="calcium and magnesium only"):
+        speciate(mix, activity="pitzer", catalog=CAT)
+    auto = speciate(mix, activity="auto", catalog=CAT)
+    assert auto.model_part.model == "davies"
+    assert any("calcium and magnesium only" in w for w in auto.warnings)
 
 
 def test_the_same_solution_batched_gives_the_same_ph(pitzer_dat):

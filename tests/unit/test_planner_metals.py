@@ -178,3 +178,29 @@ def test_a_hydroxide_without_a_heat_of_precipitation_is_counted_as_water_and_sai
     assert p.sludge and p.heat_released_kj == pytest.approx(
         p.metal_hydroxide_mol * 55.815, rel=0.02)   # CODATA water formation, as thermo.py
     assert any("Ni(OH)2: no heat of precipitation held" in a for a in p.assumptions)
+
+
+def test_a_calcium_solid_on_the_curve_puts_the_whole_plan_on_the_davies_metal_path():
+    # HCl 2 M + HF 0.05 M + CaCl2 0.5 M: the sample alone takes the Pitzer path
+    # (fluoride as HF, fluorite undersaturated), but NaOH turns it to F- and fluorite
+    # forms (two ligands per cation), which only the Davies metal path settles: every
+    # state of the plan uses that model
+    from carboy.model.speciation import speciate
+
+    sample = waste([("HCl", 2.0), ("HF", 0.05), ("CaCl2", 0.5)])
+    p = plan_neutralization(sample, parse_reagent("NaOH=10M"), target_pH=7.0,
+                            window=(6.0, 9.0), activity="auto", curve_points=CURVE)
+    assert speciate(sample, activity="auto", catalog=CAT).model_part.model == "pitzer"
+    assert p.activity_model == "davies"
+    assert p.initial_pH == pytest.approx(speciate(sample, activity="davies",
+                                                  catalog=CAT).pH, abs=1e-9)
+
+
+def test_lime_hydroxide_precipitates_on_the_pitzer_path():
+    # HCl 1 M + CaCl2 1 M with NaOH past the end point: portlandite forms, and the
+    # Pitzer path settles it itself (no fallback): the plan stays on that model
+    sample = waste([("HCl", 1.0), ("CaCl2", 1.0)])
+    p = plan_neutralization(sample, parse_reagent("NaOH=5M"), target_pH=7.0,
+                            window=(6.0, 9.0), activity="auto", curve_points=CURVE)
+    assert p.activity_model == "pitzer"
+    assert not any("would precipitate" in w for w in p.warnings)

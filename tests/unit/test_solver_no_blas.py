@@ -14,6 +14,8 @@ import carboy.model.metal_data
 import carboy.model.metals
 import carboy.model.molality
 import carboy.model.pitzer
+import carboy.model.pitzer_metals
+import carboy.model.pitzer_scalar
 import carboy.model.solver
 import carboy.model.speciation
 import carboy.model.speciation_models
@@ -22,7 +24,8 @@ SOLVER = sorted(Path(carboy.model.solver.__file__).parent.glob("*.py")) + [
     Path(m.__file__) for m in (carboy.model.speciation, carboy.model.metals,
                                carboy.model.metal_data, carboy.model.speciation_models,
                                carboy.model.pitzer, carboy.model.etheta,
-                               carboy.model.molality)]
+                               carboy.model.molality, carboy.model.pitzer_scalar,
+                               carboy.model.pitzer_metals)]
 """The solver's own modules, the metal terms it evaluates at every trial point, and the
 specific-interaction model's."""
 BLAS_CALLS = {"dot", "matmul", "tensordot", "inner", "vdot", "outer_product", "solve",

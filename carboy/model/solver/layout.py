@@ -194,10 +194,13 @@ def _split_metals(pt: _Parts) -> tuple[list[int], tuple[str, ...]]:
     return cols, found
 
 
-def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layout:
-    """The :class:`Layout` of a solution with columns ``keys`` at ``temperature_c``."""
+def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float, *,
+                   metals: bool = True) -> Layout:
+    """The :class:`Layout` of a solution with columns ``keys`` at ``temperature_c``;
+    ``metals`` False keeps the modelled metal ions among the spectators (the
+    specific-interaction path, which treats dissolved calcium and magnesium as ions)."""
     pt = _parts(catalog, keys, temperature_c)
-    metal_cols, metals_found = _split_metals(pt)
+    metal_cols, metals_found = _split_metals(pt) if metals else ([], ())
     metals = compile_metals(catalog, metal_cols, metals_found, tuple(pt.sys_keys),
                             _slices_of(pt.zs))
     if metals is not None:
@@ -290,13 +293,14 @@ def _needs_shift(logk: np.ndarray, m: int) -> bool:
 _LAYOUTS: dict = {}
 
 
-def cached_layout(catalog, keys: tuple[str, ...], temperature_c: float) -> Layout:
+def cached_layout(catalog, keys: tuple[str, ...], temperature_c: float, *,
+                  metals: bool = True) -> Layout:
     """:func:`compile_layout`, reused: layouts are pure functions of their arguments."""
-    k = (id(catalog), keys, temperature_c)
+    k = (id(catalog), keys, temperature_c, metals)
     hit = _LAYOUTS.get(k)
     if hit is not None and hit[0] is catalog:
         return hit[1]
-    lay = compile_layout(catalog, keys, temperature_c)
+    lay = compile_layout(catalog, keys, temperature_c, metals=metals)
     if len(_LAYOUTS) >= 512:
         _LAYOUTS.clear()
     _LAYOUTS[k] = (catalog, lay)

@@ -57,6 +57,11 @@ SPLIT_ROUNDS = 200
 """Alternating mass-balance rounds that split a lumped row into free ions and pairs."""
 DAVIES_PAIRS = ("CaOH+", "MgOH+", "NaSO4-", "KSO4-", "CaSO4", "MgSO4")
 """The ion pairs of the Davies path (``data/ion_pairs.toml``)."""
+HYDRATED = {"CO2": 1}
+"""Top states that take water to lose their first proton: CO2(aq) + H2O = HCO3- + H+
+(pitzer.dat writes the carbonate reactions with H2O: CO3-2 + 2 H+ = CO2 + H2O).  With the
+Pitzer model every state below such a top state weighs a_w more (log10 a_w times this
+count added to its weight's exponent); with Davies or ideal a_w is 1."""
 PITZER_PAIRS = ("MgOH+",)
 """The pairs the Pitzer parameter set treats as species (``pitzer.toml [[constants]]``;
 PHREEQC's pitzer.dat has no CaOH+ or sulfate pairs: its parameters describe them)."""
@@ -85,6 +90,7 @@ class Table:
     pair_cols: np.ndarray       # (P,) column of each pair
     pairs: tuple[Pair, ...]
     state_j: np.ndarray         # (S,) protons each state lost from its top state
+    state_water: np.ndarray     # (S,) water each state's formation from the top takes
 
 
 def _pair_constant(rec, temperature_c: float) -> float:
@@ -142,9 +148,11 @@ def _table(lay: Layout, model: str, temperature_c: float) -> Table:
     col = np.array([labels.index(lab) for lab in raw], dtype=int)
     j, s = len(lay.ion_labels), lay.flat_j.shape[0]
     charge = dict(lay.charge_map) | {p.label: p.charge for p in pairs}
+    water = [float(HYDRATED.get(labs[0], 0)) * (k > 0)
+             for labs in lay.sys_labels for k in range(len(labs))]
     return Table(labels, np.array([charge[lab] for lab in labels], dtype=float),
                  col[2:2 + j], col[2 + j:2 + j + s], col[2 + j + s:], pairs,
-                 lay.flat_j.astype(float))
+                 lay.flat_j.astype(float), np.array(water, dtype=float))
 
 
 _TABLES: dict = {}
@@ -333,7 +341,8 @@ def _pitzer_terms(tab: Table, lg: np.ndarray, lw: np.ndarray, log_s: np.ndarray,
     """The inner solve's terms from log10 coefficients ``lg`` (N, U), log10 a_w and
     log10 s (N,), and the pairs' lift (S+1, N)."""
     lg_h = lg[:, 0] + log_s
-    shift = -(lg[:, tab.state_cols].T + np.multiply.outer(tab.state_j, lg_h)) + lift[:-1]
+    shift = (-(lg[:, tab.state_cols].T + np.multiply.outer(tab.state_j, lg_h)) + lift[:-1]
+             + np.multiply.outer(tab.state_water, lw))
     log_kw = -pkw + lw - lg[:, 0] - lg[:, 1] - 2.0 * log_s + lift[-1]
     return Terms(shift, -log_kw, ispec)
 

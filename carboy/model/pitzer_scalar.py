@@ -1,0 +1,248 @@
+"""The Pitzer equations of ``pitzer.py`` for one solution, in plain Python floats.
+
+A solver that works on one solution calls the activity model several times; numpy's
+cost per call (a few microseconds) would then dominate the arithmetic, as it does in
+the Davies path (``solver/single.py``).  :class:`ScalarPitzer` is compiled once from a
+:class:`~carboy.model.pitzer.PitzerModel` (the same parameter arrays at the same
+temperature) into lists of the nonzero terms, and :meth:`ScalarPitzer.evaluate` gives
+ln γ of every species, the osmotic coefficient, the water activity and the ionic
+strength: the same numbers as ``PitzerModel.evaluate`` (tests/unit/test_pitzer_scalar.py
+holds them to 1e-12), summed pair by pair.
+"""
+
+from __future__ import annotations
+
+import math
+from functools import lru_cache
+from operator import mul
+
+from carboy.model.etheta import GRID_STEP, X_MAX, X_MIN, j_integral
+from carboy.model.etheta import _table as _j_table
+from carboy.model.pitzer import WATER_KG_PER_MOL, PitzerModel
+
+_LN10 = math.log(10.0)
+
+
+def _g(x: float) -> float:
+    if x < 1e-3:
+        return 1.0 - 2.0 * x / 3.0 + x * x / 4.0
+    return 2.0 * (1.0 - (1.0 + x) * math.exp(-x)) / (x * x)
+
+
+def _gp(x: float) -> float:
+    if x < 1e-3:
+        return -(x / 3.0 - x * x / 4.0)
+    return -2.0 * (1.0 - (1.0 + x + 0.5 * x * x) * math.exp(-x)) / (x * x)
+
+
+@lru_cache(maxsize=1)
+def _j_lists():
+    u0, u, j, dj, jp, djp = _j_table()
+    return float(u0), len(u), u.tolist(), j.tolist(), dj.tolist(), jp.tolist(), djp.tolist()
+
+
+def j_scalar(x: float) -> tuple[float, float]:
+    """J(x) and J'(x) as ``etheta.j_function`` gives them, for one x."""
+    if x < X_MIN:
+        return 0.0, 0.0
+    if x >= X_MAX:
+        j, jp, _ = j_integral([x])
+        return float(j[0]), float(jp[0])
+    u0, n, u, j, dj, jp, djp = _j_lists()
+    ux = math.log(x)
+    k = min(int((ux - u0) / GRID_STEP), n - 2)
+    t = (ux - u[k]) / GRID_STEP
+    t2, t3 = t * t, t * t * t
+    h00, h10, h01, h11 = 2 * t3 - 3 * t2 + 1, t3 - 2 * t2 + t, -2 * t3 + 3 * t2, t3 - t2
+    h = GRID_STEP
+    return (h00 * j[k] + h10 * h * dj[k] + h01 * j[k + 1] + h11 * h * dj[k + 1],
+            h00 * jp[k] + h10 * h * djp[k] + h01 * jp[k + 1] + h11 * h * djp[k + 1])
+
+
+class ScalarPitzer:
+    """One :class:`PitzerModel` as lists of its nonzero terms (species in its order)."""
+
+    def __init__(self, model: PitzerModel):
+        p, z = model._p, [float(v) for v in model._z]
+        self.n_user = len(model.species)
+        self.n = len(z)
+        self.z = z
+        self.z2 = [v * v for v in z]
+        self.az = [abs(v) for v in z]
+        self.ions = [i for i, v in enumerate(z) if v]
+        cat, ani = p.cat.tolist(), p.ani.tolist()
+        self.binary = []
+        alphas = set()
+        for ci, c in enumerate(cat):
+            for ai, a in enumerate(ani):
+                b0, b1, b2 = float(p.b0[ci, ai]), float(p.b1[ci, ai]), float(p.b2[ci, ai])
+                cc = float(p.c[ci, ai])
+                a1, a2 = float(p.alpha1[ci, ai]), float(p.alpha2[ci, ai])
+                if b0 or b1 or b2 or cc:
+                    self.binary.append((c, a, b0, b1, a1, b2, a2, cc))
+                    alphas.update(v for v, b in ((a1, b1), (a2, b2)) if b)
+        self.alphas = tuple(sorted(alphas))
+        like = self._like(cat, p.theta_c) + self._like(ani, p.theta_a)
+        self.theta = [(i, j, 2.0 * th, th) for i, j, th, key in like if key is None]
+        self.like = [t for t in like if t[3] is not None]    # with an Eθ term
+        self.charge_pairs = tuple(sorted({key for *_, key in self.like}))
+        self.neutral, zeta = self._neutrals(cat, ani, p.neu.tolist(), p)
+        # ψ (two like ions and one other) and ζ (a neutral, a cation, an anion) enter
+        # every sum in the same form: one list of triplets
+        self.triples = self._psi(cat, ani, p) + zeta
+        self.fallback = [i for i, f in enumerate(model._fallback_mask.tolist()) if f]
+        self.ref = model._ref
+        self.kcl = model._kcl
+        self.b, self.aphi, self.a_davies = model._b, model._aphi, model._a_davies
+        self.macinnes = model.scale == "macinnes"
+
+    def _like(self, idx: list[int], theta) -> list:
+        """(i, j, θ, (|zi|, |zj|) or None) for every like-signed pair with a θ or with
+        charges of different size (the unsymmetrical Eθ term)."""
+        out = []
+        for a, i in enumerate(idx):
+            for b in range(a + 1, len(idx)):
+                j = idx[b]
+                zi, zj = self.az[i], self.az[j]
+                key = (min(zi, zj), max(zi, zj)) if zi != zj else None
+                th = float(theta[a, b])
+                if th or key:
+                    out.append((i, j, th, key))
+        return out
+
+    @staticmethod
+    def _psi(cat, ani, p) -> list:
+        out = []
+        for group, other, arr in ((cat, ani, p.psi_c), (ani, cat, p.psi_a)):
+            for a, i in enumerate(group):
+                for b in range(a + 1, len(group)):
+                    for k, o in enumerate(other):
+                        v = float(arr[a, b, k])
+                        if v:
+                            out.append((i, group[b], o, v))
+        return out
+
+    @staticmethod
+    def _neutrals(cat, ani, neu, p) -> tuple[list, list]:
+        lam, zeta = [], []
+        for k, n in enumerate(neu):
+            for idx, arr in ((cat, p.lam_c), (ani, p.lam_a)):
+                lam.extend((n, o, float(arr[k, t]), True) for t, o in enumerate(idx)
+                           if arr[k, t])
+            for t in range(k, len(neu)):
+                if p.lam_n[k, t]:
+                    lam.append((n, neu[t], float(p.lam_n[k, t]), False))
+            zeta.extend((n, c, a, float(p.zeta[k, ci, ai])) for ci, c in enumerate(cat)
+                        for ai, a in enumerate(ani) if p.zeta[k, ci, ai])
+        return lam, zeta
+
+    # ------------------------------------------------------------------ evaluation
+
+    def _etheta(self, ionic: float, root: float) -> dict:
+        out = {}
+        xcon = 6.0 * self.aphi * root
+        for zi, zj in self.charge_pairs:
+            x_ij, x_ii, x_jj = zi * zj * xcon, zi * zi * xcon, zj * zj * xcon
+            (j_ij, jp_ij), (j_ii, jp_ii), (j_jj, jp_jj) = (
+                j_scalar(x_ij), j_scalar(x_ii), j_scalar(x_jj))
+            zz = zi * zj
+            eth = zz * (j_ij - 0.5 * j_ii - 0.5 * j_jj) / (4.0 * ionic)
+            dbr = x_ij * jp_ij - 0.5 * x_ii * jp_ii - 0.5 * x_jj * jp_jj
+            out[(zi, zj)] = (eth, -eth / ionic + zz * dbr / (8.0 * ionic * ionic))
+        return out
+
+    def _binary(self, m, ln, ionic, root, big_z):
+        """Cation–anion terms into ``ln``; returns (Σ m m B', osmotic sum, Σ m m C)."""
+        funcs = {}
+        for a in self.alphas:
+            x = a * root
+            funcs[a] = (_g(x), _gp(x), math.exp(-x))
+        fprime = osm = csum = 0.0
+        zero = (0.0, 0.0, 0.0)
+        for c, a, b0, b1, a1, b2, a2, cc in self.binary:
+            mc, ma = m[c], m[a]
+            g1, gp1, e1 = funcs[a1] if b1 else zero
+            g2, gp2, e2 = funcs[a2] if b2 else zero
+            bg = 2.0 * (b0 + b1 * g1 + b2 * g2) + big_z * cc
+            ln[c] += ma * bg
+            ln[a] += mc * bg
+            mm = mc * ma
+            fprime += mm * (b1 * gp1 + b2 * gp2)
+            osm += mm * (b0 + b1 * e1 + b2 * e2 + big_z * cc)
+            csum += mm * cc
+        return fprime / ionic, osm, csum
+
+    def _mixing(self, m, ln, ionic, root) -> tuple[float, float]:
+        """θ, Eθ, ψ, ζ and λ terms into ``ln``; returns (Σ m m Φ', osmotic sum)."""
+        eth = self._etheta(ionic, root) if self.charge_pairs else {}
+        fprime = osm = 0.0
+        for i, j, th2, th in self.theta:
+            mi, mj = m[i], m[j]
+            ln[i] += mj * th2
+            ln[j] += mi * th2
+            osm += mi * mj * th
+        for i, j, th, key in self.like:
+            e, ep = eth[key]
+            mi, mj = m[i], m[j]
+            phi = th + e
+            ln[i] += 2.0 * mj * phi
+            ln[j] += 2.0 * mi * phi
+            mm = mi * mj
+            fprime += mm * ep
+            osm += mm * (phi + ionic * ep)
+        for i, j, k, v in self.triples:
+            mj, mk = m[j], m[k]
+            a, b = m[i] * v, mj * mk
+            ln[i] += b * v
+            ln[j] += a * mk
+            ln[k] += a * mj
+            osm += a * b
+        for n, o, v, ion in self.neutral:
+            mn, mo = m[n], m[o]
+            if ion or o != n:
+                ln[o] += 2.0 * mn * v
+                ln[n] += 2.0 * mo * v
+                osm += mn * mo * v
+            else:
+                ln[n] += 2.0 * mn * v
+                osm += 0.5 * mn * mn * v
+        return fprime, osm
+
+    def evaluate(self, molality: list[float]):
+        """(ln γ of the model's species, osmotic φ, a_w, I) at one composition (mol/kg)."""
+        m = list(molality)
+        if len(m) < self.n:
+            m.append(0.0)   # the reference anion (Cl-), carried at zero
+        z, z2, az = self.z, self.z2, self.az
+        ionic = 0.5 * sum(map(mul, m, z2))
+        big_z = sum(map(mul, m, az))
+        total = sum(m)
+        i_safe = ionic if ionic > 1e-100 else 1e-100
+        root = math.sqrt(i_safe)
+        b, aphi = self.b, self.aphi
+        f_dh = -aphi * (root / (1.0 + b * root) + 2.0 / b * math.log1p(b * root))
+        ln = [0.0] * self.n
+        bprime, osm_b, csum = self._binary(m, ln, i_safe, root, big_z)
+        mprime, osm_m = self._mixing(m, ln, i_safe, root)
+        big_f = f_dh + bprime + mprime
+        for i in self.ions:
+            ln[i] += z2[i] * big_f + az[i] * csum
+        osm = -aphi * ionic * root / (1.0 + b * root) + osm_b + osm_m
+        b0, b1, cphi = self.kcl
+        x = 2.0 * root
+        phimac = ln[self.ref] - (f_dh + ionic * (2.0 * b0 + b1 * (2.0 * _g(x) + _gp(x)))
+                                 + 1.5 * cphi * ionic * ionic)
+        if self.fallback:
+            dav = -_LN10 * self.a_davies * (root / (1.0 + root) - 0.3 * ionic)
+            for i in self.fallback:
+                ln[i] = dav * z2[i]
+        if self.macinnes:
+            ln = [v + phimac * zi for v, zi in zip(ln, z)]
+        phi = 1.0 + 2.0 * osm / total if total > 0 else 1.0
+        return ln[:self.n_user], phi, math.exp(-phi * total * WATER_KG_PER_MOL), ionic
+
+
+@lru_cache(maxsize=64)
+def scalar_model(model: PitzerModel) -> ScalarPitzer:
+    """The scalar form of ``model`` (models are cached and never change)."""
+    return ScalarPitzer(model)

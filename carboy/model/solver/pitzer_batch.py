@@ -1,0 +1,326 @@
+"""The specific-interaction (Pitzer) path for a batch: ``pitzer_one``'s iteration on arrays.
+
+The same unknowns and rounds as the one-solution path (x = log10 m(H+) in mol/kg; each
+round solves the charge balance at held coefficients by a bracketed Newton iteration,
+then evaluates every coefficient and the water activity at the composition it gives,
+and mixes them by depth-one Anderson), with every point of the batch at once and three
+savings that a curve allows:
+
+* only the points still moving are carried into the next round (a point's rounds end
+  when no log10 coefficient moved more than ``pitzer_one.ONE_TOL``; x is then solved
+  once more at the last coefficients);
+* a batch of ``WARM_MIN`` points or more is solved coarse to fine: every
+  ``WARM_STRIDE``-th point and the last first, then each point between from the cubic
+  through its solved neighbours' coefficients and roots (the coefficients change
+  smoothly along a curve even where x jumps, so those points settle in a round or two);
+* no Davies solve first: the start is the bound on H+ or OH- the totals give
+  (``pitzer_one._start``, on arrays).
+
+Sums are einsum reductions and elementwise products, no matrix products (no BLAS).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from carboy.model.pitzer import I_MAX_MOLAL, PitzerModel
+from carboy.model.solver.constants import LN10
+from carboy.model.solver.outer import Outcome
+from carboy.model.solver.pitzer_one import (
+    MAX_STEP,
+    NEWTON_STEPS,
+    ONE_ROUNDS,
+    ONE_TOL,
+    QUADRATIC,
+    SETTLED_TOL,
+    X_BOUNDS,
+    X_STEP_TOL,
+    OneTable,
+)
+from carboy.model.solver.pitzer_salts import salt_array
+
+WARM_MIN = 25
+"""Batches of at least this many points are solved coarse to fine."""
+WARM_STRIDE = 8
+"""The coarse pass takes every this-many-th point (and the last)."""
+COLD_TOL = 1e-3
+"""The first round from coefficients of 1 needs x only roughly (log10)."""
+WARM_TOL = 1e-10
+"""The first round from interpolated coefficients needs x as closely as they are known."""
+
+
+@dataclass(frozen=True)
+class BatchTable:
+    """A :class:`OneTable` as arrays."""
+
+    n: int
+    zpos: np.ndarray                 # (U,) positive charge of each column
+    zneg: np.ndarray                 # (U,) magnitude of the negative charge
+    ion_cols: np.ndarray             # (J,) column of each spectator
+    ion_batch: np.ndarray            # (J,) its batch column
+    systems: tuple                   # (batch column, cols (M,), log beta0 (M,), j (M,))
+    pairs: tuple                     # (pair column, cation column, log10 K)
+    pkw: float
+    # every system's states in one row, system after system (S states in all)
+    cols: np.ndarray                 # (S,) column of each state
+    lb: np.ndarray                   # (S,) log10 beta0
+    j: np.ndarray                    # (S,) protons lost from the top state
+    sys_of: np.ndarray               # (S,) its system
+    starts: np.ndarray               # (K,) first state of each system
+    repeats: bool                    # does a column hold states of two systems?
+    water: np.ndarray                # (S,) water each state takes (outer.HYDRATED)
+    solids: tuple = ()               # OneTable.solids: the hydroxides that may form
+    salts: tuple = ()                # OneTable.salts: the 1:1 salts that may form
+
+
+def batch_table(ot: OneTable) -> BatchTable:
+    z = np.array(ot.charges)
+    systems = tuple((b, np.array([s[0] for s in st], dtype=int),
+                     np.array([s[1] for s in st]), np.array([s[2] for s in st]))
+                    for b, st in ot.systems)
+    flat = [(c, lb, j, k, h2o) for k, (_, st) in enumerate(ot.systems)
+            for c, lb, j, h2o in st]
+    sizes = [len(st) for _, st in ot.systems]
+    return BatchTable(ot.n, np.maximum(z, 0.0), np.maximum(-z, 0.0),
+                      np.array([c for c, _ in ot.ions], dtype=int),
+                      np.array([b for _, b in ot.ions], dtype=int), systems, ot.pairs, ot.pkw,
+                      np.array([f[0] for f in flat], dtype=int), np.array([f[1] for f in flat]),
+                      np.array([f[2] for f in flat]), np.array([f[3] for f in flat], dtype=int),
+                      np.cumsum([0] + sizes[:-1]).astype(int),
+                      len({f[0] for f in flat}) < len(flat), np.array([f[4] for f in flat]),
+                      ot.solids, ot.salts)
+
+
+def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
+    """(N, U) molalities at x and their x-derivatives, and ln POS - ln NEG with its
+    x-derivative."""
+    m = ions.copy()
+    dm = np.zeros_like(m)
+    h = np.exp(LN10 * x)
+    oh = np.exp(LN10 * (lw - bt.pkw - lg[:, 0] - lg[:, 1] - x))
+    m[:, 0], m[:, 1] = h, oh
+    dm[:, 0], dm[:, 1] = LN10 * h, -LN10 * oh
+    for pc, mc, log_k in bt.pairs:
+        total = ions[:, mc]
+        k = np.exp(LN10 * (log_k + lg[:, mc] + lg[:, 1] - lg[:, pc]))
+        p = total * k * oh / (1.0 + k * oh)
+        dp = total * k * dm[:, 1] / (1.0 + k * oh) ** 2
+        m[:, pc] += p
+        m[:, mc] -= p
+        dm[:, pc] += dp
+        dm[:, mc] -= dp
+    if bt.solids:
+        _hydroxides(bt, m, dm, lg, lw - bt.pkw - lg[:, 0] - x, oh)
+    if bt.systems:
+        j, so = bt.j, bt.sys_of
+        logw = (bt.lb[None, :] - lg[:, bt.cols] - np.multiply.outer(x + lg[:, 0], j)
+                + np.multiply.outer(lw, bt.water))
+        logw -= np.maximum.reduceat(logw, bt.starts, axis=1)[:, so]
+        w = np.exp(LN10 * logw)
+        conc = w * (sys_tot / np.add.reduceat(w, bt.starts, axis=1))[:, so]
+        jbar = np.add.reduceat(conc * j, bt.starts, axis=1) / np.where(
+            sys_tot > 0, sys_tot, 1.0)
+        slope = -LN10 * conc * (j[None, :] - jbar[:, so])
+        if bt.repeats:   # a label two systems share: add column by column
+            np.add.at(m.T, bt.cols, conc.T)
+            np.add.at(dm.T, bt.cols, slope.T)
+        else:
+            m[:, bt.cols] += conc
+            dm[:, bt.cols] += slope
+        for k, entry in bt.salts:
+            _, cols, _, jk = bt.systems[k]
+            a = bt.starts[k]
+            salt_array(entry, m, dm, lg, lw, lw - bt.pkw - lg[:, 0] - x, cols, jk,
+                       conc[:, a:a + cols.shape[0]], jbar[:, k], sys_tot[:, k])
+    pos, neg = np.einsum("nu,u->n", m, bt.zpos), np.einsum("nu,u->n", m, bt.zneg)
+    dpos, dneg = np.einsum("nu,u->n", dm, bt.zpos), np.einsum("nu,u->n", dm, bt.zneg)
+    return m, dm, np.log(pos) - np.log(neg), dpos / pos - dneg / neg
+
+
+def _hydroxides(bt: BatchTable, m, dm, lg, log_oh_act, oh) -> None:
+    """``pitzer_one._hydroxides`` on arrays: the free cation is the smaller of its mass
+    balance's and the solubility product's, in place."""
+    for mc, pc, log_k, z, log_ksp in bt.solids:
+        total = m[:, mc].copy()
+        k = np.exp(LN10 * (log_k + lg[:, mc] + lg[:, 1] - lg[:, pc])) if pc >= 0 else 0.0
+        free = total / (1.0 + k * oh)
+        cap = np.exp(LN10 * (log_ksp - lg[:, mc] - z * log_oh_act))
+        present = cap < free
+        free = np.where(present, cap, free)
+        p = k * free * oh
+        m[:, mc] = free
+        dfree = np.where(present, z * LN10 * free, LN10 * p / (1.0 + k * oh))
+        dm[:, mc] += dfree
+        if pc >= 0:
+            m[:, pc] += p
+            dm[:, pc] += np.where(present, p * LN10 * (z - 1.0), -dfree)
+
+
+def solve_x(bt: BatchTable, x, lg, lw, ions, sys_tot, tol):
+    """The charge balance's root in x at held coefficients, every point (``tol`` (N,)):
+    (x, molalities there).  Each Newton step takes only the points still moving."""
+    x = np.clip(x, *X_BOUNDS)
+    lo = np.full(x.shape, X_BOUNDS[0])
+    hi = np.full(x.shape, X_BOUNDS[1])
+    m = np.empty((x.shape[0], bt.n))
+    act = np.arange(x.shape[0])
+    xa = x
+    for _ in range(NEWTON_STEPS):
+        ma, dma, g, dg = _composition(bt, xa, lg[act], lw[act], ions[act], sys_tot[act])
+        h = np.where(g > 0, xa, hi[act])
+        lo_a = np.where(g > 0, lo[act], xa)
+        step = np.where(dg > 0, -g / np.where(dg > 0, dg, 1.0), np.inf)
+        near = (np.abs(step) < tol[act]) | (step * step < QUADRATIC * tol[act])
+        done = near | (h - lo_a < X_STEP_TOL)
+        last = np.where(near, step, 0.0)     # Newton's last step, taken to first order
+        m[act] = ma + dma * last[:, None]
+        x[act] = xa + last
+        if done.all():
+            break
+        new = xa + np.clip(step, -MAX_STEP, MAX_STEP)
+        new = np.where((new > lo_a) & (new < h), new, 0.5 * (lo_a + h))
+        keep = ~done
+        act, xa = act[keep], new[keep]
+        hi[act], lo[act] = h[keep], lo_a[keep]
+    return x, m
+
+
+def start(bt: BatchTable, ions, sys_tot) -> np.ndarray:
+    """``pitzer_one._start`` on arrays."""
+    z = bt.zpos - bt.zneg
+    fixed = np.einsum("nu,u->n", ions, z)
+    low = fixed + sum(sys_tot[:, k] * z[c].min() for k, (_, c, _, _) in enumerate(bt.systems))
+    high = fixed + sum(sys_tot[:, k] * z[c].max() for k, (_, c, _, _) in enumerate(bt.systems))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(low < 0, np.log10(-low),
+                        np.where(high > 0, -bt.pkw - np.log10(high), -7.0))
+
+
+def _anderson(v, g, prev):
+    if prev is None:
+        return g
+    v0, g0 = prev
+    r = g - v
+    dr = r - (g0 - v0)
+    den = np.einsum("nu,nu->n", dr, dr)
+    theta = np.einsum("nu,nu->n", r, dr) / np.where(den > 0, den, 1.0)
+    theta = np.where(den > 0, theta, 0.0)
+    return g - theta[:, None] * (g - g0)
+
+
+@dataclass
+class _State:
+    """Per point: x, the held coefficients v (log10 γ, then log10 a_w), and, once
+    settled, the molalities and the model's osmotic coefficient and ionic strength."""
+
+    x: np.ndarray
+    v: np.ndarray
+    m: np.ndarray
+    extra: np.ndarray        # (N, 3): φ, a_w, I
+    rounds: np.ndarray
+    ok: np.ndarray
+
+
+def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot,
+            first_tol: float) -> None:
+    """Settle the points ``idx`` of ``st`` (from their x and v), in place; the first
+    round's x-solve stops at a step below ``first_tol``."""
+    n = bt.n
+    x, v = st.x[idx], st.v[idx]
+    prev = None
+    moved = last = np.ones(idx.shape[0])
+    for r in range(1, ONE_ROUNDS + 1):
+        tol = np.maximum(X_STEP_TOL, 1e-7 * moved) if r > 1 else np.full(moved.shape,
+                                                                          first_tol)
+        x, m = solve_x(bt, x, v[:, :n], v[:, n], ions[idx], sys_tot[idx], tol)
+        ln_gamma, phi, aw, ionic = model.coefficients(m)
+        g = np.concatenate([ln_gamma / LN10, np.log10(aw)[:, None]], axis=1)
+        moved = np.abs(g - v).max(axis=1)
+        rho = moved / np.where(last > 0, last, 1.0)
+        done = (moved <= ONE_TOL) | ((r >= 3) & (rho < 0.5)
+                                     & (moved * rho <= SETTLED_TOL * (1.0 - rho)))
+        ok = done
+        if r == ONE_ROUNDS:
+            done = np.ones_like(done)
+        if done.any():
+            d = idx[done]
+            xd, md = solve_x(bt, x[done], g[done, :n], g[done, n], ions[d], sys_tot[d],
+                             np.full(int(done.sum()), X_STEP_TOL))
+            st.x[d], st.v[d], st.m[d], st.rounds[d] = xd, g[done], md, r
+            st.ok[d] = ok[done]
+            st.extra[d] = np.column_stack([phi[done], aw[done], ionic[done]])
+        keep = ~done
+        if not keep.any():
+            return
+        nv = _anderson(v, g, prev)
+        prev = (v[keep], g[keep])
+        idx, x, v, last, moved = idx[keep], x[keep], nv[keep], moved[keep], moved[keep]
+
+
+def _between(st: _State, coarse: np.ndarray, fine: np.ndarray) -> None:
+    """x and v of the ``fine`` points from the cubic (in the point index) through the
+    four solved ``coarse`` points nearest (``coarse`` has at least four)."""
+    t = coarse.astype(float)
+    pos = np.clip(np.searchsorted(t, fine) - 2, 0, len(t) - 4)
+    nodes = pos[:, None] + np.arange(4)[None, :]              # (F, 4) into coarse
+    tn = t[nodes]
+    f = fine.astype(float)[:, None]
+    w = np.ones((fine.shape[0], 4))
+    for a in range(4):
+        for b in range(4):
+            if a != b:
+                w[:, a] *= (f[:, 0] - tn[:, b]) / (tn[:, a] - tn[:, b])
+    st.x[fine] = np.einsum("fa,fa->f", w, st.x[coarse][nodes])
+    st.v[fine] = np.einsum("fa,fau->fu", w, st.v[coarse][nodes])
+
+
+def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
+                water_kg_per_l: np.ndarray):
+    """Solve every point; returns (x molal, molalities (N, U), lg (N, U), φ, a_w, I,
+    rounds, converged) by point."""
+    s = 1.0 / water_kg_per_l
+    npts = totals.shape[0]
+    ions = np.zeros((npts, bt.n))
+    np.add.at(ions.T, bt.ion_cols, totals[:, bt.ion_batch].T * s)
+    sys_tot = np.stack([totals[:, b] * s for b, _, _, _ in bt.systems], axis=1) \
+        if bt.systems else np.zeros((npts, 0))
+    st = _State(start(bt, ions, sys_tot), np.zeros((npts, bt.n + 1)),
+                np.zeros((npts, bt.n)), np.zeros((npts, 3)), np.zeros(npts, dtype=int),
+                np.zeros(npts, dtype=bool))
+    every = np.arange(npts)
+    if npts >= WARM_MIN:
+        coarse = np.unique(np.r_[every[::WARM_STRIDE], npts - 1])
+        _rounds(bt, model, st, coarse, ions, sys_tot, COLD_TOL)
+        fine = np.setdiff1d(every, coarse)
+        _between(st, coarse, fine)
+        _rounds(bt, model, st, fine, ions, sys_tot, WARM_TOL)
+    else:
+        _rounds(bt, model, st, every, ions, sys_tot, COLD_TOL)
+    return st
+
+
+def batch_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
+                  water_kg_per_l: np.ndarray) -> Outcome:
+    """The :class:`Outcome` of a batch (``totals`` (N, C) mol/L) as ``outer`` gives it."""
+    bt = batch_table(ot)
+    st = solve_batch(bt, model, totals, water_kg_per_l)
+    w = water_kg_per_l
+    lg = st.v[:, :bt.n]
+    table = st.m * w[:, None]
+    # the systems' dissolved totals (a salt holds the rest) and their shares
+    dissolved = [st.m[:, c].sum(axis=1) for _, c, _, _ in bt.systems]
+    alpha = np.concatenate([st.m[:, c] / np.where(d > 0, d, 1.0)[:, None]
+                            for (_, c, _, _), d in zip(bt.systems, dissolved)], axis=1).T \
+        if bt.systems else np.zeros((0, totals.shape[0]))
+    ceff = np.stack([d * w for d in dissolved]) if bt.systems \
+        else np.zeros((0, totals.shape[0]))
+    phi, aw, ionic = st.extra.T
+    mall = np.concatenate([st.m, np.zeros((st.m.shape[0], len(model._all) - bt.n))], axis=1)
+    here = (mall[:, :bt.n][:, model._fallback_mask[:bt.n]] > 0).any(axis=1)
+    extra = {"ionic_strength_molal": ionic, "water_activity": aw, "osmotic": phi,
+             "valid": (ionic <= I_MAX_MOLAL) & ~here,
+             "warnings": model._warnings(mall, ionic, here)}
+    return Outcome(st.x + np.log10(w), np.zeros_like(w), st.ok, int(st.rounds.max(initial=0)),
+                   table, lg, -(st.x + lg[:, 0]), (alpha, ceff.copy()), extra)

@@ -1,0 +1,335 @@
+"""The specific-interaction (Pitzer) path for one solution, in plain Python floats.
+
+The vectorized path (``outer.solve_pitzer``) pays numpy's cost per call on every
+round; for one solution that cost is most of the time, so this module does the same
+arithmetic on floats (as ``single.py`` does for the Davies path).  Molal throughout:
+the unknown is x = log10 m(H+) (mol/kg); with the log10 coefficients ``lg`` of every
+species and log10 a_w held, a state j of a system (j protons lost from its top state)
+weighs ``10**(log beta_j - lg_j - j (x + lg_H))``, OH- is ``Kw a_w / (γ_H γ_OH m_H)``,
+and a pair P = M + OH- (MgOH+, the Pitzer set's one) holds ``T_M k m_OH / (1 + k m_OH)``
+of its cation, k = K γ_M γ_OH / γ_P.
+
+Each round solves the charge balance for x with the coefficients held (Newton on
+ln POS - ln NEG, which rises with x, inside a bracket that each step narrows; a step
+that leaves it bisects), then evaluates the coefficients at the composition it gives
+(``pitzer_scalar``).  The rounds are a fixed-point iteration on (lg, log10 a_w),
+accelerated by Anderson mixing of depth one; a solution has settled when no
+coefficient moved more than ``ONE_TOL`` in its last round.
+
+:func:`compile_one` returns None for a table this path does not take (a pair whose
+ligand is a protonation state); the vectorized path then solves it.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from operator import mul
+
+import numpy as np
+
+from carboy.model.pitzer import I_MAX_MOLAL
+from carboy.model.pitzer_scalar import ScalarPitzer
+from carboy.model.solver.constants import LN10
+from carboy.model.solver.outer import Outcome
+from carboy.model.solver.pitzer_salts import salt_float
+
+ONE_TOL = 1e-8
+"""A round that moves no log10 coefficient more than this ends the iteration; x is then
+solved once more at the last coefficients (the Anderson-mixed rounds have by then
+settled them to about 1e-11)."""
+SETTLED_TOL = 1e-10
+"""The error in log10 γ a settled solution may keep by the contraction estimate."""
+ONE_ROUNDS = 60
+"""Rounds before the solution is reported unsettled."""
+X_BOUNDS = (-20.0, 3.0)
+"""log10 m(H+) always lies here (pH -3 to 20 on the molal scale)."""
+NEWTON_STEPS = 100
+X_STEP_TOL = 1e-12
+"""The charge balance's root in x is settled when a Newton step is below this."""
+MAX_STEP = 2.0
+"""A Newton step in x is cut to this length (log10) before the bracket is consulted."""
+QUADRATIC = 1e-2
+"""A Newton step s with s² below this times the tolerance also ends the x-solve:
+Newton's error after it is of order s²."""
+
+
+@dataclass(frozen=True)
+class OneTable:
+    """A species table compiled for the float path."""
+
+    n: int                          # species (columns of the table)
+    charges: tuple[float, ...]
+    ions: tuple                     # (column, batch column) of each spectator ion
+    systems: tuple                  # (batch column, ((column, log beta0, j, water), ...))
+    pairs: tuple                    # (pair column, cation column, log10 K)
+    pkw: float
+    zpos: tuple[float, ...] = ()    # positive charge of each column
+    zneg: tuple[float, ...] = ()    # magnitude of the negative charge
+    solids: tuple = ()              # (cation column, pair column or -1, pair log10 K,
+    #                                  z, log10 Ksp of M(OH)z = M + z OH-) per hydroxide
+    salts: tuple = ()               # (system, pitzer_salts entry) per 1:1 salt
+
+
+def compile_one(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
+                ) -> OneTable | None:
+    """The :class:`OneTable` of a layout's Pitzer table (None: a pair on a state);
+    ``hydroxides`` (cation label, z, log10 Ksp of M(OH)z = M + z OH-) and ``salts``
+    (cation label, system key, ligand label, log10 Ksp, waters) may precipitate."""
+    if any(p.state >= 0 for p in tab.pairs):
+        return None
+    ions = tuple((int(c), int(b)) for c, b in zip(tab.ion_cols.tolist(), lay.ion_cols.tolist()))
+    systems = []
+    cols, water = tab.state_cols.tolist(), tab.state_water.tolist()
+    for k, (a, b) in enumerate(lay.sys_slices):
+        states = tuple((cols[s], float(lay.flat_lb0[s]), float(lay.flat_j[s]), water[s])
+                       for s in range(a, b))
+        systems.append((int(lay.sys_cols[k]), states))
+    pairs = [(int(c), int(tab.ion_cols[p.ion]), float(p.log_k))
+             for p, c in zip(tab.pairs, tab.pair_cols.tolist())]
+    solids = []
+    for label, zm, log_ksp in hydroxides:
+        if label not in tab.labels:
+            continue
+        mc = tab.labels.index(label)
+        own = [pr for pr in pairs if pr[1] == mc]
+        pairs = [pr for pr in pairs if pr[1] != mc]
+        pc, log_k = (own[0][0], own[0][2]) if own else (-1, 0.0)
+        solids.append((mc, pc, log_k, float(zm), float(log_ksp)))
+    solids, salt_rows = _salt_rows(lay, tab, solids, pairs, salts)
+    z = tuple(float(v) for v in tab.charges.tolist())
+    return OneTable(len(tab.labels), z, ions, tuple(systems), tuple(pairs), float(pkw),
+                    tuple(max(v, 0.0) for v in z), tuple(max(-v, 0.0) for v in z),
+                    tuple(solids), salt_rows)
+
+
+def _salt_rows(lay, tab, solids: list, pairs: list, salts: tuple):
+    """The salts a table can take (cation without a pair, ligand state present), each
+    with its cation's hydroxide, which then leaves ``solids``."""
+    rows = []
+    for label, system, ligand, log_ksp, waters in salts:
+        if label not in tab.labels or system not in lay.sys_keys:
+            continue
+        ca = tab.labels.index(label)
+        k = lay.sys_keys.index(system)
+        a, b = lay.sys_slices[k]
+        cols = tab.state_cols.tolist()[a:b]
+        if any(pr[1] == ca for pr in pairs) or ligand not in tab.labels or \
+                tab.labels.index(ligand) not in cols:
+            continue
+        own = [sd for sd in solids if sd[0] == ca]
+        solids = [sd for sd in solids if sd[0] != ca]
+        hz, hlog = (own[0][3], own[0][4]) if own else (0.0, 0.0)
+        rows.append((k, (ca, cols.index(tab.labels.index(ligand)), float(log_ksp),
+                         float(waters), hz, hlog)))
+    return solids, tuple(rows)
+
+
+def _hydroxides(ot: OneTable, m, dm, lg, log_oh_act: float, oh: float) -> None:
+    """Each hydroxide's cation (and its pair with OH-) at x, in place: the free cation
+    is the smaller of its mass balance's and the solubility product's (the solid present
+    by saturation, as the metal path decides it)."""
+    for mc, pc, log_k, z, log_ksp in ot.solids:
+        total = m[mc]
+        k = 10.0 ** (log_k + lg[mc] + lg[1] - lg[pc]) if pc >= 0 else 0.0
+        free = total / (1.0 + k * oh)
+        cap = 10.0 ** (log_ksp - lg[mc] - z * log_oh_act)
+        present = cap < free
+        if present:
+            free = cap
+        p = k * free * oh
+        m[mc] = free
+        if pc >= 0:
+            m[pc] += p
+        if dm is not None:
+            dfree = z * LN10 * free if present else LN10 * p / (1.0 + k * oh)
+            dp = p * LN10 * (z - 1.0) if present else -dfree
+            dm[mc] += dfree
+            if pc >= 0:
+                dm[pc] += dp
+
+
+def _composition(ot: OneTable, x: float, lg, lw: float, ions, sys_tot, want_slope=False):
+    """Molalities of every column at x, and (if asked) their x-derivatives."""
+    m = list(ions)
+    lg_h = lg[0]
+    m[0] = h = 10.0 ** x
+    m[1] = oh = 10.0 ** (lw - ot.pkw - lg_h - lg[1] - x)
+    dm = [0.0] * ot.n if want_slope else None
+    if want_slope:
+        dm[0], dm[1] = LN10 * h, -LN10 * oh
+    for pc, mc, log_k in ot.pairs:
+        total = m[mc]
+        k = 10.0 ** (log_k + lg[mc] + lg[1] - lg[pc])
+        p = total * k * oh / (1.0 + k * oh)
+        m[pc] += p
+        m[mc] -= p
+        if want_slope:
+            dp = -LN10 * total * k * oh / (1.0 + k * oh) ** 2
+            dm[pc] += dp
+            dm[mc] -= dp
+    xs = x + lg_h
+    sysc = []
+    for (_, states), tot in zip(ot.systems, sys_tot):
+        ws = [10.0 ** (lb - lg[c] - j * xs + h2o * lw) for c, lb, j, h2o in states]
+        inv = tot / sum(ws)
+        conc = [w * inv for w in ws]
+        for (c, _, _, _), v in zip(states, conc):
+            m[c] += v
+        jbar = sum(v * j for v, (_, _, j, _) in zip(conc, states)) / tot if tot else 0.0
+        if want_slope and tot:
+            for v, (c, _, j, _) in zip(conc, states):
+                dm[c] -= LN10 * v * (j - jbar)
+        sysc.append((states, conc, jbar, tot))
+    log_oh_act = lw - ot.pkw - lg_h - x
+    if ot.solids:
+        _hydroxides(ot, m, dm, lg, log_oh_act, oh)
+    for k, entry in ot.salts:
+        salt_float(entry, m, dm, lg, lw, log_oh_act, *sysc[k])
+    return m, dm
+
+
+def _balance(ot: OneTable, m, dm):
+    """ln POS - ln NEG and its x-derivative."""
+    zp, zn = ot.zpos, ot.zneg
+    pos, neg = sum(map(mul, zp, m)), sum(map(mul, zn, m))
+    dpos, dneg = sum(map(mul, zp, dm)), sum(map(mul, zn, dm))
+    return math.log(pos) - math.log(neg), dpos / pos - dneg / neg
+
+
+def solve_x(ot: OneTable, x: float, lg, lw: float, ions, sys_tot,
+            tol: float = X_STEP_TOL):
+    """The root in x of the charge balance with ``lg`` and ``lw`` held, to a Newton
+    step below ``tol``: (x, the molalities there).  The last step, below ``tol``, moves
+    the molalities by their derivatives (an error of order step²)."""
+    lo, hi = X_BOUNDS
+    x = min(max(x, lo), hi)
+    m = None
+    for _ in range(NEWTON_STEPS):
+        m, dm = _composition(ot, x, lg, lw, ions, sys_tot, True)
+        g, dg = _balance(ot, m, dm)
+        if g > 0:
+            hi = x
+        else:
+            lo = x
+        if dg > 0:
+            step = -g / dg
+            if abs(step) < tol or step * step < QUADRATIC * tol:
+                return x + step, [a + b * step for a, b in zip(m, dm)]
+            new = x + max(-MAX_STEP, min(MAX_STEP, step))
+        else:   # cannot happen for a balance that rises with x: bisect all the same
+            new = lo - 1.0
+        if not lo < new < hi:
+            new = 0.5 * (lo + hi)
+        if hi - lo < X_STEP_TOL:
+            return x, m
+        x = new
+    return x, m
+
+
+def _start(ot: OneTable, ions, sys_tot) -> float:
+    """A first x from the charge the spectators and systems leave to H+ or OH-: with
+    every system at its lowest charge (an upper bound on H+) or at its highest (an
+    upper bound on OH-); -7 where neither bound is one-sided."""
+    z = ot.charges
+    fixed = sum(zi * mi for zi, mi in zip(z, ions))
+    low = fixed + sum(t * min(z[s[0]] for s in st) for (_, st), t in zip(ot.systems, sys_tot))
+    high = fixed + sum(t * max(z[s[0]] for s in st) for (_, st), t in zip(ot.systems, sys_tot))
+    if low < 0:
+        return math.log10(-low)
+    if high > 0:
+        return -ot.pkw - math.log10(high)
+    return -7.0
+
+
+def settled(moved: float, last: float, rounds: int) -> bool:
+    """True when the coefficients are within ``ONE_TOL`` of their fixed point, or, from
+    the third round on, when the contraction the last two rounds show (ρ = moved / last
+    below one half) puts them within ``SETTLED_TOL`` (ρ moved / (1 - ρ))."""
+    if moved <= ONE_TOL:
+        return True
+    rho = moved / last if last > 0 else 1.0
+    return rounds >= 3 and rho < 0.5 and moved * rho / (1.0 - rho) <= SETTLED_TOL
+
+
+def _anderson(v, g, prev):
+    """Depth-one Anderson mixing: the next iterate from v, f(v) = g and the last pair."""
+    if prev is None:
+        return g
+    v0, g0 = prev
+    r = [b - a for a, b in zip(v, g)]
+    dr = [ri - (b - a) for ri, a, b in zip(r, v0, g0)]
+    den = sum(d * d for d in dr)
+    if den == 0.0:
+        return g
+    theta = sum(ri * d for ri, d in zip(r, dr)) / den
+    return [gi - theta * (gi - gj) for gi, gj in zip(g, g0)]
+
+
+def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
+                     x0: float | None = None):
+    """Solve one solution: ``row`` the batch totals (mol/L), ``per_molar`` mol/kg per
+    mol/L.  Returns (x molal, molalities, lg, (φ, a_w, I), rounds, converged)."""
+    ions = [0.0] * ot.n
+    for c, b in ot.ions:
+        ions[c] += row[b] * per_molar
+    sys_tot = [row[b] * per_molar for b, _ in ot.systems]
+    n = ot.n
+    v = [0.0] * (n + 1)         # log10 γ of every column, then log10 a_w
+    x = _start(ot, ions, sys_tot) if x0 is None else x0
+    prev = None
+    out = None
+    moved = last = 1.0
+    for rounds in range(1, ONE_ROUNDS + 1):
+        lg, lw = v[:n], v[n]
+        # early rounds need x no closer than their coefficients are settled
+        x, m = solve_x(ot, x, lg, lw, ions, sys_tot, max(X_STEP_TOL, 1e-7 * moved))
+        ln, phi, aw, ionic = model.evaluate(m)
+        g = [a / LN10 for a in ln] + [math.log10(aw)]
+        last, moved = moved, max(abs(a - b) for a, b in zip(g, v))
+        out = (x, m, g[:n], (phi, aw, ionic))
+        if settled(moved, last, rounds):
+            x, m = solve_x(ot, x, g[:n], g[n], ions, sys_tot)
+            return x, m, g[:n], (phi, aw, ionic), rounds, True
+        v, prev = _anderson(v, g, prev), (v, g)
+    return (*out, ONE_ROUNDS, False)
+
+
+_ONE: dict = {}
+
+
+def one_table(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
+              ) -> OneTable | None:
+    """:func:`compile_one`, cached beside the layout and its table (both never change)."""
+    key = (id(lay), id(tab), pkw, hydroxides, salts)
+    hit = _ONE.get(key)
+    if hit is not None and hit[0] is lay and hit[1] is tab:
+        return hit[2]
+    ot = compile_one(lay, tab, pkw, hydroxides, salts)
+    if len(_ONE) >= 512:
+        _ONE.clear()
+    _ONE[key] = (lay, tab, ot)
+    return ot
+
+
+def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: float):
+    """The :class:`~carboy.model.solver.outer.Outcome` of one solution (``row`` its batch
+    totals, mol/L) as the vectorized path gives it: concentrations in mol/L, x = log10
+    [H+] in mol/L, the Pitzer model's (``model``) warnings at the composition."""
+    w = water_kg_per_l
+    x, m, lg, (phi, aw, ionic), rounds, ok = solve_one_pitzer(ot, scalar, row, 1.0 / w)
+    table = np.array([m]) * w
+    alpha, ceff = [], []
+    for _, states in ot.systems:
+        tot = sum(m[s[0]] for s in states)     # dissolved: a salt holds the rest
+        ceff.append([tot * w])
+        alpha.extend([m[s[0]] / tot if tot > 0 else 0.0] for s in states)
+    molal = np.array([m + [0.0] * (len(model._all) - len(m))])
+    here = bool((molal[:, :len(m)][:, model._fallback_mask[:len(m)]] > 0).any())
+    i_arr = np.array([ionic])
+    extra = {"ionic_strength_molal": i_arr, "water_activity": np.array([aw]),
+             "osmotic": np.array([phi]), "valid": np.array([ionic <= I_MAX_MOLAL and not here]),
+             "warnings": model._warnings(molal, i_arr, np.array([here]))}
+    return Outcome(np.array([x + math.log10(w)]), np.zeros(1), np.array([ok]), rounds,
+                   table, np.array([lg]), np.array([-(x + lg[0])]),
+                   (np.array(alpha).reshape(-1, 1), np.array(ceff).reshape(-1, 1)), extra)
