@@ -7,7 +7,7 @@ issue's tolerance, against:
         coefficients" (values after Robinson & Stokes), FOUND at
         http://www.kayelaby.npl.co.uk/chemistry/3_9/3_9_6.html (0.1–0.6 mol/kg).
 * [CRC] CRC Handbook, "Activity coefficients of acids, bases and salts" (0.1–1.0 mol/kg,
-        after Robinson & Stokes), FOUND in a public transcription (pyEQL repository,
+        after Robinson & Stokes), FOUND in a public copy (pyEQL repository,
         tests/test_benchmark/mean_activity_coefficient.json).
 * [RS]  Robinson & Stokes, Electrolyte Solutions, 2nd ed. (1959), Appendix 8.10 —
         values above 1 mol/kg from memory (marked so in each record).
@@ -40,7 +40,7 @@ from scipy.optimize import brentq
 from carboy.model.pitzer import activity_coefficients, charge_of_label, pitzer_model
 
 KL = "Kaye & Laby §3.9.6 (FOUND)"
-CRC = "CRC activity coefficients of acids, bases and salts (FOUND, pyEQL transcription)"
+CRC = "CRC activity coefficients of acids, bases and salts (FOUND, pyEQL copy)"
 RS = "Robinson & Stokes 1959 App. 8.10 (from memory)"
 
 # (cation, anion, molality of salt, published mean γ±, source)
