@@ -85,8 +85,11 @@ OSMOTIC = [
 
 
 def _salt(cation: str, anion: str, m: float):
+    """``m`` mol/kg of the neutral salt: its ions in the smallest whole ratio (Na2SO4 2:1,
+    MgSO4 1:1, not 2:2)."""
     zc, za = charge_of_label(cation), -charge_of_label(anion)
-    return activity_coefficients(np.array([[za * m, zc * m]]), (cation, anion))
+    k = math.gcd(zc, za)
+    return activity_coefficients(np.array([[za // k * m, zc // k * m]]), (cation, anion))
 
 
 @pytest.mark.parametrize("cation, anion, m, gamma, source", MEAN_GAMMA)
