@@ -95,7 +95,7 @@ def pitzer_dat():
 def _molar(comp: dict) -> Mixture:
     keys = tuple(comp)
     c = molar_from_molal(CAT, keys, [list(comp.values())], 25.0)[0]
-    return Mixture(dict(zip(keys, c.tolist())), 25.0)
+    return Mixture(dict(zip(keys, c.tolist())), temperature_c=25.0)
 
 
 @pytest.mark.parametrize("name, comp, peer", CASES, ids=[c[0] for c in CASES])
