@@ -16,6 +16,7 @@ from carboy.model.forms.correction import read as read_correction
 from carboy.store import journal
 from carboy.tui.app.screens.confirm import ConfirmScreen
 from carboy.tui.app.screens.form_dialog import FormDialog
+from carboy.tui.app.widgets.steady_input import InPlaceInput
 from carboy.tui.edge import describe
 
 TREATMENT = (("final_ph", "Final pH", "e.g. 6,9"), ("added", "Added", "e.g. 2.6 L"),
@@ -74,7 +75,7 @@ class CorrectionDialog(FormDialog):
             for field, label, hint in self.inputs:
                 with Horizontal(classes="cd-row"):
                     yield Label(label)
-                    yield Input(placeholder=hint, id=f"cd-{field}", compact=True)
+                    yield InPlaceInput(placeholder=hint, id=f"cd-{field}", compact=True)
             yield Static("Nothing is edited: the correction is a new entry.",
                          id="correct-error", markup=False)
             with Horizontal(classes="dialog-buttons"):

@@ -28,6 +28,7 @@ from carboy.model.forms.treatment import TreatmentFields
 from carboy.model.forms.treatment import read as read_treatment
 from carboy.store.statuses import ContainerStatus
 from carboy.tui.app.screens.confirm import ConfirmScreen
+from carboy.tui.app.widgets.steady_input import InPlaceInput
 
 INPUTS = (("measured", "Final pH", "e.g. 7,2 — empty: record the plan only"),
           ("bottle", "From bottle", "#7 — empty: the reagent was not from a bottle"),
@@ -95,7 +96,7 @@ class RecordDialog(ModalScreen[RecordRequest | None]):
                 with Horizontal(classes="rd-row"):
                     yield Label(label)
                     value = f"#{self.bottle_id}" if wid == "bottle" and self.bottle_id else ""
-                    yield Input(value, placeholder=hint, id=wid, compact=True)
+                    yield InPlaceInput(value, placeholder=hint, id=wid, compact=True)
             with Horizontal(classes="rd-row"):
                 yield Label("Route")
                 yield Select([(r.replace("-", " "), r) for r in ROUTES], id="route",
@@ -103,7 +104,7 @@ class RecordDialog(ModalScreen[RecordRequest | None]):
                              allow_blank=False, compact=True)
             with Horizontal(classes="rd-row"):
                 yield Label("Who")
-                yield Input(self.default_who, id="who", compact=True)
+                yield InPlaceInput(self.default_who, id="who", compact=True)
             yield Static(self._echo(), id="measured-echo", markup=False)
             with Horizontal(id="rd-buttons"):
                 yield Button("Record…", id="rd-ok", compact=True)

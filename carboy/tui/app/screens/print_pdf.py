@@ -17,6 +17,7 @@ from textual.containers import Horizontal, Vertical
 from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Static
 
+from carboy.tui.app.widgets.steady_input import InPlaceInput
 from carboy.tui.edge import describe
 
 Documents = Callable[[object], list]
@@ -52,7 +53,7 @@ class PrintDialog(ModalScreen[str | None]):
             yield Static(self.title_text, classes="dialog-title", markup=False)
             yield Static("PDF file (written on this computer; nothing in the database "
                          "changes):", markup=False)
-            yield Input(self.default_path, id="print-path", compact=True)
+            yield InPlaceInput(self.default_path, id="print-path", compact=True)
             yield Static("", id="print-said", markup=False)
             with Horizontal(id="print-buttons"):
                 yield Button("Write PDF (enter)", id="print-ok", compact=True)

@@ -24,6 +24,7 @@ from carboy.model import disposal_profile as dp
 from carboy.tui.app.screens.confirm import ConfirmScreen
 from carboy.tui.app.widgets.error_line import ErrorLine
 from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.widgets.steady_input import InPlaceInput
 from carboy.tui.edge import describe
 from carboy.tui.wording import count, volume
 
@@ -143,7 +144,7 @@ class RulesScreen(Screen):
             with TabPane("Treatment log", id="tab-log"):
                 with Horizontal(id="log-bar"):
                     yield Label("Year ")
-                    yield Input(str(self.app.today.year), id="log-year", compact=True,
+                    yield InPlaceInput(str(self.app.today.year), id="log-year", compact=True,
                                 max_length=4)
                     yield Static("", id="log-group", markup=False)
                 with VerticalScroll(id="log-scroll"):

@@ -61,6 +61,7 @@ from carboy.tui.app.screens.standardize_text import (
     short_reasons,
 )
 from carboy.tui.app.widgets.mode_bar import ModeBar
+from carboy.tui.app.widgets.steady_input import InPlaceInput, OrderedTextArea
 from carboy.tui.edge import describe
 
 INPUT_IDS = ("sz-titrant", "sz-standard", "sz-assay", "sz-blank")
@@ -176,24 +177,24 @@ class StandardizeScreen(Screen):
             with VerticalScroll(id="sz-form"):
                 with Horizontal(classes="sz-row"):
                     yield Label("Titrant")
-                    yield Input(placeholder="e.g. NaOH, HCl 0.1 M, #34", id="sz-titrant",
+                    yield InPlaceInput(placeholder="e.g. NaOH, HCl 0.1 M, #34", id="sz-titrant",
                                 compact=True)
                 yield Static(Text(NEED_TITRANT, style="dim"), id="echo-titrant",
                              classes="sz-echo")
                 with Horizontal(classes="sz-row"):
                     yield Label("Standard")
-                    yield Input(placeholder="e.g. KHP, Na2CO3, Tris", id="sz-standard",
+                    yield InPlaceInput(placeholder="e.g. KHP, Na2CO3, Tris", id="sz-standard",
                                 compact=True)
                 yield Static(Text(NEED_STANDARD, style="dim"), id="echo-standard",
                              classes="sz-echo")
                 with Horizontal(classes="sz-row"):
                     yield Label("Assay %")
-                    yield Input(placeholder="e.g. 99.97", id="sz-assay", compact=True)
+                    yield InPlaceInput(placeholder="e.g. 99.97", id="sz-assay", compact=True)
                     yield Label("Blank mL", classes="sz-label2")
-                    yield Input("0", id="sz-blank", compact=True)
+                    yield InPlaceInput("0", id="sz-blank", compact=True)
                 yield Static("", id="echo-assay", classes="sz-echo")
                 yield Static("", id="echo-blank", classes="sz-echo")
-                yield TextArea("", id="sz-replicates", show_line_numbers=True,
+                yield OrderedTextArea("", id="sz-replicates", show_line_numbers=True,
                                soft_wrap=False, tab_behavior="focus", placeholder=PLACEHOLDER)
                 yield Static(Text(NEED_REPLICATES, style="dim"), id="echo-replicates",
                              classes="sz-echo")

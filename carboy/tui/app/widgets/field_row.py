@@ -7,6 +7,8 @@ from textual.app import ComposeResult
 from textual.containers import Horizontal, Vertical
 from textual.widgets import Input, Label, Static
 
+from carboy.tui.app.widgets.steady_input import InPlaceInput
+
 
 class FieldRow(Vertical):
     """``Volume  [250 mL      ]`` over ``→ 0.25 L`` (or ``✗ volume '2 q': unknown unit``).
@@ -28,7 +30,7 @@ class FieldRow(Vertical):
     def compose(self) -> ComposeResult:
         with Horizontal(classes="field-line"):
             yield Label(f"{self.label} ›", classes="field-label")
-            yield Input(value=self.initial, placeholder=self.placeholder, id=self.field_id,
+            yield InPlaceInput(value=self.initial, placeholder=self.placeholder, id=self.field_id,
                         compact=True)
         yield Static(Text(self.hint, style="dim"), classes="field-echo",
                      id=f"echo-{self.field_id}")
