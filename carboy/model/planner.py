@@ -214,9 +214,11 @@ def _start(req: PlanRequest) -> _Start:
     if refused:
         raise HazardRefused("a neutralization plan", refused)
     capacity = reagent.base_capacity if direction == "base" else reagent.acid_capacity
+    # the reagent's own pH only says which way it moves a batch: the Davies form is
+    # enough (a concentrate would send auto to the Pitzer model for a rough figure)
     own = gas.TitrationModel(Mixture.from_compounds(
         [(reagent.compound, reagent.conc_molar or 1.0)], volume_l=1.0,
-        temperature_c=req.temperature_c), {}, 0.0, activity=req.activity, catalog=req.catalog)
+        temperature_c=req.temperature_c), {}, 0.0, activity="davies", catalog=req.catalog)
     own_pH = float(own.forward([0.0]).pH[0])
     wrong = capacity <= 0 or (own_pH <= target if direction == "base" else own_pH >= target)
     if wrong:
