@@ -52,6 +52,12 @@ MAX_STEP = 2.0
 QUADRATIC = 1e-2
 """A Newton step s with s² below this times the tolerance also ends the x-solve:
 Newton's error after it is of order s²."""
+FIRST_X_TOL = 0.1
+"""The first round's x-solve (every coefficient still zero, off by up to about 2 in
+log10) stops at a Newton step below this: a closer root buys nothing there."""
+ROUND_X_TOL = 1e-3
+"""Later rounds solve x to this times the last round's largest coefficient move: the
+error it leaves in x is then well inside what the coefficients still have to move."""
 
 
 @dataclass(frozen=True)
@@ -283,7 +289,8 @@ def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
     for rounds in range(1, ONE_ROUNDS + 1):
         lg, lw = v[:n], v[n]
         # early rounds need x no closer than their coefficients are settled
-        x, m = solve_x(ot, x, lg, lw, ions, sys_tot, max(X_STEP_TOL, 1e-7 * moved))
+        tol = FIRST_X_TOL if rounds == 1 else max(X_STEP_TOL, ROUND_X_TOL * moved)
+        x, m = solve_x(ot, x, lg, lw, ions, sys_tot, tol)
         ln, phi, aw, ionic = model.evaluate(m)
         g = [a / LN10 for a in ln] + [math.log10(aw)]
         last, moved = moved, max(abs(a - b) for a, b in zip(g, v))
