@@ -84,6 +84,40 @@ def test_one_solution_path_equals_the_batch_path(comp):
     assert set(one.fractions) == set(ref.fractions)
 
 
+@pytest.mark.parametrize("comp, t", [(MIXES[0], 25.0), (MIXES[1], 25.0), (MIXES[3], 25.0),
+                                     (MIXES[4], 90.0), ({"H2SO4": 2.0}, 25.0),
+                                     ({"HCl": 7.0, "NaCl": 1.5}, 25.0)],
+                         ids=["acid-waste", "naoh-carbonate", "phosphate", "nh4cl-90C",
+                              "h2so4-density-table", "beyond-6-molal"])
+def test_one_solution_fields_equal_a_batch_of_one(comp, t):
+    # speciate builds the result in floats (speciation_models.pitzer_one_fields); a batch
+    # of one goes through the batch result's assembly: every field must agree
+    mix = Mixture.from_compounds([(CAT.compound(k), v) for k, v in comp.items()],
+                                 volume_l=1.0, temperature_c=t)
+    one = speciate(mix, activity="pitzer", catalog=CAT)
+    keys = tuple(mix.totals)
+    ref = speciate_batch(MixtureBatch(keys, np.array([[mix.totals[k] for k in keys]]), t),
+                         activity="pitzer", catalog=CAT).point(0)
+    assert one.warnings == ref.warnings
+    assert (one.converged, one.iterations, one.activity, one.pkw) == \
+        (ref.converged, ref.iterations, ref.activity, ref.pkw)
+    assert (one.model_part.model, one.model_part.ph_scale) == ("pitzer", "macinnes")
+    assert ref.model_part.model == "pitzer"
+    for name in ("water_kg_per_l", "ionic_strength_molal", "water_activity"):
+        assert getattr(one.model_part, name) == pytest.approx(
+            getattr(ref.model_part, name), rel=1e-13), name
+    for name in ("pH", "h_molar", "oh_molar", "ionic_strength_molar"):
+        assert getattr(one, name) == pytest.approx(getattr(ref, name), rel=1e-12), name
+    assert one.charge_residual_molar == pytest.approx(ref.charge_residual_molar, abs=1e-14)
+    for name in ("species", "activity_coefficients"):
+        got, want = getattr(one, name), getattr(ref, name)
+        assert list(got) == list(want), name
+        assert list(got.values()) == pytest.approx(list(want.values()), rel=1e-12), name
+    assert list(one.fractions) == list(ref.fractions)
+    for key, fr in ref.fractions.items():
+        assert dict(one.fractions[key]) == pytest.approx(dict(fr), rel=1e-12, abs=1e-300), key
+
+
 @pytest.mark.parametrize("comp, naoh", [(MIXES[0], 2.5), (MIXES[2], 0.0999), (MIXES[4], 1.2),
                                         (MIXES[2], 1.5), (MIXES[5], 1.5)],
                          ids=["acid-waste", "cacl2-below-portlandite", "nh4cl",

@@ -331,12 +331,18 @@ def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: 
         tot = sum(m[s[0]] for s in states)     # dissolved: a salt holds the rest
         ceff.append([tot * w])
         alpha.extend([m[s[0]] / tot if tot > 0 else 0.0] for s in states)
-    molal = np.array([m + [0.0] * (len(model._all) - len(m))])
-    here = bool((molal[:, :len(m)][:, model._fallback_mask[:len(m)]] > 0).any())
-    i_arr = np.array([ionic])
-    extra = {"ionic_strength_molal": i_arr, "water_activity": np.array([aw]),
+    here, warnings = model_warnings(model, m, ionic)
+    extra = {"ionic_strength_molal": np.array([ionic]), "water_activity": np.array([aw]),
              "osmotic": np.array([phi]), "valid": np.array([ionic <= I_MAX_MOLAL and not here]),
-             "warnings": model._warnings(molal, i_arr, np.array([here]))}
+             "warnings": warnings}
     return Outcome(np.array([x + math.log10(w)]), np.zeros(1), np.array([ok]), rounds,
                    table, np.array([lg]), np.array([-(x + lg[0])]),
                    (np.array(alpha).reshape(-1, 1), np.array(ceff).reshape(-1, 1)), extra)
+
+
+def model_warnings(model, m: list, ionic: float) -> tuple[bool, tuple[str, ...]]:
+    """Whether a species of the Davies fallback is present in the molalities ``m``, and
+    the Pitzer model's (``model``) warnings at that composition."""
+    molal = np.array([m + [0.0] * (len(model._all) - len(m))])
+    here = bool((molal[:, :len(m)][:, model._fallback_mask[:len(m)]] > 0).any())
+    return here, model._warnings(molal, np.array([ionic]), np.array([here]))
