@@ -7,7 +7,9 @@ the Davies path (``solver/single.py``).  :class:`ScalarPitzer` is compiled once 
 temperature) into lists of the nonzero terms, and :meth:`ScalarPitzer.evaluate` gives
 ln γ of every species, the osmotic coefficient, the water activity and the ionic
 strength: the same numbers as ``PitzerModel.evaluate`` (tests/unit/test_pitzer_scalar.py
-holds them to 1e-12), summed pair by pair.
+holds them to 1e-12), summed pair by pair.  The pair and triplet sums are compiled once
+per model into one function of straight-line code with the parameters as literals
+(:meth:`ScalarPitzer._compile`): a loop over lists of terms cost most of an evaluation.
 """
 
 from __future__ import annotations
@@ -95,6 +97,7 @@ class ScalarPitzer:
         self.kcl = model._kcl
         self.b, self.aphi, self.a_davies = model._b, model._aphi, model._a_davies
         self.macinnes = model.scale == "macinnes"
+        self._sums = self._compile()
 
     def _like(self, idx: list[int], theta) -> list:
         """(i, j, θ, (|zi|, |zj|) or None) for every like-signed pair with a θ or with
@@ -151,62 +154,29 @@ class ScalarPitzer:
             out[(zi, zj)] = (eth, -eth / ionic + zz * dbr / (8.0 * ionic * ionic))
         return out
 
-    def _binary(self, m, ln, ionic, root, big_z):
-        """Cation–anion terms into ``ln``; returns (Σ m m B', osmotic sum, Σ m m C)."""
-        funcs = {}
-        for a in self.alphas:
-            x = a * root
-            funcs[a] = (_g(x), _gp(x), math.exp(-x))
-        fprime = osm = csum = 0.0
-        zero = (0.0, 0.0, 0.0)
-        for c, a, b0, b1, a1, b2, a2, cc in self.binary:
-            mc, ma = m[c], m[a]
-            g1, gp1, e1 = funcs[a1] if b1 else zero
-            g2, gp2, e2 = funcs[a2] if b2 else zero
-            bg = 2.0 * (b0 + b1 * g1 + b2 * g2) + big_z * cc
-            ln[c] += ma * bg
-            ln[a] += mc * bg
-            mm = mc * ma
-            fprime += mm * (b1 * gp1 + b2 * gp2)
-            osm += mm * (b0 + b1 * e1 + b2 * e2 + big_z * cc)
-            csum += mm * cc
-        return fprime / ionic, osm, csum
-
-    def _mixing(self, m, ln, ionic, root) -> tuple[float, float]:
-        """θ, Eθ, ψ, ζ and λ terms into ``ln``; returns (Σ m m Φ', osmotic sum)."""
-        eth = self._etheta(ionic, root) if self.charge_pairs else {}
-        fprime = osm = 0.0
-        for i, j, th2, th in self.theta:
-            mi, mj = m[i], m[j]
-            ln[i] += mj * th2
-            ln[j] += mi * th2
-            osm += mi * mj * th
-        for i, j, th, key in self.like:
-            e, ep = eth[key]
-            mi, mj = m[i], m[j]
-            phi = th + e
-            ln[i] += 2.0 * mj * phi
-            ln[j] += 2.0 * mi * phi
-            mm = mi * mj
-            fprime += mm * ep
-            osm += mm * (phi + ionic * ep)
-        for i, j, k, v in self.triples:
-            mj, mk = m[j], m[k]
-            a, b = m[i] * v, mj * mk
-            ln[i] += b * v
-            ln[j] += a * mk
-            ln[k] += a * mj
-            osm += a * b
-        for n, o, v, ion in self.neutral:
-            mn, mo = m[n], m[o]
-            if ion or o != n:
-                ln[o] += 2.0 * mn * v
-                ln[n] += 2.0 * mo * v
-                osm += mn * mo * v
-            else:
-                ln[n] += 2.0 * mn * v
-                osm += 0.5 * mn * mn * v
-        return fprime, osm
+    def _compile(self):
+        """The cation–anion, θ, Eθ, ψ, ζ and λ sums as one function of straight-line code
+        over this model's nonzero terms (a loop over lists of terms costs most of an
+        evaluation in Python): ``sums(m, ionic, root, big_z, eth)`` returns (ln γ sums,
+        Σ m m B' / I, the binary osmotic sum, Σ m m C, Σ m m Φ', the mixing osmotic
+        sum).  The source is built from numbers only (``repr`` of floats)."""
+        n = self.n
+        src = ["def sums(m, ionic, root, big_z, eth):",
+               f"    {_names('m', n)} = m",
+               f"    {_names('l', n)} = {', '.join(['0.0'] * n)}",
+               "    fb = ob = cs = fm = om = 0.0"]
+        for k, a in enumerate(self.alphas):
+            src.append(f"    x = {a!r} * root")
+            src.append(f"    g{k}, gp{k}, e{k} = _g(x), _gp(x), _exp(-x)")
+        for k, key in enumerate(self.charge_pairs):
+            src.append(f"    t{k}, tp{k} = eth[{key!r}]")
+        src.extend(_binary_lines(self.binary, self.alphas))
+        src.extend(_mixing_lines(self.theta, self.like, self.charge_pairs, self.triples,
+                                 self.neutral))
+        src.append(f"    return [{_names('l', n)}], fb / ionic, ob, cs, fm, om")
+        space = {"_g": _g, "_gp": _gp, "_exp": math.exp}
+        exec(compile("\n".join(src), "<pitzer sums>", "exec"), space)   # noqa: S102
+        return space["sums"]
 
     def evaluate(self, molality: list[float]):
         """(ln γ of the model's species, osmotic φ, a_w, I) at one composition (mol/kg)."""
@@ -221,9 +191,8 @@ class ScalarPitzer:
         root = math.sqrt(i_safe)
         b, aphi = self.b, self.aphi
         f_dh = -aphi * (root / (1.0 + b * root) + 2.0 / b * math.log1p(b * root))
-        ln = [0.0] * self.n
-        bprime, osm_b, csum = self._binary(m, ln, i_safe, root, big_z)
-        mprime, osm_m = self._mixing(m, ln, i_safe, root)
+        eth = self._etheta(i_safe, root) if self.charge_pairs else None
+        ln, bprime, osm_b, csum, mprime, osm_m = self._sums(m, i_safe, root, big_z, eth)
         big_f = f_dh + bprime + mprime
         for i in self.ions:
             ln[i] += z2[i] * big_f + az[i] * csum
@@ -240,6 +209,55 @@ class ScalarPitzer:
             ln = [v + phimac * zi for v, zi in zip(ln, z)]
         phi = 1.0 + 2.0 * osm / total if total > 0 else 1.0
         return ln[:self.n_user], phi, math.exp(-phi * total * WATER_KG_PER_MOL), ionic
+
+
+def _names(prefix: str, n: int) -> str:
+    return ", ".join(f"{prefix}{i}" for i in range(n)) + ("," if n == 1 else "")
+
+
+def _binary_lines(binary, alphas) -> list[str]:
+    """Source lines of the cation–anion terms (as ``pitzer.PitzerModel._binary``)."""
+    out = []
+    for c, a, b0, b1, a1, b2, a2, cc in binary:
+        gam, prime, phi = [f"{b0!r}"], [], [f"{b0!r}"]
+        for b, al in ((b1, a1), (b2, a2)):
+            if b:
+                k = alphas.index(al)
+                gam.append(f"{b!r} * g{k}")
+                prime.append(f"{b!r} * gp{k}")
+                phi.append(f"{b!r} * e{k}")
+        zc = f" + big_z * {cc!r}" if cc else ""
+        out.append(f"    t = 2.0 * ({' + '.join(gam)}){zc}")
+        out.append(f"    l{c} += m{a} * t; l{a} += m{c} * t; mm = m{c} * m{a}")
+        if prime:
+            out.append(f"    fb += mm * ({' + '.join(prime)})")
+        out.append(f"    ob += mm * ({' + '.join(phi)}{zc})")
+        if cc:
+            out.append(f"    cs += mm * {cc!r}")
+    return out
+
+
+def _mixing_lines(theta, like, charge_pairs, triples, neutral) -> list[str]:
+    """Source lines of the θ, Eθ, ψ, ζ and λ terms (as ``pitzer.PitzerModel._sums``)."""
+    out = []
+    for i, j, th2, th in theta:
+        out.append(f"    l{i} += m{j} * {th2!r}; l{j} += m{i} * {th2!r}; "
+                   f"om += m{i} * m{j} * {th!r}")
+    for i, j, th, key in like:
+        k = charge_pairs.index(key)
+        out.append(f"    p = {th!r} + t{k}; mm = m{i} * m{j}")
+        out.append(f"    l{i} += 2.0 * m{j} * p; l{j} += 2.0 * m{i} * p")
+        out.append(f"    fm += mm * tp{k}; om += mm * (p + ionic * tp{k})")
+    for i, j, k, v in triples:
+        out.append(f"    a = m{i} * {v!r}; b = m{j} * m{k}")
+        out.append(f"    l{i} += b * {v!r}; l{j} += a * m{k}; l{k} += a * m{j}; om += a * b")
+    for n, o, v, ion in neutral:
+        if ion or o != n:
+            out.append(f"    l{o} += 2.0 * m{n} * {v!r}; l{n} += 2.0 * m{o} * {v!r}; "
+                       f"om += m{n} * m{o} * {v!r}")
+        else:
+            out.append(f"    l{n} += 2.0 * m{n} * {v!r}; om += 0.5 * m{n} * m{n} * {v!r}")
+    return out
 
 
 @lru_cache(maxsize=64)
