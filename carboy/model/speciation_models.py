@@ -312,18 +312,13 @@ def pitzer_one_fields(catalog, lay: Layout, keys: tuple[str, ...], row: list,
     take the layout (metals, a pair on a state)."""
     if lay.metals is not None:
         return None
-    tab = table_of(lay, "pitzer", t_c)
-    pkw = water.pkw(t_c)
-    ot = one_table(lay, tab, pkw)
+    tab, ot, model, pkw, hot = _one_setup(lay, t_c)
     if ot is None:
         return None
-    model = pitzer_for(tab, t_c)
     w, notes = water_kg_one(catalog, keys, row, t_c)
     x, m, lg, (_, aw, ionic), rounds, ok = solve_one_pitzer(ot, scalar_model(model), row,
                                                              1.0 / w)
     _, found = model_warnings(model, m, ionic)
-    hot = tuple(t for t in warning_texts(False, False, t_c > ENTHALPY_DATA_MAX_C, "pitzer")
-                if "enthalpy data" in t)
     common = tuple(t for t in found if not t.startswith("ionic strength above"))
     code = int(ionic > I_MAX_MOLAL) + 2 * int(not ok)
     labels, z = tab.labels, tab.charges.tolist()
@@ -345,6 +340,28 @@ def pitzer_one_fields(catalog, lay: Layout, keys: tuple[str, ...], row: list,
         model_part=ModelPoint("pitzer", ph_scale_of("pitzer"), w, ionic, aw))
 
 
+_SETUP: dict = {}
+
+
+def _one_setup(lay: Layout, t_c: float):
+    """What :func:`pitzer_one_fields` needs of a layout at a temperature (the Pitzer
+    table, its float table, the model, pKw, the temperature's warning), cached beside the
+    layout (layouts are cached and never change)."""
+    key = (id(lay), t_c)
+    hit = _SETUP.get(key)
+    if hit is not None and hit[0] is lay:
+        return hit[1]
+    tab = table_of(lay, "pitzer", t_c)
+    pkw = water.pkw(t_c)
+    hot = tuple(t for t in warning_texts(False, False, t_c > ENTHALPY_DATA_MAX_C, "pitzer")
+                if "enthalpy data" in t)
+    got = (tab, one_table(lay, tab, pkw), pitzer_for(tab, t_c), pkw, hot)
+    if len(_SETUP) >= 512:
+        _SETUP.clear()
+    _SETUP[key] = (lay, got)
+    return got
+
+
 def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes):
     """The batch result of the Pitzer path in the frame ``base``."""
     molal_i = out.extra["ionic_strength_molal"]
@@ -358,6 +375,7 @@ def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes
         "pitzer", out.log_gamma, w, molal_i, out.extra["water_activity"]))
 
 
+@lru_cache(maxsize=256)
 def _pitzer_texts(common: tuple[str, ...]) -> tuple[tuple[str, ...], ...]:
     """The warnings of a Pitzer point by code: +1 beyond I_MAX_MOLAL, +2 unsettled."""
     high = (f"ionic strength above {I_MAX_MOLAL:g} mol/kg, beyond the range the "

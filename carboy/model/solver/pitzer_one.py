@@ -24,7 +24,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from operator import mul
+from operator import mul, sub
 
 import numpy as np
 
@@ -263,12 +263,12 @@ def _anderson(v, g, prev):
     if prev is None:
         return g
     v0, g0 = prev
-    r = [b - a for a, b in zip(v, g)]
-    dr = [ri - (b - a) for ri, a, b in zip(r, v0, g0)]
-    den = sum(d * d for d in dr)
+    r = list(map(sub, g, v))
+    dr = list(map(sub, r, map(sub, g0, v0)))
+    den = sum(map(mul, dr, dr))
     if den == 0.0:
         return g
-    theta = sum(ri * d for ri, d in zip(r, dr)) / den
+    theta = sum(map(mul, r, dr)) / den
     return [gi - theta * (gi - gj) for gi, gj in zip(g, g0)]
 
 
