@@ -155,13 +155,14 @@ class ScalarPitzer:
         return out
 
     def _compile(self):
-        """The cation–anion, θ, Eθ, ψ, ζ and λ sums as one function of straight-line code
-        over this model's nonzero terms (a loop over lists of terms costs most of an
-        evaluation in Python): ``sums(m, ionic, root, big_z, eth)`` returns (ln γ sums,
-        Σ m m B' / I, the binary osmotic sum, Σ m m C, Σ m m Φ', the mixing osmotic
-        sum).  The source is built from numbers only (``repr`` of floats)."""
+        """The cation–anion, θ, Eθ, ψ, ζ and λ sums and the terms every ion takes (F, the
+        C sum, the Davies fallback, the MacInnes scaling) as one function of straight-line
+        code over this model's nonzero terms (a loop over lists of terms costs most of an
+        evaluation in Python): ``sums(m, ionic, root, big_z, eth, f_dh, kcl, dav)``
+        returns (ln γ of every species, the osmotic sum of the terms).  The source is built
+        from numbers only (``repr`` of floats)."""
         n = self.n
-        src = ["def sums(m, ionic, root, big_z, eth):",
+        src = ["def sums(m, ionic, root, big_z, eth, f_dh, kcl, dav):",
                f"    {_names('m', n)} = m",
                f"    {_names('l', n)} = {', '.join(['0.0'] * n)}",
                "    fb = ob = cs = fm = om = 0.0"]
@@ -173,7 +174,14 @@ class ScalarPitzer:
         src.extend(_binary_lines(self.binary, self.alphas))
         src.extend(_mixing_lines(self.theta, self.like, self.charge_pairs, self.triples,
                                  self.neutral))
-        src.append(f"    return [{_names('l', n)}], fb / ionic, ob, cs, fm, om")
+        src.append("    big_f = f_dh + fb / ionic + fm")
+        src.extend(f"    l{i} += {self.z2[i]!r} * big_f + {self.az[i]!r} * cs"
+                   for i in self.ions)
+        src.append(f"    phimac = l{self.ref} - kcl")
+        src.extend(f"    l{i} = dav * {self.z2[i]!r}" for i in self.fallback)
+        if self.macinnes:
+            src.extend(f"    l{i} += phimac * {self.z[i]!r}" for i in range(n) if self.z[i])
+        src.append(f"    return [{_names('l', n)}], ob + om")
         space = {"_g": _g, "_gp": _gp, "_exp": math.exp}
         exec(compile("\n".join(src), "<pitzer sums>", "exec"), space)   # noqa: S102
         return space["sums"]
@@ -183,30 +191,21 @@ class ScalarPitzer:
         m = list(molality)
         if len(m) < self.n:
             m.append(0.0)   # the reference anion (Cl-), carried at zero
-        z, z2, az = self.z, self.z2, self.az
-        ionic = 0.5 * sum(map(mul, m, z2))
-        big_z = sum(map(mul, m, az))
+        ionic = 0.5 * sum(map(mul, m, self.z2))
+        big_z = sum(map(mul, m, self.az))
         total = sum(m)
         i_safe = ionic if ionic > 1e-100 else 1e-100
         root = math.sqrt(i_safe)
         b, aphi = self.b, self.aphi
         f_dh = -aphi * (root / (1.0 + b * root) + 2.0 / b * math.log1p(b * root))
         eth = self._etheta(i_safe, root) if self.charge_pairs else None
-        ln, bprime, osm_b, csum, mprime, osm_m = self._sums(m, i_safe, root, big_z, eth)
-        big_f = f_dh + bprime + mprime
-        for i in self.ions:
-            ln[i] += z2[i] * big_f + az[i] * csum
-        osm = -aphi * ionic * root / (1.0 + b * root) + osm_b + osm_m
         b0, b1, cphi = self.kcl
         x = 2.0 * root
-        phimac = ln[self.ref] - (f_dh + ionic * (2.0 * b0 + b1 * (2.0 * _g(x) + _gp(x)))
-                                 + 1.5 * cphi * ionic * ionic)
-        if self.fallback:
-            dav = -_LN10 * self.a_davies * (root / (1.0 + root) - 0.3 * ionic)
-            for i in self.fallback:
-                ln[i] = dav * z2[i]
-        if self.macinnes:
-            ln = [v + phimac * zi for v, zi in zip(ln, z)]
+        kcl = (f_dh + ionic * (2.0 * b0 + b1 * (2.0 * _g(x) + _gp(x)))
+               + 1.5 * cphi * ionic * ionic)
+        dav = -_LN10 * self.a_davies * (root / (1.0 + root) - 0.3 * ionic)
+        ln, osm = self._sums(m, i_safe, root, big_z, eth, f_dh, kcl, dav)
+        osm += -aphi * ionic * root / (1.0 + b * root)
         phi = 1.0 + 2.0 * osm / total if total > 0 else 1.0
         return ln[:self.n_user], phi, math.exp(-phi * total * WATER_KG_PER_MOL), ionic
 
