@@ -81,25 +81,24 @@ def _key_volume(comp, volumes: MolarVolumes) -> tuple[float, int]:
 
 @lru_cache(maxsize=256)
 def _layout_of(catalog, keys: tuple[str, ...]):
-    """Per key (V, charge), and the one compound with a density table whose composition
-    the keys could be (or None)."""
+    """Per key (V, charge), and each compound with a density table whose composition
+    the keys could be, with its count of each key."""
     vols = molar_volumes()
     per = [_key_volume(resolve(catalog, k), vols) for k in keys]
     tabled = []
     for comp in catalog.compounds.values():
         if comp.density is not None and set(comp.composition) <= set(keys):
-            tabled.append(comp)
+            tabled.append((comp, tuple(comp.composition.get(k, 0) for k in keys)))
     return (np.array([v for v, _ in per]), np.array([z for _, z in per], dtype=float),
             tuple(tabled), vols.by_label.get("OH-", vols.default))
 
 
-def _from_table(catalog, keys, row: list, tabled) -> float | None:
+def _from_table(catalog, row: list, tabled) -> float | None:
     """kg of water per litre from a density table, when the row (a list) is one such
-    compound."""
+    compound (``tabled``: (compound, its count of each key))."""
     from carboy.model.solutions import strength_of  # solutions imports the catalog
 
-    for comp in tabled:
-        counts = [comp.composition.get(k, 0) for k in keys]
+    for comp, counts in tabled:
         if not any(n > 0 for n in counts) or any(v != 0 for v, n in zip(row, counts) if n <= 0):
             continue
         c = [v / n for v, n in zip(row, counts) if n > 0]
@@ -128,7 +127,7 @@ def water_kg_per_litre(catalog, keys: tuple[str, ...], totals, temperature_c: fl
     estimated = np.ones(w.shape, dtype=bool)
     if tabled and totals.shape[0] <= 64:   # one compound's solutions: its own table
         for n in range(totals.shape[0]):
-            got = _from_table(catalog, keys, totals[n].tolist(), tabled)
+            got = _from_table(catalog, totals[n].tolist(), tabled)
             if got is not None:
                 w[n], estimated[n] = got, False
     return w, ((ESTIMATE_NOTE,) if estimated.any() and totals.any() else ())
@@ -143,7 +142,7 @@ def water_kg_one(catalog, keys: tuple[str, ...], row, temperature_c: float
     solute_l = (sum(map(mul, row, vol)) + max(net, 0.0) * v_oh) / 1000.0
     w = water.density_g_cm3(temperature_c) * max(1.0 - solute_l, 0.05)
     if tabled:
-        got = _from_table(catalog, keys, row, tabled)
+        got = _from_table(catalog, row, tabled)
         if got is not None:
             return got, ()
     return w, ((ESTIMATE_NOTE,) if any(row) else ())

@@ -28,7 +28,7 @@ from operator import mul, sub
 
 import numpy as np
 
-from carboy.model.pitzer import I_MAX_MOLAL
+from carboy.model.pitzer import DAVIES_LIMIT_MOLAL, I_MAX_MOLAL, MISSING_PAIR_MOLAL
 from carboy.model.pitzer_scalar import ScalarPitzer
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.outer import Outcome
@@ -342,7 +342,28 @@ def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: 
 
 def model_warnings(model, m: list, ionic: float) -> tuple[bool, tuple[str, ...]]:
     """Whether a species of the Davies fallback is present in the molalities ``m``, and
-    the Pitzer model's (``model``) warnings at that composition."""
+    the Pitzer model's (``model``) warnings at that composition: worked out once per
+    case (the texts of one point within the parameters' range depend only on which
+    of the model's conditions hold)."""
+    mask = model._fallback_mask
+    here = any(v > 0 for v, f in zip(m, mask.tolist()) if f)
+    if ionic > I_MAX_MOLAL:
+        return here, _warnings_at(model, m, ionic, here)
+    full = m + [0.0] * (len(model._all) - len(m))
+    key = (id(model), here, ionic > DAVIES_LIMIT_MOLAL,
+           tuple(full[i] > MISSING_PAIR_MOLAL and full[j] > MISSING_PAIR_MOLAL
+                 for i, j in model._p.missing))
+    hit = _WARNED.get(key)
+    if hit is None or hit[0] is not model:
+        if len(_WARNED) >= 512:
+            _WARNED.clear()
+        hit = _WARNED[key] = (model, _warnings_at(model, m, ionic, here))
+    return here, hit[1]
+
+
+_WARNED: dict = {}
+
+
+def _warnings_at(model, m: list, ionic: float, here: bool) -> tuple[str, ...]:
     molal = np.array([m + [0.0] * (len(model._all) - len(m))])
-    here = bool((molal[:, :len(m)][:, model._fallback_mask[:len(m)]] > 0).any())
-    return here, model._warnings(molal, np.array([ionic]), np.array([here]))
+    return model._warnings(molal, np.array([ionic]), np.array([here]))
