@@ -293,7 +293,7 @@ def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
         x, m = solve_x(ot, x, lg, lw, ions, sys_tot, tol)
         ln, phi, aw, ionic = model.evaluate(m)
         g = [a / LN10 for a in ln] + [math.log10(aw)]
-        last, moved = moved, max(abs(a - b) for a, b in zip(g, v))
+        last, moved = moved, max(map(abs, map(sub, g, v)))
         out = (x, m, g[:n], (phi, aw, ionic))
         if settled(moved, last, rounds):
             x, m = solve_x(ot, x, g[:n], g[n], ions, sys_tot)
