@@ -171,3 +171,32 @@ def test_metals_away_from_25_c_say_their_constants_are_for_25_c():
     assert hot.model_part.model == cool.model_part.model == "pitzer"
     assert any("constants are for 25 °C" in w for w in hot.warnings)
     assert not any("constants are for 25 °C" in w for w in cool.warnings)
+
+
+@pytest.mark.parametrize("comp", [MIXES[0], MIXES[1], MIXES[3], MIXES[4]],
+                         ids=["acid-waste", "naoh-carbonate", "phosphate", "nh4cl"])
+def test_the_compiled_charge_balance_step_equals_the_loops(comp):
+    from carboy.model import water
+    from carboy.model.solver import pitzer_one
+    from carboy.model.solver.layout import cached_layout
+    from carboy.model.solver.outer import table_of
+
+    mix = Mixture.from_compounds([(CAT.compound(k), v) for k, v in comp.items()],
+                                 volume_l=1.0)
+    keys, row = tuple(mix.totals), list(mix.totals.values())
+    lay = cached_layout(CAT, keys, 25.0)
+    ot = pitzer_one.compile_one(lay, table_of(lay, "pitzer", 25.0), water.pkw(25.0))
+    assert ot.step is not None
+    ions = [0.0] * ot.n
+    for c, b in ot.ions:
+        ions[c] += row[b]
+    sys_tot = [row[b] for b, _ in ot.systems]
+    rng = np.random.default_rng(3)
+    for x in (-1.0, 0.2, -7.0, -13.5):
+        lg = rng.uniform(-1.0, 0.5, ot.n).tolist()
+        lw = -0.05
+        m, dm, g, dg = ot.step(x, lg, lw, ions, sys_tot)
+        m_ref, dm_ref = pitzer_one._composition(ot, x, lg, lw, ions, sys_tot, True)
+        assert m == pytest.approx(m_ref, rel=1e-14, abs=0.0)
+        assert dm == pytest.approx(dm_ref, rel=1e-14, abs=0.0)
+        assert (g, dg) == pytest.approx(pitzer_one._balance(ot, m_ref, dm_ref), rel=1e-13)

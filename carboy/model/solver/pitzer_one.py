@@ -75,6 +75,7 @@ class OneTable:
     solids: tuple = ()              # (cation column, pair column or -1, pair log10 K,
     #                                  z, log10 Ksp of M(OH)z = M + z OH-) per hydroxide
     salts: tuple = ()               # (system, pitzer_salts entry) per 1:1 salt
+    step: object = None             # _composition and _balance compiled (see _compile_step)
 
 
 def compile_one(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
@@ -104,9 +105,44 @@ def compile_one(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
         solids.append((mc, pc, log_k, float(zm), float(log_ksp)))
     solids, salt_rows = _salt_rows(lay, tab, solids, pairs, salts)
     z = tuple(float(v) for v in tab.charges.tolist())
+    zpos, zneg = tuple(max(v, 0.0) for v in z), tuple(max(-v, 0.0) for v in z)
+    step = None if pairs or solids or salt_rows else \
+        _compile_step(len(z), systems, float(pkw), zpos, zneg)
     return OneTable(len(tab.labels), z, ions, tuple(systems), tuple(pairs), float(pkw),
-                    tuple(max(v, 0.0) for v in z), tuple(max(-v, 0.0) for v in z),
-                    tuple(solids), salt_rows)
+                    zpos, zneg, tuple(solids), salt_rows, step)
+
+
+def _compile_step(n: int, systems: list, pkw: float, zpos: tuple, zneg: tuple):
+    """:func:`_composition` (with the slopes) and :func:`_balance` of a table without
+    pairs, hydroxides or salts as one function of straight-line code, the constants as
+    literals (a loop over the states costs most of a charge-balance step in Python):
+    ``step(x, lg, lw, ions, sys_tot)`` returns (m, dm, g, dg), the same numbers."""
+    ln10 = repr(LN10)
+    src = ["def step(x, lg, lw, ions, sys_tot):", "    m = list(ions)",
+           f"    dm = [0.0] * {n}", "    lg0 = lg[0]", "    m[0] = h = 10.0 ** x",
+           f"    m[1] = oh = 10.0 ** (lw - {pkw!r} - lg0 - lg[1] - x)",
+           f"    dm[0] = {ln10} * h", f"    dm[1] = -{ln10} * oh", "    xs = x + lg0"]
+    for k, (_, states) in enumerate(systems):
+        for s, (c, lb, j, h2o) in enumerate(states):
+            src.append(f"    w{s} = 10.0 ** ({lb!r} - lg[{c}] - {j!r} * xs + {h2o!r} * lw)")
+        src.append(f"    tot = sys_tot[{k}]")
+        src.append(f"    inv = tot / ({' + '.join(f'w{s}' for s in range(len(states)))})")
+        for s, (c, _, _, _) in enumerate(states):
+            src.append(f"    c{s} = w{s} * inv")
+            src.append(f"    m[{c}] += c{s}")
+        src.append("    if tot:")
+        jsum = " + ".join(f"c{s} * {st[2]!r}" for s, st in enumerate(states))
+        src.append(f"        jb = ({jsum}) / tot")
+        src.extend(f"        dm[{c}] -= {ln10} * c{s} * ({j!r} - jb)"
+                   for s, (c, _, j, _) in enumerate(states))
+    for name, zs in (("pos", zpos), ("neg", zneg)):
+        terms = [(i, z) for i, z in enumerate(zs) if z]
+        src.append(f"    {name} = {' + '.join(f'{z!r} * m[{i}]' for i, z in terms)}")
+        src.append(f"    d{name} = {' + '.join(f'{z!r} * dm[{i}]' for i, z in terms)}")
+    src.append("    return m, dm, _log(pos) - _log(neg), dpos / pos - dneg / neg")
+    space = {"_log": math.log}
+    exec(compile("\n".join(src), "<pitzer step>", "exec"), space)   # noqa: S102
+    return space["step"]
 
 
 def _salt_rows(lay, tab, solids: list, pairs: list, salts: tuple):
@@ -211,9 +247,13 @@ def solve_x(ot: OneTable, x: float, lg, lw: float, ions, sys_tot,
     lo, hi = X_BOUNDS
     x = min(max(x, lo), hi)
     m = None
+    step_of = ot.step
     for _ in range(NEWTON_STEPS):
-        m, dm = _composition(ot, x, lg, lw, ions, sys_tot, True)
-        g, dg = _balance(ot, m, dm)
+        if step_of is not None:
+            m, dm, g, dg = step_of(x, lg, lw, ions, sys_tot)
+        else:
+            m, dm = _composition(ot, x, lg, lw, ions, sys_tot, True)
+            g, dg = _balance(ot, m, dm)
         if g > 0:
             hi = x
         else:
