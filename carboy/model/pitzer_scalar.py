@@ -247,9 +247,13 @@ def _mixing_lines(theta, like, charge_pairs, triples, neutral) -> list[str]:
         out.append(f"    p = {th!r} + t{k}; mm = m{i} * m{j}")
         out.append(f"    l{i} += 2.0 * m{j} * p; l{j} += 2.0 * m{i} * p")
         out.append(f"    fm += mm * tp{k}; om += mm * (p + ionic * tp{k})")
-    for i, j, k, v in triples:
-        out.append(f"    a = m{i} * {v!r}; b = m{j} * m{k}")
-        out.append(f"    l{i} += b * {v!r}; l{j} += a * m{k}; l{k} += a * m{j}; om += a * b")
+    groups: dict = {}
+    for i, j, k, v in triples:   # v m_i m_j m_k: grouped by (i, j), S = Σ_k v m_k
+        groups.setdefault((i, j), []).append((k, v))
+    for (i, j), terms in groups.items():
+        out.append(f"    s = {' + '.join(f'{v!r} * m{k}' for k, v in terms)}; mm = m{i} * m{j}")
+        out.append(f"    l{i} += m{j} * s; l{j} += m{i} * s; om += mm * s")
+        out.extend(f"    l{k} += mm * {v!r}" for k, v in terms)
     for n, o, v, ion in neutral:
         if ion or o != n:
             out.append(f"    l{o} += 2.0 * m{n} * {v!r}; l{n} += 2.0 * m{o} * {v!r}; "
