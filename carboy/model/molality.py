@@ -82,24 +82,26 @@ def _key_volume(comp, volumes: MolarVolumes) -> tuple[float, int]:
 @lru_cache(maxsize=256)
 def _layout_of(catalog, keys: tuple[str, ...]):
     """Per key (V, charge), and each compound with a density table whose composition
-    the keys could be, with its count of each key."""
+    the keys could be, with its count of each key and the keys it lacks."""
     vols = molar_volumes()
     per = [_key_volume(resolve(catalog, k), vols) for k in keys]
     tabled = []
     for comp in catalog.compounds.values():
         if comp.density is not None and set(comp.composition) <= set(keys):
-            tabled.append((comp, tuple(comp.composition.get(k, 0) for k in keys)))
+            counts = tuple(comp.composition.get(k, 0) for k in keys)
+            if any(n > 0 for n in counts):
+                tabled.append((comp, counts, tuple(i for i, n in enumerate(counts) if n <= 0)))
     return (np.array([v for v, _ in per]), np.array([z for _, z in per], dtype=float),
             tuple(tabled), vols.by_label.get("OH-", vols.default))
 
 
 def _from_table(catalog, row: list, tabled) -> float | None:
     """kg of water per litre from a density table, when the row (a list) is one such
-    compound (``tabled``: (compound, its count of each key))."""
+    compound (``tabled``: (compound, its count of each key, the keys it lacks))."""
     from carboy.model.solutions import strength_of  # solutions imports the catalog
 
-    for comp, counts in tabled:
-        if not any(n > 0 for n in counts) or any(v != 0 for v, n in zip(row, counts) if n <= 0):
+    for comp, counts, others in tabled:
+        if any(map(row.__getitem__, others)):
             continue
         c = [v / n for v, n in zip(row, counts) if n > 0]
         if c[0] <= 0 or any(abs(ci - c[0]) > 1e-9 * abs(c[0]) for ci in c):
