@@ -166,13 +166,15 @@ class ScalarPitzer:
                f"    {_names('m', n)} = m",
                f"    {_names('l', n)} = {', '.join(['0.0'] * n)}",
                "    fb = ob = cs = fm = om = 0.0"]
-        for k, a in enumerate(self.alphas):
-            src.append(f"    x = {a!r} * root")
-            src.append(f"    g{k}, gp{k}, e{k} = _g(x), _gp(x), _exp(-x)")
+        for k, a in enumerate(self.alphas):   # _g and _gp with one exponential
+            src += [f"    x = {a!r} * root", f"    e{k} = _exp(-x)", "    if x < 1e-3:",
+                    f"        g{k}, gp{k} = _g(x), _gp(x)", "    else:",
+                    f"        g{k} = 2.0 * (1.0 - (1.0 + x) * e{k}) / (x * x)",
+                    f"        gp{k} = -2.0 * (1.0 - (1.0 + x + 0.5 * x * x) * e{k}) / (x * x)"]
         for k, key in enumerate(self.charge_pairs):
             src.append(f"    t{k}, tp{k} = eth[{key!r}]")
         src.extend(_binary_lines(self.binary, self.alphas))
-        src.extend(_mixing_lines(self.theta, self.like, self.charge_pairs, self.triples,
+        src.extend(_mixing_lines(self.theta, self.like, self.charge_pairs, self.z, self.triples,
                                  self.neutral))
         src.append("    big_f = f_dh + fb / ionic + fm")
         src.extend(f"    l{i} += {self.z2[i]!r} * big_f + {self.az[i]!r} * cs"
@@ -236,17 +238,13 @@ def _binary_lines(binary, alphas) -> list[str]:
     return out
 
 
-def _mixing_lines(theta, like, charge_pairs, triples, neutral) -> list[str]:
+def _mixing_lines(theta, like, charge_pairs, z, triples, neutral) -> list[str]:
     """Source lines of the θ, Eθ, ψ, ζ and λ terms (as ``pitzer.PitzerModel._sums``)."""
     out = []
-    for i, j, th2, th in theta:
+    for i, j, th2, th in theta + [(i, j, 2.0 * th, th) for i, j, th, _ in like if th]:
         out.append(f"    l{i} += m{j} * {th2!r}; l{j} += m{i} * {th2!r}; "
                    f"om += m{i} * m{j} * {th!r}")
-    for i, j, th, key in like:
-        k = charge_pairs.index(key)
-        out.append(f"    p = {th!r} + t{k}; mm = m{i} * m{j}")
-        out.append(f"    l{i} += 2.0 * m{j} * p; l{j} += 2.0 * m{i} * p")
-        out.append(f"    fm += mm * tp{k}; om += mm * (p + ionic * tp{k})")
+    out.extend(_etheta_lines(like, charge_pairs, z))
     groups: dict = {}
     for i, j, k, v in triples:   # v m_i m_j m_k: grouped by (i, j), S = Σ_k v m_k
         groups.setdefault((i, j), []).append((k, v))
@@ -260,6 +258,29 @@ def _mixing_lines(theta, like, charge_pairs, triples, neutral) -> list[str]:
                        f"om += m{n} * m{o} * {v!r}")
         else:
             out.append(f"    l{n} += 2.0 * m{n} * {v!r}; om += 0.5 * m{n} * m{n} * {v!r}")
+    return out
+
+
+def _etheta_lines(like, charge_pairs, z) -> list[str]:
+    """Source lines of the Eθ terms: every like-signed pair of charges |za| < |zb| takes
+    the same Eθ, so with A and B the sums of those ions' molalities each ion of A takes
+    2 Eθ B, each of B 2 Eθ A, and the sums Eθ' A B and (Eθ + I Eθ') A B."""
+    groups: dict = {}
+    for i, j, _, key in like:
+        a, b = (i, j) if abs(z[i]) == key[0] else (j, i)
+        sides = groups.setdefault((z[i] > 0, key), ([], []))
+        sides[0].append(a)
+        sides[1].append(b)
+    out = []
+    for (_, key), (a_side, b_side) in groups.items():
+        k = charge_pairs.index(key)
+        a_ions, b_ions = sorted(set(a_side)), sorted(set(b_side))
+        assert len(a_side) == len(a_ions) * len(b_ions), "Eθ pairs: not every pair listed"
+        out.append(f"    sa = {' + '.join(f'm{i}' for i in a_ions)}; "
+                   f"sb = {' + '.join(f'm{i}' for i in b_ions)}; u = 2.0 * t{k}; mm = sa * sb")
+        out.extend(f"    l{i} += u * sb" for i in a_ions)
+        out.extend(f"    l{i} += u * sa" for i in b_ions)
+        out.append(f"    fm += mm * tp{k}; om += mm * (t{k} + ionic * tp{k})")
     return out
 
 
