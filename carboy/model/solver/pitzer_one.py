@@ -14,7 +14,9 @@ ln POS - ln NEG, which rises with x, inside a bracket that each step narrows; a 
 that leaves it bisects), then evaluates the coefficients at the composition it gives
 (``pitzer_scalar``).  The rounds are a fixed-point iteration on (lg, log10 a_w),
 accelerated by Anderson mixing of depth one; a solution has settled when no
-coefficient moved more than ``ONE_TOL`` in its last round.
+coefficient moved more than ``ONE_TOL`` in its last round.  A table without pairs,
+hydroxides or salts has its charge-balance step compiled into straight-line code
+(:func:`_compile_step`, the same numbers as :func:`_composition` and :func:`_balance`).
 
 :func:`compile_one` returns None for a table this path does not take (a pair whose
 ligand is a protonation state); the vectorized path then solves it.
