@@ -321,7 +321,7 @@ def pitzer_one_fields(catalog, lay: Layout, keys: tuple[str, ...], row: list,
     _, found = model_warnings(model, m, ionic)
     common = tuple(t for t in found if not t.startswith("ionic strength above"))
     code = int(ionic > I_MAX_MOLAL) + 2 * int(not ok)
-    labels, z = tab.labels, tab.charges.tolist()
+    labels, z = tab.labels, ot.charges
     molar = [v * w for v in m]
     species = dict(zip(labels, molar))
     fractions = {}
