@@ -141,28 +141,15 @@ class ScalarPitzer:
 
     # ------------------------------------------------------------------ evaluation
 
-    def _etheta(self, ionic: float, root: float) -> dict:
-        out = {}
-        xcon = 6.0 * self.aphi * root
-        for zi, zj in self.charge_pairs:
-            x_ij, x_ii, x_jj = zi * zj * xcon, zi * zi * xcon, zj * zj * xcon
-            (j_ij, jp_ij), (j_ii, jp_ii), (j_jj, jp_jj) = (
-                j_scalar(x_ij), j_scalar(x_ii), j_scalar(x_jj))
-            zz = zi * zj
-            eth = zz * (j_ij - 0.5 * j_ii - 0.5 * j_jj) / (4.0 * ionic)
-            dbr = x_ij * jp_ij - 0.5 * x_ii * jp_ii - 0.5 * x_jj * jp_jj
-            out[(zi, zj)] = (eth, -eth / ionic + zz * dbr / (8.0 * ionic * ionic))
-        return out
-
     def _compile(self):
         """The cation–anion, θ, Eθ, ψ, ζ and λ sums and the terms every ion takes (F, the
         C sum, the Davies fallback, the MacInnes scaling) as one function of straight-line
         code over this model's nonzero terms (a loop over lists of terms costs most of an
-        evaluation in Python): ``sums(m, ionic, root, big_z, eth, f_dh, kcl, dav)``
+        evaluation in Python): ``sums(m, ionic, root, big_z, f_dh, kcl, dav)``
         returns (ln γ of every species, the osmotic sum of the terms).  The source is built
         from numbers only (``repr`` of floats)."""
         n = self.n
-        src = ["def sums(m, ionic, root, big_z, eth, f_dh, kcl, dav):",
+        src = ["def sums(m, ionic, root, big_z, f_dh, kcl, dav):",
                f"    {_names('m', n)} = m",
                f"    {_names('l', n)} = {', '.join(['0.0'] * n)}",
                "    fb = ob = cs = fm = om = 0.0"]
@@ -171,8 +158,7 @@ class ScalarPitzer:
                     f"        g{k}, gp{k} = _g(x), _gp(x)", "    else:",
                     f"        g{k} = 2.0 * (1.0 - (1.0 + x) * e{k}) / (x * x)",
                     f"        gp{k} = -2.0 * (1.0 - (1.0 + x + 0.5 * x * x) * e{k}) / (x * x)"]
-        for k, key in enumerate(self.charge_pairs):
-            src.append(f"    t{k}, tp{k} = eth[{key!r}]")
+        src.extend(_etheta_values(self.charge_pairs, 6.0 * self.aphi))
         src.extend(_binary_lines(self.binary, self.alphas))
         src.extend(_mixing_lines(self.theta, self.like, self.charge_pairs, self.z, self.triples,
                                  self.neutral))
@@ -184,7 +170,10 @@ class ScalarPitzer:
         if self.macinnes:
             src.extend(f"    l{i} += phimac * {self.z[i]!r}" for i in range(n) if self.z[i])
         src.append(f"    return [{_names('l', n)}], ob + om")
-        space = {"_g": _g, "_gp": _gp, "_exp": math.exp}
+        u0, n_grid, u, j, dj, jp, djp = _j_lists()
+        space = {"_g": _g, "_gp": _gp, "_exp": math.exp, "_log": math.log, "_js": j_scalar,
+                 "_u": u, "_j": j, "_dj": dj, "_jp": jp, "_djp": djp, "_u0": u0,
+                 "_kmax": n_grid - 2}
         exec(compile("\n".join(src), "<pitzer sums>", "exec"), space)   # noqa: S102
         return space["sums"]
 
@@ -200,16 +189,42 @@ class ScalarPitzer:
         root = math.sqrt(i_safe)
         b, aphi = self.b, self.aphi
         f_dh = -aphi * (root / (1.0 + b * root) + 2.0 / b * math.log1p(b * root))
-        eth = self._etheta(i_safe, root) if self.charge_pairs else None
         b0, b1, cphi = self.kcl
         x = 2.0 * root
         kcl = (f_dh + ionic * (2.0 * b0 + b1 * (2.0 * _g(x) + _gp(x)))
                + 1.5 * cphi * ionic * ionic)
         dav = -_LN10 * self.a_davies * (root / (1.0 + root) - 0.3 * ionic)
-        ln, osm = self._sums(m, i_safe, root, big_z, eth, f_dh, kcl, dav)
+        ln, osm = self._sums(m, i_safe, root, big_z, f_dh, kcl, dav)
         osm += -aphi * ionic * root / (1.0 + b * root)
         phi = 1.0 + 2.0 * osm / total if total > 0 else 1.0
         return ln[:self.n_user], phi, math.exp(-phi * total * WATER_KG_PER_MOL), ionic
+
+
+def _etheta_values(charge_pairs, xcon: float) -> list[str]:
+    """Source lines of Eθ (``t``) and Eθ' (``tp``) of each charge pair, as
+    ``etheta.etheta`` gives them, with :func:`j_scalar`'s interpolation written out for
+    each x (its calls cost a fifth of an evaluation)."""
+    h = GRID_STEP
+    out = [f"    xc = {xcon!r} * root"]
+    for p in sorted({q for zi, zj in charge_pairs for q in (zi * zj, zi * zi, zj * zj)}):
+        v = f"{int(p)}"
+        out += [f"    x{v} = {p!r} * xc", f"    if {X_MIN!r} <= x{v} < {X_MAX!r}:",
+                f"        ux = _log(x{v})", f"        k = int((ux - _u0) / {h!r})",
+                "        if k > _kmax:", "            k = _kmax",
+                f"        t = (ux - _u[k]) / {h!r}", "        t2 = t * t", "        t3 = t2 * t",
+                "        h00, h01 = 2 * t3 - 3 * t2 + 1, -2 * t3 + 3 * t2",
+                f"        h10, h11 = (t3 - 2 * t2 + t) * {h!r}, (t3 - t2) * {h!r}",
+                f"        j{v} = h00 * _j[k] + h10 * _dj[k] + h01 * _j[k + 1] + h11 * _dj[k + 1]",
+                f"        jp{v} = h00 * _jp[k] + h10 * _djp[k] + h01 * _jp[k + 1] "
+                "+ h11 * _djp[k + 1]",
+                "    else:", f"        j{v}, jp{v} = _js(x{v})"]
+    for k, (zi, zj) in enumerate(charge_pairs):
+        a, b, c = (f"{int(q)}" for q in (zi * zj, zi * zi, zj * zj))
+        zz = zi * zj
+        out += [f"    t{k} = {zz!r} * (j{a} - 0.5 * j{b} - 0.5 * j{c}) / (4.0 * ionic)",
+                f"    tp{k} = -t{k} / ionic + {zz!r} * (x{a} * jp{a} - 0.5 * x{b} * jp{b} "
+                f"- 0.5 * x{c} * jp{c}) / (8.0 * ionic * ionic)"]
+    return out
 
 
 def _names(prefix: str, n: int) -> str:
