@@ -145,11 +145,11 @@ class ScalarPitzer:
         """The cation–anion, θ, Eθ, ψ, ζ and λ sums and the terms every ion takes (F, the
         C sum, the Davies fallback, the MacInnes scaling) as one function of straight-line
         code over this model's nonzero terms (a loop over lists of terms costs most of an
-        evaluation in Python): ``sums(m, ionic, root, big_z, f_dh, kcl, dav)``
+        evaluation in Python): ``sums(m, ionic, root, big_z, f_dh, dav)``
         returns (ln γ of every species, the osmotic sum of the terms).  The source is built
         from numbers only (``repr`` of floats)."""
         n = self.n
-        src = ["def sums(m, ionic, root, big_z, f_dh, kcl, dav):",
+        src = ["def sums(m, ionic, root, big_z, f_dh, dav):",
                f"    {_names('m', n)} = m",
                f"    {_names('l', n)} = {', '.join(['0.0'] * n)}",
                "    fb = ob = cs = fm = om = 0.0"]
@@ -159,6 +159,16 @@ class ScalarPitzer:
                     f"        g{k} = 2.0 * (1.0 - (1.0 + x) * e{k}) / (x * x)",
                     f"        gp{k} = -2.0 * (1.0 - (1.0 + x + 0.5 * x * x) * e{k}) / (x * x)"]
         src.extend(_etheta_values(self.charge_pairs, 6.0 * self.aphi))
+        # ln γ±(KCl) at the same I, for the MacInnes scale (its g at 2√I may be above)
+        b0, b1, cphi = self.kcl
+        if 2.0 in self.alphas:
+            k = self.alphas.index(2.0)
+            gk = f"(2.0 * g{k} + gp{k})"
+        else:
+            src.append("    x = 2.0 * root")
+            gk = "(2.0 * _g(x) + _gp(x))"
+        src.append(f"    kcl = (f_dh + ionic * (2.0 * {b0!r} + {b1!r} * {gk}) "
+                   f"+ 1.5 * {cphi!r} * ionic * ionic)")
         src.extend(_binary_lines(self.binary, self.alphas))
         src.extend(_mixing_lines(self.theta, self.like, self.charge_pairs, self.z, self.triples,
                                  self.neutral))
@@ -189,12 +199,9 @@ class ScalarPitzer:
         root = math.sqrt(i_safe)
         b, aphi = self.b, self.aphi
         f_dh = -aphi * (root / (1.0 + b * root) + 2.0 / b * math.log1p(b * root))
-        b0, b1, cphi = self.kcl
-        x = 2.0 * root
-        kcl = (f_dh + ionic * (2.0 * b0 + b1 * (2.0 * _g(x) + _gp(x)))
-               + 1.5 * cphi * ionic * ionic)
-        dav = -_LN10 * self.a_davies * (root / (1.0 + root) - 0.3 * ionic)
-        ln, osm = self._sums(m, i_safe, root, big_z, f_dh, kcl, dav)
+        dav = -_LN10 * self.a_davies * (root / (1.0 + root) - 0.3 * ionic) \
+            if self.fallback else 0.0
+        ln, osm = self._sums(m, i_safe, root, big_z, f_dh, dav)
         osm += -aphi * ionic * root / (1.0 + b * root)
         phi = 1.0 + 2.0 * osm / total if total > 0 else 1.0
         return ln[:self.n_user], phi, math.exp(-phi * total * WATER_KG_PER_MOL), ionic
