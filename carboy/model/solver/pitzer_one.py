@@ -326,22 +326,22 @@ def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
     v = [0.0] * (n + 1)         # log10 γ of every column, then log10 a_w
     x = _start(ot, ions, sys_tot) if x0 is None else x0
     prev = None
-    out = None
     moved = last = 1.0
     for rounds in range(1, ONE_ROUNDS + 1):
-        lg, lw = v[:n], v[n]
-        # early rounds need x no closer than their coefficients are settled
+        # early rounds need x no closer than their coefficients are settled; v holds
+        # log10 a_w after the n coefficients, which the x-solve does not read
         tol = FIRST_X_TOL if rounds == 1 else max(X_STEP_TOL, ROUND_X_TOL * moved)
-        x, m = solve_x(ot, x, lg, lw, ions, sys_tot, tol)
+        x, m = solve_x(ot, x, v, v[n], ions, sys_tot, tol)
         ln, phi, aw, ionic = model.evaluate(m)
-        g = [a / LN10 for a in ln] + [math.log10(aw)]
+        g = [a / LN10 for a in ln]
+        g.append(math.log10(aw))
         last, moved = moved, max(map(abs, map(sub, g, v)))
-        out = (x, m, g[:n], (phi, aw, ionic))
         if settled(moved, last, rounds):
-            x, m = solve_x(ot, x, g[:n], g[n], ions, sys_tot)
+            x, m = solve_x(ot, x, g, g[n], ions, sys_tot)
             return x, m, g[:n], (phi, aw, ionic), rounds, True
-        v, prev = _anderson(v, g, prev), (v, g)
-    return (*out, ONE_ROUNDS, False)
+        if rounds < ONE_ROUNDS:
+            v, prev = _anderson(v, g, prev), (v, g)
+    return x, m, g[:n], (phi, aw, ionic), ONE_ROUNDS, False
 
 
 _ONE: dict = {}
