@@ -180,10 +180,10 @@ class ScalarPitzer:
         if self.macinnes:
             src.extend(f"    l{i} += phimac * {self.z[i]!r}" for i in range(n) if self.z[i])
         src.append(f"    return [{_names('l', n)}], ob + om")
-        u0, n_grid, u, j, dj, jp, djp = _j_lists()
-        space = {"_g": _g, "_gp": _gp, "_exp": math.exp, "_log": math.log, "_js": j_scalar,
-                 "_u": u, "_j": j, "_dj": dj, "_jp": jp, "_djp": djp, "_u0": u0,
-                 "_kmax": n_grid - 2}
+        space = {"_g": _g, "_gp": _gp, "_exp": math.exp, "_log": math.log, "_js": j_scalar}
+        if self.charge_pairs:   # J's table (built once, on the first model that needs it)
+            u0, n_grid, u, j, dj, jp, djp = _j_lists()
+            space.update(_u=u, _j=j, _dj=dj, _jp=jp, _djp=djp, _u0=u0, _kmax=n_grid - 2)
         exec(compile("\n".join(src), "<pitzer sums>", "exec"), space)   # noqa: S102
         return space["sums"]
 
