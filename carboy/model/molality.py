@@ -22,6 +22,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 from dataclasses import dataclass
 from functools import lru_cache
+from operator import mul
 from types import MappingProxyType
 
 import numpy as np
@@ -80,29 +81,30 @@ def _key_volume(comp, volumes: MolarVolumes) -> tuple[float, int]:
 
 @lru_cache(maxsize=256)
 def _layout_of(catalog, keys: tuple[str, ...]):
-    """Per key (V, charge), and the one compound with a density table whose composition
-    the keys could be (or None)."""
+    """Per key (V, charge), and each compound with a density table whose composition
+    the keys could be, with its count of each key and the keys it lacks."""
     vols = molar_volumes()
     per = [_key_volume(resolve(catalog, k), vols) for k in keys]
     tabled = []
     for comp in catalog.compounds.values():
         if comp.density is not None and set(comp.composition) <= set(keys):
-            tabled.append(comp)
+            counts = tuple(comp.composition.get(k, 0) for k in keys)
+            if any(n > 0 for n in counts):
+                tabled.append((comp, counts, tuple(i for i, n in enumerate(counts) if n <= 0)))
     return (np.array([v for v, _ in per]), np.array([z for _, z in per], dtype=float),
             tuple(tabled), vols.by_label.get("OH-", vols.default))
 
 
-def _from_table(catalog, keys, row: np.ndarray, tabled) -> float | None:
-    """kg of water per litre from a density table, when the row is one such compound."""
+def _from_table(catalog, row: list, tabled) -> float | None:
+    """kg of water per litre from a density table, when the row (a list) is one such
+    compound (``tabled``: (compound, its count of each key, the keys it lacks))."""
     from carboy.model.solutions import strength_of  # solutions imports the catalog
 
-    for comp in tabled:
-        counts = np.array([comp.composition.get(k, 0) for k in keys], dtype=float)
-        used = counts > 0
-        if np.any(row[~used] != 0) or not used.any():
+    for comp, counts, others in tabled:
+        if any(map(row.__getitem__, others)):
             continue
-        c = row[used] / counts[used]
-        if not np.allclose(c, c[0], rtol=1e-9, atol=0.0) or c[0] <= 0:
+        c = [v / n for v, n in zip(row, counts) if n > 0]
+        if c[0] <= 0 or any(abs(ci - c[0]) > 1e-9 * abs(c[0]) for ci in c):
             continue
         try:
             s = strength_of(comp, conc_molar=float(c[0]), catalog=catalog)
@@ -127,10 +129,32 @@ def water_kg_per_litre(catalog, keys: tuple[str, ...], totals, temperature_c: fl
     estimated = np.ones(w.shape, dtype=bool)
     if tabled and totals.shape[0] <= 64:   # one compound's solutions: its own table
         for n in range(totals.shape[0]):
-            got = _from_table(catalog, keys, totals[n], tabled)
+            got = _from_table(catalog, totals[n].tolist(), tabled)
             if got is not None:
                 w[n], estimated[n] = got, False
     return w, ((ESTIMATE_NOTE,) if estimated.any() and totals.any() else ())
+
+
+def water_kg_one(catalog, keys: tuple[str, ...], row, temperature_c: float
+                 ) -> tuple[float, tuple[str, ...]]:
+    """:func:`water_kg_per_litre` of one mixture (``row`` its totals, mol/L, a list), in
+    floats: the one-solution paths call it once per solve."""
+    vol, charge, tabled, v_oh = _float_layout(catalog, tuple(keys))
+    net = sum(map(mul, row, charge))
+    solute_l = (sum(map(mul, row, vol)) + max(net, 0.0) * v_oh) / 1000.0
+    w = water.density_g_cm3(temperature_c) * max(1.0 - solute_l, 0.05)
+    if tabled:
+        got = _from_table(catalog, row, tabled)
+        if got is not None:
+            return got, ()
+    return w, ((ESTIMATE_NOTE,) if any(row) else ())
+
+
+@lru_cache(maxsize=256)
+def _float_layout(catalog, keys: tuple[str, ...]):
+    """:func:`_layout_of` with lists of floats."""
+    vol, charge, tabled, v_oh = _layout_of(catalog, keys)
+    return vol.tolist(), charge.tolist(), tabled, float(v_oh)
 
 
 def molar_from_molal(catalog, keys: tuple[str, ...], molal, temperature_c: float,

@@ -7,7 +7,9 @@ the Davies path (``solver/single.py``).  :class:`ScalarPitzer` is compiled once 
 temperature) into lists of the nonzero terms, and :meth:`ScalarPitzer.evaluate` gives
 ln γ of every species, the osmotic coefficient, the water activity and the ionic
 strength: the same numbers as ``PitzerModel.evaluate`` (tests/unit/test_pitzer_scalar.py
-holds them to 1e-12), summed pair by pair.
+holds them to 1e-12), summed pair by pair.  The pair and triplet sums are compiled once
+per model into one function of straight-line code with the parameters as literals
+(:meth:`ScalarPitzer._compile`): a loop over lists of terms cost most of an evaluation.
 """
 
 from __future__ import annotations
@@ -95,6 +97,7 @@ class ScalarPitzer:
         self.kcl = model._kcl
         self.b, self.aphi, self.a_davies = model._b, model._aphi, model._a_davies
         self.macinnes = model.scale == "macinnes"
+        self._sums = self._compile()
 
     def _like(self, idx: list[int], theta) -> list:
         """(i, j, θ, (|zi|, |zj|) or None) for every like-signed pair with a θ or with
@@ -138,108 +141,169 @@ class ScalarPitzer:
 
     # ------------------------------------------------------------------ evaluation
 
-    def _etheta(self, ionic: float, root: float) -> dict:
-        out = {}
-        xcon = 6.0 * self.aphi * root
-        for zi, zj in self.charge_pairs:
-            x_ij, x_ii, x_jj = zi * zj * xcon, zi * zi * xcon, zj * zj * xcon
-            (j_ij, jp_ij), (j_ii, jp_ii), (j_jj, jp_jj) = (
-                j_scalar(x_ij), j_scalar(x_ii), j_scalar(x_jj))
-            zz = zi * zj
-            eth = zz * (j_ij - 0.5 * j_ii - 0.5 * j_jj) / (4.0 * ionic)
-            dbr = x_ij * jp_ij - 0.5 * x_ii * jp_ii - 0.5 * x_jj * jp_jj
-            out[(zi, zj)] = (eth, -eth / ionic + zz * dbr / (8.0 * ionic * ionic))
-        return out
-
-    def _binary(self, m, ln, ionic, root, big_z):
-        """Cation–anion terms into ``ln``; returns (Σ m m B', osmotic sum, Σ m m C)."""
-        funcs = {}
-        for a in self.alphas:
-            x = a * root
-            funcs[a] = (_g(x), _gp(x), math.exp(-x))
-        fprime = osm = csum = 0.0
-        zero = (0.0, 0.0, 0.0)
-        for c, a, b0, b1, a1, b2, a2, cc in self.binary:
-            mc, ma = m[c], m[a]
-            g1, gp1, e1 = funcs[a1] if b1 else zero
-            g2, gp2, e2 = funcs[a2] if b2 else zero
-            bg = 2.0 * (b0 + b1 * g1 + b2 * g2) + big_z * cc
-            ln[c] += ma * bg
-            ln[a] += mc * bg
-            mm = mc * ma
-            fprime += mm * (b1 * gp1 + b2 * gp2)
-            osm += mm * (b0 + b1 * e1 + b2 * e2 + big_z * cc)
-            csum += mm * cc
-        return fprime / ionic, osm, csum
-
-    def _mixing(self, m, ln, ionic, root) -> tuple[float, float]:
-        """θ, Eθ, ψ, ζ and λ terms into ``ln``; returns (Σ m m Φ', osmotic sum)."""
-        eth = self._etheta(ionic, root) if self.charge_pairs else {}
-        fprime = osm = 0.0
-        for i, j, th2, th in self.theta:
-            mi, mj = m[i], m[j]
-            ln[i] += mj * th2
-            ln[j] += mi * th2
-            osm += mi * mj * th
-        for i, j, th, key in self.like:
-            e, ep = eth[key]
-            mi, mj = m[i], m[j]
-            phi = th + e
-            ln[i] += 2.0 * mj * phi
-            ln[j] += 2.0 * mi * phi
-            mm = mi * mj
-            fprime += mm * ep
-            osm += mm * (phi + ionic * ep)
-        for i, j, k, v in self.triples:
-            mj, mk = m[j], m[k]
-            a, b = m[i] * v, mj * mk
-            ln[i] += b * v
-            ln[j] += a * mk
-            ln[k] += a * mj
-            osm += a * b
-        for n, o, v, ion in self.neutral:
-            mn, mo = m[n], m[o]
-            if ion or o != n:
-                ln[o] += 2.0 * mn * v
-                ln[n] += 2.0 * mo * v
-                osm += mn * mo * v
-            else:
-                ln[n] += 2.0 * mn * v
-                osm += 0.5 * mn * mn * v
-        return fprime, osm
+    def _compile(self):
+        """The cation–anion, θ, Eθ, ψ, ζ and λ sums and the terms every ion takes (F, the
+        C sum, the Davies fallback, the MacInnes scaling) as one function of straight-line
+        code over this model's nonzero terms (a loop over lists of terms costs most of an
+        evaluation in Python): ``sums(m, ionic, root, big_z, f_dh, dav)``
+        returns (ln γ of every species, the osmotic sum of the terms).  The source is built
+        from numbers only (``repr`` of floats)."""
+        n = self.n
+        src = ["def sums(m, ionic, root, big_z, f_dh, dav):",
+               f"    {_names('m', n)} = m",
+               f"    {_names('l', n)} = {', '.join(['0.0'] * n)}",
+               "    fb = ob = cs = fm = om = 0.0"]
+        for k, a in enumerate(self.alphas):   # _g and _gp with one exponential
+            src += [f"    x = {a!r} * root", f"    e{k} = _exp(-x)", "    if x < 1e-3:",
+                    f"        g{k}, gp{k} = _g(x), _gp(x)", "    else:",
+                    f"        g{k} = 2.0 * (1.0 - (1.0 + x) * e{k}) / (x * x)",
+                    f"        gp{k} = -2.0 * (1.0 - (1.0 + x + 0.5 * x * x) * e{k}) / (x * x)"]
+        src.extend(_etheta_values(self.charge_pairs, 6.0 * self.aphi))
+        # ln γ±(KCl) at the same I, for the MacInnes scale (its g at 2√I may be above)
+        b0, b1, cphi = self.kcl
+        if 2.0 in self.alphas:
+            k = self.alphas.index(2.0)
+            gk = f"(2.0 * g{k} + gp{k})"
+        else:
+            src.append("    x = 2.0 * root")
+            gk = "(2.0 * _g(x) + _gp(x))"
+        src.append(f"    kcl = (f_dh + ionic * (2.0 * {b0!r} + {b1!r} * {gk}) "
+                   f"+ 1.5 * {cphi!r} * ionic * ionic)")
+        src.extend(_binary_lines(self.binary, self.alphas))
+        src.extend(_mixing_lines(self.theta, self.like, self.charge_pairs, self.z, self.triples,
+                                 self.neutral))
+        src.append("    big_f = f_dh + fb / ionic + fm")
+        src.extend(f"    l{i} += {self.z2[i]!r} * big_f + {self.az[i]!r} * cs"
+                   for i in self.ions)
+        src.append(f"    phimac = l{self.ref} - kcl")
+        src.extend(f"    l{i} = dav * {self.z2[i]!r}" for i in self.fallback)
+        if self.macinnes:
+            src.extend(f"    l{i} += phimac * {self.z[i]!r}" for i in range(n) if self.z[i])
+        src.append(f"    return [{_names('l', n)}], ob + om")
+        space = {"_g": _g, "_gp": _gp, "_exp": math.exp, "_log": math.log, "_js": j_scalar}
+        if self.charge_pairs:   # J's table (built once, on the first model that needs it)
+            u0, n_grid, u, j, dj, jp, djp = _j_lists()
+            space.update(_u=u, _j=j, _dj=dj, _jp=jp, _djp=djp, _u0=u0, _kmax=n_grid - 2)
+        exec(compile("\n".join(src), "<pitzer sums>", "exec"), space)   # noqa: S102
+        return space["sums"]
 
     def evaluate(self, molality: list[float]):
         """(ln γ of the model's species, osmotic φ, a_w, I) at one composition (mol/kg)."""
         m = list(molality)
         if len(m) < self.n:
             m.append(0.0)   # the reference anion (Cl-), carried at zero
-        z, z2, az = self.z, self.z2, self.az
-        ionic = 0.5 * sum(map(mul, m, z2))
-        big_z = sum(map(mul, m, az))
+        ionic = 0.5 * sum(map(mul, m, self.z2))
+        big_z = sum(map(mul, m, self.az))
         total = sum(m)
         i_safe = ionic if ionic > 1e-100 else 1e-100
         root = math.sqrt(i_safe)
         b, aphi = self.b, self.aphi
         f_dh = -aphi * (root / (1.0 + b * root) + 2.0 / b * math.log1p(b * root))
-        ln = [0.0] * self.n
-        bprime, osm_b, csum = self._binary(m, ln, i_safe, root, big_z)
-        mprime, osm_m = self._mixing(m, ln, i_safe, root)
-        big_f = f_dh + bprime + mprime
-        for i in self.ions:
-            ln[i] += z2[i] * big_f + az[i] * csum
-        osm = -aphi * ionic * root / (1.0 + b * root) + osm_b + osm_m
-        b0, b1, cphi = self.kcl
-        x = 2.0 * root
-        phimac = ln[self.ref] - (f_dh + ionic * (2.0 * b0 + b1 * (2.0 * _g(x) + _gp(x)))
-                                 + 1.5 * cphi * ionic * ionic)
-        if self.fallback:
-            dav = -_LN10 * self.a_davies * (root / (1.0 + root) - 0.3 * ionic)
-            for i in self.fallback:
-                ln[i] = dav * z2[i]
-        if self.macinnes:
-            ln = [v + phimac * zi for v, zi in zip(ln, z)]
+        dav = -_LN10 * self.a_davies * (root / (1.0 + root) - 0.3 * ionic) \
+            if self.fallback else 0.0
+        ln, osm = self._sums(m, i_safe, root, big_z, f_dh, dav)
+        osm += -aphi * ionic * root / (1.0 + b * root)
         phi = 1.0 + 2.0 * osm / total if total > 0 else 1.0
         return ln[:self.n_user], phi, math.exp(-phi * total * WATER_KG_PER_MOL), ionic
+
+
+def _etheta_values(charge_pairs, xcon: float) -> list[str]:
+    """Source lines of Eθ (``t``) and Eθ' (``tp``) of each charge pair, as
+    ``etheta.etheta`` gives them, with :func:`j_scalar`'s interpolation written out for
+    each x (its calls cost a fifth of an evaluation)."""
+    h = GRID_STEP
+    out = [f"    xc = {xcon!r} * root"]
+    for p in sorted({q for zi, zj in charge_pairs for q in (zi * zj, zi * zi, zj * zj)}):
+        v = f"{int(p)}"
+        out += [f"    x{v} = {p!r} * xc", f"    if {X_MIN!r} <= x{v} < {X_MAX!r}:",
+                f"        ux = _log(x{v})", f"        k = int((ux - _u0) / {h!r})",
+                "        if k > _kmax:", "            k = _kmax",
+                f"        t = (ux - _u[k]) / {h!r}", "        t2 = t * t", "        t3 = t2 * t",
+                "        h00, h01 = 2 * t3 - 3 * t2 + 1, -2 * t3 + 3 * t2",
+                f"        h10, h11 = (t3 - 2 * t2 + t) * {h!r}, (t3 - t2) * {h!r}",
+                f"        j{v} = h00 * _j[k] + h10 * _dj[k] + h01 * _j[k + 1] + h11 * _dj[k + 1]",
+                f"        jp{v} = h00 * _jp[k] + h10 * _djp[k] + h01 * _jp[k + 1] "
+                "+ h11 * _djp[k + 1]",
+                "    else:", f"        j{v}, jp{v} = _js(x{v})"]
+    for k, (zi, zj) in enumerate(charge_pairs):
+        a, b, c = (f"{int(q)}" for q in (zi * zj, zi * zi, zj * zj))
+        zz = zi * zj
+        out += [f"    t{k} = {zz!r} * (j{a} - 0.5 * j{b} - 0.5 * j{c}) / (4.0 * ionic)",
+                f"    tp{k} = -t{k} / ionic + {zz!r} * (x{a} * jp{a} - 0.5 * x{b} * jp{b} "
+                f"- 0.5 * x{c} * jp{c}) / (8.0 * ionic * ionic)"]
+    return out
+
+
+def _names(prefix: str, n: int) -> str:
+    return ", ".join(f"{prefix}{i}" for i in range(n)) + ("," if n == 1 else "")
+
+
+def _binary_lines(binary, alphas) -> list[str]:
+    """Source lines of the cation–anion terms (as ``pitzer.PitzerModel._binary``)."""
+    out = []
+    for c, a, b0, b1, a1, b2, a2, cc in binary:
+        gam, prime, phi = [f"{b0!r}"], [], [f"{b0!r}"]
+        for b, al in ((b1, a1), (b2, a2)):
+            if b:
+                k = alphas.index(al)
+                gam.append(f"{b!r} * g{k}")
+                prime.append(f"{b!r} * gp{k}")
+                phi.append(f"{b!r} * e{k}")
+        zc = f" + big_z * {cc!r}" if cc else ""
+        out.append(f"    t = 2.0 * ({' + '.join(gam)}){zc}")
+        out.append(f"    l{c} += m{a} * t; l{a} += m{c} * t; mm = m{c} * m{a}")
+        if prime:
+            out.append(f"    fb += mm * ({' + '.join(prime)})")
+        out.append(f"    ob += mm * ({' + '.join(phi)}{zc})")
+        if cc:
+            out.append(f"    cs += mm * {cc!r}")
+    return out
+
+
+def _mixing_lines(theta, like, charge_pairs, z, triples, neutral) -> list[str]:
+    """Source lines of the θ, Eθ, ψ, ζ and λ terms (as ``pitzer.PitzerModel._sums``)."""
+    out = []
+    for i, j, th2, th in theta + [(i, j, 2.0 * th, th) for i, j, th, _ in like if th]:
+        out.append(f"    l{i} += m{j} * {th2!r}; l{j} += m{i} * {th2!r}; "
+                   f"om += m{i} * m{j} * {th!r}")
+    out.extend(_etheta_lines(like, charge_pairs, z))
+    groups: dict = {}
+    for i, j, k, v in triples:   # v m_i m_j m_k: grouped by (i, j), S = Σ_k v m_k
+        groups.setdefault((i, j), []).append((k, v))
+    for (i, j), terms in groups.items():
+        out.append(f"    s = {' + '.join(f'{v!r} * m{k}' for k, v in terms)}; mm = m{i} * m{j}")
+        out.append(f"    l{i} += m{j} * s; l{j} += m{i} * s; om += mm * s")
+        out.extend(f"    l{k} += mm * {v!r}" for k, v in terms)
+    for n, o, v, ion in neutral:
+        if ion or o != n:
+            out.append(f"    l{o} += 2.0 * m{n} * {v!r}; l{n} += 2.0 * m{o} * {v!r}; "
+                       f"om += m{n} * m{o} * {v!r}")
+        else:
+            out.append(f"    l{n} += 2.0 * m{n} * {v!r}; om += 0.5 * m{n} * m{n} * {v!r}")
+    return out
+
+
+def _etheta_lines(like, charge_pairs, z) -> list[str]:
+    """Source lines of the Eθ terms: every like-signed pair of charges |za| < |zb| takes
+    the same Eθ, so with A and B the sums of those ions' molalities each ion of A takes
+    2 Eθ B, each of B 2 Eθ A, and the sums Eθ' A B and (Eθ + I Eθ') A B."""
+    groups: dict = {}
+    for i, j, _, key in like:
+        a, b = (i, j) if abs(z[i]) == key[0] else (j, i)
+        sides = groups.setdefault((z[i] > 0, key), ([], []))
+        sides[0].append(a)
+        sides[1].append(b)
+    out = []
+    for (_, key), (a_side, b_side) in groups.items():
+        k = charge_pairs.index(key)
+        a_ions, b_ions = sorted(set(a_side)), sorted(set(b_side))
+        assert len(a_side) == len(a_ions) * len(b_ions), "Eθ pairs: not every pair listed"
+        out.append(f"    sa = {' + '.join(f'm{i}' for i in a_ions)}; "
+                   f"sb = {' + '.join(f'm{i}' for i in b_ions)}; u = 2.0 * t{k}; mm = sa * sb")
+        out.extend(f"    l{i} += u * sb" for i in a_ions)
+        out.extend(f"    l{i} += u * sa" for i in b_ions)
+        out.append(f"    fm += mm * tp{k}; om += mm * (t{k} + ionic * tp{k})")
+    return out
 
 
 @lru_cache(maxsize=64)

@@ -100,7 +100,14 @@ from carboy.model.solver.single import solve_one
 from carboy.model.solver.single_metals import solve_unsaturated
 from carboy.model.solver.single_pairs import solve_pairs_one
 from carboy.model.solver.starts import start_between
-from carboy.model.speciation_models import ModelPart, ModelPoint, needs_route, ph_scale_of, route
+from carboy.model.speciation_models import (
+    ModelPart,
+    ModelPoint,
+    needs_route,
+    ph_scale_of,
+    pitzer_one_fields,
+    route,
+)
 from carboy.model.speciation_one import one_fields, pairs_fields
 
 __all__ = [
@@ -322,8 +329,11 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
     if needs_route(lay, activity, t_c):
         if activity == "davies":   # ion pairs form: first the plain-Python outer loop
             got = _pairs_one(lay, row, t_c)
-            if got is not None:
-                return Speciation(**got, mixture=mixture)
+        else:   # the Pitzer model on floats, without the batch result around it
+            got = pitzer_one_fields(catalog, lay, keys, [float(v) for v in row], t_c) \
+                if activity == "pitzer" else None
+        if got is not None:
+            return Speciation(**got, mixture=mixture)
         batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
         res = route(batch, lay, activity, catalog, None, None, _solve, _frame).point(0)
         return Speciation(**{**res.__dict__, "mixture": mixture})

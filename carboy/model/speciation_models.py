@@ -43,8 +43,11 @@ coefficient is still evaluated at the point's own composition (none is held).
 from __future__ import annotations
 
 import dataclasses
+import math
 from dataclasses import dataclass
 from functools import lru_cache
+from operator import mul
+from types import MappingProxyType
 
 import numpy as np
 
@@ -52,7 +55,7 @@ from carboy.errors import InvalidInput
 from carboy.model import water
 from carboy.model.activity import DAVIES_LIMIT_MOLAR, outside_range_warning
 from carboy.model.mixture import MixtureBatch
-from carboy.model.molality import water_kg_per_litre
+from carboy.model.molality import water_kg_one, water_kg_per_litre
 from carboy.model.pitzer import I_MAX_MOLAL
 from carboy.model.pitzer_metals import (
     SOLID_FALLBACK,
@@ -66,7 +69,7 @@ from carboy.model.pitzer_metals import (
 from carboy.model.pitzer_scalar import scalar_model
 from carboy.model.result_warnings import METAL_T_SPAN_C, warning_texts
 from carboy.model.solver.charge_balance import padded_fractions
-from carboy.model.solver.layout import Layout, cached_layout
+from carboy.model.solver.layout import ENTHALPY_DATA_MAX_C, Layout, cached_layout
 from carboy.model.solver.outer import (
     Outcome,
     has_pairs,
@@ -76,7 +79,12 @@ from carboy.model.solver.outer import (
     table_of,
 )
 from carboy.model.solver.pitzer_batch import batch_outcome
-from carboy.model.solver.pitzer_one import one_outcome, one_table
+from carboy.model.solver.pitzer_one import (
+    model_warnings,
+    one_outcome,
+    one_table,
+    solve_one_pitzer,
+)
 from carboy.model.solver.problem import build_problem
 
 AUTO_LIMIT_MOLAL = 0.5
@@ -296,6 +304,64 @@ def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None
     return _pitzer_result(base, out, lay, tab, activity, w, notes)
 
 
+def pitzer_one_fields(catalog, lay: Layout, keys: tuple[str, ...], row: list,
+                      t_c: float) -> dict | None:
+    """The fields of a ``Speciation`` (all but ``mixture``) of one solution (``row`` its
+    totals, mol/L, floats) under the Pitzer model, worked out in floats as the batch
+    path's result of one point would hold them; None where the float path does not
+    take the layout (metals, a pair on a state)."""
+    if lay.metals is not None:
+        return None
+    tab, ot, model, pkw, hot = _one_setup(lay, t_c)
+    if ot is None:
+        return None
+    w, notes = water_kg_one(catalog, keys, row, t_c)
+    x, m, lg, (_, aw, ionic), rounds, ok = solve_one_pitzer(ot, scalar_model(model), row,
+                                                             1.0 / w)
+    _, found = model_warnings(model, m, ionic)
+    common = tuple(t for t in found if not t.startswith("ionic strength above"))
+    code = int(ionic > I_MAX_MOLAL) + 2 * int(not ok)
+    labels, z = tab.labels, ot.charges
+    molar = [v * w for v in m]
+    species = dict(zip(labels, molar))
+    fractions = {}
+    for key, labs, (_, states) in zip(lay.sys_keys, lay.sys_labels, ot.systems):
+        tot = sum(m[s[0]] for s in states)
+        fractions[key] = MappingProxyType(dict(zip(labs, (
+            m[s[0]] / tot if tot > 0 else 0.0 for s in states))))
+    log_h = x + math.log10(w)
+    return dict(
+        pH=-(x + lg[0]), h_molar=10.0 ** log_h, oh_molar=species["OH-"], pkw=pkw,
+        species=MappingProxyType(species), fractions=MappingProxyType(fractions),
+        activity_coefficients=MappingProxyType({lab: 10.0 ** v for lab, v in zip(labels, lg)}),
+        ionic_strength_molar=0.5 * sum(c * q * q for c, q in zip(molar, z)),
+        temperature_c=t_c, activity="pitzer", warnings=_pitzer_texts(common + notes + hot)[code],
+        converged=ok, iterations=rounds, charge_residual_molar=sum(map(mul, molar, z)),
+        model_part=ModelPoint("pitzer", ph_scale_of("pitzer"), w, ionic, aw))
+
+
+_SETUP: dict = {}
+
+
+def _one_setup(lay: Layout, t_c: float):
+    """What :func:`pitzer_one_fields` needs of a layout at a temperature (the Pitzer
+    table, its float table, the model, pKw, the temperature's warning), cached beside the
+    layout (layouts are cached and never change)."""
+    key = (id(lay), t_c)
+    hit = _SETUP.get(key)
+    if hit is not None and hit[0] is lay:
+        return hit[1]
+    tab = table_of(lay, "pitzer", t_c)
+    pkw = water.pkw(t_c)
+    hot = tuple(t for t in warning_texts(False, False, t_c > ENTHALPY_DATA_MAX_C, "pitzer")
+                if "enthalpy data" in t)
+    got = (tab, one_table(lay, tab, pkw), pitzer_for(tab, t_c), pkw, hot)
+    if len(_SETUP) >= 512:
+        _SETUP.clear()
+    _SETUP[key] = (lay, got)
+    return got
+
+
 def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes):
     """The batch result of the Pitzer path in the frame ``base``."""
     molal_i = out.extra["ionic_strength_molal"]
@@ -309,6 +375,7 @@ def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes
         "pitzer", out.log_gamma, w, molal_i, out.extra["water_activity"]))
 
 
+@lru_cache(maxsize=256)
 def _pitzer_texts(common: tuple[str, ...]) -> tuple[tuple[str, ...], ...]:
     """The warnings of a Pitzer point by code: +1 beyond I_MAX_MOLAL, +2 unsettled."""
     high = (f"ionic strength above {I_MAX_MOLAL:g} mol/kg, beyond the range the "

@@ -84,6 +84,40 @@ def test_one_solution_path_equals_the_batch_path(comp):
     assert set(one.fractions) == set(ref.fractions)
 
 
+@pytest.mark.parametrize("comp, t", [(MIXES[0], 25.0), (MIXES[1], 25.0), (MIXES[3], 25.0),
+                                     (MIXES[4], 90.0), ({"H2SO4": 2.0}, 25.0),
+                                     ({"HCl": 7.0, "NaCl": 1.5}, 25.0)],
+                         ids=["acid-waste", "naoh-carbonate", "phosphate", "nh4cl-90C",
+                              "h2so4-density-table", "beyond-6-molal"])
+def test_one_solution_fields_equal_a_batch_of_one(comp, t):
+    # speciate builds the result in floats (speciation_models.pitzer_one_fields); a batch
+    # of one goes through the batch result's assembly: every field must agree
+    mix = Mixture.from_compounds([(CAT.compound(k), v) for k, v in comp.items()],
+                                 volume_l=1.0, temperature_c=t)
+    one = speciate(mix, activity="pitzer", catalog=CAT)
+    keys = tuple(mix.totals)
+    ref = speciate_batch(MixtureBatch(keys, np.array([[mix.totals[k] for k in keys]]), t),
+                         activity="pitzer", catalog=CAT).point(0)
+    assert one.warnings == ref.warnings
+    assert (one.converged, one.iterations, one.activity, one.pkw) == \
+        (ref.converged, ref.iterations, ref.activity, ref.pkw)
+    assert (one.model_part.model, one.model_part.ph_scale) == ("pitzer", "macinnes")
+    assert ref.model_part.model == "pitzer"
+    for name in ("water_kg_per_l", "ionic_strength_molal", "water_activity"):
+        assert getattr(one.model_part, name) == pytest.approx(
+            getattr(ref.model_part, name), rel=1e-13), name
+    for name in ("pH", "h_molar", "oh_molar", "ionic_strength_molar"):
+        assert getattr(one, name) == pytest.approx(getattr(ref, name), rel=1e-12), name
+    assert one.charge_residual_molar == pytest.approx(ref.charge_residual_molar, abs=1e-14)
+    for name in ("species", "activity_coefficients"):
+        got, want = getattr(one, name), getattr(ref, name)
+        assert list(got) == list(want), name
+        assert list(got.values()) == pytest.approx(list(want.values()), rel=1e-12), name
+    assert list(one.fractions) == list(ref.fractions)
+    for key, fr in ref.fractions.items():
+        assert dict(one.fractions[key]) == pytest.approx(dict(fr), rel=1e-12, abs=1e-300), key
+
+
 @pytest.mark.parametrize("comp, naoh", [(MIXES[0], 2.5), (MIXES[2], 0.0999), (MIXES[4], 1.2),
                                         (MIXES[2], 1.5), (MIXES[5], 1.5)],
                          ids=["acid-waste", "cacl2-below-portlandite", "nh4cl",
@@ -137,3 +171,32 @@ def test_metals_away_from_25_c_say_their_constants_are_for_25_c():
     assert hot.model_part.model == cool.model_part.model == "pitzer"
     assert any("constants are for 25 °C" in w for w in hot.warnings)
     assert not any("constants are for 25 °C" in w for w in cool.warnings)
+
+
+@pytest.mark.parametrize("comp", [MIXES[0], MIXES[1], MIXES[3], MIXES[4]],
+                         ids=["acid-waste", "naoh-carbonate", "phosphate", "nh4cl"])
+def test_the_compiled_charge_balance_step_equals_the_loops(comp):
+    from carboy.model import water
+    from carboy.model.solver import pitzer_one
+    from carboy.model.solver.layout import cached_layout
+    from carboy.model.solver.outer import table_of
+
+    mix = Mixture.from_compounds([(CAT.compound(k), v) for k, v in comp.items()],
+                                 volume_l=1.0)
+    keys, row = tuple(mix.totals), list(mix.totals.values())
+    lay = cached_layout(CAT, keys, 25.0)
+    ot = pitzer_one.compile_one(lay, table_of(lay, "pitzer", 25.0), water.pkw(25.0))
+    assert ot.step is not None
+    ions = [0.0] * ot.n
+    for c, b in ot.ions:
+        ions[c] += row[b]
+    sys_tot = [row[b] for b, _ in ot.systems]
+    rng = np.random.default_rng(3)
+    for x in (-1.0, 0.2, -7.0, -13.5):
+        lg = rng.uniform(-1.0, 0.5, ot.n).tolist()
+        lw = -0.05
+        m, dm, g, dg = ot.step(x, lg, lw, ions, sys_tot)
+        m_ref, dm_ref = pitzer_one._composition(ot, x, lg, lw, ions, sys_tot, True)
+        assert m == pytest.approx(m_ref, rel=1e-14, abs=0.0)
+        assert dm == pytest.approx(dm_ref, rel=1e-14, abs=0.0)
+        assert (g, dg) == pytest.approx(pitzer_one._balance(ot, m_ref, dm_ref), rel=1e-13)

@@ -34,6 +34,7 @@ from carboy.model.solver.pitzer_one import (
     ONE_ROUNDS,
     ONE_TOL,
     QUADRATIC,
+    ROUND_X_TOL,
     SETTLED_TOL,
     X_BOUNDS,
     X_STEP_TOL,
@@ -232,7 +233,7 @@ def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot,
     prev = None
     moved = last = np.ones(idx.shape[0])
     for r in range(1, ONE_ROUNDS + 1):
-        tol = np.maximum(X_STEP_TOL, 1e-7 * moved) if r > 1 else np.full(moved.shape,
+        tol = np.maximum(X_STEP_TOL, ROUND_X_TOL * moved) if r > 1 else np.full(moved.shape,
                                                                           first_tol)
         x, m = solve_x(bt, x, v[:, :n], v[:, n], ions[idx], sys_tot[idx], tol)
         ln_gamma, phi, aw, ionic = model.coefficients(m)

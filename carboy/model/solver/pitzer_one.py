@@ -14,7 +14,9 @@ ln POS - ln NEG, which rises with x, inside a bracket that each step narrows; a 
 that leaves it bisects), then evaluates the coefficients at the composition it gives
 (``pitzer_scalar``).  The rounds are a fixed-point iteration on (lg, log10 a_w),
 accelerated by Anderson mixing of depth one; a solution has settled when no
-coefficient moved more than ``ONE_TOL`` in its last round.
+coefficient moved more than ``ONE_TOL`` in its last round.  A table without pairs,
+hydroxides or salts has its charge-balance step compiled into straight-line code
+(:func:`_compile_step`, the same numbers as :func:`_composition` and :func:`_balance`).
 
 :func:`compile_one` returns None for a table this path does not take (a pair whose
 ligand is a protonation state); the vectorized path then solves it.
@@ -24,11 +26,11 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from operator import mul
+from operator import mul, sub
 
 import numpy as np
 
-from carboy.model.pitzer import I_MAX_MOLAL
+from carboy.model.pitzer import DAVIES_LIMIT_MOLAL, I_MAX_MOLAL, MISSING_PAIR_MOLAL
 from carboy.model.pitzer_scalar import ScalarPitzer
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.outer import Outcome
@@ -52,6 +54,12 @@ MAX_STEP = 2.0
 QUADRATIC = 1e-2
 """A Newton step s with s² below this times the tolerance also ends the x-solve:
 Newton's error after it is of order s²."""
+FIRST_X_TOL = 0.1
+"""The first round's x-solve (every coefficient still zero, off by up to about 2 in
+log10) stops at a Newton step below this: a closer root buys nothing there."""
+ROUND_X_TOL = 1e-3
+"""Later rounds solve x to this times the last round's largest coefficient move: the
+error it leaves in x is then well inside what the coefficients still have to move."""
 
 
 @dataclass(frozen=True)
@@ -69,6 +77,7 @@ class OneTable:
     solids: tuple = ()              # (cation column, pair column or -1, pair log10 K,
     #                                  z, log10 Ksp of M(OH)z = M + z OH-) per hydroxide
     salts: tuple = ()               # (system, pitzer_salts entry) per 1:1 salt
+    step: object = None             # _composition and _balance compiled (see _compile_step)
 
 
 def compile_one(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
@@ -98,9 +107,44 @@ def compile_one(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
         solids.append((mc, pc, log_k, float(zm), float(log_ksp)))
     solids, salt_rows = _salt_rows(lay, tab, solids, pairs, salts)
     z = tuple(float(v) for v in tab.charges.tolist())
+    zpos, zneg = tuple(max(v, 0.0) for v in z), tuple(max(-v, 0.0) for v in z)
+    step = None if pairs or solids or salt_rows else \
+        _compile_step(len(z), systems, float(pkw), zpos, zneg)
     return OneTable(len(tab.labels), z, ions, tuple(systems), tuple(pairs), float(pkw),
-                    tuple(max(v, 0.0) for v in z), tuple(max(-v, 0.0) for v in z),
-                    tuple(solids), salt_rows)
+                    zpos, zneg, tuple(solids), salt_rows, step)
+
+
+def _compile_step(n: int, systems: list, pkw: float, zpos: tuple, zneg: tuple):
+    """:func:`_composition` (with the slopes) and :func:`_balance` of a table without
+    pairs, hydroxides or salts as one function of straight-line code, the constants as
+    literals (a loop over the states costs most of a charge-balance step in Python):
+    ``step(x, lg, lw, ions, sys_tot)`` returns (m, dm, g, dg), the same numbers."""
+    ln10 = repr(LN10)
+    src = ["def step(x, lg, lw, ions, sys_tot):", "    m = list(ions)",
+           f"    dm = [0.0] * {n}", "    lg0 = lg[0]", "    m[0] = h = 10.0 ** x",
+           f"    m[1] = oh = 10.0 ** (lw - {pkw!r} - lg0 - lg[1] - x)",
+           f"    dm[0] = {ln10} * h", f"    dm[1] = -{ln10} * oh", "    xs = x + lg0"]
+    for k, (_, states) in enumerate(systems):
+        for s, (c, lb, j, h2o) in enumerate(states):
+            src.append(f"    w{s} = 10.0 ** ({lb!r} - lg[{c}] - {j!r} * xs + {h2o!r} * lw)")
+        src.append(f"    tot = sys_tot[{k}]")
+        src.append(f"    inv = tot / ({' + '.join(f'w{s}' for s in range(len(states)))})")
+        for s, (c, _, _, _) in enumerate(states):
+            src.append(f"    c{s} = w{s} * inv")
+            src.append(f"    m[{c}] += c{s}")
+        src.append("    if tot:")
+        jsum = " + ".join(f"c{s} * {st[2]!r}" for s, st in enumerate(states))
+        src.append(f"        jb = ({jsum}) / tot")
+        src.extend(f"        dm[{c}] -= {ln10} * c{s} * ({j!r} - jb)"
+                   for s, (c, _, j, _) in enumerate(states))
+    for name, zs in (("pos", zpos), ("neg", zneg)):
+        terms = [(i, z) for i, z in enumerate(zs) if z]
+        src.append(f"    {name} = {' + '.join(f'{z!r} * m[{i}]' for i, z in terms)}")
+        src.append(f"    d{name} = {' + '.join(f'{z!r} * dm[{i}]' for i, z in terms)}")
+    src.append("    return m, dm, _log(pos) - _log(neg), dpos / pos - dneg / neg")
+    space = {"_log": math.log}
+    exec(compile("\n".join(src), "<pitzer step>", "exec"), space)   # noqa: S102
+    return space["step"]
 
 
 def _salt_rows(lay, tab, solids: list, pairs: list, salts: tuple):
@@ -205,9 +249,13 @@ def solve_x(ot: OneTable, x: float, lg, lw: float, ions, sys_tot,
     lo, hi = X_BOUNDS
     x = min(max(x, lo), hi)
     m = None
+    step_of = ot.step
     for _ in range(NEWTON_STEPS):
-        m, dm = _composition(ot, x, lg, lw, ions, sys_tot, True)
-        g, dg = _balance(ot, m, dm)
+        if step_of is not None:
+            m, dm, g, dg = step_of(x, lg, lw, ions, sys_tot)
+        else:
+            m, dm = _composition(ot, x, lg, lw, ions, sys_tot, True)
+            g, dg = _balance(ot, m, dm)
         if g > 0:
             hi = x
         else:
@@ -257,12 +305,12 @@ def _anderson(v, g, prev):
     if prev is None:
         return g
     v0, g0 = prev
-    r = [b - a for a, b in zip(v, g)]
-    dr = [ri - (b - a) for ri, a, b in zip(r, v0, g0)]
-    den = sum(d * d for d in dr)
+    r = list(map(sub, g, v))
+    dr = list(map(sub, r, map(sub, g0, v0)))
+    den = sum(map(mul, dr, dr))
     if den == 0.0:
         return g
-    theta = sum(ri * d for ri, d in zip(r, dr)) / den
+    theta = sum(map(mul, r, dr)) / den
     return [gi - theta * (gi - gj) for gi, gj in zip(g, g0)]
 
 
@@ -278,21 +326,22 @@ def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
     v = [0.0] * (n + 1)         # log10 γ of every column, then log10 a_w
     x = _start(ot, ions, sys_tot) if x0 is None else x0
     prev = None
-    out = None
     moved = last = 1.0
     for rounds in range(1, ONE_ROUNDS + 1):
-        lg, lw = v[:n], v[n]
-        # early rounds need x no closer than their coefficients are settled
-        x, m = solve_x(ot, x, lg, lw, ions, sys_tot, max(X_STEP_TOL, 1e-7 * moved))
+        # early rounds need x no closer than their coefficients are settled; v holds
+        # log10 a_w after the n coefficients, which the x-solve does not read
+        tol = FIRST_X_TOL if rounds == 1 else max(X_STEP_TOL, ROUND_X_TOL * moved)
+        x, m = solve_x(ot, x, v, v[n], ions, sys_tot, tol)
         ln, phi, aw, ionic = model.evaluate(m)
-        g = [a / LN10 for a in ln] + [math.log10(aw)]
-        last, moved = moved, max(abs(a - b) for a, b in zip(g, v))
-        out = (x, m, g[:n], (phi, aw, ionic))
+        g = [a / LN10 for a in ln]
+        g.append(math.log10(aw))
+        last, moved = moved, max(map(abs, map(sub, g, v)))
         if settled(moved, last, rounds):
-            x, m = solve_x(ot, x, g[:n], g[n], ions, sys_tot)
+            x, m = solve_x(ot, x, g, g[n], ions, sys_tot)
             return x, m, g[:n], (phi, aw, ionic), rounds, True
-        v, prev = _anderson(v, g, prev), (v, g)
-    return (*out, ONE_ROUNDS, False)
+        if rounds < ONE_ROUNDS:
+            v, prev = _anderson(v, g, prev), (v, g)
+    return x, m, g[:n], (phi, aw, ionic), ONE_ROUNDS, False
 
 
 _ONE: dict = {}
@@ -324,12 +373,39 @@ def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: 
         tot = sum(m[s[0]] for s in states)     # dissolved: a salt holds the rest
         ceff.append([tot * w])
         alpha.extend([m[s[0]] / tot if tot > 0 else 0.0] for s in states)
-    molal = np.array([m + [0.0] * (len(model._all) - len(m))])
-    here = bool((molal[:, :len(m)][:, model._fallback_mask[:len(m)]] > 0).any())
-    i_arr = np.array([ionic])
-    extra = {"ionic_strength_molal": i_arr, "water_activity": np.array([aw]),
+    here, warnings = model_warnings(model, m, ionic)
+    extra = {"ionic_strength_molal": np.array([ionic]), "water_activity": np.array([aw]),
              "osmotic": np.array([phi]), "valid": np.array([ionic <= I_MAX_MOLAL and not here]),
-             "warnings": model._warnings(molal, i_arr, np.array([here]))}
+             "warnings": warnings}
     return Outcome(np.array([x + math.log10(w)]), np.zeros(1), np.array([ok]), rounds,
                    table, np.array([lg]), np.array([-(x + lg[0])]),
                    (np.array(alpha).reshape(-1, 1), np.array(ceff).reshape(-1, 1)), extra)
+
+
+def model_warnings(model, m: list, ionic: float) -> tuple[bool, tuple[str, ...]]:
+    """Whether a species of the Davies fallback is present in the molalities ``m``, and
+    the Pitzer model's (``model``) warnings at that composition: worked out once per
+    case (the texts of one point within the parameters' range depend only on which
+    of the model's conditions hold)."""
+    mask = model._fallback_mask
+    here = any(v > 0 for v, f in zip(m, mask.tolist()) if f)
+    if ionic > I_MAX_MOLAL:
+        return here, _warnings_at(model, m, ionic, here)
+    full = m + [0.0] * (len(model._all) - len(m))
+    key = (id(model), here, ionic > DAVIES_LIMIT_MOLAL,
+           tuple(full[i] > MISSING_PAIR_MOLAL and full[j] > MISSING_PAIR_MOLAL
+                 for i, j in model._p.missing))
+    hit = _WARNED.get(key)
+    if hit is None or hit[0] is not model:
+        if len(_WARNED) >= 512:
+            _WARNED.clear()
+        hit = _WARNED[key] = (model, _warnings_at(model, m, ionic, here))
+    return here, hit[1]
+
+
+_WARNED: dict = {}
+
+
+def _warnings_at(model, m: list, ionic: float, here: bool) -> tuple[str, ...]:
+    molal = np.array([m + [0.0] * (len(model._all) - len(m))])
+    return model._warnings(molal, np.array([ionic]), np.array([here]))
