@@ -114,12 +114,25 @@ def compile_one(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
                     zpos, zneg, tuple(solids), salt_rows, step)
 
 
+def _number(value) -> float:
+    """``value`` as a plain finite float, the only kind of value written into compiled
+    source (ValueError otherwise)."""
+    out = float(value)
+    if not math.isfinite(out):
+        raise ValueError(f"not a finite number: {value!r}")
+    return out
+
+
 def _compile_step(n: int, systems: list, pkw: float, zpos: tuple, zneg: tuple):
     """:func:`_composition` (with the slopes) and :func:`_balance` of a table without
     pairs, hydroxides or salts as one function of straight-line code, the constants as
     literals (a loop over the states costs most of a charge-balance step in Python):
     ``step(x, lg, lw, ions, sys_tot)`` returns (m, dm, g, dg), the same numbers."""
     ln10 = repr(LN10)
+    # only plain finite numbers enter the source (a user compound's pKa among them)
+    systems = [(k, [(int(c), _number(lb), _number(j), _number(h2o)) for c, lb, j, h2o in st])
+               for k, st in systems]
+    pkw, zpos, zneg = _number(pkw), tuple(map(_number, zpos)), tuple(map(_number, zneg))
     src = ["def step(x, lg, lw, ions, sys_tot):", "    m = list(ions)",
            f"    dm = [0.0] * {n}", "    lg0 = lg[0]", "    m[0] = h = 10.0 ** x",
            f"    m[1] = oh = 10.0 ** (lw - {pkw!r} - lg0 - lg[1] - x)",
