@@ -193,12 +193,11 @@ def _excess_floats(u, log_s, c, lsat0, total, k, kk):
     return dissolved + held - c, dissolved + slope
 
 
-def _free_cation_floats(u, e, slope, c, log_s, lsat0, total, k, kk) -> float:
-    """The steps of :func:`solve_free_cation` at one point whose excess ``e`` at the
-    unsaturated level ``u`` is positive, in floats."""
-    hi, lo = u, u - LIGAND_SPAN
-    last0 = last1 = math.inf
-    for _ in range(LIGAND_STEPS):
+def _free_cation_floats(u, e, slope, c, log_s, lsat0, total, k, kk, lo, hi, last0, last1,
+                        steps) -> float:
+    """The steps of :func:`solve_free_cation` at one point, in floats, from its state
+    there (``u`` with its excess ``e`` and slope, its bracket and its last two steps)."""
+    for _ in range(steps):
         den = LN10 * slope
         step = -e / den if den != 0.0 and math.isfinite(den) else math.nan
         small = abs(step) < LIGAND_TOL
@@ -219,40 +218,43 @@ def _free_cation_floats(u, e, slope, c, log_s, lsat0, total, k, kk) -> float:
     return u
 
 
+def _finish_in_floats(left, k, kk, ua, *state, steps: int) -> None:
+    """:func:`_free_cation_floats` for the points ``left`` (indices), in place in ``ua``;
+    ``state`` holds (e, slope, c, log_s, lsat0 (P, n), total (P, n), lo, hi, last0,
+    last1) of every point."""
+    ks, kks = k[:, 0].tolist(), kk[:, 0].tolist()
+    cols = [ua[left].tolist()] + [
+        (s[:, left].T if s.ndim == 2 else s[left]).tolist() for s in state]
+    for i, args in zip(left.tolist(), zip(*cols, strict=True), strict=True):
+        ua[i] = _free_cation_floats(*args[:7], ks, kks, *args[7:], steps)
+
+
 def solve_free_cation(c, log_s, at: Salts) -> np.ndarray:
     """log10 of the free cation where dissolved + salts = total: safeguarded Newton (a
     bisection where a step leaves the bracket, or is not half the one two steps before:
     Newton can bounce about a kink, where a salt appears) at the points where some salt
     is present at the unsaturated level; the others keep that level.  Points that
     finish keep their value while the others go on (no compaction: its calls cost more
-    than the arithmetic it saves)."""
+    than the arithmetic it saves); the last ``FLOAT_POINTS`` unfinished points go on
+    point by point in floats."""
     u = np.log10(c) - log_s
     if at.rows.size == 0:
         return u
     e, slope = _excess(u, log_s, c, at, at.lsat0, at.total)
-    act = e > 0
-    if not act.any():
+    idx = np.flatnonzero(e > 0)
+    if idx.size == 0:
         return u
-    idx = np.flatnonzero(act)
-    if idx.size <= FLOAT_POINTS:
-        k, kk = at.k[:, 0].tolist(), at.kk[:, 0].tolist()
-        for i, args in zip(idx.tolist(), zip(u[idx].tolist(), e[idx].tolist(),
-                                             slope[idx].tolist(), c[idx].tolist(),
-                                             log_s[idx].tolist(), at.lsat0[:, idx].T.tolist(),
-                                             at.total[:, idx].T.tolist(), strict=True),
-                           strict=True):
-            u[i] = _free_cation_floats(*args, k, kk)
-        return u
-    if act.all():
-        ca, ls, lsat0, total, ea, sa = c, log_s, at.lsat0, at.total, e, slope
-        ua = u.copy()
-    else:
-        ca, ls, lsat0, total = c[idx], log_s[idx], at.lsat0[:, idx], at.total[:, idx]
-        ua, ea, sa = u[idx], e[idx], slope[idx]
+    ca, ls, lsat0, total = c[idx], log_s[idx], at.lsat0[:, idx], at.total[:, idx]
+    ua, ea, sa = u[idx], e[idx], slope[idx]
     hi, lo = ua, ua - LIGAND_SPAN
     last0 = last1 = np.full(ua.shape, np.inf)
     done = np.zeros(ua.shape, dtype=bool)
-    for _ in range(LIGAND_STEPS):
+    for it in range(LIGAND_STEPS):
+        left = np.flatnonzero(~done)
+        if left.size <= FLOAT_POINTS:
+            _finish_in_floats(left, at.k, at.kk, ua, ea, sa, ca, ls, lsat0, total, lo, hi,
+                              last0, last1, steps=LIGAND_STEPS - it)
+            break
         step = -ea / (LN10 * sa)
         small = np.abs(step) < LIGAND_TOL   # converged (the bracket may sit on u itself)
         nxt = ua + step
@@ -261,16 +263,11 @@ def solve_free_cation(c, log_s, at: Salts) -> np.ndarray:
         moved = np.abs(nxt - ua)
         last0, last1 = last1, moved
         fin = small | (moved < LIGAND_TOL) | (hi - lo < LIGAND_TOL)
-        nxt = np.where(done, ua, nxt)
+        ua = np.where(done, ua, nxt)
         done = done | fin
-        ua = nxt
-        if done.all():
-            break
-        ea, sa = _excess(nxt, ls, ca, at, lsat0, total)
-        hi = np.where(ea >= 0, nxt, hi)
-        lo = np.where(ea < 0, nxt, lo)
-    if act.all():
-        return ua
+        ea, sa = _excess(ua, ls, ca, at, lsat0, total)
+        hi = np.where(ea >= 0, ua, hi)
+        lo = np.where(ea < 0, ua, lo)
     u[idx] = ua
     return u
 
