@@ -109,7 +109,8 @@ def salt_plan(m: Metal, data: MetalData, ligands) -> SaltPlan:
     plan = SaltPlan(
         salts=salts, dosed=dosed, systems=systems,
         jc=tuple(np.stack([j, c], axis=1) for j, c, _ in lads),
-        weights=tuple(w for _, _, w in lads), sys_of=sys_of, a=a, b=b, k=a / b,
+        weights=tuple(np.hstack([w, j[:, None] * w, c[:, None] * w]) for j, c, w in lads),
+        sys_of=sys_of, a=a, b=b, k=a / b,
         kk=(a / b) ** 2, oh=oh, const=col(lambda s: s.log_ksp) / b,
         coef_ad=a * z2 / b + zl2, coef_oh=oh / b, gx0=oh / b + jl,
         ga0=(a * z2 - oh) / b + zl2 + 2.0 * cl)
@@ -303,11 +304,13 @@ def add_ligand_terms(plan: SaltPlan, at: Salts, amounts, dp_x, dp_a, out) -> dic
         s = plan.dosed[r]
         b = float(s.ligand_count)
         removed[s.ligand_system] = removed.get(s.ligand_system, 0.0) + b * p
-        alpha, (jbar, cbar), w, jc = at.means[i]
-        # the mean of each weight, and its x- and A·D-derivatives (the fractions move)
-        stacked = np.stack([alpha, -LN10 * alpha * (jc[None, :, 0] - jbar[:, None]),
-                            -2.0 * LN10 * alpha * (jc[None, :, 1] - cbar[:, None])])
-        mean, mean_x, mean_a = np.einsum("knm,mw->kwn", stacked, w)
+        alpha, (jbar, cbar), w, _ = at.means[i]
+        # the mean of each weight, and its x- and A·D-derivatives (the fractions move:
+        # d alpha_j = -ln10 alpha_j ((j - jbar) dx + 2 (c_j - cbar) d(A·D)))
+        got = np.einsum("nm,mw->wn", alpha, w)
+        mean = got[0:3]
+        mean_x = -LN10 * (got[3:6] - jbar * mean)
+        mean_a = -2.0 * LN10 * (got[6:9] - cbar * mean)
         out[0:3] -= b * p * mean
         out[3:6] -= b * (px * mean + p * mean_x)
         out[6:9] -= b * (pa * mean + p * mean_a)
