@@ -323,9 +323,8 @@ def _with_salts(acc, m: Metal, c, x, ad, log_kw, plan, ligands) -> None:
     for system, arr in removed.items():
         acc.removed[system] = acc.removed.get(system, 0.0) + arr
     _record(acc, m, conc, dissolved, hydroxide, u - log_free_sat)
-    zero = np.zeros(x.shape)
-    for s in plan.dosed:
-        acc.precipitated[s.name] = zero
+    for s in plan.dosed:   # a salt left out (it cannot be present): none precipitated
+        acc.precipitated[s.name] = np.zeros(x.shape)
     for s, p in zip((plan.dosed[i] for i in at.rows), amounts, strict=True):
         acc.precipitated[s.name] = p
     for s in plan.salts:
