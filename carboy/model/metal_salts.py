@@ -123,8 +123,8 @@ class Salts:
     """The salts kept at the trial points (``rows`` of the plan's dosed salts), stacked
     (P, N): the ligand's total, ``lsat0`` with log10(dissolved ligand at saturation)
     = lsat0 - k u (u = log10[cation]), and ``gx``, ``ga`` its derivatives by x and by
-    A·D; ``alphas``, ``jbar``, ``cbar`` are each kept salt's system's fractions (N, M)
-    and mean j and c (N,)."""
+    A·D; ``means`` holds each kept salt's system's fractions (N, M), its mean j and c
+    ((2, N)) and its (M, 9) weights (see :class:`SaltPlan`)."""
 
     rows: np.ndarray
     k: np.ndarray
@@ -162,7 +162,7 @@ def salts_at(plan: SaltPlan, ligands, ad, log_oh_act, u0) -> Salts:
     return Salts(rows, sel(plan.k), sel(plan.kk), sel(plan.b), total, lsat0,
                  sel(plan.gx0) - jbar, sel(plan.ga0) - 2.0 * cbar,
                  tuple((ligs[plan.sys_of[r]].alpha, means[plan.sys_of[r]],
-                        plan.weights[plan.sys_of[r]], plan.jc[plan.sys_of[r]]) for r in rows))
+                        plan.weights[plan.sys_of[r]]) for r in rows))
 
 
 def free_ligand(lsat0, k, total, u) -> tuple[np.ndarray, np.ndarray]:
@@ -304,7 +304,7 @@ def add_ligand_terms(plan: SaltPlan, at: Salts, amounts, dp_x, dp_a, out) -> dic
         s = plan.dosed[r]
         b = float(s.ligand_count)
         removed[s.ligand_system] = removed.get(s.ligand_system, 0.0) + b * p
-        alpha, (jbar, cbar), w, _ = at.means[i]
+        alpha, (jbar, cbar), w = at.means[i]
         # the mean of each weight, and its x- and A·D-derivatives (the fractions move:
         # d alpha_j = -ln10 alpha_j ((j - jbar) dx + 2 (c_j - cbar) d(A·D)))
         got = np.einsum("nm,mw->wn", alpha, w)

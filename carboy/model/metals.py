@@ -60,12 +60,11 @@ from carboy.model.metal_data import (  # noqa: F401 (re-exported: the public met
     metal_data,
     unmodelled_cations,
 )
-from carboy.model.metal_salts import (  # noqa: F401 (LigandAtX: re-exported)
+from carboy.model.metal_salts import (  # noqa: F401 (LigandAtX, LIGAND_*: re-exported)
     LIGAND_SPAN,
     LIGAND_STEPS,
     LIGAND_TOL,
     LigandAtX,
-    Salts,
     add_ligand_terms,
     free_ligand,
     salt_plan,
