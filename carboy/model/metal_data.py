@@ -80,6 +80,14 @@ class Metal:
                 np.array([s.charge for s in self.species], dtype=float),
                 np.array([s.log_beta for s in self.species], dtype=float))
 
+    @cached_property
+    def weights(self) -> tuple[np.ndarray, np.ndarray]:
+        """((S, 4) positive charge, negative charge, z² and n of every species; (S,) its
+        d log10(c / c_free) / d(A·D) less n: n + z² - z_free²), for weighted sums."""
+        n, q, _ = self.arrays
+        return (np.stack([np.maximum(q, 0), np.maximum(-q, 0), q * q, n], axis=1),
+                n + q * q - self.charge**2)
+
 
 @dataclass(frozen=True)
 class LigandSolid:

@@ -42,7 +42,6 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
-from functools import lru_cache
 from types import MappingProxyType
 
 import numpy as np
@@ -61,28 +60,23 @@ from carboy.model.metal_data import (  # noqa: F401 (re-exported: the public met
     metal_data,
     unmodelled_cations,
 )
+from carboy.model.metal_salts import (  # noqa: F401 (LigandAtX, LIGAND_*: re-exported)
+    LIGAND_SPAN,
+    LIGAND_STEPS,
+    LIGAND_TOL,
+    LigandAtX,
+    add_ligand_terms,
+    free_ligand,
+    salt_plan,
+    salt_si,
+    salt_slopes,
+    salts_at,
+    solve_free_cation,
+)
 
 LN10 = math.log(10.0)
-LIGAND_SPAN = 60.0
-"""Decades below the unsaturated free-cation level where the salt search starts."""
-LIGAND_STEPS = 100
-"""Safeguarded Newton steps (bisection where a step leaves the bracket, or is not half
-the one two steps before) on log10 of the free cation when salts precipitate."""
-LIGAND_TOL = 1e-13
-"""The free-cation search stops when its step in log10 is below this."""
-
 _SUMS = ("pos", "neg", "iz2", "dpos", "dneg", "diz2", "apos", "aneg", "aiz2", "oh_bound",
          "ligand_pos", "ligand_neg", "ligand_iz2")
-
-
-@dataclass(frozen=True)
-class LigandAtX:
-    """An acid-base system at the trial points, from the solver: its total (mol/L), the
-    fraction of each protonation state (N, M) and their charges (most protonated first)."""
-
-    total_molar: np.ndarray
-    alpha: np.ndarray
-    charges: tuple[int, ...]
 
 
 @dataclass(frozen=True)
@@ -196,32 +190,30 @@ def state_of(tot: Mapping[str, np.ndarray], x, ad, log_kw, ligands: Mapping[str,
     With ``detail`` False only the sums are worked out (the solver's trial points): a
     dict of the arrays named as :class:`MetalState`'s charge and derivative fields."""
     acc = _Accumulator(x.shape, detail)
-    for key, c in tot.items():
-        m = data.metals[key]
-        salts = [s for s in data.ligand_solids
-                 if s.cation == key and s.ligand_system in ligands]
-        dosed = [s for s in salts if s.in_dose]
-        if dosed and precipitate:
-            _with_salts(acc, m, c, x, ad, log_kw, salts, dosed, ligands)
-        else:
-            _hydroxide_only(acc, m, c, x, ad, precipitate)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        for key, c in tot.items():
+            m = data.metals[key]
+            plan = salt_plan(m, data, ligands)
+            if plan.dosed and precipitate:
+                _with_salts(acc, m, c, x, ad, log_kw, plan, ligands)
+            else:
+                _hydroxide_only(acc, m, c, x, ad, precipitate)
     return acc.state() if detail else acc.sums
 
 
 class _Accumulator:
-    """Sums the metals' terms into one :class:`MetalState`."""
+    """Sums the metals' terms into one :class:`MetalState`: one (13, N) array whose rows
+    are the fields named in ``_SUMS``, in that order."""
 
     def __init__(self, shape, detail: bool = True):
-        zero = np.zeros(shape)
-        self.sums = dict.fromkeys(_SUMS, zero)
+        self.rows = np.zeros((len(_SUMS),) + tuple(shape))
         self.detail = detail
         self.removed, self.dissolved, self.species = {}, {}, {}
         self.precipitated, self.si = {}, {}
 
-    def add(self, **terms):
-        sums = self.sums
-        for k, v in terms.items():
-            sums[k] = sums[k] + v
+    @property
+    def sums(self) -> dict:
+        return dict(zip(_SUMS, self.rows, strict=True))
 
     def state(self) -> MetalState:
         ro = MappingProxyType
@@ -247,46 +239,39 @@ def _log_free_saturated(m: Metal, log_h_act, ad) -> np.ndarray:
     return m.solid.log_ks + m.charge * log_h_act + ad * m.charge**2
 
 
-def _weighted(a: np.ndarray, w: np.ndarray) -> np.ndarray:
-    """(N,) sum over species of ``a`` (N, S) times ``w`` (S,), without BLAS."""
-    return np.einsum("ns,s->n", a, w)
-
-
-def _species_terms(m: Metal, conc: np.ndarray, slope_x: np.ndarray, slope_ad: np.ndarray):
-    """Charges, c z², bound OH- and their derivatives from the species concentrations
-    (N, S) and d log10 c / dx, d log10 c / d(A·D) of each species (N, S)."""
-    n, q, _ = m.arrays
-    pos_w, neg_w, z2_w = np.maximum(q, 0), np.maximum(-q, 0), q * q
-    dcx, dca = LN10 * conc * slope_x, LN10 * conc * slope_ad
-    return dict(pos=_weighted(conc, pos_w), neg=_weighted(conc, neg_w),
-                iz2=_weighted(conc, z2_w), dpos=_weighted(dcx, pos_w),
-                dneg=_weighted(dcx, neg_w), diz2=_weighted(dcx, z2_w),
-                apos=_weighted(dca, pos_w), aneg=_weighted(dca, neg_w),
-                aiz2=_weighted(dca, z2_w), oh_bound=_weighted(conc, n))
+def _species_terms(rows: np.ndarray, m: Metal, conc: np.ndarray, slope_x: np.ndarray,
+                   slope_ad: np.ndarray) -> None:
+    """Add the charges, c z², bound OH- (rows 0-2 and 9 of ``rows``, see ``_SUMS``) and
+    their derivatives (rows 3-8) from the species concentrations (N, S) and
+    d log10 c / dx, d log10 c / d(A·D) of each species (N, S): weighted sums (einsum)."""
+    w4 = m.weights[0]
+    got = np.einsum("ns,sw->wn", conc, w4)
+    rows[0:3] += got[:3]
+    rows[9] += got[3]
+    rows[3:6] += np.einsum("ns,sw->wn", LN10 * conc * slope_x, w4[:, :3])
+    rows[6:9] += np.einsum("ns,sw->wn", LN10 * conc * slope_ad, w4[:, :3])
 
 
 def _hydroxide_only(acc: _Accumulator, m: Metal, c, x, ad, precipitate: bool) -> None:
-    n, q, _ = m.arrays
+    n = m.arrays[0]
+    w = m.weights[1]                                  # d r_n / d(A·D)
     log_h_act = x - ad
     r = _log_ratios(m, log_h_act, ad)
     log_s = _log_sum(r)
-    with np.errstate(divide="ignore"):
-        log_free_unsat = np.log10(c) - log_s
+    log_free_unsat = np.log10(c) - log_s
     log_free_sat = _log_free_saturated(m, log_h_act, ad)
     present = (log_free_unsat > log_free_sat) & (c > 0) & precipitate
     log_free = np.where(present, log_free_sat, log_free_unsat)
     conc = np.where(c[:, None] > 0, np.exp(LN10 * (log_free[:, None] + r)), 0.0)
     total = np.maximum(conc.sum(axis=1), np.finfo(float).tiny)
-    w = n + q * q - m.charge**2                       # d r_n / d(A·D)
-    nbar, wbar = _weighted(conc, n) / total, _weighted(conc, w) / total
+    nw = np.einsum("ns,sw->wn", conc, np.stack([n, w], axis=1)) / total
     # unsaturated: the ladder's shares move; saturated: the free ion follows *Ks {H+}^z
-    slope_x = np.where(present[:, None], float(m.charge), nbar[:, None]) - n
-    slope_ad = np.where(present[:, None], w - m.charge + m.charge**2, w - wbar[:, None])
-    terms = _species_terms(m, conc, slope_x, slope_ad)
+    slope_x = np.where(present[:, None], float(m.charge), nw[0][:, None]) - n
+    slope_ad = np.where(present[:, None], w - m.charge + m.charge**2, w - nw[1][:, None])
+    _species_terms(acc.rows, m, conc, slope_x, slope_ad)
     dissolved = conc.sum(axis=1)
     solid = np.where(present, c - dissolved, 0.0)
-    terms["oh_bound"] = terms["oh_bound"] + m.charge * solid
-    acc.add(**terms)
+    acc.rows[9] += m.charge * solid
     if acc.detail:
         _record(acc, m, conc, dissolved, solid, log_free - log_free_sat)
 
@@ -301,227 +286,48 @@ def _record(acc, m: Metal, conc, dissolved, solid, si) -> None:
 # ----------------------------------------------------------------------------- salts
 
 
-@dataclass(frozen=True)
-class _Salts:
-    """The salts of one cation in the dose at the trial points, stacked (P salts, N
-    points): a cations and b ligands each (``ab`` = a/b, ``k`` = a/b too: the slope of
-    the saturation level in u), the ligand's total, and ``lsat0`` with
-    log10(dissolved ligand at saturation) = lsat0 - k u, u = log10[cation]; ``gx`` and
-    ``ga`` are the derivatives of ``lsat0`` by x and by A·D.  ``ladders`` holds each
-    ligand's (j, c, jbar, cbar) (see :func:`_ladder_moments`)."""
-
-    solids: tuple[LigandSolid, ...]
-    ligands: tuple[LigandAtX, ...]
-    ladders: tuple
-    a: np.ndarray          # (P, 1)
-    b: np.ndarray          # (P, 1)
-    k: np.ndarray          # (P, 1)
-    total: np.ndarray      # (P, N)
-    lsat0: np.ndarray      # (P, N)
-    gx: np.ndarray         # (P, N)
-    ga: np.ndarray         # (P, N)
-
-
-@lru_cache(maxsize=64)
-def _ladder(charges: tuple[int, ...]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """(j, c, weights) of a ladder of ``charges``: each state's protons lost from the top,
-    its activity term (log10 of the state's weight carries -j x - 2 A·D c) and its
-    (M, 3) positive charge, negative charge and z²."""
-    q = np.array(charges, dtype=float)
-    j = np.arange(q.shape[0], dtype=float)
-    c = 0.5 * (q[0] ** 2 - q * q) - 0.5 * j
-    return j, c, np.stack([np.maximum(q, 0), np.maximum(-q, 0), q * q], axis=1)
-
-
-def _ladder_moments(lig: LigandAtX) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """(j, c, jbar, cbar): see :func:`_ladder`, with the means of j and c at the points.
-    The fractions move with x and A·D as d alpha_j = -ln10 alpha_j ((j - jbar) dx
-    + 2 (c_j - cbar) d(A·D))."""
-    j, c, _ = _ladder(tuple(lig.charges))
-    jc = np.einsum("nm,mk->kn", lig.alpha, np.stack([j, c], axis=1))
-    return j, c, jc[0], jc[1]
-
-
-def _salts_at(m: Metal, dosed, ligands, ad, log_oh_act) -> _Salts:
-    rows = {k: [] for k in ("lsat0", "gx", "ga", "total")}
-    ligs, ladders = [], []
-    for s in dosed:
-        lig = ligands[s.ligand_system]
-        zl = lig.charges[s.ligand_index]
-        with np.errstate(divide="ignore"):
-            lf = np.log10(lig.alpha[:, s.ligand_index]) - ad * zl * zl
-        a, b = s.cation_count, s.ligand_count
-        ladder = _ladder_moments(lig)
-        j, c, jbar, cbar = ladder
-        rows["lsat0"].append((s.log_ksp + a * ad * m.charge**2 - s.oh_count * log_oh_act) / b
-                             - lf)
-        rows["gx"].append(s.oh_count / b + (j[s.ligand_index] - jbar))
-        rows["ga"].append((a * m.charge**2 - s.oh_count) / b + zl * zl
-                          + 2.0 * (c[s.ligand_index] - cbar))
-        rows["total"].append(lig.total_molar)
-        ligs.append(lig)
-        ladders.append(ladder)
-    a = np.array([[s.cation_count] for s in dosed], dtype=float)
-    b = np.array([[s.ligand_count] for s in dosed], dtype=float)
-    return _Salts(tuple(dosed), tuple(ligs), tuple(ladders), a, b, a / b,
-                  **{k: np.array(v) for k, v in rows.items()})
-
-
-def _free_ligand(lsat0, k, total, u) -> tuple[np.ndarray, np.ndarray]:
-    """(dissolved ligand, True where the salt is present) of each salt (P, n) at
-    log10[cation] = u (n,), from its saturation level and total (P, n)."""
-    sat = np.exp(LN10 * np.minimum(lsat0 - k * u, 300.0))
-    present = sat < total
-    return np.where(present, sat, total), present
-
-
-def _excess(u, log_s, c, k, lsat0, total):
-    """Dissolved plus held in salts, less the total, and its u-derivative / ln 10."""
-    dissolved = np.exp(LN10 * (u + log_s))
-    free, present = _free_ligand(lsat0, k, total, u)
-    held = (k * (total - free)).sum(axis=0)            # a/b per ligand taken
-    slope = (k * k * np.where(present, free, 0.0)).sum(axis=0)
-    return dissolved + held - c, dissolved + slope
-
-
-def _solve_free_cation(c, log_s, salts: _Salts) -> np.ndarray:
-    """log10 of the free cation where dissolved + salts = total: safeguarded Newton (a
-    bisection where a step leaves the bracket) at the points where some salt is present
-    at the unsaturated level, the others keep that level."""
-    with np.errstate(divide="ignore"):
-        u = np.log10(c) - log_s
-    k = salts.k
-    e, slope = _excess(u, log_s, c, k, salts.lsat0, salts.total)
-    idx = np.flatnonzero(e > 0)
-    if idx.size == 0:
-        return u
-    whole = idx.size == u.size
-    hi = u[idx]
-    lo, ua, ea, sa = hi - LIGAND_SPAN, hi.copy(), e[idx], slope[idx]
-    ca, ls = (c, log_s) if whole else (c[idx], log_s[idx])
-    lsat0, total = ((salts.lsat0, salts.total) if whole
-                    else (salts.lsat0[:, idx], salts.total[:, idx]))
-    # the last two steps of each point: a Newton step that is not half the one two steps
-    # before becomes a bisection (Newton can bounce about a kink, where a salt appears)
-    last = np.full((2, idx.size), np.inf)
-    for _ in range(LIGAND_STEPS):
-        step = -ea / (LN10 * sa)
-        small = np.abs(step) < LIGAND_TOL   # converged (the bracket may sit on u itself)
-        nxt = ua + step
-        out = ~((nxt > lo) & (nxt < hi) & (np.abs(step) <= 0.5 * last[0]) | small)
-        nxt = np.where(out, 0.5 * (lo + hi), nxt)
-        last = np.stack([last[1], np.abs(nxt - ua)])
-        fin = small | (np.abs(nxt - ua) < LIGAND_TOL) | (hi - lo < LIGAND_TOL)
-        u[idx] = nxt
-        if fin.all():
-            break
-        if fin.any():
-            keep = ~fin
-            idx, nxt, lo, hi, ca, ls = (idx[keep], nxt[keep], lo[keep], hi[keep], ca[keep],
-                                        ls[keep])
-            lsat0, total, last = lsat0[:, keep], total[:, keep], last[:, keep]
-        ea, sa = _excess(nxt, ls, ca, k, lsat0, total)
-        hi = np.where(ea >= 0, nxt, hi)
-        lo = np.where(ea < 0, nxt, lo)
-        ua = nxt
-    return u
-
-
-def _with_salts(acc, m: Metal, c, x, ad, log_kw, salts, dosed, ligands) -> None:
-    n, q, _ = m.arrays
+def _with_salts(acc, m: Metal, c, x, ad, log_kw, plan, ligands) -> None:
+    n = m.arrays[0]
+    w = m.weights[1]
+    z = float(m.charge)
     log_h_act, log_oh_act = x - ad, log_kw - x + ad  # log10 a(OH-) = log10 Kw - log10 a(H+)
     r = _log_ratios(m, log_h_act, ad)
     log_s = _log_sum(r)
-    at = _salts_at(m, dosed, ligands, ad, log_oh_act)
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        u = _solve_free_cation(np.where(c > 0, c, 1e-300), log_s, at)
+    cc = np.where(c > 0, c, 1e-300)
+    at = salts_at(plan, ligands, ad, log_oh_act, np.log10(cc) - log_s)
+    u = solve_free_cation(cc, log_s, at)
     log_free_sat = _log_free_saturated(m, log_h_act, ad)
     capped = (u >= log_free_sat) & (c > 0)             # the hydroxide is present
     u = np.where(c > 0, np.minimum(u, log_free_sat), -np.inf)
     conc = np.exp(LN10 * (u[:, None] + r))
-    with np.errstate(over="ignore", invalid="ignore"):
-        free, present = _free_ligand(at.lsat0, at.k, at.total, u)
+    free, present = free_ligand(at.lsat0, at.k, at.total, u)
     amounts = np.where(c > 0, (at.total - free) / at.b, 0.0)       # (P, N)
+    a_rows = at.k * at.b
     dissolved = conc.sum(axis=1)
-    hydroxide = np.where(capped, np.maximum(c - dissolved - (at.a * amounts).sum(axis=0),
+    hydroxide = np.where(capped, np.maximum(c - dissolved - (a_rows * amounts).sum(axis=0),
                                             0.0), 0.0)
-    du_x, du_a, dp_x, dp_a = _salt_slopes(m, conc, dissolved, capped, at,
-                                          np.where(present, free, 0.0))
-    w = n + q * q - m.charge**2
-    terms = _species_terms(m, conc, du_x[:, None] - n, du_a[:, None] + w)
-    lig = _ligand_terms(at, amounts, dp_x, dp_a)
-    for k in ("pos", "neg", "iz2"):
-        terms[f"d{k}"] = terms[f"d{k}"] + lig[f"d{k}"]
-        terms[f"a{k}"] = terms[f"a{k}"] + lig[f"a{k}"]
-    oh = np.array([[s.oh_count] for s in at.solids], dtype=float)
-    terms["oh_bound"] = terms["oh_bound"] + m.charge * hydroxide + (oh * amounts).sum(axis=0)
-    acc.add(**terms, ligand_pos=lig["pos"], ligand_neg=lig["neg"], ligand_iz2=lig["iz2"])
+    tiny = np.finfo(float).tiny
+    nw = np.einsum("ns,sw->wn", conc, np.stack([n, w], axis=1)) / np.maximum(dissolved, tiny)
+    du_x, du_a, dp_x, dp_a = salt_slopes(z, nw[0], nw[1], dissolved, capped, at,
+                                         np.where(present, free, 0.0))
+    rows = acc.rows
+    _species_terms(rows, m, conc, du_x[:, None] - n, du_a[:, None] + w)
+    lig = np.zeros((9, x.shape[0]))
+    removed = add_ligand_terms(plan, at, amounts, dp_x, dp_a, lig)
+    rows[3:9] += lig[3:9]
+    rows[10:13] += lig[0:3]
+    rows[9] += z * hydroxide + (plan.oh[at.rows] * amounts).sum(axis=0)
     if not acc.detail:
         return
-    for system, arr in lig["removed"].items():
+    for system, arr in removed.items():
         acc.removed[system] = acc.removed.get(system, 0.0) + arr
     _record(acc, m, conc, dissolved, hydroxide, u - log_free_sat)
-    for s, p in zip(at.solids, amounts, strict=True):
+    for s in plan.dosed:   # a salt left out (it cannot be present): none precipitated
+        acc.precipitated[s.name] = np.zeros(x.shape)
+    for s, p in zip((plan.dosed[i] for i in at.rows), amounts, strict=True):
         acc.precipitated[s.name] = p
-    for s in salts:
-        acc.si[s.name] = _salt_si(s, m, u, ligands, lig["removed"], log_oh_act, ad)
-
-
-def _salt_slopes(m: Metal, conc, dissolved, capped, at: _Salts, held):
-    """d u/dx and d u/d(A·D) of the free cation (u = log10 of it), and each salt's
-    d(amount)/dx and d(amount)/d(A·D) (P, N), by implicit differentiation of the mass
-    balance dissolved + Σ a·amount = total (the hydroxide, where present, fixes u
-    itself); ``held`` is each salt's dissolved ligand where it is present, else 0."""
-    n, q, _ = m.arrays
-    z = float(m.charge)
-    tiny = np.finfo(float).tiny
-    nbar = _weighted(conc, n) / np.maximum(dissolved, tiny)
-    wbar = _weighted(conc, n + q * q - z * z) / np.maximum(dissolved, tiny)
-    # d log10(dissolved ligand at saturation) = -k du + g (g by x and by A·D, per salt)
-    den = dissolved + (at.k * at.k * held).sum(axis=0)
-    num_x = dissolved * nbar + (at.k * held * at.gx).sum(axis=0)
-    num_a = -dissolved * wbar + (at.k * held * at.ga).sum(axis=0)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        du_x = np.where(capped, z, np.where(den > 0, num_x / den, 0.0))
-        du_a = np.where(capped, z * z - z, np.where(den > 0, num_a / den, 0.0))
-    scale = -held * LN10 / at.b
-    return du_x, du_a, scale * (at.gx - at.k * du_x), scale * (at.ga - at.k * du_a)
-
-
-def _ligand_terms(at: _Salts, amounts, dp_x, dp_a) -> dict:
-    """The ligand systems' corrections (charge and c z² held in salts, <= 0) and their
-    derivatives (the amounts' and the held states' shares' own)."""
-    out = dict.fromkeys(("pos", "neg", "iz2", "dpos", "dneg", "diz2", "apos", "aneg",
-                         "aiz2"), 0.0)
-    removed: dict[str, np.ndarray] = {}
-    for i, (s, lig, (j, c, jbar, cbar)) in enumerate(zip(at.solids, at.ligands, at.ladders,
-                                                          strict=True)):
-        b, p, px, pa = s.ligand_count, amounts[i], dp_x[i], dp_a[i]
-        if not (p.any() or px.any() or pa.any()):   # absent at every point: adds nothing
-            continue
-        removed[s.ligand_system] = removed.get(s.ligand_system, 0.0) + b * p
-        alpha = lig.alpha
-        # the mean of each weight, and its x- and A·D-derivatives (the fractions move)
-        stacked = np.stack([alpha, -LN10 * alpha * (j[None, :] - jbar[:, None]),
-                            -2.0 * LN10 * alpha * (c[None, :] - cbar[:, None])])
-        mean, mean_x, mean_a = np.einsum("knm,mw->kwn", stacked, _ladder(tuple(lig.charges))[2])
-        for row, name in enumerate(("pos", "neg", "iz2")):
-            out[name] = out[name] - b * p * mean[row]
-            out[f"d{name}"] = out[f"d{name}"] - b * (px * mean[row] + p * mean_x[row])
-            out[f"a{name}"] = out[f"a{name}"] - b * (pa * mean[row] + p * mean_a[row])
-    out["removed"] = removed
-    return out
-
-
-def _salt_si(s: LigandSolid, m: Metal, log_free, ligands, removed, log_oh_act, ad):
-    lig = ligands[s.ligand_system]
-    dissolved = np.maximum(lig.total_molar - removed.get(s.ligand_system, 0.0), 0.0)
-    z = lig.charges[s.ligand_index]
-    with np.errstate(divide="ignore"):
-        log_lig = np.log10(dissolved) + np.log10(lig.alpha[:, s.ligand_index]) - ad * z * z
-    log_iap = (s.cation_count * (log_free - ad * m.charge**2) + s.ligand_count * log_lig
-               + s.oh_count * log_oh_act)
-    return log_iap - s.log_ksp
+    for s in plan.salts:
+        acc.si[s.name] = salt_si(s, m, u, ligands, removed, log_oh_act, ad)
 
 
 # ----------------------------------------------------------------------------- reports

@@ -272,7 +272,8 @@ def _with_pairs(base, lay: Layout, activity: str, held):
     """The Davies result with the ion pairs, from the charge-only one ``base``."""
     t_c = base.temperature_c
     pr = build_problem(lay, base.batch.totals, held, base.pkw, water.debye_huckel_a(t_c))
-    out = solve_with_pairs(pr, t_c, base.log_h.copy(), base.ionic_strength_molar.copy())
+    out = solve_with_pairs(pr, t_c, base.log_h.copy(), base.ionic_strength_molar.copy(),
+                           base.converged)
     return _assemble(base, out, lay, table_of(lay, "davies", t_c), activity, ())
 
 

@@ -11,6 +11,7 @@ import pytest
 
 import carboy.model.etheta
 import carboy.model.metal_data
+import carboy.model.metal_salts
 import carboy.model.metals
 import carboy.model.molality
 import carboy.model.pitzer
@@ -22,7 +23,7 @@ import carboy.model.speciation_models
 
 SOLVER = sorted(Path(carboy.model.solver.__file__).parent.glob("*.py")) + [
     Path(m.__file__) for m in (carboy.model.speciation, carboy.model.metals,
-                               carboy.model.metal_data, carboy.model.speciation_models,
+                               carboy.model.metal_salts, carboy.model.metal_data, carboy.model.speciation_models,
                                carboy.model.pitzer, carboy.model.etheta,
                                carboy.model.molality, carboy.model.pitzer_scalar,
                                carboy.model.pitzer_metals)]

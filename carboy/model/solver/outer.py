@@ -308,8 +308,13 @@ def _davies_lg(tab: Table, ad: np.ndarray | None) -> np.ndarray:
     return -ad[:, None] * z2[None, :]
 
 
-def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic) -> Outcome:
-    """The Davies (or ideal) path with ion pairs: outer loop on the pairs' terms."""
+def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic, solved=None) -> Outcome:
+    """The Davies (or ideal) path with ion pairs: outer loop on the pairs' terms, from
+    the start (``x``, ``ionic``).  ``solved`` (N,) bool, where given, says the start is
+    the root of ``pr0`` itself (no pairs: the first round's problem) and where it
+    settled: the first round takes it as it is (the pairs' terms at the root without
+    them, without a solve).  A point settles only when a round moves no term more than
+    ``OUTER_TOL``, whatever its start."""
     tab = table_of(pr0.lay, "davies", temperature_c)
     s, n = pr0.lay.flat_j.shape[0], x.shape[0]
     pkw = float(pr0.pkw)
@@ -317,16 +322,19 @@ def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic) -> Outcome:
     conv = np.zeros(n, dtype=bool)
     rounds = 0
     for rounds in range(1, MAX_OUTER + 1):  # noqa: B007 (used after the loop)
-        # from the last round's roots: the coupled iteration, the guaranteed path after
-        x, ionic, ok, _ = coupled_then_nested(_inner(pr0, terms), x, ionic, COUPLED_ITER)
-        table, ad, systems = lumped_table(_inner(pr0, terms), tab, x, ionic)
+        inner = _inner(pr0, terms)
+        if rounds == 1 and solved is not None:
+            ok = np.asarray(solved, dtype=bool)
+        else:   # from the last round's roots: the coupled iteration, then the guaranteed path
+            x, ionic, ok, _ = coupled_then_nested(inner, x, ionic, COUPLED_ITER)
+        table, ad, systems = lumped_table(inner, tab, x, ionic)
         lg = np.broadcast_to(_davies_lg(tab, ad), table.shape).copy()
         lift, corr = pair_shares(tab, table, lg, np.ones(n))
         new = Terms(lift[:s], pkw - lift[s], pr0.ispec + corr)
         conv = ok & (_moved(new, terms) <= OUTER_TOL)
-        terms = new
         if conv.all():
             break
+        terms = new
     return Outcome(x, ionic, conv, rounds, table, lg, -(x + lg[:, 0]), systems, {})
 
 
