@@ -5,7 +5,10 @@ or the specific-interaction (Pitzer) model by its own largest ionic strength.  A
 solves several batches (its curve, its doses, the states it reports), and they must
 all use one model, so the plan settles it first: the Pitzer model when the sample, the
 full dose or the end of the curve is above ``AUTO_LIMIT_MOLAL``
-(``speciation_models``), else auto's Davies branch throughout.
+(``speciation_models``), else ``"davies"`` (auto's Davies branch is that same solve, the
+Davies equation with its ion pairs) for every batch of the plan, the states that work
+out the CO2 a carbonate loses included: left at ``"auto"``, such a batch (held at 1 atm
+of CO2, say) would judge its own ionic strength and could take the other model.
 
 Calcium and magnesium stay on the Pitzer path while they are dissolved; where one of
 their solids would form at one of those states, the batch falls back to the metal path
@@ -31,7 +34,7 @@ solid that only the Davies metal path settles (gypsum, fluorite, brushite)."""
 
 def settle_activity(req, n_full: float):
     """``req`` (the planner's request) with ``"auto"`` replaced by ``"pitzer"`` where
-    some state of the plan needs it, and ``"auto"`` or ``"pitzer"`` by ``"davies"``
+    some state of the plan needs it, else by ``"davies"``; ``"pitzer"`` by ``"davies"``
     where a calcium or magnesium solid forms; any other model unchanged."""
     if req.activity not in ("auto", "pitzer"):
         return req
@@ -50,6 +53,8 @@ def settle_activity(req, n_full: float):
         return dataclasses.replace(req, activity="davies")
     if res.model_part is not None and res.model_part.model == "pitzer":
         return dataclasses.replace(req, activity="pitzer")
+    if req.activity == "auto":   # auto's Davies branch, the same solve for every batch
+        return dataclasses.replace(req, activity="davies")
     return req
 
 
