@@ -78,7 +78,7 @@ from carboy.model.solver.outer import (
     solve_with_pairs,
     table_of,
 )
-from carboy.model.solver.pitzer_batch import batch_outcome
+from carboy.model.solver.pitzer_batch import FEW_POINTS, batch_outcome, few_outcome
 from carboy.model.solver.pitzer_one import (
     model_warnings,
     one_outcome,
@@ -294,6 +294,8 @@ def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None
         if len(batch) == 1:
             out = one_outcome(one, model, scalar_model(model), batch.totals[0].tolist(),
                               float(w[0]))
+        elif len(batch) <= FEW_POINTS:
+            out = few_outcome(one, model, batch.totals, w)
         else:
             out = batch_outcome(one, model, batch.totals, w)
         return _pitzer_result(frame, out, lay, tab, activity, w, notes)

@@ -26,6 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from carboy.model.pitzer import I_MAX_MOLAL, PitzerModel
+from carboy.model.pitzer_scalar import scalar_model
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.outer import Outcome
 from carboy.model.solver.pitzer_one import (
@@ -39,6 +40,7 @@ from carboy.model.solver.pitzer_one import (
     X_BOUNDS,
     X_STEP_TOL,
     OneTable,
+    one_outcome,
 )
 from carboy.model.solver.pitzer_salts import salt_array
 
@@ -325,3 +327,36 @@ def batch_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
              "warnings": model._warnings(mall, ionic, here)}
     return Outcome(st.x + np.log10(w), np.zeros_like(w), st.ok, int(st.rounds.max(initial=0)),
                    table, lg, -(st.x + lg[:, 0]), (alpha, ceff.copy()), extra)
+
+
+FEW_POINTS = 8
+"""A batch of at most this many points is solved point by point on floats
+(:func:`few_outcome`): the arrays' fixed cost per round is most of a small batch's time
+(the planner's dose searches solve two or three points at a time)."""
+
+
+def few_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
+                water_kg_per_l: np.ndarray) -> Outcome:
+    """:func:`batch_outcome` of a few points, each solved as one solution
+    (:func:`~carboy.model.solver.pitzer_one.one_outcome`) and stacked; the warnings are
+    the batch's, worked out once over all its points."""
+    scalar = scalar_model(model)
+    outs = [one_outcome(ot, model, scalar, row, float(w))
+            for row, w in zip(totals.tolist(), water_kg_per_l.tolist())]
+    table = np.concatenate([o.table for o in outs])
+    ionic = np.concatenate([o.extra["ionic_strength_molal"] for o in outs])
+    molal = table / water_kg_per_l[:, None]
+    n = molal.shape[1]
+    mall = np.concatenate([molal, np.zeros((len(outs), len(model._all) - n))], axis=1)
+    here = (mall[:, :n][:, model._fallback_mask[:n]] > 0).any(axis=1)
+    extra = {"ionic_strength_molal": ionic,
+             "water_activity": np.concatenate([o.extra["water_activity"] for o in outs]),
+             "osmotic": np.concatenate([o.extra["osmotic"] for o in outs]),
+             "valid": (ionic <= I_MAX_MOLAL) & ~here,
+             "warnings": model._warnings(mall, ionic, here)}
+    alpha = np.concatenate([o.systems[0] for o in outs], axis=1)
+    ceff = np.concatenate([o.systems[1] for o in outs], axis=1)
+    return Outcome(np.concatenate([o.x for o in outs]), np.zeros(len(outs)),
+                   np.concatenate([o.converged for o in outs]), max(o.iterations for o in outs),
+                   table, np.concatenate([o.log_gamma for o in outs]),
+                   np.concatenate([o.ph for o in outs]), (alpha, ceff), extra)

@@ -1,0 +1,40 @@
+"""A few points on the Pitzer path are solved one by one on floats and stacked
+(``pitzer_batch.few_outcome``): the same result, field by field, as the array path."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from carboy.model import speciation_models
+from carboy.model.catalog import default_catalog
+from carboy.model.mixture import Mixture, titration_batch
+from carboy.model.speciation import speciate_batch
+
+CAT = default_catalog()
+
+
+def _batch(components, amounts):
+    sample = Mixture.from_compounds([(CAT.compound(k), c) for k, c in components.items()],
+                                    volume_l=1.0)
+    batch, _ = titration_batch(sample, dict(CAT.compound("NaOH").composition),
+                               np.asarray(amounts, dtype=float), 0.2)
+    return batch
+
+
+@pytest.mark.parametrize("components, amounts", [
+    ({"HCl": 2.0, "NaCl": 1.0}, [0.0, 1.0, 1.99]),                  # acid, I 1-3 mol/kg
+    ({"H2SO4": 1.0, "Na2SO4": 0.5}, [0.5, 1.9, 2.1]),               # bisulfate, both sides
+    ({"HCl": 1.0, "CaCl2": 1.0}, [0.5, 0.99]),                      # calcium on the path
+])
+def test_a_few_points_give_the_array_paths_result(components, amounts, monkeypatch):
+    batch = _batch(components, amounts)
+    few = speciate_batch(batch, activity="pitzer", catalog=CAT)
+    monkeypatch.setattr(speciation_models, "FEW_POINTS", 0)   # the array path
+    arrays = speciate_batch(batch, activity="pitzer", catalog=CAT)
+    assert few.pH == pytest.approx(arrays.pH, abs=1e-7)
+    assert few.species_molar == pytest.approx(arrays.species_molar, rel=1e-6, abs=1e-14)
+    assert few.ionic_strength_molar == pytest.approx(arrays.ionic_strength_molar, rel=1e-6)
+    assert few.model_part.water_activity == pytest.approx(arrays.model_part.water_activity,
+                                                          rel=1e-8)
+    assert [set(w) for w in few.warnings] == [set(w) for w in arrays.warnings]
