@@ -18,7 +18,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from carboy.model import gas
+from carboy.model import gas, numbers
 from carboy.model.mixture import MixtureBatch, titration_batch
 from carboy.model.speciation import BatchSpeciation, speciate_batch
 from carboy.model.speciation_models import settles_forward
@@ -320,7 +320,7 @@ def refine_doses(dosing: Dosing, targets, direction: str) -> Dosing:
         n[left] = _false_position(lambda m, which: g(m, left[which]), n[left])
     # to 12 significant digits: the pH is settled to REFINE_PH_TOL, and the last bits of a
     # root would differ between two runs whose sums round differently
-    doses[idx] = [float(f"{v:.12g}") for v in n.tolist()]
+    doses[idx] = [numbers.settled(v) for v in n.tolist()]
     return dataclasses.replace(dosing, doses=doses)
 
 

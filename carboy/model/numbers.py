@@ -15,6 +15,17 @@ STRENGTH_FIGURES = 4
 AMOUNT_FIGURES = 3
 
 
+SETTLED_FIGURES = 12
+
+
+def settled(value: float) -> float:
+    """``value`` to ``SETTLED_FIGURES`` significant figures, as a number: what a sum or a
+    root keeps once the last bits of binary rounding are dropped (0.75 - 0.6 is 0.15,
+    not 0.15000000000000002; 25.05 mL read from litres stays 25.05).  For stored and
+    reported values, not for display."""
+    return float(f"{value:.{SETTLED_FIGURES}g}")
+
+
 def figures(value: float, n: int) -> str:
     """``value`` to ``n`` significant figures, never in exponent form for storeroom sizes."""
     if value is None or not math.isfinite(value):

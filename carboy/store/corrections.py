@@ -84,7 +84,7 @@ def _bottle_change(s: Store, bottle_id: int, delta: float, unit: str, what: str)
         raise InvalidInput(what, numbers.amount(delta, unit), f"{numbers.amount(delta, unit)} "
                            f"more is needed but only {numbers.amount(left, unit)} is left in "
                            f"bottle {bottle_id}", field="added")
-    after = min(max(left - delta, 0.0), float(row["container_size"]))
+    after = numbers.settled(min(max(left - delta, 0.0), float(row["container_size"])))
     s.execute("UPDATE stock_bottles SET amount_left = ? WHERE id = ?", [after, bottle_id])
     return {"bottle_id": bottle_id, "left_before": left, "left_after": after, "unit": unit}
 

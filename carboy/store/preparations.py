@@ -15,7 +15,7 @@ from datetime import date, datetime
 from typing import Any
 
 from carboy.errors import CarboyError, InvalidInput
-from carboy.model import preparation
+from carboy.model import numbers, preparation
 from carboy.model.forms import Reading, bottle_ref
 from carboy.model.forms import prepare as form
 from carboy.model.forms.prepare import Made, PrepareFields, amount_used
@@ -117,7 +117,7 @@ def _draw(s: Store, item: _Checked, source_id: int, unit: str) -> tuple[float, d
         raise InvalidInput("amount used", item.step.used,
                            f"only {format_amount(left, unit)} is left in bottle {source_id}",
                            field="used")
-    left_after = max(left - item.amount, 0.0)
+    left_after = numbers.settled(max(left - item.amount, 0.0))
     s.execute("UPDATE stock_bottles SET amount_left = ? WHERE id = ?", [left_after, source_id])
     return left_after, {"source_bottle": source_id, "used": item.amount, "unit": unit,
                         "left_before": left}

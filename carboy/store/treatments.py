@@ -133,7 +133,7 @@ def _draw(s: Store, bottle, readings: TreatmentReadings) -> tuple[float, float]:
         raise InvalidInput("amount added", readings.added.text or amount,
                            f"only {numbers.amount(left, bottle.amount_unit)} is left in bottle "
                            f"{bottle.id}: record what really came from it", field="added")
-    after = max(left - amount, 0.0)
+    after = numbers.settled(max(left - amount, 0.0))
     s.execute("UPDATE stock_bottles SET amount_left = ? WHERE id = ?", [after, bottle.id])
     return left, after
 

@@ -220,3 +220,12 @@ def test_a_planned_container_gives_back_the_inputs_of_its_recorded_plan(copy_dem
                                       "activity": "davies"}
     finally:
         store.close()
+
+
+def test_a_drawn_down_bottle_keeps_no_rounding_noise(store):
+    """0.75 L less 0.6 L is stored as 0.15 L, not 0.15000000000000002 (scripts read
+    ``amount_left`` from the JSON)."""
+    label, b = acid(store), bottle(store, left="0.75 L")
+    treatments.record_treatment(store, label, readings(bottle=str(b), added="0.6 L",
+                                                       final_ph="1.0"))
+    assert stock.get(store, b).amount_left == 0.15

@@ -14,7 +14,7 @@ import time
 from dataclasses import dataclass
 
 from carboy.errors import CarboyError, InvalidInput
-from carboy.model import quantities
+from carboy.model import numbers, quantities
 from carboy.model import standardization as sm
 from carboy.model.forms import FormReader, Reading, bottle_ref, read_number
 from carboy.model.standardization import MAX_MASS_G, MAX_VOLUME_ML
@@ -176,7 +176,7 @@ def _kind(token: str) -> str | None:
 def read_millilitres(text: str, what: str) -> float:
     """A volume in mL (a bare number is mL): ``'25,02'``, ``'25.02 mL'``, ``'0.02502 L'``."""
     litres = quantities.parse(text, "volume", what=what, default_unit="mL").value
-    return float(f"{litres * 1000.0:.12g}")  # 25.05 mL stays 25.05, not …0004
+    return numbers.settled(litres * 1000.0)  # 25.05 mL stays 25.05, not …0004
 
 
 def read_replicate(mass_text: str, titre_text: str, *, what: str = "") -> tuple[float, float]:
