@@ -7,9 +7,10 @@ the Davies path's fast solve:
   of its own set (MgOH+): one solution on floats (``solver.pitzer_one``), a batch on
   arrays (``solver.pitzer_batch``), both from the totals alone; with held species the
   outer loop (``solver.outer.solve_pitzer``) started from the Davies solution;
-* ``activity="davies"``: the Davies equation with the ion pairs (a spectator Ca2+, Mg2+,
-  Na+ or K+ with sulfate or OH-: CaOH+, MgOH+, NaSO4-, KSO4-, CaSO4°, MgSO4°;
-  ``solver.outer.solve_with_pairs``) where a pair-forming cation and ligand are both
+* ``activity="davies"``: the Davies equation with the ion pairs of a spectator cation
+  (NaSO4-, KSO4-; ``solver.outer.solve_with_pairs``; calcium and magnesium are modelled
+  metals, whose own hydrolysis gives CaOH+ and MgOH+, and CaSO4° and MgSO4° are not
+  modelled yet) where a pair-forming cation and ligand are both
   present; without them (:func:`davies_pairs` False) it never comes here and stays on
   the charge-only fast paths;
 * ``activity="auto"``: the Davies equation with those pairs where the whole batch stays
