@@ -150,13 +150,6 @@ class ModelPart:
                           float(self.ionic_strength_molal[n]), aw)
 
 
-def check_activity(activity: str, known: tuple[str, ...]) -> str:
-    if activity not in known + ROUTED:
-        raise InvalidInput("activity model", activity,
-                           f"choose one of {', '.join(ROUTED + known)}")
-    return activity
-
-
 def needs_route(lay: Layout, activity: str, temperature_c: float) -> bool:
     """True when a batch with this layout must go through :func:`route`: the Pitzer
     and auto models, and Davies where ion pairs form."""
