@@ -320,13 +320,21 @@ def batch_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
     ceff = np.stack([d * w for d in dissolved]) if bt.systems \
         else np.zeros((0, totals.shape[0]))
     phi, aw, ionic = st.extra.T
-    mall = np.concatenate([st.m, np.zeros((st.m.shape[0], len(model._all) - bt.n))], axis=1)
-    here = (mall[:, :bt.n][:, model._fallback_mask[:bt.n]] > 0).any(axis=1)
-    extra = {"ionic_strength_molal": ionic, "water_activity": aw, "osmotic": phi,
-             "valid": (ionic <= I_MAX_MOLAL) & ~here,
-             "warnings": model._warnings(mall, ionic, here)}
+    extra = _batch_extra(model, st.m, ionic, aw, phi)
     return Outcome(st.x + np.log10(w), np.zeros_like(w), st.ok, int(st.rounds.max(initial=0)),
                    table, lg, -(st.x + lg[:, 0]), (alpha, ceff.copy()), extra)
+
+
+def _batch_extra(model: PitzerModel, molal: np.ndarray, ionic, aw, phi) -> dict:
+    """The Pitzer part of a batch's :class:`Outcome` (``molal`` (N, n) its species in
+    mol/kg): ionic strength, water activity, osmotic coefficient, each point's validity
+    and the batch's warnings, worked out once over all its points."""
+    n = molal.shape[1]
+    mall = np.concatenate([molal, np.zeros((molal.shape[0], len(model._all) - n))], axis=1)
+    here = (mall[:, :n][:, model._fallback_mask[:n]] > 0).any(axis=1)
+    return {"ionic_strength_molal": ionic, "water_activity": aw, "osmotic": phi,
+            "valid": (ionic <= I_MAX_MOLAL) & ~here,
+            "warnings": model._warnings(mall, ionic, here)}
 
 
 FEW_POINTS = 8
@@ -345,15 +353,9 @@ def few_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
             for row, w in zip(totals.tolist(), water_kg_per_l.tolist())]
     table = np.concatenate([o.table for o in outs])
     ionic = np.concatenate([o.extra["ionic_strength_molal"] for o in outs])
-    molal = table / water_kg_per_l[:, None]
-    n = molal.shape[1]
-    mall = np.concatenate([molal, np.zeros((len(outs), len(model._all) - n))], axis=1)
-    here = (mall[:, :n][:, model._fallback_mask[:n]] > 0).any(axis=1)
-    extra = {"ionic_strength_molal": ionic,
-             "water_activity": np.concatenate([o.extra["water_activity"] for o in outs]),
-             "osmotic": np.concatenate([o.extra["osmotic"] for o in outs]),
-             "valid": (ionic <= I_MAX_MOLAL) & ~here,
-             "warnings": model._warnings(mall, ionic, here)}
+    extra = _batch_extra(model, table / water_kg_per_l[:, None], ionic,
+                         np.concatenate([o.extra["water_activity"] for o in outs]),
+                         np.concatenate([o.extra["osmotic"] for o in outs]))
     alpha = np.concatenate([o.systems[0] for o in outs], axis=1)
     ceff = np.concatenate([o.systems[1] for o in outs], axis=1)
     return Outcome(np.concatenate([o.x for o in outs]), np.zeros(len(outs)),
