@@ -9,15 +9,22 @@ For two ions i, j of the same sign and different charge the electrostatic mixing
     J(x) = (1/x) ∫₀^∞ [1 + q + q²/2 - e^q] y² dy,   q = -(x/y) e^(-y)
 
 J is evaluated here from that integral itself, not from a fitted approximation: the
-integral is computed once on a grid in ln x by the trapezoid rule in ln y (exponentially
+integral is computed on a grid in ln x by the trapezoid rule in ln y (exponentially
 convergent for this smooth integrand; 300 nodes give 1e-11 relative), together with J'
 and J'' from the differentiated integrands, and then interpolated by cubic Hermite
 polynomials.  Outside the grid the integral is evaluated directly.
+
+Computing the grid takes about 80 ms, a third of a command's cold start, so the grid is
+shipped with carboy as ``data/etheta_grid.npy`` (:data:`GRID_FILE`), written by
+``python -m carboy.model.etheta`` from :func:`computed_grid`; a test checks that the
+shipped grid is what :func:`computed_grid` gives now.  A missing or mismatched file is
+never used: the grid is then computed.
 """
 
 from __future__ import annotations
 
 from functools import lru_cache
+from importlib import resources
 
 import numpy as np
 
@@ -29,6 +36,8 @@ _S_NODES = np.linspace(-30.0, 6.0, 300)
 """Trapezoid nodes in s = ln y."""
 _SERIES_Q = 1e-2
 """Below this |q| the integrands use their Taylor series (no cancellation)."""
+GRID_FILE = "etheta_grid.npy"
+"""The shipped grid in ``carboy.model.data``: rows J, x J', J', x J'' at :func:`grid_u`."""
 
 
 def _integrands(q: np.ndarray):
@@ -64,14 +73,40 @@ def j_integral(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return k0 / x, lin / x**2, (k2 - 2.0 * lin) / x**3
 
 
-@lru_cache(maxsize=1)
-def _table():
-    u = np.arange(np.log(X_MIN), np.log(X_MAX) + GRID_STEP, GRID_STEP)
-    x = np.exp(u)
+def grid_u() -> np.ndarray:
+    """The table's nodes in u = ln x."""
+    return np.arange(np.log(X_MIN), np.log(X_MAX) + GRID_STEP, GRID_STEP)
+
+
+def computed_grid() -> np.ndarray:
+    """J, x J', J' and x J'' at :func:`grid_u` by quadrature, shape (4, nodes)."""
+    x = np.exp(grid_u())
     parts = [j_integral(chunk) for chunk in np.array_split(x, 8)]
     j, jp, jpp = (np.concatenate([p[k] for p in parts]) for k in range(3))
-    # slopes with respect to u = ln x for the Hermite interpolation
-    return u[0], u, j, x * jp, jp, x * jpp
+    return np.stack([j, x * jp, jp, x * jpp])
+
+
+def shipped_grid() -> np.ndarray | None:
+    """The grid shipped as :data:`GRID_FILE`, or None when it is missing or not a grid
+    of this module's nodes."""
+    try:
+        with (resources.files("carboy.model.data") / GRID_FILE).open("rb") as fh:
+            grid = np.load(fh, allow_pickle=False)
+    except (OSError, ValueError):
+        return None
+    ok = grid.dtype == np.float64 and grid.shape == (4, grid_u().shape[0])
+    return grid if ok and np.isfinite(grid).all() else None
+
+
+@lru_cache(maxsize=1)
+def _table():
+    u = grid_u()
+    grid = shipped_grid()
+    if grid is None:
+        grid = computed_grid()
+    j, dj, jp, djp = grid
+    # dj and djp: slopes with respect to u = ln x for the Hermite interpolation
+    return u[0], u, j, dj, jp, djp
 
 
 def _hermite(t, h, f0, d0, f1, d1):
@@ -125,3 +160,11 @@ def etheta(pairs, ionic: np.ndarray, aphi: float) -> dict:
         eth = zz * bracket / (4.0 * ionic)
         out[(zi, zj)] = (eth, -eth / ionic + zz * dbracket / (8.0 * ionic * ionic))
     return out
+
+
+if __name__ == "__main__":  # python -m carboy.model.etheta: write the shipped grid
+    from pathlib import Path
+
+    target = Path(__file__).with_name("data") / GRID_FILE
+    np.save(target, computed_grid(), allow_pickle=False)
+    print(f"wrote {target}")
