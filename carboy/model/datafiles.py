@@ -40,6 +40,7 @@ from importlib import resources
 from typing import Any
 
 from carboy.errors import CatalogError
+from carboy.model.data_mirror import mirrored
 from carboy.model.provenance import PACKAGED_STATUSES, Provenance, check_provenance
 
 __all__ = [
@@ -74,7 +75,8 @@ _MISSING: Any = object()
 
 
 def read_data_file(name: str) -> dict[str, Any]:
-    """A packaged ``carboy/model/data`` TOML file, parsed.
+    """A packaged ``carboy/model/data`` TOML file, parsed (from its parsed mirror when
+    that is current: :mod:`carboy.model.data_mirror`).
 
     Raises
     ------
@@ -85,6 +87,9 @@ def read_data_file(name: str) -> dict[str, Any]:
         text = (resources.files(DATA_PACKAGE) / name).read_text(encoding="utf-8")
     except FileNotFoundError:
         raise CatalogError(name, "the packaged data file is missing") from None
+    data = mirrored(DATA_PACKAGE, name, text)
+    if data is not None:
+        return data
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
