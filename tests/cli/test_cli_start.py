@@ -169,3 +169,21 @@ def test_the_app_draws_at_120_frames_a_second_unless_told_otherwise(monkeypatch,
         monkeypatch.setenv("TEXTUAL_FPS", given)
     monkeypatch.setattr(app, "run", lambda **kw: int(os.environ["TEXTUAL_FPS"]))
     assert launch._open_app(types.SimpleNamespace(demo=True)) == int(given or 120)
+
+
+def test_the_command_asks_for_one_blas_thread_before_numpy_loads():
+    """carboy makes no BLAS calls: OpenBLAS's thread pool only costs a cold start CPU.
+    The launcher asks for one thread before anything imports numpy, and leaves a
+    setting the user made."""
+    code = ("import os, sys, io, contextlib\n"
+            "os.environ.pop('OPENBLAS_NUM_THREADS', None)\n"
+            "os.environ['MKL_NUM_THREADS'] = '3'\n"
+            "from carboy.tui.launch import main\n"
+            "assert 'numpy' not in sys.modules\n"
+            "with contextlib.redirect_stdout(io.StringIO()): status = main(['ph', 'HCl=0.1M'])\n"
+            "assert status == 0, status\n"
+            "print(os.environ['OPENBLAS_NUM_THREADS'], os.environ['MKL_NUM_THREADS'])")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          timeout=60)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.split() == ["1", "3"]
