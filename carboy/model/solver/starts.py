@@ -17,32 +17,60 @@ import numpy as np
 
 CUBIC_TRUST = 0.05
 """A start interpolated by a cubic is used only this close to the straight line."""
+QUINTIC_TRUST = 0.01
+"""...and one by a quintic only this close to that (see :func:`cubic_between`)."""
 JUMP = 2.0
 """Neighbouring roots this far apart (in log10[H+]) mark a jump."""
+
+
+def _lagrange(at: np.ndarray, nodes: np.ndarray, order: int):
+    """The first of the ``order`` nodes nearest each position ``at`` and their Lagrange
+    weights: w_k = prod_(q != k) (at - p_q) / (p_k - p_q)."""
+    first = np.clip(np.searchsorted(nodes, at) - order // 2, 0, nodes.shape[0] - order)
+    p = [nodes[first + k].astype(float) for k in range(order)]
+    d = [at - pk for pk in p]
+    weights = []
+    for k in range(order):
+        w = 1.0
+        for q in range(order):
+            if q != k:
+                w = w * d[q] / (p[k] - p[q])
+        weights.append(w)
+    return first, weights
+
+
+def _through(first, weights, v: np.ndarray) -> np.ndarray:
+    """The polynomial of :func:`_lagrange` through the values ``v`` at the nodes."""
+    out = weights[0] * v[first]
+    for k in range(1, len(weights)):
+        out = out + weights[k] * v[first + k]
+    return out
 
 
 def cubic_between(at: np.ndarray, nodes: np.ndarray, *columns: np.ndarray) -> list:
     """Each of ``columns`` (values known at the increasing positions ``nodes``) at the
     positions ``at``: the cubic through the four nearest nodes where it stays within
     ``CUBIC_TRUST`` of the straight line between the two neighbours, the line
-    elsewhere."""
+    elsewhere; where the quintic through the six nearest nodes stays within
+    ``QUINTIC_TRUST`` (relative to the column's largest value, at least 1) of that
+    cubic, the quintic (on a smooth stretch of a curve it is the closer by orders of
+    magnitude)."""
     m = nodes.shape[0]
     at = np.asarray(at, dtype=float)
     lines = [np.interp(at, nodes, v) for v in columns]
     if m < 4:
         return lines
-    first = np.clip(np.searchsorted(nodes, at) - 2, 0, m - 4)
-    p = [nodes[first + k].astype(float) for k in range(4)]   # the four nodes
-    d = [at - pk for pk in p]
-    # Lagrange weights: w_k = prod_(q != k) (at - p_q) / (p_k - p_q)
-    w = [d[(k + 1) % 4] * d[(k + 2) % 4] * d[(k + 3) % 4]
-         / ((p[k] - p[(k + 1) % 4]) * (p[k] - p[(k + 2) % 4]) * (p[k] - p[(k + 3) % 4]))
-         for k in range(4)]
+    cubic_at = _lagrange(at, nodes, 4)
+    quintic_at = _lagrange(at, nodes, 6) if m >= 6 else None
     out = []
     for v, line in zip(columns, lines):
-        cubic = (w[0] * v[first] + w[1] * v[first + 1] + w[2] * v[first + 2]
-                 + w[3] * v[first + 3])
-        out.append(np.where(np.abs(cubic - line) <= CUBIC_TRUST, cubic, line))
+        cubic = _through(*cubic_at, v)
+        best = np.where(np.abs(cubic - line) <= CUBIC_TRUST, cubic, line)
+        if quintic_at is not None:
+            quintic = _through(*quintic_at, v)
+            scale = max(1.0, float(np.max(np.abs(v))))
+            best = np.where(np.abs(quintic - best) <= QUINTIC_TRUST * scale, quintic, best)
+        out.append(best)
     return out
 
 
