@@ -99,3 +99,58 @@ def test_the_quintic_start_is_closer_on_a_smooth_curve_and_tame_across_a_jump():
     jump = np.where(nodes < 20.0, -3.0, -11.0)
     (got,) = cubic_between(at, nodes, jump)
     assert np.all((got >= -11.0) & (got <= -3.0))   # the line across the jump
+
+
+def test_the_edges_bracket_the_excess_of_h_over_oh_at_every_root(catalog):
+    from carboy.model import water
+    from carboy.model.activity import debye_huckel_scale
+    from carboy.model.solver.problem import build_problem
+
+    batch = _curve(catalog, 120)
+    lay = sp.cached_layout(catalog, batch.keys, 25.0)
+    pr = build_problem(lay, batch.totals, None, water.pkw(25.0),
+                       debye_huckel_scale("davies", 25.0))
+    top, bottom, _, _ = pr.edges()
+    res = sp.speciate_batch(batch, catalog=catalog)
+    excess = 10.0 ** res.log_h - res.species_molar[:, res.species_labels.index("OH-")]
+    assert np.all(top <= excess + 1e-12) and np.all(excess <= bottom + 1e-12)
+    assert (top > 0).any() and (bottom < 0).any()   # both edges serve along this curve
+
+
+def test_edge_starts_on_floats_and_arrays_agree():
+    from carboy.model.solver.single import edge_start
+    from carboy.model.solver.starts import edge_starts
+
+    top = np.array([0.02, -0.01, -0.03, 1e-9])
+    bottom = np.array([0.05, 0.02, -0.01, 0.4])
+    x, _, buffered = edge_starts(top, bottom, 0 * top, 0 * top, 0 * top, -14.0)
+    assert buffered.tolist() == [False, True, False, False]
+    for k in (0, 2, 3):
+        assert x[k] == pytest.approx(edge_start(top[k], bottom[k], -14.0), abs=1e-12)
+    assert edge_start(top[1], bottom[1], -14.0) is None
+    h = 10.0 ** x[0]
+    assert h - 1e-14 / h == pytest.approx(0.02, rel=1e-12)   # [H+] - Kw/[H+] = top
+    oh = 10.0 ** (-14.0 - x[2])
+    assert 10.0 ** x[2] - oh == pytest.approx(-0.01, rel=1e-12)
+
+
+@pytest.mark.parametrize("case", [[("HCl", 0.01), ("CH3COOH", 0.05)], [("NaOH", 0.02),
+                                                                      ("NH4Cl", 0.01)],
+                                  WASTE, [("CH3COOH", 0.05), ("NaOH", 0.025)]])
+def test_one_solution_from_its_edge_or_from_neutral_has_one_root(catalog, case):
+    from carboy.model import water
+    from carboy.model.activity import debye_huckel_scale
+    from carboy.model.solver.single import solve_one
+
+    mix = Mixture.from_compounds([(catalog.compound(n), c) for n, c in case])
+    lay = sp.cached_layout(catalog, tuple(mix.totals), 25.0)
+    row = list(mix.totals.values())
+    args = (lay, row, water.pkw(25.0), debye_huckel_scale("davies", 25.0))
+    extra = {}
+    if lay.metals is not None:
+        from carboy.model.solver.single_metals import compiled
+
+        extra = {"extra": compiled(lay).ladders}
+    cold = solve_one(*args, **extra)
+    neutral = solve_one(*args, x0=-7.0, **extra)
+    assert cold[0] == pytest.approx(neutral[0], abs=1e-10)

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from carboy.model.activity import davies_d_and_slope
+from carboy.model.activity import davies_d, davies_d_and_slope
 from carboy.model.solver.charge_balance import moments
 from carboy.model.solver.constants import (
     COUPLED_ITER,
@@ -29,7 +29,7 @@ from carboy.model.solver.constants import (
 )
 from carboy.model.solver.problem import Problem
 from carboy.model.solver.single import solve_each
-from carboy.model.solver.starts import cubic_between
+from carboy.model.solver.starts import cubic_between, edge_starts
 
 TAIL_POINTS = 8
 """When no more than this many points are left unsettled, the plain-Python path
@@ -64,16 +64,17 @@ def _newton_2x2(d_ad, dz_x, ia, dd, pos, neg, big_f, f_x, g):
     return dx, inew, i_ok, ~bad
 
 
-def _newton_step(pr: Problem, xa, ia, cold: bool = False):
+def _newton_step(pr: Problem, xa, ia, cold=None):
     """F at (xa, ia) and the Newton step from there.
 
     Returns ``(F, dx, I_new, I settled?, log10 Kw', exact?)``; with ideal activity the
     step of I is the plain update g and I counts as settled.  ``exact`` is True where
     the step is the exact Newton step of the equations (the 2x2 step; with ideal
-    activity, the step in x), not a plain step at a held I or a cold start's.  With ``cold`` (a first step from
-    no start), a point far from its root first balances the protons, as if only H+ or
-    OH- took up the imbalance, and takes the ionic strength of the species as they are
-    (as ``single.solve_one`` does).
+    activity, the step in x), not a plain step at a held I or a cold start's.  Where
+    ``cold`` (a mask: a first step from no start, see :func:`_cold_starts`) a point far
+    from its root first balances the protons, as if only H+ or OH- took up the
+    imbalance, and takes the ionic strength of the species as they are (as
+    ``single.solve_one`` does).
     """
     davies = pr.a_dh != 0.0
     if davies:
@@ -95,8 +96,8 @@ def _newton_step(pr: Problem, xa, ia, cold: bool = False):
         dx = -big_f / f_x
         inew = g
         i_ok = exact = np.ones(xa.shape, dtype=bool)
-    if cold:
-        far = np.abs(dx) > COUPLED_NEAR
+    if cold is not None:
+        far = cold & (np.abs(dx) > COUPLED_NEAR)
         if far.any():
             h, oh = np.exp(LN10 * xa), np.exp(LN10 * (log_kw - xa))
             lin = np.where(neg > pos, np.log10(np.maximum(h + neg - pos, 1e-300)),
@@ -108,14 +109,28 @@ def _newton_step(pr: Problem, xa, ia, cold: bool = False):
     return big_f, dx, inew, i_ok, log_kw, exact
 
 
-def _blockwise(pr: Problem, xa, ia, cold: bool):
+def _cold_starts(pr: Problem):
+    """``(x, I, cold)`` of points without starts: from the totals alone where the
+    strong acids or bases decide the side of the root (``starts.edge_starts``), else
+    x = -7 and the spectators' I, whose first step balances the protons (``cold``)."""
+    n = pr.ispec.shape[0]
+    if pr.am.held is not None or pr.am.shift is not None or np.ndim(pr.pkw) != 0:
+        return np.full(n, -7.0), pr.ispec + 1e-7, np.ones(n, dtype=bool)
+    ionic = pr.ispec + 1e-7
+    log_kw = -pr.pkw + (2.0 * pr.a_dh * davies_d(ionic) if pr.a_dh != 0.0 else 0.0)
+    x, ionic, _ = edge_starts(*pr.edges(), pr.ispec, log_kw)
+    return x, ionic, np.ones(n, dtype=bool)
+
+
+def _blockwise(pr: Problem, xa, ia, cold):
     """:func:`_newton_step` block by block (``Layout.chunk`` points at a time: the work
     arrays of a block stay in cache), the results joined: the iteration itself runs
     over every point at once, so the few points left after a step are one block."""
     n, c = xa.shape[0], pr.lay.chunk
     if n <= c:
         return _newton_step(pr, xa, ia, cold)
-    parts = [_newton_step(pr[a:a + c], xa[a:a + c], ia[a:a + c], cold)
+    parts = [_newton_step(pr[a:a + c], xa[a:a + c], ia[a:a + c],
+                          None if cold is None else cold[a:a + c])
              for a in range(0, n, c)]
     return tuple(np.concatenate(col) for col in zip(*parts, strict=True))
 
@@ -172,8 +187,12 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
     ``ok`` is False where a point was not accepted within ``max_iter`` steps.
     """
     n = pr.ispec.shape[0]
-    x_out = np.full(n, -7.0) if x0 is None else np.array(x0, dtype=float)
-    i_out = pr.ispec + 1e-7 if i0 is None else np.maximum(np.array(i0, dtype=float), 1e-12)
+    cold = None
+    if x0 is None:
+        x_out, i_out, cold = _cold_starts(pr)
+    else:
+        x_out = np.array(x0, dtype=float)
+        i_out = np.maximum(np.array(i0, dtype=float), 1e-12)
     ok = np.zeros(n, dtype=bool)
     # working copies of the unfinished points, compacted whenever some finish
     idx = np.arange(n)
@@ -185,7 +204,7 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
     davies = pr.a_dh != 0.0
     for it in range(1, max_iter + 1):  # noqa: B007 (used after the loop)
         big_f, dx, inew, i_ok, log_kw, exact = _blockwise(cur, xa, ia,
-                                                          it == 1 and x0 is None)
+                                                          cold if it == 1 else None)
         if cur.open_system:  # the totals do not bound a held system: keep steps moderate
             xn = xa + np.minimum(np.maximum(dx, -3.0), 3.0)
         else:

@@ -97,3 +97,26 @@ def _excess_line(at, nodes, log_h, pkw: float) -> np.ndarray:
     with np.errstate(divide="ignore"):
         return np.where(excess >= 0, np.log10(0.5 * (excess + root)),
                         np.log10(kw) - np.log10(0.5 * (root - excess)))
+
+
+def edge_starts(top, bottom, i_top, i_bottom, ispec, log_kw):
+    """Cold starts (x, I, buffered?) from the totals alone (``problem.Problem.edges``).
+
+    Deprotonation only adds negative charge, so at the root [H+] - [OH-] lies between
+    the excess of acid over base with every system at its most protonated state
+    (``top``) and at its least (``bottom``).  Where both have one sign the root is on
+    that side, nearer the edge the strong acids or bases set than neutral: x starts
+    where [H+] - Kw'/[H+] equals the excess nearer zero, I with the species at that
+    edge.  Elsewhere (``buffered``) x = -7 and the spectators' I, for a first step
+    that balances the protons."""
+    acid = top > 0.0
+    base = (bottom < 0.0) & ~acid
+    d = np.where(acid, top, np.where(base, bottom, 0.0))
+    root = np.sqrt(d * d + 4.0 * 10.0 ** log_kw)
+    with np.errstate(divide="ignore"):
+        x = np.where(acid, np.log10(0.5 * (d + root)),
+                     np.where(base, log_kw - np.log10(0.5 * (root - d)), -7.0))
+    free = np.where(acid, 10.0 ** x, 10.0 ** (log_kw - x))
+    ionic = ispec + np.where(acid, i_top + 0.5 * free,
+                             np.where(base, i_bottom + 0.5 * free, 1e-7))
+    return x, ionic, ~(acid | base)
