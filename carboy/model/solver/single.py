@@ -378,7 +378,8 @@ def solve_each(pr, x0=None, i0=None, *, chain: bool = False, max_iter: int = COU
     rows = pr.totals.tolist()
     xs, iss = x.tolist(), ionic.tolist()
     for i in range(n):
-        start_x, start_i = xs[i], iss[i]
+        # without starts, a point not chained starts cold (see solve_one)
+        start_x, start_i = (None, None) if x0 is None else (xs[i], iss[i])
         if chain and i and ok[i - 1]:
             start_x, start_i = xs[i - 1], iss[i - 1]
             if i > 1 and ok[i - 2]:   # the straight line through the two roots before
