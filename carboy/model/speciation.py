@@ -510,8 +510,10 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
     oh = np.exp(LN10 * (log_kw - x))
     k, m = lay.z.shape
     labels = _species_labels(lay)
+    n_metal = 0 if lay.metals is None else len(lay.metals.labels)
     # points last, as the solver works (row writes); the result holds their transposes
-    table = np.empty((len(labels), n))
+    # (the metals' species in the last rows)
+    table = np.empty((len(labels) + n_metal, n))
     fractions = np.zeros((k * m, n))
     c_sys = np.empty((k, n))
     sums = np.empty((3, n))
@@ -523,7 +525,7 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
         b = min(n, a + lay.chunk)
         st = species_at(x[a:b], ad[a:b] if pr.a_dh != 0.0 else None, log_kw[a:b], lay,
                         pr.am[a:b])
-        table[first:, a:b] = st["conc"]
+        table[first:len(labels), a:b] = st["conc"]
         fractions[lay.flat_index, a:b] = st["alpha"]
         c_sys[:, a:b] = st["ceff"]
         sums[:, a:b] = st["sums"]
@@ -532,14 +534,14 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
     # with activity, report the ionic strength the coefficients were computed with
     ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * sums[2]
     metal_part = {}
-    table = table.T
     if lay.metals is not None and n:
         cols = metal_columns(lay.metals, metal_states)
-        labels, table = labels + lay.metals.labels, np.hstack([table, cols.species])
+        table[len(labels):] = cols.species.T
+        labels = labels + lay.metals.labels
         metal_part = {"metal_keys": lay.metals.keys, "dissolved_metal_molar": cols.dissolved,
                       "metal_oh_molar": cols.oh_bound, "solid_names": lay.metals.solids,
                       "solids_molar": cols.solids, "saturation_indices": cols.saturation}
-    species_labels, species = _merge_labels(labels, table)
+    species_labels, species = _merge_labels(labels, table[:len(labels)].T)
     hot = t_c > ENTHALPY_DATA_MAX_C
     code = (ionic_out > DAVIES_LIMIT_MOLAR).astype(int) + 2 * (~converged).astype(int)
     warm = lay.metals is not None and abs(t_c - 25.0) > METAL_T_SPAN_C

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 import operator
+from dataclasses import dataclass
 from types import MappingProxyType
 
 from carboy.model.activity import DAVIES_LIMIT_MOLAR, davies_d_float
@@ -19,10 +20,52 @@ from carboy.model.solver.constants import LN10
 from carboy.model.solver.layout import ENTHALPY_DATA_MAX_C
 
 
+@dataclass(frozen=True)
+class _Plan:
+    """What :func:`one_fields` needs of a layout, worked out once (cached beside it)."""
+
+    systems: tuple      # (column, key, labels, ((ln10 log beta0, cmat, j), ...)) each
+    labels: tuple       # every species: H+, OH-, the ions, every state, the metals'
+    charges: tuple
+    merged: tuple | None   # each label's column once, where two components share one
+    by_charge: tuple    # |z| of each merged species, for its coefficient
+
+
+_PLANS: dict = {}
+
+
+def _plan(lay, metals: bool) -> _Plan:
+    hit = _PLANS.get((id(lay), metals))
+    if hit is not None and hit[0] is lay:
+        return hit[1]
+    systems = tuple((col, key, labels, tuple((lb0 * LN10, cc, st) for lb0, cc, st, _, _, _
+                                             in states))
+                    for (col, states, _, _, _), key, labels in zip(lay.py_systems,
+                                                                   lay.sys_keys,
+                                                                   lay.sys_labels))
+    labels, charges = lay.py_species
+    if metals:
+        labels, charges = labels + lay.metals.labels, charges + lay.metals.charges
+    merged = None
+    if len(set(labels)) != len(labels):   # a label two components share (Na+ twice)
+        order: dict = {}
+        for lab in labels:
+            order.setdefault(lab, len(order))
+        merged = tuple(order[lab] for lab in labels)
+    unique = tuple(dict.fromkeys(labels))
+    plan = _Plan(systems, labels, charges, merged,
+                 tuple(abs(lay.charge_map[lab]) for lab in unique))
+    if len(_PLANS) >= 512:
+        _PLANS.clear()
+    _PLANS[(id(lay), metals)] = (lay, plan)
+    return plan
+
+
 def one_fields(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, metals=None) -> dict:
     """The fields of a ``Speciation`` (all but ``mixture``) of one solved solution;
     ``metals`` is the ``single_metals.MetalPart`` of a layout with metals."""
     exp = math.exp
+    plan = _plan(lay, metals is not None)
     ad = a_dh * davies_d_float(ionic)
     tad = 2.0 * ad
     h = 10.0 ** x
@@ -30,39 +73,45 @@ def one_fields(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, metals=
     values = [h, oh, *(row[col] for col, _ in lay.py_ions)]
     fractions = {}
     xl, tl = x * LN10, tad * LN10
-    for (col, states, _, _, _), key, labels in zip(lay.py_systems, lay.sys_keys,
-                                                   lay.sys_labels):
-        es = [exp(lb0 * LN10 - tl * cc - st * xl) for lb0, cc, st, _, _, _ in states]
+    ro = MappingProxyType
+    for col, key, labels, states in plan.systems:
+        ctot = row[col]
+        if len(states) == 2 and not states[0][0] and not states[0][1] and not states[0][2]:
+            # two states, the first of weight 1 (the usual acid-base pair)
+            lb, cc, st = states[1]
+            e = exp(lb - tl * cc - st * xl)
+            f0 = 1.0 / (1.0 + e)
+            f1 = e * f0
+            fractions[key] = ro({labels[0]: f0, labels[1]: f1})
+            values += (ctot * f0, ctot * f1)
+            continue
+        es = [exp(lb - tl * cc - st * xl) for lb, cc, st in states]
         inv = 1.0 / sum(es)
         fr = [e * inv for e in es]
-        fractions[key] = MappingProxyType(dict(zip(labels, fr)))
-        ctot = row[col]
+        fractions[key] = ro(dict(zip(labels, fr)))
         values.extend([ctot * f for f in fr])
-    labels, charges = lay.py_species
     extra = {}
     if metals is not None:
-        labels, charges = labels + lay.metals.labels, charges + lay.metals.charges
         values.extend(metals.values)
-        ro = MappingProxyType
         extra = {"solids": ro(metals.solids), "dissolved_metals": ro(metals.dissolved),
                  "saturation_indices": ro(metals.saturation_indices)}
+    charges = plan.charges
     residual = math.fsum(map(operator.mul, charges, values))
     if a_dh == 0.0:
         ionic = 0.5 * sum(z * z * v for z, v in zip(charges, values))
     by_z = [10.0 ** (-ad * z * z) for z in range(lay.zmax + 1)]
-    if len(set(labels)) == len(labels):
-        species = dict(zip(labels, values))
-    else:  # a label two components share (Na+ from two salts) is summed
+    if plan.merged is None:
+        species = dict(zip(plan.labels, values))
+    else:   # a label two components share (Na+ from two salts) is summed
         species = {}
-        for lab, v in zip(labels, values):
+        for lab, v in zip(plan.labels, values):
             species[lab] = species.get(lab, 0.0) + v
-    charge = lay.charge_map
-    coeff = {lab: by_z[abs(charge[lab])] for lab in species}
+    coeff = dict(zip(species, map(by_z.__getitem__, plan.by_charge)))
     warnings = warning_texts(ionic > DAVIES_LIMIT_MOLAR, False, t_c > ENTHALPY_DATA_MAX_C,
                              activity, metals is not None and abs(t_c - 25.0) > METAL_T_SPAN_C)
     return dict(
-        pH=ad - x, h_molar=h, oh_molar=oh, pkw=pkw, species=MappingProxyType(species),
-        fractions=MappingProxyType(fractions), activity_coefficients=MappingProxyType(coeff),
+        pH=ad - x, h_molar=h, oh_molar=oh, pkw=pkw, species=ro(species),
+        fractions=ro(fractions), activity_coefficients=ro(coeff),
         ionic_strength_molar=ionic, temperature_c=t_c, activity=activity, warnings=warnings,
         converged=True, iterations=iterations, charge_residual_molar=residual, **extra,
     )

@@ -27,5 +27,11 @@ WIDEN_STEPS = 20
 """Bracket widenings (3 log units each) allowed when a state is held fixed."""
 QUADRATIC_STEP = 1e-8
 """A Newton step this small leaves an error of order its square (F is smooth)."""
+QUADRATIC_MAX = 1e-6
+"""...or below this one, where the step before it shows the iteration converging
+quadratically and predicts an error below ``PREDICTED_ERROR`` (``coupled``)."""
+PREDICTED_ERROR = 1e-14
+"""The largest error (log10[H+]; ionic strength relative) a point is accepted with on
+the prediction of its last two Newton steps."""
 COUPLED_NEAR = 1.0
 """Below this plain Newton step in x the coupled iteration takes the exact 2x2 step."""

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from carboy.model.activity import davies_d_and_slope
+from carboy.model.activity import davies_d, davies_d_and_slope
 from carboy.model.solver.charge_balance import moments
 from carboy.model.solver.constants import (
     COUPLED_ITER,
@@ -23,11 +23,13 @@ from carboy.model.solver.constants import (
     F_TOL,
     I_RTOL,
     LN10,
+    PREDICTED_ERROR,
+    QUADRATIC_MAX,
     QUADRATIC_STEP,
 )
 from carboy.model.solver.problem import Problem
 from carboy.model.solver.single import solve_each
-from carboy.model.solver.starts import cubic_between
+from carboy.model.solver.starts import cubic_between, edge_starts
 
 TAIL_POINTS = 8
 """When no more than this many points are left unsettled, the plain-Python path
@@ -35,7 +37,7 @@ finishes them (numpy's per-call cost would dominate a vectorized step)."""
 
 
 def _newton_2x2(d_ad, dz_x, ia, dd, pos, neg, big_f, f_x, g):
-    """The step (dx, I_new, I settled?) with Davies coefficients (``dd`` = d(AD)/dI,
+    """The step (dx, I_new, I settled?, exact 2x2 step?) with Davies coefficients (``dd`` = d(AD)/dI,
     ``d_ad`` the charge sums' A·D-derivatives, ``dz_x`` that of Σ c z² in x): the exact
     2×2 step near the root, the plain step in x at a held I far from it, and the plain
     update g of I where the 2×2 step of I is not trusted."""
@@ -59,17 +61,20 @@ def _newton_2x2(d_ad, dz_x, ia, dd, pos, neg, big_f, f_x, g):
         dx = np.where(bad, plain, dx)
         inew = np.where(far, ia, np.where(bad, g, inew))
     i_ok = np.abs(inew - ia) <= I_RTOL * np.maximum(inew, 1e-12)
-    return dx, inew, i_ok
+    return dx, inew, i_ok, ~bad
 
 
-def _newton_step(pr: Problem, xa, ia, cold: bool = False):
+def _newton_step(pr: Problem, xa, ia, cold=None):
     """F at (xa, ia) and the Newton step from there.
 
-    Returns ``(F, dx, I_new, I settled?, log10 Kw')``; with ideal activity the step of
-    I is the plain update g and I counts as settled.  With ``cold`` (a first step from
-    no start), a point far from its root first balances the protons, as if only H+ or
-    OH- took up the imbalance, and takes the ionic strength of the species as they are
-    (as ``single.solve_one`` does).
+    Returns ``(F, dx, I_new, I settled?, log10 Kw', exact?)``; with ideal activity the
+    step of I is the plain update g and I counts as settled.  ``exact`` is True where
+    the step is the exact Newton step of the equations (the 2x2 step; with ideal
+    activity, the step in x), not a plain step at a held I or a cold start's.  Where
+    ``cold`` (a mask: a first step from no start, see :func:`_cold_starts`) a point far
+    from its root first balances the protons, as if only H+ or OH- took up the
+    imbalance, and takes the ionic strength of the species as they are (as
+    ``single.solve_one`` does).
     """
     davies = pr.a_dh != 0.0
     if davies:
@@ -85,14 +90,14 @@ def _newton_step(pr: Problem, xa, ia, cold: bool = False):
     f_x = d_x[0] / pos - d_x[1] / neg
     g = pr.ispec + 0.5 * sums[2]
     if davies:
-        dx, inew, i_ok = _newton_2x2(d_ad, d_x[2], ia, pr.a_dh * slope, pos, neg, big_f,
-                                     f_x, g)
+        dx, inew, i_ok, exact = _newton_2x2(d_ad, d_x[2], ia, pr.a_dh * slope, pos, neg,
+                                            big_f, f_x, g)
     else:
         dx = -big_f / f_x
         inew = g
-        i_ok = True
-    if cold:
-        far = np.abs(dx) > COUPLED_NEAR
+        i_ok = exact = np.ones(xa.shape, dtype=bool)
+    if cold is not None:
+        far = cold & (np.abs(dx) > COUPLED_NEAR)
         if far.any():
             h, oh = np.exp(LN10 * xa), np.exp(LN10 * (log_kw - xa))
             lin = np.where(neg > pos, np.log10(np.maximum(h + neg - pos, 1e-300)),
@@ -100,7 +105,34 @@ def _newton_step(pr: Problem, xa, ia, cold: bool = False):
             dx = np.where(far, lin - xa, dx)
             inew = np.where(far, g, inew)
             i_ok = i_ok & ~far
-    return big_f, dx, inew, i_ok, log_kw
+            exact = exact & ~far
+    return big_f, dx, inew, i_ok, log_kw, exact
+
+
+def _cold_starts(pr: Problem):
+    """``(x, I, cold)`` of points without starts: from the totals alone where the
+    strong acids or bases decide the side of the root (``starts.edge_starts``), else
+    x = -7 and the spectators' I, whose first step balances the protons (``cold``)."""
+    n = pr.ispec.shape[0]
+    if pr.am.held is not None or pr.am.shift is not None or np.ndim(pr.pkw) != 0:
+        return np.full(n, -7.0), pr.ispec + 1e-7, np.ones(n, dtype=bool)
+    ionic = pr.ispec + 1e-7
+    log_kw = -pr.pkw + (2.0 * pr.a_dh * davies_d(ionic) if pr.a_dh != 0.0 else 0.0)
+    x, ionic, _ = edge_starts(*pr.edges(), pr.ispec, log_kw)
+    return x, ionic, np.ones(n, dtype=bool)
+
+
+def _blockwise(pr: Problem, xa, ia, cold):
+    """:func:`_newton_step` block by block (``Layout.chunk`` points at a time: the work
+    arrays of a block stay in cache), the results joined: the iteration itself runs
+    over every point at once, so the few points left after a step are one block."""
+    n, c = xa.shape[0], pr.lay.chunk
+    if n <= c:
+        return _newton_step(pr, xa, ia, cold)
+    parts = [_newton_step(pr[a:a + c], xa[a:a + c], ia[a:a + c],
+                          None if cold is None else cold[a:a + c])
+             for a in range(0, n, c)]
+    return tuple(np.concatenate(col) for col in zip(*parts, strict=True))
 
 
 def _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi):
@@ -120,6 +152,25 @@ def _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi):
     return xn, seen_lo, seen_hi
 
 
+def _step_size(dx, inew, ia, davies: bool):
+    """The size of each point's Newton step: |dx|, and with Davies coefficients the
+    larger of that and the step of I relative to I."""
+    if not davies:
+        return np.abs(dx)
+    return np.maximum(np.abs(dx), np.abs(inew - ia) / np.maximum(inew, 1e-12))
+
+
+def _quadratic(size, last, exact):
+    """Where an exact Newton step of ``size`` follows an exact step of ``last`` (taken
+    in full), the root is within about C size² of the point the step reaches, with
+    C = size / last² (Newton's error squares from step to step): accept there when
+    that is below ``PREDICTED_ERROR`` and the step below ``QUADRATIC_MAX``.  The first
+    step (no ``last``) and any step after a clipped, guarded or plain one never pass."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return (exact & (size <= QUADRATIC_MAX)
+                & (size * size * size <= PREDICTED_ERROR * last * last))
+
+
 def plain_python(pr: Problem) -> bool:
     """True when ``single.solve_each`` can take points of ``pr``: a layout it knows
     (``Layout.python_path``) and no terms an outer loop holds (state shifts, a pKw or a
@@ -136,25 +187,24 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
     ``ok`` is False where a point was not accepted within ``max_iter`` steps.
     """
     n = pr.ispec.shape[0]
-    if n > pr.lay.chunk:  # block by block (see Layout.chunk)
-        parts = [solve_coupled(pr[a:a + pr.lay.chunk], max_iter=max_iter,
-                               x0=None if x0 is None else x0[a:a + pr.lay.chunk],
-                               i0=None if i0 is None else i0[a:a + pr.lay.chunk])
-                 for a in range(0, n, pr.lay.chunk)]
-        return (np.concatenate([p[0] for p in parts]), np.concatenate([p[1] for p in parts]),
-                np.concatenate([p[2] for p in parts]), max(p[3] for p in parts))
-    x_out = np.full(n, -7.0) if x0 is None else np.array(x0, dtype=float)
-    i_out = pr.ispec + 1e-7 if i0 is None else np.maximum(np.array(i0, dtype=float), 1e-12)
+    cold = None
+    if x0 is None:
+        x_out, i_out, cold = _cold_starts(pr)
+    else:
+        x_out = np.array(x0, dtype=float)
+        i_out = np.maximum(np.array(i0, dtype=float), 1e-12)
     ok = np.zeros(n, dtype=bool)
     # working copies of the unfinished points, compacted whenever some finish
     idx = np.arange(n)
     xa, ia = x_out.copy(), i_out.copy()
     cur = pr
     seen_lo, seen_hi = np.full(n, -np.inf), np.full(n, np.inf)
+    last = np.zeros(n)   # each point's last exact step (0: none, or it was not taken)
     it = 0
     davies = pr.a_dh != 0.0
     for it in range(1, max_iter + 1):  # noqa: B007 (used after the loop)
-        big_f, dx, inew, i_ok, log_kw = _newton_step(cur, xa, ia, it == 1 and x0 is None)
+        big_f, dx, inew, i_ok, log_kw, exact = _blockwise(cur, xa, ia,
+                                                          cold if it == 1 else None)
         if cur.open_system:  # the totals do not bound a held system: keep steps moderate
             xn = xa + np.minimum(np.maximum(dx, -3.0), 3.0)
         else:
@@ -164,23 +214,25 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
         xn, seen_lo, seen_hi = _plateau_guard(xa, xn, big_f, held_i, seen_lo, seen_hi)
         # accept on the Newton step itself, and keep that step (never a clipped or
         # guarded one) as the answer
-        fin = ((np.abs(big_f) < F_TOL) | (np.abs(dx) < QUADRATIC_STEP)) & i_ok
+        size = _step_size(dx, inew, ia, davies)
+        fin = (((np.abs(big_f) < F_TOL) | (np.abs(dx) < QUADRATIC_STEP)) & i_ok
+               | _quadratic(size, last, exact))
+        last = np.where(exact & (xn == xa + dx), size, 0.0)
         xa, ia = np.where(fin, xa + dx, xn), inew
         if fin.any():
             done = idx[fin]
             x_out[done], i_out[done], ok[done] = xa[fin], ia[fin], True
             keep = ~fin
             if not keep.any():
-                break
+                return x_out, i_out, ok, it
             idx, xa, ia = idx[keep], xa[keep], ia[keep]
-            seen_lo, seen_hi = seen_lo[keep], seen_hi[keep]
+            seen_lo, seen_hi, last = seen_lo[keep], seen_hi[keep], last[keep]
             cur = cur[keep]
         if idx.size <= TAIL_POINTS and plain_python(cur) and it < max_iter:
             xt, i_t, okt, itt = solve_each(cur, xa, ia, max_iter=max_iter - it)
             x_out[idx], i_out[idx], ok[idx] = xt, i_t, okt
             return x_out, i_out, ok, it + itt
-    else:
-        x_out[idx], i_out[idx] = xa, ia
+    x_out[idx], i_out[idx] = xa, ia
     return x_out, i_out, ok, it
 
 
@@ -188,6 +240,15 @@ WARM_MIN = 25
 """Batches at least this long are solved coarse to fine (see :func:`solve_warm`)."""
 WARM_STRIDE = 8
 """Every this many points is solved first; the points between start from there."""
+
+
+def coarse_fine(n: int):
+    """The indices of every ``WARM_STRIDE``-th of n points and the last (solved first),
+    and of the points between them."""
+    fine = np.ones(n, dtype=bool)
+    fine[::WARM_STRIDE] = False
+    fine[n - 1] = False
+    return np.flatnonzero(~fine), np.flatnonzero(fine)
 
 
 def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
@@ -211,10 +272,7 @@ def solve_warm(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None):
     if n < WARM_MIN:
         return (solve_coupled(pr, max_iter=max_iter) if not plain_python(pr)
                 else solve_each(pr, chain=True, max_iter=max_iter))  # step by step
-    coarse = np.unique(np.r_[np.arange(0, n, WARM_STRIDE), n - 1])
-    fine = np.ones(n, dtype=bool)
-    fine[coarse] = False
-    fine = np.flatnonzero(fine)
+    coarse, fine = coarse_fine(n)
     xc, ic, okc, itc = solve_warm(pr[coarse], max_iter=max_iter)
     xs, i_s = cubic_between(fine, coarse, xc, ic)
     return _merge(n, (coarse, (xc, ic, okc, itc)),

@@ -121,6 +121,27 @@ class Problem:
         """
         return log_kw - self.lo_below, self.hi.copy()
 
+    def edges(self):
+        """``(top, bottom, i_top, i_bottom)``, (N,) each: the net excess of acid over
+        base (NEG - POS less H+ and OH-, mol/L) with every system in its most
+        protonated state and each metal its free ion, and with every system in its
+        least protonated state and each metal at its most negative charge; and
+        Σ c z² / 2 of the systems and metals at each edge.  At the root [H+] - [OH-]
+        lies between the two excesses (see ``starts.edge_starts``)."""
+        lay, c = self.lay, self.am.c
+        base = self.zs_neg - self.zs_pos
+        top = base - _weighted(c.T, lay.sys_zmax)
+        bottom = base - _weighted(c.T, lay.sys_zmin)
+        i_top = 0.5 * _weighted(c.T, lay.sys_zmax ** 2)
+        i_bottom = 0.5 * _weighted(c.T, lay.sys_zmin ** 2)
+        if self.am.metal is not None:
+            ml, cm = lay.metals, self.am.metal.T
+            top = top - _weighted(cm, ml.z)
+            bottom = bottom + _weighted(cm, ml.qneg)
+            i_top = i_top + 0.5 * _weighted(cm, ml.z ** 2)
+            i_bottom = i_bottom + 0.5 * _weighted(cm, ml.qneg ** 2)
+        return top, bottom, i_top, i_bottom
+
     def held_of(self, n: int) -> dict:
         """The held states of point ``n`` as the one-solution path takes them:
         {system index: (reference state, its cmat term, its concentration)}."""

@@ -4,7 +4,10 @@ numpy's per-call overhead dominates for a single solution of a few systems, so t
 path does the arithmetic of the coupled iteration (``coupled``) with floats, step for
 step: the plain Newton step at a held ionic strength far from the root, the exact 2×2
 step near it, the bisection guard, and acceptance only on an unclipped Newton step
-below ``QUADRATIC_STEP`` at a self-consistent ionic strength.  It gives up (returns
+below ``QUADRATIC_STEP`` at a self-consistent ionic strength, or on the prediction of
+two exact steps (``coupled._quadratic``).  A solution without a start starts at the
+edge the strong acids or bases set where they decide the side of the root
+(:func:`edge_start`, as ``coupled`` does).  It gives up (returns
 None) rather than fall back itself: the caller then takes the vectorized paths.
 ``tests/unit/test_speciation_paths.py`` checks that the paths agree.
 """
@@ -22,6 +25,8 @@ from carboy.model.solver.constants import (
     F_TOL,
     I_RTOL,
     LN10,
+    PREDICTED_ERROR,
+    QUADRATIC_MAX,
     QUADRATIC_STEP,
 )
 from carboy.model.solver.layout import Layout
@@ -200,9 +205,11 @@ def _general(acc, ctot, states, hold, x: float, tad: float):
 
 def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators,
           first: bool = False):
-    """F at (x, I) and the Newton step: ``(F, dx, I_new, x_lin, g)`` (see ``coupled``);
-    with ``first``, x_lin is the proton balance's own estimate of x (as if only H+ or
-    OH- took up the imbalance) and g the ionic strength of the species as they are."""
+    """F at (x, I) and the Newton step: ``(F, dx, I_new, x_lin, g, exact)`` (see
+    ``coupled``); with ``first``, x_lin is the proton balance's own estimate of x (as
+    if only H+ or OH- took up the imbalance) and g the ionic strength of the species as
+    they are; ``exact`` is True for the exact Newton step (the 2x2 step; with ideal
+    activity, the step in x)."""
     psys, nsys, dpsys, dnsys, iz2, diz2, apos, aneg, aiz2 = sums
     zs_pos, zs_neg, ispec = spectators
     h = math.exp(x * LN10)
@@ -218,9 +225,9 @@ def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators,
         lin = (math.log10(max(h + neg - pos, 1e-300)) if neg > pos
                else log_kw - math.log10(max(oh + pos - neg, 1e-300)))
     if a_dh == 0.0:
-        return big_f, dx, g, lin, g
+        return big_f, dx, g, lin, g, True
     if abs(dx) > COUPLED_NEAR:   # far from the root: the plain step at a held I
-        return big_f, dx, ionic, lin, g
+        return big_f, dx, ionic, lin, g, False
     inew = g
     dd = a_dh * davies_dprime_float(ionic)
     f_i = (apos / pos - (2 * LN10 * oh + aneg) / neg) * dd
@@ -232,8 +239,63 @@ def _step(x: float, ionic: float, sums, log_kw: float, a_dh: float, spectators,
         dx2 = (f_i * res_g - big_f * g_i) / det
         di = (g_x * big_f - res_g * f_x) / det
         if math.isfinite(dx2) and math.isfinite(di) and 0.5 * g < ionic + di < 2.0 * g:
-            dx, inew = dx2, ionic + di
-    return big_f, dx, inew, lin, g
+            return big_f, dx2, ionic + di, lin, g, True
+    return big_f, dx, inew, lin, g, False
+
+
+def edge_start(excess_top: float, excess_bottom: float, log_kw: float) -> float | None:
+    """A cold start for log10[H+] from the totals alone, or None.
+
+    With every system in its most protonated state the net excess of acid over base
+    (NEG - POS less H+ and OH-, mol/L) is ``excess_top``; in its least protonated one
+    ``excess_bottom``; deprotonation only adds negative charge, so at the root
+    [H+] - [OH-] lies between the two.  Where both have one sign the root is on that
+    side, nearer the edge the strong acids or bases set than neutral: the start is
+    where [H+] - Kw'/[H+] equals the excess nearer zero.  Otherwise None (a buffer: the
+    caller's start at neutral, whose first step balances the protons)."""
+    if excess_top > 0.0:
+        d = excess_top
+    elif excess_bottom < 0.0:
+        d = excess_bottom
+    else:
+        return None
+    kw = 10.0 ** log_kw
+    root = math.sqrt(d * d + 4.0 * kw)
+    if d > 0.0:
+        return math.log10(0.5 * (d + root))
+    return log_kw - math.log10(0.5 * (root - d))
+
+
+def _edges(systems, zs_pos: float, zs_neg: float):
+    """The excesses of :func:`edge_start` (at the most and at the least protonated
+    states) and Σ c z² / 2 at each edge, from ``_inputs``' systems (states:
+    (…, z+, z-, z²))."""
+    top = bottom = zs_neg - zs_pos
+    i_top = i_bottom = 0.0
+    for ctot, states, _, _ in systems:
+        first, last = states[0], states[-1]
+        top -= ctot * (first[3] - first[4])
+        bottom -= ctot * (last[3] - last[4])
+        i_top += 0.5 * ctot * first[5]
+        i_bottom += 0.5 * ctot * last[5]
+    return top, bottom, i_top, i_bottom
+
+
+def _cold_start(systems, spectators, pkw: float, a_dh: float, held) -> tuple:
+    """(x, I) of a solution without a start: at the edge the strong acids or bases set
+    (:func:`edge_start`, I with the species there), else x = -7 and the spectators' I."""
+    zs_pos, zs_neg, ispec = spectators
+    ionic = ispec + 1e-7
+    if held:
+        return -7.0, ionic
+    top, bottom, i_top, i_bottom = _edges(systems, zs_pos, zs_neg)
+    log_kw = 2.0 * a_dh * davies_d_float(ionic) - pkw
+    edge = edge_start(top, bottom, log_kw)
+    if edge is None:
+        return -7.0, ionic
+    if top > 0.0:
+        return edge, ispec + i_top + 0.5 * 10.0 ** edge
+    return edge, ispec + i_bottom + 0.5 * 10.0 ** (log_kw - edge)
 
 
 def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
@@ -258,19 +320,22 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
     spectators = (zs_pos, zs_neg, ispec)
     davies = a_dh != 0.0
     lo_below, hi = math.log10(p + 1.0) + 1e-3, math.log10(q + 1.0) + 1e-3
-    x = -7.0 if x0 is None else x0
-    ionic = ispec + 1e-7 if i0 is None else max(i0, 1e-12)
+    if x0 is None:
+        x, ionic = _cold_start(systems, spectators, pkw, a_dh, held)
+    else:
+        x, ionic = x0, (ispec + 1e-7 if i0 is None else max(i0, 1e-12))
     seen_lo, seen_hi = -math.inf, math.inf
+    last = 0.0   # the last exact step, where it was taken in full
     for it in range(1, max_iter + 1):
         tad = 2.0 * (a_dh * davies_d_float(ionic))
         log_kw = tad - pkw
         cold = it == 1 and x0 is None
-        big_f, dx, inew, lin, g = _step(x, ionic, _sums(systems, x, tad), log_kw, a_dh,
-                                        spectators, cold)
+        big_f, dx, inew, lin, g, exact = _step(x, ionic, _sums(systems, x, tad), log_kw,
+                                               a_dh, spectators, cold)
         if cold and abs(dx) > COUPLED_NEAR:
             # a cold start far from the root: first balance the protons, and take the
             # ionic strength of the species as they are
-            dx, inew = lin - x, g
+            dx, inew, exact = lin - x, g, False
         if held:
             xn = min(max(x + dx, -20.0), 4.0)
         else:
@@ -285,9 +350,13 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
             seen_lo, seen_hi = -math.inf, math.inf
         if (xn <= seen_lo or xn >= seen_hi) and math.isfinite(seen_lo + seen_hi):
             xn = 0.5 * (seen_lo + seen_hi)
+        size = max(abs(dx), abs(inew - ionic) / max(inew, 1e-12)) if davies else abs(dx)
         if (abs(big_f) < F_TOL or abs(dx) < QUADRATIC_STEP) and (
-                not davies or abs(inew - ionic) <= I_RTOL * max(inew, 1e-12)):
+                not davies or abs(inew - ionic) <= I_RTOL * max(inew, 1e-12)) or (
+                exact and size <= QUADRATIC_MAX
+                and size * size * size <= PREDICTED_ERROR * last * last):
             return x + dx, inew, it   # the Newton step itself, never a guarded one
+        last = size if exact and xn == x + dx else 0.0   # (coupled._quadratic)
         x, ionic = xn, inew
     return None
 
@@ -309,7 +378,8 @@ def solve_each(pr, x0=None, i0=None, *, chain: bool = False, max_iter: int = COU
     rows = pr.totals.tolist()
     xs, iss = x.tolist(), ionic.tolist()
     for i in range(n):
-        start_x, start_i = xs[i], iss[i]
+        # without starts, a point not chained starts cold (see solve_one)
+        start_x, start_i = (None, None) if x0 is None else (xs[i], iss[i])
         if chain and i and ok[i - 1]:
             start_x, start_i = xs[i - 1], iss[i - 1]
             if i > 1 and ok[i - 2]:   # the straight line through the two roots before
