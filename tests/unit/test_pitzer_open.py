@@ -133,3 +133,60 @@ def test_an_open_system_that_forms_a_salt_is_left_to_the_outer_loop():
     places = tuple(0 if i == k else -1 for i in range(len(lay.sys_keys)))
     assert pitzer_one.open_table(ot, places) is None
     assert pitzer_one.open_table(ot, (-1,) * len(lay.sys_keys)) is not None
+
+
+@pytest.mark.parametrize("amounts", [[0.3, 0.9, 1.2], list(np.linspace(0.0, 1.5, 30))],
+                         ids=["few", "batch"])
+def test_started_coefficients_only_save_rounds(amounts):
+    # a solved batch's own coefficients (speciation_models.pitzer_start): the same
+    # result in fewer rounds; a start of the wrong shape is not taken
+    from carboy.model.speciation_models import coefficients_of, start_coefficients
+
+    batch = _batch({"HCl": 2.0, "NaCl": 1.0}, "Na2CO3", amounts)
+    held = {"carbonate": ("CO2", SAT)}
+    for kw in ({}, {"held": held}):
+        cold = speciate_batch(batch, activity="pitzer", catalog=CAT, **kw)
+        v0 = coefficients_of(cold)
+        with start_coefficients(v0):
+            warm = speciate_batch(batch, activity="pitzer", catalog=CAT, **kw)
+        with start_coefficients(v0[1:]):
+            wrong = speciate_batch(batch, activity="pitzer", catalog=CAT, **kw)
+        assert warm.pH == pytest.approx(cold.pH, abs=1e-9)
+        assert warm.species_molar == pytest.approx(cold.species_molar, rel=1e-8, abs=1e-15)
+        assert warm.iterations < cold.iterations == wrong.iterations
+        half = v0.copy()
+        half[::2] = np.nan                      # NaN rows: those points start cold
+        with start_coefficients(half):
+            part = speciate_batch(batch, activity="pitzer", catalog=CAT, **kw)
+        assert part.pH == pytest.approx(cold.pH, abs=1e-9)
+
+
+def test_a_result_on_another_model_gives_no_coefficients():
+    from carboy.model.speciation_models import coefficients_of
+
+    batch = _batch({"HCl": 0.01}, "Na2CO3", [0.001, 0.004])
+    assert coefficients_of(speciate_batch(batch, activity="davies", catalog=CAT)) is None
+
+
+def test_an_open_solve_started_from_an_earlier_one_gives_the_same_states():
+    # gas.TitrationModel starts an open solve from the largest one at the same CO2 level
+    # (roots and, on the Pitzer model, coefficients straight between its amounts)
+    from carboy.model import gas
+
+    sample = Mixture.from_compounds([(CAT.compound("HCl"), 2.0), (CAT.compound("NaCl"), 1.0)],
+                                    volume_l=1.0)
+    comp = dict(CAT.compound("Na2CO3").composition)
+
+    def model():
+        return gas.TitrationModel(sample, comp, 0.0, activity="pitzer", catalog=CAT)
+
+    warm, cold = model(), model()
+    warm.forward(np.linspace(0.0, 1.5, 40), co2_molar=SAT)
+    n = np.array([0.31, 0.97, 1.02, 1.49, 1.7])          # the last outside the grid
+    assert warm._open_coefficients(SAT, n) is not None
+    assert np.isnan(warm._open_coefficients(SAT, n)[-1]).all()
+    got, ref = warm.forward(n, co2_molar=SAT), cold.forward(n, co2_molar=SAT)
+    assert got.pH == pytest.approx(ref.pH, abs=1e-9)
+    assert got.carbonate_molar() == pytest.approx(ref.carbonate_molar(), rel=1e-8)
+    inside = warm.forward(n[:-1], co2_molar=SAT)         # the most rounds any point took
+    assert inside.result.iterations < model().forward(n[:-1], co2_molar=SAT).result.iterations

@@ -292,9 +292,11 @@ def _between(st: _State, coarse: np.ndarray, fine: np.ndarray) -> None:
 
 
 def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
-                water_kg_per_l: np.ndarray, held=None):
-    """Solve every point (``held`` (N, H): see :func:`few_outcome`); returns (x molal,
-    molalities (N, U), lg (N, U), φ, a_w, I, rounds, converged) by point."""
+                water_kg_per_l: np.ndarray, held=None, x0=None, v0=None):
+    """Solve every point (``held``, ``x0`` and ``v0``: see :func:`few_outcome`); returns
+    (x molal, molalities (N, U), lg (N, U), φ, a_w, I, rounds, converged) by point.
+    Points with started coefficients are solved first, together; the others coarse to
+    fine among themselves."""
     s = 1.0 / water_kg_per_l
     npts = totals.shape[0]
     ions = np.zeros((npts, bt.n))
@@ -306,9 +308,20 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
     st = _State(start(bt, ions, sys_tot), np.zeros((npts, bt.n + 1)),
                 np.zeros((npts, bt.n)), np.zeros((npts, 3)), np.zeros(npts, dtype=int),
                 np.zeros(npts, dtype=bool))
+    if x0 is not None:
+        st.x = np.where(np.isfinite(x0), x0, st.x)
     every = np.arange(npts)
+    if v0 is not None:
+        warm = np.isfinite(v0).all(axis=1)
+        st.v[warm] = v0[warm]
+        if warm.any():
+            _rounds(bt, model, st, every[warm], ions, sys_tot, WARM_TOL)
+        every = every[~warm]
+        npts = every.shape[0]
+    if npts == 0:
+        return st
     if npts >= WARM_MIN:
-        coarse = np.unique(np.r_[every[::WARM_STRIDE], npts - 1])
+        coarse = np.unique(np.r_[every[::WARM_STRIDE], every[-1]])
         _rounds(bt, model, st, coarse, ions, sys_tot, COLD_TOL)
         fine = np.setdiff1d(every, coarse)
         _between(st, coarse, fine)
@@ -319,11 +332,11 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
 
 
 def batch_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
-                  water_kg_per_l: np.ndarray, held=None) -> Outcome:
+                  water_kg_per_l: np.ndarray, held=None, x0=None, v0=None) -> Outcome:
     """The :class:`Outcome` of a batch (``totals`` (N, C) mol/L) as ``outer`` gives it
-    (``held``: see :func:`few_outcome`)."""
+    (``held``, ``x0`` and ``v0``: see :func:`few_outcome`)."""
     bt = batch_table(ot)
-    st = solve_batch(bt, model, totals, water_kg_per_l, held)
+    st = solve_batch(bt, model, totals, water_kg_per_l, held, x0, v0)
     w = water_kg_per_l
     lg = st.v[:, :bt.n]
     table = st.m * w[:, None]
@@ -359,19 +372,24 @@ FEW_POINTS = 8
 
 
 def few_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
-                water_kg_per_l: np.ndarray, x0=None, held=None) -> Outcome:
+                water_kg_per_l: np.ndarray, x0=None, held=None, v0=None) -> Outcome:
     """:func:`batch_outcome` of a few points, each solved as one solution
     (:func:`~carboy.model.solver.pitzer_one.one_outcome`) and stacked; the warnings are
     the batch's, worked out once over all its points.  ``x0`` (N,): starts in log10
     m(H+) (NaN: none); ``held`` (N, H): each point's held mol/L of an open table's open
-    systems (``pitzer_one.open_table``)."""
+    systems (``pitzer_one.open_table``); ``v0`` (N, U + 1): starts of the coefficients
+    (log10 γ, then log10 a_w; a row with a NaN: none)."""
     scalar = scalar_model(model)
     npts = totals.shape[0]
     starts = [None] * npts if x0 is None else \
         [v if v == v else None for v in np.asarray(x0, dtype=float).tolist()]
     fixed = [()] * npts if held is None else [tuple(r) for r in np.asarray(held).tolist()]
-    outs = [one_outcome(ot, model, scalar, row, float(w), a, h)
-            for row, w, a, h in zip(totals.tolist(), water_kg_per_l.tolist(), starts, fixed)]
+    coeffs = [None] * npts if v0 is None else \
+        [r if np.isfinite(r).all() else None for r in np.asarray(v0, dtype=float)]
+    outs = [one_outcome(ot, model, scalar, row, float(w), a, h,
+                        None if c is None else c.tolist())
+            for row, w, a, h, c in zip(totals.tolist(), water_kg_per_l.tolist(), starts,
+                                       fixed, coeffs)]
     table = np.concatenate([o.table for o in outs])
     ionic = np.concatenate([o.extra["ionic_strength_molal"] for o in outs])
     extra = _batch_extra(model, table / water_kg_per_l[:, None], ionic,

@@ -57,6 +57,9 @@ Newton's error after it is of order s²."""
 FIRST_X_TOL = 0.1
 """The first round's x-solve (every coefficient still zero, off by up to about 2 in
 log10) stops at a Newton step below this: a closer root buys nothing there."""
+WARM_X_TOL = 1e-10
+"""The first round's x-solve from started coefficients (a nearby solution's) needs x as
+closely as they are known."""
 ROUND_X_TOL = 1e-3
 """Later rounds solve x to this times the last round's largest coefficient move: the
 error it leaves in x is then well inside what the coefficients still have to move."""
@@ -341,11 +344,13 @@ def _anderson(v, g, prev):
 
 
 def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
-                     x0: float | None = None, held: tuple = ()):
+                     x0: float | None = None, held: tuple = (), v0=None):
     """Solve one solution: ``row`` the batch totals (mol/L), ``per_molar`` mol/kg per
     mol/L; an open table (:func:`open_table`) takes ``held``, the held state's mol/L of
-    each of its open systems in order.  Returns (x molal, molalities, lg, (φ, a_w, I),
-    rounds, converged)."""
+    each of its open systems in order.  ``x0`` and ``v0`` start x and the coefficients
+    (log10 γ of every column, then log10 a_w: a nearby solution's); a start only saves
+    rounds, the test that ends them is the same.  Returns (x molal, molalities, lg,
+    (φ, a_w, I), rounds, converged)."""
     ions = [0.0] * ot.n
     for c, b in ot.ions:
         ions[c] += row[b] * per_molar
@@ -355,14 +360,16 @@ def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
         for k, v in zip(opened, held):
             sys_tot[k] = v * per_molar
     n = ot.n
-    v = [0.0] * (n + 1)         # log10 γ of every column, then log10 a_w
+    # log10 γ of every column, then log10 a_w
+    v = [0.0] * (n + 1) if v0 is None else list(v0)
     x = _start(ot, ions, sys_tot) if x0 is None else x0
     prev = None
     moved = last = 1.0
+    first_tol = FIRST_X_TOL if v0 is None else WARM_X_TOL
     for rounds in range(1, ONE_ROUNDS + 1):
         # early rounds need x no closer than their coefficients are settled; v holds
         # log10 a_w after the n coefficients, which the x-solve does not read
-        tol = FIRST_X_TOL if rounds == 1 else max(X_STEP_TOL, ROUND_X_TOL * moved)
+        tol = first_tol if rounds == 1 else max(X_STEP_TOL, ROUND_X_TOL * moved)
         x, m = solve_x(ot, x, v, v[n], ions, sys_tot, tol)
         ln, phi, aw, ionic = model.evaluate(m)
         g = [a / LN10 for a in ln]
@@ -417,14 +424,14 @@ def open_table(ot: OneTable, held: tuple) -> OneTable | None:
 
 
 def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: float,
-                x0: float | None = None, held: tuple = ()):
+                x0: float | None = None, held: tuple = (), v0=None):
     """The :class:`~carboy.model.solver.outer.Outcome` of one solution (``row`` its batch
     totals, mol/L) as the vectorized path gives it: concentrations in mol/L, x = log10
     [H+] in mol/L, the Pitzer model's (``model``) warnings at the composition.  ``x0``
-    (log10 m(H+), mol/kg) and ``held``: see :func:`solve_one_pitzer`."""
+    (log10 m(H+), mol/kg), ``held`` and ``v0``: see :func:`solve_one_pitzer`."""
     w = water_kg_per_l
     x, m, lg, (phi, aw, ionic), rounds, ok = solve_one_pitzer(ot, scalar, row, 1.0 / w, x0,
-                                                             held)
+                                                             held, v0)
     table = np.array([m]) * w
     alpha, ceff = [], []
     for _, states in ot.systems:
