@@ -417,6 +417,7 @@ def _false_position(g, start: np.ndarray) -> np.ndarray:
         new, _ = g(np.r_[lo[low], hi[high]], which)
         g_lo[low], g_hi[high] = new[:low.sum()], new[low.sum():]
     n = best.copy()
+    moved = np.zeros(k)     # the end the last step moved: -1 the low one, +1 the high one
     for _ in range(REFINE_ROUNDS):
         live = np.flatnonzero(~done)
         if live.size == 0:
@@ -429,7 +430,9 @@ def _false_position(g, start: np.ndarray) -> np.ndarray:
         n[live] = guess
         done[live] = np.abs(mn) <= REFINE_PH_TOL
         left = gn < 0
-        g_hi[live] = np.where(left, gb * 0.5, gn)   # Illinois: halve the kept end's value
-        g_lo[live] = np.where(left, gn, ga * 0.5)
+        # Illinois: an end kept a second time in a row has its value halved
+        g_hi[live] = np.where(left, np.where(moved[live] < 0, gb * 0.5, gb), gn)
+        g_lo[live] = np.where(left, gn, np.where(moved[live] > 0, ga * 0.5, ga))
+        moved[live] = np.where(left, -1.0, 1.0)
         lo[live], hi[live] = np.where(left, guess, a), np.where(left, b, guess)
     return n
