@@ -15,13 +15,14 @@ from __future__ import annotations
 import dataclasses
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
+from typing import NamedTuple
 
 import numpy as np
 
 from carboy.model import gas, numbers
 from carboy.model.mixture import MixtureBatch, titration_batch
 from carboy.model.speciation import BatchSpeciation, speciate_batch
-from carboy.model.speciation_models import settles_forward
+from carboy.model.speciation_models import coefficients_of, settles_forward, start_coefficients
 
 CURVE_SPAN = 1.3
 """The pH curve runs from 0 to this times the largest dose of interest."""
@@ -79,25 +80,51 @@ class Dosing:
         """The batch after adding each amount ``n`` (mol) and its volumes (L): once vented
         to air (default), or right after the addition (``vented=False``; or one flag per
         amount)."""
-        b, vol, _ = self._batch_and_air(np.asarray(n, dtype=float), vented)
-        return b, vol
+        got = self._batch_and_air(np.asarray(n, dtype=float), vented)
+        return got.batch, got.volume_l
 
     def solve(self, n, *, vented=True, start=None) -> tuple[BatchSpeciation, np.ndarray]:
         """:meth:`batch_at`, solved: the states and their volumes (L).  Each point starts
         from ``start`` where given (see :func:`~carboy.model.speciation.speciate_batch`),
         else from the same batch in equilibrium with air (which it equals wherever the
-        air's level of CO2 is the lower)."""
-        b, vol, air = self._batch_and_air(np.asarray(n, dtype=float), vented, start)
-        res = speciate_batch(b, activity=self.model.activity, catalog=self.model.catalog,
-                             start=air if start is None else start)
-        return res, vol
+        air's level of CO2 is the lower; with the Pitzer model its coefficients too)."""
+        got = self._batch_and_air(np.asarray(n, dtype=float), vented, start)
+        with start_coefficients(got.coefficients):
+            res = speciate_batch(got.batch, activity=self.model.activity,
+                                 catalog=self.model.catalog,
+                                 start=got.start if start is None else start)
+        return res, got.volume_l
+
+    def vented_pH(self, n) -> np.ndarray:  # noqa: N802
+        """The pH once vented after adding each amount ``n`` (mol): :meth:`solve`'s,
+        without the second solve where the vented batch is the one open to air (its
+        state is then that solve's, to the solver's tolerance).  Not on the Pitzer
+        model: there an open solve's water per litre comes from the batch's totals as
+        added (every carbonate, vented or not), a closed one's from what it holds, so
+        the two differ."""
+        if self.model.activity == "pitzer":
+            return self.solve(n)[0].pH
+        got = self._batch_and_air(np.asarray(n, dtype=float), True)
+        if got.air_pH is None:
+            return self.solve(n)[0].pH
+        ph = got.air_pH.copy()
+        rest = np.flatnonzero(np.isnan(ph))
+        if rest.size:
+            b = got.batch
+            with start_coefficients(None if got.coefficients is None
+                                    else got.coefficients[rest]):
+                ph[rest] = speciate_batch(MixtureBatch(b.keys, b.totals[rest], b.temperature_c),
+                                          activity=self.model.activity,
+                                          catalog=self.model.catalog).pH
+        return ph
 
     def _batch_and_air(self, n: np.ndarray, vented, air_start=None):
-        """(batch, volumes, starts or None): see :meth:`batch_at`; a vented point whose
-        state is the one open to air starts from its root, the others from none."""
+        """The batch and its volumes (see :meth:`batch_at`), and a vented point whose
+        state is the one open to air starts from its root (and, on the Pitzer model, its
+        coefficients: ``coefficients_of``), the others from none (:class:`_Vented`)."""
         b, vol = titration_batch(self.model.sample, self.composition, n, self.l_per_mol)
         if self.fresh_loss is None:
-            return b, vol, None
+            return _Vented(b, vol)
         vented = np.broadcast_to(np.asarray(vented, dtype=bool), n.shape)
         on_grid = (self.grid_air is not None and n.shape == self.grid.shape
                    and np.array_equal(n, self.grid))
@@ -112,7 +139,7 @@ class Dosing:
                                                         starts=[None, air_start])
         loss = self.fresh_loss(n, saturated) if saturated is not None else self.fresh_loss(n)
         kept = np.maximum(self.model.carbonate_total_mol(n) - loss, 0.0)
-        start = None
+        start = coefficients = air_ph = None
         if vented.any():
             if air is None:
                 air = self.model.forward(n, co2_molar=self.s_air, start=air_start)
@@ -125,9 +152,14 @@ class Dosing:
             if exact.any():
                 start = (np.where(exact, air.result.log_h, np.nan),
                          np.where(exact, air.result.ionic_strength_molar, np.nan))
+                air_ph = np.where(exact, air.result.pH, np.nan)
+                coefficients = coefficients_of(air.result)
+                if coefficients is not None:
+                    coefficients = np.where(exact[:, None], coefficients, np.nan)
         tot = b.totals.copy()
         tot[:, b.keys.index(gas.CARBONATE)] = kept / vol
-        return MixtureBatch(b.keys, tot, b.temperature_c), vol, start
+        return _Vented(MixtureBatch(b.keys, tot, b.temperature_c), vol, start, coefficients,
+                       np.full(n.shape, np.nan) if air_ph is None else air_ph)
 
     def co2_lost_mol(self, n_end: float) -> tuple[float, float]:
         """CO2 given off (mol) by adding ``n_end``: right after the addition, and in all
@@ -142,6 +174,19 @@ class Dosing:
                        - kept_carbonate_mol(self.model, np.array([n_end]), self.fresh_loss,
                                             self.s_air)[0])
         return fresh, vented
+
+
+class _Vented(NamedTuple):
+    """A batch after additions (``Dosing._batch_and_air``): its totals and volumes, the
+    solver's starts (None, or log10[H+] and I of the points whose state is the one open
+    to air, NaN elsewhere), the Pitzer coefficients' starts there (or None) and that
+    state's pH (NaN elsewhere; None without carbonate)."""
+
+    batch: MixtureBatch
+    volume_l: np.ndarray
+    start: tuple | None = None
+    coefficients: np.ndarray | None = None
+    air_pH: np.ndarray | None = None  # noqa: N815
 
 
 def find_doses(model: gas.TitrationModel, composition: Mapping[str, float], l_per_mol: float,
@@ -307,7 +352,7 @@ def refine_doses(dosing: Dosing, targets, direction: str) -> Dosing:
 
     def g(n, which):
         """(g, pH - target) at doses ``n`` of the doses ``which`` (one forward solve)."""
-        ph = dosing.solve(n)[0].pH
+        ph = dosing.vented_pH(n)
         miss = ph - want[which]
         with np.errstate(invalid="ignore"):
             on_scale = inverse(ph) - aim[which]
@@ -372,6 +417,7 @@ def _false_position(g, start: np.ndarray) -> np.ndarray:
         new, _ = g(np.r_[lo[low], hi[high]], which)
         g_lo[low], g_hi[high] = new[:low.sum()], new[low.sum():]
     n = best.copy()
+    moved = np.zeros(k)     # the end the last step moved: -1 the low one, +1 the high one
     for _ in range(REFINE_ROUNDS):
         live = np.flatnonzero(~done)
         if live.size == 0:
@@ -384,7 +430,9 @@ def _false_position(g, start: np.ndarray) -> np.ndarray:
         n[live] = guess
         done[live] = np.abs(mn) <= REFINE_PH_TOL
         left = gn < 0
-        g_hi[live] = np.where(left, gb * 0.5, gn)   # Illinois: halve the kept end's value
-        g_lo[live] = np.where(left, gn, ga * 0.5)
+        # Illinois: an end kept a second time in a row has its value halved
+        g_hi[live] = np.where(left, np.where(moved[live] < 0, gb * 0.5, gb), gn)
+        g_lo[live] = np.where(left, gn, np.where(moved[live] > 0, ga * 0.5, ga))
+        moved[live] = np.where(left, -1.0, 1.0)
         lo[live], hi[live] = np.where(left, guess, a), np.where(left, b, guess)
     return n

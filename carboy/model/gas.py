@@ -23,6 +23,7 @@ from carboy.model import water
 from carboy.model.metal_doses import MetalDoses
 from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
 from carboy.model.speciation import BatchSpeciation, speciate_batch, start_along, state_at
+from carboy.model.speciation_models import coefficients_of, start_coefficients
 from carboy.model.thermo import planning_constants
 
 LN10 = math.log(10.0)
@@ -153,13 +154,16 @@ class TitrationModel:
             b = MixtureBatch(b.keys, tot, b.temperature_c)
         return b, vol
 
-    def forward(self, n_reagent, *, carbonate_mol=None, co2_molar=None, start=None) -> State:
+    def forward(self, n_reagent, *, carbonate_mol=None, co2_molar=None, start=None,
+                coefficients=None) -> State:
         """States after adding each amount ``n_reagent`` (mol).
 
         ``carbonate_mol`` overrides the total carbonate left (mol, per point) and
         ``co2_molar`` instead holds CO2(aq) fixed (open system); neither: closed.
         ``start``: the solver's starts (see ``speciate_batch``); an open system starts
-        by default from the largest open solve at the same CO2 level so far.
+        by default from the largest open solve at the same CO2 level so far (with the
+        Pitzer model its coefficients too; ``coefficients``: such starts given,
+        ``speciation_models.coefficients_of``).
         """
         n = np.atleast_1d(np.asarray(n_reagent, dtype=float))
         held = None
@@ -170,8 +174,11 @@ class TitrationModel:
         b, vol = self._batch(n, None if held else carbonate_mol)
         if start is None and held is not None:
             start = self._open_start(co2_molar, n)
-        res = speciate_batch(b, activity=self.activity, catalog=self.catalog, held=held,
-                             start=start)
+            if coefficients is None:
+                coefficients = self._open_coefficients(co2_molar, n)
+        with start_coefficients(coefficients):
+            res = speciate_batch(b, activity=self.activity, catalog=self.catalog, held=held,
+                                 start=start)
         if held is not None:
             self._remember_open(co2_molar, n, res)
         return State(n, vol, res)
@@ -188,6 +195,23 @@ class TitrationModel:
             return None
         x0, i0 = start_along(n, nodes, res)
         return np.where(inside, x0, np.nan), np.where(inside, i0, np.nan)
+
+    def _open_coefficients(self, co2_molar, n: np.ndarray) -> np.ndarray | None:
+        """Starts of the Pitzer coefficients for an open-system solve at ``co2_molar``
+        (see :meth:`_open_start`): the largest such solve's, straight between its
+        amounts (NaN outside its range); None off the Pitzer model or without one."""
+        memo = self._open.get(float(co2_molar)) if np.ndim(co2_molar) == 0 else None
+        if memo is None or memo[0].size < min(n.size, 16):
+            return None
+        nodes, res = memo
+        v = coefficients_of(res)
+        if v is None:
+            return None
+        k = np.clip(np.searchsorted(nodes, n), 1, nodes.size - 1)
+        t = ((n - nodes[k - 1]) / (nodes[k] - nodes[k - 1]))[:, None]
+        out = v[k - 1] + t * (v[k] - v[k - 1])
+        out[(n < nodes[0]) | (n > nodes[-1])] = np.nan
+        return out
 
     def _remember_open(self, co2_molar, n: np.ndarray, res: BatchSpeciation) -> None:
         """Keep the roots of an open-system solve of several amounts (see _open_start)."""
@@ -300,7 +324,11 @@ class TitrationModel:
         if any(st is not None for st in starts):   # NaN: no start for that part
             start = tuple(np.concatenate([np.full(a.size, np.nan) if st is None else st[k]
                                           for a, st in zip(ns, starts)]) for k in range(2))
-        whole = self.forward(np.concatenate(ns), co2_molar=co2, start=start)
+        coeffs = [self._open_coefficients(c, a) for a, (_, c) in zip(ns, levels)]
+        width = next((v.shape[1] for v in coeffs if v is not None), None)
+        v0 = None if width is None else np.concatenate(
+            [np.full((a.size, width), np.nan) if v is None else v for a, v in zip(ns, coeffs)])
+        whole = self.forward(np.concatenate(ns), co2_molar=co2, start=start, coefficients=v0)
         out, first = [], 0
         for a, (_, c) in zip(ns, levels):
             part = slice(first, first + a.size)

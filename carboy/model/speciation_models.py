@@ -5,8 +5,9 @@ the Davies path's fast solve:
 
 * ``activity="pitzer"``: the specific-interaction model, in molalities, with the pairs
   of its own set (MgOH+): one solution on floats (``solver.pitzer_one``), a batch on
-  arrays (``solver.pitzer_batch``), both from the totals alone; with held species the
-  outer loop (``solver.outer.solve_pitzer``) started from the Davies solution;
+  arrays (``solver.pitzer_batch``), both from the totals alone, held species (open
+  systems) too; an open system that could form a salt goes to the outer loop
+  (``solver.outer.solve_pitzer``), started from the Davies solution;
 * ``activity="davies"``: the Davies equation with the ion pairs of a spectator cation
   (NaSO4-, KSO4-; ``solver.outer.solve_with_pairs``; calcium and magnesium are modelled
   metals, whose own hydrolysis gives CaOH+ and MgOH+, and CaSO4° and MgSO4° are not
@@ -45,6 +46,8 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from contextlib import contextmanager, nullcontext
+from contextvars import ContextVar
 from dataclasses import dataclass
 from functools import lru_cache
 from operator import mul
@@ -84,9 +87,10 @@ from carboy.model.solver.pitzer_one import (
     model_warnings,
     one_outcome,
     one_table,
+    open_table,
     solve_one_pitzer,
 )
-from carboy.model.solver.problem import build_problem
+from carboy.model.solver.problem import build_problem, held_amounts
 
 AUTO_LIMIT_MOLAL = 0.5
 """``activity="auto"`` keeps the Davies equation up to this ionic strength (mol/kg),
@@ -274,24 +278,30 @@ def _with_pairs(base, lay: Layout, activity: str, held):
 def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None,
             solids: tuple = ((), ())):
     """The Pitzer path: one solution on floats (``solver.pitzer_one``), a batch on
-    arrays (``solver.pitzer_batch``); with held species or pairs on a state, the outer
-    loop (``solver.outer.solve_pitzer``) from the Davies result ``base``."""
+    arrays (``solver.pitzer_batch``), held species too (``pitzer_one.open_table``); where
+    those do not take the table (an open system with a salt, a pair on a state), the
+    outer loop (``solver.outer.solve_pitzer``) from the Davies result ``base``."""
     t_c = batch.temperature_c
     tab = table_of(lay, "pitzer", t_c)
     model = pitzer_for(tab, t_c)
-    one = None
-    if len(batch) and not paths.held and paths.frame is not None:
+    one = held = None
+    if len(batch) and paths.frame is not None and not paths.held:
         one = one_table(lay, tab, water.pkw(t_c), *solids)
+    elif len(batch) and paths.frame is not None:
+        # held species (no solids on this path, as on the outer loop's)
+        one, held = _opened(lay, tab, batch, paths.held)
     if one is not None:
         w, notes = water_kg_per_litre(catalog, batch.keys, batch.totals, t_c)
         frame = paths.frame(batch, lay, activity, t_c)
-        if len(batch) == 1:
+        x0 = None if paths.start is None else paths.start[0] - np.log10(w)   # molal
+        v0 = _started(len(batch), len(tab.labels))
+        if len(batch) == 1 and held is None and x0 is None and v0 is None:
             out = one_outcome(one, model, scalar_model(model), batch.totals[0].tolist(),
                               float(w[0]))
         elif len(batch) <= FEW_POINTS:
-            out = few_outcome(one, model, batch.totals, w)
+            out = few_outcome(one, model, batch.totals, w, x0, held, v0)
         else:
-            out = batch_outcome(one, model, batch.totals, w)
+            out = batch_outcome(one, model, batch.totals, w, held, x0, v0)
         return _pitzer_result(frame, out, lay, tab, activity, w, notes)
     if base is None:
         base = paths.solve_davies(batch, lay, "davies", t_c, paths.held, paths.start)
@@ -299,6 +309,59 @@ def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None
     pr = build_problem(lay, base.batch.totals, paths.held, base.pkw, 0.0)
     out = solve_pitzer(pr, model, tab, 1.0 / w, base.log_h.copy())
     return _pitzer_result(base, out, lay, tab, activity, w, notes)
+
+
+_COEFFICIENTS: ContextVar = ContextVar("pitzer_coefficients", default=None)
+
+
+@contextmanager
+def pitzer_start(log_gamma, log_water_activity):
+    """Within this block, a Pitzer batch solve of N points whose species table has U
+    columns (``Outcome.log_gamma``'s, a result's ``model_part.log_gamma`` on the Pitzer
+    model) starts each point's coefficients from ``log_gamma`` (N, U) and
+    ``log_water_activity`` (N,) (a nearby solution's: the same batch open to air, say; a
+    row with a NaN: no start).  Other solves ignore it.  A start only saves rounds: a
+    point settles on the same test whatever its start."""
+    token = _COEFFICIENTS.set(np.column_stack([log_gamma, log_water_activity]))
+    try:
+        yield
+    finally:
+        _COEFFICIENTS.reset(token)
+
+
+def coefficients_of(res) -> np.ndarray | None:
+    """(N, U + 1) the coefficients of a result on the Pitzer model (``model_part``:
+    log10 γ of its species, then log10 a_w), as :func:`pitzer_start` takes them; None
+    for a result on another model."""
+    part = getattr(res, "model_part", None)
+    if part is None or part.model != "pitzer" or part.water_activity is None:
+        return None
+    return np.column_stack([part.log_gamma, np.log10(part.water_activity)])
+
+
+def start_coefficients(v0: np.ndarray | None):
+    """:func:`pitzer_start` with ``v0`` (N, U + 1) as :func:`coefficients_of` gives
+    them (rows with a NaN: no start); a block that does nothing for None."""
+    return nullcontext() if v0 is None else pitzer_start(v0[:, :-1], v0[:, -1])
+
+
+def _started(n: int, u: int):
+    """The coefficients' starts (:func:`pitzer_start`) for a batch of ``n`` points and
+    ``u`` species, or None."""
+    v0 = _COEFFICIENTS.get()
+    return v0 if v0 is not None and v0.shape == (n, u + 1) else None
+
+
+def _opened(lay: Layout, tab, batch: MixtureBatch, held):
+    """The float table of ``lay`` with the ``held`` systems open, and each point's held
+    mol/L of them (N, H); (None, None) where the float path does not take it."""
+    ot = one_table(lay, tab, water.pkw(batch.temperature_c))
+    if ot is None:
+        return None, None
+    am = held_amounts(lay, np.ascontiguousarray(batch.totals[:, lay.sys_cols].T), held)
+    places = tuple(int(j) if on else -1 for j, on in zip(am.j0.tolist(), am.mask.tolist()))
+    opened = open_table(ot, places)
+    return opened, (None if opened is None else am.held[am.mask].T)
 
 
 def pitzer_one_fields(catalog, lay: Layout, keys: tuple[str, ...], row: list,

@@ -85,3 +85,20 @@ def test_an_auto_plan_on_the_davies_branch_is_the_davies_plan_in_every_batch():
     assert auto.activity_model == "davies"
     assert np.array_equal(auto.curve, davies.curve)
     assert auto.to_target.reagent_mol == davies.to_target.reagent_mol
+
+
+def test_false_position_halves_an_end_only_when_it_is_kept_twice():
+    """Illinois: on a curved g the plain method keeps one end for ever; halving that
+    end's value whenever it is kept a second time in a row restores a fast approach.
+    Halving it on every step instead (alternate sides) slowed the search to one bit per
+    forward solve: some twenty solves for a dose here, now under ten."""
+    calls = []
+
+    def g(n, which):
+        calls.append(n.size)
+        d = n - 2.0
+        return d + 40.0 * d * d, 1e3 * (d + 40.0 * d * d)   # the miss is 1000 times g
+
+    found = dosing._false_position(g, np.array([2.0006]))
+    assert abs(found[0] - 2.0) * 1e3 <= dosing.REFINE_PH_TOL * 1.01
+    assert len(calls) <= 9, calls

@@ -12,10 +12,10 @@ from carboy.model.speciation import speciate_batch
 
 
 def dosing_for(catalog, totals, reagent_key, targets, *, l_per_mol=0.0, direction="base",
-               initial_ph=1.0, n_full=0.1):
+               initial_ph=1.0, n_full=0.1, activity="davies"):
     sample = Mixture(totals, volume_l=1.0)
     comp = dict(catalog.compound(reagent_key).composition)
-    model = gas.TitrationModel(sample, comp, l_per_mol, activity="davies", catalog=catalog)
+    model = gas.TitrationModel(sample, comp, l_per_mol, activity=activity, catalog=catalog)
     return find_doses(model, comp, l_per_mol, np.asarray(targets, dtype=float), n_full,
                       initial_pH=initial_ph, direction=direction, points=50)
 
@@ -110,3 +110,17 @@ def test_grid_losses_in_one_solve_equal_the_separate_solves(catalog):
     ref = alone.forward(grid, co2_molar=d.s_air)
     np.testing.assert_allclose(air.pH, ref.pH, atol=1e-9)
     np.testing.assert_allclose(air.carbonate_molar(), ref.carbonate_molar(), rtol=1e-9)
+
+
+@pytest.mark.parametrize("activity, totals", [
+    ("davies", {"Na+": 0.4, "sulfate": 0.3}),     # NaSO4- forms: a routed Davies solve
+    ("pitzer", {"Na+": 1.0, "Cl-": 2.0}),         # an open solve's water per litre differs
+])
+def test_the_vented_ph_is_the_solved_batchs(catalog, activity, totals):
+    # vented_pH takes the state open to air where the vented batch is that state (not
+    # on the Pitzer model, whose open solve reckons water per litre from every carbonate
+    # added): the pH of solve() either way
+    d = dosing_for(catalog, totals, "NaHCO3", [7.0, 6.0, 8.0], n_full=0.7, activity=activity)
+    n = np.array([0.1, 0.55, 0.62, 0.7, 0.8])
+    assert np.isfinite(d._batch_and_air(n, True).air_pH).any()
+    np.testing.assert_allclose(d.vented_pH(n), d.solve(n)[0].pH, atol=1e-8)

@@ -76,6 +76,8 @@ class BatchTable:
     water: np.ndarray                # (S,) water each state takes (outer.HYDRATED)
     solids: tuple = ()               # OneTable.solids: the hydroxides that may form
     salts: tuple = ()                # OneTable.salts: the 1:1 salts that may form
+    held: np.ndarray | None = None   # (K,) OneTable.held: an open system's held state's
+    #                                  place among the states (-1 closed), or None
 
 
 def batch_table(ot: OneTable) -> BatchTable:
@@ -93,7 +95,8 @@ def batch_table(ot: OneTable) -> BatchTable:
                       np.array([f[2] for f in flat]), np.array([f[3] for f in flat], dtype=int),
                       np.cumsum([0] + sizes[:-1]).astype(int),
                       len({f[0] for f in flat}) < len(flat), np.array([f[4] for f in flat]),
-                      ot.solids, ot.salts)
+                      ot.solids, ot.salts,
+                      np.array(ot.held, dtype=int) if any(h >= 0 for h in ot.held) else None)
 
 
 def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
@@ -122,9 +125,16 @@ def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
                 + np.multiply.outer(lw, bt.water))
         logw -= np.maximum.reduceat(logw, bt.starts, axis=1)[:, so]
         w = np.exp(LN10 * logw)
-        conc = w * (sys_tot / np.add.reduceat(w, bt.starts, axis=1))[:, so]
-        jbar = np.add.reduceat(conc * j, bt.starts, axis=1) / np.where(
-            sys_tot > 0, sys_tot, 1.0)
+        if bt.held is None:
+            conc = w * (sys_tot / np.add.reduceat(w, bt.starts, axis=1))[:, so]
+            jbar = np.add.reduceat(conc * j, bt.starts, axis=1) / np.where(
+                sys_tot > 0, sys_tot, 1.0)
+        else:   # an open system's held state is at its sys_tot (its total follows x)
+            ref = bt.starts + np.maximum(bt.held, 0)
+            den = np.where(bt.held >= 0, w[:, ref], np.add.reduceat(w, bt.starts, axis=1))
+            conc = w * (sys_tot / den)[:, so]
+            jbar = np.where(bt.held >= 0, j[ref], np.add.reduceat(conc * j, bt.starts, axis=1)
+                            / np.where(sys_tot > 0, sys_tot, 1.0))
         slope = -LN10 * conc * (j[None, :] - jbar[:, so])
         if bt.repeats:   # a label two systems share: add column by column
             np.add.at(m.T, bt.cols, conc.T)
@@ -194,8 +204,10 @@ def start(bt: BatchTable, ions, sys_tot) -> np.ndarray:
     """``pitzer_one._start`` on arrays."""
     z = bt.zpos - bt.zneg
     fixed = np.einsum("nu,u->n", ions, z)
-    low = fixed + sum(sys_tot[:, k] * z[c].min() for k, (_, c, _, _) in enumerate(bt.systems))
-    high = fixed + sum(sys_tot[:, k] * z[c].max() for k, (_, c, _, _) in enumerate(bt.systems))
+    closed = [(k, c) for k, (_, c, _, _) in enumerate(bt.systems)
+              if bt.held is None or bt.held[k] < 0]
+    low = fixed + sum(sys_tot[:, k] * z[c].min() for k, c in closed)
+    high = fixed + sum(sys_tot[:, k] * z[c].max() for k, c in closed)
     with np.errstate(divide="ignore", invalid="ignore"):
         return np.where(low < 0, np.log10(-low),
                         np.where(high > 0, -bt.pkw - np.log10(high), -7.0))
@@ -280,21 +292,36 @@ def _between(st: _State, coarse: np.ndarray, fine: np.ndarray) -> None:
 
 
 def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
-                water_kg_per_l: np.ndarray):
-    """Solve every point; returns (x molal, molalities (N, U), lg (N, U), φ, a_w, I,
-    rounds, converged) by point."""
+                water_kg_per_l: np.ndarray, held=None, x0=None, v0=None):
+    """Solve every point (``held``, ``x0`` and ``v0``: see :func:`few_outcome`); returns
+    (x molal, molalities (N, U), lg (N, U), φ, a_w, I, rounds, converged) by point.
+    Points with started coefficients are solved first, together; the others coarse to
+    fine among themselves."""
     s = 1.0 / water_kg_per_l
     npts = totals.shape[0]
     ions = np.zeros((npts, bt.n))
     np.add.at(ions.T, bt.ion_cols, totals[:, bt.ion_batch].T * s)
     sys_tot = np.stack([totals[:, b] * s for b, _, _, _ in bt.systems], axis=1) \
         if bt.systems else np.zeros((npts, 0))
+    if bt.held is not None:
+        sys_tot[:, bt.held >= 0] = np.asarray(held, dtype=float) * s[:, None]
     st = _State(start(bt, ions, sys_tot), np.zeros((npts, bt.n + 1)),
                 np.zeros((npts, bt.n)), np.zeros((npts, 3)), np.zeros(npts, dtype=int),
                 np.zeros(npts, dtype=bool))
+    if x0 is not None:
+        st.x = np.where(np.isfinite(x0), x0, st.x)
     every = np.arange(npts)
+    if v0 is not None:
+        warm = np.isfinite(v0).all(axis=1)
+        st.v[warm] = v0[warm]
+        if warm.any():
+            _rounds(bt, model, st, every[warm], ions, sys_tot, WARM_TOL)
+        every = every[~warm]
+        npts = every.shape[0]
+    if npts == 0:
+        return st
     if npts >= WARM_MIN:
-        coarse = np.unique(np.r_[every[::WARM_STRIDE], npts - 1])
+        coarse = np.unique(np.r_[every[::WARM_STRIDE], every[-1]])
         _rounds(bt, model, st, coarse, ions, sys_tot, COLD_TOL)
         fine = np.setdiff1d(every, coarse)
         _between(st, coarse, fine)
@@ -305,10 +332,11 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
 
 
 def batch_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
-                  water_kg_per_l: np.ndarray) -> Outcome:
-    """The :class:`Outcome` of a batch (``totals`` (N, C) mol/L) as ``outer`` gives it."""
+                  water_kg_per_l: np.ndarray, held=None, x0=None, v0=None) -> Outcome:
+    """The :class:`Outcome` of a batch (``totals`` (N, C) mol/L) as ``outer`` gives it
+    (``held``, ``x0`` and ``v0``: see :func:`few_outcome`)."""
     bt = batch_table(ot)
-    st = solve_batch(bt, model, totals, water_kg_per_l)
+    st = solve_batch(bt, model, totals, water_kg_per_l, held, x0, v0)
     w = water_kg_per_l
     lg = st.v[:, :bt.n]
     table = st.m * w[:, None]
@@ -344,13 +372,24 @@ FEW_POINTS = 8
 
 
 def few_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
-                water_kg_per_l: np.ndarray) -> Outcome:
+                water_kg_per_l: np.ndarray, x0=None, held=None, v0=None) -> Outcome:
     """:func:`batch_outcome` of a few points, each solved as one solution
     (:func:`~carboy.model.solver.pitzer_one.one_outcome`) and stacked; the warnings are
-    the batch's, worked out once over all its points."""
+    the batch's, worked out once over all its points.  ``x0`` (N,): starts in log10
+    m(H+) (NaN: none); ``held`` (N, H): each point's held mol/L of an open table's open
+    systems (``pitzer_one.open_table``); ``v0`` (N, U + 1): starts of the coefficients
+    (log10 γ, then log10 a_w; a row with a NaN: none)."""
     scalar = scalar_model(model)
-    outs = [one_outcome(ot, model, scalar, row, float(w))
-            for row, w in zip(totals.tolist(), water_kg_per_l.tolist())]
+    npts = totals.shape[0]
+    starts = [None] * npts if x0 is None else \
+        [v if v == v else None for v in np.asarray(x0, dtype=float).tolist()]
+    fixed = [()] * npts if held is None else [tuple(r) for r in np.asarray(held).tolist()]
+    coeffs = [None] * npts if v0 is None else \
+        [r if np.isfinite(r).all() else None for r in np.asarray(v0, dtype=float)]
+    outs = [one_outcome(ot, model, scalar, row, float(w), a, h,
+                        None if c is None else c.tolist())
+            for row, w, a, h, c in zip(totals.tolist(), water_kg_per_l.tolist(), starts,
+                                       fixed, coeffs)]
     table = np.concatenate([o.table for o in outs])
     ionic = np.concatenate([o.extra["ionic_strength_molal"] for o in outs])
     extra = _batch_extra(model, table / water_kg_per_l[:, None], ionic,

@@ -25,7 +25,7 @@ ligand is a protonation state); the vectorized path then solves it.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from operator import mul, sub
 
 import numpy as np
@@ -57,6 +57,9 @@ Newton's error after it is of order s²."""
 FIRST_X_TOL = 0.1
 """The first round's x-solve (every coefficient still zero, off by up to about 2 in
 log10) stops at a Newton step below this: a closer root buys nothing there."""
+WARM_X_TOL = 1e-10
+"""The first round's x-solve from started coefficients (a nearby solution's) needs x as
+closely as they are known."""
 ROUND_X_TOL = 1e-3
 """Later rounds solve x to this times the last round's largest coefficient move: the
 error it leaves in x is then well inside what the coefficients still have to move."""
@@ -78,6 +81,8 @@ class OneTable:
     #                                  z, log10 Ksp of M(OH)z = M + z OH-) per hydroxide
     salts: tuple = ()               # (system, pitzer_salts entry) per 1:1 salt
     step: object = None             # _composition and _balance compiled (see _compile_step)
+    held: tuple = ()                # per system: its held state's place among its states,
+    #                                  -1 closed (an open system: see open_table)
 
 
 def compile_one(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
@@ -109,7 +114,7 @@ def compile_one(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
     z = tuple(float(v) for v in tab.charges.tolist())
     zpos, zneg = tuple(max(v, 0.0) for v in z), tuple(max(-v, 0.0) for v in z)
     step = None if pairs or solids or salt_rows else \
-        _compile_step(len(z), systems, float(pkw), zpos, zneg)
+        _compile_step(len(z), systems, float(pkw), zpos, zneg, (-1,) * len(systems))
     return OneTable(len(tab.labels), z, ions, tuple(systems), tuple(pairs), float(pkw),
                     zpos, zneg, tuple(solids), salt_rows, step)
 
@@ -123,11 +128,13 @@ def _number(value) -> float:
     return out
 
 
-def _compile_step(n: int, systems: list, pkw: float, zpos: tuple, zneg: tuple):
+def _compile_step(n: int, systems: list, pkw: float, zpos: tuple, zneg: tuple, held: tuple):
     """:func:`_composition` (with the slopes) and :func:`_balance` of a table without
     pairs, hydroxides or salts as one function of straight-line code, the constants as
     literals (a loop over the states costs most of a charge-balance step in Python):
-    ``step(x, lg, lw, ions, sys_tot)`` returns (m, dm, g, dg), the same numbers."""
+    ``step(x, lg, lw, ions, sys_tot)`` returns (m, dm, g, dg), the same numbers.
+    ``held`` (per system, see ``OneTable.held``): an open system's entry of ``sys_tot``
+    is its held state's molality."""
     ln10 = repr(LN10)
     # only plain finite numbers enter the source (a user compound's pKa among them)
     systems = [(k, [(int(c), _number(lb), _number(j), _number(h2o)) for c, lb, j, h2o in st])
@@ -141,13 +148,15 @@ def _compile_step(n: int, systems: list, pkw: float, zpos: tuple, zneg: tuple):
         for s, (c, lb, j, h2o) in enumerate(states):
             src.append(f"    w{s} = 10.0 ** ({lb!r} - lg[{c}] - {j!r} * xs + {h2o!r} * lw)")
         src.append(f"    tot = sys_tot[{k}]")
-        src.append(f"    inv = tot / ({' + '.join(f'w{s}' for s in range(len(states)))})")
+        ref = int(held[k])
+        den = f"w{ref}" if ref >= 0 else " + ".join(f"w{s}" for s in range(len(states)))
+        src.append(f"    inv = tot / ({den})")
         for s, (c, _, _, _) in enumerate(states):
             src.append(f"    c{s} = w{s} * inv")
             src.append(f"    m[{c}] += c{s}")
         src.append("    if tot:")
         jsum = " + ".join(f"c{s} * {st[2]!r}" for s, st in enumerate(states))
-        src.append(f"        jb = ({jsum}) / tot")
+        src.append(f"        jb = {states[ref][2]!r}" if ref >= 0 else f"        jb = ({jsum}) / tot")
         src.extend(f"        dm[{c}] -= {ln10} * c{s} * ({j!r} - jb)"
                    for s, (c, _, j, _) in enumerate(states))
     for name, zs in (("pos", zpos), ("neg", zneg)):
@@ -227,13 +236,17 @@ def _composition(ot: OneTable, x: float, lg, lw: float, ions, sys_tot, want_slop
             dm[mc] -= dp
     xs = x + lg_h
     sysc = []
-    for (_, states), tot in zip(ot.systems, sys_tot):
+    held = ot.held or (-1,) * len(ot.systems)
+    for (_, states), tot, ref in zip(ot.systems, sys_tot, held):
         ws = [10.0 ** (lb - lg[c] - j * xs + h2o * lw) for c, lb, j, h2o in states]
-        inv = tot / sum(ws)
+        inv = tot / (ws[ref] if ref >= 0 else sum(ws))
         conc = [w * inv for w in ws]
         for (c, _, _, _), v in zip(states, conc):
             m[c] += v
-        jbar = sum(v * j for v, (_, _, j, _) in zip(conc, states)) / tot if tot else 0.0
+        if ref >= 0:   # open: the held state's molality is fixed, the total moves with x
+            jbar, tot = states[ref][2], sum(conc)
+        else:
+            jbar = sum(v * j for v, (_, _, j, _) in zip(conc, states)) / tot if tot else 0.0
         if want_slope and tot:
             for v, (c, _, j, _) in zip(conc, states):
                 dm[c] -= LN10 * v * (j - jbar)
@@ -291,11 +304,14 @@ def solve_x(ot: OneTable, x: float, lg, lw: float, ions, sys_tot,
 def _start(ot: OneTable, ions, sys_tot) -> float:
     """A first x from the charge the spectators and systems leave to H+ or OH-: with
     every system at its lowest charge (an upper bound on H+) or at its highest (an
-    upper bound on OH-); -7 where neither bound is one-sided."""
+    upper bound on OH-); -7 where neither bound is one-sided.  An open system's total
+    is not known: it is left out."""
     z = ot.charges
     fixed = sum(zi * mi for zi, mi in zip(z, ions))
-    low = fixed + sum(t * min(z[s[0]] for s in st) for (_, st), t in zip(ot.systems, sys_tot))
-    high = fixed + sum(t * max(z[s[0]] for s in st) for (_, st), t in zip(ot.systems, sys_tot))
+    closed = [(st, t) for (_, st), t, ref in zip(ot.systems, sys_tot,
+                                                 ot.held or (-1,) * len(sys_tot)) if ref < 0]
+    low = fixed + sum(t * min(z[s[0]] for s in st) for st, t in closed)
+    high = fixed + sum(t * max(z[s[0]] for s in st) for st, t in closed)
     if low < 0:
         return math.log10(-low)
     if high > 0:
@@ -328,22 +344,32 @@ def _anderson(v, g, prev):
 
 
 def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
-                     x0: float | None = None):
+                     x0: float | None = None, held: tuple = (), v0=None):
     """Solve one solution: ``row`` the batch totals (mol/L), ``per_molar`` mol/kg per
-    mol/L.  Returns (x molal, molalities, lg, (φ, a_w, I), rounds, converged)."""
+    mol/L; an open table (:func:`open_table`) takes ``held``, the held state's mol/L of
+    each of its open systems in order.  ``x0`` and ``v0`` start x and the coefficients
+    (log10 γ of every column, then log10 a_w: a nearby solution's); a start only saves
+    rounds, the test that ends them is the same.  Returns (x molal, molalities, lg,
+    (φ, a_w, I), rounds, converged)."""
     ions = [0.0] * ot.n
     for c, b in ot.ions:
         ions[c] += row[b] * per_molar
     sys_tot = [row[b] * per_molar for b, _ in ot.systems]
+    if held:
+        opened = [k for k, ref in enumerate(ot.held) if ref >= 0]
+        for k, v in zip(opened, held):
+            sys_tot[k] = v * per_molar
     n = ot.n
-    v = [0.0] * (n + 1)         # log10 γ of every column, then log10 a_w
+    # log10 γ of every column, then log10 a_w
+    v = [0.0] * (n + 1) if v0 is None else list(v0)
     x = _start(ot, ions, sys_tot) if x0 is None else x0
     prev = None
     moved = last = 1.0
+    first_tol = FIRST_X_TOL if v0 is None else WARM_X_TOL
     for rounds in range(1, ONE_ROUNDS + 1):
         # early rounds need x no closer than their coefficients are settled; v holds
         # log10 a_w after the n coefficients, which the x-solve does not read
-        tol = FIRST_X_TOL if rounds == 1 else max(X_STEP_TOL, ROUND_X_TOL * moved)
+        tol = first_tol if rounds == 1 else max(X_STEP_TOL, ROUND_X_TOL * moved)
         x, m = solve_x(ot, x, v, v[n], ions, sys_tot, tol)
         ln, phi, aw, ionic = model.evaluate(m)
         g = [a / LN10 for a in ln]
@@ -374,12 +400,38 @@ def one_table(lay, tab, pkw: float, hydroxides: tuple = (), salts: tuple = ()
     return ot
 
 
-def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: float):
+_OPEN: dict = {}
+
+
+def open_table(ot: OneTable, held: tuple) -> OneTable | None:
+    """``ot`` with some systems open (``held``: per system the place of its held state
+    among its states, -1 closed): each open system's held state stays at a given
+    molality and its total follows x.  None where an open system forms a salt (the
+    held path takes no solids).  Cached beside ``ot``."""
+    key = (id(ot), held)
+    hit = _OPEN.get(key)
+    if hit is not None and hit[0] is ot:
+        return hit[1]
+    got = None
+    if not any(held[k] >= 0 for k, _ in ot.salts):
+        step = None if ot.pairs or ot.solids or ot.salts else _compile_step(
+            ot.n, list(ot.systems), ot.pkw, ot.zpos, ot.zneg, held)
+        got = replace(ot, held=held, step=step)
+    if len(_OPEN) >= 512:
+        _OPEN.clear()
+    _OPEN[key] = (ot, got)
+    return got
+
+
+def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: float,
+                x0: float | None = None, held: tuple = (), v0=None):
     """The :class:`~carboy.model.solver.outer.Outcome` of one solution (``row`` its batch
     totals, mol/L) as the vectorized path gives it: concentrations in mol/L, x = log10
-    [H+] in mol/L, the Pitzer model's (``model``) warnings at the composition."""
+    [H+] in mol/L, the Pitzer model's (``model``) warnings at the composition.  ``x0``
+    (log10 m(H+), mol/kg), ``held`` and ``v0``: see :func:`solve_one_pitzer`."""
     w = water_kg_per_l
-    x, m, lg, (phi, aw, ionic), rounds, ok = solve_one_pitzer(ot, scalar, row, 1.0 / w)
+    x, m, lg, (phi, aw, ionic), rounds, ok = solve_one_pitzer(ot, scalar, row, 1.0 / w, x0,
+                                                             held, v0)
     table = np.array([m]) * w
     alpha, ceff = [], []
     for _, states in ot.systems:
