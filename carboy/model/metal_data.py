@@ -3,8 +3,10 @@
 The records here are what :mod:`carboy.model.metals` computes with and what the solver
 (:mod:`carboy.model.solver.metal_terms`) lays out: each metal cation's mononuclear hydroxo
 complexes (``log *beta_n`` of M(z+) + n H2O = M(OH)n(z-n) + n H+), the hydroxide or oxide
-that precipitates (``log *Ks`` of solid + z H+ = M(z+) + H2O's), and the salts of a cation
-with the anion of an acid-base system whose solubility product ``planning.toml`` holds.
+that precipitates (``log *Ks`` of solid + z H+ = M(z+) + H2O's), the salts of a cation
+with the anion of an acid-base system whose solubility product ``planning.toml`` holds,
+and the complexes of a cation with one state of a system (CaSO4°, MgSO4° ...: the
+``ion_pairs.toml`` records that ``metals.toml`` names under ``complexes``).
 Every constant carries its source and status (checked by the one provenance check).
 The constants are for 25 °C and I = 0.
 """
@@ -28,7 +30,7 @@ PKW25 = pkw(25.0)
 """pKw at 25 °C (IAPWS R11-07), the default and the conversion of OH- solubility products."""
 STATUSES = frozenset({"FOUND", "MEMORY", "DERIVED"})
 
-__all__ = ["PKW25", "STATUSES", "Hydroxide", "HydroxoSpecies", "LigandSolid", "Metal",
+__all__ = ["PKW25", "STATUSES", "Complex", "Hydroxide", "HydroxoSpecies", "LigandSolid", "Metal",
            "MetalData", "charge_bounds", "metal", "metal_data", "unmodelled_cations"]
 
 
@@ -110,10 +112,26 @@ class LigandSolid:
 
 
 @dataclass(frozen=True)
+class Complex:
+    """A complex M + L_j = ML of a metal cation and one state of an acid-base system."""
+
+    label: str
+    cation: str
+    charge: int
+    ligand_system: str
+    ligand_index: int
+    """Which protonation state of the system binds (its index, most protonated first)."""
+    log_k: float
+    """log10 K of M + L_j = ML at 25 °C and I = 0."""
+    source: str
+
+
+@dataclass(frozen=True)
 class MetalData:
     metals: Mapping[str, Metal]
     ligand_solids: tuple[LigandSolid, ...]
     inert_cations: frozenset[str]
+    complexes: tuple[Complex, ...] = ()
 
 
 # ----------------------------------------------------------------------------- data
@@ -176,6 +194,39 @@ def _parse_ligand_solid(t: Table, ksp_by_name: Mapping, catalog) -> LigandSolid:
                        f"{ksp['source']} [{ksp['status']}]")
 
 
+def _complexes(top: Table, metals: Mapping[str, Metal], solids, catalog) -> tuple[Complex, ...]:
+    """The ``ion_pairs.toml`` records ``metals.toml`` names under ``complexes``: one metal
+    and one state of one acid-base system each, all of one system, one per cation, and
+    every cation with a salt of that system among them (the solver's search needs it)."""
+    from carboy.model.ion_pairs import ion_pair  # the pair records' one reader
+
+    out = []
+    for name in top.texts("complexes"):
+        try:
+            rec = ion_pair(name)
+        except InvalidInput:
+            raise top.fail("complexes", f"{name!r} is not in ion_pairs.toml") from None
+        metal_keys = [k for k in rec.formed_from if k in metals]
+        others = [k for k in rec.formed_from if k not in metals]
+        system = next((sy for sy in catalog.systems.values()
+                       if len(others) == 1 and others[0] in sy.species), None)
+        if (len(metal_keys) != 1 or system is None
+                or any(n != 1 for n in rec.formed_from.values())):
+            raise top.fail("complexes", f"{name!r} is not one modelled metal and one state "
+                                        "of an acid-base system")
+        out.append(Complex(name, metal_keys[0], rec.charge, system.key,
+                           system.species.index(others[0]), rec.log_k(25.0),
+                           f"{rec.source} [{rec.status}]"))
+    if len({c.ligand_system for c in out}) > 1 or len({c.cation for c in out}) < len(out):
+        raise top.fail("complexes", "one ligand system for every complex, one complex per cation")
+    systems = {c.ligand_system for c in out}
+    cations = {c.cation for c in out}
+    if any(s.ligand_system in systems and s.cation not in cations for s in solids):
+        raise top.fail("complexes", "a cation with a salt of the complexes' system needs "
+                                    "its complex too")
+    return tuple(out)
+
+
 @lru_cache(maxsize=1)
 def metal_data() -> MetalData:
     """The packaged ``metals.toml``, validated (cached); errors name file, entry and field."""
@@ -195,7 +246,8 @@ def metal_data() -> MetalData:
         raise top.fail("ligand_solids", "one solid in the dose per cation and ligand system")
     if any(s.cation not in metals for s in solids):
         raise top.fail("ligand_solids", "a salt's cation has no metal record")
-    return MetalData(MappingProxyType(metals), solids, frozenset(top.texts("inert_cations")))
+    return MetalData(MappingProxyType(metals), solids, frozenset(top.texts("inert_cations")),
+                     _complexes(top, metals, solids, catalog))
 
 
 def metal(key: str, data: MetalData | None = None) -> Metal:

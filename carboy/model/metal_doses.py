@@ -7,7 +7,7 @@ times the volume, ``V(n) · M(n)``, where M comes from :func:`carboy.model.metal
 at the metals' and ligands' totals after adding n: with the hydroxide absent a metal's
 charge is a fixed share of its total, with it present the dissolved metal is fixed per
 litre, so ``H(n) = a + b n + V M`` is piecewise linear in n (and smooth between, where a
-salt takes a ligand), and monotone for a reagent that moves the pH the right way.  Its
+salt or a complex takes a ligand), and monotone for a reagent that moves the pH the right way.  Its
 root is bracketed from 0 by doubling and found by the Illinois form of regula falsi
 (exact in one step on a straight piece).  The hydroxide the metals take is thereby in
 the dose: HCl 0.1 M + ZnCl2 0.05 M to pH 9 takes 0.200 mol NaOH per litre, not 0.100.
@@ -61,7 +61,8 @@ class MetalDoses:
         found = tuple(k for k in keys if k in data.metals)
         if not found:
             return None
-        systems = {s.ligand_system for s in data.ligand_solids if s.cation in found}
+        systems = ({s.ligand_system for s in data.ligand_solids if s.cation in found}
+                   | {c.ligand_system for c in data.complexes if c.cation in found})
         links = []
         for key in sorted(systems & set(keys)):
             s = catalog.systems[key]

@@ -230,14 +230,16 @@ def _finish_in_floats(left, k, kk, ua, *state, steps: int) -> None:
         ua[i] = _free_cation_floats(*args[:7], ks, kks, *args[7:], steps)
 
 
-def solve_free_cation(c, log_s, at: Salts) -> np.ndarray:
+def solve_free_cation(c, log_s, at: Salts, start=None) -> np.ndarray:
     """log10 of the free cation where dissolved + salts = total: safeguarded Newton (a
     bisection where a step leaves the bracket, or is not half the one two steps before:
     Newton can bounce about a kink, where a salt appears) at the points where some salt
     is present at the unsaturated level; the others keep that level.  Points that
     finish keep their value while the others go on (no compaction: its calls cost more
     than the arithmetic it saves); the last ``FLOAT_POINTS`` unfinished points go on
-    point by point in floats."""
+    point by point in floats.  ``start`` (log10 of the free cation, per point), where
+    given, is where the search begins (a solve at nearby terms: the complexes' search
+    on the free ligand), its bracket set by the excess there."""
     u = np.log10(c) - log_s
     if at.rows.size == 0:
         return u
@@ -248,6 +250,11 @@ def solve_free_cation(c, log_s, at: Salts) -> np.ndarray:
     ca, ls, lsat0, total = c[idx], log_s[idx], at.lsat0[:, idx], at.total[:, idx]
     ua, ea, sa = u[idx], e[idx], slope[idx]
     hi, lo = ua, ua - LIGAND_SPAN
+    if start is not None:
+        us = np.clip(start[idx], lo, hi)
+        es, ss = _excess(us, ls, ca, at, lsat0, total)
+        hi, lo = np.where(es >= 0, us, hi), np.where(es < 0, us, lo)
+        ua, ea, sa = us, es, ss
     last0 = last1 = np.full(ua.shape, np.inf)
     done = np.zeros(ua.shape, dtype=bool)
     for it in range(LIGAND_STEPS):

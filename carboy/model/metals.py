@@ -7,7 +7,8 @@ trial point.  For each metal with a total concentration it gives the dissolved s
 saturation, never assumed), the amount precipitated, the positive and negative charge
 the dissolved species carry, and the hydroxide the metal has bound (what it costs in a
 dose).  Calcium salts of fluoride, phosphate and sulfate are handled the same way, with
-the ligand's fractions at ``x`` supplied by the caller.  The data (``data/metals.toml``,
+the ligand's fractions at ``x`` supplied by the caller, and so are the complexes of a
+cation with a ligand state (CaSO4°, MgSO4° ..., :mod:`carboy.model.metal_complexes`).  The data (``data/metals.toml``,
 each constant with its source) is read by :mod:`carboy.model.metal_data`.
 
 Monotonicity.  At a fixed ionic strength the metal terms keep the solver's
@@ -41,15 +42,17 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from types import MappingProxyType
 
 import numpy as np
 
 from carboy.errors import InvalidInput
+from carboy.model.metal_complexes import complex_plan, with_complexes
 from carboy.model.metal_data import (  # noqa: F401 (re-exported: the public metal API)
     PKW25,
     STATUSES,
+    Complex,
     Hydroxide,
     HydroxoSpecies,
     LigandSolid,
@@ -91,7 +94,8 @@ class MetalState:
     ``oh_bound`` is the hydroxide bound in hydroxo complexes, hydroxides and basic salts
     (mol OH- per L): what the metals cost in a dose.  ``ligand_pos``, ``ligand_neg`` and
     ``ligand_iz2`` (all <= 0) correct the ligand systems' charge and c z² for the share
-    held in salts; ``ligand_removed`` is that share per system.
+    held in salts and complexes; ``ligand_removed`` is that share per system, and
+    ``ligand_complexed`` the complexes' part of it (still dissolved).
     """
 
     pos: np.ndarray
@@ -114,6 +118,8 @@ class MetalState:
     apos: np.ndarray | None = None
     aneg: np.ndarray | None = None
     aiz2: np.ndarray | None = None
+    ligand_complexed: Mapping[str, np.ndarray] = field(
+        default_factory=lambda: MappingProxyType({}))
 
 
 @dataclass(frozen=True)
@@ -190,8 +196,13 @@ def state_of(tot: Mapping[str, np.ndarray], x, ad, log_kw, ligands: Mapping[str,
     With ``detail`` False only the sums are worked out (the solver's trial points): a
     dict of the arrays named as :class:`MetalState`'s charge and derivative fields."""
     acc = _Accumulator(x.shape, detail)
+    cp = complex_plan(data, tuple(tot), ligands) if data.complexes else None
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        if cp is not None:
+            with_complexes(acc, cp, tot, x, ad, log_kw, ligands, precipitate, data)
         for key, c in tot.items():
+            if cp is not None and key in cp.cations:
+                continue
             m = data.metals[key]
             plan = salt_plan(m, data, ligands)
             if plan.dosed and precipitate:
@@ -209,7 +220,7 @@ class _Accumulator:
         self.rows = np.zeros((len(_SUMS),) + tuple(shape))
         self.detail = detail
         self.removed, self.dissolved, self.species = {}, {}, {}
-        self.precipitated, self.si = {}, {}
+        self.precipitated, self.si, self.complexed = {}, {}, {}
 
     @property
     def sums(self) -> dict:
@@ -219,7 +230,8 @@ class _Accumulator:
         ro = MappingProxyType
         return MetalState(**self.sums, ligand_removed=ro(self.removed),
                           dissolved=ro(self.dissolved), species=ro(self.species),
-                          precipitated=ro(self.precipitated), saturation_index=ro(self.si))
+                          precipitated=ro(self.precipitated), saturation_index=ro(self.si),
+                          ligand_complexed=ro(self.complexed))
 
 
 def _log_ratios(m: Metal, log_h_act: np.ndarray, ad: np.ndarray) -> np.ndarray:

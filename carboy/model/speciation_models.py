@@ -10,8 +10,9 @@ the Davies path's fast solve:
   (``solver.outer.solve_pitzer``), started from the Davies solution;
 * ``activity="davies"``: the Davies equation with the ion pairs of a spectator cation
   (NaSO4-, KSO4-; ``solver.outer.solve_with_pairs``; calcium and magnesium are modelled
-  metals, whose own hydrolysis gives CaOH+ and MgOH+, and CaSO4° and MgSO4° are not
-  modelled yet) where a pair-forming cation and ligand are both
+  metals, whose own hydrolysis gives CaOH+ and MgOH+, and whose sulfate complexes
+  CaSO4° and MgSO4° the metal path forms, ``metal_complexes``) where a pair-forming
+  cation and ligand are both
   present; without them (:func:`davies_pairs` False) it never comes here and stays on
   the charge-only fast paths;
 * ``activity="auto"``: the Davies equation with those pairs where the whole batch stays

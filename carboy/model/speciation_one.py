@@ -71,6 +71,8 @@ def one_fields(lay, row, x, ionic, iterations, pkw, a_dh, t_c, activity, metals=
     h = 10.0 ** x
     oh = 10.0 ** (tad - pkw - x)
     values = [h, oh, *(row[col] for col, _ in lay.py_ions)]
+    if metals is not None and metals.row is not None:
+        row = metals.row   # the ligand systems less what the metals' complexes hold
     fractions = {}
     xl, tl = x * LN10, tad * LN10
     ro = MappingProxyType

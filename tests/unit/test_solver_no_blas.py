@@ -10,6 +10,7 @@ from pathlib import Path
 import pytest
 
 import carboy.model.etheta
+import carboy.model.metal_complexes
 import carboy.model.metal_data
 import carboy.model.metal_salts
 import carboy.model.metals
@@ -23,7 +24,8 @@ import carboy.model.speciation_models
 
 SOLVER = sorted(Path(carboy.model.solver.__file__).parent.glob("*.py")) + [
     Path(m.__file__) for m in (carboy.model.speciation, carboy.model.metals,
-                               carboy.model.metal_salts, carboy.model.metal_data, carboy.model.speciation_models,
+                               carboy.model.metal_salts, carboy.model.metal_data,
+                               carboy.model.metal_complexes, carboy.model.speciation_models,
                                carboy.model.pitzer, carboy.model.etheta,
                                carboy.model.molality, carboy.model.pitzer_scalar,
                                carboy.model.pitzer_metals)]

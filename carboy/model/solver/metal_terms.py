@@ -3,7 +3,8 @@
 A solution's modelled metal ions (those ``data/metals.toml`` holds: Zn+2, Cu+2, Al+3,
 Ca+2 ...) are not spectators: at each trial log10[H+] the metals' dissolved species,
 solids present or absent by saturation, and the salts a cation forms with a ligand
-system of the solution (calcium with fluoride, phosphate, sulfate) come from
+system of the solution (calcium with fluoride, phosphate, sulfate), and the complexes
+of a cation with a state of one (CaSO4°, MgSO4° ...) come from
 :func:`carboy.model.metals.state_of`.  They join the charge sums: POS gains the metal
 species' positive charge and the ligand correction (<= 0), NEG their negative charge
 and its ligand correction, Σ c z² theirs; and the derivatives by x and by A·D join the
@@ -46,7 +47,8 @@ class MetalLayout:
     z: np.ndarray               # (Mt,) charge of the free ion
     qneg: np.ndarray            # (Mt,) most negative charge one of its species carries
     ligands: tuple[LigandLink, ...]
-    labels: tuple[str, ...]     # every metal species, metal after metal (free ion first)
+    labels: tuple[str, ...]     # every metal species, metal after metal (free ion first,
+                                # its complex with a linked system last)
     charges: tuple[int, ...]
     solids: tuple[str, ...]     # every solid a metal present may form
     data: MetalData
@@ -71,7 +73,9 @@ def compile_metals(catalog, cols: list[int], keys: tuple[str, ...], sys_keys: tu
     metals = [data.metals[k] for k in keys]
     links = []
     for key in sorted({s.ligand_system for s in data.ligand_solids
-                       if s.cation in keys and s.ligand_system in sys_keys}):
+                       if s.cation in keys and s.ligand_system in sys_keys}
+                      | {c.ligand_system for c in data.complexes
+                         if c.cation in keys and c.ligand_system in sys_keys}):
         system = catalog.systems[key]
         k = sys_keys.index(key)
         links.append(LigandLink(key, k, slices[k][0], system.strong_steps,
@@ -79,13 +83,17 @@ def compile_metals(catalog, cols: list[int], keys: tuple[str, ...], sys_keys: tu
     linked = {lk.key for lk in links}
     solids = [m.solid.name for m in metals] + [
         s.name for s in data.ligand_solids if s.cation in keys and s.ligand_system in linked]
+    labels, charges = [], []
+    for m in metals:
+        cxs = [c for c in data.complexes if c.cation == m.key and c.ligand_system in linked]
+        labels += [s.label for s in m.species] + [c.label for c in cxs]
+        charges += [s.charge for s in m.species] + [c.charge for c in cxs]
     return MetalLayout(
         cols=np.asarray(cols, dtype=int), keys=tuple(keys),
         z=np.array([m.charge for m in metals], dtype=float),
         qneg=np.array([m.max_negative_charge for m in metals], dtype=float),
-        ligands=tuple(links), labels=tuple(s.label for m in metals for s in m.species),
-        charges=tuple(s.charge for m in metals for s in m.species), solids=tuple(solids),
-        data=data)
+        ligands=tuple(links), labels=tuple(labels), charges=tuple(charges),
+        solids=tuple(solids), data=data)
 
 
 def ligands_at(ml: MetalLayout, e: np.ndarray, s0: np.ndarray, ceff: np.ndarray) -> dict:
@@ -134,8 +142,9 @@ def solved_state(ml: MetalLayout, metal: np.ndarray, x, ad, log_kw, ligands) -> 
 
 def dissolved_ligands(ml: MetalLayout, state: MetalState, conc: np.ndarray,
                       alpha: np.ndarray, ceff: np.ndarray, slices) -> None:
-    """Take what the salts hold out of the linked systems' species ``conc`` (S, N) and
-    totals ``ceff`` (K, N), in place (``alpha``: the (S, N) fractions)."""
+    """Take what the salts and complexes hold out of the linked systems' species
+    ``conc`` (S, N), and what the salts hold out of their totals ``ceff`` (K, N: the
+    complexes stay dissolved), in place (``alpha``: the (S, N) fractions)."""
     for lk in ml.ligands:
         removed = state.ligand_removed.get(lk.key)
         if removed is None:
@@ -143,7 +152,8 @@ def dissolved_ligands(ml: MetalLayout, state: MetalState, conc: np.ndarray,
         a, b = slices[lk.k]
         conc[a:b] -= removed * alpha[a:b]
         np.maximum(conc[a:b], 0.0, out=conc[a:b])
-        ceff[lk.k] = np.maximum(ceff[lk.k] - removed, 0.0)
+        salts = removed - state.ligand_complexed.get(lk.key, 0.0)
+        ceff[lk.k] = np.maximum(ceff[lk.k] - salts, 0.0)
 
 
 @dataclass(frozen=True)

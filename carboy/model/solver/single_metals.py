@@ -10,6 +10,13 @@ solid's saturation index is worked out as ``metals`` does.  When a solid of the 
 (a hydroxide, or a salt with ``in_dose``) is saturated there, :func:`solve_unsaturated`
 returns None and the caller takes the guaranteed path, which decides the solids;
 otherwise the root is that of the same equations the vectorized path solves.
+
+Complexes (CaSO4°, MgSO4° ..., ``metal_complexes``): an outer loop holds each complex's
+amount Q, takes it out of its cation's and its ligand system's totals (a charged one,
+AlSO4+, joins as a one-state system of its own charge), solves, and splits the ligand
+again at the root (F + Σ [ML] = total, by Newton in F: no solid is present on this
+path), until no amount moves more than ``COMPLEX_RTOL`` of itself, or the contraction of
+the last two rounds puts it within that of the fixed point.
 """
 
 from __future__ import annotations
@@ -24,6 +31,11 @@ from carboy.model.solver.constants import LN10
 from carboy.model.solver.layout import Layout, python_systems
 from carboy.model.solver.single import solve_one
 
+COMPLEX_RTOL = 1e-11
+"""The complexes' outer loop stops when no amount moved more than this share of itself."""
+COMPLEX_ROUNDS = 40
+"""Rounds of that loop before the vectorized path takes the solution."""
+
 
 @dataclass(frozen=True)
 class MetalPart:
@@ -33,6 +45,7 @@ class MetalPart:
     solids: dict               # every solid -> 0.0 (none is present)
     saturation_indices: dict   # every solid -> log10(IAP / K) (< 0 for those in the dose)
     dissolved: dict            # each metal -> its total
+    row: list | None = None    # the totals less what the complexes hold (None: none)
 
 
 @dataclass(frozen=True)
@@ -43,6 +56,8 @@ class _Compiled:
     metals: tuple      # (col, key, z, ((log *beta, n, q² - z²), ...), log Ks, solid name)
     salts: tuple       # (name, metal index, ligand column, state, its states, zl², zm²,
                        #  a, b, c, log Ksp, in the dose)
+    complexes: tuple = ()   # (metal index, ligand column, state, its states, log K,
+                            #  z_M² + z_L² - z_ML², the complex's charge)
 
 
 _COMPILED: dict = {}
@@ -77,17 +92,23 @@ def _compile(lay: Layout) -> _Compiled | None:
         metals.append((col, key, z, tuple((s.log_beta, s.n, s.charge ** 2 - z * z)
                                           for s in m.species), m.solid.log_ks, m.solid.name))
     links = {lk.key: lk for lk in ml.ligands}
-    salts = []
-    for s in ml.data.ligand_solids:
-        lk = links.get(s.ligand_system)
-        if s.cation not in ml.keys or lk is None:
-            continue
-        col, states = lay.py_systems[lk.k][:2]
-        zl, zm = lk.charges[s.ligand_index], ml.data.metals[s.cation].charge
-        salts.append((s.name, ml.keys.index(s.cation), col, s.ligand_index - lk.strong, states,
-                      zl * zl, zm * zm, s.cation_count, s.ligand_count, s.oh_count,
-                      s.log_ksp, s.in_dose))
-    return _Compiled(tuple(ladders), tuple(metals), tuple(salts))
+
+    def linked(entries):
+        """Each entry of a cation present with a linked system, with (metal index, the
+        system's column, the state among its kept ones, its states, z_M², z_L²)."""
+        for e in entries:
+            lk = links.get(e.ligand_system)
+            if e.cation in ml.keys and lk is not None:
+                col, states = lay.py_systems[lk.k][:2]
+                yield e, (ml.keys.index(e.cation), col, e.ligand_index - lk.strong, states,
+                          ml.data.metals[e.cation].charge ** 2, lk.charges[e.ligand_index] ** 2)
+
+    salts = [(s.name, i, col, idx, states, zl2, zm2, s.cation_count, s.ligand_count,
+              s.oh_count, s.log_ksp, s.in_dose)
+             for s, (i, col, idx, states, zm2, zl2) in linked(ml.data.ligand_solids)]
+    cxs = [(i, col, idx, states, c.log_k, float(zm2 + zl2 - c.charge ** 2), c.charge)
+           for c, (i, col, idx, states, zm2, zl2) in linked(ml.data.complexes)]
+    return _Compiled(tuple(ladders), tuple(metals), tuple(salts), tuple(cxs))
 
 
 def solve_unsaturated(lay: Layout, row, pkw: float, a_dh: float, *, max_iter: int):
@@ -103,8 +124,84 @@ def solve_unsaturated(lay: Layout, row, pkw: float, a_dh: float, *, max_iter: in
     if got is None:
         return None
     x, ionic, iterations = got
-    part = _metal_part(lay, comp, row, x, a_dh * davies_d_float(ionic), pkw)
+    held = None
+    if any(row[comp.metals[i][0]] > 0 and row[col] > 0 for i, col, *_ in comp.complexes):
+        got = _with_complexes(lay, comp, row, pkw, a_dh, max_iter, x, ionic)
+        if got is None:
+            return None
+        x, ionic, iterations, held = got
+    part = _metal_part(lay, comp, row, x, a_dh * davies_d_float(ionic), pkw, held)
     return None if part is None else (x, ionic, iterations, part)
+
+
+def _held_row(lay: Layout, comp: _Compiled, row, held):
+    """The totals less the complexes ``held`` (mol/L each), and the charged complexes
+    as one-state systems of their own (their amounts in columns after the row's)."""
+    out = list(row)
+    extra = []
+    for (i, col, _, _, _, _, zc), q in zip(comp.complexes, held):
+        out[comp.metals[i][0]] -= q
+        out[col] -= q
+        if zc:
+            extra += python_systems([len(out)], [[zc]], np.zeros((1, 1)), np.zeros((1, 1)))
+            out.append(q)
+    return out, tuple(extra)
+
+
+def _split(comp: _Compiled, row, x: float, ad: float) -> list:
+    """The complexes' amounts at the root (x, A·D) for the totals ``row``: Newton in F,
+    the ligand outside complexes, on F + Σ c_M k_M F / (S_M + k_M F) = total (rising
+    and concave in F: from F = total every step lands at or below the root)."""
+    log_h_act = x - ad
+    exp = math.exp
+    terms = []
+    for i, _, idx, states, log_k, dz2, _ in comp.complexes:
+        species = comp.metals[i][3]
+        s_h = sum(exp((lb - n * log_h_act + ad * d) * LN10) for lb, n, d in species)
+        k = 10.0 ** (log_k - ad * dz2) * (_fraction(states, idx, x, 2.0 * ad)
+                                          if idx >= 0 else 0.0)
+        terms.append((row[comp.metals[i][0]], k, s_h))
+    total = row[comp.complexes[0][1]]
+    f = total
+    for _ in range(100):
+        g, gp = f - total, 1.0
+        for c, k, s_h in terms:
+            den = s_h + k * f
+            g += c * k * f / den
+            gp += c * k * s_h / (den * den)
+        step = g / gp
+        f = max(f - step, 0.5 * f)
+        if abs(step) <= 1e-15 * total:
+            break
+    return [c * k * f / (s_h + k * f) for c, k, s_h in terms]
+
+
+def _with_complexes(lay: Layout, comp: _Compiled, row, pkw: float, a_dh: float,
+                    max_iter: int, x: float, ionic: float):
+    """The outer loop on the complexes' amounts, from the root without them."""
+    held = _split(comp, row, x, a_dh * davies_d_float(ionic))
+    iterations = 0
+    last = math.inf
+    for _ in range(COMPLEX_ROUNDS):
+        inner, extra = _held_row(lay, comp, row, held)
+        got = solve_one(lay, inner, pkw, a_dh, max_iter=max_iter, x0=x, i0=ionic,
+                        extra=comp.ladders + extra)
+        if got is None:
+            return None
+        x, ionic, its = got
+        iterations += its
+        new = _split(comp, row, x, a_dh * davies_d_float(ionic))
+        moved = max(abs(a - b) / max(abs(a), 1e-300) for a, b in zip(new, held))
+        # the amounts contract towards their fixed point by about moved / last a round:
+        # what is left to move is that ratio times this move, over one less the ratio.
+        # The root is returned with the amounts it was solved at (its charge balance
+        # exact, the complexes' mass action within COMPLEX_RTOL).
+        ratio = moved / last if 0.0 < last < math.inf else 1.0
+        if moved <= COMPLEX_RTOL or (ratio < 0.5 and moved * ratio / (1.0 - ratio)
+                                     <= COMPLEX_RTOL):
+            return x, ionic, iterations, held
+        held, last = new, moved
+    return None
 
 
 def _fraction(states, index: int, x: float, tad: float) -> float:
@@ -114,28 +211,35 @@ def _fraction(states, index: int, x: float, tad: float) -> float:
 
 
 def _metal_part(lay: Layout, comp: _Compiled, row, x: float, ad: float,
-                pkw: float) -> MetalPart | None:
-    """The metals at the root (x, A·D), or None where a solid of the dose is saturated."""
+                pkw: float, held=None) -> MetalPart | None:
+    """The metals at the root (x, A·D), or None where a solid of the dose is saturated;
+    ``held``: the complexes' amounts (None: none form)."""
     log_h_act, log_oh_act = x - ad, -pkw - x + ad
     values, si, dissolved, log_free = [], {}, {}, []
     exp, log10 = math.exp, math.log10
-    for col, key, z, species, log_ks, solid in comp.metals:
-        c = row[col]
+    inner = row if held is None else _held_row(lay, comp, row, held)[0][:len(row)]
+    bound = dict.fromkeys(range(len(comp.metals)))
+    for (i, *_), q in zip(comp.complexes, held or [0.0] * len(comp.complexes)):
+        bound[i] = q   # each complex after its cation's hydroxo species
+    for m, (col, key, z, species, log_ks, solid) in enumerate(comp.metals):
+        c = inner[col]
         ws = [exp((lb - n * log_h_act + ad * dz2) * LN10) for lb, n, dz2 in species]
         free = c / sum(ws)
         values.extend([free * w for w in ws])
-        dissolved[key] = c
+        if bound[m] is not None:
+            values.append(bound[m])
+        dissolved[key] = row[col]
         u = log10(free) if free > 0 else -math.inf
         log_free.append(u)
         si[solid] = u - (log_ks + z * log_h_act + ad * z * z)
         if si[solid] >= 0:
             return None
     for name, i, col, idx, states, zl2, zm2, a, b, oh, log_ksp, in_dose in comp.salts:
-        lig = row[col] * (_fraction(states, idx, x, 2.0 * ad) if idx >= 0 else 0.0)
+        lig = inner[col] * (_fraction(states, idx, x, 2.0 * ad) if idx >= 0 else 0.0)
         log_lig = (log10(lig) if lig > 0 else -math.inf) - ad * zl2
         si[name] = a * (log_free[i] - ad * zm2) + b * log_lig + oh * log_oh_act - log_ksp
         if in_dose and si[name] >= 0:
             return None
     solids = lay.metals.solids
     return MetalPart(values, dict.fromkeys(solids, 0.0), {n: si[n] for n in solids},
-                     dissolved)
+                     dissolved, None if held is None else inner)
