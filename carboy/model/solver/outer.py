@@ -9,7 +9,8 @@ depend on the charge and the ionic strength alone (Davies).  Two things need mor
   set: MgOH+), which take part of a spectator cation and of a ligand (a state of a
   system, or OH-).  In practice NaSO4- and KSO4-: the file's CaOH+, MgOH+, CaSO4° and
   MgSO4° need calcium or magnesium as spectators, and those are modelled metals (a
-  layout with metals takes no pairs; CaSO4° and MgSO4° are not modelled yet).
+  layout with metals takes no pairs; CaSO4° and MgSO4° form on the metal path instead,
+  :mod:`carboy.model.metal_complexes`).
 
 Both go the same way: an outer loop holds per point a term of each state (``shift``,
 log10, added to the state's weight: ``problem.Amounts.shift``), an effective pKw and a
