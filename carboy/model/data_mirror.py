@@ -66,11 +66,9 @@ def _write_all() -> None:  # python -m carboy.model.data_mirror
     import tomllib
     from pathlib import Path
 
-    from carboy.model.datafiles import DATA_FILES
-
     folder = Path(__file__).with_name("data") / MIRROR_FOLDER
     folder.mkdir(exist_ok=True)
-    for name in DATA_FILES:
+    for name in sorted(p.name for p in folder.parent.glob("*.toml")):
         text = (folder.parent / name).read_text(encoding="utf-8")
         out = mirror_of(text, tomllib.loads(text))
         target = folder / mirror_name(name)

@@ -106,6 +106,10 @@ def _newton_step(pr: Problem, xa, ia, cold=None):
             inew = np.where(far, g, inew)
             i_ok = i_ok & ~far
             exact = exact & ~far
+    if pr.lay.metals is not None and pr.lay.metals.complexes:
+        # the metals' free ligand comes from a search of its own (to its tolerance, not
+        # to the last bit): the quadratic prediction of two steps cannot be trusted
+        exact = np.zeros_like(exact)
     return big_f, dx, inew, i_ok, log_kw, exact
 
 

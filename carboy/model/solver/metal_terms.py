@@ -52,6 +52,7 @@ class MetalLayout:
     charges: tuple[int, ...]
     solids: tuple[str, ...]     # every solid a metal present may form
     data: MetalData
+    complexes: int = 0          # metal-ligand complexes among the labels
 
 
 def metal_keys(ions: dict[str, int]) -> tuple[str, ...]:
@@ -83,17 +84,18 @@ def compile_metals(catalog, cols: list[int], keys: tuple[str, ...], sys_keys: tu
     linked = {lk.key for lk in links}
     solids = [m.solid.name for m in metals] + [
         s.name for s in data.ligand_solids if s.cation in keys and s.ligand_system in linked]
-    labels, charges = [], []
+    labels, charges, n_complexes = [], [], 0
     for m in metals:
         cxs = [c for c in data.complexes if c.cation == m.key and c.ligand_system in linked]
         labels += [s.label for s in m.species] + [c.label for c in cxs]
         charges += [s.charge for s in m.species] + [c.charge for c in cxs]
+        n_complexes += len(cxs)
     return MetalLayout(
         cols=np.asarray(cols, dtype=int), keys=tuple(keys),
         z=np.array([m.charge for m in metals], dtype=float),
         qneg=np.array([m.max_negative_charge for m in metals], dtype=float),
         ligands=tuple(links), labels=tuple(labels), charges=tuple(charges),
-        solids=tuple(solids), data=data)
+        solids=tuple(solids), data=data, complexes=n_complexes)
 
 
 def ligands_at(ml: MetalLayout, e: np.ndarray, s0: np.ndarray, ceff: np.ndarray) -> dict:
