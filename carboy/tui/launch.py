@@ -18,7 +18,6 @@ from carboy.tui.cli.kit import clean_output
 from carboy.tui.cli.main import build_parser, command_named
 from carboy.tui.edge import EXIT_BAD_INPUT, EXIT_OK, run_guarded
 
-
 ONE_BLAS_THREAD = ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS")
 """Set to 1 (unless already set) before numpy is first imported: carboy makes no BLAS
 calls (the solver's rule), and OpenBLAS's pool of spinning threads cost a cold start

@@ -101,7 +101,7 @@ def format_report(r: dict) -> str:
         lines.append(f"{label:<14}{c:>12.4e}{kg}   {g:>6.3f}")
     if r["fractions"]:
         lines.append("")
-        lines.append("fraction of each system in each form")
+        lines.append("protonation forms of each system (the part not in pairs or complexes)")
         for key, fr in r["fractions"].items():
             parts = "  ".join(f"{lab} {v:.3g}" for lab, v in fr.items())
             lines.append(f"  {key:<12} {parts}")
