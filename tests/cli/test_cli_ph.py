@@ -109,3 +109,21 @@ def test_installed_command_runs():
                           capture_output=True, text=True)
     assert proc.returncode == 0, proc.stderr
     assert json.loads(proc.stdout)["pH"] == pytest.approx(2.04, abs=0.02)
+
+
+def test_solids_that_form_are_reported_and_balance_the_metal(capsys):
+    """CaCl2 and Na2SO4 at 50 mM each are past gypsum's solubility (about 15 mM of
+    calcium in gypsum-saturated water: phreeqc.dat 15.09 mmol/kgw; CRC, 0.205 % at
+    25 °C, from memory): the solid is listed, at saturation index 0, and solid plus
+    dissolved calcium is the 50 mM put in."""
+    code, out, err = run(capsys, "ph", "CaCl2=0.05M", "Na2SO4=0.05M", "--json")
+    assert code == 0, err
+    data = json.loads(out)
+    gypsum = data["solids_molar"]["CaSO4·2H2O (gypsum)"]
+    assert 0.025 < gypsum < 0.035
+    assert abs(data["saturation_indices"]["CaSO4·2H2O (gypsum)"]) < 1e-6
+    assert gypsum + data["dissolved_metals_molar"]["Ca+2"] == pytest.approx(0.05, rel=1e-9)
+    code, out, err = run(capsys, "ph", "CaCl2=0.05M", "Na2SO4=0.05M")
+    assert "solids formed" in out and "gypsum" in out
+    code, out, err = run(capsys, "ph", "CaCl2=0.001M", "Na2SO4=0.001M")
+    assert code == 0 and "solids formed" not in out

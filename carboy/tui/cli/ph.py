@@ -65,6 +65,9 @@ def build_result(args) -> dict:
         "molality": dict(res.molality),
         "fractions": {k: dict(v) for k, v in res.fractions.items()},
         "activity_coefficients": dict(res.activity_coefficients),
+        "solids_molar": dict(res.solids),
+        "saturation_indices": dict(res.saturation_indices),
+        "dissolved_metals_molar": dict(res.dissolved_metals),
         "warnings": list(res.warnings),
         "converged": res.converged,
         "iterations": res.iterations,
@@ -99,6 +102,12 @@ def format_report(r: dict) -> str:
         g = r["activity_coefficients"].get(label, 1.0)
         kg = f"{molal[label]:>12.4e}" if molal else ""
         lines.append(f"{label:<14}{c:>12.4e}{kg}   {g:>6.3f}")
+    formed = {name: v for name, v in r["solids_molar"].items() if v > 0}
+    if formed:
+        lines.append("")
+        lines.append("solids formed (mol of formula units per L)")
+        for name, v in sorted(formed.items(), key=lambda kv: -kv[1]):
+            lines.append(f"  {name:<30}{v:>12.4e}")
     if r["fractions"]:
         lines.append("")
         lines.append("protonation forms of each system (the part not in pairs or complexes)")
