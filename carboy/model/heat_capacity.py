@@ -177,9 +177,11 @@ def salts_of(species_molar: Mapping[str, float], charges: Mapping[str, int]
     rest, by ``cation+anion`` or label).
 
     Every cation is paired with every anion in proportion to their equivalents; H+ with
-    OH- is water and is left out.
+    OH- is water and is left out.  A neutral complex of a salt's own ions (MgSO4°,
+    CaSO4°) counts as that salt.
     """
     pairs, neutral = _tables()
+    salt_names = {s.name for s in pairs.values()}
     cations = {k: c * charges[k] for k, c in species_molar.items() if charges.get(k, 0) > 0
                and c > 0}
     anions = {k: -c * charges[k] for k, c in species_molar.items() if charges.get(k, 0) < 0
@@ -207,6 +209,8 @@ def salts_of(species_molar: Mapping[str, float], charges: Mapping[str, int]
             continue
         if lab in neutral:
             known[neutral[lab].name] = known.get(neutral[lab].name, 0.0) + c
+        elif lab in salt_names:
+            known[lab] = known.get(lab, 0.0) + c
         elif (m := _label_mass(lab)) is not None:
             other[lab] = c * m
     return known, other

@@ -41,6 +41,14 @@ def test_salts_are_paired_by_equivalents():
     assert other == {}
 
 
+def test_a_neutral_complex_of_a_salts_ions_counts_as_that_salt():
+    """MgSO4° (the metal path's complex) is magnesium sulfate in solution, not an unknown
+    solute counted as water."""
+    species = {"Mg+2": 0.07, "SO4-2": 0.07, "MgSO4": 0.03}
+    known, other = hc.salts_of(species, {"Mg+2": 2, "SO4-2": -2, "MgSO4": 0})
+    assert known == pytest.approx({"MgSO4": 0.1}) and other == {}
+
+
 def test_a_pair_without_parameters_counts_as_water_and_is_named():
     species = {"Cs+": 1.0, "Cl-": 1.0}
     found = hc.batch_heat_capacity(species, {"Cs+": 1, "Cl-": -1}, 1.0, 1100.0, 25.0)
