@@ -246,6 +246,12 @@ def _start(ps: list[_Cation], total: np.ndarray) -> np.ndarray:
     w = sum(np.exp(LN10 * (p.rc0 - p.log_s)) for p in ps)
     b = 1.0 + (c - total) * w
     f = 2.0 * total / (b + np.sqrt(b * b + 4.0 * w * total))
+    # where a hydroxide caps the cation, [ML] = 10^(uh + rc0) F: F = total / (1 + that
+    # sum); the root is at or above both (each regime only lowers what the complexes
+    # take), so the larger is the start (exact for one cation)
+    capped = sum(np.where(p.has, np.exp(LN10 * np.minimum(p.uh + p.rc0, 300.0)), 0.0)
+                 for p in ps)
+    f = np.maximum(f, total / (1.0 + capped))
     return np.log10(np.where(total > 0, f, 1.0))
 
 
