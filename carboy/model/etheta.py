@@ -23,6 +23,7 @@ never used: the grid is then computed.
 
 from __future__ import annotations
 
+import math
 from functools import lru_cache
 from importlib import resources
 
@@ -109,24 +110,40 @@ def _table():
     return u[0], u, j, dj, jp, djp
 
 
-def _hermite(t, h, f0, d0, f1, d1):
-    t2, t3 = t * t, t * t * t
-    return ((2 * t3 - 3 * t2 + 1) * f0 + (t3 - 2 * t2 + t) * h * d0
-            + (-2 * t3 + 3 * t2) * f1 + (t3 - t2) * h * d1)
+@lru_cache(maxsize=1)
+def _cells() -> np.ndarray:
+    """Per grid cell k, (2, 4): for J and for J', the node values and the slopes times
+    the step at k and k + 1, in the order of the Hermite basis (h00, h10, h01, h11)."""
+    _, _, j, dj, jp, djp = _table()
+    h = GRID_STEP
+    rows = [np.stack([f[:-1], h * d[:-1], f[1:], h * d[1:]], axis=1) for f, d in
+            ((j, dj), (jp, djp))]
+    return np.ascontiguousarray(np.stack(rows, axis=1))
+
+
+def _interpolate(x: np.ndarray) -> np.ndarray:
+    """(2, M) J and J' at ``x`` (M,), every x in [X_MIN, X_MAX): cubic Hermite in ln x."""
+    cells = _cells()
+    s = (np.log(x) - math.log(X_MIN)) / GRID_STEP
+    k = np.minimum(s.astype(int), cells.shape[0] - 1)
+    t = s - k
+    t2 = t * t
+    t3 = t2 * t
+    basis = np.stack([2.0 * t3 - 3.0 * t2 + 1.0, t3 - 2.0 * t2 + t, 3.0 * t2 - 2.0 * t3,
+                      t3 - t2], axis=1)
+    return np.einsum("mi,mji->jm", basis, cells[k])
 
 
 def j_function(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """J(x) and J'(x) for an array of x >= 0 (taken as 0 below ``X_MIN``)."""
     x = np.asarray(x, dtype=float)
-    u0, u, j, dj, jp, djp = _table()
+    if x.size and X_MIN <= float(x.min()) and float(x.max()) < X_MAX:
+        out = _interpolate(x.ravel())
+        return out[0].reshape(x.shape), out[1].reshape(x.shape)
     j_out, jp_out = np.zeros_like(x), np.zeros_like(x)
     inside = (x >= X_MIN) & (x < X_MAX)
     if inside.any():
-        ux = np.log(x[inside])
-        k = np.minimum(((ux - u0) / GRID_STEP).astype(int), len(u) - 2)
-        t = (ux - u[k]) / GRID_STEP
-        j_out[inside] = _hermite(t, GRID_STEP, j[k], dj[k], j[k + 1], dj[k + 1])
-        jp_out[inside] = _hermite(t, GRID_STEP, jp[k], djp[k], jp[k + 1], djp[k + 1])
+        j_out[inside], jp_out[inside] = _interpolate(x[inside])
     outside = x >= X_MAX   # below X_MIN (I < 1e-13) the terms are negligible and left 0
     if outside.any():
         jo, jpo, _ = j_integral(x[outside])
@@ -146,19 +163,19 @@ def etheta(pairs, ionic: np.ndarray, aphi: float) -> dict:
     if products:
         xcon = 6.0 * aphi * np.sqrt(ionic)
         x = np.multiply.outer(np.array(products, dtype=float), xcon)
-        j, jp = j_function(x.ravel())
-        j, jp = j.reshape(x.shape), jp.reshape(x.shape)
+        j, jp = j_function(x)
+        xjp = x * jp
         at = {prod: k for k, prod in enumerate(products)}
+        inv = 1.0 / ionic
     for zi, zj in pairs:
         if zi == zj:
             out[(zi, zj)] = (np.zeros_like(ionic), np.zeros_like(ionic))
             continue
-        k = [at[zi * zj], at[zi * zi], at[zj * zj]]
-        bracket = j[k[0]] - 0.5 * j[k[1]] - 0.5 * j[k[2]]
-        dbracket = x[k[0]] * jp[k[0]] - 0.5 * x[k[1]] * jp[k[1]] - 0.5 * x[k[2]] * jp[k[2]]
+        a, b, c = at[zi * zj], at[zi * zi], at[zj * zj]
         zz = zi * zj
-        eth = zz * bracket / (4.0 * ionic)
-        out[(zi, zj)] = (eth, -eth / ionic + zz * dbracket / (8.0 * ionic * ionic))
+        eth = (0.25 * zz) * (j[a] - 0.5 * (j[b] + j[c])) * inv
+        out[(zi, zj)] = (eth, (-eth + (0.125 * zz) * (xjp[a] - 0.5 * (xjp[b] + xjp[c])) * inv)
+                         * inv)
     return out
 
 

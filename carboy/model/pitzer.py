@@ -52,9 +52,8 @@ import numpy as np
 
 from carboy.errors import InvalidInput
 from carboy.model import water
-from carboy.model.etheta import etheta
-from carboy.model.etheta import rows_times as _mm
 from carboy.model.pitzer_data import load_pitzer_data, parameter_arrays
+from carboy.model.pitzer_sums import ArraySums, charge_pairs
 
 I_MAX_MOLAL = 6.0
 """Above this ionic strength (mol/kg) the parameter set is outside its fitted range."""
@@ -97,40 +96,6 @@ def ph_from_activity(activity_h, phimac=0.0) -> np.ndarray:
     """
     a = np.asarray(activity_h, dtype=float)
     return -(np.log(a) + np.asarray(phimac, dtype=float)) / _LN10
-
-
-def _g(x: np.ndarray) -> np.ndarray:
-    """g(x) = 2[1 - (1 + x) e^-x] / x², with its series near 0."""
-    xs = np.where(x < 1e-3, 1.0, x)
-    direct = 2.0 * (1.0 - (1.0 + xs) * np.exp(-xs)) / (xs * xs)
-    return np.where(x < 1e-3, 1.0 - 2.0 * x / 3.0 + x * x / 4.0, direct)
-
-
-def _gp(x: np.ndarray) -> np.ndarray:
-    """g'(x) = -2[1 - (1 + x + x²/2) e^-x] / x², with its series near 0."""
-    xs = np.where(x < 1e-3, 1.0, x)
-    direct = -2.0 * (1.0 - (1.0 + xs + 0.5 * xs * xs) * np.exp(-xs)) / (xs * xs)
-    return np.where(x < 1e-3, -(x / 3.0 - x * x / 4.0), direct)
-
-
-def _binary_terms(p) -> list[tuple[float | None, np.ndarray]]:
-    """β0 and the β1, β2 matrices grouped by α: [(α or None for β0, matrix (nc, na))]."""
-    terms: list[tuple[float | None, np.ndarray]] = [(None, p.b0)]
-    for beta, alpha in ((p.b1, p.alpha1), (p.b2, p.alpha2)):
-        for a in np.unique(alpha):
-            terms.append((float(a), np.where(alpha == a, beta, 0.0)))
-    return [(a, mat) for a, mat in terms if np.any(mat)]
-
-
-def _charge_pairs(zs: np.ndarray) -> list[tuple[int, int, np.ndarray]]:
-    """Charge classes (a < b) among like-signed ions, with their symmetric pair masks."""
-    out = []
-    for a in np.unique(zs):
-        for b in np.unique(zs):
-            if a < b:
-                sel = np.outer(zs == a, zs == b)
-                out.append((int(a), int(b), (sel | sel.T).astype(float)))
-    return out
 
 
 @dataclass(frozen=True)
@@ -202,21 +167,18 @@ class PitzerModel:
         self._ref = self._all.index(ref_a)
         tk = self.temperature_c + 273.15
         self._p = p = parameter_arrays(data, self._all, self._z.astype(int), tk)
-        self._terms = _binary_terms(p)
-        self._pairs_c = _charge_pairs(self._z[p.cat])
-        self._pairs_a = _charge_pairs(-self._z[p.ani])
-        nc, na = len(p.cat), len(p.ani)
-        self._has_psi = bool(p.psi_c.any() or p.psi_a.any())
-        self._psi_c_ca = p.psi_c.reshape(nc, nc * na).T                    # m_c' m_a -> cation
-        self._psi_a_ca = p.psi_a.transpose(0, 2, 1).reshape(na, nc * na).T  # m_c m_a' -> anion
-        self._psi_a_aa = p.psi_a.reshape(na * na, nc)                       # m_a m_a' -> cation
-        self._psi_c_cc = p.psi_c.reshape(nc * nc, na)                       # m_c m_c' -> anion
+        self._pairs_c = charge_pairs(self._z[p.cat])
+        self._pairs_a = charge_pairs(-self._z[p.ani])
+        self._z2, self._az = self._z * self._z, np.abs(self._z)
         self._b = data.b
         self._aphi = water.debye_huckel_a(self.temperature_c) * _LN10 / 3.0
         self._a_davies = water.debye_huckel_a(self.temperature_c)
         kcl = [data.lookup(k, ref_c, ref_a) for k in ("beta0", "beta1", "cphi")]
         self._kcl = tuple(p.at(tk) if p else 0.0 for p in kcl)
         self._fallback_mask = np.array([s in self.fallback for s in self._all])
+        zf = self._z[self._fallback_mask]
+        self._davies_z2 = -_LN10 * self._a_davies * zf * zf
+        self._array = ArraySums(self)
         self._static_warnings = self._describe_static()
 
     def _describe_static(self) -> list[str]:
@@ -272,107 +234,24 @@ class PitzerModel:
         return self._coefficients(m)[:4]
 
     def _coefficients(self, m: np.ndarray):
-        p, z = self._p, self._z
-        ionic = 0.5 * (m * z * z).sum(axis=1)
-        big_z = (m * np.abs(z)).sum(axis=1)
+        ionic = 0.5 * np.einsum("ns,s->n", m, self._z2)
+        big_z = np.einsum("ns,s->n", m, self._az)
         total = m.sum(axis=1)
         i_safe = np.maximum(ionic, _TINY_I)
         root = np.sqrt(i_safe)
-        mc, ma, mn = m[:, p.cat], m[:, p.ani], m[:, p.neu]
-        ln_g, osm, f_dh = self._sums(mc, ma, mn, i_safe, root, big_z)
-        ln_gamma = np.zeros_like(m)
-        ln_gamma[:, p.cat], ln_gamma[:, p.ani], ln_gamma[:, p.neu] = ln_g
-        phimac = ln_gamma[:, self._ref] - self._ln_gamma_kcl(f_dh, ionic, root)
+        ln_gamma, osm, f_dh, g2, gp2 = self._array.sums(m, i_safe, root, big_z, self._aphi,
+                                                        self._b)
+        b0, b1, cphi = self._kcl   # ln γ±(KCl) of pure KCl at m = I (same Debye–Hückel)
+        kcl = f_dh + ionic * (2.0 * b0 + b1 * (2.0 * g2 + gp2)) + 1.5 * cphi * ionic**2
+        phimac = ln_gamma[:, self._ref] - kcl
         if self.fallback and self.fallback_form == "davies":
-            zf = z[self._fallback_mask]
             dav = root / (1.0 + root) - 0.3 * ionic
-            ln_gamma[:, self._fallback_mask] = -_LN10 * self._a_davies * np.outer(dav, zf * zf)
+            ln_gamma[:, self._fallback_mask] = np.multiply.outer(dav, self._davies_z2)
         if self.scale == "macinnes":
-            ln_gamma = ln_gamma + np.outer(phimac, z)
+            ln_gamma += np.multiply.outer(phimac, self._z)
         osmotic = np.where(total > 0, 1.0 + 2.0 * osm / np.where(total > 0, total, 1.0), 1.0)
         aw = np.exp(-osmotic * total * WATER_KG_PER_MOL)
         return ln_gamma[:, :len(self.species)], osmotic, aw, ionic, phimac
-
-    def _ln_gamma_kcl(self, f_dh, ionic, root) -> np.ndarray:
-        """ln γ±(KCl) of a pure KCl solution of molality ``ionic`` (same Debye–Hückel term)."""
-        b0, b1, cphi = self._kcl
-        x = 2.0 * root
-        return f_dh + ionic * (2.0 * b0 + b1 * (2.0 * _g(x) + _gp(x))) + 1.5 * cphi * ionic**2
-
-    def _like(self, mx, theta, pairs, ionic, eth):
-        """Like-signed mixing: Σ_j m_j 2Φ_ij (N, k), Σ_i<j m m Φ'_ij and Σ_i<j m m Φ^φ_ij."""
-        t = _mm(mx, theta)
-        lin, fprime, osm = 2.0 * t, np.zeros_like(ionic), 0.5 * (mx * t).sum(axis=1)
-        for za, zb, mask in pairs:
-            e, ep = eth[(za, zb)]
-            u = _mm(mx, mask)
-            half = 0.5 * (mx * u).sum(axis=1)
-            lin = lin + 2.0 * e[:, None] * u
-            fprime = fprime + ep * half
-            osm = osm + (e + ionic * ep) * half
-        return lin, fprime, osm
-
-    def _binary(self, mc, ma, ionic, root, big_z):
-        """Cation–anion sums: Σ_a m_a(2B + ZC) per cation and per anion, Σ m m B', the
-        osmotic Σ m m (B^φ + ZC) and Σ m m C."""
-        acc_c, acc_a = np.zeros_like(mc), np.zeros_like(ma)
-        fprime, osm = np.zeros_like(ionic), np.zeros_like(ionic)
-        for alpha, mat in self._terms:
-            q = _mm(ma, mat.T)
-            r = _mm(mc, mat)
-            both = (mc * q).sum(axis=1)
-            if alpha is None:
-                f_gamma, f_phi = 1.0, 1.0
-            else:
-                x = alpha * root
-                f_gamma, f_phi = _g(x), np.exp(-x)
-                fprime = fprime + _gp(x) / ionic * both
-                f_gamma = f_gamma[:, None]
-            acc_c = acc_c + 2.0 * f_gamma * q
-            acc_a = acc_a + 2.0 * f_gamma * r
-            osm = osm + f_phi * both
-        qc = _mm(ma, self._p.c.T)
-        rc = _mm(mc, self._p.c)
-        csum = (mc * qc).sum(axis=1)
-        acc_c = acc_c + big_z[:, None] * qc
-        acc_a = acc_a + big_z[:, None] * rc
-        return acc_c, acc_a, fprime, osm + big_z * csum, csum
-
-    def _sums(self, mc, ma, mn, ionic, root, big_z):
-        """The HMW sums: ln γ of cations, anions, neutrals; the osmotic sum; f^γ."""
-        p, b, aphi = self._p, self._b, self._aphi
-        f_dh = -aphi * (root / (1.0 + b * root) + 2.0 / b * np.log1p(b * root))
-        osm = -aphi * ionic * root / (1.0 + b * root)
-        acc_c, acc_a, bprime, osm_b, csum = self._binary(mc, ma, ionic, root, big_z)
-        eth = etheta([(a, b) for a, b, _ in self._pairs_c + self._pairs_a], ionic, aphi)
-        mix_c, fp_c, osm_c = self._like(mc, p.theta_c, self._pairs_c, ionic, eth)
-        mix_a, fp_a, osm_a = self._like(ma, p.theta_a, self._pairs_a, ionic, eth)
-        big_f = f_dh + bprime + fp_c + fp_a
-        zc, za = self._z[p.cat], -self._z[p.ani]
-        ln_c = np.outer(big_f, zc * zc) + acc_c + mix_c + np.outer(csum, zc)
-        ln_a = np.outer(big_f, za * za) + acc_a + mix_a + np.outer(csum, za)
-        osm = osm + osm_b + osm_c + osm_a
-        n = len(ionic)
-        if self._has_psi:
-            pca = (mc[:, :, None] * ma[:, None, :]).reshape(n, -1)
-            psi_c, psi_a = _mm(pca, self._psi_c_ca), _mm(pca, self._psi_a_ca)
-            paa = (ma[:, :, None] * ma[:, None, :]).reshape(n, -1)
-            pcc = (mc[:, :, None] * mc[:, None, :]).reshape(n, -1)
-            ln_c = ln_c + psi_c + 0.5 * (_mm(paa, self._psi_a_aa))
-            ln_a = ln_a + psi_a + 0.5 * (_mm(pcc, self._psi_c_cc))
-            osm = osm + 0.5 * (mc * psi_c).sum(axis=1) + 0.5 * (ma * psi_a).sum(axis=1)
-        ln_n = np.zeros_like(mn)
-        if mn.shape[1]:
-            lam_c, lam_a, lam_n = _mm(mn, p.lam_c), _mm(mn, p.lam_a), _mm(mn, p.lam_n)
-            zeta_c = np.einsum("nk,na,kca->nc", mn, ma, p.zeta)
-            zeta_a = np.einsum("nk,nc,kca->na", mn, mc, p.zeta)
-            zeta_n = np.einsum("nc,na,kca->nk", mc, ma, p.zeta)
-            ln_c = ln_c + 2.0 * lam_c + zeta_c
-            ln_a = ln_a + 2.0 * lam_a + zeta_a
-            ln_n = 2.0 * (_mm(mc, p.lam_c.T) + _mm(ma, p.lam_a.T) + lam_n) + zeta_n
-            osm = (osm + (mc * lam_c).sum(axis=1) + (ma * lam_a).sum(axis=1)
-                   + 0.5 * (mn * lam_n).sum(axis=1) + (mn * zeta_n).sum(axis=1))
-        return (ln_c, ln_a, ln_n), osm, f_dh
 
     def _warnings(self, m, ionic, fallback_here) -> tuple[str, ...]:
         out = list(self._static_warnings)
