@@ -241,37 +241,40 @@ class _State:
 def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot,
             first_tol: float) -> None:
     """Settle the points ``idx`` of ``st`` (from their x and v), in place; the first
-    round's x-solve stops at a step below ``first_tol``."""
+    round's x-solve stops at a step below ``first_tol``.  A point whose coefficients
+    settled takes its last x-solve (at those coefficients, to ``X_STEP_TOL``) together
+    with the next round's x-solve of the points still moving."""
     n = bt.n
     x, v = st.x[idx], st.v[idx]
     prev = None
     moved = last = np.ones(idx.shape[0])
-    for r in range(1, ONE_ROUNDS + 1):
-        tol = np.maximum(X_STEP_TOL, ROUND_X_TOL * moved) if r > 1 else np.full(moved.shape,
-                                                                          first_tol)
+    tol = np.full(idx.shape[0], first_tol)
+    fin = np.zeros(idx.shape[0], dtype=bool)   # settled: this x-solve is their last
+    for r in range(1, ONE_ROUNDS + 2):
         x, m = solve_x(bt, x, v[:, :n], v[:, n], ions[idx], sys_tot[idx], tol)
+        if fin.any():
+            d = idx[fin]
+            st.x[d], st.v[d], st.m[d] = x[fin], v[fin], m[fin]
+            keep = ~fin
+            if not keep.any():
+                return
+            idx, x, v, m, last = idx[keep], x[keep], v[keep], m[keep], last[keep]
+            prev = None if prev is None else (prev[0][keep], prev[1][keep])
         ln_gamma, phi, aw, ionic = model.coefficients(m)
         g = np.concatenate([ln_gamma / LN10, np.log10(aw)[:, None]], axis=1)
         moved = np.abs(g - v).max(axis=1)
         rho = moved / np.where(last > 0, last, 1.0)
-        done = (moved <= ONE_TOL) | ((r >= 3) & (rho < 0.5)
-                                     & (moved * rho <= SETTLED_TOL * (1.0 - rho)))
-        ok = done
-        if r == ONE_ROUNDS:
-            done = np.ones_like(done)
-        if done.any():
-            d = idx[done]
-            xd, md = solve_x(bt, x[done], g[done, :n], g[done, n], ions[d], sys_tot[d],
-                             np.full(int(done.sum()), X_STEP_TOL))
-            st.x[d], st.v[d], st.m[d], st.rounds[d] = xd, g[done], md, r
-            st.ok[d] = ok[done]
-            st.extra[d] = np.column_stack([phi[done], aw[done], ionic[done]])
-        keep = ~done
-        if not keep.any():
-            return
-        nv = _anderson(v, g, prev)
-        prev = (v[keep], g[keep])
-        idx, x, v, last, moved = idx[keep], x[keep], nv[keep], moved[keep], moved[keep]
+        ok = (moved <= ONE_TOL) | ((r >= 3) & (rho < 0.5)
+                                   & (moved * rho <= SETTLED_TOL * (1.0 - rho)))
+        fin = ok | (r == ONE_ROUNDS)
+        if fin.any():
+            d = idx[fin]
+            st.rounds[d], st.ok[d] = r, ok[fin]
+            st.extra[d] = np.column_stack([phi[fin], aw[fin], ionic[fin]])
+        nv = g if fin.all() else np.where(fin[:, None], g, _anderson(v, g, prev))
+        prev = (v, g)
+        v, last = nv, moved
+        tol = np.where(fin, X_STEP_TOL, np.maximum(X_STEP_TOL, ROUND_X_TOL * moved))
 
 
 def _between(st: _State, coarse: np.ndarray, fine: np.ndarray) -> None:
