@@ -78,6 +78,9 @@ class BatchTable:
     salts: tuple = ()                # OneTable.salts: the 1:1 salts that may form
     held: np.ndarray | None = None   # (K,) OneTable.held: an open system's held state's
     #                                  place among the states (-1 closed), or None
+    zz: np.ndarray | None = None     # (2, U) zpos and zneg as rows
+    hydrated: bool = False           # does any state take water?
+    span: slice | None = None        # cols as a slice when they are consecutive
 
 
 def batch_table(ot: OneTable) -> BatchTable:
@@ -88,28 +91,64 @@ def batch_table(ot: OneTable) -> BatchTable:
     flat = [(c, lb, j, k, h2o) for k, (_, st) in enumerate(ot.systems)
             for c, lb, j, h2o in st]
     sizes = [len(st) for _, st in ot.systems]
+    cols = [f[0] for f in flat]
+    repeats = len(set(cols)) < len(cols)
+    water = np.array([f[4] for f in flat])
+    span = slice(cols[0], cols[-1] + 1) if cols and not repeats and all(
+        b - a == 1 for a, b in zip(cols, cols[1:])) else None
     return BatchTable(ot.n, np.maximum(z, 0.0), np.maximum(-z, 0.0),
                       np.array([c for c, _ in ot.ions], dtype=int),
                       np.array([b for _, b in ot.ions], dtype=int), systems, ot.pairs, ot.pkw,
-                      np.array([f[0] for f in flat], dtype=int), np.array([f[1] for f in flat]),
+                      np.array(cols, dtype=int), np.array([f[1] for f in flat]),
                       np.array([f[2] for f in flat]), np.array([f[3] for f in flat], dtype=int),
-                      np.cumsum([0] + sizes[:-1]).astype(int),
-                      len({f[0] for f in flat}) < len(flat), np.array([f[4] for f in flat]),
+                      np.cumsum([0] + sizes[:-1]).astype(int), repeats, water,
                       ot.solids, ot.salts,
-                      np.array(ot.held, dtype=int) if any(h >= 0 for h in ot.held) else None)
+                      np.array(ot.held, dtype=int) if any(h >= 0 for h in ot.held) else None,
+                      np.stack([np.maximum(z, 0.0), np.maximum(-z, 0.0)]),
+                      bool(np.any(water)), span)
 
 
-def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
+class _Held:
+    """What the x-solve's Newton steps reuse at held coefficients, per point: the
+    systems' log10 weights less their x-term, the x-free part of log10 m(OH-), and the
+    inputs the pairs, solids and salts need (``take`` keeps the points still moving)."""
+
+    __slots__ = ("lg", "lw", "ions", "sys_tot", "tot_safe", "base", "lg0", "log_oh")
+
+    def __init__(self, bt: BatchTable, lg, lw, ions, sys_tot, copy: bool = True):
+        if not copy:
+            return
+        self.lg, self.lw, self.ions, self.sys_tot = lg, lw, ions, sys_tot
+        self.lg0 = lg[:, 0]
+        self.log_oh = lw - bt.pkw - lg[:, 0] - lg[:, 1]     # log10 m(OH-) + x
+        if bt.systems:
+            self.base = bt.lb - lg[:, bt.cols]
+            if bt.hydrated:
+                self.base = self.base + np.multiply.outer(lw, bt.water)
+            self.tot_safe = np.where(sys_tot > 0, sys_tot, 1.0)
+
+    def take(self, bt: BatchTable, keep) -> _Held:
+        out = _Held(bt, None, None, None, None, copy=False)
+        out.lg, out.lw, out.ions, out.sys_tot = (self.lg[keep], self.lw[keep],
+                                                 self.ions[keep], self.sys_tot[keep])
+        out.lg0, out.log_oh = self.lg0[keep], self.log_oh[keep]
+        if bt.systems:
+            out.base, out.tot_safe = self.base[keep], self.tot_safe[keep]
+        return out
+
+
+def _composition(bt: BatchTable, x, hd: _Held):
     """(N, U) molalities at x and their x-derivatives, and ln POS - ln NEG with its
     x-derivative."""
-    m = ions.copy()
+    m = hd.ions.copy()
     dm = np.zeros_like(m)
     h = np.exp(LN10 * x)
-    oh = np.exp(LN10 * (lw - bt.pkw - lg[:, 0] - lg[:, 1] - x))
+    oh = np.exp(LN10 * (hd.log_oh - x))
     m[:, 0], m[:, 1] = h, oh
     dm[:, 0], dm[:, 1] = LN10 * h, -LN10 * oh
+    lg, lw = hd.lg, hd.lw
     for pc, mc, log_k in bt.pairs:
-        total = ions[:, mc]
+        total = hd.ions[:, mc]
         k = np.exp(LN10 * (log_k + lg[:, mc] + lg[:, 1] - lg[:, pc]))
         p = total * k * oh / (1.0 + k * oh)
         dp = total * k * dm[:, 1] / (1.0 + k * oh) ** 2
@@ -120,36 +159,45 @@ def _composition(bt: BatchTable, x, lg, lw, ions, sys_tot):
     if bt.solids:
         _hydroxides(bt, m, dm, lg, lw - bt.pkw - lg[:, 0] - x, oh)
     if bt.systems:
-        j, so = bt.j, bt.sys_of
-        logw = (bt.lb[None, :] - lg[:, bt.cols] - np.multiply.outer(x + lg[:, 0], j)
-                + np.multiply.outer(lw, bt.water))
-        logw -= np.maximum.reduceat(logw, bt.starts, axis=1)[:, so]
-        w = np.exp(LN10 * logw)
-        if bt.held is None:
-            conc = w * (sys_tot / np.add.reduceat(w, bt.starts, axis=1))[:, so]
-            jbar = np.add.reduceat(conc * j, bt.starts, axis=1) / np.where(
-                sys_tot > 0, sys_tot, 1.0)
-        else:   # an open system's held state is at its sys_tot (its total follows x)
-            ref = bt.starts + np.maximum(bt.held, 0)
-            den = np.where(bt.held >= 0, w[:, ref], np.add.reduceat(w, bt.starts, axis=1))
-            conc = w * (sys_tot / den)[:, so]
-            jbar = np.where(bt.held >= 0, j[ref], np.add.reduceat(conc * j, bt.starts, axis=1)
-                            / np.where(sys_tot > 0, sys_tot, 1.0))
-        slope = -LN10 * conc * (j[None, :] - jbar[:, so])
-        if bt.repeats:   # a label two systems share: add column by column
-            np.add.at(m.T, bt.cols, conc.T)
-            np.add.at(dm.T, bt.cols, slope.T)
-        else:
-            m[:, bt.cols] += conc
-            dm[:, bt.cols] += slope
-        for k, entry in bt.salts:
-            _, cols, _, jk = bt.systems[k]
-            a = bt.starts[k]
-            salt_array(entry, m, dm, lg, lw, lw - bt.pkw - lg[:, 0] - x, cols, jk,
-                       conc[:, a:a + cols.shape[0]], jbar[:, k], sys_tot[:, k])
-    pos, neg = np.einsum("nu,u->n", m, bt.zpos), np.einsum("nu,u->n", m, bt.zneg)
-    dpos, dneg = np.einsum("nu,u->n", dm, bt.zpos), np.einsum("nu,u->n", dm, bt.zneg)
-    return m, dm, np.log(pos) - np.log(neg), dpos / pos - dneg / neg
+        _systems(bt, x, hd, m, dm)
+    ps = np.einsum("nu,ku->kn", m, bt.zz)
+    dps = np.einsum("nu,ku->kn", dm, bt.zz)
+    return m, dm, np.log(ps[0]) - np.log(ps[1]), dps[0] / ps[0] - dps[1] / ps[1]
+
+
+def _systems(bt: BatchTable, x, hd: _Held, m, dm) -> None:
+    """Add the acid-base systems' states at x (and their salts) to ``m`` and ``dm``."""
+    j, so, sys_tot = bt.j, bt.sys_of, hd.sys_tot
+    logw = hd.base - np.multiply.outer(x + hd.lg0, j)
+    logw -= np.maximum.reduceat(logw, bt.starts, axis=1)[:, so]
+    w = np.exp(LN10 * logw)
+    if bt.held is None:
+        conc = w * (sys_tot / np.add.reduceat(w, bt.starts, axis=1))[:, so]
+        cj = conc * j
+        jbar = np.add.reduceat(cj, bt.starts, axis=1) / hd.tot_safe
+    else:   # an open system's held state is at its sys_tot (its total follows x)
+        ref = bt.starts + np.maximum(bt.held, 0)
+        den = np.where(bt.held >= 0, w[:, ref], np.add.reduceat(w, bt.starts, axis=1))
+        conc = w * (sys_tot / den)[:, so]
+        cj = conc * j
+        jbar = np.where(bt.held >= 0, j[ref], np.add.reduceat(cj, bt.starts, axis=1)
+                        / hd.tot_safe)
+    slope = -LN10 * (cj - conc * jbar[:, so])
+    if bt.repeats:   # a label two systems share: add column by column
+        np.add.at(m.T, bt.cols, conc.T)
+        np.add.at(dm.T, bt.cols, slope.T)
+    elif bt.span is not None:
+        m[:, bt.span] += conc
+        dm[:, bt.span] += slope
+    else:
+        m[:, bt.cols] += conc
+        dm[:, bt.cols] += slope
+    lw = hd.lw
+    for k, entry in bt.salts:
+        _, cols, _, jk = bt.systems[k]
+        a = bt.starts[k]
+        salt_array(entry, m, dm, hd.lg, lw, lw - bt.pkw - hd.lg0 - x, cols, jk,
+                   conc[:, a:a + cols.shape[0]], jbar[:, k], sys_tot[:, k])
 
 
 def _hydroxides(bt: BatchTable, m, dm, lg, log_oh_act, oh) -> None:
@@ -175,28 +223,36 @@ def solve_x(bt: BatchTable, x, lg, lw, ions, sys_tot, tol):
     """The charge balance's root in x at held coefficients, every point (``tol`` (N,)):
     (x, molalities there).  Each Newton step takes only the points still moving."""
     x = np.clip(x, *X_BOUNDS)
+    m = np.empty((x.shape[0], bt.n))
+    hd = _Held(bt, lg, lw, ions, sys_tot)
+    act = np.arange(x.shape[0])
+    xa, tola = x.copy(), tol
     lo = np.full(x.shape, X_BOUNDS[0])
     hi = np.full(x.shape, X_BOUNDS[1])
-    m = np.empty((x.shape[0], bt.n))
-    act = np.arange(x.shape[0])
-    xa = x
-    for _ in range(NEWTON_STEPS):
-        ma, dma, g, dg = _composition(bt, xa, lg[act], lw[act], ions[act], sys_tot[act])
-        h = np.where(g > 0, xa, hi[act])
-        lo_a = np.where(g > 0, lo[act], xa)
+    for it in range(NEWTON_STEPS):
+        ma, dma, g, dg = _composition(bt, xa, hd)
+        pos = g > 0
+        hi = np.where(pos, xa, hi)
+        lo = np.where(pos, lo, xa)
         step = np.where(dg > 0, -g / np.where(dg > 0, dg, 1.0), np.inf)
-        near = (np.abs(step) < tol[act]) | (step * step < QUADRATIC * tol[act])
-        done = near | (h - lo_a < X_STEP_TOL)
+        near = (np.abs(step) < tola) | (step * step < QUADRATIC * tola)
+        done = near | (hi - lo < X_STEP_TOL)
         last = np.where(near, step, 0.0)     # Newton's last step, taken to first order
-        m[act] = ma + dma * last[:, None]
-        x[act] = xa + last
-        if done.all():
+        if done.all() or it == NEWTON_STEPS - 1:   # (out of steps: the last iterate)
+            m[act] = ma + dma * last[:, None]
+            x[act] = xa + last
             break
+        if done.any():
+            d = act[done]
+            m[d] = ma[done] + dma[done] * last[done, None]
+            x[d] = xa[done] + last[done]
         new = xa + np.clip(step, -MAX_STEP, MAX_STEP)
-        new = np.where((new > lo_a) & (new < h), new, 0.5 * (lo_a + h))
+        new = np.where((new > lo) & (new < hi), new, 0.5 * (lo + hi))
         keep = ~done
-        act, xa = act[keep], new[keep]
-        hi[act], lo[act] = h[keep], lo_a[keep]
+        if done.any():
+            act, new, lo, hi, tola = act[keep], new[keep], lo[keep], hi[keep], tola[keep]
+            hd = hd.take(bt, keep)
+        xa = new
     return x, m
 
 
