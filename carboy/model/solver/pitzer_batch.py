@@ -327,7 +327,10 @@ def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot,
             d = idx[fin]
             st.rounds[d], st.ok[d] = r, ok[fin]
             st.extra[d] = np.column_stack([phi[fin], aw[fin], ionic[fin]])
-        nv = g if fin.all() else np.where(fin[:, None], g, _anderson(v, g, prev))
+        # the next coefficients: Anderson's, also for a point the contraction settled
+        # (closer than g); g itself where it moved less than ONE_TOL or never settled
+        take_g = fin & ((moved <= ONE_TOL) | ~ok)
+        nv = g if take_g.all() else np.where(take_g[:, None], g, _anderson(v, g, prev))
         prev = (v, g)
         v, last = nv, moved
         tol = np.where(fin, X_STEP_TOL, np.maximum(X_STEP_TOL, ROUND_X_TOL * moved))
