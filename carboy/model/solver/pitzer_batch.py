@@ -48,7 +48,7 @@ WARM_MIN = 25
 """Batches of at least this many points are solved coarse to fine."""
 WARM_STRIDE = 8
 """The coarse pass takes every this-many-th point (and the last)."""
-COLD_TOL = 1e-3
+COLD_TOL = 0.1
 """The first round from coefficients of 1 needs x only roughly (log10)."""
 WARM_TOL = 1e-10
 """The first round from interpolated coefficients needs x as closely as they are known."""
