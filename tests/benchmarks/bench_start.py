@@ -16,6 +16,9 @@ Two conditions:
   a copy of carboy without ``__pycache__``, so every run compiles carboy's own modules
   (the libraries keep the bytecode their installer wrote).
 
+Both run the carboy this file imports: with ``PYTHONPATH=DIR`` set (a worktree beside an
+editable install elsewhere), the commands run ``DIR``'s carboy too.
+
 For scale, ``python -c pass`` and ``python -c "import numpy"`` run in the same rounds.
 The modules each command loads are listed once: neither may load the store,
 sqlite-utils or pandas (which sqlite-utils imports when it is installed).
@@ -82,9 +85,11 @@ def _loaded(args: list[str], env: dict) -> list[str]:
 def _conditions(tmp: Path) -> dict[str, dict]:
     base = {k: v for k, v in os.environ.items()
             if k not in ("PYTHONDONTWRITEBYTECODE", "PYTHONPATH")}
-    cached = dict(base)
-    copy = tmp / "src"
     source = Path(importlib.util.find_spec("carboy").origin).parent
+    cached = dict(base)
+    if "PYTHONPATH" in os.environ:  # a checkout run as PYTHONPATH=DIR: time that carboy
+        cached["PYTHONPATH"] = os.environ["PYTHONPATH"]
+    copy = tmp / "src"
     shutil.copytree(source, copy / "carboy", ignore=shutil.ignore_patterns("__pycache__"))
     compiled = dict(base, PYTHONDONTWRITEBYTECODE="1", PYTHONPATH=str(copy))
     return {"bytecode cached": cached, "compiled each run": compiled}
