@@ -34,7 +34,6 @@ catalog (a test checks each against the catalog and lists where each compound ap
 from __future__ import annotations
 
 import math
-import tomllib
 from collections.abc import Callable, Iterable, Mapping
 from importlib import resources
 from typing import Any
@@ -90,6 +89,8 @@ def read_data_file(name: str) -> dict[str, Any]:
     data = mirrored(DATA_PACKAGE, name, text)
     if data is not None:
         return data
+    import tomllib  # only for a file whose mirror is not current (about 4 ms to load)
+
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:

@@ -22,11 +22,8 @@ import argparse
 import errno
 import os
 import re
-import sqlite3
 import sys
-import traceback
 from collections.abc import Callable
-from datetime import UTC, datetime
 from pathlib import Path
 
 from carboy.errors import CarboyError, Refused
@@ -91,7 +88,7 @@ def _describe_os(exc: OSError) -> str:
     return f"{where}{exc.strerror or type(exc).__name__}" + (f"; {hint}" if hint else "")
 
 
-def _describe_sqlite(exc: sqlite3.Error) -> str:
+def _describe_sqlite(exc: BaseException) -> str:
     msg = str(exc)
     low = msg.lower()
     if "readonly" in low:
@@ -109,7 +106,7 @@ def describe(exc: BaseException) -> str:
     """One line for a person: carboy's own message, else what kind of failure it was."""
     if isinstance(exc, CarboyError):
         text = str(exc)
-    elif isinstance(exc, sqlite3.Error):
+    elif isinstance(exc, _sqlite_error()):
         text = _describe_sqlite(exc)
     elif isinstance(exc, OSError):
         text = _describe_os(exc)
@@ -130,8 +127,21 @@ def status_of(exc: BaseException) -> int:
     return EXIT_REFUSED if isinstance(exc, Refused) else EXIT_BAD_INPUT
 
 
-EXPECTED = (CarboyError, OSError, sqlite3.Error, UnicodeError, OverflowError)
-"""Failures that have a message for a person; anything else is a bug and is logged."""
+EXPECTED = (CarboyError, OSError, UnicodeError, OverflowError)
+"""Failures that have a message for a person (with ``sqlite3.Error``:
+:func:`expected`); anything else is a bug and is logged."""
+
+
+def _sqlite_error() -> type | tuple:
+    """``sqlite3.Error``, or no class when sqlite3 was never imported (then no error of
+    it can exist; a command that opens no database does not load it: about 3 ms)."""
+    module = sys.modules.get("sqlite3")
+    return module.Error if module is not None else ()
+
+
+def expected(exc: BaseException) -> bool:
+    """A failure with a message for a person (not a bug)."""
+    return isinstance(exc, EXPECTED) or isinstance(exc, _sqlite_error())
 
 
 def log_path() -> Path:
@@ -143,6 +153,9 @@ def log_path() -> Path:
 def log_unexpected(exc: BaseException, context: str = "") -> Path | None:
     """Append ``exc`` with its traceback to the error log; returns the log's path, or
     None when it could not be written (the message then says so)."""
+    import traceback
+    from datetime import UTC, datetime
+
     try:
         path = log_path()
         path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
@@ -160,7 +173,7 @@ def log_unexpected(exc: BaseException, context: str = "") -> Path | None:
 def report(exc: BaseException, context: str = "") -> str:
     """:func:`describe`, and for an unexpected error also log it and say where."""
     line = describe(exc)
-    if isinstance(exc, EXPECTED):
+    if expected(exc):
         return line
     where = log_unexpected(exc, context)
     tail = (f"; details are in {where}" if where else "; the details could not be logged")
