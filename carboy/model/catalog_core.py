@@ -17,7 +17,6 @@ Lookup rules (:meth:`Catalog.compound`)
 
 from __future__ import annotations
 
-import difflib
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, replace
 from types import MappingProxyType
@@ -305,6 +304,8 @@ class Catalog:
 
     def suggest(self, text: str, limit: int = MAX_SUGGESTIONS) -> tuple[str, ...]:
         """Up to ``limit`` close matches to ``text``: a name, or a key for formula-like text."""
+        import difflib  # only for a name the catalog does not know
+
         folded = normalize_name(text)
         candidates: dict[str, tuple[str, str]] = {}
         for spelling, key in self._exact.items():

@@ -15,6 +15,7 @@ import math
 import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from functools import lru_cache
 from itertools import pairwise
 
 import molmass
@@ -77,7 +78,7 @@ def molar_mass_of(formula: str, *, entry: str | None = None) -> float:
     if not isinstance(formula, str) or not formula.strip():
         raise CatalogError(entry or repr(formula), f"formula {formula!r} is empty")
     try:
-        mass = float(molmass.Formula(formula).mass)
+        mass = _formula_mass(formula)
     except Exception as exc:  # molmass raises FormulaError and, on odd input, others
         raise CatalogError(
             entry or formula, f"molmass cannot read the formula {formula!r}: {exc}"
@@ -85,6 +86,13 @@ def molar_mass_of(formula: str, *, entry: str | None = None) -> float:
     if not math.isfinite(mass) or mass <= 0:
         raise CatalogError(entry or formula, f"formula {formula!r} has no positive mass")
     return mass
+
+
+@lru_cache(maxsize=1024)
+def _formula_mass(formula: str) -> float:
+    """molmass's mass of ``formula``, once per formula (loading the catalog asks for
+    most formulas twice: reading the compound, then checking it)."""
+    return float(molmass.Formula(formula).mass)
 
 
 def label_charge(label: str) -> int:

@@ -239,24 +239,29 @@ def _names(prefix: str, n: int) -> str:
 
 
 def _binary_lines(binary, alphas) -> list[str]:
-    """Source lines of the cation–anion terms (as ``pitzer.PitzerModel._binary``)."""
-    out = []
+    """Source lines of the cation–anion terms (as ``pitzer.PitzerModel._binary``): each
+    pair adds its ``t`` = 2B + ZC to both ions' ln γ and its product m_c m_a, times each
+    parameter, to one sum per kind (β0, β at each α, C); the F, osmotic and C sums are
+    those sums times g'(α√I), e^(-α√I) and Z once, after the pairs."""
+    out = [f"    q{k} = 0.0" for k in range(len(alphas))]
     for c, a, b0, b1, a1, b2, a2, cc in binary:
-        gam, prime, phi = [f"{b0!r}"], [], [f"{b0!r}"]
+        gam = [f"{2.0 * b0!r}"]
+        sums = [f"ob += mm * {b0!r}"] if b0 else []
         for b, al in ((b1, a1), (b2, a2)):
             if b:
                 k = alphas.index(al)
-                gam.append(f"{b!r} * g{k}")
-                prime.append(f"{b!r} * gp{k}")
-                phi.append(f"{b!r} * e{k}")
-        zc = f" + big_z * {cc!r}" if cc else ""
-        out.append(f"    t = 2.0 * ({' + '.join(gam)}){zc}")
-        out.append(f"    l{c} += m{a} * t; l{a} += m{c} * t; mm = m{c} * m{a}")
-        if prime:
-            out.append(f"    fb += mm * ({' + '.join(prime)})")
-        out.append(f"    ob += mm * ({' + '.join(phi)}{zc})")
+                gam.append(f"{2.0 * b!r} * g{k}")
+                sums.append(f"q{k} += mm * {b!r}")
         if cc:
-            out.append(f"    cs += mm * {cc!r}")
+            gam.append(f"big_z * {cc!r}")
+            sums.append(f"cs += mm * {cc!r}")
+        out.append(f"    t = {' + '.join(gam)}")
+        out.append(f"    l{c} += m{a} * t; l{a} += m{c} * t; mm = m{c} * m{a}")
+        out.append(f"    {'; '.join(sums)}" if sums else "    pass")
+    if alphas:
+        out.append(f"    fb = {' + '.join(f'q{k} * gp{k}' for k in range(len(alphas)))}")
+        out.append(f"    ob += {' + '.join(f'q{k} * e{k}' for k in range(len(alphas)))}")
+    out.append("    ob += big_z * cs")
     return out
 
 
@@ -276,10 +281,10 @@ def _mixing_lines(theta, like, charge_pairs, z, triples, neutral) -> list[str]:
         out.extend(f"    l{k} += mm * {v!r}" for k, v in terms)
     for n, o, v, ion in neutral:
         if ion or o != n:
-            out.append(f"    l{o} += 2.0 * m{n} * {v!r}; l{n} += 2.0 * m{o} * {v!r}; "
+            out.append(f"    l{o} += m{n} * {2.0 * v!r}; l{n} += m{o} * {2.0 * v!r}; "
                        f"om += m{n} * m{o} * {v!r}")
         else:
-            out.append(f"    l{n} += 2.0 * m{n} * {v!r}; om += 0.5 * m{n} * m{n} * {v!r}")
+            out.append(f"    l{n} += m{n} * {2.0 * v!r}; om += m{n} * m{n} * {0.5 * v!r}")
     return out
 
 

@@ -50,7 +50,7 @@ def binary_terms(p) -> list[tuple[float | None, np.ndarray]]:
     the nonzero ones."""
     terms: list[tuple[float | None, np.ndarray]] = [(None, p.b0)]
     for beta, alpha in ((p.b1, p.alpha1), (p.b2, p.alpha2)):
-        for a in np.unique(alpha):
+        for a in sorted(set(alpha.ravel().tolist())):   # (np.unique would load numpy.ma)
             terms.append((float(a), np.where(alpha == a, beta, 0.0)))
     return [(a, mat) for a, mat in terms if np.any(mat)]
 
@@ -58,8 +58,9 @@ def binary_terms(p) -> list[tuple[float | None, np.ndarray]]:
 def charge_pairs(zs: np.ndarray) -> list[tuple[int, int, np.ndarray]]:
     """Charge classes (a < b) among like-signed ions, with their symmetric pair masks."""
     out = []
-    for a in np.unique(zs):
-        for b in np.unique(zs):
+    classes = sorted(set(zs.tolist()))
+    for a in classes:
+        for b in classes:
             if a < b:
                 sel = np.outer(zs == a, zs == b)
                 out.append((int(a), int(b), (sel | sel.T).astype(float)))

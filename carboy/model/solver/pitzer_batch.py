@@ -383,9 +383,12 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
     if npts == 0:
         return st
     if npts >= WARM_MIN:
-        coarse = np.unique(np.r_[every[::WARM_STRIDE], every[-1]])
+        pick = np.zeros(npts, dtype=bool)   # every WARM_STRIDE-th and the last
+        pick[::WARM_STRIDE] = True
+        pick[-1] = True
+        coarse = every[pick]
         _rounds(bt, model, st, coarse, ions, sys_tot, COLD_TOL)
-        fine = np.setdiff1d(every, coarse)
+        fine = every[~pick]
         _between(st, coarse, fine)
         _rounds(bt, model, st, fine, ions, sys_tot, WARM_TOL)
     else:
