@@ -143,11 +143,9 @@ def test_a_few_points_with_pairs_take_the_plain_python_loop_and_agree(catalog, m
     sample = Mixture({"sulfate": 0.05, "K+": 0.02, "phosphate": 0.01, "Cl-": 0.03},
                      volume_l=1.0)
     batch, _ = titration_batch(sample, {"Na+": 1.0}, [0.0, 0.03, 0.08, 0.12, 0.2], 0.0)
-    import carboy.model.solver.single_pairs as single_pairs
-
     calls = []
-    real = single_pairs.solve_pairs_one
-    monkeypatch.setattr(single_pairs, "solve_pairs_one",
+    real = outer.solve_pairs_one
+    monkeypatch.setattr(outer, "solve_pairs_one",
                         lambda *a, **k: calls.append(real(*a, **k)) or calls[-1])
     few = sp.speciate_batch(batch, catalog=catalog)
     assert len(calls) == 5 and all(c is not None and c.converged for c in calls)

@@ -50,14 +50,10 @@ from carboy.model.solver.bracketed import coupled_then_nested, solve_nested
 from carboy.model.solver.charge_balance import species_at
 from carboy.model.solver.constants import COUPLED_ITER, LN10
 from carboy.model.solver.layout import R_J_MOL_K, T_REF_K, Layout
+from carboy.model.solver.pair_table import MAX_OUTER, OUTER_TOL, SPLIT_ROUNDS, Pair, Table
 from carboy.model.solver.problem import Problem
+from carboy.model.solver.single_pairs import solve_pairs_one
 
-OUTER_TOL = 1e-9
-"""The outer loop has settled a point when no term moved more than this (log10)."""
-MAX_OUTER = 60
-"""Rounds of the outer loop before a point is reported unsettled."""
-SPLIT_ROUNDS = 200
-"""Alternating mass-balance rounds that split a lumped row into free ions and pairs."""
 DAVIES_PAIRS = ("CaOH+", "MgOH+", "NaSO4-", "KSO4-", "CaSO4", "MgSO4")
 """The ion pairs of the Davies path (``data/ion_pairs.toml``)."""
 HYDRATED = {"CO2": 1}
@@ -68,32 +64,6 @@ count added to its weight's exponent); with Davies or ideal a_w is 1."""
 PITZER_PAIRS = ("MgOH+",)
 """The pairs the Pitzer parameter set treats as species (``pitzer.toml [[constants]]``;
 PHREEQC's pitzer.dat has no CaOH+ or sulfate pairs: its parameters describe them)."""
-
-
-@dataclass(frozen=True)
-class Pair:
-    """One ion pair in a layout: cation M (a spectator ion), ligand L (a state or OH-)."""
-
-    label: str
-    charge: int
-    ion: int            # index of M among the layout's spectator ions
-    state: int          # flat state of L, or -1 for OH-
-    log_k: float        # log10 K of M + L = P at the temperature (I = 0)
-    dz2: float          # z_M² + z_L² - z_P²
-
-
-@dataclass(frozen=True)
-class Table:
-    """The species of a layout (and its pairs) as the columns of one table."""
-
-    labels: tuple[str, ...]     # unique: H+, OH-, the ions, the states, the pairs
-    charges: np.ndarray         # (U,)
-    ion_cols: np.ndarray        # (J,) column of each spectator ion
-    state_cols: np.ndarray      # (S,) column of each flat state
-    pair_cols: np.ndarray       # (P,) column of each pair
-    pairs: tuple[Pair, ...]
-    state_j: np.ndarray         # (S,) protons each state lost from its top state
-    state_water: np.ndarray     # (S,) water each state's formation from the top takes
 
 
 def _pair_constant(rec, temperature_c: float) -> float:
@@ -355,8 +325,6 @@ def _pairs_each(pr0: Problem, tab: Table) -> Outcome | None:
     (``single_pairs.solve_pairs_one``, from its own cold start), or None where that path
     cannot take every point (held systems, metals, a layout it does not know, a round
     without a root)."""
-    from carboy.model.solver.single_pairs import solve_pairs_one   # it imports this module
-
     lay = pr0.lay
     if (not lay.python_path or lay.metals is not None or pr0.am.held is not None
             or pr0.am.shift is not None or np.ndim(pr0.pkw) != 0 or not tab.pairs):
