@@ -347,15 +347,15 @@ def refine_doses(dosing: Dosing, targets, direction: str) -> Dosing:
         return dosing
     sign = 1.0 if direction == "base" else -1.0
     want = np.asarray(targets, dtype=float)[idx]
-    inverse = dosing.model.amount_at_pH
-    aim = inverse(want)
+    inverse = _dose_scale(dosing, want, doses[idx])
+    aim = inverse(want, np.arange(idx.size))
 
     def g(n, which):
         """(g, pH - target) at doses ``n`` of the doses ``which`` (one forward solve)."""
         ph = dosing.vented_pH(n)
         miss = ph - want[which]
         with np.errstate(invalid="ignore"):
-            on_scale = inverse(ph) - aim[which]
+            on_scale = inverse(ph, which) - aim[which]
             steep = np.where(miss == 0.0, 0.0, np.sign(sign * miss) * np.inf)
         return np.where(np.isfinite(on_scale), on_scale, steep), miss
 
@@ -367,6 +367,32 @@ def refine_doses(dosing: Dosing, targets, direction: str) -> Dosing:
     # root would differ between two runs whose sums round differently
     doses[idx] = [numbers.settled(v) for v in n.tolist()]
     return dataclasses.replace(dosing, doses=doses)
+
+
+def _dose_scale(dosing: Dosing, want: np.ndarray, found: np.ndarray):
+    """D for each dose: ``D(pH, which)`` the Davies dose that reaches each pH, for the
+    doses ``which`` (see :func:`refine_doses`).  Closed without carbonate.  With
+    carbonate, the vented batch's own Davies inverse near each dose ``found``: open to
+    air where that dose was the open-system root, else closed with the CO2 lost at that
+    dose; the closed batch holding every carbonate is a different curve, whose slope sent
+    the secant far off a steep end point (each D is monotone in the pH, so g's root is
+    the pH's)."""
+    model = dosing.model
+    if not dosing.carbonate:
+        return lambda ph, which: model.amount_at_pH(ph)
+    on_air = model.amount_at_pH(want, co2_molar=dosing.s_air) == found
+    loss = dosing.fresh_loss(found)
+
+    def inverse(ph, which):
+        air = on_air[which]
+        out = np.full(ph.shape, np.nan)
+        if (~air).any():
+            out[~air] = model.amount_at_pH(ph[~air], carbonate_loss_mol=loss[which][~air])
+        if air.any():
+            out[air] = model.amount_at_pH(ph[air], co2_molar=dosing.s_air)
+        return out
+
+    return inverse
 
 
 SECANT_ROUNDS = 6

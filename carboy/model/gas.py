@@ -22,6 +22,7 @@ from carboy.errors import InvalidInput
 from carboy.model import water
 from carboy.model.metal_doses import MetalDoses
 from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
+from carboy.model.solver.bracketed import next_ionic
 from carboy.model.speciation import BatchSpeciation, speciate_batch, start_along, state_at
 from carboy.model.speciation_models import coefficients_of, start_coefficients
 from carboy.model.thermo import planning_constants
@@ -32,6 +33,10 @@ R_J_MOL_K = 8.31446261815324
 CARBONATE = "carbonate"
 I_RTOL = 1e-11
 MAX_I_ITER = 40
+SEEN_IONIC = 24
+"""Settled (pH, ionic strength) pairs an inverse keeps as starts for the next ones."""
+SEEN_PH = 0.5
+"""An inverse starts its ionic strength from a settled one within this many pH units."""
 
 
 def henry_co2_molar_per_atm(temperature_c: float) -> float:
@@ -141,6 +146,8 @@ class TitrationModel:
             ion_z[j] = None
         self.ion_cols = np.array([j for j, z in enumerate(ion_z) if z is not None], dtype=int)
         self._open: dict = {}   # CO2(aq) level -> roots of an open-system solve (starts)
+        self._inverse: dict = {}   # what amount_at_pH was asked -> its answer
+        self._settled = (np.zeros(0), np.zeros(0))   # pHs and ionic strengths it settled
         self.ion_z = np.array([z for z in ion_z if z is not None], dtype=float)
 
     # ------------------------------------------------------------------ forward
@@ -233,15 +240,33 @@ class TitrationModel:
         Where metals take part their charge joins it and the root is found inside a
         bracket (:mod:`carboy.model.metal_doses`).  ``carbonate_loss_mol`` is CO2
         already lost (closed otherwise); ``co2_molar`` holds CO2(aq) fixed instead.
-        NaN where no non-negative amount reaches the pH.
+        NaN where no non-negative amount reaches the pH.  The ionic strength's
+        fixed-point iteration takes secant steps (``bracketed.next_ionic``); an inverse
+        asked again of the same model is remembered (a plan asks the same pHs in
+        several of its steps).
         """
         ph = np.atleast_1d(np.asarray(ph, dtype=float))
         t = ph.shape[0]
         loss = np.broadcast_to(np.asarray(carbonate_loss_mol, dtype=float), (t,))
+        key = (ph.tobytes(), loss.tobytes(), None if co2_molar is None else float(co2_molar),
+               ionic_guess)
+        hit = self._inverse.get(key)
+        if hit is None:
+            if len(self._inverse) >= 64:
+                self._inverse.clear()
+            hit = self._inverse[key] = self._amount_at(ph, loss, co2_molar, ionic_guess)
+        return hit.copy()
+
+    def _amount_at(self, ph, loss, co2_molar, ionic_guess) -> np.ndarray:
+        """:meth:`amount_at_pH` worked out."""
+        t = ph.shape[0]
         ionic = np.full(t, ionic_guess if ionic_guess is not None
                         else 0.5 * float(self.n0[self.ion_cols] @ self.ion_z**2) / self.v0)
+        if ionic_guess is None:
+            ionic = self._seen_ionic(ph, ionic)
         n = np.full(t, np.nan)
         ok = np.zeros(t, dtype=bool)
+        i_prev = r_prev = None
         for _ in range(MAX_I_ITER):
             st = state_at(self.keys, ph, ionic, temperature_c=self.temperature_c,
                           activity=self.activity, catalog=self.catalog)
@@ -250,16 +275,33 @@ class TitrationModel:
                 with np.errstate(divide="ignore", invalid="ignore"):
                     n = -lin.a / lin.b
             else:
-                n = self.metals.amounts(self, st, ionic, lin.a, lin.b)
+                n = self.metals.amounts(self, st, ionic, lin.a, lin.b,
+                                        near=None if i_prev is None else n)
             ok = np.isfinite(n) & (n >= 0)
             nn = np.where(ok, n, 0.0)
             new_i = self._ionic_at(st, lin, nn, ionic)
             new_i = np.where(ok, new_i, ionic)
-            done = np.abs(new_i - ionic) <= I_RTOL * np.maximum(new_i, 1e-12)
-            ionic = new_i
+            r = new_i - ionic
+            done = np.abs(r) <= I_RTOL * np.maximum(new_i, 1e-12)
             if self.activity == "ideal" or done.all():
                 break
+            nxt = np.where(done, new_i, next_ionic(ionic, r, i_prev, r_prev, new_i))
+            i_prev, r_prev, ionic = ionic, r, nxt
+        if ok.any():
+            self._settled = (np.r_[ph[ok], self._settled[0]][:SEEN_IONIC],
+                             np.r_[new_i[ok], self._settled[1]][:SEEN_IONIC])
         return np.where(ok, n, np.nan)
+
+    def _seen_ionic(self, ph: np.ndarray, ionic: np.ndarray) -> np.ndarray:
+        """Starts for the inverse's ionic strength: that of the nearest pH within
+        ``SEEN_PH`` an earlier inverse of this model settled (the start only saves
+        rounds: the ionic strength settles on the same test)."""
+        seen_ph, seen_i = self._settled
+        if seen_ph.size == 0:
+            return ionic
+        near = np.abs(ph[:, None] - seen_ph[None, :])
+        k = near.argmin(axis=1)
+        return np.where(near[np.arange(ph.size), k] <= SEEN_PH, seen_i[k], ionic)
 
     def _linear(self, st, loss, co2_molar) -> _Linear:
         """The coefficients of the volume-weighted charge balance ``a + b n`` at the

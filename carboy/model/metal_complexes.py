@@ -46,6 +46,9 @@ from carboy.model.metal_salts import (
 )
 
 LN10 = math.log(10.0)
+BELOW_JUMP = 1e-12
+"""Where a hydroxide and a salt both cap a cation, the search's g is judged this far
+(relative, in log10 F) below the F of the jump, inside the hydroxide's regime."""
 COMPLEX_TOL = 1e-12
 """The search on log10 F stops at a Newton step below this and keeps the point it was
 taken from: the ligand's mass balance then holds to about 2.3 times this (relative)."""
@@ -225,7 +228,10 @@ def _both_solids(ps: list[_Cation], total: np.ndarray):
     maybe = p.has & np.isfinite(v_star) & (total > 0) & (p.uh < np.log10(p.cc) - p.log_s)
     if not maybe.any():
         return None, None, None
-    v = np.where(maybe, v_star, 0.0)
+    # g and the cation's state just below the jump, where the hydroxide caps: at F* itself
+    # the two caps are equal to the last bit and either may be taken (the search then
+    # bisected onto the jump for some forty steps, and kept one side's solids)
+    v = np.where(maybe, v_star - BELOW_JUMP * np.maximum(np.abs(v_star), 1.0), 0.0)
     g = np.exp(LN10 * v) - total
     for q in ps:
         g = g + _at_f(q, v).cons
@@ -235,7 +241,7 @@ def _both_solids(ps: list[_Cation], total: np.ndarray):
     if not both.any():
         return None, None, None
     z = float(p.m.charge)
-    return both, v, ((p.usx - z) / p.kb, (p.usa - z * z + z) / p.kb)
+    return both, np.where(maybe, v_star, 0.0), ((p.usx - z) / p.kb, (p.usa - z * z + z) / p.kb)
 
 
 def _start(ps: list[_Cation], total: np.ndarray) -> np.ndarray:

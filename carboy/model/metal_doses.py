@@ -16,6 +16,7 @@ the dose: HCl 0.1 M + ZnCl2 0.05 M to pH 9 takes 0.200 mol NaOH per litre, not 0
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
 
@@ -30,6 +31,19 @@ ROOT_STEPS = 100
 """Regula falsi steps allowed inside the bracket."""
 ROOT_RTOL = 1e-13
 """The root is settled when the bracket or the step is this small (relative)."""
+
+
+NEAR_SPAN = 1e-6
+"""A root expected close by is bracketed first within this (relative) of itself."""
+
+
+class _Twice(NamedTuple):
+    """The parts of a ``state_at`` result :meth:`MetalDoses.state` reads, each target
+    twice over (two trial amounts per target in one evaluation)."""
+
+    system_keys: tuple
+    fractions: np.ndarray
+    log_h: np.ndarray
 
 
 @dataclass(frozen=True)
@@ -98,16 +112,32 @@ class MetalDoses:
         net = got["pos"] + got["ligand_pos"] - got["neg"] - got["ligand_neg"]
         return a + b * n + vol * net
 
-    def amounts(self, model, st, ionic, a, b) -> np.ndarray:
-        """The amount (mol) that zeroes H at each target; NaN where none >= 0 does."""
+    def _balance_pair(self, model, st, ionic, a, b, n1, n2):
+        """H at two amounts per target (``n1``, ``n2``), in one evaluation of the metals
+        (whose cost is mostly per call, not per point)."""
+        both = _Twice(st.system_keys, np.concatenate([st.fractions, st.fractions]),
+                      np.r_[st.log_h, st.log_h])
+        h = self._balance(model, both, np.r_[ionic, ionic], np.r_[a, a], np.r_[b, b],
+                          np.r_[n1, n2])
+        return h[:n1.shape[0]], h[n1.shape[0]:]
+
+    def amounts(self, model, st, ionic, a, b, near=None) -> np.ndarray:
+        """The amount (mol) that zeroes H at each target; NaN where none >= 0 does.
+        ``near`` (one per target, or None): a root expected close by (the last one of
+        an iteration on the ionic strength), bracketed first within ``NEAR_SPAN`` of
+        itself; where any target's is not, the search starts from 0 for every one."""
+        if near is not None and np.all(np.isfinite(near) & (near > 0)):
+            lo, hi = near * (1.0 - NEAR_SPAN), near * (1.0 + NEAR_SPAN)
+            h_lo, h_hi = self._balance_pair(model, st, ionic, a, b, lo, hi)
+            if np.all(np.sign(h_lo) != np.sign(h_hi)):
+                return self._falsi(model, st, ionic, a, b, lo, h_lo, hi, h_hi)
         t = a.shape[0]
         zero = np.zeros(t)
-        h0 = self._balance(model, st, ionic, a, b, zero)
         spectators = ((model.n0[self.cols] * self.z).sum(), (model.per[self.cols] * self.z).sum())
         with np.errstate(divide="ignore", invalid="ignore"):
             guess = -(a + spectators[0]) / (b + spectators[1])
         far = np.where(np.isfinite(guess) & (guess > 0), guess, 1e-9 * max(model.v0, 1e-9))
-        h_far = self._balance(model, st, ionic, a, b, far)
+        h0, h_far = self._balance_pair(model, st, ionic, a, b, zero, far)
         for _ in range(BRACKET_DOUBLINGS):
             same = (np.sign(h_far) == np.sign(h0)) & (h0 != 0)
             if not same.any():

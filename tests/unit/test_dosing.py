@@ -124,3 +124,27 @@ def test_the_vented_ph_is_the_solved_batchs(catalog, activity, totals):
     n = np.array([0.1, 0.55, 0.62, 0.7, 0.8])
     assert np.isfinite(d._batch_and_air(n, True).air_pH).any()
     np.testing.assert_allclose(d.vented_pH(n), d.solve(n)[0].pH, atol=1e-8)
+
+
+@pytest.mark.parametrize("totals", [
+    {"sulfate": 0.3, "Mg+2": 0.2},                 # MgSO4° complexes: the metals' search
+    {"Cl-": 0.2, "Zn+2": 0.05, "sulfate": 0.02},   # a hydroxide settles
+    {"phosphate": 0.05, "Na+": 0.02},              # no metals: the linear root
+])
+def test_an_inverse_is_the_same_whatever_the_inverses_before_it(catalog, totals):
+    """A model's inverse starts its ionic strength from those it settled before (and
+    the metals' root near the last one of its own iteration), and remembers what it was
+    asked: the same amounts as a fresh model's, to the tolerances."""
+    comp = dict(catalog.compound("NaOH").composition)
+
+    def model():
+        return gas.TitrationModel(Mixture(totals, volume_l=2.0), comp, 1.0,
+                                  activity="davies", catalog=catalog)
+
+    used = model()
+    used.amount_at_pH([6.0, 7.0, 9.0])
+    again = used.amount_at_pH(np.array([6.93, 8.97]))
+    fresh = model().amount_at_pH(np.array([6.93, 8.97]))
+    assert np.all(np.isfinite(fresh))
+    np.testing.assert_allclose(again, fresh, rtol=1e-11)
+    assert np.array_equal(used.amount_at_pH([6.93, 8.97]), again)   # remembered

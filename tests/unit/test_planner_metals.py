@@ -204,3 +204,31 @@ def test_lime_hydroxide_precipitates_on_the_pitzer_path():
                             window=(6.0, 9.0), activity="auto", curve_points=CURVE)
     assert p.activity_model == "pitzer"
     assert not any("would precipitate" in w for w in p.warnings)
+
+
+def test_where_lime_and_gypsum_both_cap_calcium_the_ligand_search_is_short(monkeypatch):
+    """MgSO4 in sulfuric acid taken up with lime: at many trial states calcium is capped
+    by its hydroxide below one free-sulfate level and by gypsum above it, and the
+    search's g jumps there.  Judged at the jump itself the two caps are equal to the last
+    bit, the jump went unseen and the search bisected onto it for some forty steps; it
+    is now taken as both solids at once, and no search needs more than a few steps."""
+    from carboy.model import metal_complexes as mc
+
+    steps = []
+    real_search, real_at = mc._search, mc._at_f
+
+    def counted(ps, total, both=None, v_both=None):
+        calls = []
+        monkeypatch.setattr(mc, "_at_f", lambda *a: calls.append(1) or real_at(*a))
+        try:
+            return real_search(ps, total, both, v_both)
+        finally:
+            monkeypatch.setattr(mc, "_at_f", real_at)
+            steps.append(len(calls) // len(ps))
+
+    monkeypatch.setattr(mc, "_search", counted)
+    sample = Mixture.from_compounds([(CAT.compound("H2SO4"), 0.1),
+                                     (CAT.compound("MgSO4"), 0.2)], volume_l=10.0)
+    plan = plan_neutralization(sample, parse_reagent("Ca(OH)2"), catalog=CAT)
+    assert plan.to_target.reachable and any("gypsum" in s.solid for s in plan.sludge)
+    assert steps and max(steps) <= 20, sorted(steps)[-5:]

@@ -8,6 +8,7 @@ path and that a batch of several goes through the vectorized one.
 
 from __future__ import annotations
 
+import numpy as np
 import pytest
 from same_result import assert_same_species
 
@@ -122,6 +123,7 @@ def test_the_pairs_outer_loop_agrees_with_its_guaranteed_inner_solve(catalog, mo
     sample = Mixture({"sulfate": 0.05, "K+": 0.02, "phosphate": 0.01, "Cl-": 0.03},
                      volume_l=1.0)
     batch, _ = titration_batch(sample, {"Na+": 1.0}, [0.0, 0.03, 0.08, 0.12, 0.2], 0.0)
+    monkeypatch.setattr(outer, "PYTHON_PAIRS_MAX", 0)   # the vectorized loop, not single_pairs
     fast = sp.speciate_batch(batch, catalog=catalog)
     monkeypatch.setattr(outer, "COUPLED_ITER", 0)   # every round's inner solve: solve_nested
     monkeypatch.setattr(sp, "COUPLED_ITER", 0)
@@ -130,6 +132,30 @@ def test_the_pairs_outer_loop_agrees_with_its_guaranteed_inner_solve(catalog, mo
     assert fast.converged.all() and sure.converged.all()
     assert abs(fast.pH - sure.pH).max() <= 1e-9
     assert abs(fast.species_molar - sure.species_molar).max() <= 1e-12
+
+
+def test_a_few_points_with_pairs_take_the_plain_python_loop_and_agree(catalog, monkeypatch):
+    """A batch of a few points (``outer.PYTHON_PAIRS_MAX``) takes ``single_pairs`` point by
+    point: the same states as the vectorized outer loop, to its tolerance."""
+    import carboy.model.solver.outer as outer
+    from carboy.model.mixture import titration_batch
+
+    sample = Mixture({"sulfate": 0.05, "K+": 0.02, "phosphate": 0.01, "Cl-": 0.03},
+                     volume_l=1.0)
+    batch, _ = titration_batch(sample, {"Na+": 1.0}, [0.0, 0.03, 0.08, 0.12, 0.2], 0.0)
+    calls = []
+    real = outer.solve_pairs_one
+    monkeypatch.setattr(outer, "solve_pairs_one",
+                        lambda *a, **k: calls.append(real(*a, **k)) or calls[-1])
+    few = sp.speciate_batch(batch, catalog=catalog)
+    assert len(calls) == 5 and all(c is not None and c.converged for c in calls)
+    monkeypatch.setattr(outer, "PYTHON_PAIRS_MAX", 0)
+    ref = sp.speciate_batch(batch, catalog=catalog)
+    assert few.converged.all() and few.species_labels == ref.species_labels
+    assert abs(few.pH - ref.pH).max() <= 1e-9
+    assert few.species_molar == pytest.approx(ref.species_molar, rel=1e-9, abs=1e-15)
+    assert few.fractions == pytest.approx(ref.fractions, rel=1e-9, abs=1e-15)
+    assert np.array_equal(few.system_totals_molar, ref.system_totals_molar)
 
 
 def test_pairs_warnings_point_by_point(catalog):

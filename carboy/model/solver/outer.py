@@ -50,14 +50,10 @@ from carboy.model.solver.bracketed import coupled_then_nested, solve_nested
 from carboy.model.solver.charge_balance import species_at
 from carboy.model.solver.constants import COUPLED_ITER, LN10
 from carboy.model.solver.layout import R_J_MOL_K, T_REF_K, Layout
+from carboy.model.solver.pair_table import MAX_OUTER, OUTER_TOL, SPLIT_ROUNDS, Pair, Table
 from carboy.model.solver.problem import Problem
+from carboy.model.solver.single_pairs import solve_pairs_one
 
-OUTER_TOL = 1e-9
-"""The outer loop has settled a point when no term moved more than this (log10)."""
-MAX_OUTER = 60
-"""Rounds of the outer loop before a point is reported unsettled."""
-SPLIT_ROUNDS = 200
-"""Alternating mass-balance rounds that split a lumped row into free ions and pairs."""
 DAVIES_PAIRS = ("CaOH+", "MgOH+", "NaSO4-", "KSO4-", "CaSO4", "MgSO4")
 """The ion pairs of the Davies path (``data/ion_pairs.toml``)."""
 HYDRATED = {"CO2": 1}
@@ -68,32 +64,6 @@ count added to its weight's exponent); with Davies or ideal a_w is 1."""
 PITZER_PAIRS = ("MgOH+",)
 """The pairs the Pitzer parameter set treats as species (``pitzer.toml [[constants]]``;
 PHREEQC's pitzer.dat has no CaOH+ or sulfate pairs: its parameters describe them)."""
-
-
-@dataclass(frozen=True)
-class Pair:
-    """One ion pair in a layout: cation M (a spectator ion), ligand L (a state or OH-)."""
-
-    label: str
-    charge: int
-    ion: int            # index of M among the layout's spectator ions
-    state: int          # flat state of L, or -1 for OH-
-    log_k: float        # log10 K of M + L = P at the temperature (I = 0)
-    dz2: float          # z_M² + z_L² - z_P²
-
-
-@dataclass(frozen=True)
-class Table:
-    """The species of a layout (and its pairs) as the columns of one table."""
-
-    labels: tuple[str, ...]     # unique: H+, OH-, the ions, the states, the pairs
-    charges: np.ndarray         # (U,)
-    ion_cols: np.ndarray        # (J,) column of each spectator ion
-    state_cols: np.ndarray      # (S,) column of each flat state
-    pair_cols: np.ndarray       # (P,) column of each pair
-    pairs: tuple[Pair, ...]
-    state_j: np.ndarray         # (S,) protons each state lost from its top state
-    state_water: np.ndarray     # (S,) water each state's formation from the top takes
 
 
 def _pair_constant(rec, temperature_c: float) -> float:
@@ -317,8 +287,13 @@ def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic, solved=None) 
     the root of ``pr0`` itself (no pairs: the first round's problem) and where it
     settled: the first round takes it as it is (the pairs' terms at the root without
     them, without a solve).  A point settles only when a round moves no term more than
-    ``OUTER_TOL``, whatever its start."""
+    ``OUTER_TOL``, whatever its start.  A few points (``PYTHON_PAIRS_MAX``) take the
+    plain-Python loop (``single_pairs``) where it takes them: numpy's per-call cost
+    would dominate, some 0.3 ms a round whatever the number of points."""
     tab = table_of(pr0.lay, "davies", temperature_c)
+    few = _pairs_each(pr0, tab) if x.shape[0] <= PYTHON_PAIRS_MAX else None
+    if few is not None:
+        return few
     s, n = pr0.lay.flat_j.shape[0], x.shape[0]
     pkw = float(pr0.pkw)
     terms = Terms(np.zeros((s, n)), np.full(n, pkw), pr0.ispec.copy())
@@ -339,6 +314,36 @@ def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic, solved=None) 
             break
         terms = new
     return Outcome(x, ionic, conv, rounds, table, lg, -(x + lg[:, 0]), systems, {})
+
+
+PYTHON_PAIRS_MAX = 16
+"""Batches with pairs up to this many points take the plain-Python outer loop."""
+
+
+def _pairs_each(pr0: Problem, tab: Table) -> Outcome | None:
+    """:func:`solve_with_pairs` point by point in plain Python
+    (``single_pairs.solve_pairs_one``, from its own cold start), or None where that path
+    cannot take every point (held systems, metals, a layout it does not know, a round
+    without a root)."""
+    lay = pr0.lay
+    if (not lay.python_path or lay.metals is not None or pr0.am.held is not None
+            or pr0.am.shift is not None or np.ndim(pr0.pkw) != 0 or not tab.pairs):
+        return None
+    pkw = float(pr0.pkw)
+    got = []
+    for row in pr0.totals.tolist():
+        one = solve_pairs_one(lay, tab, row, pkw, pr0.a_dh, max_iter=COUPLED_ITER)
+        if one is None:
+            return None
+        got.append(one)
+    ad = np.array([g.ad for g in got])
+    x = np.array([g.x for g in got])
+    lg = -ad[:, None] * (tab.charges * tab.charges)[None, :]
+    alpha = np.array([[f for fr in g.fractions for f in fr] for g in got]).T
+    return Outcome(x, np.array([g.ionic for g in got]), np.array([g.converged for g in got]),
+                   max(g.rounds for g in got), np.array([g.table for g in got]), lg,
+                   ad - x, (alpha.reshape(lay.flat_j.shape[0], len(got)), pr0.am.c.copy()),
+                   {})
 
 
 def _moved(new: Terms, old: Terms) -> np.ndarray:

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 from carboy.model.activity import davies_d_float
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.layout import Layout, python_systems
-from carboy.model.solver.outer import MAX_OUTER, OUTER_TOL, SPLIT_ROUNDS, Table
+from carboy.model.solver.pair_table import MAX_OUTER, OUTER_TOL, SPLIT_ROUNDS, Table
 from carboy.model.solver.single import solve_one
 
 
