@@ -273,7 +273,9 @@ def _search(ps: list[_Cation], total: np.ndarray, both=None, v_both=None):
     hi = np.log10(np.where(pos, total, 1.0))
     lo = hi - LIGAND_SPAN
     v = np.minimum(_start(ps, total), hi)
-    v = np.where(pos, v, -np.inf) if both is None else np.where(both, v_both, v)
+    v = np.where(pos, v, -np.inf)   # an absent system: no free ligand
+    if both is not None:
+        v = np.where(both, v_both, v)
     last0 = last1 = np.full(v.shape, np.inf)
     states = None
     for _ in range(LIGAND_STEPS):
