@@ -226,7 +226,9 @@ def solve_x(bt: BatchTable, x, lg, lw, ions, sys_tot, tol):
     m = np.empty((x.shape[0], bt.n))
     hd = _Held(bt, lg, lw, ions, sys_tot)
     act = np.arange(x.shape[0])
-    xa, tola = x.copy(), tol
+    xa = x.copy()
+    # a step s ends the solve when |s| < tol or s² < QUADRATIC tol
+    thr = np.maximum(tol, np.sqrt(QUADRATIC * tol))
     lo = np.full(x.shape, X_BOUNDS[0])
     hi = np.full(x.shape, X_BOUNDS[1])
     for it in range(NEWTON_STEPS):
@@ -234,23 +236,29 @@ def solve_x(bt: BatchTable, x, lg, lw, ions, sys_tot, tol):
         pos = g > 0
         hi = np.where(pos, xa, hi)
         lo = np.where(pos, lo, xa)
-        step = np.where(dg > 0, -g / np.where(dg > 0, dg, 1.0), np.inf)
-        near = (np.abs(step) < tola) | (step * step < QUADRATIC * tola)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = -g / dg
+        rising = dg > 0
+        if not rising.all():   # cannot happen for a balance that rises with x: bisect
+            step = np.where(rising, step, np.inf)
+        near = np.abs(step) < thr
         done = near | (hi - lo < X_STEP_TOL)
-        last = np.where(near, step, 0.0)     # Newton's last step, taken to first order
-        if done.all() or it == NEWTON_STEPS - 1:   # (out of steps: the last iterate)
+        n_done = int(np.count_nonzero(done))
+        if n_done == done.shape[0] or it == NEWTON_STEPS - 1:   # (or out of steps)
+            last = np.where(near, step, 0.0)   # Newton's last step, to first order
             m[act] = ma + dma * last[:, None]
             x[act] = xa + last
             break
-        if done.any():
+        if n_done:
+            last = np.where(near[done], step[done], 0.0)
             d = act[done]
-            m[d] = ma[done] + dma[done] * last[done, None]
-            x[d] = xa[done] + last[done]
+            m[d] = ma[done] + dma[done] * last[:, None]
+            x[d] = xa[done] + last
         new = xa + np.clip(step, -MAX_STEP, MAX_STEP)
         new = np.where((new > lo) & (new < hi), new, 0.5 * (lo + hi))
-        keep = ~done
-        if done.any():
-            act, new, lo, hi, tola = act[keep], new[keep], lo[keep], hi[keep], tola[keep]
+        if n_done:
+            keep = ~done
+            act, new, lo, hi, thr = act[keep], new[keep], lo[keep], hi[keep], thr[keep]
             hd = hd.take(bt, keep)
         xa = new
     return x, m
