@@ -438,10 +438,12 @@ def _batch_extra(model: PitzerModel, molal: np.ndarray, ionic, aw, phi) -> dict:
             "warnings": model._warnings(mall, ionic, here)}
 
 
-FEW_POINTS = 8
+FEW_POINTS = 32
 """A batch of at most this many points is solved point by point on floats
 (:func:`few_outcome`): the arrays' fixed cost per round is most of a small batch's time
-(the planner's dose searches solve two or three points at a time)."""
+(the planner's dose searches solve two to sixteen points at a time).  Measured on
+bench_speciation's concentrated waste (CPU ms, arrays / floats): 12 points 6.1 / 3.2,
+24 points 4.3 / 4.5, 32 points 10.1 / 7.4, 48 points 10.1 / 12.2."""
 
 
 def few_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
