@@ -33,6 +33,7 @@ import numpy as np
 from carboy.model.pitzer import DAVIES_LIMIT_MOLAL, I_MAX_MOLAL, MISSING_PAIR_MOLAL
 from carboy.model.pitzer_scalar import ScalarPitzer
 from carboy.model.solver.constants import LN10
+from carboy.model.solver.mixing import anderson
 from carboy.model.solver.outer import Outcome
 from carboy.model.solver.pitzer_salts import salt_float
 
@@ -332,20 +333,6 @@ def settled(moved: float, last: float, rounds: int) -> bool:
     return rounds >= 3 and rho < 0.5 and moved * rho / (1.0 - rho) <= SETTLED_TOL
 
 
-def _anderson(v, g, prev):
-    """Depth-one Anderson mixing: the next iterate from v, f(v) = g and the last pair."""
-    if prev is None:
-        return g
-    v0, g0 = prev
-    r = list(map(sub, g, v))
-    dr = list(map(sub, r, map(sub, g0, v0)))
-    den = sum(map(mul, dr, dr))
-    if den == 0.0:
-        return g
-    theta = sum(map(mul, r, dr)) / den
-    return [gi - theta * (gi - gj) for gi, gj in zip(g, g0)]
-
-
 def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
                      x0: float | None = None, held: tuple = (), v0=None):
     """Solve one solution: ``row`` the batch totals (mol/L), ``per_molar`` mol/kg per
@@ -380,11 +367,11 @@ def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
         last, moved = moved, max(map(abs, map(sub, g, v)))
         if settled(moved, last, rounds):
             if moved > ONE_TOL:
-                g = _anderson(v, g, prev)
+                g = anderson(v, g, prev)
             x, m = solve_x(ot, x, g, g[n], ions, sys_tot)
             return x, m, g[:n], (phi, aw, ionic), rounds, True
         if rounds < ONE_ROUNDS:
-            v, prev = _anderson(v, g, prev), (v, g)
+            v, prev = anderson(v, g, prev), (v, g)
     return x, m, g[:n], (phi, aw, ionic), ONE_ROUNDS, False
 
 

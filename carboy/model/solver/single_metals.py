@@ -29,6 +29,7 @@ import numpy as np
 from carboy.model.activity import davies_d_float
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.layout import Layout, python_systems
+from carboy.model.solver.mixing import anderson
 from carboy.model.solver.single import solve_one
 
 COMPLEX_RTOL = 1e-11
@@ -182,6 +183,7 @@ def _with_complexes(lay: Layout, comp: _Compiled, row, pkw: float, a_dh: float,
     held = _split(comp, row, x, a_dh * davies_d_float(ionic))
     iterations = 0
     last = math.inf
+    prev = None
     for _ in range(COMPLEX_ROUNDS):
         inner, extra = _held_row(lay, comp, row, held)
         got = solve_one(lay, inner, pkw, a_dh, max_iter=max_iter, x0=x, i0=ionic,
@@ -196,11 +198,18 @@ def _with_complexes(lay: Layout, comp: _Compiled, row, pkw: float, a_dh: float,
         # what is left to move is that ratio times this move, over one less the ratio.
         # The root is returned with the amounts it was solved at (its charge balance
         # exact, the complexes' mass action within COMPLEX_RTOL).
-        ratio = moved / last if 0.0 < last < math.inf else 1.0
+        # (after a secant step that ratio no longer measures a contraction: only the
+        # move itself ends the loop)
+        ratio = moved / last if prev is None and 0.0 < last < math.inf else 1.0
         if moved <= COMPLEX_RTOL or (ratio < 0.5 and moved * ratio / (1.0 - ratio)
                                      <= COMPLEX_RTOL):
             return x, ionic, iterations, held
-        held, last = new, moved
+        # the next amounts: the secant (Anderson) step through the last two rounds,
+        # kept positive (a complex's amount is above zero wherever it forms)
+        step = anderson(held, new, prev)
+        prev = (held, new)
+        held = [a if a > 0 else b for a, b in zip(step, new)]
+        last = moved
     return None
 
 
