@@ -112,34 +112,36 @@ def _table():
 
 @lru_cache(maxsize=1)
 def _cells() -> np.ndarray:
-    """Per grid cell k, (2, 4): for J and for J', the node values and the slopes times
+    """Per grid cell k, (8,): for J and then for J', the node values and the slopes times
     the step at k and k + 1, in the order of the Hermite basis (h00, h10, h01, h11)."""
     _, _, j, dj, jp, djp = _table()
     h = GRID_STEP
     rows = [np.stack([f[:-1], h * d[:-1], f[1:], h * d[1:]], axis=1) for f, d in
             ((j, dj), (jp, djp))]
-    return np.ascontiguousarray(np.stack(rows, axis=1))
+    return np.ascontiguousarray(np.concatenate(rows, axis=1))
 
 
-def _interpolate(x: np.ndarray) -> np.ndarray:
-    """(2, M) J and J' at ``x`` (M,), every x in [X_MIN, X_MAX): cubic Hermite in ln x."""
+def _interpolate(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """J and J' at ``x`` (M,), every x in [X_MIN, X_MAX): cubic Hermite in ln x."""
     cells = _cells()
     s = (np.log(x) - math.log(X_MIN)) / GRID_STEP
     k = np.minimum(s.astype(int), cells.shape[0] - 1)
     t = s - k
     t2 = t * t
     t3 = t2 * t
-    basis = np.stack([2.0 * t3 - 3.0 * t2 + 1.0, t3 - 2.0 * t2 + t, 3.0 * t2 - 2.0 * t3,
-                      t3 - t2], axis=1)
-    return np.einsum("mi,mji->jm", basis, cells[k])
+    h01 = 3.0 * t2 - 2.0 * t3
+    h00, h10, h11 = 1.0 - h01, t3 - 2.0 * t2 + t, t3 - t2
+    c = cells.take(k, axis=0)   # (np.take: a quarter of fancy indexing's time)
+    return (h00 * c[:, 0] + h10 * c[:, 1] + h01 * c[:, 2] + h11 * c[:, 3],
+            h00 * c[:, 4] + h10 * c[:, 5] + h01 * c[:, 6] + h11 * c[:, 7])
 
 
 def j_function(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """J(x) and J'(x) for an array of x >= 0 (taken as 0 below ``X_MIN``)."""
     x = np.asarray(x, dtype=float)
     if x.size and X_MIN <= float(x.min()) and float(x.max()) < X_MAX:
-        out = _interpolate(x.ravel())
-        return out[0].reshape(x.shape), out[1].reshape(x.shape)
+        j, jp = _interpolate(x.ravel())
+        return j.reshape(x.shape), jp.reshape(x.shape)
     j_out, jp_out = np.zeros_like(x), np.zeros_like(x)
     inside = (x >= X_MIN) & (x < X_MAX)
     if inside.any():
