@@ -331,6 +331,10 @@ def with_complexes(acc, cp: ComplexPlan, tot, x, ad, log_kw, ligands, precipitat
         for p, s in states:
             if p.salt is not None:
                 s.salt = np.where(both, np.maximum(total - f - bound, 0.0) / p.b, s.salt)
+                # both solids are present: the hydroxide holds the rest of the cation (at
+                # the jump the two caps are equal to the last bit and the state may have
+                # taken the salt's; the slopes above are the same either way)
+                s.hcap = s.hcap | (both & p.has)
     for (p, s), pt in zip(states, parts, strict=True):
         _add_cation(acc, p, s, pt, dv_x, dv_a, log_oh_act, ad, v, lig)
     # the ligand system loses total - F at its states' mean charge

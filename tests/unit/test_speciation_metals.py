@@ -184,3 +184,19 @@ def test_a_point_without_sulfate_beside_lime_and_gypsum_holds_no_sulfate(activit
                                               batch.temperature_c),
                                  activity=activity, catalog=CAT)
         assert got.pH[i] == pytest.approx(alone.pH[0], abs=1e-6)
+
+
+def test_lime_past_gypsum_reports_both_solids_and_closes_calcium():
+    """Citric acid, Na2SO4 and much lime at 0 °C: portlandite and gypsum both form (the
+    free sulfate sits at gypsum's level at the hydroxide's).  The report kept only one
+    of them (gypsum, or before that only portlandite), and the calcium or the sulfate
+    did not add up (found by the property test of mass balances)."""
+    comps = [("C6H8O7", 0.25), ("Na2SO4", 0.125), ("Ca(OH)2", 0.5)]
+    mix = Mixture.from_compounds([(CAT.compound(n), c) for n, c in comps], temperature_c=0.0)
+    res = S.speciate(mix, activity="davies", catalog=CAT)
+    lime = res.solids["Ca(OH)2 (portlandite)"]
+    gypsum = res.solids["CaSO4·2H2O (gypsum)"]
+    assert lime > 0.05 and gypsum > 0.05
+    assert res.dissolved_metals["Ca+2"] + lime + gypsum == pytest.approx(0.5, rel=1e-9)
+    sulfate = res.species["SO4-2"] + res.species["HSO4-"] + res.species["CaSO4"] + gypsum
+    assert sulfate == pytest.approx(0.125, rel=1e-9)
