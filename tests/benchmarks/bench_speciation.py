@@ -220,11 +220,12 @@ def _pitzer_one() -> Row:
 
     cat, mix, _, molal, w = ours_pitzer()
     pp, sol, _ = _pitzer_peer(molal, 2, 1.0 / w)
-    repeat = 20
+    repeat = 100   # about 15 ms (carboy) and 45 ms (PHREEQC) a timed run: 20 gave runs
+    #                of 3 ms, whose medians moved by a third from one run of the bench to the next
     med = interleaved({
         "carboy": lambda: [speciate(mix, activity="pitzer", catalog=cat) for _ in range(repeat)],
         "peer": lambda: [_one_peer(pp, sol) for _ in range(repeat)],
-    }, rounds=9)
+    }, rounds=15)
     a, b = med["carboy"] / repeat, med["peer"] / repeat
     ph = (speciate(mix, activity="pitzer", catalog=cat).pH, _one_peer(pp, sol))
     return Row("Pitzer: one 10-component solution", f"{b / a:.1f}x",
