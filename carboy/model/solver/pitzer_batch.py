@@ -21,6 +21,7 @@ Sums are einsum reductions and elementwise products, no matrix products (no BLAS
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -41,6 +42,7 @@ from carboy.model.solver.pitzer_one import (
     X_STEP_TOL,
     OneTable,
     one_outcome,
+    solve_one_pitzer,
 )
 from carboy.model.solver.pitzer_salts import salt_array
 
@@ -344,6 +346,37 @@ def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot,
         tol = np.where(fin, X_STEP_TOL, np.maximum(X_STEP_TOL, ROUND_X_TOL * moved))
 
 
+SEEDS = 3
+"""Points of a coarse pass solved first on floats (its first, middle and last): their
+coefficients, interpolated, start every coarse point (instead of coefficients of 1)."""
+SEEDED_TOL = 1e-2
+"""The first round of seeded coarse points solves x to this (log10)."""
+
+
+def _seed(ot: OneTable, model: PitzerModel, st: _State, coarse, totals, water_kg_per_l,
+          held) -> bool:
+    """Start the ``coarse`` points' coefficients from ``SEEDS`` of them solved one by one
+    on floats, linearly in the point index (x keeps its start from the totals: along a
+    curve it jumps where the coefficients do not); False where a seed did not settle
+    (the coarse points then start from coefficients of 1).  On bench_speciation's
+    concentrated waste the coarse rounds fall from five to four."""
+    scalar = scalar_model(model)
+    at = np.array(sorted({int(coarse[round(k * (coarse.shape[0] - 1) / (SEEDS - 1))])
+                          for k in range(SEEDS)}))
+    vs = []
+    for i in at.tolist():
+        hold = () if held is None else tuple(np.asarray(held[i], dtype=float).tolist())
+        _, _, lg, (_, aw, _), _, ok = solve_one_pitzer(
+            ot, scalar, totals[i].tolist(), 1.0 / float(water_kg_per_l[i]), None, hold)
+        if not ok:
+            return False
+        vs.append(lg + [math.log10(aw)])
+    vs = np.array(vs)
+    for k in range(vs.shape[1]):
+        st.v[coarse, k] = np.interp(coarse, at, vs[:, k])
+    return True
+
+
 def _between(st: _State, coarse: np.ndarray, fine: np.ndarray) -> None:
     """x and v of the ``fine`` points from the cubic (in the point index) through the
     four solved ``coarse`` points nearest (``coarse`` has at least four)."""
@@ -362,7 +395,7 @@ def _between(st: _State, coarse: np.ndarray, fine: np.ndarray) -> None:
 
 
 def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
-                water_kg_per_l: np.ndarray, held=None, x0=None, v0=None):
+                water_kg_per_l: np.ndarray, held=None, x0=None, v0=None, ot=None):
     """Solve every point (``held``, ``x0`` and ``v0``: see :func:`few_outcome`); returns
     (x molal, molalities (N, U), lg (N, U), φ, a_w, I, rounds, converged) by point.
     Points with started coefficients are solved first, together; the others coarse to
@@ -395,7 +428,10 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
         pick[::WARM_STRIDE] = True
         pick[-1] = True
         coarse = every[pick]
-        _rounds(bt, model, st, coarse, ions, sys_tot, COLD_TOL)
+        first = COLD_TOL
+        if ot is not None and _seed(ot, model, st, coarse, totals, water_kg_per_l, held):
+            first = SEEDED_TOL
+        _rounds(bt, model, st, coarse, ions, sys_tot, first)
         fine = every[~pick]
         _between(st, coarse, fine)
         _rounds(bt, model, st, fine, ions, sys_tot, WARM_TOL)
@@ -409,7 +445,7 @@ def batch_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
     """The :class:`Outcome` of a batch (``totals`` (N, C) mol/L) as ``outer`` gives it
     (``held``, ``x0`` and ``v0``: see :func:`few_outcome`)."""
     bt = batch_table(ot)
-    st = solve_batch(bt, model, totals, water_kg_per_l, held, x0, v0)
+    st = solve_batch(bt, model, totals, water_kg_per_l, held, x0, v0, ot)
     w = water_kg_per_l
     lg = st.v[:, :bt.n]
     table = st.m * w[:, None]
