@@ -130,12 +130,16 @@ class _Held:
             self.tot_safe = np.where(sys_tot > 0, sys_tot, 1.0)
 
     def take(self, bt: BatchTable, keep) -> _Held:
+        """These points only (``keep``: indices; np.take is several times faster than a
+        boolean mask on rows)."""
         out = _Held(bt, None, None, None, None, copy=False)
-        out.lg, out.lw, out.ions, out.sys_tot = (self.lg[keep], self.lw[keep],
-                                                 self.ions[keep], self.sys_tot[keep])
+        out.lg, out.lw, out.ions, out.sys_tot = (self.lg.take(keep, axis=0), self.lw[keep],
+                                                 self.ions.take(keep, axis=0),
+                                                 self.sys_tot.take(keep, axis=0))
         out.lg0, out.log_oh = self.lg0[keep], self.log_oh[keep]
         if bt.systems:
-            out.base, out.tot_safe = self.base[keep], self.tot_safe[keep]
+            out.base = self.base.take(keep, axis=0)
+            out.tot_safe = self.tot_safe.take(keep, axis=0)
         return out
 
 
@@ -252,14 +256,15 @@ def solve_x(bt: BatchTable, x, lg, lw, ions, sys_tot, tol):
             x[act] = xa + last
             break
         if n_done:
-            last = np.where(near[done], step[done], 0.0)
-            d = act[done]
-            m[d] = ma[done] + dma[done] * last[:, None]
-            x[d] = xa[done] + last
+            fin = np.flatnonzero(done)
+            last = np.where(near[fin], step[fin], 0.0)
+            d = act[fin]
+            m[d] = ma.take(fin, axis=0) + dma.take(fin, axis=0) * last[:, None]
+            x[d] = xa[fin] + last
         new = xa + np.clip(step, -MAX_STEP, MAX_STEP)
         new = np.where((new > lo) & (new < hi), new, 0.5 * (lo + hi))
         if n_done:
-            keep = ~done
+            keep = np.flatnonzero(~done)
             act, new, lo, hi, thr = act[keep], new[keep], lo[keep], hi[keep], thr[keep]
             hd = hd.take(bt, keep)
         xa = new
@@ -319,13 +324,16 @@ def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot,
     for r in range(1, ONE_ROUNDS + 2):
         x, m = solve_x(bt, x, v[:, :n], v[:, n], ions[idx], sys_tot[idx], tol)
         if fin.any():
-            d = idx[fin]
-            st.x[d], st.v[d], st.m[d] = x[fin], v[fin], m[fin]
-            keep = ~fin
-            if not keep.any():
+            if fin.all():
+                st.x[idx], st.v[idx], st.m[idx] = x, v, m
                 return
-            idx, x, v, m, last = idx[keep], x[keep], v[keep], m[keep], last[keep]
-            prev = None if prev is None else (prev[0][keep], prev[1][keep])
+            f, keep = np.flatnonzero(fin), np.flatnonzero(~fin)   # (np.take: faster)
+            d = idx[f]
+            st.x[d], st.v[d], st.m[d] = x[f], v.take(f, axis=0), m.take(f, axis=0)
+            idx, x, last = idx[keep], x[keep], last[keep]
+            v, m = v.take(keep, axis=0), m.take(keep, axis=0)
+            prev = None if prev is None else (prev[0].take(keep, axis=0),
+                                              prev[1].take(keep, axis=0))
         ln_gamma, phi, aw, ionic = model.coefficients(m)
         g = np.concatenate([ln_gamma / LN10, np.log10(aw)[:, None]], axis=1)
         moved = np.abs(g - v).max(axis=1)
