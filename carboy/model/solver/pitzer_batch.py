@@ -117,9 +117,7 @@ class _Held:
 
     __slots__ = ("lg", "lw", "ions", "sys_tot", "tot_safe", "base", "lg0", "log_oh")
 
-    def __init__(self, bt: BatchTable, lg, lw, ions, sys_tot, copy: bool = True):
-        if not copy:
-            return
+    def __init__(self, bt: BatchTable, lg, lw, ions, sys_tot):
         self.lg, self.lw, self.ions, self.sys_tot = lg, lw, ions, sys_tot
         self.lg0 = lg[:, 0]
         self.log_oh = lw - bt.pkw - lg[:, 0] - lg[:, 1]     # log10 m(OH-) + x
@@ -132,7 +130,7 @@ class _Held:
     def take(self, bt: BatchTable, keep) -> _Held:
         """These points only (``keep``: indices; np.take is several times faster than a
         boolean mask on rows)."""
-        out = _Held(bt, None, None, None, None, copy=False)
+        out = object.__new__(_Held)
         out.lg, out.lw, out.ions, out.sys_tot = (self.lg.take(keep, axis=0), self.lw[keep],
                                                  self.ions.take(keep, axis=0),
                                                  self.sys_tot.take(keep, axis=0))
