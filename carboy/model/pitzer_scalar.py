@@ -21,6 +21,7 @@ from operator import mul
 from carboy.model.etheta import GRID_STEP, X_MAX, X_MIN, j_integral
 from carboy.model.etheta import _table as _j_table
 from carboy.model.pitzer import WATER_KG_PER_MOL, PitzerModel
+from carboy.model.pitzer_sums import triplets
 
 _LN10 = math.log(10.0)
 
@@ -88,10 +89,10 @@ class ScalarPitzer:
         self.theta = [(i, j, 2.0 * th, th) for i, j, th, key in like if key is None]
         self.like = [t for t in like if t[3] is not None]    # with an Eθ term
         self.charge_pairs = tuple(sorted({key for *_, key in self.like}))
-        self.neutral, zeta = self._neutrals(cat, ani, p.neu.tolist(), p)
+        self.neutral = self._neutrals(cat, ani, p.neu.tolist(), p)
         # ψ (two like ions and one other) and ζ (a neutral, a cation, an anion) enter
         # every sum in the same form: one list of triplets
-        self.triples = self._psi(cat, ani, p) + zeta
+        self.triples = triplets(p)
         self.fallback = [i for i, f in enumerate(model._fallback_mask.tolist()) if f]
         self.ref = model._ref
         self.kcl = model._kcl
@@ -114,20 +115,8 @@ class ScalarPitzer:
         return out
 
     @staticmethod
-    def _psi(cat, ani, p) -> list:
-        out = []
-        for group, other, arr in ((cat, ani, p.psi_c), (ani, cat, p.psi_a)):
-            for a, i in enumerate(group):
-                for b in range(a + 1, len(group)):
-                    for k, o in enumerate(other):
-                        v = float(arr[a, b, k])
-                        if v:
-                            out.append((i, group[b], o, v))
-        return out
-
-    @staticmethod
-    def _neutrals(cat, ani, neu, p) -> tuple[list, list]:
-        lam, zeta = [], []
+    def _neutrals(cat, ani, neu, p) -> list:
+        lam = []
         for k, n in enumerate(neu):
             for idx, arr in ((cat, p.lam_c), (ani, p.lam_a)):
                 lam.extend((n, o, float(arr[k, t]), True) for t, o in enumerate(idx)
@@ -135,9 +124,7 @@ class ScalarPitzer:
             for t in range(k, len(neu)):
                 if p.lam_n[k, t]:
                     lam.append((n, neu[t], float(p.lam_n[k, t]), False))
-            zeta.extend((n, c, a, float(p.zeta[k, ci, ai])) for ci, c in enumerate(cat)
-                        for ai, a in enumerate(ani) if p.zeta[k, ci, ai])
-        return lam, zeta
+        return lam
 
     # ------------------------------------------------------------------ evaluation
 

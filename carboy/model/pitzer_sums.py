@@ -67,6 +67,23 @@ def charge_pairs(zs: np.ndarray) -> list[tuple[int, int, np.ndarray]]:
     return out
 
 
+def triplets(p) -> list[tuple[int, int, int, float]]:
+    """ψ (two like-signed ions and one other) and ζ (a neutral, a cation, an anion) of a
+    ``ParameterArrays`` as (i, j, k, v), indices into the species: in every sum each
+    member takes v times the product of the other two (so one list serves both)."""
+    trip = []
+    for group, other, arr in ((p.cat, p.ani, p.psi_c), (p.ani, p.cat, p.psi_a)):
+        for a, i in enumerate(group):
+            for b in range(a + 1, len(group)):
+                trip.extend((int(i), int(group[b]), int(o), float(arr[a, b, k]))
+                            for k, o in enumerate(other) if arr[a, b, k])
+    for k, n in enumerate(p.neu):
+        trip.extend((int(n), int(c), int(a), float(p.zeta[k, ci, ai]))
+                    for ci, c in enumerate(p.cat) for ai, a in enumerate(p.ani)
+                    if p.zeta[k, ci, ai])
+    return trip
+
+
 class _Block:
     """A stack of K matrices between the row ions ``rows`` and the column ions ``cols``
     (indices into the model's species), laid out for ``Σ_col m_col M[k, row, col]``."""
@@ -91,7 +108,6 @@ class ArraySums:
         p, z = model._p, model._z
         self.n = len(z)
         self.z2, self.az = z * z, np.abs(z)
-        self.cat, self.ani, self.neu = p.cat, p.ani, p.neu
         terms = binary_terms(p)
         alphas = sorted({a for a, _ in terms if a is not None} | {2.0})
         self.alphas = np.array(alphas)
@@ -120,16 +136,7 @@ class ArraySums:
 
     def _triplets(self, p) -> None:
         """ψ and ζ as triplets (i, j, k, v), grouped by (i, j): V (G, S) holds Σ_k v."""
-        trip = []
-        for group, other, arr in ((p.cat, p.ani, p.psi_c), (p.ani, p.cat, p.psi_a)):
-            for a, i in enumerate(group):
-                for b in range(a + 1, len(group)):
-                    trip.extend((int(i), int(group[b]), int(o), float(arr[a, b, k]))
-                                for k, o in enumerate(other) if arr[a, b, k])
-        for k, n in enumerate(p.neu):
-            trip.extend((int(n), int(c), int(a), float(p.zeta[k, ci, ai]))
-                        for ci, c in enumerate(p.cat) for ai, a in enumerate(p.ani)
-                        if p.zeta[k, ci, ai])
+        trip = triplets(p)
         groups = sorted({(i, j) for i, j, _, _ in trip})
         self.tri_i = np.array([g[0] for g in groups], dtype=int)
         self.tri_j = np.array([g[1] for g in groups], dtype=int)
