@@ -37,6 +37,7 @@ ligand at the lumped totals come from alternating mass balances
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -49,8 +50,16 @@ from carboy.model.pitzer_data import load_pitzer_data
 from carboy.model.solver.bracketed import coupled_then_nested, solve_nested
 from carboy.model.solver.charge_balance import species_at
 from carboy.model.solver.constants import COUPLED_ITER, LN10
+from carboy.model.solver.coupled import solve_coupled
 from carboy.model.solver.layout import R_J_MOL_K, T_REF_K, Layout
-from carboy.model.solver.pair_table import MAX_OUTER, OUTER_TOL, SPLIT_ROUNDS, Pair, Table
+from carboy.model.solver.pair_table import (
+    LAGGED_ROUNDS,
+    MAX_OUTER,
+    OUTER_TOL,
+    SPLIT_ROUNDS,
+    Pair,
+    Table,
+)
 from carboy.model.solver.problem import Problem
 from carboy.model.solver.single_pairs import solve_pairs_one
 
@@ -291,7 +300,7 @@ def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic, solved=None) 
     plain-Python loop (``single_pairs``) where it takes them: numpy's per-call cost
     would dominate, some 0.3 ms a round whatever the number of points."""
     tab = table_of(pr0.lay, "davies", temperature_c)
-    few = _pairs_each(pr0, tab) if x.shape[0] <= PYTHON_PAIRS_MAX else None
+    few = _pairs_each(pr0, tab, x, ionic, solved) if x.shape[0] <= PYTHON_PAIRS_MAX else None
     if few is not None:
         return few
     s, n = pr0.lay.flat_j.shape[0], x.shape[0]
@@ -303,6 +312,10 @@ def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic, solved=None) 
         inner = _inner(pr0, terms)
         if rounds == 1 and solved is not None:
             ok = np.asarray(solved, dtype=bool)
+        elif rounds <= LAGGED_ROUNDS:   # one Newton step from the last round's roots
+            xs, i_s, ok, _ = solve_coupled(inner, max_iter=1, x0=x, i0=ionic)
+            fine = np.isfinite(xs) & np.isfinite(i_s)
+            x, ionic, ok = np.where(fine, xs, x), np.where(fine, i_s, ionic), ok & fine
         else:   # from the last round's roots: the coupled iteration, then the guaranteed path
             x, ionic, ok, _ = coupled_then_nested(inner, x, ionic, COUPLED_ITER)
         table, ad, systems = lumped_table(inner, tab, x, ionic)
@@ -320,9 +333,9 @@ PYTHON_PAIRS_MAX = 16
 """Batches with pairs up to this many points take the plain-Python outer loop."""
 
 
-def _pairs_each(pr0: Problem, tab: Table) -> Outcome | None:
+def _pairs_each(pr0: Problem, tab: Table, x, ionic, solved) -> Outcome | None:
     """:func:`solve_with_pairs` point by point in plain Python
-    (``single_pairs.solve_pairs_one``, from its own cold start), or None where that path
+    (``single_pairs.solve_pairs_one``, from the same starts), or None where that path
     cannot take every point (held systems, metals, a layout it does not know, a round
     without a root)."""
     lay = pr0.lay
@@ -331,8 +344,13 @@ def _pairs_each(pr0: Problem, tab: Table) -> Outcome | None:
         return None
     pkw = float(pr0.pkw)
     got = []
-    for row in pr0.totals.tolist():
-        one = solve_pairs_one(lay, tab, row, pkw, pr0.a_dh, max_iter=COUPLED_ITER)
+    at_root = [False] * x.shape[0] if solved is None else np.asarray(solved, bool).tolist()
+    for row, x0, i0, root in zip(pr0.totals.tolist(), x.tolist(), ionic.tolist(), at_root,
+                                 strict=True):
+        started = math.isfinite(x0) and math.isfinite(i0)
+        one = solve_pairs_one(lay, tab, row, pkw, pr0.a_dh, max_iter=COUPLED_ITER,
+                              x0=x0 if started else None,
+                              i0=max(i0, 1e-12) if started else None, at_root=root and started)
         if one is None:
             return None
         got.append(one)

@@ -16,6 +16,12 @@ OUTER_TOL = 1e-9
 """The outer loop has settled a point when no term moved more than this (log10)."""
 MAX_OUTER = 60
 """Rounds of the outer loop before a point is reported unsettled."""
+LAGGED_ROUNDS = 12
+"""Rounds of the Davies pairs' outer loops (``outer``, ``single_pairs``) that take one
+Newton step of the inner problem each (its root and the pairs' terms settle together:
+each round's step is taken with the last round's terms); later rounds solve the inner
+problem in full.  A point settles on the same test either way: its Newton step accepted
+at terms that then moved no more than ``OUTER_TOL``."""
 SPLIT_ROUNDS = 200
 """Alternating mass-balance rounds that split a lumped row into free ions and pairs."""
 
@@ -46,4 +52,4 @@ class Table:
     state_water: np.ndarray     # (S,) water each state's formation from the top takes
 
 
-__all__ = ["MAX_OUTER", "OUTER_TOL", "SPLIT_ROUNDS", "Pair", "Table"]
+__all__ = ["LAGGED_ROUNDS", "MAX_OUTER", "OUTER_TOL", "SPLIT_ROUNDS", "Pair", "Table"]

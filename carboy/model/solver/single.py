@@ -314,6 +314,19 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
     iterations)``, or ``None`` when it did not get there within ``max_iter`` steps (the
     caller then takes the vectorized solve).
     """
+    x, ionic, it, done = iterate_one(lay, row, pkw, a_dh, held, max_iter=max_iter, x0=x0,
+                                     i0=i0, extra=extra, systems=systems,
+                                     ispec_add=ispec_add)
+    return (x, ionic, it) if done else None
+
+
+def iterate_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
+                max_iter: int = COUPLED_ITER, x0: float | None = None,
+                i0: float | None = None, extra: tuple = (), systems=None,
+                ispec_add: float = 0.0):
+    """:func:`solve_one`'s iteration: ``(x, ionic, iterations, done)``, where not done
+    (no step accepted within ``max_iter``) x and ionic are the last iterate (an outer
+    loop that takes one step a round goes on from there)."""
     held = held or {}
     systems, zs_pos, zs_neg, ispec, q, p = _inputs(lay, row, held, extra, systems)
     ispec += ispec_add
@@ -355,10 +368,10 @@ def solve_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
                 not davies or abs(inew - ionic) <= I_RTOL * max(inew, 1e-12)) or (
                 exact and size <= QUADRATIC_MAX
                 and size * size * size <= PREDICTED_ERROR * last * last):
-            return x + dx, inew, it   # the Newton step itself, never a guarded one
+            return x + dx, inew, it, True   # the Newton step itself, never a guarded one
         last = size if exact and xn == x + dx else 0.0   # (coupled._quadratic)
         x, ionic = xn, inew
-    return None
+    return x, ionic, max_iter, False
 
 
 def solve_each(pr, x0=None, i0=None, *, chain: bool = False, max_iter: int = COUPLED_ITER):

@@ -18,8 +18,15 @@ from dataclasses import dataclass
 from carboy.model.activity import davies_d_float
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.layout import Layout, python_systems
-from carboy.model.solver.pair_table import MAX_OUTER, OUTER_TOL, SPLIT_ROUNDS, Table
-from carboy.model.solver.single import solve_one
+from carboy.model.solver.mixing import anderson
+from carboy.model.solver.pair_table import (
+    LAGGED_ROUNDS,
+    MAX_OUTER,
+    OUTER_TOL,
+    SPLIT_ROUNDS,
+    Table,
+)
+from carboy.model.solver.single import iterate_one
 
 
 @dataclass(frozen=True)
@@ -36,32 +43,44 @@ class PairsSolved:
 
 
 def solve_pairs_one(lay: Layout, tab: Table, row, pkw: float, a_dh: float, *,
-                    max_iter: int) -> PairsSolved | None:
+                    max_iter: int, x0: float | None = None, i0: float | None = None,
+                    at_root: bool = False) -> PairsSolved | None:
     """The Davies path with the pairs of ``tab`` for one solution (``row``: totals in
-    the layout's column order), or None where this path cannot take it."""
+    the layout's column order), or None where this path cannot take it.  ``x0`` and
+    ``i0`` start the first round (``at_root``: they are its root, the solution without
+    pairs, solved already); rounds up to ``outer.LAGGED_ROUNDS`` after the first take
+    one Newton step each, as the vectorized loop's do."""
     if not lay.python_path or not tab.pairs:
         return None
     n_states = len(tab.state_cols)
-    shift, pkw_eff, corr = [0.0] * n_states, pkw, 0.0
-    x0 = i0 = None
+    # the terms of a round: each state's lift, pKw and the spectators' I correction
+    terms = [0.0] * n_states + [pkw, 0.0]
+    x, ionic = x0, i0
+    prev = None
     conv, rounds = False, 0
     for rounds in range(1, MAX_OUTER + 1):  # noqa: B007 (used after the loop)
-        systems = _lifted(lay, shift)
-        got = solve_one(lay, row, pkw_eff, a_dh, max_iter=max_iter, x0=x0, i0=i0,
-                        systems=systems, ispec_add=corr)
-        if got is None:
-            return None
-        x0, i0, _ = got
-        ad = a_dh * davies_d_float(i0)
-        table, fractions = _lumped(lay, tab, systems, row, x0, ad, pkw_eff)
+        systems = _lifted(lay, terms[:n_states])
+        pkw_eff = terms[n_states]
+        if rounds == 1 and at_root:
+            done = True
+        else:
+            lagged = rounds > 1 and rounds <= LAGGED_ROUNDS
+            x, ionic, _, done = iterate_one(
+                lay, row, pkw_eff, a_dh, max_iter=1 if lagged else max_iter, x0=x, i0=ionic,
+                systems=systems, ispec_add=terms[-1])
+            if not (done or lagged):
+                return None
+        ad = a_dh * davies_d_float(ionic)
+        table, fractions = _lumped(lay, tab, systems, row, x, ad, pkw_eff)
         lift, corr = _split(tab, table, ad)
-        new_pkw = pkw - lift[-1]
-        moved = max([abs(a - b) for a, b in zip(lift, shift)] + [abs(new_pkw - pkw_eff)])
-        conv = moved <= OUTER_TOL
-        shift, pkw_eff = lift[:-1], new_pkw
+        new = lift[:-1] + [pkw - lift[-1], corr]
+        conv = done and max(abs(a - b) for a, b in zip(new[:-1], terms[:-1])) <= OUTER_TOL
         if conv:
             break
-    return PairsSolved(x0, i0, rounds, conv, table, fractions, ad)
+        # the next terms: the secant (Anderson) step through the last two rounds (the
+        # map contracts linearly; the test above is on the plain map's move only)
+        terms, prev = anderson(terms, new, prev), (terms, new)
+    return PairsSolved(x, ionic, rounds, conv, table, fractions, ad)
 
 
 def _lifted(lay: Layout, shift: list) -> tuple:
