@@ -17,7 +17,7 @@ from dataclasses import dataclass
 
 from carboy.model.activity import davies_d_float
 from carboy.model.solver.constants import LN10
-from carboy.model.solver.layout import Layout, python_systems
+from carboy.model.solver.layout import Layout
 from carboy.model.solver.mixing import anderson
 from carboy.model.solver.pair_table import (
     LAGGED_ROUNDS,
@@ -84,19 +84,22 @@ def solve_pairs_one(lay: Layout, tab: Table, row, pkw: float, a_dh: float, *,
 
 
 def _lifted(lay: Layout, shift: list) -> tuple:
-    """``Layout.py_systems`` with each state's log10 weight raised by its ``shift``."""
+    """``Layout.py_systems`` with each state's log10 weight raised by its ``shift`` (the
+    closed forms' ln10-scaled weights with it, as ``layout.python_systems`` makes them)."""
     if not any(shift):
         return lay.py_systems
     out = []
     for system, (a, b) in zip(lay.py_systems, lay.sys_slices):
-        col, states = system[:2]
         lifts = shift[a:b]
         if not any(lifts):
             out.append(system)
             continue
-        zs = [int(zp - zn) for _, _, _, zp, zn, _ in states]
-        lb = [[st[0] + d for st, d in zip(states, lifts)]]
-        out.append(python_systems([col], [zs], lb, [[st[1] for st in states]])[0])
+        col, states, neg_cap, pos_cap, fast = system
+        states = tuple((st[0] + d, *st[1:]) for st, d in zip(states, lifts))
+        if fast is not None:
+            fast = (fast[0], fast[1], tuple((LN10 * st[0], *f[1:])
+                                            for f, st in zip(fast[2], states[1:])))
+        out.append((col, states, neg_cap, pos_cap, fast))
     return tuple(out)
 
 
