@@ -169,3 +169,29 @@ def test_pairs_warnings_point_by_point(catalog):
         one = sp.speciate(Mixture({"Na+": 2 * v, "sulfate": v}), catalog=catalog)
         assert res.warnings[n] == one.warnings
         assert any("outside" in w for w in one.warnings) == high[n]
+
+
+@pytest.mark.parametrize("few", [False, True])
+def test_pairs_rounds_of_one_newton_step_settle_where_full_solves_do(catalog, monkeypatch,
+                                                                     few):
+    """The pairs' outer loops take one Newton step a round (``LAGGED_ROUNDS``): the states
+    they settle on are those of rounds that solve the inner problem in full, on the
+    vectorized loop and on the plain-Python one (``few``)."""
+    import carboy.model.solver.outer as outer
+    import carboy.model.solver.single_pairs as single_pairs
+    from carboy.model.mixture import titration_batch
+
+    sample = Mixture({"sulfate": 0.08, "K+": 0.03, "phosphate": 0.01, "Cl-": 0.2,
+                      "NO3-": 0.05}, volume_l=1.0)
+    n = [0.0, 0.05, 0.1, 0.2, 0.25, 0.3] if few else list(np.linspace(0.0, 0.4, 60))
+    batch, _ = titration_batch(sample, {"Na+": 1.0}, n, 0.0)
+    if not few:
+        monkeypatch.setattr(outer, "PYTHON_PAIRS_MAX", 0)
+    lagged = sp.speciate_batch(batch, catalog=catalog)
+    monkeypatch.setattr(outer, "LAGGED_ROUNDS", 0)
+    monkeypatch.setattr(single_pairs, "LAGGED_ROUNDS", 0)
+    full = sp.speciate_batch(batch, catalog=catalog)
+    assert "NaSO4-" in lagged.species_labels
+    assert lagged.converged.all() and full.converged.all()
+    assert abs(lagged.pH - full.pH).max() <= 1e-9
+    assert lagged.species_molar == pytest.approx(full.species_molar, rel=1e-8, abs=1e-14)
