@@ -261,9 +261,11 @@ def _start(ps: list[_Cation], total: np.ndarray) -> np.ndarray:
     return np.log10(np.where(total > 0, f, 1.0))
 
 
-def _search(ps: list[_Cation], total: np.ndarray, both=None, v_both=None):
+def _search(ps: list[_Cation], total: np.ndarray, both=None, v_both=None, start=None):
     """log10 F at every point (-inf where the system is absent; ``v_both`` where
-    ``both``), and each cation's :class:`_AtF` there (None: not worked out)."""
+    ``both``), and each cation's :class:`_AtF` there (None: not worked out); the search
+    starts from ``start`` where it is given and inside the bracket (the last trial
+    point's F: a start only saves steps, the stopping test is the same)."""
     pos = total > 0
     done = ~pos
     if both is not None:
@@ -273,6 +275,8 @@ def _search(ps: list[_Cation], total: np.ndarray, both=None, v_both=None):
     hi = np.log10(np.where(pos, total, 1.0))
     lo = hi - LIGAND_SPAN
     v = np.minimum(_start(ps, total), hi)
+    if start is not None:
+        v = np.where((start > lo) & (start < hi), start, v)   # NaN: False
     v = np.where(pos, v, -np.inf)   # an absent system: no free ligand
     if both is not None:
         v = np.where(both, v_both, v)
@@ -302,9 +306,10 @@ def _search(ps: list[_Cation], total: np.ndarray, both=None, v_both=None):
 
 
 def with_complexes(acc, cp: ComplexPlan, tot, x, ad, log_kw, ligands, precipitate: bool,
-                   data: MetalData) -> None:
+                   data: MetalData, ligand_start=None) -> None:
     """Add the complexing cations' terms (species, solids, the ligands' corrections and
-    every derivative) to ``acc`` (``metals._Accumulator``)."""
+    every derivative) to ``acc`` (``metals._Accumulator``); ``ligand_start`` see
+    :func:`carboy.model.metals.state_of`."""
     lig = ligands[cp.system]
     total = lig.total_molar
     jv, cv, wl = ladder(tuple(lig.charges))
@@ -315,7 +320,9 @@ def with_complexes(acc, cp: ComplexPlan, tot, x, ad, log_kw, ligands, precipitat
                    log_oh_act, lig, (got[0], got[1]), others, precipitate, data)
           for cx, salts in zip(cp.complexes, cp.salts, strict=True)]
     both, v_both, slopes = _both_solids(ps, total)
-    v, found = _search(ps, total, both, v_both)
+    v, found = _search(ps, total, both, v_both, ligand_start)
+    if ligand_start is not None:
+        ligand_start[:] = np.where(np.isfinite(v), v, np.nan)
     f = np.exp(LN10 * v)
     states = list(zip(ps, found or [_at_f(p, v) for p in ps], strict=True))
     parts = [_partials(p, s) for p, s in states]

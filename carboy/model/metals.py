@@ -190,16 +190,20 @@ def metal_state(totals: Mapping[str, object], x, *, ad=0.0, log_kw=-PKW25,
 
 
 def state_of(tot: Mapping[str, np.ndarray], x, ad, log_kw, ligands: Mapping[str, LigandAtX],
-             precipitate: bool, data: MetalData, *, detail: bool = True):
+             precipitate: bool, data: MetalData, *, detail: bool = True,
+             ligand_start=None):
     """:func:`metal_state` of checked arrays (the solver's entry: no validation).
 
     With ``detail`` False only the sums are worked out (the solver's trial points): a
-    dict of the arrays named as :class:`MetalState`'s charge and derivative fields."""
+    dict of the arrays named as :class:`MetalState`'s charge and derivative fields.
+    ``ligand_start`` (N,), where given, is where the complexes' search on the free
+    ligand starts (NaN: its own start), and gets the free ligand found (in place)."""
     acc = _Accumulator(x.shape, detail)
     cp = complex_plan(data, tuple(tot), ligands) if data.complexes else None
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         if cp is not None:
-            with_complexes(acc, cp, tot, x, ad, log_kw, ligands, precipitate, data)
+            with_complexes(acc, cp, tot, x, ad, log_kw, ligands, precipitate, data,
+                           ligand_start)
         for key, c in tot.items():
             if cp is not None and key in cp.cations:
                 continue

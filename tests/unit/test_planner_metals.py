@@ -217,11 +217,11 @@ def test_where_lime_and_gypsum_both_cap_calcium_the_ligand_search_is_short(monke
     steps = []
     real_search, real_at = mc._search, mc._at_f
 
-    def counted(ps, total, both=None, v_both=None):
+    def counted(ps, total, both=None, v_both=None, start=None):
         calls = []
         monkeypatch.setattr(mc, "_at_f", lambda *a: calls.append(1) or real_at(*a))
         try:
-            return real_search(ps, total, both, v_both)
+            return real_search(ps, total, both, v_both, start)
         finally:
             monkeypatch.setattr(mc, "_at_f", real_at)
             steps.append(len(calls) // len(ps))

@@ -191,7 +191,7 @@ def moments(x, ad, log_kw, lay: Layout, am: Amounts, want_jac: bool = False):
     sums = _einsum("ws,sn->wn", lay.row_w, conc)
     if lay.metals is not None and am.metal is not None:
         add_terms(lay.metals, am.metal, x, ad, log_kw, ligands_at(lay.metals, e, s0, ceff),
-                  sums, d_x, d_ad)
+                  sums, d_x, d_ad, am.ligand_start)
     return sums, d_x, d_ad, ceff
 
 

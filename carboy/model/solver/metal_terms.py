@@ -116,14 +116,15 @@ def _totals(ml: MetalLayout, metal: np.ndarray) -> dict:
 
 
 def add_terms(ml: MetalLayout, metal: np.ndarray, x, ad, log_kw, ligands, sums, d_x,
-              d_ad) -> None:
+              d_ad, ligand_start=None) -> None:
     """Add the metals' terms to the charge sums ``sums`` (3, N: POS and NEG less the
     spectators, Σ c z²), their x-derivatives ``d_x`` and (unless None) their
     A·D-derivatives ``d_ad``, in place.  ``ad`` None: ideal; ``log_kw`` is the
-    conditional log10 Kw' of the solver."""
+    conditional log10 Kw' of the solver; ``ligand_start`` (``Amounts.ligand_start``)
+    carries the complexes' search from one trial point to the next."""
     ad0 = np.zeros(x.shape) if ad is None else ad
     got = state_of(_totals(ml, metal), x, ad0, log_kw - 2.0 * ad0, ligands, True, ml.data,
-                   detail=False)
+                   detail=False, ligand_start=ligand_start)
     sums[0] += got["pos"] + got["ligand_pos"]
     sums[1] += got["neg"] + got["ligand_neg"]
     sums[2] += got["iz2"] + got["ligand_iz2"]

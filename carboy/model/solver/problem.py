@@ -40,14 +40,18 @@ class Amounts:
     shift: np.ndarray | None = None      # (S, N) log10 term added to each state's weight
     # (set by an outer loop: the specific-interaction coefficients, or ion pairs lumped
     # into the state they hold; see solver.outer)
+    ligand_start: np.ndarray | None = None   # (N,) with metal complexes: log10 of the
+    # free ligand at the last trial point (NaN: none yet), where the next trial's search
+    # starts (``metal_complexes``, which writes it in place); a start only saves steps
 
     def __getitem__(self, idx) -> Amounts:
         metal = None if self.metal is None else self.metal[:, idx]
         shift = None if self.shift is None else self.shift[:, idx]
+        start = None if self.ligand_start is None else self.ligand_start[idx]
         if self.held is None:
-            return Amounts(self.c[:, idx], metal=metal, shift=shift)
+            return Amounts(self.c[:, idx], metal=metal, shift=shift, ligand_start=start)
         return Amounts(self.c[:, idx], self.held[:, idx], self.mask, self.j0, self.c0,
-                       self.e0_col, metal, shift)
+                       self.e0_col, metal, shift, start)
 
 
 def _held_value(lay: Layout, key: str, spec, n: int) -> tuple[int, int, np.ndarray]:
@@ -179,7 +183,9 @@ def build_problem(lay: Layout, totals: np.ndarray, held, pkw: float, a_dh: float
     p = zs_pos + _weighted(c_sys.T, np.maximum(lay.sys_zmax, 0.0))
     if lay.metals is not None:
         c_metal = totals[:, lay.metals.cols]
-        am = replace(am, metal=np.ascontiguousarray(c_metal.T))
+        am = replace(am, metal=np.ascontiguousarray(c_metal.T),
+                     ligand_start=np.full(c_metal.shape[0], np.nan)
+                     if lay.metals.data.complexes else None)
         q = q + _weighted(c_metal, lay.metals.qneg)
         p = p + _weighted(c_metal, lay.metals.z)
     return Problem(lay, am, zs_pos, zs_neg, ispec, q, p, pkw, a_dh, totals,
