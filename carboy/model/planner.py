@@ -150,7 +150,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     demand, reach = _reagent_reach(req, start, _proton_demand(req, start))
     settled = settle_activity(req, demand.n_full)   # "auto": one model for the whole plan
     if settled.activity != req.activity:   # the sample's state too (a solid's fallback)
-        start = _start(settled)
+        start = _start(settled, start)
     req = settled
     dosing = _bicarbonate_ceiling(req, reach, _find_doses(req, start, demand))
     curve_res, curve_vol = _solve_curve(req, dosing)
@@ -199,27 +199,31 @@ class _Start:
     initial_pH: float
     direction: str        # "base" (the pH must rise) or "acid"
     capacity: int         # protons one formula unit of reagent moves that way
+    model_used: str = ""  # the activity model the sample's state was solved with
+    own_pH: float = float("nan")   # the reagent's own pH (Davies)
 
 
-def _start(req: PlanRequest) -> _Start:
+def _start(req: PlanRequest, before: _Start | None = None) -> _Start:
     """Step 2: the sample's pH and direction; InvalidInput for a reagent that cannot
-    move the pH towards the target (judged by its capacity and its own pH)."""
+    move the pH towards the target (judged by its capacity and its own pH).  ``before``:
+    the start worked out with another activity choice ("auto" before it was settled);
+    its state of the sample is taken where it was solved with the model now asked (the
+    same solve), and the reagent's own pH (Davies either way) always."""
     reagent, target = req.reagent, req.target
     model = gas.TitrationModel(req.sample, dict(reagent.compound.composition),
                                reagent.l_per_mol, activity=req.activity, catalog=req.catalog)
-    initial_pH = float(model.forward([0.0]).pH[0])
+    if before is not None and before.model_used == req.activity:
+        initial_pH, used = before.initial_pH, before.model_used
+    else:
+        state = model.forward([0.0])
+        initial_pH, used = float(state.pH[0]), model_used(req.activity, state.result)
     direction = "base" if initial_pH < target else "acid"
     refused = caution_rules.refuse_plan(req.sample.totals, req.hazards, initial_pH, target,
                                         direction)
     if refused:
         raise HazardRefused("a neutralization plan", refused)
     capacity = reagent.base_capacity if direction == "base" else reagent.acid_capacity
-    # the reagent's own pH only says which way it moves a batch: the Davies form is
-    # enough (a concentrate would send auto to the Pitzer model for a rough figure)
-    own = gas.TitrationModel(Mixture.from_compounds(
-        [(reagent.compound, reagent.conc_molar or 1.0)], volume_l=1.0,
-        temperature_c=req.temperature_c), {}, 0.0, activity="davies", catalog=req.catalog)
-    own_pH = float(own.forward([0.0]).pH[0])
+    own_pH = before.own_pH if before is not None else _own_pH(req)
     wrong = capacity <= 0 or (own_pH <= target if direction == "base" else own_pH >= target)
     if wrong:
         need = "a base" if direction == "base" else "an acid"
@@ -228,7 +232,17 @@ def _start(req: PlanRequest) -> _Start:
             f"the sample is at pH {initial_pH:.2f} and needs {need} to reach pH {target:g}; "
             f"{reagent.key} (its own pH about {own_pH:.1f}) cannot move it that way: choose "
             f"{caution_rules.stronger_reagent_words(direction, reagent.key)}", field="reagent")
-    return _Start(model, initial_pH, direction, capacity)
+    return _Start(model, initial_pH, direction, capacity, used, own_pH)
+
+
+def _own_pH(req: PlanRequest) -> float:  # noqa: N802
+    """The reagent's own pH: it only says which way it moves a batch, so the Davies form
+    is enough (a concentrate would send auto to the Pitzer model for a rough figure)."""
+    reagent = req.reagent
+    own = gas.TitrationModel(Mixture.from_compounds(
+        [(reagent.compound, reagent.conc_molar or 1.0)], volume_l=1.0,
+        temperature_c=req.temperature_c), {}, 0.0, activity="davies", catalog=req.catalog)
+    return float(own.forward([0.0]).pH[0])
 
 
 @dataclass(frozen=True)

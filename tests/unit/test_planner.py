@@ -171,3 +171,30 @@ def test_cyanide_and_sulfide_waste_must_never_be_acidified(compound):
     codes = [c.code for c in p.cautions]
     assert "never-acidify" in codes and "not-a-drain-plan" in codes
     assert not p.drain_plan
+
+
+@pytest.mark.parametrize("activity", ["auto", "davies"])
+def test_the_sample_is_solved_once_when_auto_settles_on_its_model(monkeypatch, activity):
+    """``auto`` settled for the plan on the model the sample's own state was solved with:
+    the start is not worked out again (one solve of the sample, one of the reagent's own
+    pH), and the plan is the one ``davies`` gives."""
+    from carboy.model import gas
+
+    alone = []
+    real = gas.TitrationModel.forward
+
+    def counted(self, n, **kw):
+        if np.size(n) == 1 and float(np.ravel(n)[0]) == 0.0 and not kw:
+            alone.append(self.activity)
+        return real(self, n, **kw)
+
+    monkeypatch.setattr(gas.TitrationModel, "forward", counted)
+    sample = Mixture({"Cl-": 0.2, "sulfate": 0.05}, volume_l=2.0)
+    plan = plan_neutralization(sample, parse_reagent("NaOH=1M"), activity=activity)
+    assert len(alone) == 2, alone   # the sample (as asked) and the reagent (Davies)
+    assert plan.activity_model == "davies"
+    if activity == "auto":
+        monkeypatch.setattr(gas.TitrationModel, "forward", real)
+        ref = plan_neutralization(sample, parse_reagent("NaOH=1M"), activity="davies")
+        assert plan.initial_pH == ref.initial_pH
+        assert plan.to_target.reagent_mol == ref.to_target.reagent_mol
