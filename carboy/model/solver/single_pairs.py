@@ -107,13 +107,14 @@ def _lumped(lay: Layout, tab: Table, systems, row, x: float, ad: float, pkw_eff:
     """The Table's columns at the root (pairs still lumped in their ligands, pair
     columns 0) and each system's (lumped) fractions."""
     tad = 2.0 * ad
-    table = [0.0] * len(tab.labels)
+    plain = _plain(tab)
+    table = [0.0] * plain.columns
     table[0] = 10.0 ** x
     table[1] = 10.0 ** (tad - pkw_eff - x)
-    for (col, _), c in zip(lay.py_ions, tab.ion_cols.tolist()):
+    for (col, _), c in zip(lay.py_ions, plain.ion_cols):
         table[c] += row[col]
     fractions = []
-    cols = tab.state_cols.tolist()
+    cols = plain.state_cols
     for (col, states, _, _, _), (a, _) in zip(systems, lay.sys_slices):
         es = [math.exp((lb0 - tad * cc - st * x) * LN10) for lb0, cc, st, _, _, _ in states]
         inv = 1.0 / sum(es)
@@ -128,26 +129,67 @@ def _split(tab: Table, table: list, ad: float):
     """Split the lumped ``table`` in place into free ions and pairs (see
     ``outer.pair_shares``): (the lift of each state and, last, of OH-, the
     ionic-strength correction)."""
-    z2 = [z * z for z in tab.charges.tolist()]
-    ion_cols, state_cols = tab.ion_cols.tolist(), tab.state_cols.tolist()
-    cols = [(ion_cols[p.ion], 1 if p.state < 0 else state_cols[p.state], c)
-            for p, c in zip(tab.pairs, tab.pair_cols.tolist())]
-    k = [10.0 ** (p.log_k - ad * (z2[m] + z2[lc] - z2[pc]))
-         for p, (m, lc, pc) in zip(tab.pairs, cols)]
-    amount, factor = _amounts(k, [table[m] for m, _, _ in cols],
-                              [table[lc] for _, lc, _ in cols], cols)
-    lift = [0.0] * (len(state_cols) + 1)
+    plain = _plain(tab)
+    pairs = plain.pairs
+    k = [10.0 ** (log_k - ad * dzz) for _, _, _, log_k, dzz, _, _ in pairs]
+    amount, factor = _amounts(k, [table[m] for m, *_ in pairs],
+                              [table[lc] for _, lc, *_ in pairs], plain)
+    lift = [0.0] * (len(plain.state_cols) + 1)
     corr = 0.0
     done: set = set()
-    for a, (p, (m, lc, pc)) in enumerate(zip(tab.pairs, cols)):
+    for a, (m, lc, pc, _, _, dz2, state) in enumerate(pairs):
         table[pc] += amount[a]
         table[m] -= amount[a]
-        corr -= 0.5 * p.dz2 * amount[a]
+        corr -= 0.5 * dz2 * amount[a]
         if lc not in done:
             done.add(lc)
             table[lc] /= factor[a]
-            lift[p.state] = math.log10(factor[a])   # state -1 is the OH- row (last)
+            lift[state] = math.log10(factor[a])   # state -1 is the OH- row (last)
     return lift, corr
+
+
+@dataclass(frozen=True)
+class _Plain:
+    """A :class:`Table` as plain Python lists for this module's loops (made once per
+    table): its columns' count, the spectators' and the states' columns, per pair
+    (cation column, ligand column, pair column, log K, z_M² + z_L² - z_P² by column,
+    ``Pair.dz2``, ligand state), and how the pairs share their ions (``kind``: "own"
+    where none shares one, "one ligand", else "shared" with each pair's partners)."""
+
+    columns: int
+    ion_cols: list
+    state_cols: list
+    pairs: tuple
+    kind: str
+    same_l: tuple
+    same_m: tuple
+
+
+_PLAIN: dict = {}
+
+
+def _plain(tab: Table) -> _Plain:
+    hit = _PLAIN.get(id(tab))
+    if hit is not None and hit[0] is tab:
+        return hit[1]
+    z2 = [z * z for z in tab.charges.tolist()]
+    ion_cols, state_cols = tab.ion_cols.tolist(), tab.state_cols.tolist()
+    pairs = []
+    for p, pc in zip(tab.pairs, tab.pair_cols.tolist()):
+        m, lc = ion_cols[p.ion], 1 if p.state < 0 else state_cols[p.state]
+        pairs.append((m, lc, pc, p.log_k, z2[m] + z2[lc] - z2[pc], p.dz2, p.state))
+    m_key, l_key = [q[0] for q in pairs], [q[1] for q in pairs]
+    own_m = len(set(m_key)) == len(m_key)
+    kind = ("own" if own_m and len(set(l_key)) == len(l_key)
+            else "one ligand" if own_m and len(set(l_key)) == 1 else "shared")
+    same_l = tuple(tuple(b for b in range(len(l_key)) if l_key[b] == la) for la in l_key)
+    same_m = tuple(tuple(b for b in range(len(m_key)) if m_key[b] == ma) for ma in m_key)
+    plain = _Plain(len(tab.labels), ion_cols, state_cols, tuple(pairs), kind, same_l,
+                   same_m)
+    if len(_PLAIN) >= 64:
+        _PLAIN.clear()
+    _PLAIN[id(tab)] = (tab, plain)
+    return plain
 
 
 def _one_ligand(k: list, metal: list, lig: float):
@@ -170,12 +212,11 @@ def _one_ligand(k: list, metal: list, lig: float):
         [factor] * len(k)
 
 
-def _amounts(k: list, metal: list, lig: list, cols: list):
+def _amounts(k: list, metal: list, lig: list, plain: _Plain):
     """Each pair's amount and, per pair, lumped/free of its ligand (``outer.split_pairs``
     for one point): the closed form where no ion takes part in two pairs, else
     alternating mass balances to a relative change of 1e-13."""
-    m_key, l_key = [c[0] for c in cols], [c[1] for c in cols]
-    if len(set(m_key)) == len(m_key) and len(set(l_key)) == len(l_key):
+    if plain.kind == "own":
         amount, factor = [], []
         for kk, mm, ll in zip(k, metal, lig):
             b = kk * (mm + ll) + 1.0
@@ -183,10 +224,9 @@ def _amounts(k: list, metal: list, lig: list, cols: list):
             amount.append(c)
             factor.append(ll / (ll - c) if ll > 0 else 1.0 + kk * (mm - c))
         return amount, factor
-    if len(set(m_key)) == len(m_key) and len(set(l_key)) == 1:
+    if plain.kind == "one ligand":
         return _one_ligand(k, metal, lig[0])
-    same_l = [[b for b in range(len(l_key)) if l_key[b] == la] for la in l_key]
-    same_m = [[b for b in range(len(m_key)) if m_key[b] == ma] for ma in m_key]
+    same_l, same_m = plain.same_l, plain.same_m
     m_free = list(metal)
     for _ in range(SPLIT_ROUNDS):
         l_free = [lig[a] / (1.0 + sum(k[b] * m_free[b] for b in same_l[a]))
