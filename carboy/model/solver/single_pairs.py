@@ -78,8 +78,9 @@ def solve_pairs_one(lay: Layout, tab: Table, row, pkw: float, a_dh: float, *,
         if conv:
             break
         # the next terms: the secant (Anderson) step through the last two rounds (the
-        # map contracts linearly; the test above is on the plain map's move only)
-        terms, prev = anderson(terms, new, prev), (terms, new)
+        # map contracts linearly; the test above is on the plain map's move only), from
+        # the third round (the first round's move, from no pairs, is off that line)
+        terms, prev = anderson(terms, new, prev), ((terms, new) if rounds > 1 else None)
     return PairsSolved(x, ionic, rounds, conv, table, fractions, ad)
 
 
