@@ -314,7 +314,7 @@ def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic, solved=None) 
             ok = np.asarray(solved, dtype=bool)
         elif rounds <= LAGGED_ROUNDS:   # one Newton step from the last round's roots
             xs, i_s, ok, _ = solve_coupled(inner, max_iter=1, x0=x, i0=ionic)
-            fine = np.isfinite(xs) & np.isfinite(i_s)
+            fine = np.isfinite(xs) & np.isfinite(i_s) & (i_s > 0.0)
             x, ionic, ok = np.where(fine, xs, x), np.where(fine, i_s, ionic), ok & fine
         else:   # from the last round's roots: the coupled iteration, then the guaranteed path
             x, ionic, ok, _ = coupled_then_nested(inner, x, ionic, COUPLED_ITER)

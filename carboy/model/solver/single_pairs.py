@@ -55,6 +55,7 @@ def solve_pairs_one(lay: Layout, tab: Table, row, pkw: float, a_dh: float, *,
     n_states = len(tab.state_cols)
     # the terms of a round: each state's lift, pKw and the spectators' I correction
     terms = [0.0] * n_states + [pkw, 0.0]
+    ispec = sum(0.5 * z * z * row[col] for col, z in lay.py_ions)
     x, ionic = x0, i0
     prev = None
     conv, rounds = False, 0
@@ -65,9 +66,14 @@ def solve_pairs_one(lay: Layout, tab: Table, row, pkw: float, a_dh: float, *,
             done = True
         else:
             lagged = rounds > 1 and rounds <= LAGGED_ROUNDS
-            x, ionic, _, done = iterate_one(
-                lay, row, pkw_eff, a_dh, max_iter=1 if lagged else max_iter, x0=x, i0=ionic,
-                systems=systems, ispec_add=terms[-1])
+            got = iterate_one(lay, row, pkw_eff, a_dh, max_iter=1 if lagged else max_iter,
+                              x0=x, i0=ionic, systems=systems, ispec_add=terms[-1])
+            if lagged and not (got[3] or (got[1] > 0.0 and math.isfinite(got[0] + got[1]))):
+                # a step that leaves the domain (far from the root): this round in full
+                got = iterate_one(lay, row, pkw_eff, a_dh, max_iter=max_iter, x0=x, i0=ionic,
+                                  systems=systems, ispec_add=terms[-1])
+                lagged = False
+            x, ionic, _, done = got
             if not (done or lagged):
                 return None
         ad = a_dh * davies_d_float(ionic)
@@ -79,8 +85,13 @@ def solve_pairs_one(lay: Layout, tab: Table, row, pkw: float, a_dh: float, *,
             break
         # the next terms: the secant (Anderson) step through the last two rounds (the
         # map contracts linearly; the test above is on the plain map's move only), from
-        # the third round (the first round's move, from no pairs, is off that line)
-        terms, prev = anderson(terms, new, prev), ((terms, new) if rounds > 1 else None)
+        # the third round (the first round's move, from no pairs, is off that line); an
+        # ionic-strength correction that would take more than half of what the split
+        # leaves the spectators is the split's own
+        step = anderson(terms, new, prev)
+        if ispec + step[-1] < 0.5 * (ispec + corr):
+            step[-1] = corr
+        terms, prev = step, ((terms, new) if rounds > 1 else None)
     return PairsSolved(x, ionic, rounds, conv, table, fractions, ad)
 
 
