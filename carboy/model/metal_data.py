@@ -31,7 +31,8 @@ PKW25 = pkw(25.0)
 STATUSES = frozenset({"FOUND", "MEMORY", "DERIVED"})
 
 __all__ = ["PKW25", "STATUSES", "Complex", "Hydroxide", "HydroxoSpecies", "LigandSolid", "Metal",
-           "MetalData", "charge_bounds", "metal", "metal_data", "unmodelled_cations"]
+           "MetalData", "charge_bounds", "metal", "metal_data", "modelled_keys",
+           "unmodelled_cations"]
 
 
 @dataclass(frozen=True)
@@ -248,6 +249,15 @@ def metal_data() -> MetalData:
         raise top.fail("ligand_solids", "a salt's cation has no metal record")
     return MetalData(MappingProxyType(metals), solids, frozenset(top.texts("inert_cations")),
                      _complexes(top, metals, solids, catalog))
+
+
+@lru_cache(maxsize=1)
+def modelled_keys() -> frozenset[str]:
+    """The keys of the metals ``metals.toml`` models (``Zn+2`` ...), read without building
+    or checking their records: enough to tell whether a solution holds a modelled metal,
+    so a plan without one never pays for :func:`metal_data` (about 15 ms at a cold
+    start; it reads and checks the whole file, and is read as soon as one is found)."""
+    return frozenset(t.text("key") for t in Table.of_file("metals.toml").tables("metals"))
 
 
 def metal(key: str, data: MetalData | None = None) -> Metal:
