@@ -12,16 +12,21 @@ parsed as before (only slower); a mirror that cannot be read is ignored the same
 ``python -m carboy.model.data_mirror`` writes every mirror, and a test checks that each
 is present, current and equal to what the TOML parser gives.  A file whose parsed data
 JSON cannot carry exactly (a date, a NaN) gets no mirror.
+
+The files are found by :func:`package_file`, a path in the package's folder, rather
+than through :mod:`importlib.resources`, whose imports (zipfile, tempfile ...) cost a
+command about 10 ms at every start; carboy is installed as files, never run from a zip.
 """
 
 from __future__ import annotations
 
 import hashlib
+import importlib
 import json
-from importlib import resources
+import os
 from typing import Any
 
-__all__ = ["MIRROR_FOLDER", "digest", "mirror_name", "mirrored", "mirror_of"]
+__all__ = ["MIRROR_FOLDER", "digest", "mirror_name", "mirrored", "mirror_of", "package_file"]
 
 MIRROR_FOLDER = "parsed"
 """The mirrors' folder inside ``carboy/model/data``."""
@@ -30,6 +35,13 @@ MIRROR_FOLDER = "parsed"
 def digest(text: str) -> str:
     """SHA-256 (hex) of a data file's text, as its mirror records it."""
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def package_file(package: str, *parts: str) -> str:
+    """The path of a file in the folder of the importable ``package`` (a regular or a
+    namespace package: ``carboy.model.data``)."""
+    folder = next(iter(importlib.import_module(package).__path__))
+    return os.path.join(folder, *parts)
 
 
 def mirror_name(name: str) -> str:
@@ -41,8 +53,9 @@ def mirrored(package: str, name: str, text: str) -> dict[str, Any] | None:
     """The parsed data of ``name`` from its mirror when the mirror is of exactly
     ``text``; None otherwise (no mirror, unreadable, or of another text)."""
     try:
-        path = resources.files(package) / MIRROR_FOLDER / mirror_name(name)
-        found = json.loads(path.read_text(encoding="utf-8"))
+        path = package_file(package, MIRROR_FOLDER, mirror_name(name))
+        with open(path, encoding="utf-8") as fh:
+            found = json.loads(fh.read())
     except (OSError, ValueError):
         return None
     if not isinstance(found, dict) or found.get("toml_sha256") != digest(text):

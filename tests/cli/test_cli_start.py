@@ -6,6 +6,7 @@ list's count and ``#ID`` search from the command line; the journal in time order
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 
@@ -37,6 +38,30 @@ def test_a_calculation_loads_neither_the_store_nor_other_commands(argv):
     """Nor pandas, which sqlite-utils would import when it is installed: the cold start
     of `carboy ph` and `carboy neutralize` pays only for what they compute."""
     assert _loaded_by(*argv) == []
+
+
+AVOIDABLE = ("pathlib", "importlib.resources", "zipfile", "tempfile")
+"""Modules a calculation has no use for, each a few ms of a cold start."""
+
+
+@pytest.mark.parametrize("argv", [
+    ("ph", "HCl=0.1M"),
+    ("neutralize", "H2SO4=0.5M", "--volume", "250mL", "--reagent", "NaOH=2M"),
+])
+def test_a_calculation_reads_its_data_files_without_importlib_resources(argv):
+    """Nor pathlib (the error log's, loaded when it is written).  Run without the site
+    module (-S, this process's path given instead): an environment's .pth files may load
+    them before carboy starts."""
+    code = ("import sys, io, contextlib\n"
+            "from carboy.tui.launch import main\n"
+            "with contextlib.redirect_stdout(io.StringIO()): status = main(sys.argv[1:])\n"
+            "assert status == 0, status\n"
+            f"print(' '.join(sorted(set(sys.modules) & set({AVOIDABLE!r}))))")
+    env = dict(os.environ, PYTHONPATH=os.pathsep.join(p for p in sys.path if p))
+    done = subprocess.run([sys.executable, "-S", "-c", code, *argv], capture_output=True,
+                          text=True, timeout=60, env=env)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.split() == []
 
 
 @pytest.mark.parametrize(("argv", "named"), [
