@@ -20,7 +20,7 @@ import numpy as np
 
 from carboy.errors import InvalidInput
 from carboy.model import water
-from carboy.model.metal_doses import MetalDoses
+from carboy.model.metal_index import doses_of
 from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
 from carboy.model.solver.bracketed import next_ionic
 from carboy.model.speciation import BatchSpeciation, speciate_batch, start_along, state_at
@@ -139,7 +139,7 @@ class TitrationModel:
         for j, k in enumerate(self.keys):  # an all-strong system acts as its anion
             if ion_z[j] is None and catalog.systems[k].strong_steps == catalog.systems[k].n_steps:
                 ion_z[j] = catalog.systems[k].bottom_charge
-        self.metals = MetalDoses.of(self.keys, catalog)
+        self.metals = doses_of(self.keys, catalog)
         # modelled metal ions are no spectators: the inverse takes their charge from
         # their hydrolysis and solids (metal_doses)
         for j in (self.metals.cols if self.metals is not None else ()):

@@ -22,7 +22,8 @@ import numpy as np
 
 from carboy.model import water
 from carboy.model.activity import davies_d, debye_huckel_scale
-from carboy.model.metal_data import metal_data, modelled_keys
+from carboy.model.metal_data import metal_data
+from carboy.model.metal_index import modelled_keys
 from carboy.model.metals import LigandAtX, state_of
 
 BRACKET_DOUBLINGS = 80

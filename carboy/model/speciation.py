@@ -93,11 +93,9 @@ from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
     pka_at,
 )
 from carboy.model.solver.layout import compile_layout as _layout  # noqa: F401 (tests)
-from carboy.model.solver.metal_terms import columns as metal_columns
 from carboy.model.solver.outer import table_of
 from carboy.model.solver.problem import Problem, build_problem
 from carboy.model.solver.single import solve_one
-from carboy.model.solver.single_metals import solve_unsaturated
 from carboy.model.solver.single_pairs import solve_pairs_one
 from carboy.model.solver.starts import start_between
 from carboy.model.speciation_models import (
@@ -340,6 +338,8 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
     pkw = water.pkw(t_c)
     a_dh = debye_huckel_scale(activity, t_c)
     if lay.metals is not None:   # the plain-Python path where no solid forms
+        from carboy.model.solver.single_metals import solve_unsaturated  # with the metals
+
         fast = solve_unsaturated(lay, row, pkw, a_dh, max_iter=COUPLED_ITER)
     else:
         fast = solve_one(lay, row, pkw, a_dh, max_iter=COUPLED_ITER) if lay.python_path else None
@@ -535,6 +535,8 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
     ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * sums[2]
     metal_part = {}
     if lay.metals is not None and n:
+        from carboy.model.solver.metal_terms import columns as metal_columns  # with them
+
         cols = metal_columns(lay.metals, metal_states)
         table[len(labels):] = cols.species.T
         labels = labels + lay.metals.labels

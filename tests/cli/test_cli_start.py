@@ -19,13 +19,18 @@ HEAVY = ("carboy.store", "sqlite_utils", "pandas", "textual", "carboy.tui.app",
          "carboy.tui.cli.stock", "carboy.tui.cli.journal", "carboy.tui.cli.prep")
 
 
-def _loaded_by(*argv: str) -> list[str]:
+def _loaded_by(*argv: str, among: tuple[str, ...] = HEAVY, site: bool = True) -> list[str]:
+    """The modules named by (or under) ``among`` that the command ``argv`` loads; with
+    ``site`` False the command runs without the site module (this process's path given
+    instead), so that no .pth file of the environment loads a module before carboy."""
     code = ("import sys, io, contextlib\nfrom carboy.tui.launch import main\n"
             "with contextlib.redirect_stdout(io.StringIO()): status = main(sys.argv[1:])\n"
             "assert status == 0, status\n"
-            f"print(' '.join(sorted(m for m in sys.modules if m.startswith({HEAVY!r}))))")
-    done = subprocess.run([sys.executable, "-c", code, *argv], capture_output=True,
-                          text=True, timeout=60)
+            f"print(' '.join(sorted(m for m in sys.modules if m.startswith({among!r}))))")
+    env = dict(os.environ, PYTHONPATH=os.pathsep.join(p for p in sys.path if p))
+    done = subprocess.run([sys.executable, *(() if site else ("-S",)), "-c", code, *argv],
+                          capture_output=True, text=True, timeout=60,
+                          env=None if site else env)
     assert done.returncode == 0, done.stderr
     return done.stdout.split()
 
@@ -40,6 +45,24 @@ def test_a_calculation_loads_neither_the_store_nor_other_commands(argv):
     assert _loaded_by(*argv) == []
 
 
+METAL_MODULES = ("carboy.model.metal_data", "carboy.model.metals", "carboy.model.metal_doses",
+                 "carboy.model.metal_salts", "carboy.model.metal_complexes",
+                 "carboy.model.solver.metal_terms", "carboy.model.solver.single_metals")
+
+
+@pytest.mark.parametrize(("argv", "metals"), [
+    (("neutralize", "H2SO4=0.5M", "--volume", "250mL", "--reagent", "NaOH=2M"), False),
+    (("ph", "HCl=0.1M", "NaCl=0.1M"), False),
+    (("ph", "ZnCl2=0.01M"), True),
+])
+def test_the_metal_modules_load_only_for_a_modelled_metal(argv, metals):
+    loaded = set(_loaded_by(*argv, among=METAL_MODULES))
+    if metals:
+        assert {"carboy.model.metal_data", "carboy.model.solver.metal_terms"} <= loaded
+    else:
+        assert loaded == set()
+
+
 AVOIDABLE = ("pathlib", "importlib.resources", "zipfile", "tempfile")
 """Modules a calculation has no use for, each a few ms of a cold start."""
 
@@ -50,18 +73,8 @@ AVOIDABLE = ("pathlib", "importlib.resources", "zipfile", "tempfile")
 ])
 def test_a_calculation_reads_its_data_files_without_importlib_resources(argv):
     """Nor pathlib (the error log's, loaded when it is written).  Run without the site
-    module (-S, this process's path given instead): an environment's .pth files may load
-    them before carboy starts."""
-    code = ("import sys, io, contextlib\n"
-            "from carboy.tui.launch import main\n"
-            "with contextlib.redirect_stdout(io.StringIO()): status = main(sys.argv[1:])\n"
-            "assert status == 0, status\n"
-            f"print(' '.join(sorted(set(sys.modules) & set({AVOIDABLE!r}))))")
-    env = dict(os.environ, PYTHONPATH=os.pathsep.join(p for p in sys.path if p))
-    done = subprocess.run([sys.executable, "-S", "-c", code, *argv], capture_output=True,
-                          text=True, timeout=60, env=env)
-    assert done.returncode == 0, done.stderr
-    assert done.stdout.split() == []
+    module: an environment's .pth files may load them before carboy starts."""
+    assert _loaded_by(*argv, among=AVOIDABLE, site=False) == []
 
 
 @pytest.mark.parametrize(("argv", "named"), [

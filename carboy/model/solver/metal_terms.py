@@ -23,7 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from carboy.model.metal_data import MetalData, metal_data, modelled_keys
+from carboy.model.metal_data import MetalData, metal_data
 from carboy.model.metals import LigandAtX, MetalState, solid_formulas, state_of
 
 
@@ -53,15 +53,6 @@ class MetalLayout:
     solids: tuple[str, ...]     # every solid a metal present may form
     data: MetalData
     complexes: int = 0          # metal-ligand complexes among the labels
-
-
-def metal_keys(ions: dict[str, int]) -> tuple[str, ...]:
-    """The modelled metals among the ions (key -> charge); the metal data is read only
-    when one is present (a cation such as Na+ needs the list of keys only)."""
-    if not any(z > 0 for z in ions.values()):
-        return ()
-    known = modelled_keys()
-    return tuple(k for k in ions if k in known)
 
 
 def compile_metals(catalog, cols: list[int], keys: tuple[str, ...], sys_keys: tuple[str, ...],
