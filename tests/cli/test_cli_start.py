@@ -63,9 +63,10 @@ def test_the_metal_modules_load_only_for_a_modelled_metal(argv, metals):
         assert loaded == set()
 
 
-AVOIDABLE = ("pathlib", "importlib.resources", "zipfile", "tempfile", "molmass")
+AVOIDABLE = ("pathlib", "importlib.resources", "zipfile", "tempfile", "molmass", "hashlib")
 """Modules a calculation has no use for, each a few ms of a cold start (molmass: the
-packaged formulas' masses are shipped, see carboy.model.molar_masses)."""
+packaged formulas' masses are shipped, see carboy.model.molar_masses; hashlib: the data
+mirrors' digest is a CRC-32)."""
 
 
 @pytest.mark.parametrize("argv", [

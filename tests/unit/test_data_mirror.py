@@ -49,7 +49,7 @@ def test_data_json_cannot_carry_exactly_gets_no_mirror():
     assert data_mirror.mirror_of("x", {"when": date(2026, 1, 1)}) is None
     assert data_mirror.mirror_of("x", {"v": float("nan")}) is None
     out = data_mirror.mirror_of("a = 1.0", {"a": 1.0})
-    assert json.loads(out) == {"toml_sha256": data_mirror.digest("a = 1.0"), "data": {"a": 1.0}}
+    assert json.loads(out) == {"toml_digest": data_mirror.digest("a = 1.0"), "data": {"a": 1.0}}
 
 
 def test_the_shipped_molar_masses_are_molmass_masses_of_the_packaged_formulas():
