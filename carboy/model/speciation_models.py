@@ -71,7 +71,6 @@ from carboy.model.pitzer_metals import (
     saturation,
     with_metal_fields,
 )
-from carboy.model.pitzer_scalar import scalar_model
 from carboy.model.result_warnings import METAL_T_SPAN_C, warning_texts
 from carboy.model.solver.charge_balance import padded_fractions
 from carboy.model.solver.layout import ENTHALPY_DATA_MAX_C, Layout, cached_layout
@@ -82,14 +81,6 @@ from carboy.model.solver.outer import (
     solve_pitzer,
     solve_with_pairs,
     table_of,
-)
-from carboy.model.solver.pitzer_batch import FEW_POINTS, batch_outcome, few_outcome
-from carboy.model.solver.pitzer_one import (
-    model_warnings,
-    one_outcome,
-    one_table,
-    open_table,
-    solve_one_pitzer,
 )
 from carboy.model.solver.problem import build_problem, held_amounts
 
@@ -281,7 +272,12 @@ def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None
     """The Pitzer path: one solution on floats (``solver.pitzer_one``), a batch on
     arrays (``solver.pitzer_batch``), held species too (``pitzer_one.open_table``); where
     those do not take the table (an open system with a salt, a pair on a state), the
-    outer loop (``solver.outer.solve_pitzer``) from the Davies result ``base``."""
+    outer loop (``solver.outer.solve_pitzer``) from the Davies result ``base``.  (The
+    Pitzer path's modules load when it is first taken: a Davies command never needs them.)"""
+    from carboy.model.pitzer_scalar import scalar_model
+    from carboy.model.solver.pitzer_batch import FEW_POINTS, batch_outcome, few_outcome
+    from carboy.model.solver.pitzer_one import one_outcome, one_table
+
     t_c = batch.temperature_c
     tab = table_of(lay, "pitzer", t_c)
     model = pitzer_for(tab, t_c)
@@ -356,6 +352,8 @@ def _started(n: int, u: int):
 def _opened(lay: Layout, tab, batch: MixtureBatch, held):
     """The float table of ``lay`` with the ``held`` systems open, and each point's held
     mol/L of them (N, H); (None, None) where the float path does not take it."""
+    from carboy.model.solver.pitzer_one import one_table, open_table
+
     ot = one_table(lay, tab, water.pkw(batch.temperature_c))
     if ot is None:
         return None, None
@@ -373,6 +371,9 @@ def pitzer_one_fields(catalog, lay: Layout, keys: tuple[str, ...], row: list,
     take the layout (metals, a pair on a state)."""
     if lay.metals is not None:
         return None
+    from carboy.model.pitzer_scalar import scalar_model
+    from carboy.model.solver.pitzer_one import model_warnings, solve_one_pitzer
+
     tab, ot, model, pkw, hot = _one_setup(lay, t_c)
     if ot is None:
         return None
@@ -412,6 +413,8 @@ def _one_setup(lay: Layout, t_c: float):
     hit = _SETUP.get(key)
     if hit is not None and hit[0] is lay:
         return hit[1]
+    from carboy.model.solver.pitzer_one import one_table
+
     tab = table_of(lay, "pitzer", t_c)
     pkw = water.pkw(t_c)
     hot = tuple(t for t in warning_texts(False, False, t_c > ENTHALPY_DATA_MAX_C, "pitzer")

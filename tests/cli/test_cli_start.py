@@ -63,6 +63,19 @@ def test_the_metal_modules_load_only_for_a_modelled_metal(argv, metals):
         assert loaded == set()
 
 
+BATCH_PATHS = ("carboy.model.pitzer_scalar", "carboy.model.solver.pitzer_batch",
+               "carboy.model.solver.pitzer_one", "carboy.model.solver.bracketed",
+               "carboy.model.solver.coupled", "carboy.model.solver.single_pairs")
+
+
+def test_one_davies_solution_loads_neither_the_pitzer_nor_the_batch_paths():
+    """`carboy ph` of a dilute solution settles on the plain-Python path (auto: Davies);
+    the Pitzer and vectorized paths load when a command first takes them."""
+    assert _loaded_by("ph", "H2SO4=0.05M", among=BATCH_PATHS) == []
+    assert set(_loaded_by("ph", "H2SO4=1M", among=BATCH_PATHS)) >= {
+        "carboy.model.pitzer_scalar", "carboy.model.solver.pitzer_one"}
+
+
 AVOIDABLE = ("pathlib", "importlib.resources", "zipfile", "tempfile", "molmass", "hashlib")
 """Modules a calculation has no use for, each a few ms of a cold start (molmass: the
 packaged formulas' masses are shipped, see carboy.model.molar_masses; hashlib: the data

@@ -46,13 +46,11 @@ from carboy.model.activity import davies_d
 from carboy.model.ion_pairs import load_ion_pairs
 from carboy.model.pitzer import PitzerModel, pitzer_model
 from carboy.model.pitzer_data import load_pitzer_data
-from carboy.model.solver.bracketed import coupled_then_nested, solve_nested
 from carboy.model.solver.charge_balance import species_at
 from carboy.model.solver.constants import COUPLED_ITER, LN10
 from carboy.model.solver.layout import R_J_MOL_K, T_REF_K, Layout
 from carboy.model.solver.pair_table import MAX_OUTER, OUTER_TOL, SPLIT_ROUNDS, Pair, Table
 from carboy.model.solver.problem import Problem
-from carboy.model.solver.single_pairs import solve_pairs_one
 
 DAVIES_PAIRS = ("CaOH+", "MgOH+", "NaSO4-", "KSO4-", "CaSO4", "MgSO4")
 """The ion pairs of the Davies path (``data/ion_pairs.toml``)."""
@@ -294,6 +292,8 @@ def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic, solved=None) 
     few = _pairs_each(pr0, tab) if x.shape[0] <= PYTHON_PAIRS_MAX else None
     if few is not None:
         return few
+    from carboy.model.solver.bracketed import coupled_then_nested  # the batch paths' own
+
     s, n = pr0.lay.flat_j.shape[0], x.shape[0]
     pkw = float(pr0.pkw)
     terms = Terms(np.zeros((s, n)), np.full(n, pkw), pr0.ispec.copy())
@@ -329,6 +329,8 @@ def _pairs_each(pr0: Problem, tab: Table) -> Outcome | None:
     if (not lay.python_path or lay.metals is not None or pr0.am.held is not None
             or pr0.am.shift is not None or np.ndim(pr0.pkw) != 0 or not tab.pairs):
         return None
+    from carboy.model.solver.single_pairs import solve_pairs_one
+
     pkw = float(pr0.pkw)
     got = []
     for row in pr0.totals.tolist():
@@ -367,6 +369,8 @@ def solve_pitzer(pr0: Problem, model: PitzerModel, tab: Table, per_molar: np.nda
                  x, lg=None) -> Outcome:
     """The Pitzer path: outer loop on every species' coefficient (``per_molar`` (N,):
     mol/kg per mol/L; ``lg`` (N, U) a start for the log10 coefficients)."""
+    from carboy.model.solver.bracketed import solve_nested
+
     n, s = x.shape[0], pr0.lay.flat_j.shape[0]
     pkw = float(pr0.pkw)
     log_s = np.log10(per_molar)
