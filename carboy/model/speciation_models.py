@@ -61,7 +61,6 @@ from carboy.model import water
 from carboy.model.activity import DAVIES_LIMIT_MOLAR, outside_range_warning
 from carboy.model.mixture import MixtureBatch
 from carboy.model.molality import water_kg_one, water_kg_per_litre
-from carboy.model.pitzer import I_MAX_MOLAL
 from carboy.model.pitzer_metals import (
     SOLID_FALLBACK,
     hydroxides,
@@ -371,6 +370,7 @@ def pitzer_one_fields(catalog, lay: Layout, keys: tuple[str, ...], row: list,
     take the layout (metals, a pair on a state)."""
     if lay.metals is not None:
         return None
+    from carboy.model.pitzer import I_MAX_MOLAL
     from carboy.model.pitzer_scalar import scalar_model
     from carboy.model.solver.pitzer_one import model_warnings, solve_one_pitzer
 
@@ -428,6 +428,8 @@ def _one_setup(lay: Layout, t_c: float):
 
 def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes):
     """The batch result of the Pitzer path in the frame ``base``."""
+    from carboy.model.pitzer import I_MAX_MOLAL
+
     molal_i = out.extra["ionic_strength_molal"]
     common = tuple(t for t in out.extra["warnings"] if not t.startswith("ionic strength above"))
     hot = tuple(t for t in base.warnings[0] if "enthalpy data" in t) if len(base) else ()
@@ -442,6 +444,8 @@ def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes
 @lru_cache(maxsize=256)
 def _pitzer_texts(common: tuple[str, ...]) -> tuple[tuple[str, ...], ...]:
     """The warnings of a Pitzer point by code: +1 beyond I_MAX_MOLAL, +2 unsettled."""
+    from carboy.model.pitzer import I_MAX_MOLAL
+
     high = (f"ionic strength above {I_MAX_MOLAL:g} mol/kg, beyond the range the "
             "specific-interaction parameters were fitted to: treat the pH as indicative only")
     bad = "the solver did not reach its tolerance: the result is approximate"

@@ -38,19 +38,21 @@ ligand at the lumped totals come from alternating mass balances
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from carboy.model import water
 from carboy.model.activity import davies_d
 from carboy.model.ion_pairs import load_ion_pairs
-from carboy.model.pitzer import PitzerModel, pitzer_model
-from carboy.model.pitzer_data import load_pitzer_data
 from carboy.model.solver.charge_balance import species_at
 from carboy.model.solver.constants import COUPLED_ITER, LN10
 from carboy.model.solver.layout import R_J_MOL_K, T_REF_K, Layout
 from carboy.model.solver.pair_table import MAX_OUTER, OUTER_TOL, SPLIT_ROUNDS, Pair, Table
 from carboy.model.solver.problem import Problem
+
+if TYPE_CHECKING:
+    from carboy.model.pitzer import PitzerModel
 
 DAVIES_PAIRS = ("CaOH+", "MgOH+", "NaSO4-", "KSO4-", "CaSO4", "MgSO4")
 """The ion pairs of the Davies path (``data/ion_pairs.toml``)."""
@@ -75,6 +77,8 @@ def _pair_constant(rec, temperature_c: float) -> float:
 
 def _pitzer_constant(label: str, temperature_c: float) -> float:
     """log10 K of M + OH- = P from the Pitzer set's hydrolysis constant (van 't Hoff)."""
+    from carboy.model.pitzer_data import load_pitzer_data  # the Pitzer path's: when taken
+
     for c in load_pitzer_data().constants:
         if label in c["reaction"].split("=")[1]:
             t = temperature_c + 273.15
@@ -403,6 +407,8 @@ def solve_pitzer(pr0: Problem, model: PitzerModel, tab: Table, per_molar: np.nda
 
 def pitzer_for(tab: Table, temperature_c: float) -> PitzerModel:
     """The Pitzer model of a table's species (ions outside the set: Davies fallback)."""
+    from carboy.model.pitzer import pitzer_model  # the Pitzer path's: when it is taken
+
     charges = {lab: int(z) for lab, z in zip(tab.labels, tab.charges.tolist())}
     return pitzer_model(tab.labels, temperature_c, fallback="davies", charges=charges)
 
