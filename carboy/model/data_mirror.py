@@ -94,10 +94,6 @@ def _write_all() -> None:  # python -m carboy.model.data_mirror
             continue
         target.write_text(out + "\n", encoding="utf-8")
         print(f"wrote {target}")
-    from carboy.model.molar_masses import MASSES_FILE, table_text  # read from the mirrors
-
-    (folder / MASSES_FILE).write_text(table_text() + "\n", encoding="utf-8")
-    print(f"wrote {folder / MASSES_FILE}")
 
 
 if __name__ == "__main__":

@@ -7,7 +7,8 @@ read of ``metals.toml``: a quarter of a command's cold start.  Most solutions ho
 modelled metal, so the solver and the planner ask here first, from the keys of
 ``metals.toml`` read without building or checking the records, and import the metal
 modules only when one is present (then :func:`~carboy.model.metal_data.metal_data`
-reads and checks the whole file).
+reads and checks the whole file).  (The planner's titration models ask through
+:func:`carboy.model.gas.metal_doses_of`.)
 """
 
 from __future__ import annotations
@@ -17,8 +18,7 @@ from functools import lru_cache
 
 from carboy.model.datafiles import Table
 
-__all__ = ["doses_of", "inert_cations", "modelled_among", "modelled_keys",
-           "unmodelled_cations"]
+__all__ = ["inert_cations", "modelled_among", "modelled_keys", "unmodelled_cations"]
 
 METALS_FILE = "metals.toml"
 
@@ -47,13 +47,3 @@ def unmodelled_cations(charges: Mapping[str, int]) -> tuple[str, ...]:
     known, inert = modelled_keys(), inert_cations()
     return tuple(sorted(k for k, z in charges.items()
                         if z > 0 and k not in known and k not in inert))
-
-
-def doses_of(keys: tuple[str, ...], catalog):
-    """:meth:`MetalDoses.of <carboy.model.metal_doses.MetalDoses.of>` for a titration
-    model's ``keys``, None without a modelled metal (then nothing of it is loaded)."""
-    if not modelled_among(keys):
-        return None
-    from carboy.model.metal_doses import MetalDoses
-
-    return MetalDoses.of(keys, catalog)

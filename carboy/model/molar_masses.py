@@ -5,9 +5,9 @@ Loading molmass and reading the catalog's formulas with it take about 10 ms of e
 command's cold start, for the same numbers each time.  So beside the parsed mirrors
 (:mod:`carboy.model.data_mirror`) carboy ships ``data/parsed/molar_masses.json``:
 molmass's mass of every formula :func:`packaged_formulas` lists, written by
-``python -m carboy.model.data_mirror``.  :func:`~carboy.model.catalog_rules.molar_mass_of`
-takes a formula's mass from it and asks molmass for any other formula (a user's
-compound, an edited data file), as before.  A test checks that the file holds exactly
+``python -m carboy.model.molar_masses`` (after the mirrors: it reads the data files).
+:func:`~carboy.model.catalog_rules.molar_mass_of` takes a formula's mass from it and
+asks molmass for any other formula (a user's compound, an edited data file), as before.  A test checks that the file holds exactly
 molmass's masses of exactly those formulas, so it is written again whenever a data file
 or molmass changes them.
 """
@@ -86,5 +86,17 @@ def table_text() -> str:
         except Exception:  # noqa: BLE001 - molmass raises FormulaError and, on odd input, others
             continue
     source = (f"molmass {molmass.__version__} (IUPAC atomic weights), from each formula; "
-              "written by python -m carboy.model.data_mirror")
+              "written by python -m carboy.model.molar_masses")
     return json.dumps({"source": source, "masses": masses}, ensure_ascii=False, indent=0)
+
+
+def _write() -> None:  # python -m carboy.model.molar_masses
+    from pathlib import Path
+
+    target = Path(__file__).with_name("data") / MIRROR_FOLDER / MASSES_FILE
+    target.write_text(table_text() + "\n", encoding="utf-8")
+    print(f"wrote {target}")
+
+
+if __name__ == "__main__":
+    _write()

@@ -58,7 +58,7 @@ def test_the_shipped_molar_masses_are_molmass_masses_of_the_packaged_formulas():
     text = (resources.files(DATA_PACKAGE) / data_mirror.MIRROR_FOLDER
             / molar_masses.MASSES_FILE).read_text(encoding="utf-8")
     assert json.loads(text) == json.loads(molar_masses.table_text()), (
-        "data/parsed/molar_masses.json is stale: run python -m carboy.model.data_mirror")
+        "data/parsed/molar_masses.json is stale: run python -m carboy.model.molar_masses")
     assert {"H2SO4", "NaOH", "H", "HSO4", "Zn(OH)2"} <= set(json.loads(text)["masses"])
 
 
