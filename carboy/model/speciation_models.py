@@ -61,15 +61,6 @@ from carboy.model import water
 from carboy.model.activity import DAVIES_LIMIT_MOLAR, outside_range_warning
 from carboy.model.mixture import MixtureBatch
 from carboy.model.molality import water_kg_one, water_kg_per_litre
-from carboy.model.pitzer_metals import (
-    SOLID_FALLBACK,
-    hydroxides,
-    pitzer_takes,
-    salts,
-    saturated_solids,
-    saturation,
-    with_metal_fields,
-)
 from carboy.model.result_warnings import METAL_T_SPAN_C, warning_texts
 from carboy.model.solver.charge_balance import padded_fractions
 from carboy.model.solver.layout import ENTHALPY_DATA_MAX_C, Layout, cached_layout
@@ -198,7 +189,7 @@ def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
         res = _with_pairs(base, lay, activity, held)
     molal_i = res.ionic_strength_molar / w
     high = float(molal_i.max(initial=0.0)) > AUTO_LIMIT_MOLAL
-    if metals and high and pitzer_takes(lay):
+    if metals and high and _pitzer_takes(lay):
         return _pitzer_with_metals(batch, lay, activity, catalog, paths,
                                    davies=_auto_davies(res, activity, w, molal_i))
     if metals or not high:
@@ -235,7 +226,16 @@ def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, paths: _Path
     """Calcium and magnesium under the Pitzer model while they stay dissolved
     (``pitzer_metals``); a batch where one of their solids would form falls back, whole,
     to the metal path with the Davies equation (``davies``, solved here if not given)."""
-    if not pitzer_takes(lay):
+    from carboy.model.pitzer_metals import (
+        SOLID_FALLBACK,
+        hydroxides,
+        salts,
+        saturated_solids,
+        saturation,
+        with_metal_fields,
+    )
+
+    if not _pitzer_takes(lay):
         raise InvalidInput("activity model", activity, _METALS_NOTE)
     t_c = batch.temperature_c
     lay_s = cached_layout(catalog, batch.keys, t_c, metals=False)
@@ -255,6 +255,13 @@ def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, paths: _Path
         davies = _auto_davies(dav, activity, w, dav.ionic_strength_molar / w)
     text = SOLID_FALLBACK.format(solids=", ".join(solids))
     return dataclasses.replace(davies, warnings=_with(davies.warnings, (text,)))
+
+
+def _pitzer_takes(lay: Layout) -> bool:
+    """:func:`~carboy.model.pitzer_metals.pitzer_takes` (loaded with a modelled metal)."""
+    from carboy.model.pitzer_metals import pitzer_takes
+
+    return pitzer_takes(lay)
 
 
 def _with_pairs(base, lay: Layout, activity: str, held):

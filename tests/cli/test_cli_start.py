@@ -46,6 +46,7 @@ def test_a_calculation_loads_neither_the_store_nor_other_commands(argv):
 
 
 METAL_MODULES = ("carboy.model.metal_data", "carboy.model.metals", "carboy.model.metal_doses",
+                 "carboy.model.pitzer_metals",
                  "carboy.model.metal_salts", "carboy.model.metal_complexes",
                  "carboy.model.solver.metal_terms", "carboy.model.solver.single_metals")
 
