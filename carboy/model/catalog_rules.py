@@ -4,8 +4,9 @@ A system's pKa values rise strictly, its species labels carry the charges of its
 its constants are finite and each has a source and a status (the one vocabulary of
 :mod:`carboy.model.provenance`; a constant with status NONE is 0).  An ion's key carries
 its charge.  A compound's formula is readable by molmass (the molar mass is always
-computed from it), its composition names systems and ions, its hazard tags and form come
-from the vocabularies, and its density table rises within 0–100 % w/w.  Each check raises
+computed from it; a packaged formula's as shipped computed, see
+:mod:`carboy.model.molar_masses`), its composition names systems and ions, its hazard
+tags and form come from the vocabularies, and its density table rises within 0–100 % w/w.  Each check raises
 :class:`~carboy.errors.CatalogError` naming the entry and what is wrong.
 """
 
@@ -18,10 +19,9 @@ from dataclasses import dataclass
 from functools import lru_cache
 from itertools import pairwise
 
-import molmass
-
 from carboy.errors import CatalogError
 from carboy.model.entities import Compound, DensityTable, Ion, System
+from carboy.model.molar_masses import shipped_masses
 from carboy.model.provenance import STATUSES, check_provenance
 
 __all__ = [
@@ -91,7 +91,13 @@ def molar_mass_of(formula: str, *, entry: str | None = None) -> float:
 @lru_cache(maxsize=1024)
 def _formula_mass(formula: str) -> float:
     """molmass's mass of ``formula``, once per formula (loading the catalog asks for
-    most formulas twice: reading the compound, then checking it)."""
+    most formulas twice: reading the compound, then checking it); a packaged formula's
+    as shipped (:mod:`carboy.model.molar_masses`: molmass is then not even loaded)."""
+    shipped = shipped_masses().get(formula)
+    if shipped is not None:
+        return float(shipped)
+    import molmass
+
     return float(molmass.Formula(formula).mass)
 
 

@@ -3,8 +3,9 @@
 Python's TOML parser is written in Python: the thirteen data files take about 35 ms to
 parse, a sixth of a command's cold start, while the same data as JSON loads in under
 2 ms.  So carboy ships, beside each ``data/NAME.toml``, a *mirror*
-``data/parsed/NAME.json``: ``{"toml_sha256": ..., "data": ...}``, the parsed file and
-the SHA-256 of the exact text it was parsed from.
+``data/parsed/NAME.json``: ``{"toml_digest": ..., "data": ...}``, the parsed file and
+the digest of the exact text it was parsed from (its length and CRC-32: an edit detector,
+not a seal; zlib is loaded anyway, while hashlib's OpenSSL costs a cold start ~4 ms).
 
 The TOML stays the one source.  A mirror is used only when its digest is the digest of
 the TOML text being read, so an edited data file whose mirror was not written again is
@@ -12,24 +13,38 @@ parsed as before (only slower); a mirror that cannot be read is ignored the same
 ``python -m carboy.model.data_mirror`` writes every mirror, and a test checks that each
 is present, current and equal to what the TOML parser gives.  A file whose parsed data
 JSON cannot carry exactly (a date, a NaN) gets no mirror.
+
+The files are found by :func:`package_file`, a path in the package's folder, rather
+than through :mod:`importlib.resources`, whose imports (zipfile, tempfile ...) cost a
+command about 10 ms at every start; carboy is installed as files, never run from a zip.
 """
 
 from __future__ import annotations
 
-import hashlib
+import importlib
 import json
-from importlib import resources
+import os
+import zlib
 from typing import Any
 
-__all__ = ["MIRROR_FOLDER", "digest", "mirror_name", "mirrored", "mirror_of"]
+__all__ = ["MIRROR_FOLDER", "digest", "mirror_name", "mirrored", "mirror_of", "package_file"]
 
 MIRROR_FOLDER = "parsed"
 """The mirrors' folder inside ``carboy/model/data``."""
 
 
 def digest(text: str) -> str:
-    """SHA-256 (hex) of a data file's text, as its mirror records it."""
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+    """The digest of a data file's text, as its mirror records it: the length of its
+    UTF-8 bytes and their CRC-32 (hex)."""
+    data = text.encode("utf-8")
+    return f"{len(data)}:{zlib.crc32(data):08x}"
+
+
+def package_file(package: str, *parts: str) -> str:
+    """The path of a file in the folder of the importable ``package`` (a regular or a
+    namespace package: ``carboy.model.data``)."""
+    folder = next(iter(importlib.import_module(package).__path__))
+    return os.path.join(folder, *parts)
 
 
 def mirror_name(name: str) -> str:
@@ -41,11 +56,12 @@ def mirrored(package: str, name: str, text: str) -> dict[str, Any] | None:
     """The parsed data of ``name`` from its mirror when the mirror is of exactly
     ``text``; None otherwise (no mirror, unreadable, or of another text)."""
     try:
-        path = resources.files(package) / MIRROR_FOLDER / mirror_name(name)
-        found = json.loads(path.read_text(encoding="utf-8"))
+        path = package_file(package, MIRROR_FOLDER, mirror_name(name))
+        with open(path, encoding="utf-8") as fh:
+            found = json.loads(fh.read())
     except (OSError, ValueError):
         return None
-    if not isinstance(found, dict) or found.get("toml_sha256") != digest(text):
+    if not isinstance(found, dict) or found.get("toml_digest") != digest(text):
         return None
     data = found.get("data")
     return data if isinstance(data, dict) else None
@@ -55,7 +71,7 @@ def mirror_of(text: str, data: dict[str, Any]) -> str | None:
     """The mirror's JSON text for ``data`` parsed from ``text``, or None when JSON would
     not give back exactly ``data``."""
     try:
-        out = json.dumps({"toml_sha256": digest(text), "data": data}, allow_nan=False,
+        out = json.dumps({"toml_digest": digest(text), "data": data}, allow_nan=False,
                          ensure_ascii=False, separators=(",", ":"))
     except (TypeError, ValueError):
         return None

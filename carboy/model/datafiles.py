@@ -35,11 +35,10 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Iterable, Mapping
-from importlib import resources
 from typing import Any
 
 from carboy.errors import CatalogError
-from carboy.model.data_mirror import mirrored
+from carboy.model.data_mirror import mirrored, package_file
 from carboy.model.provenance import PACKAGED_STATUSES, Provenance, check_provenance
 
 __all__ = [
@@ -83,7 +82,8 @@ def read_data_file(name: str) -> dict[str, Any]:
         If the file is missing or is not valid TOML (naming the file).
     """
     try:
-        text = (resources.files(DATA_PACKAGE) / name).read_text(encoding="utf-8")
+        with open(package_file(DATA_PACKAGE, name), encoding="utf-8") as fh:
+            text = fh.read()
     except FileNotFoundError:
         raise CatalogError(name, "the packaged data file is missing") from None
     data = mirrored(DATA_PACKAGE, name, text)

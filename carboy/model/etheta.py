@@ -25,9 +25,10 @@ from __future__ import annotations
 
 import math
 from functools import lru_cache
-from importlib import resources
 
 import numpy as np
+
+from carboy.model.data_mirror import package_file
 
 X_MIN = 1e-6
 X_MAX = 1e3
@@ -91,7 +92,7 @@ def shipped_grid() -> np.ndarray | None:
     """The grid shipped as :data:`GRID_FILE`, or None when it is missing or not a grid
     of this module's nodes."""
     try:
-        with (resources.files("carboy.model.data") / GRID_FILE).open("rb") as fh:
+        with open(package_file("carboy.model.data", GRID_FILE), "rb") as fh:
             grid = np.load(fh, allow_pickle=False)
     except (OSError, ValueError):
         return None

@@ -20,7 +20,7 @@ import numpy as np
 
 from carboy.errors import InvalidInput
 from carboy.model import water
-from carboy.model.metal_doses import MetalDoses
+from carboy.model.metal_index import modelled_among
 from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
 from carboy.model.solver.bracketed import next_ionic
 from carboy.model.speciation import BatchSpeciation, speciate_batch, start_along, state_at
@@ -37,6 +37,17 @@ SEEN_IONIC = 24
 """Settled (pH, ionic strength) pairs an inverse keeps as starts for the next ones."""
 SEEN_PH = 0.5
 """An inverse starts its ionic strength from a settled one within this many pH units."""
+
+
+def metal_doses_of(keys: tuple[str, ...], catalog):
+    """:meth:`MetalDoses.of <carboy.model.metal_doses.MetalDoses.of>` for a titration
+    model's ``keys``; None without a modelled metal, and then the metal modules are not
+    even loaded (:mod:`carboy.model.metal_index`)."""
+    if not modelled_among(keys):
+        return None
+    from carboy.model.metal_doses import MetalDoses
+
+    return MetalDoses.of(keys, catalog)
 
 
 def henry_co2_molar_per_atm(temperature_c: float) -> float:
@@ -139,7 +150,7 @@ class TitrationModel:
         for j, k in enumerate(self.keys):  # an all-strong system acts as its anion
             if ion_z[j] is None and catalog.systems[k].strong_steps == catalog.systems[k].n_steps:
                 ion_z[j] = catalog.systems[k].bottom_charge
-        self.metals = MetalDoses.of(self.keys, catalog)
+        self.metals = metal_doses_of(self.keys, catalog)
         # modelled metal ions are no spectators: the inverse takes their charge from
         # their hydrolysis and solids (metal_doses)
         for j in (self.metals.cols if self.metals is not None else ()):

@@ -26,8 +26,6 @@ import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 
-import molmass
-
 from carboy.errors import CarboyError
 from carboy.model import water
 from carboy.model.catalog import molar_mass_of
@@ -248,6 +246,8 @@ def solute_mass_g(species_molar: Mapping[str, float], charges: Mapping[str, int]
 def solute_for_formula(formula: str) -> str | None:
     """The ``[[heat_capacity]]`` solute with the same composition as ``formula`` (Hill
     formula compared: ``CH3COOH`` finds ``HCH3CO2``), or None."""
+    import molmass  # here only: most commands never compare formulas (about 6 ms to load)
+
     try:
         hill = molmass.Formula(formula).formula
     except Exception:  # molmass raises FormulaError and, on odd input, others

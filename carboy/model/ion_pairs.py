@@ -18,8 +18,8 @@ from typing import Any
 
 from carboy.errors import CatalogError, InvalidInput
 from carboy.model import water
+from carboy.model.catalog_rules import label_charge as charge_of_label
 from carboy.model.datafiles import read_data_file
-from carboy.model.pitzer import charge_of_label
 from carboy.model.pitzer_data import STATUSES, TR_K
 from carboy.model.provenance import check_provenance
 

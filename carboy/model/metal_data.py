@@ -23,15 +23,15 @@ import numpy as np
 from carboy.errors import InvalidInput
 from carboy.model.catalog import default_catalog, molar_mass_of
 from carboy.model.datafiles import Table
+from carboy.model.metal_index import modelled_keys, unmodelled_cations  # noqa: F401 (re-exported)
 from carboy.model.thermo import planning_constants
-from carboy.model.water import pkw
+from carboy.model.water import PKW25  # noqa: F401 (re-exported)
 
-PKW25 = pkw(25.0)
-"""pKw at 25 °C (IAPWS R11-07), the default and the conversion of OH- solubility products."""
 STATUSES = frozenset({"FOUND", "MEMORY", "DERIVED"})
 
 __all__ = ["PKW25", "STATUSES", "Complex", "Hydroxide", "HydroxoSpecies", "LigandSolid", "Metal",
-           "MetalData", "charge_bounds", "metal", "metal_data", "unmodelled_cations"]
+           "MetalData", "charge_bounds", "metal", "metal_data", "modelled_keys",
+           "unmodelled_cations"]
 
 
 @dataclass(frozen=True)
@@ -257,14 +257,6 @@ def metal(key: str, data: MetalData | None = None) -> Metal:
         raise InvalidInput("metal", key, "no hydrolysis or solubility data; known: "
                            + ", ".join(sorted(metals)))
     return metals[key]
-
-
-def unmodelled_cations(charges: Mapping[str, int]) -> tuple[str, ...]:
-    """Cations (ion key -> charge) that are neither modelled here nor inert (Na+, K+ ...):
-    the plan must say their hydrolysis and precipitation are not counted."""
-    data = metal_data()
-    return tuple(sorted(k for k, z in charges.items()
-                        if z > 0 and k not in data.metals and k not in data.inert_cations))
 
 
 def charge_bounds(totals: Mapping[str, object], data: MetalData | None = None

@@ -23,6 +23,7 @@ import numpy as np
 from carboy.model import water
 from carboy.model.activity import davies_d, debye_huckel_scale
 from carboy.model.metal_data import metal_data
+from carboy.model.metal_index import modelled_keys
 from carboy.model.metals import LigandAtX, state_of
 
 BRACKET_DOUBLINGS = 80
@@ -70,6 +71,9 @@ class MetalDoses:
     def of(cls, keys: tuple[str, ...], catalog) -> MetalDoses | None:
         """The metals among ``keys`` (catalog ion keys with data), or None."""
         if not any(k in catalog.ions and catalog.ions[k].charge > 0 for k in keys):
+            return None
+        known = modelled_keys()
+        if not any(k in known for k in keys):
             return None
         data = metal_data()
         found = tuple(k for k in keys if k in data.metals)

@@ -43,7 +43,6 @@ coefficient, the water activity and the ionic strength, all vectorized over the 
 from __future__ import annotations
 
 import math
-import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from functools import lru_cache
@@ -52,6 +51,7 @@ import numpy as np
 
 from carboy.errors import InvalidInput
 from carboy.model import water
+from carboy.model.catalog_rules import label_charge
 from carboy.model.pitzer_data import load_pitzer_data, parameter_arrays
 from carboy.model.pitzer_sums import ArraySums, charge_pairs
 
@@ -70,15 +70,9 @@ SCALES = ("macinnes", "none")
 PH_SCALE = "MacInnes: gamma(Cl-) = gamma+-(KCl) at the same ionic strength"
 _LN10 = math.log(10.0)
 _TINY_I = 1e-100
-_CHARGE_SUFFIX = re.compile(r"([+-])(\d*)$")
-
-
-def charge_of_label(label: str) -> int:
-    """Charge from a catalog label's suffix: ``Na+`` 1, ``SO4-2`` -2, ``CO2`` 0."""
-    m = _CHARGE_SUFFIX.search(label)
-    if not m:
-        return 0
-    return (1 if m.group(1) == "+" else -1) * int(m.group(2) or 1)
+charge_of_label = label_charge
+"""Charge from a catalog label's suffix: ``Na+`` 1, ``SO4-2`` -2, ``CO2`` 0 (the
+catalog's own reading, :func:`~carboy.model.catalog_rules.label_charge`)."""
 
 
 def ionic_strength_molal(molality: np.ndarray, charges: Sequence[int]) -> np.ndarray:

@@ -28,7 +28,7 @@ import re
 
 import numpy as np
 
-from carboy.model.metal_data import PKW25
+from carboy.model.water import PKW25
 
 PITZER_METALS = frozenset({"Ca+2", "Mg+2"})
 """The modelled metal ions the specific-interaction parameters cover."""

@@ -20,8 +20,7 @@ import numpy as np
 
 from carboy.model import numbers
 from carboy.model.catalog import molar_mass_of
-from carboy.model.metal_data import metal_data, unmodelled_cations
-from carboy.model.metals import solid_formulas
+from carboy.model.metal_index import unmodelled_cations
 from carboy.model.precipitates import Precipitate
 
 ASSUMPTION = ("metals: hydrolysis and solids at 25 °C constants (mononuclear hydroxo "
@@ -72,6 +71,8 @@ def precipitation_heat(sludge: tuple[SludgeItem, ...], data=None
     -ΔH_acid + z ΔH_w, with ΔH_acid that of solid + z H+ = M(z+) + H2O's (metals.toml
     ``dh_acid_kj``); so the correction is -ΔH_acid per mol of solid.  The notes cite
     each value used and name the solids without one (left as water formed)."""
+    from carboy.model.metal_data import metal_data  # loaded with the metals (metal_index)
+
     by_name = {m.solid.name: m.solid for m in (data or metal_data()).metals.values()}
     dh, notes = 0.0, []
     for item in sludge:
@@ -102,6 +103,8 @@ def _unmodelled_warning(keys: tuple[str, ...]) -> str:
 
 
 def _sources() -> dict[str, str]:
+    from carboy.model.metal_data import metal_data
+
     data = metal_data()
     out = {m.solid.name: m.solid.source for m in data.metals.values()}
     out.update({s.name: s.source for s in data.ligand_solids})
@@ -154,6 +157,8 @@ def metals_at_target(res, i: int, volume_l: float, totals, catalog,
     warnings = (_unmodelled_warning(missing),) if missing else ()
     if not res.metal_keys:
         return MetalReport(unmodelled=missing, precipitates=found, warnings=warnings)
+    from carboy.model.metals import solid_formulas  # a modelled metal is present
+
     formulas = solid_formulas()
     sludge = []
     for name, mol_l in zip(res.solid_names, res.solids_molar[i].tolist()):

@@ -89,7 +89,6 @@ from carboy.model.cautions import derived_hazards
 from carboy.model.dosing import Dosing, find_doses
 from carboy.model.equivalence import equivalence_amounts
 from carboy.model.heat_capacity import solute_mass_g
-from carboy.model.metal_doses import MetalDoses
 from carboy.model.mixture import Mixture
 from carboy.model.plan_activity import model_used, settle_activity
 from carboy.model.plan_heat import HeatAndGas, heat_and_gas
@@ -307,7 +306,7 @@ def _charge_parts(sample: Mixture, catalog, which: str) -> dict:
     acid."""
     out = {}
     v = sample.volume_l
-    metals = MetalDoses.of(tuple(sample.totals), catalog) if which == "bottom" else None
+    metals = gas.metal_doses_of(tuple(sample.totals), catalog) if which == "bottom" else None
     for key, c in sample.totals.items():
         n = c * v
         if metals is not None and key in metals.keys:

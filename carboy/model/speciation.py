@@ -69,7 +69,6 @@ from carboy.model.activity import davies_d as _davies_d  # noqa: F401 (tests use
 from carboy.model.mixture import Mixture, MixtureBatch
 from carboy.model.result_warnings import METAL_T_SPAN_C
 from carboy.model.result_warnings import warning_texts as _warning_texts
-from carboy.model.solver.bracketed import solve_nested, solve_with_metals
 from carboy.model.solver.charge_balance import fractions_at, padded_fractions, species_at
 from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
     COUPLED_ITER,
@@ -83,7 +82,6 @@ from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
     WIDEN_STEPS,
     X_TOL,
 )
-from carboy.model.solver.coupled import solve_warm
 from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
     ENTHALPY_DATA_MAX_C,
     R_J_MOL_K,
@@ -93,13 +91,9 @@ from carboy.model.solver.layout import (  # noqa: F401 (re-exported)
     pka_at,
 )
 from carboy.model.solver.layout import compile_layout as _layout  # noqa: F401 (tests)
-from carboy.model.solver.metal_terms import columns as metal_columns
 from carboy.model.solver.outer import table_of
 from carboy.model.solver.problem import Problem, build_problem
 from carboy.model.solver.single import solve_one
-from carboy.model.solver.single_metals import solve_unsaturated
-from carboy.model.solver.single_pairs import solve_pairs_one
-from carboy.model.solver.starts import start_between
 from carboy.model.speciation_models import (
     ModelPart,
     ModelPoint,
@@ -340,6 +334,8 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
     pkw = water.pkw(t_c)
     a_dh = debye_huckel_scale(activity, t_c)
     if lay.metals is not None:   # the plain-Python path where no solid forms
+        from carboy.model.solver.single_metals import solve_unsaturated  # with the metals
+
         fast = solve_unsaturated(lay, row, pkw, a_dh, max_iter=COUPLED_ITER)
     else:
         fast = solve_one(lay, row, pkw, a_dh, max_iter=COUPLED_ITER) if lay.python_path else None
@@ -353,6 +349,8 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
 
 def _pairs_one(lay: Layout, row: list, t_c: float) -> dict | None:
     """The fields of one solution solved with its ion pairs in plain Python, or None."""
+    from carboy.model.solver.single_pairs import solve_pairs_one
+
     pkw = water.pkw(t_c)
     tab = table_of(lay, "davies", t_c)
     got = solve_pairs_one(lay, tab, row, pkw, debye_huckel_scale("davies", t_c),
@@ -414,6 +412,8 @@ def start_along(at, nodes, result: BatchSpeciation) -> tuple[np.ndarray, np.ndar
     ``nodes``: the roots between its points, a cubic where the curve is smooth and the
     straight line in the excess of H+ over OH- across a jump
     (see :mod:`carboy.model.solver.starts`)."""
+    from carboy.model.solver.starts import start_between
+
     return start_between(np.asarray(at, dtype=float), np.asarray(nodes, dtype=float),
                          result.log_h, result.ionic_strength_molar, result.pkw)
 
@@ -474,10 +474,14 @@ def _solve_points(pr: Problem, start=None):
     several through the vectorized one, warm-started along the batch (or from
     ``start``, a pair of arrays (log10[H+], I)); points the fast paths leave unsettled
     go to the guaranteed path.  The fast paths get ``COUPLED_ITER`` from this module.
-    With metals, see :func:`~carboy.model.solver.bracketed.solve_with_metals`.
+    With metals, see :func:`~carboy.model.solver.bracketed.solve_with_metals`.  (The
+    vectorized and guaranteed paths' modules load when a batch first needs them: one
+    solution on the plain-Python path, as `carboy ph` solves, never does.)
     """
     n = pr.ispec.shape[0]
     if pr.lay.metals is not None:   # kinks where solids appear: see solve_with_metals
+        from carboy.model.solver.bracketed import solve_with_metals
+
         return solve_with_metals(pr, start, max_iter=COUPLED_ITER)
     fast = None
     if n == 1 and start is None and pr.lay.python_path:  # the plain-Python path
@@ -487,6 +491,8 @@ def _solve_points(pr: Problem, start=None):
         x, ionic = np.array([fast[0]]), np.array([fast[1]])
         ok, iterations = np.array([True]), fast[2]
     else:
+        from carboy.model.solver.coupled import solve_warm
+
         x0, i0 = (None, None) if start is None else start
         x, ionic, ok, iterations = solve_warm(pr, max_iter=COUPLED_ITER, x0=x0, i0=i0)
     converged = ok.copy()
@@ -494,6 +500,8 @@ def _solve_points(pr: Problem, start=None):
     for a in range(0, n, pr.lay.chunk):
         bad = a + np.flatnonzero(~ok[a:a + pr.lay.chunk])
         if bad.size:
+            from carboy.model.solver.bracketed import solve_nested
+
             x[bad], ionic[bad], converged[bad], it = solve_nested(pr[bad], x[bad], ionic[bad])
             outer = max(outer, it)
     return x, ionic, converged, iterations + outer
@@ -535,6 +543,8 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
     ionic_out = ionic if pr.a_dh != 0.0 else pr.ispec + 0.5 * sums[2]
     metal_part = {}
     if lay.metals is not None and n:
+        from carboy.model.solver.metal_terms import columns as metal_columns  # with them
+
         cols = metal_columns(lay.metals, metal_states)
         table[len(labels):] = cols.species.T
         labels = labels + lay.metals.labels

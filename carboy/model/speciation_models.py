@@ -61,17 +61,6 @@ from carboy.model import water
 from carboy.model.activity import DAVIES_LIMIT_MOLAR, outside_range_warning
 from carboy.model.mixture import MixtureBatch
 from carboy.model.molality import water_kg_one, water_kg_per_litre
-from carboy.model.pitzer import I_MAX_MOLAL
-from carboy.model.pitzer_metals import (
-    SOLID_FALLBACK,
-    hydroxides,
-    pitzer_takes,
-    salts,
-    saturated_solids,
-    saturation,
-    with_metal_fields,
-)
-from carboy.model.pitzer_scalar import scalar_model
 from carboy.model.result_warnings import METAL_T_SPAN_C, warning_texts
 from carboy.model.solver.charge_balance import padded_fractions
 from carboy.model.solver.layout import ENTHALPY_DATA_MAX_C, Layout, cached_layout
@@ -82,14 +71,6 @@ from carboy.model.solver.outer import (
     solve_pitzer,
     solve_with_pairs,
     table_of,
-)
-from carboy.model.solver.pitzer_batch import FEW_POINTS, batch_outcome, few_outcome
-from carboy.model.solver.pitzer_one import (
-    model_warnings,
-    one_outcome,
-    one_table,
-    open_table,
-    solve_one_pitzer,
 )
 from carboy.model.solver.problem import build_problem, held_amounts
 
@@ -208,7 +189,7 @@ def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
         res = _with_pairs(base, lay, activity, held)
     molal_i = res.ionic_strength_molar / w
     high = float(molal_i.max(initial=0.0)) > AUTO_LIMIT_MOLAL
-    if metals and high and pitzer_takes(lay):
+    if metals and high and _pitzer_takes(lay):
         return _pitzer_with_metals(batch, lay, activity, catalog, paths,
                                    davies=_auto_davies(res, activity, w, molal_i))
     if metals or not high:
@@ -245,7 +226,16 @@ def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, paths: _Path
     """Calcium and magnesium under the Pitzer model while they stay dissolved
     (``pitzer_metals``); a batch where one of their solids would form falls back, whole,
     to the metal path with the Davies equation (``davies``, solved here if not given)."""
-    if not pitzer_takes(lay):
+    from carboy.model.pitzer_metals import (
+        SOLID_FALLBACK,
+        hydroxides,
+        salts,
+        saturated_solids,
+        saturation,
+        with_metal_fields,
+    )
+
+    if not _pitzer_takes(lay):
         raise InvalidInput("activity model", activity, _METALS_NOTE)
     t_c = batch.temperature_c
     lay_s = cached_layout(catalog, batch.keys, t_c, metals=False)
@@ -267,6 +257,13 @@ def _pitzer_with_metals(batch, lay: Layout, activity: str, catalog, paths: _Path
     return dataclasses.replace(davies, warnings=_with(davies.warnings, (text,)))
 
 
+def _pitzer_takes(lay: Layout) -> bool:
+    """:func:`~carboy.model.pitzer_metals.pitzer_takes` (loaded with a modelled metal)."""
+    from carboy.model.pitzer_metals import pitzer_takes
+
+    return pitzer_takes(lay)
+
+
 def _with_pairs(base, lay: Layout, activity: str, held):
     """The Davies result with the ion pairs, from the charge-only one ``base``."""
     t_c = base.temperature_c
@@ -281,7 +278,12 @@ def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None
     """The Pitzer path: one solution on floats (``solver.pitzer_one``), a batch on
     arrays (``solver.pitzer_batch``), held species too (``pitzer_one.open_table``); where
     those do not take the table (an open system with a salt, a pair on a state), the
-    outer loop (``solver.outer.solve_pitzer``) from the Davies result ``base``."""
+    outer loop (``solver.outer.solve_pitzer``) from the Davies result ``base``.  (The
+    Pitzer path's modules load when it is first taken: a Davies command never needs them.)"""
+    from carboy.model.pitzer_scalar import scalar_model
+    from carboy.model.solver.pitzer_batch import FEW_POINTS, batch_outcome, few_outcome
+    from carboy.model.solver.pitzer_one import one_outcome, one_table
+
     t_c = batch.temperature_c
     tab = table_of(lay, "pitzer", t_c)
     model = pitzer_for(tab, t_c)
@@ -356,6 +358,8 @@ def _started(n: int, u: int):
 def _opened(lay: Layout, tab, batch: MixtureBatch, held):
     """The float table of ``lay`` with the ``held`` systems open, and each point's held
     mol/L of them (N, H); (None, None) where the float path does not take it."""
+    from carboy.model.solver.pitzer_one import one_table, open_table
+
     ot = one_table(lay, tab, water.pkw(batch.temperature_c))
     if ot is None:
         return None, None
@@ -373,6 +377,10 @@ def pitzer_one_fields(catalog, lay: Layout, keys: tuple[str, ...], row: list,
     take the layout (metals, a pair on a state)."""
     if lay.metals is not None:
         return None
+    from carboy.model.pitzer import I_MAX_MOLAL
+    from carboy.model.pitzer_scalar import scalar_model
+    from carboy.model.solver.pitzer_one import model_warnings, solve_one_pitzer
+
     tab, ot, model, pkw, hot = _one_setup(lay, t_c)
     if ot is None:
         return None
@@ -412,6 +420,8 @@ def _one_setup(lay: Layout, t_c: float):
     hit = _SETUP.get(key)
     if hit is not None and hit[0] is lay:
         return hit[1]
+    from carboy.model.solver.pitzer_one import one_table
+
     tab = table_of(lay, "pitzer", t_c)
     pkw = water.pkw(t_c)
     hot = tuple(t for t in warning_texts(False, False, t_c > ENTHALPY_DATA_MAX_C, "pitzer")
@@ -425,6 +435,8 @@ def _one_setup(lay: Layout, t_c: float):
 
 def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes):
     """The batch result of the Pitzer path in the frame ``base``."""
+    from carboy.model.pitzer import I_MAX_MOLAL
+
     molal_i = out.extra["ionic_strength_molal"]
     common = tuple(t for t in out.extra["warnings"] if not t.startswith("ionic strength above"))
     hot = tuple(t for t in base.warnings[0] if "enthalpy data" in t) if len(base) else ()
@@ -439,6 +451,8 @@ def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes
 @lru_cache(maxsize=256)
 def _pitzer_texts(common: tuple[str, ...]) -> tuple[tuple[str, ...], ...]:
     """The warnings of a Pitzer point by code: +1 beyond I_MAX_MOLAL, +2 unsettled."""
+    from carboy.model.pitzer import I_MAX_MOLAL
+
     high = (f"ionic strength above {I_MAX_MOLAL:g} mol/kg, beyond the range the "
             "specific-interaction parameters were fitted to: treat the pH as indicative only")
     bad = "the solver did not reach its tolerance: the result is approximate"

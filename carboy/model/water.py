@@ -70,6 +70,10 @@ def pkw(temperature_c: float) -> float:
     return pkw_iapws(t + 273.15, density_g_cm3(t))
 
 
+PKW25 = pkw(25.0)
+"""pKw at 25 °C (IAPWS R11-07), the default and the conversion of OH- solubility products."""
+
+
 def relative_permittivity(temperature_c: float) -> float:
     """Static relative permittivity of water at 0.1 MPa, 0–100 °C.
 

@@ -24,9 +24,12 @@ import os
 import re
 import sys
 from collections.abc import Callable
-from pathlib import Path
+from typing import TYPE_CHECKING
 
 from carboy.errors import CarboyError, Refused
+
+if TYPE_CHECKING:  # pathlib only when the log is written: it costs a command ~4 ms to load
+    from pathlib import Path
 
 EXIT_OK = 0
 EXIT_REFUSED = 1
@@ -145,6 +148,8 @@ def expected(exc: BaseException) -> bool:
 
 
 def log_path() -> Path:
+    from pathlib import Path
+
     import platformdirs
 
     return Path(platformdirs.user_state_dir("carboy", appauthor=False)) / LOG_NAME

@@ -6,6 +6,7 @@ list's count and ``#ID`` search from the command line; the journal in time order
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 
@@ -18,13 +19,18 @@ HEAVY = ("carboy.store", "sqlite_utils", "pandas", "textual", "carboy.tui.app",
          "carboy.tui.cli.stock", "carboy.tui.cli.journal", "carboy.tui.cli.prep")
 
 
-def _loaded_by(*argv: str) -> list[str]:
+def _loaded_by(*argv: str, among: tuple[str, ...] = HEAVY, site: bool = True) -> list[str]:
+    """The modules named by (or under) ``among`` that the command ``argv`` loads; with
+    ``site`` False the command runs without the site module (this process's path given
+    instead), so that no .pth file of the environment loads a module before carboy."""
     code = ("import sys, io, contextlib\nfrom carboy.tui.launch import main\n"
             "with contextlib.redirect_stdout(io.StringIO()): status = main(sys.argv[1:])\n"
             "assert status == 0, status\n"
-            f"print(' '.join(sorted(m for m in sys.modules if m.startswith({HEAVY!r}))))")
-    done = subprocess.run([sys.executable, "-c", code, *argv], capture_output=True,
-                          text=True, timeout=60)
+            f"print(' '.join(sorted(m for m in sys.modules if m.startswith({among!r}))))")
+    env = dict(os.environ, PYTHONPATH=os.pathsep.join(p for p in sys.path if p))
+    done = subprocess.run([sys.executable, *(() if site else ("-S",)), "-c", code, *argv],
+                          capture_output=True, text=True, timeout=60,
+                          env=None if site else env)
     assert done.returncode == 0, done.stderr
     return done.stdout.split()
 
@@ -37,6 +43,56 @@ def test_a_calculation_loads_neither_the_store_nor_other_commands(argv):
     """Nor pandas, which sqlite-utils would import when it is installed: the cold start
     of `carboy ph` and `carboy neutralize` pays only for what they compute."""
     assert _loaded_by(*argv) == []
+
+
+METAL_MODULES = ("carboy.model.metal_data", "carboy.model.metals", "carboy.model.metal_doses",
+                 "carboy.model.pitzer_metals",
+                 "carboy.model.metal_salts", "carboy.model.metal_complexes",
+                 "carboy.model.solver.metal_terms", "carboy.model.solver.single_metals")
+
+
+@pytest.mark.parametrize(("argv", "metals"), [
+    (("neutralize", "H2SO4=0.5M", "--volume", "250mL", "--reagent", "NaOH=2M"), False),
+    (("ph", "HCl=0.1M", "NaCl=0.1M"), False),
+    (("ph", "ZnCl2=0.01M"), True),
+])
+def test_the_metal_modules_load_only_for_a_modelled_metal(argv, metals):
+    loaded = set(_loaded_by(*argv, among=METAL_MODULES))
+    if metals:
+        assert {"carboy.model.metal_data", "carboy.model.solver.metal_terms"} <= loaded
+    else:
+        assert loaded == set()
+
+
+BATCH_PATHS = ("carboy.model.pitzer_scalar", "carboy.model.pitzer_sums", "carboy.model.etheta",
+               "carboy.model.pitzer", "carboy.model.solver.pitzer_batch",
+               "carboy.model.solver.pitzer_one", "carboy.model.solver.bracketed",
+               "carboy.model.solver.coupled", "carboy.model.solver.single_pairs")
+
+
+def test_one_davies_solution_loads_neither_the_pitzer_nor_the_batch_paths():
+    """`carboy ph` of a dilute solution settles on the plain-Python path (auto: Davies);
+    the Pitzer and vectorized paths load when a command first takes them."""
+    assert [m for m in _loaded_by("ph", "H2SO4=0.05M", among=BATCH_PATHS)
+            if m in BATCH_PATHS] == []   # (carboy.model.pitzer_data is not one of them)
+    assert set(_loaded_by("ph", "H2SO4=1M", among=BATCH_PATHS)) >= {
+        "carboy.model.pitzer_scalar", "carboy.model.solver.pitzer_one"}
+
+
+AVOIDABLE = ("pathlib", "importlib.resources", "zipfile", "tempfile", "molmass", "hashlib")
+"""Modules a calculation has no use for, each a few ms of a cold start (molmass: the
+packaged formulas' masses are shipped, see carboy.model.molar_masses; hashlib: the data
+mirrors' digest is a CRC-32)."""
+
+
+@pytest.mark.parametrize("argv", [
+    ("ph", "HCl=0.1M"),
+    ("neutralize", "H2SO4=0.5M", "--volume", "250mL", "--reagent", "NaOH=2M"),
+])
+def test_a_calculation_reads_its_data_files_without_importlib_resources(argv):
+    """Nor pathlib (the error log's, loaded when it is written).  Run without the site
+    module: an environment's .pth files may load them before carboy starts."""
+    assert _loaded_by(*argv, among=AVOIDABLE, site=False) == []
 
 
 @pytest.mark.parametrize(("argv", "named"), [

@@ -28,18 +28,10 @@ def test_a_grid_of_other_nodes_is_not_used(monkeypatch, tmp_path):
     wrong.mkdir()
     np.save(wrong / etheta.GRID_FILE, np.zeros((4, 7)))
 
-    class Folder:
-        def __truediv__(self, name):
-            return wrong / name
-
-    monkeypatch.setattr(etheta.resources, "files", lambda package: Folder())
+    monkeypatch.setattr(etheta, "package_file", lambda package, name: str(wrong / name))
     assert etheta.shipped_grid() is None
 
 
 def test_a_missing_grid_file_is_not_used(monkeypatch, tmp_path):
-    class Folder:
-        def __truediv__(self, name):
-            return tmp_path / name
-
-    monkeypatch.setattr(etheta.resources, "files", lambda package: Folder())
+    monkeypatch.setattr(etheta, "package_file", lambda package, name: str(tmp_path / name))
     assert etheta.shipped_grid() is None

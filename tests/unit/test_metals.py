@@ -84,6 +84,33 @@ def test_unmodelled_cations_lists_the_cations_without_data():
     assert M.unmodelled_cations(charges) == ("Ag+", "Hg+2")
 
 
+def test_modelled_keys_are_the_keys_of_the_metal_records():
+    from carboy.model.metal_data import modelled_keys
+
+    assert modelled_keys() == frozenset(M.metal_data().metals)
+
+
+def test_a_plan_with_only_inert_cations_never_reads_the_metal_records(monkeypatch):
+    import carboy.model.metal_data as md
+    from carboy.model import metal_doses
+    from carboy.model.solver import metal_terms
+
+    def refuse():
+        raise AssertionError("metal records read for a solution without a modelled metal")
+
+    for module in (md, metal_doses, metal_terms):
+        monkeypatch.setattr(module, "metal_data", refuse)
+    from carboy.model.catalog import default_catalog
+    from carboy.model.mixture import Mixture
+    from carboy.model.planner import plan_neutralization
+    from carboy.model.reagents import parse_reagent
+
+    cat = default_catalog()
+    waste = Mixture.from_compounds([(cat.compound("H2SO4"), 0.5)], volume_l=0.25)
+    plan = plan_neutralization(waste, parse_reagent("NaOH=2M"))
+    assert plan.to_target.reagent_mol > 0 and not plan.precipitates
+
+
 def test_charge_bounds_hold_every_charge_the_metals_can_carry():
     totals = {"Zn+2": 0.05, "Al+3": 0.01}
     p, q = M.charge_bounds(totals)

@@ -6,9 +6,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from carboy.model import speciation_models
 from carboy.model.catalog import default_catalog
 from carboy.model.mixture import Mixture, titration_batch
+from carboy.model.solver import pitzer_batch
 from carboy.model.speciation import speciate_batch
 
 CAT = default_catalog()
@@ -30,7 +30,7 @@ def _batch(components, amounts):
 def test_a_few_points_give_the_array_paths_result(components, amounts, monkeypatch):
     batch = _batch(components, amounts)
     few = speciate_batch(batch, activity="pitzer", catalog=CAT)
-    monkeypatch.setattr(speciation_models, "FEW_POINTS", 0)   # the array path
+    monkeypatch.setattr(pitzer_batch, "FEW_POINTS", 0)   # the array path
     arrays = speciate_batch(batch, activity="pitzer", catalog=CAT)
     assert few.pH == pytest.approx(arrays.pH, abs=1e-7)
     assert few.species_molar == pytest.approx(arrays.species_molar, rel=1e-6, abs=1e-14)

@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from carboy.model import speciation_models, water
+from carboy.model import water
 from carboy.model.catalog import default_catalog
 from carboy.model.mixture import Mixture, titration_batch
 from carboy.model.solver import pitzer_one
@@ -32,7 +32,7 @@ def _batch(components, reagent, amounts, l_per_mol=0.0):
 
 def _outer_loop(monkeypatch):
     """Send open systems back to the outer loop (no open float table)."""
-    monkeypatch.setattr(speciation_models, "open_table", lambda ot, held: None)
+    monkeypatch.setattr(pitzer_one, "open_table", lambda ot, held: None)
 
 
 CASES = [

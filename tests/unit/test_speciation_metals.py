@@ -144,7 +144,7 @@ def test_one_solution_with_metals_in_plain_python_where_no_solid_forms(
 
     taken = []
     real = single_metals.solve_unsaturated
-    monkeypatch.setattr(S, "solve_unsaturated",
+    monkeypatch.setattr(single_metals, "solve_unsaturated",
                         lambda *a, **k: taken.append(real(*a, **k)) or taken[-1])
     for base in (0.0, 0.05, 0.2):   # mol NaOH per L: from the acid waste to past its solids
         mix = Mixture.from_compounds(

@@ -14,6 +14,7 @@ from same_result import assert_same_species
 
 import carboy.model.speciation as sp
 from carboy.model.mixture import Mixture, MixtureBatch
+from carboy.model.solver import bracketed, coupled, single_pairs
 
 CASES = [
     [("HCl", 0.01), ("H3PO4", 0.003), ("NH4Cl", 0.002), ("NaHCO3", 0.001), ("KCl", 0.005)],
@@ -28,9 +29,16 @@ def mixtures(catalog):
             for case in CASES]
 
 
+PATHS = {"solve_one": sp, "solve_warm": coupled, "solve_nested": bracketed,
+         "solve_pairs_one": single_pairs}
+"""Where each path's entry is looked up when it is called (speciation imports the batch
+paths' modules inside the functions that take them)."""
+
+
 def spy(monkeypatch, name):
-    """Replace ``speciation.<name>`` by a wrapper recording each call's result."""
-    real = getattr(sp, name)
+    """Replace the path ``name`` by a wrapper recording each call's result."""
+    module = PATHS[name]
+    real = getattr(module, name)
     results = []
 
     def wrapper(*args, **kwargs):
@@ -38,7 +46,7 @@ def spy(monkeypatch, name):
         results.append(out)
         return out
 
-    monkeypatch.setattr(sp, name, wrapper)
+    monkeypatch.setattr(module, name, wrapper)
     return results
 
 
@@ -143,10 +151,7 @@ def test_a_few_points_with_pairs_take_the_plain_python_loop_and_agree(catalog, m
     sample = Mixture({"sulfate": 0.05, "K+": 0.02, "phosphate": 0.01, "Cl-": 0.03},
                      volume_l=1.0)
     batch, _ = titration_batch(sample, {"Na+": 1.0}, [0.0, 0.03, 0.08, 0.12, 0.2], 0.0)
-    calls = []
-    real = outer.solve_pairs_one
-    monkeypatch.setattr(outer, "solve_pairs_one",
-                        lambda *a, **k: calls.append(real(*a, **k)) or calls[-1])
+    calls = spy(monkeypatch, "solve_pairs_one")
     few = sp.speciate_batch(batch, catalog=catalog)
     assert len(calls) == 5 and all(c is not None and c.converged for c in calls)
     monkeypatch.setattr(outer, "PYTHON_PAIRS_MAX", 0)

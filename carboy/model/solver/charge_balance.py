@@ -27,7 +27,6 @@ import numpy as np
 
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.layout import Layout
-from carboy.model.solver.metal_terms import add_terms, dissolved_ligands, ligands_at, solved_state
 from carboy.model.solver.problem import Amounts
 
 try:  # numpy's own loop behind np.einsum, without the Python wrapper (a call per step)
@@ -138,7 +137,9 @@ def species_at(x, ad, log_kw, lay: Layout, am: Amounts):
     alpha = e[:s] / sums[0][lay.flat_sys]
     out = {"sums": _einsum("ws,sn->wn", lay.row_w, conc), "ceff": ceff, "conc": conc[:s],
            "alpha": alpha, "metal": None}
-    if lay.metals is not None and am.metal is not None:
+    if lay.metals is not None and am.metal is not None:  # metal_terms is loaded with them
+        from carboy.model.solver.metal_terms import dissolved_ligands, ligands_at, solved_state
+
         metal = solved_state(lay.metals, am.metal, x, ad, log_kw,
                              ligands_at(lay.metals, e, sums[0], ceff))
         out["sums"][0] += metal.pos + metal.ligand_pos
@@ -189,7 +190,9 @@ def moments(x, ad, log_kw, lay: Layout, am: Amounts, want_jac: bool = False):
             ref[:k] = np.where(am.mask[:, None], am.c0[:, None], ref[:k])
         d_ad = _einsum("ws,sn->wn", lay.row_w_dad, _deviation(conc, lay.row_c, ref, lay))
     sums = _einsum("ws,sn->wn", lay.row_w, conc)
-    if lay.metals is not None and am.metal is not None:
+    if lay.metals is not None and am.metal is not None:  # metal_terms is loaded with them
+        from carboy.model.solver.metal_terms import add_terms, ligands_at
+
         add_terms(lay.metals, am.metal, x, ad, log_kw, ligands_at(lay.metals, e, s0, ceff),
                   sums, d_x, d_ad, am.ligand_start)
     return sums, d_x, d_ad, ceff

@@ -18,14 +18,18 @@ import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from types import MappingProxyType
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from carboy.errors import InvalidInput
 from carboy.model import water
 from carboy.model.entities import Ion, System
+from carboy.model.metal_index import modelled_among
 from carboy.model.solver.constants import LN10
-from carboy.model.solver.metal_terms import MetalLayout, compile_metals, metal_keys
+
+if TYPE_CHECKING:
+    from carboy.model.solver.metal_terms import MetalLayout
 
 R_J_MOL_K = 8.314462618  # J/(mol K), exact since the 2019 SI (CODATA)
 T_REF_K = 298.15
@@ -185,7 +189,8 @@ def python_systems(sys_cols: list, zs: list, lb0: np.ndarray, cmat: np.ndarray) 
 def _split_metals(pt: _Parts) -> tuple[list[int], tuple[str, ...]]:
     """Take the modelled metal ions out of the spectators of ``pt`` (in place): their
     batch columns and keys."""
-    found = metal_keys(dict(zip(pt.ion_labels, pt.ion_z)))
+    cation = any(z > 0 for z in pt.ion_z)
+    found = modelled_among(pt.ion_labels) if cation else ()
     cols = [pt.ion_cols[pt.ion_labels.index(k)] for k in found]
     keep = [i for i, lab in enumerate(pt.ion_labels) if lab not in found]
     pt.ion_cols = [pt.ion_cols[i] for i in keep]
@@ -201,8 +206,12 @@ def compile_layout(catalog, keys: tuple[str, ...], temperature_c: float, *,
     specific-interaction path, which treats dissolved calcium and magnesium as ions)."""
     pt = _parts(catalog, keys, temperature_c)
     metal_cols, metals_found = _split_metals(pt) if metals else ([], ())
-    metals = compile_metals(catalog, metal_cols, metals_found, tuple(pt.sys_keys),
-                            _slices_of(pt.zs))
+    metals = None
+    if metals_found:  # the metal modules load only for a modelled metal (metal_index)
+        from carboy.model.solver.metal_terms import compile_metals
+
+        metals = compile_metals(catalog, metal_cols, metals_found, tuple(pt.sys_keys),
+                                _slices_of(pt.zs))
     if metals is not None:
         pt.charge_map.update(zip(metals.labels, metals.charges))
     zs = pt.zs

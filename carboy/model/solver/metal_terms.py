@@ -55,15 +55,6 @@ class MetalLayout:
     complexes: int = 0          # metal-ligand complexes among the labels
 
 
-def metal_keys(ions: dict[str, int]) -> tuple[str, ...]:
-    """The modelled metals among the ions (key -> charge); metal data is read only when
-    some cation is present."""
-    if not any(z > 0 for z in ions.values()):
-        return ()
-    known = metal_data().metals
-    return tuple(k for k in ions if k in known)
-
-
 def compile_metals(catalog, cols: list[int], keys: tuple[str, ...], sys_keys: tuple[str, ...],
                    slices: tuple) -> MetalLayout | None:
     """The :class:`MetalLayout` of the metal ions ``keys`` at batch columns ``cols``, with

@@ -39,15 +39,13 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, replace
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from carboy.model import water
 from carboy.model.activity import davies_d
 from carboy.model.ion_pairs import load_ion_pairs
-from carboy.model.pitzer import PitzerModel, pitzer_model
-from carboy.model.pitzer_data import load_pitzer_data
-from carboy.model.solver.bracketed import coupled_then_nested, solve_nested
 from carboy.model.solver.charge_balance import species_at
 from carboy.model.solver.constants import COUPLED_ITER, LN10
 from carboy.model.solver.coupled import solve_coupled
@@ -61,7 +59,9 @@ from carboy.model.solver.pair_table import (
     Table,
 )
 from carboy.model.solver.problem import Problem
-from carboy.model.solver.single_pairs import solve_pairs_one
+
+if TYPE_CHECKING:
+    from carboy.model.pitzer import PitzerModel
 
 DAVIES_PAIRS = ("CaOH+", "MgOH+", "NaSO4-", "KSO4-", "CaSO4", "MgSO4")
 """The ion pairs of the Davies path (``data/ion_pairs.toml``)."""
@@ -86,6 +86,8 @@ def _pair_constant(rec, temperature_c: float) -> float:
 
 def _pitzer_constant(label: str, temperature_c: float) -> float:
     """log10 K of M + OH- = P from the Pitzer set's hydrolysis constant (van 't Hoff)."""
+    from carboy.model.pitzer_data import load_pitzer_data  # the Pitzer path's: when taken
+
     for c in load_pitzer_data().constants:
         if label in c["reaction"].split("=")[1]:
             t = temperature_c + 273.15
@@ -303,6 +305,8 @@ def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic, solved=None) 
     few = _pairs_each(pr0, tab, x, ionic, solved) if x.shape[0] <= PYTHON_PAIRS_MAX else None
     if few is not None:
         return few
+    from carboy.model.solver.bracketed import coupled_then_nested  # the batch paths' own
+
     s, n = pr0.lay.flat_j.shape[0], x.shape[0]
     pkw = float(pr0.pkw)
     terms = Terms(np.zeros((s, n)), np.full(n, pkw), pr0.ispec.copy())
@@ -342,6 +346,8 @@ def _pairs_each(pr0: Problem, tab: Table, x, ionic, solved) -> Outcome | None:
     if (not lay.python_path or lay.metals is not None or pr0.am.held is not None
             or pr0.am.shift is not None or np.ndim(pr0.pkw) != 0 or not tab.pairs):
         return None
+    from carboy.model.solver.single_pairs import solve_pairs_one
+
     pkw = float(pr0.pkw)
     got = []
     at_root = [False] * x.shape[0] if solved is None else np.asarray(solved, bool).tolist()
@@ -385,6 +391,8 @@ def solve_pitzer(pr0: Problem, model: PitzerModel, tab: Table, per_molar: np.nda
                  x, lg=None) -> Outcome:
     """The Pitzer path: outer loop on every species' coefficient (``per_molar`` (N,):
     mol/kg per mol/L; ``lg`` (N, U) a start for the log10 coefficients)."""
+    from carboy.model.solver.bracketed import solve_nested
+
     n, s = x.shape[0], pr0.lay.flat_j.shape[0]
     pkw = float(pr0.pkw)
     log_s = np.log10(per_molar)
@@ -417,6 +425,8 @@ def solve_pitzer(pr0: Problem, model: PitzerModel, tab: Table, per_molar: np.nda
 
 def pitzer_for(tab: Table, temperature_c: float) -> PitzerModel:
     """The Pitzer model of a table's species (ions outside the set: Davies fallback)."""
+    from carboy.model.pitzer import pitzer_model  # the Pitzer path's: when it is taken
+
     charges = {lab: int(z) for lab, z in zip(tab.labels, tab.charges.tolist())}
     return pitzer_model(tab.labels, temperature_c, fallback="davies", charges=charges)
 
