@@ -48,7 +48,6 @@ from carboy.model.activity import davies_d
 from carboy.model.ion_pairs import load_ion_pairs
 from carboy.model.solver.charge_balance import species_at
 from carboy.model.solver.constants import COUPLED_ITER, LN10
-from carboy.model.solver.coupled import solve_coupled
 from carboy.model.solver.layout import R_J_MOL_K, T_REF_K, Layout
 from carboy.model.solver.pair_table import (
     LAGGED_ROUNDS,
@@ -306,6 +305,7 @@ def solve_with_pairs(pr0: Problem, temperature_c: float, x, ionic, solved=None) 
     if few is not None:
         return few
     from carboy.model.solver.bracketed import coupled_then_nested  # the batch paths' own
+    from carboy.model.solver.coupled import solve_coupled
 
     s, n = pr0.lay.flat_j.shape[0], x.shape[0]
     pkw = float(pr0.pkw)
