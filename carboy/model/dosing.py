@@ -149,7 +149,8 @@ class Dosing:
         solve = ~sure | np.isin(n, n[~sure])
         loss = np.full(n.shape, np.nan)
         if solve.any():
-            loss[solve] = self.fresh_loss(n[solve])
+            once, back = np.unique(n[solve], return_inverse=True)
+            loss[solve] = self.fresh_loss(once)[back]
         total = self.model.carbonate_total_mol(n)
         kept = np.where(np.isnan(loss), np.inf, np.maximum(total - loss, 0.0))
         start = coefficients = air_ph = None
