@@ -23,11 +23,7 @@ from carboy.model import gas, numbers
 from carboy.model.co2_loss import FreshLoss, bounds, loss_amounts, settle_turns
 from carboy.model.mixture import MixtureBatch, titration_batch
 from carboy.model.speciation import BatchSpeciation, speciate_batch
-from carboy.model.speciation_models import (
-    coefficients_in,
-    settles_forward,
-    start_coefficients,
-)
+from carboy.model.speciation_models import coefficients_of, settles_forward, start_coefficients
 
 CURVE_SPAN = 1.3
 """The pH curve runs from 0 to this times the largest dose of interest."""
@@ -129,8 +125,7 @@ class Dosing:
     def _batch_and_air(self, n: np.ndarray, vented, air_start=None):
         """The batch and its volumes (see :meth:`batch_at`), and a vented point whose
         state is the one open to air starts from its root (and, on the Pitzer model, its
-        coefficients at the batch's own water per litre: ``coefficients_in``), the others
-        from none (:class:`_Vented`).
+        coefficients: ``coefficients_of``), the others from none (:class:`_Vented`).
         The loss right after the addition is solved only where it enters the batch (a
         vented amount whose loss could not bring its carbonate below the air's level
         vents to the state open to air whatever the loss: ``open_to_air``)."""
@@ -154,29 +149,22 @@ class Dosing:
         total = self.model.carbonate_total_mol(n)
         kept = np.where(np.isnan(loss), np.inf, np.maximum(total - loss, 0.0))
         start = coefficients = air_ph = None
-        exact = np.zeros(n.shape, dtype=bool)
         if vented.any():
             exact = vented & (at_air <= kept)   # these points are the state open to air
             kept = np.where(vented, np.minimum(kept, at_air), kept)
             for a, lost, k, v in zip(n.tolist(), loss.tolist(), kept.tolist(), vented.tolist()):
                 if v:
                     self.seen[a] = (None if lost != lost else lost, k)
+            if exact.any():
+                start = (np.where(exact, air.result.log_h, np.nan),
+                         np.where(exact, air.result.ionic_strength_molar, np.nan))
+                air_ph = np.where(exact, air.result.pH, np.nan)
+                coefficients = coefficients_of(air.result)
+                if coefficients is not None:
+                    coefficients = np.where(exact[:, None], coefficients, np.nan)
         tot = b.totals.copy()
         tot[:, b.keys.index(gas.CARBONATE)] = kept / vol
-        batch = MixtureBatch(b.keys, tot, b.temperature_c)
-        if exact.any():
-            start = (np.where(exact, air.result.log_h, np.nan),
-                     np.where(exact, air.result.ionic_strength_molar, np.nan))
-            air_ph = np.where(exact, air.result.pH, np.nan)
-            # its water per litre from what the batch keeps, not every carbonate added
-            rows = np.flatnonzero(exact)
-            got = coefficients_in(air.result.rows(rows),
-                                  MixtureBatch(b.keys, tot[rows], b.temperature_c),
-                                  self.model.catalog)
-            if got is not None:
-                coefficients = np.full((n.size, got.shape[1]), np.nan)
-                coefficients[rows] = got
-        return _Vented(batch, vol, start, coefficients,
+        return _Vented(MixtureBatch(b.keys, tot, b.temperature_c), vol, start, coefficients,
                        np.full(n.shape, np.nan) if air_ph is None else air_ph)
 
     def co2_lost_mol(self, n_end: float) -> tuple[float, float]:

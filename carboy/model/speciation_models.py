@@ -340,36 +340,6 @@ def coefficients_of(res) -> np.ndarray | None:
     return np.column_stack([part.log_gamma, np.log10(part.water_activity)])
 
 
-def coefficients_in(res, batch: MixtureBatch, catalog) -> np.ndarray | None:
-    """Starts of the Pitzer coefficients (as :func:`coefficients_of` gives them) for
-    the points of ``batch`` from the states ``res`` that hold the same mol/L of every
-    species but reckon the batch's water per litre differently (an open solve, whose
-    water comes from every carbonate added, for the closed batch holding what it kept):
-    the coefficients at ``res``'s species over the batch's own kg of water per litre,
-    one evaluation that takes the change of scale out of the start.  ``res``'s own
-    coefficients where its species are not the batch's table (metals); None off the
-    Pitzer model."""
-    v = coefficients_of(res)
-    if v is None or not len(batch):
-        return v
-    t_c = batch.temperature_c
-    lay = cached_layout(catalog, batch.keys, t_c)
-    if getattr(lay, "metals", None) is not None:
-        return v
-    tab = table_of(lay, "pitzer", t_c)
-    if tuple(tab.labels) != tuple(res.species_labels):
-        return v
-    w, _ = water_kg_per_litre(catalog, batch.keys, batch.totals, t_c)
-    m = res.species_molar / w[:, None]
-    ok = np.isfinite(m).all(axis=1) & (m >= 0).all(axis=1)
-    if not ok.any():
-        return v
-    ln_g, _, aw, _ = pitzer_for(tab, t_c).coefficients(m[ok])
-    out = v.copy()
-    out[ok] = np.column_stack([ln_g / math.log(10.0), np.log10(aw)])
-    return out
-
-
 def start_coefficients(v0: np.ndarray | None):
     """:func:`pitzer_start` with ``v0`` (N, U + 1) as :func:`coefficients_of` gives
     them (rows with a NaN: no start); a block that does nothing for None."""

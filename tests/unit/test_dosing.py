@@ -148,28 +148,3 @@ def test_an_inverse_is_the_same_whatever_the_inverses_before_it(catalog, totals)
     assert np.all(np.isfinite(fresh))
     np.testing.assert_allclose(again, fresh, rtol=1e-11)
     assert np.array_equal(used.amount_at_pH([6.93, 8.97]), again)   # remembered
-
-
-def test_a_vented_pitzer_batch_starts_from_its_own_waters_coefficients(catalog):
-    """The closed batch that keeps what the state open to air holds starts from the
-    coefficients at that state's species over the batch's own water per litre
-    (``coefficients_in``): closer to its solved coefficients than the open state's own
-    (whose water counts every carbonate added), and the same states as a cold solve."""
-    from carboy.model.speciation_models import coefficients_in, coefficients_of
-
-    d = dosing_for(catalog, {"Na+": 1.0, "Cl-": 2.0}, "Na2CO3", [7.0, 6.0, 8.0],
-                   n_full=0.5, activity="pitzer")
-    n = np.linspace(0.05, 0.6, 12)
-    got = d._batch_and_air(n, True)
-    exact = np.isfinite(got.air_pH)
-    assert exact.sum() >= 6
-    res = speciate_batch(got.batch, activity="pitzer", catalog=catalog)
-    solved = coefficients_of(res)[exact]
-    air = d.model.forward(n[exact], co2_molar=d.s_air)
-    raw = coefficients_of(air.result)
-    rows = got.batch.totals[exact]
-    from carboy.model.mixture import MixtureBatch
-
-    moved = coefficients_in(air.result, MixtureBatch(got.batch.keys, rows, 25.0), catalog)
-    assert np.abs(moved - solved).max() < 1e-3 * np.abs(raw - solved).max()
-    np.testing.assert_allclose(d.solve(n)[0].pH, res.pH, atol=1e-9)
