@@ -11,9 +11,10 @@ from carboy.model.dosing import grid_losses
 from carboy.model.mixture import Mixture
 
 
-def _model(catalog, totals, reagent="Na2CO3", activity="davies", volume_l=1.0):
+def _model(catalog, totals, reagent="Na2CO3", activity="davies", volume_l=1.0,
+           l_per_mol=0.0):
     comp = dict(catalog.compound(reagent).composition)
-    return gas.TitrationModel(Mixture(totals, volume_l=volume_l), comp, 0.0,
+    return gas.TitrationModel(Mixture(totals, volume_l=volume_l), comp, l_per_mol,
                               activity=activity, catalog=catalog)
 
 
@@ -58,18 +59,20 @@ def test_a_loss_that_turns_often_is_solved_everywhere():
     assert not co2_loss.settle_turns(lambda at: loss[at], here, solved, coarse)
 
 
-@pytest.mark.parametrize("activity, totals, volume_l", [
-    ("davies", {"Cl-": 0.5}, 1.0),
-    ("davies", {"Cl-": 0.3, "acetate": 0.4}, 2.0),
-    ("pitzer", {"Cl-": 2.0, "sulfate": 0.5}, 1.5),
+@pytest.mark.parametrize("activity, totals, volume_l, reagent, l_per_mol", [
+    ("davies", {"Cl-": 0.5}, 1.0, "Na2CO3", 0.0),
+    ("davies", {"Cl-": 0.3, "acetate": 0.4}, 2.0, "Na2CO3", 0.0),
+    ("davies", {"Cl-": 1.0}, 1.0, "Na2CO3", 1.0),          # a 1 M solution: the volume grows
+    ("davies", {"Cl-": 1.0, "carbonate": 0.05}, 1.0, "NaHCO3", 0.0),
+    ("pitzer", {"Cl-": 2.0, "sulfate": 0.5}, 1.5, "Na2CO3", 0.0),
 ])
 def test_the_coarse_loss_equals_the_loss_solved_at_every_amount(catalog, activity, totals,
-                                                                 volume_l):
+                                                                 volume_l, reagent, l_per_mol):
     """The grid's running maximum from the coarse grid and its turns is the one solving
     every amount gives (to the solver's tolerance), anywhere on or between the grid's
     amounts; ``upper`` is never below it, and the amounts it calls open to air are."""
-    model = _model(catalog, totals, activity=activity, volume_l=volume_l)
-    n_full = sum(v for v in totals.values()) * volume_l / 2.0
+    model = _model(catalog, totals, reagent, activity, volume_l, l_per_mol)
+    n_full = sum(v for v in totals.values()) * volume_l / (2.0 if reagent == "Na2CO3" else 1.0)
     grid = np.linspace(0.0, 1.3 * n_full, 400)
     s_sat = gas.henry_co2_molar_per_atm(25.0)
     s_air = s_sat * gas.air_pco2_atm()
