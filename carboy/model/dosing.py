@@ -58,9 +58,6 @@ class Dosing:
     pco2_atm: float | None
     grid_air: gas.State | None = field(default=None, repr=False, compare=False)
     """The state open to air at every amount of ``grid`` (None without carbonate)."""
-    curve: tuple | None = field(default=None, repr=False, compare=False)
-    """(states, volumes (L)) of ``grid`` as :meth:`solve` gives them, once solved (a
-    refined plan's doses start from it), or None."""
     seen: dict = field(default_factory=dict, repr=False, compare=False)
     """amount (mol) -> (CO2 lost right after adding it, carbonate kept once vented), as
     worked out for a batch (``co2_lost_mol`` reads it back)."""
@@ -241,9 +238,7 @@ def find_doses(model: gas.TitrationModel, composition: Mapping[str, float], l_pe
     found = Dosing(model, composition, l_per_mol, doses, grid, fresh_loss, s_air, pco2,
                    grid_air=grid_air)
     if settles_forward(model.activity, model.keys, model.catalog, t_c):
-        # the inverse took charge-only Davies coefficients: settle on the forward solve,
-        # starting from the curve (the grid's states do not depend on the doses)
-        found = dataclasses.replace(found, curve=found.solve(grid))
+        # the inverse took charge-only Davies coefficients: settle on the forward solve
         return refine_doses(found, targets, direction)
     return found
 
@@ -386,7 +381,7 @@ def refine_doses(dosing: Dosing, targets, direction: str) -> Dosing:
             steep = np.where(miss == 0.0, 0.0, np.sign(sign * miss) * np.inf)
         return np.where(np.isfinite(on_scale), on_scale, steep), miss
 
-    n, miss = _secant(g, doses[idx], _from_curve(dosing, want, sign, inverse, aim))
+    n, miss = _secant(g, doses[idx])
     left = np.flatnonzero(~(np.abs(miss) <= REFINE_PH_TOL))
     if left.size:
         n[left] = _false_position(lambda m, which: g(m, left[which]), n[left])
@@ -428,55 +423,13 @@ SECANT_ROUNDS = 6
 """Forward solves the secant may take before the bracketing search takes over."""
 
 
-CURVE_START_SPAN = 1.0
-"""A dose starts from the curve where the pH changes by at most this between the two
-grid amounts around it (across a steeper jump g is too far from straight there)."""
-
-
-def _from_curve(dosing: Dosing, want: np.ndarray, sign: float, inverse, aim):
-    """Two points of g for each dose from the solved curve (``dosing.curve``), the grid
-    amounts on either side of its pH (no solve: g there is the Davies dose at the
-    curve's pH): ((n, g) nearer the root, (n, g) the other), NaN where the curve does
-    not cross the pH or jumps by more than ``CURVE_START_SPAN`` there; None without a
-    curve."""
-    if dosing.curve is None:
-        return None
-    ph = dosing.curve[0].pH
-    k = want.size
-    above = sign * (ph[None, :] - want[:, None]) >= 0            # (k, grid)
-    cross = above[:, 1:] & ~above[:, :-1]
-    has = cross.any(axis=1)
-    j = np.argmax(cross, axis=1)                                 # first crossing
-    ends = np.r_[j, j + 1]
-    which = np.r_[np.arange(k), np.arange(k)]
-    with np.errstate(invalid="ignore"):
-        gv = inverse(ph[ends], which) - aim[which]
-    n_e = dosing.grid[ends]
-    near = np.abs(gv[k:]) < np.abs(gv[:k])
-    out = np.full((4, k), np.nan)
-    out[0], out[1] = np.where(near, n_e[k:], n_e[:k]), np.where(near, gv[k:], gv[:k])
-    out[2], out[3] = np.where(near, n_e[:k], n_e[k:]), np.where(near, gv[:k], gv[k:])
-    good = (has & np.isfinite(gv[:k]) & np.isfinite(gv[k:]) & (gv[:k] != gv[k:])
-            & (np.abs(ph[j + 1] - ph[j]) <= CURVE_START_SPAN))
-    out[:, ~good] = np.nan
-    return (out[0], out[1]), (out[2], out[3])
-
-
-def _secant(g, start: np.ndarray, curve=None) -> tuple[np.ndarray, np.ndarray]:
-    """The secant method on ``g`` from ``start`` (the first step takes slope one), or
-    where ``curve`` (:func:`_from_curve`) has two points of g for a dose, from the
-    secant step through them: (the best dose found for each, the pH's miss there)."""
+def _secant(g, start: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The secant method on ``g`` from ``start`` (the first step takes slope one):
+    (the best dose found for each, the pH's miss there)."""
     k = start.size
     best, best_miss = start.copy(), np.full(k, np.inf)
     prev_n = prev_g = None
     n = start.copy()
-    if curve is not None:
-        (n1, g1), (n2, g2) = curve
-        with np.errstate(divide="ignore", invalid="ignore"):
-            step = n1 - g1 * (n1 - n2) / (g1 - g2)
-        known = np.isfinite(step) & (step > 0)
-        n = np.where(known, step, n)
-        prev_n, prev_g = np.where(known, n1, np.nan), np.where(known, g1, np.nan)
     for _ in range(SECANT_ROUNDS):
         live = np.flatnonzero(np.isfinite(n) & (n > 0) & ~(np.abs(best_miss) <= REFINE_PH_TOL))
         if live.size == 0:
@@ -487,8 +440,7 @@ def _secant(g, start: np.ndarray, curve=None) -> tuple[np.ndarray, np.ndarray]:
         better = np.abs(ml) < np.abs(best_miss[live])
         best[live[better]], best_miss[live[better]] = n[live[better]], ml[better]
         with np.errstate(divide="ignore", invalid="ignore"):
-            step = here_g if prev_g is None else np.where(
-                np.isfinite(prev_g), here_g * (n - prev_n) / (here_g - prev_g), here_g)
+            step = here_g if prev_g is None else here_g * (n - prev_n) / (here_g - prev_g)
         prev_n, prev_g = n, here_g
         n = np.where(np.isfinite(step), n - step, np.nan)
     return best, best_miss

@@ -337,8 +337,8 @@ def _find_doses(req: PlanRequest, start: _Start, demand: _Demand) -> Dosing:
 
 def _solve_curve(req: PlanRequest, dosing: Dosing) -> tuple[BatchSpeciation, np.ndarray]:
     """Step 5: the vented batch at every amount of the curve grid, solved at once, and
-    its volumes (L) (solved already where the doses were refined from it)."""
-    return dosing.curve if dosing.curve is not None else dosing.solve(dosing.grid)
+    its volumes (L)."""
+    return dosing.solve(dosing.grid)
 
 
 @dataclass(frozen=True)

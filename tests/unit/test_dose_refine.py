@@ -102,36 +102,3 @@ def test_false_position_halves_an_end_only_when_it_is_kept_twice():
     found = dosing._false_position(g, np.array([2.0006]))
     assert abs(found[0] - 2.0) * 1e3 <= dosing.REFINE_PH_TOL * 1.01
     assert len(calls) <= 9, calls
-
-
-def test_doses_start_from_the_curve_where_it_is_smooth(monkeypatch):
-    """The refined doses start from the solved curve (the secant through the grid
-    amounts on either side of each pH, which cost no solve) where the curve changes by
-    at most CURVE_START_SPAN there: fewer forward solves, the same doses to the
-    tolerance as from the Davies inverse."""
-    comps = {"acetic acid": 1.5, "HCl": 0.5}
-    sample = Mixture.from_compounds([(CAT.compound(k), c) for k, c in comps.items()],
-                                    volume_l=2.0)
-
-    def planned():
-        rounds = []
-        real = dosing.Dosing.vented_pH
-
-        def counted(self, n):
-            rounds.append(np.size(n))
-            return real(self, n)
-
-        with monkeypatch.context() as m:
-            m.setattr(dosing.Dosing, "vented_pH", counted)
-            plan = plan_neutralization(sample, parse_reagent("Na2CO3"), target_pH=7.0,
-                                       window=(6.0, 9.0), activity="pitzer", catalog=CAT)
-        return plan, rounds
-
-    plan, rounds = planned()
-    monkeypatch.setattr(dosing, "_from_curve", lambda *a: None)
-    davies, davies_rounds = planned()
-    assert len(rounds) <= 3 < len(davies_rounds)
-    for a, b, ph in [(plan.to_target, davies.to_target, 7.0),
-                     *zip(plan.window_doses, davies.window_doses, (6.0, 9.0))]:
-        assert a.pH == pytest.approx(ph, abs=dosing.REFINE_PH_TOL)
-        assert a.reagent_mol == pytest.approx(b.reagent_mol, rel=1e-6)
