@@ -10,11 +10,11 @@ loss at n itself.
 The saturation loss along a titration rises while the acid turns each carbonate into
 CO2 and falls once the carbonate takes the CO2 up again (as bicarbonate): it is
 monotone between the few turns.  So it is solved at every ``LOSS_STRIDE``-th grid
-amount that needs it, and at every amount between the two neighbours of each turn of
-those (each coarse local maximum, the ends included when they rise): the grid's
-running maximum is then the one solving every amount gives (its largest values are
-solved), provided the loss is monotone between the solved amounts on either side of
-the turns.  Between the solved amounts of a monotone stretch it is only bounded
+amount that needs it, and then around each turn of those (each coarse local maximum,
+the ends included when they rise) by halving the spacing about the largest amount
+solved there until both its neighbours on the grid are solved: the grid's running
+maximum is then the one solving every amount gives (its largest value is solved),
+provided the loss is monotone on either side of its turns.  Between the solved amounts of a monotone stretch it is only bounded
 (:attr:`FreshLoss.run_hi`), which is enough to tell where the batch vents to the state
 open to air (there the loss does not enter the batch); an amount whose loss is needed
 there is solved then.  A loss that turns more often than the coarse amounts can show
@@ -107,9 +107,10 @@ def settle_turns(solve, here: np.ndarray, solved: np.ndarray, coarse: np.ndarray
         return False
     last = coarse.size - 1
     # each turn: its grid index and the half-width of the window the maximum lies in
-    live = [(int(coarse[t]), int(max(coarse[min(t + 1, last)] - coarse[t],
-                                     coarse[t] - coarse[max(t - 1, 0)])))
+    wide = [max(coarse[min(t + 1, last)] - coarse[t], coarse[t] - coarse[max(t - 1, 0)])
             for t in found.tolist()]
+    live = [(int(coarse[t]), 1 << (int(w) - 1).bit_length())   # a power of two
+            for t, w in zip(found.tolist(), wide)]
     while live:
         step = [(c, max(w // 2, 1)) for c, w in live]
         ask = sorted({i for c, h in step for i in (c - h, c + h)

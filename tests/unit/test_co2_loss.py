@@ -92,3 +92,14 @@ def test_the_coarse_loss_equals_the_loss_solved_at_every_amount(catalog, activit
     sure = open_to_air(loss, grid, at_air, True)
     assert sure.sum() > 0.9 * grid.size
     assert np.all(at_air[sure] <= model.carbonate_total_mol(grid)[sure] - full[sure])
+
+
+@pytest.mark.parametrize("spacing, peak_at", [(5, 297.6), (6, 243.2), (3, 101.4)])
+def test_the_turn_search_covers_a_spacing_that_is_no_power_of_two(spacing, peak_at):
+    loss = _kinked(peak_at)
+    coarse = np.arange(40, 400, spacing)
+    here, solved = np.where(loss > 0, np.nan, 0.0), ~(loss > 0)
+    here[coarse], solved[coarse] = loss[coarse], True
+    assert co2_loss.settle_turns(lambda at: loss[at], here, solved, coarse)
+    run_lo, _ = co2_loss.bounds(np.where(solved, here, 0.0), solved)
+    assert run_lo[-1] == loss.max()
