@@ -58,9 +58,14 @@ class FreshLoss:
                                          model.saturation_loss_mol(grid[unsure], self.s_sat))
             return out
         idx = np.clip(np.searchsorted(grid, n, side="right") - 1, 0, len(grid) - 1)
-        here = (model.loss_from(n, saturated, self.s_sat) if saturated is not None
-                else model.saturation_loss_mol(n, self.s_sat))
-        return np.maximum(self.run_lo[idx], here)
+        if saturated is not None:
+            return np.maximum(self.run_lo[idx], model.loss_from(n, saturated, self.s_sat))
+        out = self.run_lo[idx]
+        # a grid amount whose running maximum is settled is its loss; the others solved
+        rest = np.flatnonzero((grid[idx] != n) | (self.run_hi[idx] > self.run_lo[idx]))
+        if rest.size:
+            out[rest] = np.maximum(out[rest], model.saturation_loss_mol(n[rest], self.s_sat))
+        return out
 
     def upper(self, n) -> np.ndarray:
         """A bound above the loss at ``n`` (mol), without a solve: the bound on the grid

@@ -229,7 +229,7 @@ def find_doses(model: gas.TitrationModel, composition: Mapping[str, float], l_pe
         fresh_loss = grid_air = None
     else:
         doses, grid, fresh_loss, grid_air = _vented_doses(model, targets, n_full, s_sat,
-                                                          s_air, points)
+                                                          s_air, points, direction)
     # doses on the wrong side of the start are unreachable in this direction
     for i, ph_i in enumerate(targets):
         if (direction == "base" and ph_i <= initial_pH) or (
@@ -254,12 +254,16 @@ def fresh_loss_function(model: gas.TitrationModel, grid: np.ndarray,
 
 
 def grid_losses(model: gas.TitrationModel, grid: np.ndarray, s_sat: float,
-                s_air: float | None = None) -> tuple[FreshLoss, gas.State | None]:
+                s_air: float | None = None, *, every: bool = False
+                ) -> tuple[FreshLoss, gas.State | None]:
     """:func:`fresh_loss_function` and (given ``s_air``) the state open to air at every
     amount of the grid: the loss at 1 atm on the coarse grid (:mod:`~carboy.model.co2_loss`)
-    and the state open to air in one solve, then the amounts around the loss's turns."""
+    and the state open to air in one solve, then the amounts around the loss's turns;
+    ``every``: at every amount of the grid in that one solve (a batch made acid starts
+    alkaline, where it keeps less carbonate than the air would leave it: the loss enters
+    its vented states along much of the curve)."""
     need = model.saturation_need(grid, s_sat)
-    coarse = loss_amounts(need)
+    coarse = np.flatnonzero(need) if every else loss_amounts(need)
     levels = [(grid[coarse], s_sat)] if coarse.size else []
     if s_air is not None:
         levels.append((grid, s_air))
@@ -311,7 +315,8 @@ def _fresh_state_doses(model: gas.TitrationModel, targets, doses, todo, loss_of)
         todo, loss = todo[moving], new[moving]
 
 
-def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, points):
+def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, points,
+                  direction: str):
     """Doses that reach each target pH once the batch has vented, the curve grid, and
     the right-after-addition loss function.
 
@@ -324,7 +329,7 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
     span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[n_air, 0.0]))
     span = span if span > 0 else 1e-6
     grid = np.linspace(0.0, span, points)
-    loss_of, grid_air = grid_losses(model, grid, s_sat, s_air)
+    loss_of, grid_air = grid_losses(model, grid, s_sat, s_air, every=direction != "base")
     doses = np.full(len(targets), np.nan)
     ok = np.isfinite(n_air)
     if ok.any():
@@ -343,7 +348,7 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
     far = np.nanmax(np.r_[doses, 0.0])
     if CURVE_SPAN * far > span * 1.0001:
         grid = np.linspace(0.0, CURVE_SPAN * max(far, n_full), points)
-        loss_of, grid_air = grid_losses(model, grid, s_sat, s_air)
+        loss_of, grid_air = grid_losses(model, grid, s_sat, s_air, every=direction != "base")
     return doses, grid, loss_of, grid_air
 
 

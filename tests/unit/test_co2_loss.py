@@ -103,3 +103,29 @@ def test_the_turn_search_covers_a_spacing_that_is_no_power_of_two(spacing, peak_
     assert co2_loss.settle_turns(lambda at: loss[at], here, solved, coarse)
     run_lo, _ = co2_loss.bounds(np.where(solved, here, 0.0), solved)
     assert run_lo[-1] == loss.max()
+
+
+def test_every_amount_solved_at_once_and_settled_grid_amounts_take_no_solve(catalog,
+                                                                             monkeypatch):
+    """``every=True`` (a batch made acid) solves the loss at every grid amount in the one
+    solve; asked again at grid amounts whose running maximum is settled, the loss
+    function solves nothing."""
+    model = _model(catalog, {"Cl-": 0.5})
+    grid = np.linspace(0.0, 0.35, 120)
+    s_sat = gas.henry_co2_molar_per_atm(25.0)
+    loss, _ = grid_losses(model, grid, s_sat, every=True)
+    np.testing.assert_array_equal(loss.run_lo, loss.run_hi)
+    full = np.maximum.accumulate(model.saturation_loss_mol(grid, s_sat))
+    np.testing.assert_allclose(loss.run_lo, full, rtol=1e-9, atol=1e-13)
+    asked = []
+    real = gas.TitrationModel.saturation_loss_mol
+
+    def counted(self, n, co2):
+        asked.append(np.size(n))
+        return real(self, n, co2)
+
+    monkeypatch.setattr(gas.TitrationModel, "saturation_loss_mol", counted)
+    np.testing.assert_array_equal(loss(grid[5::7]), loss.run_lo[5::7])
+    assert asked == []
+    loss(np.r_[grid[3], 0.5 * (grid[3] + grid[4])])
+    assert asked == [1]
