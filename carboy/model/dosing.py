@@ -20,6 +20,7 @@ from typing import NamedTuple
 import numpy as np
 
 from carboy.model import gas, numbers
+from carboy.model.co2_loss import FreshLoss, bounds, loss_amounts, settle_turns
 from carboy.model.mixture import MixtureBatch, titration_batch
 from carboy.model.speciation import BatchSpeciation, speciate_batch
 from carboy.model.speciation_models import coefficients_of, settles_forward, start_coefficients
@@ -121,7 +122,10 @@ class Dosing:
     def _batch_and_air(self, n: np.ndarray, vented, air_start=None):
         """The batch and its volumes (see :meth:`batch_at`), and a vented point whose
         state is the one open to air starts from its root (and, on the Pitzer model, its
-        coefficients: ``coefficients_of``), the others from none (:class:`_Vented`)."""
+        coefficients: ``coefficients_of``), the others from none (:class:`_Vented`).
+        The loss right after the addition is solved only where it enters the batch (a
+        vented amount whose loss could not bring its carbonate below the air's level
+        vents to the state open to air whatever the loss: ``open_to_air``)."""
         b, vol = titration_batch(self.model.sample, self.composition, n, self.l_per_mol)
         if self.fresh_loss is None:
             return _Vented(b, vol)
@@ -129,26 +133,25 @@ class Dosing:
         on_grid = (self.grid_air is not None and n.shape == self.grid.shape
                    and np.array_equal(n, self.grid))
         air = self.grid_air if on_grid else None
-        saturated = None
         if vented.any() and air is None:
-            # the saturated and the vented states in one solve
-            s_sat = gas.henry_co2_molar_per_atm(self.model.temperature_c)
-            need = self.model.saturation_need(n, s_sat)
-            if need.any():
-                saturated, air = self.model.open_states([(n[need], s_sat), (n, self.s_air)],
-                                                        starts=[None, air_start])
-        loss = self.fresh_loss(n, saturated) if saturated is not None else self.fresh_loss(n)
-        kept = np.maximum(self.model.carbonate_total_mol(n) - loss, 0.0)
+            air = self.model.forward(n, co2_molar=self.s_air, start=air_start)
+        at_air = None if air is None else air.carbonate_molar() * air.volume_l
+        sure = open_to_air(self.fresh_loss, n, at_air, vented)
+        # the loss of every amount not sure (and of a sure one also asked unvented)
+        solve = ~sure | np.isin(n, n[~sure])
+        loss = np.full(n.shape, np.nan)
+        if solve.any():
+            once, back = np.unique(n[solve], return_inverse=True)
+            loss[solve] = self.fresh_loss(once)[back]
+        total = self.model.carbonate_total_mol(n)
+        kept = np.where(np.isnan(loss), np.inf, np.maximum(total - loss, 0.0))
         start = coefficients = air_ph = None
         if vented.any():
-            if air is None:
-                air = self.model.forward(n, co2_molar=self.s_air, start=air_start)
-            at_air = air.carbonate_molar() * air.volume_l
             exact = vented & (at_air <= kept)   # these points are the state open to air
             kept = np.where(vented, np.minimum(kept, at_air), kept)
             for a, lost, k, v in zip(n.tolist(), loss.tolist(), kept.tolist(), vented.tolist()):
                 if v:
-                    self.seen[a] = (lost, k)
+                    self.seen[a] = (None if lost != lost else lost, k)
             if exact.any():
                 start = (np.where(exact, air.result.log_h, np.nan),
                          np.where(exact, air.result.ionic_strength_molar, np.nan))
@@ -168,6 +171,8 @@ class Dosing:
             return 0.0, 0.0
         if float(n_end) in self.seen:   # worked out already, for a batch that held it
             fresh, kept = self.seen[float(n_end)]
+            if fresh is None:   # its loss did not enter that batch: not solved there
+                fresh = float(self.fresh_loss(np.array([n_end]))[0])
             return fresh, float(self.model.carbonate_total_mol([n_end])[0]) - kept
         fresh = float(self.fresh_loss(np.array([n_end]))[0])
         vented = float(self.model.carbonate_total_mol([n_end])[0]
@@ -187,6 +192,19 @@ class _Vented(NamedTuple):
     start: tuple | None = None
     coefficients: np.ndarray | None = None
     air_pH: np.ndarray | None = None  # noqa: N815
+
+
+def open_to_air(fresh_loss, n: np.ndarray, at_air, vented) -> np.ndarray:
+    """Where the vented batch after each amount ``n`` is surely the state open to air
+    (holding ``at_air`` mol of carbonate), whatever its loss right after the addition:
+    even the largest loss :meth:`FreshLoss.upper` allows leaves more carbonate.  False
+    where that takes a solve (a loss function without the bound, or unvented)."""
+    upper = getattr(fresh_loss, "upper", None)
+    if at_air is None or upper is None or not np.any(vented):
+        return np.zeros(n.shape, dtype=bool)
+    least = fresh_loss.model.carbonate_total_mol(n) - upper(n)
+    with np.errstate(invalid="ignore"):
+        return vented & (at_air * (1.0 + 1e-9) <= least)
 
 
 def find_doses(model: gas.TitrationModel, composition: Mapping[str, float], l_per_mol: float,
@@ -211,7 +229,7 @@ def find_doses(model: gas.TitrationModel, composition: Mapping[str, float], l_pe
         fresh_loss = grid_air = None
     else:
         doses, grid, fresh_loss, grid_air = _vented_doses(model, targets, n_full, s_sat,
-                                                          s_air, points)
+                                                          s_air, points, direction)
     # doses on the wrong side of the start are unreachable in this direction
     for i, ph_i in enumerate(targets):
         if (direction == "base" and ph_i <= initial_pH) or (
@@ -236,29 +254,35 @@ def fresh_loss_function(model: gas.TitrationModel, grid: np.ndarray,
 
 
 def grid_losses(model: gas.TitrationModel, grid: np.ndarray, s_sat: float,
-                s_air: float | None = None) -> tuple[LossFunction, gas.State | None]:
+                s_air: float | None = None, *, every: bool = False
+                ) -> tuple[FreshLoss, gas.State | None]:
     """:func:`fresh_loss_function` and (given ``s_air``) the state open to air at every
-    amount of the grid, both from one solve."""
+    amount of the grid: the loss at 1 atm on the coarse grid (:mod:`~carboy.model.co2_loss`)
+    and the state open to air in one solve, then the amounts around the loss's turns;
+    ``every``: at every amount of the grid in that one solve (a batch made acid starts
+    alkaline, where it keeps less carbonate than the air would leave it: the loss enters
+    its vented states along much of the curve)."""
     need = model.saturation_need(grid, s_sat)
-    levels = [(grid[need], s_sat)] if need.any() else []
+    coarse = np.flatnonzero(need) if every else loss_amounts(need)
+    levels = [(grid[coarse], s_sat)] if coarse.size else []
     if s_air is not None:
         levels.append((grid, s_air))
     states = model.open_states(levels) if levels else []
-    sat = states[0] if need.any() else None
-    run = np.maximum.accumulate(model.loss_from(grid, sat, s_sat))
+    here = np.zeros(grid.size)
+    solved = ~need
 
-    def loss_of(n, saturated: gas.State | None = None):
-        """The loss at ``n``; ``saturated``: the open state at 1 atm of the amounts of
-        ``n`` that need it (``model.saturation_need``), when already solved."""
-        n = np.atleast_1d(np.asarray(n, dtype=float))
-        if n.shape == grid.shape and np.array_equal(n, grid):
-            return run.copy()   # on the grid the running maximum is the loss itself
-        idx = np.clip(np.searchsorted(grid, n, side="right") - 1, 0, len(run) - 1)
-        here = (model.loss_from(n, saturated, s_sat) if saturated is not None
-                else model.saturation_loss_mol(n, s_sat))
-        return np.maximum(run[idx], here)
+    def solve(at):
+        return model.saturation_loss_mol(grid[at], s_sat)
 
-    return loss_of, (states[-1] if s_air is not None else None)
+    if coarse.size:
+        here[coarse] = model.loss_from(grid[coarse], states[0], s_sat)
+        solved[coarse] = True
+        if not settle_turns(solve, here, solved, coarse):   # every amount, then
+            rest = np.flatnonzero(~solved)
+            here[rest], solved[rest] = solve(rest), True
+    run_lo, run_hi = bounds(here, solved)
+    return (FreshLoss(model, grid, s_sat, run_lo, run_hi),
+            states[-1] if s_air is not None else None)
 
 
 def kept_carbonate_mol(model: gas.TitrationModel, n: np.ndarray, fresh_loss: LossFunction,
@@ -291,7 +315,8 @@ def _fresh_state_doses(model: gas.TitrationModel, targets, doses, todo, loss_of)
         todo, loss = todo[moving], new[moving]
 
 
-def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, points):
+def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, points,
+                  direction: str):
     """Doses that reach each target pH once the batch has vented, the curve grid, and
     the right-after-addition loss function.
 
@@ -304,16 +329,18 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
     span = CURVE_SPAN * max(n_full, np.nanmax(np.r_[n_air, 0.0]))
     span = span if span > 0 else 1e-6
     grid = np.linspace(0.0, span, points)
-    loss_of, grid_air = grid_losses(model, grid, s_sat, s_air)
+    loss_of, grid_air = grid_losses(model, grid, s_sat, s_air, every=direction != "base")
     doses = np.full(len(targets), np.nan)
     ok = np.isfinite(n_air)
     if ok.any():
         na = n_air[ok]
-        need = model.saturation_need(na, s_sat)
-        saturated, air = (model.open_states([(na[need], s_sat), (na, s_air)]) if need.any()
-                          else (None, model.forward(na, co2_molar=s_air)))
-        fresh = model.carbonate_total_mol(na) - loss_of(na, saturated)
-        degassing = air.carbonate_molar() * air.volume_l <= fresh * (1 + 1e-9)
+        air = model.forward(na, co2_molar=s_air)
+        at_air = air.carbonate_molar() * air.volume_l
+        degassing = open_to_air(loss_of, na, at_air, True)   # these without their loss
+        if not degassing.all():
+            rest = np.flatnonzero(~degassing)
+            fresh = model.carbonate_total_mol(na[rest]) - loss_of(na[rest])
+            degassing[rest] = at_air[rest] <= fresh * (1 + 1e-9)
         doses[np.flatnonzero(ok)[degassing]] = na[degassing]
     todo = np.flatnonzero(np.isnan(doses))
     if todo.size:
@@ -321,7 +348,7 @@ def _vented_doses(model: gas.TitrationModel, targets, n_full, s_sat, s_air, poin
     far = np.nanmax(np.r_[doses, 0.0])
     if CURVE_SPAN * far > span * 1.0001:
         grid = np.linspace(0.0, CURVE_SPAN * max(far, n_full), points)
-        loss_of, grid_air = grid_losses(model, grid, s_sat, s_air)
+        loss_of, grid_air = grid_losses(model, grid, s_sat, s_air, every=direction != "base")
     return doses, grid, loss_of, grid_air
 
 
@@ -381,7 +408,9 @@ def _dose_scale(dosing: Dosing, want: np.ndarray, found: np.ndarray):
     if not dosing.carbonate:
         return lambda ph, which: model.amount_at_pH(ph)
     on_air = model.amount_at_pH(want, co2_molar=dosing.s_air) == found
-    loss = dosing.fresh_loss(found)
+    loss = np.full(found.shape, np.nan)   # only the doses off the air's branch need it
+    if (~on_air).any():
+        loss[~on_air] = dosing.fresh_loss(found[~on_air])
 
     def inverse(ph, which):
         air = on_air[which]
