@@ -48,7 +48,7 @@ def solve_pairs_one(lay: Layout, tab: Table, row, pkw: float, a_dh: float, *,
     """The Davies path with the pairs of ``tab`` for one solution (``row``: totals in
     the layout's column order), or None where this path cannot take it.  ``x0`` and
     ``i0`` start the first round (``at_root``: they are its root, the solution without
-    pairs, solved already); rounds up to ``outer.LAGGED_ROUNDS`` after the first take
+    pairs, solved already); rounds up to ``pair_table.LAGGED_ROUNDS`` after the first take
     one Newton step each, as the vectorized loop's do."""
     if not lay.python_path or not tab.pairs:
         return None
