@@ -157,6 +157,8 @@ class TitrationModel:
             ion_z[j] = None
         self.ion_cols = np.array([j for j, z in enumerate(ion_z) if z is not None], dtype=int)
         self._open: dict = {}   # CO2(aq) level -> roots of an open-system solve (starts)
+        self._last_open = None   # ((CO2(aq), amounts), State): the last open solve
+        #                          from the default starts (a plan asks some twice)
         self._inverse: dict = {}   # what amount_at_pH was asked -> its answer
         self._settled = (np.zeros(0), np.zeros(0))   # pHs and ionic strengths it settled
         self.ion_z = np.array([z for z in ion_z if z is not None], dtype=float)
@@ -179,9 +181,12 @@ class TitrationModel:
         ``carbonate_mol`` overrides the total carbonate left (mol, per point) and
         ``co2_molar`` instead holds CO2(aq) fixed (open system); neither: closed.
         ``start``: the solver's starts (see ``speciate_batch``); an open system starts
-        by default from the largest open solve at the same CO2 level so far (with the
-        Pitzer model its coefficients too; ``coefficients``: such starts given,
-        ``speciation_models.coefficients_of``).
+        by default from the largest open solve at the same CO2 level so far, and with
+        the Pitzer model its coefficients too, also where ``start`` is given
+        (``coefficients``: such starts given, ``speciation_models.coefficients_of``).
+        An open solve from the default starts asked again of the same amounts right
+        after is not solved again (the plan's doses are first checked open to air,
+        then refined from there).
         """
         n = np.atleast_1d(np.asarray(n_reagent, dtype=float))
         held = None
@@ -189,9 +194,16 @@ class TitrationModel:
             if self.carb is None:
                 raise InvalidInput("CO2 equilibrium", co2_molar, "the solution holds no carbonate")
             held = {CARBONATE: (self.co2_label, co2_molar)}
+        again = None   # an open solve from the default starts: the same asked again?
+        if held is not None and start is None and coefficients is None \
+                and np.ndim(co2_molar) == 0:
+            again = (float(co2_molar), n.tobytes())
+            if self._last_open is not None and self._last_open[0] == again:
+                return self._last_open[1]
         b, vol = self._batch(n, None if held else carbonate_mol)
-        if start is None and held is not None:
-            start = self._open_start(co2_molar, n)
+        if held is not None:
+            if start is None:
+                start = self._open_start(co2_molar, n)
             if coefficients is None:
                 coefficients = self._open_coefficients(co2_molar, n)
         with start_coefficients(coefficients):
@@ -199,7 +211,10 @@ class TitrationModel:
                                  start=start)
         if held is not None:
             self._remember_open(co2_molar, n, res)
-        return State(n, vol, res)
+        out = State(n, vol, res)
+        if again is not None:
+            self._last_open = (again, out)
+        return out
 
     def _open_start(self, co2_molar, n: np.ndarray):
         """Starts for an open-system solve at ``co2_molar``: the roots of the largest such
@@ -239,6 +254,7 @@ class TitrationModel:
         if memo is None or memo[0].size < n.size:
             if np.all(np.diff(n) > 0):
                 self._open[float(co2_molar)] = (n, res)
+                self._last_open = None   # its starts would now differ
 
     # ------------------------------------------------------------------ inverse
 
