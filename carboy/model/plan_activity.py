@@ -36,8 +36,16 @@ def settle_activity(req, n_full: float):
     """``req`` (the planner's request) with ``"auto"`` replaced by ``"pitzer"`` where
     some state of the plan needs it, else by ``"davies"``; ``"pitzer"`` by ``"davies"``
     where a calcium or magnesium solid forms; any other model unchanged."""
+    return settle_with_sample(req, n_full)[0]
+
+
+def settle_with_sample(req, n_full: float):
+    """:func:`settle_activity`, and the sample's own pH where the batch that settled it
+    solved the sample (its first amount, 0) with the Pitzer model it settles on, without
+    metals (the same solve as the sample's alone: the planner need not solve it again);
+    else None."""
     if req.activity not in ("auto", "pitzer"):
-        return req
+        return req, None
     amounts = np.array([0.0, n_full, CURVE_SPAN * n_full])
     batch, _ = titration_batch(req.sample, dict(req.reagent.compound.composition), amounts,
                                req.reagent.l_per_mol)
@@ -50,12 +58,13 @@ def settle_activity(req, n_full: float):
         res = speciate_batch(batch, activity=req.activity, catalog=req.catalog)
         used = res.model_part.model if res.model_part is not None else req.activity
     if res.metal_keys and used == "davies":   # Davies (low I, or a solid's fallback)
-        return dataclasses.replace(req, activity="davies")
+        return dataclasses.replace(req, activity="davies"), None
     if res.model_part is not None and res.model_part.model == "pitzer":
-        return dataclasses.replace(req, activity="pitzer")
+        return (dataclasses.replace(req, activity="pitzer"),
+                None if res.metal_keys else float(res.pH[0]))
     if req.activity == "auto":   # auto's Davies branch, the same solve for every batch
-        return dataclasses.replace(req, activity="davies")
-    return req
+        return dataclasses.replace(req, activity="davies"), None
+    return req, None
 
 
 

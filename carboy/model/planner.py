@@ -90,7 +90,7 @@ from carboy.model.dosing import Dosing, find_doses
 from carboy.model.equivalence import equivalence_amounts
 from carboy.model.heat_capacity import solute_mass_g
 from carboy.model.mixture import Mixture
-from carboy.model.plan_activity import model_used, settle_activity
+from carboy.model.plan_activity import model_used, settle_with_sample
 from carboy.model.plan_heat import HeatAndGas, heat_and_gas
 from carboy.model.plan_metals import MetalReport, dissolved_totals_mol, metals_at_target
 from carboy.model.plan_request import PlanRequest, check_request, with_safe_temperature
@@ -147,9 +147,10 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     req = with_safe_temperature(req, safe_temperature_c, safe_from)
     start = _start(req)
     demand, reach = _reagent_reach(req, start, _proton_demand(req, start))
-    settled = settle_activity(req, demand.n_full)   # "auto": one model for the whole plan
+    # "auto": one model for the whole plan
+    settled, sample_pH = settle_with_sample(req, demand.n_full)
     if settled.activity != req.activity:   # the sample's state too (a solid's fallback)
-        start = _start(settled, start)
+        start = _start(settled, start, sample_pH)
     req = settled
     dosing = _bicarbonate_ceiling(req, reach, _find_doses(req, start, demand))
     curve_res, curve_vol = _solve_curve(req, dosing)
@@ -202,17 +203,22 @@ class _Start:
     own_pH: float = float("nan")   # the reagent's own pH (Davies)
 
 
-def _start(req: PlanRequest, before: _Start | None = None) -> _Start:
+def _start(req: PlanRequest, before: _Start | None = None,
+           sample_pH: float | None = None) -> _Start:  # noqa: N803
     """Step 2: the sample's pH and direction; InvalidInput for a reagent that cannot
     move the pH towards the target (judged by its capacity and its own pH).  ``before``:
     the start worked out with another activity choice ("auto" before it was settled);
     its state of the sample is taken where it was solved with the model now asked (the
-    same solve), and the reagent's own pH (Davies either way) always."""
+    same solve), and the reagent's own pH (Davies either way) always.  ``sample_pH``:
+    the sample's pH as the batch that settled the model solved it (Pitzer; see
+    :func:`~carboy.model.plan_activity.settle_with_sample`), taken as is."""
     reagent, target = req.reagent, req.target
     model = gas.TitrationModel(req.sample, dict(reagent.compound.composition),
                                reagent.l_per_mol, activity=req.activity, catalog=req.catalog)
     if before is not None and before.model_used == req.activity:
         initial_pH, used = before.initial_pH, before.model_used
+    elif sample_pH is not None:
+        initial_pH, used = sample_pH, req.activity
     else:
         state = model.forward([0.0])
         initial_pH, used = float(state.pH[0]), model_used(req.activity, state.result)
