@@ -161,6 +161,35 @@ def test_started_coefficients_only_save_rounds(amounts):
         assert part.pH == pytest.approx(cold.pH, abs=1e-9)
 
 
+def test_a_long_started_batch_moves_its_starts_as_its_coarse_points_moved(monkeypatch):
+    # the plan's vented curve starts from the batch open to air (a nearby curve): every
+    # WARM_STRIDE-th point is settled first, then the others from their own starts moved
+    # as their neighbours' moved (pitzer_batch._warm_rounds): the same states
+    from carboy.model.solver import pitzer_batch
+    from carboy.model.speciation_models import coefficients_of, start_coefficients
+
+    amounts = np.linspace(0.0, 1.5, 60)
+    batch = _batch({"HCl": 2.0, "NaCl": 1.0}, "Na2CO3", amounts)
+    near = _batch({"HCl": 2.0, "NaCl": 1.05}, "Na2CO3", amounts)
+    v0 = coefficients_of(speciate_batch(near, activity="pitzer", catalog=CAT))
+    cold = speciate_batch(batch, activity="pitzer", catalog=CAT)
+    calls = []
+    real = pitzer_batch._rounds
+
+    def spy(bt, model, st, idx, *args):
+        real(bt, model, st, idx, *args)
+        calls.append((idx.size, int(st.rounds[idx].max())))
+
+    monkeypatch.setattr(pitzer_batch, "_rounds", spy)
+    with start_coefficients(v0):
+        warm = speciate_batch(batch, activity="pitzer", catalog=CAT)
+    assert warm.pH == pytest.approx(cold.pH, abs=1e-9)
+    assert warm.species_molar == pytest.approx(cold.species_molar, rel=1e-8, abs=1e-15)
+    coarse = len(range(0, 60, pitzer_batch.WARM_STRIDE)) + 1   # and the last
+    assert [n for n, _ in calls] == [coarse, 60 - coarse]
+    assert calls[1][1] < calls[0][1]    # the points between settle in fewer rounds
+
+
 def test_a_result_on_another_model_gives_no_coefficients():
     from carboy.model.speciation_models import coefficients_of
 

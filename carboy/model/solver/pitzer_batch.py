@@ -13,6 +13,10 @@ savings that a curve allows:
   ``WARM_STRIDE``-th point and the last first, then each point between from the cubic
   through its solved neighbours' coefficients and roots (the coefficients change
   smoothly along a curve even where x jumps, so those points settle in a round or two);
+  so are the points of such a batch started from given coefficients (a nearby curve's:
+  the plan's vented curve from the batch open to air), the points between from their
+  own starts moved as their solved neighbours' moved (:func:`_warm_rounds`; most settle
+  in one round);
 * no Davies solve first: the start is the bound on H+ or OH- the totals give
   (``pitzer_one._start``, on arrays).
 
@@ -383,9 +387,10 @@ def _seed(ot: OneTable, model: PitzerModel, st: _State, coarse, totals, water_kg
     return True
 
 
-def _between(st: _State, coarse: np.ndarray, fine: np.ndarray) -> None:
-    """x and v of the ``fine`` points from the cubic (in the point index) through the
-    four solved ``coarse`` points nearest (``coarse`` has at least four)."""
+def _cubic(coarse: np.ndarray, fine: np.ndarray):
+    """The weights (F, 4) of the cubic (in the point index) through the four ``coarse``
+    points nearest each ``fine`` point, and those points (F, 4) as positions in
+    ``coarse`` (which has at least four)."""
     t = coarse.astype(float)
     pos = np.clip(np.searchsorted(t, fine) - 2, 0, len(t) - 4)
     nodes = pos[:, None] + np.arange(4)[None, :]              # (F, 4) into coarse
@@ -396,8 +401,36 @@ def _between(st: _State, coarse: np.ndarray, fine: np.ndarray) -> None:
         for b in range(4):
             if a != b:
                 w[:, a] *= (f[:, 0] - tn[:, b]) / (tn[:, a] - tn[:, b])
+    return w, nodes
+
+
+def _between(st: _State, coarse: np.ndarray, fine: np.ndarray) -> None:
+    """x and v of the ``fine`` points from the cubic (in the point index) through the
+    four solved ``coarse`` points nearest (``coarse`` has at least four)."""
+    w, nodes = _cubic(coarse, fine)
     st.x[fine] = np.einsum("fa,fa->f", w, st.x[coarse][nodes])
     st.v[fine] = np.einsum("fa,fau->fu", w, st.v[coarse][nodes])
+
+
+def _warm_rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions,
+                 sys_tot) -> None:
+    """Settle the points ``idx`` from their given starts; from ``WARM_MIN`` points on
+    every ``WARM_STRIDE``-th (and the last) first, then each point between from its own
+    start moved as its solved neighbours' moved (the cubic through the four nearest
+    moves: along a curve started from a nearby curve, the starts' error is smooth)."""
+    if idx.shape[0] < WARM_MIN:
+        _rounds(bt, model, st, idx, ions, sys_tot, WARM_TOL)
+        return
+    pick = np.zeros(idx.shape[0], dtype=bool)
+    pick[::WARM_STRIDE] = True
+    pick[-1] = True
+    coarse, fine = idx[pick], idx[~pick]
+    x0, v0 = st.x[coarse], st.v[coarse]
+    _rounds(bt, model, st, coarse, ions, sys_tot, WARM_TOL)
+    w, nodes = _cubic(coarse, fine)
+    st.x[fine] += np.einsum("fa,fa->f", w, (st.x[coarse] - x0)[nodes])
+    st.v[fine] += np.einsum("fa,fau->fu", w, (st.v[coarse] - v0)[nodes])
+    _rounds(bt, model, st, fine, ions, sys_tot, WARM_TOL)
 
 
 def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
@@ -424,7 +457,7 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
         warm = np.isfinite(v0).all(axis=1)
         st.v[warm] = v0[warm]
         if warm.any():
-            _rounds(bt, model, st, every[warm], ions, sys_tot, WARM_TOL)
+            _warm_rounds(bt, model, st, every[warm], ions, sys_tot)
         every = every[~warm]
         npts = every.shape[0]
     if npts == 0:
