@@ -84,17 +84,45 @@ class Dosing:
         got = self._batch_and_air(np.asarray(n, dtype=float), vented)
         return got.batch, got.volume_l
 
-    def solve(self, n, *, vented=True, start=None) -> tuple[BatchSpeciation, np.ndarray]:
+    def solve(self, n, *, vented=True, start=None, curve=None
+              ) -> tuple[BatchSpeciation, np.ndarray]:
         """:meth:`batch_at`, solved: the states and their volumes (L).  Each point starts
         from ``start`` where given (see :func:`~carboy.model.speciation.speciate_batch`),
         else from the same batch in equilibrium with air (which it equals wherever the
-        air's level of CO2 is the lower; with the Pitzer model its coefficients too)."""
-        got = self._batch_and_air(np.asarray(n, dtype=float), vented, start)
-        with start_coefficients(got.coefficients):
+        air's level of CO2 is the lower; with the Pitzer model its coefficients too).
+        ``curve``: the vented batch solved at every grid amount; a vented point's Pitzer
+        coefficients then start from it (:meth:`_along_curve`)."""
+        n = np.asarray(n, dtype=float)
+        got = self._batch_and_air(n, vented, start)
+        coefficients = got.coefficients
+        if curve is not None:
+            coefficients = self._along_curve(n, vented, coefficients, curve)
+        with start_coefficients(coefficients):
             res = speciate_batch(got.batch, activity=self.model.activity,
                                  catalog=self.model.catalog,
                                  start=got.start if start is None else start)
         return res, got.volume_l
+
+    def _along_curve(self, n: np.ndarray, vented, air, curve):
+        """Starts of the Pitzer coefficients of the points ``n`` from the vented ``curve``
+        (straight between grid amounts): a point whose vented state is the one open to
+        air (``air``: its coefficients there, NaN elsewhere) from those plus the curve's
+        move from the state open to air, another vented point from the curve's own, a
+        point right after the addition from none.  ``air`` itself where there is no
+        curve of coefficients."""
+        on_curve = coefficients_of(curve)
+        if on_curve is None or self.grid_air is None or air is None:
+            return air
+        moved = on_curve - coefficients_of(self.grid_air.result)
+        k = np.clip(np.searchsorted(self.grid, n), 1, self.grid.size - 1)
+        t = ((n - self.grid[k - 1]) / (self.grid[k] - self.grid[k - 1]))[:, None]
+
+        def straight(v):
+            return v[k - 1] + t * (v[k] - v[k - 1])
+
+        out = np.where(np.isfinite(air), air + straight(moved), straight(on_curve))
+        out[~np.broadcast_to(np.asarray(vented, dtype=bool), n.shape)] = np.nan
+        return out
 
     def vented_pH(self, n) -> np.ndarray:  # noqa: N802
         """The pH once vented after adding each amount ``n`` (mol): :meth:`solve`'s,

@@ -414,7 +414,7 @@ def _solve_points(req: PlanRequest, start: _Start, dosing: Dosing, n_full: float
     ad = debye_huckel_scale(req.activity, req.temperature_c) * davies_d(i0[1:4])
     reached = np.isfinite(dosing.doses) & (dosing.doses > 0)
     x0[1:4] = np.where(reached, ad - np.array([req.target, *req.window]), x0[1:4])
-    pres, pvol = dosing.solve(at, vented=vented, start=(x0, i0))
+    pres, pvol = dosing.solve(at, vented=vented, start=(x0, i0), curve=curve)
     return _Points(pres, pvol, fracs, eqs)
 
 

@@ -12,12 +12,12 @@ from carboy.model.speciation import speciate_batch
 
 
 def dosing_for(catalog, totals, reagent_key, targets, *, l_per_mol=0.0, direction="base",
-               initial_ph=1.0, n_full=0.1, activity="davies"):
+               initial_ph=1.0, n_full=0.1, activity="davies", points=50):
     sample = Mixture(totals, volume_l=1.0)
     comp = dict(catalog.compound(reagent_key).composition)
     model = gas.TitrationModel(sample, comp, l_per_mol, activity=activity, catalog=catalog)
     return find_doses(model, comp, l_per_mol, np.asarray(targets, dtype=float), n_full,
-                      initial_pH=initial_ph, direction=direction, points=50)
+                      initial_pH=initial_ph, direction=direction, points=points)
 
 
 def test_without_carbonate_the_batch_is_the_titration_batch(catalog):
@@ -93,6 +93,32 @@ def test_solve_equals_solving_the_batch(catalog):
     ref = speciate_batch(b, catalog=catalog)
     np.testing.assert_allclose(res.pH, ref.pH, atol=1e-9)
     np.testing.assert_array_equal(vol, vol_b)
+
+
+def test_points_started_from_the_vented_curve_give_the_same_states(catalog, monkeypatch):
+    # on the Pitzer model the planner's points start their coefficients from the vented
+    # curve (Dosing.solve(curve=)): the same states in fewer rounds
+    from carboy.model.solver import pitzer_batch
+
+    d = dosing_for(catalog, {"Na+": 1.0, "Cl-": 2.0}, "Na2CO3", [7.0, 6.0, 8.0],
+                   n_full=0.35, activity="pitzer", points=400)   # the planner's grid
+    curve, _ = d.solve(d.grid)
+    n = np.array([0.05, 0.2, 0.31, 0.33, 0.36, 0.4])
+    rounds = []
+    real = pitzer_batch.one_outcome
+
+    def spy(*args):
+        out = real(*args)
+        rounds.append(out.iterations)
+        return out
+
+    monkeypatch.setattr(pitzer_batch, "one_outcome", spy)
+    ref, _ = d.solve(n)
+    cold = sum(rounds[-n.size:])
+    got, _ = d.solve(n, curve=curve)
+    np.testing.assert_allclose(got.pH, ref.pH, atol=1e-9)
+    np.testing.assert_allclose(got.species_molar, ref.species_molar, rtol=1e-8, atol=1e-15)
+    assert sum(rounds[-n.size:]) < cold
 
 
 def test_grid_losses_in_one_solve_equal_the_separate_solves(catalog):
