@@ -201,6 +201,7 @@ class _Start:
     capacity: int         # protons one formula unit of reagent moves that way
     model_used: str = ""  # the activity model the sample's state was solved with
     own_pH: float = float("nan")   # the reagent's own pH (Davies)
+    state: BatchSpeciation | None = None   # the sample's state, where solved here
 
 
 def _start(req: PlanRequest, before: _Start | None = None,
@@ -211,17 +212,19 @@ def _start(req: PlanRequest, before: _Start | None = None,
     its state of the sample is taken where it was solved with the model now asked (the
     same solve), and the reagent's own pH (Davies either way) always.  ``sample_pH``:
     the sample's pH as the batch that settled the model solved it (Pitzer; see
-    :func:`~carboy.model.plan_activity.settle_with_sample`), taken as is."""
+    :func:`~carboy.model.plan_activity.settle_with_sample`), taken as is.  The sample's
+    state, where solved here, is kept for the reagent's reach (step 3b)."""
     reagent, target = req.reagent, req.target
     model = gas.TitrationModel(req.sample, dict(reagent.compound.composition),
                                reagent.l_per_mol, activity=req.activity, catalog=req.catalog)
+    state = None
     if before is not None and before.model_used == req.activity:
         initial_pH, used = before.initial_pH, before.model_used
     elif sample_pH is not None:
         initial_pH, used = sample_pH, req.activity
     else:
-        state = model.forward([0.0])
-        initial_pH, used = float(state.pH[0]), model_used(req.activity, state.result)
+        state = model.forward([0.0]).result
+        initial_pH, used = float(state.pH[0]), model_used(req.activity, state)
     direction = "base" if initial_pH < target else "acid"
     refused = caution_rules.refuse_plan(req.sample.totals, req.hazards, initial_pH, target,
                                         direction)
@@ -237,7 +240,7 @@ def _start(req: PlanRequest, before: _Start | None = None,
             f"the sample is at pH {initial_pH:.2f} and needs {need} to reach pH {target:g}; "
             f"{reagent.key} (its own pH about {own_pH:.1f}) cannot move it that way: choose "
             f"{caution_rules.stronger_reagent_words(direction, reagent.key)}", field="reagent")
-    return _Start(model, initial_pH, direction, capacity, used, own_pH)
+    return _Start(model, initial_pH, direction, capacity, used, own_pH, state)
 
 
 def _own_pH(req: PlanRequest) -> float:  # noqa: N802
@@ -282,7 +285,8 @@ def _reagent_reach(req: PlanRequest, start: _Start, demand: _Demand
     take (:mod:`~carboy.model.reagent_reach`); the others are named in the plan."""
     if start.direction != "base" or not req.reagent.has_carbonate:
         return demand, None
-    initial = speciate(req.sample, activity=req.activity, catalog=req.catalog)
+    initial = (start.state.point(0) if start.state is not None   # the same solution
+               else speciate(req.sample, activity=req.activity, catalog=req.catalog))
     reach = proton_reach(req.sample, req.reagent, req.catalog, demand.proton_eq,
                          initial.fractions)
     if reach is None:
