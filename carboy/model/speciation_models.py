@@ -443,8 +443,7 @@ def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes
     texts = _pitzer_texts(common + notes + hot)
     code = (molal_i > I_MAX_MOLAL).astype(int) + 2 * (~out.converged).astype(int)
     warnings = tuple(texts[c] for c in code.tolist())
-    res = _assemble(base, out, lay, tab, activity, warnings)
-    return dataclasses.replace(res, model_part=ModelPart(
+    return _assemble(base, out, lay, tab, activity, warnings, model_part=ModelPart(
         "pitzer", out.log_gamma, w, molal_i, out.extra["water_activity"]))
 
 
@@ -484,8 +483,9 @@ def _by_charge(lg: np.ndarray, charges: np.ndarray, zmax: int) -> np.ndarray:
     return out
 
 
-def _assemble(base, out: Outcome, lay: Layout, tab, activity: str, warnings):
-    """The batch result of an outer loop, in the frame of the Davies result ``base``."""
+def _assemble(base, out: Outcome, lay: Layout, tab, activity: str, warnings, **more):
+    """The batch result of an outer loop, in the frame of the Davies result ``base``
+    (``more``: other fields of the result set in the same step)."""
     alpha, ceff = out.systems
     z = tab.charges
     table = out.table
@@ -502,7 +502,7 @@ def _assemble(base, out: Outcome, lay: Layout, tab, activity: str, warnings):
         species_charges=tuple(int(c) for c in z.tolist()), species_molar=table,
         fractions=padded_fractions(alpha, lay), system_totals_molar=ceff.T,
         log_gamma_by_charge=_by_charge(out.log_gamma, z, zmax), activity=activity,
-        warnings=warnings)
+        warnings=warnings, **more)
 
 
 def _pair_warnings(before, high_i: np.ndarray, settled: np.ndarray) -> tuple:
