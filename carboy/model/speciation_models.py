@@ -325,7 +325,14 @@ def pitzer_start(log_gamma, log_water_activity):
     ``log_water_activity`` (N,) (a nearby solution's: the same batch open to air, say; a
     row with a NaN: no start).  Other solves ignore it.  A start only saves rounds: a
     point settles on the same test whatever its start."""
-    token = _COEFFICIENTS.set(np.column_stack([log_gamma, log_water_activity]))
+    with _given(np.column_stack([log_gamma, log_water_activity])):
+        yield
+
+
+@contextmanager
+def _given(v0: np.ndarray):
+    """:func:`pitzer_start` with its two parts as one array (N, U + 1)."""
+    token = _COEFFICIENTS.set(v0)
     try:
         yield
     finally:
@@ -345,7 +352,7 @@ def coefficients_of(res) -> np.ndarray | None:
 def start_coefficients(v0: np.ndarray | None):
     """:func:`pitzer_start` with ``v0`` (N, U + 1) as :func:`coefficients_of` gives
     them (rows with a NaN: no start); a block that does nothing for None."""
-    return nullcontext() if v0 is None else pitzer_start(v0[:, :-1], v0[:, -1])
+    return nullcontext() if v0 is None else _given(np.asarray(v0, dtype=float))
 
 
 def _started(n: int, u: int):
@@ -474,13 +481,26 @@ def _davies_log_gamma(res) -> np.ndarray:
 def _by_charge(lg: np.ndarray, charges: np.ndarray, zmax: int) -> np.ndarray:
     """(N, zmax+1): per |z|, the mean log10 γ of the species of that charge (for
     callers that read coefficients by charge; 0 for |z| = 0 or none)."""
-    out = np.zeros((lg.shape[0], zmax + 1))
     z = np.abs(charges).astype(int)
+    if np.isfinite(lg).all():   # (a NaN would reach every charge's weighted sum)
+        return np.einsum("nu,uq->nq", lg, _charge_shares(tuple(z.tolist()), zmax))
+    out = np.zeros((lg.shape[0], zmax + 1))
     for q in range(1, zmax + 1):
         sel = z == q
         if sel.any():
             out[:, q] = lg[:, sel].mean(axis=1)
     return out
+
+
+@lru_cache(maxsize=256)
+def _charge_shares(z: tuple[int, ...], zmax: int) -> np.ndarray:
+    """(U, zmax+1): 1/k where a species is one of the k of its |z| (0 for |z| = 0), so
+    that the weighted sum of the log10 γ is their mean by charge."""
+    share = np.zeros((len(z), zmax + 1))
+    for q in range(1, zmax + 1):
+        sel = [i for i, c in enumerate(z) if c == q]
+        share[sel, q] = 1.0 / len(sel) if sel else 0.0
+    return share
 
 
 def _assemble(base, out: Outcome, lay: Layout, tab, activity: str, warnings, **more):
