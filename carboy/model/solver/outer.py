@@ -423,12 +423,22 @@ def solve_pitzer(pr0: Problem, model: PitzerModel, tab: Table, per_molar: np.nda
     return Outcome(x, ionic, conv, rounds, table, lg, ph, systems, extra)
 
 
+_MODELS: dict = {}
+
+
 def pitzer_for(tab: Table, temperature_c: float) -> PitzerModel:
-    """The Pitzer model of a table's species (ions outside the set: Davies fallback)."""
+    """The Pitzer model of a table's species (ions outside the set: Davies fallback),
+    kept beside the table (tables are cached and never change)."""
+    key = (id(tab), float(temperature_c))
+    hit = _MODELS.get(key)
+    if hit is not None and hit[0] is tab:
+        return hit[1]
     from carboy.model.pitzer import pitzer_model  # the Pitzer path's: when it is taken
 
     charges = {lab: int(z) for lab, z in zip(tab.labels, tab.charges.tolist())}
-    return pitzer_model(tab.labels, temperature_c, fallback="davies", charges=charges)
+    model = pitzer_model(tab.labels, temperature_c, fallback="davies", charges=charges)
+    _MODELS[key] = (tab, model)
+    return model
 
 
 __all__ = ["DAVIES_PAIRS", "MAX_OUTER", "OUTER_TOL", "PITZER_PAIRS", "Outcome", "Pair",
