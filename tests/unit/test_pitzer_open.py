@@ -190,6 +190,36 @@ def test_a_long_started_batch_moves_its_starts_as_its_coarse_points_moved(monkey
     assert calls[1][1] < calls[0][1]    # the points between settle in fewer rounds
 
 
+@pytest.mark.parametrize("held", [None, {"carbonate": ("CO2", SAT)}], ids=["closed", "open"])
+def test_a_started_batchs_few_points_without_a_start_are_solved_on_floats(monkeypatch, held):
+    # the plan's vented curve: every point but the sample's own starts from the state
+    # open to air; the few without a start are solved one by one on floats, from their
+    # nearest started point's coefficients (pitzer_batch._left_on_floats): same states
+    from carboy.model.solver import pitzer_batch
+    from carboy.model.speciation_models import coefficients_of, start_coefficients
+
+    batch = _batch({"HCl": 2.0, "NaCl": 1.0}, "Na2CO3", np.linspace(0.0, 1.5, 40))
+    kw = {} if held is None else {"held": held}
+    cold = speciate_batch(batch, activity="pitzer", catalog=CAT, **kw)
+    v0 = coefficients_of(cold)
+    v0[[0, 17]] = np.nan
+    alone = []
+    real = pitzer_batch.solve_one_pitzer
+
+    def spy(ot, scalar, row, *args):
+        alone.append(row)
+        return real(ot, scalar, row, *args)
+
+    monkeypatch.setattr(pitzer_batch, "solve_one_pitzer", spy)
+    with start_coefficients(v0):
+        warm = speciate_batch(batch, activity="pitzer", catalog=CAT, **kw)
+    assert alone == [batch.totals[0].tolist(), batch.totals[17].tolist()]
+    assert warm.pH == pytest.approx(cold.pH, abs=1e-9)
+    assert warm.species_molar == pytest.approx(cold.species_molar, rel=1e-8, abs=1e-15)
+    assert warm.model_part.water_activity == pytest.approx(
+        cold.model_part.water_activity, rel=1e-9)
+
+
 def test_a_result_on_another_model_gives_no_coefficients():
     from carboy.model.speciation_models import coefficients_of
 

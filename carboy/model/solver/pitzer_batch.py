@@ -16,7 +16,8 @@ savings that a curve allows:
   so are the points of such a batch started from given coefficients (a nearby curve's:
   the plan's vented curve from the batch open to air), the points between from their
   own starts moved as their solved neighbours' moved (:func:`_warm_rounds`; most settle
-  in one round);
+  in one round), and the few points of such a batch without a start are solved on
+  floats (:func:`_left_on_floats`);
 * no Davies solve first: the start is the bound on H+ or OH- the totals give
   (``pitzer_one._start``, on arrays).
 
@@ -458,6 +459,10 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
         st.v[warm] = v0[warm]
         if warm.any():
             _warm_rounds(bt, model, st, every[warm], ions, sys_tot)
+            if ot is not None and 0 < npts - warm.sum() <= LEFT_ON_FLOATS:
+                _left_on_floats(ot, model, st, every, warm, (totals, water_kg_per_l, held),
+                                x0)
+                return st
         every = every[~warm]
         npts = every.shape[0]
     if npts == 0:
@@ -477,6 +482,33 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
     else:
         _rounds(bt, model, st, every, ions, sys_tot, COLD_TOL)
     return st
+
+
+LEFT_ON_FLOATS = 8
+"""A started batch's points without a start, up to this many, are solved one by one on
+floats (from their nearest started point's coefficients): a vectorized round costs
+about what a handful of points' rounds on floats do, and from cold such a point takes
+five of them (the plan's vented curve: the one point whose vented state is not the
+state open to air)."""
+
+
+def _left_on_floats(ot: OneTable, model: PitzerModel, st: _State, every, warm, batch,
+                    x0) -> None:
+    """Solve the points of ``every`` not ``warm`` one by one on floats (``batch``: the
+    totals, water per litre and held amounts), each from the solved coefficients of the
+    nearest ``warm`` point and its own ``x0`` where given, in place."""
+    totals, water_kg_per_l, held = batch
+    scalar = scalar_model(model)
+    started = every[warm]
+    for i in every[~warm].tolist():
+        near = started[np.abs(started - i).argmin()]
+        hold = () if held is None else tuple(np.asarray(held[i], dtype=float).tolist())
+        a = None if x0 is None or not np.isfinite(x0[i]) else float(x0[i])
+        x, m, lg, extra, rounds, ok = solve_one_pitzer(
+            ot, scalar, totals[i].tolist(), 1.0 / float(water_kg_per_l[i]), a, hold,
+            st.v[near].tolist())
+        st.x[i], st.m[i], st.v[i] = x, m, lg + [math.log10(extra[1])]
+        st.extra[i], st.rounds[i], st.ok[i] = extra, rounds, ok
 
 
 def batch_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
