@@ -11,10 +11,12 @@ The saturation loss along a titration rises while the acid turns each carbonate 
 CO2 and falls once the carbonate takes the CO2 up again (as bicarbonate): it is
 monotone between the few turns.  So it is solved at every ``LOSS_STRIDE``-th grid
 amount that needs it, and then around each turn of those (each coarse local maximum,
-the ends included when they rise) by halving the spacing about the largest amount
-solved there until both its neighbours on the grid are solved: the grid's running
-maximum is then the one solving every amount gives (its largest value is solved),
-provided the loss is monotone on either side of its turns.  Between the solved amounts of a monotone stretch it is only bounded
+the ends included when they rise): first at the amounts about the vertex of the
+parabola through the turn and its coarse neighbours (every turn in one solve; the
+demo containers' turns are settled there), else by halving the spacing about the
+largest amount solved there, until both neighbours on the grid of the largest are
+solved: the grid's running maximum is then the one solving every amount gives (its
+largest value is solved), provided the loss is monotone on either side of its turns.  Between the solved amounts of a monotone stretch it is only bounded
 (:attr:`FreshLoss.run_hi`), which is enough to tell where the batch vents to the state
 open to air (there the loss does not enter the batch); an amount whose loss is needed
 there is solved then (:meth:`FreshLoss.solved_at` names the amounts a call would solve,
@@ -25,6 +27,8 @@ to air).  A loss that turns more often than the coarse amounts can show
 """
 
 from __future__ import annotations
+
+import math
 
 import numpy as np
 
@@ -145,6 +149,16 @@ def settle_turns(solve, here: np.ndarray, solved: np.ndarray, coarse: np.ndarray
             for t in found.tolist()]
     live = [(int(coarse[t]), 1 << (int(w) - 1).bit_length())   # a power of two
             for t, w in zip(found.tolist(), wide)]
+    # first the amount the parabola through the coarse neighbours puts the maximum at,
+    # with its neighbours (every turn in one solve): where it is the maximum there,
+    # that turn is settled; else the halving below finds it
+    near = [_parabola(coarse, here, t) for t in found.tolist()]
+    ask = sorted({i for g in near for i in g if i < here.size and not solved[i]})
+    if ask:
+        at = np.array(ask)
+        here[at] = solve(at)
+        solved[at] = True
+    live = [cw for cw, g in zip(live, near) if not _peak(here, solved, g, cw[0])]
     while live:
         step = [(c, max(w // 2, 1)) for c, w in live]
         ask = sorted({i for c, h in step for i in (c - h, c + h)
@@ -161,6 +175,35 @@ def settle_turns(solve, here: np.ndarray, solved: np.ndarray, coarse: np.ndarray
                 nxt.append((best, h))
         live = nxt
     return True
+
+
+def _parabola(coarse: np.ndarray, here: np.ndarray, t: int) -> range:
+    """The grid indices about the vertex of the parabola through the loss at the
+    coarse turn ``t`` (a position in ``coarse``) and its two coarse neighbours: the two
+    either side of it and their outer neighbours, strictly between those coarse
+    neighbours; none at an end of the coarse grid or where the three are no peak."""
+    if not 0 < t < coarse.size - 1:
+        return range(0)
+    lo, c, hi = (int(i) for i in coarse[t - 1:t + 2])
+    y0, y1, y2 = float(here[lo]), float(here[c]), float(here[hi])
+    if hi - c != c - lo or not y0 - 2.0 * y1 + y2 < 0.0:
+        return range(0)
+    vertex = c + 0.5 * (c - lo) * (y0 - y2) / (y0 - 2.0 * y1 + y2)
+    return range(max(math.floor(vertex) - 1, lo + 1), min(math.ceil(vertex) + 1, hi - 1) + 1)
+
+
+def _peak(here: np.ndarray, solved: np.ndarray, near: range, c: int) -> bool:
+    """True where the largest loss solved among the grid indices ``near`` is not below
+    the coarse turn ``c``'s, and both its neighbours on the grid are solved and not
+    above it: the maximum about that turn (the loss is monotone on either side)."""
+    got = [i for i in near if solved[i]]
+    if not got:
+        return False
+    g = max(got, key=lambda i: here[i])
+    if here[g] < here[c]:
+        return False
+    return all(solved[i] and here[i] <= here[g] for i in (g - 1, g + 1)
+               if 0 <= i < here.size)
 
 
 def bounds(here: np.ndarray, solved: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

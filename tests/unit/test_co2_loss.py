@@ -50,6 +50,28 @@ def test_the_turn_search_finds_the_grid_maximum(peak_at):
     assert len(asked) <= 6 and coarse.size + len(asked) < need.sum() / 5
 
 
+@pytest.mark.parametrize("peak_at", [296.5, 297.0, 298.4, 150.2])
+def test_a_smooth_turn_is_settled_in_one_solve(peak_at):
+    # the parabola through the coarse turn and its neighbours puts the maximum within a
+    # grid step: the amounts about its vertex, solved at once, settle it
+    t = np.arange(400, dtype=float)
+    loss = np.where(t < 40, 0.0, 1.0 + np.cos((t - peak_at) / 150.0))
+    need = loss > 0
+    coarse = co2_loss.loss_amounts(need)
+    here, solved = np.where(need, np.nan, 0.0), ~need
+    here[coarse], solved[coarse] = loss[coarse], True
+    calls = []
+
+    def solve(at):
+        calls.append(at.tolist())
+        return loss[at]
+
+    assert co2_loss.settle_turns(solve, here, solved, coarse)
+    assert len(calls) == 1 and len(calls[0]) <= 4
+    run_lo, _ = co2_loss.bounds(np.where(solved, here, 0.0), solved)
+    assert run_lo[-1] == loss.max()
+
+
 def test_a_loss_that_turns_often_is_solved_everywhere():
     t = np.arange(200, dtype=float)
     loss = 1.0 + np.sin(t / 3.0)          # many turns: no coarse grid can follow it
