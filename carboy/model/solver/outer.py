@@ -419,7 +419,8 @@ def solve_pitzer(pr0: Problem, model: PitzerModel, tab: Table, per_molar: np.nda
     ph = -(x + log_s + lg[:, 0])
     extra = {"ionic_strength_molal": res.ionic_strength_molal,
              "water_activity": res.water_activity, "osmotic": res.osmotic,
-             "valid": res.valid, "warnings": res.warnings}
+             "valid": res.valid, "point_warnings": model.point_warnings(table * per_molar[:, None],
+                                                    res.ionic_strength_molal)}
     return Outcome(x, ionic, conv, rounds, table, lg, ph, systems, extra)
 
 
