@@ -22,7 +22,7 @@ from carboy.errors import InvalidInput
 from carboy.model import water
 from carboy.model.metal_index import modelled_among
 from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
-from carboy.model.solver.bracketed import next_ionic
+from carboy.model.solver.mixing import next_ionic
 from carboy.model.speciation import BatchSpeciation, speciate_batch, start_along, state_at
 from carboy.model.speciation_models import coefficients_of, start_coefficients
 from carboy.model.thermo import planning_constants
@@ -252,7 +252,7 @@ class TitrationModel:
         bracket (:mod:`carboy.model.metal_doses`).  ``carbonate_loss_mol`` is CO2
         already lost (closed otherwise); ``co2_molar`` holds CO2(aq) fixed instead.
         NaN where no non-negative amount reaches the pH.  The ionic strength's
-        fixed-point iteration takes secant steps (``bracketed.next_ionic``); an inverse
+        fixed-point iteration takes secant steps (``mixing.next_ionic``); an inverse
         asked again of the same model is remembered (a plan asks the same pHs in
         several of its steps).
         """

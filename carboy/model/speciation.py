@@ -102,7 +102,6 @@ from carboy.model.speciation_models import (
     pitzer_one_fields,
     route,
 )
-from carboy.model.speciation_one import one_fields, pairs_fields
 
 __all__ = [
     "ACTIVITY_MODELS", "COUPLED_ITER", "COUPLED_NEAR", "DAVIES_LIMIT_MOLAR",
@@ -343,6 +342,8 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
         batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
         res = _solve(batch, lay, activity, t_c).point(0)
         return Speciation(**{**res.__dict__, "mixture": mixture})
+    from carboy.model.speciation_one import one_fields  # the float paths' (not Pitzer's)
+
     return Speciation(**one_fields(lay, row, *fast[:3], pkw, a_dh, t_c, activity, *fast[3:]),
                       mixture=mixture)
 
@@ -350,6 +351,7 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
 def _pairs_one(lay: Layout, row: list, t_c: float) -> dict | None:
     """The fields of one solution solved with its ion pairs in plain Python, or None."""
     from carboy.model.solver.single_pairs import solve_pairs_one
+    from carboy.model.speciation_one import pairs_fields
 
     pkw = water.pkw(t_c)
     tab = table_of(lay, "davies", t_c)

@@ -79,6 +79,21 @@ def test_one_davies_solution_loads_neither_the_pitzer_nor_the_batch_paths():
         "carboy.model.pitzer_scalar", "carboy.model.solver.pitzer_one"}
 
 
+LAZY_ON_A_PLAN = ("carboy.model.co2_loss", "carboy.model.solver.bracketed",
+                  "carboy.model.speciation_one")
+
+
+def test_a_plan_without_carbonate_loads_neither_the_co2_loss_nor_the_guaranteed_path():
+    """Sulfuric acid with NaOH (auto: Pitzer) loads no co2_loss (carbonate only), no
+    solver/bracketed (the titration's inverse takes its secant step from solver/mixing)
+    and no speciation_one (the float paths' fields; one Pitzer point has its own)."""
+    assert _loaded_by("neutralize", "H2SO4=0.5M", "--volume", "250mL", "--reagent", "NaOH=2M",
+                      among=LAZY_ON_A_PLAN) == []
+    assert "carboy.model.co2_loss" in _loaded_by(
+        "neutralize", "HCl=0.5M", "--volume", "250mL", "--reagent", "Na2CO3=1M",
+        among=LAZY_ON_A_PLAN)
+
+
 AVOIDABLE = ("pathlib", "importlib.resources", "zipfile", "tempfile", "molmass", "hashlib")
 """Modules a calculation has no use for, each a few ms of a cold start (molmass: the
 packaged formulas' masses are shipped, see carboy.model.molar_masses; hashlib: the data
