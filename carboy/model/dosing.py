@@ -39,7 +39,7 @@ LossFunction = Callable[[np.ndarray], np.ndarray]
 """n (mol reagent) -> CO2 lost (mol) right after adding n."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Dosing:
     """The doses of a plan and the batch each amount of reagent leaves.
 

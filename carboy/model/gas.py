@@ -82,7 +82,7 @@ def gas_conditions(temperature_c: float) -> str:
     return (f"{temperature_c:g} °C and {gas_pressure_kpa():g} kPa (1 atm), ideal gas")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class State:
     """Solved states of N points of a titration (the solver's result, plus volumes)."""
 
@@ -99,7 +99,7 @@ class State:
         return self.result.system_totals_molar[:, self.result.system_keys.index(CARBONATE)]
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Linear:
     """The volume-weighted charge balance ``a + b n`` at fixed pH and ionic strength,
     with what the ionic strength needs (per target)."""

@@ -28,7 +28,7 @@ J_PER_CAL = 4.184
 R_J_MOL_K = 8.314462618
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class IonPair:
     """One ion pair (or hydrolysis product) with its formation constant."""
 

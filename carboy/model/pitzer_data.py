@@ -49,7 +49,7 @@ def temperature_value(coefficients: Sequence[float], temperature_k: float) -> fl
     return float(sum(c * f for c, f in zip(coefficients, basis)))
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Parameter:
     """One interaction parameter with its provenance."""
 
@@ -70,7 +70,7 @@ class Parameter:
         return temperature_value(self.coefficients, temperature_k)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class PitzerData:
     """The validated contents of ``pitzer.toml``."""
 
@@ -206,7 +206,7 @@ def load_pitzer_data() -> PitzerData:
 # ----------------------------------------------------------------------------- arrays
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class ParameterArrays:
     """Parameters for one ordered species list at one temperature.
 

@@ -190,7 +190,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
 
 # ----------------------------------------------------------------------------- the steps
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Start:
     """The sample before any reagent, and which way it has to go."""
 
@@ -244,7 +244,7 @@ def _own_pH(req: PlanRequest) -> float:  # noqa: N802
     return float(own.forward([0.0]).pH[0])
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Demand:
     """Every dissociable proton: mol per component, the signed total, the full dose."""
 
@@ -354,7 +354,7 @@ def _solve_curve(req: PlanRequest, dosing: Dosing) -> tuple[BatchSpeciation, np.
     return dosing.solve(dosing.grid)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Points:
     """One batch solve of every state the plan reports besides the curve, in this
     order: the full dose, the target, the window's low and high edges, the stages,
@@ -412,7 +412,7 @@ def _solve_points(req: PlanRequest, start: _Start, dosing: Dosing, n_full: float
     return _Points(pres, pvol, fracs, eqs)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Doses:
     """What the plan reports at each dose of interest."""
 

@@ -75,7 +75,7 @@ REQUIRED_WORDING: Mapping[str, tuple[str, ...]] = MappingProxyType({
 """Status -> words its source must contain (any one of them, case ignored)."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Provenance:
     """Where one value comes from: a status of :data:`STATUSES` and the source in words."""
 

@@ -112,7 +112,7 @@ __all__ = [
 ]
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Speciation:
     """The solved state of one solution.  Concentrations in mol/L.
 
@@ -165,7 +165,7 @@ class Speciation:
         return float(sum((n - j) * fr[lab] for j, lab in enumerate(labels)))
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class BatchSpeciation:
     """The solved state of N solutions (arrays indexed by point first)."""
 
@@ -274,7 +274,7 @@ class BatchSpeciation:
                     self.metal_keys, self.dissolved_metal_molar[n].tolist())))}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class StateAt:
     """Fractions of every system at a given log10[H+] and ionic strength (no solve)."""
 
