@@ -225,6 +225,25 @@ def test_the_collector_is_held_off_while_the_app_starts(monkeypatch):
 
 
 
+def test_a_command_freezes_what_its_imports_made_only_in_its_own_process():
+    """Run as the program (no argv given), the command's imports are frozen out of the
+    collector's walks and the collector is on again; called with argv (the tests), the
+    caller's collector is left alone."""
+    import gc
+
+    code = ("import gc, io, sys, contextlib\nfrom carboy.tui.launch import main\n"
+            "sys.argv = ['carboy', 'ph', 'HCl=0.1M']\nbefore = gc.get_freeze_count()\n"
+            "with contextlib.redirect_stdout(io.StringIO()): status = main()\n"
+            "print(status, before, gc.get_freeze_count() > before + 10000, gc.isenabled())")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          timeout=60)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.split() == ["0", "0", "True", "True"]
+    frozen = gc.get_freeze_count()
+    assert main(["ph", "HCl=0.1M"]) == 0
+    assert gc.get_freeze_count() == frozen and gc.isenabled()
+
+
 @pytest.mark.parametrize("given", [None, "30"])
 def test_the_app_draws_at_120_frames_a_second_unless_told_otherwise(monkeypatch, given):
     import os
