@@ -197,10 +197,7 @@ def test_the_app_reads_only_the_global_options():
     code = ("import sys\nfrom carboy.tui.launch import _parser\n"
             "_parser(['--demo']).parse_args(['--demo'])\n"
             "print(' '.join(sorted(m for m in sys.modules if m.startswith('carboy.tui.cli.'))))")
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                          timeout=60)
-    assert done.returncode == 0, done.stderr
-    loaded = set(done.stdout.split())
+    loaded = set(_printed_by(code))
     assert not loaded & (set(cli_main.SUBCOMMAND_MODULES) - {f"carboy.tui.cli.{launch_light()}"})
 
 
@@ -235,10 +232,7 @@ def test_a_command_freezes_what_its_imports_made_only_in_its_own_process():
             "sys.argv = ['carboy', 'ph', 'HCl=0.1M']\nbefore = gc.get_freeze_count()\n"
             "with contextlib.redirect_stdout(io.StringIO()): status = main()\n"
             "print(status, before, gc.get_freeze_count() > before + 10000, gc.isenabled())")
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                          timeout=60)
-    assert done.returncode == 0, done.stderr
-    assert done.stdout.split() == ["0", "0", "True", "True"]
+    assert _printed_by(code) == ["0", "0", "True", "True"]
     frozen = gc.get_freeze_count()
     assert main(["ph", "HCl=0.1M"]) == 0
     assert gc.get_freeze_count() == frozen and gc.isenabled()
@@ -273,7 +267,12 @@ def test_the_command_asks_for_one_blas_thread_before_numpy_loads():
             "with contextlib.redirect_stdout(io.StringIO()): status = main(['ph', 'HCl=0.1M'])\n"
             "assert status == 0, status\n"
             "print(os.environ['OPENBLAS_NUM_THREADS'], os.environ['MKL_NUM_THREADS'])")
+    assert _printed_by(code) == ["1", "3"]
+
+
+def _printed_by(code: str) -> list[str]:
+    """The words ``code`` prints, run in a new Python."""
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                           timeout=60)
     assert done.returncode == 0, done.stderr
-    assert done.stdout.split() == ["1", "3"]
+    return done.stdout.split()
