@@ -80,13 +80,14 @@ def test_one_davies_solution_loads_neither_the_pitzer_nor_the_batch_paths():
 
 
 LAZY_ON_A_PLAN = ("carboy.model.co2_loss", "carboy.model.solver.bracketed",
-                  "carboy.model.speciation_one")
+                  "carboy.model.speciation_one", "carboy.model.user_compounds")
 
 
 def test_a_plan_without_carbonate_loads_neither_the_co2_loss_nor_the_guaranteed_path():
     """Sulfuric acid with NaOH (auto: Pitzer) loads no co2_loss (carbonate only), no
     solver/bracketed (the titration's inverse takes its secant step from solver/mixing)
-    and no speciation_one (the float paths' fields; one Pitzer point has its own)."""
+    no speciation_one (the float paths' fields; one Pitzer point has its own) and no
+    user_compounds (the catalog loads it when a user compound is made)."""
     assert _loaded_by("neutralize", "H2SO4=0.5M", "--volume", "250mL", "--reagent", "NaOH=2M",
                       among=LAZY_ON_A_PLAN) == []
     assert "carboy.model.co2_loss" in _loaded_by(
