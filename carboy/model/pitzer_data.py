@@ -25,11 +25,11 @@ import numpy as np
 
 from carboy.errors import CatalogError
 from carboy.model.datafiles import read_data_file
-from carboy.model.provenance import check_provenance
+from carboy.model.provenance import ACTIVITY_DATA_STATUSES, check_provenance
 
 DATA_FILE = "pitzer.toml"
 TR_K = 298.15
-STATUSES = frozenset({"FOUND", "MEMORY", "DERIVED", "NONE"})
+STATUSES = ACTIVITY_DATA_STATUSES
 BINARY_KINDS = ("beta0", "beta1", "beta2", "cphi")
 MAX_COEFFICIENTS = 6
 

@@ -65,7 +65,7 @@ def test_the_metal_modules_load_only_for_a_modelled_metal(argv, metals):
 
 
 BATCH_PATHS = ("carboy.model.pitzer_scalar", "carboy.model.pitzer_sums", "carboy.model.etheta",
-               "carboy.model.pitzer", "carboy.model.solver.pitzer_batch",
+               "carboy.model.pitzer", "carboy.model.pitzer_data", "carboy.model.solver.pitzer_batch",
                "carboy.model.solver.pitzer_one", "carboy.model.solver.bracketed",
                "carboy.model.solver.coupled", "carboy.model.solver.single_pairs")
 
@@ -74,7 +74,7 @@ def test_one_davies_solution_loads_neither_the_pitzer_nor_the_batch_paths():
     """`carboy ph` of a dilute solution settles on the plain-Python path (auto: Davies);
     the Pitzer and vectorized paths load when a command first takes them."""
     assert [m for m in _loaded_by("ph", "H2SO4=0.05M", among=BATCH_PATHS)
-            if m in BATCH_PATHS] == []   # (carboy.model.pitzer_data is not one of them)
+            if m in BATCH_PATHS] == []
     assert set(_loaded_by("ph", "H2SO4=1M", among=BATCH_PATHS)) >= {
         "carboy.model.pitzer_scalar", "carboy.model.solver.pitzer_one"}
 
