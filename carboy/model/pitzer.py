@@ -92,7 +92,7 @@ def ph_from_activity(activity_h, phimac=0.0) -> np.ndarray:
     return -(np.log(a) + np.asarray(phimac, dtype=float)) / _LN10
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class PitzerResult:
     """Activity of every species at N points (arrays lead with the point axis)."""
 

@@ -190,7 +190,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
 
 # ----------------------------------------------------------------------------- the steps
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Start:
     """The sample before any reagent, and which way it has to go."""
 
@@ -244,7 +244,7 @@ def _own_pH(req: PlanRequest) -> float:  # noqa: N802
     return float(own.forward([0.0]).pH[0])
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Demand:
     """Every dissociable proton: mol per component, the signed total, the full dose."""
 
@@ -348,7 +348,7 @@ def _find_doses(req: PlanRequest, start: _Start, demand: _Demand) -> Dosing:
                       points=req.curve_points)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Points:
     """One batch solve of every state the plan reports besides the curve, in this
     order: the full dose, the target, the window's low and high edges, the stages,
@@ -426,7 +426,7 @@ def _point_amounts(req: PlanRequest, start: _Start, dosing: Dosing, n_full: floa
     return np.asarray(pts), vented, fracs, eqs
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Doses:
     """What the plan reports at each dose of interest."""
 

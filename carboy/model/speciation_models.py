@@ -100,7 +100,7 @@ def ph_scale_of(model: str) -> str:
     return PH_SCALES.get(model, model)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class ModelPoint:
     """What one solution's result says about its activity model."""
 
@@ -111,7 +111,7 @@ class ModelPoint:
     water_activity: float | None
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class ModelPart:
     """The activity model's part of a batch result (arrays by point)."""
 
@@ -198,7 +198,7 @@ def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
     return _pitzer(batch, lay, activity, catalog, paths, base)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Paths:
     """What :func:`route` was handed to solve with: the Davies batch solve, the frame of
     a one-solution result, the held species and the start."""

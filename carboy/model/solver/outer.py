@@ -203,7 +203,7 @@ def split_pairs(tab: Table, k_cond: np.ndarray, metal_tot: np.ndarray, lig_lump:
 
 # --------------------------------------------------------------------------- one round
 
-@dataclass
+@dataclass(eq=False, repr=False)
 class Terms:
     """What the outer loop holds for the inner solve, per point."""
 
@@ -269,7 +269,7 @@ def pair_shares(tab: Table, table: np.ndarray, lg: np.ndarray, per_molar: np.nda
 
 # --------------------------------------------------------------------------- the loops
 
-@dataclass
+@dataclass(eq=False, repr=False)
 class Outcome:
     """A settled outer loop: the root, the species and the coefficients."""
 

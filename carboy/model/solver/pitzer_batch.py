@@ -56,7 +56,7 @@ WARM_TOL = 1e-10
 """The first round from interpolated coefficients needs x as closely as they are known."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class BatchTable:
     """A :class:`OneTable` as arrays."""
 
@@ -294,7 +294,7 @@ def _anderson(v, g, prev):
     return g - theta[:, None] * (g - g0)
 
 
-@dataclass
+@dataclass(eq=False, repr=False)
 class _State:
     """Per point: x, the held coefficients v (log10 γ, then log10 a_w), and, once
     settled, the molalities and the model's osmotic coefficient and ionic strength."""

@@ -69,7 +69,7 @@ ROUND_X_TOL = 1e-3
 error it leaves in x is then well inside what the coefficients still have to move."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class OneTable:
     """A species table compiled for the float path."""
 
