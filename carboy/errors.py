@@ -1,7 +1,9 @@
 """The one exception family of carboy.
 
 ``model`` and ``store`` raise these; only ``tui`` turns them into a message on
-screen or an exit status.  Every error names the value that was wrong.
+screen or an exit status.  Every error names the value that was wrong.  The errors that
+are dataclasses compare and hash by identity, as exceptions do (``eq=False``: nothing
+compares two errors, and Python 3.11 compiles each ``__eq__`` as the class is made).
 """
 
 from __future__ import annotations
@@ -47,7 +49,7 @@ class Refused(CarboyError):
     """What the rules found, for a front end that lists them (:class:`HazardRefused`)."""
 
 
-@dataclass
+@dataclass(eq=False)
 class InvalidInput(CarboyError, ValueError):
     """A value given by the user or a caller is not acceptable."""
 
@@ -62,7 +64,7 @@ class InvalidInput(CarboyError, ValueError):
         return f"{self.what} {quoted(self.value)}: {self.reason}"
 
 
-@dataclass
+@dataclass(eq=False)
 class MissingInput(InvalidInput):
     """A required value was not given; ``reason`` says what is needed, with an example."""
 
@@ -70,7 +72,7 @@ class MissingInput(InvalidInput):
         return f"{self.what}: {self.reason}"
 
 
-@dataclass
+@dataclass(eq=False)
 class UnknownCompound(CarboyError, KeyError):
     """A compound name or formula is not in the catalog."""
 
@@ -84,7 +86,7 @@ class UnknownCompound(CarboyError, KeyError):
         return msg
 
 
-@dataclass
+@dataclass(eq=False)
 class CatalogError(CarboyError, ValueError):
     """A catalog entry (built-in or user-defined) is inconsistent."""
 
@@ -95,7 +97,7 @@ class CatalogError(CarboyError, ValueError):
         return f"catalog entry {quoted(self.entry)}: {self.reason}"
 
 
-@dataclass
+@dataclass(eq=False)
 class TemperatureOutOfRange(CarboyError, ValueError):
     """A temperature lies outside the range the data support."""
 
@@ -110,7 +112,7 @@ class TemperatureOutOfRange(CarboyError, ValueError):
         )
 
 
-@dataclass
+@dataclass(eq=False)
 class NoConvergence(CarboyError, RuntimeError):
     """An iterative solve did not meet its tolerance."""
 
@@ -123,7 +125,7 @@ class NoConvergence(CarboyError, RuntimeError):
         return msg + (f": {self.detail}" if self.detail else "")
 
 
-@dataclass
+@dataclass(eq=False)
 class HazardRefused(Refused):
     """carboy will not do this: a safety rule forbids it, and nothing was written.
 
@@ -142,7 +144,7 @@ class HazardRefused(Refused):
         return f"refused: {self.what}: {self.reason}"
 
 
-@dataclass
+@dataclass(eq=False)
 class NeedsConfirmation(HazardRefused):
     """Not done until a person confirms it with a reason, which the journal keeps (a
     lesser mismatch, such as a base into an acid-waste container)."""

@@ -37,7 +37,7 @@ def default_safe_c() -> float:
     return float(planning_constants()["boiling"]["safe_c"])
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class BatchHeat:
     """The heat of a plan and what it does to the batch.
 

@@ -42,7 +42,6 @@ from carboy.model.catalog_rules import FORMS, StepProvenance, is_number, molar_m
 from carboy.model.datafiles import read_data_file
 from carboy.model.entities import Compound
 from carboy.model.provenance import STATUSES
-from carboy.model.user_compounds import make_user_compound
 
 __all__ = [
     "FORMS",
@@ -56,12 +55,22 @@ __all__ = [
     "default_catalog",
     "density_at",
     "load_builtin",
-    "make_user_compound",
+    "make_user_compound",  # noqa: F822 - loaded when first asked for (__getattr__)
     "molar_mass_of",
     "molarity_at",
     "normalize_name",
     "read_data_file",
 ]
+
+
+def __getattr__(name: str):
+    """``make_user_compound``, loaded when first asked for: a calculation that takes no
+    user compound does not load :mod:`carboy.model.user_compounds`."""
+    if name == "make_user_compound":
+        from carboy.model.user_compounds import make_user_compound
+
+        return make_user_compound
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 def _as_compound(compound: Compound | str, catalog: Catalog | None) -> Compound:

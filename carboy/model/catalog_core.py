@@ -52,7 +52,7 @@ SUGGESTION_CUTOFF = 0.6
 Component = System | Ion
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class DensityRow:
     """One row of a density table, with its own provenance."""
 

@@ -45,7 +45,7 @@ FORMS = frozenset({"solid", "liquid", "gas", "solution"})
 _CHARGE_SUFFIX = re.compile(r"([+-])(\d*)$")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class StepProvenance:
     """Where each constant of one dissociation step comes from."""
 

@@ -55,8 +55,10 @@ def derived_hazards(totals: Mapping[str, float]) -> frozenset[str]:
     return frozenset(tags)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Caution:
+    """One caution: its code, its severity (one of ``SEVERITIES``) and its words."""
+
     code: str
     severity: str
     text: str
@@ -65,7 +67,7 @@ class Caution:
         return {"code": self.code, "severity": self.severity, "text": self.text}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Facts:
     """What the caution rules look at."""
 
@@ -307,7 +309,7 @@ AMMONIA_SYSTEM = "ammonium"
 OXIDIZING_ORGANIC_RULE = "oxidizing-acid-organic"
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Sample:
     """What the waste cautions know of a sample beyond the plan: its compounds (key ->
     mol, empty when unknown) and, for a stored container, its stream and material."""

@@ -40,7 +40,7 @@ _CONTAINER_KEYS = frozenset({"streams", "drain_stream", "materials"})
 _ALL_KEYS = _COMPOUND_KEYS | _CONTAINER_KEYS | {"acidic"}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Stream:
     """What a waste container is meant for."""
 
@@ -59,7 +59,7 @@ class Stream:
     source: str
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Rule:
     """One compatibility rule: two sides, a hazard, a severity and the advice."""
 
@@ -77,7 +77,7 @@ class Rule:
     superseded_by: tuple[str, ...] = ()
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Container:
     """A waste container as the rules see it.
 
@@ -92,7 +92,7 @@ class Container:
     material: str | None = None
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Addition:
     """What is about to be logged: a compound, its amount (mol) and, if known, its
     strength (mol/L)."""
@@ -102,7 +102,7 @@ class Addition:
     conc_molar: float | None = None
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, repr=False)
 class Finding:
     """One rule that applies, with the hazard named in a sentence."""
 
@@ -127,7 +127,7 @@ class Finding:
                 "overridable": self.overridable}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Facts:
     """What the rules know of one compound."""
 
@@ -138,8 +138,11 @@ class _Facts:
     conc_molar: float | None
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Settings:
+    """``compatibility.toml`` read and checked: the streams by key, the rules and the
+    two thresholds."""
+
     streams: Mapping[str, Stream]
     rules: tuple[Rule, ...]
     kind_threshold: float
@@ -310,7 +313,7 @@ def _addition_matches(side: tuple[Mapping, ...], f: _Facts, settings: _Settings)
 # ----------------------------------------------------------------------------- containers
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Box:
     """A container with its compounds' facts."""
 
@@ -320,8 +323,11 @@ class _Box:
     material: str | None
 
 
-@dataclass
+@dataclass(eq=False, repr=False)
 class _Evidence:
+    """What made a container match one side of a rule: the compounds it holds that
+    matched, and whether its stream, its material or its pH did."""
+
     holds: list[str] = field(default_factory=list)
     stream: bool = False
     material: bool = False
@@ -515,7 +521,7 @@ def confirmations(findings: Iterable[Finding]) -> tuple[Finding, ...]:
 # ----------------------------------------------------------------------------- inference
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class StreamGuess:
     """The stream a container's contents point to, and why (for containers logged before
     streams existed).  ``settled`` is False when the contents did not settle it and the

@@ -13,7 +13,7 @@ MAX_CONC_MOLAR = 30.0
 """No aqueous solution is stronger (glacial acetic acid is 17.4 M, 100 % H2SO4 18.7 M)."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Component:
     """A parsed ``NAME=CONC`` (or ``NAME=MASS`` for a solid): exactly one amount is set."""
 

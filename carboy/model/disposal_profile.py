@@ -41,7 +41,7 @@ USER_WHY = "on the storeroom's never-treat list"
 """The reason shown for a never-treat item a storeroom added without one."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Rule:
     """What one rule of the profile is: its name, what people read, its kind of value."""
 
@@ -85,7 +85,7 @@ _NO = ("no", "n", "false", "off", "0", "forbidden")
 _ITEM = re.compile(r"^(?P<key>[^<>=]+?)\s*>\s*(?P<pct>[0-9]+(?:[.,][0-9]+)?)\s*%?$")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class NeverTreat:
     """One item of the never-treat list."""
 
@@ -102,7 +102,7 @@ class NeverTreat:
         return {"item": self.item, "why": self.why}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class DisposalProfile:
     """The rules a treatment in the lab obeys; see the module docstring."""
 

@@ -50,7 +50,7 @@ MAX_BATCHES = 500
 """More batches than this is no plan: the container goes to licensed disposal."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Batch:
     """One batch as the rules allow it (volumes in L, masses in g, ice in kg)."""
 
@@ -68,7 +68,7 @@ class Batch:
     flush_l: float
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Dilution:
     """The dilution before treatment: from the waste's strength to the profile's target."""
 
@@ -80,7 +80,7 @@ class Dilution:
     liquid_water_l: float
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Overflow:
     """The whole dose in the container: does it fit below the fill limit?"""
 
@@ -91,7 +91,7 @@ class Overflow:
     batches: int
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class DisposalPlan:
     """The plan under the rules; see the module docstring."""
 

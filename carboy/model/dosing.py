@@ -15,15 +15,17 @@ from __future__ import annotations
 import dataclasses
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
-from typing import NamedTuple
+from typing import TYPE_CHECKING, NamedTuple
 
 import numpy as np
 
 from carboy.model import gas, numbers
-from carboy.model.co2_loss import FreshLoss, bounds, loss_amounts, settle_turns
 from carboy.model.mixture import MixtureBatch, titration_batch
 from carboy.model.speciation import BatchSpeciation, speciate_batch
 from carboy.model.speciation_models import coefficients_of, settles_forward, start_coefficients
+
+if TYPE_CHECKING:  # co2_loss loads with carbonate (grid_losses): most plans have none
+    from carboy.model.co2_loss import FreshLoss
 
 CURVE_SPAN = 1.3
 """The pH curve runs from 0 to this times the largest dose of interest."""
@@ -37,7 +39,7 @@ LossFunction = Callable[[np.ndarray], np.ndarray]
 """n (mol reagent) -> CO2 lost (mol) right after adding n."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Dosing:
     """The doses of a plan and the batch each amount of reagent leaves.
 
@@ -305,6 +307,8 @@ def grid_losses(model: gas.TitrationModel, grid: np.ndarray, s_sat: float,
     ``every``: at every amount of the grid in that one solve (a batch made acid starts
     alkaline, where it keeps less carbonate than the air would leave it: the loss enters
     its vented states along much of the curve)."""
+    from carboy.model.co2_loss import FreshLoss, bounds, loss_amounts, settle_turns
+
     need = model.saturation_need(grid, s_sat)
     coarse = np.flatnonzero(need) if every else loss_amounts(need)
     levels = [(grid[coarse], s_sat)] if coarse.size else []

@@ -23,7 +23,7 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class System:
     """An acid–base system: a ladder of dissociation steps."""
 
@@ -53,7 +53,7 @@ class System:
         return self.top_charge - j
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Ion:
     """A spectator ion: takes part in the charge balance and ionic strength only."""
 
@@ -63,7 +63,7 @@ class Ion:
     source: str = ""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class DensityTable:
     """Density of aqueous solutions of one compound against mass fraction."""
 

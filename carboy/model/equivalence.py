@@ -23,7 +23,7 @@ Step = tuple[float, str, int]
 """(pKa at 25 °C, or -inf for a strong step; system key; step index)."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Ladder:
     """The sample's protons as the rule sees them."""
 

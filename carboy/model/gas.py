@@ -22,7 +22,7 @@ from carboy.errors import InvalidInput
 from carboy.model import water
 from carboy.model.metal_index import modelled_among
 from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
-from carboy.model.solver.bracketed import next_ionic
+from carboy.model.solver.mixing import next_ionic
 from carboy.model.speciation import BatchSpeciation, speciate_batch, start_along, state_at
 from carboy.model.speciation_models import coefficients_of, start_coefficients
 from carboy.model.thermo import planning_constants
@@ -82,7 +82,7 @@ def gas_conditions(temperature_c: float) -> str:
     return (f"{temperature_c:g} °C and {gas_pressure_kpa():g} kPa (1 atm), ideal gas")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class State:
     """Solved states of N points of a titration (the solver's result, plus volumes)."""
 
@@ -99,7 +99,7 @@ class State:
         return self.result.system_totals_molar[:, self.result.system_keys.index(CARBONATE)]
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Linear:
     """The volume-weighted charge balance ``a + b n`` at fixed pH and ionic strength,
     with what the ionic strength needs (per target)."""
@@ -268,7 +268,7 @@ class TitrationModel:
         bracket (:mod:`carboy.model.metal_doses`).  ``carbonate_loss_mol`` is CO2
         already lost (closed otherwise); ``co2_molar`` holds CO2(aq) fixed instead.
         NaN where no non-negative amount reaches the pH.  The ionic strength's
-        fixed-point iteration takes secant steps (``bracketed.next_ionic``); an inverse
+        fixed-point iteration takes secant steps (``mixing.next_ionic``); an inverse
         asked again of the same model is remembered (a plan asks the same pHs in
         several of its steps).
         """

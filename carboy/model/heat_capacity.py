@@ -41,7 +41,7 @@ TRACE = 1e-3
 """A solute below this fraction of the batch's mass is counted but not named."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Solute:
     """One ``[[heat_capacity]]`` record."""
 
@@ -53,7 +53,7 @@ class _Solute:
     source: str
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class HeatCapacity:
     """The specific heat of a batch and how it was found.
 

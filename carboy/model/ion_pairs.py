@@ -20,15 +20,16 @@ from carboy.errors import CatalogError, InvalidInput
 from carboy.model import water
 from carboy.model.catalog_rules import label_charge as charge_of_label
 from carboy.model.datafiles import read_data_file
-from carboy.model.pitzer_data import STATUSES, TR_K
-from carboy.model.provenance import check_provenance
+from carboy.model.provenance import ACTIVITY_DATA_STATUSES, check_provenance
 
 DATA_FILE = "ion_pairs.toml"
+TR_K = 298.15
+"""K: 25 °C, where ``log_k25`` and ``dh_kj`` hold."""
 J_PER_CAL = 4.184
 R_J_MOL_K = 8.314462618
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class IonPair:
     """One ion pair (or hydrolysis product) with its formation constant."""
 
@@ -82,7 +83,7 @@ def _pair(rec: Mapping[str, Any], sources: Mapping[str, str]) -> IonPair:
         raise _fail(entry, f"formed_from carries charge {balance}, the pair {charge_of_label(name)}")
     status, source = rec.get("status", ""), rec.get("source", "")
     try:
-        check_provenance(entry, "", status, source, allowed=STATUSES)
+        check_provenance(entry, "", status, source, allowed=ACTIVITY_DATA_STATUSES)
     except CatalogError as exc:
         raise _fail(entry, exc.reason) from None
     if any(s not in sources for s in rec.get("seen_in", ())) or (

@@ -44,7 +44,7 @@ def _check_temperature(value: float) -> float:
     return t
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Mixture:
     """Analytical composition of one solution.
 
@@ -121,7 +121,7 @@ class Mixture:
         return Mixture(self.totals, volume_l=self.volume_l, temperature_c=temperature_c)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class MixtureBatch:
     """Many mixtures with the same keys and temperature: ``totals[n, k]`` in mol/L."""
 

@@ -39,7 +39,7 @@ ESTIMATE_NOTE = ("molality (mol/kg) estimated from the solutes' partial molar vo
                  "(no density table for this mixture)")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class MolarVolumes:
     """Partial molar volumes at infinite dilution (cm³/mol) by species label."""
 

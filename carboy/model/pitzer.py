@@ -92,7 +92,7 @@ def ph_from_activity(activity_h, phimac=0.0) -> np.ndarray:
     return -(np.log(a) + np.asarray(phimac, dtype=float)) / _LN10
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class PitzerResult:
     """Activity of every species at N points (arrays lead with the point axis)."""
 
@@ -266,6 +266,32 @@ class PitzerModel:
                            f"(both above {MISSING_PAIR_MOLAL:g} mol/kg at {int(both.sum())} "
                            "points): taken as zero")
         return tuple(out)
+
+    def point_warnings(self, m, ionic) -> list[tuple[str, ...]]:
+        """Each point's own warnings (the rows of ``m``, all the model's species in
+        mol/kg, as :meth:`_warnings` takes them): the static ones and those of its
+        conditions that hold at that point, without the batch's counts, so that a
+        state's warnings do not depend on the batch it was solved in; the ionic strength
+        beyond the fitted range is left to the caller.  One tuple per point."""
+        m = np.atleast_2d(np.asarray(m, dtype=float))
+        if m.shape[1] < len(self._all):
+            m = np.concatenate([m, np.zeros((m.shape[0], len(self._all) - m.shape[1]))],
+                               axis=1)
+        n_user = len(self.species)
+        fallback_here = (m[:, :n_user][:, self._fallback_mask[:n_user]] > 0).any(axis=1)
+        flags = [np.asarray(fallback_here) & (np.asarray(ionic) > DAVIES_LIMIT_MOLAL)
+                 if self.fallback_form == "davies" else np.zeros(m.shape[0], dtype=bool)]
+        texts = [f"the Davies fallback is used above {DAVIES_LIMIT_MOLAL:g} mol/kg, outside "
+                 "its own range"]
+        for i, j in self._p.missing:
+            flags.append((m[:, i] > MISSING_PAIR_MOLAL) & (m[:, j] > MISSING_PAIR_MOLAL))
+            texts.append(f"no parameters for the pair {self._all[i]} {self._all[j]} (both "
+                         f"above {MISSING_PAIR_MOLAL:g} mol/kg): taken as zero")
+        static = tuple(self._static_warnings)
+        rows = np.stack(flags, axis=1)
+        kinds, back = np.unique(rows, axis=0, return_inverse=True)
+        each = [static + tuple(t for t, f in zip(texts, k.tolist()) if f) for k in kinds]
+        return [each[b] for b in np.ravel(back).tolist()]
 
 
 @lru_cache(maxsize=64)

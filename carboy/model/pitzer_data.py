@@ -25,11 +25,11 @@ import numpy as np
 
 from carboy.errors import CatalogError
 from carboy.model.datafiles import read_data_file
-from carboy.model.provenance import check_provenance
+from carboy.model.provenance import ACTIVITY_DATA_STATUSES, check_provenance
 
 DATA_FILE = "pitzer.toml"
 TR_K = 298.15
-STATUSES = frozenset({"FOUND", "MEMORY", "DERIVED", "NONE"})
+STATUSES = ACTIVITY_DATA_STATUSES
 BINARY_KINDS = ("beta0", "beta1", "beta2", "cphi")
 MAX_COEFFICIENTS = 6
 
@@ -49,7 +49,7 @@ def temperature_value(coefficients: Sequence[float], temperature_k: float) -> fl
     return float(sum(c * f for c, f in zip(coefficients, basis)))
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Parameter:
     """One interaction parameter with its provenance."""
 
@@ -70,7 +70,7 @@ class Parameter:
         return temperature_value(self.coefficients, temperature_k)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class PitzerData:
     """The validated contents of ``pitzer.toml``."""
 
@@ -206,7 +206,7 @@ def load_pitzer_data() -> PitzerData:
 # ----------------------------------------------------------------------------- arrays
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class ParameterArrays:
     """Parameters for one ordered species list at one temperature.
 

@@ -40,7 +40,7 @@ ASSUMPTIONS = (
 )
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class HeatAndGas:
     """Heat and gas of the dose to the target."""
 

@@ -32,7 +32,7 @@ ASSUMPTION = ("metals: hydrolysis and solids at 25 °C constants (mononuclear hy
               "if it formed water")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class SludgeItem:
     """One solid present at the target, in the whole batch."""
 
@@ -46,7 +46,7 @@ class SludgeItem:
                 "dry_mass_g": self.dry_mass_g}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class MetalReport:
     """What the metals step gives the plan."""
 

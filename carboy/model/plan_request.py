@@ -22,7 +22,7 @@ from carboy.model.reagents import Reagent
 __all__ = ["PlanRequest", "check_ph", "check_request", "with_safe_temperature"]
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class PlanRequest:
     """The checked arguments of a plan."""
 

@@ -35,7 +35,7 @@ from carboy.model.speciation import BatchSpeciation
 from carboy.model.speciation_models import ph_scale_of
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Dose:
     """An amount of reagent and the state it leaves (``reagent_mol`` None: unreachable)."""
 
@@ -59,8 +59,10 @@ class Dose:
         return d
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Stage:
+    """One portion of the staged addition and the pH it leaves."""
+
     index: int
     add_mol: float
     cumulative_mol: float
@@ -72,8 +74,11 @@ class Stage:
         return dict(self.__dict__)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class EquivalencePoint:
+    """An equivalence point of the titration: its dose, its pH and the steps it
+    completes (``system`` and ``step``; ``label`` names every one)."""
+
     reagent_mol: float
     pH: float
     system: str
@@ -84,7 +89,7 @@ class EquivalencePoint:
         return dict(self.__dict__)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Plan:
     """A neutralization plan; see :mod:`carboy.model.planner` for the modelling choices."""
 

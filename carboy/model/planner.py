@@ -43,9 +43,10 @@ The steps of a plan
                           leaving and the hydroxide the metals take, and the curve's
                           amounts (``dosing``, ``metal_doses``);
    ``_bicarbonate_ceiling`` no dose above about pH 8.3 with a bicarbonate;
-5. ``_solve_curve``       the pH curve, in one batch solve;
-6. ``_solve_points``      every other state in one batch solve (full dose, doses,
-                          stages, ±1 % of the target dose, equivalence points);
+5. ``_solve_states``      the pH curve and every other state (full dose, doses,
+6.                        stages, ±1 % of the target dose, equivalence points): one
+                          batch solve of both without carbonate, else the curve then
+                          the states from it;
 7. ``_dose_results``      the doses, stages, sensitivity and equivalence points read
                           from it;
 8. ``_heat_and_gas``      heat released, the batch's rise with its own heat capacity,
@@ -153,8 +154,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
         start = _start(settled, start, sample_pH)
     req = settled
     dosing = _bicarbonate_ceiling(req, reach, _find_doses(req, start, demand))
-    curve_res, curve_vol = _solve_curve(req, dosing)
-    pts = _solve_points(req, start, dosing, demand.n_full, curve_res)
+    curve_res, curve_vol, pts = _solve_states(req, start, dosing, demand.n_full)
     doses = _dose_results(req, dosing, pts, demand.n_full)
     bound, precipitates = _at_target(req, pts)
     metals = _metals(req, pts, precipitates)
@@ -191,7 +191,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
 
 # ----------------------------------------------------------------------------- the steps
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Start:
     """The sample before any reagent, and which way it has to go."""
 
@@ -253,7 +253,7 @@ def _own_pH(req: PlanRequest) -> float:  # noqa: N802
     return float(own.forward([0.0]).pH[0])
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Demand:
     """Every dissociable proton: mol per component, the signed total, the full dose."""
 
@@ -358,13 +358,7 @@ def _find_doses(req: PlanRequest, start: _Start, demand: _Demand) -> Dosing:
                       points=req.curve_points)
 
 
-def _solve_curve(req: PlanRequest, dosing: Dosing) -> tuple[BatchSpeciation, np.ndarray]:
-    """Step 5: the vented batch at every amount of the curve grid, solved at once, and
-    its volumes (L)."""
-    return dosing.solve(dosing.grid)
-
-
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Points:
     """One batch solve of every state the plan reports besides the curve, in this
     order: the full dose, the target, the window's low and high edges, the stages,
@@ -394,11 +388,38 @@ class _Points:
         return self.first_equivalence + len(self.equivalence)
 
 
-def _solve_points(req: PlanRequest, start: _Start, dosing: Dosing, n_full: float,
-                  curve: BatchSpeciation) -> _Points:
-    """Step 6: the states at the full dose, the doses, the stages (planning.toml
-    ``[stages]``), ±1 % of the target dose and the labelled equivalence points; each
-    starts from the curve between its neighbours on the grid."""
+def _solve_states(req: PlanRequest, start: _Start, dosing: Dosing, n_full: float
+                  ) -> tuple[BatchSpeciation, np.ndarray, _Points]:
+    """Steps 5 and 6: the vented batch at every amount of the curve grid and its volumes
+    (L), and the :class:`_Points`.  Without carbonate both are one batch solve, the
+    states' amounts placed in order among the grid's (a few points more cost the
+    vectorized solve next to nothing; a solve of their own, some 1–2 ms of fixed
+    cost); with carbonate the grid's states open to air are solved already, so the
+    curve is solved first and each state starts from it."""
+    at, vented, fracs, eqs = _point_amounts(req, start, dosing, n_full)
+    if dosing.carbonate:
+        curve, curve_vol = dosing.solve(dosing.grid)
+        x0, i0 = start_along(at, dosing.grid, curve)
+        # a dose that reaches a pH leaves that pH: its root is known but for the coefficient
+        ad = debye_huckel_scale(req.activity, req.temperature_c) * davies_d(i0[1:4])
+        reached = np.isfinite(dosing.doses) & (dosing.doses > 0)
+        x0[1:4] = np.where(reached, ad - np.array([req.target, *req.window]), x0[1:4])
+        pres, pvol = dosing.solve(at, vented=vented, start=(x0, i0), curve=curve)
+        return curve, curve_vol, _Points(pres, pvol, fracs, eqs)
+    grid = dosing.grid
+    every = np.concatenate([grid, at])
+    order = np.argsort(every, kind="stable")
+    place = np.empty_like(order)
+    place[order] = np.arange(order.size)   # where each amount of ``every`` was solved
+    res, vol = dosing.solve(every[order])
+    on_grid, states = place[:grid.size], place[grid.size:]
+    return (res.rows(on_grid), vol[on_grid],
+            _Points(res.rows(states), vol[states], fracs, eqs))
+
+
+def _point_amounts(req: PlanRequest, start: _Start, dosing: Dosing, n_full: float):
+    """The amounts (mol) of :class:`_Points` in its order, whether each is vented, the
+    stages' fractions (planning.toml ``[stages]``) and the labelled equivalence points."""
     fracs = np.asarray(thermo.planning_constants()["stages"]["cumulative_fractions"],
                        dtype=float)
     eqs = equivalence_amounts(req.sample, req.catalog, start.direction, start.capacity,
@@ -412,17 +433,10 @@ def _solve_points(req: PlanRequest, start: _Start, dosing: Dosing, n_full: float
     if dosing.carbonate:  # and the state right after the addition, in the same solve
         pts.append(base_t)
         vented.append(False)
-    at = np.asarray(pts)
-    x0, i0 = start_along(at, dosing.grid, curve)
-    # a dose that reaches a pH leaves that pH: its root is known but for the coefficient
-    ad = debye_huckel_scale(req.activity, req.temperature_c) * davies_d(i0[1:4])
-    reached = np.isfinite(dosing.doses) & (dosing.doses > 0)
-    x0[1:4] = np.where(reached, ad - np.array([req.target, *req.window]), x0[1:4])
-    pres, pvol = dosing.solve(at, vented=vented, start=(x0, i0), curve=curve)
-    return _Points(pres, pvol, fracs, eqs)
+    return np.asarray(pts), vented, fracs, eqs
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Doses:
     """What the plan reports at each dose of interest."""
 

@@ -24,7 +24,7 @@ from carboy.model.catalog import molar_mass_of
 from carboy.model.thermo import planning_constants
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Precipitate:
     """Saturation of one solid in the final batch."""
 
@@ -87,7 +87,7 @@ def slurry_check(reagent_key: str, found: tuple[Precipitate, ...]) -> tuple[str,
 
 # ----------------------------------------------------------------------------- soluble salts
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class SaltLimit:
     """How much of a soluble salt the batch holds against what water dissolves.
 

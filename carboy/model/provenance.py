@@ -38,6 +38,7 @@ from types import MappingProxyType
 from carboy.errors import CatalogError
 
 __all__ = [
+    "ACTIVITY_DATA_STATUSES",
     "PACKAGED_STATUSES",
     "REQUIRED_WORDING",
     "STATUSES",
@@ -65,6 +66,10 @@ STATUSES = frozenset(STATUS_MEANINGS)
 PACKAGED_STATUSES = STATUSES - {"USER"}
 """Statuses a packaged data file may use (USER is for user-defined entries only)."""
 
+ACTIVITY_DATA_STATUSES = frozenset({"FOUND", "MEMORY", "DERIVED", "NONE"})
+"""Statuses the activity models' parameter files may use (``pitzer.toml``,
+``ion_pairs.toml``): a value seen, remembered or derived, or none (neglected)."""
+
 REQUIRED_WORDING: Mapping[str, tuple[str, ...]] = MappingProxyType({
     "MEMORY": ("from memory",),
     "PRACTICE": ("common practice",),
@@ -75,7 +80,7 @@ REQUIRED_WORDING: Mapping[str, tuple[str, ...]] = MappingProxyType({
 """Status -> words its source must contain (any one of them, case ignored)."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Provenance:
     """Where one value comes from: a status of :data:`STATUSES` and the source in words."""
 

@@ -127,7 +127,7 @@ _REFUSED = {
 }
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Reading:
     """A quantity as understood: value in the base unit of its kind, and an echo."""
 

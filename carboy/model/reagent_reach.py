@@ -32,7 +32,7 @@ __all__ = ["Reach", "bicarbonate_ceiling", "carbonate_levels", "proton_reach"]
 CARBONATE = "carbonate"
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Reach:
     """The protons a carbonate reagent can take from a sample.
 

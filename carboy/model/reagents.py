@@ -29,7 +29,7 @@ WATER_DENSITY_ASSUMED_G_ML = 1.0
 """Density assumed for a molar solution with no usable density table (stated in describe)."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, repr=False)
 class Reagent:
     """A neutralizing reagent of known strength.
 

@@ -61,7 +61,7 @@ TABLE_TEMPERATURE_C = 20.0
 """Temperature of the built-in density tables and of the water-density fallback."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Strength:
     """One solution strength in every unit carboy knows.
 

@@ -102,7 +102,6 @@ from carboy.model.speciation_models import (
     pitzer_one_fields,
     route,
 )
-from carboy.model.speciation_one import one_fields, pairs_fields
 
 __all__ = [
     "ACTIVITY_MODELS", "COUPLED_ITER", "COUPLED_NEAR", "DAVIES_LIMIT_MOLAR",
@@ -113,7 +112,7 @@ __all__ = [
 ]
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Speciation:
     """The solved state of one solution.  Concentrations in mol/L.
 
@@ -166,7 +165,7 @@ class Speciation:
         return float(sum((n - j) * fr[lab] for j, lab in enumerate(labels)))
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class BatchSpeciation:
     """The solved state of N solutions (arrays indexed by point first)."""
 
@@ -275,7 +274,7 @@ class BatchSpeciation:
                     self.metal_keys, self.dissolved_metal_molar[n].tolist())))}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class StateAt:
     """Fractions of every system at a given log10[H+] and ionic strength (no solve)."""
 
@@ -343,6 +342,8 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
         batch = MixtureBatch(keys, np.array([row]).reshape(1, len(keys)), t_c)
         res = _solve(batch, lay, activity, t_c).point(0)
         return Speciation(**{**res.__dict__, "mixture": mixture})
+    from carboy.model.speciation_one import one_fields  # the float paths' (not Pitzer's)
+
     return Speciation(**one_fields(lay, row, *fast[:3], pkw, a_dh, t_c, activity, *fast[3:]),
                       mixture=mixture)
 
@@ -350,6 +351,7 @@ def speciate(mixture: Mixture, *, activity: str = "davies", catalog=None,
 def _pairs_one(lay: Layout, row: list, t_c: float) -> dict | None:
     """The fields of one solution solved with its ion pairs in plain Python, or None."""
     from carboy.model.solver.single_pairs import solve_pairs_one
+    from carboy.model.speciation_one import pairs_fields
 
     pkw = water.pkw(t_c)
     tab = table_of(lay, "davies", t_c)

@@ -100,7 +100,7 @@ def ph_scale_of(model: str) -> str:
     return PH_SCALES.get(model, model)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class ModelPoint:
     """What one solution's result says about its activity model."""
 
@@ -111,7 +111,7 @@ class ModelPoint:
     water_activity: float | None
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class ModelPart:
     """The activity model's part of a batch result (arrays by point)."""
 
@@ -198,7 +198,7 @@ def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
     return _pitzer(batch, lay, activity, catalog, paths, base)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Paths:
     """What :func:`route` was handed to solve with: the Davies batch solve, the frame of
     a one-solution result, the held species and the start."""
@@ -394,8 +394,7 @@ def pitzer_one_fields(catalog, lay: Layout, keys: tuple[str, ...], row: list,
     w, notes = water_kg_one(catalog, keys, row, t_c)
     x, m, lg, (_, aw, ionic), rounds, ok = solve_one_pitzer(ot, scalar_model(model), row,
                                                              1.0 / w)
-    _, found = model_warnings(model, m, ionic)
-    common = tuple(t for t in found if not t.startswith("ionic strength above"))
+    _, common = model_warnings(model, m, ionic)
     code = int(ionic > I_MAX_MOLAL) + 2 * int(not ok)
     labels, z = tab.labels, ot.charges
     molar = [v * w for v in m]
@@ -445,11 +444,11 @@ def _pitzer_result(base, out: Outcome, lay: Layout, tab, activity: str, w, notes
     from carboy.model.pitzer import I_MAX_MOLAL
 
     molal_i = out.extra["ionic_strength_molal"]
-    common = tuple(t for t in out.extra["warnings"] if not t.startswith("ionic strength above"))
     hot = tuple(t for t in base.warnings[0] if "enthalpy data" in t) if len(base) else ()
-    texts = _pitzer_texts(common + notes + hot)
+    own = out.extra["point_warnings"]     # each point's, whatever batch it is in
+    texts = {o: _pitzer_texts(o + notes + hot) for o in set(own)}
     code = (molal_i > I_MAX_MOLAL).astype(int) + 2 * (~out.converged).astype(int)
-    warnings = tuple(texts[c] for c in code.tolist())
+    warnings = tuple(texts[o][c] for o, c in zip(own, code.tolist()))
     return _assemble(base, out, lay, tab, activity, warnings, model_part=ModelPart(
         "pitzer", out.log_gamma, w, molal_i, out.extra["water_activity"]))
 

@@ -65,7 +65,7 @@ def test_the_metal_modules_load_only_for_a_modelled_metal(argv, metals):
 
 
 BATCH_PATHS = ("carboy.model.pitzer_scalar", "carboy.model.pitzer_sums", "carboy.model.etheta",
-               "carboy.model.pitzer", "carboy.model.solver.pitzer_batch",
+               "carboy.model.pitzer", "carboy.model.pitzer_data", "carboy.model.solver.pitzer_batch",
                "carboy.model.solver.pitzer_one", "carboy.model.solver.bracketed",
                "carboy.model.solver.coupled", "carboy.model.solver.single_pairs")
 
@@ -74,9 +74,25 @@ def test_one_davies_solution_loads_neither_the_pitzer_nor_the_batch_paths():
     """`carboy ph` of a dilute solution settles on the plain-Python path (auto: Davies);
     the Pitzer and vectorized paths load when a command first takes them."""
     assert [m for m in _loaded_by("ph", "H2SO4=0.05M", among=BATCH_PATHS)
-            if m in BATCH_PATHS] == []   # (carboy.model.pitzer_data is not one of them)
+            if m in BATCH_PATHS] == []
     assert set(_loaded_by("ph", "H2SO4=1M", among=BATCH_PATHS)) >= {
         "carboy.model.pitzer_scalar", "carboy.model.solver.pitzer_one"}
+
+
+LAZY_ON_A_PLAN = ("carboy.model.co2_loss", "carboy.model.solver.bracketed",
+                  "carboy.model.speciation_one", "carboy.model.user_compounds")
+
+
+def test_a_plan_without_carbonate_loads_neither_the_co2_loss_nor_the_guaranteed_path():
+    """Sulfuric acid with NaOH (auto: Pitzer) loads no co2_loss (carbonate only), no
+    solver/bracketed (the titration's inverse takes its secant step from solver/mixing)
+    no speciation_one (the float paths' fields; one Pitzer point has its own) and no
+    user_compounds (the catalog loads it when a user compound is made)."""
+    assert _loaded_by("neutralize", "H2SO4=0.5M", "--volume", "250mL", "--reagent", "NaOH=2M",
+                      among=LAZY_ON_A_PLAN) == []
+    assert "carboy.model.co2_loss" in _loaded_by(
+        "neutralize", "HCl=0.5M", "--volume", "250mL", "--reagent", "Na2CO3=1M",
+        among=LAZY_ON_A_PLAN)
 
 
 AVOIDABLE = ("pathlib", "importlib.resources", "zipfile", "tempfile", "molmass", "hashlib")
@@ -182,10 +198,7 @@ def test_the_app_reads_only_the_global_options():
     code = ("import sys\nfrom carboy.tui.launch import _parser\n"
             "_parser(['--demo']).parse_args(['--demo'])\n"
             "print(' '.join(sorted(m for m in sys.modules if m.startswith('carboy.tui.cli.'))))")
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                          timeout=60)
-    assert done.returncode == 0, done.stderr
-    loaded = set(done.stdout.split())
+    loaded = set(_printed_by(code))
     assert not loaded & (set(cli_main.SUBCOMMAND_MODULES) - {f"carboy.tui.cli.{launch_light()}"})
 
 
@@ -208,6 +221,22 @@ def test_the_collector_is_held_off_while_the_app_starts(monkeypatch):
     assert launch.open_app(object()) == 0
     assert seen == [False] and gc.isenabled()
 
+
+
+def test_a_command_freezes_what_its_imports_made_only_in_its_own_process():
+    """Run as the program (no argv given), the command's imports are frozen out of the
+    collector's walks and the collector is on again; called with argv (the tests), the
+    caller's collector is left alone."""
+    import gc
+
+    code = ("import gc, io, sys, contextlib\nfrom carboy.tui.launch import main\n"
+            "sys.argv = ['carboy', 'ph', 'HCl=0.1M']\nbefore = gc.get_freeze_count()\n"
+            "with contextlib.redirect_stdout(io.StringIO()): status = main()\n"
+            "print(status, before, gc.get_freeze_count() > before + 10000, gc.isenabled())")
+    assert _printed_by(code) == ["0", "0", "True", "True"]
+    frozen = gc.get_freeze_count()
+    assert main(["ph", "HCl=0.1M"]) == 0
+    assert gc.get_freeze_count() == frozen and gc.isenabled()
 
 
 @pytest.mark.parametrize("given", [None, "30"])
@@ -239,7 +268,12 @@ def test_the_command_asks_for_one_blas_thread_before_numpy_loads():
             "with contextlib.redirect_stdout(io.StringIO()): status = main(['ph', 'HCl=0.1M'])\n"
             "assert status == 0, status\n"
             "print(os.environ['OPENBLAS_NUM_THREADS'], os.environ['MKL_NUM_THREADS'])")
+    assert _printed_by(code) == ["1", "3"]
+
+
+def _printed_by(code: str) -> list[str]:
+    """The words ``code`` prints, run in a new Python."""
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                           timeout=60)
     assert done.returncode == 0, done.stderr
-    assert done.stdout.split() == ["1", "3"]
+    return done.stdout.split()

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 from carboy.model.catalog import default_catalog
-from carboy.model.mixture import Mixture, titration_batch
+from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
 from carboy.model.solver import pitzer_batch
 from carboy.model.speciation import speciate_batch
 
@@ -38,3 +38,24 @@ def test_a_few_points_give_the_array_paths_result(components, amounts, monkeypat
     assert few.model_part.water_activity == pytest.approx(arrays.model_part.water_activity,
                                                           rel=1e-8)
     assert [set(w) for w in few.warnings] == [set(w) for w in arrays.warnings]
+
+
+@pytest.mark.parametrize("few", [True, False])
+def test_a_points_warnings_are_its_own_whatever_its_batch(few, monkeypatch):
+    """The Davies fallback's range warning names a point only where that point is past
+    0.5 mol/kg (pitzer.DAVIES_LIMIT_MOLAL), and a point's warnings are those it has
+    solved alone: not the batch's count ("at 3 of 5 points" once said every point)."""
+    if not few:
+        monkeypatch.setattr(pitzer_batch, "FEW_POINTS", 0)   # the array path
+    batch = _batch({"HF": 0.3, "NaCl": 0.2}, [0.0, 0.1, 0.3, 0.6, 0.9])
+    res = speciate_batch(batch, activity="pitzer", catalog=CAT)
+    past = res.model_part.ionic_strength_molal > 0.5
+    assert past.any() and not past.all()
+    for k in range(len(res)):
+        texts = res.warnings[k]
+        assert any("HF" in w and "Davies" in w for w in texts)       # the fallback itself
+        assert any("outside its own range" in w for w in texts) == past[k]
+        assert not any(" of 5 points" in w for w in texts)
+        one = MixtureBatch(batch.keys, batch.totals[[k]], batch.temperature_c)
+        alone = speciate_batch(one, activity="pitzer", catalog=CAT)
+        assert set(alone.warnings[0]) == set(texts)

@@ -198,3 +198,33 @@ def test_the_sample_is_solved_once_when_auto_settles_on_its_model(monkeypatch, a
         ref = plan_neutralization(sample, parse_reagent("NaOH=1M"), activity="davies")
         assert plan.initial_pH == ref.initial_pH
         assert plan.to_target.reagent_mol == ref.to_target.reagent_mol
+
+
+@pytest.mark.parametrize("activity", ["davies", "pitzer"])
+def test_the_states_solved_with_the_curve_are_those_solved_alone(monkeypatch, activity):
+    """Without carbonate the plan's states (full dose, doses, stages, ±1 %, equivalence
+    points) are solved in the curve's batch, among its amounts: one solve, the same
+    states as each solved alone."""
+    from carboy.model import dosing, speciation
+    from carboy.model.mixture import titration_batch
+
+    calls = []
+    real = speciation.speciate_batch
+
+    def counted(batch, **kw):
+        calls.append(len(batch.totals))
+        return real(batch, **kw)
+
+    monkeypatch.setattr(dosing, "speciate_batch", counted)
+    sample = Mixture({"Cl-": 0.4, "sulfate": 0.3, "phosphate": 0.05}, volume_l=2.0)
+    reagent = parse_reagent("NaOH=1M")
+    plan = plan_neutralization(sample, reagent, activity=activity, curve_points=60)
+    assert max(calls) > 60     # the curve's 60 amounts and the states in one batch
+    doses = [plan.full, plan.to_target, *plan.window_doses]
+    amounts = [d.reagent_mol for d in doses] + [e.reagent_mol for e in plan.equivalence_points]
+    batch, _ = titration_batch(sample, dict(reagent.compound.composition),
+                               np.array(amounts), reagent.l_per_mol)
+    alone = real(batch, activity=activity)
+    assert [d.pH for d in doses] + [e.pH for e in plan.equivalence_points] == pytest.approx(
+        alone.pH.tolist(), abs=1e-9)
+    assert len(plan.curve) == 60 and np.all(np.diff(plan.curve[:, 0]) > 0)

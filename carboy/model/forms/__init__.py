@@ -32,7 +32,7 @@ BOTTLE_REF = re.compile(r"^#?\s*([0-9]+)$", re.ASCII)
 """``23``, ``#23`` or ``# 23``: a stock bottle by its id."""
 
 
-@dataclass
+@dataclass(eq=False, repr=False)
 class Reading(Generic[T]):
     """What a form understood: ``value`` when nothing is wrong, else per-field errors.
 

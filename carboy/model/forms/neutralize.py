@@ -63,7 +63,7 @@ class NeutralizeFields:
     activity: str = "auto"
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class RecordedPlan:
     """The inputs of the plan last recorded for a container (a ``planned`` one), so that
     opening it again shows that plan, not an empty form.  ``fields`` holds only the form
@@ -101,7 +101,7 @@ def recorded_fields(snapshot: Mapping) -> dict[str, str]:
     return out
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class ContainerSample:
     """A stored waste container's contents, as the store reads them for planning."""
 
@@ -121,7 +121,7 @@ class ContainerSample:
     """The plan last recorded for a ``planned`` container (None otherwise)."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class NeutralizeRequest:
     """Everything the planner needs, read and checked."""
 
@@ -137,7 +137,7 @@ class NeutralizeRequest:
     """Mol of each compound in the sample (typed, or logged into the container)."""
 
 
-@dataclass
+@dataclass(eq=False, repr=False)
 class PlanReading(Reading):
     """A reading whose value is the plan; ``direction`` ('base' or 'acid') is known as soon
     as the sample and target are, even while another field is wrong."""
@@ -238,7 +238,7 @@ def _temperature(text: str) -> float:
     return t_c
 
 
-@dataclass
+@dataclass(eq=False, repr=False)
 class _Parts:
     """What could be read of each field (None where it could not)."""
 

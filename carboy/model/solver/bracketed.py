@@ -27,6 +27,7 @@ from carboy.model.solver.constants import (
     X_TOL,
 )
 from carboy.model.solver.coupled import coarse_fine, solve_coupled
+from carboy.model.solver.mixing import next_ionic
 from carboy.model.solver.problem import Problem
 from carboy.model.solver.starts import cubic_between
 
@@ -96,18 +97,6 @@ def widen(lo, hi, ad, log_kw, pr: Problem):
         lo = np.where(bad_lo, lo - 3.0, lo)
         hi = np.where(bad_hi, hi + 3.0, hi)
     return lo, hi
-
-
-def next_ionic(i_now, r_now, i_prev, r_prev, g):
-    """Secant step on r(I) = g(I) - I, falling back to the plain fixed point g."""
-    if i_prev is None:
-        return g
-    denom = r_now - r_prev
-    with np.errstate(divide="ignore", invalid="ignore"):
-        sec = i_now - r_now * (i_now - i_prev) / denom
-    # accept a secant step only when it is finite, positive and no wilder than 2 plain steps
-    ok = np.isfinite(sec) & (sec > 0) & (np.abs(sec - g) <= 2.0 * np.abs(r_now))
-    return np.where(ok, sec, g)
 
 
 def solve_nested(pr: Problem, x, ionic):

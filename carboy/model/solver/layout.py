@@ -58,7 +58,7 @@ def pka_at(system: System, temperature_c: float) -> np.ndarray:
     return pk0 - term / LN10
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Layout:
     """Arrays describing which batch column is what, at one temperature."""
 
@@ -121,7 +121,7 @@ def resolve(catalog, key: str) -> System | Ion:
                        "in the catalog")
 
 
-@dataclass
+@dataclass(eq=False, repr=False)
 class _Parts:
     """The components of a solution sorted into weak systems and spectator ions."""
 

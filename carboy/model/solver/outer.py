@@ -203,7 +203,7 @@ def split_pairs(tab: Table, k_cond: np.ndarray, metal_tot: np.ndarray, lig_lump:
 
 # --------------------------------------------------------------------------- one round
 
-@dataclass
+@dataclass(eq=False, repr=False)
 class Terms:
     """What the outer loop holds for the inner solve, per point."""
 
@@ -269,7 +269,7 @@ def pair_shares(tab: Table, table: np.ndarray, lg: np.ndarray, per_molar: np.nda
 
 # --------------------------------------------------------------------------- the loops
 
-@dataclass
+@dataclass(eq=False, repr=False)
 class Outcome:
     """A settled outer loop: the root, the species and the coefficients."""
 
@@ -419,7 +419,8 @@ def solve_pitzer(pr0: Problem, model: PitzerModel, tab: Table, per_molar: np.nda
     ph = -(x + log_s + lg[:, 0])
     extra = {"ionic_strength_molal": res.ionic_strength_molal,
              "water_activity": res.water_activity, "osmotic": res.osmotic,
-             "valid": res.valid, "warnings": res.warnings}
+             "valid": res.valid, "point_warnings": model.point_warnings(table * per_molar[:, None],
+                                                    res.ionic_strength_molal)}
     return Outcome(x, ionic, conv, rounds, table, lg, ph, systems, extra)
 
 

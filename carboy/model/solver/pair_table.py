@@ -26,7 +26,7 @@ SPLIT_ROUNDS = 200
 """Alternating mass-balance rounds that split a lumped row into free ions and pairs."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Pair:
     """One ion pair in a layout: cation M (a spectator ion), ligand L (a state or OH-)."""
 
@@ -38,7 +38,7 @@ class Pair:
     dz2: float          # z_M² + z_L² - z_P²
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Table:
     """The species of a layout (and its pairs) as the columns of one table."""
 

@@ -61,7 +61,7 @@ WARM_TOL = 1e-10
 """The first round from interpolated coefficients needs x as closely as they are known."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class BatchTable:
     """A :class:`OneTable` as arrays."""
 
@@ -299,7 +299,7 @@ def _anderson(v, g, prev):
     return g - theta[:, None] * (g - g0)
 
 
-@dataclass
+@dataclass(eq=False, repr=False)
 class _State:
     """Per point: x, the held coefficients v (log10 γ, then log10 a_w), and, once
     settled, the molalities and the model's osmotic coefficient and ionic strength."""
@@ -536,13 +536,13 @@ def batch_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
 def _batch_extra(model: PitzerModel, molal: np.ndarray, ionic, aw, phi) -> dict:
     """The Pitzer part of a batch's :class:`Outcome` (``molal`` (N, n) its species in
     mol/kg): ionic strength, water activity, osmotic coefficient, each point's validity
-    and the batch's warnings, worked out once over all its points."""
+    and its own warnings (``PitzerModel.point_warnings``)."""
     n = molal.shape[1]
     mall = np.concatenate([molal, np.zeros((molal.shape[0], len(model._all) - n))], axis=1)
     here = (mall[:, :n][:, model._fallback_mask[:n]] > 0).any(axis=1)
     return {"ionic_strength_molal": ionic, "water_activity": aw, "osmotic": phi,
             "valid": (ionic <= I_MAX_MOLAL) & ~here,
-            "warnings": model._warnings(mall, ionic, here)}
+            "point_warnings": model.point_warnings(mall, ionic)}
 
 
 FEW_POINTS = 32

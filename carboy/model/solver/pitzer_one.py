@@ -69,7 +69,7 @@ ROUND_X_TOL = 1e-3
 error it leaves in x is then well inside what the coefficients still have to move."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class OneTable:
     """A species table compiled for the float path."""
 
@@ -433,7 +433,7 @@ def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: 
     here, warnings = model_warnings(model, m, ionic)
     extra = {"ionic_strength_molal": np.array([ionic]), "water_activity": np.array([aw]),
              "osmotic": np.array([phi]), "valid": np.array([ionic <= I_MAX_MOLAL and not here]),
-             "warnings": warnings}
+             "point_warnings": [warnings]}
     return Outcome(np.array([x + math.log10(w)]), np.zeros(1), np.array([ok]), rounds,
                    table, np.array([lg]), np.array([-(x + lg[0])]),
                    (np.array(alpha).reshape(-1, 1), np.array(ceff).reshape(-1, 1)), extra)
@@ -441,13 +441,11 @@ def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: 
 
 def model_warnings(model, m: list, ionic: float) -> tuple[bool, tuple[str, ...]]:
     """Whether a species of the Davies fallback is present in the molalities ``m``, and
-    the Pitzer model's (``model``) warnings at that composition: worked out once per
-    case (the texts of one point within the parameters' range depend only on which
-    of the model's conditions hold)."""
+    the Pitzer model's (``model``) warnings of that point (``PitzerModel.point_warnings``):
+    worked out once per case (they depend only on which of the model's conditions
+    hold)."""
     mask = model._fallback_mask
     here = any(v > 0 for v, f in zip(m, mask.tolist()) if f)
-    if ionic > I_MAX_MOLAL:
-        return here, _warnings_at(model, m, ionic, here)
     full = m + [0.0] * (len(model._all) - len(m))
     key = (id(model), here, ionic > DAVIES_LIMIT_MOLAL,
            tuple(full[i] > MISSING_PAIR_MOLAL and full[j] > MISSING_PAIR_MOLAL
@@ -456,13 +454,10 @@ def model_warnings(model, m: list, ionic: float) -> tuple[bool, tuple[str, ...]]
     if hit is None or hit[0] is not model:
         if len(_WARNED) >= 512:
             _WARNED.clear()
-        hit = _WARNED[key] = (model, _warnings_at(model, m, ionic, here))
+        hit = _WARNED[key] = (model, model.point_warnings(np.array([full]),
+                                                           np.array([ionic]))[0])
     return here, hit[1]
 
 
 _WARNED: dict = {}
 
-
-def _warnings_at(model, m: list, ionic: float, here: bool) -> tuple[str, ...]:
-    molal = np.array([m + [0.0] * (len(model._all) - len(m))])
-    return model._warnings(molal, np.array([ionic]), np.array([here]))

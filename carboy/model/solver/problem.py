@@ -18,7 +18,7 @@ from carboy.errors import InvalidInput
 from carboy.model.solver.layout import Layout
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Amounts:
     """What fixes each system's amount: its total, or (open system) the concentration
     of one reference state held constant (CO2(aq) in equilibrium with a gas, say).
@@ -93,7 +93,7 @@ def held_amounts(lay: Layout, c_sys: np.ndarray, held) -> Amounts:
     return Amounts(c_sys, conc, mask, j0, c0, e0_col)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class Problem:
     """N solutions at one temperature, ready for the solver's paths (mol/L throughout)."""
 

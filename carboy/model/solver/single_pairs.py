@@ -29,7 +29,7 @@ from carboy.model.solver.pair_table import (
 from carboy.model.solver.single import iterate_one
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class PairsSolved:
     """The settled outer loop of one solution."""
 
@@ -160,7 +160,7 @@ def _split(tab: Table, table: list, ad: float):
     return lift, corr
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False, repr=False)
 class _Plain:
     """A :class:`Table` as plain Python lists for this module's loops (made once per
     table): its columns' count, the spectators' and the states' columns, per pair
