@@ -53,51 +53,25 @@ class FreshLoss:
         self.run_lo, self.run_hi = run_lo, run_hi
 
     def __call__(self, n, saturated=None) -> np.ndarray:
-        """The loss at ``n``; ``saturated``: (amounts, their open states at 1 atm) solved
-        already, taken where they are the amounts this call would solve
-        (:meth:`solved_at`)."""
+        """The loss at ``n``; ``saturated``: the open state at 1 atm of the amounts of
+        ``n`` that need it (``model.saturation_need``), when already solved."""
         n = np.atleast_1d(np.asarray(n, dtype=float))
-        out = self.run_lo[self._below(n)]
+        model, grid = self.model, self.grid
+        if n.shape == grid.shape and np.array_equal(n, grid) and saturated is None:
+            out = self.run_lo.copy()   # on the grid the running maximum is the loss itself
+            unsure = np.flatnonzero(self.run_hi > self.run_lo)
+            if unsure.size:   # a monotone stretch: the larger of its own and those below
+                out[unsure] = np.maximum(out[unsure],
+                                         model.saturation_loss_mol(grid[unsure], self.s_sat))
+            return out
+        idx = np.clip(np.searchsorted(grid, n, side="right") - 1, 0, len(grid) - 1)
+        if saturated is not None:
+            return np.maximum(self.run_lo[idx], model.loss_from(n, saturated, self.s_sat))
+        out = self.run_lo[idx]
         # a grid amount whose running maximum is settled is its loss; the others solved
-        rest = np.flatnonzero(self._unsettled(n))
-        if rest.size:   # on the grid: a monotone stretch, the larger of its own and below
-            out[rest] = np.maximum(out[rest], self._saturation_loss(n[rest], saturated))
-        return out
-
-    def solved_at(self, n) -> np.ndarray:
-        """Where a call at the amounts ``n`` takes an open solve at 1 atm (an amount off
-        the grid, or on a stretch where the running maximum is not settled, whose
-        carbonate could exceed the saturation level)."""
-        n = np.atleast_1d(np.asarray(n, dtype=float))
-        return self._unsettled(n) & self.model.saturation_need(n, self.s_sat)
-
-    def _below(self, n: np.ndarray) -> np.ndarray:
-        """The grid index at or below each amount."""
-        grid = self.grid
-        if n.shape == grid.shape and np.array_equal(n, grid):
-            return np.arange(grid.size)
-        return np.clip(np.searchsorted(grid, n, side="right") - 1, 0, len(grid) - 1)
-
-    def _unsettled(self, n: np.ndarray) -> np.ndarray:
-        """Where the loss at ``n`` is not the grid's settled running maximum."""
-        idx = self._below(n)
-        return (self.grid[idx] != n) | (self.run_hi[idx] > self.run_lo[idx])
-
-    def _saturation_loss(self, n: np.ndarray, saturated) -> np.ndarray:
-        """The saturation loss at ``n``, from ``saturated`` (amounts ascending, their
-        states) where it holds an amount's state, else solved."""
-        model = self.model
-        if saturated is None:
-            return model.saturation_loss_mol(n, self.s_sat)
-        have, state = saturated
-        at = np.clip(np.searchsorted(have, n), 0, have.size - 1)
-        known = (have[at] == n) & model.saturation_need(n, self.s_sat)
-        out = np.zeros(n.shape)
-        if known.any():
-            kept = state.carbonate_molar()[at[known]] * state.volume_l[at[known]]
-            out[known] = np.maximum(model.carbonate_total_mol(n[known]) - kept, 0.0)
-        if not known.all():
-            out[~known] = model.saturation_loss_mol(n[~known], self.s_sat)
+        rest = np.flatnonzero((grid[idx] != n) | (self.run_hi[idx] > self.run_lo[idx]))
+        if rest.size:
+            out[rest] = np.maximum(out[rest], model.saturation_loss_mol(n[rest], self.s_sat))
         return out
 
     def upper(self, n) -> np.ndarray:

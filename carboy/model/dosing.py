@@ -163,9 +163,8 @@ class Dosing:
         on_grid = (self.grid_air is not None and n.shape == self.grid.shape
                    and np.array_equal(n, self.grid))
         air = self.grid_air if on_grid else None
-        saturated = None
         if vented.any() and air is None:
-            air, saturated = self._open_to_air(n, vented, air_start)
+            air = self.model.forward(n, co2_molar=self.s_air, start=air_start)
         at_air = None if air is None else air.carbonate_molar() * air.volume_l
         sure = open_to_air(self.fresh_loss, n, at_air, vented)
         # the loss of every amount not sure (and of a sure one also asked unvented)
@@ -173,8 +172,7 @@ class Dosing:
         loss = np.full(n.shape, np.nan)
         if solve.any():
             once, back = np.unique(n[solve], return_inverse=True)
-            loss[solve] = (self.fresh_loss(once) if saturated is None
-                           else self.fresh_loss(once, saturated=saturated))[back]
+            loss[solve] = self.fresh_loss(once)[back]
         total = self.model.carbonate_total_mol(n)
         kept = np.where(np.isnan(loss), np.inf, np.maximum(total - loss, 0.0))
         start = coefficients = air_ph = None
@@ -195,19 +193,6 @@ class Dosing:
         tot[:, b.keys.index(gas.CARBONATE)] = kept / vol
         return _Vented(MixtureBatch(b.keys, tot, b.temperature_c), vol, start, coefficients,
                        np.full(n.shape, np.nan) if air_ph is None else air_ph)
-
-    def _open_to_air(self, n: np.ndarray, vented: np.ndarray, start):
-        """The states open to air at ``n`` (from ``start``, see :meth:`_batch_and_air`),
-        and (amounts, their open states at 1 atm) where an amount asked unvented takes
-        the loss right after the addition by a solve (in the same solve; else None)."""
-        solved_at = getattr(self.fresh_loss, "solved_at", None)
-        fresh = np.unique(n[~vented]) if solved_at is not None else n[:0]
-        fresh = fresh[solved_at(fresh)] if fresh.size else fresh
-        if not fresh.size:
-            return self.model.forward(n, co2_molar=self.s_air, start=start), None
-        air, sat = self.model.open_states([(n, self.s_air), (fresh, self.fresh_loss.s_sat)],
-                                          starts=[start, None])
-        return air, (fresh, sat)
 
     def co2_lost_mol(self, n_end: float) -> tuple[float, float]:
         """CO2 given off (mol) by adding ``n_end``: right after the addition, and in all
