@@ -19,10 +19,7 @@ solved: the grid's running maximum is then the one solving every amount gives (i
 largest value is solved), provided the loss is monotone on either side of its turns.  Between the solved amounts of a monotone stretch it is only bounded
 (:attr:`FreshLoss.run_hi`), which is enough to tell where the batch vents to the state
 open to air (there the loss does not enter the batch); an amount whose loss is needed
-there is solved then (:meth:`FreshLoss.solved_at` names the amounts a call would solve,
-so that a caller can solve them with its other open states: the plan's points take the
-state at 1 atm of the dose right after the addition in the solve of their states open
-to air).  A loss that turns more often than the coarse amounts can show
+there is solved then.  A loss that turns more often than the coarse amounts can show
 (more than ``MAX_TURNS`` turns) is solved at every amount.
 """
 
