@@ -213,6 +213,32 @@ def test_backup_api_copy(store, tmp_path):
     b.close()
 
 
+def test_large_file_check_leaves_out_large_tables(demo_path, monkeypatch):
+    """Above FULL_CHECK_LIMIT_BYTES the open checks each table whose largest rowid is at
+    most OPEN_CHECK_MAX_ROWID (and no virtual table): at a million rows the others'
+    check cost every command about a second."""
+    monkeypatch.setattr(dbmod, "FULL_CHECK_LIMIT_BYTES", 0)
+    monkeypatch.setattr(dbmod, "OPEN_CHECK_MAX_ROWID", 8)
+    checked = []
+    real = dbmod.Store._execute
+
+    def spy(self, sql, *args, **kw):
+        if sql.startswith("PRAGMA quick_check"):
+            checked.append(sql.split('"')[1])
+        return real(self, sql, *args, **kw)
+
+    monkeypatch.setattr(dbmod.Store, "_execute", spy)
+    store = open_database(demo_path)
+    sizes = {t: store.scalar(f'SELECT max(rowid) FROM "{t}"') or 0
+             for t in ("journal_entries", "waste_containers", "stock_bottles")}
+    store.close()
+    assert sizes["journal_entries"] > 8 and sizes["stock_bottles"] > 8
+    assert sizes["waste_containers"] <= 8
+    assert "waste_containers" in checked and "_sqlite_migrations" in checked
+    assert "journal_entries" not in checked and "stock_bottles" not in checked
+    assert "stock_bottles_fts" not in checked        # virtual: its shadow tables hold it
+
+
 def test_large_file_check_covers_small_tables(tmp_path, demo_path, monkeypatch):
     monkeypatch.setattr(dbmod, "FULL_CHECK_LIMIT_BYTES", 0)
     open_database(demo_path).close()          # sound file: opens
