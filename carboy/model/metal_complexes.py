@@ -291,10 +291,10 @@ def _search(ps: list[_Cation], total: np.ndarray, both=None, v_both=None, start=
         g = np.where(done, 0.0, g)
         hi = np.where(g >= 0, v, hi)
         lo = np.where(g < 0, v, lo)
-        step = np.where(done, 0.0, -g / np.where(gp > 0, gp, 1.0))
+        step = np.where(done, 0.0, _f_step(f, g, gp))
         small = np.abs(step) < COMPLEX_TOL
         nxt = v + step
-        out = ~(((nxt > lo) & (nxt < hi) & (np.abs(step) <= 0.5 * last0)) | small)
+        out = ~(((nxt > lo) & (nxt <= hi) & (np.abs(step) <= 0.5 * last0)) | small)
         nxt = np.where(out, 0.5 * (lo + hi), nxt)
         moved = np.abs(nxt - v)
         last0, last1 = last1, moved
@@ -303,6 +303,20 @@ def _search(ps: list[_Cation], total: np.ndarray, both=None, v_both=None, start=
             break
         v = np.where(done, v, nxt)
     return v, states
+
+
+def _f_step(f, g, gp) -> np.ndarray:
+    """The Newton step on g taken in F (g' by F is gp / (F ln 10)), as a step in log10 F;
+    the step in log10 F where that one would leave F > 0.  g is F less the total plus
+    what the complexes and salts take, concave in F where no solid caps the cation, so
+    from below the root a step in F stays below it; in log10 F, g is convex where the
+    complexes take little (F ~ total), and a step from below went past the bracket's
+    top, log10 of the total, to be halved towards it some forty times."""
+    safe = np.where(gp > 0, gp, 1.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = 1.0 - LN10 * g / safe      # F after the step, over F
+        in_f = np.log10(np.where(ratio > 0, ratio, 1.0))
+    return np.where(ratio > 0, in_f, -g / safe)
 
 
 def with_complexes(acc, cp: ComplexPlan, tot, x, ad, log_kw, ligands, precipitate: bool,

@@ -200,3 +200,34 @@ def test_lime_past_gypsum_reports_both_solids_and_closes_calcium():
     assert res.dissolved_metals["Ca+2"] + lime + gypsum == pytest.approx(0.5, rel=1e-9)
     sulfate = res.species["SO4-2"] + res.species["HSO4-"] + res.species["CaSO4"] + gypsum
     assert sulfate == pytest.approx(0.125, rel=1e-9)
+
+
+def test_the_free_ligand_search_settles_in_a_few_steps_where_complexes_take_little(
+        monkeypatch):
+    """Past zinc's hydroxide the ZnSO4 complex takes next to nothing, F is all but the
+    sulfate's total (the search bracket's top) and g is convex in log10 F: a step in
+    log10 F from below went past the top and was halved towards it some forty times.
+    Taken in F (``metal_complexes._f_step``) each search settles in a few steps, on the
+    same stopping test."""
+    from carboy.model import metal_complexes as mc
+
+    steps, longest = [0], []
+    real_at_f, real_search = mc._at_f, mc._search
+
+    def counted(p, v, start=None):
+        steps[0] += 1
+        return real_at_f(p, v, start)
+
+    def search(ps, total, *a, **kw):
+        steps[0] = 0
+        got = real_search(ps, total, *a, **kw)
+        longest.append(steps[0] // len(ps))
+        return got
+
+    monkeypatch.setattr(mc, "_at_f", counted)
+    monkeypatch.setattr(mc, "_search", search)
+    sample = Mixture({"sulfate": 0.1, "Zn+2": 0.05}, volume_l=1.0)
+    batch, _ = titration_batch(sample, {"Na+": 1.0}, np.linspace(0.0, 0.3, 60), 1.0)
+    res = S.speciate_batch(batch, activity="davies", catalog=CAT)
+    assert res.converged.all() and res.pH[-1] > 12
+    assert max(longest) <= 8, sorted(longest)[-5:]
