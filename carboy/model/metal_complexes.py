@@ -307,7 +307,7 @@ def _search(ps: list[_Cation], total: np.ndarray, both=None, v_both=None, start=
 
 def _f_step(f, g, gp) -> np.ndarray:
     """The Newton step on g taken in F (g' by F is gp / (F ln 10)), as a step in log10 F;
-    the step in log10 F where that one would leave F > 0.  g is F less the total plus
+    the Newton step in log10 F where the one in F would not leave F above 0.  g is F less the total plus
     what the complexes and salts take, concave in F where no solid caps the cation, so
     from below the root a step in F stays below it; in log10 F, g is convex where the
     complexes take little (F ~ total), and a step from below went past the bracket's
