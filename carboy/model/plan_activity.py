@@ -32,18 +32,13 @@ SOLID_CHECK_POINTS = 41
 solid that only the Davies metal path settles (gypsum, fluorite, brushite)."""
 
 
-def settle_activity(req, n_full: float):
+def settle_with_sample(req, n_full: float):
     """``req`` (the planner's request) with ``"auto"`` replaced by ``"pitzer"`` where
     some state of the plan needs it, else by ``"davies"``; ``"pitzer"`` by ``"davies"``
-    where a calcium or magnesium solid forms; any other model unchanged."""
-    return settle_with_sample(req, n_full)[0]
-
-
-def settle_with_sample(req, n_full: float):
-    """:func:`settle_activity`, and the sample's own pH where the batch that settled it
-    solved the sample (its first amount, 0) with the Pitzer model it settles on, without
-    metals (the same solve as the sample's alone: the planner need not solve it again);
-    else None."""
+    where a calcium or magnesium solid forms; any other model unchanged.  And the
+    sample's own pH where the batch that settled it solved the sample (its first amount,
+    0) with the Pitzer model it settles on, without metals (the same solve as the
+    sample's alone: the planner need not solve it again); else None."""
     if req.activity not in ("auto", "pitzer"):
         return req, None
     amounts = np.array([0.0, n_full, CURVE_SPAN * n_full])

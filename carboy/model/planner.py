@@ -43,8 +43,8 @@ The steps of a plan
                           leaving and the hydroxide the metals take, and the curve's
                           amounts (``dosing``, ``metal_doses``);
    ``_bicarbonate_ceiling`` no dose above about pH 8.3 with a bicarbonate;
-5. ``_solve_states``      the pH curve and every other state (full dose, doses,
-6.                        stages, ±1 % of the target dose, equivalence points): one
+5-6. ``_solve_states``    the pH curve and every other state (full dose, doses,
+                          stages, ±1 % of the target dose, equivalence points): one
                           batch solve of both without carbonate, else the curve then
                           the states from it;
 7. ``_dose_results``      the doses, stages, sensitivity and equivalence points read

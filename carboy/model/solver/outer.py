@@ -419,7 +419,8 @@ def solve_pitzer(pr0: Problem, model: PitzerModel, tab: Table, per_molar: np.nda
     ph = -(x + log_s + lg[:, 0])
     extra = {"ionic_strength_molal": res.ionic_strength_molal,
              "water_activity": res.water_activity, "osmotic": res.osmotic,
-             "valid": res.valid, "point_warnings": model.point_warnings(table * per_molar[:, None],
+             "valid": res.valid,
+             "point_warnings": model.point_warnings(table * per_molar[:, None],
                                                     res.ionic_strength_molal)}
     return Outcome(x, ionic, conv, rounds, table, lg, ph, systems, extra)
 
@@ -438,6 +439,8 @@ def pitzer_for(tab: Table, temperature_c: float) -> PitzerModel:
 
     charges = {lab: int(z) for lab, z in zip(tab.labels, tab.charges.tolist())}
     model = pitzer_model(tab.labels, temperature_c, fallback="davies", charges=charges)
+    if len(_MODELS) >= 512:   # as the layouts' other caches: bounded
+        _MODELS.clear()
     _MODELS[key] = (tab, model)
     return model
 
