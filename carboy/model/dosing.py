@@ -133,11 +133,9 @@ class Dosing:
         model: there an open solve's water per litre comes from the batch's totals as
         added (every carbonate, vented or not), a closed one's from what it holds, so
         the two differ."""
-        if self.model.activity == "pitzer":
+        if self.model.activity == "pitzer" or self.fresh_loss is None:   # (no carbonate)
             return self.solve(n)[0].pH
         got = self._batch_and_air(np.asarray(n, dtype=float), True)
-        if got.air_pH is None:
-            return self.solve(n)[0].pH
         ph = got.air_pH.copy()
         rest = np.flatnonzero(np.isnan(ph))
         if rest.size:

@@ -170,8 +170,9 @@ def _pairs_apply(lay: Layout, temperature_c: float) -> bool:
 def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
           solve_davies, frame=None):
     """Solve ``batch`` (its layout ``lay``) with ``activity``; ``solve_davies(batch,
-    lay, activity, t_c, held, start)`` is the Davies path's batch solve (a
-    ``BatchSpeciation``), whose result is the start and the frame of the answer;
+    lay, activity, t_c, held, start, root_only=False)`` is the Davies path's batch solve
+    (a ``BatchSpeciation``; ``root_only``: its root and warnings, no species), whose
+    result is the start and the frame of the answer;
     ``frame(batch, lay, activity, t_c)`` an empty result for the one-solution path."""
     t_c = batch.temperature_c
     metals = getattr(lay, "metals", None) is not None
@@ -180,12 +181,14 @@ def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
         return _pitzer_with_metals(batch, lay, activity, catalog, paths)
     if activity == "pitzer":
         return _pitzer(batch, lay, activity, catalog, paths)
-    base = solve_davies(batch, lay, "davies", t_c, held, start)
-    if activity == "davies":   # pairs form (needs_route)
+    pairs = activity == "davies" or _pairs_apply(lay, t_c)   # "davies": pairs form
+    # with pairs the charge-only solve is only their loop's start: its root, not its species
+    base = solve_davies(batch, lay, "davies", t_c, held, start, root_only=pairs)
+    if activity == "davies":
         return _with_pairs(base, lay, activity, held)
     w, _ = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
     res = base
-    if _pairs_apply(lay, t_c):
+    if pairs:
         res = _with_pairs(base, lay, activity, held)
     molal_i = res.ionic_strength_molar / w
     high = float(molal_i.max(initial=0.0)) > AUTO_LIMIT_MOLAL

@@ -200,3 +200,50 @@ def test_pairs_rounds_of_one_newton_step_settle_where_full_solves_do(catalog, mo
     assert lagged.converged.all() and full.converged.all()
     assert abs(lagged.pH - full.pH).max() <= 1e-9
     assert lagged.species_molar == pytest.approx(full.species_molar, rel=1e-8, abs=1e-14)
+
+
+
+
+RESULT_FIELDS = ("pH", "log_h", "ionic_strength_molar", "charge_residual_molar", "converged",
+                 "species_molar", "fractions", "log_gamma_by_charge", "system_totals_molar")
+
+
+@pytest.mark.parametrize("points", [1, 3, 40])
+@pytest.mark.parametrize(("acid", "salt", "activity"), [
+    (0.01, 0.02, "davies"), (0.01, 0.02, "auto"),   # Davies with NaSO4-
+    (0.5, 1.0, "auto"),                             # auto's Pitzer branch
+])
+def test_pairs_start_from_the_charge_only_root_alone(catalog, monkeypatch, points, acid,
+                                                     salt, activity):
+    """Where ion pairs form, the charge-only solve the route starts from is asked for its
+    root only (no species): its root, ionic strength, convergence and warnings are the
+    full result's, and the answer is the one from the full result, bit for bit."""
+    from carboy.model.mixture import titration_batch
+
+    mix = Mixture.from_compounds([(catalog.compound("H2SO4"), acid),
+                                  (catalog.compound("Na2SO4"), salt)], volume_l=1.0)
+    batch, _ = titration_batch(mix, {"Na+": 1.0}, np.linspace(0.0, 2.0 * acid, points), 0.0)
+    real = sp._solve
+    asked = []
+
+    def checked(*args, root_only=False, **kwargs):
+        out = real(*args, root_only=root_only, **kwargs)
+        asked.append(root_only)
+        if root_only:
+            full = real(*args, **kwargs)
+            for name in ("pH", "log_h", "ionic_strength_molar", "converged"):
+                np.testing.assert_array_equal(getattr(out, name), getattr(full, name))
+            assert out.warnings == full.warnings and out.iterations == full.iterations
+            assert out.species_molar.shape == (len(out), 0)
+        return out
+
+    monkeypatch.setattr(sp, "_solve", checked)
+    got = sp.speciate_batch(batch, activity=activity, catalog=catalog)
+    assert True in asked
+    monkeypatch.setattr(sp, "_solve", lambda *a, root_only=False, **k: real(*a, **k))
+    want = sp.speciate_batch(batch, activity=activity, catalog=catalog)
+    assert got.species_labels == want.species_labels and got.warnings == want.warnings
+    for name in RESULT_FIELDS:
+        np.testing.assert_array_equal(getattr(got, name), getattr(want, name), name)
+    if acid < 0.1:
+        assert "NaSO4-" in got.species_labels
