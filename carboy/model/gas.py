@@ -20,8 +20,11 @@ import numpy as np
 
 from carboy.errors import InvalidInput
 from carboy.model import water
+from carboy.model.activity import debye_huckel_scale
+from carboy.model.inverse_floats import amounts_on_floats
 from carboy.model.metal_index import modelled_among
 from carboy.model.mixture import Mixture, MixtureBatch, titration_batch
+from carboy.model.solver.layout import cached_layout
 from carboy.model.solver.mixing import next_ionic
 from carboy.model.speciation import BatchSpeciation, speciate_batch, start_along, state_at
 from carboy.model.speciation_models import coefficients_of, start_coefficients
@@ -291,6 +294,15 @@ class TitrationModel:
                         else 0.5 * float(self.n0[self.ion_cols] @ self.ion_z**2) / self.v0)
         if ionic_guess is None:
             ionic = self._seen_ionic(ph, ionic)
+        t_c = water.check_temperature(self.temperature_c)
+        floats = amounts_on_floats(
+            self, cached_layout(self.catalog, self.keys, t_c), ph.tolist(), loss.tolist(),
+            co2_molar, ionic.tolist(), a_dh=debye_huckel_scale(self.activity, t_c),
+            pkw=water.pkw(t_c), i_rtol=I_RTOL, max_iter=MAX_I_ITER)
+        if floats is not None:   # a few pHs: the same rounds on floats
+            n, new_i, ok = (np.array(v) for v in floats)
+            self._remember(ph, ok, new_i)
+            return n
         n = np.full(t, np.nan)
         ok = np.zeros(t, dtype=bool)
         i_prev = r_prev = None
@@ -314,10 +326,14 @@ class TitrationModel:
                 break
             nxt = np.where(done, new_i, next_ionic(ionic, r, i_prev, r_prev, new_i))
             i_prev, r_prev, ionic = ionic, r, nxt
+        self._remember(ph, ok, new_i)
+        return np.where(ok, n, np.nan)
+
+    def _remember(self, ph: np.ndarray, ok: np.ndarray, ionic: np.ndarray) -> None:
+        """Keep the ionic strengths the inverse settled (starts: :meth:`_seen_ionic`)."""
         if ok.any():
             self._settled = (np.r_[ph[ok], self._settled[0]][:SEEN_IONIC],
-                             np.r_[new_i[ok], self._settled[1]][:SEEN_IONIC])
-        return np.where(ok, n, np.nan)
+                             np.r_[ionic[ok], self._settled[1]][:SEEN_IONIC])
 
     def _seen_ionic(self, ph: np.ndarray, ionic: np.ndarray) -> np.ndarray:
         """Starts for the inverse's ionic strength: that of the nearest pH within
