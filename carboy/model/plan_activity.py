@@ -24,6 +24,7 @@ import dataclasses
 import numpy as np
 
 from carboy.model.dosing import CURVE_SPAN
+from carboy.model.metal_index import modelled_among
 from carboy.model.mixture import titration_batch
 from carboy.model.speciation import speciate_batch
 
@@ -32,13 +33,32 @@ SOLID_CHECK_POINTS = 41
 solid that only the Davies metal path settles (gypsum, fluorite, brushite)."""
 
 
-def settle_with_sample(req, n_full: float):
+def one_way(req) -> str | None:
+    """The direction (``"base"`` or ``"acid"``) of a plan whose sample the batch that
+    settles ``"auto"`` may solve for the planner (its first amount, 0), before the
+    sample's own pH is known: ``"auto"``, a reagent that moves the pH one way only (the
+    other way the plan is refused whatever the pH) and carries no carbonate (its full
+    dose then needs no state of the sample, ``plan_demand``), no modelled metal in the
+    sample or the reagent (a solid may send the plan back to the Davies metal path).
+    None elsewhere: the planner solves the sample first."""
+    reagent = req.reagent
+    base, acid = reagent.base_capacity > 0, reagent.acid_capacity > 0
+    keys = (*req.sample.totals, *reagent.compound.composition)
+    if req.activity != "auto" or base == acid or reagent.has_carbonate \
+            or modelled_among(keys):
+        return None
+    return "base" if base else "acid"
+
+
+def settle_with_sample(req, n_full: float, *, sample_too: bool = False):
     """``req`` (the planner's request) with ``"auto"`` replaced by ``"pitzer"`` where
     some state of the plan needs it, else by ``"davies"``; ``"pitzer"`` by ``"davies"``
     where a calcium or magnesium solid forms; any other model unchanged.  And the
     sample's own pH where the batch that settled it solved the sample (its first amount,
     0) with the Pitzer model it settles on, without metals (the same solve as the
-    sample's alone: the planner need not solve it again); else None."""
+    sample's alone: the planner need not solve it again), and with ``sample_too`` also
+    where it settles ``"auto"`` on ``"davies"`` (auto's Davies branch, the same solve
+    again: see :func:`one_way`); else None."""
     if req.activity not in ("auto", "pitzer"):
         return req, None
     amounts = np.array([0.0, n_full, CURVE_SPAN * n_full])
@@ -58,7 +78,8 @@ def settle_with_sample(req, n_full: float):
         return (dataclasses.replace(req, activity="pitzer"),
                 None if res.metal_keys else float(res.pH[0]))
     if req.activity == "auto":   # auto's Davies branch, the same solve for every batch
-        return dataclasses.replace(req, activity="davies"), None
+        sample = float(res.pH[0]) if sample_too and not res.metal_keys else None
+        return dataclasses.replace(req, activity="davies"), sample
     return req, None
 
 

@@ -91,7 +91,8 @@ from carboy.model.dosing import Dosing, find_doses
 from carboy.model.equivalence import equivalence_amounts
 from carboy.model.heat_capacity import solute_mass_g
 from carboy.model.mixture import Mixture
-from carboy.model.plan_activity import model_used, settle_with_sample
+from carboy.model.plan_activity import model_used, one_way, settle_with_sample
+from carboy.model.plan_demand import Demand, proton_demand
 from carboy.model.plan_heat import HeatAndGas, heat_and_gas
 from carboy.model.plan_metals import MetalReport, dissolved_totals_mol, metals_at_target
 from carboy.model.plan_request import PlanRequest, check_request, with_safe_temperature
@@ -146,13 +147,7 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
     req = check_request(sample, reagent, target_pH, window, activity, catalog, hazards,
                          curve_points, waste)
     req = with_safe_temperature(req, safe_temperature_c, safe_from)
-    start = _start(req)
-    demand, reach = _reagent_reach(req, start, _proton_demand(req, start))
-    # "auto": one model for the whole plan
-    settled, sample_pH = settle_with_sample(req, demand.n_full)
-    if settled.activity != req.activity:   # the sample's state too (a solid's fallback)
-        start = _start(settled, start, sample_pH)
-    req = settled
+    req, start, demand, reach = _settled(req)
     dosing = _bicarbonate_ceiling(req, reach, _find_doses(req, start, demand))
     curve_res, curve_vol, pts = _solve_states(req, start, dosing, demand.n_full)
     doses = _dose_results(req, dosing, pts, demand.n_full)
@@ -190,6 +185,29 @@ def plan_neutralization(sample: Mixture, reagent: Reagent, *, target_pH: float =
 
 
 # ----------------------------------------------------------------------------- the steps
+
+def _settled(req: PlanRequest) -> tuple[PlanRequest, _Start, Demand, Reach | None]:
+    """Steps 2-3b with ``"auto"`` settled once for the whole plan (``plan_activity``):
+    the request on the model settled, the start, the demand and the reagent's reach.
+    Where the direction is known beforehand (``plan_activity.one_way``) the batch that
+    settles the model solves the sample too and the start takes its pH; else the
+    sample is solved first (its pH gives the direction, which gives the full dose the
+    settling batch needs)."""
+    way = one_way(req)
+    if way is not None:
+        capacity = req.reagent.base_capacity if way == "base" else req.reagent.acid_capacity
+        n_full = proton_demand(req.sample, req.catalog, way, capacity).n_full
+        settled, sample_pH = settle_with_sample(req, n_full, sample_too=True)
+        if sample_pH is not None:   # (the other direction: the start refuses the reagent)
+            start = _start(settled, sample_pH=sample_pH)
+            return settled, start, _proton_demand(settled, start), None
+    start = _start(req)
+    demand, reach = _reagent_reach(req, start, _proton_demand(req, start))
+    settled, sample_pH = settle_with_sample(req, demand.n_full)
+    if settled.activity != req.activity:   # the sample's state too (a solid's fallback)
+        start = _start(settled, start, sample_pH)
+    return settled, start, demand, reach
+
 
 @dataclass(frozen=True, eq=False, repr=False)
 class _Start:
@@ -253,34 +271,14 @@ def _own_pH(req: PlanRequest) -> float:  # noqa: N802
     return float(own.forward([0.0]).pH[0])
 
 
-@dataclass(frozen=True, eq=False, repr=False)
-class _Demand:
-    """Every dissociable proton: mol per component, the signed total, the full dose."""
-
-    breakdown: dict
-    proton_eq: float
-    n_full: float
-
-
-def _proton_demand(req: PlanRequest, start: _Start) -> _Demand:
+def _proton_demand(req: PlanRequest, start: _Start) -> Demand:
     """Step 3: the protons to remove (base) or add (acid), per component and in all,
-    and the reagent (mol) that does it (see the module docstring)."""
-    sample, catalog = req.sample, req.catalog
-    if start.direction == "base":
-        parts = _charge_parts(sample, catalog, "bottom")
-        breakdown = {_component_name(k, catalog): -v for k, v in parts.items()}
-        equivalents = -sum(parts.values())
-        proton_eq = equivalents
-    else:
-        parts = _charge_parts(sample, catalog, "top")
-        breakdown = {_component_name(k, catalog): v for k, v in parts.items()}
-        equivalents = sum(parts.values())
-        proton_eq = -equivalents
-    return _Demand(breakdown, proton_eq, max(equivalents, 0.0) / start.capacity)
+    and the reagent (mol) that does it (``plan_demand``)."""
+    return proton_demand(req.sample, req.catalog, start.direction, start.capacity)
 
 
-def _reagent_reach(req: PlanRequest, start: _Start, demand: _Demand
-                   ) -> tuple[_Demand, Reach | None]:
+def _reagent_reach(req: PlanRequest, start: _Start, demand: Demand
+                   ) -> tuple[Demand, Reach | None]:
     """Step 3b: with a carbonate reagent, the full dose counts only the protons it can
     take (:mod:`~carboy.model.reagent_reach`); the others are named in the plan."""
     if start.direction != "base" or not req.reagent.has_carbonate:
@@ -306,49 +304,7 @@ def _bicarbonate_ceiling(req: PlanRequest, reach: Reach | None, dosing: Dosing) 
     return dataclasses.replace(dosing, doses=doses)
 
 
-def _charge_parts(sample: Mixture, catalog, which: str) -> dict:
-    """Per-key contribution to Σ z n (ions) or n·top/bottom charge (systems), mol.
-
-    Towards base a modelled metal cation counts as its hydroxide (z OH- per ion, the
-    neutral form that settles), so its two parts cancel: its charge (+z n, as a spectator
-    cation counts as base already present) and the OH- its hydroxide takes (-z n, under
-    ``HYDROXIDE_PART``), both shown so that the anions it came with are not read as
-    acid."""
-    out = {}
-    v = sample.volume_l
-    metals = gas.metal_doses_of(tuple(sample.totals), catalog) if which == "bottom" else None
-    for key, c in sample.totals.items():
-        n = c * v
-        if metals is not None and key in metals.keys:
-            out[key] = catalog.ions[key].charge * n
-            out[HYDROXIDE_PART + key] = -catalog.ions[key].charge * n
-            continue
-        if key in catalog.ions:
-            out[key] = catalog.ions[key].charge * n
-        else:
-            s = catalog.systems[key]
-            out[key] = (s.top_charge if which == "top" else s.bottom_charge) * n
-    return out
-
-
-HYDROXIDE_PART = "hydroxide of "
-"""A breakdown key's prefix for the OH- a metal's hydroxide takes."""
-
-
-def _component_name(key: str, catalog) -> str:
-    """What the breakdown calls a component: its strong acid (Cl- -> hydrochloric acid),
-    its system's name, its ion's name, or the key; a metal's hydroxide part is
-    ``"zinc, as its hydroxide"``."""
-    if key.startswith(HYDROXIDE_PART):
-        return f"{_component_name(key[len(HYDROXIDE_PART):], catalog)}, as its hydroxide"
-    if key in catalog.strong_acid_by_anion:
-        return catalog.strong_acid_by_anion[key]
-    if key in catalog.systems:
-        return catalog.systems[key].name
-    return catalog.ions[key].name if key in catalog.ions else key
-
-
-def _find_doses(req: PlanRequest, start: _Start, demand: _Demand) -> Dosing:
+def _find_doses(req: PlanRequest, start: _Start, demand: Demand) -> Dosing:
     """Step 4: the doses (mol) to the target and to the window's low and high edges, the
     curve's amounts, and the batch each amount leaves (see :mod:`carboy.model.dosing`)."""
     reagent = req.reagent

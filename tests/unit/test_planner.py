@@ -175,9 +175,10 @@ def test_cyanide_and_sulfide_waste_must_never_be_acidified(compound):
 
 @pytest.mark.parametrize("activity", ["auto", "davies"])
 def test_the_sample_is_solved_once_when_auto_settles_on_its_model(monkeypatch, activity):
-    """``auto`` settled for the plan on the model the sample's own state was solved with:
-    the start is not worked out again (one solve of the sample, one of the reagent's own
-    pH), and the plan is the one ``davies`` gives."""
+    """``auto`` settled for the plan: with a reagent that moves the pH one way only the
+    batch that settles the model solves the sample too (no solve of the sample alone,
+    ``plan_activity.one_way``), with ``davies`` the sample is solved alone once; the
+    reagent's own pH once either way; and the plan is the one ``davies`` gives."""
     from carboy.model import gas
 
     alone = []
@@ -191,7 +192,8 @@ def test_the_sample_is_solved_once_when_auto_settles_on_its_model(monkeypatch, a
     monkeypatch.setattr(gas.TitrationModel, "forward", counted)
     sample = Mixture({"Cl-": 0.2, "sulfate": 0.05}, volume_l=2.0)
     plan = plan_neutralization(sample, parse_reagent("NaOH=1M"), activity=activity)
-    assert len(alone) == 2, alone   # the sample (as asked) and the reagent (Davies)
+    # the reagent (Davies), and with "davies" the sample (with "auto", in the settling batch)
+    assert alone == (["davies"] if activity == "auto" else ["davies", "davies"]), alone
     assert plan.activity_model == "davies"
     if activity == "auto":
         monkeypatch.setattr(gas.TitrationModel, "forward", real)
@@ -228,3 +230,68 @@ def test_the_states_solved_with_the_curve_are_those_solved_alone(monkeypatch, ac
     assert [d.pH for d in doses] + [e.pH for e in plan.equivalence_points] == pytest.approx(
         alone.pH.tolist(), abs=1e-9)
     assert len(plan.curve) == 60 and np.all(np.diff(plan.curve[:, 0]) > 0)
+
+
+SETTLE_CASES = [
+    ({"Cl-": 0.2, "sulfate": 0.05}, "NaOH=1M", 7.0, (6.0, 9.0)),        # Davies, pairs
+    ({"Cl-": 3.0, "sulfate": 1.0}, "NaOH@99%", 7.0, (6.0, 9.0)),        # Pitzer
+    ({"Na+": 0.5, "fluoride": 1.5}, "NaOH@99%", 7.0, (6.0, 9.0)),       # Davies, then Pitzer
+    ({"Na+": 0.3, "ammonium": 0.1}, "HCl=1M", 7.0, (6.0, 9.0)),         # alkaline, HCl
+    ({"Na+": 0.3, "ammonium": 0.1}, "NaOH=1M", 7.0, (6.0, 9.0)),        # the wrong way
+    ({"Na+": 0.05, "cyanide": 0.01}, "HCl=1M", 9.0, (8.5, 10.0)),       # refused
+]
+
+
+@pytest.mark.parametrize(("totals", "reagent", "target", "window"), SETTLE_CASES)
+def test_settling_the_model_with_the_sample_changes_no_plan(monkeypatch, totals, reagent,
+                                                            target, window):
+    """The sample solved in the batch that settles ``auto`` (``plan_activity.one_way``)
+    and solved first, alone: the same plan, the same refusal, the same error."""
+    from carboy.model import planner
+
+    sample = Mixture(totals, volume_l=2.0)
+    ways = []
+    real = planner.one_way
+
+    def outcome():
+        try:
+            return plan_neutralization(sample, parse_reagent(reagent), target_pH=target,
+                                       window=window, activity="auto")
+        except (InvalidInput, HazardRefused) as exc:
+            return exc
+
+    monkeypatch.setattr(planner, "one_way", lambda req: ways.append(real(req)) or ways[-1])
+    early = outcome()
+    assert ways and ways[0] in ("base", "acid")     # the early settling was taken
+    monkeypatch.setattr(planner, "one_way", lambda req: None)
+    first = outcome()
+    if isinstance(first, Exception):
+        assert type(early) is type(first) and str(early) == str(first)
+        return
+    assert early.activity_model == first.activity_model == (
+        "pitzer" if reagent == "NaOH@99%" else "davies")
+    assert early.initial_pH == pytest.approx(first.initial_pH, abs=1e-12)
+    for a, b in ((early.full, first.full), (early.to_target, first.to_target)):
+        assert a.reagent_mol == pytest.approx(b.reagent_mol, rel=1e-11)
+        assert a.pH == pytest.approx(b.pH, abs=1e-9)
+    np.testing.assert_allclose(early.curve, first.curve, rtol=1e-9, atol=1e-12)
+
+
+def test_one_way_only_where_the_sample_needs_no_state_first():
+    """The early settling takes "auto", a one-way reagent without carbonate and no
+    modelled metal; anything else solves the sample first."""
+    from carboy.model.plan_activity import one_way
+    from carboy.model.plan_request import check_request
+
+    def way(totals, reagent, activity="auto"):
+        req = check_request(Mixture(totals, volume_l=1.0), parse_reagent(reagent), 7.0,
+                            (6.0, 9.0), activity, None, frozenset(), 400, None)
+        return one_way(req)
+
+    acid = {"Cl-": 0.1}
+    assert way(acid, "NaOH=1M") == "base"
+    assert way({"Na+": 0.1}, "HCl=1M") == "acid"
+    assert way(acid, "NaOH=1M", "davies") is None
+    assert way(acid, "NaOH=1M", "pitzer") is None
+    assert way(acid, "Na2CO3") is None                      # its reach needs the sample
+    assert way({"Cl-": 0.1, "Zn+2": 0.02}, "NaOH=1M") is None   # a solid may form
