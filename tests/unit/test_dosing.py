@@ -174,3 +174,36 @@ def test_an_inverse_is_the_same_whatever_the_inverses_before_it(catalog, totals)
     assert np.all(np.isfinite(fresh))
     np.testing.assert_allclose(again, fresh, rtol=1e-11)
     assert np.array_equal(used.amount_at_pH([6.93, 8.97]), again)   # remembered
+
+
+def test_the_first_secant_step_takes_the_curves_steepness(monkeypatch):
+    """The refine's first step on the Davies dose scale takes g's slope from the two
+    curves' steepness (``dosing._first_slope``): about an equivalence point (HF 0.49 M
+    with solid NaOH, on the Pitzer model) it reaches every pH within the tolerance in
+    fewer forward solves than slope one, and at doses that reach their pH."""
+    import carboy.model.dosing as dosing_module
+    from carboy.model.planner import plan_neutralization
+    from carboy.model.reagents import parse_reagent
+
+    sample = Mixture({"Cl-": 0.05, "Na+": 0.238, "fluoride": 0.738}, volume_l=1.5)
+    solves = []
+    real = dosing_module.Dosing.vented_pH
+
+    def counted(self, n):
+        solves.append(np.size(n))
+        return real(self, n)
+
+    monkeypatch.setattr(dosing_module.Dosing, "vented_pH", counted)
+
+    def plan():
+        solves.clear()
+        p = plan_neutralization(sample, parse_reagent("NaOH@99%"), activity="auto")
+        assert p.activity_model == "pitzer"
+        for dose, want in ((p.to_target, 7.0), *zip(p.window_doses, (6.0, 9.0))):
+            assert abs(dose.pH - want) <= 2 * dosing_module.REFINE_PH_TOL
+        return len(solves)
+
+    with_slope = plan()
+    monkeypatch.setattr(dosing_module, "_first_slope", lambda model, want: (
+        lambda miss, which: np.full(np.size(which), np.nan)))   # slope one
+    assert with_slope < plan()
