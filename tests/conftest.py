@@ -57,3 +57,45 @@ def copy_demo(demo_template, tmp_path):
 
     return copy
 
+
+
+def _identity_only(self, other):
+    """``==`` of a record declared ``eq=False``: it would be an identity test."""
+    if other is not self and type(other) is type(self):
+        raise AssertionError(
+            f"two {type(self).__name__} records compared with ==: the record is declared "
+            "eq=False, so that is an identity test; give it eq=True (and a test)")
+    return NotImplemented
+
+
+@pytest.fixture(autouse=True, scope="session")
+def records_without_eq_are_never_compared():
+    """The model's and the store's records declared ``eq=False`` (no ``__eq__`` made:
+    cheaper to create, see DEVELOPERS.md) equal only themselves: through the whole
+    suite, ``==`` between two distinct such records fails instead of quietly answering
+    False."""
+    import dataclasses
+    import importlib
+    import pkgutil
+    import sys
+
+    import carboy.model
+    import carboy.store
+
+    for package in (carboy.model, carboy.store):
+        for info in pkgutil.walk_packages(package.__path__, package.__name__ + "."):
+            importlib.import_module(info.name)
+    patched = []
+    for name, module in list(sys.modules.items()):
+        if not name.startswith("carboy.") or module is None:
+            continue
+        for obj in list(vars(module).values()):
+            if (isinstance(obj, type) and dataclasses.is_dataclass(obj)
+                    and obj.__module__ == name and not obj.__dataclass_params__.eq
+                    and "__eq__" not in obj.__dict__):
+                obj.__eq__ = _identity_only
+                patched.append(obj)
+    assert patched   # the records this guards exist
+    yield
+    for obj in patched:
+        del obj.__eq__

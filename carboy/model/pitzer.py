@@ -208,15 +208,19 @@ class PitzerModel:
         """ln γ, φ, a_w and I at every point of the (N, S) ``molality`` array (mol/kg)."""
         m = self._check(molality)
         ln_gamma, osmotic, aw, ionic, phimac = self._coefficients(m)
-        n_user = len(self.species)
-        present = m[:, :n_user][:, self._fallback_mask[:n_user]] > 0
-        fallback_here = present.any(axis=1)
+        fallback_here = self.fallback_here(m)
         valid = (ionic <= I_MAX_MOLAL) & ~fallback_here
         return PitzerResult(
             species=self.species, ln_gamma=ln_gamma, osmotic=osmotic, water_activity=aw,
             ionic_strength_molal=ionic, phimac=phimac, valid=valid,
             fallback=self.fallback, warnings=self._warnings(m, ionic, fallback_here),
             ph_scale=PH_SCALE if self.scale == "macinnes" else "unscaled Pitzer")
+
+    def fallback_here(self, m: np.ndarray) -> np.ndarray:
+        """(N,) where a species whose coefficient takes the fallback form is present in
+        the rows of ``m`` (the model's species in mol/kg, first; more columns ignored)."""
+        n_user = len(self.species)
+        return (m[:, :n_user][:, self._fallback_mask[:n_user]] > 0).any(axis=1)
 
     def coefficients(self, molality: np.ndarray):
         """(ln γ (N, S), φ, a_w, I) of checked molalities (finite, >= 0, shaped (N, S)):
@@ -257,8 +261,7 @@ class PitzerModel:
                        "specific-interaction parameters were fitted to")
         dav_out = fallback_here & (ionic > DAVIES_LIMIT_MOLAL)
         if self.fallback_form == "davies" and dav_out.any():
-            out.append(f"the Davies fallback is used above {DAVIES_LIMIT_MOLAL:g} mol/kg, "
-                       f"outside its own range, at {int(dav_out.sum())} of {n} points")
+            out.append(_davies_beyond(f", at {int(dav_out.sum())} of {n} points"))
         for i, j in self._p.missing:
             both = (m[:, i] > MISSING_PAIR_MOLAL) & (m[:, j] > MISSING_PAIR_MOLAL)
             if both.any():
@@ -267,22 +270,22 @@ class PitzerModel:
                            "points): taken as zero")
         return tuple(out)
 
-    def point_warnings(self, m, ionic) -> list[tuple[str, ...]]:
+    def point_warnings(self, m, ionic, fallback_here=None) -> list[tuple[str, ...]]:
         """Each point's own warnings (the rows of ``m``, all the model's species in
         mol/kg, as :meth:`_warnings` takes them): the static ones and those of its
         conditions that hold at that point, without the batch's counts, so that a
         state's warnings do not depend on the batch it was solved in; the ionic strength
-        beyond the fitted range is left to the caller.  One tuple per point."""
+        beyond the fitted range is left to the caller.  One tuple per point.
+        ``fallback_here``: :meth:`fallback_here` of ``m``, where the caller has it."""
         m = np.atleast_2d(np.asarray(m, dtype=float))
         if m.shape[1] < len(self._all):
             m = np.concatenate([m, np.zeros((m.shape[0], len(self._all) - m.shape[1]))],
                                axis=1)
-        n_user = len(self.species)
-        fallback_here = (m[:, :n_user][:, self._fallback_mask[:n_user]] > 0).any(axis=1)
+        if fallback_here is None:
+            fallback_here = self.fallback_here(m)
         flags = [np.asarray(fallback_here) & (np.asarray(ionic) > DAVIES_LIMIT_MOLAL)
                  if self.fallback_form == "davies" else np.zeros(m.shape[0], dtype=bool)]
-        texts = [f"the Davies fallback is used above {DAVIES_LIMIT_MOLAL:g} mol/kg, outside "
-                 "its own range"]
+        texts = [_davies_beyond()]
         for i, j in self._p.missing:
             flags.append((m[:, i] > MISSING_PAIR_MOLAL) & (m[:, j] > MISSING_PAIR_MOLAL))
             texts.append(f"no parameters for the pair {self._all[i]} {self._all[j]} (both "
@@ -292,6 +295,13 @@ class PitzerModel:
         kinds, back = np.unique(rows, axis=0, return_inverse=True)
         each = [static + tuple(t for t, f in zip(texts, k.tolist()) if f) for k in kinds]
         return [each[b] for b in np.ravel(back).tolist()]
+
+
+def _davies_beyond(where: str = "") -> str:
+    """The warning that the Davies fallback is used beyond its own range (``where``: at
+    how many of a batch's points)."""
+    return (f"the Davies fallback is used above {DAVIES_LIMIT_MOLAL:g} mol/kg, outside its "
+            f"own range{where}")
 
 
 @lru_cache(maxsize=64)

@@ -539,10 +539,10 @@ def _batch_extra(model: PitzerModel, molal: np.ndarray, ionic, aw, phi) -> dict:
     and its own warnings (``PitzerModel.point_warnings``)."""
     n = molal.shape[1]
     mall = np.concatenate([molal, np.zeros((molal.shape[0], len(model._all) - n))], axis=1)
-    here = (mall[:, :n][:, model._fallback_mask[:n]] > 0).any(axis=1)
+    here = model.fallback_here(mall)
     return {"ionic_strength_molal": ionic, "water_activity": aw, "osmotic": phi,
             "valid": (ionic <= I_MAX_MOLAL) & ~here,
-            "point_warnings": model.point_warnings(mall, ionic)}
+            "point_warnings": model.point_warnings(mall, ionic, here)}
 
 
 FEW_POINTS = 32
