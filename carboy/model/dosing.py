@@ -416,8 +416,7 @@ def refine_doses(dosing: Dosing, targets, direction: str) -> Dosing:
             steep = np.where(miss == 0.0, 0.0, np.sign(sign * miss) * np.inf)
         return np.where(np.isfinite(on_scale), on_scale, steep), miss
 
-    n, miss = _secant(g, doses[idx], None if dosing.carbonate else _first_slope(
-        dosing.model, want))
+    n, miss = _secant(g, doses[idx], _first_slope(inverse, want))
     left = np.flatnonzero(~(np.abs(miss) <= REFINE_PH_TOL))
     if left.size:
         n[left] = _false_position(lambda m, which: g(m, left[which]), n[left])
@@ -463,20 +462,22 @@ SLOPE_STEP_PH = 1e-4
 """Half the pH step of the difference quotients of :func:`_first_slope`."""
 
 
-def _first_slope(model: gas.TitrationModel, want: np.ndarray):
+def _first_slope(inverse, want: np.ndarray):
     """g's slope at the doses the exact inverse gave (``slope(miss, which)``, the pH's
-    miss the first forward solve found there), on the closed Davies dose scale of
-    :func:`refine_doses`: g'(n) = D'(pH(n)) pH'(n), and the model's curve taken as
-    steep as the Davies curve at the same dose, pH'(n0) = 1/D'(target) (n0 = D(target)):
-    D'(pH(n0)) / D'(target), each a difference quotient of the inverse.  About an
-    equivalence point, where the steepness changes fast, slope one sent the first step
-    as far off as the first miss (a plan of HF 0.74 M with solid NaOH: 2e-3 pH after
-    it, 8e-6 with this slope); NaN where D is undefined (slope one there)."""
+    miss the first forward solve found there), on each dose's Davies dose scale D
+    (``inverse(pH, which)``, see :func:`refine_doses` and :func:`_dose_scale`):
+    g'(n) = D'(pH(n)) pH'(n), and the model's curve taken as steep as the Davies curve
+    at the same dose, pH'(n0) = 1/D'(target) (n0 = D(target)): D'(pH(n0)) / D'(target),
+    each a difference quotient of the inverse.  About an equivalence point, where the
+    steepness changes fast, slope one sent the first step as far off as the first miss
+    (a plan of HF 0.74 M with solid NaOH: 2e-3 pH after it, 8e-6 with this slope; the
+    demo's carbonate plans take a forward solve fewer); NaN where D is undefined (slope
+    one there)."""
     def slope(miss, which):
         ph = want[which] + miss
         at = np.concatenate([ph - SLOPE_STEP_PH, ph + SLOPE_STEP_PH,
                              want[which] - SLOPE_STEP_PH, want[which] + SLOPE_STEP_PH])
-        d = model.amount_at_pH(at).reshape(4, -1)
+        d = inverse(at, np.tile(which, 4)).reshape(4, -1)
         with np.errstate(divide="ignore", invalid="ignore"):
             return (d[1] - d[0]) / (d[3] - d[2])
     return slope

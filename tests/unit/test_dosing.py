@@ -176,16 +176,22 @@ def test_an_inverse_is_the_same_whatever_the_inverses_before_it(catalog, totals)
     assert np.array_equal(used.amount_at_pH([6.93, 8.97]), again)   # remembered
 
 
-def test_the_first_secant_step_takes_the_curves_steepness(monkeypatch):
+@pytest.mark.parametrize(("totals", "reagent"), [
+    ({"Cl-": 0.05, "Na+": 0.238, "fluoride": 0.738}, "NaOH@99%"),
+    ({"Cl-": 2.4 / 11, "NO3-": 0.6 / 11, "phosphate": 0.05 / 11, "sulfate": 0.75 / 11},
+     "Na2CO3"),                                         # each dose's own (vented) scale
+])
+def test_the_first_secant_step_takes_the_curves_steepness(monkeypatch, totals, reagent):
     """The refine's first step on the Davies dose scale takes g's slope from the two
-    curves' steepness (``dosing._first_slope``): about an equivalence point (HF 0.49 M
-    with solid NaOH, on the Pitzer model) it reaches every pH within the tolerance in
-    fewer forward solves than slope one, and at doses that reach their pH."""
+    curves' steepness (``dosing._first_slope``): about an equivalence point (HF 0.74 M
+    with solid NaOH; a mixed acid waste with sodium carbonate; both on the Pitzer model)
+    it reaches every pH within the tolerance in fewer forward solves than slope one, and
+    at doses that reach their pH."""
     import carboy.model.dosing as dosing_module
     from carboy.model.planner import plan_neutralization
     from carboy.model.reagents import parse_reagent
 
-    sample = Mixture({"Cl-": 0.05, "Na+": 0.238, "fluoride": 0.738}, volume_l=1.5)
+    sample = Mixture(totals, volume_l=1.5)
     solves = []
     real = dosing_module.Dosing.vented_pH
 
@@ -197,13 +203,13 @@ def test_the_first_secant_step_takes_the_curves_steepness(monkeypatch):
 
     def plan():
         solves.clear()
-        p = plan_neutralization(sample, parse_reagent("NaOH@99%"), activity="auto")
+        p = plan_neutralization(sample, parse_reagent(reagent), activity="auto")
         assert p.activity_model == "pitzer"
         for dose, want in ((p.to_target, 7.0), *zip(p.window_doses, (6.0, 9.0))):
             assert abs(dose.pH - want) <= 2 * dosing_module.REFINE_PH_TOL
         return len(solves)
 
     with_slope = plan()
-    monkeypatch.setattr(dosing_module, "_first_slope", lambda model, want: (
+    monkeypatch.setattr(dosing_module, "_first_slope", lambda inverse, want: (
         lambda miss, which: np.full(np.size(which), np.nan)))   # slope one
     assert with_slope < plan()
