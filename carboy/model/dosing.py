@@ -505,8 +505,8 @@ def _secant(g, start: np.ndarray, first_slope=None) -> tuple[np.ndarray, np.ndar
         if prev_g is None and first_slope is not None:
             slope = np.full(k, np.nan)
             slope[live] = first_slope(ml, live)
-            better = np.isfinite(slope) & (slope > 0)
-            step = np.where(better, here_g / np.where(better, slope, 1.0), step)
+            sloped = np.isfinite(slope) & (slope > 0)
+            step = np.where(sloped, here_g / np.where(sloped, slope, 1.0), step)
         prev_n, prev_g = n, here_g
         n = np.where(np.isfinite(step), n - step, np.nan)
     return best, best_miss

@@ -31,12 +31,14 @@ The steps of a plan
                           (an unknown component is an error naming it, field ``sample``)
                           and ``with_safe_temperature``, the batch's safe temperature
                           (``plan_request``);
-2. ``_start``             the sample's own pH, the direction (base or acid) and the
+2. ``_settled``           ``"auto"`` settled for the whole plan (``plan_activity``) and
+   ``_start``             the sample's own pH, the direction (base or acid) and the
                           reagent's capacity that way; a cyanide or sulfide waste the
                           plan would acidify is refused (``cautions.refuse_plan``), and a
                           reagent that moves the pH the wrong way too;
-3. ``_proton_demand``     every dissociable proton: the full dose and its breakdown (a
-                          modelled metal cation counts as its hydroxide, z OH- each);
+3. ``_proton_demand``     every dissociable proton (``plan_demand``): the full dose and
+                          its breakdown (a modelled metal cation counts as its
+                          hydroxide, z OH- each);
    ``_reagent_reach``     with a carbonate reagent, only the protons it can take count
                           in the full dose (``reagent_reach``);
 4. ``_find_doses``        the doses to the target and the window edges, with CO2
@@ -196,11 +198,12 @@ def _settled(req: PlanRequest) -> tuple[PlanRequest, _Start, Demand, Reach | Non
     way = one_way(req)
     if way is not None:
         capacity = req.reagent.base_capacity if way == "base" else req.reagent.acid_capacity
-        n_full = proton_demand(req.sample, req.catalog, way, capacity).n_full
-        settled, sample_pH = settle_with_sample(req, n_full, sample_too=True)
-        if sample_pH is not None:   # (the other direction: the start refuses the reagent)
-            start = _start(settled, sample_pH=sample_pH)
-            return settled, start, _proton_demand(settled, start), None
+        demand = proton_demand(req.sample, req.catalog, way, capacity)
+        settled, sample_pH = settle_with_sample(req, demand.n_full, sample_too=True)
+        if sample_pH is not None:   # (always, without metals)
+            # the start refuses a sample that needs the other way (the reagent has no
+            # capacity that way), so the demand worked out for ``way`` is the plan's
+            return settled, _start(settled, sample_pH=sample_pH), demand, None
     start = _start(req)
     demand, reach = _reagent_reach(req, start, _proton_demand(req, start))
     settled, sample_pH = settle_with_sample(req, demand.n_full)
