@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from functools import lru_cache
 
-from carboy.model.activity import outside_range_warning
+from carboy.model.activity import DAVIES_LIMIT_MOLAR, outside_range_warning
 from carboy.model.solver.layout import ENTHALPY_DATA_MAX_C
 
 METAL_T_SPAN_C = 5.0
@@ -30,3 +30,16 @@ def warning_texts(high_i: bool, bad: bool, hot: bool, activity: str,
     if bad:
         out.append("the solver did not reach its tolerance: the result is approximate")
     return tuple(out)
+
+
+def point_warnings(ionic, converged, t_c: float, activity: str, warm: bool) -> tuple:
+    """Each point's warnings of a charge-only solve (``ionic`` its ionic strength in mol/L,
+    ``warm``: metals away from 25 °C), one tuple of texts per point (the same tuple for
+    every point where they agree, the usual case)."""
+    n = converged.shape[0]
+    hot = t_c > ENTHALPY_DATA_MAX_C
+    code = (ionic > DAVIES_LIMIT_MOLAR).astype(int) + 2 * (~converged).astype(int)
+    texts = [warning_texts(bool(c & 1), bool(c & 2), hot, activity, warm) for c in range(4)]
+    if n and code.min() == code.max():
+        return (texts[int(code[0])],) * n
+    return tuple(map(texts.__getitem__, code.tolist()))

@@ -67,7 +67,7 @@ from carboy.model.activity import (
 )
 from carboy.model.activity import davies_d as _davies_d  # noqa: F401 (tests use the old name)
 from carboy.model.mixture import Mixture, MixtureBatch
-from carboy.model.result_warnings import METAL_T_SPAN_C
+from carboy.model.result_warnings import METAL_T_SPAN_C, point_warnings
 from carboy.model.result_warnings import warning_texts as _warning_texts
 from carboy.model.solver.charge_balance import fractions_at, padded_fractions, species_at
 from carboy.model.solver.constants import (  # noqa: F401 (re-exported)
@@ -447,44 +447,19 @@ def _solve(batch: MixtureBatch, lay: Layout, activity: str, t_c: float,
            held=None, start=None, *, root_only: bool = False) -> BatchSpeciation:
     """Solve every point of ``batch`` (laid out by ``lay``) and assemble the result.
     ``root_only`` (the Davies equation, no metals): the result holds the root, the
-    ionic strength, ``converged``, the iterations and the warnings, every species field
-    empty (:func:`_root_result`), for a path that only starts from it and replaces
-    the rest (the ion pairs' loop)."""
+    ionic strength, ``converged``, the iterations and the warnings (as
+    :func:`_batch_result`'s) in an empty result (:func:`_frame`), for a path that only
+    starts from it and replaces the rest (the ion pairs' loop)."""
     pkw = water.pkw(t_c)
     a_dh = debye_huckel_scale(activity, t_c)
     pr = build_problem(lay, batch.totals, held, pkw, a_dh)
     x, ionic, converged, iterations = _solve_points(pr, start)
     if root_only and a_dh != 0.0 and lay.metals is None:
-        return _root_result(pr, batch, x, ionic, converged, iterations, activity, t_c)
+        return dataclasses.replace(
+            _frame(batch, lay, activity, t_c), pH=a_dh * davies_d(ionic) - x, log_h=x,
+            ionic_strength_molar=ionic, converged=converged, iterations=iterations,
+            warnings=point_warnings(ionic, converged, t_c, activity, False))
     return _batch_result(pr, batch, x, ionic, converged, iterations, activity, t_c)
-
-
-def _root_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterations,
-                 activity: str, t_c: float) -> BatchSpeciation:
-    """:func:`_batch_result`'s root, ionic strength and warnings, its species fields
-    empty (none of them worked out)."""
-    n = x.shape[0]
-    return BatchSpeciation(
-        pH=pr.a_dh * davies_d(ionic) - x, log_h=x, ionic_strength_molar=ionic,
-        charge_residual_molar=np.zeros(n), converged=converged, iterations=iterations,
-        species_labels=(), species_charges=(), species_molar=np.zeros((n, 0)),
-        system_keys=pr.lay.sys_keys, system_labels=pr.lay.sys_labels,
-        fractions=np.zeros((n, 0, 0)), log_gamma_by_charge=np.zeros((n, 1)),
-        system_totals_molar=np.zeros((n, 0)), pkw=pr.pkw, temperature_c=t_c,
-        activity=activity, warnings=_point_warnings(ionic, converged, t_c, activity, False),
-        batch=batch)
-
-
-def _point_warnings(ionic_out, converged, t_c: float, activity: str, warm: bool):
-    """Each point's warnings of a charge-only solve (one text for every point where
-    they agree, the usual case)."""
-    n = converged.shape[0]
-    hot = t_c > ENTHALPY_DATA_MAX_C
-    code = (ionic_out > DAVIES_LIMIT_MOLAR).astype(int) + 2 * (~converged).astype(int)
-    texts = [_warning_texts(bool(c & 1), bool(c & 2), hot, activity, warm) for c in range(4)]
-    if n and code.min() == code.max():   # the usual case: one text for every point
-        return (texts[int(code[0])],) * n
-    return tuple(map(texts.__getitem__, code.tolist()))
 
 
 def _frame(batch: MixtureBatch, lay: Layout, activity: str, t_c: float) -> BatchSpeciation:
@@ -589,7 +564,7 @@ def _batch_result(pr: Problem, batch: MixtureBatch, x, ionic, converged, iterati
                       "solids_molar": cols.solids, "saturation_indices": cols.saturation}
     species_labels, species = _merge_labels(labels, table[:len(labels)].T)
     warm = lay.metals is not None and abs(t_c - 25.0) > METAL_T_SPAN_C
-    warnings = _point_warnings(ionic_out, converged, t_c, activity, warm)
+    warnings = point_warnings(ionic_out, converged, t_c, activity, warm)
     return BatchSpeciation(
         pH=ad - x,  # -log10 a(H+) = -(x + log10 gamma_H), with log10 gamma_H = -ad
         log_h=x, ionic_strength_molar=ionic_out, charge_residual_molar=residual,
