@@ -60,7 +60,9 @@ def _rounds(model, lay, ph, loss, co2_molar, ionic, a_dh, pkw, i_rtol, max_iter)
     v0, lpm = model.v0, model.lpm
     kc = None
     if model.carb is not None:
-        kc = next(k for k, (col, _) in enumerate(systems) if col == model.carb)
+        kc = next((k for k, (col, _) in enumerate(systems) if col == model.carb), None)
+        if kc is None:   # (carbonate not among the layout's systems: the arrays' way)
+            return None
     t = len(ph)
     ionic = list(ionic)
     i_prev = r_prev = None
