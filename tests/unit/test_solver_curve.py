@@ -73,6 +73,33 @@ def test_a_point_is_accepted_on_two_exact_steps_only():
     assert got.tolist() == [True, False, False, False, False, True]
 
 
+def test_an_exact_step_below_the_quadratic_size_in_x_and_i_is_accepted(catalog):
+    # from the root with the ionic strength off by 5e-9 of itself (as a pairs round
+    # leaves it when its correction of the spectators moved that much): the exact 2x2
+    # step leaves an error of order its square, so one step is accepted on both paths
+    # (the test of I alone wanted its step below I_RTOL, 1e-10, and a second step)
+    from carboy.model import water
+    from carboy.model.activity import debye_huckel_scale
+    from carboy.model.solver.problem import build_problem
+    from carboy.model.solver.single import iterate_one
+
+    batch = _curve(catalog, 60, calcium=False)
+    lay = sp.cached_layout(catalog, batch.keys, 25.0)
+    a_dh = debye_huckel_scale("davies", 25.0)
+    pr = build_problem(lay, batch.totals, None, water.pkw(25.0), a_dh)
+    root_x, root_i, root_ok, _ = coupled.solve_coupled(pr)   # the problem's own root
+    assert root_ok.all()
+    x0, i0 = root_x.copy(), root_i * (1.0 + 5e-9)
+    x, ionic, ok, it = coupled.solve_coupled(pr, max_iter=1, x0=x0, i0=i0)
+    assert ok.all() and it == 1
+    np.testing.assert_allclose(x, root_x, rtol=0, atol=1e-13)
+    np.testing.assert_allclose(ionic, root_i, rtol=1e-13)
+    for n in (0, 29, 59):
+        got = iterate_one(lay, batch.totals[n].tolist(), water.pkw(25.0), a_dh,
+                          max_iter=1, x0=float(x0[n]), i0=float(i0[n]))
+        assert got[3] and got[0] == pytest.approx(root_x[n], abs=1e-13)
+
+
 def test_points_not_settled_say_so(catalog):
     from carboy.model import water
     from carboy.model.activity import debye_huckel_scale

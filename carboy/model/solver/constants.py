@@ -26,7 +26,8 @@ COUPLED_ITER = 30
 WIDEN_STEPS = 20
 """Bracket widenings (3 log units each) allowed when a state is held fixed."""
 QUADRATIC_STEP = 1e-8
-"""A Newton step this small leaves an error of order its square (F is smooth)."""
+"""A Newton step this small leaves an error of order its square (F is smooth): in x at
+a self-consistent I, or an exact 2x2 step this small in x and in I relative to I."""
 QUADRATIC_MAX = 1e-6
 """...or below this one, where the step before it shows the iteration converging
 quadratically and predicts an error below ``PREDICTED_ERROR`` (``coupled``)."""

@@ -220,7 +220,7 @@ def solve_coupled(pr: Problem, *, max_iter: int = COUPLED_ITER, x0=None, i0=None
         # guarded one) as the answer
         size = _step_size(dx, inew, ia, davies)
         fin = (((np.abs(big_f) < F_TOL) | (np.abs(dx) < QUADRATIC_STEP)) & i_ok
-               | _quadratic(size, last, exact))
+               | (exact & (size < QUADRATIC_STEP)) | _quadratic(size, last, exact))
         last = np.where(exact & (xn == xa + dx), size, 0.0)
         xa, ia = np.where(fin, xa + dx, xn), inew
         if fin.any():

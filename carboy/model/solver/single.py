@@ -366,6 +366,7 @@ def iterate_one(lay: Layout, row, pkw: float, a_dh: float, held=None, *,
         size = max(abs(dx), abs(inew - ionic) / max(inew, 1e-12)) if davies else abs(dx)
         if (abs(big_f) < F_TOL or abs(dx) < QUADRATIC_STEP) and (
                 not davies or abs(inew - ionic) <= I_RTOL * max(inew, 1e-12)) or (
+                exact and size < QUADRATIC_STEP) or (
                 exact and size <= QUADRATIC_MAX
                 and size * size * size <= PREDICTED_ERROR * last * last):
             return x + dx, inew, it, True   # the Newton step itself, never a guarded one
