@@ -129,11 +129,9 @@ class Dosing:
     def vented_pH(self, n) -> np.ndarray:  # noqa: N802
         """The pH once vented after adding each amount ``n`` (mol): :meth:`solve`'s,
         without the second solve where the vented batch is the one open to air (its
-        state is then that solve's, to the solver's tolerance).  Not on the Pitzer
-        model: there an open solve's water per litre comes from the batch's totals as
-        added (every carbonate, vented or not), a closed one's from what it holds, so
-        the two differ."""
-        if self.model.activity == "pitzer" or self.fresh_loss is None:   # (no carbonate)
+        state is then that solve's, to the solver's tolerance; on the Pitzer model too,
+        whose open solve takes its water per litre from the carbonate it holds)."""
+        if self.fresh_loss is None:   # (no carbonate)
             return self.solve(n)[0].pH
         got = self._batch_and_air(np.asarray(n, dtype=float), True)
         ph = got.air_pH.copy()

@@ -15,10 +15,15 @@ of the solution, found one of two ways (the result says which):
   Real apparent molar volumes grow with concentration (NaCl: about 17 cm³/mol at
   infinite dilution, 21 near 5 mol/kg), so at several mol/L the estimate can put the
   molality a few per cent high; the result's warnings say the estimate was used.
+
+A solve that holds a system open (CO2(aq) at a gas's level) does not know that system's
+total until it is solved: :class:`OpenWater` gives the estimate's W from what the open
+systems hold, and the Pitzer rounds settle it with the coefficients.
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from functools import lru_cache
@@ -122,6 +127,12 @@ def water_kg_per_litre(catalog, keys: tuple[str, ...], totals, temperature_c: fl
     of ``keys``), and the notes the result should carry (empty where every W came from a
     density table)."""
     totals = np.atleast_2d(np.asarray(totals, dtype=float))
+    w, estimated = _water(catalog, keys, totals, temperature_c)
+    return w, ((ESTIMATE_NOTE,) if estimated.any() and totals.any() else ())
+
+
+def _water(catalog, keys: tuple[str, ...], totals: np.ndarray, temperature_c: float):
+    """(W (N,), estimated (N,) bool: not from a density table)."""
     vol, charge, tabled, v_oh = _layout_of(catalog, tuple(keys))
     net = np.einsum("nk,k->n", totals, charge)          # + : balanced by OH-
     solute_l = (np.einsum("nk,k->n", totals, vol) + np.maximum(net, 0.0) * v_oh) / 1000.0
@@ -132,7 +143,62 @@ def water_kg_per_litre(catalog, keys: tuple[str, ...], totals, temperature_c: fl
             got = _from_table(catalog, totals[n].tolist(), tabled)
             if got is not None:
                 w[n], estimated[n] = got, False
-    return w, ((ESTIMATE_NOTE,) if estimated.any() and totals.any() else ())
+    return w, estimated
+
+
+@dataclass(frozen=True, eq=False, repr=False)
+class OpenWater:
+    """The water per litre of a batch whose open systems' totals follow the solve (CO2
+    held at a level): :func:`water_kg_per_litre` of each point with those systems at
+    what the solution holds, ``c`` (N, H) mol/L, the other totals as given.  A point
+    whose water came from a density table keeps it (``table``, NaN where estimated)."""
+
+    vol: np.ndarray       # (N,) cm³ the other solutes take in a litre
+    net: np.ndarray       # (N,) their charge, mol/L (+: balanced by OH-)
+    v: np.ndarray         # (H,) cm³/mol of each open system
+    z: np.ndarray         # (H,) its charge
+    v_oh: float
+    rho: float
+    table: np.ndarray     # (N,)
+
+    def at(self, c: np.ndarray, idx) -> np.ndarray:
+        """W (kg/L) of the points ``idx`` holding ``c`` (len(idx), H) mol/L."""
+        net = self.net[idx] + np.einsum("nh,h->n", c, self.z)
+        vol = self.vol[idx] + np.einsum("nh,h->n", c, self.v)
+        w = self.rho * np.maximum(1.0 - (vol + np.maximum(net, 0.0) * self.v_oh) / 1000.0, 0.05)
+        fixed = self.table[idx]
+        return np.where(np.isnan(fixed), w, fixed)
+
+    def one(self, i: int):
+        """:meth:`at` of point ``i`` on floats: a function of its list of mol/L, or None
+        where its water came from a density table."""
+        if not math.isnan(self.table[i]):
+            return None
+        vol0, net0, rho, v_oh = float(self.vol[i]), float(self.net[i]), self.rho, self.v_oh
+        vs, zs = self.v.tolist(), self.z.tolist()
+
+        def water(c: list) -> float:
+            net = net0 + sum(map(mul, c, zs))
+            vol = vol0 + sum(map(mul, c, vs))
+            return rho * max(1.0 - (vol + max(net, 0.0) * v_oh) / 1000.0, 0.05)
+
+        return water
+
+
+def open_water(catalog, keys: tuple[str, ...], totals, temperature_c: float,
+               cols: tuple[int, ...]) -> tuple[np.ndarray, tuple[str, ...], OpenWater]:
+    """:func:`water_kg_per_litre` of ``totals`` (the open systems' columns ``cols`` as
+    added: each point's start) and the :class:`OpenWater` that follows what the open
+    systems hold."""
+    totals = np.atleast_2d(np.asarray(totals, dtype=float))
+    w, estimated = _water(catalog, keys, totals, temperature_c)
+    vol, charge, _, v_oh = _layout_of(catalog, tuple(keys))
+    rest = totals.copy()
+    rest[:, list(cols)] = 0.0
+    held = OpenWater(np.einsum("nk,k->n", rest, vol), np.einsum("nk,k->n", rest, charge),
+                     vol[list(cols)], charge[list(cols)], float(v_oh),
+                     water.density_g_cm3(temperature_c), np.where(estimated, np.nan, w))
+    return w, ((ESTIMATE_NOTE,) if estimated.any() and totals.any() else ()), held
 
 
 def water_kg_one(catalog, keys: tuple[str, ...], row, temperature_c: float

@@ -60,7 +60,7 @@ from carboy.errors import InvalidInput
 from carboy.model import water
 from carboy.model.activity import DAVIES_LIMIT_MOLAR, outside_range_warning
 from carboy.model.mixture import MixtureBatch
-from carboy.model.molality import water_kg_one, water_kg_per_litre
+from carboy.model.molality import open_water, water_kg_one, water_kg_per_litre
 from carboy.model.result_warnings import METAL_T_SPAN_C, warning_texts
 from carboy.model.solver.charge_balance import padded_fractions
 from carboy.model.solver.layout import ENTHALPY_DATA_MAX_C, Layout, cached_layout
@@ -297,24 +297,37 @@ def _pitzer(batch, lay: Layout, activity: str, catalog, paths: _Paths, base=None
         # held species (no solids on this path, as on the outer loop's)
         one, held = _opened(lay, tab, batch, paths.held)
     if one is not None:
-        w, notes = water_kg_per_litre(catalog, batch.keys, batch.totals, t_c)
+        opened = None
+        if held is None:
+            w, notes = water_kg_per_litre(catalog, batch.keys, batch.totals, t_c)
+        else:   # the water follows what the open systems hold (settled in the rounds)
+            w, notes, opened = open_water(catalog, batch.keys, batch.totals, t_c, tuple(
+                b for (b, _), h in zip(one.systems, one.held) if h >= 0))
         frame = paths.frame(batch, lay, activity, t_c)
+        v0, w0 = _started(len(batch), len(tab.labels))
+        if opened is not None and w0 is not None:   # an open solve's water: its start's
+            w = np.where(np.isfinite(w0), 10.0 ** w0, w)
         x0 = None if paths.start is None else paths.start[0] - np.log10(w)   # molal
-        v0 = _started(len(batch), len(tab.labels))
         if len(batch) == 1 and held is None and x0 is None and v0 is None:
             out = one_outcome(one, model, scalar_model(model), batch.totals[0].tolist(),
                               float(w[0]))
         elif len(batch) <= FEW_POINTS:
-            out = few_outcome(one, model, batch.totals, w, x0, held, v0)
+            out = few_outcome(one, model, batch.totals, w, x0, held, v0, opened)
         else:
-            out = batch_outcome(one, model, batch.totals, w, held, x0, v0)
-        return _pitzer_result(frame, out, lay, tab, activity, w, notes)
+            out = batch_outcome(one, model, batch.totals, w, held, x0, v0, opened)
+        return _pitzer_result(frame, out, lay, tab, activity, out.extra["water_kg_per_l"],
+                              notes)
     if base is None:
         base = paths.solve_davies(batch, lay, "davies", t_c, paths.held, paths.start)
-    w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
     pr = build_problem(lay, base.batch.totals, paths.held, base.pkw, 0.0)
-    out = solve_pitzer(pr, model, tab, 1.0 / w, base.log_h.copy())
-    return _pitzer_result(base, out, lay, tab, activity, w, notes)
+    opened = None
+    if pr.am.mask is None:
+        w, notes = water_kg_per_litre(catalog, batch.keys, base.batch.totals, t_c)
+    else:
+        w, notes, opened = open_water(catalog, batch.keys, base.batch.totals, t_c,
+                                      tuple(np.asarray(lay.sys_cols)[pr.am.mask].tolist()))
+    out = solve_pitzer(pr, model, tab, 1.0 / w, base.log_h.copy(), water=opened)
+    return _pitzer_result(base, out, lay, tab, activity, out.extra["water_kg_per_l"], notes)
 
 
 _COEFFICIENTS: ContextVar = ContextVar("pitzer_coefficients", default=None)
@@ -343,26 +356,33 @@ def _given(v0: np.ndarray):
 
 
 def coefficients_of(res) -> np.ndarray | None:
-    """(N, U + 1) the coefficients of a result on the Pitzer model (``model_part``:
-    log10 γ of its species, then log10 a_w), as :func:`pitzer_start` takes them; None
-    for a result on another model."""
+    """(N, U + 2) the coefficients of a result on the Pitzer model (``model_part``:
+    log10 γ of its species, log10 a_w, then log10 of the kg of water per litre, which
+    starts an open solve's), as :func:`start_coefficients` takes them; None for a result
+    on another model."""
     part = getattr(res, "model_part", None)
     if part is None or part.model != "pitzer" or part.water_activity is None:
         return None
-    return np.column_stack([part.log_gamma, np.log10(part.water_activity)])
+    return np.column_stack([part.log_gamma, np.log10(part.water_activity),
+                            np.log10(part.water_kg_per_l)])
 
 
 def start_coefficients(v0: np.ndarray | None):
-    """:func:`pitzer_start` with ``v0`` (N, U + 1) as :func:`coefficients_of` gives
-    them (rows with a NaN: no start); a block that does nothing for None."""
+    """:func:`pitzer_start` with ``v0`` (N, U + 2) as :func:`coefficients_of` gives
+    them (rows with a NaN: no start; the last column, the water per litre, starts only
+    an open solve's, whose water follows what it holds); a block that does nothing for
+    None."""
     return nullcontext() if v0 is None else _given(np.asarray(v0, dtype=float))
 
 
 def _started(n: int, u: int):
-    """The coefficients' starts (:func:`pitzer_start`) for a batch of ``n`` points and
-    ``u`` species, or None."""
+    """The coefficients' starts (:func:`pitzer_start`, :func:`start_coefficients`) for a
+    batch of ``n`` points and ``u`` species: (N, U + 1) and the log10 water per litre
+    (N,) or None; (None, None) without."""
     v0 = _COEFFICIENTS.get()
-    return v0 if v0 is not None and v0.shape == (n, u + 1) else None
+    if v0 is None or v0.ndim != 2 or v0.shape[0] != n or v0.shape[1] not in (u + 1, u + 2):
+        return None, None
+    return v0[:, :u + 1], (v0[:, u + 1] if v0.shape[1] == u + 2 else None)
 
 
 def _opened(lay: Layout, tab, batch: MixtureBatch, held):
@@ -395,8 +415,8 @@ def pitzer_one_fields(catalog, lay: Layout, keys: tuple[str, ...], row: list,
     if ot is None:
         return None
     w, notes = water_kg_one(catalog, keys, row, t_c)
-    x, m, lg, (_, aw, ionic), rounds, ok = solve_one_pitzer(ot, scalar_model(model), row,
-                                                             1.0 / w)
+    x, m, lg, (_, aw, ionic, _), rounds, ok = solve_one_pitzer(ot, scalar_model(model), row,
+                                                                1.0 / w)
     _, common = model_warnings(model, m, ionic)
     code = int(ionic > I_MAX_MOLAL) + 2 * int(not ok)
     labels, z = tab.labels, ot.charges

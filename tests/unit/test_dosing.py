@@ -8,6 +8,7 @@ import pytest
 from carboy.model import gas
 from carboy.model.dosing import CURVE_SPAN, find_doses
 from carboy.model.mixture import Mixture, titration_batch
+from carboy.model.molality import water_kg_per_litre
 from carboy.model.speciation import speciate_batch
 
 
@@ -97,13 +98,19 @@ def test_solve_equals_solving_the_batch(catalog):
 
 def test_points_started_from_the_vented_curve_give_the_same_states(catalog, monkeypatch):
     # on the Pitzer model the planner's points start their coefficients from the vented
-    # curve (Dosing.solve(curve=)): the same states in fewer rounds
+    # curve (Dosing.solve(curve=)): the same states in fewer rounds where the vented
+    # state is not the one open to air (an alkaline batch keeps less carbonate than the
+    # air would leave it); a point vented to the state open to air starts from that
+    # state's own root and coefficients and settles in one round either way
     from carboy.model.solver import pitzer_batch
 
-    d = dosing_for(catalog, {"Na+": 1.0, "Cl-": 2.0}, "Na2CO3", [7.0, 6.0, 8.0],
-                   n_full=0.35, activity="pitzer", points=400)   # the planner's grid
+    d = dosing_for(catalog, {"Na+": 1.0, "carbonate": 0.1}, "HCl", [8.0, 9.0, 7.0],
+                   n_full=1.0, activity="pitzer", points=400, direction="acid",
+                   initial_ph=13.5)   # the planner's grid
     curve, _ = d.solve(d.grid)
-    n = np.array([0.05, 0.2, 0.31, 0.33, 0.36, 0.4])
+    n = np.array([0.05, 0.2, 0.4, 0.6, 0.9, 1.0, 1.1])
+    at_air = np.isfinite(d._batch_and_air(n, True).air_pH)
+    assert at_air.tolist() == [False] * 4 + [True] * 3
     rounds = []
     real = pitzer_batch.one_outcome
 
@@ -114,11 +121,38 @@ def test_points_started_from_the_vented_curve_give_the_same_states(catalog, monk
 
     monkeypatch.setattr(pitzer_batch, "one_outcome", spy)
     ref, _ = d.solve(n)
-    cold = sum(rounds[-n.size:])
+    cold = np.array(rounds[-n.size:])
     got, _ = d.solve(n, curve=curve)
+    warm = np.array(rounds[-n.size:])
     np.testing.assert_allclose(got.pH, ref.pH, atol=1e-9)
     np.testing.assert_allclose(got.species_molar, ref.species_molar, rtol=1e-8, atol=1e-15)
-    assert sum(rounds[-n.size:]) < cold
+    assert warm[~at_air].sum() < cold[~at_air].sum()
+    assert (cold[at_air] == 1).all() and (warm[at_air] == 1).all()
+
+
+def test_on_pitzer_the_state_open_to_air_is_the_closed_batch_holding_its_carbonate(catalog):
+    # an open solve's water per litre follows the carbonate it holds (settled in the
+    # Pitzer rounds), so the batch holding that carbonate closed is the same solution;
+    # with the water of the carbonate as added the two differed by up to 4e-4 pH
+    d = dosing_for(catalog, {"Na+": 1.0, "Cl-": 2.0}, "Na2CO3", [7.0, 6.0, 8.0],
+                   n_full=0.35, activity="pitzer")
+    model = d.model
+    # 3 and 12 points (one by one on floats), 40 (on arrays, coarse to fine)
+    for amounts in (np.array([0.05, 0.2, 0.31]), np.linspace(0.02, 0.6, 12),
+                    np.linspace(0.02, 0.6, 40)):
+        air = model.forward(amounts, co2_molar=d.s_air)
+        b, _ = d.batch_at(amounts)
+        held = air.carbonate_molar()
+        np.testing.assert_allclose(b.totals[:, b.keys.index(gas.CARBONATE)], held, rtol=1e-12)
+        closed = speciate_batch(b, activity="pitzer", catalog=catalog)
+        # (to the rounds' tolerance: the coefficients settle to ONE_TOL, 1e-8 in log10)
+        np.testing.assert_allclose(closed.pH, air.result.pH, rtol=0, atol=1e-8)
+        np.testing.assert_allclose(closed.model_part.water_kg_per_l,
+                                   air.result.model_part.water_kg_per_l, rtol=1e-9)
+        # the water the open solve settled with is not the water of the carbonate added
+        as_added, _ = titration_batch(model.sample, d.composition, amounts, d.l_per_mol)
+        added, _ = water_kg_per_litre(catalog, as_added.keys, as_added.totals, 25.0)
+        assert np.abs(added - air.result.model_part.water_kg_per_l).max() > 1e-4
 
 
 def test_grid_losses_in_one_solve_equal_the_separate_solves(catalog):

@@ -388,9 +388,11 @@ def _pitzer_terms(tab: Table, lg: np.ndarray, lw: np.ndarray, log_s: np.ndarray,
 
 
 def solve_pitzer(pr0: Problem, model: PitzerModel, tab: Table, per_molar: np.ndarray,
-                 x, lg=None) -> Outcome:
+                 x, lg=None, water=None) -> Outcome:
     """The Pitzer path: outer loop on every species' coefficient (``per_molar`` (N,):
-    mol/kg per mol/L; ``lg`` (N, U) a start for the log10 coefficients)."""
+    mol/kg per mol/L; ``lg`` (N, U) a start for the log10 coefficients).  ``water``
+    (``molality.OpenWater``, with held systems): the water per litre follows what the
+    held systems hold, settled with the coefficients (``per_molar`` its start)."""
     from carboy.model.solver.bracketed import solve_nested
 
     n, s = x.shape[0], pr0.lay.flat_j.shape[0]
@@ -410,6 +412,9 @@ def solve_pitzer(pr0: Problem, model: PitzerModel, tab: Table, per_molar: np.nda
         lift, _ = pair_shares(tab, table, lg, per_molar)
         res = model.evaluate(table * per_molar[:, None])
         lg = res.ln_gamma / LN10
+        if water is not None and pr0.am.mask is not None:   # the water of what is held
+            per_molar = 1.0 / water.at(systems[1][pr0.am.mask].T, slice(None))
+            log_s = np.log10(per_molar)
         new = _pitzer_terms(tab, lg, np.log10(res.water_activity), log_s, pkw, lift,
                             pr0.ispec)
         conv = ok & (_moved(new, terms) <= OUTER_TOL)
@@ -421,7 +426,8 @@ def solve_pitzer(pr0: Problem, model: PitzerModel, tab: Table, per_molar: np.nda
              "water_activity": res.water_activity, "osmotic": res.osmotic,
              "valid": res.valid,
              "point_warnings": model.point_warnings(table * per_molar[:, None],
-                                                    res.ionic_strength_molal)}
+                                                    res.ionic_strength_molal),
+             "water_kg_per_l": 1.0 / per_molar}
     return Outcome(x, ionic, conv, rounds, table, lg, ph, systems, extra)
 
 

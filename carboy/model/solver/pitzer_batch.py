@@ -36,20 +36,16 @@ from carboy.model.pitzer_scalar import scalar_model
 from carboy.model.solver.constants import LN10
 from carboy.model.solver.outer import Outcome
 from carboy.model.solver.pitzer_one import (
-    MAX_STEP,
-    NEWTON_STEPS,
     ONE_ROUNDS,
     ONE_TOL,
-    QUADRATIC,
     ROUND_X_TOL,
     SETTLED_TOL,
-    X_BOUNDS,
     X_STEP_TOL,
     OneTable,
     one_outcome,
     solve_one_pitzer,
 )
-from carboy.model.solver.pitzer_salts import salt_array
+from carboy.model.solver.pitzer_x import BatchTable, batch_table, solve_x, start
 
 WARM_MIN = 25
 """Batches of at least this many points are solved coarse to fine."""
@@ -60,231 +56,6 @@ COLD_TOL = 0.1
 WARM_TOL = 1e-10
 """The first round from interpolated coefficients needs x as closely as they are known."""
 
-
-@dataclass(frozen=True, eq=False, repr=False)
-class BatchTable:
-    """A :class:`OneTable` as arrays."""
-
-    n: int
-    zpos: np.ndarray                 # (U,) positive charge of each column
-    zneg: np.ndarray                 # (U,) magnitude of the negative charge
-    ion_cols: np.ndarray             # (J,) column of each spectator
-    ion_batch: np.ndarray            # (J,) its batch column
-    systems: tuple                   # (batch column, cols (M,), log beta0 (M,), j (M,))
-    pairs: tuple                     # (pair column, cation column, log10 K)
-    pkw: float
-    # every system's states in one row, system after system (S states in all)
-    cols: np.ndarray                 # (S,) column of each state
-    lb: np.ndarray                   # (S,) log10 beta0
-    j: np.ndarray                    # (S,) protons lost from the top state
-    sys_of: np.ndarray               # (S,) its system
-    starts: np.ndarray               # (K,) first state of each system
-    repeats: bool                    # does a column hold states of two systems?
-    water: np.ndarray                # (S,) water each state takes (outer.HYDRATED)
-    solids: tuple = ()               # OneTable.solids: the hydroxides that may form
-    salts: tuple = ()                # OneTable.salts: the 1:1 salts that may form
-    held: np.ndarray | None = None   # (K,) OneTable.held: an open system's held state's
-    #                                  place among the states (-1 closed), or None
-    zz: np.ndarray | None = None     # (2, U) zpos and zneg as rows
-    hydrated: bool = False           # does any state take water?
-    span: slice | None = None        # cols as a slice when they are consecutive
-
-
-def batch_table(ot: OneTable) -> BatchTable:
-    z = np.array(ot.charges)
-    systems = tuple((b, np.array([s[0] for s in st], dtype=int),
-                     np.array([s[1] for s in st]), np.array([s[2] for s in st]))
-                    for b, st in ot.systems)
-    flat = [(c, lb, j, k, h2o) for k, (_, st) in enumerate(ot.systems)
-            for c, lb, j, h2o in st]
-    sizes = [len(st) for _, st in ot.systems]
-    cols = [f[0] for f in flat]
-    repeats = len(set(cols)) < len(cols)
-    water = np.array([f[4] for f in flat])
-    span = slice(cols[0], cols[-1] + 1) if cols and not repeats and all(
-        b - a == 1 for a, b in zip(cols, cols[1:])) else None
-    return BatchTable(ot.n, np.maximum(z, 0.0), np.maximum(-z, 0.0),
-                      np.array([c for c, _ in ot.ions], dtype=int),
-                      np.array([b for _, b in ot.ions], dtype=int), systems, ot.pairs, ot.pkw,
-                      np.array(cols, dtype=int), np.array([f[1] for f in flat]),
-                      np.array([f[2] for f in flat]), np.array([f[3] for f in flat], dtype=int),
-                      np.cumsum([0] + sizes[:-1]).astype(int), repeats, water,
-                      ot.solids, ot.salts,
-                      np.array(ot.held, dtype=int) if any(h >= 0 for h in ot.held) else None,
-                      np.stack([np.maximum(z, 0.0), np.maximum(-z, 0.0)]),
-                      bool(np.any(water)), span)
-
-
-class _Held:
-    """What the x-solve's Newton steps reuse at held coefficients, per point: the
-    systems' log10 weights less their x-term, the x-free part of log10 m(OH-), and the
-    inputs the pairs, solids and salts need (``take`` keeps the points still moving)."""
-
-    __slots__ = ("lg", "lw", "ions", "sys_tot", "tot_safe", "base", "lg0", "log_oh")
-
-    def __init__(self, bt: BatchTable, lg, lw, ions, sys_tot):
-        self.lg, self.lw, self.ions, self.sys_tot = lg, lw, ions, sys_tot
-        self.lg0 = lg[:, 0]
-        self.log_oh = lw - bt.pkw - lg[:, 0] - lg[:, 1]     # log10 m(OH-) + x
-        if bt.systems:
-            self.base = bt.lb - lg[:, bt.cols]
-            if bt.hydrated:
-                self.base = self.base + np.multiply.outer(lw, bt.water)
-            self.tot_safe = np.where(sys_tot > 0, sys_tot, 1.0)
-
-    def take(self, bt: BatchTable, keep) -> _Held:
-        """These points only (``keep``: indices; np.take is several times faster than a
-        boolean mask on rows)."""
-        out = object.__new__(_Held)
-        out.lg, out.lw, out.ions, out.sys_tot = (self.lg.take(keep, axis=0), self.lw[keep],
-                                                 self.ions.take(keep, axis=0),
-                                                 self.sys_tot.take(keep, axis=0))
-        out.lg0, out.log_oh = self.lg0[keep], self.log_oh[keep]
-        if bt.systems:
-            out.base = self.base.take(keep, axis=0)
-            out.tot_safe = self.tot_safe.take(keep, axis=0)
-        return out
-
-
-def _composition(bt: BatchTable, x, hd: _Held):
-    """(N, U) molalities at x and their x-derivatives, and ln POS - ln NEG with its
-    x-derivative."""
-    m = hd.ions.copy()
-    dm = np.zeros_like(m)
-    h = np.exp(LN10 * x)
-    oh = np.exp(LN10 * (hd.log_oh - x))
-    m[:, 0], m[:, 1] = h, oh
-    dm[:, 0], dm[:, 1] = LN10 * h, -LN10 * oh
-    lg, lw = hd.lg, hd.lw
-    for pc, mc, log_k in bt.pairs:
-        total = hd.ions[:, mc]
-        k = np.exp(LN10 * (log_k + lg[:, mc] + lg[:, 1] - lg[:, pc]))
-        p = total * k * oh / (1.0 + k * oh)
-        dp = total * k * dm[:, 1] / (1.0 + k * oh) ** 2
-        m[:, pc] += p
-        m[:, mc] -= p
-        dm[:, pc] += dp
-        dm[:, mc] -= dp
-    if bt.solids:
-        _hydroxides(bt, m, dm, lg, lw - bt.pkw - lg[:, 0] - x, oh)
-    if bt.systems:
-        _systems(bt, x, hd, m, dm)
-    ps = np.einsum("nu,ku->kn", m, bt.zz)
-    dps = np.einsum("nu,ku->kn", dm, bt.zz)
-    return m, dm, np.log(ps[0]) - np.log(ps[1]), dps[0] / ps[0] - dps[1] / ps[1]
-
-
-def _systems(bt: BatchTable, x, hd: _Held, m, dm) -> None:
-    """Add the acid-base systems' states at x (and their salts) to ``m`` and ``dm``."""
-    j, so, sys_tot = bt.j, bt.sys_of, hd.sys_tot
-    logw = hd.base - np.multiply.outer(x + hd.lg0, j)
-    logw -= np.maximum.reduceat(logw, bt.starts, axis=1)[:, so]
-    w = np.exp(LN10 * logw)
-    if bt.held is None:
-        conc = w * (sys_tot / np.add.reduceat(w, bt.starts, axis=1))[:, so]
-        cj = conc * j
-        jbar = np.add.reduceat(cj, bt.starts, axis=1) / hd.tot_safe
-    else:   # an open system's held state is at its sys_tot (its total follows x)
-        ref = bt.starts + np.maximum(bt.held, 0)
-        den = np.where(bt.held >= 0, w[:, ref], np.add.reduceat(w, bt.starts, axis=1))
-        conc = w * (sys_tot / den)[:, so]
-        cj = conc * j
-        jbar = np.where(bt.held >= 0, j[ref], np.add.reduceat(cj, bt.starts, axis=1)
-                        / hd.tot_safe)
-    slope = -LN10 * (cj - conc * jbar[:, so])
-    if bt.repeats:   # a label two systems share: add column by column
-        np.add.at(m.T, bt.cols, conc.T)
-        np.add.at(dm.T, bt.cols, slope.T)
-    elif bt.span is not None:
-        m[:, bt.span] += conc
-        dm[:, bt.span] += slope
-    else:
-        m[:, bt.cols] += conc
-        dm[:, bt.cols] += slope
-    lw = hd.lw
-    for k, entry in bt.salts:
-        _, cols, _, jk = bt.systems[k]
-        a = bt.starts[k]
-        salt_array(entry, m, dm, hd.lg, lw, lw - bt.pkw - hd.lg0 - x, cols, jk,
-                   conc[:, a:a + cols.shape[0]], jbar[:, k], sys_tot[:, k])
-
-
-def _hydroxides(bt: BatchTable, m, dm, lg, log_oh_act, oh) -> None:
-    """``pitzer_one._hydroxides`` on arrays: the free cation is the smaller of its mass
-    balance's and the solubility product's, in place."""
-    for mc, pc, log_k, z, log_ksp in bt.solids:
-        total = m[:, mc].copy()
-        k = np.exp(LN10 * (log_k + lg[:, mc] + lg[:, 1] - lg[:, pc])) if pc >= 0 else 0.0
-        free = total / (1.0 + k * oh)
-        cap = np.exp(LN10 * (log_ksp - lg[:, mc] - z * log_oh_act))
-        present = cap < free
-        free = np.where(present, cap, free)
-        p = k * free * oh
-        m[:, mc] = free
-        dfree = np.where(present, z * LN10 * free, LN10 * p / (1.0 + k * oh))
-        dm[:, mc] += dfree
-        if pc >= 0:
-            m[:, pc] += p
-            dm[:, pc] += np.where(present, p * LN10 * (z - 1.0), -dfree)
-
-
-def solve_x(bt: BatchTable, x, lg, lw, ions, sys_tot, tol):
-    """The charge balance's root in x at held coefficients, every point (``tol`` (N,)):
-    (x, molalities there).  Each Newton step takes only the points still moving."""
-    x = np.clip(x, *X_BOUNDS)
-    m = np.empty((x.shape[0], bt.n))
-    hd = _Held(bt, lg, lw, ions, sys_tot)
-    act = np.arange(x.shape[0])
-    xa = x.copy()
-    # a step s ends the solve when |s| < tol or s² < QUADRATIC tol
-    thr = np.maximum(tol, np.sqrt(QUADRATIC * tol))
-    lo = np.full(x.shape, X_BOUNDS[0])
-    hi = np.full(x.shape, X_BOUNDS[1])
-    for it in range(NEWTON_STEPS):
-        ma, dma, g, dg = _composition(bt, xa, hd)
-        pos = g > 0
-        hi = np.where(pos, xa, hi)
-        lo = np.where(pos, lo, xa)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            step = -g / dg
-        rising = dg > 0
-        if not rising.all():   # cannot happen for a balance that rises with x: bisect
-            step = np.where(rising, step, np.inf)
-        near = np.abs(step) < thr
-        done = near | (hi - lo < X_STEP_TOL)
-        n_done = int(np.count_nonzero(done))
-        if n_done == done.shape[0] or it == NEWTON_STEPS - 1:   # (or out of steps)
-            last = np.where(near, step, 0.0)   # Newton's last step, to first order
-            m[act] = ma + dma * last[:, None]
-            x[act] = xa + last
-            break
-        if n_done:
-            fin = np.flatnonzero(done)
-            last = np.where(near[fin], step[fin], 0.0)
-            d = act[fin]
-            m[d] = ma.take(fin, axis=0) + dma.take(fin, axis=0) * last[:, None]
-            x[d] = xa[fin] + last
-        new = xa + np.clip(step, -MAX_STEP, MAX_STEP)
-        new = np.where((new > lo) & (new < hi), new, 0.5 * (lo + hi))
-        if n_done:
-            keep = np.flatnonzero(~done)
-            act, new, lo, hi, thr = act[keep], new[keep], lo[keep], hi[keep], thr[keep]
-            hd = hd.take(bt, keep)
-        xa = new
-    return x, m
-
-
-def start(bt: BatchTable, ions, sys_tot) -> np.ndarray:
-    """``pitzer_one._start`` on arrays."""
-    z = bt.zpos - bt.zneg
-    fixed = np.einsum("nu,u->n", ions, z)
-    closed = [(k, c) for k, (_, c, _, _) in enumerate(bt.systems)
-              if bt.held is None or bt.held[k] < 0]
-    low = fixed + sum(sys_tot[:, k] * z[c].min() for k, c in closed)
-    high = fixed + sum(sys_tot[:, k] * z[c].max() for k, c in closed)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(low < 0, np.log10(-low),
-                        np.where(high > 0, -bt.pkw - np.log10(high), -7.0))
 
 
 def _anderson(v, g, prev):
@@ -310,16 +81,22 @@ class _State:
     extra: np.ndarray        # (N, 3): φ, a_w, I
     rounds: np.ndarray
     ok: np.ndarray
+    w: np.ndarray            # (N,) kg of water per litre (open systems: settled too)
 
 
 def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot,
-            first_tol: float) -> None:
+            first_tol: float, water=None) -> None:
     """Settle the points ``idx`` of ``st`` (from their x and v), in place; the first
     round's x-solve stops at a step below ``first_tol``.  A point whose coefficients
     settled takes its last x-solve (at those coefficients, to ``X_STEP_TOL``) together
-    with the next round's x-solve of the points still moving."""
+    with the next round's x-solve of the points still moving.  ``water``
+    (``molality.OpenWater``): the water per litre follows what the open systems hold,
+    one more entry of the rounds' vector (log10 W after log10 a_w: mixed and tested
+    with the coefficients; ``st.w``, ``ions`` and ``sys_tot`` follow it in place)."""
     n = bt.n
     x, v = st.x[idx], st.v[idx]
+    if water is not None:
+        v = np.concatenate([v, np.log10(st.w[idx])[:, None]], axis=1)
     prev = None
     moved = last = np.ones(idx.shape[0])
     tol = np.full(idx.shape[0], first_tol)
@@ -328,20 +105,22 @@ def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot,
         x, m = solve_x(bt, x, v[:, :n], v[:, n], ions[idx], sys_tot[idx], tol)
         if fin.any():
             if fin.all():
-                st.x[idx], st.v[idx], st.m[idx] = x, v, m
+                st.x[idx], st.v[idx], st.m[idx] = x, v[:, :n + 1], m
                 return
             f, keep = np.flatnonzero(fin), np.flatnonzero(~fin)   # (np.take: faster)
             d = idx[f]
-            st.x[d], st.v[d], st.m[d] = x[f], v.take(f, axis=0), m.take(f, axis=0)
+            st.x[d], st.v[d], st.m[d] = x[f], v.take(f, axis=0)[:, :n + 1], m.take(f, axis=0)
             idx, x, last = idx[keep], x[keep], last[keep]
             v, m = v.take(keep, axis=0), m.take(keep, axis=0)
             prev = None if prev is None else (prev[0].take(keep, axis=0),
                                               prev[1].take(keep, axis=0))
         ln_gamma, phi, aw, ionic = model.coefficients(m)
-        g = np.concatenate([ln_gamma / LN10, np.log10(aw)[:, None]], axis=1)
+        g = np.concatenate([ln_gamma / LN10, np.log10(aw)[:, None]] + (
+            [] if water is None else [np.log10(_held_water(bt, water, st, idx, m))[:, None]]),
+            axis=1)
         moved = np.abs(g - v).max(axis=1)
         rho = moved / np.where(last > 0, last, 1.0)
-        ok = (moved <= ONE_TOL) | ((r >= 3) & (rho < 0.5)
+        ok = (moved <= ONE_TOL) | ((r >= 3) & (rho < 0.5) & (water is None)   # (pitzer_one)
                                    & (moved * rho <= SETTLED_TOL * (1.0 - rho)))
         fin = ok | (r == ONE_ROUNDS)
         if fin.any():
@@ -354,7 +133,26 @@ def _rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions, sys_tot,
         nv = g if take_g.all() else np.where(take_g[:, None], g, _anderson(v, g, prev))
         prev = (v, g)
         v, last = nv, moved
+        if water is not None:
+            _set_water(st, idx, 10.0 ** v[:, n + 1], ions, sys_tot)
         tol = np.where(fin, X_STEP_TOL, np.maximum(X_STEP_TOL, ROUND_X_TOL * moved))
+
+
+def _held_water(bt: BatchTable, water, st: _State, idx, m) -> np.ndarray:
+    """The water per litre of the points ``idx`` from what their open systems hold at
+    ``m`` (molal, at the water ``st.w``)."""
+    held = np.stack([m[:, c].sum(axis=1) for (_, c, _, _), h in zip(bt.systems, bt.held)
+                     if h >= 0], axis=1) * st.w[idx][:, None]
+    return water.at(held, idx)
+
+
+def _set_water(st: _State, idx, new: np.ndarray, ions, sys_tot) -> None:
+    """Start the points ``idx`` at the water per litre ``new`` (``ions`` and ``sys_tot``
+    rescaled in place)."""
+    ratio = st.w[idx] / new
+    ions[idx] *= ratio[:, None]
+    sys_tot[idx] *= ratio[:, None]
+    st.w[idx] = new
 
 
 SEEDS = 3
@@ -365,7 +163,7 @@ SEEDED_TOL = 1e-2
 
 
 def _seed(ot: OneTable, model: PitzerModel, st: _State, coarse, totals, water_kg_per_l,
-          held) -> bool:
+          held, water=None) -> bool:
     """Start the ``coarse`` points' coefficients from ``SEEDS`` of them solved one by one
     on floats, linearly in the point index (x keeps its start from the totals: along a
     curve it jumps where the coefficients do not); False where a seed did not settle
@@ -377,8 +175,9 @@ def _seed(ot: OneTable, model: PitzerModel, st: _State, coarse, totals, water_kg
     vs = []
     for i in at.tolist():
         hold = () if held is None else tuple(np.asarray(held[i], dtype=float).tolist())
-        _, _, lg, (_, aw, _), _, ok = solve_one_pitzer(
-            ot, scalar, totals[i].tolist(), 1.0 / float(water_kg_per_l[i]), None, hold)
+        _, _, lg, (_, aw, _, _), _, ok = solve_one_pitzer(
+            ot, scalar, totals[i].tolist(), 1.0 / float(water_kg_per_l[i]), None, hold,
+            None, None if water is None else water.one(i))
         if not ok:
             return False
         vs.append(lg + [math.log10(aw)])
@@ -414,32 +213,36 @@ def _between(st: _State, coarse: np.ndarray, fine: np.ndarray) -> None:
 
 
 def _warm_rounds(bt: BatchTable, model: PitzerModel, st: _State, idx, ions,
-                 sys_tot) -> None:
+                 sys_tot, water=None) -> None:
     """Settle the points ``idx`` from their given starts; from ``WARM_MIN`` points on
     every ``WARM_STRIDE``-th (and the last) first, then each point between from its own
     start moved as its solved neighbours' moved (the cubic through the four nearest
     moves: along a curve started from a nearby curve, the starts' error is smooth)."""
     if idx.shape[0] < WARM_MIN:
-        _rounds(bt, model, st, idx, ions, sys_tot, WARM_TOL)
+        _rounds(bt, model, st, idx, ions, sys_tot, WARM_TOL, water)
         return
     pick = np.zeros(idx.shape[0], dtype=bool)
     pick[::WARM_STRIDE] = True
     pick[-1] = True
     coarse, fine = idx[pick], idx[~pick]
-    x0, v0 = st.x[coarse], st.v[coarse]
-    _rounds(bt, model, st, coarse, ions, sys_tot, WARM_TOL)
+    x0, v0, w0 = st.x[coarse], st.v[coarse], st.w[coarse]
+    _rounds(bt, model, st, coarse, ions, sys_tot, WARM_TOL, water)
     w, nodes = _cubic(coarse, fine)
     st.x[fine] += np.einsum("fa,fa->f", w, (st.x[coarse] - x0)[nodes])
     st.v[fine] += np.einsum("fa,fau->fu", w, (st.v[coarse] - v0)[nodes])
-    _rounds(bt, model, st, fine, ions, sys_tot, WARM_TOL)
+    if water is not None:
+        _set_water(st, fine, st.w[fine] + np.einsum("fa,fa->f", w, (st.w[coarse] - w0)[nodes]),
+                   ions, sys_tot)
+    _rounds(bt, model, st, fine, ions, sys_tot, WARM_TOL, water)
 
 
 def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
-                water_kg_per_l: np.ndarray, held=None, x0=None, v0=None, ot=None):
-    """Solve every point (``held``, ``x0`` and ``v0``: see :func:`few_outcome`); returns
-    (x molal, molalities (N, U), lg (N, U), φ, a_w, I, rounds, converged) by point.
-    Points with started coefficients are solved first, together; the others coarse to
-    fine among themselves."""
+                water_kg_per_l: np.ndarray, held=None, x0=None, v0=None, ot=None,
+                water=None) -> _State:
+    """Solve every point (``held``, ``x0``, ``v0`` and ``water``: see
+    :func:`few_outcome`; ``water_kg_per_l`` each point's water, or its start where
+    ``water`` is given).  Points with started coefficients are solved first, together;
+    the others coarse to fine among themselves."""
     s = 1.0 / water_kg_per_l
     npts = totals.shape[0]
     ions = np.zeros((npts, bt.n))
@@ -450,7 +253,9 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
         sys_tot[:, bt.held >= 0] = np.asarray(held, dtype=float) * s[:, None]
     st = _State(start(bt, ions, sys_tot), np.zeros((npts, bt.n + 1)),
                 np.zeros((npts, bt.n)), np.zeros((npts, 3)), np.zeros(npts, dtype=int),
-                np.zeros(npts, dtype=bool))
+                np.zeros(npts, dtype=bool), np.array(water_kg_per_l, dtype=float))
+    if bt.held is None:
+        water = None
     if x0 is not None:
         st.x = np.where(np.isfinite(x0), x0, st.x)
     every = np.arange(npts)
@@ -458,10 +263,10 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
         warm = np.isfinite(v0).all(axis=1)
         st.v[warm] = v0[warm]
         if warm.any():
-            _warm_rounds(bt, model, st, every[warm], ions, sys_tot)
+            _warm_rounds(bt, model, st, every[warm], ions, sys_tot, water)
             if ot is not None and 0 < npts - warm.sum() <= LEFT_ON_FLOATS:
                 _left_on_floats(ot, model, st, every, warm, (totals, water_kg_per_l, held),
-                                x0)
+                                x0, water)
                 return st
         every = every[~warm]
         npts = every.shape[0]
@@ -473,14 +278,18 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
         pick[-1] = True
         coarse = every[pick]
         first = COLD_TOL
-        if ot is not None and _seed(ot, model, st, coarse, totals, water_kg_per_l, held):
+        if ot is not None and _seed(ot, model, st, coarse, totals, water_kg_per_l, held,
+                                    water):
             first = SEEDED_TOL
-        _rounds(bt, model, st, coarse, ions, sys_tot, first)
+        _rounds(bt, model, st, coarse, ions, sys_tot, first, water)
         fine = every[~pick]
         _between(st, coarse, fine)
-        _rounds(bt, model, st, fine, ions, sys_tot, WARM_TOL)
+        if water is not None:
+            w, nodes = _cubic(coarse, fine)
+            _set_water(st, fine, np.einsum("fa,fa->f", w, st.w[coarse][nodes]), ions, sys_tot)
+        _rounds(bt, model, st, fine, ions, sys_tot, WARM_TOL, water)
     else:
-        _rounds(bt, model, st, every, ions, sys_tot, COLD_TOL)
+        _rounds(bt, model, st, every, ions, sys_tot, COLD_TOL, water)
     return st
 
 
@@ -493,7 +302,7 @@ state open to air)."""
 
 
 def _left_on_floats(ot: OneTable, model: PitzerModel, st: _State, every, warm, batch,
-                    x0) -> None:
+                    x0, water=None) -> None:
     """Solve the points of ``every`` not ``warm`` one by one on floats (``batch``: the
     totals, water per litre and held amounts), each from the solved coefficients of the
     nearest ``warm`` point and its own ``x0`` where given, in place."""
@@ -506,18 +315,19 @@ def _left_on_floats(ot: OneTable, model: PitzerModel, st: _State, every, warm, b
         a = None if x0 is None or not np.isfinite(x0[i]) else float(x0[i])
         x, m, lg, extra, rounds, ok = solve_one_pitzer(
             ot, scalar, totals[i].tolist(), 1.0 / float(water_kg_per_l[i]), a, hold,
-            st.v[near].tolist())
+            st.v[near].tolist(), None if water is None else water.one(i))
         st.x[i], st.m[i], st.v[i] = x, m, lg + [math.log10(extra[1])]
-        st.extra[i], st.rounds[i], st.ok[i] = extra, rounds, ok
+        st.extra[i], st.w[i], st.rounds[i], st.ok[i] = extra[:3], extra[3], rounds, ok
 
 
 def batch_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
-                  water_kg_per_l: np.ndarray, held=None, x0=None, v0=None) -> Outcome:
+                  water_kg_per_l: np.ndarray, held=None, x0=None, v0=None,
+                  water=None) -> Outcome:
     """The :class:`Outcome` of a batch (``totals`` (N, C) mol/L) as ``outer`` gives it
-    (``held``, ``x0`` and ``v0``: see :func:`few_outcome`)."""
+    (``held``, ``x0``, ``v0`` and ``water``: see :func:`few_outcome`)."""
     bt = batch_table(ot)
-    st = solve_batch(bt, model, totals, water_kg_per_l, held, x0, v0, ot)
-    w = water_kg_per_l
+    st = solve_batch(bt, model, totals, water_kg_per_l, held, x0, v0, ot, water)
+    w = st.w
     lg = st.v[:, :bt.n]
     table = st.m * w[:, None]
     # the systems' dissolved totals (a salt holds the rest) and their shares
@@ -529,6 +339,7 @@ def batch_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
         else np.zeros((0, totals.shape[0]))
     phi, aw, ionic = st.extra.T
     extra = _batch_extra(model, st.m, ionic, aw, phi)
+    extra["water_kg_per_l"] = w
     return Outcome(st.x + np.log10(w), np.zeros_like(w), st.ok, int(st.rounds.max(initial=0)),
                    table, lg, -(st.x + lg[:, 0]), (alpha, ceff.copy()), extra)
 
@@ -554,13 +365,17 @@ bench_speciation's concentrated waste (CPU ms, arrays / floats): 12 points 6.1 /
 
 
 def few_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
-                water_kg_per_l: np.ndarray, x0=None, held=None, v0=None) -> Outcome:
+                water_kg_per_l: np.ndarray, x0=None, held=None, v0=None,
+                water=None) -> Outcome:
     """:func:`batch_outcome` of a few points, each solved as one solution
     (:func:`~carboy.model.solver.pitzer_one.one_outcome`) and stacked; the warnings are
     the batch's, worked out once over all its points.  ``x0`` (N,): starts in log10
     m(H+) (NaN: none); ``held`` (N, H): each point's held mol/L of an open table's open
     systems (``pitzer_one.open_table``); ``v0`` (N, U + 1): starts of the coefficients
-    (log10 γ, then log10 a_w; a row with a NaN: none)."""
+    (log10 γ, then log10 a_w; a row with a NaN: none); ``water``
+    (``molality.OpenWater``, with ``held``): each point's water per litre follows what
+    its open systems hold (``water_kg_per_l`` its start); the Outcome's ``extra`` holds
+    the water each point settled with."""
     scalar = scalar_model(model)
     npts = totals.shape[0]
     starts = [None] * npts if x0 is None else \
@@ -568,15 +383,19 @@ def few_outcome(ot: OneTable, model: PitzerModel, totals: np.ndarray,
     fixed = [()] * npts if held is None else [tuple(r) for r in np.asarray(held).tolist()]
     coeffs = [None] * npts if v0 is None else \
         [r if np.isfinite(r).all() else None for r in np.asarray(v0, dtype=float)]
+    waters = [None] * npts if water is None or held is None else \
+        [water.one(i) for i in range(npts)]
     outs = [one_outcome(ot, model, scalar, row, float(w), a, h,
-                        None if c is None else c.tolist())
-            for row, w, a, h, c in zip(totals.tolist(), water_kg_per_l.tolist(), starts,
-                                       fixed, coeffs)]
+                        None if c is None else c.tolist(), f)
+            for row, w, a, h, c, f in zip(totals.tolist(), water_kg_per_l.tolist(), starts,
+                                          fixed, coeffs, waters)]
     table = np.concatenate([o.table for o in outs])
     ionic = np.concatenate([o.extra["ionic_strength_molal"] for o in outs])
-    extra = _batch_extra(model, table / water_kg_per_l[:, None], ionic,
+    w = np.concatenate([o.extra["water_kg_per_l"] for o in outs])
+    extra = _batch_extra(model, table / w[:, None], ionic,
                          np.concatenate([o.extra["water_activity"] for o in outs]),
                          np.concatenate([o.extra["osmotic"] for o in outs]))
+    extra["water_kg_per_l"] = w
     alpha = np.concatenate([o.systems[0] for o in outs], axis=1)
     ceff = np.concatenate([o.systems[1] for o in outs], axis=1)
     return Outcome(np.concatenate([o.x for o in outs]), np.zeros(len(outs)),

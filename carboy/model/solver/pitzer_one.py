@@ -334,24 +334,30 @@ def settled(moved: float, last: float, rounds: int) -> bool:
 
 
 def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
-                     x0: float | None = None, held: tuple = (), v0=None):
+                     x0: float | None = None, held: tuple = (), v0=None, water=None):
     """Solve one solution: ``row`` the batch totals (mol/L), ``per_molar`` mol/kg per
     mol/L; an open table (:func:`open_table`) takes ``held``, the held state's mol/L of
-    each of its open systems in order.  ``x0`` and ``v0`` start x and the coefficients
-    (log10 γ of every column, then log10 a_w: a nearby solution's); a start only saves
-    rounds, the test that ends them is the same.  Returns (x molal, molalities, lg,
-    (φ, a_w, I), rounds, converged)."""
+    each of its open systems in order, and ``water`` (where given: ``OpenWater.one``)
+    gives the kg of water per litre from what those systems hold (mol/L, a list), which
+    the rounds then settle with the coefficients (per_molar its start).  ``x0`` and
+    ``v0`` start x and the coefficients (log10 γ of every column, then log10 a_w: a
+    nearby solution's); a start only saves rounds, the test that ends them is the same.
+    Returns (x molal, molalities, lg, (φ, a_w, I, kg of water per litre), rounds,
+    converged)."""
     ions = [0.0] * ot.n
     for c, b in ot.ions:
         ions[c] += row[b] * per_molar
     sys_tot = [row[b] * per_molar for b, _ in ot.systems]
-    if held:
-        opened = [k for k, ref in enumerate(ot.held) if ref >= 0]
-        for k, v in zip(opened, held):
-            sys_tot[k] = v * per_molar
+    opened = [k for k, ref in enumerate(ot.held) if ref >= 0] if held else []
+    for k, v in zip(opened, held):
+        sys_tot[k] = v * per_molar
+    w = 1.0 / per_molar
     n = ot.n
-    # log10 γ of every column, then log10 a_w
+    # log10 γ of every column, then log10 a_w (and, with water, log10 W: mixed and
+    # tested with the coefficients)
     v = [0.0] * (n + 1) if v0 is None else list(v0)
+    if water is not None:
+        v.append(math.log10(w))
     x = _start(ot, ions, sys_tot) if x0 is None else x0
     prev = None
     moved = last = 1.0
@@ -364,15 +370,30 @@ def solve_one_pitzer(ot: OneTable, model: ScalarPitzer, row, per_molar: float,
         ln, phi, aw, ionic = model.evaluate(m)
         g = [a / LN10 for a in ln]
         g.append(math.log10(aw))
+        if water is not None:   # the water the open systems' holdings leave
+            g.append(math.log10(water([w * sum(m[s[0]] for s in ot.systems[k][1])
+                                       for k in opened])))
         last, moved = moved, max(map(abs, map(sub, g, v)))
-        if settled(moved, last, rounds):
+        # (with the water in the rounds only the plain test: the water follows the open
+        # systems' totals, which follow x, and the contraction estimate misjudged it)
+        if moved <= ONE_TOL or (water is None and settled(moved, last, rounds)):
             if moved > ONE_TOL:
                 g = anderson(v, g, prev)
+            if water is not None:
+                ions, sys_tot, w = _rewater(ions, sys_tot, w, 10.0 ** g[n + 1])
             x, m = solve_x(ot, x, g, g[n], ions, sys_tot)
-            return x, m, g[:n], (phi, aw, ionic), rounds, True
+            return x, m, g[:n], (phi, aw, ionic, w), rounds, True
         if rounds < ONE_ROUNDS:
             v, prev = anderson(v, g, prev), (v, g)
-    return x, m, g[:n], (phi, aw, ionic), ONE_ROUNDS, False
+            if water is not None:
+                ions, sys_tot, w = _rewater(ions, sys_tot, w, 10.0 ** v[n + 1])
+    return x, m, g[:n], (phi, aw, ionic, w), ONE_ROUNDS, False
+
+
+def _rewater(ions: list, sys_tot: list, w: float, new: float):
+    """The molalities at the water per litre ``new`` (they were at ``w``)."""
+    ratio = w / new
+    return [a * ratio for a in ions], [a * ratio for a in sys_tot], new
 
 
 _ONE: dict = {}
@@ -416,14 +437,14 @@ def open_table(ot: OneTable, held: tuple) -> OneTable | None:
 
 
 def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: float,
-                x0: float | None = None, held: tuple = (), v0=None):
+                x0: float | None = None, held: tuple = (), v0=None, water=None):
     """The :class:`~carboy.model.solver.outer.Outcome` of one solution (``row`` its batch
     totals, mol/L) as the vectorized path gives it: concentrations in mol/L, x = log10
-    [H+] in mol/L, the Pitzer model's (``model``) warnings at the composition.  ``x0``
-    (log10 m(H+), mol/kg), ``held`` and ``v0``: see :func:`solve_one_pitzer`."""
-    w = water_kg_per_l
-    x, m, lg, (phi, aw, ionic), rounds, ok = solve_one_pitzer(ot, scalar, row, 1.0 / w, x0,
-                                                             held, v0)
+    [H+] in mol/L, the Pitzer model's (``model``) warnings at the composition, the water
+    per litre (``extra``).  ``x0`` (log10 m(H+), mol/kg), ``held``, ``v0`` and
+    ``water``: see :func:`solve_one_pitzer`."""
+    x, m, lg, (phi, aw, ionic, w), rounds, ok = solve_one_pitzer(
+        ot, scalar, row, 1.0 / water_kg_per_l, x0, held, v0, water)
     table = np.array([m]) * w
     alpha, ceff = [], []
     for _, states in ot.systems:
@@ -433,7 +454,7 @@ def one_outcome(ot: OneTable, model, scalar: ScalarPitzer, row, water_kg_per_l: 
     here, warnings = model_warnings(model, m, ionic)
     extra = {"ionic_strength_molal": np.array([ionic]), "water_activity": np.array([aw]),
              "osmotic": np.array([phi]), "valid": np.array([ionic <= I_MAX_MOLAL and not here]),
-             "point_warnings": [warnings]}
+             "point_warnings": [warnings], "water_kg_per_l": np.array([w])}
     return Outcome(np.array([x + math.log10(w)]), np.zeros(1), np.array([ok]), rounds,
                    table, np.array([lg]), np.array([-(x + lg[0])]),
                    (np.array(alpha).reshape(-1, 1), np.array(ceff).reshape(-1, 1)), extra)
