@@ -131,12 +131,17 @@ def water_kg_per_litre(catalog, keys: tuple[str, ...], totals, temperature_c: fl
     return w, ((ESTIMATE_NOTE,) if estimated.any() and totals.any() else ())
 
 
+def _estimate(vol, net, v_oh: float, rho: float):
+    """W (kg/L) from the solutes' volume (cm³ in a litre) and their net charge (mol/L;
+    +: balanced by OH-, whose volume counts too), on arrays."""
+    return rho * np.maximum(1.0 - (vol + np.maximum(net, 0.0) * v_oh) / 1000.0, 0.05)
+
+
 def _water(catalog, keys: tuple[str, ...], totals: np.ndarray, temperature_c: float):
     """(W (N,), estimated (N,) bool: not from a density table)."""
     vol, charge, tabled, v_oh = _layout_of(catalog, tuple(keys))
-    net = np.einsum("nk,k->n", totals, charge)          # + : balanced by OH-
-    solute_l = (np.einsum("nk,k->n", totals, vol) + np.maximum(net, 0.0) * v_oh) / 1000.0
-    w = water.density_g_cm3(temperature_c) * np.maximum(1.0 - solute_l, 0.05)
+    w = _estimate(np.einsum("nk,k->n", totals, vol), np.einsum("nk,k->n", totals, charge),
+                  v_oh, water.density_g_cm3(temperature_c))
     estimated = np.ones(w.shape, dtype=bool)
     if tabled and totals.shape[0] <= 64:   # one compound's solutions: its own table
         for n in range(totals.shape[0]):
@@ -163,9 +168,8 @@ class OpenWater:
 
     def at(self, c: np.ndarray, idx) -> np.ndarray:
         """W (kg/L) of the points ``idx`` holding ``c`` (len(idx), H) mol/L."""
-        net = self.net[idx] + np.einsum("nh,h->n", c, self.z)
-        vol = self.vol[idx] + np.einsum("nh,h->n", c, self.v)
-        w = self.rho * np.maximum(1.0 - (vol + np.maximum(net, 0.0) * self.v_oh) / 1000.0, 0.05)
+        w = _estimate(self.vol[idx] + np.einsum("nh,h->n", c, self.v),
+                      self.net[idx] + np.einsum("nh,h->n", c, self.z), self.v_oh, self.rho)
         fixed = self.table[idx]
         return np.where(np.isnan(fixed), w, fixed)
 
@@ -178,9 +182,8 @@ class OpenWater:
         vs, zs = self.v.tolist(), self.z.tolist()
 
         def water(c: list) -> float:
-            net = net0 + sum(map(mul, c, zs))
-            vol = vol0 + sum(map(mul, c, vs))
-            return rho * max(1.0 - (vol + max(net, 0.0) * v_oh) / 1000.0, 0.05)
+            return _estimate_one(vol0 + sum(map(mul, c, vs)), net0 + sum(map(mul, c, zs)),
+                                 v_oh, rho)
 
         return water
 
@@ -206,14 +209,18 @@ def water_kg_one(catalog, keys: tuple[str, ...], row, temperature_c: float
     """:func:`water_kg_per_litre` of one mixture (``row`` its totals, mol/L, a list), in
     floats: the one-solution paths call it once per solve."""
     vol, charge, tabled, v_oh = _float_layout(catalog, tuple(keys))
-    net = sum(map(mul, row, charge))
-    solute_l = (sum(map(mul, row, vol)) + max(net, 0.0) * v_oh) / 1000.0
-    w = water.density_g_cm3(temperature_c) * max(1.0 - solute_l, 0.05)
+    w = _estimate_one(sum(map(mul, row, vol)), sum(map(mul, row, charge)), v_oh,
+                      water.density_g_cm3(temperature_c))
     if tabled:
         got = _from_table(catalog, row, tabled)
         if got is not None:
             return got, ()
     return w, ((ESTIMATE_NOTE,) if any(row) else ())
+
+
+def _estimate_one(vol: float, net: float, v_oh: float, rho: float) -> float:
+    """:func:`_estimate` on floats (the one-solution paths)."""
+    return rho * max(1.0 - (vol + max(net, 0.0) * v_oh) / 1000.0, 0.05)
 
 
 @lru_cache(maxsize=256)
