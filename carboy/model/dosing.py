@@ -108,21 +108,19 @@ class Dosing:
     def _along_curve(self, n: np.ndarray, vented, air, curve):
         """Starts of the Pitzer coefficients of the points ``n`` from the vented ``curve``
         (straight between grid amounts): a point whose vented state is the one open to
-        air (``air``: its coefficients there, NaN elsewhere) from those plus the curve's
-        move from the state open to air, another vented point from the curve's own, a
-        point right after the addition from none.  ``air`` itself where there is no
-        curve of coefficients."""
+        air (``air``: its coefficients there, NaN elsewhere) from those (its own state,
+        settled), another vented point from the curve's own, a point right after the
+        addition from none.  ``air`` itself where there is no curve of coefficients."""
         on_curve = coefficients_of(curve)
-        if on_curve is None or self.grid_air is None or air is None:
+        if on_curve is None or air is None:
             return air
-        moved = on_curve - coefficients_of(self.grid_air.result)
         k = np.clip(np.searchsorted(self.grid, n), 1, self.grid.size - 1)
         t = ((n - self.grid[k - 1]) / (self.grid[k] - self.grid[k - 1]))[:, None]
 
         def straight(v):
             return v[k - 1] + t * (v[k] - v[k - 1])
 
-        out = np.where(np.isfinite(air), air + straight(moved), straight(on_curve))
+        out = np.where(np.isfinite(air), air, straight(on_curve))
         out[~np.broadcast_to(np.asarray(vented, dtype=bool), n.shape)] = np.nan
         return out
 
