@@ -163,11 +163,13 @@ SEEDED_TOL = 1e-2
 
 
 def _seed(ot: OneTable, model: PitzerModel, st: _State, coarse, totals, water_kg_per_l,
-          held, water=None) -> bool:
+          held, water=None, molal=None) -> bool:
     """Start the ``coarse`` points' coefficients from ``SEEDS`` of them solved one by one
     on floats, linearly in the point index (x keeps its start from the totals: along a
-    curve it jumps where the coefficients do not); False where a seed did not settle
-    (the coarse points then start from coefficients of 1).  On bench_speciation's
+    curve it jumps where the coefficients do not), and with ``water`` their water per
+    litre (the seeds' ratio to their start, ``molal`` the (ions, sys_tot) it rescales);
+    False where a seed did not settle (the coarse points then start from coefficients
+    of 1).  On bench_speciation's
     concentrated waste the coarse rounds fall from five to four."""
     scalar = scalar_model(model)
     at = np.array(sorted({int(coarse[round(k * (coarse.shape[0] - 1) / (SEEDS - 1))])
@@ -175,15 +177,18 @@ def _seed(ot: OneTable, model: PitzerModel, st: _State, coarse, totals, water_kg
     vs = []
     for i in at.tolist():
         hold = () if held is None else tuple(np.asarray(held[i], dtype=float).tolist())
-        _, _, lg, (_, aw, _, _), _, ok = solve_one_pitzer(
+        _, _, lg, (_, aw, _, w), _, ok = solve_one_pitzer(
             ot, scalar, totals[i].tolist(), 1.0 / float(water_kg_per_l[i]), None, hold,
             None, None if water is None else water.one(i))
         if not ok:
             return False
-        vs.append(lg + [math.log10(aw)])
+        vs.append(lg + [math.log10(aw), math.log10(w / float(water_kg_per_l[i]))])
     vs = np.array(vs)
-    for k in range(vs.shape[1]):
+    for k in range(vs.shape[1] - 1):
         st.v[coarse, k] = np.interp(coarse, at, vs[:, k])
+    if water is not None:   # the water: its seeds' ratio to the start's
+        _set_water(st, coarse, st.w[coarse] * 10.0 ** np.interp(coarse, at, vs[:, -1]),
+                   *molal)
     return True
 
 
@@ -279,7 +284,7 @@ def solve_batch(bt: BatchTable, model: PitzerModel, totals: np.ndarray,
         coarse = every[pick]
         first = COLD_TOL
         if ot is not None and _seed(ot, model, st, coarse, totals, water_kg_per_l, held,
-                                    water):
+                                    water, (ions, sys_tot)):
             first = SEEDED_TOL
         _rounds(bt, model, st, coarse, ions, sys_tot, first, water)
         fine = every[~pick]
