@@ -50,12 +50,23 @@ def interleaved(sides: dict[str, Callable[[], object]], rounds: int) -> dict[str
 def peak_rss_mb(module: str, function: str, *args) -> float:
     """Peak resident memory (MB) of a fresh process that runs ``module.function(*args)``
     once (its setup and its work)."""
+    return in_fresh_process(module, function, *args)[1]
+
+
+def in_fresh_process(module: str, function: str, *args) -> tuple[object, float]:
+    """``module.function(*args)`` (a benchmark module here) run in a fresh Python
+    process: what it returns (through JSON) and that process's peak resident memory in
+    MB (its setup and its work)."""
     code = (f"import sys, json; sys.path.insert(0, {str(HERE)!r}); import _bench; "
-            f"import {module} as m; m.{function}(*json.loads(sys.argv[1])); "
-            "print(_bench.own_peak_kb())")
-    out = subprocess.run([sys.executable, "-c", code, json.dumps(list(args))],
-                         capture_output=True, text=True, check=True)
-    return int(out.stdout.split()[-1]) / 1024.0
+            f"import {module} as m; got = m.{function}(*json.loads(sys.argv[1])); "
+            "print(json.dumps([got, _bench.own_peak_kb()]))")
+    done = subprocess.run([sys.executable, "-c", code, json.dumps(list(args))],
+                          capture_output=True, text=True)
+    if done.returncode:
+        raise RuntimeError(f"{module}.{function} failed in its process:\n"
+                           f"{done.stderr[-3000:]}")
+    got, kb = json.loads(done.stdout.splitlines()[-1])
+    return got, kb / 1024.0
 
 
 def own_peak_kb() -> int:

@@ -61,6 +61,14 @@ _JOURNAL_COLUMNS = ("kind", "recorded_at", "recorded_by", "origin", "bottle_id",
                     "container_id", "corrects_id", "summary", "snapshot_json")
 
 
+def insert_bottles(s, rows) -> None:
+    """Write the bottles ``rows`` (tuples in ``_BOTTLE_COLUMNS`` order) in one statement;
+    ``s`` is the store inside its write."""
+    insert = (f"INSERT INTO stock_bottles ({', '.join(_BOTTLE_COLUMNS)}) "
+              f"VALUES ({', '.join('?' for _ in _BOTTLE_COLUMNS)})")
+    s.conn.executemany(insert, rows)
+
+
 def _stamp(moment: datetime) -> str:
     return moment.astimezone(UTC).isoformat(timespec="milliseconds")
 
@@ -164,10 +172,7 @@ def build(path: Path, *, bottles: int, entries: int, seed: int = 7) -> dict[str,
     store.write(make_waste)
     times["waste"] = time.perf_counter() - t
     t = time.perf_counter()
-    insert = (f"INSERT INTO stock_bottles ({', '.join(_BOTTLE_COLUMNS)}) "
-              f"VALUES ({', '.join('?' for _ in _BOTTLE_COLUMNS)})")
-    store.write(lambda s: s.conn.executemany(
-        insert, (_bottle(rng, i, names) for i in range(bottles))))
+    store.write(lambda s: insert_bottles(s, (_bottle(rng, i, names) for i in range(bottles))))
     times["bottles"] = time.perf_counter() - t
     t = time.perf_counter()
     insert = (f"INSERT INTO journal_entries ({', '.join(_JOURNAL_COLUMNS)}) "
