@@ -12,6 +12,12 @@ thread, message back, panels, table, curve and cautions updated).  The planner a
 (:func:`compute`, no screen) is timed too.  Medians, 95th percentiles and maxima in
 milliseconds.  This is the app's own view, driven headless; the time until the terminal
 shows it (drawing and writing the frame included) is ``bench_startup.py``'s.
+
+Each of the two runs in a fresh Python process of its own (the demo storeroom built
+there, in a temporary folder), whose peak memory (RSS, ``VmHWM``: setup and work) is
+reported beside the times.  :func:`figures` (for ``run_all.py``) returns one
+``_bench.Row`` per case and part, and the two peaks; :func:`main` prints the runs in
+detail, then the same table.
 """
 
 from __future__ import annotations
@@ -24,8 +30,11 @@ import tempfile
 import time
 from pathlib import Path
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+HERE = Path(__file__).resolve().parent
+sys.path.insert(0, str(HERE.parents[1]))
+sys.path.insert(0, str(HERE))
 
+from _bench import Row, in_fresh_process, print_table  # noqa: E402
 from textual.widgets import Input  # noqa: E402
 
 from carboy.model.forms.neutralize import NeutralizeFields  # noqa: E402
@@ -48,6 +57,7 @@ CASES = [
     (None, "NaOH=2M"),  # typed: H2SO4=0.05M NaH2PO4=10mM in 250 mL
 ]
 TARGETS = ("7.5", "7.0")
+TYPED = "H2SO4=0.05M NaH2PO4=10mM in 250 mL"
 
 
 async def _wait(pilot, condition, timeout=20.0):
@@ -138,6 +148,13 @@ def bench_compute(repeat: int) -> dict[str, list[float]]:
     return out
 
 
+def screen_figures(repeat: int) -> dict[str, list[float]]:
+    """The keystroke figures of the screen, on a demo storeroom of their own."""
+    with tempfile.TemporaryDirectory() as tmp:
+        db = create_demo_database(Path(tmp) / "demo.db", today=DEMO_TODAY)
+        return asyncio.run(bench_screen(db, repeat))
+
+
 def p95(times: list[float]) -> float:
     ordered = sorted(times)
     return ordered[min(len(ordered) - 1, round(0.95 * (len(ordered) - 1)))]
@@ -152,16 +169,47 @@ def report(title: str, figures: dict[str, list[float]]) -> None:
               f"max {worst:7.1f} ms   (n={len(times)})")
 
 
+def rows(what: str, figures: dict[str, list[float]], peak_mb: float, how: str) -> list[Row]:
+    """One row per case (median and p95 against both targets), and the peak memory."""
+    reagents = {label or "typed": reagent for label, reagent in CASES}
+    out = []
+    for name, times in figures.items():
+        med, high = statistics.median(times), p95(times)
+        sample = f"; typed sample {TYPED}" if name == "typed" else ""
+        out.append(Row(f"neutralize: {what}, {name} + {reagents[name]}",
+                       f"{med:.1f} / {high:.1f} ms",
+                       f"median <= {TARGET_MS:g}, p95 <= {P95_TARGET_MS:g} ms",
+                       med <= TARGET_MS and high <= P95_TARGET_MS,
+                       f"median / p95; max {max(times):.1f} ms, n={len(times)}{sample}"))
+    out.append(Row(f"neutralize: {what}, peak RSS", f"{peak_mb:.0f} MB", "reported", True,
+                   how))
+    return out
+
+
+def figures(repeat: int = 20, *, show: bool = False) -> list[Row]:
+    """The figures :func:`main` measures (same default), one ``Row`` each; ``show``:
+    print every case in detail too, as soon as it is measured."""
+    targets = f"targets median {TARGET_MS:g} ms, p95 {P95_TARGET_MS:g} ms"
+    alone, alone_mb = in_fresh_process("bench_neutralize", "bench_compute", repeat)
+    if show:
+        report(f"planner alone (compute), {targets}", alone)
+    keyed, keyed_mb = in_fresh_process("bench_neutralize", "screen_figures", repeat)
+    if show:
+        report(f"keystroke -> plan applied (headless), {targets}", keyed)
+    return (rows("planner alone", alone, alone_mb,
+                 f"its process: the demo storeroom, compute() {repeat + 1} times a case")
+            + rows("headless key to plan applied", keyed, keyed_mb,
+                   f"its process: the demo storeroom, the app headless at 100x36, "
+                   f"{repeat} timed keys a case"))
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=20)
     args = parser.parse_args()
-    targets = f"targets median {TARGET_MS:g} ms, p95 {P95_TARGET_MS:g} ms"
-    report(f"planner alone (compute), {targets}", bench_compute(args.repeat))
-    with tempfile.TemporaryDirectory() as tmp:
-        db = create_demo_database(Path(tmp) / "demo.db", today=DEMO_TODAY)
-        figures = asyncio.run(bench_screen(db, args.repeat))
-    report(f"keystroke -> plan applied (headless), {targets}", figures)
+    rows_ = figures(args.repeat, show=True)
+    print()
+    print_table(rows_, "Neutralize: the planner alone, and a keystroke to the plan applied")
 
 
 if __name__ == "__main__":

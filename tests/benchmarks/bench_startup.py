@@ -27,12 +27,19 @@ terminals do, so each frame arrives whole between two marks.
 
 Targets (issue 13, point 7): first frame ≤ 0.6 s median; keystroke to redraw ≤ 50 ms
 median and ≤ 100 ms at the 95th percentile.  Figures are noisy on a busy machine: run
-``--sessions`` more than once and read the best session.
+``--sessions`` more than once and read the best session (the table's row per screen is
+the best session's).  Beside each time, the peak memory (RSS, ``VmHWM``) of the app's
+process, read just before it is asked to quit: at its first frame, or over a session.
+
+:func:`figures` (for ``run_all.py``) measures what :func:`main` does with its default
+options and returns one ``_bench.Row`` per figure; :func:`main` prints the runs in
+detail, then the same table.
 """
 
 from __future__ import annotations
 
 import argparse
+import math
 import os
 import statistics
 import sys
@@ -42,6 +49,7 @@ from pathlib import Path
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 
+from _bench import Row, print_table  # noqa: E402
 from benchkit import machine_note  # noqa: E402
 from ptyterm import PtyTerminal  # noqa: E402
 
@@ -72,25 +80,48 @@ def start(cache: Path, cols: int = 80, rows: int = 24) -> PtyTerminal:
     return PtyTerminal([*CARBOY, "--demo"], environment(cache), cols, rows)
 
 
-def first_frame_s(cache: Path) -> float:
-    """Seconds from process start to the first page of the stock list on screen."""
+def child_peak_mb(pid: int) -> float:
+    """Peak resident memory (MB) of the running process ``pid`` so far: ``VmHWM`` of
+    /proc/<pid>/status (NaN where there is no /proc)."""
+    try:
+        with open(f"/proc/{pid}/status", encoding="ascii") as f:
+            for line in f:
+                if line.startswith("VmHWM:"):
+                    return int(line.split()[1]) / 1024.0
+    except OSError:
+        pass
+    return math.nan
+
+
+def first_frame_s(cache: Path, peaks: list[float] | None = None) -> float:
+    """Seconds from process start to the first page of the stock list on screen (and
+    the app's peak memory at that frame, in MB, appended to ``peaks``)."""
     term = start(cache)
     try:
-        return term.until(lambda t: t.contains(FIRST_PAGE)) - term.started
+        shown = term.until(lambda t: t.contains(FIRST_PAGE)) - term.started
+        if peaks is not None:
+            peaks.append(child_peak_mb(term.pid))
+        return shown
     finally:
         term.close()
 
 
-def first_frames(runs: int, *, cold: bool = True) -> dict[str, list[float]]:
-    """Warm and cold starts, interleaved (a cold one has a cache folder of its own)."""
+def first_frames(runs: int, *, cold: bool = True,
+                 peaks: dict[str, list[float]] | None = None) -> dict[str, list[float]]:
+    """Warm and cold starts, interleaved (a cold one has a cache folder of its own); the
+    app's peak memory of each start (MB) into ``peaks``, by the same names."""
     out: dict[str, list[float]] = {"warm cache": [], "cold cache": []}
+    rss: dict[str, list[float]] = {name: [] for name in out}
     with tempfile.TemporaryDirectory(prefix="carboy-bench-") as tmp:
         warm = Path(tmp) / "warm"
         first_frame_s(warm)  # builds the day's demo storeroom (and compiles bytecode)
         for n in range(runs):
-            out["warm cache"].append(first_frame_s(warm))
+            out["warm cache"].append(first_frame_s(warm, rss["warm cache"]))
             if cold:
-                out["cold cache"].append(first_frame_s(Path(tmp) / f"cold-{n}"))
+                out["cold cache"].append(first_frame_s(Path(tmp) / f"cold-{n}",
+                                                       rss["cold cache"]))
+    if peaks is not None:
+        peaks.update({name: mb for name, mb in rss.items() if mb})
     return {name: runs for name, runs in out.items() if runs}
 
 
@@ -106,8 +137,10 @@ def timed_key(term: PtyTerminal, key: str, quiet_s: float) -> float:
     return (settled_at - sent) * 1000.0
 
 
-def keystrokes(keys: int, quiet_s: float) -> dict[str, list[float]]:
-    """One session: the stock list, the waste list, the Neutralize screen on AL-03."""
+def keystrokes(keys: int, quiet_s: float,
+               peaks: list[float] | None = None) -> dict[str, list[float]]:
+    """One session: the stock list, the waste list, the Neutralize screen on AL-03 (the
+    app's peak memory over the session, in MB, appended to ``peaks``)."""
     out: dict[str, list[float]] = {}
     with tempfile.TemporaryDirectory(prefix="carboy-bench-") as tmp:
         term = start(Path(tmp), 100, 36)
@@ -127,6 +160,8 @@ def keystrokes(keys: int, quiet_s: float) -> dict[str, list[float]]:
             term.press("\x1b[F")  # End: the cursor after the text, nothing selected
             term.until(lambda t: t.contains("understood: HCl"), timeout=30)
             out["neutralize AL-03, target pH digit"] = _target_digits(term, keys, quiet_s)
+            if peaks is not None:
+                peaks.append(child_peak_mb(term.pid))
         finally:
             term.close()
     return out
@@ -161,28 +196,98 @@ def report_first(frames: dict[str, list[float]]) -> None:
               f"worst {max(runs) * 1000:6.0f} ms  (n={len(runs)})  {verdict}")
 
 
+def best_sessions(sessions: list[dict[str, list[float]]]) -> dict[str, tuple[float, float]]:
+    """Per screen, the (median, p95) of its best session: the lowest median, then p95."""
+    best: dict[str, tuple[float, float]] = {}
+    for figures in sessions:
+        for name, times in figures.items():
+            now = (statistics.median(times), p95(times))
+            if name not in best or now < best[name]:
+                best[name] = now
+    return best
+
+
 def report_keys(sessions: list[dict[str, list[float]]]) -> None:
     print(f"\nkeystroke to redraw (real pty, 100x36), targets median <= "
           f"{KEY_MEDIAN_TARGET_MS:g} ms, p95 <= {KEY_P95_TARGET_MS:g} ms")
-    best: dict[str, tuple[float, float]] = {}
     for n, figures in enumerate(sessions, 1):
         print(f" session {n}")
         for name, times in figures.items():
             med, high = statistics.median(times), p95(times)
             print(f"  {name:<36} median {med:6.1f} ms  p95 {high:6.1f} ms  "
                   f"max {max(times):6.1f} ms  (n={len(times)})  {_verdict(med, high)}")
-            was = best.get(name)
-            if was is None or (med, high) < was:
-                best[name] = (med, high)
     if len(sessions) > 1:
         print(" best session per screen")
-        for name, (med, high) in best.items():
+        for name, (med, high) in best_sessions(sessions).items():
             print(f"  {name:<36} median {med:6.1f} ms  p95 {high:6.1f} ms  "
                   f"{_verdict(med, high)}")
 
 
 def _verdict(med: float, high: float) -> str:
-    return "met" if med <= KEY_MEDIAN_TARGET_MS and high <= KEY_P95_TARGET_MS else "MISSED"
+    return "met" if _met(med, high) else "MISSED"
+
+
+def _met(med: float, high: float) -> bool:
+    return med <= KEY_MEDIAN_TARGET_MS and high <= KEY_P95_TARGET_MS
+
+
+def highest_mb(values: list[float]) -> str:
+    """The highest of some peak-memory readings, in MB ("n/a" without /proc)."""
+    known = [v for v in values if not math.isnan(v)]
+    return f"{max(known):.0f} MB" if known else "n/a"
+
+
+def first_frame_rows(frames: dict[str, list[float]],
+                     peaks: dict[str, list[float]]) -> list[Row]:
+    """One row per kind of start: the median, against the target."""
+    rows = []
+    for name, runs in frames.items():
+        med = statistics.median(runs)
+        rows.append(Row(f"startup: first frame, {name}", f"{med * 1000:.0f} ms",
+                        f"median <= {FIRST_FRAME_TARGET_S:g} s", med <= FIRST_FRAME_TARGET_S,
+                        f"best {min(runs) * 1000:.0f} ms, worst {max(runs) * 1000:.0f} ms, "
+                        f"n={len(runs)}, real pty 80x24; app's peak RSS at its first frame "
+                        f"{highest_mb(peaks.get(name, []))}"))
+    return rows
+
+
+def key_rows(sessions: list[dict[str, list[float]]], peaks: list[float]) -> list[Row]:
+    """One row per screen: the best session's median and p95, against both targets; and
+    the app's peak memory over a session."""
+    rows = []
+    for name, (med, high) in best_sessions(sessions).items():
+        every = ", ".join(f"{statistics.median(s[name]):.1f}" for s in sessions)
+        which = (f"best of {len(sessions)} sessions (lowest median, then p95); medians "
+                 f"{every} ms" if len(sessions) > 1 else "one session")
+        rows.append(Row(f"startup: key to redraw, {name}", f"{med:.1f} / {high:.1f} ms",
+                        f"median <= {KEY_MEDIAN_TARGET_MS:g}, p95 <= {KEY_P95_TARGET_MS:g} ms",
+                        _met(med, high),
+                        f"median / p95; {which}; n={len(sessions[0][name])} keys a session, "
+                        "real pty 100x36"))
+    rows.append(Row("startup: key sessions, app's peak RSS", highest_mb(peaks), "reported",
+                    True, f"the app's VmHWM just before it quits, the highest of "
+                    f"{len(sessions)} session(s) (each: all three screens)"))
+    return rows
+
+
+def figures(starts: int = 7, keys: int = 40, sessions: int = 2, quiet: float = 0.4,
+            only: str | None = None, *, show: bool = False) -> list[Row]:
+    """The figures :func:`main` measures (same defaults), one ``Row`` each; ``show``:
+    print every run in detail too, each half as soon as it is measured."""
+    rows = []
+    if only != "keys":
+        peaks: dict[str, list[float]] = {}
+        frames = first_frames(starts, peaks=peaks)
+        if show:
+            report_first(frames)
+        rows += first_frame_rows(frames, peaks)
+    if only != "starts":
+        rss: list[float] = []
+        runs = [keystrokes(keys, quiet, rss) for _ in range(sessions)]
+        if show:
+            report_keys(runs)
+        rows += key_rows(runs, rss)
+    return rows
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -198,10 +303,10 @@ def main(argv: list[str] | None = None) -> int:
     global SOURCE
     SOURCE = args.source
     print(machine_note() + (f"; carboy from {SOURCE}" if SOURCE else ""))
-    if args.only != "keys":
-        report_first(first_frames(args.starts))
-    if args.only != "starts":
-        report_keys([keystrokes(args.keys, args.quiet) for _ in range(args.sessions)])
+    rows = figures(args.starts, args.keys, args.sessions, args.quiet, args.only, show=True)
+    print()
+    print_table(rows, "first frame and keystroke to redraw, real pty" + (
+        f" (carboy from {SOURCE})" if SOURCE else ""))
     return 0
 
 
