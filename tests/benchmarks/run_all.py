@@ -2,9 +2,15 @@
 
 Run by hand:  python tests/benchmarks/run_all.py [name ...]
 
-Each benchmark module named ``bench_*.py`` here that has a ``figures()`` function (a
-list of ``_bench.Row``) is run in turn; names on the command line pick some
-(``speciation``, ``planner``).  The exit status is 1 when a target is missed.
+Each benchmark module named ``bench_*.py`` here has a ``figures()`` function (a list of
+``_bench.Row``) and is run in turn; names on the command line pick some (``speciation``,
+``planner``, ``store``, ``start``, ``startup``, ``tui``, ``neutralize``, ``upkeep``,
+``pitzer``).  The exit status is 1 when a target is missed.  Every module also runs alone
+(``python tests/benchmarks/bench_NAME.py``, with its own options).
+
+The whole run takes some minutes: about 3 of them build the store's storerooms (a
+million bottles and a million journal entries), unless ``CARBOY_BENCH_DIR`` names a
+folder where they are kept from an earlier run (``bench_store.py``).
 """
 
 from __future__ import annotations
@@ -33,7 +39,8 @@ def main(argv: list[str]) -> int:
             rows.extend(module.figures())
         else:
             by_hand.append(name)
-    print_table(rows, "carboy benchmarks (medians of interleaved runs, one core kept busy)")
+    print_table(rows, "carboy benchmarks: figure, measured, target, verdict (medians; how each "
+                      "is taken, peer and load included: its module's docstring)")
     if by_hand:
         print("no figures() yet, run by hand: " + ", ".join(f"bench_{n}.py" for n in by_hand))
     return 0 if all(r.ok for r in rows) else 1
