@@ -169,7 +169,13 @@ def keystrokes(keys: int, quiet_s: float,
 
 def _alternate(term: PtyTerminal, pair: tuple[str, str], keys: int,
                quiet_s: float) -> list[float]:
-    return [timed_key(term, pair[n % 2], quiet_s) for n in range(keys)]
+    """``keys`` timed keys, the two of ``pair`` in turn; after an odd number one more of
+    the second, untimed, so the cursor ends where it started (on the waste list the
+    session goes on from AL-03)."""
+    times = [timed_key(term, pair[n % 2], quiet_s) for n in range(keys)]
+    if keys % 2:
+        timed_key(term, pair[1], quiet_s)
+    return times
 
 
 def _target_digits(term: PtyTerminal, keys: int, quiet_s: float) -> list[float]:
