@@ -143,12 +143,35 @@ def _water(catalog, keys: tuple[str, ...], totals: np.ndarray, temperature_c: fl
     w = _estimate(np.einsum("nk,k->n", totals, vol), np.einsum("nk,k->n", totals, charge),
                   v_oh, water.density_g_cm3(temperature_c))
     estimated = np.ones(w.shape, dtype=bool)
-    if tabled and totals.shape[0] <= 64:   # one compound's solutions: its own table
-        for n in range(totals.shape[0]):
-            got = _from_table(catalog, totals[n].tolist(), tabled)
+    rows = _one_compound(totals, tabled)   # one compound's solutions: its own table
+    if rows.size:   # each different row looked up once (a curve has one: its start)
+        uniq, inv = np.unique(totals[rows], axis=0, return_inverse=True)
+        for u, row in enumerate(uniq.tolist()):
+            got = _from_table(catalog, row, tabled)
             if got is not None:
-                w[n], estimated[n] = got, False
+                at = rows[inv.ravel() == u]
+                w[at], estimated[at] = got, False
     return w, estimated
+
+
+def _one_compound(totals: np.ndarray, tabled) -> np.ndarray:
+    """The rows of ``totals`` that could be one tabled compound's solution (its keys in
+    its proportions, no other key), as :func:`_from_table` checks one row: first by
+    which keys a row holds (one integer a row), then the proportions of those few."""
+    if not tabled or totals.shape[1] > 62:
+        return np.zeros(0, dtype=np.intp)
+    held = np.einsum("nk,k->n", (totals != 0.0).astype(np.int64),
+                     np.left_shift(1, np.arange(totals.shape[1], dtype=np.int64)))
+    hit = []
+    for _, counts, _ in tabled:
+        rows = np.flatnonzero(held == sum(1 << k for k, n in enumerate(counts) if n > 0))
+        if rows.size:
+            cnt = np.asarray(counts, dtype=float)
+            per = totals[np.ix_(rows, cnt > 0)] / cnt[cnt > 0]
+            first = per[:, :1]
+            ok = (first[:, 0] > 0) & np.all(np.abs(per - first) <= 1e-9 * first, axis=1)
+            hit.append(rows[ok])
+    return np.unique(np.concatenate(hit)) if hit else np.zeros(0, dtype=np.intp)
 
 
 @dataclass(frozen=True, eq=False, repr=False)
