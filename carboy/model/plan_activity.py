@@ -14,7 +14,9 @@ Calcium and magnesium stay on the Pitzer path while they are dissolved; where on
 their solids would form at one of those states, the batch falls back to the metal path
 with the Davies equation (``pitzer_metals``), and so does the whole plan (``"auto"`` or
 ``"pitzer"`` become ``"davies"``: with metals present auto's Davies branch has no pairs,
-the same solve).
+the same solve).  So does a plan where the Pitzer model cannot be evaluated at one of
+those states at all (a concentrate far past its range, ``pitzer_reach``): the plan's
+warnings say why (``PlanRequest.activity_note``).
 """
 
 from __future__ import annotations
@@ -26,6 +28,7 @@ import numpy as np
 from carboy.model.dosing import CURVE_SPAN
 from carboy.model.metal_index import modelled_among
 from carboy.model.mixture import titration_batch
+from carboy.model.pitzer_reach import AUTO_NOTE_START
 from carboy.model.speciation import speciate_batch
 
 SOLID_CHECK_POINTS = 41
@@ -73,15 +76,20 @@ def settle_with_sample(req, n_full: float, *, sample_too: bool = False):
         res = speciate_batch(batch, activity=req.activity, catalog=req.catalog)
         used = res.model_part.model if res.model_part is not None else req.activity
     if res.metal_keys and used == "davies":   # Davies (low I, or a solid's fallback)
-        return dataclasses.replace(req, activity="davies"), None
+        return dataclasses.replace(req, activity="davies", activity_note=_why(res)), None
     if res.model_part is not None and res.model_part.model == "pitzer":
         return (dataclasses.replace(req, activity="pitzer"),
                 None if res.metal_keys else float(res.pH[0]))
     if req.activity == "auto":   # auto's Davies branch, the same solve for every batch
         sample = float(res.pH[0]) if sample_too and not res.metal_keys else None
-        return dataclasses.replace(req, activity="davies"), sample
+        return dataclasses.replace(req, activity="davies", activity_note=_why(res)), sample
     return req, None
 
+
+def _why(res) -> str:
+    """The note of a batch that ``"auto"`` sent to the Davies equation because the Pitzer
+    model could not be evaluated at one of its states (``pitzer_reach``), else ""."""
+    return next((w for ws in res.warnings for w in ws if w.startswith(AUTO_NOTE_START)), "")
 
 
 def model_used(requested: str, curve) -> str:

@@ -37,6 +37,10 @@ class PlanRequest:
     waste: Sample | None = None
     safe_temperature_c: float | None = None
     safe_from: str = ""
+    activity_note: str = ""
+    """Why ``"auto"`` settled on the Davies equation where the ionic strength would have
+    taken the Pitzer model (it could not be evaluated: ``pitzer_reach``); "" elsewhere.
+    The plan's warnings carry it."""
 
     @property
     def temperature_c(self) -> float:

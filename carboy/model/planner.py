@@ -501,10 +501,12 @@ def _metals(req: PlanRequest, pts: _Points, found: tuple[Precipitate, ...]) -> M
 
 
 def _warnings(req: PlanRequest, dosing: Dosing, pts: _Points, doses: _Doses) -> list[str]:
-    """Step 11: the solver's warnings at the target state, doses that cannot be reached,
-    and a dose to target whose re-solved pH misses the target."""
+    """Step 11: why ``"auto"`` took the Davies equation where it had to, the solver's
+    warnings at the target state, doses that cannot be reached, and a dose to target
+    whose re-solved pH misses the target."""
     key, target = req.reagent.key, req.target
-    warnings = list(dict.fromkeys(pts.res.warnings[pts.TARGET]))
+    warnings = list(dict.fromkeys(((req.activity_note,) if req.activity_note else ())
+                                  + tuple(pts.res.warnings[pts.TARGET])))
     reach_t = dosing.target_reached
     if not reach_t:
         warnings.append(f"{key} cannot reach pH {target:g}")

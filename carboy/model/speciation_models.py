@@ -61,6 +61,7 @@ from carboy.model import water
 from carboy.model.activity import DAVIES_LIMIT_MOLAR, outside_range_warning
 from carboy.model.mixture import MixtureBatch
 from carboy.model.molality import open_water, water_kg_one, water_kg_per_litre
+from carboy.model.pitzer_reach import NUMERIC_FAILURES, auto_note, beyond_reach, refused_past_reach
 from carboy.model.result_warnings import METAL_T_SPAN_C, warning_texts
 from carboy.model.solver.charge_balance import padded_fractions
 from carboy.model.solver.layout import ENTHALPY_DATA_MAX_C, Layout, cached_layout
@@ -177,10 +178,11 @@ def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
     t_c = batch.temperature_c
     metals = getattr(lay, "metals", None) is not None
     paths = _Paths(solve_davies, frame, held, start)
-    if activity == "pitzer" and metals:
-        return _pitzer_with_metals(batch, lay, activity, catalog, paths)
     if activity == "pitzer":
-        return _pitzer(batch, lay, activity, catalog, paths)
+        with refused_past_reach(catalog, batch):   # a concentrate past the model's reach
+            if metals:
+                return _pitzer_with_metals(batch, lay, activity, catalog, paths)
+            return _pitzer(batch, lay, activity, catalog, paths)
     pairs = activity == "davies" or _pairs_apply(lay, t_c)   # "davies": pairs form
     # with pairs the charge-only solve is only their loop's start: its root, not its species
     base = solve_davies(batch, lay, "davies", t_c, held, start, root_only=pairs)
@@ -192,13 +194,17 @@ def route(batch: MixtureBatch, lay: Layout, activity: str, catalog, held, start,
         res = _with_pairs(base, lay, activity, held)
     molal_i = res.ionic_strength_molar / w
     high = float(molal_i.max(initial=0.0)) > AUTO_LIMIT_MOLAL
-    if metals and high and _pitzer_takes(lay):
-        return _pitzer_with_metals(batch, lay, activity, catalog, paths,
-                                   davies=_auto_davies(res, activity, w, molal_i))
-    if metals or not high:
-        extra = (_METALS_NOTE,) if metals and high else ()
-        return _auto_davies(res, activity, w, molal_i, extra)
-    return _pitzer(batch, lay, activity, catalog, paths, base)
+    if not high or (metals and not _pitzer_takes(lay)):
+        return _auto_davies(res, activity, w, molal_i, (_METALS_NOTE,) if high else ())
+    try:
+        if metals:
+            return _pitzer_with_metals(batch, lay, activity, catalog, paths,
+                                       davies=_auto_davies(res, activity, w, molal_i))
+        return _pitzer(batch, lay, activity, catalog, paths, base)
+    except NUMERIC_FAILURES as exc:   # a concentrate past the model's reach: Davies, said
+        if not beyond_reach(exc):
+            raise
+        return _auto_davies(res, activity, w, molal_i, (auto_note(molal_i),))
 
 
 @dataclass(frozen=True, eq=False, repr=False)
@@ -415,8 +421,13 @@ def pitzer_one_fields(catalog, lay: Layout, keys: tuple[str, ...], row: list,
     if ot is None:
         return None
     w, notes = water_kg_one(catalog, keys, row, t_c)
-    x, m, lg, (_, aw, ionic, _), rounds, ok = solve_one_pitzer(ot, scalar_model(model), row,
-                                                                1.0 / w)
+    try:
+        x, m, lg, (_, aw, ionic, _), rounds, ok = solve_one_pitzer(
+            ot, scalar_model(model), row, 1.0 / w)
+    except NUMERIC_FAILURES as exc:   # past the model's reach: the batch path says so
+        if beyond_reach(exc):
+            return None
+        raise
     _, common = model_warnings(model, m, ionic)
     code = int(ionic > I_MAX_MOLAL) + 2 * int(not ok)
     labels, z = tab.labels, ot.charges

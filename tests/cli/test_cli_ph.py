@@ -127,3 +127,16 @@ def test_solids_that_form_are_reported_and_balance_the_metal(capsys):
     assert "solids formed" in out and "gypsum" in out
     code, out, err = run(capsys, "ph", "CaCl2=0.001M", "Na2SO4=0.001M")
     assert code == 0 and "solids formed" not in out
+
+
+def test_a_concentrate_past_the_pitzer_models_reach(capsys):
+    """96 % sulfuric acid (about 250 mol/kg of water): auto shows the Davies figures and
+    says why; the Pitzer model asked by name is refused, the value named."""
+    code, out, err = run(capsys, "ph", "H2SO4=96%", "--json")
+    assert code == 0, err
+    data = json.loads(out)
+    assert data["activity_model"] == "davies" and -3.0 < data["pH"] < 0.0
+    assert any("cannot be evaluated" in w and "dilute it first" in w for w in data["warnings"])
+    code, out, err = run(capsys, "ph", "H2SO4=96%", "--activity", "pitzer")
+    assert code == 2 and out == ""
+    assert "activity 'pitzer'" in err and "mol of solutes per kg of water" in err
