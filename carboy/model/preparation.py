@@ -183,12 +183,22 @@ def _checked_request(source: object, target_molar: object, final_volume_l: objec
                      temperature_c: object) -> tuple[float, float, float]:
     if not isinstance(source, Source):
         raise InvalidInput("source", source, "expected a Source (see parse_source)")
-    target = positive_number(target_molar, "target concentration")
-    vol_l = positive_number(final_volume_l, "final volume")
+    target = _for_field("target", positive_number, target_molar, "target concentration")
+    vol_l = _for_field("volume", positive_number, final_volume_l, "final volume")
     if vol_l > MAX_FINAL_VOLUME_L:
         raise InvalidInput("final volume", final_volume_l,
-                           f"carboy plans at most {MAX_FINAL_VOLUME_L:g} L")
+                           f"carboy plans at most {MAX_FINAL_VOLUME_L:g} L", field="volume")
     return target, vol_l, water.check_temperature(_number(temperature_c, "temperature"))
+
+
+def _for_field(field: str, check, *args):
+    """``check(*args)``, its InvalidInput naming the form field ``field`` (the option the
+    command line took the value from, the field a screen puts the message beside)."""
+    try:
+        return check(*args)
+    except InvalidInput as exc:
+        exc.field = exc.field or field
+        raise
 
 
 def _stock(source: Source, target: float, target_molar: object, n: float) -> _Stock:
@@ -198,7 +208,7 @@ def _stock(source: Source, target: float, target_molar: object, n: float) -> _St
     if source.conc_molar is None or not target < source.conc_molar:
         raise InvalidInput("target concentration", target_molar,
                            f"must be below the strength of the source, {source.label} "
-                           f"({fmt(source.conc_molar or 0.0)} M)")
+                           f"({fmt(source.conc_molar or 0.0)} M)", field="target")
     stock_ml = n / source.conc_molar * 1000.0
     stock_mass = stock_ml * source.density_g_ml if source.density_g_ml else None
     return _Stock(source.conc_molar, stock_ml, stock_mass, source.conc_molar / target)
@@ -381,14 +391,15 @@ def plan_series(source: Source, targets_molar: Sequence[float],
         try:
             recipe = plan_recipe(current, target, volume)
         except InvalidInput as exc:
-            raise InvalidInput(f"step {k}: {exc.what}", exc.value, exc.reason) from None
+            raise InvalidInput(f"step {k}: {exc.what}", exc.value, exc.reason,
+                               field=exc.field) from None
         if recipes:
             made = recipes[-1].final_volume_ml
             if recipe.stock_volume_ml > made:
                 raise InvalidInput(
                     f"step {k}: final volume", volume,
                     f"needs {recipe.stock_volume_ml:.4g} mL of the step {k - 1} product, but "
-                    f"step {k - 1} makes only {made:.4g} mL")
+                    f"step {k - 1} makes only {made:.4g} mL", field="volume")
             recipe = replace(recipe, notes=(*recipe.notes, (
                 f"serial dilution, step {k}: draws {recipe.stock_volume_ml:.4g} mL of the "
                 f"{made:.4g} mL made in step {k - 1}; {made - recipe.stock_volume_ml:.4g} mL of "

@@ -293,7 +293,8 @@ def evaluate(store: Store | None, fields: PrepareFields, catalog, *, today: date
         return out
     try:
         out.value = form.plan(source, reading.value, today=today, prepared_by=prepared_by)
-    except CarboyError as err:
-        out.errors["target"] = str(err)
-        out.problems.append(("target", err))
+    except CarboyError as err:   # by the field the model names (the target where none)
+        field = getattr(err, "field", "") or "target"
+        out.errors[field] = str(err)
+        out.problems.append((field, err))
     return out

@@ -58,6 +58,22 @@ def test_bad_input_exit_2(capsys, argv, named):
     assert code == 2 and out == "" and named in err
 
 
+@pytest.mark.parametrize("argv, option, named", [
+    (["--volume", "0L"], "--volume", "final volume 0.0"),
+    (["--volume", "60L"], "--volume", "at most 50 L"),
+    (["--volume", "1L", "--temperature", "5000"], "--temperature", "5000"),
+    (["--volume", "1L", "--target", "30M"], "--target", "30"),
+    (["--target", "0.1M", "--volume", "1mL", "--volume", "100mL"], "--volume", "step 2"),
+])
+def test_a_value_the_recipe_refuses_is_named_by_its_option(capsys, argv, option, named):
+    """The form reads each value; what only the recipe can judge (a volume above what
+    carboy plans, a temperature out of range, a step that needs more than the one before
+    makes) is named by the option it came from, not by --target."""
+    code, out, err = run(capsys, "prep", "--from", "HCl=12.1M", "--target", "1M", *argv)
+    assert code == 2 and out == ""
+    assert err.startswith(f"carboy: {option}: ") and named in err, err
+
+
 def test_record_draws_from_the_bottle_and_adds_the_new_one(capsys, tmp_path):
     db = str(tmp_path / "p.db")
     s = open_database(db)

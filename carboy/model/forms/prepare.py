@@ -17,6 +17,7 @@ from datetime import date, timedelta
 from carboy.errors import InvalidInput
 from carboy.model import labels, preparation, quantities, upkeep
 from carboy.model.forms import FormReader, Reading, bottle_ref, read_date
+from carboy.model.water import check_temperature
 
 NEED_SOURCE = "needed: a concentrate with its strength (H2SO4=96%), a solid (NaOH) or a bottle #id"
 NEED_TARGET = "needed: the target molarity, e.g. 1 M or 100 mM"
@@ -109,6 +110,11 @@ def _steps(form: FormReader, fields: PrepareFields) -> tuple[list[float], list[f
     return targets, volumes
 
 
+def _water_temperature(text: str) -> float:
+    """The water's temperature, within the range the model covers (0–100 °C)."""
+    return check_temperature(quantities.temperature_c(text, "water temperature"))
+
+
 def read(fields: PrepareFields, catalog) -> Reading[PrepareRequest]:
     """Parse the form; every problem is named by its field."""
     form = FormReader()
@@ -125,8 +131,7 @@ def read(fields: PrepareFields, catalog) -> Reading[PrepareRequest]:
     has_target = form.need("target", "".join(_texts(fields.target)), NEED_TARGET)
     has_volume = form.need("volume", "".join(_texts(fields.volume)), NEED_VOLUME)
     targets, volumes = _steps(form, fields) if has_target and has_volume else ([], [])
-    t_c = form.read("temperature", quantities.temperature_c, fields.temperature or "20",
-                    "water temperature")
+    t_c = form.read("temperature", _water_temperature, fields.temperature or "20")
     expires = form.read("expires", read_date, fields.expires, "expiry date") \
         if fields.expires.strip() else None
     if fields.location.strip():
