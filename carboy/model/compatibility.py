@@ -173,6 +173,10 @@ def _sides(t: Table, field: str, *, required: bool = True) -> tuple[Mapping, ...
         bad = set(alt.texts("kinds", ())) - set(KINDS)
         if bad:
             raise alt.fail("kinds", f"{sorted(bad)} are not among {KINDS}")
+        strong = alt.data.get("concentrated", True)
+        if isinstance(strong, bool) and strong is not True or not isinstance(
+                strong, bool | int | float) or not strong > 0:
+            raise alt.fail("concentrated", "true, or a strength in mol/L above 0")
         out.append(MappingProxyType(dict(alt.data)))
     return tuple(out)
 
@@ -295,8 +299,11 @@ def _compound_ok(alt: Mapping, f: _Facts, concentrated_molar: float) -> bool:
         return False
     if "kinds" in alt and f.kind not in alt["kinds"]:
         return False
-    return not alt.get("concentrated") or (
-        f.conc_molar is not None and f.conc_molar >= concentrated_molar)
+    strong = alt.get("concentrated")   # true: the file's threshold; a number: its own
+    if not strong:
+        return True
+    limit = concentrated_molar if strong is True else float(strong)
+    return f.conc_molar is not None and f.conc_molar >= limit
 
 
 def _addition_matches(side: tuple[Mapping, ...], f: _Facts, settings: _Settings) -> bool:

@@ -75,6 +75,12 @@ CASES = [
      Addition("HCOOH", 0.1), ["oxidize the organics", "holds HNO3"]),
     ("oxidizing-acid-organic", "b", box("oxidizing_acid"), Addition("C6H8O7", 0.1),
      ["oxidize the organics", "meant for oxidizing-acid waste"]),
+    ("sulfuric-acid-formate-oxalate", "a", box("acid", {"HCOOH": 1.0}),
+     Addition("H2SO4", 0.1, 18.0), ["carbon monoxide", "holds HCOOH"]),
+    ("sulfuric-acid-formate-oxalate", "a", box("acid", {"H2C2O4.2H2O": 0.1}),
+     Addition("H2SO4", 0.1, 12.0), ["carbon monoxide", "holds H2C2O4.2H2O"]),
+    ("sulfuric-acid-formate-oxalate", "b", box("acid", {"H2SO4": 16.0}, volume_l=1.0),
+     Addition("H2C2O4", 0.01), ["carbon monoxide", "holds H2SO4"]),
     ("azide-heavy-metal", "a", box("heavy_metal", {"CuSO4": 0.1}), Addition("NaN3", 0.01),
      ["azides", "holds CuSO4"]),
     ("azide-heavy-metal", "b", box("mixed", {"NaN3": 0.1}), Addition("Pb(NO3)2", 0.01),
@@ -141,6 +147,10 @@ NOT_APPLYING = [
      Addition("HCl", 0.1, 1.0)),
     ("acid-water-reactive", box("mixed", {"AlCl3": 0.5}), Addition("H2SO4", 1.0, 18.0)),
     ("oxidizing-acid-organic", box("acid", {"CH3COOH": 1.0}), Addition("HCl", 1.0)),
+    # below the dehydrating strength (12 mol/L, the rule's own threshold): no CO
+    ("sulfuric-acid-formate-oxalate", box("acid", {"HCOOH": 1.0}), Addition("H2SO4", 1.0, 6.0)),
+    ("sulfuric-acid-formate-oxalate", box("acid", {"CH3COOH": 1.0}),
+     Addition("H2SO4", 0.1, 18.0)),
     ("no-drain-into-drain-stream", box("heavy_metal", {"HCl": 0.1}), Addition("CuSO4", 0.01)),
 ]
 
@@ -197,7 +207,7 @@ def test_refusals_come_first_and_helpers_split_them(cat):
 
 def test_every_gas_hazard_refuses_and_the_loader_holds_to_it():
     gases = {r.gas for r in C.rules() if r.gas}
-    assert gases == {"HCN", "H2S", "Cl2", "chloramines", "HN3"}
+    assert gases == {"HCN", "H2S", "Cl2", "chloramines", "HN3", "CO"}
     assert all(r.severity == "refuse" for r in C.rules() if r.gas)
     bad = {"id": "x", "severity": "confirm", "gas": "HCN", "hazard": "h", "a": [{}],
            "b": [{}], "advice_a": "a", "advice_b": "b", "status": "PRACTICE",
@@ -213,6 +223,9 @@ def test_every_gas_hazard_refuses_and_the_loader_holds_to_it():
     ({"b": [{"kinds": ["salty"]}]}, "are not among"),
     ({"acidic_below_ph": 15}, "'acidic_below_ph': must be from 0 to 14"),
     ({"severity": "maybe"}, "'severity': 'maybe' is not one of"),
+    ({"a": [{"concentrated": -1}]}, "true, or a strength in mol/L above 0"),
+    ({"a": [{"concentrated": "yes"}]}, "true, or a strength in mol/L above 0"),
+    ({"a": [{"concentrated": False}]}, "true, or a strength in mol/L above 0"),
 ])
 def test_a_malformed_rule_is_an_error_naming_file_rule_and_field(change, words):
     good = {"id": "r-1", "severity": "refuse", "hazard": "h", "a": [{}], "b": [{}],
