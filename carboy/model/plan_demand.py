@@ -28,16 +28,17 @@ class Demand:
 def proton_demand(sample: Mixture, catalog, direction: str, capacity: int) -> Demand:
     """The protons to remove (``direction`` "base") or add ("acid"), per component and in
     all, and the reagent (mol) that does it, ``capacity`` protons a formula unit."""
+    # 0.0 - x, not -x: nothing to remove is 0, never -0 (which prints as "-0 mol")
     if direction == "base":
         parts = _charge_parts(sample, catalog, "bottom")
-        breakdown = {_component_name(k, catalog): -v for k, v in parts.items()}
-        equivalents = -sum(parts.values())
+        breakdown = {_component_name(k, catalog): 0.0 - v for k, v in parts.items()}
+        equivalents = 0.0 - sum(parts.values())
         proton_eq = equivalents
     else:
         parts = _charge_parts(sample, catalog, "top")
         breakdown = {_component_name(k, catalog): v for k, v in parts.items()}
         equivalents = sum(parts.values())
-        proton_eq = -equivalents
+        proton_eq = 0.0 - equivalents
     return Demand(breakdown, proton_eq, max(equivalents, 0.0) / capacity)
 
 

@@ -67,6 +67,32 @@ def test_bad_input_exit_2(capsys, argv):
     assert len(err.strip().splitlines()) == 1
 
 
+@pytest.mark.parametrize("window", ["6:9", "6-9", "6–9", " 6 - 9 "])
+def test_the_window_as_carboy_writes_it_is_read_back(capsys, window):
+    """A plan prints its window as "6-9": typed back, it is the same window."""
+    rc, out, err = run(capsys, "HCl=0.1M", "--volume", "1L", "--reagent", "NaOH=1M",
+                       f"--window={window}", "--json")
+    assert rc == 0, err
+    window_out = json.loads(out)["window"]
+    assert (window_out["low_pH"], window_out["high_pH"]) == (6.0, 9.0)
+
+
+def test_a_bad_ph_names_an_example_with_its_decimal_comma(capsys):
+    rc, _, err = run(capsys, "HCl=1M", "--volume", "1L", "--reagent", "NaOH=1M",
+                     "--target", "x")
+    assert rc == 2 and "e.g. 6.5 or 6,5" in err
+
+
+def test_a_sample_with_nothing_to_neutralize_needs_0_mol_not_minus_0(capsys):
+    rc, out, err = run(capsys, "NaCl=1M", "--volume", "1L", "--reagent", "NaOH=1M")
+    assert rc == 0, err
+    full = next(line for line in out.splitlines() if line.startswith("full dose"))
+    assert full.split()[2:4] == ["0", "mol,"] and "-0" not in full, full
+    rc, out, _ = run(capsys, "NaCl=1M", "--volume", "1L", "--reagent", "NaOH=1M", "--json")
+    d = json.loads(out)
+    assert str(d["full"]["reagent_mol"]) == "0.0" and str(d["proton_equivalents_mol"]) == "0.0"
+
+
 def test_plan_for_a_stored_container(tmp_path, capsys):
     import json as _json
 

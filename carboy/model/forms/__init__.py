@@ -127,18 +127,31 @@ def read_number(text: str, what: str, *, field_name: str = "", unit: str = "",
     if raw.count(",") + raw.count(".") > 1 or len(raw) > 40:
         raise InvalidInput(what, text, f"expected a number, e.g. {example}", field=field_name)
     value = plain_number(raw)
-    if value is None:
-        raise InvalidInput(what, text, f"expected a number (digits 0-9), e.g. {example} or "
-                           f"{example.replace('.', ',')}", field=field_name)
+    if value is None:   # with a decimal point, its comma form too ("6.5 or 6,5")
+        also = f" or {example.replace('.', ',')}" if "." in example else ""
+        raise InvalidInput(what, text, f"expected a number (digits 0-9), e.g. {example}{also}",
+                           field=field_name)
     return value
 
 
 def read_ph(text: str, what: str = "pH", *, field_name: str = "") -> float:
     """A pH between 0 and 14 (``'7'``, ``'6,5'``)."""
-    value = read_number(text, what, field_name=field_name)
+    value = read_number(text, what, field_name=field_name, example="6.5")
     if not 0.0 <= value <= 14.0:
         raise InvalidInput(what, text, "expected a pH between 0 and 14", field=field_name)
     return value
+
+
+def split_window(text: str) -> tuple[str, str] | None:
+    """A window typed as one text, ``LO:HI`` (``6:9``), or as carboy writes it, with a
+    dash between the edges (``6-9``, ``6–9``): its two edges as typed, else None."""
+    text = str(text).strip()
+    for sep in (":", "–"):
+        low, found, high = text.partition(sep)
+        if found:
+            return (low, high) if sep not in high else None
+    at = text.find("-", 1)   # not a leading minus sign: the edges' own signs are read later
+    return (text[:at], text[at + 1:]) if at > 0 else None
 
 
 def read_window(low: str, high: str, *, field_name: str = "window") -> tuple[float, float]:

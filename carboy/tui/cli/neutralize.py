@@ -6,6 +6,7 @@ import argparse
 import sys
 
 from carboy.errors import HazardRefused
+from carboy.model.forms import split_window
 from carboy.model.forms.neutralize import NeutralizeFields
 from carboy.tui.cli.kit import (
     EXIT_REFUSED,
@@ -63,9 +64,10 @@ OPTIONS = {"components": "components (NAME=CONC, or --waste LABEL)", "volume": "
 def fields_of(args, window: tuple[float, float] = (6.0, 9.0)) -> NeutralizeFields:
     """The neutralization form as the command line fills it (``window``: the default)."""
     text = args.window if args.window is not None else f"{window[0]:g}:{window[1]:g}"
-    low, sep, high = str(text).partition(":")
-    if not sep or ":" in high:
-        raise UsageError(f"window {text!r}: expected LO:HI, e.g. 6:9")
+    edges = split_window(text)
+    if edges is None:
+        raise UsageError(f"window {text!r}: expected LO:HI, e.g. 6:9 (or 6-9)")
+    low, high = edges
     return NeutralizeFields(components=tuple(args.components), volume=args.volume or "",
                             reagent=args.reagent, target=args.target, window_low=low,
                             window_high=high, temperature=args.temperature,

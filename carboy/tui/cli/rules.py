@@ -72,6 +72,7 @@ DISPOSAL_OPTIONS = (
 def disposal_changes(args, profile) -> dict:
     """The disposal rules the options set (rule name -> text as typed)."""
     from carboy.errors import InvalidInput
+    from carboy.model.forms import split_window
 
     changes = {}
     for option, name, _m, _w in DISPOSAL_OPTIONS:
@@ -79,10 +80,10 @@ def disposal_changes(args, profile) -> dict:
         if value is None:
             continue
         if name == "window":
-            low, sep, high = str(value).partition(":")
-            if not sep:
-                raise InvalidInput("--window", value, "expected LO:HI, e.g. 6:9")
-            changes["window_low"], changes["window_high"] = low, high
+            edges = split_window(value)
+            if edges is None:
+                raise InvalidInput("--window", value, "expected LO:HI, e.g. 6:9 (or 6-9)")
+            changes["window_low"], changes["window_high"] = edges
         else:
             changes[name] = value
     if args.never_treat or args.treat_again:
