@@ -150,7 +150,8 @@ class CsvRowError(StoreError):
     problems: list[tuple[int, str]] = field(default_factory=list)
 
     def __str__(self) -> str:
-        shown = "; ".join(f"row {n}: {msg}" for n, msg in self.problems[:10])
+        # row 0: the file as a whole (not found, not UTF-8), which has no row to name
+        shown = "; ".join(f"row {n}: {msg}" if n > 0 else msg for n, msg in self.problems[:10])
         more = len(self.problems) - 10
         tail = f"; and {more} more" if more > 0 else ""
         return f"{self.path}: nothing imported: {shown}{tail}"

@@ -183,3 +183,16 @@ def test_env_var_database(capsys, db, monkeypatch):
 def test_demo_flag(capsys):
     listed = run_json(capsys, "--demo", "waste", "list")
     assert len(listed) == 4
+
+
+def test_stock_import_names_one_id_and_file_level_problems_without_a_row(capsys, db, tmp_path):
+    one = tmp_path / "one.csv"
+    one.write_text("compound,label_strength,container_size\nHCl,1 M,1 L\n", encoding="utf-8")
+    code, out, _ = run(capsys, "stock", "import", str(one), "--db", db)
+    assert code == 0 and out.strip() == "imported 1 bottle (id 1)"
+    code, _, err = run(capsys, "stock", "import", str(tmp_path / "absent.csv"), "--db", db)
+    assert code == 2 and "nothing imported: file not found" in err and "row 0" not in err
+    binary = tmp_path / "binary.csv"
+    binary.write_bytes(b"\xff\xfe\x00garbage")
+    code, _, err = run(capsys, "stock", "import", str(binary), "--db", db)
+    assert code == 2 and "nothing imported: not UTF-8 text" in err and "row 0" not in err

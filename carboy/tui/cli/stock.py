@@ -199,7 +199,8 @@ def stock_import(args) -> int:
     if args.json:
         emit_json({"imported": len(ids), "ids": ids})
     else:
-        print(f"imported {count(len(ids), 'bottle')} (ids {ids[0]}–{ids[-1]})")
+        which = f"id {ids[0]}" if len(ids) == 1 else f"ids {ids[0]}–{ids[-1]}"
+        print(f"imported {count(len(ids), 'bottle')} ({which})")
     return EXIT_OK
 
 
