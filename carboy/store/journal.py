@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 from datetime import date, datetime
@@ -191,8 +192,13 @@ def _since_text(since: date | datetime | str | None) -> str | None:
         try:
             return iso_utc(datetime.fromisoformat(since.strip()))
         except ValueError:
-            raise InvalidInput("date", since, "expected YYYY-MM-DD", field="since") from None
+            shaped = _DATE_SHAPE.match(since.strip())   # 2026-02-30: the shape, no such day
+            raise InvalidInput("date", since, "is not a real date" if shaped else
+                               "expected YYYY-MM-DD", field="since") from None
     return parsed.isoformat()
+
+
+_DATE_SHAPE = re.compile(r"\d{4}-\d{2}-\d{2}\Z")
 
 
 def _filters(kind: str | None, since) -> tuple[list[str], list]:

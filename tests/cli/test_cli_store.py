@@ -196,3 +196,14 @@ def test_stock_import_names_one_id_and_file_level_problems_without_a_row(capsys,
     binary.write_bytes(b"\xff\xfe\x00garbage")
     code, _, err = run(capsys, "stock", "import", str(binary), "--db", db)
     assert code == 2 and "nothing imported: not UTF-8 text" in err and "row 0" not in err
+
+
+def test_an_empty_listing_says_so_with_what_was_asked(capsys, demo_db):
+    code, out, _ = run(capsys, "journal", "list", "--kind", "disposal", "--since", "2099-01-01",
+                       "--db", demo_db)
+    assert code == 0 and out.strip() == "no journal entries (kind disposal, since 2099-01-01)"
+    code, out, _ = run(capsys, "waste", "list", "--status", "disposed", "--db", demo_db)
+    assert code == 0 and out.strip() == "no waste containers (status disposed)"
+    assert run_json(capsys, "waste", "list", "--status", "disposed", "--db", demo_db) == []
+    code, _, err = run(capsys, "journal", "list", "--since", "2026-02-30", "--db", demo_db)
+    assert code == 2 and "'2026-02-30': is not a real date" in err

@@ -78,6 +78,9 @@ def journal_list(args) -> int:
     if args.json:
         emit_json([e.as_dict() for e in found])
         return EXIT_OK
+    if not found:
+        asked = [f"kind {args.kind}"] * bool(args.kind) + [f"since {args.since}"] * bool(args.since)
+        print("no journal entries" + (f" ({', '.join(asked)})" if asked else ""))
     for e in found:
         print(f"#{e.id:<6} {journal.local_time(e.recorded_at)}  {e.kind:<15} "
               f"{e.recorded_by:<12} {e.summary}")
