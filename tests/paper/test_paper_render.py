@@ -95,6 +95,28 @@ def test_unwritable_path_is_one_clear_error(tmp_path, demo_store):
     assert written.read_bytes().startswith(b"%PDF-")
 
 
+def test_a_pdf_never_replaces_a_file_that_is_not_a_pdf(tmp_path, demo_store, demo_path):
+    """--pdf given the database's own path (or any other file) keeps that file whole and
+    refuses; an earlier PDF or an empty file is replaced; no partial file is left."""
+    docs = [documents.bottle_label(demo_store, 1, today=TODAY)]
+    before = demo_path.read_bytes()
+    notes = tmp_path / "notes.txt"
+    notes.write_text("keep me", encoding="utf-8")
+    for kept in (demo_path, notes):
+        with pytest.raises(PaperError, match="not a PDF is already there"):
+            write_pdf(docs, kept)
+    assert demo_path.read_bytes() == before and notes.read_text(encoding="utf-8") == "keep me"
+    with pytest.raises(PaperError, match="no file name given"):
+        write_pdf(docs, "")
+    earlier, empty = tmp_path / "earlier.pdf", tmp_path / "empty.pdf"
+    earlier.write_bytes(b"%PDF-1.3 an earlier one")
+    empty.write_bytes(b"")
+    for replaced in (earlier, empty):
+        assert write_pdf(docs, replaced).read_bytes().startswith(b"%PDF-")
+        assert len(replaced.read_bytes()) > 1000
+    assert not [p.name for p in tmp_path.iterdir() if p.name.endswith(".partial")]
+
+
 def test_embedded_font_covers_what_carboy_prints():
     from importlib import resources
 

@@ -49,17 +49,39 @@ def render(documents: Iterable[Document], *, label_size: str = "70x37mm") -> byt
 
 def write_pdf(documents: Iterable[Document], path: str | os.PathLike, *,
               label_size: str = "70x37mm") -> Path:
-    """Render ``documents`` and write them to ``path`` (replacing a file there).
+    """Render ``documents`` and write them to ``path``, replacing only an earlier PDF (or
+    an empty file) there: any other file (the database itself, a document) is kept and
+    the PDF refused.
 
     Raises PaperError naming the path when it cannot be written; the documents are
-    rendered first, so a bad document never leaves an empty file behind.
+    rendered first and written beside the target, then moved over it, so neither a bad
+    document nor a failed write leaves a broken file behind.
     """
+    if not str(path).strip():
+        raise PaperError(str(path), "no file name given")
     data = render(documents, label_size=label_size)
     target = Path(path)
+    partial = target.with_name(f".{target.name}.partial")
     try:
         if target.is_dir():
             raise IsADirectoryError(21, "it is a directory")
-        target.write_bytes(data)
+        if not _replaceable(target):
+            raise PaperError(str(path), "a file that is not a PDF is already there (carboy "
+                             "replaces only an earlier PDF): choose another name")
+        partial.write_bytes(data)
+        os.replace(partial, target)
     except OSError as exc:
+        partial.unlink(missing_ok=True)
+        if isinstance(exc, PaperError):
+            raise
         raise PaperError(str(path), exc.strerror or str(exc)) from None
     return target
+
+
+def _replaceable(target: Path) -> bool:
+    """True where nothing is at ``target``, or an empty file, or a PDF."""
+    try:
+        with open(target, "rb") as f:
+            return f.read(5) in (b"", b"%PDF-")
+    except FileNotFoundError:
+        return True
