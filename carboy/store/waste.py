@@ -297,7 +297,9 @@ def correct_addition(store: Store, addition_id: int, reason: str, *,
 
     With ``component`` (and ``volume``) the new row says what really went in; without,
     the addition is withdrawn (the new row carries nothing).  The container must still
-    be collecting.  A ``note`` journal entry records the correction.
+    be collecting.  What really went in is judged by the rules an addition meets
+    (:func:`add`): a refusal (a gas hazard …) stands, and ``reason`` answers the rules'
+    questions.  A ``note`` journal entry records the correction.
     """
     if not reason or not reason.strip():
         raise InvalidInput("correction reason", reason, "say what was wrong", field="reason")
@@ -321,13 +323,21 @@ def correct_addition(store: Store, addition_id: int, reason: str, *,
         else:
             parsed, vol = read_addition(component, volume, catalog)
         _check_room(s, row, vol - old["volume_l"])
+        # what really went in meets the rules an addition meets (a refusal stands; the
+        # correction's reason answers a question, and the entry keeps the findings)
+        asked = () if component is None else waste_streams.enforce(
+            waste_streams.judge_component(s, row, parsed, vol, catalog),
+            f"correcting addition {old['id']} of {row['label']} to {parsed.compound.key}",
+            reason)
         new_id = insert_addition(s, row, parsed, vol, note=reason.strip(),
                                   supersedes=old["id"], who=who, when=when)
+        snapshot = {"reason": reason.strip(), "superseded": old["id"], "replacement": new_id,
+                    "was": old["entered"], "now": parsed.text}
+        if asked:
+            snapshot["findings"] = [f.to_dict() for f in asked]
         journal.append_in(s, "note", container_id=row["id"], who=who, when=when,
                           summary=f"{row['label']}: addition {old['id']} corrected by {new_id}",
-                          snapshot={"reason": reason.strip(), "superseded": old["id"],
-                                    "replacement": new_id, "was": old["entered"],
-                                    "now": parsed.text})
+                          snapshot=snapshot)
         return new_id
 
     return store.write(work)

@@ -6,7 +6,7 @@ from __future__ import annotations
 import pytest
 from test_treatments import acid, bottle, counts, readings
 
-from carboy.errors import InvalidInput
+from carboy.errors import HazardRefused, InvalidInput
 from carboy.model.forms.correction import CorrectionFields
 from carboy.model.forms.correction import read as read_correction
 from carboy.store import corrections, journal, stock, treatments, waste
@@ -90,6 +90,26 @@ def test_an_addition_is_corrected_by_a_superseding_row(store):
     with pytest.raises(InvalidInput, match="already corrected"):
         waste.correct_addition(store, first.id, "again", volume="1 L", component="HCl=1M")
     assert new > first.id
+
+
+def test_a_corrected_addition_meets_the_rules_an_addition_meets(store):
+    """Cyanide refused as an addition to acid waste is refused as a correction too, and
+    nothing is written; a question of the rules is answered by the correction's reason."""
+    label = acid(store)
+    first = waste.additions(store, label)[0]
+    with pytest.raises(HazardRefused, match="hydrogen cyanide"):
+        waste.add(store, label, "NaCN=1M", "10 mL")
+    rows, entries = len(waste.additions(store, label)), len(journal.entries(store))
+    with pytest.raises(HazardRefused, match="hydrogen cyanide"):
+        waste.correct_addition(store, first.id, "mislogged", component="NaCN=1M",
+                               volume="1 L")
+    assert len(waste.additions(store, label)) == rows and len(journal.entries(store)) == entries
+    assert "NaCN" not in waste.contents(store, label)
+    waste.correct_addition(store, first.id, "it was the base", component="NaOH=0.1M",
+                           volume="1 L")   # base into an acid container: asked, answered
+    note = journal.entries(store, limit=1)[0]
+    assert note.snapshot["reason"] == "it was the base"
+    assert [f["rule"] for f in note.snapshot["findings"]] == ["base-into-acid-stream"]
 
 
 @pytest.mark.parametrize(("values", "error"), [
