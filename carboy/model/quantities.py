@@ -12,7 +12,10 @@ evaluated (no pint expression parsing, no arithmetic, no constants)::
     blank     := space or tab
 
 * One decimal separator at most: a point or a comma (``1,5 L`` is 1.5 L); there are no
-  thousands separators, so ``1,000 L`` is one litre and ``1.000,5 L`` is refused.
+  thousands separators, so ``1.000,5 L`` is refused, and so is ``1,500 mL``: a comma
+  before exactly three digits after a whole part of 1 to 999 reads as a thousands
+  separator to some and as a decimal comma to others, a factor of 1000 apart (``0,500 L``
+  and ``1,5 L`` are read).
 * Only ASCII digits: other scripts' digits and look-alikes are refused.
 * The exponent is there for dilute solutions (``5e-6 M``); a value that is not finite
   (``1e999``) is refused.
@@ -163,10 +166,22 @@ def _split(text: str, what: str, kind: str = "volume") -> tuple[float, str]:
                            f"'{example}' (digits 0-9)")
     num = m.group("num")
     mantissa = num.split("e")[0].split("E")[0]
+    if _THOUSANDS.match(num):   # '1,500 mL': 1.5 mL, or 1500 mL written the other way?
+        unit = m.group("unit") or ""
+        sep = " " if unit else ""
+        raise InvalidInput(what, text, "is ambiguous: a comma before three digits may separate "
+                           f"thousands; write '{num.replace(',', '')}{sep}{unit}' or "
+                           f"'{num.replace(',', '.')}{sep}{unit}'")
     value = float(mantissa.replace(",", ".") + num[len(mantissa):])
     if value != value or value in (float("inf"), float("-inf")):
         raise InvalidInput(what, text, "the number is not finite")
     return value, m.group("unit") or ""
+
+
+_THOUSANDS = re.compile(r"\A[+-]?[1-9][0-9]{0,2},[0-9]{3}\Z", re.ASCII)
+"""A number that reads as a decimal comma or as a thousands separator alike (``1,500``);
+one whose whole part is 0 (``0,500``) or that has another count of digits after the
+comma (``1,5``, ``2,25``) is a decimal comma only."""
 
 
 PLAIN_NUMBER = re.compile(

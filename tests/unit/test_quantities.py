@@ -11,7 +11,10 @@ from carboy.model import quantities as q
 @pytest.mark.parametrize(
     "text, litres",
     [("250 mL", 0.25), ("250mL", 0.25), ("1.5 L", 1.5), ("1,5 L", 1.5), ("20 l", 20.0),
-     ("500 µL", 5e-4), ("2 dL", 0.2), ("0.5 gallon", 1.8927), (".5 L", 0.5)],
+     ("500 µL", 5e-4), ("2 dL", 0.2), ("0.5 gallon", 1.8927), (".5 L", 0.5),
+     # a decimal comma that cannot be a thousands separator: whole part 0, or not three
+     # digits after it (1,500 is refused: thousands to some, 1.5 to others)
+     ("0,500 L", 0.5), ("2,25 L", 2.25), ("1,5000 L", 1.5), ("1500 mL", 1.5)],
 )
 def test_volumes(text, litres):
     assert q.volume_l(text) == pytest.approx(litres, rel=1e-4)
@@ -55,6 +58,10 @@ def test_echo_says_what_was_understood():
         (q.concentration_molar, "5 mL", "volume, not a concentration"),
         (q.percent, "137 %", "cannot exceed 100"),
         (q.temperature_c, "-300", "absolute zero"),
+        (q.volume_l, "1,500 mL", "write '1500 mL' or '1.500 mL'"),
+        (q.volume_l, "10,000 mL", "ambiguous"),
+        (q.mass_g, "2,500 g", "ambiguous"),
+        (q.concentration_molar, "1,500 mM", "ambiguous"),
     ],
 )
 def test_bad_input_names_the_value(func, text, fragment):
