@@ -374,8 +374,8 @@ def _check_dates(prepared_on: object, expires_on: object) -> None:
         expires = _check_date("expiry date", expires_on)
         if expires < prepared:
             raise InvalidInput(
-                "expiry date", expires_on, f"is before the preparation date {prepared_on}"
-            )
+                "expiry date", expires_on, f"is before the preparation date {prepared_on}",
+                field="expires")
 
 
 def _hazard_lines(result: _Result) -> list[str]:

@@ -164,7 +164,10 @@ def parse_whole(value: object, what: str, *, field: str, low: int | None = None,
                            field=field)
     number = int(found.group(1))
     if (low is not None and number < low) or (high is not None and number > high):
-        raise InvalidInput(what, value, f"expected {low} to {high}{units}", field=field)
+        top = high if high is not None and high < MAX_WHOLE else None   # no count reaches it
+        bounds = (f"{low} to {top}" if low is not None and top is not None
+                  else f"{low} or more" if low is not None else f"{top} or less")
+        raise InvalidInput(what, value, f"expected {bounds}{units}", field=field)
     return number
 
 

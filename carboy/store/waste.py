@@ -143,8 +143,8 @@ def parse_volume(value: str | float | None, *, required: bool) -> float:
     """An addition's volume in L; ``required`` for a solution (a solid's may be left out)."""
     if value is None or (isinstance(value, str) and not value.strip()):
         if required:
-            raise InvalidInput("volume", value, "is required for a solution, e.g. '250 mL'",
-                               field="volume")
+            raise InvalidInput("volume", value or "", "is required for a solution, e.g. "
+                               "'250 mL'", field="volume")
         return 0.0
     return parse_litres(value, what="volume", field="volume", positive=required,
                         most_l=MAX_ADDITION_L, too_much="more than any container holds")

@@ -207,3 +207,17 @@ def test_an_empty_listing_says_so_with_what_was_asked(capsys, demo_db):
     assert run_json(capsys, "waste", "list", "--status", "disposed", "--db", demo_db) == []
     code, _, err = run(capsys, "journal", "list", "--since", "2026-02-30", "--db", demo_db)
     assert code == 2 and "'2026-02-30': is not a real date" in err
+
+
+@pytest.mark.parametrize(("argv", "said"), [
+    (["journal", "correct", "0", "--reason", "x", "--ph", "7"], "'0': expected 1 or more"),
+    (["stock", "list", "--after=-1"], "'-1': expected 0 or more"),
+    (["journal", "correct", "addition:9", "--reason", "x", "--component", "NaOH=1M"],
+     "volume '': is required for a solution"),
+    (["prep", "--from", "HCl=12.1M", "--target", "1M", "--volume", "100mL", "--record",
+      "--expires", "2020-01-01"], "--expires: expiry date '2020-01-01': is before"),
+])
+def test_messages_name_the_value_and_the_option_as_typed(capsys, demo_db, argv, said):
+    code, _, err = run(capsys, *argv, "--db", demo_db)
+    assert code == 2 and said in err, err
+    assert "None" not in err and "4611686018427387904" not in err
