@@ -19,6 +19,7 @@ from carboy.errors import InvalidInput
 from carboy.model import quantities
 from carboy.model.components import MAX_CONC_MOLAR
 from carboy.model.forms import MAX_ID
+from carboy.model.numbers import settled
 
 MAX_MOLARITY = MAX_CONC_MOLAR
 """Above this a molarity is refused as absurd (pure water is 55 M; conc. H2SO4 is about 18 M)."""
@@ -94,7 +95,7 @@ def parse_amount(text: str, what: str = "amount", *, field: str = "amount") -> t
         if value > limit:
             raise InvalidInput(what, text, f"larger than any container carboy accepts "
                                f"({format_amount(limit, unit)})")
-    return value, unit
+    return settled(value), unit   # 13.9151 mL is 0.0139151 L, not 0.013915100000000001
 
 
 def parse_litres(value: str | float, *, what: str, field: str, positive: bool,
@@ -114,7 +115,7 @@ def parse_litres(value: str | float, *, what: str, field: str, positive: bool,
             raise InvalidInput(what, value, "must be greater than zero")
         if litres > most_l:
             raise InvalidInput(what, value, f"{too_much} ({most_l:g} L)")
-    return litres
+    return settled(litres)
 
 
 def parse_date(text: str | date | None, what: str, *, field: str = "") -> str | None:

@@ -321,3 +321,20 @@ def test_bad_amounts_and_strengths_name_their_field(store):
     with pytest.raises(InvalidInput) as info:
         stock.parse_amount("2 M", field="size")
     assert info.value.field == "size" and info.value.value == "2 M"
+
+
+@pytest.mark.parametrize(("text", "stored"), [
+    ("13.9151 mL", "0.0139151"), ("700 mL", "0.7"), ("34.8389 mL", "0.0348389"),
+    ("2.5 L", "2.5"), ("1.2 kg", "1200"),
+])
+def test_an_amount_is_kept_without_the_bits_of_its_unit_conversion(text, stored):
+    """What is stored (and shown in journal summaries, which are kept for ever) reads as
+    typed: 13.9151 mL is 0.0139151 L, not 0.013915100000000001."""
+    from carboy.store import readers
+
+    value, _ = readers.parse_amount(text)
+    assert readers.format_number(value) == stored
+    if text.endswith("L"):
+        assert readers.format_number(readers.parse_litres(
+            text, what="volume", field="volume", positive=True, most_l=100.0,
+            too_much="too much")) == stored
