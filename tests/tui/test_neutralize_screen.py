@@ -322,3 +322,28 @@ async def test_a_planned_container_opens_on_its_recorded_plan(demo_db):
         assert screen.query_one("#temperature", Input).value == "20 °C"
         assert "h.ostervald) loaded" in str(screen.query_one("#sample-info", Static).content)
         assert screen.plan is not None and screen.plan.sample.temperature_c == pytest.approx(20.0)
+
+
+async def test_a_dialog_stays_with_its_plan_until_it_is_closed(demo_db):
+    """F-keys and the palette do nothing while a dialog is open (it holds the plan under
+    it: recording it after another container was loaded ended the app); a container
+    opened on the Neutralize screen from elsewhere closes what was left open there."""
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await open_container(app, pilot, "MA-01")
+        await set_field(pilot, screen, "reagent", "NaOH=1M")
+        await settled(pilot, screen)
+        await pilot.press("ctrl+r")
+        await wait_for(pilot, lambda: isinstance(app.screen, RecordDialog))
+        dialog = app.screen
+        await pilot.press("f3")
+        await pilot.pause(0.1)
+        assert app.current_mode == "neutralize" and app.screen is dialog
+        assert not app.check_action("command_palette", ())
+        app.plan_container("AL-03")   # as the Waste screen's p does
+        await wait_for(pilot, lambda: isinstance(app.screen, NeutralizeScreen)
+                       and app.screen.container is not None
+                       and app.screen.container.label == "AL-03")
+        assert not any(isinstance(s, RecordDialog) for s in app.screen_stack)
+        await pilot.press("f3")
+        await wait_for(pilot, lambda: app.current_mode == "waste")

@@ -20,6 +20,7 @@ from textual import events
 from textual.app import App
 from textual.binding import Binding
 from textual.reactive import Reactive, reactive
+from textual.screen import ModalScreen
 from textual.widget import AwaitMount
 
 from carboy.store import db as store_db
@@ -91,6 +92,7 @@ class CarboyApp(DatabaseWatch, App):
 
         async def load() -> None:
             await mounted
+            self._close_dialogs()
             screen.load_container(label)
 
         self.call_later(load)
@@ -111,6 +113,7 @@ class CarboyApp(DatabaseWatch, App):
 
         async def load() -> None:
             await mounted
+            self._close_dialogs()
             getattr(screen, method)(value)
 
         self.call_later(load)
@@ -175,12 +178,28 @@ class CarboyApp(DatabaseWatch, App):
             return False
         if action == "go" and parameters and parameters[0] == self.current_mode:
             return False
+        if action == "command_palette" and self.dialog_open():   # it leads to other screens
+            return False
         return True
 
     def action_go(self, mode: str) -> None:
+        if self.dialog_open():   # a dialog belongs to the screen under it: close it first
+            self.notify("Close the dialog first (Esc), then go to another screen.",
+                        timeout=3)
+            return
         if mode != self.current_mode:
             self._previous_mode = self.current_mode
         self.switch_mode(mode)
+
+    def dialog_open(self) -> bool:
+        """A dialog (a modal screen) is on top of the current screen."""
+        return isinstance(self.screen, ModalScreen)
+
+    def _close_dialogs(self) -> None:
+        """Close the dialogs left on the current mode's screen (they hold its old state),
+        before another container or bottle is loaded into it."""
+        while len(self.screen_stack) > 1 and self.dialog_open():
+            self.pop_screen()
 
     def action_back(self) -> None:
         """Back to the screen before this one (from Help)."""
