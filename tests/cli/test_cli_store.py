@@ -221,3 +221,15 @@ def test_messages_name_the_value_and_the_option_as_typed(capsys, demo_db, argv, 
     code, _, err = run(capsys, *argv, "--db", demo_db)
     assert code == 2 and said in err, err
     assert "None" not in err and "4611686018427387904" not in err
+
+
+def test_a_plan_the_disposal_rules_send_to_licensed_disposal_says_so_first(capsys, demo_db):
+    """OA-02 (formic acid: organic and acutely toxic) is not treated here under the
+    storeroom's rules: the verdict is the plan's first line, not its last section."""
+    code, out, _ = run(capsys, "--db", demo_db, "neutralize", "--waste", "OA-02",
+                       "--reagent", "NaOH=1M")
+    assert code == 0
+    assert out.startswith("NOT TO BE TREATED HERE under the storeroom's disposal rules")
+    code, out, _ = run(capsys, "--db", demo_db, "neutralize", "--waste", "MA-01",
+                       "--reagent", "NaOH=1M")
+    assert code == 0 and out.startswith("cautions") and "NOT TO BE TREATED" not in out

@@ -347,3 +347,17 @@ async def test_a_dialog_stays_with_its_plan_until_it_is_closed(demo_db):
         assert not any(isinstance(s, RecordDialog) for s in app.screen_stack)
         await pilot.press("f3")
         await wait_for(pilot, lambda: app.current_mode == "waste")
+
+
+async def test_the_banner_says_licensed_disposal_where_the_rules_send_it(demo_db):
+    """OA-02's plan is drawn, but the storeroom's rules send it to licensed disposal: the
+    cautions panel's banner says so on top, as it does for a waste never for the drain."""
+    app = make_app(demo_db, today=DEMO_TODAY, who="tester")
+    async with app.run_test(size=SIZE) as pilot:
+        for label, banner in (("OA-02", True), ("MA-01", False)):
+            screen = await open_container(app, pilot, label)
+            await set_field(pilot, screen, "reagent", "NaOH=1M")
+            await settled(pilot, screen)
+            panel = screen.query_one(CautionsPanel)
+            assert panel.has_class("-no-drain") == banner, label
+            assert ("NOT FOR DRAIN DISPOSAL" in panel.text) == banner

@@ -197,6 +197,9 @@ def run(args) -> int:
     if args.json:
         emit_json({**plan.to_dict(), "disposal": rules.to_dict() if rules else None})
     else:
+        if rules is not None and not rules.may_treat and plan.drain_plan:   # first, as HF's
+            print("NOT TO BE TREATED HERE under the storeroom's disposal rules: route "
+                  "licensed disposal (the doses below are for information only).")
         print(format_report(plan))
         if rules is not None:
             print("\nunder the disposal rules" + ("" if args.waste else

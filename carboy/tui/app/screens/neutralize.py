@@ -484,7 +484,12 @@ class NeutralizeScreen(Screen):
         table.show_plan(plan)
         table.remove_class("-stale")
         self.query_one(PHCurvePanel).show_curve(curve_data_from_plan(plan))
-        self.query_one(CautionsPanel).show_cautions(plan.cautions, drain_plan=plan.drain_plan)
+        self.query_one(CautionsPanel).show_cautions(plan.cautions, drain_plan=self._drain())
+
+    def _drain(self) -> bool:
+        """The plan may lead to the drain: its own verdict, and the storeroom's disposal
+        rules allow treating it here (else the banner says licensed disposal, on top)."""
+        return self.plan.drain_plan and (self.disposal is None or self.disposal.may_treat)
 
     def _clear_plan(self) -> None:
         """No plan on screen (another sample is being loaded)."""
@@ -502,7 +507,7 @@ class NeutralizeScreen(Screen):
         self.query_one(StagesTable).add_class("-stale")
         self.query_one(PHCurvePanel).mark_stale(True)
         self.query_one(CautionsPanel).show_cautions(self.plan.cautions,
-                                                    drain_plan=self.plan.drain_plan, stale=True)
+                                                    drain_plan=self._drain(), stale=True)
 
     def _show_field(self, name: str, error: str | None, echo: str) -> None:
         self.query_one(NeutralizeForm).show_field(name, error, echo,
