@@ -83,6 +83,8 @@ class Facts:
     temperature_rise_k: float = 0.0
     final_temperature_c: float = 25.0
     gas_l: float = 0.0
+    vented_gas_l: float = 0.0
+    """CO2 given off in all once the batch has vented (``gas_l``: right after the dose)."""
     carbonate_present: bool = False
     pH_before_venting: float | None = None
     vented_pH: float | None = None
@@ -125,6 +127,14 @@ def _reasons(f: Facts) -> str:
 
 def _boils(f: Facts) -> bool:
     return f.batch_heat is not None and f.batch_heat.boils
+
+
+def _gas_text(f) -> str:
+    """The CO2 predicted: in all once vented, and what leaves as the dose goes in."""
+    if f.vented_gas_l > f.gas_l * 1.05:
+        return (f"about {f.vented_gas_l:.3g} L in all once the batch has vented, "
+                f"{f.gas_l:.3g} L of it as the dose goes in")
+    return f"{max(f.gas_l, f.vented_gas_l):.3g} L predicted"
 
 
 def _stages_text(f: Facts) -> str:
@@ -232,7 +242,7 @@ RULES: tuple[Rule, ...] = (
         f"container (ice bath) and let it cool between stages{_stages_text(f)}.")),
     ("co2-foaming", "warning",
      lambda f: f.gas_l > 0 or f.reagent_has_carbonate or f.carbonate_present, lambda f: (
-        f"CO2 is given off ({f.gas_l:.3g} L predicted): foaming and pressure. Use an open, "
+        f"CO2 is given off ({_gas_text(f)}): foaming and pressure. Use an open, "
         "oversized container (at least 3-4 times the liquid volume), add in small portions, "
         "let the foam settle; never cap or seal the container while gas may still form.")),
     ("co2-reading", "notice",

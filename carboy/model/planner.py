@@ -543,7 +543,7 @@ def _facts(req: PlanRequest, start: _Start, dosing: Dosing, pts: _Points, doses:
         reagent_is_slurry=reagent.is_slurry, reagent_has_carbonate=reagent.has_carbonate,
         slurry_limit=slurry_limit, slurry_exceeded=slurry_exceeded,
         temperature_rise_k=heat.rise_k, final_temperature_c=t_c + heat.rise_k,
-        gas_l=heat.gas_l, carbonate_present=dosing.carbonate,
+        gas_l=heat.gas_l, vented_gas_l=heat.vented_gas_l, carbonate_present=dosing.carbonate,
         pH_before_venting=heat.pH_before_venting,
         vented_pH=float(pts.res.pH[pts.TARGET]) if dosing.carbonate else None,
         sensitivity_pH_per_percent=doses.sensitivity,

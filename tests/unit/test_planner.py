@@ -96,6 +96,10 @@ def test_carbonate_gas_and_venting():
     assert "co2-reading" in {c.code for c in p.cautions}
     # the dose is close to stoichiometric once CO2 has gone (0.5 mol HCl)
     assert p.to_target.reagent_mol == pytest.approx(0.5, rel=0.01)
+    # the foaming caution quotes the gas in all, not only what leaves as the dose goes in
+    foam = next(c.text for c in p.cautions if c.code == "co2-foaming")
+    assert f"about {p.vented_gas_l:.3g} L in all once the batch has vented" in foam
+    assert f"{p.gas_l:.3g} L of it as the dose goes in" in foam
 
 
 def test_hf_waste_is_not_a_drain_plan():
