@@ -10,7 +10,8 @@ from __future__ import annotations
 from carboy.model import numbers
 from carboy.model.numbers import amount, count, mass, moles, ph, strength, volume
 
-__all__ = ["amount", "count", "disposal_lines", "heat_text", "mass", "moles", "ph", "plan_heat_text",
+__all__ = ["amount", "count", "disposal_lines", "heat_portions", "heat_portions_text", "heat_text",
+           "mass", "moles", "ph", "plan_heat_text",
            "short_strength", "strength", "tally", "treatment_line", "volume"]
 
 
@@ -63,6 +64,35 @@ def plan_heat_text(plan) -> str:
                  f"{bh.stages} stages, cooling between them" if bh.stages is not None else
                  f"; staging alone cannot keep it below {bh.safe_c:g} °C: dilute and cool first")
     return text + f" (adiabatic; {bh.heat_capacity.note()})"
+
+
+def heat_portions(plan) -> tuple[str, int | None, float] | None:
+    """What the heat asks of the stages where the batch would pass its safe temperature
+    (the staged table is about the pH, and its first stage is most of the dose): (the most
+    of the reagent to add at a time, in at least how many equal portions, the temperature
+    to cool back to), with ``("", None, safe °C)`` where staging alone cannot do it; None
+    where the batch stays below it."""
+    bh = getattr(plan, "batch_heat", None)
+    if bh is None or not bh.above_safe:
+        return None
+    if bh.stages is None:
+        return "", None, bh.safe_c
+    r = plan.reagent
+    n = (plan.to_target.reagent_mol or 0.0) / bh.stages
+    litres = r.volume_l(n)
+    return (volume(litres) if litres is not None else mass(r.mass_g(n))), bh.stages, bh.start_c
+
+
+def heat_portions_text(plan) -> str | None:
+    """:func:`heat_portions` as one line under the staged table."""
+    got = heat_portions(plan)
+    if got is None:
+        return None
+    each, k, temp_c = got
+    if k is None:
+        return f"heat: staging alone cannot keep it below {temp_c:g} °C: dilute and cool first"
+    return (f"heat: add at most {each} at a time (the dose in at least {k} equal portions), "
+            f"cooling to about {temp_c:g} °C between them: split the stages above so")
 
 
 def short_strength(value: float | None, unit: str) -> str:

@@ -111,3 +111,17 @@ def test_plan_for_a_stored_container(tmp_path, capsys):
     assert cli_main(["--db", str(db), "neutralize", "--waste", "NO-SUCH", "--reagent",
                      "NaOH=2M"]) == 2
     assert "NO-SUCH" in capsys.readouterr().err
+
+
+def test_the_staged_table_carries_the_heats_limit_where_the_batch_would_pass_it(capsys):
+    """96 % H2SO4 with 6 M NaOH: the pH stages put 80 % of the dose first, the heat allows
+    a small part at a time; the table says so under it (and not for a mild batch)."""
+    rc, out, _ = run(capsys, "H2SO4=96%", "--volume", "1L", "--reagent", "NaOH=6M", "--json")
+    d = json.loads(out)
+    stages_needed = d["heat"]["stages_to_stay_below_safe"]
+    rc, out, _ = run(capsys, "H2SO4=96%", "--volume", "1L", "--reagent", "NaOH=6M")
+    assert rc == 0 and stages_needed > 5
+    note = next(line for line in out.splitlines() if "heat: add at most" in line)
+    assert f"at least {stages_needed} equal portions" in note
+    rc, out, _ = run(capsys, "HCl=0.1M", "--volume", "1L", "--reagent", "NaOH=1M")
+    assert rc == 0 and "heat: add at most" not in out

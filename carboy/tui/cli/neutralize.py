@@ -17,7 +17,7 @@ from carboy.tui.cli.kit import (
     first_problem,
     open_store,
 )
-from carboy.tui.wording import disposal_lines, plan_heat_text
+from carboy.tui.wording import disposal_lines, heat_portions_text, plan_heat_text
 
 EXAMPLES = """examples:
   carboy neutralize H2SO4=0.5M --volume 250mL --reagent NaOH=2M
@@ -167,6 +167,9 @@ def format_report(plan) -> str:
         vol = f"{s.add_volume_l * 1000:8.4g} mL" if s.add_volume_l is not None else ""
         lines.append(f"  {s.index}. add {s.add_mol:9.4g} mol {s.add_mass_g:9.4g} g {vol}"
                      f"  -> pH {s.pH_after:.2f}")
+    portions = heat_portions_text(plan)
+    if portions:
+        lines.append(f"  ! {portions}")
     over = [s for s in plan.salt_limits if s.exceeded]
     for s in over:
         lines.append(f"salt limit     {s.salt} about {s.molality:.3g} mol/kg, "

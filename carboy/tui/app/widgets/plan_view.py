@@ -17,7 +17,7 @@ from textual.widgets import DataTable, Static
 from carboy.model import numbers
 from carboy.model.speciation_models import describe_model
 from carboy.tui.app.widgets import redraw
-from carboy.tui.wording import plan_heat_text
+from carboy.tui.wording import heat_portions, plan_heat_text
 
 SEVERITY_MARKS = {"danger": "‼ DANGER", "warning": "! WARNING", "notice": "· NOTE"}
 SEVERITY_STYLES = {"danger": "bold reverse", "warning": "bold", "notice": ""}
@@ -162,6 +162,11 @@ def stage_rows(plan) -> list[tuple[str, str, str, str]]:
         total = amount_text(r, s.cumulative_mol, r.volume_l(s.cumulative_mol),
                             r.mass_g(s.cumulative_mol)).split(" (")[0]
         rows.append((str(s.index), add, total, f"{s.pH_after:.2f}"))
+    got = heat_portions(plan)
+    if got is not None and rows:   # the heat's limit beside the table that would break it
+        each, k, temp_c = got
+        rows.append(("‼", f"≤ {each}", f"{k} portions", "cool")   # as narrow as the rows
+                    if k is not None else ("‼", "dilute,", "cool first", ""))
     return rows
 
 
