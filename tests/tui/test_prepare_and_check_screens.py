@@ -50,6 +50,10 @@ async def test_recipe_matches_the_model_and_bad_fields_are_named(make, wait_for)
         assert screen.query_one("#volume", Input).value == "1 q"  # typed text kept
         assert screen.has_class("-stale")
         assert not screen.check_action("record", ())
+        # beside the field there is room for its name: the line under the fields says it
+        # all, and that the recipe shown is the last good one
+        line = screen.query_one("#prep-error").message
+        assert "'1 q'" in line and "STALE" in line
 
 
 async def test_record_from_a_bottle_draws_and_adds_one_bottle(make, wait_for, demo_db,

@@ -175,11 +175,12 @@ class PrepareScreen(Screen):
                 row.show_error(outcome.errors[name])
             else:
                 row.show_echo(outcome.echoes.get(name, ""))
-        self.query_one("#prep-error", ErrorLine).show(outcome.errors.get("", ""))
+        stale = outcome.recipe is None and self.outcome is not None \
+            and self.outcome.recipe is not None
+        self.query_one("#prep-error", ErrorLine).show(_error_line(outcome.errors, stale))
         cautions = self.query_one(CautionsPanel)
         if outcome.recipe is None:
-            self.set_class(self.outcome is not None and self.outcome.recipe is not None,
-                           "-stale")
+            self.set_class(stale, "-stale")
             if self.outcome is None or self.outcome.recipe is None:
                 cautions.show_cautions(())
             self.refresh_bindings()
@@ -289,3 +290,13 @@ def compute(form: dict[str, str], generation: int, app) -> PrepOutcome:
     return PrepOutcome(generation, recipe=made.recipes[0], label=made.labels[0],
                        bottle=reading.bottle, new_bottle=made.bottles[0],
                        echoes=reading.echoes, made=made)
+
+
+def _error_line(errors: dict[str, str], stale: bool) -> str:
+    """The line under the fields: the form's own problem, else the first field's in full
+    (beside a field there is room for its name only), and that the recipe shown is the
+    last good one."""
+    message = errors.get("") or next(iter(errors.values()), "")
+    if message and stale:
+        message += " (the recipe shown is STALE: from the last good inputs)"
+    return message
