@@ -33,7 +33,9 @@ from carboy.model.components import Component
 from carboy.model.disposal_rules import ROUTE_LICENSED, verdict
 from carboy.model.forms import neutralize as nform
 from carboy.model.forms.treatment import TreatmentReadings
+from carboy.model.mixture import Mixture
 from carboy.model.reagents import Reagent, parse_reagent
+from carboy.model.treatment_check import dose_contradiction
 from carboy.store import disposal, journal, treatment_records, waste, waste_streams
 from carboy.store.bottles import get as get_bottle
 from carboy.store.compounds import catalog_for
@@ -108,6 +110,13 @@ def _component(reagent: Reagent, amount: float) -> tuple[Component, float]:
         return Component(reagent.compound, None, amount * reagent.assay_percent / 100.0,
                          text), 0.0
     return Component(reagent.compound, reagent.conc_molar, None, text), amount
+
+
+def _mol(component: Component, volume_l: float) -> float:
+    """Mol of the reagent a treatment logged."""
+    if component.mass_g is not None:
+        return component.mass_g / component.compound.molar_mass_g_mol
+    return component.conc_molar * volume_l
 
 
 def _check_may_treat(s: Store, row: Mapping[str, Any], profile, catalog) -> None:
@@ -189,9 +198,16 @@ def record_treatment(store: Store, label: str, readings: TreatmentReadings, *,
         _check_may_treat(s, row, profile, catalog)
         reagent, bottle = reagent_of(s, readings, catalog)
         before = waste.snapshot_of(s, row)
+        held = waste_streams.held_in(s, row, catalog)
         left = _draw(s, bottle, readings) if bottle is not None else None
         component, vol = _component(reagent, readings.added.value)
         ids, warnings = _volumes(s, row, readings, component, vol, who, when)
+        doubt = dose_contradiction(
+            Mixture.from_moles(dict(held.moles), held.volume_l), reagent,
+            _mol(component, vol), readings.final_ph, catalog) \
+            if held.volume_l > 0 and held.moles else None
+        if doubt:   # kept with the record: a misread pH must not pass for "in the window"
+            warnings.insert(0, doubt)
         lo, hi = profile.window
         in_window = lo <= readings.final_ph <= hi
         if not in_window:

@@ -229,3 +229,16 @@ def test_a_drawn_down_bottle_keeps_no_rounding_noise(store):
     treatments.record_treatment(store, label, readings(bottle=str(b), added="0.6 L",
                                                        final_ph="1.0"))
     assert stock.get(store, b).amount_left == 0.15
+
+
+def test_a_dose_that_cannot_give_the_ph_read_is_recorded_with_a_warning(store):
+    """5 L of 1 M HCl and 3 L of 0.5 M H2SO4 need about 8 mol of NaOH for pH 7; 0.5 L of
+    2 M logged with pH 7.1 read is kept as given, with the warning in the record."""
+    label, b = acid(store), bottle(store)
+    done = treatments.record_treatment(store, label, readings(
+        bottle=str(b), added="0.5 L", final_ph="7.1"))
+    assert done.in_window   # the reading is what was measured
+    doubt = done.warnings[0]
+    assert "1 mol of NaOH" in doubt and "before anything is disposed" in doubt
+    entry = journal.get(store, done.entry_id)
+    assert entry.snapshot["warnings"][0] == doubt
