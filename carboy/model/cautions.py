@@ -104,6 +104,8 @@ class Facts:
     """:class:`~carboy.model.reagent_reach.Reach` of a carbonate reagent."""
     window_reached: bool = True
     """False when the reagent cannot bring the batch into the window at all."""
+    target_pH: float = 7.0
+    window: tuple[float, float] = (6.0, 9.0)
 
 
 def _t(f: Facts, key: str, default: float) -> float:
@@ -269,6 +271,11 @@ RULES: tuple[Rule, ...] = (
     ("window-unreached", "warning", lambda f: f.target_reached and not f.window_reached,
      lambda f: (f"{f.reagent_key} cannot bring this batch into the window: choose a stronger "
                 f"reagent, {stronger_reagent(f)}.")),
+    ("target-outside-window", "warning",
+     lambda f: not f.window[0] <= f.target_pH <= f.window[1], lambda f: (
+        f"The target pH {f.target_pH:g} lies outside the acceptance window pH "
+        f"{f.window[0]:g}–{f.window[1]:g}: a batch brought there is not accepted; aim inside "
+        "the window.")),
     ("steep-end-point", "warning",
      lambda f: f.sensitivity_pH_per_percent > _t(f, "steep_ph_per_percent", 0.5), lambda f: (
         f"Steep end point: about {f.sensitivity_pH_per_percent:.2g} pH units per 1 % of dose, "

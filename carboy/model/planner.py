@@ -550,7 +550,7 @@ def _facts(req: PlanRequest, start: _Start, dosing: Dosing, pts: _Points, doses:
         ionic_strength_molar=float(pts.res.ionic_strength_molar[pts.TARGET]),
         max_total_molar=max(req.sample.totals.values()),
         expected_solids=tuple(p.solid for p in precipitates if p.expected),
-        target_reached=dosing.target_reached,
+        target_reached=dosing.target_reached, target_pH=req.target, window=req.window,
         thresholds=dict(thermo.planning_constants()["thresholds"]))
 
 

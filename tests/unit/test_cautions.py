@@ -50,3 +50,11 @@ def test_gas_steep_slurry_oxidizer():
     assert "steep-end-point" in codes(facts(sensitivity_pH_per_percent=2.0))
     assert "slurry-reagent" in codes(facts(reagent_is_slurry=True, reagent_key="Ca(OH)2"))
     assert "oxidizing-acid" in codes(facts(hazards=frozenset({"oxidizer"})))
+
+
+def test_a_target_outside_the_window_is_said():
+    said = [c for c in cautions.evaluate(facts(target_pH=5.0, window=(6.0, 9.0)))
+            if c.code == "target-outside-window"]
+    assert said and "pH 5 lies outside the acceptance window pH 6–9" in said[0].text
+    for inside in (6.0, 7.0, 9.0):
+        assert "target-outside-window" not in codes(facts(target_pH=inside, window=(6.0, 9.0)))
