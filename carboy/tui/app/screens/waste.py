@@ -206,12 +206,12 @@ class WasteScreen(Screen):
             "move a container on (to disposed or to licensed disposal) after a confirmation.")
 
     BINDINGS = [
-        Binding("a", "add", "Log addition", id="waste.add"),
-        Binding("p", "plan", "Plan neutralization", id="waste.plan"),
-        Binding("c", "new_container", "New container", id="waste.new"),
-        Binding("d", "mark_disposed", "Mark disposed", id="waste.disposed"),
-        Binding("l", "licensed", "To licensed disposal", id="waste.licensed"),
-        Binding("s", "stream", "Change stream", id="waste.stream"),
+        Binding("a", "add", "Add", id="waste.add"),
+        Binding("p", "plan", "Plan", id="waste.plan"),
+        Binding("c", "new_container", "New", id="waste.new"),
+        Binding("d", "mark_disposed", "Disposed", id="waste.disposed"),
+        Binding("l", "licensed", "Licensed", id="waste.licensed"),
+        Binding("s", "stream", "Stream", id="waste.stream"),
     ]
 
     def __init__(self) -> None:
