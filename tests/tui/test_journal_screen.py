@@ -73,3 +73,14 @@ async def test_since_date_filters_and_a_bad_date_is_named(make, wait_for):
         assert box.value == "2025-13-45"
         await pilot.press("escape")
         await wait_for(pilot, lambda: not error.display and table.row_count == total)
+
+
+def test_a_list_of_sentences_reads_as_sentences():
+    """A standardization's notes (each a sentence with its stop) are not joined with
+    commas ("... 120 °C., Weigh ..."); a list of values still is."""
+    from carboy.tui.app.screens.entry import readable
+
+    text = readable({"notes": ["Dry it at 120 °C.", "Weigh at least 175 mg."],
+                     "replicates": [0.5106, 0.5098]}).plain
+    assert "Dry it at 120 °C. Weigh at least 175 mg." in text and "°C.," not in text
+    assert "0.5106, 0.5098" in text

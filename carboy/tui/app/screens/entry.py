@@ -80,7 +80,8 @@ def _lines(data, depth: int, out: Text) -> None:
                 out.append(f"{pad}  {n}.\n")
                 _lines(item, depth + 2, out)
         elif isinstance(value, (list, tuple)):
-            shown = ", ".join(_value(v) for v in value[:12])
+            items = [_value(v) for v in value[:12]]   # sentences end with their own stop
+            shown = (" " if all(i.endswith(".") for i in items) else ", ").join(items)
             more = f" … ({len(value)} in all)" if len(value) > 12 else ""
             out.append(f"{pad}{_words(key)}: ", style="bold")
             out.append(f"{shown}{more}\n")
