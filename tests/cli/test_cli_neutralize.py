@@ -125,3 +125,12 @@ def test_the_staged_table_carries_the_heats_limit_where_the_batch_would_pass_it(
     assert f"at least {stages_needed} equal portions" in note
     rc, out, _ = run(capsys, "HCl=0.1M", "--volume", "1L", "--reagent", "NaOH=1M")
     assert rc == 0 and "heat: add at most" not in out
+
+
+def test_litres_are_written_in_litres(capsys):
+    rc, out, _ = run(capsys, "HCl=0.5M", "--volume", "11L", "--reagent", "NaOH=1M")
+    assert rc == 0 and "e+0" not in out
+    assert out.splitlines()[[line.startswith("sample") for line in out.splitlines()].index(
+        True)].startswith("sample         11 L at")
+    full = next(line for line in out.splitlines() if line.startswith("full dose"))
+    assert "5.5 L" in full

@@ -104,9 +104,15 @@ def _amount(dose, reagent) -> str:
         return "not reachable with this reagent"
     parts = [f"{dose.reagent_mol:.4g} mol"]
     if dose.reagent_volume_l is not None:
-        parts.append(f"{dose.reagent_volume_l * 1000:.4g} mL")
+        parts.append(_litres(dose.reagent_volume_l))
     parts.append(f"{dose.reagent_mass_g:.4g} g")
     return ", ".join(parts) + f"  ->  pH {dose.pH:.2f}"
+
+
+def _litres(litres: float) -> str:
+    """A volume to four figures, in mL below a litre and in L from one (11 L, not
+    1.1e+04 mL)."""
+    return f"{litres:.4g} L" if abs(litres) >= 1.0 else f"{litres * 1000:.4g} mL"
 
 
 def format_report(plan) -> str:
@@ -124,7 +130,7 @@ def format_report(plan) -> str:
     lines.append("")
     r = plan.reagent
     lines.append(f"reagent        {r.describe()}")
-    lines.append(f"sample         {plan.sample.volume_l * 1000:.4g} mL at "
+    lines.append(f"sample         {_litres(plan.sample.volume_l)} at "
                  f"{plan.sample.temperature_c:g} °C, pH {plan.initial_pH:.2f} "
                  f"({describe_model(plan.activity, plan.activity_model)})")
     if plan.direction == "base":
@@ -164,7 +170,7 @@ def format_report(plan) -> str:
     lines.append("")
     lines.append(f"stages (sensitivity {plan.sensitivity_pH_per_percent:.2g} pH per 1 % of dose)")
     for s in plan.stages:
-        vol = f"{s.add_volume_l * 1000:8.4g} mL" if s.add_volume_l is not None else ""
+        vol = f"{_litres(s.add_volume_l):>11}" if s.add_volume_l is not None else ""
         lines.append(f"  {s.index}. add {s.add_mol:9.4g} mol {s.add_mass_g:9.4g} g {vol}"
                      f"  -> pH {s.pH_after:.2f}")
     portions = heat_portions_text(plan)
