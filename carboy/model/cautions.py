@@ -106,6 +106,7 @@ class Facts:
     """False when the reagent cannot bring the batch into the window at all."""
     target_pH: float = 7.0
     window: tuple[float, float] = (6.0, 9.0)
+    initial_pH: float | None = None
 
 
 def _t(f: Facts, key: str, default: float) -> float:
@@ -276,6 +277,11 @@ RULES: tuple[Rule, ...] = (
         f"The target pH {f.target_pH:g} lies outside the acceptance window pH "
         f"{f.window[0]:g}–{f.window[1]:g}: a batch brought there is not accepted; aim inside "
         "the window.")),
+    ("already-in-window", "notice",
+     lambda f: f.initial_pH is not None and f.window[0] <= f.initial_pH <= f.window[1],
+     lambda f: (f"The sample is already at pH {f.initial_pH:.2f}, inside the window pH "
+                f"{f.window[0]:g}–{f.window[1]:g}: it needs no reagent to be accepted; the "
+                "doses only bring it to the target.")),
     ("steep-end-point", "warning",
      lambda f: f.sensitivity_pH_per_percent > _t(f, "steep_ph_per_percent", 0.5), lambda f: (
         f"Steep end point: about {f.sensitivity_pH_per_percent:.2g} pH units per 1 % of dose, "

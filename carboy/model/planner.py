@@ -551,6 +551,7 @@ def _facts(req: PlanRequest, start: _Start, dosing: Dosing, pts: _Points, doses:
         max_total_molar=max(req.sample.totals.values()),
         expected_solids=tuple(p.solid for p in precipitates if p.expected),
         target_reached=dosing.target_reached, target_pH=req.target, window=req.window,
+        initial_pH=start.initial_pH,
         thresholds=dict(thermo.planning_constants()["thresholds"]))
 
 

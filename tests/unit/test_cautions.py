@@ -58,3 +58,11 @@ def test_a_target_outside_the_window_is_said():
     assert said and "pH 5 lies outside the acceptance window pH 6–9" in said[0].text
     for inside in (6.0, 7.0, 9.0):
         assert "target-outside-window" not in codes(facts(target_pH=inside, window=(6.0, 9.0)))
+
+
+def test_a_sample_already_in_the_window_is_said():
+    said = [c for c in cautions.evaluate(facts(initial_pH=6.88, window=(6.0, 9.0)))
+            if c.code == "already-in-window"]
+    assert said and said[0].severity == "notice" and "needs no reagent" in said[0].text
+    assert "already-in-window" not in codes(facts(initial_pH=2.0, window=(6.0, 9.0)))
+    assert "already-in-window" not in codes(facts())   # not known: nothing said
