@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from datetime import UTC, datetime, time
 
-from textual.widgets import DataTable, Input, Static
+from textual.widgets import DataTable, Input, Static, TabbedContent
 
 from carboy.model.forms.treatment import TreatmentFields, read
 from carboy.store import disposal, journal, stock, treatments, waste
@@ -56,6 +56,14 @@ async def test_a_rule_changes_through_its_dialog_and_the_log_lists_treatments(
                        and screen.profile.batch_max_l == 0.5)
         log = str(screen.query_one("#log-text", Static).content)
         assert "1 treatment in" in log and "T-01" in log and "1 outside the window" in log
+        # on the log tab no rule is on screen: e and r do not act on one
+        await pilot.press("t")
+        await wait_for(pilot, lambda: screen.query_one(
+            "#rules-tabs", TabbedContent).active == "tab-log")
+        assert not screen.check_action("edit", ()) and not screen.check_action("reset", ())
+        await pilot.press("e")
+        await pilot.pause()
+        assert app.screen is screen
     with open_database(demo_db) as s:
         assert disposal.load(s).origin["batch_max_l"] == "storeroom"
         assert "largest batch" in journal.entries(s, limit=1)[0].summary

@@ -236,6 +236,8 @@ class RulesScreen(Screen):
         if action in ("edit", "reset"):
             if self.profile is None or self.rule_key is None:
                 return False
+            if self.query_one("#rules-tabs", TabbedContent).active != "tab-rules":
+                return False   # the rule they act on is not on screen (the log tab is)
             name = self.rule_key.partition(":")[0]
             if name == STOREROOM_NAME:
                 return action == "edit" or bool(self.storeroom)
