@@ -208,6 +208,10 @@ class RulesScreen(Screen):
         self.loads += 1
         self.refresh_bindings()
 
+    @on(TabbedContent.TabActivated)
+    def _tab_changed(self) -> None:
+        self.refresh_bindings()   # e and r act on a rule only where the rules are shown
+
     @property
     def rule_key(self) -> str | None:
         table = self.query_one("#rules-table", DataTable)
