@@ -10,7 +10,7 @@ from __future__ import annotations
 from carboy.model import numbers
 from carboy.model.numbers import amount, count, mass, moles, ph, strength, volume
 
-__all__ = ["amount", "count", "disposal_lines", "heat_portions", "heat_portions_text", "heat_text",
+__all__ = ["DISPOSAL_NOTE", "amount", "count", "disposal_lines", "heat_portions", "heat_portions_text", "heat_text",
            "mass", "moles", "ph", "plan_heat_text",
            "short_strength", "strength", "tally", "treatment_line", "volume"]
 
@@ -107,6 +107,14 @@ def tally(found, noun: str | None = None) -> str:
     if found.exact:
         return f"{found.n:,}" if noun is None else count(found.n, noun)
     return f"more than {found.n:,}" + ("" if noun is None else f" {noun}s")
+
+
+DISPOSAL_NOTE = (
+    "⚠ Advice only: carboy never calls anything safe to pour away. Follow local "
+    "disposal rules, your institution's safety office and licensed practice."
+)
+"""The standing disposal note: on every screen, and after every command, that leads
+toward disposal."""
 
 
 def disposal_lines(disposal) -> list[str]:

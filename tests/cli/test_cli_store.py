@@ -233,3 +233,12 @@ def test_a_plan_the_disposal_rules_send_to_licensed_disposal_says_so_first(capsy
     code, out, _ = run(capsys, "--db", demo_db, "neutralize", "--waste", "MA-01",
                        "--reagent", "NaOH=1M")
     assert code == 0 and out.startswith("cautions") and "NOT TO BE TREATED" not in out
+
+
+def test_a_move_toward_disposal_ends_with_the_standing_note(capsys, demo_db):
+    """Every command that leads toward disposal says to follow local rules and the
+    safety office, as the app's screens do."""
+    code, out, err = run(capsys, "--db", demo_db, "waste", "licensed", "AL-03", "--note", "x")
+    assert code == 0, err
+    assert out.splitlines()[-1].startswith("⚠ Advice only: carboy never calls anything safe")
+    assert "safety office" in out

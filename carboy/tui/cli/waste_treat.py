@@ -17,7 +17,7 @@ from carboy.model.disposal_rules import ROUTES
 from carboy.model.forms.treatment import TreatmentFields
 from carboy.store.statuses import ContainerStatus
 from carboy.tui.cli.kit import EXIT_OK, emit_json, first_problem, open_store, warn
-from carboy.tui.wording import treatment_line
+from carboy.tui.wording import DISPOSAL_NOTE, treatment_line
 
 TREAT_OPTIONS = {"bottle": "--bottle", "reagent": "--reagent", "added": "--added",
                  "stage_added": "--stage-added", "stage_ph": "--stage-ph",
@@ -133,4 +133,5 @@ def waste_move(args) -> int:
         emit_json({"journal_entry": entry, **c.as_dict()})
     else:
         print(f"{c.label} is now {ContainerStatus(c.status).state} (journal entry {entry})")
+        print(DISPOSAL_NOTE)
     return EXIT_OK

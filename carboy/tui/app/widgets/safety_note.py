@@ -4,10 +4,7 @@ from __future__ import annotations
 
 from textual.widgets import Static
 
-DISPOSAL_NOTE = (
-    "⚠ Advice only: carboy never calls anything safe to pour away. Follow local "
-    "disposal rules, your institution's safety office and licensed practice."
-)
+from carboy.tui.wording import DISPOSAL_NOTE  # the same words as the command line
 
 LICENSED_ONLY_NOTE = (
     "⚑ Licensed disposal only: {reasons}. Never neutralize it for the drain; the safety "
