@@ -143,14 +143,13 @@ def _water(catalog, keys: tuple[str, ...], totals: np.ndarray, temperature_c: fl
     w = _estimate(np.einsum("nk,k->n", totals, vol), np.einsum("nk,k->n", totals, charge),
                   v_oh, water.density_g_cm3(temperature_c))
     estimated = np.ones(w.shape, dtype=bool)
-    rows = _one_compound(totals, tabled)   # one compound's solutions: its own table
-    if rows.size:   # each different row looked up once (a curve has one: its start)
-        uniq, inv = np.unique(totals[rows], axis=0, return_inverse=True)
-        for u, row in enumerate(uniq.tolist()):
-            got = _from_table(catalog, row, tabled)
-            if got is not None:
-                at = rows[inv.ravel() == u]
-                w[at], estimated[at] = got, False
+    same: dict[tuple, list[int]] = {}   # one compound's solutions: its own table, each
+    for n in _one_compound(totals, tabled).tolist():   # different row once (a curve: its start)
+        same.setdefault(tuple(totals[n].tolist()), []).append(n)
+    for row, at in same.items():   # (not np.unique: its first call costs some 10 ms)
+        got = _from_table(catalog, list(row), tabled)
+        if got is not None:
+            w[at], estimated[at] = got, False
     return w, estimated
 
 
@@ -162,16 +161,16 @@ def _one_compound(totals: np.ndarray, tabled) -> np.ndarray:
         return np.zeros(0, dtype=np.intp)
     held = np.einsum("nk,k->n", (totals != 0.0).astype(np.int64),
                      np.left_shift(1, np.arange(totals.shape[1], dtype=np.int64)))
-    hit = []
+    hit = np.zeros(totals.shape[0], dtype=bool)
     for _, counts, _ in tabled:
         rows = np.flatnonzero(held == sum(1 << k for k, n in enumerate(counts) if n > 0))
         if rows.size:
             cnt = np.asarray(counts, dtype=float)
             per = totals[np.ix_(rows, cnt > 0)] / cnt[cnt > 0]
             first = per[:, :1]
-            ok = (first[:, 0] > 0) & np.all(np.abs(per - first) <= 1e-9 * first, axis=1)
-            hit.append(rows[ok])
-    return np.unique(np.concatenate(hit)) if hit else np.zeros(0, dtype=np.intp)
+            hit[rows] |= (first[:, 0] > 0) & np.all(np.abs(per - first) <= 1e-9 * first,
+                                                     axis=1)
+    return np.flatnonzero(hit)
 
 
 @dataclass(frozen=True, eq=False, repr=False)
