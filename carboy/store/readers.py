@@ -12,6 +12,7 @@ from __future__ import annotations
 import contextlib
 import math
 import re
+import unicodedata
 from collections.abc import Iterator
 from datetime import date, datetime
 
@@ -20,6 +21,7 @@ from carboy.model import quantities
 from carboy.model.components import MAX_CONC_MOLAR
 from carboy.model.forms import MAX_ID
 from carboy.model.numbers import settled
+from carboy.model.text import describe_character
 
 MAX_MOLARITY = MAX_CONC_MOLAR
 """Above this a molarity is refused as absurd (pure water is 55 M; conc. H2SO4 is about 18 M)."""
@@ -172,9 +174,23 @@ def parse_whole(value: object, what: str, *, field: str, low: int | None = None,
     return number
 
 
+FREE_TEXT_REFUSED = frozenset({"Cf", "Zl", "Zp", "Co", "Cs", "Cn"})
+"""Unicode categories free text may not hold: format characters (zero-width, bidi marks,
+embeddings, overrides, isolates), line and paragraph separators, private-use, surrogate
+and unassigned code points.  Control characters (Cc: a line break, an escape) are text
+here: every front end shows them escaped."""
+
+
 def check_length(what: str, value: str, *, field: str, most: int = 2000) -> str:
-    """Free text (notes, locations) up to ``most`` characters."""
+    """Free text (notes, reasons) up to ``most`` characters, without the characters that
+    are invisible or change the order text is shown in (``FREE_TEXT_REFUSED``, as a label
+    refuses them); control characters are kept and shown escaped."""
     if len(value or "") > most:
         raise InvalidInput(what, value[:40] + "...", f"is too long ({most} characters at most)",
+                           field=field)
+    bad = next((c for c in value or "" if unicodedata.category(c) in FREE_TEXT_REFUSED), None)
+    if bad is not None:
+        raise InvalidInput(what, value[:40], f"holds an invisible or control character "
+                           f"({describe_character(bad)}); type it again without it",
                            field=field)
     return value

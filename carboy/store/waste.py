@@ -37,6 +37,7 @@ from carboy.errors import InvalidInput
 from carboy.model.components import Component, read_component
 from carboy.model.entities import Compound
 from carboy.model.mixture import Mixture
+from carboy.model.text import read_label
 from carboy.store import chain, disposal, journal, treatment_records, waste_streams
 from carboy.store.compounds import catalog_for
 from carboy.store.db import Store, current_user, stamp
@@ -184,13 +185,15 @@ def new_container(store: Store, label: str, *, location: str = "",
     cap = parse_capacity(capacity)
     kind = waste_streams.check_stream(stream)
     made_of = waste_streams.check_material(material)
+    location = read_label(location, "location", field="location", most=2000)
+    check_length("notes", notes or "", field="notes")
 
     def work(s: Store) -> None:
         if s.scalar("SELECT 1 FROM waste_containers WHERE label = ?", [text]):
             raise AlreadyExists("waste container", text)
         s.execute("INSERT INTO waste_containers (label, location, capacity_l, status, opened_on, "
                   "notes, created_by, stream, material) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
-                  [text, (location or "").strip(), cap, ContainerStatus.COLLECTING,
+                  [text, location, cap, ContainerStatus.COLLECTING,
                    _today(today), notes or "", who or current_user(), kind, made_of])
 
     store.write(work)
@@ -366,6 +369,7 @@ def set_status(store: Store, label: str, status: str, *, note: str = "",
     (:func:`carboy.store.treatment_records.disposal_block`).
     """
     target = ContainerStatus.parse(status)
+    check_length("note", note or "", field="note")
 
     def work(s: Store) -> int:
         row = container_row(s, label)

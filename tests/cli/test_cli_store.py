@@ -242,3 +242,25 @@ def test_a_move_toward_disposal_ends_with_the_standing_note(capsys, demo_db):
     assert code == 0, err
     assert out.splitlines()[-1].startswith("⚠ Advice only: carboy never calls anything safe")
     assert "safety office" in out
+
+
+@pytest.mark.parametrize("argv", [
+    ["waste", "new", "X9", "--stream", "acid", "--location", "Shelf \u202e1"],
+    ["waste", "new", "X9", "--stream", "acid", "--notes", "a\u200bb"],
+    ["waste", "add", "OA-02", "HCl=1M", "--volume", "10mL", "--note", "a\u202eb"],
+    ["journal", "note", "--waste", "OA-02", "x\u200by"],
+    ["waste", "licensed", "AL-03", "--note", "q\u202e"],
+])
+def test_free_text_refuses_what_a_label_refuses(capsys, demo_db, argv):
+    """Right-to-left overrides and zero-width characters are refused in notes and
+    locations as they are in labels; nothing is written."""
+    before = run_json(capsys, "journal", "list", "--limit", "1", "--db", demo_db)[0]["id"]
+    code, _, err = run(capsys, "--db", demo_db, *argv)
+    assert code == 2 and "invisible or control character" in err, err
+    assert run_json(capsys, "journal", "list", "--limit", "1", "--db", demo_db)[0]["id"] == before
+
+
+def test_a_new_containers_notes_have_the_free_text_limit(capsys, demo_db):
+    code, _, err = run(capsys, "--db", demo_db, "waste", "new", "X9", "--stream", "acid",
+                       "--notes", "x" * 2001)
+    assert code == 2 and "too long (2000 characters at most)" in err

@@ -143,8 +143,8 @@ def test_full_disk_is_one_line(capsys, demo_db, monkeypatch):
     monkeypatch.setattr(dbmod, "_connect", connect)
     code, _, err = run(capsys, "journal", "list", "--db", demo_db)
     assert code == 0
-    for n in range(60):  # fill the free pages, then the next write finds the disk full
-        code, _, err = run(capsys, "waste", "new", f"FULL-{n}", "--stream", "acid", "--notes", "x" * 3000,
+    for n in range(120):  # fill the free pages, then the next write finds the disk full
+        code, _, err = run(capsys, "waste", "new", f"FULL-{n}", "--stream", "acid", "--notes", "x" * 2000,
                            "--db", demo_db)
         if code:
             break
