@@ -107,3 +107,16 @@ def test_only_the_sums_failing_count_as_past_the_reach():
     assert beyond_reach(ValueError("math domain error"))
     assert not beyond_reach(InvalidInput("x", 1, "bad"))   # carboy's own: a real error
     assert not beyond_reach(KeyError("x"))
+
+
+def test_the_pure_compound_is_the_last_trace_of_water_not_a_litre_of_it():
+    """H2SO4 at 100 % w/w holds no water: not the partial-molar-volume estimate (about
+    0.74 kg a litre, which gave a Pitzer pH of -12), but the table's end taken at 99.9 %:
+    past the Pitzer model's reach, so auto shows the Davies figures and says so."""
+    from carboy.model.solutions import strength_of
+
+    molar = strength_of("H2SO4", mass_percent=100.0, catalog=CAT).conc_molar
+    res = speciate(_mix("H2SO4", molar), activity="auto", catalog=CAT)
+    assert res.model_part.model == "davies"
+    assert res.model_part.water_kg_per_l < 0.01
+    assert any(w.startswith(AUTO_NOTE_START) for w in res.warnings)
