@@ -21,7 +21,7 @@ from carboy.model import quantities
 from carboy.model.components import MAX_CONC_MOLAR
 from carboy.model.forms import MAX_ID
 from carboy.model.numbers import settled
-from carboy.model.text import describe_character
+from carboy.model.text import REFUSED_CATEGORIES, describe_character
 
 MAX_MOLARITY = MAX_CONC_MOLAR
 """Above this a molarity is refused as absurd (pure water is 55 M; conc. H2SO4 is about 18 M)."""
@@ -174,7 +174,7 @@ def parse_whole(value: object, what: str, *, field: str, low: int | None = None,
     return number
 
 
-FREE_TEXT_REFUSED = frozenset({"Cf", "Zl", "Zp", "Co", "Cs", "Cn"})
+FREE_TEXT_REFUSED = REFUSED_CATEGORIES - {"Cc"}
 """Unicode categories free text may not hold: format characters (zero-width, bidi marks,
 embeddings, overrides, isolates), line and paragraph separators, private-use, surrogate
 and unassigned code points.  Control characters (Cc: a line break, an escape) are text

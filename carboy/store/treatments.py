@@ -119,7 +119,8 @@ def _mol(component: Component, volume_l: float) -> float:
     return component.conc_molar * volume_l
 
 
-def _check_may_treat(s: Store, row: Mapping[str, Any], profile, catalog) -> None:
+def _check_may_treat(s: Store, row: Mapping[str, Any], profile, catalog):
+    """What the container holds (``waste_streams.Held``), where it may be treated here."""
     status = row["status"]
     last = treatment_records.last_treatment(s, row["id"])
     again = status is ContainerStatus.NEUTRALIZED and last is not None \
@@ -132,6 +133,7 @@ def _check_may_treat(s: Store, row: Mapping[str, Any], profile, catalog) -> None
     if reasons:
         raise DisposalRefused(row["label"], "the storeroom's rules send it to licensed "
                               "disposal: " + "; ".join(reasons), "record a treatment here")
+    return held
 
 
 def _draw(s: Store, bottle, readings: TreatmentReadings) -> tuple[float, float]:
@@ -195,10 +197,9 @@ def record_treatment(store: Store, label: str, readings: TreatmentReadings, *,
     def work(s: Store) -> Treated:
         row = container_row(s, label)
         profile = disposal.load(s)
-        _check_may_treat(s, row, profile, catalog)
+        held = _check_may_treat(s, row, profile, catalog)
         reagent, bottle = reagent_of(s, readings, catalog)
         before = waste.snapshot_of(s, row)
-        held = waste_streams.held_in(s, row, catalog)
         left = _draw(s, bottle, readings) if bottle is not None else None
         component, vol = _component(reagent, readings.added.value)
         ids, warnings = _volumes(s, row, readings, component, vol, who, when)

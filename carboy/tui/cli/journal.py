@@ -17,6 +17,7 @@ from carboy.tui.cli.kit import (
     common_options,
     emit_json,
     group,
+    none_found,
     open_store,
     whole,
 )
@@ -79,8 +80,8 @@ def journal_list(args) -> int:
         emit_json([e.as_dict() for e in found])
         return EXIT_OK
     if not found:
-        asked = [f"kind {args.kind}"] * bool(args.kind) + [f"since {args.since}"] * bool(args.since)
-        print("no journal entries" + (f" ({', '.join(asked)})" if asked else ""))
+        print(none_found("journal entries", [f"kind {args.kind}"] * bool(args.kind)
+                         + [f"since {args.since}"] * bool(args.since)))
     for e in found:
         print(f"#{e.id:<6} {journal.local_time(e.recorded_at)}  {e.kind:<15} "
               f"{e.recorded_by:<12} {e.summary}")

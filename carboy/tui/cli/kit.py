@@ -190,6 +190,11 @@ def group(sub, name: str, *, help: str, description: str):  # noqa: A002
     return actions
 
 
+def none_found(what: str, asked: list[str]) -> str:
+    """The line of a listing with nothing in it: ``no journal entries (kind disposal)``."""
+    return f"no {what}" + (f" ({', '.join(asked)})" if asked else "")
+
+
 def first_problem(reading, options: dict[str, str]):
     """A form's value, or its first problem as one command-line error that names the
     option it came from (``--volume: needed: …``, ``--purity: purity '99': …``)."""

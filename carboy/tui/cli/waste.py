@@ -22,6 +22,7 @@ from carboy.tui.cli.kit import (
     emit_json,
     first_problem,
     group,
+    none_found,
     open_store,
 )
 from carboy.tui.wording import count, volume
@@ -215,8 +216,8 @@ def waste_list(args) -> int:
         emit_json([c.as_dict() for c in found])
         return EXIT_OK
     if not found:
-        asked = [f"status {args.status}"] * bool(args.status) + ["nearly full"] * args.nearly_full
-        print("no waste containers" + (f" ({', '.join(asked)})" if asked else ""))
+        print(none_found("waste containers", [f"status {args.status}"] * bool(args.status)
+                         + ["nearly full"] * args.nearly_full))
     for c in found:
         mark = "FULL" if c.full else "nearly full" if c.nearly_full else ""
         print(f"{c.label:<12} {ContainerStatus(c.status).words:<18} {streams()[c.stream].name.split(' waste')[0]:<16} "
